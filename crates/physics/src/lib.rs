@@ -1,0 +1,37 @@
+//! # nivalis-physics
+//!
+//! The pure-Rust physics core of Nivalis: the structure of a protoplanetary
+//! disk in radius and height, the freeze-out/desorption balance of nine
+//! volatiles in every cell, the element budget and the C/O ratios of gas, ices
+//! and solids, snowlines and snow surfaces.
+//!
+//! It does no I/O, knows nothing of files, WebAssembly or plotting, and keeps
+//! no global state. Everything inside is cgs; inputs are [`ModelParameters`]
+//! (validated by the disk-file reader), the main type is [`Model`].
+//!
+//! ```
+//! use nivalis_physics::{Model, ModelParameters, Species};
+//! let model = Model::run(&ModelParameters::defaults()).unwrap();
+//! let water = model.snowlines(Species::H2O);
+//! assert!(!water.is_empty());
+//! ```
+
+pub mod balance;
+pub mod budget;
+pub mod error;
+pub mod math;
+pub mod model;
+pub mod opacity;
+pub mod params;
+pub mod references;
+pub mod snowlines;
+pub mod species;
+pub mod star;
+pub mod structure;
+pub mod units;
+
+pub use error::PhysicsError;
+pub use model::{LocalMidplane, MidplaneProfile, Model, Ratios};
+pub use params::{Element, ModelParameters};
+pub use snowlines::{CrossingDirection, SnowSurface, Snowline};
+pub use species::{BindingEnergySet, Species, SPECIES_COUNT};

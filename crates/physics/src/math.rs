@@ -1,0 +1,42 @@
+//! Transcendental functions used by the model, routed through the `libm` crate.
+//!
+//! Native builds would otherwise use the platform's C library and WebAssembly
+//! builds Rust's own port, which can differ in the last bit. Using one
+//! implementation everywhere makes the page and the CLI agree to the bit, so
+//! exported tables are byte-identical (an invariant the browser tests check).
+
+/// e^x.
+#[inline]
+pub fn exp(x: f64) -> f64 {
+    libm::exp(x)
+}
+/// Natural logarithm.
+#[inline]
+pub fn ln(x: f64) -> f64 {
+    libm::log(x)
+}
+/// x^y.
+#[inline]
+pub fn pow(x: f64, y: f64) -> f64 {
+    libm::pow(x, y)
+}
+/// Square root (IEEE-exact on every platform; kept here for uniformity).
+#[inline]
+pub fn sqrt(x: f64) -> f64 {
+    libm::sqrt(x)
+}
+/// Cosine.
+#[inline]
+pub fn cos(x: f64) -> f64 {
+    libm::cos(x)
+}
+/// 10^x.
+#[inline]
+pub fn exp10(x: f64) -> f64 {
+    libm::pow(10.0, x)
+}
+/// Fourth root.
+#[inline]
+pub fn root4(x: f64) -> f64 {
+    libm::sqrt(libm::sqrt(x))
+}
