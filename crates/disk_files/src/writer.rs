@@ -1,0 +1,122 @@
+//! The writer: a validated disk file back to JSON, every field resolved
+//! (defaults filled in), so an exported file records exactly what was run.
+
+use crate::{DiskFile, SCHEMA};
+use nivalis_physics::params::{Element, Opacity, VerticalTemperature};
+use nivalis_physics::Species;
+use serde_json::{json, Map, Value};
+
+/// The resolved disk file as a JSON value (keys in the documented order).
+pub fn to_value(file: &DiskFile) -> Value {
+    let p = &file.parameters;
+    let mut offsets = Map::new();
+    for (i, e) in Element::ALL.iter().enumerate() {
+        offsets.insert(e.symbol().into(), json!(p.star.offset_dex[i]));
+    }
+    let opacity = match p.disk.opacity {
+        Opacity::Constant { rosseland_cm2_per_g } => json!({"kind": "constant", "rosseland_cm2_per_g": rosseland_cm2_per_g}),
+        Opacity::BellLin1994 => json!({"kind": "bell_lin_1994"}),
+    };
+    let vertical = match p.disk.vertical_temperature {
+        VerticalTemperature::Isothermal => json!({"kind": "isothermal"}),
+        VerticalTemperature::TwoLayer { superheating, transition_scale_heights, delta } => json!({
+            "kind": "two_layer", "superheating": superheating,
+            "transition_scale_heights": transition_scale_heights, "delta": delta
+        }),
+    };
+    let mut overrides = Map::new();
+    for s in Species::ALL {
+        let o = p.ices.overrides[s.index()];
+        let mut m = Map::new();
+        if let Some(v) = o.binding_energy_k {
+            m.insert("binding_energy_k".into(), json!(v));
+        }
+        if let Some(v) = o.photodesorption_yield {
+            m.insert("photodesorption_yield".into(), json!(v));
+        }
+        if let Some(v) = o.condensation_temperature_k {
+            m.insert("condensation_temperature_k".into(), json!(v));
+        }
+        if !m.is_empty() {
+            overrides.insert(s.key().into(), Value::Object(m));
+        }
+    }
+    let c = &p.composition;
+    json!({
+        "schema": SCHEMA,
+        "name": file.name,
+        "notes": file.notes,
+        "star": {
+            "mass_msun": p.star.mass_msun,
+            "luminosity_lsun": p.star.luminosity_lsun,
+            "effective_temperature_k": p.star.effective_temperature_k,
+            "fuv_1au_habing": p.star.fuv_1au_habing,
+            "abundances": {"reference": p.star.abundance_reference.key(), "offset_dex": offsets}
+        },
+        "disk": {
+            "gas_mass_msun": p.disk.gas_mass_msun,
+            "characteristic_radius_au": p.disk.characteristic_radius_au,
+            "surface_density_index": p.disk.surface_density_index,
+            "inner_radius_au": p.disk.inner_radius_au,
+            "outer_radius_au": p.disk.outer_radius_au,
+            "accretion_rate_msun_per_yr": p.disk.accretion_rate_msun_per_yr,
+            "flaring_angle": p.disk.flaring_angle,
+            "self_consistent_flaring": p.disk.self_consistent_flaring,
+            "opacity": opacity,
+            "vertical_temperature": vertical,
+            "background_temperature_k": p.disk.background_temperature_k,
+            "dust_to_gas": p.disk.dust_to_gas,
+            "grain_radius_um": p.disk.grain_radius_um,
+            "grain_density_g_cm3": p.disk.grain_density_g_cm3,
+            "cosmic_ray_rate_s": p.disk.cosmic_ray_rate_s,
+            "interstellar_fuv_habing": p.disk.interstellar_fuv_habing,
+            "age_myr": p.disk.age_myr,
+            "midplane_temperature_scale": p.disk.midplane_temperature_scale
+        },
+        "ices": {
+            "desorption": p.ices.desorption.key(),
+            "sticking": p.ices.sticking,
+            "photodesorption": p.ices.photodesorption,
+            "cosmic_ray_desorption": p.ices.cosmic_ray_desorption,
+            "binding_energies": p.ices.binding_energy_set.key(),
+            "species_overrides": overrides
+        },
+        "composition": {
+            "carbon": {"CO": c.carbon.co, "CO2": c.carbon.co2, "CH4": c.carbon.ch4, "CH3OH": c.carbon.ch3oh, "HCN": c.carbon.hcn, "refractory": c.carbon.refractory},
+            "nitrogen": {"N2": c.nitrogen.n2, "NH3": c.nitrogen.nh3},
+            "sulfur": {"H2S": c.sulfur.h2s, "refractory": c.sulfur.refractory},
+            "oxygen_per_silicon": c.oxygen_per_silicon,
+            "soot_line_k": c.soot_line_k,
+            "sulfide_release_k": c.sulfide_release_k,
+            "silicate_sublimation_k": c.silicate_sublimation_k
+        },
+        "grid": {
+            "radial_cells": p.grid.radial_cells,
+            "vertical_cells": p.grid.vertical_cells,
+            "max_height_scale_heights": p.grid.max_height_scale_heights
+        }
+    })
+}
+
+/// The resolved disk file as pretty-printed JSON text with a final newline.
+pub fn to_json_string(file: &DiskFile) -> String {
+    // Invariant: a serde_json::Value built from finite numbers always serialises.
+    let mut s = serde_json::to_string_pretty(&to_value(file)).expect("JSON value serialises");
+    s.push('\n');
+    s
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::parse_disk_json;
+
+    #[test]
+    fn resolved_file_reads_back_identically() {
+        let text = r#"{"name": "x", "disk": {"opacity": {"kind": "bell_lin_1994"}, "vertical_temperature": {"kind": "isothermal"}},
+            "ices": {"species_overrides": {"CO": {"binding_energy_k": 1000}}}, "composition": {"sulfur": {"H2S": 1}}}"#;
+        let f = parse_disk_json(text).unwrap();
+        let again = parse_disk_json(&to_json_string(&f)).unwrap();
+        assert_eq!(f, again);
+    }
+}
