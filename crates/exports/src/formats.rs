@@ -1,0 +1,109 @@
+//! Writers of a [`Table`] as CSV, ECSV (Enhanced Character-Separated Values,
+//! the open format astropy reads, version 1.0) and JSON. Numbers are written
+//! with 7 significant digits in Rust's exponent form (`1.581234e0`); undefined
+//! cells are empty in CSV/ECSV (ECSV's missing value) and null in JSON.
+
+use crate::methods::MethodEntry;
+use crate::provenance::Provenance;
+use crate::tables::Table;
+use serde_json::{json, Map, Value};
+
+/// Output format of a table.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Format {
+    /// Comma-separated values with one header line of column names.
+    Csv,
+    /// ECSV 1.0 with units, descriptions and provenance in the header.
+    Ecsv,
+    /// JSON with provenance, column specs and column arrays.
+    Json,
+}
+
+/// A number as written in CSV and ECSV.
+pub fn number(x: f64) -> String {
+    format!("{x:.6e}")
+}
+
+fn data_lines(table: &Table, out: &mut String) {
+    let names: Vec<&str> = table.columns.iter().map(|c| c.name.as_str()).collect();
+    out.push_str(&names.join(","));
+    out.push('\n');
+    for row in &table.rows {
+        for (i, cell) in row.iter().enumerate() {
+            if i > 0 {
+                out.push(',');
+            }
+            if let Some(x) = cell {
+                out.push_str(&number(*x));
+            }
+        }
+        out.push('\n');
+    }
+}
+
+/// CSV: a header line of column names (units are in the names) and the rows.
+pub fn to_csv(table: &Table) -> String {
+    let mut out = String::new();
+    data_lines(table, &mut out);
+    out
+}
+
+/// A YAML single-quoted scalar ('' escapes a quote).
+fn yaml_quoted(s: &str) -> String {
+    format!("'{}'", s.replace('\'', "''"))
+}
+
+/// ECSV 1.0: `# %ECSV 1.0` header with each column's unit and description,
+/// and as metadata the program version, the resolved disk file (compact JSON
+/// in a string), its hash and the methods with their reference keys.
+pub fn to_ecsv(table: &Table, provenance: &Provenance, methods: &[MethodEntry]) -> String {
+    let mut out = String::from("# %ECSV 1.0\n# ---\n# datatype:\n");
+    for c in &table.columns {
+        out.push_str(&format!("# - {{name: {}, datatype: float64", c.name));
+        if !c.unit.is_empty() {
+            out.push_str(&format!(", unit: {}", yaml_quoted(c.unit)));
+        }
+        out.push_str(&format!(", description: {}}}\n", yaml_quoted(&c.description)));
+    }
+    out.push_str("# meta:\n");
+    out.push_str(&format!("#   program: {}\n", yaml_quoted(&provenance.program)));
+    out.push_str(&format!("#   disk_hash: {}\n", yaml_quoted(&provenance.disk_hash)));
+    out.push_str(&format!("#   disk_file: {}\n", yaml_quoted(&provenance.disk_value().to_string())));
+    out.push_str("#   methods:\n");
+    for m in methods {
+        out.push_str(&format!("#   - {{topic: {}, method: {}, references: [{}]}}\n", yaml_quoted(m.topic), yaml_quoted(&m.text), m.references.join(", ")));
+    }
+    out.push_str("# schema: astropy-2.0\n");
+    data_lines(table, &mut out);
+    out
+}
+
+/// JSON: provenance, methods, column specs and the data as one array per column.
+pub fn to_json(table: &Table, provenance: &Provenance, methods: &[MethodEntry]) -> Value {
+    let columns: Vec<Value> = table
+        .columns
+        .iter()
+        .map(|c| json!({"name": c.name, "unit": c.unit, "description": c.description}))
+        .collect();
+    let mut data = Map::new();
+    for (i, c) in table.columns.iter().enumerate() {
+        let values: Vec<Value> = table.rows.iter().map(|r| r[i].map_or(Value::Null, |x| json!(x))).collect();
+        data.insert(c.name.clone(), Value::Array(values));
+    }
+    json!({
+        "program": provenance.program,
+        "disk_hash": provenance.disk_hash,
+        "disk": provenance.disk_value(),
+        "methods": crate::methods::to_json(methods),
+        "columns": columns,
+        "data": data,
+    })
+}
+
+/// Pretty JSON text with a final newline.
+pub fn json_text(value: &Value) -> String {
+    // Invariant: values built here hold only finite numbers, so serialisation cannot fail.
+    let mut s = serde_json::to_string_pretty(value).expect("JSON serialises");
+    s.push('\n');
+    s
+}

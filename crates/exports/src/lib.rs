@@ -1,0 +1,17 @@
+//! # nivalis-exports
+//!
+//! Everything Nivalis writes for a user, built once so the CLI and the page
+//! produce byte-identical files: tables of the radial profile, the structure
+//! and r-z maps ([`tables`]), written as CSV, ECSV or JSON ([`formats`]);
+//! snowline listings ([`snowlines`]); the methods used with their references
+//! ([`methods`]); and the provenance every file carries ([`provenance`]).
+
+pub mod formats;
+pub mod methods;
+pub mod provenance;
+pub mod snowlines;
+pub mod tables;
+
+pub use formats::{to_csv, to_ecsv, to_json, Format};
+pub use provenance::Provenance;
+pub use tables::{map_table, model_table, structure_table, MapQuantity, Table};

@@ -1,0 +1,61 @@
+//! The snowline listing (`nivalis snowlines`): every midplane crossing of each
+//! species with its direction, and each species' snow surface per radius.
+
+use crate::provenance::Provenance;
+use nivalis_physics::units::AU_CM;
+use nivalis_physics::{Model, SnowSurface, Species};
+use serde_json::{json, Map, Value};
+
+/// JSON `{"snowlines": {...}, "snowline_directions": {...}, "snow_surfaces": {...}}` plus provenance.
+/// Snow surfaces per species: arrays over the radial cells of `radius_au`,
+/// `height_au` and `z_over_r` (null where there is none) and `status`
+/// (`surface`, `midplane_not_frozen` or `above_grid`).
+pub fn snowlines_json(model: &Model, provenance: &Provenance) -> Value {
+    let mut lines = Map::new();
+    let mut directions = Map::new();
+    let mut surfaces = Map::new();
+    let st = &model.structure;
+    for s in Species::ALL {
+        let found = model.snowlines(s);
+        lines.insert(s.key().into(), json!(found.iter().map(|l| l.radius_cm / AU_CM).collect::<Vec<_>>()));
+        directions.insert(s.key().into(), json!(found.iter().map(|l| l.direction.key()).collect::<Vec<_>>()));
+        let mut height = Vec::with_capacity(st.radial_cells);
+        let mut z_over_r = Vec::with_capacity(st.radial_cells);
+        let mut status = Vec::with_capacity(st.radial_cells);
+        for j in 0..st.radial_cells {
+            match model.snow_surface(s, j) {
+                SnowSurface::Height(z) => {
+                    height.push(json!(z / AU_CM));
+                    z_over_r.push(json!(z / st.radius_cm[j]));
+                    status.push("surface");
+                }
+                SnowSurface::MidplaneNotFrozen => {
+                    height.push(Value::Null);
+                    z_over_r.push(Value::Null);
+                    status.push("midplane_not_frozen");
+                }
+                SnowSurface::AboveGrid => {
+                    height.push(Value::Null);
+                    z_over_r.push(Value::Null);
+                    status.push("above_grid");
+                }
+            }
+        }
+        surfaces.insert(
+            s.key().into(),
+            json!({
+                "radius_au": st.radius_cm.iter().map(|r| r / AU_CM).collect::<Vec<_>>(),
+                "height_au": height,
+                "z_over_r": z_over_r,
+                "status": status,
+            }),
+        );
+    }
+    json!({
+        "program": provenance.program,
+        "disk_hash": provenance.disk_hash,
+        "snowlines": lines,
+        "snowline_directions": directions,
+        "snow_surfaces": surfaces,
+    })
+}

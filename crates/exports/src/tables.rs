@@ -1,0 +1,216 @@
+//! Tables built from a computed model: the radial structure profile, the
+//! radial model profile (C/O and ice fractions), and long-form r-z maps.
+//! Cells hold `Option<f64>`: `None` is undefined (empty in CSV, null in JSON).
+
+use nivalis_physics::budget::defined_ratio;
+use nivalis_physics::params::Element;
+use nivalis_physics::units::{AU_CM, HABING_PHOTONS_PER_CM2_S, JULIAN_YEAR_S};
+use nivalis_physics::{Model, Species};
+
+/// One column's name, unit (astropy unit string, empty for dimensionless) and description.
+#[derive(Debug, Clone, PartialEq)]
+pub struct ColumnSpec {
+    /// Column name (unit in the name, e.g. `radius_au`).
+    pub name: String,
+    /// Unit as astropy parses it ("AU", "K", "g / cm2", "cm-3", "yr", "1 / s"), or "" if dimensionless.
+    pub unit: &'static str,
+    /// One-line description.
+    pub description: String,
+}
+
+/// A table: column specs and rows of optional numbers.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Table {
+    /// Columns.
+    pub columns: Vec<ColumnSpec>,
+    /// Rows, each with one cell per column.
+    pub rows: Vec<Vec<Option<f64>>>,
+}
+
+fn col(name: impl Into<String>, unit: &'static str, description: impl Into<String>) -> ColumnSpec {
+    ColumnSpec { name: name.into(), unit, description: description.into() }
+}
+
+/// A number only if finite (NaN and infinities are undefined).
+fn finite(x: f64) -> Option<f64> {
+    x.is_finite().then_some(x)
+}
+
+/// The radial structure profile (`nivalis structure`).
+pub fn structure_table(model: &Model) -> Table {
+    let st = &model.structure;
+    let columns = vec![
+        col("radius_au", "AU", "radial cell centre"),
+        col("surface_density_g_cm2", "g / cm2", "gas surface density"),
+        col("midplane_temperature_k", "K", "midplane temperature"),
+        col("irradiation_temperature_k", "K", "stellar irradiation temperature"),
+        col("accretion_temperature_k", "K", "viscous (accretion) heating temperature"),
+        col("midplane_density_h_cm3", "cm-3", "midplane H-nucleus number density"),
+        col("scale_height_au", "AU", "midplane pressure scale height"),
+        col("aspect_ratio", "", "scale height over radius"),
+    ];
+    let rows = (0..st.radial_cells)
+        .map(|j| {
+            let r = st.radius_cm[j];
+            vec![
+                finite(r / AU_CM),
+                finite(st.surface_density_g_cm2[j]),
+                finite(st.midplane_temperature_k[j]),
+                finite(st.irradiation_temperature_k[j]),
+                finite(st.accretion_temperature_k[j]),
+                finite(st.samples.hydrogen_density_cm3[st.index(j, 0)]),
+                finite(st.scale_height_cm[j] / AU_CM),
+                finite(st.scale_height_cm[j] / r),
+            ]
+        })
+        .collect();
+    Table { columns, rows }
+}
+
+/// The radial model profile (`nivalis model`): C/O of gas, ice and solids, gas
+/// C/H and O/H relative to the star, and the midplane ice fraction of each species.
+pub fn model_table(model: &Model) -> Table {
+    let st = &model.structure;
+    let profile = model.midplane_profile();
+    let mut columns = vec![
+        col("radius_au", "AU", "radial cell centre"),
+        col("midplane_temperature_k", "K", "midplane temperature"),
+        col("midplane_density_h_cm3", "cm-3", "midplane H-nucleus number density"),
+        col("c_to_o_gas", "", "C/O number ratio of the gas"),
+        col("c_to_o_ice", "", "C/O number ratio of the ices alone"),
+        col("c_to_o_solid", "", "C/O number ratio of all solids (ices and refractories)"),
+        col("c_to_h_gas_rel_star", "", "gas C/H divided by the star's C/H"),
+        col("o_to_h_gas_rel_star", "", "gas O/H divided by the star's O/H"),
+    ];
+    for s in Species::ALL {
+        columns.push(col(format!("ice_fraction_{}", s.key()), "", format!("fraction of {} in ice at the midplane", s.key())));
+    }
+    let fractions: Vec<Vec<f64>> = Species::ALL.iter().map(|&s| model.midplane_ice_fraction(s)).collect();
+    let rows = (0..st.radial_cells)
+        .map(|j| {
+            let mut row = vec![
+                finite(profile.radius_au[j]),
+                finite(st.midplane_temperature_k[j]),
+                finite(st.samples.hydrogen_density_cm3[st.index(j, 0)]),
+                profile.c_to_o_gas[j],
+                profile.c_to_o_ice[j],
+                profile.c_to_o_solid[j],
+                profile.c_to_h_gas_rel_star[j],
+                profile.o_to_h_gas_rel_star[j],
+            ];
+            row.extend(fractions.iter().map(|f| finite(f[j])));
+            row
+        })
+        .collect();
+    Table { columns, rows }
+}
+
+/// A quantity that can be mapped in r-z.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub enum MapQuantity {
+    /// Gas temperature [K].
+    TemperatureK,
+    /// H-nucleus density [cm^-3].
+    DensityHCm3,
+    /// FUV photon flux in Habing units (1e8 photons cm^-2 s^-1).
+    FuvFluxHabing,
+    /// Cosmic-ray ionisation rate [s^-1].
+    IonizationRateS,
+    /// Visual extinction from above [mag].
+    VisualExtinctionMag,
+    /// Ice fraction of one species.
+    IceFraction(Species),
+    /// Gas C/O.
+    CToOGas,
+    /// Equilibration time of one species [yr].
+    EquilibrationTimeYr(Species),
+}
+
+impl MapQuantity {
+    /// Every accepted spelling, for help texts.
+    pub const NAMES: &'static str = "temperature_k, density_h_cm3, fuv_flux_habing, ionization_rate_s, visual_extinction_mag, ice_fraction:<SPECIES>, c_to_o_gas, equilibration_time_yr:<SPECIES>";
+
+    /// Parse a quantity name such as `ice_fraction:CO`.
+    pub fn parse(text: &str) -> Result<MapQuantity, String> {
+        let species = |name: &str| {
+            Species::from_key(name).ok_or_else(|| {
+                format!("--quantity: unknown species {name:?}; expected one of {}", Species::ALL.map(|s| s.key()).join(", "))
+            })
+        };
+        Ok(match text {
+            "temperature_k" => MapQuantity::TemperatureK,
+            "density_h_cm3" => MapQuantity::DensityHCm3,
+            "fuv_flux_habing" => MapQuantity::FuvFluxHabing,
+            "ionization_rate_s" => MapQuantity::IonizationRateS,
+            "visual_extinction_mag" => MapQuantity::VisualExtinctionMag,
+            "c_to_o_gas" => MapQuantity::CToOGas,
+            _ => {
+                if let Some(s) = text.strip_prefix("ice_fraction:") {
+                    MapQuantity::IceFraction(species(s)?)
+                } else if let Some(s) = text.strip_prefix("equilibration_time_yr:") {
+                    MapQuantity::EquilibrationTimeYr(species(s)?)
+                } else {
+                    return Err(format!("--quantity: unknown quantity {text:?}; expected one of {}", Self::NAMES));
+                }
+            }
+        })
+    }
+
+    /// Unit (astropy string) and description.
+    pub fn unit_and_description(self) -> (&'static str, String) {
+        match self {
+            MapQuantity::TemperatureK => ("K", "gas and dust temperature".into()),
+            MapQuantity::DensityHCm3 => ("cm-3", "H-nucleus number density".into()),
+            MapQuantity::FuvFluxHabing => ("", "FUV photon flux in Habing units (1e8 photons cm-2 s-1)".into()),
+            MapQuantity::IonizationRateS => ("1 / s", "cosmic-ray ionisation rate per H2".into()),
+            MapQuantity::VisualExtinctionMag => ("mag", "visual extinction towards the disk surface".into()),
+            MapQuantity::IceFraction(s) => ("", format!("fraction of {} in ice", s.key())),
+            MapQuantity::CToOGas => ("", "C/O number ratio of the gas".into()),
+            MapQuantity::EquilibrationTimeYr(s) => ("yr", format!("freeze-out/desorption equilibration time of {}", s.key())),
+        }
+    }
+
+    /// Value at flat sample index `k` (`None` where undefined).
+    pub fn value(self, model: &Model, k: usize) -> Option<f64> {
+        let s = &model.structure.samples;
+        match self {
+            MapQuantity::TemperatureK => finite(s.temperature_k[k]),
+            MapQuantity::DensityHCm3 => finite(s.hydrogen_density_cm3[k]),
+            MapQuantity::FuvFluxHabing => finite(s.fuv_photon_flux_cm2_s[k] / HABING_PHOTONS_PER_CM2_S),
+            MapQuantity::IonizationRateS => finite(s.ionization_rate_s[k]),
+            MapQuantity::VisualExtinctionMag => finite(s.visual_extinction_mag[k]),
+            MapQuantity::IceFraction(sp) => finite(model.ice_fraction_at(sp, k)),
+            MapQuantity::CToOGas => {
+                let ph = model.phases_at(k);
+                let (c, o) = (Element::C as usize, Element::O as usize);
+                defined_ratio(ph.gas[c], ph.gas[o], model.carriers.stellar_per_h[o])
+            }
+            MapQuantity::EquilibrationTimeYr(sp) => {
+                finite(model.equilibration_time_s[sp.index() * model.sample_count() + k] / JULIAN_YEAR_S)
+            }
+        }
+    }
+}
+
+/// The r-z map of a quantity as long-form rows (radius_au, height_au, z_over_r, value),
+/// one row per cell centre (the z = 0 midplane sample is not a cell and is left out).
+pub fn map_table(model: &Model, quantity: MapQuantity, value_name: &str) -> Table {
+    let st = &model.structure;
+    let (unit, description) = quantity.unit_and_description();
+    let columns = vec![
+        col("radius_au", "AU", "radial cell centre"),
+        col("height_au", "AU", "height of the cell centre above the midplane"),
+        col("z_over_r", "", "height over radius"),
+        col(value_name, unit, description),
+    ];
+    let mut rows = Vec::with_capacity(st.radial_cells * (st.samples_per_column - 1));
+    for j in 0..st.radial_cells {
+        let r = st.radius_cm[j];
+        for s in 1..st.samples_per_column {
+            let k = st.index(j, s);
+            let z = st.samples.height_cm[k];
+            rows.push(vec![finite(r / AU_CM), finite(z / AU_CM), finite(z / r), quantity.value(model, k)]);
+        }
+    }
+    Table { columns, rows }
+}
