@@ -57,7 +57,7 @@ fn yaml_quoted(s: &str) -> String {
 /// and as metadata the program version, the resolved disk file (compact JSON
 /// in a string), its hash and the methods with their reference keys.
 pub fn to_ecsv(table: &Table, provenance: &Provenance, methods: &[MethodEntry]) -> String {
-    let mut out = String::from("# %ECSV 1.0\n# ---\n# datatype:\n");
+    let mut out = String::from("# %ECSV 1.0\n# ---\n# delimiter: ','\n# datatype:\n");
     for c in &table.columns {
         out.push_str(&format!("# - {{name: {}, datatype: float64", c.name));
         if !c.unit.is_empty() {
