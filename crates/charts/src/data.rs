@@ -1,0 +1,227 @@
+//! Plain input data of the line charts, and the builders that fill them from a
+//! computed `nivalis_physics::Model`. Undefined values are `None`; they break
+//! lines and are never drawn as numbers.
+
+use nivalis_physics::params::Element;
+use nivalis_physics::units::AU_CM;
+use nivalis_physics::{CrossingDirection, Model, Species};
+
+use crate::error::{check_increasing_positive, check_length, ChartError};
+use crate::paint::typeset_formula;
+
+/// `Some(v)` for finite positive values, the only ones a log axis can show.
+fn positive(v: f64) -> Option<f64> {
+    (v.is_finite() && v > 0.0).then_some(v)
+}
+
+/// Inputs of the C/O profile (view a).
+#[derive(Debug, Clone, PartialEq)]
+pub struct ProfileData {
+    /// Radius [au], increasing.
+    pub radius_au: Vec<f64>,
+    /// C/O of the gas per radius.
+    pub c_to_o_gas: Vec<Option<f64>>,
+    /// C/O of the ices alone.
+    pub c_to_o_ice: Vec<Option<f64>>,
+    /// C/O of all solids (ices and refractories).
+    pub c_to_o_solid: Vec<Option<f64>>,
+    /// The star's C/O, drawn as a horizontal reference line.
+    pub star_c_to_o: Option<f64>,
+    /// Snowlines as (label, radius [au]); each drawn as a labelled vertical line.
+    pub snowlines: Vec<(String, f64)>,
+    /// A planet's radius [au], marked when given.
+    pub planet_radius_au: Option<f64>,
+    /// Radius intervals [au] (inner, outer) where the planet may have formed, shaded.
+    pub allowed_formation_radii_au: Vec<(f64, f64)>,
+}
+
+/// Every snowline of a model as (typeset species label, radius [au]), inner first per species.
+/// Desorption fronts (ice inside, gas outside) get a trailing "↑" so they are not mistaken for freeze-out.
+pub fn model_snowlines(model: &Model) -> Vec<(String, f64)> {
+    let mut out = Vec::new();
+    for species in Species::ALL {
+        for line in model.snowlines(species) {
+            let mut label = typeset_formula(species.key());
+            if line.direction == CrossingDirection::Desorption {
+                label.push('\u{2191}');
+            }
+            out.push((label, line.radius_cm / AU_CM));
+        }
+    }
+    out.sort_by(|a, b| a.1.total_cmp(&b.1));
+    out
+}
+
+impl ProfileData {
+    /// The midplane C/O profile of a model, its star's C/O and its snowlines.
+    pub fn from_model(model: &Model) -> ProfileData {
+        let p = model.midplane_profile();
+        let x = &model.carriers.stellar_per_h;
+        let star = x[Element::C as usize] / x[Element::O as usize];
+        ProfileData {
+            radius_au: p.radius_au,
+            c_to_o_gas: p.c_to_o_gas,
+            c_to_o_ice: p.c_to_o_ice,
+            c_to_o_solid: p.c_to_o_solid,
+            star_c_to_o: positive(star),
+            snowlines: model_snowlines(model),
+            planet_radius_au: None,
+            allowed_formation_radii_au: Vec::new(),
+        }
+    }
+
+    /// The same profile with a planet's radius marked.
+    pub fn with_planet_radius_au(mut self, radius_au: f64) -> ProfileData {
+        self.planet_radius_au = Some(radius_au);
+        self
+    }
+
+    /// The same profile with shaded intervals of allowed formation radii [au].
+    pub fn with_allowed_formation_radii_au(mut self, intervals: Vec<(f64, f64)>) -> ProfileData {
+        self.allowed_formation_radii_au = intervals;
+        self
+    }
+
+    pub(crate) fn validate(&self) -> Result<(), ChartError> {
+        check_increasing_positive("radius_au", &self.radius_au)?;
+        let n = self.radius_au.len();
+        check_length("c_to_o_gas", &self.c_to_o_gas, n)?;
+        check_length("c_to_o_ice", &self.c_to_o_ice, n)?;
+        check_length("c_to_o_solid", &self.c_to_o_solid, n)
+    }
+}
+
+/// Inputs of the temperature and surface-density profile (view b).
+#[derive(Debug, Clone, PartialEq)]
+pub struct TemperatureData {
+    /// Radius [au], increasing.
+    pub radius_au: Vec<f64>,
+    /// Midplane temperature [K].
+    pub midplane_temperature_k: Vec<Option<f64>>,
+    /// Irradiation component [K].
+    pub irradiation_temperature_k: Vec<Option<f64>>,
+    /// Accretion (viscous) component [K].
+    pub accretion_temperature_k: Vec<Option<f64>>,
+    /// Gas surface density [g cm^-2].
+    pub surface_density_g_cm2: Vec<Option<f64>>,
+}
+
+impl TemperatureData {
+    /// The midplane temperatures and surface density of a model.
+    pub fn from_model(model: &Model) -> TemperatureData {
+        let s = &model.structure;
+        let wrap = |v: &Vec<f64>| v.iter().map(|&t| positive(t)).collect::<Vec<_>>();
+        TemperatureData {
+            radius_au: s.radius_cm.iter().map(|r| r / AU_CM).collect(),
+            midplane_temperature_k: wrap(&s.midplane_temperature_k),
+            irradiation_temperature_k: wrap(&s.irradiation_temperature_k),
+            accretion_temperature_k: wrap(&s.accretion_temperature_k),
+            surface_density_g_cm2: wrap(&s.surface_density_g_cm2),
+        }
+    }
+
+    pub(crate) fn validate(&self) -> Result<(), ChartError> {
+        check_increasing_positive("radius_au", &self.radius_au)?;
+        let n = self.radius_au.len();
+        check_length("midplane_temperature_k", &self.midplane_temperature_k, n)?;
+        check_length("irradiation_temperature_k", &self.irradiation_temperature_k, n)?;
+        check_length("accretion_temperature_k", &self.accretion_temperature_k, n)?;
+        check_length("surface_density_g_cm2", &self.surface_density_g_cm2, n)
+    }
+}
+
+/// Gas and ice abundance of one species along the midplane.
+#[derive(Debug, Clone, PartialEq)]
+pub struct SpeciesAbundance {
+    /// Label as drawn, e.g. "CO₂".
+    pub label: String,
+    /// Gas-phase abundance per H nucleus.
+    pub gas_per_h: Vec<Option<f64>>,
+    /// Ice abundance per H nucleus.
+    pub ice_per_h: Vec<Option<f64>>,
+}
+
+/// Inputs of the abundance profiles (view e).
+#[derive(Debug, Clone, PartialEq)]
+pub struct AbundanceData {
+    /// Radius [au], increasing.
+    pub radius_au: Vec<f64>,
+    /// One entry per species.
+    pub species: Vec<SpeciesAbundance>,
+}
+
+impl AbundanceData {
+    /// Midplane gas and ice abundances per H of every species present in a model
+    /// (x_gas = x (1 - f_ice), x_ice = x f_ice; species with x = 0 are left out).
+    pub fn from_model(model: &Model) -> AbundanceData {
+        let s = &model.structure;
+        let species = Species::ALL
+            .iter()
+            .filter(|sp| model.carriers.species_per_h[sp.index()] > 0.0)
+            .map(|&sp| {
+                let x = model.carriers.species_per_h[sp.index()];
+                let f = model.midplane_ice_fraction(sp);
+                SpeciesAbundance {
+                    label: typeset_formula(sp.key()),
+                    gas_per_h: f.iter().map(|&f| positive(x * (1.0 - f))).collect(),
+                    ice_per_h: f.iter().map(|&f| positive(x * f)).collect(),
+                }
+            })
+            .collect();
+        AbundanceData { radius_au: s.radius_cm.iter().map(|r| r / AU_CM).collect(), species }
+    }
+
+    pub(crate) fn validate(&self) -> Result<(), ChartError> {
+        check_increasing_positive("radius_au", &self.radius_au)?;
+        if self.species.is_empty() {
+            return Err(ChartError::EmptyData { field: "species" });
+        }
+        let n = self.radius_au.len();
+        for s in &self.species {
+            check_length("gas_per_h", &s.gas_per_h, n)?;
+            check_length("ice_per_h", &s.ice_per_h, n)?;
+        }
+        Ok(())
+    }
+}
+
+/// Inputs of the planet chi-square map (view f), plain slices' owned form.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Chi2Data {
+    /// Formation radius grid [au], increasing (x axis, log).
+    pub radius_au: Vec<f64>,
+    /// Solid-to-gas ratio grid, increasing (y axis, log).
+    pub solid_to_gas: Vec<f64>,
+    /// chi^2 at `[ratio_index * radius_au.len() + radius_index]`; NaN where undefined.
+    pub chi2: Vec<f64>,
+    /// Contour levels as (label, delta chi^2 above the minimum), e.g. ("1σ", 2.30), ("2σ", 6.18)
+    /// for two fitted parameters (Press et al., Numerical Recipes, section 15.6).
+    pub thresholds: Vec<(String, f64)>,
+    /// The best fit (radius [au], solid-to-gas), marked when given.
+    pub best: Option<(f64, f64)>,
+    /// x-axis label.
+    pub x_label: String,
+    /// y-axis label.
+    pub y_label: String,
+}
+
+impl Chi2Data {
+    /// Build from plain slices with the usual labels.
+    pub fn new(radius_au: &[f64], solid_to_gas: &[f64], chi2: &[f64], thresholds: &[(String, f64)], best: Option<(f64, f64)>) -> Chi2Data {
+        Chi2Data {
+            radius_au: radius_au.to_vec(),
+            solid_to_gas: solid_to_gas.to_vec(),
+            chi2: chi2.to_vec(),
+            thresholds: thresholds.to_vec(),
+            best,
+            x_label: "formation radius r [au]".to_string(),
+            y_label: "solid-to-gas ratio".to_string(),
+        }
+    }
+
+    pub(crate) fn validate(&self) -> Result<(), ChartError> {
+        check_increasing_positive("radius_au", &self.radius_au)?;
+        check_increasing_positive("solid_to_gas", &self.solid_to_gas)?;
+        check_length("chi2", &self.chi2, self.radius_au.len() * self.solid_to_gas.len())
+    }
+}

@@ -1,0 +1,387 @@
+//! r-z maps: their input data ([`MapData`]), the one-pass rasteriser that
+//! turns a map into an RGBA buffer for the page's `putImageData`
+//! ([`rasterise_map`]), and the cell geometry both share.
+//!
+//! Geometry: column j covers log10 r between the midpoints to its neighbours
+//! (the outer columns extend half a spacing outward; on the model's log grid
+//! that is exactly r_in..r_out). Within a column, sample k covers z/r between
+//! the midpoints to its neighbours, from max(0, first - half a spacing) to
+//! last + half a spacing; above that top the map is outside the grid
+//! (transparent). Undefined values (NaN) are drawn in the theme's neutral grey.
+
+use nivalis_physics::params::Element;
+use nivalis_physics::{Model, SnowSurface, Species};
+use nivalis_physics::units::AU_CM;
+
+use crate::colour::{ColourMap, Rgba};
+use crate::contour::marching_squares;
+use crate::error::{check_increasing_positive, check_length, ChartError};
+use crate::paint::typeset_formula;
+use crate::theme::Theme;
+
+/// Inputs of an r-z map (views c and d).
+#[derive(Debug, Clone, PartialEq)]
+pub struct MapData {
+    /// Radius of each column [au], increasing.
+    pub radius_au: Vec<f64>,
+    /// Samples per column.
+    pub rows: usize,
+    /// z/r of each sample, `[column * rows + row]`, increasing within a column.
+    pub z_over_r: Vec<f64>,
+    /// Value of each sample, same index; NaN where undefined.
+    pub values: Vec<f64>,
+    /// H/r of each column (midplane scale height over radius); empty draws no scale-height lines.
+    pub scale_height_over_r: Vec<f64>,
+    /// Colour-bar label, e.g. "CO ice fraction".
+    pub value_label: String,
+    /// Values mapped to the ends of the colour map (values outside are clamped).
+    pub value_range: (f64, f64),
+    /// The colour map.
+    pub colour_map: ColourMap,
+    /// Draw the contour of this level (marching squares over the samples), e.g. 0.5 for the snow surface.
+    pub contour_level: Option<f64>,
+    /// Legend text of that contour, e.g. "f = 0.5".
+    pub contour_label: String,
+    /// Polylines of (r [au], z/r) drawn as given (e.g. the model's own snow surface); each breaks at gaps.
+    pub curves: Vec<Vec<(f64, f64)>>,
+    /// A value marked on the colour bar, as (label, value), e.g. ("star", 0.55).
+    pub reference_value: Option<(String, f64)>,
+    /// Top of the plot in z/r.
+    pub z_over_r_max: f64,
+}
+
+/// An RGBA image, rows top to bottom, 4 bytes per pixel (the layout of the
+/// browser's `ImageData`).
+#[derive(Debug, Clone, PartialEq)]
+pub struct RasterImage {
+    /// Width [px].
+    pub width: u32,
+    /// Height [px].
+    pub height: u32,
+    /// `width * height * 4` bytes: R, G, B, A.
+    pub rgba: Vec<u8>,
+}
+
+impl RasterImage {
+    /// The image composited over an opaque background, as packed RGB (what plotters' bitmaps take).
+    pub fn to_rgb_over(&self, background: Rgba) -> Vec<u8> {
+        let mut out = Vec::with_capacity(self.rgba.len() / 4 * 3);
+        for p in self.rgba.chunks_exact(4) {
+            let c = Rgba { r: p[0], g: p[1], b: p[2], a: p[3] }.over(background);
+            out.extend_from_slice(&[c.r, c.g, c.b]);
+        }
+        out
+    }
+}
+
+impl MapData {
+    fn from_model_values(model: &Model, values: Vec<f64>, value_label: String, value_range: (f64, f64), colour_map: ColourMap) -> MapData {
+        let st = &model.structure;
+        let rows = st.samples_per_column;
+        let mut z_over_r = Vec::with_capacity(values.len());
+        for j in 0..st.radial_cells {
+            for s in 0..rows {
+                z_over_r.push(st.samples.height_cm[st.index(j, s)] / st.radius_cm[j]);
+            }
+        }
+        let h_over_r: Vec<f64> = st.scale_height_cm.iter().zip(&st.radius_cm).map(|(h, r)| h / r).collect();
+        // Show up to four scale heights of the thickest column: the snow surfaces and the
+        // 1-3 H lines sit below that, and the grid's 10 H top would squash them.
+        let thickest = h_over_r.iter().copied().fold(0.0, f64::max);
+        let grid_top = z_over_r.iter().copied().fold(0.0, f64::max);
+        let z_max = ((4.0 * thickest / 0.05).ceil() * 0.05).min(grid_top).max(1e-3);
+        MapData {
+            radius_au: st.radius_cm.iter().map(|r| r / AU_CM).collect(),
+            rows,
+            z_over_r,
+            values,
+            scale_height_over_r: h_over_r,
+            value_label,
+            value_range,
+            colour_map,
+            contour_level: None,
+            contour_label: String::new(),
+            curves: Vec::new(),
+            reference_value: None,
+            z_over_r_max: z_max,
+        }
+    }
+
+    /// Ice fraction (0..1) of one species in every sample, with the 0.5 contour
+    /// (the snow surface as the field's own 0.5 level) and the 1, 2, 3 H lines.
+    /// An absent species gives an all-undefined map.
+    pub fn ice_fraction(model: &Model, species: Species) -> MapData {
+        let n = model.sample_count();
+        let present = model.carriers.species_per_h[species.index()] > 0.0;
+        let values = (0..n).map(|k| if present { model.ice_fraction_at(species, k) } else { f64::NAN }).collect();
+        let label = format!("{} ice fraction", typeset_formula(species.key()));
+        let mut map = MapData::from_model_values(model, values, label, (0.0, 1.0), ColourMap::Viridis);
+        map.contour_level = Some(0.5);
+        map.contour_label = "f = 0.5".to_string();
+        map
+    }
+
+    /// Gas C/O in every sample on a 0..2 scale, the star's C/O marked on the colour bar.
+    pub fn gas_c_to_o(model: &Model) -> MapData {
+        let n = model.sample_count();
+        let values = (0..n).map(|k| model.ratios(&model.phases_at(k)).c_to_o_gas.unwrap_or(f64::NAN)).collect();
+        let mut map = MapData::from_model_values(model, values, "gas C/O".to_string(), (0.0, 2.0), ColourMap::Cividis);
+        let x = &model.carriers.stellar_per_h;
+        let star = x[Element::C as usize] / x[Element::O as usize];
+        if star.is_finite() {
+            map.reference_value = Some(("star".to_string(), star));
+        }
+        map
+    }
+
+    /// The model's snow surface of a species as (r [au], z/r) polylines: the lowest
+    /// height per column where f_ice falls through 0.5, broken where a column has none.
+    pub fn model_snow_surface(model: &Model, species: Species) -> Vec<Vec<(f64, f64)>> {
+        let st = &model.structure;
+        let mut lines = Vec::new();
+        let mut current = Vec::new();
+        for j in 0..st.radial_cells {
+            match model.snow_surface(species, j) {
+                SnowSurface::Height(h) => current.push((st.radius_cm[j] / AU_CM, h / st.radius_cm[j])),
+                SnowSurface::MidplaneNotFrozen | SnowSurface::AboveGrid => {
+                    if current.len() > 1 {
+                        lines.push(std::mem::take(&mut current));
+                    }
+                    current.clear();
+                }
+            }
+        }
+        if current.len() > 1 {
+            lines.push(current);
+        }
+        lines
+    }
+
+    pub(crate) fn validate(&self) -> Result<(), ChartError> {
+        check_increasing_positive("radius_au", &self.radius_au)?;
+        if self.rows == 0 {
+            return Err(ChartError::EmptyData { field: "rows" });
+        }
+        let n = self.radius_au.len() * self.rows;
+        check_length("z_over_r", &self.z_over_r, n)?;
+        check_length("values", &self.values, n)?;
+        if !self.scale_height_over_r.is_empty() {
+            check_length("scale_height_over_r", &self.scale_height_over_r, self.radius_au.len())?;
+        }
+        for &z in &self.z_over_r {
+            if !z.is_finite() || z < 0.0 {
+                return Err(ChartError::InvalidValue { field: "z_over_r", value: z, allowed: "finite and >= 0" });
+            }
+        }
+        let (a, b) = self.value_range;
+        if !(a.is_finite() && b.is_finite() && a < b) {
+            return Err(ChartError::InvalidValue { field: "value_range", value: b, allowed: "finite with min < max" });
+        }
+        if !(self.z_over_r_max.is_finite() && self.z_over_r_max > 0.0) {
+            return Err(ChartError::InvalidValue { field: "z_over_r_max", value: self.z_over_r_max, allowed: "finite and > 0" });
+        }
+        Ok(())
+    }
+
+    /// The radius range [au] the cells cover.
+    pub fn radius_range_au(&self) -> (f64, f64) {
+        let g = self.column_edges_log();
+        (10f64.powf(g[0]), 10f64.powf(g[g.len() - 1]))
+    }
+
+    /// log10 r at the column edges (n + 1 of them).
+    fn column_edges_log(&self) -> Vec<f64> {
+        let logs: Vec<f64> = self.radius_au.iter().map(|r| r.log10()).collect();
+        let n = logs.len();
+        let mut edges = Vec::with_capacity(n + 1);
+        if n == 1 {
+            // One column: give it a tenth of a decade either side.
+            return vec![logs[0] - 0.1, logs[0] + 0.1];
+        }
+        edges.push(logs[0] - 0.5 * (logs[1] - logs[0]));
+        for j in 1..n {
+            edges.push(0.5 * (logs[j - 1] + logs[j]));
+        }
+        edges.push(logs[n - 1] + 0.5 * (logs[n - 1] - logs[n - 2]));
+        edges
+    }
+
+    /// Upper z/r edge of each sample of column j, and the column's lower edge.
+    fn row_edges(&self, j: usize, out: &mut Vec<f64>) -> f64 {
+        let z = &self.z_over_r[j * self.rows..(j + 1) * self.rows];
+        out.clear();
+        let n = z.len();
+        if n == 1 {
+            out.push(z[0] * 1.5 + 1e-12);
+            return 0.0;
+        }
+        for k in 0..n - 1 {
+            out.push(0.5 * (z[k] + z[k + 1]));
+        }
+        out.push(z[n - 1] + 0.5 * (z[n - 1] - z[n - 2]));
+        (z[0] - 0.5 * (z[1] - z[0])).max(0.0)
+    }
+
+    /// The colour of every sample (undefined in `undefined`).
+    fn cell_colours(&self, undefined: Rgba) -> Vec<[u8; 4]> {
+        let lut = self.colour_map.lookup_256();
+        let (a, b) = self.value_range;
+        let scale = 255.0 / (b - a);
+        let grey = [undefined.r, undefined.g, undefined.b, undefined.a];
+        self.values
+            .iter()
+            .map(|&v| if v.is_nan() { grey } else { lut[((v - a) * scale).round().clamp(0.0, 255.0) as usize] })
+            .collect()
+    }
+
+    /// The cells as rectangles in data coordinates: (r_min, r_max, zr_min, zr_max, colour),
+    /// vertically adjacent cells of one colour merged (what the SVG output draws).
+    pub(crate) fn cell_rectangles(&self, undefined: Rgba) -> Vec<(f64, f64, f64, f64, [u8; 4])> {
+        let colours = self.cell_colours(undefined);
+        let edges = self.column_edges_log();
+        let mut tops = Vec::with_capacity(self.rows);
+        let mut out = Vec::new();
+        for j in 0..self.radius_au.len() {
+            let (r0, r1) = (10f64.powf(edges[j]), 10f64.powf(edges[j + 1]));
+            let mut bottom = self.row_edges(j, &mut tops);
+            let mut k = 0;
+            while k < self.rows && bottom < self.z_over_r_max {
+                let c = colours[j * self.rows + k];
+                let mut end = k;
+                while end + 1 < self.rows && colours[j * self.rows + end + 1] == c && tops[end] < self.z_over_r_max {
+                    end += 1;
+                }
+                let top = tops[end].min(self.z_over_r_max);
+                out.push((r0, r1, bottom, top, c));
+                bottom = tops[end];
+                k = end + 1;
+            }
+        }
+        out
+    }
+
+    /// The `contour_level` contour as (r [au], z/r) polylines.
+    pub fn contour(&self, level: f64) -> Vec<Vec<(f64, f64)>> {
+        let rows = self.rows;
+        let lines = marching_squares(
+            self.radius_au.len(),
+            rows,
+            |j, k| (self.radius_au[j].log10(), self.z_over_r[j * rows + k]),
+            |j, k| self.values[j * rows + k],
+            level,
+        );
+        lines.into_iter().map(|l| l.into_iter().map(|(lr, z)| (10f64.powf(lr), z)).collect()).collect()
+    }
+}
+
+/// Rasterise a map into `width x height` RGBA pixels covering the plot area:
+/// x from the map's inner to outer radius (log), y from z/r = 0 (bottom) to
+/// `z_over_r_max` (top). Each pixel takes the nearest cell (the cell containing
+/// its centre); undefined cells are the theme's neutral grey, pixels above a
+/// column's top are transparent. One pass: per pixel column, the row pointer
+/// only moves up, so the cost is O(width x (height + rows)).
+pub fn rasterise_map(data: &MapData, theme: &Theme, width: u32, height: u32) -> Result<RasterImage, ChartError> {
+    data.validate()?;
+    let (w, h) = (width as usize, height as usize);
+    let mut rgba = vec![0u8; w * h * 4];
+    if w == 0 || h == 0 {
+        return Ok(RasterImage { width, height, rgba });
+    }
+    let colours = data.cell_colours(theme.undefined);
+    let edges = data.column_edges_log();
+    let (lx0, lx1) = (edges[0], edges[edges.len() - 1]);
+    let mut tops = Vec::with_capacity(data.rows);
+    let mut column_pixels = vec![[0u8; 4]; h];
+    let mut last_column = usize::MAX;
+    for i in 0..w {
+        let lx = lx0 + (i as f64 + 0.5) / w as f64 * (lx1 - lx0);
+        // Edges are increasing: the column is the number of inner edges at or below lx.
+        let j = (edges[1..edges.len() - 1].partition_point(|&e| e <= lx)).min(data.radius_au.len() - 1);
+        if j != last_column {
+            let bottom = data.row_edges(j, &mut tops);
+            let mut k = 0;
+            for p in (0..h).rev() {
+                let zr = data.z_over_r_max * (1.0 - (p as f64 + 0.5) / h as f64);
+                while k < data.rows && zr > tops[k] {
+                    k += 1;
+                }
+                column_pixels[p] = if k >= data.rows || zr < bottom { [0, 0, 0, 0] } else { colours[j * data.rows + k] };
+            }
+            last_column = j;
+        }
+        for (p, c) in column_pixels.iter().enumerate() {
+            let o = (p * w + i) * 4;
+            rgba[o..o + 4].copy_from_slice(c);
+        }
+    }
+    Ok(RasterImage { width, height, rgba })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn small_map() -> MapData {
+        // Two columns at 1 and 10 au, three samples each at z/r = 0, 0.1, 0.2;
+        // values 0 / 1 / NaN in the first column, 1 / 1 / 0 in the second.
+        MapData {
+            radius_au: vec![1.0, 10.0],
+            rows: 3,
+            z_over_r: vec![0.0, 0.1, 0.2, 0.0, 0.1, 0.2],
+            values: vec![0.0, 1.0, f64::NAN, 1.0, 1.0, 0.0],
+            scale_height_over_r: vec![],
+            value_label: "test".into(),
+            value_range: (0.0, 1.0),
+            colour_map: ColourMap::Viridis,
+            contour_level: Some(0.5),
+            contour_label: "f = 0.5".into(),
+            curves: vec![],
+            reference_value: None,
+            z_over_r_max: 0.3,
+        }
+    }
+
+    fn pixel(img: &RasterImage, x: u32, y: u32) -> [u8; 4] {
+        let o = ((y * img.width + x) * 4) as usize;
+        [img.rgba[o], img.rgba[o + 1], img.rgba[o + 2], img.rgba[o + 3]]
+    }
+
+    #[test]
+    fn raster_takes_the_nearest_cell() {
+        let theme = Theme::light();
+        let map = small_map();
+        // Columns span log r -0.5..1.5, rows: [0, 0.05], [0.05, 0.15], [0.15, 0.25], above 0.25 outside.
+        let img = rasterise_map(&map, &theme, 20, 30).unwrap();
+        let purple = ColourMap::Viridis.at(0.0);
+        let yellow = ColourMap::Viridis.at(1.0);
+        let u = theme.undefined;
+        assert_eq!(pixel(&img, 2, 29), [purple.r, purple.g, purple.b, 255], "bottom-left: value 0");
+        assert_eq!(pixel(&img, 2, 15), [yellow.r, yellow.g, yellow.b, 255], "z/r 0.145: value 1");
+        assert_eq!(pixel(&img, 2, 8), [u.r, u.g, u.b, u.a], "undefined cell is neutral grey");
+        assert_eq!(pixel(&img, 2, 1)[3], 0, "above the grid is transparent");
+        assert_eq!(pixel(&img, 17, 29), [yellow.r, yellow.g, yellow.b, 255]);
+        assert_eq!(pixel(&img, 17, 8), [purple.r, purple.g, purple.b, 255]);
+    }
+
+    #[test]
+    fn rectangles_merge_equal_neighbours() {
+        let map = small_map();
+        let rects = map.cell_rectangles(Rgba::hex(0x808080));
+        // Column 1: three distinct cells; column 2: the two value-1 cells merge.
+        assert_eq!(rects.len(), 5);
+        let merged = rects[3];
+        assert!((merged.2 - 0.0).abs() < 1e-12 && (merged.3 - 0.15).abs() < 1e-12, "{merged:?}");
+    }
+
+    #[test]
+    fn contour_lies_between_the_values() {
+        let map = small_map();
+        let lines = map.contour(0.5);
+        assert!(!lines.is_empty());
+        for line in &lines {
+            for &(r, z) in line {
+                assert!((1.0..=10.0).contains(&r) && (0.0..=0.2).contains(&z), "{r} {z}");
+            }
+        }
+    }
+}

@@ -1,0 +1,766 @@
+//! The drawing toolkit every view shares: a `Painter` over any plotters
+//! `DrawingArea<DB, Shift>` that draws text, clipped and dashed polylines with
+//! gaps, markers, axes with typeset tick labels, and legends. Coordinates here
+//! are pixels relative to the area, as `f64`; they are rounded only when handed
+//! to plotters, whose elements take integer pixels.
+
+use plotters::coord::Shift;
+use plotters::element::{Circle, PathElement, Polygon, Rectangle, Text};
+use plotters::prelude::{DrawingArea, DrawingBackend};
+use plotters::style::text_anchor::{HPos, Pos, VPos};
+use plotters::style::{FontDesc, FontTransform, ShapeStyle, TextStyle};
+
+use crate::colour::Rgba;
+use crate::error::ChartError;
+use crate::layout::{AxisTransform, PanelLayout, Scale};
+use crate::theme::{LineDash, Marker, SeriesStyle, Theme};
+
+/// plotters' font sizes are line heights: the em size in SVG is `size / 1.24`,
+/// so an em of `pt` points needs `pt * 1.24` here.
+const PLOTTERS_FONT_SCALE: f64 = 1.24;
+
+/// A rectangle in area pixels.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub(crate) struct Frame {
+    pub left: f64,
+    pub top: f64,
+    pub right: f64,
+    pub bottom: f64,
+}
+
+impl Frame {
+    pub fn width(&self) -> f64 {
+        self.right - self.left
+    }
+    pub fn height(&self) -> f64 {
+        self.bottom - self.top
+    }
+}
+
+/// A plotting area with its axes, in area pixels.
+#[derive(Debug, Clone, PartialEq)]
+pub(crate) struct Panel {
+    pub name: &'static str,
+    pub frame: Frame,
+    pub x: AxisTransform,
+    pub y: AxisTransform,
+}
+
+impl Panel {
+    /// Pixel of a data point; `None` where the axes cannot show it.
+    pub fn px(&self, x: f64, y: f64) -> Option<(f64, f64)> {
+        let tx = self.x.fraction(x)?;
+        let ty = self.y.fraction(y)?;
+        Some((self.frame.left + tx * self.frame.width(), self.frame.bottom - ty * self.frame.height()))
+    }
+
+    pub fn px_x(&self, x: f64) -> Option<f64> {
+        Some(self.frame.left + self.x.fraction(x)? * self.frame.width())
+    }
+
+    pub fn px_y(&self, y: f64) -> Option<f64> {
+        Some(self.frame.bottom - self.y.fraction(y)? * self.frame.height())
+    }
+
+    /// The public layout, in backend pixels (the area's offset added).
+    pub fn to_layout(&self, base: (i32, i32)) -> PanelLayout {
+        let left = self.frame.left.round() as i32;
+        let top = self.frame.top.round() as i32;
+        PanelLayout {
+            name: self.name,
+            left: base.0 + left,
+            top: base.1 + top,
+            width: (self.frame.right.round() as i32 - left).max(0) as u32,
+            height: (self.frame.bottom.round() as i32 - top).max(0) as u32,
+            x: self.x.clone(),
+            y: self.y.clone(),
+        }
+    }
+}
+
+/// Text orientation.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub(crate) enum Orientation {
+    Horizontal,
+    /// Reading bottom to top.
+    Up,
+}
+
+pub(crate) struct Painter<'a, DB: DrawingBackend> {
+    pub area: &'a DrawingArea<DB, Shift>,
+    pub theme: &'a Theme,
+    pub ppp: f64,
+}
+
+fn drawing_error<E: std::error::Error + Send + Sync>(e: plotters::drawing::DrawingAreaErrorKind<E>) -> ChartError {
+    ChartError::Drawing { message: e.to_string() }
+}
+
+fn pt(p: (f64, f64)) -> (i32, i32) {
+    (p.0.round() as i32, p.1.round() as i32)
+}
+
+impl<'a, DB: DrawingBackend> Painter<'a, DB> {
+    pub fn new(area: &'a DrawingArea<DB, Shift>, theme: &'a Theme, ppp: f64) -> Self {
+        crate::render::ensure_font(theme);
+        Painter { area, theme, ppp }
+    }
+
+    pub fn size(&self) -> (f64, f64) {
+        let (w, h) = self.area.dim_in_pixel();
+        (w as f64, h as f64)
+    }
+
+    /// Points to pixels.
+    pub fn px(&self, points: f64) -> f64 {
+        points * self.ppp
+    }
+
+    fn stroke(&self, width_pt: f64) -> u32 {
+        (width_pt * self.ppp).round().max(1.0) as u32
+    }
+
+    fn text_style(&self, size_pt: f64, colour: Rgba, pos: Pos, orientation: Orientation) -> TextStyle<'a> {
+        let font: FontDesc<'a> = (self.theme.font_family.as_str(), size_pt * PLOTTERS_FONT_SCALE * self.ppp).into();
+        let font = match orientation {
+            Orientation::Horizontal => font,
+            Orientation::Up => font.transform(FontTransform::Rotate270),
+        };
+        font.color(&colour.to_plotters()).pos(pos)
+    }
+
+    /// Width and height [px] of a horizontal text.
+    pub fn text_size(&self, text: &str, size_pt: f64) -> Result<(f64, f64), ChartError> {
+        let style = self.text_style(size_pt, self.theme.foreground, Pos::new(HPos::Left, VPos::Top), Orientation::Horizontal);
+        let (w, h) = self.area.estimate_text_size(text, &style).map_err(drawing_error)?;
+        // Some font back ends report a zero height; the em size is the floor.
+        Ok((w as f64, (h as f64).max(size_pt * self.ppp)))
+    }
+
+    pub fn text(
+        &self,
+        text: &str,
+        at: (f64, f64),
+        size_pt: f64,
+        colour: Rgba,
+        anchor: (HPos, VPos),
+        orientation: Orientation,
+    ) -> Result<(), ChartError> {
+        if text.is_empty() {
+            return Ok(());
+        }
+        let style = self.text_style(size_pt, colour, Pos::new(anchor.0, anchor.1), orientation);
+        self.area.draw(&Text::new(text.to_string(), pt(at), style)).map_err(drawing_error)
+    }
+
+    pub fn fill_rect(&self, frame: Frame, colour: Rgba) -> Result<(), ChartError> {
+        if colour.a == 0 || frame.width() <= 0.0 || frame.height() <= 0.0 {
+            return Ok(());
+        }
+        let style = ShapeStyle { color: colour.to_plotters(), filled: true, stroke_width: 0 };
+        self.area
+            .draw(&Rectangle::new([pt((frame.left, frame.top)), pt((frame.right, frame.bottom))], style))
+            .map_err(drawing_error)
+    }
+
+    /// A polyline of pixel points, solid or dashed, `width_pt` wide.
+    pub fn polyline(&self, points: &[(f64, f64)], colour: Rgba, width_pt: f64, dash: LineDash) -> Result<(), ChartError> {
+        if points.len() < 2 {
+            return Ok(());
+        }
+        let style = ShapeStyle { color: colour.to_plotters(), filled: false, stroke_width: self.stroke(width_pt) };
+        match dash.pattern() {
+            None => self.draw_path(points, style),
+            Some(pattern) => {
+                let unit = (width_pt * self.ppp).max(1.0);
+                for piece in dashes(points, &pattern.map(|p| p * unit)) {
+                    self.draw_path(&piece, style)?;
+                }
+                Ok(())
+            }
+        }
+    }
+
+    fn draw_path(&self, points: &[(f64, f64)], style: ShapeStyle) -> Result<(), ChartError> {
+        let mut ints: Vec<(i32, i32)> = points.iter().map(|&p| pt(p)).collect();
+        ints.dedup();
+        if ints.len() == 1 {
+            // A dot shorter than a pixel still shows as one pixel-long dash.
+            ints.push((ints[0].0 + 1, ints[0].1));
+        }
+        self.area.draw(&PathElement::new(ints, style)).map_err(drawing_error)
+    }
+
+    /// A data series on a panel: undefined points (`None`, NaN, non-positive on
+    /// log axes) break the line; the line is clipped to the frame.
+    pub fn series(&self, panel: &Panel, xs: &[f64], ys: &[Option<f64>], style: &SeriesStyle) -> Result<(), ChartError> {
+        let width = self.theme.line_width_pt * style.width_scale;
+        let runs = defined_runs(panel, xs, ys);
+        for run in &runs {
+            for piece in clip_polyline(run, &panel.frame) {
+                self.polyline(&piece, style.colour, width, style.dash)?;
+            }
+        }
+        if style.marker != Marker::None {
+            // About ten markers along the whole radial range, whatever the grid resolution.
+            let every = (xs.len() / 10).max(1);
+            let offset = every / 2;
+            for (i, (&x, y)) in xs.iter().zip(ys).enumerate() {
+                if i % every != offset {
+                    continue;
+                }
+                if let Some(p) = y.and_then(|y| panel.px(x, y)) {
+                    if inside(&panel.frame, p) {
+                        self.marker(p, style.marker, style.colour)?;
+                    }
+                }
+            }
+        }
+        Ok(())
+    }
+
+    /// A marker centred at `p` [px].
+    pub fn marker(&self, p: (f64, f64), marker: Marker, colour: Rgba) -> Result<(), ChartError> {
+        let r = self.px(2.0);
+        let stroke = self.stroke(self.theme.line_width_pt * 0.8);
+        let filled = ShapeStyle { color: colour.to_plotters(), filled: true, stroke_width: 1 };
+        let open = ShapeStyle { color: colour.to_plotters(), filled: false, stroke_width: stroke };
+        let (x, y) = p;
+        let closed = |pts: Vec<(f64, f64)>| {
+            let mut pts = pts;
+            pts.push(pts[0]);
+            pts
+        };
+        match marker {
+            Marker::None => Ok(()),
+            Marker::Circle => self.area.draw(&Circle::new(pt(p), r.round().max(1.0) as i32, filled)).map_err(drawing_error),
+            Marker::Triangle => self
+                .area
+                .draw(&Polygon::new(
+                    vec![pt((x, y - 1.15 * r)), pt((x + r, y + 0.6 * r)), pt((x - r, y + 0.6 * r))],
+                    filled,
+                ))
+                .map_err(drawing_error),
+            Marker::Square => {
+                self.draw_path(&closed(vec![(x - r, y - r), (x + r, y - r), (x + r, y + r), (x - r, y + r)]), open)
+            }
+            Marker::Diamond => self.draw_path(
+                &closed(vec![(x, y - 1.3 * r), (x + 1.3 * r, y), (x, y + 1.3 * r), (x - 1.3 * r, y)]),
+                open,
+            ),
+            Marker::Cross => {
+                self.draw_path(&[(x - r, y - r), (x + r, y + r)], open)?;
+                self.draw_path(&[(x - r, y + r), (x + r, y - r)], open)
+            }
+            Marker::Plus => {
+                self.draw_path(&[(x - 1.2 * r, y), (x + 1.2 * r, y)], open)?;
+                self.draw_path(&[(x, y - 1.2 * r), (x, y + 1.2 * r)], open)
+            }
+        }
+    }
+}
+
+fn inside(frame: &Frame, p: (f64, f64)) -> bool {
+    p.0 >= frame.left - 0.5 && p.0 <= frame.right + 0.5 && p.1 >= frame.top - 0.5 && p.1 <= frame.bottom + 0.5
+}
+
+/// Runs of consecutive defined points, in pixels.
+pub(crate) fn defined_runs(panel: &Panel, xs: &[f64], ys: &[Option<f64>]) -> Vec<Vec<(f64, f64)>> {
+    let mut runs = Vec::new();
+    let mut current: Vec<(f64, f64)> = Vec::new();
+    for (&x, y) in xs.iter().zip(ys) {
+        match y.and_then(|y| panel.px(x, y)) {
+            Some(p) => current.push(p),
+            None => {
+                if !current.is_empty() {
+                    runs.push(std::mem::take(&mut current));
+                }
+            }
+        }
+    }
+    if !current.is_empty() {
+        runs.push(current);
+    }
+    runs
+}
+
+/// Clip a polyline to a rectangle (Liang-Barsky per segment); pieces outside are dropped.
+pub(crate) fn clip_polyline(points: &[(f64, f64)], frame: &Frame) -> Vec<Vec<(f64, f64)>> {
+    let mut out: Vec<Vec<(f64, f64)>> = Vec::new();
+    let mut current: Vec<(f64, f64)> = Vec::new();
+    if points.len() == 1 && inside(frame, points[0]) {
+        return vec![points.to_vec()];
+    }
+    for w in points.windows(2) {
+        match clip_segment(w[0], w[1], frame) {
+            Some((a, b)) => {
+                let continues = current.last().is_some_and(|&l| (l.0 - a.0).abs() < 1e-9 && (l.1 - a.1).abs() < 1e-9);
+                if !continues {
+                    if current.len() > 1 {
+                        out.push(std::mem::take(&mut current));
+                    }
+                    current.clear();
+                    current.push(a);
+                }
+                current.push(b);
+            }
+            None => {
+                if current.len() > 1 {
+                    out.push(std::mem::take(&mut current));
+                }
+                current.clear();
+            }
+        }
+    }
+    if current.len() > 1 {
+        out.push(current);
+    }
+    out
+}
+
+fn clip_segment(a: (f64, f64), b: (f64, f64), f: &Frame) -> Option<((f64, f64), (f64, f64))> {
+    let (dx, dy) = (b.0 - a.0, b.1 - a.1);
+    let mut t0: f64 = 0.0;
+    let mut t1: f64 = 1.0;
+    for (p, q) in [(-dx, a.0 - f.left), (dx, f.right - a.0), (-dy, a.1 - f.top), (dy, f.bottom - a.1)] {
+        if p == 0.0 {
+            if q < 0.0 {
+                return None;
+            }
+        } else {
+            let r = q / p;
+            if p < 0.0 {
+                t0 = t0.max(r);
+            } else {
+                t1 = t1.min(r);
+            }
+        }
+    }
+    if t0 > t1 {
+        return None;
+    }
+    Some(((a.0 + t0 * dx, a.1 + t0 * dy), (a.0 + t1 * dx, a.1 + t1 * dy)))
+}
+
+/// Split a polyline into the "on" pieces of a dash pattern (lengths in px),
+/// the pattern running on across vertices so dashes turn corners.
+pub(crate) fn dashes(points: &[(f64, f64)], pattern: &[f64; 4]) -> Vec<Vec<(f64, f64)>> {
+    let mut out = Vec::new();
+    let mut index = 0usize;
+    let mut left = pattern[0];
+    let mut on = true;
+    let mut current: Vec<(f64, f64)> = vec![points[0]];
+    for w in points.windows(2) {
+        let (a, b) = (w[0], w[1]);
+        let length = ((b.0 - a.0).powi(2) + (b.1 - a.1).powi(2)).sqrt();
+        let mut s = 0.0;
+        while length - s > left {
+            s += left;
+            let p = (a.0 + (b.0 - a.0) * s / length, a.1 + (b.1 - a.1) * s / length);
+            if on {
+                current.push(p);
+                out.push(std::mem::take(&mut current));
+            } else {
+                current = vec![p];
+            }
+            on = !on;
+            index = (index + 1) % 4;
+            left = pattern[index];
+        }
+        left -= length - s;
+        if on {
+            current.push(b);
+        }
+    }
+    if on && current.len() > 1 {
+        out.push(current);
+    }
+    out
+}
+
+/// Tick positions of an axis: labelled majors and unlabelled minors.
+#[derive(Debug, Clone, PartialEq)]
+pub(crate) struct Ticks {
+    pub major: Vec<(f64, String)>,
+    pub minor: Vec<f64>,
+}
+
+/// Ticks for an axis (decades on log axes, 1-2-5 steps on linear ones).
+pub(crate) fn ticks(axis: &AxisTransform) -> Ticks {
+    match axis.scale {
+        Scale::Log10 => log_ticks(axis.min, axis.max),
+        Scale::Linear => linear_ticks(axis.min, axis.max),
+    }
+}
+
+fn within(v: f64, min: f64, max: f64) -> bool {
+    let eps = (max - min).abs() * 1e-9;
+    v >= min - eps && v <= max + eps
+}
+
+fn log_ticks(min: f64, max: f64) -> Ticks {
+    let lo = min.log10().floor() as i32;
+    let hi = max.log10().ceil() as i32;
+    let decades: Vec<i32> = (lo..=hi).filter(|&k| within(10f64.powi(k), min, max)).collect();
+    // Label every decade while there is room; thin to every 2nd or 3rd on long axes.
+    let step = match decades.len() {
+        0..=7 => 1,
+        8..=12 => 2,
+        _ => 3,
+    };
+    let mut major: Vec<(f64, String)> = decades
+        .iter()
+        .filter(|&&k| k.rem_euclid(step) == 0)
+        .map(|&k| (10f64.powi(k), format_power_of_ten(k)))
+        .collect();
+    let mut minor = Vec::new();
+    for k in lo..=hi {
+        for m in 1..10 {
+            let v = m as f64 * 10f64.powi(k);
+            if within(v, min, max) && !major.iter().any(|(x, _)| (x / v - 1.0).abs() < 1e-9) {
+                minor.push(v);
+            }
+        }
+    }
+    // Less than about two labelled decades: label 2 and 5 multiples too, so the axis can be read.
+    if major.len() < 2 {
+        for k in lo..=hi {
+            for m in [2.0, 5.0] {
+                let v = m * 10f64.powi(k);
+                if within(v, min, max) {
+                    major.push((v, format_plain(v)));
+                }
+            }
+        }
+        major.sort_by(|a, b| a.0.total_cmp(&b.0));
+        minor.retain(|v| !major.iter().any(|(x, _)| (x / v - 1.0).abs() < 1e-9));
+    }
+    Ticks { major, minor }
+}
+
+fn linear_ticks(min: f64, max: f64) -> Ticks {
+    let span = max - min;
+    let raw = span / 5.0;
+    let magnitude = 10f64.powf(raw.log10().floor());
+    let step = [1.0, 2.0, 2.5, 5.0, 10.0]
+        .iter()
+        .map(|m| m * magnitude)
+        .find(|&s| s >= raw * 0.999)
+        .unwrap_or(10.0 * magnitude);
+    let decimals = (-(step.log10().floor()) as i32).max(0) as usize + usize::from((step / magnitude - 2.5).abs() < 1e-9);
+    let first = (min / step).ceil() as i64;
+    let last = (max / step).floor() as i64;
+    let mut major = Vec::new();
+    for i in first..=last {
+        let v = i as f64 * step;
+        let v = if v.abs() < step * 1e-9 { 0.0 } else { v };
+        major.push((v, format!("{:.*}", decimals, v).replace('-', "\u{2212}")));
+    }
+    let minor_step = step / if (step / magnitude - 2.0).abs() < 1e-9 { 4.0 } else { 5.0 };
+    let mut minor = Vec::new();
+    let first_minor = (min / minor_step).ceil() as i64;
+    let last_minor = (max / minor_step).floor() as i64;
+    for i in first_minor..=last_minor {
+        let v = i as f64 * minor_step;
+        if !major.iter().any(|(x, _)| (x - v).abs() < minor_step * 1e-6) {
+            minor.push(v);
+        }
+    }
+    Ticks { major, minor }
+}
+
+/// 10^k typeset: plain decimals from 0.001 to 10000, otherwise "10" with a superscript exponent.
+pub(crate) fn format_power_of_ten(k: i32) -> String {
+    if (-3..=4).contains(&k) {
+        format_plain(10f64.powi(k))
+    } else {
+        format!("10{}", superscript(&k.to_string()))
+    }
+}
+
+fn format_plain(v: f64) -> String {
+    if v >= 1.0 {
+        format!("{}", v.round() as i64)
+    } else {
+        let decimals = (-(v.log10().floor()) as usize).max(1);
+        format!("{:.*}", decimals, v)
+    }
+}
+
+/// Unicode superscripts of digits and minus signs.
+pub(crate) fn superscript(s: &str) -> String {
+    s.chars()
+        .map(|c| match c {
+            '0' => '\u{2070}',
+            '1' => '\u{00b9}',
+            '2' => '\u{00b2}',
+            '3' => '\u{00b3}',
+            '4'..='9' => char::from_u32(0x2074 + (c as u32 - '4' as u32)).unwrap_or(c),
+            '-' => '\u{207b}',
+            other => other,
+        })
+        .collect()
+}
+
+/// A chemical formula with subscript digits: "CH3OH" becomes "CH₃OH".
+pub fn typeset_formula(formula: &str) -> String {
+    formula
+        .chars()
+        .map(|c| if c.is_ascii_digit() { char::from_u32(0x2080 + (c as u32 - '0' as u32)).unwrap_or(c) } else { c })
+        .collect()
+}
+
+/// Which sides of a panel carry tick labels and the axis label.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub(crate) struct AxisOptions {
+    pub x_labels: bool,
+    pub y_labels: bool,
+    /// Leave out the y tick labels at the bottom and top edges (stacked panels would collide there).
+    pub skip_y_end_labels: (bool, bool),
+}
+
+impl AxisOptions {
+    pub const FULL: AxisOptions = AxisOptions { x_labels: true, y_labels: true, skip_y_end_labels: (false, false) };
+}
+
+impl<'a, DB: DrawingBackend> Painter<'a, DB> {
+    /// Space [px] the y tick labels and the y axis label need left of a frame.
+    pub fn y_label_space(&self, axis: &AxisTransform) -> Result<f64, ChartError> {
+        let t = ticks(axis);
+        let mut widest: f64 = 0.0;
+        for (_, label) in &t.major {
+            widest = widest.max(self.text_size(label, self.theme.tick_font_pt)?.0);
+        }
+        let (_, label_h) = self.text_size(&axis.label, self.theme.label_font_pt)?;
+        Ok(widest + self.px(3.5) + label_h + self.px(3.0))
+    }
+
+    /// Space [px] above a frame: the padding, or half a tick label if that is more
+    /// (the top y tick label is centred on the frame's top edge).
+    pub fn top_space(&self, pad_pt: f64) -> Result<f64, ChartError> {
+        let (_, h) = self.text_size("0.1", self.theme.tick_font_pt)?;
+        Ok(self.px(pad_pt).max(0.5 * h + self.px(1.5)))
+    }
+
+    /// Space [px] the x tick labels and the x axis label need below a frame.
+    pub fn x_label_space(&self, axis: &AxisTransform) -> Result<f64, ChartError> {
+        let (_, tick_h) = self.text_size("0.1", self.theme.tick_font_pt)?;
+        let (_, label_h) = self.text_size(&axis.label, self.theme.label_font_pt)?;
+        Ok(tick_h + self.px(3.0) + label_h + self.px(2.5))
+    }
+
+    /// Grid lines (behind the data): call before drawing series.
+    pub fn grid(&self, panel: &Panel) -> Result<(), ChartError> {
+        let f = panel.frame;
+        let w = self.theme.axis_width_pt * 0.7;
+        for (v, _) in ticks(&panel.x).major {
+            if let Some(x) = panel.px_x(v) {
+                self.polyline(&[(x, f.top), (x, f.bottom)], self.theme.grid, w, LineDash::Solid)?;
+            }
+        }
+        for (v, _) in ticks(&panel.y).major {
+            if let Some(y) = panel.px_y(v) {
+                self.polyline(&[(f.left, y), (f.right, y)], self.theme.grid, w, LineDash::Solid)?;
+            }
+        }
+        Ok(())
+    }
+
+    /// Frame, inward ticks on all four sides, tick labels and axis labels.
+    pub fn axes(&self, panel: &Panel, options: AxisOptions) -> Result<(), ChartError> {
+        let f = panel.frame;
+        let fg = self.theme.foreground;
+        let w = self.theme.axis_width_pt;
+        let (major_len, minor_len) = (self.px(3.5), self.px(2.0));
+        let xt = ticks(&panel.x);
+        let yt = ticks(&panel.y);
+        for (v, _) in &xt.major {
+            if let Some(x) = panel.px_x(*v) {
+                self.polyline(&[(x, f.bottom), (x, f.bottom - major_len)], fg, w, LineDash::Solid)?;
+                self.polyline(&[(x, f.top), (x, f.top + major_len)], fg, w, LineDash::Solid)?;
+            }
+        }
+        for v in &xt.minor {
+            if let Some(x) = panel.px_x(*v) {
+                self.polyline(&[(x, f.bottom), (x, f.bottom - minor_len)], fg, w, LineDash::Solid)?;
+                self.polyline(&[(x, f.top), (x, f.top + minor_len)], fg, w, LineDash::Solid)?;
+            }
+        }
+        for (v, _) in &yt.major {
+            if let Some(y) = panel.px_y(*v) {
+                self.polyline(&[(f.left, y), (f.left + major_len, y)], fg, w, LineDash::Solid)?;
+                self.polyline(&[(f.right, y), (f.right - major_len, y)], fg, w, LineDash::Solid)?;
+            }
+        }
+        for v in &yt.minor {
+            if let Some(y) = panel.px_y(*v) {
+                self.polyline(&[(f.left, y), (f.left + minor_len, y)], fg, w, LineDash::Solid)?;
+                self.polyline(&[(f.right, y), (f.right - minor_len, y)], fg, w, LineDash::Solid)?;
+            }
+        }
+        self.polyline(
+            &[(f.left, f.top), (f.right, f.top), (f.right, f.bottom), (f.left, f.bottom), (f.left, f.top)],
+            fg,
+            w,
+            LineDash::Solid,
+        )?;
+        let tick_pt = self.theme.tick_font_pt;
+        let gap = self.px(2.5);
+        if options.x_labels {
+            let mut tick_h: f64 = 0.0;
+            for (v, label) in &xt.major {
+                if let Some(x) = panel.px_x(*v) {
+                    self.text(label, (x, f.bottom + gap), tick_pt, fg, (HPos::Center, VPos::Top), Orientation::Horizontal)?;
+                    tick_h = tick_h.max(self.text_size(label, tick_pt)?.1);
+                }
+            }
+            let y = f.bottom + gap + tick_h + self.px(1.5);
+            let x = 0.5 * (f.left + f.right);
+            self.text(&panel.x.label, (x, y), self.theme.label_font_pt, fg, (HPos::Center, VPos::Top), Orientation::Horizontal)?;
+        }
+        if options.y_labels {
+            let mut widest: f64 = 0.0;
+            for (v, label) in &yt.major {
+                if let Some(y) = panel.px_y(*v) {
+                    let at_bottom = (y - f.bottom).abs() < 1.0;
+                    let at_top = (y - f.top).abs() < 1.0;
+                    if (at_bottom && options.skip_y_end_labels.0) || (at_top && options.skip_y_end_labels.1) {
+                        continue;
+                    }
+                    self.text(label, (f.left - gap, y), tick_pt, fg, (HPos::Right, VPos::Center), Orientation::Horizontal)?;
+                    widest = widest.max(self.text_size(label, tick_pt)?.0);
+                }
+            }
+            let (_, label_h) = self.text_size(&panel.y.label, self.theme.label_font_pt)?;
+            let x = f.left - gap - widest - self.px(3.0) - 0.5 * label_h;
+            let y = 0.5 * (f.top + f.bottom);
+            self.text(&panel.y.label, (x, y), self.theme.label_font_pt, fg, (HPos::Center, VPos::Center), Orientation::Up)?;
+        }
+        Ok(())
+    }
+
+    /// Width and height [px] of a legend box.
+    pub fn legend_size(&self, entries: &[(String, SeriesStyle)]) -> Result<(f64, f64), ChartError> {
+        let (text_w, row_h) = self.legend_metrics(entries)?;
+        let pad = self.px(3.0);
+        Ok((pad + self.px(14.0) + self.px(3.0) + text_w + pad, pad + row_h * entries.len() as f64 + pad))
+    }
+
+    fn legend_metrics(&self, entries: &[(String, SeriesStyle)]) -> Result<(f64, f64), ChartError> {
+        let mut text_w: f64 = 0.0;
+        let mut row_h: f64 = 0.0;
+        for (label, _) in entries {
+            let (w, h) = self.text_size(label, self.theme.legend_font_pt)?;
+            text_w = text_w.max(w);
+            row_h = row_h.max(h);
+        }
+        Ok((text_w, row_h + self.px(1.5)))
+    }
+
+    /// A legend in the corner of `frame` that covers the fewest of `occupied` points.
+    pub fn legend(&self, frame: &Frame, entries: &[(String, SeriesStyle)], occupied: &[(f64, f64)]) -> Result<(), ChartError> {
+        if entries.is_empty() {
+            return Ok(());
+        }
+        let (box_w, box_h) = self.legend_size(entries)?;
+        let inset = self.px(3.0);
+        let corners = [
+            (frame.right - inset - box_w, frame.top + inset),
+            (frame.left + inset, frame.top + inset),
+            (frame.right - inset - box_w, frame.bottom - inset - box_h),
+            (frame.left + inset, frame.bottom - inset - box_h),
+        ];
+        let (x0, y0) = corners
+            .iter()
+            .copied()
+            .min_by_key(|&(x, y)| occupied.iter().filter(|p| p.0 >= x && p.0 <= x + box_w && p.1 >= y && p.1 <= y + box_h).count())
+            .unwrap_or(corners[0]);
+        self.legend_at((x0, y0), entries, self.theme.background.with_alpha(225), self.theme.grid, self.theme.foreground)
+    }
+
+    /// A legend box with its top-left corner at `at`.
+    pub fn legend_at(
+        &self,
+        at: (f64, f64),
+        entries: &[(String, SeriesStyle)],
+        fill: Rgba,
+        border: Rgba,
+        text: Rgba,
+    ) -> Result<(), ChartError> {
+        let (box_w, box_h) = self.legend_size(entries)?;
+        let (_, row_h) = self.legend_metrics(entries)?;
+        let pad = self.px(3.0);
+        let sample = self.px(14.0);
+        let (x0, y0) = at;
+        let b = Frame { left: x0, top: y0, right: x0 + box_w, bottom: y0 + box_h };
+        self.fill_rect(b, fill)?;
+        self.polyline(
+            &[(b.left, b.top), (b.right, b.top), (b.right, b.bottom), (b.left, b.bottom), (b.left, b.top)],
+            border,
+            self.theme.axis_width_pt,
+            LineDash::Solid,
+        )?;
+        for (i, (label, style)) in entries.iter().enumerate() {
+            let y = y0 + pad + row_h * (i as f64 + 0.5);
+            let (xa, xb) = (x0 + pad, x0 + pad + sample);
+            self.polyline(&[(xa, y), (xb, y)], style.colour, self.theme.line_width_pt * style.width_scale, style.dash)?;
+            if style.marker != Marker::None {
+                self.marker((0.5 * (xa + xb), y), style.marker, style.colour)?;
+            }
+            let size = self.theme.legend_font_pt;
+            self.text(label, (xb + self.px(3.0), y), size, text, (HPos::Left, VPos::Center), Orientation::Horizontal)?;
+        }
+        Ok(())
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn log_ticks_label_decades() {
+        let t = log_ticks(0.1, 500.0);
+        let labels: Vec<&str> = t.major.iter().map(|(_, l)| l.as_str()).collect();
+        assert_eq!(labels, ["0.1", "1", "10", "100"]);
+        assert!(t.minor.iter().any(|&v| (v - 200.0).abs() < 1e-9));
+        let t = log_ticks(1e-12, 1e-3);
+        assert_eq!(t.major[0].1, "10\u{207b}\u{00b9}\u{00b2}");
+    }
+
+    #[test]
+    fn linear_ticks_use_nice_steps() {
+        let t = linear_ticks(0.0, 2.0);
+        let labels: Vec<&str> = t.major.iter().map(|(_, l)| l.as_str()).collect();
+        assert_eq!(labels, ["0.0", "0.5", "1.0", "1.5", "2.0"]);
+        let t = linear_ticks(0.0, 0.35);
+        let labels: Vec<&str> = t.major.iter().map(|(_, l)| l.as_str()).collect();
+        assert_eq!(labels, ["0.0", "0.1", "0.2", "0.3"]);
+        // A 2.5 step needs one more decimal than its magnitude.
+        let t = linear_ticks(0.0, 12.0);
+        let labels: Vec<&str> = t.major.iter().map(|(_, l)| l.as_str()).collect();
+        assert_eq!(labels, ["0.0", "2.5", "5.0", "7.5", "10.0"]);
+    }
+
+    #[test]
+    fn clipping_keeps_the_inside() {
+        let f = Frame { left: 0.0, top: 0.0, right: 10.0, bottom: 10.0 };
+        let pieces = clip_polyline(&[(-5.0, 5.0), (5.0, 5.0), (15.0, 5.0)], &f);
+        assert_eq!(pieces, vec![vec![(0.0, 5.0), (5.0, 5.0), (10.0, 5.0)]]);
+        assert!(clip_polyline(&[(-5.0, -5.0), (-1.0, -1.0)], &f).is_empty());
+    }
+
+    #[test]
+    fn dashes_cover_half_of_an_even_pattern() {
+        let pieces = dashes(&[(0.0, 0.0), (100.0, 0.0)], &[5.0, 5.0, 5.0, 5.0]);
+        assert_eq!(pieces.len(), 10);
+        let total: f64 = pieces.iter().map(|p| p.last().unwrap().0 - p[0].0).sum();
+        assert!((total - 50.0).abs() < 1e-9, "{total}");
+    }
+
+    #[test]
+    fn formulas_get_subscripts() {
+        assert_eq!(typeset_formula("CH3OH"), "CH\u{2083}OH");
+        assert_eq!(superscript("-2"), "\u{207b}\u{00b2}");
+    }
+}

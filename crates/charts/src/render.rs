@@ -1,0 +1,317 @@
+//! Paper-ready output: journal figure sizes, the [`Figure`] enum that pairs a
+//! view with its data, and [`render_svg`] / [`render_png`], which draw a figure
+//! into an SVG string or PNG bytes. Also the bundled font that PNG text uses.
+
+use nivalis_physics::{Model, Species};
+use plotters::prelude::{DrawingArea, DrawingBackend, IntoDrawingArea, SVGBackend};
+use plotters::coord::Shift;
+
+use crate::data::{AbundanceData, Chi2Data, ProfileData, TemperatureData};
+use crate::error::ChartError;
+use crate::layout::ChartLayout;
+use crate::map::MapData;
+use crate::theme::Theme;
+use crate::views::{
+    draw_abundance_profiles, draw_c_to_o_map, draw_c_to_o_profile, draw_chi2_map, draw_ice_map, draw_temperature_profile,
+    CellDrawing,
+};
+
+/// Single-column width of the common astronomy journals [pt] (3.5 in).
+pub const SINGLE_COLUMN_WIDTH_PT: f64 = 252.0;
+/// Double-column (full page) width [pt] (7.1 in).
+pub const DOUBLE_COLUMN_WIDTH_PT: f64 = 511.0;
+/// Default height over width.
+pub const DEFAULT_ASPECT: f64 = 0.75;
+/// SVG user units per point: drawing happens on integer pixels, so the SVG is
+/// drawn at 10 units per pt (0.035 mm steps) and declared in pt.
+pub const SVG_UNITS_PER_POINT: f64 = 10.0;
+/// Points per inch.
+pub const POINTS_PER_INCH: f64 = 72.0;
+
+/// A figure's size in points.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct FigureSize {
+    /// Width [pt].
+    pub width_pt: f64,
+    /// Height [pt].
+    pub height_pt: f64,
+}
+
+impl FigureSize {
+    /// A width with the default 0.75 aspect.
+    pub fn with_width_pt(width_pt: f64) -> FigureSize {
+        FigureSize { width_pt, height_pt: width_pt * DEFAULT_ASPECT }
+    }
+    /// 252 pt x 189 pt.
+    pub fn single_column() -> FigureSize {
+        FigureSize::with_width_pt(SINGLE_COLUMN_WIDTH_PT)
+    }
+    /// 511 pt x 383.25 pt.
+    pub fn double_column() -> FigureSize {
+        FigureSize::with_width_pt(DOUBLE_COLUMN_WIDTH_PT)
+    }
+    /// Pixels at `dpi`: inches x dpi, rounded.
+    pub fn pixels_at_dpi(&self, dpi: f64) -> (u32, u32) {
+        (
+            (self.width_pt / POINTS_PER_INCH * dpi).round() as u32,
+            (self.height_pt / POINTS_PER_INCH * dpi).round() as u32,
+        )
+    }
+
+    fn validate(&self) -> Result<(), ChartError> {
+        for (field, v) in [("width_pt", self.width_pt), ("height_pt", self.height_pt)] {
+            if !(v.is_finite() && (72.0..=2880.0).contains(&v)) {
+                return Err(ChartError::InvalidValue { field, value: v, allowed: "between 72 and 2880 (1 to 40 in)" });
+            }
+        }
+        Ok(())
+    }
+}
+
+/// Which view to build from a model.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum View {
+    /// (a) C/O profile.
+    CToOProfile,
+    /// (b) Temperature and surface density.
+    TemperatureProfile,
+    /// (c) Ice-fraction map of a species.
+    IceMap(Species),
+    /// (d) Gas C/O map.
+    CToOMap,
+    /// (e) Abundance profiles.
+    Abundances,
+}
+
+/// A view together with its data: what [`render_svg`] and [`render_png`] draw.
+#[derive(Debug, Clone, PartialEq)]
+pub enum Figure {
+    /// (a)
+    CToOProfile(ProfileData),
+    /// (b)
+    TemperatureProfile(TemperatureData),
+    /// (c)
+    IceMap(MapData),
+    /// (d)
+    CToOMap(MapData),
+    /// (e)
+    Abundances(AbundanceData),
+    /// (f)
+    Chi2(Chi2Data),
+}
+
+impl Figure {
+    /// Build a view's data from a model.
+    pub fn from_model(view: View, model: &Model) -> Figure {
+        match view {
+            View::CToOProfile => Figure::CToOProfile(ProfileData::from_model(model)),
+            View::TemperatureProfile => Figure::TemperatureProfile(TemperatureData::from_model(model)),
+            View::IceMap(species) => Figure::IceMap(MapData::ice_fraction(model, species)),
+            View::CToOMap => Figure::CToOMap(MapData::gas_c_to_o(model)),
+            View::Abundances => Figure::Abundances(AbundanceData::from_model(model)),
+        }
+    }
+}
+
+/// Draw any figure on any area (what the CLI and the page call).
+pub fn draw_figure<DB: DrawingBackend>(
+    area: &DrawingArea<DB, Shift>,
+    figure: &Figure,
+    theme: &Theme,
+    pixels_per_point: f64,
+    cells: CellDrawing,
+) -> Result<ChartLayout, ChartError> {
+    match figure {
+        Figure::CToOProfile(d) => draw_c_to_o_profile(area, d, theme, pixels_per_point),
+        Figure::TemperatureProfile(d) => draw_temperature_profile(area, d, theme, pixels_per_point),
+        Figure::IceMap(d) => draw_ice_map(area, d, theme, pixels_per_point, cells),
+        Figure::CToOMap(d) => draw_c_to_o_map(area, d, theme, pixels_per_point, cells),
+        Figure::Abundances(d) => draw_abundance_profiles(area, d, theme, pixels_per_point),
+        Figure::Chi2(d) => draw_chi2_map(area, d, theme, pixels_per_point),
+    }
+}
+
+/// The figure as a standalone SVG document, `size` in pt (width and height
+/// attributes in pt, drawn at [`SVG_UNITS_PER_POINT`]). Text is `<text>` with
+/// the theme's font-family list; map cells are rectangles of merged equal cells.
+pub fn render_svg(figure: &Figure, theme: &Theme, size: FigureSize) -> Result<String, ChartError> {
+    size.validate()?;
+    let w = (size.width_pt * SVG_UNITS_PER_POINT).round() as u32;
+    let h = (size.height_pt * SVG_UNITS_PER_POINT).round() as u32;
+    let mut out = String::new();
+    {
+        let area = SVGBackend::with_string(&mut out, (w, h)).into_drawing_area();
+        draw_figure(&area, figure, theme, SVG_UNITS_PER_POINT, CellDrawing::Rectangles)?;
+        area.present().map_err(|e| ChartError::Drawing { message: e.to_string() })?;
+    }
+    // Declare the physical size: plotters writes width/height in user units.
+    let header = format!("<svg width=\"{w}\" height=\"{h}\"");
+    let physical = format!("<svg width=\"{}pt\" height=\"{}pt\"", fmt_pt(size.width_pt), fmt_pt(size.height_pt));
+    Ok(out.replacen(&header, &physical, 1))
+}
+
+fn fmt_pt(v: f64) -> String {
+    let s = format!("{v:.2}");
+    s.trim_end_matches('0').trim_end_matches('.').to_string()
+}
+
+/// The figure as PNG bytes: `size` in pt at `dpi` (pixel width = inches x dpi),
+/// the DPI recorded in the pHYs chunk; text drawn with the bundled DejaVu Sans.
+#[cfg(feature = "png")]
+pub fn render_png(figure: &Figure, theme: &Theme, size: FigureSize, dpi: f64) -> Result<Vec<u8>, ChartError> {
+    use plotters::prelude::BitMapBackend;
+    size.validate()?;
+    if !(dpi.is_finite() && (36.0..=1200.0).contains(&dpi)) {
+        return Err(ChartError::InvalidValue { field: "dpi", value: dpi, allowed: "between 36 and 1200" });
+    }
+    let (w, h) = size.pixels_at_dpi(dpi);
+    let mut rgb = vec![0u8; w as usize * h as usize * 3];
+    {
+        let area = GlyphBaseline(BitMapBackend::with_buffer(&mut rgb, (w, h))).into_drawing_area();
+        draw_figure(&area, figure, theme, dpi / POINTS_PER_INCH, CellDrawing::Raster)?;
+        area.present().map_err(|e| ChartError::Drawing { message: e.to_string() })?;
+    }
+    encode_png(&rgb, w, h, dpi)
+}
+
+/// plotters' glyph renderer (ab_glyph) puts the baseline half a font size
+/// below the text origin while its layout box assumes the glyphs start there,
+/// so bitmap text sits about 0.2 font sizes higher than anchored (and higher
+/// than the same text in SVG). This wrapper shifts every text by that amount
+/// along the text's own vertical (so rotated labels move sideways); every
+/// other call goes straight through.
+#[cfg(feature = "png")]
+struct GlyphBaseline<B>(B);
+
+/// The shift [font sizes]: DejaVu Sans has ascent 0.80 and descent 0.20 of the
+/// scaled height, so the glyphs span -0.30..0.70 of the size around the origin
+/// while the layout box spans 0..0.81; moving by 0.2 centres one on the other.
+#[cfg(feature = "png")]
+const GLYPH_SHIFT: f64 = 0.2;
+
+#[cfg(feature = "png")]
+mod glyph_baseline {
+    use super::{GlyphBaseline, GLYPH_SHIFT};
+    use plotters_backend::{BackendColor, BackendCoord, BackendStyle, BackendTextStyle, DrawingBackend, DrawingErrorKind};
+
+    impl<B: DrawingBackend> DrawingBackend for GlyphBaseline<B> {
+        type ErrorType = B::ErrorType;
+        fn get_size(&self) -> (u32, u32) {
+            self.0.get_size()
+        }
+        fn ensure_prepared(&mut self) -> Result<(), DrawingErrorKind<Self::ErrorType>> {
+            self.0.ensure_prepared()
+        }
+        fn present(&mut self) -> Result<(), DrawingErrorKind<Self::ErrorType>> {
+            self.0.present()
+        }
+        fn draw_pixel(&mut self, point: BackendCoord, color: BackendColor) -> Result<(), DrawingErrorKind<Self::ErrorType>> {
+            self.0.draw_pixel(point, color)
+        }
+        fn draw_line<S: BackendStyle>(&mut self, from: BackendCoord, to: BackendCoord, style: &S) -> Result<(), DrawingErrorKind<Self::ErrorType>> {
+            self.0.draw_line(from, to, style)
+        }
+        fn draw_rect<S: BackendStyle>(
+            &mut self,
+            upper_left: BackendCoord,
+            bottom_right: BackendCoord,
+            style: &S,
+            fill: bool,
+        ) -> Result<(), DrawingErrorKind<Self::ErrorType>> {
+            self.0.draw_rect(upper_left, bottom_right, style, fill)
+        }
+        fn draw_path<S: BackendStyle, I: IntoIterator<Item = BackendCoord>>(&mut self, path: I, style: &S) -> Result<(), DrawingErrorKind<Self::ErrorType>> {
+            self.0.draw_path(path, style)
+        }
+        fn draw_circle<S: BackendStyle>(
+            &mut self,
+            center: BackendCoord,
+            radius: u32,
+            style: &S,
+            fill: bool,
+        ) -> Result<(), DrawingErrorKind<Self::ErrorType>> {
+            self.0.draw_circle(center, radius, style, fill)
+        }
+        fn fill_polygon<S: BackendStyle, I: IntoIterator<Item = BackendCoord>>(&mut self, vert: I, style: &S) -> Result<(), DrawingErrorKind<Self::ErrorType>> {
+            self.0.fill_polygon(vert, style)
+        }
+        fn draw_text<S: BackendTextStyle>(&mut self, text: &str, style: &S, pos: BackendCoord) -> Result<(), DrawingErrorKind<Self::ErrorType>> {
+            let (dx, dy) = style.transform().transform(0, (GLYPH_SHIFT * style.size()).round() as i32);
+            self.0.draw_text(text, style, (pos.0 + dx, pos.1 + dy))
+        }
+        fn estimate_text_size<S: BackendTextStyle>(&self, text: &str, style: &S) -> Result<(u32, u32), DrawingErrorKind<Self::ErrorType>> {
+            self.0.estimate_text_size(text, style)
+        }
+        fn blit_bitmap(&mut self, pos: BackendCoord, size: (u32, u32), src: &[u8]) -> Result<(), DrawingErrorKind<Self::ErrorType>> {
+            self.0.blit_bitmap(pos, size, src)
+        }
+    }
+}
+
+#[cfg(feature = "png")]
+fn encode_png(rgb: &[u8], w: u32, h: u32, dpi: f64) -> Result<Vec<u8>, ChartError> {
+    let mut bytes = Vec::new();
+    {
+        let mut encoder = png::Encoder::new(&mut bytes, w, h);
+        encoder.set_color(png::ColorType::Rgb);
+        encoder.set_depth(png::BitDepth::Eight);
+        let per_metre = (dpi / 0.0254).round() as u32;
+        encoder.set_pixel_dims(Some(png::PixelDimensions { xppu: per_metre, yppu: per_metre, unit: png::Unit::Meter }));
+        let mut writer = encoder.write_header().map_err(|e| ChartError::Png { message: e.to_string() })?;
+        writer.write_image_data(rgb).map_err(|e| ChartError::Png { message: e.to_string() })?;
+    }
+    Ok(bytes)
+}
+
+/// DejaVu Sans 2.37 (fonts/LICENSE), compiled in so PNG text needs no font files at run time.
+#[cfg(all(feature = "png", not(target_arch = "wasm32")))]
+pub const BUNDLED_FONT: &[u8] = include_bytes!("../fonts/DejaVuSans.ttf");
+
+/// Register the bundled font under the theme's family list (and "sans-serif"),
+/// once per name: plotters' glyph renderer looks fonts up by that exact string.
+/// On the browser target the canvas uses the page's fonts and this does nothing.
+pub(crate) fn ensure_font(theme: &Theme) {
+    #[cfg(all(feature = "png", not(target_arch = "wasm32")))]
+    {
+        use std::collections::HashSet;
+        use std::sync::{Mutex, OnceLock};
+        static REGISTERED: OnceLock<Mutex<HashSet<String>>> = OnceLock::new();
+        let set = REGISTERED.get_or_init(|| Mutex::new(HashSet::new()));
+        // A poisoned lock only means another thread panicked mid-insert; the set is still usable.
+        let mut set = set.lock().unwrap_or_else(|e| e.into_inner());
+        for name in [theme.font_family.as_str(), "sans-serif"] {
+            if !set.contains(name) {
+                // The bundled bytes are a valid font (a unit test parses them), so this cannot fail.
+                let _ = plotters::style::register_font(name, plotters::style::FontStyle::Normal, BUNDLED_FONT);
+                set.insert(name.to_string());
+            }
+        }
+    }
+    #[cfg(not(all(feature = "png", not(target_arch = "wasm32"))))]
+    let _ = theme;
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn journal_sizes() {
+        // 3.5 in = 252 pt and 7.1 in = 511.2 pt (1 in = 72 pt, PostScript point).
+        assert_eq!(FigureSize::single_column().pixels_at_dpi(300.0), (1050, 788));
+        assert!((DOUBLE_COLUMN_WIDTH_PT / POINTS_PER_INCH - 7.1).abs() < 0.01);
+    }
+
+    #[cfg(all(feature = "png", not(target_arch = "wasm32")))]
+    #[test]
+    fn bundled_font_has_every_glyph_the_charts_use() {
+        // A character without a glyph maps to glyph 0 (.notdef) and would print as a box.
+        use ab_glyph::{Font, FontRef};
+        let font = FontRef::try_from_slice(BUNDLED_FONT).expect("bundled font parses");
+        let used = "\u{03a3} [g cm\u{207b}\u{00b2}] CH\u{2083}OH H\u{2082}O CO\u{2082} NH\u{2083} CH\u{2084} H\u{2082}S \
+                    10\u{2070}\u{00b9}\u{00b2}\u{00b3}\u{2074}\u{2075}\u{2076}\u{2077}\u{2078}\u{2079} \u{0394}\u{03c7}\u{00b2} \u{2212} \u{2191} z/r T [K] C/O";
+        for c in used.chars().filter(|c| !c.is_whitespace()) {
+            assert_ne!(font.glyph_id(c).0, 0, "no glyph for {c:?}");
+        }
+    }
+}
