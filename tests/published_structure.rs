@@ -179,7 +179,7 @@ fn mmsn_scale_height_at_1_au() {
     assert_rel(omega, 1.991e-7, 2e-3, "Omega_K at 1 au (CHECK_VALUES 3, D)");
     // H = c_s / Omega with c_s = sqrt(k T / (mu m_H)) (MODEL.md section 5; CHECK_VALUES 3, C):
     // written out here with the literal constants of CODATA 2018/2022 and AME2020 (V via scipy).
-    let m_h: f64 = 1.007_825_032_23 * 1.660_539_068_92e-24;
+    let m_h: f64 = 1.007_825_031_898 * 1.660_539_068_92e-24;
     let c_s = (1.380_649e-16 * 280.0 / (2.37 * m_h)).sqrt();
     assert_rel(h, c_s / omega, 1e-12, "H = c_s / Omega");
 }
@@ -313,10 +313,10 @@ fn cosmic_ray_attenuation_umebayashi_nakano() {
 #[test]
 fn visual_extinction_per_hydrogen_column() {
     // Bohlin, Savage & Drake 1978 (MODEL.md section 6; R_V = 3.1): A_V = N_H / 1.87e21 cm^-2, with
-    // N_H = Sigma_above / (1.4 m_H) (MODEL.md section 5: 1.4 m_H per H nucleus). m_H = 1.00782503223 u
+    // N_H = Sigma_above / (1.4 m_H) (MODEL.md section 5: 1.4 m_H per H nucleus). m_H = 1.007825031898 u
     // (AME2020) with u from CODATA 2022 (cross-checked against scipy by tests/python/check_constants.py).
     // Tolerance 1e-12 (the same arithmetic); n_H = rho / (1.4 m_H) likewise.
-    let m_h: f64 = 1.007_825_032_23 * 1.660_539_068_92e-24;
+    let m_h: f64 = 1.007_825_031_898 * 1.660_539_068_92e-24;
     let mut p = ModelParameters::defaults();
     p.grid.radial_cells = 20;
     p.grid.vertical_cells = 30;

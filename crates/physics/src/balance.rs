@@ -127,29 +127,59 @@ impl BalanceConstants {
     /// n = A N/(A + B + C/M) if <= M, else n = N - (B M + C)/A.
     /// First order: A (N - n) = (B + C/M) n. Step model: f = 1 where T < T_cond.
     /// Equilibration time: 1/(A + B + C/M) on the thin-ice branch, 1/A on the thick one.
-    #[inline]
     pub fn solve(&self, i: usize, molecules_cm3: f64, temperature_k: f64, density_g_cm3: f64, fuv_photons_cm2_s: f64, ionization_rate_s: f64) -> IceState {
+        self.solve_at(&self.sample(temperature_k, density_g_cm3, fuv_photons_cm2_s, ionization_rate_s), i, molecules_cm3)
+    }
+
+    /// The species-independent quantities of one place, computed once for all species.
+    #[inline]
+    pub fn sample(&self, temperature_k: f64, density_g_cm3: f64, fuv_photons_cm2_s: f64, ionization_rate_s: f64) -> SampleState {
+        let grain_area = self.grains_per_gram * density_g_cm3 * self.cross_section_cm2;
+        SampleState {
+            temperature_k,
+            inverse_temperature: 1.0 / temperature_k,
+            sqrt_temperature: sqrt(temperature_k),
+            grain_area_cm2_per_cm3: grain_area,
+            monolayer_cm3: 4.0 * BINDING_SITES_PER_CM2 * grain_area,
+            fuv_photons_cm2_s: if self.photodesorption { fuv_photons_cm2_s } else { 0.0 },
+            ionization_rate_s,
+        }
+    }
+
+    /// [`BalanceConstants::solve`] with the per-place quantities precomputed.
+    #[inline]
+    pub fn solve_at(&self, p: &SampleState, i: usize, molecules_cm3: f64) -> IceState {
         if self.model == DesorptionModel::FixedTemperature {
-            let f = if temperature_k < self.condensation[i] { 1.0 } else { 0.0 };
+            let f = if p.temperature_k < self.condensation[i] { 1.0 } else { 0.0 };
             return IceState { ice_fraction: f, equilibration_time_s: f64::NAN };
         }
-        let grain_area_cm2_per_cm3 = self.grains_per_gram * density_g_cm3 * self.cross_section_cm2;
-        if !(molecules_cm3 > 0.0) || !(grain_area_cm2_per_cm3 > 0.0) {
+        if !(molecules_cm3 > 0.0) || !(p.grain_area_cm2_per_cm3 > 0.0) {
             return IceState { ice_fraction: 0.0, equilibration_time_s: f64::NAN };
         }
-        let adsorption = self.sticking * grain_area_cm2_per_cm3 * self.thermal_speed_coefficient[i] * sqrt(temperature_k);
-        let desorption = self.nu[i] * exp(-self.binding[i] / temperature_k) + self.cr_per_zeta[i] * ionization_rate_s;
-        let monolayer = 4.0 * BINDING_SITES_PER_CM2 * grain_area_cm2_per_cm3;
-        let photo = if self.photodesorption { fuv_photons_cm2_s * self.yields[i] * grain_area_cm2_per_cm3 } else { 0.0 };
-        let thin_rate = adsorption + desorption + photo / monolayer;
+        let adsorption = self.sticking * p.grain_area_cm2_per_cm3 * self.thermal_speed_coefficient[i] * p.sqrt_temperature;
+        let desorption = self.nu[i] * exp(-self.binding[i] * p.inverse_temperature) + self.cr_per_zeta[i] * p.ionization_rate_s;
+        let photo = p.fuv_photons_cm2_s * self.yields[i] * p.grain_area_cm2_per_cm3;
+        let thin_rate = adsorption + desorption + photo / p.monolayer_cm3;
         let thin_fraction = adsorption / thin_rate;
-        if self.model == DesorptionModel::FirstOrder || thin_fraction * molecules_cm3 <= monolayer {
+        if self.model == DesorptionModel::FirstOrder || thin_fraction * molecules_cm3 <= p.monolayer_cm3 {
             IceState { ice_fraction: thin_fraction, equilibration_time_s: 1.0 / thin_rate }
         } else {
-            let f = 1.0 - (desorption * monolayer + photo) / (adsorption * molecules_cm3);
+            let f = 1.0 - (desorption * p.monolayer_cm3 + photo) / (adsorption * molecules_cm3);
             IceState { ice_fraction: f.clamp(0.0, 1.0), equilibration_time_s: 1.0 / adsorption }
         }
     }
+}
+
+/// Species-independent quantities of one place (see [`BalanceConstants::sample`]).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct SampleState {
+    temperature_k: f64,
+    inverse_temperature: f64,
+    sqrt_temperature: f64,
+    grain_area_cm2_per_cm3: f64,
+    monolayer_cm3: f64,
+    fuv_photons_cm2_s: f64,
+    ionization_rate_s: f64,
 }
 
 #[cfg(test)]

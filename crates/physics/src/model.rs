@@ -92,21 +92,13 @@ impl Model {
         let mut ice_fraction = vec![0.0; SPECIES_COUNT * n];
         let mut equilibration_time_s = vec![f64::NAN; SPECIES_COUNT * n];
         let s = &structure.samples;
-        for i in 0..SPECIES_COUNT {
-            let x = carriers.species_per_h[i];
-            let f_out = &mut ice_fraction[i * n..(i + 1) * n];
-            let t_out = &mut equilibration_time_s[i * n..(i + 1) * n];
-            for k in 0..n {
-                let state = balance.solve(
-                    i,
-                    x * s.hydrogen_density_cm3[k],
-                    s.temperature_k[k],
-                    s.density_g_cm3[k],
-                    s.fuv_photon_flux_cm2_s[k],
-                    s.ionization_rate_s[k],
-                );
-                f_out[k] = state.ice_fraction;
-                t_out[k] = state.equilibration_time_s;
+        for k in 0..n {
+            let sample = balance.sample(s.temperature_k[k], s.density_g_cm3[k], s.fuv_photon_flux_cm2_s[k], s.ionization_rate_s[k]);
+            let n_h = s.hydrogen_density_cm3[k];
+            for i in 0..SPECIES_COUNT {
+                let state = balance.solve_at(&sample, i, carriers.species_per_h[i] * n_h);
+                ice_fraction[i * n + k] = state.ice_fraction;
+                equilibration_time_s[i * n + k] = state.equilibration_time_s;
             }
         }
         Ok(Model { parameters: parameters.clone(), table, species, carriers, structure, balance, ice_fraction, equilibration_time_s })

@@ -421,19 +421,54 @@ pub struct Column {
 /// T = T_atm + (T_mid - T_atm) cos^(2 delta)(pi z / (2 z_q)) for z < z_q, else T_atm,
 /// T_atm = s (L*/(16 pi sigma r^2))^(1/4) (Chiang & Goldreich 1997 surface layer), never below T_mid.
 pub fn column_temperature_k(c: &DiskConstants, radius_cm: f64, t_mid: f64, h_mid: f64, z_cm: f64) -> f64 {
-    match c.vertical {
-        VerticalTemperature::Isothermal => t_mid,
-        VerticalTemperature::TwoLayer { superheating, transition_scale_heights, delta } => {
-            let t_atm = (superheating
-                * root4(c.luminosity_erg_s / (16.0 * PI * STEFAN_BOLTZMANN_CGS * radius_cm * radius_cm)))
-            .max(t_mid);
-            let z_q = transition_scale_heights * h_mid;
-            if z_cm >= z_q {
-                t_atm
-            } else {
-                t_atm + (t_mid - t_atm) * pow(cos(PI * z_cm / (2.0 * z_q)), 2.0 * delta)
+    VerticalProfile::new(c, radius_cm, t_mid, h_mid).temperature_k(z_cm)
+}
+
+/// The vertical temperature law of one column with its per-column constants
+/// precomputed (the hot loop of the structure calls it at every fine point).
+#[derive(Debug, Clone, Copy)]
+struct VerticalProfile {
+    t_mid: f64,
+    /// T_atm, or NaN for an isothermal column.
+    t_atm: f64,
+    z_q: f64,
+    /// 2 delta, and whether it is a small whole number (then powi is exact and fast).
+    exponent: f64,
+    integer_exponent: Option<i32>,
+}
+
+impl VerticalProfile {
+    fn new(c: &DiskConstants, radius_cm: f64, t_mid: f64, h_mid: f64) -> VerticalProfile {
+        match c.vertical {
+            VerticalTemperature::Isothermal => {
+                VerticalProfile { t_mid, t_atm: f64::NAN, z_q: 0.0, exponent: 0.0, integer_exponent: None }
+            }
+            VerticalTemperature::TwoLayer { superheating, transition_scale_heights, delta } => {
+                let t_atm = (superheating
+                    * root4(c.luminosity_erg_s / (16.0 * PI * STEFAN_BOLTZMANN_CGS * radius_cm * radius_cm)))
+                .max(t_mid);
+                let exponent = 2.0 * delta;
+                let integer_exponent =
+                    (exponent.fract() == 0.0 && exponent.abs() <= 64.0).then_some(exponent as i32);
+                VerticalProfile { t_mid, t_atm, z_q: transition_scale_heights * h_mid, exponent, integer_exponent }
             }
         }
+    }
+
+    #[inline]
+    fn temperature_k(&self, z_cm: f64) -> f64 {
+        if self.t_atm.is_nan() {
+            return self.t_mid;
+        }
+        if z_cm >= self.z_q {
+            return self.t_atm;
+        }
+        let c = cos(PI * z_cm / (2.0 * self.z_q));
+        let shape = match self.integer_exponent {
+            Some(n) => c.powi(n),
+            None => pow(c, self.exponent),
+        };
+        self.t_atm + (self.t_mid - self.t_atm) * shape
     }
 }
 
@@ -461,9 +496,10 @@ pub fn column(c: &DiskConstants, radius_cm: f64, sigma_g_cm2: f64, t_mid: f64, f
     let mut rho = Vec::with_capacity(n_fine + 1);
     let mut integral = 0.0;
     let mut previous_integrand = 0.0;
+    let profile = VerticalProfile::new(c, radius_cm, t_mid, h_mid);
     for i in 0..=n_fine {
         let z = i as f64 * dz;
-        let t = column_temperature_k(c, radius_cm, t_mid, h_mid, z);
+        let t = profile.temperature_k(z);
         let s = r2 + z * z;
         let integrand = mu_mh_over_k / t * gm * z / (s * sqrt(s));
         if i > 0 {

@@ -15,8 +15,8 @@ pub const SPEED_OF_LIGHT_CM_PER_S: f64 = 2.997_924_58e10;
 pub const STEFAN_BOLTZMANN_CGS: f64 = 5.670_374_419e-5;
 /// Atomic mass constant u [g]. CODATA 2022 (1.66053906892e-27 kg).
 pub const ATOMIC_MASS_UNIT_G: f64 = 1.660_539_068_92e-24;
-/// Mass of the hydrogen atom m_H [g]: 1.00782503223 u (AME2020 atomic mass of 1H) times u.
-pub const HYDROGEN_MASS_G: f64 = 1.007_825_032_23 * ATOMIC_MASS_UNIT_G;
+/// Mass of the hydrogen atom m_H [g]: 1.007825031898 u (AME2020 atomic mass of 1H; CODATA 2022 m_p + m_e - binding gives the same to 1e-10) times u.
+pub const HYDROGEN_MASS_G: f64 = 1.007_825_031_898 * ATOMIC_MASS_UNIT_G;
 /// Astronomical unit [cm]. Exact, IAU 2012 Resolution B2.
 pub const AU_CM: f64 = 1.495_978_707e13;
 /// Nominal solar mass parameter GM_sun [cm^3 s^-2]. Exact, IAU 2015 Resolution B3.
