@@ -89,6 +89,19 @@ enum Command {
         #[arg(long, value_name = "FILE")]
         out: Option<PathBuf>,
     },
+    /// A plain-text methods paragraph for exactly this configuration (methods, parameter values,
+    /// binding-energy set, abundance reference, grid, simplifications) with citations, and
+    /// optionally a BibTeX file of exactly the references cited.
+    Methods {
+        /// The disk file.
+        disk: PathBuf,
+        /// Also write the BibTeX file of the cited references here.
+        #[arg(long, value_name = "FILE")]
+        bibtex: Option<PathBuf>,
+        /// Write the paragraph to this file instead of standard output.
+        #[arg(long, value_name = "FILE")]
+        out: Option<PathBuf>,
+    },
 }
 
 /// A failure with its exit code; each line of the message is printed on stderr.
@@ -175,6 +188,15 @@ fn execute(args: Args) -> Result<(), Failure> {
             let file = read_disk(&disk)?;
             let model = run_model(&file)?;
             write_output(&out, &json_text(&snowlines_json(&model, &Provenance::of(&file))))
+        }
+        Command::Methods { disk, bibtex, out } => {
+            let file = read_disk(&disk)?;
+            run_model(&file)?;
+            let used = methods(&file.parameters);
+            if let Some(path) = &bibtex {
+                write_output(&Some(path.clone()), &nivalis_exports::bibtex::bibtex(&used))?;
+            }
+            write_output(&out, &nivalis_exports::bibtex::methods_paragraph(&file.parameters, &used, &Provenance::of(&file)))
         }
     }
 }

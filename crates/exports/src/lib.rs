@@ -6,6 +6,7 @@
 //! snowline listings ([`snowlines`]); the methods used with their references
 //! ([`methods`]); and the provenance every file carries ([`provenance`]).
 
+pub mod bibtex;
 pub mod formats;
 pub mod methods;
 pub mod provenance;

@@ -66,7 +66,7 @@ pub fn methods(p: &ModelParameters) -> Vec<MethodEntry> {
                 vec!["shakura1973", "pringle1981"],
             ),
             Opacity::BellLin1994 => (
-                format!("viscous heating for Mdot = {:e} Msun/yr, grey midplane with Bell & Lin (1994) opacities", d.accretion_rate_msun_per_yr),
+                format!("viscous heating for Mdot = {:e} Msun/yr, grey midplane with the Bell & Lin 1994 opacities", d.accretion_rate_msun_per_yr),
                 vec!["shakura1973", "pringle1981", "bell1994"],
             ),
         };
