@@ -25,11 +25,31 @@ fn main() -> Result<(), Box<dyn std::error::Error>> {
         for (theme_name, theme) in [("light", Theme::light()), ("dark", Theme::dark())] {
             let svg = render_svg(&figure, &theme, FigureSize::single_column())?;
             std::fs::write(dir.join(format!("{name}_{theme_name}.svg")), svg)?;
-            let t = std::time::Instant::now();
-            let png = render_png(&figure, &theme, FigureSize::single_column(), 300.0)?;
-            eprintln!("{name} {theme_name}: png {:?}", t.elapsed());
-            std::fs::write(dir.join(format!("{name}_{theme_name}.png")), png)?;
+            #[cfg(feature = "png")]
+            {
+                let t = std::time::Instant::now();
+                let png = render_png(&figure, &theme, FigureSize::single_column(), 300.0)?;
+                eprintln!("{name} {theme_name}: png {:?}", t.elapsed());
+                std::fs::write(dir.join(format!("{name}_{theme_name}.png")), png)?;
+            }
         }
+    }
+    // An invented chi-square surface (demo data): a tilted paraboloid in log r and log ratio.
+    let radii: Vec<f64> = (0..40).map(|i| 10f64.powf(-1.0 + 3.5 * i as f64 / 39.0)).collect();
+    let ratios: Vec<f64> = (0..30).map(|k| 10f64.powf(-3.0 + 3.0 * k as f64 / 29.0)).collect();
+    let mut chi2 = Vec::new();
+    for s in &ratios {
+        for r in &radii {
+            let (a, b) = (r.log10() - 1.2, s.log10() + 1.3);
+            chi2.push(4.0 + 6.0 * a * a + 4.0 * a * b + 5.0 * b * b);
+        }
+    }
+    let thresholds = [("1\u{03c3}".to_string(), 2.30), ("2\u{03c3}".to_string(), 6.18)];
+    let figure = Figure::Chi2(Chi2Data::new(&radii, &ratios, &chi2, &thresholds, Some((10f64.powf(1.2), 10f64.powf(-1.3)))));
+    for (theme_name, theme) in [("light", Theme::light()), ("dark", Theme::dark())] {
+        std::fs::write(dir.join(format!("chi2_{theme_name}.svg")), render_svg(&figure, &theme, FigureSize::single_column())?)?;
+        #[cfg(feature = "png")]
+        std::fs::write(dir.join(format!("chi2_{theme_name}.png")), render_png(&figure, &theme, FigureSize::single_column(), 300.0)?)?;
     }
     Ok(())
 }

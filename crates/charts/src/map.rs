@@ -260,6 +260,28 @@ impl MapData {
         out
     }
 
+    /// The value of the cell containing (r, z/r), the cell the raster shows there;
+    /// `None` outside the grid or where the value is undefined (for hover readouts).
+    pub fn value_at(&self, radius_au: f64, z_over_r: f64) -> Option<f64> {
+        if !(radius_au > 0.0 && radius_au.is_finite() && z_over_r.is_finite()) || self.validate().is_err() {
+            return None;
+        }
+        let edges = self.column_edges_log();
+        let lx = radius_au.log10();
+        if lx < edges[0] || lx > edges[edges.len() - 1] {
+            return None;
+        }
+        let j = edges[1..edges.len() - 1].partition_point(|&e| e <= lx).min(self.radius_au.len() - 1);
+        let mut tops = Vec::with_capacity(self.rows);
+        let bottom = self.row_edges(j, &mut tops);
+        if z_over_r < bottom {
+            return None;
+        }
+        let k = tops.partition_point(|&t| t < z_over_r);
+        let v = *self.values.get(j * self.rows + k).filter(|_| k < self.rows)?;
+        (!v.is_nan()).then_some(v)
+    }
+
     /// The `contour_level` contour as (r [au], z/r) polylines.
     pub fn contour(&self, level: f64) -> Vec<Vec<(f64, f64)>> {
         let rows = self.rows;
@@ -361,6 +383,17 @@ mod tests {
         assert_eq!(pixel(&img, 2, 1)[3], 0, "above the grid is transparent");
         assert_eq!(pixel(&img, 17, 29), [yellow.r, yellow.g, yellow.b, 255]);
         assert_eq!(pixel(&img, 17, 8), [purple.r, purple.g, purple.b, 255]);
+    }
+
+    #[test]
+    fn value_lookup_agrees_with_the_raster_cells() {
+        let map = small_map();
+        assert_eq!(map.value_at(1.0, 0.01), Some(0.0));
+        assert_eq!(map.value_at(1.0, 0.12), Some(1.0));
+        assert_eq!(map.value_at(1.0, 0.2), None, "undefined value");
+        assert_eq!(map.value_at(10.0, 0.2), Some(0.0));
+        assert_eq!(map.value_at(10.0, 0.26), None, "above the grid");
+        assert_eq!(map.value_at(100.0, 0.0), None, "outside the radii");
     }
 
     #[test]

@@ -79,6 +79,7 @@ fn no_nan_reaches_the_output() {
     }
 }
 
+#[cfg(feature = "png")]
 /// Width, height and the pHYs pixels-per-metre of a PNG, read from its header.
 fn png_header(bytes: &[u8]) -> (u32, u32, Option<u32>) {
     assert_eq!(&bytes[..8], b"\x89PNG\r\n\x1a\n", "png signature");
@@ -98,6 +99,7 @@ fn png_header(bytes: &[u8]) -> (u32, u32, Option<u32>) {
     (w, h, ppm)
 }
 
+#[cfg(feature = "png")]
 #[test]
 fn png_size_matches_width_and_dpi() {
     let model = default_model();
@@ -117,6 +119,7 @@ fn png_size_matches_width_and_dpi() {
     }
 }
 
+#[cfg(feature = "png")]
 /// Decode an RGB PNG into pixels with the `png` crate.
 fn decode(bytes: &[u8]) -> (u32, u32, Vec<u8>) {
     let decoder = png::Decoder::new(bytes);
@@ -128,6 +131,7 @@ fn decode(bytes: &[u8]) -> (u32, u32, Vec<u8>) {
     (info.width, info.height, buf)
 }
 
+#[cfg(feature = "png")]
 #[test]
 fn every_view_draws_a_non_blank_png() {
     let model = default_model();
@@ -209,8 +213,11 @@ fn bad_input_is_an_error_not_a_panic() {
     let err = render_svg(&Figure::CToOProfile(data), &Theme::light(), FigureSize::single_column()).unwrap_err();
     assert_eq!(err.to_string(), "c_to_o_gas must have 200 entries, got 199");
     let figure = Figure::from_model(View::CToOProfile, &model);
-    let err = render_png(&figure, &Theme::light(), FigureSize::single_column(), 0.0).unwrap_err();
-    assert_eq!(err.to_string(), "dpi must be between 36 and 1200, got 0");
+    #[cfg(feature = "png")]
+    {
+        let err = render_png(&figure, &Theme::light(), FigureSize::single_column(), 0.0).unwrap_err();
+        assert_eq!(err.to_string(), "dpi must be between 36 and 1200, got 0");
+    }
     let err = render_svg(&figure, &Theme::light(), FigureSize::with_width_pt(f64::NAN)).unwrap_err();
     assert!(err.to_string().starts_with("width_pt must be between 72 and 2880"));
 }
