@@ -72,6 +72,37 @@ pub enum PhysicsError {
         /// What was solved for.
         what: String,
     },
+    /// The upper end of a range is not above its lower end (planet migration range).
+    NotIncreasing {
+        /// Parameter name of the upper end.
+        name: &'static str,
+        /// Given upper end.
+        value: f64,
+        /// Parameter name of the lower end.
+        lower_name: &'static str,
+        /// Given lower end.
+        lower: f64,
+    },
+    /// A positive solid-to-gas ratio where the disk holds no solids (everything sublimated).
+    NoSolidsToAccrete {
+        /// Parameter name.
+        name: &'static str,
+        /// Given ratio.
+        value: f64,
+        /// Inner end of the place [au].
+        inner_au: f64,
+        /// Outer end of the place [au] (equal to the inner end for one radius).
+        outer_au: f64,
+    },
+    /// A choice that does not apply to this disk (e.g. anchoring an absent species).
+    InvalidChoice {
+        /// Parameter name.
+        name: &'static str,
+        /// What is allowed, in words.
+        allowed: &'static str,
+        /// What was given.
+        got: String,
+    },
 }
 
 impl fmt::Display for PhysicsError {
@@ -109,6 +140,17 @@ impl fmt::Display for PhysicsError {
             }
             PhysicsError::OutOfRange { name, value, allowed } => write!(f, "{name}: must be {allowed}, got {value}"),
             PhysicsError::NoSolutionInRange { what } => write!(f, "{what}"),
+            PhysicsError::NotIncreasing { name, value, lower_name, lower } => {
+                write!(f, "{name}: must be greater than {lower_name} = {lower}, got {value}")
+            }
+            PhysicsError::NoSolidsToAccrete { name, value, inner_au, outer_au } => {
+                if inner_au == outer_au {
+                    write!(f, "{name}: must be 0 at {inner_au} au, where the disk holds no solids, got {value}")
+                } else {
+                    write!(f, "{name}: must be 0 over {inner_au}-{outer_au} au, where the disk holds no solids, got {value}")
+                }
+            }
+            PhysicsError::InvalidChoice { name, allowed, got } => write!(f, "{name}: must be {allowed}, got {got}"),
         }
     }
 }

@@ -16,6 +16,7 @@
 //! assert!(!water.is_empty());
 //! ```
 
+pub mod anchor;
 pub mod balance;
 pub mod budget;
 pub mod error;
@@ -23,6 +24,7 @@ pub mod math;
 pub mod model;
 pub mod opacity;
 pub mod params;
+pub mod planet;
 pub mod references;
 pub mod snowlines;
 pub mod species;
