@@ -414,8 +414,10 @@ fn log_ticks(min: f64, max: f64) -> Ticks {
         .map(|&k| (10f64.powi(k), format_power_of_ten(k)))
         .collect();
     let mut minor = Vec::new();
+    // On long axes the 2..9 minors would merge into a solid bar: keep only the unlabelled decades.
+    let multiples: &[u32] = if decades.len() > 6 { &[1] } else { &[1, 2, 3, 4, 5, 6, 7, 8, 9] };
     for k in lo..=hi {
-        for m in 1..10 {
+        for &m in multiples {
             let v = m as f64 * 10f64.powi(k);
             if within(v, min, max) && !major.iter().any(|(x, _)| (x / v - 1.0).abs() < 1e-9) {
                 minor.push(v);

@@ -485,7 +485,14 @@ fn draw_map<DB: DrawingBackend>(
                     continue;
                 }
                 if let (Some((xa, ya)), Some((xb, yb))) = (main.px(r0, z0), main.px(r1, z1)) {
-                    let cell = Frame { left: xa.max(f.left), top: yb.max(f.top), right: xb.min(f.right), bottom: ya.min(f.bottom) };
+                    // Overlap the right and upper neighbours by a pixel: anti-aliased renderers
+                    // would otherwise show hairline seams of background between abutting cells.
+                    let cell = Frame {
+                        left: xa.max(f.left),
+                        top: (yb - 1.0).max(f.top),
+                        right: (xb + 1.0).min(f.right),
+                        bottom: ya.min(f.bottom),
+                    };
                     p.fill_rect(cell, Rgba { r: c[0], g: c[1], b: c[2], a: c[3] })?;
                 }
             }
@@ -629,7 +636,8 @@ pub fn draw_chi2_map<DB: DrawingBackend>(
             let v = data.chi2[k * nr + i];
             let c = if v.is_finite() { map.at((v - min) / top) } else { theme.undefined };
             if let (Some((xa, ya)), Some((xb, yb))) = (main.px(re[i], se[k]), main.px(re[i + 1], se[k + 1])) {
-                p.fill_rect(Frame { left: xa, top: yb, right: xb, bottom: ya }, c)?;
+                let f = main.frame;
+                p.fill_rect(Frame { left: xa, top: (yb - 1.0).max(f.top), right: (xb + 1.0).min(f.right), bottom: ya }, c)?;
             }
         }
     }
