@@ -167,34 +167,115 @@ pub fn render_png(figure: &Figure, theme: &Theme, size: FigureSize, dpi: f64) ->
     let (w, h) = size.pixels_at_dpi(dpi);
     let mut rgb = vec![0u8; w as usize * h as usize * 3];
     {
-        let area = GlyphBaseline(BitMapBackend::with_buffer(&mut rgb, (w, h))).into_drawing_area();
+        let area = BundledText(BitMapBackend::with_buffer(&mut rgb, (w, h))).into_drawing_area();
         draw_figure(&area, figure, theme, dpi / POINTS_PER_INCH, CellDrawing::Raster)?;
         area.present().map_err(|e| ChartError::Drawing { message: e.to_string() })?;
     }
     encode_png(&rgb, w, h, dpi)
 }
 
-/// plotters' glyph renderer (ab_glyph) puts the baseline half a font size
-/// below the text origin while its layout box assumes the glyphs start there,
-/// so bitmap text sits about 0.2 font sizes higher than anchored (and higher
-/// than the same text in SVG). This wrapper shifts every text by that amount
-/// along the text's own vertical (so rotated labels move sideways); every
-/// other call goes straight through.
+/// The bitmap back end with text drawn by this crate from the bundled font.
+///
+/// plotters' own glyph renderer places each glyph at its advance origin without
+/// its side bearing (uneven letter spacing) and puts the baseline half a font
+/// size below the anchor (text sits high). This wrapper lays text out itself:
+/// advances with kerning, bearings, the em size SVG uses (plotters' size / 1.24),
+/// baselines matching the SVG output's anchors (top: 0.76 em below, centre:
+/// half the cap height, bottom: the descent), rotations as plotters defines them.
+/// Every other call goes straight through.
 #[cfg(feature = "png")]
-struct GlyphBaseline<B>(B);
-
-/// The shift [font sizes]: DejaVu Sans has ascent 0.80 and descent 0.20 of the
-/// scaled height, so the glyphs span -0.30..0.70 of the size around the origin
-/// while the layout box spans 0..0.81; moving by 0.2 centres one on the other.
-#[cfg(feature = "png")]
-const GLYPH_SHIFT: f64 = 0.2;
+struct BundledText<B>(B);
 
 #[cfg(feature = "png")]
-mod glyph_baseline {
-    use super::{GlyphBaseline, GLYPH_SHIFT};
+mod bundled_text {
+    use super::{BundledText, BUNDLED_FONT};
+    use ab_glyph::{point, Font, FontRef, PxScale, ScaleFont};
+    use plotters_backend::text_anchor::{HPos, VPos};
     use plotters_backend::{BackendColor, BackendCoord, BackendStyle, BackendTextStyle, DrawingBackend, DrawingErrorKind};
+    use std::sync::OnceLock;
 
-    impl<B: DrawingBackend> DrawingBackend for GlyphBaseline<B> {
+    /// plotters' font sizes are line heights: the em is `size / 1.24` (as its SVG back end writes).
+    const EM_PER_SIZE: f32 = 1.0 / 1.24;
+    /// DejaVu Sans cap height [em] (1493 / 2048 units).
+    const CAP_HEIGHT_EM: f32 = 0.729;
+
+    fn font() -> &'static FontRef<'static> {
+        static FONT: OnceLock<FontRef<'static>> = OnceLock::new();
+        // The bundled bytes are a valid font: a unit test parses them.
+        FONT.get_or_init(|| FontRef::try_from_slice(BUNDLED_FONT).expect("bundled font parses"))
+    }
+
+    /// Scale for an em of `em_px` pixels (ab_glyph scales by ascent - descent).
+    fn scale(em_px: f32) -> PxScale {
+        let f = font();
+        PxScale::from(em_px * f.height_unscaled() / f.units_per_em().unwrap_or(2048.0))
+    }
+
+    /// Advance width [px] of a text at `em_px`.
+    fn width(text: &str, em_px: f32) -> f32 {
+        let f = font().as_scaled(scale(em_px));
+        let mut x = 0.0;
+        let mut previous = None;
+        for c in text.chars() {
+            let id = f.glyph_id(c);
+            if let Some(p) = previous {
+                x += f.kern(p, id);
+            }
+            x += f.h_advance(id);
+            previous = Some(id);
+        }
+        x
+    }
+
+    impl<B: DrawingBackend> BundledText<B> {
+        fn text<S: BackendTextStyle>(&mut self, text: &str, style: &S, pos: BackendCoord) -> Result<(), DrawingErrorKind<B::ErrorType>> {
+            let colour = style.color();
+            if colour.alpha == 0.0 {
+                return Ok(());
+            }
+            let em = style.size() as f32 * EM_PER_SIZE;
+            let f = font().as_scaled(scale(em));
+            let w = width(text, em);
+            let x0 = match style.anchor().h_pos {
+                HPos::Left => 0.0,
+                HPos::Center => -0.5 * w,
+                HPos::Right => -w,
+            };
+            let baseline = match style.anchor().v_pos {
+                VPos::Top => 0.76 * em,
+                VPos::Center => 0.5 * CAP_HEIGHT_EM * em,
+                VPos::Bottom => f.descent(),
+            };
+            let transform = style.transform();
+            let mut x = x0;
+            let mut previous = None;
+            for c in text.chars() {
+                let id = f.glyph_id(c);
+                if let Some(p) = previous {
+                    x += f.kern(p, id);
+                }
+                previous = Some(id);
+                let glyph = id.with_scale_and_position(scale(em), point(x, baseline));
+                x += f.h_advance(id);
+                let Some(outline) = font().outline_glyph(glyph) else { continue };
+                let bounds = outline.px_bounds();
+                let mut pixels = Vec::new();
+                outline.draw(|gx, gy, coverage| {
+                    if coverage > 0.0 {
+                        pixels.push((bounds.min.x as i32 + gx as i32, bounds.min.y as i32 + gy as i32, coverage));
+                    }
+                });
+                for (tx, ty, coverage) in pixels {
+                    let (dx, dy) = transform.transform(tx, ty);
+                    let c = BackendColor { alpha: colour.alpha * f64::from(coverage.min(1.0)), rgb: colour.rgb };
+                    self.0.draw_pixel((pos.0 + dx, pos.1 + dy), c)?;
+                }
+            }
+            Ok(())
+        }
+    }
+
+    impl<B: DrawingBackend> DrawingBackend for BundledText<B> {
         type ErrorType = B::ErrorType;
         fn get_size(&self) -> (u32, u32) {
             self.0.get_size()
@@ -236,11 +317,11 @@ mod glyph_baseline {
             self.0.fill_polygon(vert, style)
         }
         fn draw_text<S: BackendTextStyle>(&mut self, text: &str, style: &S, pos: BackendCoord) -> Result<(), DrawingErrorKind<Self::ErrorType>> {
-            let (dx, dy) = style.transform().transform(0, (GLYPH_SHIFT * style.size()).round() as i32);
-            self.0.draw_text(text, style, (pos.0 + dx, pos.1 + dy))
+            self.text(text, style, pos)
         }
         fn estimate_text_size<S: BackendTextStyle>(&self, text: &str, style: &S) -> Result<(u32, u32), DrawingErrorKind<Self::ErrorType>> {
-            self.0.estimate_text_size(text, style)
+            let em = style.size() as f32 * EM_PER_SIZE;
+            Ok((width(text, em).ceil() as u32, em.ceil() as u32))
         }
         fn blit_bitmap(&mut self, pos: BackendCoord, size: (u32, u32), src: &[u8]) -> Result<(), DrawingErrorKind<Self::ErrorType>> {
             self.0.blit_bitmap(pos, size, src)
@@ -264,12 +345,14 @@ fn encode_png(rgb: &[u8], w: u32, h: u32, dpi: f64) -> Result<Vec<u8>, ChartErro
 }
 
 /// DejaVu Sans 2.37 (fonts/LICENSE), compiled in so PNG text needs no font files at run time.
-#[cfg(all(feature = "png", not(target_arch = "wasm32")))]
+#[cfg(feature = "png")]
 pub const BUNDLED_FONT: &[u8] = include_bytes!("../fonts/DejaVuSans.ttf");
 
 /// Register the bundled font under the theme's family list (and "sans-serif"),
-/// once per name: plotters' glyph renderer looks fonts up by that exact string.
-/// On the browser target the canvas uses the page's fonts and this does nothing.
+/// once per name: plotters' text measurement (used for the SVG layout) looks
+/// fonts up by that exact string. On the browser target the canvas measures
+/// with the page's fonts and this does nothing. PNG text does not depend on it
+/// (see `BundledText`).
 pub(crate) fn ensure_font(theme: &Theme) {
     #[cfg(all(feature = "png", not(target_arch = "wasm32")))]
     {
@@ -302,7 +385,7 @@ mod tests {
         assert!((DOUBLE_COLUMN_WIDTH_PT / POINTS_PER_INCH - 7.1).abs() < 0.01);
     }
 
-    #[cfg(all(feature = "png", not(target_arch = "wasm32")))]
+    #[cfg(feature = "png")]
     #[test]
     fn bundled_font_has_every_glyph_the_charts_use() {
         // A character without a glyph maps to glyph 0 (.notdef) and would print as a box.
