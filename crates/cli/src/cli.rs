@@ -35,6 +35,47 @@ enum TableFormat {
     Json,
 }
 
+/// Planet output formats.
+#[derive(Copy, Clone, Debug, PartialEq, Eq, ValueEnum)]
+enum PlanetFormat {
+    /// JSON with the envelope, each element's origin and provenance.
+    Json,
+    /// One header line and one row.
+    Csv,
+}
+
+/// Averaging of a migration range.
+#[derive(Copy, Clone, Debug, PartialEq, Eq, ValueEnum)]
+enum Weighting {
+    /// Uniform in radius.
+    Uniform,
+    /// Uniform in log radius.
+    #[value(name = "log_radius")]
+    LogRadius,
+}
+
+/// Delta chi-square conventions.
+#[derive(Copy, Clone, Debug, PartialEq, Eq, ValueEnum)]
+enum Convention {
+    /// Two mapped parameters: 2.30 and 6.18.
+    #[value(name = "mapped_parameters")]
+    MappedParameters,
+    /// The number of fitted quantities: 1.00 and 4.00 for C/O alone.
+    #[value(name = "fitted_quantities")]
+    FittedQuantities,
+}
+
+/// Anchoring parameters.
+#[derive(Copy, Clone, Debug, PartialEq, Eq, ValueEnum)]
+enum Adjust {
+    /// disk.flaring_angle.
+    #[value(name = "flaring_angle")]
+    FlaringAngle,
+    /// disk.midplane_temperature_scale.
+    #[value(name = "temperature_scale")]
+    TemperatureScale,
+}
+
 #[derive(clap::Args, Debug)]
 struct Output {
     /// Output format.
@@ -86,6 +127,92 @@ enum Command {
         /// The disk file.
         disk: PathBuf,
         /// Write to this file instead of standard output.
+        #[arg(long, value_name = "FILE")]
+        out: Option<PathBuf>,
+    },
+    /// The envelope composition of a planet that accreted gas and solids at one radius
+    /// (or averaged over a migration range): C/O, [C/H], [O/H], N/H and S/H relative to the star,
+    /// and how much of each element came with the solids.
+    Planet {
+        /// The disk file.
+        disk: PathBuf,
+        /// Formation radius [au] (the inner end of a migration range with --to-radius-au).
+        #[arg(long = "radius-au", value_name = "AU")]
+        radius_au: f64,
+        /// Outer end of a migration range [au]; gas and solids are averaged over 200 midpoints.
+        #[arg(long = "to-radius-au", value_name = "AU")]
+        to_radius_au: Option<f64>,
+        /// How the migration range is averaged.
+        #[arg(long, value_enum, default_value_t = Weighting::Uniform)]
+        weighting: Weighting,
+        /// Accreted solid mass over accreted gas mass, M_solid / M_gas (>= 0).
+        #[arg(long = "solid-to-gas", value_name = "RATIO")]
+        solid_to_gas: f64,
+        /// Fraction of the solids' atoms that enter the envelope, in [0, 1].
+        #[arg(long, value_name = "F", default_value_t = 1.0)]
+        mix: f64,
+        /// Output format.
+        #[arg(long, value_enum, default_value_t = PlanetFormat::Json)]
+        format: PlanetFormat,
+        /// Write to this file instead of standard output.
+        #[arg(long, value_name = "FILE")]
+        out: Option<PathBuf>,
+    },
+    /// Which formation places fit an observed envelope C/O (and optionally [C/H] or [O/H]):
+    /// a chi-square map over formation radius x solid-to-gas ratio (1e-3..1, log-spaced),
+    /// with the best fit, the 1- and 2-sigma radius ranges at each ratio and the degeneracies.
+    Fit {
+        /// The disk file.
+        disk: PathBuf,
+        /// Observed envelope C/O.
+        #[arg(long = "c-to-o", value_name = "C/O")]
+        c_to_o: f64,
+        /// Its 1-sigma error (> 0).
+        #[arg(long = "c-to-o-sigma", value_name = "SIGMA")]
+        c_to_o_sigma: f64,
+        /// Observed [C/H] [dex] relative to the star.
+        #[arg(long = "c-to-h-dex", value_name = "DEX", requires = "c_to_h_sigma", conflicts_with = "o_to_h_dex")]
+        c_to_h_dex: Option<f64>,
+        /// 1-sigma error of [C/H] [dex].
+        #[arg(long = "c-to-h-sigma", value_name = "DEX", requires = "c_to_h_dex")]
+        c_to_h_sigma: Option<f64>,
+        /// Observed [O/H] [dex] relative to the star.
+        #[arg(long = "o-to-h-dex", value_name = "DEX", requires = "o_to_h_sigma")]
+        o_to_h_dex: Option<f64>,
+        /// 1-sigma error of [O/H] [dex].
+        #[arg(long = "o-to-h-sigma", value_name = "DEX", requires = "o_to_h_dex")]
+        o_to_h_sigma: Option<f64>,
+        /// Fraction of the solids' atoms that enter the envelope, fixed over the map, in [0, 1].
+        #[arg(long, value_name = "F", default_value_t = 1.0)]
+        mix: f64,
+        /// Number of log-spaced solid-to-gas values over 1e-3..1 (40-1000).
+        #[arg(long, value_name = "N", default_value_t = 48)]
+        ratios: usize,
+        /// Delta chi-square thresholds: for the two mapped parameters (2.30, 6.18; default) or
+        /// for the number of fitted quantities (1.00, 4.00 with C/O alone).
+        #[arg(long, value_enum, default_value_t = Convention::MappedParameters)]
+        convention: Convention,
+        #[command(flatten)]
+        output: Output,
+    },
+    /// Adjust the flaring angle or a midplane-temperature scale so the model's snowline of a species
+    /// lies at an observed radius, and write the anchored disk file.
+    Anchor {
+        /// The disk file.
+        disk: PathBuf,
+        /// The species whose snowline was observed: H2O CO CO2 CH4 N2 NH3 CH3OH H2S HCN.
+        #[arg(long)]
+        species: String,
+        /// Observed snowline radius [au].
+        #[arg(long = "radius-au", value_name = "AU")]
+        radius_au: f64,
+        /// Its 1-sigma error [au]; the parameter values at radius +- sigma are reported.
+        #[arg(long = "sigma-au", value_name = "AU", default_value_t = 0.0)]
+        sigma_au: f64,
+        /// Which parameter to adjust.
+        #[arg(long, value_enum, default_value_t = Adjust::FlaringAngle)]
+        adjust: Adjust,
+        /// Write the anchored disk file here instead of standard output.
         #[arg(long, value_name = "FILE")]
         out: Option<PathBuf>,
     },
@@ -188,6 +315,85 @@ fn execute(args: Args) -> Result<(), Failure> {
             let file = read_disk(&disk)?;
             let model = run_model(&file)?;
             write_output(&out, &json_text(&snowlines_json(&model, &Provenance::of(&file))))
+        }
+        Command::Planet { disk, radius_au, to_radius_au, weighting, solid_to_gas, mix, format, out } => {
+            use nivalis_physics::planet::{planet, FormationPlace, PlanetRequest, RadialWeighting};
+            let file = read_disk(&disk)?;
+            let model = run_model(&file)?;
+            let place = match to_radius_au {
+                None => FormationPlace::Radius { radius_au },
+                Some(outer) => FormationPlace::Migration {
+                    inner_radius_au: radius_au,
+                    outer_radius_au: outer,
+                    weighting: match weighting {
+                        Weighting::Uniform => RadialWeighting::Uniform,
+                        Weighting::LogRadius => RadialWeighting::LogRadius,
+                    },
+                },
+            };
+            let request = PlanetRequest { place, gas_mass_g: 1.0, solid_to_gas, solid_mixing_fraction: mix };
+            let result = planet(&model, &request).map_err(|e| Failure::input(vec![e.to_string()]))?;
+            let text = match format {
+                PlanetFormat::Json => json_text(&nivalis_exports::planet::planet_json(&result, &place, &Provenance::of(&file))),
+                PlanetFormat::Csv => to_csv(&nivalis_exports::planet::planet_table(&result)),
+            };
+            write_output(&out, &text)
+        }
+        Command::Fit { disk, c_to_o, c_to_o_sigma, c_to_h_dex, c_to_h_sigma, o_to_h_dex, o_to_h_sigma, mix, ratios, convention, output } => {
+            use nivalis_physics::planet::{chi_square_map, ConfidenceConvention, MapSettings, MetallicityTracer, ObservedEnvelope, ObservedMetallicity};
+            let file = read_disk(&disk)?;
+            let model = run_model(&file)?;
+            let metallicity = match (c_to_h_dex, c_to_h_sigma, o_to_h_dex, o_to_h_sigma) {
+                (Some(dex), Some(sigma_dex), _, _) => Some(ObservedMetallicity { tracer: MetallicityTracer::Carbon, dex, sigma_dex }),
+                (_, _, Some(dex), Some(sigma_dex)) => Some(ObservedMetallicity { tracer: MetallicityTracer::Oxygen, dex, sigma_dex }),
+                _ => None,
+            };
+            let observed = ObservedEnvelope { c_to_o, c_to_o_sigma, metallicity };
+            let settings = MapSettings {
+                ratio_count: ratios,
+                solid_mixing_fraction: mix,
+                convention: match convention {
+                    Convention::MappedParameters => ConfidenceConvention::MappedParameters,
+                    Convention::FittedQuantities => ConfidenceConvention::FittedQuantities,
+                },
+            };
+            let map = chi_square_map(&model, &observed, &settings).map_err(|e| Failure::input(vec![e.to_string()]))?;
+            let prov = Provenance::of(&file);
+            let used = methods(&file.parameters);
+            let text = match output.format {
+                TableFormat::Csv => to_csv(&nivalis_exports::planet::fit_table(&map)),
+                TableFormat::Ecsv => nivalis_exports::planet::fit_ecsv(&map, &prov, &used),
+                TableFormat::Json => json_text(&nivalis_exports::planet::fit_json(&map, &prov, &used)),
+            };
+            for line in map.degeneracy_summary() {
+                eprintln!("note: {line}");
+            }
+            write_output(&output.out, &text)
+        }
+        Command::Anchor { disk, species, radius_au, sigma_au, adjust, out } => {
+            use nivalis_physics::anchor::{anchor_to_snowline, AnchorParameter, AnchorRequest};
+            let sp = nivalis_physics::Species::from_key(&species).ok_or_else(|| {
+                Failure::input(vec![format!(
+                    "--species: unknown species {species:?}; expected one of {}",
+                    nivalis_physics::Species::ALL.map(|s| s.key()).join(", ")
+                )])
+            })?;
+            let file = read_disk(&disk)?;
+            let parameter = match adjust {
+                Adjust::FlaringAngle => AnchorParameter::FlaringAngle,
+                Adjust::TemperatureScale => AnchorParameter::MidplaneTemperatureScale,
+            };
+            let anchored = anchor_to_snowline(&file.parameters, &AnchorRequest::new(sp, radius_au, sigma_au, parameter))
+                .map_err(|e| Failure::input(vec![e.to_string()]))?;
+            let summary = nivalis_exports::planet::anchor_summary(&anchored);
+            for line in &summary {
+                eprintln!("{line}");
+            }
+            let mut anchored_file = file.clone();
+            anchored_file.parameters = anchored.parameters.clone();
+            let note = format!("[{}] {}.", nivalis_exports::provenance::program_version(), summary[0]);
+            anchored_file.notes = if file.notes.is_empty() { note } else { format!("{} {note}", file.notes) };
+            write_output(&out, &nivalis_disk_files::to_json_string(&anchored_file))
         }
         Command::Methods { disk, bibtex, out } => {
             let file = read_disk(&disk)?;

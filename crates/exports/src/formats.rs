@@ -57,6 +57,11 @@ fn yaml_quoted(s: &str) -> String {
 /// and as metadata the program version, the resolved disk file (compact JSON
 /// in a string), its hash and the methods with their reference keys.
 pub fn to_ecsv(table: &Table, provenance: &Provenance, methods: &[MethodEntry]) -> String {
+    to_ecsv_with_meta(table, provenance, methods, &[])
+}
+
+/// [`to_ecsv`] with extra metadata entries (each value written as a quoted YAML string).
+pub fn to_ecsv_with_meta(table: &Table, provenance: &Provenance, methods: &[MethodEntry], extra: &[(&str, String)]) -> String {
     let mut out = String::from("# %ECSV 1.0\n# ---\n# delimiter: ','\n# datatype:\n");
     for c in &table.columns {
         out.push_str(&format!("# - {{name: {}, datatype: float64", c.name));
@@ -72,6 +77,9 @@ pub fn to_ecsv(table: &Table, provenance: &Provenance, methods: &[MethodEntry]) 
     out.push_str("#   methods:\n");
     for m in methods {
         out.push_str(&format!("#   - {{topic: {}, method: {}, references: [{}]}}\n", yaml_quoted(m.topic), yaml_quoted(&m.text), m.references.join(", ")));
+    }
+    for (key, value) in extra {
+        out.push_str(&format!("#   {key}: {}\n", yaml_quoted(value)));
     }
     out.push_str("# schema: astropy-2.0\n");
     data_lines(table, &mut out);

@@ -9,6 +9,7 @@
 pub mod bibtex;
 pub mod formats;
 pub mod methods;
+pub mod planet;
 pub mod provenance;
 pub mod snowlines;
 pub mod tables;
