@@ -221,3 +221,54 @@ fn bad_input_is_an_error_not_a_panic() {
     let err = render_svg(&figure, &Theme::light(), FigureSize::with_width_pt(f64::NAN)).unwrap_err();
     assert!(err.to_string().starts_with("width_pt must be between 72 and 2880"));
 }
+
+#[cfg(feature = "png")]
+#[test]
+fn png_text_is_drawn_in_the_margins() {
+    // Only text lives in the leftmost 4 % of a profile figure (y tick labels and the
+    // rotated axis label), so pixels there that differ from the background are text.
+    let model = default_model();
+    let bytes = render_png(&Figure::from_model(View::TemperatureProfile, &model), &Theme::light(), FigureSize::single_column(), 300.0).unwrap();
+    let (w, h, px) = decode(&bytes);
+    let strip = (w as f64 * 0.04) as usize;
+    let mut inked = 0;
+    for y in 0..h as usize {
+        for x in 0..strip {
+            let o = (y * w as usize + x) * 3;
+            if px[o] < 200 {
+                inked += 1;
+            }
+        }
+    }
+    assert!(inked > 200, "only {inked} dark pixels in the label strip");
+}
+
+#[test]
+fn omit_leaves_the_plot_rectangle_to_the_caller() {
+    // The page paints the cells itself, then draws with CellDrawing::Omit: everything
+    // inside the plot rectangle except lines, legend and labels must stay as painted.
+    use plotters::prelude::{BitMapBackend, IntoDrawingArea};
+    let model = default_model();
+    let data = MapData::ice_fraction(&model, Species::CO);
+    let (w, h) = (640u32, 360u32);
+    let sentinel = [1u8, 2, 3];
+    let mut rgb: Vec<u8> = sentinel.iter().copied().cycle().take((w * h * 3) as usize).collect();
+    let layout = {
+        let area = BitMapBackend::with_buffer(&mut rgb, (w, h)).into_drawing_area();
+        draw_ice_map(&area, &data, &Theme::light(), 1.0, CellDrawing::Omit).unwrap()
+    };
+    let p = layout.main();
+    let (mut kept, mut total) = (0, 0);
+    for y in p.top + 2..p.top + p.height as i32 - 2 {
+        for x in p.left + 2..p.left + p.width as i32 - 2 {
+            let o = ((y as u32 * w + x as u32) * 3) as usize;
+            total += 1;
+            if rgb[o..o + 3] == sentinel {
+                kept += 1;
+            }
+        }
+    }
+    assert!(kept as f64 > 0.8 * total as f64, "only {kept} of {total} plot pixels left alone");
+    // Outside the plot rectangle the background was painted.
+    assert_ne!(rgb[0..3], sentinel);
+}
