@@ -35,6 +35,54 @@ enum TableFormat {
     Json,
 }
 
+/// Figure file formats.
+#[derive(Copy, Clone, Debug, PartialEq, Eq, ValueEnum)]
+enum FigureFormat {
+    /// Scalable vector graphics.
+    Svg,
+    /// Portable network graphics.
+    Png,
+}
+
+/// Journal widths.
+#[derive(Copy, Clone, Debug, PartialEq, Eq, ValueEnum)]
+enum FigureWidth {
+    /// One column, 252 pt.
+    Single,
+    /// Two columns, 511 pt.
+    Double,
+}
+
+/// Figure colour themes.
+#[derive(Copy, Clone, Debug, PartialEq, Eq, ValueEnum)]
+enum FigureTheme {
+    /// Dark text on white.
+    Light,
+    /// Light text on dark grey.
+    Dark,
+}
+
+/// Parse a figure view name such as `ice_map:CO`.
+pub fn parse_view(text: &str) -> Result<nivalis_charts::View, String> {
+    use nivalis_charts::View;
+    Ok(match text {
+        "c_to_o" => View::CToOProfile,
+        "temperature" => View::TemperatureProfile,
+        "abundances" => View::Abundances,
+        "c_to_o_map" => View::CToOMap,
+        _ => match text.strip_prefix("ice_map:") {
+            Some(s) => View::IceMap(nivalis_physics::Species::from_key(s).ok_or_else(|| {
+                format!("--view: unknown species {s:?}; expected one of {}", nivalis_physics::Species::ALL.map(|s| s.key()).join(", "))
+            })?),
+            None => {
+                return Err(format!(
+                    "--view: unknown view {text:?}; expected one of c_to_o, temperature, abundances, ice_map:<SPECIES>, c_to_o_map"
+                ))
+            }
+        },
+    })
+}
+
 /// Planet output formats.
 #[derive(Copy, Clone, Debug, PartialEq, Eq, ValueEnum)]
 enum PlanetFormat {
@@ -216,6 +264,32 @@ enum Command {
         #[arg(long, value_name = "FILE")]
         out: Option<PathBuf>,
     },
+    /// A journal-ready figure of one view: SVG (true vectors, text as text) or PNG at a chosen DPI,
+    /// one- or two-column width, with the program version, disk hash and resolved disk embedded.
+    Figure {
+        /// The disk file.
+        disk: PathBuf,
+        /// The view: c_to_o (C/O of gas, ice and solids vs radius, snowlines marked),
+        /// temperature (midplane temperature and surface density), abundances (gas and ice per species),
+        /// ice_map:<SPECIES> (r-z ice fraction with the snow surface), c_to_o_map (r-z gas C/O).
+        #[arg(long)]
+        view: String,
+        /// File format.
+        #[arg(long, value_enum, default_value_t = FigureFormat::Svg)]
+        format: FigureFormat,
+        /// Journal width: single column (252 pt, 3.5 in) or double column (511 pt, 7.1 in); height 0.75 x width.
+        #[arg(long, value_enum, default_value_t = FigureWidth::Single)]
+        width: FigureWidth,
+        /// PNG resolution [dots per inch], 36-1200.
+        #[arg(long, default_value_t = 300.0)]
+        dpi: f64,
+        /// Colours: light (paper) or dark.
+        #[arg(long, value_enum, default_value_t = FigureTheme::Light)]
+        theme: FigureTheme,
+        /// Write to this file instead of standard output.
+        #[arg(long, value_name = "FILE")]
+        out: Option<PathBuf>,
+    },
     /// A plain-text methods paragraph for exactly this configuration (methods, parameter values,
     /// binding-energy set, abundance reference, grid, simplifications) with citations, and
     /// optionally a BibTeX file of exactly the references cited.
@@ -262,12 +336,16 @@ fn run_model(file: &DiskFile) -> Result<Model, Failure> {
 }
 
 fn write_output(out: &Option<PathBuf>, text: &str) -> Result<(), Failure> {
+    write_bytes(out, text.as_bytes())
+}
+
+fn write_bytes(out: &Option<PathBuf>, bytes: &[u8]) -> Result<(), Failure> {
     match out {
-        Some(path) => std::fs::write(path, text)
+        Some(path) => std::fs::write(path, bytes)
             .map_err(|e| Failure { code: 1, lines: vec![format!("{}: cannot write: {e}", path.display())] }),
         None => {
             let mut stdout = std::io::stdout().lock();
-            match stdout.write_all(text.as_bytes()).and_then(|_| stdout.flush()) {
+            match stdout.write_all(bytes).and_then(|_| stdout.flush()) {
                 Ok(()) => Ok(()),
                 // A closed pipe (e.g. `| head`) is not an error of ours.
                 Err(e) if e.kind() == std::io::ErrorKind::BrokenPipe => Ok(()),
@@ -394,6 +472,33 @@ fn execute(args: Args) -> Result<(), Failure> {
             let note = format!("[{}] {}.", nivalis_exports::provenance::program_version(), summary[0]);
             anchored_file.notes = if file.notes.is_empty() { note } else { format!("{} {note}", file.notes) };
             write_output(&out, &nivalis_disk_files::to_json_string(&anchored_file))
+        }
+        Command::Figure { disk, view, format, width, dpi, theme, out } => {
+            use nivalis_charts::{render_png, render_svg, Figure, FigureSize, Theme};
+            let v = parse_view(&view).map_err(|e| Failure::input(vec![e]))?;
+            let file = read_disk(&disk)?;
+            let model = run_model(&file)?;
+            let figure = Figure::from_model(v, &model);
+            let theme = match theme {
+                FigureTheme::Light => Theme::light(),
+                FigureTheme::Dark => Theme::dark(),
+            };
+            let size = match width {
+                FigureWidth::Single => FigureSize::single_column(),
+                FigureWidth::Double => FigureSize::double_column(),
+            };
+            let prov = Provenance::of(&file);
+            let chart_failure = |e: nivalis_charts::ChartError| Failure::input(vec![e.to_string()]);
+            match format {
+                FigureFormat::Svg => {
+                    let svg = render_svg(&figure, &theme, size).map_err(chart_failure)?;
+                    write_output(&out, &nivalis_exports::figures::embed_svg_provenance(&svg, &prov, &view))
+                }
+                FigureFormat::Png => {
+                    let png = render_png(&figure, &theme, size, dpi).map_err(chart_failure)?;
+                    write_bytes(&out, &nivalis_exports::figures::embed_png_provenance(&png, &prov, &view))
+                }
+            }
         }
         Command::Methods { disk, bibtex, out } => {
             let file = read_disk(&disk)?;

@@ -7,6 +7,7 @@
 //! ([`methods`]); and the provenance every file carries ([`provenance`]).
 
 pub mod bibtex;
+pub mod figures;
 pub mod formats;
 pub mod methods;
 pub mod planet;
