@@ -1,0 +1,28 @@
+//! # nivalis-web
+//!
+//! The WebAssembly side of the Nivalis page, deliberately thin: it converts
+//! the page's JavaScript disk object into the JSON value the disk-file reader
+//! takes (so the page and the CLI validate with the same code and the same
+//! messages), runs `nivalis_physics::Model::run`, keeps the last valid result,
+//! draws the views into canvases through `nivalis-charts` and
+//! `plotters-canvas`, answers hover readouts from the charts' layouts, and
+//! builds the exports with `nivalis-exports` (byte-identical to the CLI's).
+//! It does no physics of its own.
+//!
+//! Modules: [`session`] (plain Rust, tested natively: state, snowline table,
+//! exports), [`readout`] (plain Rust: the value under the pointer, looked up
+//! in the charts' input data), and, on wasm32 only, `canvas` (plotters-canvas
+//! drawing and the one `putImageData` per map) and the exported [`Explorer`].
+//!
+//! JavaScript names are camelCase (`updateFromText`, `snowlineTable`, ...);
+//! DEVELOPERS.md lists the mapping.
+
+pub mod readout;
+pub mod session;
+
+#[cfg(target_arch = "wasm32")]
+mod canvas;
+#[cfg(target_arch = "wasm32")]
+mod explorer;
+#[cfg(target_arch = "wasm32")]
+pub use explorer::Explorer;

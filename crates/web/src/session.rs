@@ -1,0 +1,293 @@
+//! The page's session in plain Rust (no JavaScript types), so it can be
+//! tested natively: the last valid disk and its model, the snowline table, and
+//! the exports. The wasm-facing [`crate::Explorer`] only converts values at the
+//! boundary and forwards here.
+//!
+//! Invariant: a disk that fails validation or the run never replaces the
+//! current result, so the page keeps showing the last valid one.
+
+use nivalis_disk_files::{from_value, to_json_string, to_value, DiskFile, Problem};
+use nivalis_exports::formats::json_text;
+use nivalis_exports::methods::methods;
+use nivalis_exports::snowlines::snowlines_json;
+use nivalis_exports::{model_table, structure_table, to_csv, to_ecsv, to_json, Provenance};
+use nivalis_physics::species::SpeciesTable;
+use nivalis_physics::units::AU_CM;
+use nivalis_physics::{BindingEnergySet, Model, PhysicsError, Species};
+use serde_json::{json, Value};
+
+/// A validated disk with its computed model.
+pub struct Current {
+    /// The disk as validated (defaults filled in).
+    pub file: DiskFile,
+    /// Its model.
+    pub model: Model,
+}
+
+/// The session: the current result, if any.
+#[derive(Default)]
+pub struct Session {
+    current: Option<Current>,
+}
+
+/// What the page may export; each is byte-identical to a CLI command's output.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Export {
+    /// `nivalis model DISK --format csv`.
+    ProfileCsv,
+    /// `nivalis model DISK --format ecsv`.
+    ProfileEcsv,
+    /// `nivalis model DISK --format json`.
+    ProfileJson,
+    /// `nivalis structure DISK --format csv`.
+    StructureCsv,
+    /// `nivalis snowlines DISK`.
+    SnowlinesJson,
+    /// The resolved disk file, as `nivalis` writes it (the page's Save).
+    DiskFile,
+}
+
+impl Export {
+    /// Parse the page's name of an export.
+    pub fn from_name(name: &str) -> Option<Export> {
+        Some(match name {
+            "profile_csv" => Export::ProfileCsv,
+            "profile_ecsv" => Export::ProfileEcsv,
+            "profile_json" => Export::ProfileJson,
+            "structure_csv" => Export::StructureCsv,
+            "snowlines_json" => Export::SnowlinesJson,
+            "disk" => Export::DiskFile,
+            _ => return None,
+        })
+    }
+}
+
+/// Splits a core error's one-line message `path: message` into a [`Problem`],
+/// so the page can show it beside the field it names. A message without a
+/// field path (a spaced prefix or none) is attached to `(model)`.
+pub fn physics_problem(error: &PhysicsError) -> Problem {
+    let text = error.to_string();
+    match text.split_once(": ") {
+        Some((path, message)) if !path.is_empty() && !path.contains(' ') => {
+            Problem { path: path.to_string(), message: message.to_string() }
+        }
+        _ => Problem { path: "(model)".to_string(), message: text },
+    }
+}
+
+impl Session {
+    /// An empty session (no result yet).
+    pub fn new() -> Session {
+        Session::default()
+    }
+
+    /// Validates a disk (as a JSON value, exactly what the CLI reads from a
+    /// file) and runs the model. On success the result replaces the current
+    /// one; on failure every problem is returned and the current result stays.
+    pub fn update(&mut self, disk: &Value) -> Result<(), Vec<Problem>> {
+        let file = from_value(disk).map_err(|problems| problems.0)?;
+        let model = Model::run(&file.parameters).map_err(|e| vec![physics_problem(&e)])?;
+        self.current = Some(Current { file, model });
+        Ok(())
+    }
+
+    /// Like [`Session::update`] for disk-file text, parsed by the same JSON
+    /// reader as the CLI (so an opened file gives the CLI's numbers to the bit).
+    pub fn update_from_text(&mut self, text: &str) -> Result<(), Vec<Problem>> {
+        match serde_json::from_str::<Value>(text) {
+            Ok(value) => self.update(&value),
+            Err(e) => Err(vec![Problem { path: "(file)".into(), message: format!("not valid JSON: {e}") }]),
+        }
+    }
+
+    /// The current result.
+    pub fn current(&self) -> Option<&Current> {
+        self.current.as_ref()
+    }
+
+    /// The current disk, resolved (every field present), as a JSON value.
+    pub fn resolved_disk(&self) -> Option<Value> {
+        self.current.as_ref().map(|c| to_value(&c.file))
+    }
+
+    /// One export of the current result as text; `None` before any valid disk.
+    pub fn export(&self, what: Export) -> Option<String> {
+        let c = self.current.as_ref()?;
+        let (file, model) = (&c.file, &c.model);
+        Some(match what {
+            Export::ProfileCsv => to_csv(&model_table(model)),
+            Export::ProfileEcsv => to_ecsv(&model_table(model), &Provenance::of(file), &methods(&file.parameters)),
+            Export::ProfileJson => json_text(&to_json(&model_table(model), &Provenance::of(file), &methods(&file.parameters))),
+            Export::StructureCsv => to_csv(&structure_table(model)),
+            Export::SnowlinesJson => json_text(&snowlines_json(model, &Provenance::of(file))),
+            Export::DiskFile => to_json_string(file),
+        })
+    }
+
+    /// The snowline table: per species, every midplane snowline (radius, direction
+    /// and the model's midplane temperature there) and the condensation
+    /// temperature of the step model (the resolved value, override or built-in).
+    /// A species without any crossing says whether its midplane is all ice or all gas.
+    pub fn snowline_table(&self) -> Option<Value> {
+        let c = self.current.as_ref()?;
+        let model = &c.model;
+        let inner_ice = |s: Species| model.midplane_ice_fraction(s).first().copied().unwrap_or(0.0);
+        let rows: Vec<Value> = Species::ALL
+            .iter()
+            .map(|&s| {
+                let lines: Vec<Value> = model
+                    .snowlines(s)
+                    .iter()
+                    .map(|line| {
+                        let radius_au = line.radius_cm / AU_CM;
+                        // The midplane temperature at the snowline, from the core's own
+                        // column at that radius (not an interpolation between cells).
+                        let temperature = model.midplane_at(radius_au).ok().map(|m| m.temperature_k).filter(|t| t.is_finite());
+                        json!({
+                            "radius_au": radius_au,
+                            "direction": line.direction.key(),
+                            "midplane_temperature_k": temperature,
+                        })
+                    })
+                    .collect();
+                let absent = model.carriers.species_per_h[s.index()] == 0.0;
+                let everywhere = if absent {
+                    "absent"
+                } else if inner_ice(s) >= 0.5 {
+                    "ice_at_inner_edge"
+                } else {
+                    "gas_at_inner_edge"
+                };
+                json!({
+                    "species": s.key(),
+                    "formula": model.table.get(s).formula,
+                    "abundance_per_h": model.carriers.species_per_h[s.index()],
+                    "condensation_temperature_k": model.species[s.index()].condensation_temperature_k,
+                    "binding_energy_k": model.species[s.index()].binding_energy_k,
+                    "snowlines": lines,
+                    "inner_edge": everywhere,
+                })
+            })
+            .collect();
+        Some(Value::Array(rows))
+    }
+
+    /// A short summary the page shows beside the views.
+    pub fn summary(&self) -> Option<Value> {
+        let c = self.current.as_ref()?;
+        let st = &c.model.structure;
+        let x = &c.model.carriers.stellar_per_h;
+        Some(json!({
+            "radial_cells": st.radial_cells,
+            "vertical_cells": st.samples_per_column - 1,
+            "samples": c.model.sample_count(),
+            "inner_radius_au": st.radius_cm.first().map(|r| r / AU_CM),
+            "outer_radius_au": st.radius_cm.last().map(|r| r / AU_CM),
+            "star_c_to_o": x[0] / x[1],
+            "stellar_radius_au": st.constants.stellar_radius_cm / AU_CM,
+            "name": c.file.name,
+            "notes": c.file.notes,
+        }))
+    }
+}
+
+/// The largest grid the page accepts, in samples (radial x (vertical + 1)): a
+/// model holds about 26 doubles per sample and the wasm32 heap ends at 4 GiB,
+/// so the page stops well before memory runs out. The CLI has no such limit.
+pub const MAX_SAMPLES: usize = 4_000_000;
+
+/// A problem when the disk's grid would not fit in the page's memory (checked
+/// before the run, so an oversized grid cannot exhaust the wasm heap).
+pub fn grid_too_large(disk: &Value) -> Option<Problem> {
+    let defaults = nivalis_physics::ModelParameters::defaults().grid;
+    let grid = disk.get("grid")?;
+    let cells = |key: &str, default: usize| grid.get(key).map_or(Some(default as f64), Value::as_f64);
+    let (radial, vertical) = (cells("radial_cells", defaults.radial_cells)?, cells("vertical_cells", defaults.vertical_cells)?);
+    let samples = radial * (vertical + 1.0);
+    (samples > MAX_SAMPLES as f64).then(|| Problem {
+        path: "grid.radial_cells".into(),
+        message: format!(
+            "the page holds at most {MAX_SAMPLES} samples (radial cells x (vertical cells + 1)), this grid has {samples}; use the command-line tool for larger grids"
+        ),
+    })
+}
+
+/// The built-in species data and binding-energy sets, for the controls'
+/// placeholders (what a blank override field means).
+pub fn species_info() -> Value {
+    let table = SpeciesTable::built_in();
+    let sets: Vec<&str> = BindingEnergySet::ALL.iter().map(|s| s.key()).collect();
+    let species: Vec<Value> = table
+        .entries
+        .iter()
+        .map(|e| {
+            let energies: serde_json::Map<String, Value> =
+                BindingEnergySet::ALL.iter().map(|set| (set.key().to_string(), json!(e.binding_energy(*set).0))).collect();
+            json!({
+                "species": e.species.key(),
+                "formula": e.formula,
+                "mass_amu": e.mass_amu,
+                "binding_energy_k": energies,
+                "photodesorption_yield": e.photodesorption_yield,
+                "condensation_temperature_k": e.condensation_temperature_k,
+            })
+        })
+        .collect();
+    json!({"binding_energy_sets": sets, "species": species})
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn invalid_disk_keeps_the_previous_result() {
+        let mut s = Session::new();
+        s.update(&json!({})).unwrap();
+        let before = s.export(Export::ProfileCsv).unwrap();
+        let problems = s.update(&json!({"star": {"luminosity_lsun": -1}})).unwrap_err();
+        assert_eq!(problems[0].to_string(), "star.luminosity_lsun: must be > 0 and finite, got -1");
+        assert_eq!(s.export(Export::ProfileCsv).unwrap(), before);
+    }
+
+    #[test]
+    fn exports_match_the_cli_functions() {
+        let mut s = Session::new();
+        s.update_from_text(r#"{"star": {"luminosity_lsun": 2}}"#).unwrap();
+        let c = s.current().unwrap();
+        assert_eq!(s.export(Export::ProfileCsv).unwrap(), to_csv(&model_table(&c.model)));
+        assert!(s.export(Export::ProfileEcsv).unwrap().starts_with("# %ECSV 1.0\n"));
+        assert_eq!(s.export(Export::DiskFile).unwrap(), to_json_string(&c.file));
+    }
+
+    #[test]
+    fn water_snowline_listed_with_its_temperature() {
+        let mut s = Session::new();
+        s.update(&json!({})).unwrap();
+        let table = s.snowline_table().unwrap();
+        let water = &table[0];
+        assert_eq!(water["species"], "H2O");
+        let first = &water["snowlines"][0];
+        assert_eq!(first["direction"], "freeze_out");
+        // A water snowline sits where the midplane is of order 100-200 K (common practice, no source).
+        let t = first["midplane_temperature_k"].as_f64().unwrap();
+        assert!(t > 80.0 && t < 250.0, "{t}");
+    }
+
+    #[test]
+    fn oversized_grids_are_refused_before_the_run() {
+        assert!(grid_too_large(&json!({})).is_none());
+        assert!(grid_too_large(&json!({"grid": {"radial_cells": 4096}})).is_none());
+        let p = grid_too_large(&json!({"grid": {"radial_cells": 4096, "vertical_cells": 4096}})).unwrap();
+        assert_eq!(p.path, "grid.radial_cells");
+        assert!(p.message.contains("16781312"), "{}", p.message);
+    }
+
+    #[test]
+    fn core_errors_name_their_field() {
+        let p = physics_problem(&PhysicsError::NitrogenExhausted { nitrogen_per_h: 1e-5, hcn_per_h: 2e-5 });
+        assert_eq!(p.path, "composition.carbon.HCN");
+        let p = physics_problem(&PhysicsError::NoTemperatureSolution { radius_au: 0.1 });
+        assert_eq!(p.path, "(model)");
+    }
+}

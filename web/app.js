@@ -1,0 +1,860 @@
+// app.js: the page's behaviour. `cargo xtask dist` puts it in the page's one
+// inline module script, after the wasm-bindgen glue (which defines `initSync`
+// and `Explorer` in this same module scope) and the constant
+// `NIVALIS_WASM_BASE64`. It holds no physics: every number comes from the
+// Rust core through `Explorer`; this file builds the controls, keeps the state
+// (URL fragment, undo), schedules recomputation and hands canvases to Rust.
+
+/* global initSync, Explorer, NIVALIS_WASM_BASE64 */
+
+// ---------------------------------------------------------------------------
+// The inputs. One entry per field of the nivalis-disk/1 file, grouped as the
+// page shows them. `path` is the field's dotted path in the disk file, which is
+// also what the reader's problem messages name. `range` is the allowed range
+// in words (the reader enforces it); `slider` gives the sweep range of the
+// slider, `log` when the quantity spans decades.
+// ---------------------------------------------------------------------------
+
+const GROUPS = [
+  {
+    title: "Scenario", id: "scenario", paths: ["name", "notes"],
+    fields: [
+      { path: "name", label: "Name of this disk", kind: "text" },
+      { path: "notes", label: "Notes (where the values come from)", kind: "textarea" },
+    ],
+  },
+  {
+    title: "Star", id: "star", paths: ["star"],
+    fields: [
+      { path: "star.mass_msun", label: "Stellar mass", unit: "Msun", range: "> 0", slider: { min: 0.05, max: 10, log: true } },
+      { path: "star.luminosity_lsun", label: "Stellar luminosity", unit: "Lsun", range: "> 0", slider: { min: 0.01, max: 1000, log: true } },
+      { path: "star.effective_temperature_k", label: "Effective temperature", unit: "K", range: "2000 to 50000" },
+      { path: "star.abundances.reference", label: "Solar abundance reference", kind: "select",
+        options: [["asplund2009", "Asplund et al. 2009"], ["asplund2021", "Asplund, Amarsi & Grevesse 2021"]] },
+      { subgroup: "star.abundances.offset_dex", title: "Stellar abundances relative to that reference [dex]", fields:
+        ["C", "O", "N", "S", "Si", "Mg", "Fe"].map((e) => ({ path: `star.abundances.offset_dex.${e}`, label: `[${e}/H] offset`, unit: "dex", range: "-2 to 2" })) },
+    ],
+  },
+  {
+    title: "Disk", id: "disk", paths: ["disk.gas_mass_msun", "disk.characteristic_radius_au", "disk.surface_density_index", "disk.inner_radius_au",
+      "disk.outer_radius_au", "disk.accretion_rate_msun_per_yr", "disk.flaring_angle", "disk.self_consistent_flaring", "disk.opacity",
+      "disk.vertical_temperature", "disk.background_temperature_k", "disk.age_myr", "disk.midplane_temperature_scale"],
+    note: "Ṁ is constant in radius; with the surface density it implies a radius-dependent α.",
+    fields: [
+      { path: "disk.gas_mass_msun", label: "Disk gas mass", unit: "Msun", range: "> 0", slider: { min: 1e-5, max: 1, log: true } },
+      { path: "disk.characteristic_radius_au", label: "Characteristic radius R_c", unit: "au", range: "> 0", slider: { min: 1, max: 1000, log: true } },
+      { path: "disk.surface_density_index", label: "Surface density index γ", unit: "", range: "-2 to below 2" },
+      { path: "disk.inner_radius_au", label: "Inner edge", unit: "au", range: "> stellar radius, < outer edge" },
+      { path: "disk.outer_radius_au", label: "Outer edge", unit: "au", range: "> inner edge" },
+      { path: "disk.accretion_rate_msun_per_yr", label: "Accretion rate Ṁ", unit: "Msun/yr", range: "≥ 0 (0 = passive)", slider: { min: 1e-11, max: 1e-5, log: true } },
+      { path: "disk.flaring_angle", label: "Flaring (grazing) angle φ", unit: "rad", range: "> 0 to 1", slider: { min: 0.005, max: 1, log: true } },
+      { path: "disk.self_consistent_flaring", label: "Solve the grazing angle self-consistently (ignores φ)", kind: "checkbox" },
+      { path: "disk.opacity.kind", label: "Opacity for accretion heating", kind: "select",
+        options: [["constant", "constant Rosseland mean"], ["bell_lin_1994", "Bell & Lin 1994 power laws"]] },
+      { path: "disk.opacity.rosseland_cm2_per_g", label: "Rosseland mean opacity (constant kind)", unit: "cm²/g of gas", range: "> 0" },
+      { path: "disk.vertical_temperature.kind", label: "Vertical temperature", kind: "select",
+        options: [["two_layer", "two layers (warm surface)"], ["isothermal", "isothermal columns"]] },
+      { path: "disk.vertical_temperature.superheating", label: "Surface superheating factor", unit: "", range: "0.1 to 10" },
+      { path: "disk.vertical_temperature.transition_scale_heights", label: "Height of the warm layer z_q", unit: "H", range: "> 0 to 20" },
+      { path: "disk.vertical_temperature.delta", label: "Steepness of the transition δ", unit: "", range: "> 0 to 10" },
+      { path: "disk.background_temperature_k", label: "Background temperature floor", unit: "K", range: "0 to 10000" },
+      { path: "disk.midplane_temperature_scale", label: "Midplane temperature multiplier", unit: "", range: "0.1 to 10" },
+      { path: "disk.age_myr", label: "Disk age (compared with equilibration times)", unit: "Myr", range: "> 0" },
+    ],
+  },
+  {
+    title: "Dust and radiation", id: "radiation", paths: ["disk.dust_to_gas", "disk.grain_radius_um", "disk.grain_density_g_cm3",
+      "disk.cosmic_ray_rate_s", "disk.interstellar_fuv_habing", "star.fuv_1au_habing"],
+    fields: [
+      { path: "disk.dust_to_gas", label: "Dust-to-gas mass ratio", unit: "", range: "> 0 to 1" },
+      { path: "disk.grain_radius_um", label: "Grain radius", unit: "µm", range: "> 0", slider: { min: 0.01, max: 1000, log: true } },
+      { path: "disk.grain_density_g_cm3", label: "Grain material density", unit: "g/cm³", range: "> 0" },
+      { path: "disk.cosmic_ray_rate_s", label: "Cosmic-ray ionisation rate at the surface", unit: "1/s per H₂", range: "≥ 0", slider: { min: 1e-20, max: 1e-14, log: true } },
+      { path: "star.fuv_1au_habing", label: "Stellar FUV field at 1 au", unit: "G₀ (Habing)", range: "≥ 0" },
+      { path: "disk.interstellar_fuv_habing", label: "Interstellar FUV field", unit: "G₀ (Habing)", range: "≥ 0" },
+    ],
+  },
+  {
+    title: "Ices", id: "ices", paths: ["ices"],
+    note: "Every species is an independent pure ice: no mixing with or trapping in water ice.",
+    fields: [
+      { path: "ices.desorption", label: "Desorption", kind: "select",
+        options: [["zeroth_order", "zeroth order (multilayer ice)"], ["first_order", "first order"], ["fixed_temperature", "step model (fixed condensation temperatures)"]] },
+      { path: "ices.binding_energies", label: "Binding-energy set", kind: "select", options: [] /* filled from the core */ },
+      { path: "ices.sticking", label: "Sticking coefficient", unit: "", range: "> 0 to 1" },
+      { path: "ices.photodesorption", label: "Photodesorption", kind: "checkbox" },
+      { path: "ices.cosmic_ray_desorption", label: "Cosmic-ray desorption", kind: "checkbox" },
+      { overrides: true },
+    ],
+  },
+  {
+    title: "Composition", id: "composition", paths: ["composition"],
+    fields: [
+      { subgroup: "composition.carbon", title: "Carbon carriers (fractions of all carbon, sum 1)", fields:
+        [["CO", "CO"], ["CO2", "CO₂"], ["CH4", "CH₄"], ["CH3OH", "CH₃OH"], ["HCN", "HCN"], ["refractory", "refractory"]].map(([k, l]) => (
+          { path: `composition.carbon.${k}`, label: `Carbon in ${l}`, unit: "", range: "0 to 1", optionalZero: true })) },
+      { subgroup: "composition.nitrogen", title: "Nitrogen carriers (fractions of the nitrogen left after HCN, sum 1)", fields:
+        [["N2", "N₂"], ["NH3", "NH₃"]].map(([k, l]) => ({ path: `composition.nitrogen.${k}`, label: `Nitrogen in ${l}`, unit: "", range: "0 to 1", optionalZero: true })) },
+      { subgroup: "composition.sulfur", title: "Sulfur carriers (fractions of all sulfur, sum 1)", fields:
+        [["H2S", "H₂S"], ["refractory", "refractory sulfide"]].map(([k, l]) => ({ path: `composition.sulfur.${k}`, label: `Sulfur in ${l}`, unit: "", range: "0 to 1", optionalZero: true })) },
+      { path: "composition.oxygen_per_silicon", label: "Oxygen atoms per silicon in silicates", unit: "", range: "0 to 10" },
+      { path: "composition.soot_line_k", label: "Soot line (refractory carbon released)", unit: "K", range: "> 0" },
+      { path: "composition.sulfide_release_k", label: "Sulfide release temperature", unit: "K", range: "> 0" },
+      { path: "composition.silicate_sublimation_k", label: "Silicate sublimation temperature", unit: "K", range: "> 0" },
+    ],
+  },
+  {
+    title: "Grid", id: "grid", paths: ["grid"],
+    fields: [
+      { path: "grid.radial_cells", label: "Radial cells (log-spaced)", unit: "", range: "whole number 8 to 4096" },
+      { path: "grid.vertical_cells", label: "Vertical cells per column", unit: "", range: "whole number 8 to 4096" },
+      { path: "grid.max_height_scale_heights", label: "Top of each column", unit: "H", range: "1 to 20" },
+    ],
+  },
+];
+
+const SPECIES = ["H2O", "CO", "CO2", "CH4", "N2", "NH3", "CH3OH", "H2S", "HCN"];
+const OVERRIDE_FIELDS = [
+  ["binding_energy_k", "Binding energy", "K"],
+  ["photodesorption_yield", "Photodesorption yield", "per photon"],
+  ["condensation_temperature_k", "Condensation temperature (step model)", "K"],
+];
+const SUBSCRIPT = { 0: "₀", 1: "₁", 2: "₂", 3: "₃", 4: "₄", 5: "₅", 6: "₆", 7: "₇", 8: "₈", 9: "₉" };
+const formula = (key) => key.replace(/\d/g, (d) => SUBSCRIPT[d]);
+
+// The views: canvas id, what Rust draws there, and the readout element.
+const VIEWS = [
+  { view: "c_to_o", canvas: "canvas-c-to-o", readout: "readout-c-to-o" },
+  { view: "temperature", canvas: "canvas-temperature", readout: "readout-temperature" },
+  { view: "ice_map", canvas: "canvas-ice-map", readout: "readout-ice-map" },
+  { view: "c_to_o_map", canvas: "canvas-c-to-o-map", readout: "readout-c-to-o-map" },
+  { view: "abundances", canvas: "canvas-abundances", readout: "readout-abundances" },
+];
+
+// ---------------------------------------------------------------------------
+// Small helpers.
+// ---------------------------------------------------------------------------
+
+const $ = (id) => document.getElementById(id);
+const clone = (v) => JSON.parse(JSON.stringify(v));
+const pathId = (path) => "f-" + path.replace(/[^A-Za-z0-9_]/g, "-");
+
+function getPath(obj, path) {
+  let v = obj;
+  for (const k of path.split(".")) {
+    if (v == null || typeof v !== "object") return undefined;
+    v = v[k];
+  }
+  return v;
+}
+
+function setPath(obj, path, value) {
+  const keys = path.split(".");
+  let v = obj;
+  for (const k of keys.slice(0, -1)) {
+    if (v[k] == null || typeof v[k] !== "object") v[k] = {};
+    v = v[k];
+  }
+  const last = keys[keys.length - 1];
+  if (value === undefined) delete v[last];
+  else v[last] = value;
+}
+
+// Prunes empty objects left behind by deleted optional fields (an empty
+// override object is the same disk, but keeps the URL short).
+function prune(obj) {
+  for (const [k, v] of Object.entries(obj)) {
+    if (v && typeof v === "object" && !Array.isArray(v)) {
+      prune(v);
+      if (Object.keys(v).length === 0 && k !== "species_overrides") delete obj[k];
+    }
+  }
+  return obj;
+}
+
+// Four significant digits: what a slider position means. Short decimals also
+// parse to the same double in every JSON reader, so the CLI sees the page's numbers exactly.
+const roundSlider = (x) => Number(x.toPrecision(4));
+
+// Typed text as a value for the reader: a finite number when it reads as one,
+// otherwise the text itself, so the reader's message names what was typed.
+function parseTyped(text) {
+  const t = text.trim();
+  if (t !== "" && /^[-+]?(\d+\.?\d*|\.\d+)([eE][-+]?\d+)?$/.test(t)) {
+    const x = Number(t);
+    if (Number.isFinite(x)) return x;
+  }
+  return text;
+}
+
+const showNumber = (v) => (typeof v === "number" ? String(v) : v == null ? "" : String(v));
+
+// The fragment holds the disk as base64url of its compact JSON (only what differs from the defaults).
+function base64urlEncode(text) {
+  const bytes = new TextEncoder().encode(text);
+  let binary = "";
+  for (const b of bytes) binary += String.fromCharCode(b);
+  return btoa(binary).replace(/\+/g, "-").replace(/\//g, "_").replace(/=+$/, "");
+}
+
+function base64urlDecode(text) {
+  const b64 = text.replace(/-/g, "+").replace(/_/g, "/");
+  const binary = atob(b64 + "===".slice((b64.length + 3) % 4));
+  return new TextDecoder().decode(Uint8Array.from(binary, (c) => c.charCodeAt(0)));
+}
+
+// The leaves of `disk` that differ from `base` (objects recursed, everything else compared by value).
+function difference(disk, base) {
+  const out = {};
+  for (const [k, v] of Object.entries(disk)) {
+    const b = base ? base[k] : undefined;
+    if (v && typeof v === "object" && !Array.isArray(v) && b && typeof b === "object") {
+      const d = difference(v, b);
+      if (Object.keys(d).length > 0) out[k] = d;
+    } else if (JSON.stringify(v) !== JSON.stringify(b)) {
+      out[k] = v;
+    }
+  }
+  return out;
+}
+
+function merge(base, extra) {
+  const out = clone(base);
+  for (const [k, v] of Object.entries(extra || {})) {
+    if (v && typeof v === "object" && !Array.isArray(v) && out[k] && typeof out[k] === "object") out[k] = merge(out[k], v);
+    else out[k] = v;
+  }
+  return out;
+}
+
+function download(name, text, type) {
+  const url = URL.createObjectURL(new Blob([text], { type }));
+  const a = document.createElement("a");
+  a.href = url;
+  a.download = name;
+  document.body.append(a);
+  a.click();
+  a.remove();
+  setTimeout(() => URL.revokeObjectURL(url), 1000);
+}
+
+const slug = (name) => (name || "disk").toLowerCase().replace(/[^a-z0-9]+/g, "-").replace(/^-|-$/g, "").slice(0, 60) || "disk";
+
+// ---------------------------------------------------------------------------
+// Start the core.
+// ---------------------------------------------------------------------------
+
+const wasmBytes = Uint8Array.from(atob(NIVALIS_WASM_BASE64), (c) => c.charCodeAt(0));
+initSync({ module: wasmBytes });
+const explorer = new Explorer();
+const DEFAULTS = Explorer.defaultDisk();
+const SPECIES_INFO = Explorer.speciesInfo();
+const DEMOS = JSON.parse($("demo-disks").textContent);
+
+// ---------------------------------------------------------------------------
+// State: `state` is the disk as edited (it may be invalid); the core keeps the
+// last valid result. `history` holds earlier states for undo.
+// ---------------------------------------------------------------------------
+
+let state = clone(DEFAULTS);
+let mapSpecies = "H2O";
+let theme = "system"; // system | light | dark
+const undoStack = [];
+const redoStack = [];
+let lastEditAt = 0;
+let lastEditPath = null;
+let valid = false;
+const timings = { computeMs: NaN, drawMs: NaN };
+
+function pushUndo(path) {
+  // A run of edits of one field within a second (a slider drag, typing) is one undo step.
+  const now = performance.now();
+  if (path !== lastEditPath || now - lastEditAt > 1000) {
+    undoStack.push(JSON.stringify(state));
+    if (undoStack.length > 200) undoStack.shift();
+    redoStack.length = 0;
+  }
+  lastEditAt = now;
+  lastEditPath = path;
+  updateUndoButtons();
+}
+
+function updateUndoButtons() {
+  $("undo-button").disabled = undoStack.length === 0;
+  $("redo-button").disabled = redoStack.length === 0;
+}
+
+function undo() {
+  if (undoStack.length === 0) return;
+  redoStack.push(JSON.stringify(state));
+  state = JSON.parse(undoStack.pop());
+  lastEditPath = null;
+  afterStateChange();
+}
+
+function redo() {
+  if (redoStack.length === 0) return;
+  undoStack.push(JSON.stringify(state));
+  state = JSON.parse(redoStack.pop());
+  lastEditPath = null;
+  afterStateChange();
+}
+
+function afterStateChange() {
+  updateUndoButtons();
+  fillControls();
+  schedule();
+}
+
+// ---------------------------------------------------------------------------
+// Controls.
+// ---------------------------------------------------------------------------
+
+const controls = new Map(); // path -> { input, slider, field }
+
+function problemSlot(path) {
+  const p = document.createElement("p");
+  p.className = "problem";
+  p.id = pathId(path) + "-problem";
+  p.dataset.path = path;
+  p.hidden = true;
+  return p;
+}
+
+function buildField(field, container) {
+  const id = pathId(field.path);
+  const row = document.createElement("div");
+  row.className = "field";
+  const label = document.createElement("label");
+  label.htmlFor = id;
+  label.textContent = field.unit ? `${field.label} [${field.unit}]` : field.label;
+  let input;
+  let slider = null;
+  if (field.kind === "select") {
+    input = document.createElement("select");
+    for (const [value, text] of field.options) input.add(new Option(text, value));
+  } else if (field.kind === "checkbox") {
+    input = document.createElement("input");
+    input.type = "checkbox";
+    row.classList.add("check");
+  } else if (field.kind === "textarea") {
+    input = document.createElement("textarea");
+    input.rows = 2;
+  } else {
+    input = document.createElement("input");
+    input.type = "text";
+    if (field.kind !== "text") {
+      input.inputMode = "decimal";
+      input.spellcheck = false;
+      input.autocomplete = "off";
+      input.className = "number";
+    }
+  }
+  input.id = id;
+  input.name = field.path;
+  const problem = problemSlot(field.path);
+  input.setAttribute("aria-describedby", problem.id + (field.range ? " " + id + "-range" : ""));
+  if (field.kind === "checkbox") {
+    row.append(input, label);
+  } else {
+    row.append(label);
+    const line = document.createElement("div");
+    line.className = "inputs";
+    if (field.slider) {
+      slider = document.createElement("input");
+      slider.type = "range";
+      slider.id = id + "-slider";
+      const s = field.slider;
+      slider.min = s.log ? Math.log10(s.min) : s.min;
+      slider.max = s.log ? Math.log10(s.max) : s.max;
+      slider.step = s.log ? 0.01 : (s.max - s.min) / 200;
+      const sliderLabel = document.createElement("label");
+      sliderLabel.htmlFor = slider.id;
+      sliderLabel.className = "visually-hidden";
+      sliderLabel.textContent = `${label.textContent}, ${s.log ? "logarithmic " : ""}slider from ${s.min} to ${s.max}`;
+      line.append(sliderLabel, slider);
+      slider.addEventListener("input", () => {
+        const x = Number(slider.value);
+        const value = roundSlider(s.log ? 10 ** x : x);
+        input.value = showNumber(value);
+        edit(field.path, value);
+      });
+    }
+    line.append(input);
+    row.append(line);
+    if (field.range) {
+      const range = document.createElement("span");
+      range.className = "range";
+      range.id = id + "-range";
+      range.textContent = `allowed: ${field.range}` + (field.slider ? `; slider ${field.slider.min} to ${field.slider.max}${field.slider.log ? " (log)" : ""}` : "");
+      row.append(range);
+    }
+  }
+  row.append(problem);
+  container.append(row);
+
+  const onEdit = () => {
+    let value;
+    if (field.kind === "checkbox") value = input.checked;
+    else if (field.kind === "select" || field.kind === "text" || field.kind === "textarea") value = input.value;
+    else if (field.optional && input.value.trim() === "") value = undefined; // blank override = built-in value
+    else if (field.optionalZero && input.value.trim() === "") value = 0;
+    else value = parseTyped(input.value);
+    if (slider && typeof value === "number") setSlider(field, slider, value);
+    edit(field.path, value);
+  };
+  input.addEventListener(field.kind === "checkbox" || field.kind === "select" ? "change" : "input", onEdit);
+  controls.set(field.path, { input, slider, field });
+}
+
+function setSlider(field, slider, value) {
+  const s = field.slider;
+  if (s.log) slider.value = value > 0 ? Math.log10(value) : slider.min;
+  else slider.value = value;
+}
+
+function buildOverrides(container) {
+  const box = document.createElement("fieldset");
+  box.className = "subgroup overrides";
+  const legend = document.createElement("legend");
+  legend.textContent = "Per-species data (blank = built-in value, shown greyed)";
+  box.append(legend, problemSlot("ices.species_overrides"));
+  for (const sp of SPECIES) {
+    const details = document.createElement("details");
+    const summary = document.createElement("summary");
+    summary.textContent = formula(sp);
+    details.append(summary, problemSlot(`ices.species_overrides.${sp}`));
+    for (const [key, label, unit] of OVERRIDE_FIELDS) {
+      buildField({ path: `ices.species_overrides.${sp}.${key}`, label: `${formula(sp)} ${label.toLowerCase()}`, unit, optional: true,
+        range: key === "photodesorption_yield" ? "0 to 1; blank = built-in" : "> 0; blank = built-in" }, details);
+    }
+    box.append(details);
+  }
+  container.append(box);
+}
+
+function buildControls() {
+  const form = $("controls");
+  const setSelect = (path, options) => {
+    for (const g of GROUPS) for (const f of g.fields) if (f.path === path) f.options = options;
+  };
+  setSelect("ices.binding_energies", SPECIES_INFO.binding_energy_sets.map((k) => [k, k.replace(/_/g, " ")]));
+  for (const group of GROUPS) {
+    const fs = document.createElement("fieldset");
+    fs.className = "group";
+    fs.id = "group-" + group.id;
+    const legend = document.createElement("legend");
+    legend.textContent = group.title;
+    fs.append(legend);
+    if (group.note) {
+      const note = document.createElement("p");
+      note.className = "note";
+      note.textContent = group.note;
+      fs.append(note);
+    }
+    for (const p of group.paths) if (!p.includes(".") || group.id === "star" || group.id === "ices") fs.append(problemSlot(p));
+    for (const field of group.fields) {
+      if (field.overrides) buildOverrides(fs);
+      else if (field.subgroup) {
+        const sub = document.createElement("fieldset");
+        sub.className = "subgroup";
+        const l = document.createElement("legend");
+        l.textContent = field.title;
+        sub.append(l, problemSlot(field.subgroup));
+        for (const f of field.fields) buildField(f, sub);
+        fs.append(sub);
+      } else buildField(field, fs);
+    }
+    form.append(fs);
+  }
+  // Problem slots for objects whose fields are all listed under other paths.
+  for (const path of ["disk.opacity", "disk.vertical_temperature", "disk", "star.abundances", "(file)", "(model)"]) {
+    if (!document.getElementById(pathId(path) + "-problem")) {
+      const anchor = path === "disk.opacity" ? controls.get("disk.opacity.kind").input.closest(".field")
+        : path === "disk.vertical_temperature" ? controls.get("disk.vertical_temperature.kind").input.closest(".field")
+        : path.startsWith("disk") ? $("group-disk").querySelector("legend")
+        : path.startsWith("star") ? $("group-star").querySelector("legend") : null;
+      if (anchor) anchor.after(problemSlot(path));
+    }
+  }
+}
+
+// Shows `state` in the controls (after undo, a demo, a file, the URL).
+function fillControls() {
+  for (const [path, { input, slider, field }] of controls) {
+    const v = getPath(state, path);
+    if (field.kind === "checkbox") input.checked = Boolean(v);
+    else if (field.kind === "select") input.value = v == null ? input.options[0].value : v;
+    else input.value = showNumber(v);
+    if (slider && typeof v === "number") setSlider(field, slider, v);
+  }
+  refreshPlaceholders();
+  $("map-species").value = mapSpecies;
+}
+
+// Blank override fields show the built-in value of the chosen binding-energy set.
+function refreshPlaceholders() {
+  const set = getPath(state, "ices.binding_energies");
+  for (const info of SPECIES_INFO.species) {
+    const base = `ices.species_overrides.${info.species}.`;
+    const values = {
+      binding_energy_k: info.binding_energy_k[set] ?? Object.values(info.binding_energy_k)[0],
+      photodesorption_yield: info.photodesorption_yield,
+      condensation_temperature_k: info.condensation_temperature_k,
+    };
+    for (const [key, value] of Object.entries(values)) {
+      const c = controls.get(base + key);
+      if (c) c.input.placeholder = String(value);
+    }
+  }
+}
+
+function edit(path, value) {
+  pushUndo(path);
+  setPath(state, path, value);
+  if (path === "ices.binding_energies") refreshPlaceholders();
+  schedule();
+}
+
+// ---------------------------------------------------------------------------
+// Compute and draw, at most once per animation frame.
+// ---------------------------------------------------------------------------
+
+let framePending = false;
+let lastSamples = 200 * 81;
+let lastComputePerSample = NaN;
+
+function schedule() {
+  if (framePending) return;
+  framePending = true;
+  // A grid much larger than the last one may take longer than a frame: show the
+  // busy mark first and compute after the browser has painted it.
+  const samples = sampleCount(state);
+  const predictedMs = Number.isFinite(lastComputePerSample) ? samples * lastComputePerSample : 0;
+  if (predictedMs > 50) {
+    $("busy").hidden = false;
+    $("busy").textContent = `computing ${samples.toLocaleString("en")} samples (about ${(predictedMs / 1000).toFixed(1)} s)…`;
+    document.body.classList.add("is-busy");
+    requestAnimationFrame(() => setTimeout(runNow, 0));
+  } else {
+    requestAnimationFrame(runNow);
+  }
+}
+
+function sampleCount(disk) {
+  const r = Number(getPath(disk, "grid.radial_cells"));
+  const z = Number(getPath(disk, "grid.vertical_cells"));
+  return Number.isFinite(r) && Number.isFinite(z) ? r * (z + 1) : lastSamples;
+}
+
+function runNow() {
+  framePending = false;
+  const t0 = performance.now();
+  const result = explorer.update(prune(clone(state)));
+  const t1 = performance.now();
+  showProblems(result.problems || []);
+  if (result.ok) {
+    valid = true;
+    timings.computeMs = t1 - t0;
+    lastSamples = result.summary.samples;
+    lastComputePerSample = timings.computeMs / Math.max(1, lastSamples);
+    const t2 = performance.now();
+    drawAll();
+    fillSnowlineTable();
+    timings.drawMs = performance.now() - t2;
+    writeFragment();
+    $("status").textContent = `${result.summary.name || "Unnamed disk"}: ${result.summary.radial_cells} × ${result.summary.vertical_cells} cells, star C/O ${result.summary.star_c_to_o.toFixed(3)}. Computed in ${timings.computeMs.toFixed(1)} ms, drawn in ${timings.drawMs.toFixed(1)} ms.`;
+  }
+  $("busy").hidden = true;
+  document.body.classList.remove("is-busy");
+  document.body.dataset.ready = "true";
+}
+
+function showProblems(problems) {
+  for (const el of document.querySelectorAll(".problem")) {
+    el.hidden = true;
+    el.textContent = "";
+  }
+  for (const el of document.querySelectorAll("[aria-invalid]")) el.removeAttribute("aria-invalid");
+  const banner = $("banner");
+  if (problems.length === 0) {
+    banner.hidden = true;
+    banner.textContent = "";
+    return;
+  }
+  const unplaced = [];
+  for (const p of problems) {
+    const slot = findSlot(p.path);
+    if (slot) {
+      slot.hidden = false;
+      slot.textContent = (slot.textContent ? slot.textContent + " " : "") + (slot.dataset.path === p.path ? p.message : `${p.path}: ${p.message}`);
+      const c = controls.get(p.path);
+      if (c) c.input.setAttribute("aria-invalid", "true");
+      const details = slot.closest("details");
+      if (details) details.open = true;
+    } else unplaced.push(`${p.path}: ${p.message}`);
+  }
+  banner.hidden = false;
+  banner.className = "banner warn";
+  banner.textContent = (valid ? "This input is not valid, so the results below are still those of the last valid disk. " : "This input is not valid. ")
+    + (unplaced.length ? unplaced.join(" · ") : `${problems.length} problem${problems.length > 1 ? "s" : ""}, shown beside the field${problems.length > 1 ? "s" : ""}.`);
+}
+
+// The slot of a problem: the field's own, else that of the nearest enclosing object.
+function findSlot(path) {
+  let p = path;
+  while (p) {
+    const el = document.getElementById(pathId(p) + "-problem");
+    if (el) return el;
+    const i = p.lastIndexOf(".");
+    if (i < 0) break;
+    p = p.slice(0, i);
+  }
+  return null;
+}
+
+function themeName() {
+  if (theme !== "system") return theme;
+  return matchMedia("(prefers-color-scheme: dark)").matches ? "dark" : "light";
+}
+
+function sizeCanvas(canvas) {
+  const ratio = window.devicePixelRatio || 1;
+  const rect = canvas.getBoundingClientRect();
+  const w = Math.max(200, Math.round(rect.width * ratio));
+  const h = Math.max(150, Math.round(rect.height * ratio));
+  if (canvas.width !== w || canvas.height !== h) {
+    canvas.width = w;
+    canvas.height = h;
+  }
+  return ratio;
+}
+
+function drawAll() {
+  if (!valid) return;
+  const options = { theme: themeName(), species: mapSpecies };
+  for (const v of VIEWS) {
+    const canvas = $(v.canvas);
+    options.pixelRatio = sizeCanvas(canvas);
+    try {
+      explorer.draw(v.view, v.canvas, options);
+    } catch (e) {
+      $(v.readout).textContent = `This view could not be drawn: ${e.message || e}`;
+    }
+  }
+}
+
+function cell(text, attrs = {}) {
+  const td = document.createElement("td");
+  td.textContent = text;
+  for (const [k, v] of Object.entries(attrs)) td.setAttribute(k, v);
+  return td;
+}
+
+const sig = (x, n = 3) => (x == null ? "–" : Number(x.toPrecision(n)).toString());
+
+function fillSnowlineTable() {
+  const body = $("snowline-table").tBodies[0];
+  body.replaceChildren();
+  for (const row of explorer.snowlineTable()) {
+    const lines = row.snowlines.length ? row.snowlines : [null];
+    lines.forEach((line, i) => {
+      const tr = document.createElement("tr");
+      tr.dataset.species = row.species;
+      if (i === 0) {
+        const th = document.createElement("th");
+        th.scope = "row";
+        th.rowSpan = lines.length;
+        th.textContent = formula(row.species);
+        tr.append(th);
+      }
+      if (line) {
+        tr.append(cell(sig(line.radius_au), { "data-radius-au": String(line.radius_au) }),
+          cell(line.direction === "freeze_out" ? "freezes out (ice outside)" : "desorbs (gas outside)"),
+          cell(sig(line.midplane_temperature_k)));
+      } else {
+        const why = row.inner_edge === "absent" ? "species absent (no carrier)"
+          : row.inner_edge === "ice_at_inner_edge" ? "none: ice everywhere on the grid" : "none: gas everywhere on the grid";
+        tr.append(cell(why, { colspan: "3" }));
+      }
+      if (i === 0) {
+        tr.append(cell(sig(row.condensation_temperature_k), { rowspan: String(lines.length) }),
+          cell(sig(row.binding_energy_k, 4), { rowspan: String(lines.length) }),
+          cell(row.abundance_per_h > 0 ? row.abundance_per_h.toExponential(2) : "0", { rowspan: String(lines.length) }));
+      }
+      body.append(tr);
+    });
+  }
+}
+
+// ---------------------------------------------------------------------------
+// The URL fragment: #disk=<base64url of the compact disk JSON>&species=..&theme=..
+// ---------------------------------------------------------------------------
+
+function writeFragment() {
+  const diff = difference(prune(clone(state)), DEFAULTS);
+  const parts = [`disk=${base64urlEncode(JSON.stringify(diff))}`];
+  if (mapSpecies !== "H2O") parts.push(`species=${mapSpecies}`);
+  if (theme !== "system") parts.push(`theme=${theme}`);
+  const hash = "#" + parts.join("&");
+  if (location.hash !== hash) history.replaceState(null, "", hash);
+}
+
+function readFragment() {
+  const params = new URLSearchParams(location.hash.slice(1));
+  if (params.has("species") && SPECIES.includes(params.get("species"))) mapSpecies = params.get("species");
+  if (["light", "dark", "system"].includes(params.get("theme"))) theme = params.get("theme");
+  if (!params.has("disk")) return false;
+  try {
+    state = merge(DEFAULTS, JSON.parse(base64urlDecode(params.get("disk"))));
+    return true;
+  } catch (e) {
+    showBanner(`The address holds a disk that cannot be read (${e.message}); showing the default disk.`);
+    return false;
+  }
+}
+
+function showBanner(text) {
+  const banner = $("banner");
+  banner.hidden = false;
+  banner.className = "banner warn";
+  banner.textContent = text;
+}
+
+// ---------------------------------------------------------------------------
+// Disk files: demos, Open, Save.
+// ---------------------------------------------------------------------------
+
+// Loads a whole disk (demo or file). Valid: it becomes the state (resolved, so
+// every control shows a value). Invalid: nothing changes but the message.
+function loadDisk(result, what) {
+  if (!result.ok) {
+    showBanner(`${what} was not loaded: ` + result.problems.map((p) => `${p.path}: ${p.message}`).join(" · "));
+    return;
+  }
+  undoStack.push(JSON.stringify(state));
+  redoStack.length = 0;
+  lastEditPath = null;
+  state = explorer.resolvedDisk();
+  valid = true;
+  showProblems([]);
+  afterStateChange();
+}
+
+function buildDiskPicker() {
+  const picker = $("demo-picker");
+  picker.add(new Option("default disk", ""));
+  for (const [file, disk] of Object.entries(DEMOS)) picker.add(new Option(disk.name || file, file));
+  picker.addEventListener("change", () => {
+    const file = picker.value;
+    loadDisk(explorer.update(file ? DEMOS[file] : {}), file ? `Demo ${file}` : "The default disk");
+  });
+}
+
+// ---------------------------------------------------------------------------
+// Hover readouts: Rust maps the canvas pixel back to data (ChartLayout).
+// ---------------------------------------------------------------------------
+
+function attachReadouts() {
+  for (const v of VIEWS) {
+    const canvas = $(v.canvas);
+    const out = $(v.readout);
+    const show = (ev) => {
+      const rect = canvas.getBoundingClientRect();
+      const x = (ev.clientX - rect.left) * (canvas.width / rect.width);
+      const y = (ev.clientY - rect.top) * (canvas.height / rect.height);
+      const text = explorer.readout(v.canvas, x, y);
+      out.textContent = text || "Point inside the plotting area for values.";
+    };
+    canvas.addEventListener("mousemove", show);
+    canvas.addEventListener("mouseleave", () => { out.textContent = "Point at the chart for values."; });
+  }
+}
+
+// ---------------------------------------------------------------------------
+// Wiring.
+// ---------------------------------------------------------------------------
+
+function setTheme(next) {
+  theme = next;
+  document.documentElement.dataset.theme = theme;
+  $("theme-button").textContent = `Theme: ${theme}`;
+  drawAll();
+  if (valid) writeFragment();
+}
+
+function start() {
+  buildControls();
+  buildDiskPicker();
+  const speciesPicker = $("map-species");
+  for (const sp of SPECIES) speciesPicker.add(new Option(formula(sp), sp));
+  speciesPicker.addEventListener("change", () => {
+    mapSpecies = speciesPicker.value;
+    const view = VIEWS.find((v) => v.view === "ice_map");
+    if (valid) {
+      const canvas = $(view.canvas);
+      explorer.draw(view.view, view.canvas, { theme: themeName(), species: mapSpecies, pixelRatio: sizeCanvas(canvas) });
+      writeFragment();
+    }
+  });
+
+  readFragment();
+  document.documentElement.dataset.theme = theme;
+  $("theme-button").textContent = `Theme: ${theme}`;
+  fillControls();
+
+  $("theme-button").addEventListener("click", () => setTheme({ system: "light", light: "dark", dark: "system" }[theme]));
+  matchMedia("(prefers-color-scheme: dark)").addEventListener("change", () => { if (theme === "system") drawAll(); });
+  $("undo-button").addEventListener("click", undo);
+  $("redo-button").addEventListener("click", redo);
+  document.addEventListener("keydown", (ev) => {
+    if (!(ev.ctrlKey || ev.metaKey)) return;
+    const key = ev.key.toLowerCase();
+    if (key === "z" && !ev.shiftKey) { ev.preventDefault(); undo(); }
+    else if ((key === "z" && ev.shiftKey) || key === "y") { ev.preventDefault(); redo(); }
+  });
+  $("open-button").addEventListener("click", () => $("open-file").click());
+  $("open-file").addEventListener("change", () => {
+    const file = $("open-file").files[0];
+    if (!file) return;
+    const reader = new FileReader();
+    reader.onload = () => loadDisk(explorer.updateFromText(String(reader.result)), `File ${file.name}`);
+    reader.onerror = () => showBanner(`File ${file.name} could not be read: ${reader.error}`);
+    reader.readAsText(file);
+    $("open-file").value = "";
+  });
+  $("save-button").addEventListener("click", () => {
+    const text = explorer.exportText("disk");
+    if (text) download(`${slug(getPath(state, "name"))}.json`, text, "application/json");
+  });
+  const extensions = { profile_csv: "-profile.csv", profile_ecsv: "-profile.ecsv", profile_json: "-profile.json",
+    structure_csv: "-structure.csv", snowlines_json: "-snowlines.json", disk: ".json" };
+  for (const button of document.querySelectorAll("[data-export]")) {
+    button.addEventListener("click", () => {
+      const what = button.dataset.export;
+      const text = explorer.exportText(what);
+      if (text) download(slug(getPath(state, "name")) + extensions[what], text, what.endsWith("csv") ? "text/csv" : "text/plain");
+    });
+  }
+  attachReadouts();
+  let resizeFrame = 0;
+  new ResizeObserver(() => {
+    cancelAnimationFrame(resizeFrame);
+    resizeFrame = requestAnimationFrame(drawAll);
+  }).observe($("views"));
+
+  runNow();
+}
+
+// For the browser tests and the benchmark (tests/browser): the running core and
+// the page's own compute and draw steps, so they time exactly what the page does.
+window.nivalis = {
+  explorer,
+  timings,
+  get state() { return clone(state); },
+  computeOnce: () => explorer.update(prune(clone(state))),
+  drawOnce: () => { drawAll(); fillSnowlineTable(); },
+  edit,
+};
+
+start();
