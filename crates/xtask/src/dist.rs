@@ -1,18 +1,274 @@
 //! `cargo xtask dist`: builds the single-file page `target/site/nivalis.html`
 //! from `crates/web` (compiled to wasm32-unknown-unknown) and `web/`.
 //!
-//! Placeholder: the page engineer replaces the body of [`dist`] when the web
-//! crate lands. Until then it reports that the page cannot be built, and the
-//! other commands react to that: `open` shows the CLI's output instead and
-//! `test` skips the page build while `crates/web/Cargo.toml` is absent.
-//! The signature is the contract the other commands rely on.
+//! Steps:
+//! 1. make sure the wasm target is installed (`rustup target add` when missing);
+//! 2. `cargo build -p nivalis-web --target wasm32-unknown-unknown` with the
+//!    size-optimised `wasm-release` profile (or the dev profile for `--dev`);
+//! 3. generate the JavaScript glue with the `wasm-bindgen-cli-support` library
+//!    (target `web`, no TypeScript, name and producers sections removed), so no
+//!    separately installed `wasm-bindgen` CLI is needed and the glue always
+//!    matches the pinned `wasm-bindgen` of the web crate;
+//! 4. optionally shrink the module with `wasm-opt` from npm's `binaryen`
+//!    package, when `tests/browser/node_modules/.bin/wasm-opt` exists
+//!    (Debian's older binaryen is never used: its output fails at start-up);
+//! 5. fill the template `web/index.html`: the CSS (`web/style.css`), every
+//!    `demo_disks/*.json` as one JSON object in a `<script type="application/json">`,
+//!    and ONE inline `<script type="module">` holding the glue, the wasm as
+//!    base64 (decoded and compiled with `initSync`) and the app (`web/app.js`).
+//!
+//! Nothing is loaded from a second file: Chromium refuses `fetch()` and module
+//! imports from `file://`, and the page's Content-Security-Policy (in the
+//! template) forbids every network connection anyway.
 
-use std::path::PathBuf;
+use std::path::{Path, PathBuf};
+use std::process::Command;
+
+use crate::{cargo, relative, repo_root, run};
+
+/// The target the page is compiled to.
+const WASM_TARGET: &str = "wasm32-unknown-unknown";
+
+/// Where the template asks for each piece; each must appear exactly once.
+const STYLE_SLOT: &str = "<!-- nivalis:style -->";
+const DEMO_SLOT: &str = "<!-- nivalis:demo-disks -->";
+const SCRIPT_SLOT: &str = "<!-- nivalis:script -->";
 
 /// Builds the page and returns the path of the finished HTML file.
 /// `release` selects the size-optimised `wasm-release` profile; `false` is a
 /// faster unoptimised build for development.
 pub fn dist(release: bool) -> Result<PathBuf, String> {
-    let _ = release;
-    Err("the web page crate does not exist yet".to_string())
+    let root = repo_root();
+    crate::test::ensure_wasm_target()?;
+    let profile = if release { "wasm-release" } else { "dev" };
+    // `strip = "debuginfo"` instead of the profile's `strip = true`: a full strip
+    // also drops the `target_features` section wasm-bindgen reads to know which
+    // wasm features the module uses. The name section (symbols) is removed by
+    // wasm-bindgen below, so the module is as small either way.
+    run(cargo().current_dir(&root).args([
+        "build",
+        "-p",
+        "nivalis-web",
+        "--lib",
+        "--target",
+        WASM_TARGET,
+        "--profile",
+        profile,
+        "--config",
+        "profile.wasm-release.strip=\"debuginfo\"",
+    ]))?;
+    let target_dir = std::env::var_os("CARGO_TARGET_DIR").map(PathBuf::from).unwrap_or_else(|| root.join("target"));
+    // Cargo names the dev profile's output directory `debug`.
+    let profile_dir = if release { "wasm-release" } else { "debug" };
+    let wasm_path = target_dir.join(WASM_TARGET).join(profile_dir).join("nivalis_web.wasm");
+
+    let (glue, mut wasm) = bindgen(&wasm_path)?;
+    if release && std::env::var_os("NIVALIS_KEEP_NAMES").is_none() {
+        // wasm-opt comes from npm's binaryen, a dev dependency of the browser
+        // tests; without npm the page is still built, only larger.
+        if let Err(message) = crate::test::ensure_browser_packages() {
+            println!("could not install the npm packages of tests/browser ({message}); skipping wasm-opt");
+        }
+        wasm = optimise(&root, wasm)?;
+    }
+
+    let read = |path: &Path| std::fs::read_to_string(path).map_err(|e| format!("cannot read {}: {e}", relative(path)));
+    let template = read(&root.join("web/index.html"))?;
+    let style = read(&root.join("web/style.css"))?;
+    let app = read(&root.join("web/app.js"))?;
+    let demos = demo_disks_json(&root.join("demo_disks"))?;
+
+    let script = format!(
+        "{glue}\n// The WebAssembly module, base64 (inlined so the page is one file).\nconst NIVALIS_WASM_BASE64 = \"{}\";\n{app}",
+        base64(&wasm)
+    );
+    for (what, text) in [("web/app.js with the glue", script.as_str()), ("web/style.css", style.as_str())] {
+        if text.to_ascii_lowercase().contains("</script") || text.to_ascii_lowercase().contains("</style") {
+            return Err(format!("{what} contains a closing </script> or </style> tag, which would end its inline element early"));
+        }
+    }
+    let html = fill(&template, STYLE_SLOT, &format!("<style>\n{style}</style>"))?;
+    let html = fill(
+        &html,
+        DEMO_SLOT,
+        &format!("<script type=\"application/json\" id=\"demo-disks\">{demos}</script>"),
+    )?;
+    let html = fill(&html, SCRIPT_SLOT, &format!("<script type=\"module\">\n{script}\n</script>"))?;
+
+    let site = target_dir.join("site");
+    std::fs::create_dir_all(&site).map_err(|e| format!("cannot create {}: {e}", relative(&site)))?;
+    let page = site.join("nivalis.html");
+    std::fs::write(&page, &html).map_err(|e| format!("cannot write {}: {e}", relative(&page)))?;
+    println!(
+        "page: {} ({} bytes: wasm {} bytes, {} as base64; glue {} bytes)",
+        relative(&page),
+        html.len(),
+        wasm.len(),
+        wasm.len().div_ceil(3) * 4,
+        glue.len()
+    );
+    Ok(page)
+}
+
+/// Runs wasm-bindgen on the compiled module: the ES-module glue (target `web`)
+/// and the processed module bytes.
+fn bindgen(wasm_path: &Path) -> Result<(String, Vec<u8>), String> {
+    if !wasm_path.is_file() {
+        return Err(format!("the build did not produce {}", relative(wasm_path)));
+    }
+    // NIVALIS_KEEP_NAMES=1 keeps the function names, so a browser profile of
+    // the page names Rust functions (for performance work; the page is larger).
+    let keep_names = std::env::var_os("NIVALIS_KEEP_NAMES").is_some_and(|v| v == "1");
+    let mut bindgen = wasm_bindgen_cli_support::Bindgen::new();
+    bindgen
+        .input_path(wasm_path)
+        .web(true)
+        .map_err(|e| format!("wasm-bindgen: {e:#}"))?
+        .typescript(false)
+        .debug(false)
+        .remove_name_section(!keep_names)
+        .remove_producers_section(true);
+    let mut output = bindgen.generate_output().map_err(|e| format!("wasm-bindgen: {e:#}"))?;
+    if !output.snippets().values().all(Vec::is_empty) || !output.local_modules().is_empty() {
+        // Snippets would be extra JS files; the page must stay one file.
+        return Err("wasm-bindgen produced JS snippets or local modules; the page cannot inline them".to_string());
+    }
+    let glue = output.js().to_string();
+    let wasm = output.wasm_mut().emit_wasm();
+    Ok((glue, wasm))
+}
+
+/// Shrinks the module with npm binaryen's `wasm-opt -Oz` when it is installed
+/// in `tests/browser/node_modules`; otherwise returns it unchanged.
+fn optimise(root: &Path, wasm: Vec<u8>) -> Result<Vec<u8>, String> {
+    let tool = root.join("tests/browser/node_modules/.bin/wasm-opt");
+    if !tool.is_file() {
+        println!("wasm-opt (npm binaryen) not installed in tests/browser; module left as built");
+        return Ok(wasm);
+    }
+    let dir = std::env::temp_dir().join(format!("nivalis-dist-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).map_err(|e| format!("cannot create {}: {e}", dir.display()))?;
+    let (input, output) = (dir.join("in.wasm"), dir.join("out.wasm"));
+    std::fs::write(&input, &wasm).map_err(|e| format!("cannot write {}: {e}", input.display()))?;
+    // The features match what rustc's wasm32 target emits by default.
+    let outcome = run(Command::new(&tool)
+        .arg("-Oz")
+        .args(["--enable-bulk-memory", "--enable-nontrapping-float-to-int", "--enable-sign-ext", "--enable-mutable-globals", "--enable-multivalue", "--enable-reference-types"])
+        .arg(&input)
+        .arg("-o")
+        .arg(&output));
+    let result = match outcome {
+        Ok(()) => std::fs::read(&output).map_err(|e| format!("cannot read {}: {e}", output.display())),
+        Err(message) => {
+            println!("wasm-opt failed ({message}); module left as built");
+            Ok(wasm)
+        }
+    };
+    let _ = std::fs::remove_dir_all(&dir);
+    result
+}
+
+/// Replaces the one occurrence of `slot` in `template`.
+fn fill(template: &str, slot: &str, content: &str) -> Result<String, String> {
+    match template.matches(slot).count() {
+        1 => Ok(template.replacen(slot, content, 1)),
+        n => Err(format!("web/index.html must contain {slot} exactly once, found {n}")),
+    }
+}
+
+/// Every `*.json` in `dir` as one JSON object `{"file.json": <file's JSON>, ...}`,
+/// sorted by name. Each file is embedded as written (it is JSON already); `</`
+/// becomes `<\/`, an escape JSON allows and that cannot end the `<script>` early
+/// (outside strings JSON has no `<`).
+fn demo_disks_json(dir: &Path) -> Result<String, String> {
+    let mut files: Vec<PathBuf> = match std::fs::read_dir(dir) {
+        Ok(entries) => entries.filter_map(|e| e.ok().map(|e| e.path())).collect(),
+        Err(_) => Vec::new(),
+    };
+    files.retain(|p| p.is_file() && p.extension().is_some_and(|x| x == "json"));
+    files.sort();
+    let mut out = String::from("{");
+    for (i, file) in files.iter().enumerate() {
+        let text = std::fs::read_to_string(file).map_err(|e| format!("cannot read {}: {e}", relative(file)))?;
+        let trimmed = text.trim();
+        if !trimmed.starts_with('{') || !trimmed.ends_with('}') {
+            return Err(format!("{} is not a JSON object", relative(file)));
+        }
+        // Invariant: file_name exists because read_dir lists entries by name.
+        let name = file.file_name().expect("listed file has a name").to_string_lossy();
+        if i > 0 {
+            out.push(',');
+        }
+        out.push_str(&json_string(&name));
+        out.push(':');
+        out.push_str(&trimmed.replace("</", "<\\/"));
+    }
+    out.push('}');
+    Ok(out)
+}
+
+/// A JSON string literal.
+fn json_string(s: &str) -> String {
+    let mut out = String::from("\"");
+    for c in s.chars() {
+        match c {
+            '"' => out.push_str("\\\""),
+            '\\' => out.push_str("\\\\"),
+            '<' => out.push_str("\\u003c"),
+            c if (c as u32) < 0x20 => out.push_str(&format!("\\u{:04x}", c as u32)),
+            c => out.push(c),
+        }
+    }
+    out.push('"');
+    out
+}
+
+/// Standard base64 (RFC 4648 section 4) with padding, what `atob` decodes.
+fn base64(bytes: &[u8]) -> String {
+    const ALPHABET: &[u8; 64] = b"ABCDEFGHIJKLMNOPQRSTUVWXYZabcdefghijklmnopqrstuvwxyz0123456789+/";
+    let mut out = String::with_capacity(bytes.len().div_ceil(3) * 4);
+    for chunk in bytes.chunks(3) {
+        let b = [chunk[0], *chunk.get(1).unwrap_or(&0), *chunk.get(2).unwrap_or(&0)];
+        let n = (u32::from(b[0]) << 16) | (u32::from(b[1]) << 8) | u32::from(b[2]);
+        for (i, shift) in [18, 12, 6, 0].into_iter().enumerate() {
+            if i <= chunk.len() {
+                out.push(ALPHABET[((n >> shift) & 63) as usize] as char);
+            } else {
+                out.push('=');
+            }
+        }
+    }
+    out
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn base64_matches_rfc_4648_test_vectors() {
+        // RFC 4648 section 10 test vectors.
+        for (input, expected) in [("", ""), ("f", "Zg=="), ("fo", "Zm8="), ("foo", "Zm9v"), ("foob", "Zm9vYg=="), ("fooba", "Zm9vYmE="), ("foobar", "Zm9vYmFy")] {
+            assert_eq!(base64(input.as_bytes()), expected, "{input}");
+        }
+    }
+
+    #[test]
+    fn slots_must_appear_once() {
+        assert_eq!(fill("a<!-- x -->b", "<!-- x -->", "Z").unwrap(), "aZb");
+        assert!(fill("ab", "<!-- x -->", "Z").is_err());
+        assert!(fill("<!-- x --><!-- x -->", "<!-- x -->", "Z").is_err());
+    }
+
+    #[test]
+    fn demo_disks_become_one_object_that_cannot_close_the_script() {
+        let dir = std::env::temp_dir().join(format!("xtask-demo-disks-{}", std::process::id()));
+        std::fs::create_dir_all(&dir).unwrap();
+        std::fs::write(dir.join("b.json"), "{\"name\": \"x</script>\"}\n").unwrap();
+        std::fs::write(dir.join("a.json"), "{}").unwrap();
+        std::fs::write(dir.join("notes.md"), "not a disk").unwrap();
+        let json = demo_disks_json(&dir).unwrap();
+        std::fs::remove_dir_all(&dir).unwrap();
+        assert_eq!(json, "{\"a.json\":{},\"b.json\":{\"name\": \"x<\\/script>\"}}");
+    }
 }
