@@ -82,6 +82,22 @@ impl ProfileData {
         self
     }
 
+    /// Build from the planet module's inverse map (its rows are radius-major;
+    /// this transposes them), with its 1- and 2-sigma thresholds and best fit.
+    pub fn from_map(map: &nivalis_physics::planet::ChiSquareMap) -> Chi2Data {
+        let (n_r, n_q) = (map.radius_au.len(), map.solid_to_gas.len());
+        let mut chi2 = vec![f64::NAN; n_r * n_q];
+        for j in 0..n_r {
+            for k in 0..n_q {
+                if let Some(c) = map.rows[j * n_q + k].chi2 {
+                    chi2[k * n_r + j] = c;
+                }
+            }
+        }
+        let thresholds = vec![("1σ".to_string(), map.thresholds.one_sigma), ("2σ".to_string(), map.thresholds.two_sigma)];
+        Chi2Data::new(&map.radius_au, &map.solid_to_gas, &chi2, &thresholds, map.best.map(|b| (b.radius_au, b.solid_to_gas)))
+    }
+
     pub(crate) fn validate(&self) -> Result<(), ChartError> {
         check_increasing_positive("radius_au", &self.radius_au)?;
         let n = self.radius_au.len();
@@ -118,6 +134,22 @@ impl TemperatureData {
             accretion_temperature_k: wrap(&s.accretion_temperature_k),
             surface_density_g_cm2: wrap(&s.surface_density_g_cm2),
         }
+    }
+
+    /// Build from the planet module's inverse map (its rows are radius-major;
+    /// this transposes them), with its 1- and 2-sigma thresholds and best fit.
+    pub fn from_map(map: &nivalis_physics::planet::ChiSquareMap) -> Chi2Data {
+        let (n_r, n_q) = (map.radius_au.len(), map.solid_to_gas.len());
+        let mut chi2 = vec![f64::NAN; n_r * n_q];
+        for j in 0..n_r {
+            for k in 0..n_q {
+                if let Some(c) = map.rows[j * n_q + k].chi2 {
+                    chi2[k * n_r + j] = c;
+                }
+            }
+        }
+        let thresholds = vec![("1σ".to_string(), map.thresholds.one_sigma), ("2σ".to_string(), map.thresholds.two_sigma)];
+        Chi2Data::new(&map.radius_au, &map.solid_to_gas, &chi2, &thresholds, map.best.map(|b| (b.radius_au, b.solid_to_gas)))
     }
 
     pub(crate) fn validate(&self) -> Result<(), ChartError> {
@@ -171,6 +203,22 @@ impl AbundanceData {
         AbundanceData { radius_au: s.radius_cm.iter().map(|r| r / AU_CM).collect(), species }
     }
 
+    /// Build from the planet module's inverse map (its rows are radius-major;
+    /// this transposes them), with its 1- and 2-sigma thresholds and best fit.
+    pub fn from_map(map: &nivalis_physics::planet::ChiSquareMap) -> Chi2Data {
+        let (n_r, n_q) = (map.radius_au.len(), map.solid_to_gas.len());
+        let mut chi2 = vec![f64::NAN; n_r * n_q];
+        for j in 0..n_r {
+            for k in 0..n_q {
+                if let Some(c) = map.rows[j * n_q + k].chi2 {
+                    chi2[k * n_r + j] = c;
+                }
+            }
+        }
+        let thresholds = vec![("1σ".to_string(), map.thresholds.one_sigma), ("2σ".to_string(), map.thresholds.two_sigma)];
+        Chi2Data::new(&map.radius_au, &map.solid_to_gas, &chi2, &thresholds, map.best.map(|b| (b.radius_au, b.solid_to_gas)))
+    }
+
     pub(crate) fn validate(&self) -> Result<(), ChartError> {
         check_increasing_positive("radius_au", &self.radius_au)?;
         if self.species.is_empty() {
@@ -217,6 +265,22 @@ impl Chi2Data {
             x_label: "formation radius r [au]".to_string(),
             y_label: "solid-to-gas ratio".to_string(),
         }
+    }
+
+    /// Build from the planet module's inverse map (its rows are radius-major;
+    /// this transposes them), with its 1- and 2-sigma thresholds and best fit.
+    pub fn from_map(map: &nivalis_physics::planet::ChiSquareMap) -> Chi2Data {
+        let (n_r, n_q) = (map.radius_au.len(), map.solid_to_gas.len());
+        let mut chi2 = vec![f64::NAN; n_r * n_q];
+        for j in 0..n_r {
+            for k in 0..n_q {
+                if let Some(c) = map.rows[j * n_q + k].chi2 {
+                    chi2[k * n_r + j] = c;
+                }
+            }
+        }
+        let thresholds = vec![("1σ".to_string(), map.thresholds.one_sigma), ("2σ".to_string(), map.thresholds.two_sigma)];
+        Chi2Data::new(&map.radius_au, &map.solid_to_gas, &chi2, &thresholds, map.best.map(|b| (b.radius_au, b.solid_to_gas)))
     }
 
     pub(crate) fn validate(&self) -> Result<(), ChartError> {

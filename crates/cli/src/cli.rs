@@ -240,6 +240,10 @@ enum Command {
         /// for the number of fitted quantities (1.00, 4.00 with C/O alone).
         #[arg(long, value_enum, default_value_t = Convention::MappedParameters)]
         convention: Convention,
+        /// Also draw the map with its 1- and 2-sigma contours and the best fit into this file
+        /// (SVG, or PNG at 300 dpi when the name ends in .png; single-column width).
+        #[arg(long, value_name = "FILE")]
+        figure: Option<PathBuf>,
         #[command(flatten)]
         output: Output,
     },
@@ -417,7 +421,7 @@ fn execute(args: Args) -> Result<(), Failure> {
             };
             write_output(&out, &text)
         }
-        Command::Fit { disk, c_to_o, c_to_o_sigma, c_to_h_dex, c_to_h_sigma, o_to_h_dex, o_to_h_sigma, mix, ratios, convention, output } => {
+        Command::Fit { disk, c_to_o, c_to_o_sigma, c_to_h_dex, c_to_h_sigma, o_to_h_dex, o_to_h_sigma, mix, ratios, convention, figure, output } => {
             use nivalis_physics::planet::{chi_square_map, ConfidenceConvention, MapSettings, MetallicityTracer, ObservedEnvelope, ObservedMetallicity};
             let file = read_disk(&disk)?;
             let model = run_model(&file)?;
@@ -445,6 +449,18 @@ fn execute(args: Args) -> Result<(), Failure> {
             };
             for line in map.degeneracy_summary() {
                 eprintln!("note: {line}");
+            }
+            if let Some(path) = &figure {
+                use nivalis_charts::{render_png, render_svg, Chi2Data, Figure, FigureSize, Theme};
+                let fig = Figure::Chi2(Chi2Data::from_map(&map));
+                let chart_failure = |e: nivalis_charts::ChartError| Failure::input(vec![e.to_string()]);
+                if path.extension().is_some_and(|e| e.eq_ignore_ascii_case("png")) {
+                    let png = render_png(&fig, &Theme::light(), FigureSize::single_column(), 300.0).map_err(chart_failure)?;
+                    write_bytes(&Some(path.clone()), &nivalis_exports::figures::embed_png_provenance(&png, &prov, "chi2_map"))?;
+                } else {
+                    let svg = render_svg(&fig, &Theme::light(), FigureSize::single_column()).map_err(chart_failure)?;
+                    write_output(&Some(path.clone()), &nivalis_exports::figures::embed_svg_provenance(&svg, &prov, "chi2_map"))?;
+                }
             }
             write_output(&output.out, &text)
         }
