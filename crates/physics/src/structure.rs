@@ -416,6 +416,34 @@ pub struct Column {
     pub ionization_rate_s: Vec<f64>,
 }
 
+impl Column {
+    /// An empty column with room for `n` samples.
+    pub fn with_capacity(n: usize) -> Column {
+        Column {
+            height_cm: Vec::with_capacity(n),
+            temperature_k: Vec::with_capacity(n),
+            density_g_cm3: Vec::with_capacity(n),
+            hydrogen_density_cm3: Vec::with_capacity(n),
+            column_above_g_cm2: Vec::with_capacity(n),
+            visual_extinction_mag: Vec::with_capacity(n),
+            fuv_photon_flux_cm2_s: Vec::with_capacity(n),
+            ionization_rate_s: Vec::with_capacity(n),
+        }
+    }
+
+    /// Append another column's samples (the grid stores all columns one after another).
+    pub fn append(&mut self, other: &Column) {
+        self.height_cm.extend_from_slice(&other.height_cm);
+        self.temperature_k.extend_from_slice(&other.temperature_k);
+        self.density_g_cm3.extend_from_slice(&other.density_g_cm3);
+        self.hydrogen_density_cm3.extend_from_slice(&other.hydrogen_density_cm3);
+        self.column_above_g_cm2.extend_from_slice(&other.column_above_g_cm2);
+        self.visual_extinction_mag.extend_from_slice(&other.visual_extinction_mag);
+        self.fuv_photon_flux_cm2_s.extend_from_slice(&other.fuv_photon_flux_cm2_s);
+        self.ionization_rate_s.extend_from_slice(&other.ionization_rate_s);
+    }
+}
+
 /// Temperature [K] at height z in a column (MODEL.md section 5): isothermal,
 /// or the two-layer profile of Dartois et al. 2003 (as used by Williams & Best 2014):
 /// T = T_atm + (T_mid - T_atm) cos^(2 delta)(pi z / (2 z_q)) for z < z_q, else T_atm,
@@ -525,16 +553,7 @@ pub fn column(c: &DiskConstants, radius_cm: f64, sigma_g_cm2: f64, t_mid: f64, f
     }
 
     let samples = n_z + 1;
-    let mut col = Column {
-        height_cm: Vec::with_capacity(samples),
-        temperature_k: Vec::with_capacity(samples),
-        density_g_cm3: Vec::with_capacity(samples),
-        hydrogen_density_cm3: Vec::with_capacity(samples),
-        column_above_g_cm2: Vec::with_capacity(samples),
-        visual_extinction_mag: Vec::with_capacity(samples),
-        fuv_photon_flux_cm2_s: Vec::with_capacity(samples),
-        ionization_rate_s: Vec::with_capacity(samples),
-    };
+    let mut col = Column::with_capacity(samples);
     let g_star = c.fuv_1au_habing * AU_CM * AU_CM / r2;
     let per_h = 1.0 / (MASS_PER_HYDROGEN_NUCLEUS_AMU_H * HYDROGEN_MASS_G);
     for s in 0..samples {
@@ -598,28 +617,12 @@ impl DiskStructure {
         let (phi, mid) = flaring_solution(&c, p.disk.self_consistent_flaring, &radii, &sigma)?;
         let samples_per_column = p.grid.vertical_cells + 1;
         let total = radii.len() * samples_per_column;
-        let mut samples = Column {
-            height_cm: Vec::with_capacity(total),
-            temperature_k: Vec::with_capacity(total),
-            density_g_cm3: Vec::with_capacity(total),
-            hydrogen_density_cm3: Vec::with_capacity(total),
-            column_above_g_cm2: Vec::with_capacity(total),
-            visual_extinction_mag: Vec::with_capacity(total),
-            fuv_photon_flux_cm2_s: Vec::with_capacity(total),
-            ionization_rate_s: Vec::with_capacity(total),
-        };
+        let mut samples = Column::with_capacity(total);
         let mut h = Vec::with_capacity(radii.len());
         for j in 0..radii.len() {
             let col = column(&c, radii[j], sigma[j], mid[j].temperature_k, phi[j]);
             h.push(scale_height_cm(c.star_mass_g, mid[j].temperature_k, radii[j]));
-            samples.height_cm.extend_from_slice(&col.height_cm);
-            samples.temperature_k.extend_from_slice(&col.temperature_k);
-            samples.density_g_cm3.extend_from_slice(&col.density_g_cm3);
-            samples.hydrogen_density_cm3.extend_from_slice(&col.hydrogen_density_cm3);
-            samples.column_above_g_cm2.extend_from_slice(&col.column_above_g_cm2);
-            samples.visual_extinction_mag.extend_from_slice(&col.visual_extinction_mag);
-            samples.fuv_photon_flux_cm2_s.extend_from_slice(&col.fuv_photon_flux_cm2_s);
-            samples.ionization_rate_s.extend_from_slice(&col.ionization_rate_s);
+            samples.append(&col);
         }
         Ok(DiskStructure {
             constants: c,
