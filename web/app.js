@@ -457,7 +457,7 @@ function buildControls() {
       if (field.overrides) buildOverrides(fs);
       else if (field.subgroup) {
         const sub = document.createElement("fieldset");
-        sub.className = "subgroup";
+        sub.className = "subgroup compact";
         const l = document.createElement("legend");
         l.textContent = field.title;
         sub.append(l, problemSlot(field.subgroup));
@@ -521,6 +521,7 @@ function edit(path, value) {
 // ---------------------------------------------------------------------------
 
 let framePending = false;
+let drawnOnce = false;
 let lastSamples = 200 * 81;
 let lastComputePerSample = NaN;
 
@@ -559,15 +560,18 @@ function runNow() {
     lastSamples = result.summary.samples;
     lastComputePerSample = timings.computeMs / Math.max(1, lastSamples);
     const t2 = performance.now();
-    drawAll();
+    // The first result draws everything (nothing is known to be on screen yet).
+    drawAll(!drawnOnce);
+    drawnOnce = true;
     fillSnowlineTable();
     timings.drawMs = performance.now() - t2;
     writeFragment();
-    $("status").textContent = `${result.summary.name || "Unnamed disk"}: ${result.summary.radial_cells} × ${result.summary.vertical_cells} cells, star C/O ${result.summary.star_c_to_o.toFixed(3)}. Computed in ${timings.computeMs.toFixed(1)} ms, drawn in ${timings.drawMs.toFixed(1)} ms.`;
+    $("status").textContent = `${result.summary.name || "Unnamed disk"}: ${result.summary.radial_cells} × ${result.summary.vertical_cells} cells, star C/O ${result.summary.star_c_to_o.toFixed(3)}. Computed in ${timings.computeMs.toFixed(1)} ms, views on screen drawn in ${timings.drawMs.toFixed(1)} ms.`;
   }
   $("busy").hidden = true;
   document.body.classList.remove("is-busy");
   document.body.dataset.ready = "true";
+  if (dirty.size === 0) settleWaiters();
 }
 
 function showProblems(problems) {
@@ -618,11 +622,28 @@ function themeName() {
   return matchMedia("(prefers-color-scheme: dark)").matches ? "dark" : "light";
 }
 
+// Canvas sizes in CSS pixels, kept by a ResizeObserver: asking the layout
+// (getBoundingClientRect) while drawing would force a layout of the whole page
+// after every change of the snowline table.
+const cssSizes = new Map();
+// Views on screen (IntersectionObserver): drawn in the same frame as the
+// compute; the others are marked dirty and drawn when the browser is idle or
+// when they scroll into view.
+const onScreen = new Set();
+const dirty = new Set();
+let idleHandle = 0;
+const drawnWaiters = [];
+
 function sizeCanvas(canvas) {
   const ratio = window.devicePixelRatio || 1;
-  const rect = canvas.getBoundingClientRect();
-  const w = Math.max(200, Math.round(rect.width * ratio));
-  const h = Math.max(150, Math.round(rect.height * ratio));
+  let size = cssSizes.get(canvas.id);
+  if (!size) {
+    const rect = canvas.getBoundingClientRect();
+    size = { width: rect.width, height: rect.height };
+    cssSizes.set(canvas.id, size);
+  }
+  const w = Math.max(200, Math.round(size.width * ratio));
+  const h = Math.max(150, Math.round(size.height * ratio));
   if (canvas.width !== w || canvas.height !== h) {
     canvas.width = w;
     canvas.height = h;
@@ -630,17 +651,64 @@ function sizeCanvas(canvas) {
   return ratio;
 }
 
-function drawAll() {
+function drawView(v) {
+  const canvas = $(v.canvas);
+  const options = { theme: themeName(), species: mapSpecies, pixelRatio: sizeCanvas(canvas) };
+  try {
+    explorer.draw(v.view, v.canvas, options);
+  } catch (e) {
+    $(v.readout).textContent = `This view could not be drawn: ${e.message || e}`;
+  }
+  dirty.delete(v.view);
+}
+
+// Draws the views on screen now (all of them with `everything`), the rest later.
+function drawAll(everything = false) {
   if (!valid) return;
-  const options = { theme: themeName(), species: mapSpecies };
   for (const v of VIEWS) {
-    const canvas = $(v.canvas);
-    options.pixelRatio = sizeCanvas(canvas);
-    try {
-      explorer.draw(v.view, v.canvas, options);
-    } catch (e) {
-      $(v.readout).textContent = `This view could not be drawn: ${e.message || e}`;
+    if (everything || onScreen.has(v.canvas)) drawView(v);
+    else dirty.add(v.view);
+  }
+  if (dirty.size > 0 && !idleHandle) idleHandle = requestIdleCallback(drawDirty, { timeout: 400 });
+  if (dirty.size === 0) settleWaiters();
+}
+
+function drawDirty() {
+  idleHandle = 0;
+  for (const v of VIEWS) if (dirty.has(v.view)) drawView(v);
+  settleWaiters();
+}
+
+function settleWaiters() {
+  while (drawnWaiters.length) drawnWaiters.pop()();
+}
+
+function observeCanvases() {
+  const sizes = new ResizeObserver((entries) => {
+    let changed = false;
+    for (const e of entries) {
+      const box = e.contentBoxSize && e.contentBoxSize[0];
+      const size = box ? { width: box.inlineSize, height: box.blockSize } : { width: e.contentRect.width, height: e.contentRect.height };
+      const old = cssSizes.get(e.target.id);
+      if (!old || old.width !== size.width || old.height !== size.height) {
+        cssSizes.set(e.target.id, size);
+        changed = true;
+      }
     }
+    if (changed && valid) drawAll();
+  });
+  const seen = new IntersectionObserver((entries) => {
+    for (const e of entries) {
+      if (e.isIntersecting) {
+        onScreen.add(e.target.id);
+        const v = VIEWS.find((x) => x.canvas === e.target.id);
+        if (v && dirty.has(v.view) && valid) drawView(v);
+      } else onScreen.delete(e.target.id);
+    }
+  }, { rootMargin: "200px 0px" });
+  for (const v of VIEWS) {
+    sizes.observe($(v.canvas));
+    seen.observe($(v.canvas));
   }
 }
 
@@ -792,8 +860,7 @@ function start() {
     mapSpecies = speciesPicker.value;
     const view = VIEWS.find((v) => v.view === "ice_map");
     if (valid) {
-      const canvas = $(view.canvas);
-      explorer.draw(view.view, view.canvas, { theme: themeName(), species: mapSpecies, pixelRatio: sizeCanvas(canvas) });
+      drawView(view);
       writeFragment();
     }
   });
@@ -837,11 +904,7 @@ function start() {
     });
   }
   attachReadouts();
-  let resizeFrame = 0;
-  new ResizeObserver(() => {
-    cancelAnimationFrame(resizeFrame);
-    resizeFrame = requestAnimationFrame(drawAll);
-  }).observe($("views"));
+  observeCanvases();
 
   runNow();
 }
@@ -853,7 +916,11 @@ window.nivalis = {
   timings,
   get state() { return clone(state); },
   computeOnce: () => explorer.update(prune(clone(state))),
-  drawOnce: () => { drawAll(); fillSnowlineTable(); },
+  drawOnce: () => { drawAll(true); fillSnowlineTable(); },
+  // The page's own path after an edit (compute, views on screen, table); times land in `timings`.
+  recompute: () => runNow(),
+  // Resolves once every view shows the current result (off-screen ones are drawn when idle).
+  whenDrawn: () => new Promise((resolve) => { if (dirty.size === 0 && !framePending) resolve(); else drawnWaiters.push(resolve); }),
   edit,
 };
 

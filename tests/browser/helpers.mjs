@@ -64,6 +64,7 @@ export async function openPage(context, url = pageUrl) {
   page.on("console", (m) => { if (m.type() === "error") errors.push(m.text()); });
   await page.goto(url);
   await page.waitForSelector("body[data-ready=true]", { timeout: 60000 });
+  await page.evaluate(() => window.nivalis.whenDrawn());
   return { page, errors };
 }
 
@@ -88,6 +89,7 @@ export async function typeInto(page, selector, value) {
 /// Waits for the page's next compute-and-draw (one animation frame after an edit).
 export async function settle(page) {
   await page.evaluate(() => new Promise((r) => requestAnimationFrame(() => requestAnimationFrame(r))));
+  await page.evaluate(() => window.nivalis.whenDrawn());
 }
 
 /// Statistics of a canvas: the number of distinct colours and the fraction of

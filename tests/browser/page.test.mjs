@@ -43,6 +43,7 @@ async function freshPage(url) {
   page.on("console", (m) => { if (m.type() === "error") errors.push(m.text()); });
   await page.goto(url || pageUrl);
   await page.waitForSelector("body[data-ready=true]", { timeout: 60000 });
+  await page.evaluate(() => window.nivalis.whenDrawn());
   return { page, errors };
 }
 
