@@ -525,13 +525,25 @@ let drawnOnce = false;
 let lastSamples = 200 * 81;
 let lastComputePerSample = NaN;
 
+// Above this predicted compute time the page asks before computing: the model
+// runs on the main thread (the views are drawn from it), so a large grid holds
+// the page still for that long, and an unexpected freeze while typing is worse
+// than a button press.
+const CONFIRM_ABOVE_MS = 1500;
+let confirmedSamples = 0;
+
 function schedule() {
   if (framePending) return;
-  framePending = true;
   // A grid much larger than the last one may take longer than a frame: show the
   // busy mark first and compute after the browser has painted it.
   const samples = sampleCount(state);
   const predictedMs = Number.isFinite(lastComputePerSample) ? samples * lastComputePerSample : 0;
+  if (predictedMs > CONFIRM_ABOVE_MS && samples !== confirmedSamples) {
+    askToCompute(samples, predictedMs);
+    return;
+  }
+  $("confirm-compute").hidden = true;
+  framePending = true;
   if (predictedMs > 50) {
     $("busy").hidden = false;
     $("busy").textContent = `computing ${samples.toLocaleString("en")} samples (about ${(predictedMs / 1000).toFixed(1)} s)…`;
@@ -540,6 +552,16 @@ function schedule() {
   } else {
     requestAnimationFrame(runNow);
   }
+}
+
+function askToCompute(samples, predictedMs) {
+  const box = $("confirm-compute");
+  box.hidden = false;
+  box.querySelector("span").textContent = `This grid has ${samples.toLocaleString("en")} samples and will take about ${(predictedMs / 1000).toFixed(1)} s to compute, during which the page does not respond. The views still show the last result.`;
+  box.querySelector("button").onclick = () => {
+    confirmedSamples = samples;
+    schedule();
+  };
 }
 
 function sampleCount(disk) {
