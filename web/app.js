@@ -4,6 +4,8 @@
 // `NIVALIS_WASM_BASE64`. It holds no physics: every number comes from the
 // Rust core through `Explorer`; this file builds the controls, keeps the state
 // (URL fragment, undo), schedules recomputation and hands canvases to Rust.
+// Grids too large for a frame are computed in a Web Worker (web/worker.js)
+// that runs the same Rust code and sends back what the views need.
 
 /* global initSync, Explorer, NIVALIS_WASM_BASE64 */
 
@@ -245,7 +247,9 @@ const slug = (name) => (name || "disk").toLowerCase().replace(/[^a-z0-9]+/g, "-"
 // ---------------------------------------------------------------------------
 
 const wasmBytes = Uint8Array.from(atob(NIVALIS_WASM_BASE64), (c) => c.charCodeAt(0));
-initSync({ module: wasmBytes });
+// Compiled once: the page instantiates it here, and the worker (large grids) gets the same module.
+const nivalisModule = new WebAssembly.Module(wasmBytes);
+initSync({ module: nivalisModule });
 const explorer = new Explorer();
 const DEFAULTS = Explorer.defaultDisk();
 const SPECIES_INFO = Explorer.speciesInfo();
@@ -264,7 +268,7 @@ const redoStack = [];
 let lastEditAt = 0;
 let lastEditPath = null;
 let valid = false;
-const timings = { computeMs: NaN, drawMs: NaN };
+const timings = { computeMs: NaN, drawMs: NaN, path: "main thread" };
 
 function pushUndo(path) {
   // A run of edits of one field within a second (a slider drag, typing) is one undo step.
@@ -509,7 +513,17 @@ function refreshPlaceholders() {
   }
 }
 
+function clearNotice() {
+  const banner = $("banner");
+  if (banner.dataset.kind === "notice") {
+    banner.dataset.kind = "";
+    banner.hidden = true;
+    banner.textContent = "";
+  }
+}
+
 function edit(path, value) {
+  clearNotice();
   pushUndo(path);
   setPath(state, path, value);
   if (path === "ices.binding_energies") refreshPlaceholders();
@@ -525,43 +539,15 @@ let drawnOnce = false;
 let lastSamples = 200 * 81;
 let lastComputePerSample = NaN;
 
-// Above this predicted compute time the page asks before computing: the model
-// runs on the main thread (the views are drawn from it), so a large grid holds
-// the page still for that long, and an unexpected freeze while typing is worse
-// than a button press.
-const CONFIRM_ABOVE_MS = 1500;
-let confirmedSamples = 0;
+// Above this predicted compute time (about two frames) the model runs in the
+// page's Web Worker, so the page keeps responding; below it, on the main
+// thread, where the result is drawn in the same frame.
+const WORKER_ABOVE_MS = 30;
 
 function schedule() {
   if (framePending) return;
-  // A grid much larger than the last one may take longer than a frame: show the
-  // busy mark first and compute after the browser has painted it.
-  const samples = sampleCount(state);
-  const predictedMs = Number.isFinite(lastComputePerSample) ? samples * lastComputePerSample : 0;
-  if (predictedMs > CONFIRM_ABOVE_MS && samples !== confirmedSamples) {
-    askToCompute(samples, predictedMs);
-    return;
-  }
-  $("confirm-compute").hidden = true;
   framePending = true;
-  if (predictedMs > 50) {
-    $("busy").hidden = false;
-    $("busy").textContent = `computing ${samples.toLocaleString("en")} samples (about ${(predictedMs / 1000).toFixed(1)} s)…`;
-    document.body.classList.add("is-busy");
-    requestAnimationFrame(() => setTimeout(runNow, 0));
-  } else {
-    requestAnimationFrame(runNow);
-  }
-}
-
-function askToCompute(samples, predictedMs) {
-  const box = $("confirm-compute");
-  box.hidden = false;
-  box.querySelector("span").textContent = `This grid has ${samples.toLocaleString("en")} samples and will take about ${(predictedMs / 1000).toFixed(1)} s to compute, during which the page does not respond. The views still show the last result.`;
-  box.querySelector("button").onclick = () => {
-    confirmedSamples = samples;
-    schedule();
-  };
+  requestAnimationFrame(runNow);
 }
 
 function sampleCount(disk) {
@@ -570,8 +556,19 @@ function sampleCount(disk) {
   return Number.isFinite(r) && Number.isFinite(z) ? r * (z + 1) : lastSamples;
 }
 
+function predictedMs(samples) {
+  return Number.isFinite(lastComputePerSample) ? samples * lastComputePerSample : 0;
+}
+
 function runNow() {
   framePending = false;
+  const samples = sampleCount(state);
+  if (predictedMs(samples) > WORKER_ABOVE_MS && typeof Worker !== "undefined") {
+    computeInWorker(samples);
+    return;
+  }
+  // A main-thread result replaces whatever a worker was still computing.
+  cancelWorkerJob();
   const t0 = performance.now();
   const result = explorer.update(prune(clone(state)));
   const t1 = performance.now();
@@ -588,12 +585,112 @@ function runNow() {
     fillSnowlineTable();
     timings.drawMs = performance.now() - t2;
     writeFragment();
-    $("status").textContent = `${result.summary.name || "Unnamed disk"}: ${result.summary.radial_cells} × ${result.summary.vertical_cells} cells, star C/O ${result.summary.star_c_to_o.toFixed(3)}. Computed in ${timings.computeMs.toFixed(1)} ms, views on screen drawn in ${timings.drawMs.toFixed(1)} ms.`;
+    timings.path = "main thread";
+    showStatus(result.summary);
   }
-  $("busy").hidden = true;
-  document.body.classList.remove("is-busy");
   document.body.dataset.ready = "true";
   if (dirty.size === 0) settleWaiters();
+}
+
+function showStatus(summary) {
+  $("status").textContent = `${summary.name || "Unnamed disk"}: ${summary.radial_cells} × ${summary.vertical_cells} cells, star C/O ${summary.star_c_to_o.toFixed(3)}. `
+    + `Computed ${timings.path === "worker" ? "in the background " : ""}in ${timings.computeMs.toFixed(1)} ms, views on screen drawn in ${timings.drawMs.toFixed(1)} ms.`;
+}
+
+// ---------------------------------------------------------------------------
+// The Web Worker for large grids. Its script is the no-modules glue plus
+// worker.js, embedded as inert text and started from a blob: URL (the page's
+// CSP allows `worker-src blob:` for exactly this). A new edit while it computes
+// ends it (terminate) and starts afresh, so only the latest state is computed.
+// ---------------------------------------------------------------------------
+
+let worker = null;
+let jobId = 0;
+let job = null; // { id, started, predicted, samples }
+
+function startWorker() {
+  const url = URL.createObjectURL(new Blob([$("worker-source").textContent], { type: "text/javascript" }));
+  worker = new Worker(url);
+  worker.onmessage = onWorkerMessage;
+  worker.onerror = (e) => {
+    showBanner(`The background computation failed: ${e.message || "unknown error"}. Showing the last result.`);
+    job = null;
+    hideProgress();
+  };
+  worker.postMessage({ type: "init", module: nivalisModule });
+  setTimeout(() => URL.revokeObjectURL(url), 10000);
+}
+
+function cancelWorkerJob() {
+  if (!job) return;
+  worker.terminate();
+  worker = null;
+  job = null;
+  hideProgress();
+}
+
+function computeInWorker(samples) {
+  cancelWorkerJob();
+  if (!worker) startWorker();
+  job = { id: ++jobId, started: performance.now(), predicted: predictedMs(samples), samples };
+  worker.postMessage({ type: "compute", id: job.id, disk: prune(clone(state)), species: mapSpecies });
+  showProgress();
+}
+
+function showProgress() {
+  const box = $("busy");
+  box.hidden = false;
+  document.body.classList.add("is-busy");
+  const tick = () => {
+    if (!job) return;
+    const elapsed = performance.now() - job.started;
+    $("busy-progress").value = Math.min(0.95, elapsed / Math.max(1, job.predicted));
+    $("busy-text").textContent = `Computing ${job.samples.toLocaleString("en")} samples in the background: ${(elapsed / 1000).toFixed(1)} s of about ${(job.predicted / 1000).toFixed(1)} s. The views show the last result meanwhile.`;
+    requestAnimationFrame(tick);
+  };
+  tick();
+}
+
+function hideProgress() {
+  $("busy").hidden = true;
+  document.body.classList.remove("is-busy");
+}
+
+function onWorkerMessage(event) {
+  const message = event.data;
+  if (message.type === "result" && job && message.id === job.id) {
+    const { result } = message;
+    const samples = job.samples;
+    job = null;
+    hideProgress();
+    showProblems(result.problems || []);
+    if (result.ok) {
+      explorer.loadPacket(result);
+      valid = true;
+      timings.computeMs = result.computeMs;
+      timings.path = "worker";
+      lastSamples = samples;
+      lastComputePerSample = result.computeMs / Math.max(1, samples);
+      const t2 = performance.now();
+      drawAll(!drawnOnce);
+      drawnOnce = true;
+      fillSnowlineTable();
+      timings.drawMs = performance.now() - t2;
+      writeFragment();
+      showStatus(result.summary);
+    }
+    if (dirty.size === 0) settleWaiters();
+  } else if (message.type === "map") {
+    explorer.loadView("ice_map", message.species, message.parts);
+    if (message.species === mapSpecies) drawView(VIEWS.find((v) => v.view === "ice_map"));
+  } else if (message.type === "error") {
+    if (job && message.id === job.id) {
+      job = null;
+      hideProgress();
+    }
+    showBanner(`The background computation failed: ${message.message}`);
+    settleWaiters();
+  }
 }
 
 function showProblems(problems) {
@@ -604,10 +701,14 @@ function showProblems(problems) {
   for (const el of document.querySelectorAll("[aria-invalid]")) el.removeAttribute("aria-invalid");
   const banner = $("banner");
   if (problems.length === 0) {
-    banner.hidden = true;
-    banner.textContent = "";
+    // A notice (a refused file, a cancelled computation) stays until the next edit.
+    if (banner.dataset.kind !== "notice") {
+      banner.hidden = true;
+      banner.textContent = "";
+    }
     return;
   }
+  banner.dataset.kind = "problems";
   const unplaced = [];
   for (const p of problems) {
     const slot = findSlot(p.path);
@@ -678,6 +779,7 @@ function drawView(v) {
   const options = { theme: themeName(), species: mapSpecies, pixelRatio: sizeCanvas(canvas) };
   try {
     explorer.draw(v.view, v.canvas, options);
+    if (v.view === "ice_map") canvas.dataset.species = mapSpecies;
   } catch (e) {
     $(v.readout).textContent = `This view could not be drawn: ${e.message || e}`;
   }
@@ -806,6 +908,7 @@ function readFragment() {
 
 function showBanner(text) {
   const banner = $("banner");
+  banner.dataset.kind = "notice";
   banner.hidden = false;
   banner.className = "banner warn";
   banner.textContent = text;
@@ -827,6 +930,7 @@ function loadDisk(result, what) {
   lastEditPath = null;
   state = explorer.resolvedDisk();
   valid = true;
+  clearNotice();
   showProblems([]);
   afterStateChange();
 }
@@ -882,7 +986,9 @@ function start() {
     mapSpecies = speciesPicker.value;
     const view = VIEWS.find((v) => v.view === "ice_map");
     if (valid) {
-      drawView(view);
+      // After a worker result, another species' map comes from the worker (it holds the model).
+      if (explorer.hasView("ice_map", mapSpecies)) drawView(view);
+      else if (worker && !job) worker.postMessage({ type: "map", id: 0, species: mapSpecies });
       writeFragment();
     }
   });
@@ -894,6 +1000,11 @@ function start() {
 
   $("theme-button").addEventListener("click", () => setTheme({ system: "light", light: "dark", dark: "system" }[theme]));
   matchMedia("(prefers-color-scheme: dark)").addEventListener("change", () => { if (theme === "system") drawAll(); });
+  $("cancel-button").addEventListener("click", () => {
+    cancelWorkerJob();
+    showBanner("The background computation was cancelled; the views show the last result.");
+    settleWaiters();
+  });
   $("undo-button").addEventListener("click", undo);
   $("redo-button").addEventListener("click", redo);
   document.addEventListener("keydown", (ev) => {
@@ -942,7 +1053,8 @@ window.nivalis = {
   // The page's own path after an edit (compute, views on screen, table); times land in `timings`.
   recompute: () => runNow(),
   // Resolves once every view shows the current result (off-screen ones are drawn when idle).
-  whenDrawn: () => new Promise((resolve) => { if (dirty.size === 0 && !framePending) resolve(); else drawnWaiters.push(resolve); }),
+  whenDrawn: () => new Promise((resolve) => { if (dirty.size === 0 && !framePending && !job) resolve(); else drawnWaiters.push(resolve); }),
+  get computing() { return job !== null; },
   edit,
 };
 

@@ -11,10 +11,24 @@ use nivalis_physics::Species;
 use serde::Serialize;
 use serde_json::{json, Value};
 use wasm_bindgen::prelude::*;
+use wasm_bindgen::JsCast;
 
 use crate::canvas;
 use crate::readout::{readout, ViewData};
 use crate::session::{grid_too_large, species_info, Export, Session};
+use crate::transfer::{from_parts, to_parts, ViewParts};
+
+/// The names of the exports, as `exportText` takes them.
+const EXPORTS: [&str; 6] = ["profile_csv", "profile_ecsv", "profile_json", "structure_csv", "snowlines_json", "disk"];
+
+/// A result computed in the page's worker: everything the page shows or
+/// exports, without the model itself.
+struct Remote {
+    summary: Value,
+    snowline_table: Value,
+    resolved_disk: Value,
+    exports: HashMap<String, String>,
+}
 
 /// Screen pixels (CSS px) per typographic point. 96/72 is the CSS definition;
 /// the extra factor 1.2 makes the paper-sized fonts of the charts' themes
@@ -39,6 +53,9 @@ pub struct Explorer {
     data: HashMap<String, ViewData>,
     /// Per canvas id: the data key it shows and its layout.
     layouts: HashMap<String, (String, ChartLayout)>,
+    /// The current result when it came from the worker (`loadPacket`); `None`
+    /// when it is the session's own model.
+    remote: Option<Remote>,
 }
 
 impl Default for Explorer {
@@ -52,7 +69,7 @@ impl Explorer {
     /// An explorer without a result.
     #[wasm_bindgen(constructor)]
     pub fn new() -> Explorer {
-        Explorer { session: Session::new(), data: HashMap::new(), layouts: HashMap::new() }
+        Explorer { session: Session::new(), data: HashMap::new(), layouts: HashMap::new(), remote: None }
     }
 
     /// The default disk with every field resolved (what `{}` means), as a JS object.
@@ -101,6 +118,7 @@ impl Explorer {
             Ok(()) => {
                 self.data.clear();
                 self.layouts.clear();
+                self.remote = None;
                 to_js(&json!({"ok": true, "problems": [], "summary": self.session.summary()}))
             }
             Err(problems) => to_js(&json!({"ok": false, "problems": problems_js(&problems), "summary": self.session.summary()})),
@@ -110,12 +128,18 @@ impl Explorer {
     /// The current (last valid) disk with every field resolved; `null` before any.
     #[wasm_bindgen(js_name = resolvedDisk)]
     pub fn resolved_disk(&self) -> JsValue {
+        if let Some(r) = &self.remote {
+            return to_js(&r.resolved_disk);
+        }
         self.session.resolved_disk().map_or(JsValue::NULL, |v| to_js(&v))
     }
 
     /// The snowline table (see `Session::snowline_table`); `null` before any result.
     #[wasm_bindgen(js_name = snowlineTable)]
     pub fn snowline_table(&self) -> JsValue {
+        if let Some(r) = &self.remote {
+            return to_js(&r.snowline_table);
+        }
         self.session.snowline_table().map_or(JsValue::NULL, |v| to_js(&v))
     }
 
@@ -124,6 +148,9 @@ impl Explorer {
     #[wasm_bindgen(js_name = exportText)]
     pub fn export_text(&self, what: &str) -> Result<Option<String>, JsError> {
         let kind = Export::from_name(what).ok_or_else(|| JsError::new(&format!("unknown export {what:?}")))?;
+        if let Some(r) = &self.remote {
+            return Ok(r.exports.get(what).cloned());
+        }
         Ok(self.session.export(kind))
     }
 
@@ -137,15 +164,7 @@ impl Explorer {
             _ => Theme::light(),
         };
         let ratio = get("pixelRatio").and_then(|v| v.as_f64()).filter(|r| r.is_finite() && *r > 0.0).unwrap_or(1.0);
-        let key = match view {
-            "ice_map" => {
-                let name = get("species").and_then(|v| v.as_string()).unwrap_or_else(|| "H2O".to_string());
-                let species = Species::from_key(&name).ok_or_else(|| JsError::new(&format!("unknown species {name:?}")))?;
-                format!("ice_map:{}", species.key())
-            }
-            "c_to_o" | "temperature" | "abundances" | "c_to_o_map" => view.to_string(),
-            other => return Err(JsError::new(&format!("unknown view {other:?}"))),
-        };
+        let key = view_key(view, get("species").and_then(|v| v.as_string()).as_deref())?;
         let data = self.view_data(&key)?;
         let canvas = canvas::canvas_by_id(canvas_id).map_err(|e| JsError::new(&e))?;
         let layout = canvas::draw(&canvas, data, &theme, CSS_PX_PER_POINT * ratio).map_err(|e| JsError::new(&e))?;
@@ -160,8 +179,107 @@ impl Explorer {
         readout(self.data.get(key)?, layout, x, y)
     }
 
+    /// Whether the view data for `view` (and `species`, for `ice_map`) is at hand;
+    /// after a worker result, other species' ice maps must be fetched from the worker first.
+    #[wasm_bindgen(js_name = hasView)]
+    pub fn has_view(&self, view: &str, species: Option<String>) -> Result<bool, JsError> {
+        let key = view_key(view, species.as_deref())?;
+        Ok(self.data.contains_key(&key) || (self.remote.is_none() && self.session.current().is_some()))
+    }
+
+    /// Worker side: validates and runs like `update`, then packs everything the
+    /// page needs into transferable parts: `{ok, problems, summary, snowlineTable,
+    /// resolvedDisk, exports: {name: text}, views: {key: {meta, arrays: {name: Float64Array}}}}`.
+    /// `species` picks the ice map included.
+    #[wasm_bindgen(js_name = computePacket)]
+    pub fn compute_packet(&mut self, disk: JsValue, species: &str) -> Result<JsValue, JsError> {
+        let outcome = self.update(disk);
+        let ok = js_sys::Reflect::get(&outcome, &JsValue::from_str("ok")).ok().and_then(|v| v.as_bool()).unwrap_or(false);
+        if !ok {
+            return Ok(outcome);
+        }
+        let packet = js_sys::Object::new();
+        let set = |key: &str, value: &JsValue| js_sys::Reflect::set(&packet, &JsValue::from_str(key), value).map(|_| ());
+        let fail = |_| JsError::new("cannot build the result packet");
+        set("ok", &JsValue::TRUE).map_err(fail)?;
+        set("problems", &js_sys::Array::new()).map_err(fail)?;
+        set("summary", &to_js(&self.session.summary().unwrap_or(Value::Null))).map_err(fail)?;
+        set("snowlineTable", &to_js(&self.session.snowline_table().unwrap_or(Value::Null))).map_err(fail)?;
+        set("resolvedDisk", &to_js(&self.session.resolved_disk().unwrap_or(Value::Null))).map_err(fail)?;
+        let exports = js_sys::Object::new();
+        for name in EXPORTS {
+            // Invariant: every name in EXPORTS parses, and a result exists (checked above).
+            let text = self.session.export(Export::from_name(name).expect("known export")).unwrap_or_default();
+            js_sys::Reflect::set(&exports, &JsValue::from_str(name), &JsValue::from_str(&text)).map_err(fail)?;
+        }
+        set("exports", &exports).map_err(fail)?;
+        let views = js_sys::Object::new();
+        let ice = view_key("ice_map", Some(species))?;
+        for key in ["c_to_o", "temperature", "abundances", "c_to_o_map", ice.as_str()] {
+            let parts = to_parts(self.view_data(key)?);
+            js_sys::Reflect::set(&views, &JsValue::from_str(key), &parts_to_js(&parts)).map_err(fail)?;
+        }
+        set("views", &views).map_err(fail)?;
+        Ok(packet.into())
+    }
+
+    /// Worker side: the parts of one species' ice map of the current model.
+    #[wasm_bindgen(js_name = mapPacket)]
+    pub fn map_packet(&mut self, species: &str) -> Result<JsValue, JsError> {
+        let key = view_key("ice_map", Some(species))?;
+        let parts = to_parts(self.view_data(&key)?);
+        Ok(parts_to_js(&parts))
+    }
+
+    /// Page side: makes a worker result (`computePacket`) the current one.
+    #[wasm_bindgen(js_name = loadPacket)]
+    pub fn load_packet(&mut self, packet: JsValue) -> Result<(), JsError> {
+        let get = |key: &str| js_sys::Reflect::get(&packet, &JsValue::from_str(key)).map_err(|_| JsError::new(&format!("packet lacks {key}")));
+        let value = |key: &str| -> Result<Value, JsError> {
+            serde_wasm_bindgen::from_value(get(key)?).map_err(|e| JsError::new(&format!("packet {key}: {e}")))
+        };
+        let mut exports = HashMap::new();
+        let texts = get("exports")?;
+        for name in EXPORTS {
+            if let Some(text) = js_sys::Reflect::get(&texts, &JsValue::from_str(name)).ok().and_then(|v| v.as_string()) {
+                exports.insert(name.to_string(), text);
+            }
+        }
+        let remote = Remote { summary: value("summary")?, snowline_table: value("snowlineTable")?, resolved_disk: value("resolvedDisk")?, exports };
+        let views = get("views")?;
+        let mut data = HashMap::new();
+        for key in js_sys::Object::keys(&views.clone().into()).iter().filter_map(|k| k.as_string()) {
+            let parts = parts_from_js(&js_sys::Reflect::get(&views, &JsValue::from_str(&key)).map_err(|_| JsError::new("packet view"))?)?;
+            data.insert(key, from_parts(&parts).map_err(|e| JsError::new(&e))?);
+        }
+        self.data = data;
+        self.layouts.clear();
+        self.remote = Some(remote);
+        Ok(())
+    }
+
+    /// Page side: adds one view's parts from the worker (`mapPacket`), e.g. another species' ice map.
+    #[wasm_bindgen(js_name = loadView)]
+    pub fn load_view(&mut self, view: &str, species: Option<String>, parts: JsValue) -> Result<(), JsError> {
+        let key = view_key(view, species.as_deref())?;
+        let data = from_parts(&parts_from_js(&parts)?).map_err(|e| JsError::new(&e))?;
+        self.data.insert(key, data);
+        Ok(())
+    }
+
+    /// The summary of the current result (worker or own), as `update` returns it.
+    pub fn summary(&self) -> JsValue {
+        match &self.remote {
+            Some(r) => to_js(&r.summary),
+            None => self.session.summary().map_or(JsValue::NULL, |v| to_js(&v)),
+        }
+    }
+
     fn view_data(&mut self, key: &str) -> Result<&ViewData, JsError> {
         if !self.data.contains_key(key) {
+            if self.remote.is_some() {
+                return Err(JsError::new(&format!("the view {key} has not been received from the worker")));
+            }
             let current = self.session.current().ok_or_else(|| JsError::new("no valid disk has been computed yet"))?;
             let model = &current.model;
             let data = match key {
@@ -180,4 +298,43 @@ impl Explorer {
         // Invariant: inserted just above when missing.
         Ok(self.data.get(key).expect("view data present"))
     }
+}
+
+/// The data key of a view: the view's name, or `ice_map:<SPECIES>`.
+fn view_key(view: &str, species: Option<&str>) -> Result<String, JsError> {
+    match view {
+        "ice_map" => {
+            let name = species.unwrap_or("H2O");
+            let species = Species::from_key(name).ok_or_else(|| JsError::new(&format!("unknown species {name:?}")))?;
+            Ok(format!("ice_map:{}", species.key()))
+        }
+        "c_to_o" | "temperature" | "abundances" | "c_to_o_map" => Ok(view.to_string()),
+        other => Err(JsError::new(&format!("unknown view {other:?}"))),
+    }
+}
+
+/// `{meta, arrays: {name: Float64Array}}`.
+fn parts_to_js(parts: &ViewParts) -> JsValue {
+    let arrays = js_sys::Object::new();
+    for (name, values) in &parts.arrays {
+        // Reflect::set on a fresh plain object cannot fail.
+        let _ = js_sys::Reflect::set(&arrays, &JsValue::from_str(name), &js_sys::Float64Array::from(&values[..]));
+    }
+    let out = js_sys::Object::new();
+    let _ = js_sys::Reflect::set(&out, &JsValue::from_str("meta"), &to_js(&parts.meta));
+    let _ = js_sys::Reflect::set(&out, &JsValue::from_str("arrays"), &arrays);
+    out.into()
+}
+
+fn parts_from_js(value: &JsValue) -> Result<ViewParts, JsError> {
+    let meta = js_sys::Reflect::get(value, &JsValue::from_str("meta")).map_err(|_| JsError::new("view parts lack meta"))?;
+    let meta: Value = serde_wasm_bindgen::from_value(meta).map_err(|e| JsError::new(&format!("view meta: {e}")))?;
+    let arrays_js = js_sys::Reflect::get(value, &JsValue::from_str("arrays")).map_err(|_| JsError::new("view parts lack arrays"))?;
+    let mut arrays = Vec::new();
+    for name in js_sys::Object::keys(&arrays_js.clone().into()).iter().filter_map(|k| k.as_string()) {
+        let array = js_sys::Reflect::get(&arrays_js, &JsValue::from_str(&name)).map_err(|_| JsError::new("view array"))?;
+        let array: js_sys::Float64Array = array.dyn_into().map_err(|_| JsError::new(&format!("view array {name} is not a Float64Array")))?;
+        arrays.push((name, array.to_vec()));
+    }
+    Ok(ViewParts { meta, arrays })
 }

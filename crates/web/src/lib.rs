@@ -19,6 +19,7 @@
 
 pub mod readout;
 pub mod session;
+pub mod transfer;
 
 #[cfg(target_arch = "wasm32")]
 mod canvas;

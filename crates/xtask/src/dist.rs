@@ -15,7 +15,10 @@
 //! 5. fill the template `web/index.html`: the CSS (`web/style.css`), every
 //!    `demo_disks/*.json` as one JSON object in a `<script type="application/json">`,
 //!    and ONE inline `<script type="module">` holding the glue, the wasm as
-//!    base64 (decoded and compiled with `initSync`) and the app (`web/app.js`).
+//!    base64 (decoded and compiled with `initSync`) and the app (`web/app.js`),
+//!    and the Web Worker's script as inert text (`<script type="text/plain">`:
+//!    the no-modules glue and `web/worker.js`), which the page starts from a
+//!    blob: URL for large grids, handing it the compiled module.
 //!
 //! Nothing is loaded from a second file: Chromium refuses `fetch()` and module
 //! imports from `file://`, and the page's Content-Security-Policy (in the
@@ -33,6 +36,7 @@ const WASM_TARGET: &str = "wasm32-unknown-unknown";
 const STYLE_SLOT: &str = "<!-- nivalis:style -->";
 const DEMO_SLOT: &str = "<!-- nivalis:demo-disks -->";
 const SCRIPT_SLOT: &str = "<!-- nivalis:script -->";
+const WORKER_SLOT: &str = "<!-- nivalis:worker -->";
 
 /// Builds the page and returns the path of the finished HTML file.
 /// `release` selects the size-optimised `wasm-release` profile; `false` is a
@@ -62,7 +66,7 @@ pub fn dist(release: bool) -> Result<PathBuf, String> {
     let profile_dir = if release { "wasm-release" } else { "debug" };
     let wasm_path = target_dir.join(WASM_TARGET).join(profile_dir).join("nivalis_web.wasm");
 
-    let (glue, mut wasm) = bindgen(&wasm_path)?;
+    let (glue, worker_glue, mut wasm) = bindgen(&wasm_path)?;
     if release && std::env::var_os("NIVALIS_KEEP_NAMES").is_none() {
         // wasm-opt comes from npm's binaryen, a dev dependency of the browser
         // tests; without npm the page is still built, only larger.
@@ -76,13 +80,19 @@ pub fn dist(release: bool) -> Result<PathBuf, String> {
     let template = read(&root.join("web/index.html"))?;
     let style = read(&root.join("web/style.css"))?;
     let app = read(&root.join("web/app.js"))?;
+    let worker = read(&root.join("web/worker.js"))?;
+    let worker_source = format!("{worker_glue}\n{worker}");
     let demos = demo_disks_json(&root.join("demo_disks"))?;
 
     let script = format!(
         "{glue}\n// The WebAssembly module, base64 (inlined so the page is one file).\nconst NIVALIS_WASM_BASE64 = \"{}\";\n{app}",
         base64(&wasm)
     );
-    for (what, text) in [("web/app.js with the glue", script.as_str()), ("web/style.css", style.as_str())] {
+    for (what, text) in [
+        ("web/app.js with the glue", script.as_str()),
+        ("web/worker.js with the glue", worker_source.as_str()),
+        ("web/style.css", style.as_str()),
+    ] {
         if text.to_ascii_lowercase().contains("</script") || text.to_ascii_lowercase().contains("</style") {
             return Err(format!("{what} contains a closing </script> or </style> tag, which would end its inline element early"));
         }
@@ -93,6 +103,9 @@ pub fn dist(release: bool) -> Result<PathBuf, String> {
         DEMO_SLOT,
         &format!("<script type=\"application/json\" id=\"demo-disks\">{demos}</script>"),
     )?;
+    // The worker's script, as text the page turns into a blob: URL (a
+    // text/plain script element is never executed by the page itself).
+    let html = fill(&html, WORKER_SLOT, &format!("<script type=\"text/plain\" id=\"worker-source\">\n{worker_source}\n</script>"))?;
     let html = fill(&html, SCRIPT_SLOT, &format!("<script type=\"module\">\n{script}\n</script>"))?;
 
     let site = target_dir.join("site");
@@ -110,20 +123,36 @@ pub fn dist(release: bool) -> Result<PathBuf, String> {
     Ok(page)
 }
 
-/// Runs wasm-bindgen on the compiled module: the ES-module glue (target `web`)
-/// and the processed module bytes.
-fn bindgen(wasm_path: &Path) -> Result<(String, Vec<u8>), String> {
+/// Runs wasm-bindgen on the compiled module twice: the ES-module glue (target
+/// `web`) for the page, and a classic-script glue (target `no-modules`, global
+/// `wasm_bindgen`) for the page's Web Worker, because Chromium will not start a
+/// module worker from a blob: URL of a file:// page. Both glues must drive the
+/// same module bytes, which is checked.
+fn bindgen(wasm_path: &Path) -> Result<(String, String, Vec<u8>), String> {
     if !wasm_path.is_file() {
         return Err(format!("the build did not produce {}", relative(wasm_path)));
     }
+    let (page_glue, page_wasm) = bindgen_target(wasm_path, false)?;
+    let (worker_glue, worker_wasm) = bindgen_target(wasm_path, true)?;
+    if page_wasm != worker_wasm {
+        return Err("wasm-bindgen produced different modules for the page and the worker glue".to_string());
+    }
+    Ok((page_glue, worker_glue, page_wasm))
+}
+
+fn bindgen_target(wasm_path: &Path, classic: bool) -> Result<(String, Vec<u8>), String> {
     // NIVALIS_KEEP_NAMES=1 keeps the function names, so a browser profile of
     // the page names Rust functions (for performance work; the page is larger).
     let keep_names = std::env::var_os("NIVALIS_KEEP_NAMES").is_some_and(|v| v == "1");
     let mut bindgen = wasm_bindgen_cli_support::Bindgen::new();
     bindgen
-        .input_path(wasm_path)
-        .web(true)
-        .map_err(|e| format!("wasm-bindgen: {e:#}"))?
+        .input_path(wasm_path);
+    if classic {
+        bindgen.no_modules(true).map_err(|e| format!("wasm-bindgen: {e:#}"))?;
+    } else {
+        bindgen.web(true).map_err(|e| format!("wasm-bindgen: {e:#}"))?;
+    }
+    bindgen
         .typescript(false)
         .debug(false)
         .remove_name_section(!keep_names)
