@@ -537,12 +537,15 @@ function edit(path, value) {
 let framePending = false;
 let drawnOnce = false;
 let lastSamples = 200 * 81;
-let lastComputePerSample = NaN;
 
-// Above this predicted compute time (about two frames) the model runs in the
+// Above this predicted compute time (three frames) the model runs in the
 // page's Web Worker, so the page keeps responding; below it, on the main
-// thread, where the result is drawn in the same frame.
-const WORKER_ABOVE_MS = 30;
+// thread, where the result is drawn in the same frame. Grids up to twice the
+// default's samples always stay on the main thread: the worker's packing and
+// hand-over would cost them more than they save, and a single slow run on a
+// busy machine must not send the default grid there.
+const WORKER_ABOVE_MS = 50;
+const MAIN_THREAD_SAMPLES = 2 * 200 * 81;
 
 function schedule() {
   if (framePending) return;
@@ -556,14 +559,32 @@ function sampleCount(disk) {
   return Number.isFinite(r) && Number.isFinite(z) ? r * (z + 1) : lastSamples;
 }
 
+// Compute time per sample on the main thread: the fastest of the last few runs
+// (the first run after loading is slower while the engine warms up, and must
+// not send the default grid to the worker). The worker's own rate (with the
+// packing of its result) only feeds its progress estimate.
+const recentPerSample = [];
+let workerPerSample = NaN;
+let warmedUp = false;
+
+function notePerSample(ms, samples) {
+  if (!warmedUp) {
+    // The page's first run includes the engine's first compilation of the module.
+    warmedUp = true;
+    return;
+  }
+  recentPerSample.push(ms / Math.max(1, samples));
+  if (recentPerSample.length > 5) recentPerSample.shift();
+}
+
 function predictedMs(samples) {
-  return Number.isFinite(lastComputePerSample) ? samples * lastComputePerSample : 0;
+  return recentPerSample.length ? samples * Math.min(...recentPerSample) : 0;
 }
 
 function runNow() {
   framePending = false;
   const samples = sampleCount(state);
-  if (predictedMs(samples) > WORKER_ABOVE_MS && typeof Worker !== "undefined") {
+  if (samples > MAIN_THREAD_SAMPLES && predictedMs(samples) > WORKER_ABOVE_MS && typeof Worker !== "undefined") {
     computeInWorker(samples);
     return;
   }
@@ -577,7 +598,7 @@ function runNow() {
     valid = true;
     timings.computeMs = t1 - t0;
     lastSamples = result.summary.samples;
-    lastComputePerSample = timings.computeMs / Math.max(1, lastSamples);
+    notePerSample(timings.computeMs, lastSamples);
     const t2 = performance.now();
     // The first result draws everything (nothing is known to be on screen yet).
     drawAll(!drawnOnce);
@@ -632,7 +653,8 @@ function cancelWorkerJob() {
 function computeInWorker(samples) {
   cancelWorkerJob();
   if (!worker) startWorker();
-  job = { id: ++jobId, started: performance.now(), predicted: predictedMs(samples), samples };
+  const expected = Number.isFinite(workerPerSample) ? samples * workerPerSample : 1.5 * predictedMs(samples);
+  job = { id: ++jobId, started: performance.now(), predicted: expected, samples };
   worker.postMessage({ type: "compute", id: job.id, disk: prune(clone(state)), species: mapSpecies });
   showProgress();
 }
@@ -668,9 +690,11 @@ function onWorkerMessage(event) {
       explorer.loadPacket(result);
       valid = true;
       timings.computeMs = result.computeMs;
+      timings.packMs = result.packMs;
       timings.path = "worker";
       lastSamples = samples;
-      lastComputePerSample = result.computeMs / Math.max(1, samples);
+      notePerSample(result.computeMs, samples);
+      workerPerSample = (result.computeMs + result.packMs) / Math.max(1, samples);
       const t2 = performance.now();
       drawAll(!drawnOnce);
       drawnOnce = true;
@@ -1056,6 +1080,8 @@ window.nivalis = {
   whenDrawn: () => new Promise((resolve) => { if (dirty.size === 0 && !framePending && !job) resolve(); else drawnWaiters.push(resolve); }),
   get computing() { return job !== null; },
   edit,
+  // Sets a field without scheduling a recompute (the benchmark times `recompute` itself).
+  setQuietly: (path, value) => setPath(state, path, value),
 };
 
 start();

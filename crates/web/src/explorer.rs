@@ -198,6 +198,16 @@ impl Explorer {
         if !ok {
             return Ok(outcome);
         }
+        self.pack_current(species)
+    }
+
+    /// Worker side: the packet of the current result (see `computePacket`),
+    /// after an `update` that succeeded; the worker times the two apart.
+    #[wasm_bindgen(js_name = packCurrent)]
+    pub fn pack_current(&mut self, species: &str) -> Result<JsValue, JsError> {
+        if self.session.current().is_none() {
+            return Err(JsError::new("no valid disk has been computed yet"));
+        }
         let packet = js_sys::Object::new();
         let set = |key: &str, value: &JsValue| js_sys::Reflect::set(&packet, &JsValue::from_str(key), value).map(|_| ());
         let fail = |_| JsError::new("cannot build the result packet");
