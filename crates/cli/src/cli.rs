@@ -157,13 +157,24 @@ enum Command {
         #[command(flatten)]
         output: Output,
     },
+    /// Midplane abundance per H nucleus of C, O, N, S, Si, Mg and Fe in the gas, the ices,
+    /// the refractory solids and all solids, per radius.
+    Elements {
+        /// The disk file.
+        disk: PathBuf,
+        #[command(flatten)]
+        output: Output,
+    },
     /// An r-z map as long-form rows radius_au, height_au, z_over_r, value (one row per cell).
     Map {
         /// The disk file.
         disk: PathBuf,
         /// The mapped quantity: temperature_k [K], density_h_cm3 [H nuclei cm-3], fuv_flux_habing [G0],
         /// ionization_rate_s [s-1], visual_extinction_mag [mag], ice_fraction:<SPECIES> [0-1],
-        /// c_to_o_gas, equilibration_time_yr:<SPECIES> [yr]. SPECIES: H2O CO CO2 CH4 N2 NH3 CH3OH H2S HCN.
+        /// c_to_o_gas, equilibration_time_yr:<SPECIES> [yr], gas_density_cm3:<SPECIES> and
+        /// ice_density_cm3:<SPECIES> [molecules cm-3], <PHASE>_abundance:<ELEMENT> [per H nucleus]
+        /// with PHASE gas, ice, refractory or solid and ELEMENT C O N S Si Mg Fe.
+        /// SPECIES: H2O CO CO2 CH4 N2 NH3 CH3OH H2S HCN.
         #[arg(long)]
         quantity: String,
         #[command(flatten)]
@@ -385,6 +396,11 @@ fn execute(args: Args) -> Result<(), Failure> {
             let file = read_disk(&disk)?;
             let model = run_model(&file)?;
             write_output(&output.out, &render(&model_table(&model), output.format, &file))
+        }
+        Command::Elements { disk, output } => {
+            let file = read_disk(&disk)?;
+            let model = run_model(&file)?;
+            write_output(&output.out, &render(&nivalis_exports::elements_table(&model), output.format, &file))
         }
         Command::Map { disk, quantity, output } => {
             let q = MapQuantity::parse(&quantity).map_err(|e| Failure::input(vec![e]))?;

@@ -167,3 +167,25 @@ fn methods_and_bibtex_agree() {
     assert!(paragraph.contains("Hasegawa, Herbst & Leung 1992") && bibtex.contains("@article{hasegawa1992,"));
     assert!(!bibtex.contains("bell1994"), "Bell & Lin 1994 is not used by the young Sun disk");
 }
+
+#[test]
+fn element_table_conserves_every_element() {
+    // Gas + solid (ice + refractory) must equal the star's X/H at every radius (MODEL.md section 8);
+    // the CSV carries 7 significant digits, so the check is to 2e-6 relative. The star's values are
+    // Asplund et al. 2009 Table 1 (log eps C 8.43, O 8.69, N 7.83, S 7.12, Si 7.51, Mg 7.60, Fe 7.50).
+    let text = stdout(&nivalis(&["elements", "demo_disks/young_sun.json"]));
+    let mut lines = text.lines();
+    let header: Vec<&str> = lines.next().unwrap().split(',').collect();
+    let star = [8.43, 8.69, 7.83, 7.12, 7.51, 7.60, 7.50].map(|l: f64| 10f64.powf(l - 12.0));
+    let mut rows = 0;
+    for line in lines {
+        let v: Vec<f64> = line.split(',').map(|c| c.parse().unwrap()).collect();
+        for (i, el) in ["C", "O", "N", "S", "Si", "Mg", "Fe"].iter().enumerate() {
+            let gas = v[header.iter().position(|h| *h == format!("gas_{el}_per_h")).unwrap()];
+            let solid = v[header.iter().position(|h| *h == format!("solid_{el}_per_h")).unwrap()];
+            assert!(((gas + solid) / star[i] - 1.0).abs() < 2e-6, "{el}: {gas} + {solid} vs {}", star[i]);
+        }
+        rows += 1;
+    }
+    assert_eq!(rows, 200);
+}

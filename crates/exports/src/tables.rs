@@ -124,11 +124,53 @@ pub enum MapQuantity {
     CToOGas,
     /// Equilibration time of one species [yr].
     EquilibrationTimeYr(Species),
+    /// Gas-phase number density of one species [cm^-3].
+    GasDensityCm3(Species),
+    /// Ice number density of one species [molecules cm^-3].
+    IceDensityCm3(Species),
+    /// Abundance per H nucleus of an element in one phase.
+    ElementAbundance(Phase, Element),
+}
+
+/// A phase of the element budget.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Phase {
+    /// Gas (volatiles in the gas and released refractories).
+    Gas,
+    /// Ices.
+    Ice,
+    /// Refractory solids.
+    Refractory,
+    /// All solids (ices and refractories).
+    Solid,
+}
+
+impl Phase {
+    /// Key in quantity names.
+    pub fn key(self) -> &'static str {
+        match self {
+            Phase::Gas => "gas",
+            Phase::Ice => "ice",
+            Phase::Refractory => "refractory",
+            Phase::Solid => "solid",
+        }
+    }
+
+    /// The phase's abundance of element `e` in `ph`.
+    pub fn abundance(self, ph: &nivalis_physics::budget::PhaseAbundances, e: Element) -> f64 {
+        let i = e as usize;
+        match self {
+            Phase::Gas => ph.gas[i],
+            Phase::Ice => ph.ice[i],
+            Phase::Refractory => ph.refractory[i],
+            Phase::Solid => ph.solid(e),
+        }
+    }
 }
 
 impl MapQuantity {
     /// Every accepted spelling, for help texts.
-    pub const NAMES: &'static str = "temperature_k, density_h_cm3, fuv_flux_habing, ionization_rate_s, visual_extinction_mag, ice_fraction:<SPECIES>, c_to_o_gas, equilibration_time_yr:<SPECIES>";
+    pub const NAMES: &'static str = "temperature_k, density_h_cm3, fuv_flux_habing, ionization_rate_s, visual_extinction_mag, ice_fraction:<SPECIES>, c_to_o_gas, equilibration_time_yr:<SPECIES>, gas_density_cm3:<SPECIES>, ice_density_cm3:<SPECIES>, gas_abundance:<ELEMENT>, ice_abundance:<ELEMENT>, refractory_abundance:<ELEMENT>, solid_abundance:<ELEMENT>";
 
     /// Parse a quantity name such as `ice_fraction:CO`.
     pub fn parse(text: &str) -> Result<MapQuantity, String> {
@@ -149,6 +191,19 @@ impl MapQuantity {
                     MapQuantity::IceFraction(species(s)?)
                 } else if let Some(s) = text.strip_prefix("equilibration_time_yr:") {
                     MapQuantity::EquilibrationTimeYr(species(s)?)
+                } else if let Some(s) = text.strip_prefix("gas_density_cm3:") {
+                    MapQuantity::GasDensityCm3(species(s)?)
+                } else if let Some(s) = text.strip_prefix("ice_density_cm3:") {
+                    MapQuantity::IceDensityCm3(species(s)?)
+                } else if let Some((phase, el)) = text.split_once("_abundance:") {
+                    let phase = [Phase::Gas, Phase::Ice, Phase::Refractory, Phase::Solid]
+                        .into_iter()
+                        .find(|p| p.key() == phase)
+                        .ok_or_else(|| format!("--quantity: unknown phase {phase:?}; expected gas, ice, refractory or solid"))?;
+                    let element = Element::from_symbol(el).ok_or_else(|| {
+                        format!("--quantity: unknown element {el:?}; expected one of {}", Element::ALL.map(|e| e.symbol()).join(", "))
+                    })?;
+                    MapQuantity::ElementAbundance(phase, element)
                 } else {
                     return Err(format!("--quantity: unknown quantity {text:?}; expected one of {}", Self::NAMES));
                 }
@@ -167,6 +222,9 @@ impl MapQuantity {
             MapQuantity::IceFraction(s) => ("", format!("fraction of {} in ice", s.key())),
             MapQuantity::CToOGas => ("", "C/O number ratio of the gas".into()),
             MapQuantity::EquilibrationTimeYr(s) => ("yr", format!("freeze-out/desorption equilibration time of {}", s.key())),
+            MapQuantity::GasDensityCm3(s) => ("cm-3", format!("number density of {} in the gas", s.key())),
+            MapQuantity::IceDensityCm3(s) => ("cm-3", format!("number density of {} in ice (molecules per cm3 of disk)", s.key())),
+            MapQuantity::ElementAbundance(p, e) => ("", format!("{} abundance of {} per H nucleus", p.key(), e.symbol())),
         }
     }
 
@@ -188,6 +246,12 @@ impl MapQuantity {
             MapQuantity::EquilibrationTimeYr(sp) => {
                 finite(model.equilibration_time_s[sp.index() * model.sample_count() + k] / JULIAN_YEAR_S)
             }
+            MapQuantity::GasDensityCm3(sp) | MapQuantity::IceDensityCm3(sp) => {
+                let total = model.carriers.species_per_h[sp.index()] * s.hydrogen_density_cm3[k];
+                let f = model.ice_fraction_at(sp, k);
+                finite(if matches!(self, MapQuantity::IceDensityCm3(_)) { f * total } else { (1.0 - f) * total })
+            }
+            MapQuantity::ElementAbundance(p, e) => finite(p.abundance(&model.phases_at(k), e)),
         }
     }
 }
@@ -212,5 +276,38 @@ pub fn map_table(model: &Model, quantity: MapQuantity, value_name: &str) -> Tabl
             rows.push(vec![finite(r / AU_CM), finite(z / AU_CM), finite(z / r), quantity.value(model, k)]);
         }
     }
+    Table { columns, rows }
+}
+
+/// Midplane abundance per H nucleus of every element in every phase, per radius
+/// (`nivalis elements`): columns radius_au, then <phase>_<element>_per_h for the
+/// phases gas, ice, refractory, solid and the elements C, O, N, S, Si, Mg, Fe.
+pub fn elements_table(model: &Model) -> Table {
+    let phases = [Phase::Gas, Phase::Ice, Phase::Refractory, Phase::Solid];
+    let mut columns = vec![col("radius_au", "AU", "radial cell centre")];
+    for p in phases {
+        for e in Element::ALL {
+            columns.push(col(
+                format!("{}_{}_per_h", p.key(), e.symbol()),
+                "",
+                format!("{} abundance of {} per H nucleus at the midplane", p.key(), e.symbol()),
+            ));
+        }
+    }
+    let profile = model.midplane_profile();
+    let rows = profile
+        .phases
+        .iter()
+        .zip(&profile.radius_au)
+        .map(|(ph, r)| {
+            let mut row = vec![finite(*r)];
+            for p in phases {
+                for e in Element::ALL {
+                    row.push(finite(p.abundance(ph, e)));
+                }
+            }
+            row
+        })
+        .collect();
     Table { columns, rows }
 }
