@@ -252,9 +252,12 @@ test("a large grid is computed in a Web Worker while the page keeps responding",
     };
     requestAnimationFrame(loop);
   }));
-  assert.ok(frames.count >= 5, `only ${frames.count} frames in ${frames.total.toFixed(0)} ms of background computation`);
-  assert.ok(frames.longest < 150, `a ${frames.longest.toFixed(0)} ms gap between frames while computing`);
   await page.evaluate(() => window.nivalis.whenDrawn());
+  const computeMs = await page.evaluate(() => window.nivalis.timings.computeMs);
+  assert.ok(frames.count >= 5, `only ${frames.count} frames in ${frames.total.toFixed(0)} ms of background computation`);
+  // A blocked main thread would show one gap as long as the computation; on a
+  // busy shared machine frames may still stutter, so the bound is relative.
+  assert.ok(frames.longest < 0.4 * computeMs, `a ${frames.longest.toFixed(0)} ms gap between frames during a ${computeMs.toFixed(0)} ms computation`);
   assert.match(await page.textContent("#status"), /1200 × 300 cells.*Computed in the background/);
   assert.equal(await page.isVisible("#busy"), false);
   const [waterLarge] = await waterSnowlines(page);
