@@ -605,6 +605,7 @@ function runNow() {
     notePerSample(timings.computeMs, lastSamples);
     const t2 = performance.now();
     // The first result draws everything (nothing is known to be on screen yet).
+    timings.drewAll = !drawnOnce;
     drawAll(!drawnOnce);
     drawnOnce = true;
     fillSnowlineTable();
@@ -619,7 +620,7 @@ function runNow() {
 
 function showStatus(summary) {
   $("status").textContent = `${summary.name || "Unnamed disk"}: ${summary.radial_cells} × ${summary.vertical_cells} cells, star C/O ${summary.star_c_to_o.toFixed(3)}. `
-    + `Computed ${timings.path === "worker" ? "in the background " : ""}in ${timings.computeMs.toFixed(1)} ms, views on screen drawn in ${timings.drawMs.toFixed(1)} ms.`;
+    + `Computed ${timings.path === "worker" ? "in the background " : ""}in ${timings.computeMs.toFixed(1)} ms, ${timings.drewAll ? "all views (first drawing)" : "views on screen"} drawn in ${timings.drawMs.toFixed(1)} ms.`;
 }
 
 // ---------------------------------------------------------------------------
@@ -700,6 +701,7 @@ function onWorkerMessage(event) {
       notePerSample(result.computeMs, samples);
       workerPerSample = (result.computeMs + result.packMs) / Math.max(1, samples);
       const t2 = performance.now();
+      timings.drewAll = !drawnOnce;
       drawAll(!drawnOnce);
       drawnOnce = true;
       fillSnowlineTable();
