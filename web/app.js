@@ -255,6 +255,14 @@ const DEFAULTS = Explorer.defaultDisk();
 const SPECIES_INFO = Explorer.speciesInfo();
 const DEMOS = JSON.parse($("demo-disks").textContent);
 
+// Extension points for web/planet.js (the planet panel and figure downloads),
+// which `cargo xtask dist` inlines after this file and which fills them in
+// once app.js has started: `afterResult` runs after every new valid result is
+// drawn, `fragmentParts` adds its state to the address, and `initialHash` is
+// the address as opened (the first result rewrites location.hash before
+// planet.js runs).
+const pageHooks = { afterResult: () => {}, fragmentParts: () => [], initialHash: location.hash };
+
 // ---------------------------------------------------------------------------
 // State: `state` is the disk as edited (it may be invalid); the core keeps the
 // last valid result. `history` holds earlier states for undo.
@@ -613,6 +621,7 @@ function runNow() {
     writeFragment();
     timings.path = "main thread";
     showStatus(result.summary);
+    pageHooks.afterResult();
   }
   document.body.dataset.ready = "true";
   if (dirty.size === 0) settleWaiters();
@@ -708,6 +717,7 @@ function onWorkerMessage(event) {
       timings.drawMs = performance.now() - t2;
       writeFragment();
       showStatus(result.summary);
+      pageHooks.afterResult();
     }
     if (dirty.size === 0) settleWaiters();
   } else if (message.type === "map") {
@@ -918,6 +928,7 @@ function writeFragment() {
   const parts = [`disk=${base64urlEncode(JSON.stringify(diff))}`];
   if (mapSpecies !== "H2O") parts.push(`species=${mapSpecies}`);
   if (theme !== "system") parts.push(`theme=${theme}`);
+  parts.push(...pageHooks.fragmentParts());
   const hash = "#" + parts.join("&");
   if (location.hash !== hash) history.replaceState(null, "", hash);
 }
