@@ -79,7 +79,7 @@ pub fn draw(canvas: &HtmlCanvasElement, data: &ViewData, theme: &Theme, pixels_p
 
 /// The plotters-canvas back end with text measured by the canvas itself.
 /// Every drawing call is forwarded unchanged.
-struct MeasuredCanvas {
+pub(crate) struct MeasuredCanvas {
     inner: CanvasBackend,
     context: CanvasRenderingContext2d,
     /// Measured sizes by (CSS font, text): the charts measure the same labels repeatedly.
@@ -87,7 +87,7 @@ struct MeasuredCanvas {
 }
 
 impl MeasuredCanvas {
-    fn new(canvas: &HtmlCanvasElement) -> Result<MeasuredCanvas, String> {
+    pub(crate) fn new(canvas: &HtmlCanvasElement) -> Result<MeasuredCanvas, String> {
         let inner = CanvasBackend::with_canvas_object(canvas.clone()).ok_or("the canvas has no 2d context")?;
         Ok(MeasuredCanvas { inner, context: context(canvas)?, sizes: RefCell::new(HashMap::new()) })
     }

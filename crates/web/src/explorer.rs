@@ -19,11 +19,12 @@ use crate::session::{grid_too_large, species_info, Export, Session};
 use crate::transfer::{from_parts, to_parts, ViewParts};
 
 /// The names of the exports, as `exportText` takes them.
-const EXPORTS: [&str; 6] = ["profile_csv", "profile_ecsv", "profile_json", "structure_csv", "snowlines_json", "disk"];
+const EXPORTS: [&str; 8] =
+    ["profile_csv", "profile_ecsv", "profile_json", "structure_csv", "snowlines_json", "disk", "methods_text", "bibtex"];
 
 /// A result computed in the page's worker: everything the page shows or
 /// exports, without the model itself.
-struct Remote {
+pub(crate) struct Remote {
     summary: Value,
     snowline_table: Value,
     resolved_disk: Value,
@@ -33,7 +34,7 @@ struct Remote {
 /// Screen pixels (CSS px) per typographic point. 96/72 is the CSS definition;
 /// the extra factor 1.2 makes the paper-sized fonts of the charts' themes
 /// readable at screen distance.
-const CSS_PX_PER_POINT: f64 = 96.0 / 72.0 * 1.2;
+pub(crate) const CSS_PX_PER_POINT: f64 = 96.0 / 72.0 * 1.2;
 
 fn to_js(value: &Value) -> JsValue {
     // Invariant: serde_json values always serialise (objects become plain JS objects).
@@ -48,14 +49,16 @@ fn problems_js(problems: &[Problem]) -> Value {
 /// where each canvas was last drawn.
 #[wasm_bindgen]
 pub struct Explorer {
-    session: Session,
+    pub(crate) session: Session,
     /// View data by key ("c_to_o", "temperature", "abundances", "c_to_o_map", "ice_map:CO"), built on first use per model.
-    data: HashMap<String, ViewData>,
+    pub(crate) data: HashMap<String, ViewData>,
     /// Per canvas id: the data key it shows and its layout.
-    layouts: HashMap<String, (String, ChartLayout)>,
+    pub(crate) layouts: HashMap<String, (String, ChartLayout)>,
     /// The current result when it came from the worker (`loadPacket`); `None`
     /// when it is the session's own model.
-    remote: Option<Remote>,
+    pub(crate) remote: Option<Remote>,
+    /// The planet panel's placed planet and inverse map (see `planet_js`).
+    pub(crate) planet: crate::planet::PlanetState,
 }
 
 impl Default for Explorer {
@@ -69,7 +72,7 @@ impl Explorer {
     /// An explorer without a result.
     #[wasm_bindgen(constructor)]
     pub fn new() -> Explorer {
-        Explorer { session: Session::new(), data: HashMap::new(), layouts: HashMap::new(), remote: None }
+        Explorer { session: Session::new(), data: HashMap::new(), layouts: HashMap::new(), remote: None, planet: Default::default() }
     }
 
     /// The default disk with every field resolved (what `{}` means), as a JS object.
@@ -144,7 +147,8 @@ impl Explorer {
     }
 
     /// One export as text: `profile_csv`, `profile_ecsv`, `profile_json`,
-    /// `structure_csv`, `snowlines_json` or `disk`; `undefined` before any result.
+    /// `structure_csv`, `snowlines_json`, `disk`, `methods_text` or `bibtex`;
+    /// `undefined` before any result.
     #[wasm_bindgen(js_name = exportText)]
     pub fn export_text(&self, what: &str) -> Result<Option<String>, JsError> {
         let kind = Export::from_name(what).ok_or_else(|| JsError::new(&format!("unknown export {what:?}")))?;
@@ -285,7 +289,7 @@ impl Explorer {
         }
     }
 
-    fn view_data(&mut self, key: &str) -> Result<&ViewData, JsError> {
+    pub(crate) fn view_data(&mut self, key: &str) -> Result<&ViewData, JsError> {
         if !self.data.contains_key(key) {
             if self.remote.is_some() {
                 return Err(JsError::new(&format!("the view {key} has not been received from the worker")));
@@ -293,7 +297,8 @@ impl Explorer {
             let current = self.session.current().ok_or_else(|| JsError::new("no valid disk has been computed yet"))?;
             let model = &current.model;
             let data = match key {
-                "c_to_o" => ViewData::Profile(ProfileData::from_model(model)),
+                // With the planet panel's marks (planet radius, allowed formation radii).
+                "c_to_o" => ViewData::Profile(crate::planet::with_marks(ProfileData::from_model(model), &self.planet)),
                 "temperature" => ViewData::Temperature(TemperatureData::from_model(model)),
                 "abundances" => ViewData::Abundances(AbundanceData::from_model(model)),
                 "c_to_o_map" => ViewData::CToOMap(MapData::gas_c_to_o(model)),

@@ -11,12 +11,17 @@
 //!
 //! Modules: [`session`] (plain Rust, tested natively: state, snowline table,
 //! exports), [`readout`] (plain Rust: the value under the pointer, looked up
-//! in the charts' input data), and, on wasm32 only, `canvas` (plotters-canvas
-//! drawing and the one `putImageData` per map) and the exported [`Explorer`].
+//! in the charts' input data), [`planet`] (plain Rust: the planet panel's
+//! forward model, inverse map, anchor and their exports), [`figures`] (plain
+//! Rust: SVG/PNG files identical to `nivalis figure`), and, on wasm32 only,
+//! `canvas` (plotters-canvas drawing and the one `putImageData` per map), the
+//! exported [`Explorer`] and `planet_js` (its planet and figure methods).
 //!
 //! JavaScript names are camelCase (`updateFromText`, `snowlineTable`, ...);
 //! DEVELOPERS.md lists the mapping.
 
+pub mod figures;
+pub mod planet;
 pub mod readout;
 pub mod session;
 pub mod transfer;
@@ -27,3 +32,5 @@ mod canvas;
 mod explorer;
 #[cfg(target_arch = "wasm32")]
 pub use explorer::Explorer;
+#[cfg(target_arch = "wasm32")]
+mod planet_js;

@@ -7,6 +7,7 @@
 //! current result, so the page keeps showing the last valid one.
 
 use nivalis_disk_files::{from_value, to_json_string, to_value, DiskFile, Problem};
+use nivalis_exports::bibtex::{bibtex, methods_paragraph};
 use nivalis_exports::formats::json_text;
 use nivalis_exports::methods::methods;
 use nivalis_exports::snowlines::snowlines_json;
@@ -46,6 +47,10 @@ pub enum Export {
     SnowlinesJson,
     /// The resolved disk file, as `nivalis` writes it (the page's Save).
     DiskFile,
+    /// `nivalis methods DISK`: the methods paragraph.
+    MethodsText,
+    /// `nivalis methods DISK --bibtex FILE`: the BibTeX of exactly the cited references.
+    Bibtex,
 }
 
 impl Export {
@@ -58,6 +63,8 @@ impl Export {
             "structure_csv" => Export::StructureCsv,
             "snowlines_json" => Export::SnowlinesJson,
             "disk" => Export::DiskFile,
+            "methods_text" => Export::MethodsText,
+            "bibtex" => Export::Bibtex,
             _ => return None,
         })
     }
@@ -122,6 +129,8 @@ impl Session {
             Export::StructureCsv => to_csv(&structure_table(model)),
             Export::SnowlinesJson => json_text(&snowlines_json(model, &Provenance::of(file))),
             Export::DiskFile => to_json_string(file),
+            Export::MethodsText => methods_paragraph(&file.parameters, &methods(&file.parameters), &Provenance::of(file)),
+            Export::Bibtex => bibtex(&methods(&file.parameters)),
         })
     }
 

@@ -15,7 +15,9 @@
 //! 5. fill the template `web/index.html`: the CSS (`web/style.css`), every
 //!    `demo_disks/*.json` as one JSON object in a `<script type="application/json">`,
 //!    and ONE inline `<script type="module">` holding the glue, the wasm as
-//!    base64 (decoded and compiled with `initSync`) and the app (`web/app.js`),
+//!    base64 (decoded and compiled with `initSync`) and the app (`web/app.js`
+//!    then `web/planet.js`, the planet panel and figure downloads; CSS likewise
+//!    `web/style.css` then `web/planet.css`),
 //!    and the Web Worker's script as inert text (`<script type="text/plain">`:
 //!    the no-modules glue and `web/worker.js`), which the page starts from a
 //!    blob: URL for large grids, handing it the compiled module.
@@ -37,6 +39,11 @@ const STYLE_SLOT: &str = "<!-- nivalis:style -->";
 const DEMO_SLOT: &str = "<!-- nivalis:demo-disks -->";
 const SCRIPT_SLOT: &str = "<!-- nivalis:script -->";
 const WORKER_SLOT: &str = "<!-- nivalis:worker -->";
+
+/// The page's scripts, inlined in this order into the one module script.
+const SCRIPTS: [&str; 2] = ["web/app.js", "web/planet.js"];
+/// The page's style sheets, inlined in this order.
+const STYLES: [&str; 2] = ["web/style.css", "web/planet.css"];
 
 /// Builds the page and returns the path of the finished HTML file.
 /// `release` selects the size-optimised `wasm-release` profile; `false` is a
@@ -78,8 +85,19 @@ pub fn dist(release: bool) -> Result<PathBuf, String> {
 
     let read = |path: &Path| std::fs::read_to_string(path).map_err(|e| format!("cannot read {}: {e}", relative(path)));
     let template = read(&root.join("web/index.html"))?;
-    let style = read(&root.join("web/style.css"))?;
-    let app = read(&root.join("web/app.js"))?;
+    // Several sources per element, joined in this fixed order: the planet
+    // panel's script runs after app.js in the same module scope (it uses
+    // app.js's functions and the running `explorer`).
+    let join = |paths: &[&str]| -> Result<String, String> {
+        let mut out = String::new();
+        for p in paths {
+            out.push_str(&read(&root.join(p))?);
+            out.push('\n');
+        }
+        Ok(out)
+    };
+    let style = join(&STYLES)?;
+    let app = join(&SCRIPTS)?;
     let worker = read(&root.join("web/worker.js"))?;
     let worker_source = format!("{worker_glue}\n{worker}");
     let demos = demo_disks_json(&root.join("demo_disks"))?;
@@ -89,9 +107,9 @@ pub fn dist(release: bool) -> Result<PathBuf, String> {
         base64(&wasm)
     );
     for (what, text) in [
-        ("web/app.js with the glue", script.as_str()),
+        ("web/app.js and web/planet.js with the glue", script.as_str()),
         ("web/worker.js with the glue", worker_source.as_str()),
-        ("web/style.css", style.as_str()),
+        ("web/style.css and web/planet.css", style.as_str()),
     ] {
         if text.to_ascii_lowercase().contains("</script") || text.to_ascii_lowercase().contains("</style") {
             return Err(format!("{what} contains a closing </script> or </style> tag, which would end its inline element early"));

@@ -1,0 +1,767 @@
+//! The page's planet tools in plain Rust (no JavaScript types), tested
+//! natively: the forward model (a planet placed at a radius or along a
+//! migration range), the inverse chi-square map for an observed envelope, the
+//! snowline anchor, their exports, and the words the panel shows.
+//!
+//! Every number comes from the same core and export functions the CLI calls
+//! with the same arguments (`nivalis planet`, `nivalis fit`, `nivalis anchor`),
+//! so the page's files equal the CLI's byte for byte; this module only reads
+//! the panel's inputs, names problems by field, and phrases results.
+//!
+//! Problems carry the panel's field names as paths (`planet.radius_au`,
+//! `fit.c_to_o_sigma`, `anchor.radius_au`, ...), so the page shows each beside
+//! its field.
+
+use nivalis_charts::ProfileData;
+use nivalis_disk_files::{DiskFile, Problem};
+use nivalis_exports::bibtex::{bibtex, bibtex_entry, methods_paragraph};
+use nivalis_exports::formats::json_text;
+use nivalis_exports::methods::{cited_keys, methods};
+use nivalis_exports::planet::{anchor_summary, fit_ecsv, fit_json, fit_summary, fit_table, planet_json, planet_table};
+use nivalis_exports::provenance::program_version;
+use nivalis_exports::{to_csv, Provenance};
+use nivalis_physics::anchor::{anchor_to_snowline, AnchorParameter, AnchorRequest};
+use nivalis_physics::params::Element;
+use nivalis_physics::planet::{
+    chi_square_map, planet, ChiSquareMap, ConfidenceConvention, FormationPlace, MapSettings, MetallicityTracer, ObservedEnvelope,
+    ObservedMetallicity, Planet, PlanetRequest, RadialWeighting, RadiusInterval, SigmaLevel, DEFAULT_MAP_RATIO_COUNT,
+};
+use nivalis_physics::references::reference;
+use nivalis_physics::units::AU_CM;
+use nivalis_physics::{Model, PhysicsError, Species};
+use serde_json::{json, Value};
+
+use crate::session::physics_problem;
+
+/// The reference for the envelope bookkeeping (MODEL.md section 9), kept in
+/// `nivalis_physics::references` with its full record.
+const PLANET_REFERENCE: &str = "oberg2011";
+
+/// A placed planet: the request as the CLI builds it, and its result.
+#[derive(Debug)]
+pub struct PlacedPlanet {
+    /// Where it accreted.
+    pub place: FormationPlace,
+    /// The forward model's result.
+    pub planet: Planet,
+    /// The disk it was computed in (for provenance).
+    pub file: DiskFile,
+}
+
+/// An inverse map and the disk it was computed in.
+#[derive(Debug)]
+pub struct FittedMap {
+    /// The chi-square map.
+    pub map: ChiSquareMap,
+    /// The disk (for provenance and methods).
+    pub file: DiskFile,
+    /// The union of the 1-sigma radius ranges over every solid-to-gas ratio,
+    /// as (inner, outer) cell edges [au].
+    pub allowed_union_au: Vec<(f64, f64)>,
+}
+
+/// The planet tools' state on the page.
+#[derive(Default)]
+pub struct PlanetState {
+    /// The last placed planet (`None` before any, or after invalid input).
+    pub placed: Option<PlacedPlanet>,
+    /// The last inverse map.
+    pub fitted: Option<FittedMap>,
+}
+
+/// Exports of the planet tools; each names the CLI command it equals.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum PlanetExport {
+    /// `nivalis planet DISK ... --format json`.
+    PlanetJson,
+    /// `nivalis planet DISK ... --format csv`.
+    PlanetCsv,
+    /// `nivalis fit DISK ... --format csv`.
+    FitCsv,
+    /// `nivalis fit DISK ... --format ecsv`.
+    FitEcsv,
+    /// `nivalis fit DISK ... --format json`.
+    FitJson,
+    /// The planet methods paragraph followed by the disk's (`nivalis methods DISK`).
+    PlanetMethods,
+    /// BibTeX of exactly what the planet methods text cites.
+    PlanetBibtex,
+}
+
+impl PlanetExport {
+    /// Parses the page's name of an export.
+    pub fn from_name(name: &str) -> Option<PlanetExport> {
+        Some(match name {
+            "planet_json" => PlanetExport::PlanetJson,
+            "planet_csv" => PlanetExport::PlanetCsv,
+            "fit_csv" => PlanetExport::FitCsv,
+            "fit_ecsv" => PlanetExport::FitEcsv,
+            "fit_json" => PlanetExport::FitJson,
+            "planet_methods" => PlanetExport::PlanetMethods,
+            "planet_bibtex" => PlanetExport::PlanetBibtex,
+            _ => return None,
+        })
+    }
+}
+
+/// A typed number of the panel: a JSON number, or text that reads as one
+/// (what a person typed). Blank or absent is `None`; anything else, or a
+/// non-finite value, is a problem naming the field and what was typed.
+pub fn typed_number(input: &Value, key: &str, path: &str) -> Result<Option<f64>, Problem> {
+    let problem = |got: String| Problem { path: path.to_string(), message: format!("must be a finite number, got {got}") };
+    match input.get(key) {
+        None | Some(Value::Null) => Ok(None),
+        Some(Value::Number(n)) => n.as_f64().filter(|x| x.is_finite()).map(Some).ok_or_else(|| problem(n.to_string())),
+        Some(Value::String(s)) if s.trim().is_empty() => Ok(None),
+        Some(Value::String(s)) => {
+            let t = s.trim();
+            // Rust's float parser also reads "inf" and "NaN"; neither is a value here.
+            match t.parse::<f64>() {
+                Ok(x) if x.is_finite() && !t.chars().any(|c| c.is_ascii_alphabetic() && c != 'e' && c != 'E') => Ok(Some(x)),
+                _ => Err(problem(format!("{s:?}"))),
+            }
+        }
+        Some(other) => Err(problem(other.to_string())),
+    }
+}
+
+fn required(input: &Value, key: &str, path: &str, problems: &mut Vec<Problem>) -> Option<f64> {
+    match typed_number(input, key, path) {
+        Ok(Some(x)) => Some(x),
+        Ok(None) => {
+            problems.push(Problem { path: path.to_string(), message: "is required".to_string() });
+            None
+        }
+        Err(p) => {
+            problems.push(p);
+            None
+        }
+    }
+}
+
+fn optional(input: &Value, key: &str, path: &str, problems: &mut Vec<Problem>) -> Option<f64> {
+    typed_number(input, key, path).unwrap_or_else(|p| {
+        problems.push(p);
+        None
+    })
+}
+
+/// A core error as a problem on the panel field it concerns: the core names
+/// its own parameters (`solid_mixing_fraction`, `outer_radius_au`, ...), the
+/// panel's fields are named after the CLI options.
+fn core_problem(error: &PhysicsError, prefix: &str, fields: &[(&str, &str)]) -> Problem {
+    let p = physics_problem(error);
+    match fields.iter().find(|(core, _)| *core == p.path) {
+        Some((_, field)) => Problem { path: format!("{prefix}.{field}"), message: p.message },
+        None => Problem { path: prefix.to_string(), message: error.to_string() },
+    }
+}
+
+/// The request `nivalis planet` builds from `--radius-au`, `--to-radius-au`,
+/// `--weighting`, `--solid-to-gas` and `--mix` (default 1), read from the
+/// panel's `{radius_au, to_radius_au, weighting, solid_to_gas, mix}`.
+pub fn planet_request(input: &Value) -> Result<PlanetRequest, Vec<Problem>> {
+    let mut problems = Vec::new();
+    let radius_au = required(input, "radius_au", "planet.radius_au", &mut problems);
+    let to_radius_au = optional(input, "to_radius_au", "planet.to_radius_au", &mut problems);
+    let solid_to_gas = required(input, "solid_to_gas", "planet.solid_to_gas", &mut problems);
+    let mix = optional(input, "mix", "planet.mix", &mut problems).unwrap_or(1.0);
+    let weighting = match input.get("weighting").and_then(Value::as_str) {
+        None | Some("uniform") => RadialWeighting::Uniform,
+        Some("log_radius") => RadialWeighting::LogRadius,
+        Some(other) => {
+            problems.push(Problem { path: "planet.weighting".into(), message: format!("must be uniform or log_radius, got {other:?}") });
+            RadialWeighting::Uniform
+        }
+    };
+    let (Some(radius_au), Some(solid_to_gas)) = (radius_au, solid_to_gas) else { return Err(problems) };
+    if !problems.is_empty() {
+        return Err(problems);
+    }
+    let place = match to_radius_au {
+        None => FormationPlace::Radius { radius_au },
+        Some(outer) => FormationPlace::Migration { inner_radius_au: radius_au, outer_radius_au: outer, weighting },
+    };
+    // gas_mass_g = 1 as in the CLI: only the mass ratio enters every ratio.
+    Ok(PlanetRequest { place, gas_mass_g: 1.0, solid_to_gas, solid_mixing_fraction: mix })
+}
+
+/// Runs the forward model as `nivalis planet` does; problems name the panel's fields.
+pub fn place_planet(model: &Model, file: &DiskFile, input: &Value) -> Result<PlacedPlanet, Vec<Problem>> {
+    let request = planet_request(input)?;
+    let fields = [
+        ("radius_au", "radius_au"),
+        ("inner_radius_au", "radius_au"),
+        ("outer_radius_au", "to_radius_au"),
+        ("solid_to_gas", "solid_to_gas"),
+        ("solid_mixing_fraction", "mix"),
+    ];
+    let result = planet(model, &request).map_err(|e| vec![core_problem(&e, "planet", &fields)])?;
+    Ok(PlacedPlanet { place: request.place, planet: result, file: file.clone() })
+}
+
+/// What the panel shows of a placed planet: the envelope (C/O, [C/H], [O/H],
+/// and C, O, N, S per H relative to the star, with each element's share from
+/// the solids), the local gas and solid C/O, and the star's C/O (which is
+/// also the C/O of the disk's gas and solids together). Undefined values are `null`.
+pub fn planet_view(p: &PlacedPlanet) -> Value {
+    let e = &p.planet.envelope;
+    let x = &e.stellar_per_h;
+    let elements: serde_json::Map<String, Value> = [Element::C, Element::O, Element::N, Element::S]
+        .iter()
+        .map(|&el| {
+            let v = e.element(el);
+            (el.symbol().to_string(), json!({"relative_to_star": finite(v.relative_to_star), "dex": v.dex, "solid_share": v.solid_share}))
+        })
+        .collect();
+    let (r1, r2) = (p.planet.phases.inner_radius_au, p.planet.phases.outer_radius_au);
+    json!({
+        "radius_au": r1,
+        "to_radius_au": if r2 != r1 { Some(r2) } else { None },
+        "solid_to_gas": e.solid_to_gas,
+        "mix": e.solid_mixing_fraction,
+        "envelope": {
+            "c_to_o": e.c_to_o,
+            "c_to_o_rel_star": e.c_to_o_relative_to_star(),
+            "c_to_h_dex": e.c_to_h_dex(),
+            "o_to_h_dex": e.o_to_h_dex(),
+            "elements": elements,
+        },
+        "local": {
+            "gas_c_to_o": p.planet.phases.gas_c_to_o(),
+            "solid_c_to_o": p.planet.phases.solid_c_to_o(),
+            "solid_to_gas_available": finite(p.planet.phases.solid_to_gas_available),
+        },
+        "star_c_to_o": finite(x[Element::C as usize] / x[Element::O as usize]),
+    })
+}
+
+fn finite(x: f64) -> Option<f64> {
+    x.is_finite().then_some(x)
+}
+
+/// The settings and observation `nivalis fit` builds from its options, read
+/// from the panel's `{c_to_o, c_to_o_sigma, tracer: "none"|"C"|"O",
+/// metallicity_dex, metallicity_sigma_dex, mix, convention}`. The number of
+/// solid-to-gas values is the CLI's default (48).
+pub fn fit_request(input: &Value) -> Result<(ObservedEnvelope, MapSettings), Vec<Problem>> {
+    let mut problems = Vec::new();
+    let c_to_o = required(input, "c_to_o", "fit.c_to_o", &mut problems);
+    let c_to_o_sigma = required(input, "c_to_o_sigma", "fit.c_to_o_sigma", &mut problems);
+    let mix = optional(input, "mix", "fit.mix", &mut problems).unwrap_or(1.0);
+    let tracer = match input.get("tracer").and_then(Value::as_str) {
+        None | Some("none") | Some("") => None,
+        Some("C") => Some(MetallicityTracer::Carbon),
+        Some("O") => Some(MetallicityTracer::Oxygen),
+        Some(other) => {
+            problems.push(Problem { path: "fit.tracer".into(), message: format!("must be none, C or O, got {other:?}") });
+            None
+        }
+    };
+    let metallicity = match tracer {
+        None => None,
+        Some(tracer) => {
+            let dex = required(input, "metallicity_dex", "fit.metallicity_dex", &mut problems);
+            let sigma = required(input, "metallicity_sigma_dex", "fit.metallicity_sigma_dex", &mut problems);
+            match (dex, sigma) {
+                (Some(dex), Some(sigma_dex)) => Some(ObservedMetallicity { tracer, dex, sigma_dex }),
+                _ => None,
+            }
+        }
+    };
+    let convention = match input.get("convention").and_then(Value::as_str) {
+        None | Some("mapped_parameters") => ConfidenceConvention::MappedParameters,
+        Some("fitted_quantities") => ConfidenceConvention::FittedQuantities,
+        Some(other) => {
+            problems.push(Problem {
+                path: "fit.convention".into(),
+                message: format!("must be mapped_parameters or fitted_quantities, got {other:?}"),
+            });
+            ConfidenceConvention::MappedParameters
+        }
+    };
+    match (c_to_o, c_to_o_sigma) {
+        (Some(c_to_o), Some(c_to_o_sigma)) if problems.is_empty() => Ok((
+            ObservedEnvelope { c_to_o, c_to_o_sigma, metallicity },
+            MapSettings { ratio_count: DEFAULT_MAP_RATIO_COUNT, solid_mixing_fraction: mix, convention },
+        )),
+        _ => Err(problems),
+    }
+}
+
+/// Runs the inverse map as `nivalis fit` does; problems name the panel's fields.
+pub fn fit_planet(model: &Model, file: &DiskFile, input: &Value) -> Result<FittedMap, Vec<Problem>> {
+    let (observed, settings) = fit_request(input)?;
+    let fields = [
+        ("c_to_o", "c_to_o"),
+        ("c_to_o_sigma", "c_to_o_sigma"),
+        ("metallicity_dex", "metallicity_dex"),
+        ("metallicity_sigma_dex", "metallicity_sigma_dex"),
+        ("solid_mixing_fraction", "mix"),
+    ];
+    let map = chi_square_map(model, &observed, &settings).map_err(|e| vec![core_problem(&e, "fit", &fields)])?;
+    let allowed_union_au = allowed_union(&map);
+    Ok(FittedMap { map, file: file.clone(), allowed_union_au })
+}
+
+/// Every radius allowed at 1 sigma for some solid-to-gas ratio of the map, as
+/// merged intervals of cell edges [au], inner first: where the planet may have
+/// formed, whatever it accreted.
+pub fn allowed_union(map: &ChiSquareMap) -> Vec<(f64, f64)> {
+    let n_r = map.radius_au.len();
+    let mut inside = vec![false; n_r];
+    for a in &map.allowed {
+        for i in &a.one_sigma {
+            for cell in inside.iter_mut().take(i.last_cell + 1).skip(i.first_cell) {
+                *cell = true;
+            }
+        }
+    }
+    let mut out = Vec::new();
+    let mut start = None;
+    for j in 0..=n_r {
+        let ok = j < n_r && inside[j];
+        match (ok, start) {
+            (true, None) => start = Some(j),
+            (false, Some(s)) => {
+                out.push((map.cell_edges_au[s], map.cell_edges_au[j]));
+                start = None;
+            }
+            _ => {}
+        }
+    }
+    out
+}
+
+/// A number in about `digits` significant digits for sentences (no exponent below 1e-3).
+fn sig(x: f64, digits: usize) -> String {
+    if !x.is_finite() {
+        return "undefined".into();
+    }
+    if x == 0.0 {
+        return "0".into();
+    }
+    // log10 through the core's libm routines, so the page and native tests agree.
+    let magnitude = (nivalis_physics::math::ln(x.abs()) / std::f64::consts::LN_10).floor() as i32;
+    let decimals = (digits as i32 - 1 - magnitude).max(0) as usize;
+    format!("{x:.decimals$}")
+}
+
+fn ratio_text(x: Option<f64>) -> String {
+    x.map_or_else(|| "undefined (too little oxygen)".to_string(), |v| sig(v, 2))
+}
+
+/// The snowlines (label, radius [au]) of the model's freeze-out fronts, inner first.
+fn freeze_out_lines(model: &Model) -> Vec<(String, f64)> {
+    let mut lines: Vec<(String, f64)> = Species::ALL
+        .iter()
+        .flat_map(|&s| {
+            model
+                .snowlines(s)
+                .into_iter()
+                .filter(|l| l.direction == nivalis_physics::CrossingDirection::FreezeOut)
+                .map(move |l| (nivalis_charts::typeset_formula(s.key()), l.radius_cm / AU_CM))
+        })
+        .collect();
+    lines.sort_by(|a, b| a.1.total_cmp(&b.1));
+    lines
+}
+
+/// Where a radius lies among the snowlines, in words: "inside the H₂O
+/// snowline", "between the H₂O and CO₂ snowlines", "outside the CO snowline".
+fn among_snowlines(lines: &[(String, f64)], r: f64) -> String {
+    let outside = lines.iter().filter(|(_, x)| *x <= r).last();
+    let inside = lines.iter().find(|(_, x)| *x > r);
+    match (outside, inside) {
+        (None, None) => "where no ice has a snowline".to_string(),
+        (None, Some((b, _))) => format!("inside the {b} snowline"),
+        (Some((a, _)), None) => format!("outside the {a} snowline"),
+        (Some((a, _)), Some((b, _))) => format!("between the {a} and {b} snowlines"),
+    }
+}
+
+/// The degeneracies of the map in plain words: the core's sentences
+/// (`degeneracy_summary`), then why they arise in this disk: for each of the
+/// disjoint radius ranges at the first split, where it lies among the
+/// snowlines and what C/O its gas and its solids have there, and what would
+/// tell the ranges apart.
+pub fn explain(model: &Model, map: &ChiSquareMap) -> Vec<String> {
+    let mut out = map.degeneracy_summary();
+    let lines = freeze_out_lines(model);
+    let profile = model.midplane_profile();
+    let degeneracies = map.degeneracies(SigmaLevel::One);
+    let local = |i: &RadiusInterval| {
+        // The cell nearest the range's centre in log r.
+        let j = (i.first_cell + i.last_cell) / 2;
+        let centre = (i.inner_centre_au * i.outer_centre_au).sqrt();
+        format!(
+            "{}-{} au lies {}; there the gas has C/O {} and the solids {}",
+            sig(i.inner_edge_au, 2),
+            sig(i.outer_edge_au, 2),
+            among_snowlines(&lines, centre),
+            ratio_text(profile.c_to_o_gas[j]),
+            ratio_text(profile.c_to_o_solid[j])
+        )
+    };
+    if let Some(d) = degeneracies.first() {
+        let parts: Vec<String> = d.ranges.iter().map(local).collect();
+        out.push(format!(
+            "Why: the envelope's C/O is the mix of the local gas's C/O and the local solids' C/O, weighted by how much of each the planet took in, and both change in steps at the snowlines, where an ice takes its carbon and oxygen out of the gas. At solid-to-gas {}, {}. Different mixes of gas and solids from these places reach the same envelope C/O, so C/O alone cannot tell them apart.",
+            sig(d.solid_to_gas, 2),
+            parts.join("; ")
+        ));
+    }
+    if map.observed.metallicity.is_none() {
+        let band = match &map.best {
+            Some(b) => format!(
+                " The best fit ({} au, solid-to-gas {}) is only one of many equally good places.",
+                sig(b.radius_au, 2),
+                sig(b.solid_to_gas, 2)
+            ),
+            None => String::new(),
+        };
+        out.push(format!(
+            "One observed number (C/O) is fitted with two unknowns (formation radius and solid-to-gas ratio), so the allowed region is a band across the map rather than a point: formed farther out with more solids can look like formed closer in with fewer.{band} A measured [C/H] or [O/H] narrows it, because accreted solids raise the envelope's metallicity while gas from outside a snowline lacks the elements frozen out there."
+        ));
+    } else if degeneracies.is_empty() {
+        out.push(format!("With {} both fitted, the 1-sigma region does not split into separate radius ranges at any solid-to-gas ratio.", map.observed.fitted_label()));
+    }
+    out
+}
+
+/// What the panel shows of an inverse map: the CLI's summary (observation,
+/// thresholds, best fit, allowed radii per ratio, degeneracy sentences; the
+/// same object `nivalis fit --format json` writes under `fit`), the union of
+/// 1-sigma radii, the local C/O at the best fit and the plain-words explanation.
+pub fn fit_view(model: &Model, fitted: &FittedMap) -> Value {
+    let mut summary = fit_summary(&fitted.map);
+    if let Value::Object(o) = &mut summary {
+        o.insert("allowed_union_au".into(), json!(fitted.allowed_union_au.iter().map(|(a, b)| json!([a, b])).collect::<Vec<_>>()));
+        o.insert("explanation".into(), json!(explain(model, &fitted.map)));
+        if let Some(b) = &fitted.map.best {
+            let profile = model.midplane_profile();
+            o.insert(
+                "best_local".into(),
+                json!({"gas_c_to_o": profile.c_to_o_gas[b.radial_cell], "solid_c_to_o": profile.c_to_o_solid[b.radial_cell]}),
+            );
+        }
+    }
+    summary
+}
+
+/// The profile with the planet's radius and the allowed 1-sigma radii marked.
+pub fn with_marks(profile: ProfileData, state: &PlanetState) -> ProfileData {
+    let mut p = profile;
+    p.planet_radius_au = state.placed.as_ref().map(|pl| pl.planet.phases.inner_radius_au);
+    p.allowed_formation_radii_au = state.fitted.as_ref().map(|f| f.allowed_union_au.clone()).unwrap_or_default();
+    p
+}
+
+/// One planet export as text; `None` when the tool it needs has no result yet.
+pub fn export(state: &PlanetState, what: PlanetExport) -> Option<String> {
+    Some(match what {
+        PlanetExport::PlanetJson => {
+            let p = state.placed.as_ref()?;
+            json_text(&planet_json(&p.planet, &p.place, &Provenance::of(&p.file)))
+        }
+        PlanetExport::PlanetCsv => to_csv(&planet_table(&state.placed.as_ref()?.planet)),
+        PlanetExport::FitCsv => to_csv(&fit_table(&state.fitted.as_ref()?.map)),
+        PlanetExport::FitEcsv => {
+            let f = state.fitted.as_ref()?;
+            fit_ecsv(&f.map, &Provenance::of(&f.file), &methods(&f.file.parameters))
+        }
+        PlanetExport::FitJson => {
+            let f = state.fitted.as_ref()?;
+            json_text(&fit_json(&f.map, &Provenance::of(&f.file), &methods(&f.file.parameters)))
+        }
+        PlanetExport::PlanetMethods => planet_methods(state)?,
+        PlanetExport::PlanetBibtex => planet_bibtex(state)?,
+    })
+}
+
+fn number_text(x: f64) -> String {
+    // Shortest text that reads back as the same double (what the user typed, usually).
+    format!("{x}")
+}
+
+/// The planet methods paragraph (the placed planet and/or the inverse map),
+/// followed by the disk's methods paragraph exactly as `nivalis methods DISK`
+/// writes it, so one text covers everything the numbers rest on. States the
+/// assumptions: local accretion of midplane gas and solids, full mixing of
+/// the solids' atoms unless f_mix < 1, hydrogen from the gas only, and the
+/// disk in equilibrium at one moment.
+pub fn planet_methods(state: &PlanetState) -> Option<String> {
+    let file = state.placed.as_ref().map(|p| &p.file).or(state.fitted.as_ref().map(|f| &f.file))?;
+    let provenance = Provenance::of(file);
+    // Invariant: the key is in nivalis_physics::references (a unit test checks it).
+    let citation = reference(PLANET_REFERENCE).map_or("", |r| r.citation);
+    let mut text = format!(
+        "We estimated the planet's envelope composition with {} on the disk described below (disk file hash {}), with the bookkeeping of {citation}: the envelope takes in the gas and the solids of the disk midplane where the planet accretes (local accretion), its hydrogen is counted from the accreted gas only, and the disk is taken in freeze-out/desorption equilibrium at one moment, with no radial drift of grains, no vapour transport and no evolution of the disk while the planet accretes.",
+        provenance.program, provenance.disk_hash
+    );
+    let mixing = |f: f64| {
+        if f >= 1.0 {
+            "all of the accreted solids' atoms enter the envelope (full mixing)".to_string()
+        } else if f <= 0.0 {
+            "none of the accreted solids' atoms enter the envelope (f_mix = 0: the solids stay in the core)".to_string()
+        } else {
+            format!("a fraction f_mix = {} of the accreted solids' atoms enters the envelope and the rest stays in the core", number_text(f))
+        }
+    };
+    if let Some(p) = &state.placed {
+        let e = &p.planet.envelope;
+        let place = match p.place {
+            FormationPlace::Radius { radius_au } => format!("at r = {} au", number_text(radius_au)),
+            FormationPlace::Migration { inner_radius_au, outer_radius_au, weighting } => format!(
+                "along a migration range from {} to {} au, with the gas and solids averaged over {} points {}",
+                number_text(inner_radius_au),
+                number_text(outer_radius_au),
+                p.planet.phases.points,
+                match weighting {
+                    RadialWeighting::Uniform => "uniform in radius",
+                    RadialWeighting::LogRadius => "uniform in log radius",
+                }
+            ),
+        };
+        text.push_str(&format!(
+            " The planet accreted {place} with a solid-to-gas accreted mass ratio of {}; {}. Its envelope then has C/O = {}, [C/H] = {} and [O/H] = {}.",
+            number_text(e.solid_to_gas),
+            mixing(e.solid_mixing_fraction),
+            e.c_to_o.map_or("undefined".to_string(), |v| sig(v, 3)),
+            e.c_to_h_dex().map_or("undefined".to_string(), |v| format!("{v:+.2}")),
+            e.o_to_h_dex().map_or("undefined".to_string(), |v| format!("{v:+.2}")),
+        ));
+    }
+    if let Some(f) = &state.fitted {
+        let m = &f.map;
+        let o = &m.observed;
+        let observed = match o.metallicity {
+            Some(x) => format!(
+                "C/O = {} +- {} and {} = {} +- {} dex",
+                number_text(o.c_to_o),
+                number_text(o.c_to_o_sigma),
+                x.tracer.label(),
+                number_text(x.dex),
+                number_text(x.sigma_dex)
+            ),
+            None => format!("C/O = {} +- {}", number_text(o.c_to_o), number_text(o.c_to_o_sigma)),
+        };
+        text.push_str(&format!(
+            " To find where a planet with the observed {observed} could have formed, we computed chi-square over the {} radial cells of the disk model and {} solid-to-gas ratios spaced logarithmically from 0.001 to 1, with {} (solids at every place mixed alike); the 1- and 2-sigma regions are those with delta chi-square up to {} and {}, the 68.27 % and 95.45 % quantiles of a chi-square distribution with {} degree{} of freedom ({}).",
+            m.radius_au.len(),
+            m.solid_to_gas.len(),
+            mixing(m.settings.solid_mixing_fraction),
+            sig(m.thresholds.one_sigma, 3),
+            sig(m.thresholds.two_sigma, 3),
+            m.thresholds.degrees_of_freedom,
+            if m.thresholds.degrees_of_freedom == 1 { "" } else { "s" },
+            match m.thresholds.convention {
+                ConfidenceConvention::MappedParameters => "the two mapped parameters",
+                ConfidenceConvention::FittedQuantities => "the number of fitted quantities",
+            }
+        ));
+        if let Some(b) = &m.best {
+            text.push_str(&format!(" The best fit lies at {} au with solid-to-gas {}.", sig(b.radius_au, 3), sig(b.solid_to_gas, 2)));
+        }
+    }
+    text.push_str("\n\n");
+    text.push_str(&methods_paragraph(&file.parameters, &methods(&file.parameters), &provenance));
+    Some(text)
+}
+
+/// BibTeX of exactly the references the planet methods text cites: the disk
+/// methods' (as `nivalis methods --bibtex` writes them) and the envelope bookkeeping's.
+pub fn planet_bibtex(state: &PlanetState) -> Option<String> {
+    let file = state.placed.as_ref().map(|p| &p.file).or(state.fitted.as_ref().map(|f| &f.file))?;
+    let used = methods(&file.parameters);
+    let mut text = bibtex(&used);
+    if !cited_keys(&used).contains(&PLANET_REFERENCE) {
+        if let Some(r) = reference(PLANET_REFERENCE) {
+            text.push('\n');
+            text.push_str(&bibtex_entry(r));
+        }
+    }
+    Some(text)
+}
+
+/// The anchored disk, exactly as `nivalis anchor` writes it (the parameter
+/// solved, the note appended), with the summary lines; problems name the
+/// panel's `anchor.*` fields. Input: `{species, radius_au, sigma_au, adjust:
+/// "flaring_angle"|"temperature_scale"}`.
+pub fn anchor(file: &DiskFile, input: &Value) -> Result<(DiskFile, Vec<String>), Vec<Problem>> {
+    let mut problems = Vec::new();
+    let species = match input.get("species").and_then(Value::as_str).and_then(Species::from_key) {
+        Some(s) => Some(s),
+        None => {
+            let got = input.get("species").map_or("nothing".to_string(), Value::to_string);
+            problems.push(Problem {
+                path: "anchor.species".into(),
+                message: format!("must be one of {}, got {got}", Species::ALL.map(|s| s.key()).join(", ")),
+            });
+            None
+        }
+    };
+    let radius_au = required(input, "radius_au", "anchor.radius_au", &mut problems);
+    let sigma_au = optional(input, "sigma_au", "anchor.sigma_au", &mut problems).unwrap_or(0.0);
+    let parameter = match input.get("adjust").and_then(Value::as_str) {
+        None | Some("flaring_angle") => AnchorParameter::FlaringAngle,
+        Some("temperature_scale") => AnchorParameter::MidplaneTemperatureScale,
+        Some(other) => {
+            problems.push(Problem { path: "anchor.adjust".into(), message: format!("must be flaring_angle or temperature_scale, got {other:?}") });
+            AnchorParameter::FlaringAngle
+        }
+    };
+    let (Some(species), Some(radius_au)) = (species, radius_au) else { return Err(problems) };
+    if !problems.is_empty() {
+        return Err(problems);
+    }
+    let anchored = anchor_to_snowline(&file.parameters, &AnchorRequest::new(species, radius_au, sigma_au, parameter)).map_err(|e| {
+        let fields = [
+            ("observed_radius_au", "radius_au"),
+            ("sigma_au", "sigma_au"),
+            ("species", "species"),
+            ("disk.self_consistent_flaring", "adjust"),
+        ];
+        vec![core_problem(&e, "anchor", &fields)]
+    })?;
+    let summary = anchor_summary(&anchored);
+    // As the CLI: the solved parameters, and a note naming the program and the anchoring.
+    let mut out = file.clone();
+    out.parameters = anchored.parameters.clone();
+    let note = format!("[{}] {}.", program_version(), summary[0]);
+    out.notes = if file.notes.is_empty() { note } else { format!("{} {note}", file.notes) };
+    Ok((out, summary))
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use nivalis_disk_files::to_json_string;
+    use nivalis_physics::ModelParameters;
+
+    fn model() -> (Model, DiskFile) {
+        let file = DiskFile::defaults();
+        (Model::run(&ModelParameters::defaults()).unwrap(), file)
+    }
+
+    #[test]
+    fn typed_numbers_are_read_or_named() {
+        let v = json!({"a": 2.5, "b": " 1e-3 ", "c": "", "d": "abc", "e": "inf", "f": "NaN"});
+        assert_eq!(typed_number(&v, "a", "x.a").unwrap(), Some(2.5));
+        assert_eq!(typed_number(&v, "b", "x.b").unwrap(), Some(1e-3));
+        assert_eq!(typed_number(&v, "c", "x.c").unwrap(), None);
+        assert_eq!(typed_number(&v, "missing", "x.m").unwrap(), None);
+        assert_eq!(typed_number(&v, "d", "x.d").unwrap_err().to_string(), "x.d: must be a finite number, got \"abc\"");
+        assert!(typed_number(&v, "e", "x.e").is_err());
+        assert!(typed_number(&v, "f", "x.f").is_err());
+    }
+
+    #[test]
+    fn planet_equals_the_cli_calls() {
+        // The CLI (crates/cli, Command::Planet) calls planet() with gas_mass_g = 1 and
+        // writes planet_json / planet_table; the page must produce the same text.
+        let (model, file) = model();
+        let placed = place_planet(&model, &file, &json!({"radius_au": "12", "solid_to_gas": 0.05, "mix": 1})).unwrap();
+        let request = PlanetRequest { place: FormationPlace::Radius { radius_au: 12.0 }, gas_mass_g: 1.0, solid_to_gas: 0.05, solid_mixing_fraction: 1.0 };
+        let direct = planet(&model, &request).unwrap();
+        let state = PlanetState { placed: Some(placed), fitted: None };
+        assert_eq!(export(&state, PlanetExport::PlanetJson).unwrap(), json_text(&planet_json(&direct, &request.place, &Provenance::of(&file))));
+        assert_eq!(export(&state, PlanetExport::PlanetCsv).unwrap(), to_csv(&planet_table(&direct)));
+        let view = planet_view(state.placed.as_ref().unwrap());
+        assert_eq!(view["envelope"]["c_to_o"].as_f64(), direct.envelope.c_to_o);
+        assert!(view["to_radius_au"].is_null());
+    }
+
+    #[test]
+    fn pure_gas_planet_has_the_local_gas_c_to_o() {
+        // MODEL.md section 9: with no solids the envelope is the local gas (Oberg, Murray-Clay & Bergin 2011).
+        let (model, file) = model();
+        let placed = place_planet(&model, &file, &json!({"radius_au": 30, "solid_to_gas": 0})).unwrap();
+        let v = planet_view(&placed);
+        let (env, gas) = (v["envelope"]["c_to_o"].as_f64().unwrap(), v["local"]["gas_c_to_o"].as_f64().unwrap());
+        assert!((env / gas - 1.0).abs() < 1e-12, "{env} vs {gas}");
+    }
+
+    #[test]
+    fn invalid_planet_input_names_the_field() {
+        let (model, file) = model();
+        let p = place_planet(&model, &file, &json!({"radius_au": 1000, "solid_to_gas": 0.1})).unwrap_err();
+        assert_eq!(p[0].path, "planet.radius_au");
+        assert_eq!(p[0].message, "must lie in the disk [0.1, 500] au, got 1000");
+        let p = place_planet(&model, &file, &json!({"radius_au": 5, "solid_to_gas": 0.1, "mix": 2})).unwrap_err();
+        assert_eq!((p[0].path.as_str(), p[0].message.as_str()), ("planet.mix", "must be in [0, 1], got 2"));
+        let p = place_planet(&model, &file, &json!({"radius_au": 5, "to_radius_au": 2, "solid_to_gas": 0.1})).unwrap_err();
+        assert_eq!(p[0].path, "planet.to_radius_au");
+        let p = place_planet(&model, &file, &json!({"radius_au": "x", "solid_to_gas": ""})).unwrap_err();
+        assert_eq!(p.len(), 2);
+        assert_eq!(p[1].to_string(), "planet.solid_to_gas: is required");
+    }
+
+    #[test]
+    fn fit_equals_the_cli_calls_and_marks_allowed_radii() {
+        let (model, file) = model();
+        let fitted = fit_planet(&model, &file, &json!({"c_to_o": "0.8", "c_to_o_sigma": "0.1"})).unwrap();
+        let direct = chi_square_map(&model, &ObservedEnvelope { c_to_o: 0.8, c_to_o_sigma: 0.1, metallicity: None }, &MapSettings::defaults()).unwrap();
+        assert!(fitted.map == direct);
+        let state = PlanetState { placed: None, fitted: Some(fitted) };
+        assert_eq!(export(&state, PlanetExport::FitCsv).unwrap(), to_csv(&fit_table(&direct)));
+        let prov = Provenance::of(&file);
+        assert_eq!(export(&state, PlanetExport::FitEcsv).unwrap(), fit_ecsv(&direct, &prov, &methods(&file.parameters)));
+        // The union of the 1-sigma ranges covers the best fit's radius.
+        let best = direct.best.unwrap();
+        let union = &state.fitted.as_ref().unwrap().allowed_union_au;
+        assert!(union.iter().any(|(a, b)| *a <= best.radius_au && best.radius_au <= *b), "{union:?} vs {}", best.radius_au);
+        let marked = with_marks(ProfileData::from_model(&model), &state);
+        assert_eq!(&marked.allowed_formation_radii_au, union);
+        // The explanation starts with the core's sentences and adds ours.
+        let words = explain(&model, &direct);
+        assert!(words.len() > direct.degeneracy_summary().len());
+        assert!(words.iter().any(|w| w.contains("two unknowns")));
+    }
+
+    #[test]
+    fn fit_problems_name_the_fields() {
+        let (model, file) = model();
+        let p = fit_planet(&model, &file, &json!({"c_to_o": 0.8, "c_to_o_sigma": 0})).unwrap_err();
+        assert_eq!(p[0].to_string(), "fit.c_to_o_sigma: must be > 0 and finite, got 0");
+        let p = fit_planet(&model, &file, &json!({"c_to_o": 0.8, "c_to_o_sigma": 0.1, "tracer": "O"})).unwrap_err();
+        assert_eq!(p.iter().map(|p| p.path.as_str()).collect::<Vec<_>>(), ["fit.metallicity_dex", "fit.metallicity_sigma_dex"]);
+    }
+
+    #[test]
+    fn methods_cite_exactly_what_the_bibtex_holds() {
+        let (model, file) = model();
+        let state = PlanetState {
+            placed: Some(place_planet(&model, &file, &json!({"radius_au": 8, "solid_to_gas": 0.02, "mix": 0.5})).unwrap()),
+            fitted: Some(fit_planet(&model, &file, &json!({"c_to_o": 0.6, "c_to_o_sigma": 0.05})).unwrap()),
+        };
+        let text = planet_methods(&state).unwrap();
+        assert!(text.contains("local accretion") && text.contains("f_mix = 0.5") && text.contains("equilibrium at one moment"), "{text}");
+        assert!(text.ends_with(&methods_paragraph(&file.parameters, &methods(&file.parameters), &Provenance::of(&file))));
+        let bib = planet_bibtex(&state).unwrap();
+        assert!(reference(PLANET_REFERENCE).is_some());
+        assert!(bib.contains("@article{oberg2011,"));
+        // Unpublished sources ("common practice", "from memory") are cited in words, never in BibTeX.
+        let keys = cited_keys(&methods(&file.parameters));
+        let published = keys.iter().filter(|k| reference(k).is_some()).count();
+        let extra = usize::from(!keys.contains(&PLANET_REFERENCE));
+        assert_eq!(bib.matches("@article{").count(), published + extra);
+        assert_eq!(bib.matches("@article{oberg2011,").count(), 1);
+    }
+
+    #[test]
+    fn anchoring_writes_the_cli_file() {
+        // Anchor the default disk's CO snowline where the model itself puts it:
+        // the flaring angle comes back (round trip, MODEL.md section 9 anchor).
+        let (model, file) = model();
+        let co = model.snowlines(Species::CO)[0].radius_cm / AU_CM;
+        let (anchored, summary) = anchor(&file, &json!({"species": "CO", "radius_au": co})).unwrap();
+        let phi0 = file.parameters.disk.flaring_angle;
+        assert!((anchored.parameters.disk.flaring_angle / phi0 - 1.0).abs() < 1e-3, "{} vs {phi0}", anchored.parameters.disk.flaring_angle);
+        assert!(anchored.notes.contains("anchored disk.flaring_angle"), "{}", anchored.notes);
+        assert!(summary[0].starts_with("anchored disk.flaring_angle"));
+        assert!(to_json_string(&anchored).contains("\"notes\""));
+        let p = anchor(&file, &json!({"species": "XX", "radius_au": "a"})).unwrap_err();
+        assert_eq!(p.iter().map(|p| p.path.as_str()).collect::<Vec<_>>(), ["anchor.species", "anchor.radius_au"]);
+    }
+}

@@ -1,0 +1,610 @@
+// planet.js: the planet panel (a planet placed in the disk, the observed
+// planet's chi-square map, the snowline anchor) and the paper downloads
+// (figures as SVG/PNG, methods text, BibTeX). `cargo xtask dist` inlines it
+// after app.js in the same module script, so it runs once app.js has started
+// and uses app.js's helpers ($, download, slug, drawView, loadDisk,
+// themeName, writeFragment, ...) and its running `explorer`.
+//
+// It holds no physics: every number and every file comes from the Rust core
+// through `Explorer` (crates/web/src/planet_js.rs), which calls the same
+// functions with the same arguments as the CLI's `planet`, `fit`, `anchor`,
+// `figure` and `methods` commands, so the downloads equal the CLI's byte for byte.
+
+/* global explorer, $, download, slug, getPath, state, valid, drawView, VIEWS, loadDisk, themeName, writeFragment,
+   pageHooks, mapSpecies, formula, SPECIES, base64urlEncode, base64urlDecode, roundSlider */
+
+// ---------------------------------------------------------------------------
+// The panel's inputs. `key` is what the Rust side reads, `path` names the
+// problem slot (the same names the Rust side gives its problems).
+// ---------------------------------------------------------------------------
+
+const PLANET_FIELDS = [
+  { key: "radius_au", path: "planet.radius_au", label: "Formation radius", unit: "au",
+    hint: "inside the disk; click the C/O profile (a) to set it" },
+  { key: "to_radius_au", path: "planet.to_radius_au", label: "Migrated to radius (optional)", unit: "au",
+    hint: "blank = formed at one radius; else the gas and solids are averaged uniformly in radius over the range" },
+  { key: "solid_to_gas", path: "planet.solid_to_gas", label: "Accreted solid-to-gas mass ratio M_solid/M_gas", unit: "",
+    hint: "≥ 0; slider 0.001 to 1 (log); 0 = gas only", slider: { min: 1e-3, max: 1, log: true }, zeroBox: true },
+  { key: "mix", path: "planet.mix", label: "Fraction of the solids' atoms mixed into the envelope f_mix", unit: "",
+    hint: "0 to 1; 1 = full mixing", slider: { min: 0, max: 1, log: false } },
+];
+
+const FIT_FIELDS = [
+  { key: "c_to_o", path: "fit.c_to_o", label: "Observed envelope C/O", unit: "", hint: "≥ 0" },
+  { key: "c_to_o_sigma", path: "fit.c_to_o_sigma", label: "its 1σ error", unit: "", hint: "> 0" },
+  { key: "tracer", path: "fit.tracer", label: "Observed metallicity", kind: "select",
+    options: [["none", "none (C/O only)"], ["C", "[C/H]"], ["O", "[O/H]"]] },
+  { key: "metallicity_dex", path: "fit.metallicity_dex", label: "its value relative to the star", unit: "dex", hint: "e.g. 0.5 for 3.2 × stellar" },
+  { key: "metallicity_sigma_dex", path: "fit.metallicity_sigma_dex", label: "its 1σ error", unit: "dex", hint: "> 0" },
+  { key: "mix", path: "fit.mix", label: "f_mix over the whole map", unit: "", hint: "0 to 1; 1 = full mixing" },
+  { key: "convention", path: "fit.convention", label: "1σ and 2σ regions (Δχ²)", kind: "select",
+    options: [["mapped_parameters", "2.30 and 6.18: two mapped parameters"], ["fitted_quantities", "by the number of fitted quantities (1.00 and 4.00 for C/O alone)"]] },
+];
+
+const ANCHOR_FIELDS = [
+  { key: "species", path: "anchor.species", label: "Species whose snowline was observed", kind: "select", options: [] /* filled below */ },
+  { key: "radius_au", path: "anchor.radius_au", label: "Observed snowline radius", unit: "au", hint: "inside the disk" },
+  { key: "sigma_au", path: "anchor.sigma_au", label: "its 1σ error (optional)", unit: "au", hint: "≥ 0" },
+  { key: "adjust", path: "anchor.adjust", label: "Adjust", kind: "select",
+    options: [["flaring_angle", "the flaring angle φ"], ["temperature_scale", "a midplane-temperature multiplier"]] },
+];
+
+// The figure downloads, one per view, with the CLI's --view text.
+const FIGURE_VIEWS = [
+  { figure: "view-c-to-o", view: () => "c_to_o" },
+  { figure: "view-temperature", view: () => "temperature" },
+  { figure: "view-ice-map", view: () => `ice_map:${mapSpecies}` },
+  { figure: "view-c-to-o-map", view: () => "c_to_o_map" },
+  { figure: "view-abundances", view: () => "abundances" },
+];
+
+const planetId = (path) => "pp-" + path.replace(/[^A-Za-z0-9_]/g, "-");
+
+// Numbers for people: a few significant digits; `null` (undefined in the
+// core, e.g. no oxygen left) is said in words, never shown as NaN.
+function show(x, digits = 3) {
+  if (x == null || !Number.isFinite(x)) return "undefined";
+  if (x === 0) return "0";
+  const a = Math.abs(x);
+  if (a >= 1e-3 && a < 1e5) return Number(x.toPrecision(digits)).toString();
+  return x.toExponential(digits - 1);
+}
+const dex = (x) => (x == null || !Number.isFinite(x) ? "undefined" : `${x >= 0 ? "+" : "−"}${Math.abs(x).toFixed(2)}`);
+const percent = (x) => (x == null || !Number.isFinite(x) ? "–" : `${(100 * x).toFixed(x > 0.995 || x < 0.005 ? 0 : 1)} %`);
+
+function element(tag, attrs = {}, ...children) {
+  const el = document.createElement(tag);
+  for (const [k, v] of Object.entries(attrs)) {
+    if (k === "text") el.textContent = v;
+    else if (k === "class") el.className = v;
+    else el.setAttribute(k, v);
+  }
+  for (const c of children) if (c != null) el.append(c);
+  return el;
+}
+
+// One labelled input (text, select, or text with a slider), with its hint and problem slot.
+function buildInput(field, group) {
+  const id = planetId(field.path);
+  const row = element("div", { class: "field" });
+  const label = element("label", { for: id, text: field.unit ? `${field.label} [${field.unit}]` : field.label });
+  row.append(label);
+  let input;
+  if (field.kind === "select") {
+    input = element("select", { id });
+    for (const [value, text] of field.options) input.add(new Option(text, value));
+  } else {
+    input = element("input", { id, type: "text", class: "number", inputmode: "decimal", autocomplete: "off", spellcheck: "false" });
+  }
+  const problem = element("p", { class: "problem", id: id + "-problem", hidden: "" });
+  const describedBy = [problem.id];
+  const line = element("div", { class: "inputs" });
+  let slider = null;
+  let zero = null;
+  if (field.slider) {
+    const s = field.slider;
+    slider = element("input", { type: "range", id: id + "-slider", min: String(s.log ? Math.log10(s.min) : s.min),
+      max: String(s.log ? Math.log10(s.max) : s.max), step: String(s.log ? 0.01 : 0.01) });
+    const sliderLabel = element("label", { for: slider.id, class: "visually-hidden",
+      text: `${label.textContent}, ${s.log ? "logarithmic " : ""}slider from ${s.min} to ${s.max}` });
+    line.append(sliderLabel, slider);
+    slider.addEventListener("input", () => {
+      const x = Number(slider.value);
+      input.value = String(roundSlider(s.log ? 10 ** x : x));
+      if (zero) zero.checked = false;
+      group.changed(field);
+    });
+  }
+  line.append(input);
+  row.append(line);
+  if (field.zeroBox) {
+    zero = element("input", { type: "checkbox", id: id + "-zero" });
+    const zeroRow = element("div", { class: "field check" }, zero, element("label", { for: zero.id, text: "Gas only (no solids accreted: ratio 0)" }));
+    row.append(zeroRow);
+    zero.addEventListener("change", () => {
+      if (zero.checked) input.value = "0";
+      else if (Number(input.value) === 0) input.value = String(roundSlider(10 ** Number(slider.value)));
+      syncSlider(field, input, slider, zero);
+      group.changed(field);
+    });
+  }
+  if (field.hint) {
+    const hint = element("span", { class: "range", id: id + "-hint", text: field.hint });
+    row.append(hint);
+    describedBy.push(hint.id);
+  }
+  input.setAttribute("aria-describedby", describedBy.join(" "));
+  row.append(problem);
+  input.addEventListener(field.kind === "select" ? "change" : "input", () => {
+    syncSlider(field, input, slider, zero);
+    group.changed(field);
+  });
+  group.inputs.set(field.key, { field, input, slider, zero });
+  return row;
+}
+
+// The slider (and the zero box) follow a typed number.
+function syncSlider(field, input, slider, zero) {
+  const x = Number(input.value.trim());
+  if (zero) {
+    zero.checked = input.value.trim() !== "" && x === 0;
+    if (slider) slider.disabled = zero.checked;
+  }
+  if (!slider || input.value.trim() === "" || !Number.isFinite(x)) return;
+  const s = field.slider;
+  if (s.log) {
+    if (x > 0) slider.value = String(Math.log10(x));
+  } else slider.value = String(x);
+}
+
+function makeGroup(fields, onChange) {
+  const group = { inputs: new Map(), changed: onChange };
+  const rows = fields.map((f) => buildInput(f, group));
+  group.rows = rows;
+  // The typed values, as the Rust side reads them (text; blank = absent).
+  group.values = () => Object.fromEntries([...group.inputs].map(([k, c]) => [k, c.input.value]));
+  group.set = (values) => {
+    for (const [k, c] of group.inputs) {
+      if (values[k] === undefined) continue;
+      c.input.value = values[k];
+      syncSlider(c.field, c.input, c.slider, c.zero);
+    }
+  };
+  return group;
+}
+
+// Shows problems beside their fields; those naming no field go to `fallback`.
+function showPlanetProblems(prefix, problems, fallback) {
+  for (const el of document.querySelectorAll(`[id^="${planetId(prefix)}"][id$="-problem"]`)) {
+    el.hidden = true;
+    el.textContent = "";
+  }
+  for (const el of document.querySelectorAll(`[id^="${planetId(prefix)}"][aria-invalid]`)) el.removeAttribute("aria-invalid");
+  fallback.hidden = true;
+  fallback.textContent = "";
+  for (const p of problems) {
+    const slot = document.getElementById(planetId(p.path) + "-problem");
+    if (slot) {
+      slot.hidden = false;
+      slot.textContent = (slot.textContent ? slot.textContent + " " : "") + p.message;
+      const input = document.getElementById(planetId(p.path));
+      if (input) input.setAttribute("aria-invalid", "true");
+    } else {
+      fallback.hidden = false;
+      fallback.textContent = (fallback.textContent ? fallback.textContent + " " : "") + `${p.path}: ${p.message}`;
+    }
+  }
+}
+
+// ---------------------------------------------------------------------------
+// The panel.
+// ---------------------------------------------------------------------------
+
+const panel = element("section", { class: "view planet", id: "planet-panel", "aria-labelledby": "planet-title" });
+const planetGroup = makeGroup(PLANET_FIELDS, () => schedulePlanet());
+const fitGroup = makeGroup(FIT_FIELDS, () => schedulePlanet());
+const anchorGroup = makeGroup(ANCHOR_FIELDS, () => {});
+const anchorSpecies = anchorGroup.inputs.get("species").input;
+for (const sp of SPECIES) anchorSpecies.add(new Option(formula(sp), sp));
+anchorSpecies.value = "CO";
+
+const planetMessage = element("p", { class: "problem", id: "planet-message", hidden: "" });
+const fitMessage = element("p", { class: "problem", id: "fit-message", hidden: "" });
+const anchorMessage = element("p", { class: "problem", id: "anchor-message", hidden: "" });
+const planetResult = element("div", { class: "planet-result", id: "planet-result", "aria-live": "polite" });
+const fitResult = element("div", { class: "fit-result", id: "fit-result", "aria-live": "polite" });
+const anchorResult = element("div", { class: "anchor-result", id: "anchor-result", "aria-live": "polite" });
+const chi2Canvas = element("canvas", { id: "canvas-chi2", class: "chart", role: "img",
+  "aria-label": "Chi-square map of formation radius against solid-to-gas ratio with 1 and 2 sigma contours" });
+const chi2Readout = element("output", { id: "readout-chi2", class: "readout", for: "canvas-chi2", text: "Point at the map for values." });
+const chi2Figure = element("div", { class: "chi2-wrap", hidden: "" }, chi2Canvas, chi2Readout);
+
+function exportButton(what, text) {
+  return element("button", { type: "button", "data-planet-export": what, text, disabled: "" });
+}
+
+function buildPanel() {
+  const planetBox = element("fieldset", { class: "planet-inputs" }, element("legend", { text: "Where it formed and what it accreted" }), ...planetGroup.rows, planetMessage);
+  const fitBox = element("fieldset", { class: "planet-inputs" }, element("legend", { text: "Observed envelope" }), ...fitGroup.rows, fitMessage);
+  const anchorBox = element("fieldset", { class: "planet-inputs" }, element("legend", { text: "Observed snowline" }), ...anchorGroup.rows,
+    element("button", { type: "button", id: "anchor-button", text: "Anchor the disk (an edit: Undo restores it)" }), anchorMessage);
+  panel.append(
+    element("h2", { id: "planet-title", text: "(g) Planet formation: envelope composition and where an observed planet could have formed" }),
+    element("p", { class: "intro", text: "A giant planet's envelope takes in the disk's gas and solids where it accretes. Place a planet (type a radius, or click the C/O profile (a)) and choose how much solid it took in; its envelope composition appears beside the local gas, the local solids and the star. Assumptions: local accretion of midplane gas and solids, the solids' atoms fully mixed into the envelope unless f_mix < 1, hydrogen from the gas only, and the disk in equilibrium at one moment." }),
+    element("div", { class: "planet-grid" }, planetBox, planetResult),
+    element("div", { class: "export-row" },
+      exportButton("planet_json", "Planet (JSON)"), exportButton("planet_csv", "Planet (CSV)")),
+    element("h3", { text: "Which formation places fit an observed planet?" }),
+    element("p", { class: "intro", text: "Give the measured envelope C/O (and optionally [C/H] or [O/H]) to map chi-square over formation radius and accreted solid-to-gas ratio (0.001 to 1). The shaded band on the C/O profile (a) marks every radius allowed at 1σ for some ratio." }),
+    element("div", { class: "planet-grid" }, fitBox, fitResult),
+    chi2Figure,
+    element("div", { class: "export-row" },
+      exportButton("fit_csv", "Map (CSV)"), exportButton("fit_ecsv", "Map (ECSV)"), exportButton("fit_json", "Map (JSON, with best fit and allowed radii)"),
+      exportButton("chi2_svg", "Map figure (SVG)"), exportButton("chi2_png", "Map figure (PNG)"),
+      exportButton("planet_methods", "Planet methods text"), exportButton("planet_bibtex", "Planet BibTeX")),
+    element("p", { class: "note", id: "fit-cli", text: "" }),
+    element("h3", { text: "Anchor the disk to an observed snowline" }),
+    element("p", { class: "intro", text: "An observed snowline (for instance a ring of a tracer molecule in a resolved image) fixes the disk's temperature: the flaring angle, or a multiplier of the midplane temperature, is solved so the model's first freeze-out snowline of that species lies at the observed radius. The anchored disk replaces the current one in every view and in the planet tools." }),
+    element("div", { class: "planet-grid" }, anchorBox, anchorResult),
+  );
+  $("view-c-to-o").after(panel);
+}
+
+// The figure and methods downloads: a button pair in every view's caption,
+// and the shared options with the methods buttons beside the other exports.
+function buildFigureDownloads() {
+  for (const f of FIGURE_VIEWS) {
+    const caption = $(f.figure).querySelector("figcaption");
+    const row = element("div", { class: "figure-downloads" }, element("span", { text: "Figure for a paper: " }),
+      element("button", { type: "button", "data-figure": f.figure, "data-format": "svg", text: "SVG" }),
+      element("button", { type: "button", "data-figure": f.figure, "data-format": "png", text: "PNG" }));
+    caption.append(row);
+  }
+  const options = element("div", { class: "figure-options" },
+    element("label", { for: "figure-width", text: "Figure width" }),
+    element("select", { id: "figure-width" }),
+    element("label", { for: "figure-dpi", text: "PNG resolution [dpi]" }),
+    element("input", { id: "figure-dpi", type: "text", class: "number", inputmode: "decimal", value: "300", "aria-describedby": "figure-dpi-problem figure-dpi-hint" }),
+    element("span", { class: "range", id: "figure-dpi-hint", text: "36 to 1200" }),
+    element("label", { for: "figure-theme", text: "Colours" }),
+    element("select", { id: "figure-theme" }));
+  options.querySelector("#figure-width").append(new Option("one column (252 pt, 3.5 in)", "single"), new Option("two columns (511 pt, 7.1 in)", "double"));
+  options.querySelector("#figure-theme").append(new Option("light (paper)", "light"), new Option("dark", "dark"));
+  const section = element("section", { class: "exports paper", "aria-labelledby": "paper-title" },
+    element("h2", { id: "paper-title", text: "Figures, methods and references for a paper" }),
+    element("p", { text: "The SVG and PNG buttons under each view write the same file as `nivalis figure DISK --view VIEW` with these options (SVG: vectors with text as text; PNG at the chosen resolution, text in DejaVu Sans); each file carries the program version, the disk file and its hash. The methods text and BibTeX are those of `nivalis methods DISK` for the current disk." }),
+    options,
+    element("p", { class: "problem", id: "figure-problem", hidden: "" }),
+    element("div", { class: "export-buttons" },
+      element("button", { type: "button", "data-export": "methods_text", text: "Methods text" }), element("code", { text: "nivalis methods DISK" }), element("br"),
+      element("button", { type: "button", "data-export": "bibtex", text: "BibTeX of the cited references" }), element("code", { text: "nivalis methods DISK --bibtex FILE" })));
+  document.querySelector("section.exports").after(section);
+  for (const b of section.querySelectorAll("[data-export]")) {
+    b.addEventListener("click", () => {
+      const what = b.dataset.export;
+      const text = explorer.exportText(what);
+      if (text) download(slug(getPath(state, "name")) + (what === "bibtex" ? "-references.bib" : "-methods.txt"), text, "text/plain");
+    });
+  }
+  document.addEventListener("click", (ev) => {
+    const b = ev.target.closest && ev.target.closest("[data-figure]");
+    if (!b) return;
+    const f = FIGURE_VIEWS.find((x) => x.figure === b.dataset.figure);
+    saveFigure(f.view(), b.dataset.format);
+  });
+}
+
+function figureOptions(format) {
+  return { format, width: $("figure-width").value, dpi: $("figure-dpi").value, theme: $("figure-theme").value };
+}
+
+function saveFigure(view, format) {
+  const problem = $("figure-problem");
+  problem.hidden = true;
+  $("figure-dpi").removeAttribute("aria-invalid");
+  try {
+    const bytes = explorer.figureFile(view, figureOptions(format));
+    const name = `${slug(getPath(state, "name"))}-${view.replace(":", "-")}.${format}`;
+    downloadBytes(name, bytes, format === "svg" ? "image/svg+xml" : "image/png");
+  } catch (e) {
+    const message = String(e.message || e);
+    problem.hidden = false;
+    problem.textContent = `The figure could not be made: ${message}`;
+    if (message.startsWith("dpi:")) $("figure-dpi").setAttribute("aria-invalid", "true");
+  }
+}
+
+function downloadBytes(name, bytes, type) {
+  const url = URL.createObjectURL(new Blob([bytes], { type }));
+  const a = document.createElement("a");
+  a.href = url;
+  a.download = name;
+  document.body.append(a);
+  a.click();
+  a.remove();
+  setTimeout(() => URL.revokeObjectURL(url), 1000);
+}
+
+// ---------------------------------------------------------------------------
+// Computing: after an edit of the panel (once per animation frame) and after
+// every new disk result.
+// ---------------------------------------------------------------------------
+
+let planetPending = false;
+let lastMarks = "";
+const planetTimings = { planetMs: NaN, fitMs: NaN };
+
+function schedulePlanet() {
+  if (planetPending) return;
+  planetPending = true;
+  requestAnimationFrame(() => {
+    planetPending = false;
+    runPlanet();
+  });
+}
+
+const hasText = (values, keys) => keys.some((k) => String(values[k] ?? "").trim() !== "");
+
+// Whether the placed planet and the map exist (their exports are enabled).
+let planetOk = false;
+let fitOk = false;
+
+function runPlanet() {
+  if (!valid) return;
+  const pv = planetGroup.values();
+  const fv = fitGroup.values();
+  planetOk = false;
+  fitOk = false;
+  if (hasText(pv, ["radius_au", "to_radius_au"])) {
+    const t0 = performance.now();
+    const r = explorer.placePlanet(pv);
+    planetTimings.planetMs = performance.now() - t0;
+    planetOk = r.ok;
+    showPlanetProblems("planet", r.problems, planetMessage);
+    showPlanet(r.ok ? r.planet : null, pv);
+  } else {
+    explorer.clearPlanet();
+    showPlanetProblems("planet", [], planetMessage);
+    showPlanet(null, pv);
+  }
+  if (hasText(fv, ["c_to_o", "c_to_o_sigma"])) {
+    const t0 = performance.now();
+    const r = explorer.fitPlanet(fv);
+    planetTimings.fitMs = performance.now() - t0;
+    fitOk = r.ok;
+    showPlanetProblems("fit", r.problems, fitMessage);
+    showFit(r.ok ? r.fit : null, fv);
+  } else {
+    explorer.clearFit();
+    showPlanetProblems("fit", [], fitMessage);
+    showFit(null, fv);
+  }
+  // Redraw the C/O profile when its marks changed.
+  const marks = JSON.stringify([planetOk ? pv.radius_au : null, currentUnion]);
+  if (marks !== lastMarks) {
+    lastMarks = marks;
+    drawView(VIEWS.find((v) => v.view === "c_to_o"));
+  }
+  for (const b of panel.querySelectorAll("[data-planet-export]")) {
+    const what = b.dataset.planetExport;
+    b.disabled = what.startsWith("planet_json") || what.startsWith("planet_csv") ? !planetOk
+      : what === "planet_methods" || what === "planet_bibtex" ? !(planetOk || fitOk) : !fitOk;
+  }
+  writeFragment();
+}
+
+function row(cells, header = false) {
+  const tr = element("tr");
+  cells.forEach((c, i) => tr.append(element(i === 0 || header ? "th" : "td", i === 0 && !header ? { scope: "row", text: c } : { text: c })));
+  return tr;
+}
+
+function cliNumber(text) {
+  return String(text).trim();
+}
+
+function showPlanet(p, typed) {
+  planetResult.replaceChildren();
+  if (!p) {
+    planetResult.append(element("p", { class: "note", text: explorer.hasModel() || !valid ? "Type a formation radius and a solid-to-gas ratio, or click the C/O profile (a)." : "The planet tools need the model on this page; this grid was computed in the background." }));
+    return;
+  }
+  const e = p.envelope;
+  const el = e.elements;
+  const where = p.to_radius_au == null ? `at ${show(p.radius_au)} au` : `averaged over ${show(p.radius_au)}–${show(p.to_radius_au)} au`;
+  const table = element("table", { class: "planet-table", id: "planet-table" },
+    element("caption", { text: `Planet formed ${where}, solid-to-gas ${show(p.solid_to_gas)}, f_mix ${show(p.mix)}` }),
+    element("thead", {}, row(["", "planet envelope", "local gas", "local solids", "star (= disk gas + solids)"], true)),
+    element("tbody", {},
+      row(["C/O", show(e.c_to_o), show(p.local.gas_c_to_o), show(p.local.solid_c_to_o), show(p.star_c_to_o)]),
+      row(["[C/H] [dex]", dex(e.c_to_h_dex), "", "", "0"]),
+      row(["[O/H] [dex]", dex(e.o_to_h_dex), "", "", "0"]),
+      row(["N/H relative to the star", show(el.N.relative_to_star), "", "", "1"]),
+      row(["S/H relative to the star", show(el.S.relative_to_star), "", "", "1"]),
+      row(["share of C / O / N / S from solids", [el.C, el.O, el.N, el.S].map((x) => percent(x.solid_share)).join(" / "), "", "", ""])));
+  table.querySelector("tbody td").id = "planet-c-to-o";
+  planetResult.append(table,
+    element("p", { class: "note", text: `The disk holds ${show(p.local.solid_to_gas_available)} g of solids per g of gas there. Same numbers: nivalis planet DISK --radius-au ${cliNumber(typed.radius_au)}${typed.to_radius_au.trim() ? ` --to-radius-au ${cliNumber(typed.to_radius_au)}` : ""} --solid-to-gas ${cliNumber(typed.solid_to_gas)} --mix ${typed.mix.trim() ? cliNumber(typed.mix) : "1"}` }));
+}
+
+let currentUnion = [];
+
+function showFit(f, typed) {
+  fitResult.replaceChildren();
+  currentUnion = f ? f.allowed_union_au : [];
+  chi2Figure.hidden = !f;
+  $("fit-cli").textContent = "";
+  if (!f) {
+    fitResult.append(element("p", { class: "note", text: "Type the observed C/O and its error to draw the map." }));
+    return;
+  }
+  const b = f.best_fit;
+  const best = b ? `Best fit: ${show(b.radius_au)} au with solid-to-gas ${show(b.solid_to_gas, 2)} (χ² ${show(b.chi2, 2)}; envelope C/O ${show(b.c_to_o)}; there the gas has C/O ${show(f.best_local.gas_c_to_o)} and the solids ${show(f.best_local.solid_c_to_o)}).` : "No place of the map gives a defined envelope C/O.";
+  const union = f.allowed_union_au.length
+    ? `Allowed at 1σ for some solid-to-gas ratio: ${f.allowed_union_au.map(([a, c]) => `${show(a, 2)}–${show(c, 2)} au`).join(", ")} (shaded on the C/O profile).`
+    : "No radius is allowed at 1σ.";
+  const t = f.thresholds;
+  const list = element("ul", { class: "explanation", id: "fit-explanation" }, ...f.explanation.map((s) => element("li", { text: s.charAt(0).toUpperCase() + s.slice(1) + (/[.!?]$/.test(s) ? "" : ".") })));
+  const perRatio = element("table", { class: "allowed-table" },
+    element("thead", {}, row(["solid-to-gas", "1σ radii [au]", "2σ radii [au]"], true)),
+    element("tbody", {}, ...f.allowed_radii.map((a) => row([show(a.solid_to_gas, 2),
+      a.one_sigma.map((i) => `${show(i.inner_edge_au, 2)}–${show(i.outer_edge_au, 2)}`).join(", ") || "none",
+      a.two_sigma.map((i) => `${show(i.inner_edge_au, 2)}–${show(i.outer_edge_au, 2)}`).join(", ") || "none"]))));
+  fitResult.append(
+    element("p", { id: "fit-best", text: best }),
+    element("p", { id: "fit-union", text: union }),
+    element("p", { class: "note", text: `Fitted: ${f.fitted}; 1σ and 2σ regions at Δχ² ≤ ${t.one_sigma} and ${t.two_sigma} (${t.degrees_of_freedom} degree${t.degrees_of_freedom > 1 ? "s" : ""} of freedom).` }),
+    element("h4", { text: "What the map shows, in words" }), list,
+    element("details", {}, element("summary", { text: "Allowed radii at each solid-to-gas ratio" }), element("div", { class: "table-wrap" }, perRatio)));
+  const metal = typed.tracer === "C" ? ` --c-to-h-dex ${cliNumber(typed.metallicity_dex)} --c-to-h-sigma ${cliNumber(typed.metallicity_sigma_dex)}`
+    : typed.tracer === "O" ? ` --o-to-h-dex ${cliNumber(typed.metallicity_dex)} --o-to-h-sigma ${cliNumber(typed.metallicity_sigma_dex)}` : "";
+  $("fit-cli").textContent = `Same files: nivalis fit DISK --c-to-o ${cliNumber(typed.c_to_o)} --c-to-o-sigma ${cliNumber(typed.c_to_o_sigma)}${metal} --mix ${typed.mix.trim() ? cliNumber(typed.mix) : "1"} --convention ${typed.convention} --format csv|ecsv|json [--figure FILE.svg|FILE.png] (the map figure's CLI form is one column, light, 300 dpi).`;
+  drawChi2();
+}
+
+// ---------------------------------------------------------------------------
+// The chi-square canvas: sized from its CSS box, redrawn on theme and size changes.
+// ---------------------------------------------------------------------------
+
+function drawChi2() {
+  if (chi2Figure.hidden || !fitOk) return;
+  const ratio = window.devicePixelRatio || 1;
+  const rect = chi2Canvas.getBoundingClientRect();
+  const w = Math.max(200, Math.round(rect.width * ratio));
+  const h = Math.max(150, Math.round(rect.height * ratio));
+  if (chi2Canvas.width !== w || chi2Canvas.height !== h) {
+    chi2Canvas.width = w;
+    chi2Canvas.height = h;
+  }
+  try {
+    explorer.drawChi2("canvas-chi2", { theme: themeName(), pixelRatio: ratio });
+  } catch (e) {
+    chi2Readout.textContent = `The map could not be drawn: ${e.message || e}`;
+  }
+}
+
+new ResizeObserver(() => drawChi2()).observe(chi2Canvas);
+new MutationObserver(() => drawChi2()).observe(document.documentElement, { attributes: true, attributeFilter: ["data-theme"] });
+matchMedia("(prefers-color-scheme: dark)").addEventListener("change", () => drawChi2());
+
+chi2Canvas.addEventListener("mousemove", (ev) => {
+  const rect = chi2Canvas.getBoundingClientRect();
+  const text = explorer.chi2Readout("canvas-chi2", (ev.clientX - rect.left) * (chi2Canvas.width / rect.width),
+    (ev.clientY - rect.top) * (chi2Canvas.height / rect.height));
+  chi2Readout.textContent = text || "Point inside the map for values.";
+});
+chi2Canvas.addEventListener("mouseleave", () => { chi2Readout.textContent = "Point at the map for values."; });
+
+// A click on the C/O profile places the planet at that radius (four significant digits).
+$("canvas-c-to-o").addEventListener("click", (ev) => {
+  const canvas = $("canvas-c-to-o");
+  const rect = canvas.getBoundingClientRect();
+  const r = explorer.radiusAt("canvas-c-to-o", (ev.clientX - rect.left) * (canvas.width / rect.width), (ev.clientY - rect.top) * (canvas.height / rect.height));
+  if (r == null) return;
+  const radius = planetGroup.inputs.get("radius_au").input;
+  radius.value = String(roundSlider(r));
+  const ratio = planetGroup.inputs.get("solid_to_gas").input;
+  if (ratio.value.trim() === "") ratio.value = "0.01";
+  syncSlider(planetGroup.inputs.get("solid_to_gas").field, ratio, planetGroup.inputs.get("solid_to_gas").slider, planetGroup.inputs.get("solid_to_gas").zero);
+  schedulePlanet();
+});
+$("canvas-c-to-o").title = "Click to place a planet at this radius";
+
+// ---------------------------------------------------------------------------
+// Exports of the panel.
+// ---------------------------------------------------------------------------
+
+const PLANET_FILES = {
+  planet_json: ["-planet.json", "application/json"],
+  planet_csv: ["-planet.csv", "text/csv"],
+  fit_csv: ["-fit.csv", "text/csv"],
+  fit_ecsv: ["-fit.ecsv", "text/plain"],
+  fit_json: ["-fit.json", "application/json"],
+  planet_methods: ["-planet-methods.txt", "text/plain"],
+  planet_bibtex: ["-planet-references.bib", "text/plain"],
+};
+
+panel.addEventListener("click", (ev) => {
+  const b = ev.target.closest && ev.target.closest("[data-planet-export]");
+  if (!b) return;
+  const what = b.dataset.planetExport;
+  if (what === "chi2_svg" || what === "chi2_png") {
+    // The map figure as `nivalis fit --figure` draws it: one column, light, 300 dpi.
+    const format = what.slice(5);
+    try {
+      const bytes = explorer.figureFile("chi2_map", { format, width: "single", dpi: "300", theme: "light" });
+      downloadBytes(`${slug(getPath(state, "name"))}-chi2-map.${format}`, bytes, format === "svg" ? "image/svg+xml" : "image/png");
+    } catch (e) {
+      fitMessage.hidden = false;
+      fitMessage.textContent = `The figure could not be made: ${e.message || e}`;
+    }
+    return;
+  }
+  const text = explorer.planetExport(what);
+  if (text) download(slug(getPath(state, "name")) + PLANET_FILES[what][0], text, PLANET_FILES[what][1]);
+});
+
+// ---------------------------------------------------------------------------
+// Anchoring: the anchored disk is loaded like a demo or a file (one undo step).
+// ---------------------------------------------------------------------------
+
+function anchorNow() {
+  anchorResult.replaceChildren(element("p", { class: "note", text: "Solving…" }));
+  // Give the browser a frame to show the notice: the solve runs the model several times.
+  requestAnimationFrame(() => setTimeout(() => {
+    const r = explorer.anchorDisk(anchorGroup.values());
+    showPlanetProblems("anchor", r.problems, anchorMessage);
+    anchorResult.replaceChildren();
+    if (!r.ok) return;
+    loadDisk(explorer.update(r.disk), "The anchored disk");
+    anchorResult.append(element("ul", { id: "anchor-summary" }, ...r.summary.map((s) => element("li", { text: s }))),
+      element("p", { class: "note", text: "The disk now has the solved value (see the Disk inputs and its notes); Undo goes back to the disk before anchoring. The same file: nivalis anchor DISK --species " + anchorGroup.values().species + " --radius-au " + anchorGroup.values().radius_au.trim() + (anchorGroup.values().sigma_au.trim() ? " --sigma-au " + anchorGroup.values().sigma_au.trim() : "") + " --adjust " + anchorGroup.values().adjust }));
+  }, 0));
+}
+
+// ---------------------------------------------------------------------------
+// The address: #...&planet=<base64url of the panel's typed values>.
+// ---------------------------------------------------------------------------
+
+function planetFragment() {
+  const pv = planetGroup.values();
+  const fv = fitGroup.values();
+  const out = {};
+  if (hasText(pv, ["radius_au", "to_radius_au", "solid_to_gas"])) out.planet = pv;
+  if (hasText(fv, ["c_to_o", "c_to_o_sigma"])) out.fit = fv;
+  return Object.keys(out).length ? [`planet=${base64urlEncode(JSON.stringify(out))}`] : [];
+}
+
+function readPlanetFragment(hash) {
+  const params = new URLSearchParams(hash.slice(1));
+  if (!params.has("planet")) return;
+  try {
+    const saved = JSON.parse(base64urlDecode(params.get("planet")));
+    if (saved.planet) planetGroup.set(saved.planet);
+    if (saved.fit) fitGroup.set(saved.fit);
+  } catch (e) {
+    planetMessage.hidden = false;
+    planetMessage.textContent = `The address holds a planet that cannot be read (${e.message}).`;
+  }
+}
+
+// ---------------------------------------------------------------------------
+// Start: defaults, the address, the first computation.
+// ---------------------------------------------------------------------------
+
+buildPanel();
+buildFigureDownloads();
+planetGroup.set({ radius_au: "", to_radius_au: "", solid_to_gas: "0.01", mix: "1" });
+fitGroup.set({ c_to_o: "", c_to_o_sigma: "", tracer: "none", metallicity_dex: "", metallicity_sigma_dex: "", mix: "1", convention: "mapped_parameters" });
+anchorGroup.set({ radius_au: "", sigma_au: "", adjust: "flaring_angle" });
+$("anchor-button").addEventListener("click", anchorNow);
+readPlanetFragment(pageHooks.initialHash);
+pageHooks.fragmentParts = planetFragment;
+pageHooks.afterResult = runPlanet;
+runPlanet();
+
+// For the browser tests: the panel's timings and a way to wait for its frame.
+window.nivalis.planet = {
+  timings: planetTimings,
+  whenDone: () => new Promise((resolve) => requestAnimationFrame(() => requestAnimationFrame(resolve))),
+};
