@@ -3,8 +3,9 @@
 //!
 //! The cargo alias in `.cargo/config.toml` maps `cargo xtask ARGS` to
 //! `cargo run --package xtask -- ARGS`. This file parses the arguments by hand
-//! (the task runner has no dependencies, so it builds in seconds on a fresh
-//! machine) and dispatches to one module per command:
+//! (the only dependency is `wasm-bindgen-cli-support`, which `dist` calls as a
+//! library so no separate CLI install is needed) and dispatches to one module
+//! per command:
 //!
 //! - [`test`]: the whole test suite (Rust, Python checks, browser tests), fail-fast.
 //! - [`bench`]: the criterion benchmarks of the physics core and a table of medians.
