@@ -201,8 +201,8 @@ function showPlanetProblems(prefix, problems, fallback) {
 // ---------------------------------------------------------------------------
 
 const panel = element("section", { class: "view planet", id: "planet-panel", "aria-labelledby": "planet-title" });
-const planetGroup = makeGroup(PLANET_FIELDS, () => schedulePlanet());
-const fitGroup = makeGroup(FIT_FIELDS, () => schedulePlanet());
+const planetGroup = makeGroup(PLANET_FIELDS, () => schedulePlanet("planet"));
+const fitGroup = makeGroup(FIT_FIELDS, () => schedulePlanet("fit"));
 const anchorGroup = makeGroup(ANCHOR_FIELDS, () => {});
 const anchorSpecies = anchorGroup.inputs.get("species").input;
 for (const sp of SPECIES) anchorSpecies.add(new Option(formula(sp), sp));
@@ -334,12 +334,18 @@ let planetPending = false;
 let lastMarks = "";
 const planetTimings = { planetMs: NaN, fitMs: NaN };
 
-function schedulePlanet() {
+const pendingTools = new Set();
+
+// `tool`: "planet" or "fit", whichever the edit concerns (the other keeps its result).
+function schedulePlanet(tool) {
+  pendingTools.add(tool);
   if (planetPending) return;
   planetPending = true;
   requestAnimationFrame(() => {
     planetPending = false;
-    runPlanet();
+    const tools = new Set(pendingTools);
+    pendingTools.clear();
+    runPlanet(tools.has("planet"), tools.has("fit"), false);
   });
 }
 
@@ -349,13 +355,17 @@ const hasText = (values, keys) => keys.some((k) => String(values[k] ?? "").trim(
 let planetOk = false;
 let fitOk = false;
 
-function runPlanet() {
+// Recomputes the placed planet and/or the map. After a new disk both run in
+// the same frame (the profile's marks depend on them), but the map's canvas
+// is drawn when the browser is idle or when it scrolls into view (`deferMap`).
+function runPlanet(doPlanet = true, doFit = true, deferMap = false) {
   if (!valid) return;
   const pv = planetGroup.values();
   const fv = fitGroup.values();
-  planetOk = false;
-  fitOk = false;
-  if (hasText(pv, ["radius_au", "to_radius_au"])) {
+  if (!doPlanet) {
+    // Only the map changed.
+  } else if (hasText(pv, ["radius_au", "to_radius_au"])) {
+    planetOk = false;
     const t0 = performance.now();
     const r = explorer.placePlanet(pv);
     planetTimings.planetMs = performance.now() - t0;
@@ -363,18 +373,23 @@ function runPlanet() {
     showPlanetProblems("planet", r.problems, planetMessage);
     showPlanet(r.ok ? r.planet : null, pv);
   } else {
+    planetOk = false;
     explorer.clearPlanet();
     showPlanetProblems("planet", [], planetMessage);
     showPlanet(null, pv);
   }
-  if (hasText(fv, ["c_to_o", "c_to_o_sigma"])) {
+  if (!doFit) {
+    // Only the planet changed.
+  } else if (hasText(fv, ["c_to_o", "c_to_o_sigma"])) {
+    fitOk = false;
     const t0 = performance.now();
     const r = explorer.fitPlanet(fv);
     planetTimings.fitMs = performance.now() - t0;
     fitOk = r.ok;
     showPlanetProblems("fit", r.problems, fitMessage);
-    showFit(r.ok ? r.fit : null, fv);
+    showFit(r.ok ? r.fit : null, fv, deferMap);
   } else {
+    fitOk = false;
     explorer.clearFit();
     showPlanetProblems("fit", [], fitMessage);
     showFit(null, fv);
@@ -429,7 +444,7 @@ function showPlanet(p, typed) {
 
 let currentUnion = [];
 
-function showFit(f, typed) {
+function showFit(f, typed, deferMap = false) {
   fitResult.replaceChildren();
   currentUnion = f ? f.allowed_union_au : [];
   chi2Figure.hidden = !f;
@@ -459,15 +474,23 @@ function showFit(f, typed) {
   const metal = typed.tracer === "C" ? ` --c-to-h-dex ${cliNumber(typed.metallicity_dex)} --c-to-h-sigma ${cliNumber(typed.metallicity_sigma_dex)}`
     : typed.tracer === "O" ? ` --o-to-h-dex ${cliNumber(typed.metallicity_dex)} --o-to-h-sigma ${cliNumber(typed.metallicity_sigma_dex)}` : "";
   $("fit-cli").textContent = `Same files: nivalis fit DISK --c-to-o ${cliNumber(typed.c_to_o)} --c-to-o-sigma ${cliNumber(typed.c_to_o_sigma)}${metal} --mix ${typed.mix.trim() ? cliNumber(typed.mix) : "1"} --convention ${typed.convention} --format csv|ecsv|json [--figure FILE.svg|FILE.png] (the map figure's CLI form is one column, light, 300 dpi).`;
-  drawChi2();
+  chi2Dirty = true;
+  if (!deferMap) drawChi2();
+  else if (chi2OnScreen && !chi2Idle) chi2Idle = requestIdleCallback(() => { chi2Idle = 0; if (chi2Dirty) drawChi2(); }, { timeout: 300 });
 }
 
 // ---------------------------------------------------------------------------
 // The chi-square canvas: sized from its CSS box, redrawn on theme and size changes.
 // ---------------------------------------------------------------------------
 
+// The map needs drawing (a new map, or drawing was deferred), whether it is on screen, a pending idle callback.
+let chi2Dirty = false;
+let chi2OnScreen = false;
+let chi2Idle = 0;
+
 function drawChi2() {
   if (chi2Figure.hidden || !fitOk) return;
+  chi2Dirty = false;
   const ratio = window.devicePixelRatio || 1;
   const rect = chi2Canvas.getBoundingClientRect();
   const w = Math.max(200, Math.round(rect.width * ratio));
@@ -484,6 +507,12 @@ function drawChi2() {
 }
 
 new ResizeObserver(() => drawChi2()).observe(chi2Canvas);
+new IntersectionObserver((entries) => {
+  for (const e of entries) {
+    chi2OnScreen = e.isIntersecting;
+    if (chi2OnScreen && chi2Dirty) drawChi2();
+  }
+}, { rootMargin: "200px 0px" }).observe(chi2Canvas);
 new MutationObserver(() => drawChi2()).observe(document.documentElement, { attributes: true, attributeFilter: ["data-theme"] });
 matchMedia("(prefers-color-scheme: dark)").addEventListener("change", () => drawChi2());
 
@@ -506,7 +535,7 @@ $("canvas-c-to-o").addEventListener("click", (ev) => {
   const ratio = planetGroup.inputs.get("solid_to_gas").input;
   if (ratio.value.trim() === "") ratio.value = "0.01";
   syncSlider(planetGroup.inputs.get("solid_to_gas").field, ratio, planetGroup.inputs.get("solid_to_gas").slider, planetGroup.inputs.get("solid_to_gas").zero);
-  schedulePlanet();
+  schedulePlanet("planet");
 });
 $("canvas-c-to-o").title = "Click to place a planet at this radius";
 
@@ -600,7 +629,7 @@ anchorGroup.set({ radius_au: "", sigma_au: "", adjust: "flaring_angle" });
 $("anchor-button").addEventListener("click", anchorNow);
 readPlanetFragment(pageHooks.initialHash);
 pageHooks.fragmentParts = planetFragment;
-pageHooks.afterResult = runPlanet;
+pageHooks.afterResult = () => runPlanet(true, true, true);
 runPlanet();
 
 // For the browser tests: the panel's timings and a way to wait for its frame.

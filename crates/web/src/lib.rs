@@ -34,3 +34,5 @@ mod explorer;
 pub use explorer::Explorer;
 #[cfg(target_arch = "wasm32")]
 mod planet_js;
+#[cfg(target_arch = "wasm32")]
+mod raster;

@@ -21,7 +21,9 @@ use crate::canvas;
 use crate::explorer::{Explorer, CSS_PX_PER_POINT};
 use crate::figures::{figure_file, figure_of, FigureOptions};
 use crate::planet::{self, PlanetExport};
+use crate::raster::LeadingRects;
 use crate::readout::format_sig;
+use wasm_bindgen::JsCast;
 
 /// The message when the planet tools have no model on the page.
 const NO_MODEL: &str = "the planet tools need the model on this page, but this grid was computed in the background; use a grid of at most about twice the default size, or the command-line tool (nivalis planet / fit)";
@@ -180,7 +182,15 @@ impl Explorer {
             .filter(|r| r.is_finite() && *r > 0.0)
             .unwrap_or(1.0);
         let canvas = canvas::canvas_by_id(canvas_id).map_err(|e| JsError::new(&e))?;
-        let area = canvas::MeasuredCanvas::new(&canvas).map_err(|e| JsError::new(&e))?.into_drawing_area();
+        let context = canvas
+            .get_context("2d")
+            .ok()
+            .flatten()
+            .and_then(|c| c.dyn_into::<web_sys::CanvasRenderingContext2d>().ok())
+            .ok_or_else(|| JsError::new("the canvas has no 2d context"))?;
+        // The map's cells as one image (see raster.rs), the rest drawn as usual.
+        let measured = canvas::MeasuredCanvas::new(&canvas).map_err(|e| JsError::new(&e))?;
+        let area = LeadingRects::new(measured, context).into_drawing_area();
         let data = Chi2Data::from_map(&f.map);
         let layout = draw_chi2_map(&area, &data, &theme, CSS_PX_PER_POINT * ratio).map_err(|e| JsError::new(&e.to_string()))?;
         area.present().map_err(|e| JsError::new(&e.to_string()))?;
