@@ -320,6 +320,28 @@ test("the planet state round-trips through the URL", async () => {
   await page.close();
 });
 
+test("a grid computed in the Web Worker still gives CLI-identical figures and methods; the planet tools say why they wait", async () => {
+  const { page, errors } = await freshPage();
+  await typePlanet(page, "planet.radius_au", "5");
+  // 400 x 161 samples: four times the default grid, which the page computes in its worker.
+  await page.fill("#f-grid-radial_cells", "400");
+  await page.fill("#f-grid-vertical_cells", "160");
+  await page.waitForFunction(() => /in the background/.test(document.getElementById("status").textContent), null, { timeout: 60000 });
+  await page.evaluate(() => window.nivalis.whenDrawn());
+  await page.evaluate(() => window.nivalis.planet.whenDone());
+  const disk = await savedDisk(page, "worker-disk.json");
+  const svg = await downloadText(page, '#view-c-to-o [data-format="svg"]');
+  assert.ok(svg.text === run(["figure", disk, "--view", "c_to_o", "--format", "svg"]), "worker-result SVG differs from `nivalis figure`");
+  const methods = await downloadText(page, '[data-export="methods_text"]');
+  assert.ok(methods.text === run(["methods", disk]), "worker-result methods text differs from `nivalis methods`");
+  // The planet tools need the model itself, which stays in the worker: a message, no stale numbers, no NaN.
+  assert.match(await page.textContent("#planet-message"), /computed in the background/);
+  assert.equal(await page.isDisabled('[data-planet-export="planet_json"]'), true);
+  assert.ok(!/NaN/.test(await page.textContent("#planet-panel")));
+  assert.deepEqual(errors, []);
+  await page.close();
+});
+
 test("a screenshot with the planet panel is written for the record", async () => {
   const { page } = await freshPage();
   await page.selectOption("#demo-picker", "planet_host_example.json");
