@@ -346,7 +346,7 @@ fn encode_png(rgb: &[u8], w: u32, h: u32, dpi: f64) -> Result<Vec<u8>, ChartErro
 
 /// DejaVu Sans 2.37 (fonts/LICENSE), compiled in so PNG text needs no font files at run time.
 #[cfg(feature = "png")]
-pub const BUNDLED_FONT: &[u8] = include_bytes!("../fonts/DejaVuSans.ttf");
+pub static BUNDLED_FONT: &[u8] = include_bytes!("../fonts/DejaVuSans.ttf");
 
 /// Register the bundled font under the theme's family list (and "sans-serif"),
 /// once per name: plotters' text measurement (used for the SVG layout) looks
