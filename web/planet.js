@@ -272,7 +272,9 @@ function buildFigureDownloads() {
   options.querySelector("#figure-theme").append(new Option("light (paper)", "light"), new Option("dark", "dark"));
   const section = element("section", { class: "exports paper", "aria-labelledby": "paper-title" },
     element("h2", { id: "paper-title", text: "Figures, methods and references for a paper" }),
-    element("p", { text: "The SVG and PNG buttons under each view write the same file as `nivalis figure DISK --view VIEW` with these options (SVG: vectors with text as text; PNG at the chosen resolution, text in DejaVu Sans); each file carries the program version, the disk file and its hash. The methods text and BibTeX are those of `nivalis methods DISK` for the current disk." }),
+    element("p", {}, "The SVG and PNG buttons under each view write the same file as ", element("code", { text: "nivalis figure DISK --view VIEW" }),
+      " with these options (SVG: vectors with text as text; PNG at the chosen resolution, text in DejaVu Sans); each file carries the program version, the disk file and its hash. The methods text and BibTeX are those of ",
+      element("code", { text: "nivalis methods DISK" }), " for the current disk."),
     options,
     element("p", { class: "problem", id: "figure-problem", hidden: "" }),
     element("div", { class: "export-buttons" },
@@ -438,8 +440,9 @@ function showPlanet(p, typed) {
       row(["S/H relative to the star", show(el.S.relative_to_star), "", "", "1"]),
       row(["share of C / O / N / S from solids", [el.C, el.O, el.N, el.S].map((x) => percent(x.solid_share)).join(" / "), "", "", ""])));
   table.querySelector("tbody td").id = "planet-c-to-o";
+  const command = `nivalis planet DISK --radius-au ${cliNumber(typed.radius_au)}${typed.to_radius_au.trim() ? ` --to-radius-au ${cliNumber(typed.to_radius_au)}` : ""} --solid-to-gas ${cliNumber(typed.solid_to_gas)} --mix ${typed.mix.trim() ? cliNumber(typed.mix) : "1"}`;
   planetResult.append(table,
-    element("p", { class: "note", text: `The disk holds ${show(p.local.solid_to_gas_available)} g of solids per g of gas there. Same numbers: nivalis planet DISK --radius-au ${cliNumber(typed.radius_au)}${typed.to_radius_au.trim() ? ` --to-radius-au ${cliNumber(typed.to_radius_au)}` : ""} --solid-to-gas ${cliNumber(typed.solid_to_gas)} --mix ${typed.mix.trim() ? cliNumber(typed.mix) : "1"}` }));
+    element("p", { class: "note", text: `The disk holds ${show(p.local.solid_to_gas_available)} g of solids per g of gas there. Same numbers: ` }, element("code", { text: command })));
 }
 
 let currentUnion = [];
@@ -473,7 +476,7 @@ function showFit(f, typed, deferMap = false) {
     element("details", {}, element("summary", { text: "Allowed radii at each solid-to-gas ratio" }), element("div", { class: "table-wrap" }, perRatio)));
   const metal = typed.tracer === "C" ? ` --c-to-h-dex ${cliNumber(typed.metallicity_dex)} --c-to-h-sigma ${cliNumber(typed.metallicity_sigma_dex)}`
     : typed.tracer === "O" ? ` --o-to-h-dex ${cliNumber(typed.metallicity_dex)} --o-to-h-sigma ${cliNumber(typed.metallicity_sigma_dex)}` : "";
-  $("fit-cli").textContent = `Same files: nivalis fit DISK --c-to-o ${cliNumber(typed.c_to_o)} --c-to-o-sigma ${cliNumber(typed.c_to_o_sigma)}${metal} --mix ${typed.mix.trim() ? cliNumber(typed.mix) : "1"} --convention ${typed.convention} --format csv|ecsv|json [--figure FILE.svg|FILE.png] (the map figure's CLI form is one column, light, 300 dpi).`;
+  $("fit-cli").replaceChildren("Same files: ", element("code", { text: `nivalis fit DISK --c-to-o ${cliNumber(typed.c_to_o)} --c-to-o-sigma ${cliNumber(typed.c_to_o_sigma)}${metal} --mix ${typed.mix.trim() ? cliNumber(typed.mix) : "1"} --convention ${typed.convention} --format csv|ecsv|json [--figure FILE.svg|FILE.png]` }), " (the map figure's CLI form is one column, light, 300 dpi).");
   chi2Dirty = true;
   if (!deferMap) drawChi2();
   else if (chi2OnScreen && !chi2Idle) chi2Idle = requestIdleCallback(() => { chi2Idle = 0; if (chi2Dirty) drawChi2(); }, { timeout: 300 });

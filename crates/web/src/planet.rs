@@ -395,9 +395,10 @@ pub fn explain(model: &Model, map: &ChiSquareMap) -> Vec<String> {
         let j = (i.first_cell + i.last_cell) / 2;
         let centre = (i.inner_centre_au * i.outer_centre_au).sqrt();
         format!(
-            "{}-{} au lies {}; there the gas has C/O {} and the solids {}",
+            "in {}-{} au, whose middle ({} au) lies {}, the gas has C/O {} and the solids {}",
             sig(i.inner_edge_au, 2),
             sig(i.outer_edge_au, 2),
+            sig(centre, 2),
             among_snowlines(&lines, centre),
             ratio_text(profile.c_to_o_gas[j]),
             ratio_text(profile.c_to_o_solid[j])
