@@ -58,7 +58,15 @@ export async function launch(options = {}) {
 /// Opens the page and waits until its first result is on screen. Errors in the
 /// page's console or uncaught exceptions are collected in `errors`.
 export async function openPage(context, url = pageUrl) {
-  const page = context.pages()[0] || (await context.newPage());
+  return loadPage(context.pages()[0] || (await context.newPage()), url);
+}
+
+/// Like `openPage`, but always in a new tab of `context`.
+export async function newPage(context, url = pageUrl) {
+  return loadPage(await context.newPage(), url);
+}
+
+async function loadPage(page, url) {
   const errors = [];
   page.on("pageerror", (e) => errors.push(String(e)));
   page.on("console", (m) => { if (m.type() === "error") errors.push(m.text()); });

@@ -17,6 +17,7 @@ import { tmpdir } from "node:os";
 import {
   canvasStats, downloadText, ensureCli, ensurePage, execFileSync, join, launch, openPage, pageUrl, repoRoot, settle, waterSnowlines,
 } from "./helpers.mjs";
+import { newPage } from "./helpers.mjs";
 
 const CANVASES = ["canvas-c-to-o", "canvas-temperature", "canvas-ice-map", "canvas-c-to-o-map", "canvas-abundances"];
 
@@ -36,15 +37,9 @@ after(async () => {
   if (scratch) rmSync(scratch, { recursive: true, force: true });
 });
 
-async function freshPage(url) {
-  const page = await browser.context.newPage();
-  const errors = [];
-  page.on("pageerror", (e) => errors.push(String(e)));
-  page.on("console", (m) => { if (m.type() === "error") errors.push(m.text()); });
-  await page.goto(url || pageUrl);
-  await page.waitForSelector("body[data-ready=true]", { timeout: 60000 });
-  await page.evaluate(() => window.nivalis.whenDrawn());
-  return { page, errors };
+// A new tab with the page loaded and drawn (helpers.mjs newPage).
+function freshPage(url) {
+  return newPage(browser.context, url || pageUrl);
 }
 
 // Types into a field like a person (the value is replaced) and waits for the redraw.

@@ -20,6 +20,7 @@ import assert from "node:assert/strict";
 import { mkdtempSync, readFileSync, rmSync, writeFileSync } from "node:fs";
 import { tmpdir } from "node:os";
 import { canvasStats, ensureCli, ensurePage, execFileSync, join, launch, pageUrl, repoRoot, settle } from "./helpers.mjs";
+import { newPage } from "./helpers.mjs";
 
 let browser;
 let cli;
@@ -37,15 +38,9 @@ after(async () => {
   if (scratch) rmSync(scratch, { recursive: true, force: true });
 });
 
-async function freshPage(url) {
-  const page = await browser.context.newPage();
-  const errors = [];
-  page.on("pageerror", (e) => errors.push(String(e)));
-  page.on("console", (m) => { if (m.type() === "error") errors.push(m.text()); });
-  await page.goto(url || pageUrl);
-  await page.waitForSelector("body[data-ready=true]", { timeout: 60000 });
-  await page.evaluate(() => window.nivalis.whenDrawn());
-  return { page, errors };
+// A new tab with the page loaded and drawn (helpers.mjs newPage).
+function freshPage(url) {
+  return newPage(browser.context, url || pageUrl);
 }
 
 // The bytes of a download started by clicking `selector`.
