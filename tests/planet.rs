@@ -11,46 +11,24 @@
 //! source and tolerance. Run with `cargo test -p nivalis-tests --test planet`.
 
 use nivalis_physics::anchor::{anchor_to_snowline, first_freeze_out_snowline, AnchorParameter, AnchorRequest, SnowlinePosition};
-use nivalis_physics::params::{DesorptionModel, Element, ModelParameters};
+use nivalis_physics::params::{Element, ModelParameters};
 use nivalis_physics::planet::{
     chi_square_map, planet, AccretedPhases, ConfidenceConvention, MapSettings, MetallicityTracer, ObservedEnvelope,
     ObservedMetallicity, PlanetRequest, RadialWeighting, SigmaLevel,
 };
 use nivalis_physics::units::{ATOMIC_MASS_UNIT_G, AU_CM, HYDROGEN_MASS_G};
 use nivalis_physics::{CrossingDirection, Model, Species};
-use nivalis_tests::{assert_abs, assert_rel};
+use nivalis_tests::{assert_abs, assert_rel, small_default};
 use std::time::Instant;
 
 const C: usize = Element::C as usize;
 const O: usize = Element::O as usize;
 
-/// The default disk on a coarser vertical grid (midplane quantities only need the column's normalisation).
-fn small_default() -> ModelParameters {
-    let mut p = ModelParameters::defaults();
-    p.grid.vertical_cells = 24;
-    p
-}
-
-/// The CHECK_VALUES 5a inputs in the step model: Asplund 2009 C/H and O/H, refractory C 50 %,
-/// CO/H = 1.0e-4, CO2 the rest of the volatile carbon, no CH4/CH3OH/HCN, silicates 20 % of the O,
-/// water the rest; the Oberg, Murray-Clay & Bergin 2011 condensation temperatures H2O 135 K,
-/// CO2 47 K, CO 20 K are the built-in step-model values (checked below). Nitrogen and sulfur carry
-/// no C or O; to keep each zone's solids the same per gram (not only per H), all N is N2 (which
-/// freezes beyond the CO line) and all S is FeS, so no NH3 or H2S line falls inside a zone.
+/// The CHECK_VALUES 5a inputs in the step model (tests/lib.rs `step_model_5a`). Nitrogen and
+/// sulfur carry no C or O; to keep each zone's solids the same per gram (not only per H), all N is
+/// N2 (which freezes beyond the CO line) and all S is FeS, so no NH3 or H2S line falls inside a zone.
 fn step_model_5a() -> ModelParameters {
-    let mut p = small_default();
-    p.ices.desorption = DesorptionModel::FixedTemperature;
-    let x_c = f64::powf(10.0, 8.43 - 12.0);
-    let x_o = f64::powf(10.0, 8.69 - 12.0);
-    let x_si = f64::powf(10.0, 7.51 - 12.0);
-    let cf = &mut p.composition.carbon;
-    cf.refractory = 0.5;
-    cf.co = 1.0e-4 / x_c;
-    cf.co2 = 1.0 - cf.refractory - cf.co;
-    cf.ch4 = 0.0;
-    cf.ch3oh = 0.0;
-    cf.hcn = 0.0;
-    p.composition.oxygen_per_silicon = 0.2 * x_o / x_si;
+    let mut p = nivalis_tests::step_model_5a();
     p.composition.nitrogen.n2 = 1.0;
     p.composition.nitrogen.nh3 = 0.0;
     p.composition.sulfur.h2s = 0.0;

@@ -7,12 +7,12 @@
 //! with the reason. Run with `cargo test -p nivalis-tests --test published_ices`.
 
 use nivalis_physics::balance::{species_properties, vibration_frequency_s, BalanceConstants};
-use nivalis_physics::params::{AbundanceReference, DesorptionModel, Element, ModelParameters};
+use nivalis_physics::params::{AbundanceReference, Element, ModelParameters};
 use nivalis_physics::snowlines::crossings;
 use nivalis_physics::species::SpeciesTable;
 use nivalis_physics::units::*;
 use nivalis_physics::{BindingEnergySet, CrossingDirection, Model, Species};
-use nivalis_tests::{assert_abs, assert_rel};
+use nivalis_tests::{assert_abs, assert_rel, small_default, step_model_5a};
 use std::f64::consts::PI;
 
 const C: usize = Element::C as usize;
@@ -67,31 +67,7 @@ fn temperature_where_desorption_takes_a_year() {
     }
 }
 
-/// Default disk on a smaller grid (the vertical resolution does not enter midplane checks).
-fn small_default() -> ModelParameters {
-    let mut p = ModelParameters::defaults();
-    p.grid.vertical_cells = 24;
-    p
-}
-
-/// The CHECK_VALUES 5a inputs in the step model (see `step_model_zone_c_to_o`).
-fn step_model_5a() -> ModelParameters {
-    let mut p = small_default();
-    p.ices.desorption = DesorptionModel::FixedTemperature;
-    let x_c = f64::powf(10.0, 8.43 - 12.0);
-    let x_o = f64::powf(10.0, 8.69 - 12.0);
-    let x_si = f64::powf(10.0, 7.51 - 12.0);
-    let cf = &mut p.composition.carbon;
-    cf.refractory = 0.5;
-    cf.co = 1.0e-4 / x_c;
-    cf.co2 = 1.0 - cf.refractory - cf.co;
-    cf.ch4 = 0.0;
-    cf.ch3oh = 0.0;
-    cf.hcn = 0.0;
-    // Silicates hold 20 % of the oxygen: oxygen_per_silicon x_Si = 0.2 x_O (about 3.03).
-    p.composition.oxygen_per_silicon = 0.2 * x_o / x_si;
-    p
-}
+// `small_default` and `step_model_5a` (the CHECK_VALUES 5a inputs) live in tests/lib.rs.
 
 #[test]
 fn step_model_zone_c_to_o() {
