@@ -28,7 +28,9 @@ pub fn assert_abs(actual: f64, expected: f64, abs_tol: f64, what: &str) {
 pub fn integrate_ln(a: f64, b: f64, n: usize, f: impl Fn(f64) -> f64) -> f64 {
     let (la, lb) = (a.ln(), b.ln());
     let h = (lb - la) / n as f64;
-    (0..n).map(|i| f((la + (i as f64 + 0.5) * h).exp()) * h).sum()
+    (0..n)
+        .map(|i| f((la + (i as f64 + 0.5) * h).exp()) * h)
+        .sum()
 }
 
 /// The default disk on a coarser vertical grid (midplane checks only need each

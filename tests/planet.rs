@@ -10,11 +10,13 @@
 //! model itself (internal consistency, named as such). Each check names its
 //! source and tolerance. Run with `cargo test -p nivalis-tests --test planet`.
 
-use nivalis_physics::anchor::{anchor_to_snowline, first_freeze_out_snowline, AnchorParameter, AnchorRequest, SnowlinePosition};
+use nivalis_physics::anchor::{
+    anchor_to_snowline, first_freeze_out_snowline, AnchorParameter, AnchorRequest, SnowlinePosition,
+};
 use nivalis_physics::params::{Element, ModelParameters};
 use nivalis_physics::planet::{
-    chi_square_map, planet, AccretedPhases, ConfidenceConvention, MapSettings, MetallicityTracer, ObservedEnvelope,
-    ObservedMetallicity, PlanetRequest, RadialWeighting, SigmaLevel,
+    chi_square_map, planet, AccretedPhases, ConfidenceConvention, MapSettings, MetallicityTracer,
+    ObservedEnvelope, ObservedMetallicity, PlanetRequest, RadialWeighting, SigmaLevel,
 };
 use nivalis_physics::units::{ATOMIC_MASS_UNIT_G, AU_CM, HYDROGEN_MASS_G};
 use nivalis_physics::{CrossingDirection, Model, Species};
@@ -37,17 +39,41 @@ fn step_model_5a() -> ModelParameters {
 }
 
 fn first_freeze_out_au(model: &Model, species: Species) -> f64 {
-    model.snowlines(species).iter().find(|s| s.direction == CrossingDirection::FreezeOut).expect("a freeze-out snowline").radius_cm
+    model
+        .snowlines(species)
+        .iter()
+        .find(|s| s.direction == CrossingDirection::FreezeOut)
+        .expect("a freeze-out snowline")
+        .radius_cm
         / AU_CM
 }
 
 /// Radii [au] in each step-model zone: (soot line to H2O), (H2O to CO2), (CO2 to CO), (beyond CO), geometric midpoints.
 fn zone_radii(model: &Model) -> [f64; 4] {
     let st = &model.structure;
-    let soot = nivalis_physics::snowlines::crossings(&st.radius_cm, &st.midplane_temperature_k, 500.0, true, false);
-    let r_soot = soot.first().map_or(model.parameters.disk.inner_radius_au, |s| s.radius_cm / AU_CM);
-    let (w, d, c) = (first_freeze_out_au(model, Species::H2O), first_freeze_out_au(model, Species::CO2), first_freeze_out_au(model, Species::CO));
-    [(r_soot * w).sqrt(), (w * d).sqrt(), (d * c).sqrt(), (c * model.parameters.disk.outer_radius_au).sqrt()]
+    let soot = nivalis_physics::snowlines::crossings(
+        &st.radius_cm,
+        &st.midplane_temperature_k,
+        500.0,
+        true,
+        false,
+    );
+    let r_soot = soot
+        .first()
+        .map_or(model.parameters.disk.inner_radius_au, |s| {
+            s.radius_cm / AU_CM
+        });
+    let (w, d, c) = (
+        first_freeze_out_au(model, Species::H2O),
+        first_freeze_out_au(model, Species::CO2),
+        first_freeze_out_au(model, Species::CO),
+    );
+    [
+        (r_soot * w).sqrt(),
+        (w * d).sqrt(),
+        (d * c).sqrt(),
+        (c * model.parameters.disk.outer_radius_au).sqrt(),
+    ]
 }
 
 #[test]
@@ -70,7 +96,11 @@ fn pure_gas_accretion_has_the_local_gas_c_to_o() {
                 let entry = planet.envelope.element(e);
                 assert_eq!(entry.from_solids_atoms, 0.0);
                 let x = local.phases.gas[e as usize];
-                assert!((entry.per_h - x).abs() <= 1e-12 * x, "{what}: {e:?}/H {} vs {x}", entry.per_h);
+                assert!(
+                    (entry.per_h - x).abs() <= 1e-12 * x,
+                    "{what}: {e:?}/H {} vs {x}",
+                    entry.per_h
+                );
             }
         }
     }
@@ -86,9 +116,21 @@ fn pure_solid_accretion_tends_to_the_local_solid_c_to_o() {
         let local = model.midplane_at(r_au).unwrap();
         let solid = model.ratios(&local.phases).c_to_o_solid.unwrap();
         let phases = AccretedPhases::at(&model, r_au).unwrap();
-        assert_rel(phases.solid_c_to_o().unwrap(), solid, 1e-12, &format!("accreted solids' C/O at {r_au} au"));
-        let env = planet(&model, &PlanetRequest::at(r_au, 1e12)).unwrap().envelope;
-        assert_rel(env.c_to_o.unwrap(), solid, 1e-8, &format!("solid-dominated envelope at {r_au} au"));
+        assert_rel(
+            phases.solid_c_to_o().unwrap(),
+            solid,
+            1e-12,
+            &format!("accreted solids' C/O at {r_au} au"),
+        );
+        let env = planet(&model, &PlanetRequest::at(r_au, 1e12))
+            .unwrap()
+            .envelope;
+        assert_rel(
+            env.c_to_o.unwrap(),
+            solid,
+            1e-8,
+            &format!("solid-dominated envelope at {r_au} au"),
+        );
         assert!(env.element(Element::O).solid_share.unwrap() > 1.0 - 1e-8);
     }
 }
@@ -100,7 +142,9 @@ fn mixtures_lie_between_gas_and_solids_and_move_monotonically() {
     // to 1e-12; the result lies between the gas and solid C/O and moves monotonically from one to the other
     // as the solid-to-gas ratio grows.
     let model = Model::run(&small_default()).unwrap();
-    let ratios: Vec<f64> = (0..=50).map(|k| 10f64.powf(-5.0 + 0.12 * k as f64)).collect();
+    let ratios: Vec<f64> = (0..=50)
+        .map(|k| 10f64.powf(-5.0 + 0.12 * k as f64))
+        .collect();
     for r_au in [0.8, 2.5, 9.0, 30.0, 80.0] {
         for f_mix in [1.0, 0.3] {
             let local = model.midplane_at(r_au).unwrap();
@@ -119,9 +163,15 @@ fn mixtures_lie_between_gas_and_solids_and_move_monotonically() {
                 let what = format!("r = {r_au} au, q = {q:.3e}, f_mix = {f_mix}");
                 assert_rel(c_to_o, formula, 1e-12, &format!("mixing formula, {what}"));
                 let (lo, hi) = (gas.min(solid), gas.max(solid));
-                assert!(c_to_o >= lo * (1.0 - 1e-12) && c_to_o <= hi * (1.0 + 1e-12), "between gas {gas} and solid {solid}: {c_to_o}, {what}");
+                assert!(
+                    c_to_o >= lo * (1.0 - 1e-12) && c_to_o <= hi * (1.0 + 1e-12),
+                    "between gas {gas} and solid {solid}: {c_to_o}, {what}"
+                );
                 let step = (c_to_o - previous) * (solid - gas).signum();
-                assert!(step >= -1e-12 * gas, "monotonic toward the solids: {previous} -> {c_to_o}, {what}");
+                assert!(
+                    step >= -1e-12 * gas,
+                    "monotonic toward the solids: {previous} -> {c_to_o}, {what}"
+                );
                 previous = c_to_o;
             }
         }
@@ -136,8 +186,17 @@ fn oberg_2011_step_model_envelopes() {
     // solid C/O 0.420, 0.434, 0.550 (beyond CO); gas C/H = O/H = 1.000e-4 between the CO2 and CO lines.
     let p = step_model_5a();
     let model = Model::run(&p).unwrap();
-    for (s, t) in [(Species::H2O, 135.0), (Species::CO2, 47.0), (Species::CO, 20.0)] {
-        assert_eq!(model.species[s.index()].condensation_temperature_k, t, "Oberg 2011 condensation temperature of {}", s.key());
+    for (s, t) in [
+        (Species::H2O, 135.0),
+        (Species::CO2, 47.0),
+        (Species::CO, 20.0),
+    ] {
+        assert_eq!(
+            model.species[s.index()].condensation_temperature_k,
+            t,
+            "Oberg 2011 condensation temperature of {}",
+            s.key()
+        );
     }
     let [_, r_w_d, r_d_c, r_out] = zone_radii(&model);
     let envelope = |r: f64, q: f64| planet(&model, &PlanetRequest::at(r, q)).unwrap().envelope;
@@ -145,33 +204,75 @@ fn oberg_2011_step_model_envelopes() {
 
     // Between the CO2 and CO lines: a pure-gas envelope has C/O = 1 exactly (CO is the only gas carrier).
     let gas_only = envelope(r_d_c, 0.0);
-    assert_rel(gas_only.c_to_o.unwrap(), 1.0, 1e-12, "gas-only envelope between the CO2 and CO lines (5a: 1.000)");
+    assert_rel(
+        gas_only.c_to_o.unwrap(),
+        1.0,
+        1e-12,
+        "gas-only envelope between the CO2 and CO lines (5a: 1.000)",
+    );
     // [C/H] = log10(1.000e-4 / 2.692e-4) = -0.430 and [O/H] = log10(1.000e-4 / 4.898e-4) = -0.690 (D from 5a).
-    assert_abs(gas_only.c_to_h_dex().unwrap(), -0.430, 5e-4, "[C/H] of the gas-only envelope (5a, D)");
-    assert_abs(gas_only.o_to_h_dex().unwrap(), -0.690, 5e-4, "[O/H] of the gas-only envelope (5a, D)");
+    assert_abs(
+        gas_only.c_to_h_dex().unwrap(),
+        -0.430,
+        5e-4,
+        "[C/H] of the gas-only envelope (5a, D)",
+    );
+    assert_abs(
+        gas_only.o_to_h_dex().unwrap(),
+        -0.690,
+        5e-4,
+        "[O/H] of the gas-only envelope (5a, D)",
+    );
     // Gas-dominated (solid-to-gas 1e-4, a hundredth of the disk's own dust-to-gas): C/O stays near 1.
     let gas_dominated = envelope(r_d_c, 1e-4).c_to_o.unwrap();
-    assert!(gas_dominated > 0.95 && gas_dominated < 1.0, "gas-dominated envelope C/O ~ 1 (Oberg 2011): {gas_dominated}");
+    assert!(
+        gas_dominated > 0.95 && gas_dominated < 1.0,
+        "gas-dominated envelope C/O ~ 1 (Oberg 2011): {gas_dominated}"
+    );
     // Solid enrichment pulls C/O down toward the solids' 0.434, to stellar or substellar values.
     let mut previous = 1.0;
     for q in [1e-3, 1e-2, 0.1, 1.0] {
         let c_to_o = envelope(r_d_c, q).c_to_o.unwrap();
-        assert!(c_to_o < previous && c_to_o > 0.434 - 5e-4, "q = {q}: {c_to_o} falls toward the solids' 0.434");
+        assert!(
+            c_to_o < previous && c_to_o > 0.434 - 5e-4,
+            "q = {q}: {c_to_o} falls toward the solids' 0.434"
+        );
         previous = c_to_o;
     }
-    assert!(previous < star, "a solid-dominated envelope (q = 1) is substellar: {previous} < {star}");
-    assert_abs(previous, 0.434, 0.01, "q = 1 envelope near the solids' C/O 0.434 (5a)");
+    assert!(
+        previous < star,
+        "a solid-dominated envelope (q = 1) is substellar: {previous} < {star}"
+    );
+    assert_abs(
+        previous,
+        0.434,
+        0.01,
+        "q = 1 envelope near the solids' C/O 0.434 (5a)",
+    );
 
     // Between the H2O and CO2 lines the gas C/O is 0.796 (5a; Oberg 2011 Fig. 1 about 0.8, M +- 0.1).
-    assert_abs(envelope(r_w_d, 0.0).c_to_o.unwrap(), 0.796, 5e-4, "gas-only envelope between the H2O and CO2 lines");
-    assert!(envelope(r_w_d, 0.1).c_to_o.unwrap() < star, "solid-polluted envelope inside the CO2 line is substellar");
+    assert_abs(
+        envelope(r_w_d, 0.0).c_to_o.unwrap(),
+        0.796,
+        5e-4,
+        "gas-only envelope between the H2O and CO2 lines",
+    );
+    assert!(
+        envelope(r_w_d, 0.1).c_to_o.unwrap() < star,
+        "solid-polluted envelope inside the CO2 line is substellar"
+    );
 
     // Beyond the CO line the gas holds no C or O: a gas-only envelope has undefined C/O (None, not a number),
     // and any solid accretion gives the solids' C/O 0.550 = stellar (5a).
     let cold = envelope(r_out, 0.0);
     assert_eq!(cold.c_to_o, None, "C/O undefined with no oxygen");
     assert_eq!(cold.c_to_h_dex(), None, "[C/H] undefined with no carbon");
-    assert_abs(envelope(r_out, 0.01).c_to_o.unwrap(), 0.550, 5e-4, "envelope C/O beyond the CO line (5a: 0.550)");
+    assert_abs(
+        envelope(r_out, 0.01).c_to_o.unwrap(),
+        0.550,
+        5e-4,
+        "envelope C/O beyond the CO line (5a: 0.550)",
+    );
 }
 
 #[test]
@@ -186,19 +287,45 @@ fn migration_across_a_snowline_is_the_midpoint_rule_average() {
     let outside = AccretedPhases::at(&model, r2).unwrap();
     // Each midpoint is on the warm side where its own midplane temperature is at least CO2's 47 K.
     let n_inside = (0..200)
-        .filter(|k| model.midplane_at(r1 + (*k as f64 + 0.5) * (r2 - r1) / 200.0).unwrap().temperature_k >= 47.0)
+        .filter(|k| {
+            model
+                .midplane_at(r1 + (*k as f64 + 0.5) * (r2 - r1) / 200.0)
+                .unwrap()
+                .temperature_k
+                >= 47.0
+        })
         .count() as f64;
-    assert!(n_inside > 10.0 && n_inside < 190.0, "both zones sampled: {n_inside}");
+    assert!(
+        n_inside > 10.0 && n_inside < 190.0,
+        "both zones sampled: {n_inside}"
+    );
     let avg = AccretedPhases::averaged(&model, r1, r2, RadialWeighting::Uniform).unwrap();
     for e in [C, O] {
-        let expected = (n_inside * inside.gas_atoms_per_g[e] + (200.0 - n_inside) * outside.gas_atoms_per_g[e]) / 200.0;
-        assert_rel(avg.gas_atoms_per_g[e], expected, 1e-12, "gas atoms per gram averaged across the CO2 line");
-        let (si, so) = (inside.solid_atoms_per_g.unwrap()[e], outside.solid_atoms_per_g.unwrap()[e]);
+        let expected = (n_inside * inside.gas_atoms_per_g[e]
+            + (200.0 - n_inside) * outside.gas_atoms_per_g[e])
+            / 200.0;
+        assert_rel(
+            avg.gas_atoms_per_g[e],
+            expected,
+            1e-12,
+            "gas atoms per gram averaged across the CO2 line",
+        );
+        let (si, so) = (
+            inside.solid_atoms_per_g.unwrap()[e],
+            outside.solid_atoms_per_g.unwrap()[e],
+        );
         let expected = (n_inside * si + (200.0 - n_inside) * so) / 200.0;
-        assert_rel(avg.solid_atoms_per_g.unwrap()[e], expected, 1e-12, "solid atoms per gram averaged across the CO2 line");
+        assert_rel(
+            avg.solid_atoms_per_g.unwrap()[e],
+            expected,
+            1e-12,
+            "solid atoms per gram averaged across the CO2 line",
+        );
     }
     // The migrating planet's gas-only C/O lies between the two zones' 0.796 and 1.000.
-    let env = planet(&model, &PlanetRequest::migrating(r1, r2, 0.0)).unwrap().envelope;
+    let env = planet(&model, &PlanetRequest::migrating(r1, r2, 0.0))
+        .unwrap()
+        .envelope;
     let c_to_o = env.c_to_o.unwrap();
     assert!(c_to_o > 0.796 && c_to_o < 1.0, "{c_to_o}");
 }
@@ -217,31 +344,64 @@ fn inverse_map_recovers_a_synthetic_planet() {
     // reports (see `a_degenerate_place_is_reported_as_split_ranges`).
     let model = Model::run(&small_default()).unwrap();
     let settings = MapSettings::defaults();
-    let probe = chi_square_map(&model, &ObservedEnvelope { c_to_o: 0.5, c_to_o_sigma: 0.1, metallicity: None }, &settings).unwrap();
+    let probe = chi_square_map(
+        &model,
+        &ObservedEnvelope {
+            c_to_o: 0.5,
+            c_to_o_sigma: 0.1,
+            metallicity: None,
+        },
+        &settings,
+    )
+    .unwrap();
     let (radii, ratios) = (probe.radius_au.clone(), probe.solid_to_gas.clone());
     let observe = |r_au: f64, q: f64| {
-        let truth = planet(&model, &PlanetRequest::at(r_au, q)).unwrap().envelope;
+        let truth = planet(&model, &PlanetRequest::at(r_au, q))
+            .unwrap()
+            .envelope;
         ObservedEnvelope {
             c_to_o: truth.c_to_o.unwrap(),
             c_to_o_sigma: 0.02,
-            metallicity: Some(ObservedMetallicity { tracer: MetallicityTracer::Oxygen, dex: truth.o_to_h_dex().unwrap(), sigma_dex: 0.05 }),
+            metallicity: Some(ObservedMetallicity {
+                tracer: MetallicityTracer::Oxygen,
+                dex: truth.o_to_h_dex().unwrap(),
+                sigma_dex: 0.05,
+            }),
         }
     };
     for (j, k) in [(30, 5), (75, 20), (86, 40), (130, 10), (160, 30)] {
         let map = chi_square_map(&model, &observe(radii[j], ratios[k]), &settings).unwrap();
         let best = map.best.unwrap();
-        let what = format!("grid planet at {:.4} au, q = {:.4e}; best {:.4} au, q = {:.4e}", radii[j], ratios[k], best.radius_au, best.solid_to_gas);
+        let what = format!(
+            "grid planet at {:.4} au, q = {:.4e}; best {:.4} au, q = {:.4e}",
+            radii[j], ratios[k], best.radius_au, best.solid_to_gas
+        );
         assert_eq!((best.radial_cell, best.ratio_index), (j, k), "{what}");
         assert!(best.chi2 < 1e-20, "chi2 = {}, {what}", best.chi2);
     }
-    for (j, k) in [(74, 5), (77, 30), (86, 5), (89, 30), (143, 5), (146, 30), (158, 5), (161, 30)] {
+    for (j, k) in [
+        (74, 5),
+        (77, 30),
+        (86, 5),
+        (89, 30),
+        (143, 5),
+        (146, 30),
+        (158, 5),
+        (161, 30),
+    ] {
         let r_au = (radii[j] * radii[j + 1]).sqrt();
         let map = chi_square_map(&model, &observe(r_au, ratios[k]), &settings).unwrap();
         let best = map.best.unwrap();
         let what = format!("planet at {r_au:.4} au (between cells {j} and {}), q = {:.4e}; best {:.4} au, q = {:.4e}", j + 1, ratios[k], best.radius_au, best.solid_to_gas);
-        assert!(best.radial_cell == j || best.radial_cell == j + 1, "radius within one cell: {what}");
+        assert!(
+            best.radial_cell == j || best.radial_cell == j + 1,
+            "radius within one cell: {what}"
+        );
         assert_eq!(best.ratio_index, k, "{what}");
-        assert!(map.row(j, k).within_2sigma && map.row(j + 1, k).within_2sigma, "both neighbours within 2 sigma: {what}");
+        assert!(
+            map.row(j, k).within_2sigma && map.row(j + 1, k).within_2sigma,
+            "both neighbours within 2 sigma: {what}"
+        );
     }
 }
 
@@ -258,19 +418,43 @@ fn a_degenerate_place_is_reported_as_split_ranges() {
     let r_water = first_freeze_out_au(&model, Species::H2O);
     let r_au = r_water * 0.93;
     let k = 30;
-    let truth = planet(&model, &PlanetRequest::at(r_au, ratios[k])).unwrap().envelope;
+    let truth = planet(&model, &PlanetRequest::at(r_au, ratios[k]))
+        .unwrap()
+        .envelope;
     let observed = ObservedEnvelope {
         c_to_o: truth.c_to_o.unwrap(),
         c_to_o_sigma: 0.02,
-        metallicity: Some(ObservedMetallicity { tracer: MetallicityTracer::Oxygen, dex: truth.o_to_h_dex().unwrap(), sigma_dex: 0.05 }),
+        metallicity: Some(ObservedMetallicity {
+            tracer: MetallicityTracer::Oxygen,
+            dex: truth.o_to_h_dex().unwrap(),
+            sigma_dex: 0.05,
+        }),
     };
     let map = chi_square_map(&model, &observed, &settings).unwrap();
     let split = map.degeneracies(SigmaLevel::One);
-    let at_k = split.iter().find(|d| d.solid_to_gas == ratios[k]).unwrap_or_else(|| panic!("a split region at q = {}: {:?}", ratios[k], map.allowed[k]));
+    let at_k = split
+        .iter()
+        .find(|d| d.solid_to_gas == ratios[k])
+        .unwrap_or_else(|| panic!("a split region at q = {}: {:?}", ratios[k], map.allowed[k]));
     let contains = |lo: f64, hi: f64, r: f64| lo <= r && r <= hi;
-    assert!(at_k.ranges.iter().any(|g| contains(g.inner_edge_au, g.outer_edge_au, r_au)), "a range at the planet: {}", at_k.text());
-    assert!(at_k.ranges.iter().any(|g| g.inner_edge_au > 100.0), "a range in the outer disk: {}", at_k.text());
-    assert!(at_k.text().starts_with(&format!("at solid-to-gas {:.3}, ", ratios[k])), "{}", at_k.text());
+    assert!(
+        at_k.ranges
+            .iter()
+            .any(|g| contains(g.inner_edge_au, g.outer_edge_au, r_au)),
+        "a range at the planet: {}",
+        at_k.text()
+    );
+    assert!(
+        at_k.ranges.iter().any(|g| g.inner_edge_au > 100.0),
+        "a range in the outer disk: {}",
+        at_k.text()
+    );
+    assert!(
+        at_k.text()
+            .starts_with(&format!("at solid-to-gas {:.3}, ", ratios[k])),
+        "{}",
+        at_k.text()
+    );
     println!("{}", at_k.text());
     for line in map.degeneracy_summary() {
         println!("{line}");
@@ -286,28 +470,73 @@ fn c_to_o_alone_is_degenerate_and_the_map_says_so() {
     // toward 0.420) solid enrichment brings C/O to 0.55. So C/O = 0.550 +- 0.02 alone fits an inner range and
     // the outer disk, separated by the CO2-CO zone: the description must say so.
     let model = Model::run(&step_model_5a()).unwrap();
-    let observed = ObservedEnvelope { c_to_o: 0.550, c_to_o_sigma: 0.02, metallicity: None };
+    let observed = ObservedEnvelope {
+        c_to_o: 0.550,
+        c_to_o_sigma: 0.02,
+        metallicity: None,
+    };
     let map = chi_square_map(&model, &observed, &MapSettings::defaults()).unwrap();
-    assert_eq!((map.thresholds.one_sigma, map.thresholds.two_sigma), (2.30, 6.18), "MODEL.md section 9 default");
+    assert_eq!(
+        (map.thresholds.one_sigma, map.thresholds.two_sigma),
+        (2.30, 6.18),
+        "MODEL.md section 9 default"
+    );
     let split = map.degeneracies(SigmaLevel::One);
-    assert!(!split.is_empty(), "a split 1-sigma region: {:?}", map.allowed);
-    let (r_w, r_co) = (first_freeze_out_au(&model, Species::H2O), first_freeze_out_au(&model, Species::CO));
+    assert!(
+        !split.is_empty(),
+        "a split 1-sigma region: {:?}",
+        map.allowed
+    );
+    let (r_w, r_co) = (
+        first_freeze_out_au(&model, Species::H2O),
+        first_freeze_out_au(&model, Species::CO),
+    );
     for d in &split {
         let text = d.text();
-        assert!(text.contains(" radius ranges give the same C/O within 1 sigma: "), "{text}");
+        assert!(
+            text.contains(" radius ranges give the same C/O within 1 sigma: "),
+            "{text}"
+        );
         let (first, last) = (d.ranges[0], d.ranges[d.ranges.len() - 1]);
-        assert!(first.outer_edge_au < r_co && first.inner_edge_au < r_w, "an inner range reaching inside the water line ({r_w:.3} au): {text}");
-        assert!(last.inner_edge_au >= r_co / 1.05, "a range beyond the CO line ({r_co:.3} au): {text}");
+        assert!(
+            first.outer_edge_au < r_co && first.inner_edge_au < r_w,
+            "an inner range reaching inside the water line ({r_w:.3} au): {text}"
+        );
+        assert!(
+            last.inner_edge_au >= r_co / 1.05,
+            "a range beyond the CO line ({r_co:.3} au): {text}"
+        );
     }
     let summary = map.degeneracy_summary();
-    assert!(summary.iter().any(|s| s.starts_with("at 1 sigma, for solid-to-gas ")), "{summary:?}");
+    assert!(
+        summary
+            .iter()
+            .any(|s| s.starts_with("at 1 sigma, for solid-to-gas ")),
+        "{summary:?}"
+    );
     println!("{}", split[0].text());
     // With one fitted quantity the other convention gives the 1 and 4 thresholds, and a smaller region.
-    let s = MapSettings { convention: ConfidenceConvention::FittedQuantities, ..MapSettings::defaults() };
+    let s = MapSettings {
+        convention: ConfidenceConvention::FittedQuantities,
+        ..MapSettings::defaults()
+    };
     let narrow = chi_square_map(&model, &observed, &s).unwrap();
-    assert_eq!((narrow.thresholds.degrees_of_freedom, narrow.thresholds.one_sigma), (1, 1.0));
-    let count = |m: &nivalis_physics::planet::ChiSquareMap| m.rows.iter().filter(|r| r.within_1sigma).count();
-    assert!(count(&narrow) < count(&map), "{} < {}", count(&narrow), count(&map));
+    assert_eq!(
+        (
+            narrow.thresholds.degrees_of_freedom,
+            narrow.thresholds.one_sigma
+        ),
+        (1, 1.0)
+    );
+    let count = |m: &nivalis_physics::planet::ChiSquareMap| {
+        m.rows.iter().filter(|r| r.within_1sigma).count()
+    };
+    assert!(
+        count(&narrow) < count(&map),
+        "{} < {}",
+        count(&narrow),
+        count(&map)
+    );
 }
 
 #[test]
@@ -318,7 +547,11 @@ fn inverse_map_is_fast() {
     let observed = ObservedEnvelope {
         c_to_o: 0.7,
         c_to_o_sigma: 0.05,
-        metallicity: Some(ObservedMetallicity { tracer: MetallicityTracer::Carbon, dex: 0.2, sigma_dex: 0.1 }),
+        metallicity: Some(ObservedMetallicity {
+            tracer: MetallicityTracer::Carbon,
+            dex: 0.2,
+            sigma_dex: 0.1,
+        }),
     };
     let start = Instant::now();
     let map = chi_square_map(&model, &observed, &MapSettings::defaults()).unwrap();
@@ -341,7 +574,11 @@ fn anchoring_to_the_models_own_snowline_returns_the_original_parameter() {
     let cases = [
         (Species::CO, AnchorParameter::FlaringAngle, 0.03),
         (Species::H2O, AnchorParameter::FlaringAngle, 0.08),
-        (Species::CO2, AnchorParameter::MidplaneTemperatureScale, 1.25),
+        (
+            Species::CO2,
+            AnchorParameter::MidplaneTemperatureScale,
+            1.25,
+        ),
         (Species::H2O, AnchorParameter::MidplaneTemperatureScale, 0.8),
     ];
     for (species, parameter, value) in cases {
@@ -349,20 +586,47 @@ fn anchoring_to_the_models_own_snowline_returns_the_original_parameter() {
         let r = full_run_first_freeze_out_au(&base, species);
         // Start from the defaults, so the solver has to find `value`.
         let start = small_default();
-        let a = anchor_to_snowline(&start, &AnchorRequest::new(species, r, 0.1 * r, parameter)).unwrap();
-        let what = format!("{} snowline at {r:.4} au via {}", species.key(), parameter.name());
+        let a = anchor_to_snowline(&start, &AnchorRequest::new(species, r, 0.1 * r, parameter))
+            .unwrap();
+        let what = format!(
+            "{} snowline at {r:.4} au via {}",
+            species.key(),
+            parameter.name()
+        );
         assert_rel(a.value, value, 1e-9, &format!("anchored value, {what}"));
-        assert_rel(a.achieved_radius_au, r, 1e-9, &format!("achieved radius, {what}"));
+        assert_rel(
+            a.achieved_radius_au,
+            r,
+            1e-9,
+            &format!("achieved radius, {what}"),
+        );
         assert_eq!(parameter.value(&a.parameters), a.value);
         let full = full_run_first_freeze_out_au(&a.parameters, species);
-        assert_rel(full, a.achieved_radius_au, 1e-12, &format!("full run with the anchored parameters, {what}"));
+        assert_rel(
+            full,
+            a.achieved_radius_au,
+            1e-12,
+            &format!("full run with the anchored parameters, {what}"),
+        );
         // A warmer disk (larger angle or scale) pushes the snowline outward, so the +-sigma radii map to
         // values on either side (C: physical expectation).
-        let (lo, hi) = (a.at_minus_sigma.value.unwrap(), a.at_plus_sigma.value.unwrap());
-        assert!(lo < a.value && a.value < hi, "{what}: {lo} < {} < {hi}", a.value);
+        let (lo, hi) = (
+            a.at_minus_sigma.value.unwrap(),
+            a.at_plus_sigma.value.unwrap(),
+        );
+        assert!(
+            lo < a.value && a.value < hi,
+            "{what}: {lo} < {} < {hi}",
+            a.value
+        );
         for end in [&a.at_minus_sigma, &a.at_plus_sigma] {
             let p = parameter.with_value(&start, end.value.unwrap());
-            assert_rel(full_run_first_freeze_out_au(&p, species), end.radius_au, 1e-9, &format!("sigma end, {what}"));
+            assert_rel(
+                full_run_first_freeze_out_au(&p, species),
+                end.radius_au,
+                1e-9,
+                &format!("sigma end, {what}"),
+            );
         }
         println!("{what}: {} evaluations", a.snowline_evaluations);
     }
@@ -375,12 +639,28 @@ fn anchoring_in_the_step_model_and_out_of_reach() {
     let p = step_model_5a();
     let scaled = AnchorParameter::MidplaneTemperatureScale.with_value(&p, 1.4);
     let r = full_run_first_freeze_out_au(&scaled, Species::CO2);
-    let a = anchor_to_snowline(&p, &AnchorRequest::new(Species::CO2, r, 0.0, AnchorParameter::MidplaneTemperatureScale)).unwrap();
+    let a = anchor_to_snowline(
+        &p,
+        &AnchorRequest::new(
+            Species::CO2,
+            r,
+            0.0,
+            AnchorParameter::MidplaneTemperatureScale,
+        ),
+    )
+    .unwrap();
     assert_rel(a.value, 1.4, 1e-9, "step-model temperature scale");
-    assert_eq!(first_freeze_out_snowline(&a.parameters, Species::CO2).unwrap(), SnowlinePosition::Radius(a.achieved_radius_au));
+    assert_eq!(
+        first_freeze_out_snowline(&a.parameters, Species::CO2).unwrap(),
+        SnowlinePosition::Radius(a.achieved_radius_au)
+    );
     // A radius no flaring angle in (0, 1] reaches: the water line cannot move to 400 au around a 1 Lsun star
     // (T_irr at 400 au is at most 278 K / 20 x (1/0.5)^(1/4) = 17 K for phi = 1, below 135 K).
-    let err = anchor_to_snowline(&p, &AnchorRequest::new(Species::H2O, 400.0, 0.0, AnchorParameter::FlaringAngle)).unwrap_err();
+    let err = anchor_to_snowline(
+        &p,
+        &AnchorRequest::new(Species::H2O, 400.0, 0.0, AnchorParameter::FlaringAngle),
+    )
+    .unwrap_err();
     let text = err.to_string();
     assert!(text.starts_with("disk.flaring_angle: no disk.flaring_angle in [0.0001, 1] puts the H2O snowline at 400 au; the range puts it between "), "{text}");
 }

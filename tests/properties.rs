@@ -13,7 +13,8 @@
 //! others. Run with `cargo test -p nivalis-tests --test properties`.
 
 use nivalis_physics::params::{
-    AbundanceReference, DesorptionModel, Element, ModelParameters, Opacity, VerticalTemperature, ELEMENT_COUNT,
+    AbundanceReference, DesorptionModel, Element, ModelParameters, Opacity, VerticalTemperature,
+    ELEMENT_COUNT,
 };
 use nivalis_physics::units::AU_CM;
 use nivalis_physics::{BindingEnergySet, CrossingDirection, Model, PhysicsError, Species};
@@ -29,13 +30,22 @@ const SEED: u64 = 0x006e_6976_616c_6973;
 
 fn runner() -> TestRunner {
     let base = Config::default();
-    let cases = if std::env::var_os("PROPTEST_CASES").is_some() { base.cases } else { CASES };
+    let cases = if std::env::var_os("PROPTEST_CASES").is_some() {
+        base.cases
+    } else {
+        CASES
+    };
     let rng_seed = match base.rng_seed {
         RngSeed::Random => RngSeed::Fixed(SEED),
         fixed => fixed,
     };
     // No persistence file: the seed is fixed, so a failure reproduces by rerunning.
-    TestRunner::new(Config { cases, rng_seed, failure_persistence: None, ..base })
+    TestRunner::new(Config {
+        cases,
+        rng_seed,
+        failure_persistence: None,
+        ..base
+    })
 }
 
 /// log10-uniform values in [10^lo, 10^hi].
@@ -49,7 +59,15 @@ fn log_uniform(lo: f64, hi: f64) -> impl Strategy<Value = f64> {
 /// 0.05-10 micron, dust-to-gas 1e-3-3e-2, zeta 1e-19-1e-16 s^-1, G_ISM 0-10, stellar FUV
 /// 1e5-1e8 G0 at 1 au, constant or Bell & Lin opacity, isothermal or two-layer columns.
 fn disks() -> impl Strategy<Value = ModelParameters> {
-    let star = (0.3f64..3.0, log_uniform(-1.0, 1.3), 3000f64..10000.0, -0.2f64..0.2, -0.2f64..0.2, log_uniform(5.0, 8.0), prop::bool::ANY);
+    let star = (
+        0.3f64..3.0,
+        log_uniform(-1.0, 1.3),
+        3000f64..10000.0,
+        -0.2f64..0.2,
+        -0.2f64..0.2,
+        log_uniform(5.0, 8.0),
+        prop::bool::ANY,
+    );
     let disk = (
         log_uniform(-3.0, -1.0),
         10f64..200.0,
@@ -60,19 +78,33 @@ fn disks() -> impl Strategy<Value = ModelParameters> {
         prop_oneof![Just(None), (0.1f64..10.0).prop_map(Some)],
         prop_oneof![
             Just(VerticalTemperature::Isothermal),
-            (1.0f64..2.0, 2.0f64..5.0, 1.0f64..3.0).prop_map(|(s, zq, d)| VerticalTemperature::TwoLayer {
-                superheating: s,
-                transition_scale_heights: zq,
-                delta: d
+            (1.0f64..2.0, 2.0f64..5.0, 1.0f64..3.0).prop_map(|(s, zq, d)| {
+                VerticalTemperature::TwoLayer {
+                    superheating: s,
+                    transition_scale_heights: zq,
+                    delta: d,
+                }
             })
         ],
         5f64..20.0,
         0.1f64..0.5,
     );
-    let dust = (log_uniform(-1.3, 1.0), log_uniform(-3.0, -1.5), log_uniform(-19.0, -16.0), 0f64..10.0);
+    let dust = (
+        log_uniform(-1.3, 1.0),
+        log_uniform(-3.0, -1.5),
+        log_uniform(-19.0, -16.0),
+        0f64..10.0,
+    );
     let ices = (
-        prop_oneof![Just(DesorptionModel::ZerothOrder), Just(DesorptionModel::FirstOrder), Just(DesorptionModel::FixedTemperature)],
-        prop_oneof![Just(BindingEnergySet::PureIces), Just(BindingEnergySet::OnWaterIce)],
+        prop_oneof![
+            Just(DesorptionModel::ZerothOrder),
+            Just(DesorptionModel::FirstOrder),
+            Just(DesorptionModel::FixedTemperature)
+        ],
+        prop_oneof![
+            Just(BindingEnergySet::PureIces),
+            Just(BindingEnergySet::OnWaterIce)
+        ],
         prop::bool::weighted(0.8),
         prop::bool::weighted(0.8),
     );
@@ -85,7 +117,11 @@ fn disks() -> impl Strategy<Value = ModelParameters> {
         p.star.offset_dex[Element::C as usize] = c_dex;
         p.star.offset_dex[Element::O as usize] = o_dex;
         p.star.fuv_1au_habing = fuv;
-        p.star.abundance_reference = if a21 { AbundanceReference::Asplund2021 } else { AbundanceReference::Asplund2009 };
+        p.star.abundance_reference = if a21 {
+            AbundanceReference::Asplund2021
+        } else {
+            AbundanceReference::Asplund2009
+        };
         let (m_disk, rc, gamma, mdot, phi, self_consistent, kappa, vertical, t_bg, r_in) = disk;
         p.disk.gas_mass_msun = m_disk;
         p.disk.characteristic_radius_au = rc;
@@ -94,7 +130,9 @@ fn disks() -> impl Strategy<Value = ModelParameters> {
         p.disk.flaring_angle = phi;
         p.disk.self_consistent_flaring = self_consistent;
         p.disk.opacity = match kappa {
-            Some(k) => Opacity::Constant { rosseland_cm2_per_g: k },
+            Some(k) => Opacity::Constant {
+                rosseland_cm2_per_g: k,
+            },
             None => Opacity::BellLin1994,
         };
         p.disk.vertical_temperature = vertical;
@@ -142,7 +180,10 @@ fn error_kind(e: &PhysicsError) -> &'static str {
 }
 
 /// Run every property over `CASES` random disks, then check most of them ran.
-fn run_properties(name: &str, property: impl Fn(&ModelParameters, &Model, &mut Tally) -> Result<(), TestCaseError>) -> Tally {
+fn run_properties(
+    name: &str,
+    property: impl Fn(&ModelParameters, &Model, &mut Tally) -> Result<(), TestCaseError>,
+) -> Tally {
     let tally = RefCell::new(Tally::default());
     let result = runner().run(&disks(), |p| {
         let model = match Model::run(&p) {
@@ -150,7 +191,10 @@ fn run_properties(name: &str, property: impl Fn(&ModelParameters, &Model, &mut T
             Err(e) => {
                 // Only legitimate refusals count as skips; anything else is a failure.
                 let kind = error_kind(&e);
-                prop_assert!(kind != "other" && kind != "no temperature solution", "unexpected error: {e}");
+                prop_assert!(
+                    kind != "other" && kind != "no temperature solution",
+                    "unexpected error: {e}"
+                );
                 *tally.borrow_mut().refused.entry(kind).or_default() += 1;
                 return Ok(());
             }
@@ -164,7 +208,12 @@ fn run_properties(name: &str, property: impl Fn(&ModelParameters, &Model, &mut T
         panic!("{name}: {e}");
     }
     let total = tally.ran + tally.refused.values().sum::<u32>();
-    assert!(tally.ran * 4 >= total * 3, "{name}: only {} of {total} cases ran: {:?}", tally.ran, tally.refused);
+    assert!(
+        tally.ran * 4 >= total * 3,
+        "{name}: only {} of {total} cases ran: {:?}",
+        tally.ran,
+        tally.refused
+    );
     tally
 }
 
@@ -178,20 +227,37 @@ fn temperatures_densities_and_ice_fractions_are_physical() {
         let st = &m.structure;
         for j in 0..st.radial_cells {
             let t_mid = st.midplane_temperature_k[j];
-            prop_assert!(t_mid.is_finite() && t_mid > 0.0, "T_mid = {t_mid} at cell {j}");
-            prop_assert!(st.accretion_temperature_k[j] >= 0.0 && st.irradiation_temperature_k[j] > 0.0);
+            prop_assert!(
+                t_mid.is_finite() && t_mid > 0.0,
+                "T_mid = {t_mid} at cell {j}"
+            );
+            prop_assert!(
+                st.accretion_temperature_k[j] >= 0.0 && st.irradiation_temperature_k[j] > 0.0
+            );
             for s in 0..st.samples_per_column {
                 let k = st.index(j, s);
                 let t = st.samples.temperature_k[k];
                 let rho = st.samples.density_g_cm3[k];
                 prop_assert!(t.is_finite() && t > 0.0, "T = {t} at cell {j} sample {s}");
-                prop_assert!(rho.is_finite() && rho > 0.0, "rho = {rho} at cell {j} sample {s}");
+                prop_assert!(
+                    rho.is_finite() && rho > 0.0,
+                    "rho = {rho} at cell {j} sample {s}"
+                );
                 if s > 0 {
                     let below = st.samples.density_g_cm3[k - 1];
-                    prop_assert!(t >= st.samples.temperature_k[k - 1], "T falls with height at cell {j} sample {s}");
-                    prop_assert!(rho <= below, "rho rises with height at cell {j} sample {s}: {below} -> {rho}");
+                    prop_assert!(
+                        t >= st.samples.temperature_k[k - 1],
+                        "T falls with height at cell {j} sample {s}"
+                    );
+                    prop_assert!(
+                        rho <= below,
+                        "rho rises with height at cell {j} sample {s}: {below} -> {rho}"
+                    );
                     if p.disk.vertical_temperature == VerticalTemperature::Isothermal {
-                        prop_assert!(rho < below, "isothermal rho not falling at cell {j} sample {s}");
+                        prop_assert!(
+                            rho < below,
+                            "isothermal rho not falling at cell {j} sample {s}"
+                        );
                     }
                 }
             }
@@ -215,15 +281,23 @@ fn elements_are_conserved_in_every_cell() {
         let stellar = m.carriers.stellar_per_h;
         for e in 0..ELEMENT_COUNT {
             let expected = 10f64.powf(log_eps[e] - 12.0 + p.star.offset_dex[e]);
-            prop_assert!(((stellar[e] - expected) / expected).abs() <= 1e-12, "stellar X/H of element {e}");
+            prop_assert!(
+                ((stellar[e] - expected) / expected).abs() <= 1e-12,
+                "stellar X/H of element {e}"
+            );
         }
         for k in 0..m.sample_count() {
             let ph = m.phases_at(k);
+            #[allow(clippy::needless_range_loop)] // e indexes four parallel arrays
             for e in 0..ELEMENT_COUNT {
                 prop_assert!(ph.gas[e] >= 0.0 && ph.ice[e] >= 0.0 && ph.refractory[e] >= 0.0);
                 let total = ph.gas[e] + ph.ice[e] + ph.refractory[e];
                 let rel = ((total - stellar[e]) / stellar[e]).abs();
-                prop_assert!(rel <= 1e-12, "element {} at sample {k}: relative error {rel:e}", Element::ALL[e].symbol());
+                prop_assert!(
+                    rel <= 1e-12,
+                    "element {} at sample {k}: relative error {rel:e}",
+                    Element::ALL[e].symbol()
+                );
             }
         }
         Ok(())
@@ -242,7 +316,11 @@ fn brighter(p: &ModelParameters, factor: f64) -> ModelParameters {
 /// The same disk accreting `factor` times faster (1e-9 Msun/yr if it did not accrete).
 fn faster_accretion(p: &ModelParameters, factor: f64) -> ModelParameters {
     let mut q = p.clone();
-    q.disk.accretion_rate_msun_per_yr = if p.disk.accretion_rate_msun_per_yr > 0.0 { p.disk.accretion_rate_msun_per_yr * factor } else { 1e-9 };
+    q.disk.accretion_rate_msun_per_yr = if p.disk.accretion_rate_msun_per_yr > 0.0 {
+        p.disk.accretion_rate_msun_per_yr * factor
+    } else {
+        1e-9
+    };
     q
 }
 
@@ -250,7 +328,10 @@ fn faster_accretion(p: &ModelParameters, factor: f64) -> ModelParameters {
 /// the first crossing, a freeze-out.
 fn water_line_cm(m: &Model) -> Option<f64> {
     let lines = m.snowlines(Species::H2O);
-    lines.first().filter(|s| s.direction == CrossingDirection::FreezeOut).map(|s| s.radius_cm)
+    lines
+        .first()
+        .filter(|s| s.direction == CrossingDirection::FreezeOut)
+        .map(|s| s.radius_cm)
 }
 
 #[test]
@@ -271,30 +352,62 @@ fn more_heating_never_cools_the_midplane_and_moves_the_water_line_out() {
             return Ok(());
         }
         tally.count("fixed-angle disks compared");
-        for (label, q) in [("luminosity x2", brighter(p, 2.0)), ("accretion x3", faster_accretion(p, 3.0))] {
+        for (label, q) in [
+            ("luminosity x2", brighter(p, 2.0)),
+            ("accretion x3", faster_accretion(p, 3.0)),
+        ] {
             let hot = match Model::run(&q) {
                 Ok(h) => h,
                 Err(e) => {
-                    prop_assert!(matches!(e, PhysicsError::FlaringNotConverged { .. }), "{label}: {e}");
+                    prop_assert!(
+                        matches!(e, PhysicsError::FlaringNotConverged { .. }),
+                        "{label}: {e}"
+                    );
                     tally.count("perturbed run refused");
                     continue;
                 }
             };
             let tol = 1e-12;
             for j in 0..m.structure.radial_cells {
-                let (t0, t1) = (m.structure.midplane_temperature_k[j], hot.structure.midplane_temperature_k[j]);
-                prop_assert!(t1 >= t0 * (1.0 - tol), "{label}: T_mid fell from {t0} to {t1} K at cell {j}");
+                let (t0, t1) = (
+                    m.structure.midplane_temperature_k[j],
+                    hot.structure.midplane_temperature_k[j],
+                );
+                prop_assert!(
+                    t1 >= t0 * (1.0 - tol),
+                    "{label}: T_mid fell from {t0} to {t1} K at cell {j}"
+                );
             }
             if let (Some(r0), Some(r1)) = (water_line_cm(m), water_line_cm(&hot)) {
-                prop_assert!(r1 >= r0 * (1.0 - 1e-9), "{label}: water line moved in from {} to {} au", r0 / AU_CM, r1 / AU_CM);
+                prop_assert!(
+                    r1 >= r0 * (1.0 - 1e-9),
+                    "{label}: water line moved in from {} to {} au",
+                    r0 / AU_CM,
+                    r1 / AU_CM
+                );
                 tally.count("water-line comparisons");
             }
         }
         Ok(())
     });
-    let compared = tally.counters.get("fixed-angle disks compared").copied().unwrap_or(0);
-    assert!(compared * 3 >= tally.ran * 2, "too few fixed-angle disks: {tally:?}");
-    assert!(tally.counters.get("water-line comparisons").copied().unwrap_or(0) >= compared, "{tally:?}");
+    let compared = tally
+        .counters
+        .get("fixed-angle disks compared")
+        .copied()
+        .unwrap_or(0);
+    assert!(
+        compared * 3 >= tally.ran * 2,
+        "too few fixed-angle disks: {tally:?}"
+    );
+    assert!(
+        tally
+            .counters
+            .get("water-line comparisons")
+            .copied()
+            .unwrap_or(0)
+            >= compared,
+        "{tally:?}"
+    );
 }
 
 #[test]
@@ -304,13 +417,19 @@ fn gas_between_co2_and_co_lines_is_carbon_rich_relative_to_the_star() {
     // carbon is still solid (below the soot line). Checked at every midplane cell strictly between the
     // innermost CO2 and CO freeze-out lines. Exact inequality.
     let tally = run_properties("gas C/O between CO2 and CO lines", |_, m, tally| {
-        let first = |s: Species| m.snowlines(s).into_iter().find(|l| l.direction == CrossingDirection::FreezeOut).map(|l| l.radius_cm);
+        let first = |s: Species| {
+            m.snowlines(s)
+                .into_iter()
+                .find(|l| l.direction == CrossingDirection::FreezeOut)
+                .map(|l| l.radius_cm)
+        };
         let (Some(r_co2), Some(r_co)) = (first(Species::CO2), first(Species::CO)) else {
             tally.count("no CO2 or CO line");
             return Ok(());
         };
         let st = &m.structure;
-        let total = m.carriers.stellar_per_h[Element::C as usize] / m.carriers.stellar_per_h[Element::O as usize];
+        let total = m.carriers.stellar_per_h[Element::C as usize]
+            / m.carriers.stellar_per_h[Element::O as usize];
         let profile = m.midplane_profile();
         for j in 0..st.radial_cells {
             let r = st.radius_cm[j];
@@ -319,7 +438,11 @@ fn gas_between_co2_and_co_lines_is_carbon_rich_relative_to_the_star() {
             }
             let gas = profile.c_to_o_gas[j];
             if total < 1.0 {
-                prop_assert!(gas.is_some_and(|g| g > total), "gas C/O {gas:?} not above total {total} at {} au", r / AU_CM);
+                prop_assert!(
+                    gas.is_some_and(|g| g > total),
+                    "gas C/O {gas:?} not above total {total} at {} au",
+                    r / AU_CM
+                );
                 tally.count("cells checked");
             } else {
                 tally.count("carbon-rich cells, not compared");
@@ -327,7 +450,10 @@ fn gas_between_co2_and_co_lines_is_carbon_rich_relative_to_the_star() {
         }
         Ok(())
     });
-    assert!(tally.counters.get("cells checked").copied().unwrap_or(0) >= tally.ran, "{tally:?}");
+    assert!(
+        tally.counters.get("cells checked").copied().unwrap_or(0) >= tally.ran,
+        "{tally:?}"
+    );
 }
 
 #[test]
@@ -347,17 +473,32 @@ fn step_model_snowlines_sit_at_the_condensation_temperature() {
             }
             let t_cond = m.species[s.index()].condensation_temperature_k;
             let t = &st.midplane_temperature_k;
-            let changes = (1..st.radial_cells).filter(|&j| (t[j - 1] < t_cond) != (t[j] < t_cond)).count();
+            let changes = (1..st.radial_cells)
+                .filter(|&j| (t[j - 1] < t_cond) != (t[j] < t_cond))
+                .count();
             let lines = m.snowlines(s);
-            prop_assert_eq!(lines.len(), changes, "{}: lines vs crossings of T_cond", s.key());
+            prop_assert_eq!(
+                lines.len(),
+                changes,
+                "{}: lines vs crossings of T_cond",
+                s.key()
+            );
             for a in &lines {
                 // ln T at the line, interpolated between the bracketing cells, is ln T_cond.
                 let j = st.radius_cm.partition_point(|&r| r <= a.radius_cm);
                 prop_assert!(j > 0 && j < st.radial_cells);
                 let (r0, r1) = (st.radius_cm[j - 1].ln(), st.radius_cm[j].ln());
-                let (t0, t1) = (st.midplane_temperature_k[j - 1].ln(), st.midplane_temperature_k[j].ln());
+                let (t0, t1) = (
+                    st.midplane_temperature_k[j - 1].ln(),
+                    st.midplane_temperature_k[j].ln(),
+                );
                 let ln_t = t0 + (a.radius_cm.ln() - r0) / (r1 - r0) * (t1 - t0);
-                prop_assert!((ln_t - t_cond.ln()).abs() <= 1e-9, "{}: T at line {} vs {t_cond}", s.key(), ln_t.exp());
+                prop_assert!(
+                    (ln_t - t_cond.ln()).abs() <= 1e-9,
+                    "{}: T at line {} vs {t_cond}",
+                    s.key(),
+                    ln_t.exp()
+                );
             }
         }
         Ok(())

@@ -40,13 +40,29 @@ fn hasegawa_herbst_leung_frequencies() {
         ("CH4", 1090.0, 16.0, 1.31e12),
     ] {
         let nu = vibration_frequency_s(e, mass_number * ATOMIC_MASS_UNIT_G);
-        assert_rel(nu, expected, 4e-3, &format!("nu0 of {name} (CHECK_VALUES 4b, D)"));
+        assert_rel(
+            nu,
+            expected,
+            4e-3,
+            &format!("nu0 of {name} (CHECK_VALUES 4b, D)"),
+        );
     }
     // The model's own species (pure-ice set, molecular masses from standard atomic weights)
     // differ from the integer masses by < 0.1 %, so nu by < 0.05 %: tolerance 5e-4.
     let model = Model::run(&small_default()).unwrap();
-    for (s, expected) in [(Species::H2O, 2.85e12), (Species::CO, 8.785e11), (Species::N2, 8.44e11), (Species::CO2, 1.216e12), (Species::CH4, 1.31e12)] {
-        assert_rel(model.species[s.index()].vibration_frequency_s, expected, 4e-3 + 5e-4, &format!("model nu0 of {}", s.key()));
+    for (s, expected) in [
+        (Species::H2O, 2.85e12),
+        (Species::CO, 8.785e11),
+        (Species::N2, 8.44e11),
+        (Species::CO2, 1.216e12),
+        (Species::CH4, 1.31e12),
+    ] {
+        assert_rel(
+            model.species[s.index()].vibration_frequency_s,
+            expected,
+            4e-3 + 5e-4,
+            &format!("model nu0 of {}", s.key()),
+        );
     }
 }
 
@@ -56,14 +72,26 @@ fn temperature_where_desorption_takes_a_year() {
     // T = E / ln(nu0 yr): H2O 125.7 K, CO 19.10 K, N2 17.66 K. The row's tolerance is 0.01 K, but
     // 125.7 is printed to 0.1 K; the unrounded arithmetic gives 125.651 K, so H2O is held to half a
     // unit of its printed digit (0.05 K) and CO, N2 (printed to 0.01 K) to 0.005 K.
-    for (name, e, mass_number, expected, tol) in
-        [("H2O", 5773.0, 18.0, 125.7, 0.05), ("CO", 855.0, 28.0, 19.10, 0.005), ("N2", 790.0, 28.0, 17.66, 0.005)]
-    {
+    for (name, e, mass_number, expected, tol) in [
+        ("H2O", 5773.0, 18.0, 125.7, 0.05),
+        ("CO", 855.0, 28.0, 19.10, 0.005),
+        ("N2", 790.0, 28.0, 17.66, 0.005),
+    ] {
         let nu = vibration_frequency_s(e, mass_number * ATOMIC_MASS_UNIT_G);
         let t = e / (nu * JULIAN_YEAR_S).ln();
-        assert_abs(t, expected, tol, &format!("T(k_des = 1/yr) of {name} (CHECK_VALUES 4b, D)"));
+        assert_abs(
+            t,
+            expected,
+            tol,
+            &format!("T(k_des = 1/yr) of {name} (CHECK_VALUES 4b, D)"),
+        );
         // And the rate at that temperature is one per year (first-order thermal desorption, HHL92).
-        assert_rel(nu * (-e / t).exp() * JULIAN_YEAR_S, 1.0, 1e-9, &format!("k_des(T) of {name}"));
+        assert_rel(
+            nu * (-e / t).exp() * JULIAN_YEAR_S,
+            1.0,
+            1e-9,
+            &format!("k_des(T) of {name}"),
+        );
     }
 }
 
@@ -84,40 +112,119 @@ fn step_model_zone_c_to_o() {
     // the inner zone is sampled between the soot line (500 K) and the water line.
     let p = step_model_5a();
     let model = Model::run(&p).unwrap();
-    for (s, t_cond) in [(Species::H2O, 135.0), (Species::CO2, 47.0), (Species::CO, 20.0)] {
-        assert_eq!(model.species[s.index()].condensation_temperature_k, t_cond, "Oberg 2011 T_cond of {}", s.key());
+    for (s, t_cond) in [
+        (Species::H2O, 135.0),
+        (Species::CO2, 47.0),
+        (Species::CO, 20.0),
+    ] {
+        assert_eq!(
+            model.species[s.index()].condensation_temperature_k,
+            t_cond,
+            "Oberg 2011 T_cond of {}",
+            s.key()
+        );
     }
     assert_eq!(p.composition.soot_line_k, 500.0);
     let st = &model.structure;
     let line = |s: Species| {
         let lines = model.snowlines(s);
-        assert_eq!(lines.len(), 1, "one {} snowline in the step model: {lines:?}", s.key());
+        assert_eq!(
+            lines.len(),
+            1,
+            "one {} snowline in the step model: {lines:?}",
+            s.key()
+        );
         lines[0].radius_cm / AU_CM
     };
     let (r_h2o, r_co2, r_co) = (line(Species::H2O), line(Species::CO2), line(Species::CO));
     // The soot line (T_mid = 500 K), found the same way as a step-model snowline.
-    let soot = crossings(&st.radius_cm, &st.midplane_temperature_k, 500.0, true, false);
-    let r_soot = soot.first().map_or(p.disk.inner_radius_au, |s| s.radius_cm / AU_CM);
-    assert!(r_soot < r_h2o && r_h2o < r_co2 && r_co2 < r_co, "line order: {r_soot} {r_h2o} {r_co2} {r_co}");
+    let soot = crossings(
+        &st.radius_cm,
+        &st.midplane_temperature_k,
+        500.0,
+        true,
+        false,
+    );
+    let r_soot = soot
+        .first()
+        .map_or(p.disk.inner_radius_au, |s| s.radius_cm / AU_CM);
+    assert!(
+        r_soot < r_h2o && r_h2o < r_co2 && r_co2 < r_co,
+        "line order: {r_soot} {r_h2o} {r_co2} {r_co}"
+    );
     let zones = [
-        ("inside H2O", (r_soot * r_h2o).sqrt(), Some(0.343), 1.374, 1.346e-4, 3.918e-4),
-        ("H2O-CO2", (r_h2o * r_co2).sqrt(), Some(0.796), 0.420, 1.346e-4, 1.692e-4),
-        ("CO2-CO", (r_co2 * r_co).sqrt(), Some(1.000), 0.434, 1.000e-4, 1.000e-4),
-        ("outside CO", (r_co * p.disk.outer_radius_au).sqrt(), None, 0.550, 0.0, 0.0),
+        (
+            "inside H2O",
+            (r_soot * r_h2o).sqrt(),
+            Some(0.343),
+            1.374,
+            1.346e-4,
+            3.918e-4,
+        ),
+        (
+            "H2O-CO2",
+            (r_h2o * r_co2).sqrt(),
+            Some(0.796),
+            0.420,
+            1.346e-4,
+            1.692e-4,
+        ),
+        (
+            "CO2-CO",
+            (r_co2 * r_co).sqrt(),
+            Some(1.000),
+            0.434,
+            1.000e-4,
+            1.000e-4,
+        ),
+        (
+            "outside CO",
+            (r_co * p.disk.outer_radius_au).sqrt(),
+            None,
+            0.550,
+            0.0,
+            0.0,
+        ),
     ];
     for (zone, r_au, gas, solid, gas_c_h, gas_o_h) in zones {
         let local = model.midplane_at(r_au).unwrap();
         let ratios = model.ratios(&local.phases);
-        let what = format!("zone {zone} at {r_au:.3} au (T = {:.1} K)", local.temperature_k);
-        println!("{what}: gas C/O {:?}, solid C/O {:?}", ratios.c_to_o_gas, ratios.c_to_o_solid);
+        let what = format!(
+            "zone {zone} at {r_au:.3} au (T = {:.1} K)",
+            local.temperature_k
+        );
+        println!(
+            "{what}: gas C/O {:?}, solid C/O {:?}",
+            ratios.c_to_o_gas, ratios.c_to_o_solid
+        );
         match gas {
-            Some(g) => assert_abs(ratios.c_to_o_gas.expect("defined gas C/O"), g, 5e-4, &format!("gas C/O, {what}")),
+            Some(g) => assert_abs(
+                ratios.c_to_o_gas.expect("defined gas C/O"),
+                g,
+                5e-4,
+                &format!("gas C/O, {what}"),
+            ),
             None => assert_eq!(ratios.c_to_o_gas, None, "gas C/O undefined, {what}"),
         }
-        assert_abs(ratios.c_to_o_solid.expect("defined solid C/O"), solid, 5e-4, &format!("solid C/O, {what}"));
+        assert_abs(
+            ratios.c_to_o_solid.expect("defined solid C/O"),
+            solid,
+            5e-4,
+            &format!("solid C/O, {what}"),
+        );
         // Gas C/H and O/H are printed to 4 digits: half a unit is 5e-8 per H.
-        assert_abs(local.phases.gas[C], gas_c_h, 5e-8, &format!("gas C/H, {what}"));
-        assert_abs(local.phases.gas[O], gas_o_h, 5e-8, &format!("gas O/H, {what}"));
+        assert_abs(
+            local.phases.gas[C],
+            gas_c_h,
+            5e-8,
+            &format!("gas C/H, {what}"),
+        );
+        assert_abs(
+            local.phases.gas[O],
+            gas_o_h,
+            5e-8,
+            &format!("gas O/H, {what}"),
+        );
     }
     // Every midplane cell whose temperature lies inside a zone (soot line to CO line) has that zone's
     // ratios; where CO is the only gas-phase carrier the gas C/O is 1 exactly (CHECK_VALUES 5a invariant).
@@ -138,15 +245,33 @@ fn step_model_zone_c_to_o() {
         };
         seen[zone] += 1;
         let (gas, solid) = (zones[zone].2, zones[zone].3);
-        let what = format!("cell at {:.3} au, T = {t:.1} K, zone {}", profile.radius_au[j], zones[zone].0);
+        let what = format!(
+            "cell at {:.3} au, T = {t:.1} K, zone {}",
+            profile.radius_au[j], zones[zone].0
+        );
         match gas {
-            Some(g) => assert_abs(profile.c_to_o_gas[j].unwrap(), g, 5e-4, &format!("gas C/O, {what}")),
+            Some(g) => assert_abs(
+                profile.c_to_o_gas[j].unwrap(),
+                g,
+                5e-4,
+                &format!("gas C/O, {what}"),
+            ),
             None => assert_eq!(profile.c_to_o_gas[j], None, "{what}"),
         }
         if zone == 2 {
-            assert_rel(profile.c_to_o_gas[j].unwrap(), 1.0, 1e-12, &format!("gas C/O = 1 exactly, {what}"));
+            assert_rel(
+                profile.c_to_o_gas[j].unwrap(),
+                1.0,
+                1e-12,
+                &format!("gas C/O = 1 exactly, {what}"),
+            );
         }
-        assert_abs(profile.c_to_o_solid[j].unwrap(), solid, 5e-4, &format!("solid C/O, {what}"));
+        assert_abs(
+            profile.c_to_o_solid[j].unwrap(),
+            solid,
+            5e-4,
+            &format!("solid C/O, {what}"),
+        );
     }
     assert!(seen.iter().all(|&n| n >= 3), "cells per zone: {seen:?}");
     // Total (gas + solid) C/O = 0.550 in every sample of the grid (printed digits), and the star's
@@ -156,20 +281,34 @@ fn step_model_zone_c_to_o() {
         let ph = model.phases_at(k);
         let total = (ph.gas[C] + ph.solid(Element::C)) / (ph.gas[O] + ph.solid(Element::O));
         assert_abs(total, 0.550, 5e-4, &format!("total C/O at sample {k}"));
-        assert_rel(total, x[C] / x[O], 1e-12, &format!("total C/O = stellar at sample {k}"));
+        assert_rel(
+            total,
+            x[C] / x[O],
+            1e-12,
+            &format!("total C/O = stellar at sample {k}"),
+        );
     }
 }
 
 /// Temperature [K] where species `i` is half frozen in the kinetic balance with only thermal
 /// desorption and adsorption (`p` must switch photodesorption and cosmic-ray desorption off), at
 /// n_H [cm^-3] with `abundance_per_h` molecules per H in total, found by bisection.
-fn half_frozen_temperature_k(p: &ModelParameters, species: Species, abundance_per_h: f64, hydrogen_density_cm3: f64) -> f64 {
+fn half_frozen_temperature_k(
+    p: &ModelParameters,
+    species: Species,
+    abundance_per_h: f64,
+    hydrogen_density_cm3: f64,
+) -> f64 {
     let table = SpeciesTable::built_in();
     let props = species_properties(p, &table);
     let balance = BalanceConstants::new(p, &props);
     let rho = hydrogen_density_cm3 * MASS_PER_HYDROGEN_NUCLEUS_AMU_H * HYDROGEN_MASS_G;
     let n = abundance_per_h * hydrogen_density_cm3;
-    let f = |t: f64| balance.solve(species.index(), n, t, rho, 0.0, 0.0).ice_fraction;
+    let f = |t: f64| {
+        balance
+            .solve(species.index(), n, t, rho, 0.0, 0.0)
+            .ice_fraction
+    };
     let (mut lo, mut hi) = (3.0, 1000.0);
     assert!(f(lo) > 0.5 && f(hi) < 0.5, "bracket");
     for _ in 0..200 {
@@ -210,16 +349,37 @@ fn hollenbach_freeze_out_temperature() {
             let n_gas = 0.5 * x[species.index()] * n_h;
             let speed = |t: f64| (8.0 * BOLTZMANN_ERG_PER_K * t / (PI * props.mass_g)).sqrt();
             let closed = props.binding_energy_k
-                / (4.0 * props.vibration_frequency_s * BINDING_SITES_PER_CM2 / (speed(ours) * n_gas)).ln();
-            assert_rel(ours, closed, 1e-9, &format!("closed form of our balance, {} at n_H = {n_h:e}", species.key()));
+                / (4.0 * props.vibration_frequency_s * BINDING_SITES_PER_CM2
+                    / (speed(ours) * n_gas))
+                    .ln();
+            assert_rel(
+                ours,
+                closed,
+                1e-9,
+                &format!(
+                    "closed form of our balance, {} at n_H = {n_h:e}",
+                    species.key()
+                ),
+            );
             // Hollenbach's T_f, with v_i evaluated at T_f itself (fixed-point iteration).
             let mut t_f = ours;
             for _ in 0..50 {
-                let arg = (BINDING_SITES_PER_CM2 / 1e15) * (props.vibration_frequency_s / 1e13) * (1.0 / n_gas) * (1e4 / speed(t_f));
+                let arg = (BINDING_SITES_PER_CM2 / 1e15)
+                    * (props.vibration_frequency_s / 1e13)
+                    * (1.0 / n_gas)
+                    * (1e4 / speed(t_f));
                 t_f = props.binding_energy_k / (57.0 + arg.ln());
             }
             println!("{}: n_H = {n_h:e} cm^-3: our half-freezing T = {ours:.3} K, Hollenbach T_f = {t_f:.3} K", species.key());
-            assert_abs(ours, t_f, tol, &format!("half-freezing T vs Hollenbach et al. 2009 T_f, {} at n_H = {n_h:e}", species.key()));
+            assert_abs(
+                ours,
+                t_f,
+                tol,
+                &format!(
+                    "half-freezing T vs Hollenbach et al. 2009 T_f, {} at n_H = {n_h:e}",
+                    species.key()
+                ),
+            );
         }
     }
 }
@@ -231,21 +391,44 @@ fn total_c_to_o_is_stellar_in_every_cell() {
     // quoted by Fortney 2012; CHECK_VALUES 2) and Asplund et al. 2021 10^(8.46-8.69) = 0.5888 (D).
     // Tolerance 1e-12 relative on the exact conversion; +-0.01 on the published rounded ratio.
     for (reference, exact, published) in [
-        (AbundanceReference::Asplund2009, f64::powf(10.0, 8.43 - 8.69), 0.55),
-        (AbundanceReference::Asplund2021, f64::powf(10.0, 8.46 - 8.69), 0.59),
+        (
+            AbundanceReference::Asplund2009,
+            f64::powf(10.0, 8.43 - 8.69),
+            0.55,
+        ),
+        (
+            AbundanceReference::Asplund2021,
+            f64::powf(10.0, 8.46 - 8.69),
+            0.59,
+        ),
     ] {
         let mut p = small_default();
         p.star.abundance_reference = reference;
         let model = Model::run(&p).unwrap();
-        assert_abs(exact, published, 0.01, &format!("C/O of {reference:?} (CHECK_VALUES 2)"));
+        assert_abs(
+            exact,
+            published,
+            0.01,
+            &format!("C/O of {reference:?} (CHECK_VALUES 2)"),
+        );
         for k in 0..model.sample_count() {
             let ph = model.phases_at(k);
             let total_c = ph.gas[C] + ph.ice[C] + ph.refractory[C];
             let total_o = ph.gas[O] + ph.ice[O] + ph.refractory[O];
-            assert_rel(total_c / total_o, exact, 1e-12, &format!("total C/O, {reference:?}, sample {k}"));
+            assert_rel(
+                total_c / total_o,
+                exact,
+                1e-12,
+                &format!("total C/O, {reference:?}, sample {k}"),
+            );
         }
     }
-    assert_rel(f64::powf(10.0, 8.43 - 8.69), 0.5495, 1e-4, "Asplund 2009 solar C/O = 0.5495 (MODEL.md section 1)");
+    assert_rel(
+        f64::powf(10.0, 8.43 - 8.69),
+        0.5495,
+        1e-4,
+        "Asplund 2009 solar C/O = 0.5495 (MODEL.md section 1)",
+    );
 }
 
 #[test]
@@ -256,12 +439,35 @@ fn snowline_ordering() {
         let mut p = small_default();
         p.ices.binding_energy_set = set;
         let model = Model::run(&p).unwrap();
-        let r = |s: Species| first_freeze_out_au(&model, s).unwrap_or_else(|| panic!("{set:?}: no {} snowline", s.key()));
-        let others = [Species::CO2, Species::CH4, Species::NH3, Species::CH3OH, Species::H2S, Species::HCN];
+        let r = |s: Species| {
+            first_freeze_out_au(&model, s)
+                .unwrap_or_else(|| panic!("{set:?}: no {} snowline", s.key()))
+        };
+        let others = [
+            Species::CO2,
+            Species::CH4,
+            Species::NH3,
+            Species::CH3OH,
+            Species::H2S,
+            Species::HCN,
+        ];
         for s in others {
-            assert!(r(Species::H2O) < r(s), "{set:?}: H2O line {} au not inside the {} line {} au", r(Species::H2O), s.key(), r(s));
+            assert!(
+                r(Species::H2O) < r(s),
+                "{set:?}: H2O line {} au not inside the {} line {} au",
+                r(Species::H2O),
+                s.key(),
+                r(s)
+            );
             for outer in [Species::N2, Species::CO] {
-                assert!(r(s) < r(outer), "{set:?}: {} line {} au not inside the {} line {} au", s.key(), r(s), outer.key(), r(outer));
+                assert!(
+                    r(s) < r(outer),
+                    "{set:?}: {} line {} au not inside the {} line {} au",
+                    s.key(),
+                    r(s),
+                    outer.key(),
+                    r(outer)
+                );
             }
         }
     }
@@ -279,15 +485,25 @@ fn solids_per_gas_mass_near_one_percent_outside_the_water_line() {
     let lines = model.snowlines(Species::H2O);
     assert_eq!(lines[0].direction, CrossingDirection::FreezeOut);
     let r_w = lines[0].radius_cm / AU_CM;
-    let r_end = lines.get(1).map_or(model.parameters.disk.outer_radius_au, |s| s.radius_cm / AU_CM);
+    let r_end = lines
+        .get(1)
+        .map_or(model.parameters.disk.outer_radius_au, |s| {
+            s.radius_cm / AU_CM
+        });
     let (a, b) = (1.2 * r_w, 0.9 * r_end);
     assert!(b > 10.0 * a, "a wide frozen zone: {a} to {b} au");
     for i in 0..10 {
         let r_au = a * (b / a).powf(i as f64 / 9.0);
         let local = model.midplane_at(r_au).unwrap();
-        assert!(local.ice_fraction[Species::H2O.index()] > 0.5, "water frozen at {r_au} au");
+        assert!(
+            local.ice_fraction[Species::H2O.index()] > 0.5,
+            "water frozen at {r_au} au"
+        );
         let ratio = local.solid_mass_per_h_amu / 1.4;
-        assert!((0.005..=0.02).contains(&ratio), "solid/gas mass ratio {ratio} at {r_au:.2} au is not within a factor 2 of 0.01");
+        assert!(
+            (0.005..=0.02).contains(&ratio),
+            "solid/gas mass ratio {ratio} at {r_au:.2} au is not within a factor 2 of 0.01"
+        );
     }
 }
 
@@ -300,18 +516,38 @@ fn binding_energy_ordering_and_overrides() {
         assert!(e(Species::N2) < e(Species::CO), "{set:?}: N2 < CO");
         assert!(e(Species::CO) < e(Species::CH4), "{set:?}: CO < CH4");
         assert!(e(Species::CH4) < e(Species::CO2), "{set:?}: CH4 < CO2");
-        assert!(e(Species::CO2) < e(Species::NH3) && e(Species::CO2) < e(Species::CH3OH), "{set:?}: CO2 < NH3, CH3OH");
-        assert!(e(Species::NH3) < e(Species::H2O) && e(Species::CH3OH) < e(Species::H2O), "{set:?}: NH3, CH3OH < H2O");
+        assert!(
+            e(Species::CO2) < e(Species::NH3) && e(Species::CO2) < e(Species::CH3OH),
+            "{set:?}: CO2 < NH3, CH3OH"
+        );
+        assert!(
+            e(Species::NH3) < e(Species::H2O) && e(Species::CH3OH) < e(Species::H2O),
+            "{set:?}: NH3, CH3OH < H2O"
+        );
     }
     // The default set's values as published (CHECK_VALUES 4a): H2O 5773 (Fraser et al. 2001, V),
     // CO 855 and N2 790 (Oberg et al. 2005, M), CO2 2575 (Sandford & Allamandola 1990, M). Exact.
     let model = Model::run(&small_default()).unwrap();
-    for (s, e) in [(Species::H2O, 5773.0), (Species::CO, 855.0), (Species::N2, 790.0), (Species::CO2, 2575.0)] {
-        assert_eq!(model.species[s.index()].binding_energy_k, e, "{} binding energy", s.key());
+    for (s, e) in [
+        (Species::H2O, 5773.0),
+        (Species::CO, 855.0),
+        (Species::N2, 790.0),
+        (Species::CO2, 2575.0),
+    ] {
+        assert_eq!(
+            model.species[s.index()].binding_energy_k,
+            e,
+            "{} binding energy",
+            s.key()
+        );
     }
     // Overriding a binding energy moves the snowline the right way: a more tightly bound ice survives
     // in warmer gas, so its line moves inward; a weaker one moves outward (MODEL.md section 7).
-    for (s, base) in [(Species::CO, 855.0), (Species::H2O, 5773.0), (Species::CO2, 2575.0)] {
+    for (s, base) in [
+        (Species::CO, 855.0),
+        (Species::H2O, 5773.0),
+        (Species::CO2, 2575.0),
+    ] {
         let base_r = first_freeze_out_au(&model, s).unwrap();
         for (factor, inward) in [(1.15, true), (0.85, false)] {
             let mut p = small_default();
@@ -319,7 +555,11 @@ fn binding_energy_ordering_and_overrides() {
             let m = Model::run(&p).unwrap();
             assert_eq!(m.species[s.index()].binding_energy_source, "override");
             let r = first_freeze_out_au(&m, s).unwrap();
-            assert!(if inward { r < base_r } else { r > base_r }, "{}: E x {factor} moved the line from {base_r} au to {r} au", s.key());
+            assert!(
+                if inward { r < base_r } else { r > base_r },
+                "{}: E x {factor} moved the line from {base_r} au to {r} au",
+                s.key()
+            );
         }
     }
 }

@@ -5,7 +5,11 @@ use nivalis_charts::*;
 use nivalis_physics::{Model, ModelParameters, Species};
 
 fn main() -> Result<(), Box<dyn std::error::Error>> {
-    let dir = std::path::PathBuf::from(std::env::args().nth(1).ok_or("usage: gallery <output folder>")?);
+    let dir = std::path::PathBuf::from(
+        std::env::args()
+            .nth(1)
+            .ok_or("usage: gallery <output folder>")?,
+    );
     std::fs::create_dir_all(&dir)?;
     let model = Model::run(&ModelParameters::defaults())?;
     let views = [
@@ -20,7 +24,10 @@ fn main() -> Result<(), Box<dyn std::error::Error>> {
         let mut figure = Figure::from_model(view, &model);
         if let Figure::CToOProfile(p) = figure {
             // A demo planet at 8 au allowed between 3 and 12 au (invented).
-            figure = Figure::CToOProfile(p.with_planet_radius_au(8.0).with_allowed_formation_radii_au(vec![(3.0, 12.0)]));
+            figure = Figure::CToOProfile(
+                p.with_planet_radius_au(8.0)
+                    .with_allowed_formation_radii_au(vec![(3.0, 12.0)]),
+            );
         }
         for (theme_name, theme) in [("light", Theme::light()), ("dark", Theme::dark())] {
             let svg = render_svg(&figure, &theme, FigureSize::single_column())?;
@@ -35,8 +42,12 @@ fn main() -> Result<(), Box<dyn std::error::Error>> {
         }
     }
     // An invented chi-square surface (demo data): a tilted paraboloid in log r and log ratio.
-    let radii: Vec<f64> = (0..40).map(|i| 10f64.powf(-1.0 + 3.5 * i as f64 / 39.0)).collect();
-    let ratios: Vec<f64> = (0..30).map(|k| 10f64.powf(-3.0 + 3.0 * k as f64 / 29.0)).collect();
+    let radii: Vec<f64> = (0..40)
+        .map(|i| 10f64.powf(-1.0 + 3.5 * i as f64 / 39.0))
+        .collect();
+    let ratios: Vec<f64> = (0..30)
+        .map(|k| 10f64.powf(-3.0 + 3.0 * k as f64 / 29.0))
+        .collect();
     let mut chi2 = Vec::new();
     for s in &ratios {
         for r in &radii {
@@ -44,12 +55,27 @@ fn main() -> Result<(), Box<dyn std::error::Error>> {
             chi2.push(4.0 + 6.0 * a * a + 4.0 * a * b + 5.0 * b * b);
         }
     }
-    let thresholds = [("1\u{03c3}".to_string(), 2.30), ("2\u{03c3}".to_string(), 6.18)];
-    let figure = Figure::Chi2(Chi2Data::new(&radii, &ratios, &chi2, &thresholds, Some((10f64.powf(1.2), 10f64.powf(-1.3)))));
+    let thresholds = [
+        ("1\u{03c3}".to_string(), 2.30),
+        ("2\u{03c3}".to_string(), 6.18),
+    ];
+    let figure = Figure::Chi2(Chi2Data::new(
+        &radii,
+        &ratios,
+        &chi2,
+        &thresholds,
+        Some((10f64.powf(1.2), 10f64.powf(-1.3))),
+    ));
     for (theme_name, theme) in [("light", Theme::light()), ("dark", Theme::dark())] {
-        std::fs::write(dir.join(format!("chi2_{theme_name}.svg")), render_svg(&figure, &theme, FigureSize::single_column())?)?;
+        std::fs::write(
+            dir.join(format!("chi2_{theme_name}.svg")),
+            render_svg(&figure, &theme, FigureSize::single_column())?,
+        )?;
         #[cfg(feature = "png")]
-        std::fs::write(dir.join(format!("chi2_{theme_name}.png")), render_png(&figure, &theme, FigureSize::single_column(), 300.0)?)?;
+        std::fs::write(
+            dir.join(format!("chi2_{theme_name}.png")),
+            render_png(&figure, &theme, FigureSize::single_column(), 300.0)?,
+        )?;
     }
     Ok(())
 }

@@ -38,7 +38,10 @@ pub fn marching_squares(
             if v.iter().any(|x| x.is_nan()) {
                 continue;
             }
-            let case = v.iter().enumerate().fold(0usize, |acc, (n, &x)| acc | (usize::from(x >= level) << n));
+            let case = v
+                .iter()
+                .enumerate()
+                .fold(0usize, |acc, (n, &x)| acc | (usize::from(x >= level) << n));
             if case == 0 || case == 15 {
                 continue;
             }
@@ -90,7 +93,10 @@ pub fn marching_squares(
 
 /// Join segments sharing edge points into polylines: open chains first (from
 /// their loose ends), then closed loops.
-fn join(segments: &[(EdgeKey, EdgeKey)], points: &HashMap<EdgeKey, (f64, f64)>) -> Vec<Vec<(f64, f64)>> {
+fn join(
+    segments: &[(EdgeKey, EdgeKey)],
+    points: &HashMap<EdgeKey, (f64, f64)>,
+) -> Vec<Vec<(f64, f64)>> {
     let mut at: HashMap<EdgeKey, Vec<usize>> = HashMap::new();
     for (n, (a, b)) in segments.iter().enumerate() {
         at.entry(*a).or_default().push(n);
@@ -98,7 +104,11 @@ fn join(segments: &[(EdgeKey, EdgeKey)], points: &HashMap<EdgeKey, (f64, f64)>) 
     }
     let mut used = vec![false; segments.len()];
     let mut lines = Vec::new();
-    let mut starts: Vec<EdgeKey> = at.iter().filter(|(_, s)| s.len() == 1).map(|(k, _)| *k).collect();
+    let mut starts: Vec<EdgeKey> = at
+        .iter()
+        .filter(|(_, s)| s.len() == 1)
+        .map(|(k, _)| *k)
+        .collect();
     starts.sort();
     let mut all: Vec<EdgeKey> = segments.iter().map(|s| s.0).collect();
     all.sort();
@@ -127,10 +137,16 @@ mod tests {
         // f = x^2 + y^2 on a 41 x 41 grid over [-2, 2]^2; the level 1 is the unit circle.
         let n = 41;
         let c = |i: usize, k: usize| (-2.0 + 4.0 * i as f64 / 40.0, -2.0 + 4.0 * k as f64 / 40.0);
-        let lines = marching_squares(n, n, c, |i, k| {
-            let (x, y) = c(i, k);
-            x * x + y * y
-        }, 1.0);
+        let lines = marching_squares(
+            n,
+            n,
+            c,
+            |i, k| {
+                let (x, y) = c(i, k);
+                x * x + y * y
+            },
+            1.0,
+        );
         assert_eq!(lines.len(), 1);
         let line = &lines[0];
         assert_eq!(line.first(), line.last(), "closed loop");
@@ -144,7 +160,13 @@ mod tests {
     fn nan_cells_break_the_contour() {
         // f = x on a 5 x 3 grid with the middle column undefined: the x = 0.5 line
         // survives only in cells without NaN corners.
-        let lines = marching_squares(5, 3, |i, k| (i as f64, k as f64), |i, _| if i == 2 { f64::NAN } else { i as f64 }, 0.5);
+        let lines = marching_squares(
+            5,
+            3,
+            |i, k| (i as f64, k as f64),
+            |i, _| if i == 2 { f64::NAN } else { i as f64 },
+            0.5,
+        );
         assert_eq!(lines.len(), 1);
         assert!(lines[0].iter().all(|p| (p.0 - 0.5).abs() < 1e-12));
     }

@@ -94,8 +94,17 @@ impl ProfileData {
                 }
             }
         }
-        let thresholds = vec![("1σ".to_string(), map.thresholds.one_sigma), ("2σ".to_string(), map.thresholds.two_sigma)];
-        Chi2Data::new(&map.radius_au, &map.solid_to_gas, &chi2, &thresholds, map.best.map(|b| (b.radius_au, b.solid_to_gas)))
+        let thresholds = vec![
+            ("1σ".to_string(), map.thresholds.one_sigma),
+            ("2σ".to_string(), map.thresholds.two_sigma),
+        ];
+        Chi2Data::new(
+            &map.radius_au,
+            &map.solid_to_gas,
+            &chi2,
+            &thresholds,
+            map.best.map(|b| (b.radius_au, b.solid_to_gas)),
+        )
     }
 
     pub(crate) fn validate(&self) -> Result<(), ChartError> {
@@ -148,15 +157,28 @@ impl TemperatureData {
                 }
             }
         }
-        let thresholds = vec![("1σ".to_string(), map.thresholds.one_sigma), ("2σ".to_string(), map.thresholds.two_sigma)];
-        Chi2Data::new(&map.radius_au, &map.solid_to_gas, &chi2, &thresholds, map.best.map(|b| (b.radius_au, b.solid_to_gas)))
+        let thresholds = vec![
+            ("1σ".to_string(), map.thresholds.one_sigma),
+            ("2σ".to_string(), map.thresholds.two_sigma),
+        ];
+        Chi2Data::new(
+            &map.radius_au,
+            &map.solid_to_gas,
+            &chi2,
+            &thresholds,
+            map.best.map(|b| (b.radius_au, b.solid_to_gas)),
+        )
     }
 
     pub(crate) fn validate(&self) -> Result<(), ChartError> {
         check_increasing_positive("radius_au", &self.radius_au)?;
         let n = self.radius_au.len();
         check_length("midplane_temperature_k", &self.midplane_temperature_k, n)?;
-        check_length("irradiation_temperature_k", &self.irradiation_temperature_k, n)?;
+        check_length(
+            "irradiation_temperature_k",
+            &self.irradiation_temperature_k,
+            n,
+        )?;
         check_length("accretion_temperature_k", &self.accretion_temperature_k, n)?;
         check_length("surface_density_g_cm2", &self.surface_density_g_cm2, n)
     }
@@ -200,7 +222,10 @@ impl AbundanceData {
                 }
             })
             .collect();
-        AbundanceData { radius_au: s.radius_cm.iter().map(|r| r / AU_CM).collect(), species }
+        AbundanceData {
+            radius_au: s.radius_cm.iter().map(|r| r / AU_CM).collect(),
+            species,
+        }
     }
 
     /// Build from the planet module's inverse map (its rows are radius-major;
@@ -215,8 +240,17 @@ impl AbundanceData {
                 }
             }
         }
-        let thresholds = vec![("1σ".to_string(), map.thresholds.one_sigma), ("2σ".to_string(), map.thresholds.two_sigma)];
-        Chi2Data::new(&map.radius_au, &map.solid_to_gas, &chi2, &thresholds, map.best.map(|b| (b.radius_au, b.solid_to_gas)))
+        let thresholds = vec![
+            ("1σ".to_string(), map.thresholds.one_sigma),
+            ("2σ".to_string(), map.thresholds.two_sigma),
+        ];
+        Chi2Data::new(
+            &map.radius_au,
+            &map.solid_to_gas,
+            &chi2,
+            &thresholds,
+            map.best.map(|b| (b.radius_au, b.solid_to_gas)),
+        )
     }
 
     pub(crate) fn validate(&self) -> Result<(), ChartError> {
@@ -255,7 +289,13 @@ pub struct Chi2Data {
 
 impl Chi2Data {
     /// Build from plain slices with the usual labels.
-    pub fn new(radius_au: &[f64], solid_to_gas: &[f64], chi2: &[f64], thresholds: &[(String, f64)], best: Option<(f64, f64)>) -> Chi2Data {
+    pub fn new(
+        radius_au: &[f64],
+        solid_to_gas: &[f64],
+        chi2: &[f64],
+        thresholds: &[(String, f64)],
+        best: Option<(f64, f64)>,
+    ) -> Chi2Data {
         Chi2Data {
             radius_au: radius_au.to_vec(),
             solid_to_gas: solid_to_gas.to_vec(),
@@ -279,13 +319,26 @@ impl Chi2Data {
                 }
             }
         }
-        let thresholds = vec![("1σ".to_string(), map.thresholds.one_sigma), ("2σ".to_string(), map.thresholds.two_sigma)];
-        Chi2Data::new(&map.radius_au, &map.solid_to_gas, &chi2, &thresholds, map.best.map(|b| (b.radius_au, b.solid_to_gas)))
+        let thresholds = vec![
+            ("1σ".to_string(), map.thresholds.one_sigma),
+            ("2σ".to_string(), map.thresholds.two_sigma),
+        ];
+        Chi2Data::new(
+            &map.radius_au,
+            &map.solid_to_gas,
+            &chi2,
+            &thresholds,
+            map.best.map(|b| (b.radius_au, b.solid_to_gas)),
+        )
     }
 
     pub(crate) fn validate(&self) -> Result<(), ChartError> {
         check_increasing_positive("radius_au", &self.radius_au)?;
         check_increasing_positive("solid_to_gas", &self.solid_to_gas)?;
-        check_length("chi2", &self.chi2, self.radius_au.len() * self.solid_to_gas.len())
+        check_length(
+            "chi2",
+            &self.chi2,
+            self.radius_au.len() * self.solid_to_gas.len(),
+        )
     }
 }

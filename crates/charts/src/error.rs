@@ -51,16 +51,37 @@ pub enum ChartError {
 impl fmt::Display for ChartError {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
         match self {
-            ChartError::EmptyData { field } => write!(f, "{field} must have at least one point, got none"),
-            ChartError::LengthMismatch { field, expected, got } => {
+            ChartError::EmptyData { field } => {
+                write!(f, "{field} must have at least one point, got none")
+            }
+            ChartError::LengthMismatch {
+                field,
+                expected,
+                got,
+            } => {
                 write!(f, "{field} must have {expected} entries, got {got}")
             }
-            ChartError::InvalidValue { field, value, allowed } => write!(f, "{field} must be {allowed}, got {value}"),
+            ChartError::InvalidValue {
+                field,
+                value,
+                allowed,
+            } => write!(f, "{field} must be {allowed}, got {value}"),
             ChartError::AreaTooSmall { width, height } => {
-                write!(f, "drawing area must be at least 60 x 45 px for the axes, got {width} x {height}")
+                write!(
+                    f,
+                    "drawing area must be at least 60 x 45 px for the axes, got {width} x {height}"
+                )
             }
-            ChartError::Drawing { message } => write!(f, "drawing failed: {}", message.to_lowercase().trim_end_matches('.')),
-            ChartError::Png { message } => write!(f, "png encoding failed: {}", message.to_lowercase().trim_end_matches('.')),
+            ChartError::Drawing { message } => write!(
+                f,
+                "drawing failed: {}",
+                message.to_lowercase().trim_end_matches('.')
+            ),
+            ChartError::Png { message } => write!(
+                f,
+                "png encoding failed: {}",
+                message.to_lowercase().trim_end_matches('.')
+            ),
         }
     }
 }
@@ -68,25 +89,44 @@ impl fmt::Display for ChartError {
 impl std::error::Error for ChartError {}
 
 /// Check that `values` has `expected` entries.
-pub(crate) fn check_length<T>(field: &'static str, values: &[T], expected: usize) -> Result<(), ChartError> {
+pub(crate) fn check_length<T>(
+    field: &'static str,
+    values: &[T],
+    expected: usize,
+) -> Result<(), ChartError> {
     if values.len() == expected {
         Ok(())
     } else {
-        Err(ChartError::LengthMismatch { field, expected, got: values.len() })
+        Err(ChartError::LengthMismatch {
+            field,
+            expected,
+            got: values.len(),
+        })
     }
 }
 
 /// Check that radii (or any log-axis coordinates) are positive, finite and increasing.
-pub(crate) fn check_increasing_positive(field: &'static str, values: &[f64]) -> Result<(), ChartError> {
+pub(crate) fn check_increasing_positive(
+    field: &'static str,
+    values: &[f64],
+) -> Result<(), ChartError> {
     if values.is_empty() {
         return Err(ChartError::EmptyData { field });
     }
     for (i, &v) in values.iter().enumerate() {
         if !(v.is_finite() && v > 0.0) {
-            return Err(ChartError::InvalidValue { field, value: v, allowed: "finite and > 0" });
+            return Err(ChartError::InvalidValue {
+                field,
+                value: v,
+                allowed: "finite and > 0",
+            });
         }
         if i > 0 && v <= values[i - 1] {
-            return Err(ChartError::InvalidValue { field, value: v, allowed: "strictly increasing" });
+            return Err(ChartError::InvalidValue {
+                field,
+                value: v,
+                allowed: "strictly increasing",
+            });
         }
     }
     Ok(())
@@ -98,9 +138,15 @@ mod tests {
 
     #[test]
     fn messages_are_one_lowercase_line() {
-        let e = ChartError::InvalidValue { field: "radius_au", value: -1.0, allowed: "finite and > 0" };
+        let e = ChartError::InvalidValue {
+            field: "radius_au",
+            value: -1.0,
+            allowed: "finite and > 0",
+        };
         assert_eq!(e.to_string(), "radius_au must be finite and > 0, got -1");
-        let e = ChartError::Drawing { message: "FontUnavailable.".into() };
+        let e = ChartError::Drawing {
+            message: "FontUnavailable.".into(),
+        };
         assert_eq!(e.to_string(), "drawing failed: fontunavailable");
     }
 }

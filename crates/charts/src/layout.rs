@@ -26,7 +26,12 @@ pub struct AxisTransform {
 impl AxisTransform {
     /// A new axis; `min < max`, and both > 0 for `Scale::Log10` (checked by the callers).
     pub fn new(min: f64, max: f64, scale: Scale, label: impl Into<String>) -> AxisTransform {
-        AxisTransform { min, max, scale, label: label.into() }
+        AxisTransform {
+            min,
+            max,
+            scale,
+            label: label.into(),
+        }
     }
 
     fn forward(&self, v: f64) -> Option<f64> {
@@ -47,7 +52,9 @@ impl AxisTransform {
     pub fn value_at_fraction(&self, t: f64) -> f64 {
         match self.scale {
             Scale::Linear => self.min + t * (self.max - self.min),
-            Scale::Log10 => 10f64.powf(self.min.log10() + t * (self.max.log10() - self.min.log10())),
+            Scale::Log10 => {
+                10f64.powf(self.min.log10() + t * (self.max.log10() - self.min.log10()))
+            }
         }
     }
 }
@@ -94,7 +101,10 @@ impl PanelLayout {
     pub fn pixel_of(&self, x: f64, y: f64) -> Option<(f64, f64)> {
         let tx = self.x.fraction(x)?;
         let ty = self.y.fraction(y)?;
-        Some((self.left as f64 + tx * self.width as f64, self.top as f64 + (1.0 - ty) * self.height as f64))
+        Some((
+            self.left as f64 + tx * self.width as f64,
+            self.top as f64 + (1.0 - ty) * self.height as f64,
+        ))
     }
 }
 
@@ -114,7 +124,9 @@ impl ChartLayout {
 
     /// The panel containing a pixel with the data coordinates there.
     pub fn panel_at(&self, px: f64, py: f64) -> Option<(&PanelLayout, f64, f64)> {
-        self.panels.iter().find_map(|p| p.data_at(px, py).map(|(x, y)| (p, x, y)))
+        self.panels
+            .iter()
+            .find_map(|p| p.data_at(px, py).map(|(x, y)| (p, x, y)))
     }
 
     /// The main (first) panel.
@@ -129,7 +141,10 @@ mod tests {
     use super::*;
 
     fn check(actual: f64, expected: f64, relative: f64) {
-        assert!((actual / expected - 1.0).abs() <= relative, "expected {expected} got {actual}");
+        assert!(
+            (actual / expected - 1.0).abs() <= relative,
+            "expected {expected} got {actual}"
+        );
     }
 
     #[test]

@@ -39,7 +39,9 @@ pub mod theme;
 pub mod views;
 
 pub use colour::{ColourMap, Rgba};
-pub use data::{model_snowlines, AbundanceData, Chi2Data, ProfileData, SpeciesAbundance, TemperatureData};
+pub use data::{
+    model_snowlines, AbundanceData, Chi2Data, ProfileData, SpeciesAbundance, TemperatureData,
+};
 pub use error::ChartError;
 pub use layout::{AxisTransform, ChartLayout, PanelLayout, Scale};
 pub use map::{rasterise_map, MapData, RasterImage};
@@ -47,10 +49,11 @@ pub use paint::typeset_formula;
 #[cfg(feature = "png")]
 pub use render::render_png;
 pub use render::{
-    draw_figure, render_svg, Figure, FigureSize, View, DEFAULT_ASPECT, DOUBLE_COLUMN_WIDTH_PT, SINGLE_COLUMN_WIDTH_PT,
+    draw_figure, render_svg, Figure, FigureSize, View, DEFAULT_ASPECT, DOUBLE_COLUMN_WIDTH_PT,
+    SINGLE_COLUMN_WIDTH_PT,
 };
 pub use theme::{LineDash, Marker, SeriesStyle, Theme};
 pub use views::{
-    draw_abundance_profiles, draw_c_to_o_map, draw_c_to_o_profile, draw_chi2_map, draw_ice_map, draw_temperature_profile,
-    map_layout, CellDrawing,
+    draw_abundance_profiles, draw_c_to_o_map, draw_c_to_o_profile, draw_chi2_map, draw_ice_map,
+    draw_temperature_profile, map_layout, CellDrawing,
 };

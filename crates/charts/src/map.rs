@@ -10,8 +10,8 @@
 //! (transparent). Undefined values (NaN) are drawn in the theme's neutral grey.
 
 use nivalis_physics::params::Element;
-use nivalis_physics::{Model, SnowSurface, Species};
 use nivalis_physics::units::AU_CM;
+use nivalis_physics::{Model, SnowSurface, Species};
 
 use crate::colour::{ColourMap, Rgba};
 use crate::contour::marching_squares;
@@ -67,7 +67,13 @@ impl RasterImage {
     pub fn to_rgb_over(&self, background: Rgba) -> Vec<u8> {
         let mut out = Vec::with_capacity(self.rgba.len() / 4 * 3);
         for p in self.rgba.chunks_exact(4) {
-            let c = Rgba { r: p[0], g: p[1], b: p[2], a: p[3] }.over(background);
+            let c = Rgba {
+                r: p[0],
+                g: p[1],
+                b: p[2],
+                a: p[3],
+            }
+            .over(background);
             out.extend_from_slice(&[c.r, c.g, c.b]);
         }
         out
@@ -75,7 +81,13 @@ impl RasterImage {
 }
 
 impl MapData {
-    fn from_model_values(model: &Model, values: Vec<f64>, value_label: String, value_range: (f64, f64), colour_map: ColourMap) -> MapData {
+    fn from_model_values(
+        model: &Model,
+        values: Vec<f64>,
+        value_label: String,
+        value_range: (f64, f64),
+        colour_map: ColourMap,
+    ) -> MapData {
         let st = &model.structure;
         let rows = st.samples_per_column;
         let mut z_over_r = Vec::with_capacity(values.len());
@@ -84,12 +96,19 @@ impl MapData {
                 z_over_r.push(st.samples.height_cm[st.index(j, s)] / st.radius_cm[j]);
             }
         }
-        let h_over_r: Vec<f64> = st.scale_height_cm.iter().zip(&st.radius_cm).map(|(h, r)| h / r).collect();
+        let h_over_r: Vec<f64> = st
+            .scale_height_cm
+            .iter()
+            .zip(&st.radius_cm)
+            .map(|(h, r)| h / r)
+            .collect();
         // Show up to four scale heights of the thickest column: the snow surfaces and the
         // 1-3 H lines sit below that, and the grid's 10 H top would squash them.
         let thickest = h_over_r.iter().copied().fold(0.0, f64::max);
         let grid_top = z_over_r.iter().copied().fold(0.0, f64::max);
-        let z_max = ((4.0 * thickest / 0.05).ceil() * 0.05).min(grid_top).max(1e-3);
+        let z_max = ((4.0 * thickest / 0.05).ceil() * 0.05)
+            .min(grid_top)
+            .max(1e-3);
         MapData {
             radius_au: st.radius_cm.iter().map(|r| r / AU_CM).collect(),
             rows,
@@ -113,9 +132,18 @@ impl MapData {
     pub fn ice_fraction(model: &Model, species: Species) -> MapData {
         let n = model.sample_count();
         let present = model.carriers.species_per_h[species.index()] > 0.0;
-        let values = (0..n).map(|k| if present { model.ice_fraction_at(species, k) } else { f64::NAN }).collect();
+        let values = (0..n)
+            .map(|k| {
+                if present {
+                    model.ice_fraction_at(species, k)
+                } else {
+                    f64::NAN
+                }
+            })
+            .collect();
         let label = format!("{} ice fraction", typeset_formula(species.key()));
-        let mut map = MapData::from_model_values(model, values, label, (0.0, 1.0), ColourMap::Viridis);
+        let mut map =
+            MapData::from_model_values(model, values, label, (0.0, 1.0), ColourMap::Viridis);
         map.contour_level = Some(0.5);
         map.contour_label = "f = 0.5".to_string();
         map
@@ -124,8 +152,21 @@ impl MapData {
     /// Gas C/O in every sample on a 0..2 scale, the star's C/O marked on the colour bar.
     pub fn gas_c_to_o(model: &Model) -> MapData {
         let n = model.sample_count();
-        let values = (0..n).map(|k| model.ratios(&model.phases_at(k)).c_to_o_gas.unwrap_or(f64::NAN)).collect();
-        let mut map = MapData::from_model_values(model, values, "gas C/O".to_string(), (0.0, 2.0), ColourMap::Cividis);
+        let values = (0..n)
+            .map(|k| {
+                model
+                    .ratios(&model.phases_at(k))
+                    .c_to_o_gas
+                    .unwrap_or(f64::NAN)
+            })
+            .collect();
+        let mut map = MapData::from_model_values(
+            model,
+            values,
+            "gas C/O".to_string(),
+            (0.0, 2.0),
+            ColourMap::Cividis,
+        );
         let x = &model.carriers.stellar_per_h;
         let star = x[Element::C as usize] / x[Element::O as usize];
         if star.is_finite() {
@@ -142,7 +183,9 @@ impl MapData {
         let mut current = Vec::new();
         for j in 0..st.radial_cells {
             match model.snow_surface(species, j) {
-                SnowSurface::Height(h) => current.push((st.radius_cm[j] / AU_CM, h / st.radius_cm[j])),
+                SnowSurface::Height(h) => {
+                    current.push((st.radius_cm[j] / AU_CM, h / st.radius_cm[j]))
+                }
                 SnowSurface::MidplaneNotFrozen | SnowSurface::AboveGrid => {
                     if current.len() > 1 {
                         lines.push(std::mem::take(&mut current));
@@ -166,19 +209,35 @@ impl MapData {
         check_length("z_over_r", &self.z_over_r, n)?;
         check_length("values", &self.values, n)?;
         if !self.scale_height_over_r.is_empty() {
-            check_length("scale_height_over_r", &self.scale_height_over_r, self.radius_au.len())?;
+            check_length(
+                "scale_height_over_r",
+                &self.scale_height_over_r,
+                self.radius_au.len(),
+            )?;
         }
         for &z in &self.z_over_r {
             if !z.is_finite() || z < 0.0 {
-                return Err(ChartError::InvalidValue { field: "z_over_r", value: z, allowed: "finite and >= 0" });
+                return Err(ChartError::InvalidValue {
+                    field: "z_over_r",
+                    value: z,
+                    allowed: "finite and >= 0",
+                });
             }
         }
         let (a, b) = self.value_range;
         if !(a.is_finite() && b.is_finite() && a < b) {
-            return Err(ChartError::InvalidValue { field: "value_range", value: b, allowed: "finite with min < max" });
+            return Err(ChartError::InvalidValue {
+                field: "value_range",
+                value: b,
+                allowed: "finite with min < max",
+            });
         }
         if !(self.z_over_r_max.is_finite() && self.z_over_r_max > 0.0) {
-            return Err(ChartError::InvalidValue { field: "z_over_r_max", value: self.z_over_r_max, allowed: "finite and > 0" });
+            return Err(ChartError::InvalidValue {
+                field: "z_over_r_max",
+                value: self.z_over_r_max,
+                allowed: "finite and > 0",
+            });
         }
         Ok(())
     }
@@ -230,7 +289,13 @@ impl MapData {
         let grey = [undefined.r, undefined.g, undefined.b, undefined.a];
         self.values
             .iter()
-            .map(|&v| if v.is_nan() { grey } else { lut[((v - a) * scale).round().clamp(0.0, 255.0) as usize] })
+            .map(|&v| {
+                if v.is_nan() {
+                    grey
+                } else {
+                    lut[((v - a) * scale).round().clamp(0.0, 255.0) as usize]
+                }
+            })
             .collect()
     }
 
@@ -248,7 +313,10 @@ impl MapData {
             while k < self.rows && bottom < self.z_over_r_max {
                 let c = colours[j * self.rows + k];
                 let mut end = k;
-                while end + 1 < self.rows && colours[j * self.rows + end + 1] == c && tops[end] < self.z_over_r_max {
+                while end + 1 < self.rows
+                    && colours[j * self.rows + end + 1] == c
+                    && tops[end] < self.z_over_r_max
+                {
                     end += 1;
                 }
                 let top = tops[end].min(self.z_over_r_max);
@@ -263,7 +331,9 @@ impl MapData {
     /// The value of the cell containing (r, z/r), the cell the raster shows there;
     /// `None` outside the grid or where the value is undefined (for hover readouts).
     pub fn value_at(&self, radius_au: f64, z_over_r: f64) -> Option<f64> {
-        if !(radius_au > 0.0 && radius_au.is_finite() && z_over_r.is_finite()) || self.validate().is_err() {
+        if !(radius_au > 0.0 && radius_au.is_finite() && z_over_r.is_finite())
+            || self.validate().is_err()
+        {
             return None;
         }
         let edges = self.column_edges_log();
@@ -271,14 +341,19 @@ impl MapData {
         if lx < edges[0] || lx > edges[edges.len() - 1] {
             return None;
         }
-        let j = edges[1..edges.len() - 1].partition_point(|&e| e <= lx).min(self.radius_au.len() - 1);
+        let j = edges[1..edges.len() - 1]
+            .partition_point(|&e| e <= lx)
+            .min(self.radius_au.len() - 1);
         let mut tops = Vec::with_capacity(self.rows);
         let bottom = self.row_edges(j, &mut tops);
         if z_over_r < bottom {
             return None;
         }
         let k = tops.partition_point(|&t| t < z_over_r);
-        let v = *self.values.get(j * self.rows + k).filter(|_| k < self.rows)?;
+        let v = *self
+            .values
+            .get(j * self.rows + k)
+            .filter(|_| k < self.rows)?;
         (!v.is_nan()).then_some(v)
     }
 
@@ -292,7 +367,10 @@ impl MapData {
             |j, k| self.values[j * rows + k],
             level,
         );
-        lines.into_iter().map(|l| l.into_iter().map(|(lr, z)| (10f64.powf(lr), z)).collect()).collect()
+        lines
+            .into_iter()
+            .map(|l| l.into_iter().map(|(lr, z)| (10f64.powf(lr), z)).collect())
+            .collect()
     }
 }
 
@@ -302,12 +380,21 @@ impl MapData {
 /// its centre); undefined cells are the theme's neutral grey, pixels above a
 /// column's top are transparent. One pass: per pixel column, the row pointer
 /// only moves up, so the cost is O(width x (height + rows)).
-pub fn rasterise_map(data: &MapData, theme: &Theme, width: u32, height: u32) -> Result<RasterImage, ChartError> {
+pub fn rasterise_map(
+    data: &MapData,
+    theme: &Theme,
+    width: u32,
+    height: u32,
+) -> Result<RasterImage, ChartError> {
     data.validate()?;
     let (w, h) = (width as usize, height as usize);
     let mut rgba = vec![0u8; w * h * 4];
     if w == 0 || h == 0 {
-        return Ok(RasterImage { width, height, rgba });
+        return Ok(RasterImage {
+            width,
+            height,
+            rgba,
+        });
     }
     let colours = data.cell_colours(theme.undefined);
     let edges = data.column_edges_log();
@@ -318,7 +405,8 @@ pub fn rasterise_map(data: &MapData, theme: &Theme, width: u32, height: u32) -> 
     for i in 0..w {
         let lx = lx0 + (i as f64 + 0.5) / w as f64 * (lx1 - lx0);
         // Edges are increasing: the column is the number of inner edges at or below lx.
-        let j = (edges[1..edges.len() - 1].partition_point(|&e| e <= lx)).min(data.radius_au.len() - 1);
+        let j =
+            (edges[1..edges.len() - 1].partition_point(|&e| e <= lx)).min(data.radius_au.len() - 1);
         if j != last_column {
             let bottom = data.row_edges(j, &mut tops);
             let mut k = 0;
@@ -327,7 +415,11 @@ pub fn rasterise_map(data: &MapData, theme: &Theme, width: u32, height: u32) -> 
                 while k < data.rows && zr > tops[k] {
                     k += 1;
                 }
-                column_pixels[p] = if k >= data.rows || zr < bottom { [0, 0, 0, 0] } else { colours[j * data.rows + k] };
+                column_pixels[p] = if k >= data.rows || zr < bottom {
+                    [0, 0, 0, 0]
+                } else {
+                    colours[j * data.rows + k]
+                };
             }
             last_column = j;
         }
@@ -336,7 +428,11 @@ pub fn rasterise_map(data: &MapData, theme: &Theme, width: u32, height: u32) -> 
             rgba[o..o + 4].copy_from_slice(c);
         }
     }
-    Ok(RasterImage { width, height, rgba })
+    Ok(RasterImage {
+        width,
+        height,
+        rgba,
+    })
 }
 
 #[cfg(test)]
@@ -365,7 +461,12 @@ mod tests {
 
     fn pixel(img: &RasterImage, x: u32, y: u32) -> [u8; 4] {
         let o = ((y * img.width + x) * 4) as usize;
-        [img.rgba[o], img.rgba[o + 1], img.rgba[o + 2], img.rgba[o + 3]]
+        [
+            img.rgba[o],
+            img.rgba[o + 1],
+            img.rgba[o + 2],
+            img.rgba[o + 3],
+        ]
     }
 
     #[test]
@@ -377,9 +478,21 @@ mod tests {
         let purple = ColourMap::Viridis.at(0.0);
         let yellow = ColourMap::Viridis.at(1.0);
         let u = theme.undefined;
-        assert_eq!(pixel(&img, 2, 29), [purple.r, purple.g, purple.b, 255], "bottom-left: value 0");
-        assert_eq!(pixel(&img, 2, 15), [yellow.r, yellow.g, yellow.b, 255], "z/r 0.145: value 1");
-        assert_eq!(pixel(&img, 2, 8), [u.r, u.g, u.b, u.a], "undefined cell is neutral grey");
+        assert_eq!(
+            pixel(&img, 2, 29),
+            [purple.r, purple.g, purple.b, 255],
+            "bottom-left: value 0"
+        );
+        assert_eq!(
+            pixel(&img, 2, 15),
+            [yellow.r, yellow.g, yellow.b, 255],
+            "z/r 0.145: value 1"
+        );
+        assert_eq!(
+            pixel(&img, 2, 8),
+            [u.r, u.g, u.b, u.a],
+            "undefined cell is neutral grey"
+        );
         assert_eq!(pixel(&img, 2, 1)[3], 0, "above the grid is transparent");
         assert_eq!(pixel(&img, 17, 29), [yellow.r, yellow.g, yellow.b, 255]);
         assert_eq!(pixel(&img, 17, 8), [purple.r, purple.g, purple.b, 255]);
@@ -403,7 +516,10 @@ mod tests {
         // Column 1: three distinct cells; column 2: the two value-1 cells merge.
         assert_eq!(rects.len(), 5);
         let merged = rects[3];
-        assert!((merged.2 - 0.0).abs() < 1e-12 && (merged.3 - 0.15).abs() < 1e-12, "{merged:?}");
+        assert!(
+            (merged.2 - 0.0).abs() < 1e-12 && (merged.3 - 0.15).abs() < 1e-12,
+            "{merged:?}"
+        );
     }
 
     #[test]
@@ -413,7 +529,10 @@ mod tests {
         assert!(!lines.is_empty());
         for line in &lines {
             for &(r, z) in line {
-                assert!((1.0..=10.0).contains(&r) && (0.0..=0.2).contains(&z), "{r} {z}");
+                assert!(
+                    (1.0..=10.0).contains(&r) && (0.0..=0.2).contains(&z),
+                    "{r} {z}"
+                );
             }
         }
     }

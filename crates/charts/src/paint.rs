@@ -51,7 +51,10 @@ impl Panel {
     pub fn px(&self, x: f64, y: f64) -> Option<(f64, f64)> {
         let tx = self.x.fraction(x)?;
         let ty = self.y.fraction(y)?;
-        Some((self.frame.left + tx * self.frame.width(), self.frame.bottom - ty * self.frame.height()))
+        Some((
+            self.frame.left + tx * self.frame.width(),
+            self.frame.bottom - ty * self.frame.height(),
+        ))
     }
 
     pub fn px_x(&self, x: f64) -> Option<f64> {
@@ -92,8 +95,12 @@ pub(crate) struct Painter<'a, DB: DrawingBackend> {
     pub ppp: f64,
 }
 
-fn drawing_error<E: std::error::Error + Send + Sync>(e: plotters::drawing::DrawingAreaErrorKind<E>) -> ChartError {
-    ChartError::Drawing { message: e.to_string() }
+fn drawing_error<E: std::error::Error + Send + Sync>(
+    e: plotters::drawing::DrawingAreaErrorKind<E>,
+) -> ChartError {
+    ChartError::Drawing {
+        message: e.to_string(),
+    }
 }
 
 fn pt(p: (f64, f64)) -> (i32, i32) {
@@ -120,8 +127,18 @@ impl<'a, DB: DrawingBackend> Painter<'a, DB> {
         (width_pt * self.ppp).round().max(1.0) as u32
     }
 
-    fn text_style(&self, size_pt: f64, colour: Rgba, pos: Pos, orientation: Orientation) -> TextStyle<'a> {
-        let font: FontDesc<'a> = (self.theme.font_family.as_str(), size_pt * PLOTTERS_FONT_SCALE * self.ppp).into();
+    fn text_style(
+        &self,
+        size_pt: f64,
+        colour: Rgba,
+        pos: Pos,
+        orientation: Orientation,
+    ) -> TextStyle<'a> {
+        let font: FontDesc<'a> = (
+            self.theme.font_family.as_str(),
+            size_pt * PLOTTERS_FONT_SCALE * self.ppp,
+        )
+            .into();
         let font = match orientation {
             Orientation::Horizontal => font,
             Orientation::Up => font.transform(FontTransform::Rotate270),
@@ -131,8 +148,16 @@ impl<'a, DB: DrawingBackend> Painter<'a, DB> {
 
     /// Width and height [px] of a horizontal text.
     pub fn text_size(&self, text: &str, size_pt: f64) -> Result<(f64, f64), ChartError> {
-        let style = self.text_style(size_pt, self.theme.foreground, Pos::new(HPos::Left, VPos::Top), Orientation::Horizontal);
-        let (w, h) = self.area.estimate_text_size(text, &style).map_err(drawing_error)?;
+        let style = self.text_style(
+            size_pt,
+            self.theme.foreground,
+            Pos::new(HPos::Left, VPos::Top),
+            Orientation::Horizontal,
+        );
+        let (w, h) = self
+            .area
+            .estimate_text_size(text, &style)
+            .map_err(drawing_error)?;
         // Some font back ends report a zero height; the em size is the floor.
         Ok((w as f64, (h as f64).max(size_pt * self.ppp)))
     }
@@ -150,25 +175,44 @@ impl<'a, DB: DrawingBackend> Painter<'a, DB> {
             return Ok(());
         }
         let style = self.text_style(size_pt, colour, Pos::new(anchor.0, anchor.1), orientation);
-        self.area.draw(&Text::new(text.to_string(), pt(at), style)).map_err(drawing_error)
+        self.area
+            .draw(&Text::new(text.to_string(), pt(at), style))
+            .map_err(drawing_error)
     }
 
     pub fn fill_rect(&self, frame: Frame, colour: Rgba) -> Result<(), ChartError> {
         if colour.a == 0 || frame.width() <= 0.0 || frame.height() <= 0.0 {
             return Ok(());
         }
-        let style = ShapeStyle { color: colour.to_plotters(), filled: true, stroke_width: 0 };
+        let style = ShapeStyle {
+            color: colour.to_plotters(),
+            filled: true,
+            stroke_width: 0,
+        };
         self.area
-            .draw(&Rectangle::new([pt((frame.left, frame.top)), pt((frame.right, frame.bottom))], style))
+            .draw(&Rectangle::new(
+                [pt((frame.left, frame.top)), pt((frame.right, frame.bottom))],
+                style,
+            ))
             .map_err(drawing_error)
     }
 
     /// A polyline of pixel points, solid or dashed, `width_pt` wide.
-    pub fn polyline(&self, points: &[(f64, f64)], colour: Rgba, width_pt: f64, dash: LineDash) -> Result<(), ChartError> {
+    pub fn polyline(
+        &self,
+        points: &[(f64, f64)],
+        colour: Rgba,
+        width_pt: f64,
+        dash: LineDash,
+    ) -> Result<(), ChartError> {
         if points.len() < 2 {
             return Ok(());
         }
-        let style = ShapeStyle { color: colour.to_plotters(), filled: false, stroke_width: self.stroke(width_pt) };
+        let style = ShapeStyle {
+            color: colour.to_plotters(),
+            filled: false,
+            stroke_width: self.stroke(width_pt),
+        };
         match dash.pattern() {
             None => self.draw_path(points, style),
             Some(pattern) => {
@@ -188,12 +232,20 @@ impl<'a, DB: DrawingBackend> Painter<'a, DB> {
             // A dot shorter than a pixel still shows as one pixel-long dash.
             ints.push((ints[0].0 + 1, ints[0].1));
         }
-        self.area.draw(&PathElement::new(ints, style)).map_err(drawing_error)
+        self.area
+            .draw(&PathElement::new(ints, style))
+            .map_err(drawing_error)
     }
 
     /// A data series on a panel: undefined points (`None`, NaN, non-positive on
     /// log axes) break the line; the line is clipped to the frame.
-    pub fn series(&self, panel: &Panel, xs: &[f64], ys: &[Option<f64>], style: &SeriesStyle) -> Result<(), ChartError> {
+    pub fn series(
+        &self,
+        panel: &Panel,
+        xs: &[f64],
+        ys: &[Option<f64>],
+        style: &SeriesStyle,
+    ) -> Result<(), ChartError> {
         let width = self.theme.line_width_pt * style.width_scale;
         let runs = defined_runs(panel, xs, ys);
         for run in &runs {
@@ -223,8 +275,16 @@ impl<'a, DB: DrawingBackend> Painter<'a, DB> {
     pub fn marker(&self, p: (f64, f64), marker: Marker, colour: Rgba) -> Result<(), ChartError> {
         let r = self.px(2.0);
         let stroke = self.stroke(self.theme.line_width_pt * 0.8);
-        let filled = ShapeStyle { color: colour.to_plotters(), filled: true, stroke_width: 1 };
-        let open = ShapeStyle { color: colour.to_plotters(), filled: false, stroke_width: stroke };
+        let filled = ShapeStyle {
+            color: colour.to_plotters(),
+            filled: true,
+            stroke_width: 1,
+        };
+        let open = ShapeStyle {
+            color: colour.to_plotters(),
+            filled: false,
+            stroke_width: stroke,
+        };
         let (x, y) = p;
         let closed = |pts: Vec<(f64, f64)>| {
             let mut pts = pts;
@@ -233,19 +293,37 @@ impl<'a, DB: DrawingBackend> Painter<'a, DB> {
         };
         match marker {
             Marker::None => Ok(()),
-            Marker::Circle => self.area.draw(&Circle::new(pt(p), r.round().max(1.0) as i32, filled)).map_err(drawing_error),
+            Marker::Circle => self
+                .area
+                .draw(&Circle::new(pt(p), r.round().max(1.0) as i32, filled))
+                .map_err(drawing_error),
             Marker::Triangle => self
                 .area
                 .draw(&Polygon::new(
-                    vec![pt((x, y - 1.15 * r)), pt((x + r, y + 0.6 * r)), pt((x - r, y + 0.6 * r))],
+                    vec![
+                        pt((x, y - 1.15 * r)),
+                        pt((x + r, y + 0.6 * r)),
+                        pt((x - r, y + 0.6 * r)),
+                    ],
                     filled,
                 ))
                 .map_err(drawing_error),
-            Marker::Square => {
-                self.draw_path(&closed(vec![(x - r, y - r), (x + r, y - r), (x + r, y + r), (x - r, y + r)]), open)
-            }
+            Marker::Square => self.draw_path(
+                &closed(vec![
+                    (x - r, y - r),
+                    (x + r, y - r),
+                    (x + r, y + r),
+                    (x - r, y + r),
+                ]),
+                open,
+            ),
             Marker::Diamond => self.draw_path(
-                &closed(vec![(x, y - 1.3 * r), (x + 1.3 * r, y), (x, y + 1.3 * r), (x - 1.3 * r, y)]),
+                &closed(vec![
+                    (x, y - 1.3 * r),
+                    (x + 1.3 * r, y),
+                    (x, y + 1.3 * r),
+                    (x - 1.3 * r, y),
+                ]),
                 open,
             ),
             Marker::Cross => {
@@ -261,7 +339,10 @@ impl<'a, DB: DrawingBackend> Painter<'a, DB> {
 }
 
 fn inside(frame: &Frame, p: (f64, f64)) -> bool {
-    p.0 >= frame.left - 0.5 && p.0 <= frame.right + 0.5 && p.1 >= frame.top - 0.5 && p.1 <= frame.bottom + 0.5
+    p.0 >= frame.left - 0.5
+        && p.0 <= frame.right + 0.5
+        && p.1 >= frame.top - 0.5
+        && p.1 <= frame.bottom + 0.5
 }
 
 /// Runs of consecutive defined points, in pixels.
@@ -294,7 +375,9 @@ pub(crate) fn clip_polyline(points: &[(f64, f64)], frame: &Frame) -> Vec<Vec<(f6
     for w in points.windows(2) {
         match clip_segment(w[0], w[1], frame) {
             Some((a, b)) => {
-                let continues = current.last().is_some_and(|&l| (l.0 - a.0).abs() < 1e-9 && (l.1 - a.1).abs() < 1e-9);
+                let continues = current
+                    .last()
+                    .is_some_and(|&l| (l.0 - a.0).abs() < 1e-9 && (l.1 - a.1).abs() < 1e-9);
                 if !continues {
                     if current.len() > 1 {
                         out.push(std::mem::take(&mut current));
@@ -322,7 +405,12 @@ fn clip_segment(a: (f64, f64), b: (f64, f64), f: &Frame) -> Option<((f64, f64), 
     let (dx, dy) = (b.0 - a.0, b.1 - a.1);
     let mut t0: f64 = 0.0;
     let mut t1: f64 = 1.0;
-    for (p, q) in [(-dx, a.0 - f.left), (dx, f.right - a.0), (-dy, a.1 - f.top), (dy, f.bottom - a.1)] {
+    for (p, q) in [
+        (-dx, a.0 - f.left),
+        (dx, f.right - a.0),
+        (-dy, a.1 - f.top),
+        (dy, f.bottom - a.1),
+    ] {
         if p == 0.0 {
             if q < 0.0 {
                 return None;
@@ -339,7 +427,10 @@ fn clip_segment(a: (f64, f64), b: (f64, f64), f: &Frame) -> Option<((f64, f64), 
     if t0 > t1 {
         return None;
     }
-    Some(((a.0 + t0 * dx, a.1 + t0 * dy), (a.0 + t1 * dx, a.1 + t1 * dy)))
+    Some((
+        (a.0 + t0 * dx, a.1 + t0 * dy),
+        (a.0 + t1 * dx, a.1 + t1 * dy),
+    ))
 }
 
 /// Split a polyline into the "on" pieces of a dash pattern (lengths in px),
@@ -356,7 +447,10 @@ pub(crate) fn dashes(points: &[(f64, f64)], pattern: &[f64; 4]) -> Vec<Vec<(f64,
         let mut s = 0.0;
         while length - s > left {
             s += left;
-            let p = (a.0 + (b.0 - a.0) * s / length, a.1 + (b.1 - a.1) * s / length);
+            let p = (
+                a.0 + (b.0 - a.0) * s / length,
+                a.1 + (b.1 - a.1) * s / length,
+            );
             if on {
                 current.push(p);
                 out.push(std::mem::take(&mut current));
@@ -401,7 +495,9 @@ fn within(v: f64, min: f64, max: f64) -> bool {
 fn log_ticks(min: f64, max: f64) -> Ticks {
     let lo = min.log10().floor() as i32;
     let hi = max.log10().ceil() as i32;
-    let decades: Vec<i32> = (lo..=hi).filter(|&k| within(10f64.powi(k), min, max)).collect();
+    let decades: Vec<i32> = (lo..=hi)
+        .filter(|&k| within(10f64.powi(k), min, max))
+        .collect();
     // Label every decade while there is room; thin to every 2nd or 3rd on long axes.
     let step = match decades.len() {
         0..=7 => 1,
@@ -415,7 +511,11 @@ fn log_ticks(min: f64, max: f64) -> Ticks {
         .collect();
     let mut minor = Vec::new();
     // On long axes the 2..9 minors would merge into a solid bar: keep only the unlabelled decades.
-    let multiples: &[u32] = if decades.len() > 6 { &[1] } else { &[1, 2, 3, 4, 5, 6, 7, 8, 9] };
+    let multiples: &[u32] = if decades.len() > 6 {
+        &[1]
+    } else {
+        &[1, 2, 3, 4, 5, 6, 7, 8, 9]
+    };
     for k in lo..=hi {
         for &m in multiples {
             let v = m as f64 * 10f64.powi(k);
@@ -449,7 +549,8 @@ fn linear_ticks(min: f64, max: f64) -> Ticks {
         .map(|m| m * magnitude)
         .find(|&s| s >= raw * 0.999)
         .unwrap_or(10.0 * magnitude);
-    let decimals = (-(step.log10().floor()) as i32).max(0) as usize + usize::from((step / magnitude - 2.5).abs() < 1e-9);
+    let decimals = (-(step.log10().floor()) as i32).max(0) as usize
+        + usize::from((step / magnitude - 2.5).abs() < 1e-9);
     let first = (min / step).ceil() as i64;
     let last = (max / step).floor() as i64;
     let mut major = Vec::new();
@@ -458,7 +559,12 @@ fn linear_ticks(min: f64, max: f64) -> Ticks {
         let v = if v.abs() < step * 1e-9 { 0.0 } else { v };
         major.push((v, format!("{:.*}", decimals, v).replace('-', "\u{2212}")));
     }
-    let minor_step = step / if (step / magnitude - 2.0).abs() < 1e-9 { 4.0 } else { 5.0 };
+    let minor_step = step
+        / if (step / magnitude - 2.0).abs() < 1e-9 {
+            4.0
+        } else {
+            5.0
+        };
     let mut minor = Vec::new();
     let first_minor = (min / minor_step).ceil() as i64;
     let last_minor = (max / minor_step).floor() as i64;
@@ -508,7 +614,13 @@ pub(crate) fn superscript(s: &str) -> String {
 pub fn typeset_formula(formula: &str) -> String {
     formula
         .chars()
-        .map(|c| if c.is_ascii_digit() { char::from_u32(0x2080 + (c as u32 - '0' as u32)).unwrap_or(c) } else { c })
+        .map(|c| {
+            if c.is_ascii_digit() {
+                char::from_u32(0x2080 + (c as u32 - '0' as u32)).unwrap_or(c)
+            } else {
+                c
+            }
+        })
         .collect()
 }
 
@@ -522,7 +634,11 @@ pub(crate) struct AxisOptions {
 }
 
 impl AxisOptions {
-    pub const FULL: AxisOptions = AxisOptions { x_labels: true, y_labels: true, skip_y_end_labels: (false, false) };
+    pub const FULL: AxisOptions = AxisOptions {
+        x_labels: true,
+        y_labels: true,
+        skip_y_end_labels: (false, false),
+    };
 }
 
 impl<'a, DB: DrawingBackend> Painter<'a, DB> {
@@ -557,12 +673,22 @@ impl<'a, DB: DrawingBackend> Painter<'a, DB> {
         let w = self.theme.axis_width_pt * 0.7;
         for (v, _) in ticks(&panel.x).major {
             if let Some(x) = panel.px_x(v) {
-                self.polyline(&[(x, f.top), (x, f.bottom)], self.theme.grid, w, LineDash::Solid)?;
+                self.polyline(
+                    &[(x, f.top), (x, f.bottom)],
+                    self.theme.grid,
+                    w,
+                    LineDash::Solid,
+                )?;
             }
         }
         for (v, _) in ticks(&panel.y).major {
             if let Some(y) = panel.px_y(v) {
-                self.polyline(&[(f.left, y), (f.right, y)], self.theme.grid, w, LineDash::Solid)?;
+                self.polyline(
+                    &[(f.left, y), (f.right, y)],
+                    self.theme.grid,
+                    w,
+                    LineDash::Solid,
+                )?;
             }
         }
         Ok(())
@@ -578,30 +704,76 @@ impl<'a, DB: DrawingBackend> Painter<'a, DB> {
         let yt = ticks(&panel.y);
         for (v, _) in &xt.major {
             if let Some(x) = panel.px_x(*v) {
-                self.polyline(&[(x, f.bottom), (x, f.bottom - major_len)], fg, w, LineDash::Solid)?;
-                self.polyline(&[(x, f.top), (x, f.top + major_len)], fg, w, LineDash::Solid)?;
+                self.polyline(
+                    &[(x, f.bottom), (x, f.bottom - major_len)],
+                    fg,
+                    w,
+                    LineDash::Solid,
+                )?;
+                self.polyline(
+                    &[(x, f.top), (x, f.top + major_len)],
+                    fg,
+                    w,
+                    LineDash::Solid,
+                )?;
             }
         }
         for v in &xt.minor {
             if let Some(x) = panel.px_x(*v) {
-                self.polyline(&[(x, f.bottom), (x, f.bottom - minor_len)], fg, w, LineDash::Solid)?;
-                self.polyline(&[(x, f.top), (x, f.top + minor_len)], fg, w, LineDash::Solid)?;
+                self.polyline(
+                    &[(x, f.bottom), (x, f.bottom - minor_len)],
+                    fg,
+                    w,
+                    LineDash::Solid,
+                )?;
+                self.polyline(
+                    &[(x, f.top), (x, f.top + minor_len)],
+                    fg,
+                    w,
+                    LineDash::Solid,
+                )?;
             }
         }
         for (v, _) in &yt.major {
             if let Some(y) = panel.px_y(*v) {
-                self.polyline(&[(f.left, y), (f.left + major_len, y)], fg, w, LineDash::Solid)?;
-                self.polyline(&[(f.right, y), (f.right - major_len, y)], fg, w, LineDash::Solid)?;
+                self.polyline(
+                    &[(f.left, y), (f.left + major_len, y)],
+                    fg,
+                    w,
+                    LineDash::Solid,
+                )?;
+                self.polyline(
+                    &[(f.right, y), (f.right - major_len, y)],
+                    fg,
+                    w,
+                    LineDash::Solid,
+                )?;
             }
         }
         for v in &yt.minor {
             if let Some(y) = panel.px_y(*v) {
-                self.polyline(&[(f.left, y), (f.left + minor_len, y)], fg, w, LineDash::Solid)?;
-                self.polyline(&[(f.right, y), (f.right - minor_len, y)], fg, w, LineDash::Solid)?;
+                self.polyline(
+                    &[(f.left, y), (f.left + minor_len, y)],
+                    fg,
+                    w,
+                    LineDash::Solid,
+                )?;
+                self.polyline(
+                    &[(f.right, y), (f.right - minor_len, y)],
+                    fg,
+                    w,
+                    LineDash::Solid,
+                )?;
             }
         }
         self.polyline(
-            &[(f.left, f.top), (f.right, f.top), (f.right, f.bottom), (f.left, f.bottom), (f.left, f.top)],
+            &[
+                (f.left, f.top),
+                (f.right, f.top),
+                (f.right, f.bottom),
+                (f.left, f.bottom),
+                (f.left, f.top),
+            ],
             fg,
             w,
             LineDash::Solid,
@@ -612,13 +784,27 @@ impl<'a, DB: DrawingBackend> Painter<'a, DB> {
             let mut tick_h: f64 = 0.0;
             for (v, label) in &xt.major {
                 if let Some(x) = panel.px_x(*v) {
-                    self.text(label, (x, f.bottom + gap), tick_pt, fg, (HPos::Center, VPos::Top), Orientation::Horizontal)?;
+                    self.text(
+                        label,
+                        (x, f.bottom + gap),
+                        tick_pt,
+                        fg,
+                        (HPos::Center, VPos::Top),
+                        Orientation::Horizontal,
+                    )?;
                     tick_h = tick_h.max(self.text_size(label, tick_pt)?.1);
                 }
             }
             let y = f.bottom + gap + tick_h + self.px(1.5);
             let x = 0.5 * (f.left + f.right);
-            self.text(&panel.x.label, (x, y), self.theme.label_font_pt, fg, (HPos::Center, VPos::Top), Orientation::Horizontal)?;
+            self.text(
+                &panel.x.label,
+                (x, y),
+                self.theme.label_font_pt,
+                fg,
+                (HPos::Center, VPos::Top),
+                Orientation::Horizontal,
+            )?;
         }
         if options.y_labels {
             let mut widest: f64 = 0.0;
@@ -626,17 +812,33 @@ impl<'a, DB: DrawingBackend> Painter<'a, DB> {
                 if let Some(y) = panel.px_y(*v) {
                     let at_bottom = (y - f.bottom).abs() < 1.0;
                     let at_top = (y - f.top).abs() < 1.0;
-                    if (at_bottom && options.skip_y_end_labels.0) || (at_top && options.skip_y_end_labels.1) {
+                    if (at_bottom && options.skip_y_end_labels.0)
+                        || (at_top && options.skip_y_end_labels.1)
+                    {
                         continue;
                     }
-                    self.text(label, (f.left - gap, y), tick_pt, fg, (HPos::Right, VPos::Center), Orientation::Horizontal)?;
+                    self.text(
+                        label,
+                        (f.left - gap, y),
+                        tick_pt,
+                        fg,
+                        (HPos::Right, VPos::Center),
+                        Orientation::Horizontal,
+                    )?;
                     widest = widest.max(self.text_size(label, tick_pt)?.0);
                 }
             }
             let (_, label_h) = self.text_size(&panel.y.label, self.theme.label_font_pt)?;
             let x = f.left - gap - widest - self.px(3.0) - 0.5 * label_h;
             let y = 0.5 * (f.top + f.bottom);
-            self.text(&panel.y.label, (x, y), self.theme.label_font_pt, fg, (HPos::Center, VPos::Center), Orientation::Up)?;
+            self.text(
+                &panel.y.label,
+                (x, y),
+                self.theme.label_font_pt,
+                fg,
+                (HPos::Center, VPos::Center),
+                Orientation::Up,
+            )?;
         }
         Ok(())
     }
@@ -645,7 +847,10 @@ impl<'a, DB: DrawingBackend> Painter<'a, DB> {
     pub fn legend_size(&self, entries: &[(String, SeriesStyle)]) -> Result<(f64, f64), ChartError> {
         let (text_w, row_h) = self.legend_metrics(entries)?;
         let pad = self.px(3.0);
-        Ok((pad + self.px(14.0) + self.px(3.0) + text_w + pad, pad + row_h * entries.len() as f64 + pad))
+        Ok((
+            pad + self.px(14.0) + self.px(3.0) + text_w + pad,
+            pad + row_h * entries.len() as f64 + pad,
+        ))
     }
 
     fn legend_metrics(&self, entries: &[(String, SeriesStyle)]) -> Result<(f64, f64), ChartError> {
@@ -660,7 +865,12 @@ impl<'a, DB: DrawingBackend> Painter<'a, DB> {
     }
 
     /// A legend in the corner of `frame` that covers the fewest of `occupied` points.
-    pub fn legend(&self, frame: &Frame, entries: &[(String, SeriesStyle)], occupied: &[(f64, f64)]) -> Result<(), ChartError> {
+    pub fn legend(
+        &self,
+        frame: &Frame,
+        entries: &[(String, SeriesStyle)],
+        occupied: &[(f64, f64)],
+    ) -> Result<(), ChartError> {
         if entries.is_empty() {
             return Ok(());
         }
@@ -675,9 +885,20 @@ impl<'a, DB: DrawingBackend> Painter<'a, DB> {
         let (x0, y0) = corners
             .iter()
             .copied()
-            .min_by_key(|&(x, y)| occupied.iter().filter(|p| p.0 >= x && p.0 <= x + box_w && p.1 >= y && p.1 <= y + box_h).count())
+            .min_by_key(|&(x, y)| {
+                occupied
+                    .iter()
+                    .filter(|p| p.0 >= x && p.0 <= x + box_w && p.1 >= y && p.1 <= y + box_h)
+                    .count()
+            })
             .unwrap_or(corners[0]);
-        self.legend_at((x0, y0), entries, self.theme.background.with_alpha(225), self.theme.grid, self.theme.foreground)
+        self.legend_at(
+            (x0, y0),
+            entries,
+            self.theme.background.with_alpha(225),
+            self.theme.grid,
+            self.theme.foreground,
+        )
     }
 
     /// A legend box with its top-left corner at `at`.
@@ -694,10 +915,21 @@ impl<'a, DB: DrawingBackend> Painter<'a, DB> {
         let pad = self.px(3.0);
         let sample = self.px(14.0);
         let (x0, y0) = at;
-        let b = Frame { left: x0, top: y0, right: x0 + box_w, bottom: y0 + box_h };
+        let b = Frame {
+            left: x0,
+            top: y0,
+            right: x0 + box_w,
+            bottom: y0 + box_h,
+        };
         self.fill_rect(b, fill)?;
         self.polyline(
-            &[(b.left, b.top), (b.right, b.top), (b.right, b.bottom), (b.left, b.bottom), (b.left, b.top)],
+            &[
+                (b.left, b.top),
+                (b.right, b.top),
+                (b.right, b.bottom),
+                (b.left, b.bottom),
+                (b.left, b.top),
+            ],
             border,
             self.theme.axis_width_pt,
             LineDash::Solid,
@@ -705,12 +937,24 @@ impl<'a, DB: DrawingBackend> Painter<'a, DB> {
         for (i, (label, style)) in entries.iter().enumerate() {
             let y = y0 + pad + row_h * (i as f64 + 0.5);
             let (xa, xb) = (x0 + pad, x0 + pad + sample);
-            self.polyline(&[(xa, y), (xb, y)], style.colour, self.theme.line_width_pt * style.width_scale, style.dash)?;
+            self.polyline(
+                &[(xa, y), (xb, y)],
+                style.colour,
+                self.theme.line_width_pt * style.width_scale,
+                style.dash,
+            )?;
             if style.marker != Marker::None {
                 self.marker((0.5 * (xa + xb), y), style.marker, style.colour)?;
             }
             let size = self.theme.legend_font_pt;
-            self.text(label, (xb + self.px(3.0), y), size, text, (HPos::Left, VPos::Center), Orientation::Horizontal)?;
+            self.text(
+                label,
+                (xb + self.px(3.0), y),
+                size,
+                text,
+                (HPos::Left, VPos::Center),
+                Orientation::Horizontal,
+            )?;
         }
         Ok(())
     }
@@ -746,7 +990,12 @@ mod tests {
 
     #[test]
     fn clipping_keeps_the_inside() {
-        let f = Frame { left: 0.0, top: 0.0, right: 10.0, bottom: 10.0 };
+        let f = Frame {
+            left: 0.0,
+            top: 0.0,
+            right: 10.0,
+            bottom: 10.0,
+        };
         let pieces = clip_polyline(&[(-5.0, 5.0), (5.0, 5.0), (15.0, 5.0)], &f);
         assert_eq!(pieces, vec![vec![(0.0, 5.0), (5.0, 5.0), (10.0, 5.0)]]);
         assert!(clip_polyline(&[(-5.0, -5.0), (-1.0, -1.0)], &f).is_empty());

@@ -3,8 +3,8 @@
 //! into an SVG string or PNG bytes. Also the bundled font that PNG text uses.
 
 use nivalis_physics::{Model, Species};
-use plotters::prelude::{DrawingArea, DrawingBackend, IntoDrawingArea, SVGBackend};
 use plotters::coord::Shift;
+use plotters::prelude::{DrawingArea, DrawingBackend, IntoDrawingArea, SVGBackend};
 
 use crate::data::{AbundanceData, Chi2Data, ProfileData, TemperatureData};
 use crate::error::ChartError;
@@ -12,8 +12,8 @@ use crate::layout::ChartLayout;
 use crate::map::MapData;
 use crate::theme::Theme;
 use crate::views::{
-    draw_abundance_profiles, draw_c_to_o_map, draw_c_to_o_profile, draw_chi2_map, draw_ice_map, draw_temperature_profile,
-    CellDrawing,
+    draw_abundance_profiles, draw_c_to_o_map, draw_c_to_o_profile, draw_chi2_map, draw_ice_map,
+    draw_temperature_profile, CellDrawing,
 };
 
 /// Single-column width of the common astronomy journals [pt] (3.5 in).
@@ -40,7 +40,10 @@ pub struct FigureSize {
 impl FigureSize {
     /// A width with the default 0.75 aspect.
     pub fn with_width_pt(width_pt: f64) -> FigureSize {
-        FigureSize { width_pt, height_pt: width_pt * DEFAULT_ASPECT }
+        FigureSize {
+            width_pt,
+            height_pt: width_pt * DEFAULT_ASPECT,
+        }
     }
     /// 252 pt x 189 pt.
     pub fn single_column() -> FigureSize {
@@ -61,7 +64,11 @@ impl FigureSize {
     fn validate(&self) -> Result<(), ChartError> {
         for (field, v) in [("width_pt", self.width_pt), ("height_pt", self.height_pt)] {
             if !(v.is_finite() && (72.0..=2880.0).contains(&v)) {
-                return Err(ChartError::InvalidValue { field, value: v, allowed: "between 72 and 2880 (1 to 40 in)" });
+                return Err(ChartError::InvalidValue {
+                    field,
+                    value: v,
+                    allowed: "between 72 and 2880 (1 to 40 in)",
+                });
             }
         }
         Ok(())
@@ -105,7 +112,9 @@ impl Figure {
     pub fn from_model(view: View, model: &Model) -> Figure {
         match view {
             View::CToOProfile => Figure::CToOProfile(ProfileData::from_model(model)),
-            View::TemperatureProfile => Figure::TemperatureProfile(TemperatureData::from_model(model)),
+            View::TemperatureProfile => {
+                Figure::TemperatureProfile(TemperatureData::from_model(model))
+            }
             View::IceMap(species) => Figure::IceMap(MapData::ice_fraction(model, species)),
             View::CToOMap => Figure::CToOMap(MapData::gas_c_to_o(model)),
             View::Abundances => Figure::Abundances(AbundanceData::from_model(model)),
@@ -141,12 +150,24 @@ pub fn render_svg(figure: &Figure, theme: &Theme, size: FigureSize) -> Result<St
     let mut out = String::new();
     {
         let area = SVGBackend::with_string(&mut out, (w, h)).into_drawing_area();
-        draw_figure(&area, figure, theme, SVG_UNITS_PER_POINT, CellDrawing::Rectangles)?;
-        area.present().map_err(|e| ChartError::Drawing { message: e.to_string() })?;
+        draw_figure(
+            &area,
+            figure,
+            theme,
+            SVG_UNITS_PER_POINT,
+            CellDrawing::Rectangles,
+        )?;
+        area.present().map_err(|e| ChartError::Drawing {
+            message: e.to_string(),
+        })?;
     }
     // Declare the physical size: plotters writes width/height in user units.
     let header = format!("<svg width=\"{w}\" height=\"{h}\"");
-    let physical = format!("<svg width=\"{}pt\" height=\"{}pt\"", fmt_pt(size.width_pt), fmt_pt(size.height_pt));
+    let physical = format!(
+        "<svg width=\"{}pt\" height=\"{}pt\"",
+        fmt_pt(size.width_pt),
+        fmt_pt(size.height_pt)
+    );
     Ok(out.replacen(&header, &physical, 1))
 }
 
@@ -158,18 +179,35 @@ fn fmt_pt(v: f64) -> String {
 /// The figure as PNG bytes: `size` in pt at `dpi` (pixel width = inches x dpi),
 /// the DPI recorded in the pHYs chunk; text drawn with the bundled DejaVu Sans.
 #[cfg(feature = "png")]
-pub fn render_png(figure: &Figure, theme: &Theme, size: FigureSize, dpi: f64) -> Result<Vec<u8>, ChartError> {
+pub fn render_png(
+    figure: &Figure,
+    theme: &Theme,
+    size: FigureSize,
+    dpi: f64,
+) -> Result<Vec<u8>, ChartError> {
     use plotters::prelude::BitMapBackend;
     size.validate()?;
     if !(dpi.is_finite() && (36.0..=1200.0).contains(&dpi)) {
-        return Err(ChartError::InvalidValue { field: "dpi", value: dpi, allowed: "between 36 and 1200" });
+        return Err(ChartError::InvalidValue {
+            field: "dpi",
+            value: dpi,
+            allowed: "between 36 and 1200",
+        });
     }
     let (w, h) = size.pixels_at_dpi(dpi);
     let mut rgb = vec![0u8; w as usize * h as usize * 3];
     {
         let area = BundledText(BitMapBackend::with_buffer(&mut rgb, (w, h))).into_drawing_area();
-        draw_figure(&area, figure, theme, dpi / POINTS_PER_INCH, CellDrawing::Raster)?;
-        area.present().map_err(|e| ChartError::Drawing { message: e.to_string() })?;
+        draw_figure(
+            &area,
+            figure,
+            theme,
+            dpi / POINTS_PER_INCH,
+            CellDrawing::Raster,
+        )?;
+        area.present().map_err(|e| ChartError::Drawing {
+            message: e.to_string(),
+        })?;
     }
     encode_png(&rgb, w, h, dpi)
 }
@@ -191,7 +229,10 @@ mod bundled_text {
     use super::{BundledText, BUNDLED_FONT};
     use ab_glyph::{point, Font, FontRef, PxScale, ScaleFont};
     use plotters_backend::text_anchor::{HPos, VPos};
-    use plotters_backend::{BackendColor, BackendCoord, BackendStyle, BackendTextStyle, DrawingBackend, DrawingErrorKind};
+    use plotters_backend::{
+        BackendColor, BackendCoord, BackendStyle, BackendTextStyle, DrawingBackend,
+        DrawingErrorKind,
+    };
     use std::sync::OnceLock;
 
     /// plotters' font sizes are line heights: the em is `size / 1.24` (as its SVG back end writes).
@@ -228,7 +269,12 @@ mod bundled_text {
     }
 
     impl<B: DrawingBackend> BundledText<B> {
-        fn text<S: BackendTextStyle>(&mut self, text: &str, style: &S, pos: BackendCoord) -> Result<(), DrawingErrorKind<B::ErrorType>> {
+        fn text<S: BackendTextStyle>(
+            &mut self,
+            text: &str,
+            style: &S,
+            pos: BackendCoord,
+        ) -> Result<(), DrawingErrorKind<B::ErrorType>> {
             let colour = style.color();
             if colour.alpha == 0.0 {
                 return Ok(());
@@ -257,17 +303,26 @@ mod bundled_text {
                 previous = Some(id);
                 let glyph = id.with_scale_and_position(scale(em), point(x, baseline));
                 x += f.h_advance(id);
-                let Some(outline) = font().outline_glyph(glyph) else { continue };
+                let Some(outline) = font().outline_glyph(glyph) else {
+                    continue;
+                };
                 let bounds = outline.px_bounds();
                 let mut pixels = Vec::new();
                 outline.draw(|gx, gy, coverage| {
                     if coverage > 0.0 {
-                        pixels.push((bounds.min.x as i32 + gx as i32, bounds.min.y as i32 + gy as i32, coverage));
+                        pixels.push((
+                            bounds.min.x as i32 + gx as i32,
+                            bounds.min.y as i32 + gy as i32,
+                            coverage,
+                        ));
                     }
                 });
                 for (tx, ty, coverage) in pixels {
                     let (dx, dy) = transform.transform(tx, ty);
-                    let c = BackendColor { alpha: colour.alpha * f64::from(coverage.min(1.0)), rgb: colour.rgb };
+                    let c = BackendColor {
+                        alpha: colour.alpha * f64::from(coverage.min(1.0)),
+                        rgb: colour.rgb,
+                    };
                     self.0.draw_pixel((pos.0 + dx, pos.1 + dy), c)?;
                 }
             }
@@ -286,10 +341,19 @@ mod bundled_text {
         fn present(&mut self) -> Result<(), DrawingErrorKind<Self::ErrorType>> {
             self.0.present()
         }
-        fn draw_pixel(&mut self, point: BackendCoord, color: BackendColor) -> Result<(), DrawingErrorKind<Self::ErrorType>> {
+        fn draw_pixel(
+            &mut self,
+            point: BackendCoord,
+            color: BackendColor,
+        ) -> Result<(), DrawingErrorKind<Self::ErrorType>> {
             self.0.draw_pixel(point, color)
         }
-        fn draw_line<S: BackendStyle>(&mut self, from: BackendCoord, to: BackendCoord, style: &S) -> Result<(), DrawingErrorKind<Self::ErrorType>> {
+        fn draw_line<S: BackendStyle>(
+            &mut self,
+            from: BackendCoord,
+            to: BackendCoord,
+            style: &S,
+        ) -> Result<(), DrawingErrorKind<Self::ErrorType>> {
             self.0.draw_line(from, to, style)
         }
         fn draw_rect<S: BackendStyle>(
@@ -301,7 +365,11 @@ mod bundled_text {
         ) -> Result<(), DrawingErrorKind<Self::ErrorType>> {
             self.0.draw_rect(upper_left, bottom_right, style, fill)
         }
-        fn draw_path<S: BackendStyle, I: IntoIterator<Item = BackendCoord>>(&mut self, path: I, style: &S) -> Result<(), DrawingErrorKind<Self::ErrorType>> {
+        fn draw_path<S: BackendStyle, I: IntoIterator<Item = BackendCoord>>(
+            &mut self,
+            path: I,
+            style: &S,
+        ) -> Result<(), DrawingErrorKind<Self::ErrorType>> {
             self.0.draw_path(path, style)
         }
         fn draw_circle<S: BackendStyle>(
@@ -313,17 +381,35 @@ mod bundled_text {
         ) -> Result<(), DrawingErrorKind<Self::ErrorType>> {
             self.0.draw_circle(center, radius, style, fill)
         }
-        fn fill_polygon<S: BackendStyle, I: IntoIterator<Item = BackendCoord>>(&mut self, vert: I, style: &S) -> Result<(), DrawingErrorKind<Self::ErrorType>> {
+        fn fill_polygon<S: BackendStyle, I: IntoIterator<Item = BackendCoord>>(
+            &mut self,
+            vert: I,
+            style: &S,
+        ) -> Result<(), DrawingErrorKind<Self::ErrorType>> {
             self.0.fill_polygon(vert, style)
         }
-        fn draw_text<S: BackendTextStyle>(&mut self, text: &str, style: &S, pos: BackendCoord) -> Result<(), DrawingErrorKind<Self::ErrorType>> {
+        fn draw_text<S: BackendTextStyle>(
+            &mut self,
+            text: &str,
+            style: &S,
+            pos: BackendCoord,
+        ) -> Result<(), DrawingErrorKind<Self::ErrorType>> {
             self.text(text, style, pos)
         }
-        fn estimate_text_size<S: BackendTextStyle>(&self, text: &str, style: &S) -> Result<(u32, u32), DrawingErrorKind<Self::ErrorType>> {
+        fn estimate_text_size<S: BackendTextStyle>(
+            &self,
+            text: &str,
+            style: &S,
+        ) -> Result<(u32, u32), DrawingErrorKind<Self::ErrorType>> {
             let em = style.size() as f32 * EM_PER_SIZE;
             Ok((width(text, em).ceil() as u32, em.ceil() as u32))
         }
-        fn blit_bitmap(&mut self, pos: BackendCoord, size: (u32, u32), src: &[u8]) -> Result<(), DrawingErrorKind<Self::ErrorType>> {
+        fn blit_bitmap(
+            &mut self,
+            pos: BackendCoord,
+            size: (u32, u32),
+            src: &[u8],
+        ) -> Result<(), DrawingErrorKind<Self::ErrorType>> {
             self.0.blit_bitmap(pos, size, src)
         }
     }
@@ -337,9 +423,17 @@ fn encode_png(rgb: &[u8], w: u32, h: u32, dpi: f64) -> Result<Vec<u8>, ChartErro
         encoder.set_color(png::ColorType::Rgb);
         encoder.set_depth(png::BitDepth::Eight);
         let per_metre = (dpi / 0.0254).round() as u32;
-        encoder.set_pixel_dims(Some(png::PixelDimensions { xppu: per_metre, yppu: per_metre, unit: png::Unit::Meter }));
-        let mut writer = encoder.write_header().map_err(|e| ChartError::Png { message: e.to_string() })?;
-        writer.write_image_data(rgb).map_err(|e| ChartError::Png { message: e.to_string() })?;
+        encoder.set_pixel_dims(Some(png::PixelDimensions {
+            xppu: per_metre,
+            yppu: per_metre,
+            unit: png::Unit::Meter,
+        }));
+        let mut writer = encoder.write_header().map_err(|e| ChartError::Png {
+            message: e.to_string(),
+        })?;
+        writer.write_image_data(rgb).map_err(|e| ChartError::Png {
+            message: e.to_string(),
+        })?;
     }
     Ok(bytes)
 }
@@ -365,7 +459,11 @@ pub(crate) fn ensure_font(theme: &Theme) {
         for name in [theme.font_family.as_str(), "sans-serif"] {
             if !set.contains(name) {
                 // The bundled bytes are a valid font (a unit test parses them), so this cannot fail.
-                let _ = plotters::style::register_font(name, plotters::style::FontStyle::Normal, BUNDLED_FONT);
+                let _ = plotters::style::register_font(
+                    name,
+                    plotters::style::FontStyle::Normal,
+                    BUNDLED_FONT,
+                );
                 set.insert(name.to_string());
             }
         }
@@ -381,7 +479,10 @@ mod tests {
     #[test]
     fn journal_sizes() {
         // 3.5 in = 252 pt and 7.1 in = 511.2 pt (1 in = 72 pt, PostScript point).
-        assert_eq!(FigureSize::single_column().pixels_at_dpi(300.0), (1050, 788));
+        assert_eq!(
+            FigureSize::single_column().pixels_at_dpi(300.0),
+            (1050, 788)
+        );
         assert!((DOUBLE_COLUMN_WIDTH_PT / POINTS_PER_INCH - 7.1).abs() < 0.01);
     }
 

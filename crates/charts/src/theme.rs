@@ -73,7 +73,14 @@ impl Theme {
             undefined: Rgba::hex(0x55585b),
             highlight: Rgba::hex(0x56b4e9).with_alpha(45),
             // Sky blue before blue: the darker blue loses contrast on dark grey.
-            series: vec![OKABE_ITO[0], OKABE_ITO[5], OKABE_ITO[2], OKABE_ITO[3], OKABE_ITO[4], OKABE_ITO[1]],
+            series: vec![
+                OKABE_ITO[0],
+                OKABE_ITO[5],
+                OKABE_ITO[2],
+                OKABE_ITO[3],
+                OKABE_ITO[4],
+                OKABE_ITO[1],
+            ],
             ..Theme::light()
         }
     }
@@ -114,7 +121,12 @@ impl LineDash {
     }
 
     /// Dashes in the order series use them.
-    pub const CYCLE: [LineDash; 4] = [LineDash::Solid, LineDash::Dashed, LineDash::Dotted, LineDash::DashDot];
+    pub const CYCLE: [LineDash; 4] = [
+        LineDash::Solid,
+        LineDash::Dashed,
+        LineDash::Dotted,
+        LineDash::DashDot,
+    ];
 }
 
 /// A point marker drawn every few points along a line.
@@ -138,7 +150,14 @@ pub enum Marker {
 
 impl Marker {
     /// Markers in the order series use them.
-    pub const CYCLE: [Marker; 6] = [Marker::Circle, Marker::Square, Marker::Triangle, Marker::Diamond, Marker::Cross, Marker::Plus];
+    pub const CYCLE: [Marker; 6] = [
+        Marker::Circle,
+        Marker::Square,
+        Marker::Triangle,
+        Marker::Diamond,
+        Marker::Cross,
+        Marker::Plus,
+    ];
 }
 
 /// How one data series is drawn.
@@ -157,7 +176,12 @@ pub struct SeriesStyle {
 impl SeriesStyle {
     /// A plain line.
     pub fn line(colour: Rgba, dash: LineDash) -> SeriesStyle {
-        SeriesStyle { colour, dash, marker: Marker::None, width_scale: 1.0 }
+        SeriesStyle {
+            colour,
+            dash,
+            marker: Marker::None,
+            width_scale: 1.0,
+        }
     }
 
     /// The same style with a marker.

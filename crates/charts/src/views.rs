@@ -16,7 +16,9 @@ use crate::data::{AbundanceData, Chi2Data, ProfileData, TemperatureData};
 use crate::error::ChartError;
 use crate::layout::{AxisTransform, ChartLayout, Scale};
 use crate::map::{rasterise_map, MapData};
-use crate::paint::{clip_polyline, defined_runs, ticks, AxisOptions, Frame, Orientation, Painter, Panel};
+use crate::paint::{
+    clip_polyline, defined_runs, ticks, AxisOptions, Frame, Orientation, Painter, Panel,
+};
 use crate::theme::{LineDash, Marker, SeriesStyle, Theme};
 
 /// Outer padding [pt].
@@ -41,20 +43,29 @@ pub enum CellDrawing {
 fn area_size<DB: DrawingBackend>(area: &DrawingArea<DB, Shift>) -> Result<(), ChartError> {
     let (w, h) = area.dim_in_pixel();
     if w < MIN_AREA_PX.0 || h < MIN_AREA_PX.1 {
-        return Err(ChartError::AreaTooSmall { width: w, height: h });
+        return Err(ChartError::AreaTooSmall {
+            width: w,
+            height: h,
+        });
     }
     Ok(())
 }
 
 fn check_frame(p: &Frame, area: (f64, f64)) -> Result<(), ChartError> {
     if p.width() < 20.0 || p.height() < 15.0 {
-        return Err(ChartError::AreaTooSmall { width: area.0 as u32, height: area.1 as u32 });
+        return Err(ChartError::AreaTooSmall {
+            width: area.0 as u32,
+            height: area.1 as u32,
+        });
     }
     Ok(())
 }
 
 /// Right padding [px]: room for half the last x tick label.
-fn right_padding<DB: DrawingBackend>(p: &Painter<DB>, x: &AxisTransform) -> Result<f64, ChartError> {
+fn right_padding<DB: DrawingBackend>(
+    p: &Painter<DB>,
+    x: &AxisTransform,
+) -> Result<f64, ChartError> {
     let t = ticks(x);
     let half = match t.major.last() {
         Some((_, label)) => 0.5 * p.text_size(label, p.theme.tick_font_pt)?.0,
@@ -116,14 +127,27 @@ pub fn draw_c_to_o_profile<DB: DrawingBackend>(
     area_size(area)?;
     let p = Painter::new(area, theme, pixels_per_point);
     let size = p.size();
-    p.fill_rect(Frame { left: 0.0, top: 0.0, right: size.0, bottom: size.1 }, theme.background)?;
+    p.fill_rect(
+        Frame {
+            left: 0.0,
+            top: 0.0,
+            right: size.0,
+            bottom: size.1,
+        },
+        theme.background,
+    )?;
 
     let x = radius_axis(&data.radius_au);
-    let top_value = positive_extent(data.c_to_o_gas.iter().chain(&data.c_to_o_ice).chain(&data.c_to_o_solid))
-        .map(|e| e.1)
-        .unwrap_or(1.0)
-        .max(data.star_c_to_o.unwrap_or(0.0) * 1.4)
-        .max(1.0);
+    let top_value = positive_extent(
+        data.c_to_o_gas
+            .iter()
+            .chain(&data.c_to_o_ice)
+            .chain(&data.c_to_o_solid),
+    )
+    .map(|e| e.1)
+    .unwrap_or(1.0)
+    .max(data.star_c_to_o.unwrap_or(0.0) * 1.4)
+    .max(1.0);
     let y_max = ((top_value * 1.05 / 0.5).ceil() * 0.5).min(3.0);
     let y = AxisTransform::new(0.0, y_max, Scale::Linear, "C/O");
     let left = p.px(PAD_PT) + p.y_label_space(&y)?;
@@ -134,14 +158,27 @@ pub fn draw_c_to_o_profile<DB: DrawingBackend>(
         bottom: size.1 - p.x_label_space(&x)? - p.px(1.0),
     };
     check_frame(&frame, size)?;
-    let panel = Panel { name: "c_to_o", frame, x, y };
+    let panel = Panel {
+        name: "c_to_o",
+        frame,
+        x,
+        y,
+    };
 
     // Shading first, so lines and grid sit on top.
     for &(a, b) in &data.allowed_formation_radii_au {
         if let (Some(xa), Some(xb)) = (panel.px_x(a.min(b)), panel.px_x(a.max(b))) {
             let (xa, xb) = (xa.max(frame.left), xb.min(frame.right));
             if xb > xa {
-                p.fill_rect(Frame { left: xa, top: frame.top, right: xb, bottom: frame.bottom }, theme.highlight)?;
+                p.fill_rect(
+                    Frame {
+                        left: xa,
+                        top: frame.top,
+                        right: xb,
+                        bottom: frame.bottom,
+                    },
+                    theme.highlight,
+                )?;
             }
         }
     }
@@ -159,7 +196,12 @@ pub fn draw_c_to_o_profile<DB: DrawingBackend>(
         if xp < frame.left || xp > frame.right {
             continue;
         }
-        p.polyline(&[(xp, frame.top), (xp, frame.bottom)], theme.muted, theme.axis_width_pt, LineDash::Dotted)?;
+        p.polyline(
+            &[(xp, frame.top), (xp, frame.bottom)],
+            theme.muted,
+            theme.axis_width_pt,
+            LineDash::Dotted,
+        )?;
         let (tw, th) = p.text_size(label, label_pt)?;
         if xp - last_x < th + p.px(1.0) {
             row += 1;
@@ -169,7 +211,14 @@ pub fn draw_c_to_o_profile<DB: DrawingBackend>(
         }
         if row < 3 {
             let y0 = frame.top + p.px(2.0) + row_depth;
-            p.text(label, (xp - p.px(0.8), y0), label_pt, theme.muted, (HPos::Right, VPos::Bottom), Orientation::Up)?;
+            p.text(
+                label,
+                (xp - p.px(0.8), y0),
+                label_pt,
+                theme.muted,
+                (HPos::Right, VPos::Bottom),
+                Orientation::Up,
+            )?;
             for t in 0..5 {
                 occupied.push((xp - 0.5 * th, y0 + tw * t as f64 / 4.0));
             }
@@ -179,31 +228,73 @@ pub fn draw_c_to_o_profile<DB: DrawingBackend>(
     }
     if let Some(star) = data.star_c_to_o {
         if let Some(yp) = panel.px_y(star) {
-            p.polyline(&[(frame.left, yp), (frame.right, yp)], theme.muted, theme.line_width_pt * 0.8, LineDash::DashDot)?;
+            p.polyline(
+                &[(frame.left, yp), (frame.right, yp)],
+                theme.muted,
+                theme.line_width_pt * 0.8,
+                LineDash::DashDot,
+            )?;
         }
     }
     let styles = [
-        ("gas", SeriesStyle::line(theme.series_colour(0), LineDash::Solid), &data.c_to_o_gas),
-        ("ices", SeriesStyle::line(theme.series_colour(1), LineDash::Dashed), &data.c_to_o_ice),
-        ("all solids", SeriesStyle::line(theme.series_colour(2), LineDash::Dotted).with_marker(Marker::Square), &data.c_to_o_solid),
+        (
+            "gas",
+            SeriesStyle::line(theme.series_colour(0), LineDash::Solid),
+            &data.c_to_o_gas,
+        ),
+        (
+            "ices",
+            SeriesStyle::line(theme.series_colour(1), LineDash::Dashed),
+            &data.c_to_o_ice,
+        ),
+        (
+            "all solids",
+            SeriesStyle::line(theme.series_colour(2), LineDash::Dotted).with_marker(Marker::Square),
+            &data.c_to_o_solid,
+        ),
     ];
     for (_, style, ys) in &styles {
         p.series(&panel, &data.radius_au, ys, style)?;
     }
-    occupied.extend(occupied_points(&panel, &data.radius_au, &[&data.c_to_o_gas, &data.c_to_o_ice, &data.c_to_o_solid]));
+    occupied.extend(occupied_points(
+        &panel,
+        &data.radius_au,
+        &[&data.c_to_o_gas, &data.c_to_o_ice, &data.c_to_o_solid],
+    ));
     if let Some(r) = data.planet_radius_au {
-        if let Some(xp) = panel.px_x(r).filter(|&xp| xp >= frame.left && xp <= frame.right) {
-            p.polyline(&[(xp, frame.top), (xp, frame.bottom)], theme.foreground, theme.line_width_pt * 1.4, LineDash::Solid)?;
-            p.text("planet", (xp + p.px(2.0), frame.bottom - p.px(2.0)), label_pt, theme.foreground, (HPos::Left, VPos::Top), Orientation::Up)?;
+        if let Some(xp) = panel
+            .px_x(r)
+            .filter(|&xp| xp >= frame.left && xp <= frame.right)
+        {
+            p.polyline(
+                &[(xp, frame.top), (xp, frame.bottom)],
+                theme.foreground,
+                theme.line_width_pt * 1.4,
+                LineDash::Solid,
+            )?;
+            p.text(
+                "planet",
+                (xp + p.px(2.0), frame.bottom - p.px(2.0)),
+                label_pt,
+                theme.foreground,
+                (HPos::Left, VPos::Top),
+                Orientation::Up,
+            )?;
         }
     }
     p.axes(&panel, AxisOptions::FULL)?;
-    let mut entries: Vec<(String, SeriesStyle)> = styles.iter().map(|(l, s, _)| (l.to_string(), *s)).collect();
+    let mut entries: Vec<(String, SeriesStyle)> =
+        styles.iter().map(|(l, s, _)| (l.to_string(), *s)).collect();
     if data.star_c_to_o.is_some() {
-        entries.push(("star".to_string(), SeriesStyle::line(theme.muted, LineDash::DashDot)));
+        entries.push((
+            "star".to_string(),
+            SeriesStyle::line(theme.muted, LineDash::DashDot),
+        ));
     }
     p.legend(&frame, &entries, &occupied)?;
-    Ok(ChartLayout { panels: vec![panel.to_layout(area.get_base_pixel())] })
+    Ok(ChartLayout {
+        panels: vec![panel.to_layout(area.get_base_pixel())],
+    })
 }
 
 /// (b) Midplane temperature with its irradiation and accretion components (top
@@ -219,17 +310,34 @@ pub fn draw_temperature_profile<DB: DrawingBackend>(
     area_size(area)?;
     let p = Painter::new(area, theme, pixels_per_point);
     let size = p.size();
-    p.fill_rect(Frame { left: 0.0, top: 0.0, right: size.0, bottom: size.1 }, theme.background)?;
+    p.fill_rect(
+        Frame {
+            left: 0.0,
+            top: 0.0,
+            right: size.0,
+            bottom: size.1,
+        },
+        theme.background,
+    )?;
 
     let x = radius_axis(&data.radius_au);
-    let (t_min, t_max) = positive_extent(data.midplane_temperature_k.iter().chain(&data.irradiation_temperature_k))
-        .ok_or(ChartError::EmptyData { field: "midplane_temperature_k" })?;
+    let (t_min, t_max) = positive_extent(
+        data.midplane_temperature_k
+            .iter()
+            .chain(&data.irradiation_temperature_k),
+    )
+    .ok_or(ChartError::EmptyData {
+        field: "midplane_temperature_k",
+    })?;
     // The accretion component falls steeply outward; show it down to a fifth of the coldest midplane.
-    let t_floor = positive_extent(&data.accretion_temperature_k).map_or(t_min, |(a, _)| a.max(t_min / 5.0));
+    let t_floor =
+        positive_extent(&data.accretion_temperature_k).map_or(t_min, |(a, _)| a.max(t_min / 5.0));
     let (t0, t1) = decade_range(t_min.min(t_floor), t_max);
     let ty = AxisTransform::new(t0, t1, Scale::Log10, "T [K]");
     let (s_min, s_max) =
-        positive_extent(&data.surface_density_g_cm2).ok_or(ChartError::EmptyData { field: "surface_density_g_cm2" })?;
+        positive_extent(&data.surface_density_g_cm2).ok_or(ChartError::EmptyData {
+            field: "surface_density_g_cm2",
+        })?;
     let (s0, s1) = decade_range(s_min.max(s_max * 1e-8), s_max);
     let sy = AxisTransform::new(s0, s1, Scale::Log10, "\u{03a3} [g cm\u{207b}\u{00b2}]");
 
@@ -239,35 +347,96 @@ pub fn draw_temperature_profile<DB: DrawingBackend>(
     let bottom = size.1 - p.x_label_space(&x)? - p.px(1.0);
     let gap = p.px(3.0);
     let split = top + 0.58 * (bottom - top - gap);
-    let upper = Frame { left, top, right, bottom: split };
-    let lower = Frame { left, top: split + gap, right, bottom };
+    let upper = Frame {
+        left,
+        top,
+        right,
+        bottom: split,
+    };
+    let lower = Frame {
+        left,
+        top: split + gap,
+        right,
+        bottom,
+    };
     check_frame(&upper, size)?;
     check_frame(&lower, size)?;
-    let tp = Panel { name: "temperature", frame: upper, x: x.clone(), y: ty };
-    let sp = Panel { name: "surface_density", frame: lower, x, y: sy };
+    let tp = Panel {
+        name: "temperature",
+        frame: upper,
+        x: x.clone(),
+        y: ty,
+    };
+    let sp = Panel {
+        name: "surface_density",
+        frame: lower,
+        x,
+        y: sy,
+    };
 
     p.grid(&tp)?;
     p.grid(&sp)?;
     let styles = [
-        ("midplane", SeriesStyle { width_scale: 1.3, ..SeriesStyle::line(theme.series_colour(0), LineDash::Solid) }, &data.midplane_temperature_k),
-        ("irradiation", SeriesStyle::line(theme.series_colour(1), LineDash::Dashed), &data.irradiation_temperature_k),
-        ("accretion", SeriesStyle::line(theme.series_colour(2), LineDash::Dotted).with_marker(Marker::Triangle), &data.accretion_temperature_k),
+        (
+            "midplane",
+            SeriesStyle {
+                width_scale: 1.3,
+                ..SeriesStyle::line(theme.series_colour(0), LineDash::Solid)
+            },
+            &data.midplane_temperature_k,
+        ),
+        (
+            "irradiation",
+            SeriesStyle::line(theme.series_colour(1), LineDash::Dashed),
+            &data.irradiation_temperature_k,
+        ),
+        (
+            "accretion",
+            SeriesStyle::line(theme.series_colour(2), LineDash::Dotted)
+                .with_marker(Marker::Triangle),
+            &data.accretion_temperature_k,
+        ),
     ];
     for (_, style, ys) in &styles {
         p.series(&tp, &data.radius_au, ys, style)?;
     }
-    p.series(&sp, &data.radius_au, &data.surface_density_g_cm2, &SeriesStyle::line(theme.series_colour(0), LineDash::Solid))?;
-    p.axes(&tp, AxisOptions { x_labels: false, skip_y_end_labels: (true, false), ..AxisOptions::FULL })?;
-    p.axes(&sp, AxisOptions { skip_y_end_labels: (false, true), ..AxisOptions::FULL })?;
+    p.series(
+        &sp,
+        &data.radius_au,
+        &data.surface_density_g_cm2,
+        &SeriesStyle::line(theme.series_colour(0), LineDash::Solid),
+    )?;
+    p.axes(
+        &tp,
+        AxisOptions {
+            x_labels: false,
+            skip_y_end_labels: (true, false),
+            ..AxisOptions::FULL
+        },
+    )?;
+    p.axes(
+        &sp,
+        AxisOptions {
+            skip_y_end_labels: (false, true),
+            ..AxisOptions::FULL
+        },
+    )?;
     let occupied = occupied_points(
         &tp,
         &data.radius_au,
-        &[&data.midplane_temperature_k, &data.irradiation_temperature_k, &data.accretion_temperature_k],
+        &[
+            &data.midplane_temperature_k,
+            &data.irradiation_temperature_k,
+            &data.accretion_temperature_k,
+        ],
     );
-    let entries: Vec<(String, SeriesStyle)> = styles.iter().map(|(l, s, _)| (l.to_string(), *s)).collect();
+    let entries: Vec<(String, SeriesStyle)> =
+        styles.iter().map(|(l, s, _)| (l.to_string(), *s)).collect();
     p.legend(&upper, &entries, &occupied)?;
     let base = area.get_base_pixel();
-    Ok(ChartLayout { panels: vec![tp.to_layout(base), sp.to_layout(base)] })
+    Ok(ChartLayout {
+        panels: vec![tp.to_layout(base), sp.to_layout(base)],
+    })
 }
 
 /// (e) Gas (top panel) and ice (bottom panel) abundance per H of every species
@@ -283,11 +452,23 @@ pub fn draw_abundance_profiles<DB: DrawingBackend>(
     area_size(area)?;
     let p = Painter::new(area, theme, pixels_per_point);
     let size = p.size();
-    p.fill_rect(Frame { left: 0.0, top: 0.0, right: size.0, bottom: size.1 }, theme.background)?;
+    p.fill_rect(
+        Frame {
+            left: 0.0,
+            top: 0.0,
+            right: size.0,
+            bottom: size.1,
+        },
+        theme.background,
+    )?;
 
     let x = radius_axis(&data.radius_au);
-    let (_, max) = positive_extent(data.species.iter().flat_map(|s| s.gas_per_h.iter().chain(&s.ice_per_h)))
-        .ok_or(ChartError::EmptyData { field: "gas_per_h" })?;
+    let (_, max) = positive_extent(
+        data.species
+            .iter()
+            .flat_map(|s| s.gas_per_h.iter().chain(&s.ice_per_h)),
+    )
+    .ok_or(ChartError::EmptyData { field: "gas_per_h" })?;
     let (_, hi) = decade_range(max, max);
     let lo = hi * 1e-8;
     let gy = AxisTransform::new(lo, hi, Scale::Log10, "X/H (gas)");
@@ -300,7 +481,12 @@ pub fn draw_abundance_profiles<DB: DrawingBackend>(
             width_scale: 1.0,
         })
         .collect();
-    let entries: Vec<(String, SeriesStyle)> = data.species.iter().zip(&styles).map(|(s, st)| (s.label.clone(), *st)).collect();
+    let entries: Vec<(String, SeriesStyle)> = data
+        .species
+        .iter()
+        .zip(&styles)
+        .map(|(s, st)| (s.label.clone(), *st))
+        .collect();
     let (legend_w, legend_h) = p.legend_size(&entries)?;
 
     let left = p.px(PAD_PT) + p.y_label_space(&gy)?;
@@ -309,23 +495,64 @@ pub fn draw_abundance_profiles<DB: DrawingBackend>(
     let bottom = size.1 - p.x_label_space(&x)? - p.px(1.0);
     let gap = p.px(3.0);
     let split = top + 0.5 * (bottom - top - gap);
-    let upper = Frame { left, top, right, bottom: split };
-    let lower = Frame { left, top: split + gap, right, bottom };
+    let upper = Frame {
+        left,
+        top,
+        right,
+        bottom: split,
+    };
+    let lower = Frame {
+        left,
+        top: split + gap,
+        right,
+        bottom,
+    };
     check_frame(&upper, size)?;
-    let gp = Panel { name: "gas_abundance", frame: upper, x: x.clone(), y: gy };
-    let ip = Panel { name: "ice_abundance", frame: lower, x, y: iy };
+    let gp = Panel {
+        name: "gas_abundance",
+        frame: upper,
+        x: x.clone(),
+        y: gy,
+    };
+    let ip = Panel {
+        name: "ice_abundance",
+        frame: lower,
+        x,
+        y: iy,
+    };
     p.grid(&gp)?;
     p.grid(&ip)?;
     for (s, style) in data.species.iter().zip(&styles) {
         p.series(&gp, &data.radius_au, &s.gas_per_h, style)?;
         p.series(&ip, &data.radius_au, &s.ice_per_h, style)?;
     }
-    p.axes(&gp, AxisOptions { x_labels: false, skip_y_end_labels: (true, false), ..AxisOptions::FULL })?;
-    p.axes(&ip, AxisOptions { skip_y_end_labels: (false, true), ..AxisOptions::FULL })?;
+    p.axes(
+        &gp,
+        AxisOptions {
+            x_labels: false,
+            skip_y_end_labels: (true, false),
+            ..AxisOptions::FULL
+        },
+    )?;
+    p.axes(
+        &ip,
+        AxisOptions {
+            skip_y_end_labels: (false, true),
+            ..AxisOptions::FULL
+        },
+    )?;
     let ly = (0.5 * (top + bottom) - 0.5 * legend_h).max(0.0);
-    p.legend_at((right + p.px(4.0), ly), &entries, theme.background, theme.grid, theme.foreground)?;
+    p.legend_at(
+        (right + p.px(4.0), ly),
+        &entries,
+        theme.background,
+        theme.grid,
+        theme.foreground,
+    )?;
     let base = area.get_base_pixel();
-    Ok(ChartLayout { panels: vec![gp.to_layout(base), ip.to_layout(base)] })
+    Ok(ChartLayout {
+        panels: vec![gp.to_layout(base), ip.to_layout(base)],
+    })
 }
 
 /// The main panel and the colour-bar panel of a map, in area pixels.
@@ -350,12 +577,32 @@ fn map_panels<DB: DrawingBackend>(
     let bar_extra = gap + bar_w + p.px(2.5) + widest + p.px(3.0) + label_h;
     let left = p.px(PAD_PT) + p.y_label_space(&y)?;
     let right = size.0 - p.px(PAD_PT) - bar_extra;
-    let frame = Frame { left, top: p.top_space(PAD_PT)?, right, bottom: size.1 - p.x_label_space(&x)? - p.px(1.0) };
+    let frame = Frame {
+        left,
+        top: p.top_space(PAD_PT)?,
+        right,
+        bottom: size.1 - p.x_label_space(&x)? - p.px(1.0),
+    };
     check_frame(&frame, size)?;
-    let bar_frame = Frame { left: right + gap, top: frame.top, right: right + gap + bar_w, bottom: frame.bottom };
+    let bar_frame = Frame {
+        left: right + gap,
+        top: frame.top,
+        right: right + gap + bar_w,
+        bottom: frame.bottom,
+    };
     Ok((
-        Panel { name: "map", frame, x, y },
-        Panel { name: "colour_bar", frame: bar_frame, x: AxisTransform::new(0.0, 1.0, Scale::Linear, ""), y: bar },
+        Panel {
+            name: "map",
+            frame,
+            x,
+            y,
+        },
+        Panel {
+            name: "colour_bar",
+            frame: bar_frame,
+            x: AxisTransform::new(0.0, 1.0, Scale::Linear, ""),
+            y: bar,
+        },
     ))
 }
 
@@ -364,7 +611,12 @@ fn map_axes(data: &MapData) -> (AxisTransform, AxisTransform, AxisTransform) {
     (
         AxisTransform::new(r0, r1, Scale::Log10, "r [au]"),
         AxisTransform::new(0.0, data.z_over_r_max, Scale::Linear, "z/r"),
-        AxisTransform::new(data.value_range.0, data.value_range.1, Scale::Linear, data.value_label.clone()),
+        AxisTransform::new(
+            data.value_range.0,
+            data.value_range.1,
+            Scale::Linear,
+            data.value_label.clone(),
+        ),
     )
 }
 
@@ -381,26 +633,81 @@ pub fn map_layout<DB: DrawingBackend>(
     area_size(area)?;
     let p = Painter::new(area, theme, pixels_per_point);
     let (x, y, bar) = map_axes(data);
-    let (main, bar) = map_panels(&p, x, y, bar, data.reference_value.as_ref().map(|r| r.0.as_str()))?;
+    let (main, bar) = map_panels(
+        &p,
+        x,
+        y,
+        bar,
+        data.reference_value.as_ref().map(|r| r.0.as_str()),
+    )?;
     let base = area.get_base_pixel();
-    Ok(ChartLayout { panels: vec![main.to_layout(base), bar.to_layout(base)] })
+    Ok(ChartLayout {
+        panels: vec![main.to_layout(base), bar.to_layout(base)],
+    })
 }
 
 /// White line over a dark halo: visible on every part of both colour maps.
-fn halo_line<DB: DrawingBackend>(p: &Painter<DB>, panel: &Panel, points: &[(f64, f64)], width_pt: f64, dash: LineDash) -> Result<(), ChartError> {
+fn halo_line<DB: DrawingBackend>(
+    p: &Painter<DB>,
+    panel: &Panel,
+    points: &[(f64, f64)],
+    width_pt: f64,
+    dash: LineDash,
+) -> Result<(), ChartError> {
     for piece in clip_polyline(points, &panel.frame) {
-        p.polyline(&piece, Rgba::hex(0x000000).with_alpha(150), width_pt * 2.4, LineDash::Solid)?;
+        p.polyline(
+            &piece,
+            Rgba::hex(0x000000).with_alpha(150),
+            width_pt * 2.4,
+            LineDash::Solid,
+        )?;
         p.polyline(&piece, Rgba::hex(0xffffff), width_pt, dash)?;
     }
     Ok(())
 }
 
-fn fill_around<DB: DrawingBackend>(p: &Painter<DB>, f: &Frame, colour: Rgba) -> Result<(), ChartError> {
+fn fill_around<DB: DrawingBackend>(
+    p: &Painter<DB>,
+    f: &Frame,
+    colour: Rgba,
+) -> Result<(), ChartError> {
     let (w, h) = p.size();
-    p.fill_rect(Frame { left: 0.0, top: 0.0, right: w, bottom: f.top }, colour)?;
-    p.fill_rect(Frame { left: 0.0, top: f.bottom, right: w, bottom: h }, colour)?;
-    p.fill_rect(Frame { left: 0.0, top: f.top, right: f.left, bottom: f.bottom }, colour)?;
-    p.fill_rect(Frame { left: f.right, top: f.top, right: w, bottom: f.bottom }, colour)
+    p.fill_rect(
+        Frame {
+            left: 0.0,
+            top: 0.0,
+            right: w,
+            bottom: f.top,
+        },
+        colour,
+    )?;
+    p.fill_rect(
+        Frame {
+            left: 0.0,
+            top: f.bottom,
+            right: w,
+            bottom: h,
+        },
+        colour,
+    )?;
+    p.fill_rect(
+        Frame {
+            left: 0.0,
+            top: f.top,
+            right: f.left,
+            bottom: f.bottom,
+        },
+        colour,
+    )?;
+    p.fill_rect(
+        Frame {
+            left: f.right,
+            top: f.top,
+            right: w,
+            bottom: f.bottom,
+        },
+        colour,
+    )
 }
 
 /// The colour bar: the map's colours from bottom to top, ticks and label on the
@@ -420,36 +727,93 @@ fn colour_bar<DB: DrawingBackend>(
         let c = map.at(0.5 * (t0 + t1));
         // Overlap each band by a pixel so no background seam shows between them.
         let (yb, yt) = (f.bottom - t0 * f.height(), f.bottom - t1 * f.height());
-        p.fill_rect(Frame { left: f.left, top: (yt - 1.0).max(f.top), right: f.right, bottom: yb }, c)?;
+        p.fill_rect(
+            Frame {
+                left: f.left,
+                top: (yt - 1.0).max(f.top),
+                right: f.right,
+                bottom: yb,
+            },
+            c,
+        )?;
     }
     let fg = theme.foreground;
     let w = theme.axis_width_pt;
-    p.polyline(&[(f.left, f.top), (f.right, f.top), (f.right, f.bottom), (f.left, f.bottom), (f.left, f.top)], fg, w, LineDash::Solid)?;
+    p.polyline(
+        &[
+            (f.left, f.top),
+            (f.right, f.top),
+            (f.right, f.bottom),
+            (f.left, f.bottom),
+            (f.left, f.top),
+        ],
+        fg,
+        w,
+        LineDash::Solid,
+    )?;
     let t = ticks(&bar.y);
     let gap = p.px(2.5);
     let mut widest: f64 = 0.0;
-    let reference_y = reference.and_then(|(_, v)| bar.px_y(*v)).filter(|y| *y >= f.top - 0.5 && *y <= f.bottom + 0.5);
+    let reference_y = reference
+        .and_then(|(_, v)| bar.px_y(*v))
+        .filter(|y| *y >= f.top - 0.5 && *y <= f.bottom + 0.5);
     let (_, tick_h) = p.text_size("0", theme.tick_font_pt)?;
     for (v, label) in &t.major {
         if let Some(y) = bar.px_y(*v) {
-            p.polyline(&[(f.right, y), (f.right - p.px(2.0), y)], fg, w, LineDash::Solid)?;
+            p.polyline(
+                &[(f.right, y), (f.right - p.px(2.0), y)],
+                fg,
+                w,
+                LineDash::Solid,
+            )?;
             widest = widest.max(p.text_size(label, theme.tick_font_pt)?.0);
             // A tick label colliding with the reference label gives way to it.
             if reference_y.is_some_and(|ry| (ry - y).abs() < tick_h) {
                 continue;
             }
-            p.text(label, (f.right + gap, y), theme.tick_font_pt, fg, (HPos::Left, VPos::Center), Orientation::Horizontal)?;
+            p.text(
+                label,
+                (f.right + gap, y),
+                theme.tick_font_pt,
+                fg,
+                (HPos::Left, VPos::Center),
+                Orientation::Horizontal,
+            )?;
         }
     }
     if let (Some(y), Some((label, _))) = (reference_y, reference) {
-        p.polyline(&[(f.left - p.px(2.0), y), (f.right + p.px(2.0), y)], Rgba::hex(0x000000), w * 3.0, LineDash::Solid)?;
-        p.polyline(&[(f.left - p.px(2.0), y), (f.right + p.px(2.0), y)], Rgba::hex(0xffffff), w * 1.2, LineDash::Solid)?;
-        p.text(label, (f.right + gap, y), theme.tick_font_pt, fg, (HPos::Left, VPos::Center), Orientation::Horizontal)?;
+        p.polyline(
+            &[(f.left - p.px(2.0), y), (f.right + p.px(2.0), y)],
+            Rgba::hex(0x000000),
+            w * 3.0,
+            LineDash::Solid,
+        )?;
+        p.polyline(
+            &[(f.left - p.px(2.0), y), (f.right + p.px(2.0), y)],
+            Rgba::hex(0xffffff),
+            w * 1.2,
+            LineDash::Solid,
+        )?;
+        p.text(
+            label,
+            (f.right + gap, y),
+            theme.tick_font_pt,
+            fg,
+            (HPos::Left, VPos::Center),
+            Orientation::Horizontal,
+        )?;
         widest = widest.max(p.text_size(label, theme.tick_font_pt)?.0);
     }
     let (_, label_h) = p.text_size(&bar.y.label, theme.label_font_pt)?;
     let x = f.right + gap + widest + p.px(2.0) + 0.5 * label_h;
-    p.text(&bar.y.label, (x, 0.5 * (f.top + f.bottom)), theme.label_font_pt, fg, (HPos::Center, VPos::Center), Orientation::Up)
+    p.text(
+        &bar.y.label,
+        (x, 0.5 * (f.top + f.bottom)),
+        theme.label_font_pt,
+        fg,
+        (HPos::Center, VPos::Center),
+        Orientation::Up,
+    )
 }
 
 fn draw_map<DB: DrawingBackend>(
@@ -463,20 +827,40 @@ fn draw_map<DB: DrawingBackend>(
     area_size(area)?;
     let p = Painter::new(area, theme, pixels_per_point);
     let (x, y, bar) = map_axes(data);
-    let (main, bar) = map_panels(&p, x, y, bar, data.reference_value.as_ref().map(|r| r.0.as_str()))?;
+    let (main, bar) = map_panels(
+        &p,
+        x,
+        y,
+        bar,
+        data.reference_value.as_ref().map(|r| r.0.as_str()),
+    )?;
     let f = main.frame;
     let (w, h) = p.size();
     match cells {
         CellDrawing::Omit => fill_around(&p, &f, theme.background)?,
-        _ => p.fill_rect(Frame { left: 0.0, top: 0.0, right: w, bottom: h }, theme.background)?,
+        _ => p.fill_rect(
+            Frame {
+                left: 0.0,
+                top: 0.0,
+                right: w,
+                bottom: h,
+            },
+            theme.background,
+        )?,
     }
     match cells {
         CellDrawing::Raster => {
             let layout = main.to_layout((0, 0));
             let image = rasterise_map(data, theme, layout.width, layout.height)?;
             let rgb = image.to_rgb_over(theme.background);
-            if let Some(element) = BitMapElement::with_owned_buffer((layout.left, layout.top), (image.width, image.height), rgb) {
-                area.draw(&element).map_err(|e| ChartError::Drawing { message: e.to_string() })?;
+            if let Some(element) = BitMapElement::with_owned_buffer(
+                (layout.left, layout.top),
+                (image.width, image.height),
+                rgb,
+            ) {
+                area.draw(&element).map_err(|e| ChartError::Drawing {
+                    message: e.to_string(),
+                })?;
             }
         }
         CellDrawing::Rectangles => {
@@ -493,7 +877,15 @@ fn draw_map<DB: DrawingBackend>(
                         right: (xb + 1.0).min(f.right),
                         bottom: ya.min(f.bottom),
                     };
-                    p.fill_rect(cell, Rgba { r: c[0], g: c[1], b: c[2], a: c[3] })?;
+                    p.fill_rect(
+                        cell,
+                        Rgba {
+                            r: c[0],
+                            g: c[1],
+                            b: c[2],
+                            a: c[3],
+                        },
+                    )?;
                 }
             }
         }
@@ -502,34 +894,85 @@ fn draw_map<DB: DrawingBackend>(
     let mut entries: Vec<(String, SeriesStyle)> = Vec::new();
     let white = Rgba::hex(0xffffff);
     if !data.scale_height_over_r.is_empty() {
-        for (n, dash) in [(1.0, LineDash::Dotted), (2.0, LineDash::Dotted), (3.0, LineDash::Dotted)] {
-            let points: Vec<(f64, f64)> =
-                data.radius_au.iter().zip(&data.scale_height_over_r).filter_map(|(&r, &h)| main.px(r, n * h)).collect();
+        for (n, dash) in [
+            (1.0, LineDash::Dotted),
+            (2.0, LineDash::Dotted),
+            (3.0, LineDash::Dotted),
+        ] {
+            let points: Vec<(f64, f64)> = data
+                .radius_au
+                .iter()
+                .zip(&data.scale_height_over_r)
+                .filter_map(|(&r, &h)| main.px(r, n * h))
+                .collect();
             halo_line(&p, &main, &points, theme.line_width_pt * 0.7, dash)?;
             // Label each line where it leaves the frame or at its outer end.
-            if let Some(&(xe, ye)) = points.iter().rev().find(|(px, py)| *px <= f.right && *py >= f.top) {
+            if let Some(&(xe, ye)) = points
+                .iter()
+                .rev()
+                .find(|(px, py)| *px <= f.right && *py >= f.top)
+            {
                 let label = format!("{}H", n as u32);
                 let (tw, th) = p.text_size(&label, theme.legend_font_pt)?;
-                let (lx, ly) = ((xe - p.px(1.5)).min(f.right - p.px(1.5)), (ye - p.px(1.0)).max(f.top + th));
-                p.fill_rect(Frame { left: lx - tw - p.px(1.0), top: ly - th, right: lx + p.px(0.5), bottom: ly + p.px(0.5) }, Rgba::hex(0x000000).with_alpha(130))?;
-                p.text(&label, (lx, ly), theme.legend_font_pt, white, (HPos::Right, VPos::Bottom), Orientation::Horizontal)?;
+                let (lx, ly) = (
+                    (xe - p.px(1.5)).min(f.right - p.px(1.5)),
+                    (ye - p.px(1.0)).max(f.top + th),
+                );
+                p.fill_rect(
+                    Frame {
+                        left: lx - tw - p.px(1.0),
+                        top: ly - th,
+                        right: lx + p.px(0.5),
+                        bottom: ly + p.px(0.5),
+                    },
+                    Rgba::hex(0x000000).with_alpha(130),
+                )?;
+                p.text(
+                    &label,
+                    (lx, ly),
+                    theme.legend_font_pt,
+                    white,
+                    (HPos::Right, VPos::Bottom),
+                    Orientation::Horizontal,
+                )?;
             }
         }
-        entries.push(("1, 2, 3 H".to_string(), SeriesStyle::line(white, LineDash::Dotted)));
+        entries.push((
+            "1, 2, 3 H".to_string(),
+            SeriesStyle::line(white, LineDash::Dotted),
+        ));
     }
     if let Some(level) = data.contour_level {
         for line in data.contour(level) {
             let points: Vec<(f64, f64)> = line.iter().filter_map(|&(r, z)| main.px(r, z)).collect();
-            halo_line(&p, &main, &points, theme.line_width_pt * 1.2, LineDash::Solid)?;
+            halo_line(
+                &p,
+                &main,
+                &points,
+                theme.line_width_pt * 1.2,
+                LineDash::Solid,
+            )?;
         }
-        entries.push((data.contour_label.clone(), SeriesStyle::line(white, LineDash::Solid)));
+        entries.push((
+            data.contour_label.clone(),
+            SeriesStyle::line(white, LineDash::Solid),
+        ));
     }
     for line in &data.curves {
         let points: Vec<(f64, f64)> = line.iter().filter_map(|&(r, z)| main.px(r, z)).collect();
-        halo_line(&p, &main, &points, theme.line_width_pt * 1.2, LineDash::Dashed)?;
+        halo_line(
+            &p,
+            &main,
+            &points,
+            theme.line_width_pt * 1.2,
+            LineDash::Dashed,
+        )?;
     }
     if !data.curves.is_empty() {
-        entries.push(("given surface".to_string(), SeriesStyle::line(white, LineDash::Dashed)));
+        entries.push((
+            "given surface".to_string(),
+            SeriesStyle::line(white, LineDash::Dashed),
+        ));
     }
     p.axes(&main, AxisOptions::FULL)?;
     colour_bar(&p, &bar, data.colour_map, data.reference_value.as_ref())?;
@@ -545,7 +988,9 @@ fn draw_map<DB: DrawingBackend>(
         )?;
     }
     let base = area.get_base_pixel();
-    Ok(ChartLayout { panels: vec![main.to_layout(base), bar.to_layout(base)] })
+    Ok(ChartLayout {
+        panels: vec![main.to_layout(base), bar.to_layout(base)],
+    })
 }
 
 trait MinY {
@@ -615,12 +1060,26 @@ pub fn draw_chi2_map<DB: DrawingBackend>(
     area_size(area)?;
     let p = Painter::new(area, theme, pixels_per_point);
     let (nr, ns) = (data.radius_au.len(), data.solid_to_gas.len());
-    let min = data.chi2.iter().copied().filter(|v| v.is_finite()).fold(f64::INFINITY, f64::min);
+    let min = data
+        .chi2
+        .iter()
+        .copied()
+        .filter(|v| v.is_finite())
+        .fold(f64::INFINITY, f64::min);
     if !min.is_finite() {
         return Err(ChartError::EmptyData { field: "chi2" });
     }
     let largest = data.thresholds.iter().map(|t| t.1).fold(0.0, f64::max);
-    let top = if largest > 0.0 { 2.0 * largest } else { data.chi2.iter().copied().filter(|v| v.is_finite()).fold(0.0, f64::max) - min };
+    let top = if largest > 0.0 {
+        2.0 * largest
+    } else {
+        data.chi2
+            .iter()
+            .copied()
+            .filter(|v| v.is_finite())
+            .fold(0.0, f64::max)
+            - min
+    };
     let top = if top > 0.0 { top } else { 1.0 };
     let re = log_edges(&data.radius_au);
     let se = log_edges(&data.solid_to_gas);
@@ -629,19 +1088,46 @@ pub fn draw_chi2_map<DB: DrawingBackend>(
     let bar = AxisTransform::new(0.0, top, Scale::Linear, "\u{0394}\u{03c7}\u{00b2}");
     let (main, bar) = map_panels(&p, x, y, bar, None)?;
     let (w, h) = p.size();
-    p.fill_rect(Frame { left: 0.0, top: 0.0, right: w, bottom: h }, theme.background)?;
+    p.fill_rect(
+        Frame {
+            left: 0.0,
+            top: 0.0,
+            right: w,
+            bottom: h,
+        },
+        theme.background,
+    )?;
     let map = ColourMap::Cividis;
     for k in 0..ns {
         for i in 0..nr {
             let v = data.chi2[k * nr + i];
-            let c = if v.is_finite() { map.at((v - min) / top) } else { theme.undefined };
-            if let (Some((xa, ya)), Some((xb, yb))) = (main.px(re[i], se[k]), main.px(re[i + 1], se[k + 1])) {
+            let c = if v.is_finite() {
+                map.at((v - min) / top)
+            } else {
+                theme.undefined
+            };
+            if let (Some((xa, ya)), Some((xb, yb))) =
+                (main.px(re[i], se[k]), main.px(re[i + 1], se[k + 1]))
+            {
                 let f = main.frame;
-                p.fill_rect(Frame { left: xa, top: (yb - 1.0).max(f.top), right: (xb + 1.0).min(f.right), bottom: ya }, c)?;
+                p.fill_rect(
+                    Frame {
+                        left: xa,
+                        top: (yb - 1.0).max(f.top),
+                        right: (xb + 1.0).min(f.right),
+                        bottom: ya,
+                    },
+                    c,
+                )?;
             }
         }
     }
-    let dashes = [LineDash::Solid, LineDash::Dashed, LineDash::Dotted, LineDash::DashDot];
+    let dashes = [
+        LineDash::Solid,
+        LineDash::Dashed,
+        LineDash::Dotted,
+        LineDash::DashDot,
+    ];
     let mut entries = Vec::new();
     for (n, (label, delta)) in data.thresholds.iter().enumerate() {
         let dash = dashes[n % dashes.len()];
@@ -653,7 +1139,10 @@ pub fn draw_chi2_map<DB: DrawingBackend>(
             *delta,
         );
         for line in lines {
-            let points: Vec<(f64, f64)> = line.iter().filter_map(|&(a, b)| main.px(10f64.powf(a), 10f64.powf(b))).collect();
+            let points: Vec<(f64, f64)> = line
+                .iter()
+                .filter_map(|&(a, b)| main.px(10f64.powf(a), 10f64.powf(b)))
+                .collect();
             halo_line(&p, &main, &points, theme.line_width_pt * 1.1, dash)?;
         }
         entries.push((label.clone(), SeriesStyle::line(Rgba::hex(0xffffff), dash)));
@@ -661,7 +1150,10 @@ pub fn draw_chi2_map<DB: DrawingBackend>(
     if let Some((r, s)) = data.best {
         if let Some(pt) = main.px(r, s) {
             p.marker(pt, Marker::Cross, Rgba::hex(0xffffff))?;
-            entries.push(("best fit".to_string(), SeriesStyle::line(Rgba::hex(0xffffff), LineDash::Solid).with_marker(Marker::Cross)));
+            entries.push((
+                "best fit".to_string(),
+                SeriesStyle::line(Rgba::hex(0xffffff), LineDash::Solid).with_marker(Marker::Cross),
+            ));
         }
     }
     p.axes(&main, AxisOptions::FULL)?;
@@ -677,5 +1169,7 @@ pub fn draw_chi2_map<DB: DrawingBackend>(
         )?;
     }
     let base = area.get_base_pixel();
-    Ok(ChartLayout { panels: vec![main.to_layout(base), bar.to_layout(base)] })
+    Ok(ChartLayout {
+        panels: vec![main.to_layout(base), bar.to_layout(base)],
+    })
 }

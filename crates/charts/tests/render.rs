@@ -11,19 +11,33 @@ fn default_model() -> Model {
 }
 
 fn all_views() -> Vec<View> {
-    vec![View::CToOProfile, View::TemperatureProfile, View::IceMap(Species::CO), View::IceMap(Species::H2O), View::CToOMap, View::Abundances]
+    vec![
+        View::CToOProfile,
+        View::TemperatureProfile,
+        View::IceMap(Species::CO),
+        View::IceMap(Species::H2O),
+        View::CToOMap,
+        View::Abundances,
+    ]
 }
 
 /// Every `<text>` element's content.
 fn svg_texts(svg: &str) -> Vec<String> {
     let doc = roxmltree::Document::parse(svg).expect("svg parses as xml");
-    doc.descendants().filter(|n| n.has_tag_name("text")).map(|n| n.text().unwrap_or("").trim().to_string()).collect()
+    doc.descendants()
+        .filter(|n| n.has_tag_name("text"))
+        .map(|n| n.text().unwrap_or("").trim().to_string())
+        .collect()
 }
 
 fn chi2_figure() -> Figure {
     // An invented paraboloid in (log r, log ratio), minimum at r = 10 au, ratio 0.1 (demo data).
-    let radii: Vec<f64> = (0..30).map(|i| 10f64.powf(-1.0 + 3.0 * i as f64 / 29.0)).collect();
-    let ratios: Vec<f64> = (0..20).map(|k| 10f64.powf(-3.0 + 3.0 * k as f64 / 19.0)).collect();
+    let radii: Vec<f64> = (0..30)
+        .map(|i| 10f64.powf(-1.0 + 3.0 * i as f64 / 29.0))
+        .collect();
+    let ratios: Vec<f64> = (0..20)
+        .map(|k| 10f64.powf(-3.0 + 3.0 * k as f64 / 19.0))
+        .collect();
     let mut chi2 = Vec::new();
     for s in &ratios {
         for r in &radii {
@@ -33,27 +47,72 @@ fn chi2_figure() -> Figure {
     }
     // One undefined corner, to check it is drawn as undefined and not as a number.
     chi2[0] = f64::NAN;
-    let thresholds = vec![("1\u{03c3}".to_string(), 2.30), ("2\u{03c3}".to_string(), 6.18)];
-    Figure::Chi2(Chi2Data::new(&radii, &ratios, &chi2, &thresholds, Some((10.0, 0.1))))
+    let thresholds = vec![
+        ("1\u{03c3}".to_string(), 2.30),
+        ("2\u{03c3}".to_string(), 6.18),
+    ];
+    Figure::Chi2(Chi2Data::new(
+        &radii,
+        &ratios,
+        &chi2,
+        &thresholds,
+        Some((10.0, 0.1)),
+    ))
 }
 
 #[test]
 fn svg_parses_and_keeps_axis_labels_as_text() {
     let model = default_model();
     let expected: [(View, &[&str]); 5] = [
-        (View::CToOProfile, &["r [au]", "C/O", "gas", "ices", "all solids", "star", "H\u{2082}O"]),
-        (View::TemperatureProfile, &["r [au]", "T [K]", "\u{03a3} [g cm\u{207b}\u{00b2}]", "midplane"]),
-        (View::IceMap(Species::CO), &["r [au]", "z/r", "CO ice fraction", "1H", "f = 0.5"]),
+        (
+            View::CToOProfile,
+            &[
+                "r [au]",
+                "C/O",
+                "gas",
+                "ices",
+                "all solids",
+                "star",
+                "H\u{2082}O",
+            ],
+        ),
+        (
+            View::TemperatureProfile,
+            &[
+                "r [au]",
+                "T [K]",
+                "\u{03a3} [g cm\u{207b}\u{00b2}]",
+                "midplane",
+            ],
+        ),
+        (
+            View::IceMap(Species::CO),
+            &["r [au]", "z/r", "CO ice fraction", "1H", "f = 0.5"],
+        ),
         (View::CToOMap, &["r [au]", "z/r", "gas C/O", "star"]),
-        (View::Abundances, &["r [au]", "X/H (gas)", "X/H (ice)", "CH\u{2083}OH"]),
+        (
+            View::Abundances,
+            &["r [au]", "X/H (gas)", "X/H (ice)", "CH\u{2083}OH"],
+        ),
     ];
     for (view, labels) in expected {
-        let svg = render_svg(&Figure::from_model(view, &model), &Theme::light(), FigureSize::single_column()).unwrap();
+        let svg = render_svg(
+            &Figure::from_model(view, &model),
+            &Theme::light(),
+            FigureSize::single_column(),
+        )
+        .unwrap();
         let texts = svg_texts(&svg);
         for label in labels {
-            assert!(texts.iter().any(|t| t == label), "{view:?}: no <text> {label:?} in {texts:?}");
+            assert!(
+                texts.iter().any(|t| t == label),
+                "{view:?}: no <text> {label:?} in {texts:?}"
+            );
         }
-        assert!(svg.contains("width=\"252pt\"") && svg.contains("height=\"189pt\""), "{view:?}: physical size");
+        assert!(
+            svg.contains("width=\"252pt\"") && svg.contains("height=\"189pt\""),
+            "{view:?}: physical size"
+        );
         assert!(svg.contains("font-family=\"DejaVu Sans, Verdana, Arial, Helvetica, sans-serif\""));
     }
 }
@@ -61,10 +120,15 @@ fn svg_parses_and_keeps_axis_labels_as_text() {
 #[test]
 fn no_nan_reaches_the_output() {
     let model = default_model();
-    let mut figures: Vec<Figure> = all_views().into_iter().map(|v| Figure::from_model(v, &model)).collect();
+    let mut figures: Vec<Figure> = all_views()
+        .into_iter()
+        .map(|v| Figure::from_model(v, &model))
+        .collect();
     figures.push(chi2_figure());
     // A profile with holes: undefined values must break lines, not print.
-    let mut holes = ProfileData::from_model(&model).with_planet_radius_au(5.0).with_allowed_formation_radii_au(vec![(2.0, 8.0)]);
+    let mut holes = ProfileData::from_model(&model)
+        .with_planet_radius_au(5.0)
+        .with_allowed_formation_radii_au(vec![(2.0, 8.0)]);
     for j in (0..holes.radius_au.len()).step_by(7) {
         holes.c_to_o_gas[j] = None;
         holes.c_to_o_ice[j] = Some(f64::NAN);
@@ -73,7 +137,10 @@ fn no_nan_reaches_the_output() {
     for theme in [Theme::light(), Theme::dark()] {
         for f in &figures {
             let svg = render_svg(f, &theme, FigureSize::single_column()).unwrap();
-            assert!(!svg.contains("NaN") && !svg.contains("inf"), "NaN or inf in SVG output");
+            assert!(
+                !svg.contains("NaN") && !svg.contains("inf"),
+                "NaN or inf in SVG output"
+            );
             roxmltree::Document::parse(&svg).expect("svg parses as xml");
         }
     }
@@ -109,7 +176,14 @@ fn png_size_matches_width_and_dpi() {
         (FigureSize::single_column(), 300.0, (1050, 788)),
         // 511 pt = 7.097 in x 150 dpi = 1064.6 -> 1065 px.
         (FigureSize::double_column(), 150.0, (1065, 798)),
-        (FigureSize { width_pt: 144.0, height_pt: 144.0 }, 72.0, (144, 144)),
+        (
+            FigureSize {
+                width_pt: 144.0,
+                height_pt: 144.0,
+            },
+            72.0,
+            (144, 144),
+        ),
     ] {
         let bytes = render_png(&figure, &Theme::light(), size, dpi).unwrap();
         let (w, h, ppm) = png_header(&bytes);
@@ -135,18 +209,32 @@ fn decode(bytes: &[u8]) -> (u32, u32, Vec<u8>) {
 #[test]
 fn every_view_draws_a_non_blank_png() {
     let model = default_model();
-    let mut figures: Vec<(String, Figure)> = all_views().into_iter().map(|v| (format!("{v:?}"), Figure::from_model(v, &model))).collect();
+    let mut figures: Vec<(String, Figure)> = all_views()
+        .into_iter()
+        .map(|v| (format!("{v:?}"), Figure::from_model(v, &model)))
+        .collect();
     figures.push(("chi2".into(), chi2_figure()));
     for theme in [Theme::light(), Theme::dark()] {
         let bg = theme.background;
         for (name, f) in &figures {
             let bytes = render_png(f, &theme, FigureSize::single_column(), 150.0).unwrap();
             let (w, h, px) = decode(&bytes);
-            let differing = px.chunks_exact(3).filter(|p| (p[0], p[1], p[2]) != (bg.r, bg.g, bg.b)).count();
+            let differing = px
+                .chunks_exact(3)
+                .filter(|p| (p[0], p[1], p[2]) != (bg.r, bg.g, bg.b))
+                .count();
             let fraction = differing as f64 / (w * h) as f64;
             // Axes, text and lines alone cover a few percent; maps cover most of the area.
-            let floor = if name.contains("Map") || name == "chi2" { 0.4 } else { 0.02 };
-            assert!(fraction > floor, "{name}: only {:.3} of pixels differ from the background", fraction);
+            let floor = if name.contains("Map") || name == "chi2" {
+                0.4
+            } else {
+                0.02
+            };
+            assert!(
+                fraction > floor,
+                "{name}: only {:.3} of pixels differ from the background",
+                fraction
+            );
         }
     }
 }
@@ -186,9 +274,16 @@ fn layout_maps_pixels_back_to_data() {
     };
     let p = layout.main();
     // The left edge is the innermost radius, the right edge the outermost; the bottom is C/O = 0.
-    let (x, y) = layout.data_at(p.left as f64, (p.top + p.height as i32) as f64).unwrap();
-    assert!((x / data.radius_au[0] - 1.0).abs() < 1e-9 && y.abs() < 1e-9, "{x} {y}");
-    let (x, _) = layout.data_at((p.left + p.width as i32) as f64, p.top as f64).unwrap();
+    let (x, y) = layout
+        .data_at(p.left as f64, (p.top + p.height as i32) as f64)
+        .unwrap();
+    assert!(
+        (x / data.radius_au[0] - 1.0).abs() < 1e-9 && y.abs() < 1e-9,
+        "{x} {y}"
+    );
+    let (x, _) = layout
+        .data_at((p.left + p.width as i32) as f64, p.top as f64)
+        .unwrap();
     assert!((x / data.radius_au.last().unwrap() - 1.0).abs() < 1e-9);
     assert_eq!(layout.data_at(0.0, 0.0), None);
 }
@@ -200,8 +295,21 @@ fn map_layout_matches_the_drawn_layout() {
     use plotters::prelude::{IntoDrawingArea, SVGBackend};
     let mut a = String::new();
     let mut b = String::new();
-    let planned = map_layout(&SVGBackend::with_string(&mut a, (640, 360)).into_drawing_area(), &data, &Theme::dark(), 1.0).unwrap();
-    let drawn = draw_c_to_o_map(&SVGBackend::with_string(&mut b, (640, 360)).into_drawing_area(), &data, &Theme::dark(), 1.0, CellDrawing::Omit).unwrap();
+    let planned = map_layout(
+        &SVGBackend::with_string(&mut a, (640, 360)).into_drawing_area(),
+        &data,
+        &Theme::dark(),
+        1.0,
+    )
+    .unwrap();
+    let drawn = draw_c_to_o_map(
+        &SVGBackend::with_string(&mut b, (640, 360)).into_drawing_area(),
+        &data,
+        &Theme::dark(),
+        1.0,
+        CellDrawing::Omit,
+    )
+    .unwrap();
     assert_eq!(planned, drawn);
 }
 
@@ -210,16 +318,29 @@ fn bad_input_is_an_error_not_a_panic() {
     let model = default_model();
     let mut data = ProfileData::from_model(&model);
     data.c_to_o_gas.pop();
-    let err = render_svg(&Figure::CToOProfile(data), &Theme::light(), FigureSize::single_column()).unwrap_err();
+    let err = render_svg(
+        &Figure::CToOProfile(data),
+        &Theme::light(),
+        FigureSize::single_column(),
+    )
+    .unwrap_err();
     assert_eq!(err.to_string(), "c_to_o_gas must have 200 entries, got 199");
     let figure = Figure::from_model(View::CToOProfile, &model);
     #[cfg(feature = "png")]
     {
-        let err = render_png(&figure, &Theme::light(), FigureSize::single_column(), 0.0).unwrap_err();
+        let err =
+            render_png(&figure, &Theme::light(), FigureSize::single_column(), 0.0).unwrap_err();
         assert_eq!(err.to_string(), "dpi must be between 36 and 1200, got 0");
     }
-    let err = render_svg(&figure, &Theme::light(), FigureSize::with_width_pt(f64::NAN)).unwrap_err();
-    assert!(err.to_string().starts_with("width_pt must be between 72 and 2880"));
+    let err = render_svg(
+        &figure,
+        &Theme::light(),
+        FigureSize::with_width_pt(f64::NAN),
+    )
+    .unwrap_err();
+    assert!(err
+        .to_string()
+        .starts_with("width_pt must be between 72 and 2880"));
 }
 
 #[cfg(feature = "png")]
@@ -228,7 +349,13 @@ fn png_text_is_drawn_in_the_margins() {
     // Only text lives in the leftmost 4 % of a profile figure (y tick labels and the
     // rotated axis label), so pixels there that differ from the background are text.
     let model = default_model();
-    let bytes = render_png(&Figure::from_model(View::TemperatureProfile, &model), &Theme::light(), FigureSize::single_column(), 300.0).unwrap();
+    let bytes = render_png(
+        &Figure::from_model(View::TemperatureProfile, &model),
+        &Theme::light(),
+        FigureSize::single_column(),
+        300.0,
+    )
+    .unwrap();
     let (w, h, px) = decode(&bytes);
     let strip = (w as f64 * 0.04) as usize;
     let mut inked = 0;
@@ -252,7 +379,12 @@ fn omit_leaves_the_plot_rectangle_to_the_caller() {
     let data = MapData::ice_fraction(&model, Species::CO);
     let (w, h) = (640u32, 360u32);
     let sentinel = [1u8, 2, 3];
-    let mut rgb: Vec<u8> = sentinel.iter().copied().cycle().take((w * h * 3) as usize).collect();
+    let mut rgb: Vec<u8> = sentinel
+        .iter()
+        .copied()
+        .cycle()
+        .take((w * h * 3) as usize)
+        .collect();
     let layout = {
         let area = BitMapBackend::with_buffer(&mut rgb, (w, h)).into_drawing_area();
         draw_ice_map(&area, &data, &Theme::light(), 1.0, CellDrawing::Omit).unwrap()
@@ -268,7 +400,10 @@ fn omit_leaves_the_plot_rectangle_to_the_caller() {
             }
         }
     }
-    assert!(kept as f64 > 0.8 * total as f64, "only {kept} of {total} plot pixels left alone");
+    assert!(
+        kept as f64 > 0.8 * total as f64,
+        "only {kept} of {total} plot pixels left alone"
+    );
     // Outside the plot rectangle the background was painted.
     assert_ne!(rgb[0..3], sentinel);
 }

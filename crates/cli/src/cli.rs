@@ -5,7 +5,10 @@ use nivalis_disk_files::{parse_disk_json, DiskFile};
 use nivalis_exports::formats::json_text;
 use nivalis_exports::methods::methods;
 use nivalis_exports::snowlines::snowlines_json;
-use nivalis_exports::{map_table, model_table, structure_table, to_csv, to_ecsv, to_json, MapQuantity, Provenance, Table};
+use nivalis_exports::{
+    map_table, model_table, structure_table, to_csv, to_ecsv, to_json, MapQuantity, Provenance,
+    Table,
+};
 use nivalis_physics::Model;
 use std::io::{Read, Write};
 use std::path::PathBuf;
@@ -230,7 +233,12 @@ enum Command {
         #[arg(long = "c-to-o-sigma", value_name = "SIGMA")]
         c_to_o_sigma: f64,
         /// Observed [C/H] [dex] relative to the star.
-        #[arg(long = "c-to-h-dex", value_name = "DEX", requires = "c_to_h_sigma", conflicts_with = "o_to_h_dex")]
+        #[arg(
+            long = "c-to-h-dex",
+            value_name = "DEX",
+            requires = "c_to_h_sigma",
+            conflicts_with = "o_to_h_dex"
+        )]
         c_to_h_dex: Option<f64>,
         /// 1-sigma error of [C/H] [dex].
         #[arg(long = "c-to-h-sigma", value_name = "DEX", requires = "c_to_h_dex")]
@@ -341,9 +349,13 @@ fn read_disk(path: &PathBuf) -> Result<DiskFile, Failure> {
         std::fs::read_to_string(path).map(|t| text = t)
     };
     if let Err(e) = read {
-        return Err(Failure::input(vec![format!("{label}: cannot read the disk file: {e}")]));
+        return Err(Failure::input(vec![format!(
+            "{label}: cannot read the disk file: {e}"
+        )]));
     }
-    parse_disk_json(&text).map_err(|problems| Failure::input(problems.0.iter().map(|p| format!("{label}: {p}")).collect()))
+    parse_disk_json(&text).map_err(|problems| {
+        Failure::input(problems.0.iter().map(|p| format!("{label}: {p}")).collect())
+    })
 }
 
 fn run_model(file: &DiskFile) -> Result<Model, Failure> {
@@ -356,15 +368,20 @@ fn write_output(out: &Option<PathBuf>, text: &str) -> Result<(), Failure> {
 
 fn write_bytes(out: &Option<PathBuf>, bytes: &[u8]) -> Result<(), Failure> {
     match out {
-        Some(path) => std::fs::write(path, bytes)
-            .map_err(|e| Failure { code: 1, lines: vec![format!("{}: cannot write: {e}", path.display())] }),
+        Some(path) => std::fs::write(path, bytes).map_err(|e| Failure {
+            code: 1,
+            lines: vec![format!("{}: cannot write: {e}", path.display())],
+        }),
         None => {
             let mut stdout = std::io::stdout().lock();
             match stdout.write_all(bytes).and_then(|_| stdout.flush()) {
                 Ok(()) => Ok(()),
                 // A closed pipe (e.g. `| head`) is not an error of ours.
                 Err(e) if e.kind() == std::io::ErrorKind::BrokenPipe => Ok(()),
-                Err(e) => Err(Failure { code: 1, lines: vec![format!("cannot write to standard output: {e}")] }),
+                Err(e) => Err(Failure {
+                    code: 1,
+                    lines: vec![format!("cannot write to standard output: {e}")],
+                }),
             }
         }
     }
@@ -374,7 +391,11 @@ fn render(table: &Table, format: TableFormat, file: &DiskFile) -> String {
     match format {
         TableFormat::Csv => to_csv(table),
         TableFormat::Ecsv => to_ecsv(table, &Provenance::of(file), &methods(&file.parameters)),
-        TableFormat::Json => json_text(&to_json(table, &Provenance::of(file), &methods(&file.parameters))),
+        TableFormat::Json => json_text(&to_json(
+            table,
+            &Provenance::of(file),
+            &methods(&file.parameters),
+        )),
     }
 }
 
@@ -384,37 +405,73 @@ fn execute(args: Args) -> Result<(), Failure> {
             let file = read_disk(&disk)?;
             // Physics-level checks (e.g. a self-consistent flaring solve that cannot converge) need a run.
             run_model(&file)?;
-            println!("{}: valid {} file", disk.display(), nivalis_disk_files::SCHEMA);
+            println!(
+                "{}: valid {} file",
+                disk.display(),
+                nivalis_disk_files::SCHEMA
+            );
             Ok(())
         }
         Command::Structure { disk, output } => {
             let file = read_disk(&disk)?;
             let model = run_model(&file)?;
-            write_output(&output.out, &render(&structure_table(&model), output.format, &file))
+            write_output(
+                &output.out,
+                &render(&structure_table(&model), output.format, &file),
+            )
         }
         Command::Model { disk, output } => {
             let file = read_disk(&disk)?;
             let model = run_model(&file)?;
-            write_output(&output.out, &render(&model_table(&model), output.format, &file))
+            write_output(
+                &output.out,
+                &render(&model_table(&model), output.format, &file),
+            )
         }
         Command::Elements { disk, output } => {
             let file = read_disk(&disk)?;
             let model = run_model(&file)?;
-            write_output(&output.out, &render(&nivalis_exports::elements_table(&model), output.format, &file))
+            write_output(
+                &output.out,
+                &render(
+                    &nivalis_exports::elements_table(&model),
+                    output.format,
+                    &file,
+                ),
+            )
         }
-        Command::Map { disk, quantity, output } => {
+        Command::Map {
+            disk,
+            quantity,
+            output,
+        } => {
             let q = MapQuantity::parse(&quantity).map_err(|e| Failure::input(vec![e]))?;
             let file = read_disk(&disk)?;
             let model = run_model(&file)?;
             let name = quantity.replace(':', "_");
-            write_output(&output.out, &render(&map_table(&model, q, &name), output.format, &file))
+            write_output(
+                &output.out,
+                &render(&map_table(&model, q, &name), output.format, &file),
+            )
         }
         Command::Snowlines { disk, out } => {
             let file = read_disk(&disk)?;
             let model = run_model(&file)?;
-            write_output(&out, &json_text(&snowlines_json(&model, &Provenance::of(&file))))
+            write_output(
+                &out,
+                &json_text(&snowlines_json(&model, &Provenance::of(&file))),
+            )
         }
-        Command::Planet { disk, radius_au, to_radius_au, weighting, solid_to_gas, mix, format, out } => {
+        Command::Planet {
+            disk,
+            radius_au,
+            to_radius_au,
+            weighting,
+            solid_to_gas,
+            mix,
+            format,
+            out,
+        } => {
             use nivalis_physics::planet::{planet, FormationPlace, PlanetRequest, RadialWeighting};
             let file = read_disk(&disk)?;
             let model = run_model(&file)?;
@@ -429,24 +486,62 @@ fn execute(args: Args) -> Result<(), Failure> {
                     },
                 },
             };
-            let request = PlanetRequest { place, gas_mass_g: 1.0, solid_to_gas, solid_mixing_fraction: mix };
-            let result = planet(&model, &request).map_err(|e| Failure::input(vec![e.to_string()]))?;
+            let request = PlanetRequest {
+                place,
+                gas_mass_g: 1.0,
+                solid_to_gas,
+                solid_mixing_fraction: mix,
+            };
+            let result =
+                planet(&model, &request).map_err(|e| Failure::input(vec![e.to_string()]))?;
             let text = match format {
-                PlanetFormat::Json => json_text(&nivalis_exports::planet::planet_json(&result, &place, &Provenance::of(&file))),
+                PlanetFormat::Json => json_text(&nivalis_exports::planet::planet_json(
+                    &result,
+                    &place,
+                    &Provenance::of(&file),
+                )),
                 PlanetFormat::Csv => to_csv(&nivalis_exports::planet::planet_table(&result)),
             };
             write_output(&out, &text)
         }
-        Command::Fit { disk, c_to_o, c_to_o_sigma, c_to_h_dex, c_to_h_sigma, o_to_h_dex, o_to_h_sigma, mix, ratios, convention, figure, output } => {
-            use nivalis_physics::planet::{chi_square_map, ConfidenceConvention, MapSettings, MetallicityTracer, ObservedEnvelope, ObservedMetallicity};
+        Command::Fit {
+            disk,
+            c_to_o,
+            c_to_o_sigma,
+            c_to_h_dex,
+            c_to_h_sigma,
+            o_to_h_dex,
+            o_to_h_sigma,
+            mix,
+            ratios,
+            convention,
+            figure,
+            output,
+        } => {
+            use nivalis_physics::planet::{
+                chi_square_map, ConfidenceConvention, MapSettings, MetallicityTracer,
+                ObservedEnvelope, ObservedMetallicity,
+            };
             let file = read_disk(&disk)?;
             let model = run_model(&file)?;
             let metallicity = match (c_to_h_dex, c_to_h_sigma, o_to_h_dex, o_to_h_sigma) {
-                (Some(dex), Some(sigma_dex), _, _) => Some(ObservedMetallicity { tracer: MetallicityTracer::Carbon, dex, sigma_dex }),
-                (_, _, Some(dex), Some(sigma_dex)) => Some(ObservedMetallicity { tracer: MetallicityTracer::Oxygen, dex, sigma_dex }),
+                (Some(dex), Some(sigma_dex), _, _) => Some(ObservedMetallicity {
+                    tracer: MetallicityTracer::Carbon,
+                    dex,
+                    sigma_dex,
+                }),
+                (_, _, Some(dex), Some(sigma_dex)) => Some(ObservedMetallicity {
+                    tracer: MetallicityTracer::Oxygen,
+                    dex,
+                    sigma_dex,
+                }),
                 _ => None,
             };
-            let observed = ObservedEnvelope { c_to_o, c_to_o_sigma, metallicity };
+            let observed = ObservedEnvelope {
+                c_to_o,
+                c_to_o_sigma,
+                metallicity,
+            };
             let settings = MapSettings {
                 ratio_count: ratios,
                 solid_mixing_fraction: mix,
@@ -455,13 +550,16 @@ fn execute(args: Args) -> Result<(), Failure> {
                     Convention::FittedQuantities => ConfidenceConvention::FittedQuantities,
                 },
             };
-            let map = chi_square_map(&model, &observed, &settings).map_err(|e| Failure::input(vec![e.to_string()]))?;
+            let map = chi_square_map(&model, &observed, &settings)
+                .map_err(|e| Failure::input(vec![e.to_string()]))?;
             let prov = Provenance::of(&file);
             let used = methods(&file.parameters);
             let text = match output.format {
                 TableFormat::Csv => to_csv(&nivalis_exports::planet::fit_table(&map)),
                 TableFormat::Ecsv => nivalis_exports::planet::fit_ecsv(&map, &prov, &used),
-                TableFormat::Json => json_text(&nivalis_exports::planet::fit_json(&map, &prov, &used)),
+                TableFormat::Json => {
+                    json_text(&nivalis_exports::planet::fit_json(&map, &prov, &used))
+                }
             };
             for line in map.degeneracy_summary() {
                 eprintln!("note: {line}");
@@ -469,18 +567,37 @@ fn execute(args: Args) -> Result<(), Failure> {
             if let Some(path) = &figure {
                 use nivalis_charts::{render_png, render_svg, Chi2Data, Figure, FigureSize, Theme};
                 let fig = Figure::Chi2(Chi2Data::from_map(&map));
-                let chart_failure = |e: nivalis_charts::ChartError| Failure::input(vec![e.to_string()]);
-                if path.extension().is_some_and(|e| e.eq_ignore_ascii_case("png")) {
-                    let png = render_png(&fig, &Theme::light(), FigureSize::single_column(), 300.0).map_err(chart_failure)?;
-                    write_bytes(&Some(path.clone()), &nivalis_exports::figures::embed_png_provenance(&png, &prov, "chi2_map"))?;
+                let chart_failure =
+                    |e: nivalis_charts::ChartError| Failure::input(vec![e.to_string()]);
+                if path
+                    .extension()
+                    .is_some_and(|e| e.eq_ignore_ascii_case("png"))
+                {
+                    let png = render_png(&fig, &Theme::light(), FigureSize::single_column(), 300.0)
+                        .map_err(chart_failure)?;
+                    write_bytes(
+                        &Some(path.clone()),
+                        &nivalis_exports::figures::embed_png_provenance(&png, &prov, "chi2_map"),
+                    )?;
                 } else {
-                    let svg = render_svg(&fig, &Theme::light(), FigureSize::single_column()).map_err(chart_failure)?;
-                    write_output(&Some(path.clone()), &nivalis_exports::figures::embed_svg_provenance(&svg, &prov, "chi2_map"))?;
+                    let svg = render_svg(&fig, &Theme::light(), FigureSize::single_column())
+                        .map_err(chart_failure)?;
+                    write_output(
+                        &Some(path.clone()),
+                        &nivalis_exports::figures::embed_svg_provenance(&svg, &prov, "chi2_map"),
+                    )?;
                 }
             }
             write_output(&output.out, &text)
         }
-        Command::Anchor { disk, species, radius_au, sigma_au, adjust, out } => {
+        Command::Anchor {
+            disk,
+            species,
+            radius_au,
+            sigma_au,
+            adjust,
+            out,
+        } => {
             use nivalis_physics::anchor::{anchor_to_snowline, AnchorParameter, AnchorRequest};
             let sp = nivalis_physics::Species::from_key(&species).ok_or_else(|| {
                 Failure::input(vec![format!(
@@ -493,19 +610,38 @@ fn execute(args: Args) -> Result<(), Failure> {
                 Adjust::FlaringAngle => AnchorParameter::FlaringAngle,
                 Adjust::TemperatureScale => AnchorParameter::MidplaneTemperatureScale,
             };
-            let anchored = anchor_to_snowline(&file.parameters, &AnchorRequest::new(sp, radius_au, sigma_au, parameter))
-                .map_err(|e| Failure::input(vec![e.to_string()]))?;
+            let anchored = anchor_to_snowline(
+                &file.parameters,
+                &AnchorRequest::new(sp, radius_au, sigma_au, parameter),
+            )
+            .map_err(|e| Failure::input(vec![e.to_string()]))?;
             let summary = nivalis_exports::planet::anchor_summary(&anchored);
             for line in &summary {
                 eprintln!("{line}");
             }
             let mut anchored_file = file.clone();
             anchored_file.parameters = anchored.parameters.clone();
-            let note = format!("[{}] {}.", nivalis_exports::provenance::program_version(), summary[0]);
-            anchored_file.notes = if file.notes.is_empty() { note } else { format!("{} {note}", file.notes) };
+            let note = format!(
+                "[{}] {}.",
+                nivalis_exports::provenance::program_version(),
+                summary[0]
+            );
+            anchored_file.notes = if file.notes.is_empty() {
+                note
+            } else {
+                format!("{} {note}", file.notes)
+            };
             write_output(&out, &nivalis_disk_files::to_json_string(&anchored_file))
         }
-        Command::Figure { disk, view, format, width, dpi, theme, out } => {
+        Command::Figure {
+            disk,
+            view,
+            format,
+            width,
+            dpi,
+            theme,
+            out,
+        } => {
             use nivalis_charts::{render_png, render_svg, Figure, FigureSize, Theme};
             let v = parse_view(&view).map_err(|e| Failure::input(vec![e]))?;
             let file = read_disk(&disk)?;
@@ -524,11 +660,17 @@ fn execute(args: Args) -> Result<(), Failure> {
             match format {
                 FigureFormat::Svg => {
                     let svg = render_svg(&figure, &theme, size).map_err(chart_failure)?;
-                    write_output(&out, &nivalis_exports::figures::embed_svg_provenance(&svg, &prov, &view))
+                    write_output(
+                        &out,
+                        &nivalis_exports::figures::embed_svg_provenance(&svg, &prov, &view),
+                    )
                 }
                 FigureFormat::Png => {
                     let png = render_png(&figure, &theme, size, dpi).map_err(chart_failure)?;
-                    write_bytes(&out, &nivalis_exports::figures::embed_png_provenance(&png, &prov, &view))
+                    write_bytes(
+                        &out,
+                        &nivalis_exports::figures::embed_png_provenance(&png, &prov, &view),
+                    )
                 }
             }
         }
@@ -539,7 +681,14 @@ fn execute(args: Args) -> Result<(), Failure> {
             if let Some(path) = &bibtex {
                 write_output(&Some(path.clone()), &nivalis_exports::bibtex::bibtex(&used))?;
             }
-            write_output(&out, &nivalis_exports::bibtex::methods_paragraph(&file.parameters, &used, &Provenance::of(&file)))
+            write_output(
+                &out,
+                &nivalis_exports::bibtex::methods_paragraph(
+                    &file.parameters,
+                    &used,
+                    &Provenance::of(&file),
+                ),
+            )
         }
     }
 }

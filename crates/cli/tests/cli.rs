@@ -7,7 +7,11 @@ use std::path::{Path, PathBuf};
 use std::process::{Command, Output};
 
 fn nivalis(args: &[&str]) -> Output {
-    Command::new(env!("CARGO_BIN_EXE_nivalis")).args(args).current_dir(repo_root()).output().expect("nivalis runs")
+    Command::new(env!("CARGO_BIN_EXE_nivalis"))
+        .args(args)
+        .current_dir(repo_root())
+        .output()
+        .expect("nivalis runs")
 }
 
 fn repo_root() -> PathBuf {
@@ -53,7 +57,10 @@ fn bad_disk_file_lists_every_problem_and_exits_2() {
     ];
     assert_eq!(lines.len(), expected_fields.len(), "{lines:#?}");
     for (line, field) in lines.iter().zip(expected_fields) {
-        assert!(line.starts_with("error: ") && line.contains(field), "{line} !~ {field}");
+        assert!(
+            line.starts_with("error: ") && line.contains(field),
+            "{line} !~ {field}"
+        );
     }
     // `check` reports the same problems.
     assert_eq!(stderr(&nivalis(&["check", p])), stderr(&out));
@@ -61,7 +68,11 @@ fn bad_disk_file_lists_every_problem_and_exits_2() {
 
 #[test]
 fn valid_files_check_and_run_without_nan() {
-    for disk in ["demo_disks/young_sun.json", "demo_disks/luminous_herbig.json", "demo_disks/step_model_comparison.json"] {
+    for disk in [
+        "demo_disks/young_sun.json",
+        "demo_disks/luminous_herbig.json",
+        "demo_disks/step_model_comparison.json",
+    ] {
         assert_eq!(nivalis(&["check", disk]).status.code(), Some(0), "{disk}");
         for args in [
             vec!["structure", disk],
@@ -70,13 +81,23 @@ fn valid_files_check_and_run_without_nan() {
             vec!["model", disk, "--format", "ecsv"],
             vec!["model", disk, "--format", "json"],
             vec!["map", disk, "--quantity", "c_to_o_gas"],
-            vec!["map", disk, "--quantity", "equilibration_time_yr:CO", "--format", "json"],
+            vec![
+                "map",
+                disk,
+                "--quantity",
+                "equilibration_time_yr:CO",
+                "--format",
+                "json",
+            ],
             vec!["snowlines", disk],
         ] {
             let out = nivalis(&args);
             assert_eq!(out.status.code(), Some(0), "{args:?}: {}", stderr(&out));
             let text = stdout(&out);
-            assert!(!text.contains("NaN") && !text.contains("inf"), "{args:?} printed a non-number");
+            assert!(
+                !text.contains("NaN") && !text.contains("inf"),
+                "{args:?} printed a non-number"
+            );
         }
     }
 }
@@ -93,22 +114,55 @@ fn csv_columns_are_the_documented_ones() {
     assert!(model.lines().next().unwrap().starts_with(
         "radius_au,midplane_temperature_k,midplane_density_h_cm3,c_to_o_gas,c_to_o_ice,c_to_o_solid,c_to_h_gas_rel_star,o_to_h_gas_rel_star,ice_fraction_H2O,ice_fraction_CO,"
     ));
-    let map = stdout(&nivalis(&["map", "demo_disks/cool_dwarf.json", "--quantity", "ice_fraction:CO"]));
-    assert_eq!(map.lines().next().unwrap(), "radius_au,height_au,z_over_r,ice_fraction_CO");
+    let map = stdout(&nivalis(&[
+        "map",
+        "demo_disks/cool_dwarf.json",
+        "--quantity",
+        "ice_fraction:CO",
+    ]));
+    assert_eq!(
+        map.lines().next().unwrap(),
+        "radius_au,height_au,z_over_r,ice_fraction_CO"
+    );
     assert_eq!(map.lines().count(), 1 + 200 * 80);
 }
 
 #[test]
 fn unknown_quantity_and_species_are_input_errors() {
-    let out = nivalis(&["map", "demo_disks/young_sun.json", "--quantity", "ice_fraction:CO3"]);
+    let out = nivalis(&[
+        "map",
+        "demo_disks/young_sun.json",
+        "--quantity",
+        "ice_fraction:CO3",
+    ]);
     assert_eq!(out.status.code(), Some(2));
     assert!(stderr(&out).contains("unknown species \"CO3\""));
     let out = nivalis(&["figure", "demo_disks/young_sun.json", "--view", "pressure"]);
     assert_eq!(out.status.code(), Some(2));
-    let out = nivalis(&["planet", "demo_disks/young_sun.json", "--radius-au", "1000", "--solid-to-gas", "0.1"]);
+    let out = nivalis(&[
+        "planet",
+        "demo_disks/young_sun.json",
+        "--radius-au",
+        "1000",
+        "--solid-to-gas",
+        "0.1",
+    ]);
     assert_eq!(out.status.code(), Some(2));
-    assert!(stderr(&out).contains("must lie in the disk"), "{}", stderr(&out));
-    let out = nivalis(&["planet", "demo_disks/young_sun.json", "--radius-au", "10", "--solid-to-gas", "0.1", "--mix", "1.5"]);
+    assert!(
+        stderr(&out).contains("must lie in the disk"),
+        "{}",
+        stderr(&out)
+    );
+    let out = nivalis(&[
+        "planet",
+        "demo_disks/young_sun.json",
+        "--radius-au",
+        "10",
+        "--solid-to-gas",
+        "0.1",
+        "--mix",
+        "1.5",
+    ]);
     assert_eq!(out.status.code(), Some(2));
 }
 
@@ -134,19 +188,45 @@ fn exported_disk_reproduces_the_export_byte_for_byte() {
         first.insert(1, "demo_disks/luminous_herbig.json");
         let exported = stdout(&nivalis(&first));
         // The resolved disk as `nivalis anchor`/the page would save it: take it from the JSON export.
-        let json: serde_json::Value =
-            serde_json::from_str(&stdout(&nivalis(&["model", "demo_disks/luminous_herbig.json", "--format", "json"]))).unwrap();
-        let saved = temp_file("resolved.json", &serde_json::to_string_pretty(&json["disk"]).unwrap());
+        let json: serde_json::Value = serde_json::from_str(&stdout(&nivalis(&[
+            "model",
+            "demo_disks/luminous_herbig.json",
+            "--format",
+            "json",
+        ])))
+        .unwrap();
+        let saved = temp_file(
+            "resolved.json",
+            &serde_json::to_string_pretty(&json["disk"]).unwrap(),
+        );
         let mut again = args.clone();
         again.insert(1, saved.to_str().unwrap());
-        assert_eq!(stdout(&nivalis(&again)), exported, "{name} differs when remade from the exported disk");
+        assert_eq!(
+            stdout(&nivalis(&again)),
+            exported,
+            "{name} differs when remade from the exported disk"
+        );
     }
 }
 
 #[test]
 fn png_figure_has_the_requested_size_and_provenance() {
-    let path = std::env::temp_dir().join(format!("nivalis-cli-test-{}-fig.png", std::process::id()));
-    let out = nivalis(&["figure", "demo_disks/young_sun.json", "--view", "temperature", "--format", "png", "--width", "double", "--dpi", "200", "--out", path.to_str().unwrap()]);
+    let path =
+        std::env::temp_dir().join(format!("nivalis-cli-test-{}-fig.png", std::process::id()));
+    let out = nivalis(&[
+        "figure",
+        "demo_disks/young_sun.json",
+        "--view",
+        "temperature",
+        "--format",
+        "png",
+        "--width",
+        "double",
+        "--dpi",
+        "200",
+        "--out",
+        path.to_str().unwrap(),
+    ]);
     assert_eq!(out.status.code(), Some(0), "{}", stderr(&out));
     let png = std::fs::read(&path).unwrap();
     // IHDR width and height (PNG specification): 511 pt x 383.25 pt at 200 dpi = 1419 x 1065 px.
@@ -160,12 +240,23 @@ fn png_figure_has_the_requested_size_and_provenance() {
 #[test]
 fn methods_and_bibtex_agree() {
     let bib = std::env::temp_dir().join(format!("nivalis-cli-test-{}.bib", std::process::id()));
-    let out = nivalis(&["methods", "demo_disks/young_sun.json", "--bibtex", bib.to_str().unwrap()]);
+    let out = nivalis(&[
+        "methods",
+        "demo_disks/young_sun.json",
+        "--bibtex",
+        bib.to_str().unwrap(),
+    ]);
     assert_eq!(out.status.code(), Some(0));
     let paragraph = stdout(&out);
     let bibtex = std::fs::read_to_string(&bib).unwrap();
-    assert!(paragraph.contains("Hasegawa, Herbst & Leung 1992") && bibtex.contains("@article{hasegawa1992,"));
-    assert!(!bibtex.contains("bell1994"), "Bell & Lin 1994 is not used by the young Sun disk");
+    assert!(
+        paragraph.contains("Hasegawa, Herbst & Leung 1992")
+            && bibtex.contains("@article{hasegawa1992,")
+    );
+    assert!(
+        !bibtex.contains("bell1994"),
+        "Bell & Lin 1994 is not used by the young Sun disk"
+    );
 }
 
 #[test]
@@ -181,9 +272,19 @@ fn element_table_conserves_every_element() {
     for line in lines {
         let v: Vec<f64> = line.split(',').map(|c| c.parse().unwrap()).collect();
         for (i, el) in ["C", "O", "N", "S", "Si", "Mg", "Fe"].iter().enumerate() {
-            let gas = v[header.iter().position(|h| *h == format!("gas_{el}_per_h")).unwrap()];
-            let solid = v[header.iter().position(|h| *h == format!("solid_{el}_per_h")).unwrap()];
-            assert!(((gas + solid) / star[i] - 1.0).abs() < 2e-6, "{el}: {gas} + {solid} vs {}", star[i]);
+            let gas = v[header
+                .iter()
+                .position(|h| *h == format!("gas_{el}_per_h"))
+                .unwrap()];
+            let solid = v[header
+                .iter()
+                .position(|h| *h == format!("solid_{el}_per_h"))
+                .unwrap()];
+            assert!(
+                ((gas + solid) / star[i] - 1.0).abs() < 2e-6,
+                "{el}: {gas} + {solid} vs {}",
+                star[i]
+            );
         }
         rows += 1;
     }

@@ -40,7 +40,11 @@ pub struct DiskFile {
 impl DiskFile {
     /// The default disk (what `{}` means).
     pub fn defaults() -> DiskFile {
-        DiskFile { name: String::new(), notes: String::new(), parameters: ModelParameters::defaults() }
+        DiskFile {
+            name: String::new(),
+            notes: String::new(),
+            parameters: ModelParameters::defaults(),
+        }
     }
 }
 

@@ -3,8 +3,8 @@
 use crate::{DiskFile, Problem, Problems, SCHEMA};
 use nivalis_physics::budget::Carriers;
 use nivalis_physics::params::{
-    AbundanceReference, CarbonFractions, DesorptionModel, Element, NitrogenFractions, Opacity, SulfurFractions,
-    VerticalTemperature,
+    AbundanceReference, CarbonFractions, DesorptionModel, Element, NitrogenFractions, Opacity,
+    SulfurFractions, VerticalTemperature,
 };
 use nivalis_physics::species::SpeciesTable;
 use nivalis_physics::star::{stellar_abundances_per_h, stellar_radius_au};
@@ -24,7 +24,9 @@ pub fn parse_disk_json(text: &str) -> Result<DiskFile, Problems> {
 
 /// Validate a disk file already parsed into a JSON value (the page passes its JS object this way).
 pub fn from_value(value: &Value) -> Result<DiskFile, Problems> {
-    let mut r = Reader { problems: Vec::new() };
+    let mut r = Reader {
+        problems: Vec::new(),
+    };
     let file = r.file(value);
     if r.problems.is_empty() {
         Ok(file)
@@ -89,7 +91,9 @@ fn edit_distance(a: &str, b: &str) -> usize {
     for (i, ca) in a.chars().enumerate() {
         let mut cur = vec![i + 1; b.len() + 1];
         for (j, cb) in b.iter().enumerate() {
-            cur[j + 1] = (prev[j] + usize::from(ca != *cb)).min(prev[j + 1] + 1).min(cur[j] + 1);
+            cur[j + 1] = (prev[j] + usize::from(ca != *cb))
+                .min(prev[j + 1] + 1)
+                .min(cur[j] + 1);
         }
         prev = cur;
     }
@@ -109,7 +113,10 @@ fn suggestion(key: &str, known: &[&str]) -> Option<String> {
 fn show(v: &Value) -> String {
     let s = v.to_string();
     if s.len() > 40 {
-        format!("{}...", &s[..s.char_indices().nth(37).map_or(s.len(), |(i, _)| i)])
+        format!(
+            "{}...",
+            &s[..s.char_indices().nth(37).map_or(s.len(), |(i, _)| i)]
+        )
     } else {
         s
     }
@@ -117,11 +124,19 @@ fn show(v: &Value) -> String {
 
 impl Reader {
     fn problem(&mut self, path: impl Into<String>, message: impl Into<String>) {
-        self.problems.push(Problem { path: path.into(), message: message.into() });
+        self.problems.push(Problem {
+            path: path.into(),
+            message: message.into(),
+        });
     }
 
     /// The object at `path` (absent = empty), reporting unknown keys.
-    fn object<'v>(&mut self, value: Option<&'v Value>, path: &str, known: &[&str]) -> Option<&'v Map<String, Value>> {
+    fn object<'v>(
+        &mut self,
+        value: Option<&'v Value>,
+        path: &str,
+        known: &[&str],
+    ) -> Option<&'v Map<String, Value>> {
         match value {
             None => None,
             Some(Value::Object(map)) => {
@@ -137,14 +152,26 @@ impl Reader {
                 Some(map)
             }
             Some(other) => {
-                self.problem(if path.is_empty() { "(file)" } else { path }, format!("must be an object, got {}", show(other)));
+                self.problem(
+                    if path.is_empty() { "(file)" } else { path },
+                    format!("must be an object, got {}", show(other)),
+                );
                 None
             }
         }
     }
 
-    fn real(&mut self, map: Option<&Map<String, Value>>, path: &str, key: &str, default: f64, range: Range) -> f64 {
-        let Some(v) = map.and_then(|m| m.get(key)) else { return default };
+    fn real(
+        &mut self,
+        map: Option<&Map<String, Value>>,
+        path: &str,
+        key: &str,
+        default: f64,
+        range: Range,
+    ) -> f64 {
+        let Some(v) = map.and_then(|m| m.get(key)) else {
+            return default;
+        };
         let p = join(path, key);
         match v.as_f64() {
             Some(x) if v.is_number() => {
@@ -156,31 +183,58 @@ impl Reader {
                 }
             }
             _ => {
-                self.problem(p, format!("must be a number {}, got {}", range.describe(), show(v)));
+                self.problem(
+                    p,
+                    format!("must be a number {}, got {}", range.describe(), show(v)),
+                );
                 default
             }
         }
     }
 
-    fn integer(&mut self, map: Option<&Map<String, Value>>, path: &str, key: &str, default: usize, lo: usize, hi: usize) -> usize {
-        let Some(v) = map.and_then(|m| m.get(key)) else { return default };
+    fn integer(
+        &mut self,
+        map: Option<&Map<String, Value>>,
+        path: &str,
+        key: &str,
+        default: usize,
+        lo: usize,
+        hi: usize,
+    ) -> usize {
+        let Some(v) = map.and_then(|m| m.get(key)) else {
+            return default;
+        };
         let p = join(path, key);
         let as_int = v.as_f64().filter(|x| x.fract() == 0.0 && x.is_finite());
         match as_int {
             Some(x) if x >= lo as f64 && x <= hi as f64 => x as usize,
             _ => {
-                self.problem(p, format!("must be a whole number in [{lo}, {hi}], got {}", show(v)));
+                self.problem(
+                    p,
+                    format!("must be a whole number in [{lo}, {hi}], got {}", show(v)),
+                );
                 default
             }
         }
     }
 
-    fn boolean(&mut self, map: Option<&Map<String, Value>>, path: &str, key: &str, default: bool) -> bool {
-        let Some(v) = map.and_then(|m| m.get(key)) else { return default };
+    fn boolean(
+        &mut self,
+        map: Option<&Map<String, Value>>,
+        path: &str,
+        key: &str,
+        default: bool,
+    ) -> bool {
+        let Some(v) = map.and_then(|m| m.get(key)) else {
+            return default;
+        };
         match v {
             Value::Bool(b) => *b,
             other => {
-                self.problem(join(path, key), format!("must be true or false, got {}", show(other)));
+                self.problem(
+                    join(path, key),
+                    format!("must be true or false, got {}", show(other)),
+                );
                 default
             }
         }
@@ -191,44 +245,82 @@ impl Reader {
         match v {
             Value::String(s) => Some(s.clone()),
             other => {
-                self.problem(join(path, key), format!("must be a string, got {}", show(other)));
+                self.problem(
+                    join(path, key),
+                    format!("must be a string, got {}", show(other)),
+                );
                 None
             }
         }
     }
 
     /// A string that must be one of `choices`; returns the index.
-    fn choice(&mut self, map: Option<&Map<String, Value>>, path: &str, key: &str, choices: &[&str]) -> Option<usize> {
+    fn choice(
+        &mut self,
+        map: Option<&Map<String, Value>>,
+        path: &str,
+        key: &str,
+        choices: &[&str],
+    ) -> Option<usize> {
         let v = map.and_then(|m| m.get(key))?;
         let p = join(path, key);
         match v {
             Value::String(s) => match choices.iter().position(|c| c == s) {
                 Some(i) => Some(i),
                 None => {
-                    let hint = suggestion(s, choices).map(|c| format!("; did you mean {c}?")).unwrap_or_default();
-                    self.problem(p, format!("must be one of {}, got {}{hint}", choices.join(", "), show(v)));
+                    let hint = suggestion(s, choices)
+                        .map(|c| format!("; did you mean {c}?"))
+                        .unwrap_or_default();
+                    self.problem(
+                        p,
+                        format!(
+                            "must be one of {}, got {}{hint}",
+                            choices.join(", "),
+                            show(v)
+                        ),
+                    );
                     None
                 }
             },
             other => {
-                self.problem(p, format!("must be one of {}, got {}", choices.join(", "), show(other)));
+                self.problem(
+                    p,
+                    format!("must be one of {}, got {}", choices.join(", "), show(other)),
+                );
                 None
             }
         }
     }
 
     /// A group of fractions; given = replaces the default whole, missing keys 0, sum renormalised.
-    fn fractions<const N: usize>(&mut self, map: Option<&Map<String, Value>>, path: &str, key: &str, keys: [&str; N], default: [f64; N]) -> [f64; N] {
+    fn fractions<const N: usize>(
+        &mut self,
+        map: Option<&Map<String, Value>>,
+        path: &str,
+        key: &str,
+        keys: [&str; N],
+        default: [f64; N],
+    ) -> [f64; N] {
         let p = join(path, key);
-        let Some(group) = self.object(map.and_then(|m| m.get(key)), &p, &keys) else { return default };
+        let Some(group) = self.object(map.and_then(|m| m.get(key)), &p, &keys) else {
+            return default;
+        };
         let mut out = [0.0; N];
         for (i, k) in keys.iter().enumerate() {
             out[i] = self.real(Some(group), &p, k, 0.0, Range::Closed(0.0, 1.0));
         }
         let sum: f64 = out.iter().sum();
         if (sum - 1.0).abs() > 1e-6 {
-            let listed = keys.iter().zip(out).map(|(k, v)| format!("{k} {v}")).collect::<Vec<_>>().join(" + ");
-            self.problem(p, format!("fractions must sum to 1 (within 1e-6), got {listed} = {sum}"));
+            let listed = keys
+                .iter()
+                .zip(out)
+                .map(|(k, v)| format!("{k} {v}"))
+                .collect::<Vec<_>>()
+                .join(" + ");
+            self.problem(
+                p,
+                format!("fractions must sum to 1 (within 1e-6), got {listed} = {sum}"),
+            );
             return default;
         }
         out.map(|v| v / sum)
@@ -236,7 +328,20 @@ impl Reader {
 
     fn file(&mut self, root: &Value) -> DiskFile {
         let mut f = DiskFile::defaults();
-        let top = self.object(Some(root), "", &["schema", "name", "notes", "star", "disk", "ices", "composition", "grid"]);
+        let top = self.object(
+            Some(root),
+            "",
+            &[
+                "schema",
+                "name",
+                "notes",
+                "star",
+                "disk",
+                "ices",
+                "composition",
+                "grid",
+            ],
+        );
         if let Some(schema) = self.text(top, "", "schema") {
             if schema != SCHEMA {
                 self.problem("schema", format!("must be \"{SCHEMA}\", got \"{schema}\""));
@@ -249,19 +354,69 @@ impl Reader {
         let errors_before_star = self.problems.len();
 
         // Star.
-        let star = self.object(top.and_then(|m| m.get("star")), "star", &["mass_msun", "luminosity_lsun", "effective_temperature_k", "fuv_1au_habing", "abundances"]);
+        let star = self.object(
+            top.and_then(|m| m.get("star")),
+            "star",
+            &[
+                "mass_msun",
+                "luminosity_lsun",
+                "effective_temperature_k",
+                "fuv_1au_habing",
+                "abundances",
+            ],
+        );
         p.star.mass_msun = self.real(star, "star", "mass_msun", d.star.mass_msun, Range::Positive);
-        p.star.luminosity_lsun = self.real(star, "star", "luminosity_lsun", d.star.luminosity_lsun, Range::Positive);
-        p.star.effective_temperature_k = self.real(star, "star", "effective_temperature_k", d.star.effective_temperature_k, Range::Closed(2000.0, 50000.0));
-        p.star.fuv_1au_habing = self.real(star, "star", "fuv_1au_habing", d.star.fuv_1au_habing, Range::NonNegative);
-        let ab = self.object(star.and_then(|m| m.get("abundances")), "star.abundances", &["reference", "offset_dex"]);
-        if let Some(i) = self.choice(ab, "star.abundances", "reference", &["asplund2009", "asplund2021"]) {
-            p.star.abundance_reference = [AbundanceReference::Asplund2009, AbundanceReference::Asplund2021][i];
+        p.star.luminosity_lsun = self.real(
+            star,
+            "star",
+            "luminosity_lsun",
+            d.star.luminosity_lsun,
+            Range::Positive,
+        );
+        p.star.effective_temperature_k = self.real(
+            star,
+            "star",
+            "effective_temperature_k",
+            d.star.effective_temperature_k,
+            Range::Closed(2000.0, 50000.0),
+        );
+        p.star.fuv_1au_habing = self.real(
+            star,
+            "star",
+            "fuv_1au_habing",
+            d.star.fuv_1au_habing,
+            Range::NonNegative,
+        );
+        let ab = self.object(
+            star.and_then(|m| m.get("abundances")),
+            "star.abundances",
+            &["reference", "offset_dex"],
+        );
+        if let Some(i) = self.choice(
+            ab,
+            "star.abundances",
+            "reference",
+            &["asplund2009", "asplund2021"],
+        ) {
+            p.star.abundance_reference = [
+                AbundanceReference::Asplund2009,
+                AbundanceReference::Asplund2021,
+            ][i];
         }
         let symbols: Vec<&str> = Element::ALL.iter().map(|e| e.symbol()).collect();
-        let offsets = self.object(ab.and_then(|m| m.get("offset_dex")), "star.abundances.offset_dex", &symbols);
+        let offsets = self.object(
+            ab.and_then(|m| m.get("offset_dex")),
+            "star.abundances.offset_dex",
+            &symbols,
+        );
         for (i, e) in Element::ALL.iter().enumerate() {
-            p.star.offset_dex[i] = self.real(offsets, "star.abundances.offset_dex", e.symbol(), 0.0, Range::Closed(-2.0, 2.0));
+            p.star.offset_dex[i] = self.real(
+                offsets,
+                "star.abundances.offset_dex",
+                e.symbol(),
+                0.0,
+                Range::Closed(-2.0, 2.0),
+            );
         }
         let star_ok = self.problems.len() == errors_before_star;
 
@@ -270,24 +425,71 @@ impl Reader {
             top.and_then(|m| m.get("disk")),
             "disk",
             &[
-                "gas_mass_msun", "characteristic_radius_au", "surface_density_index", "inner_radius_au", "outer_radius_au",
-                "accretion_rate_msun_per_yr", "flaring_angle", "self_consistent_flaring", "opacity", "vertical_temperature",
-                "background_temperature_k", "dust_to_gas", "grain_radius_um", "grain_density_g_cm3", "cosmic_ray_rate_s",
-                "interstellar_fuv_habing", "age_myr", "midplane_temperature_scale",
+                "gas_mass_msun",
+                "characteristic_radius_au",
+                "surface_density_index",
+                "inner_radius_au",
+                "outer_radius_au",
+                "accretion_rate_msun_per_yr",
+                "flaring_angle",
+                "self_consistent_flaring",
+                "opacity",
+                "vertical_temperature",
+                "background_temperature_k",
+                "dust_to_gas",
+                "grain_radius_um",
+                "grain_density_g_cm3",
+                "cosmic_ray_rate_s",
+                "interstellar_fuv_habing",
+                "age_myr",
+                "midplane_temperature_scale",
             ],
         );
         let dd = &d.disk;
         let q = &mut p.disk;
-        q.gas_mass_msun = self.real(disk, "disk", "gas_mass_msun", dd.gas_mass_msun, Range::Positive);
-        q.characteristic_radius_au = self.real(disk, "disk", "characteristic_radius_au", dd.characteristic_radius_au, Range::Positive);
-        q.surface_density_index = self.real(disk, "disk", "surface_density_index", dd.surface_density_index, Range::ClosedOpen(-2.0, 2.0));
+        q.gas_mass_msun = self.real(
+            disk,
+            "disk",
+            "gas_mass_msun",
+            dd.gas_mass_msun,
+            Range::Positive,
+        );
+        q.characteristic_radius_au = self.real(
+            disk,
+            "disk",
+            "characteristic_radius_au",
+            dd.characteristic_radius_au,
+            Range::Positive,
+        );
+        q.surface_density_index = self.real(
+            disk,
+            "disk",
+            "surface_density_index",
+            dd.surface_density_index,
+            Range::ClosedOpen(-2.0, 2.0),
+        );
         let before_radii = self.problems.len();
-        q.inner_radius_au = self.real(disk, "disk", "inner_radius_au", dd.inner_radius_au, Range::Positive);
-        q.outer_radius_au = self.real(disk, "disk", "outer_radius_au", dd.outer_radius_au, Range::Positive);
+        q.inner_radius_au = self.real(
+            disk,
+            "disk",
+            "inner_radius_au",
+            dd.inner_radius_au,
+            Range::Positive,
+        );
+        q.outer_radius_au = self.real(
+            disk,
+            "disk",
+            "outer_radius_au",
+            dd.outer_radius_au,
+            Range::Positive,
+        );
         if self.problems.len() == before_radii && q.inner_radius_au >= q.outer_radius_au {
             self.problem(
                 "disk.inner_radius_au",
-                format!("must be < disk.outer_radius_au ({}), got {}", q.outer_radius_au, q.inner_radius_au),
+                format!(
+                    "must be < disk.outer_radius_au ({}), got {}",
+                    q.outer_radius_au, q.inner_radius_au
+                ),
             );
         }
         if self.problems.len() == before_radii && star_ok {
@@ -299,18 +501,54 @@ impl Reader {
                 );
             }
         }
-        q.accretion_rate_msun_per_yr = self.real(disk, "disk", "accretion_rate_msun_per_yr", dd.accretion_rate_msun_per_yr, Range::NonNegative);
-        q.flaring_angle = self.real(disk, "disk", "flaring_angle", dd.flaring_angle, Range::OpenClosed(0.0, 1.0));
-        q.self_consistent_flaring = self.boolean(disk, "disk", "self_consistent_flaring", dd.self_consistent_flaring);
-        let opacity = self.object(disk.and_then(|m| m.get("opacity")), "disk.opacity", &["kind", "rosseland_cm2_per_g"]);
+        q.accretion_rate_msun_per_yr = self.real(
+            disk,
+            "disk",
+            "accretion_rate_msun_per_yr",
+            dd.accretion_rate_msun_per_yr,
+            Range::NonNegative,
+        );
+        q.flaring_angle = self.real(
+            disk,
+            "disk",
+            "flaring_angle",
+            dd.flaring_angle,
+            Range::OpenClosed(0.0, 1.0),
+        );
+        q.self_consistent_flaring = self.boolean(
+            disk,
+            "disk",
+            "self_consistent_flaring",
+            dd.self_consistent_flaring,
+        );
+        let opacity = self.object(
+            disk.and_then(|m| m.get("opacity")),
+            "disk.opacity",
+            &["kind", "rosseland_cm2_per_g"],
+        );
         let kappa_default = match dd.opacity {
-            Opacity::Constant { rosseland_cm2_per_g } => rosseland_cm2_per_g,
+            Opacity::Constant {
+                rosseland_cm2_per_g,
+            } => rosseland_cm2_per_g,
             Opacity::BellLin1994 => 1.0,
         };
-        let kappa = self.real(opacity, "disk.opacity", "rosseland_cm2_per_g", kappa_default, Range::Positive);
-        q.opacity = match self.choice(opacity, "disk.opacity", "kind", &["constant", "bell_lin_1994"]) {
+        let kappa = self.real(
+            opacity,
+            "disk.opacity",
+            "rosseland_cm2_per_g",
+            kappa_default,
+            Range::Positive,
+        );
+        q.opacity = match self.choice(
+            opacity,
+            "disk.opacity",
+            "kind",
+            &["constant", "bell_lin_1994"],
+        ) {
             Some(1) => Opacity::BellLin1994,
-            _ => Opacity::Constant { rosseland_cm2_per_g: kappa },
+            _ => Opacity::Constant {
+                rosseland_cm2_per_g: kappa,
+            },
         };
         let vt = self.object(
             disk.and_then(|m| m.get("vertical_temperature")),
@@ -318,56 +556,161 @@ impl Reader {
             &["kind", "superheating", "transition_scale_heights", "delta"],
         );
         let (s0, z0, d0) = match dd.vertical_temperature {
-            VerticalTemperature::TwoLayer { superheating, transition_scale_heights, delta } => (superheating, transition_scale_heights, delta),
+            VerticalTemperature::TwoLayer {
+                superheating,
+                transition_scale_heights,
+                delta,
+            } => (superheating, transition_scale_heights, delta),
             VerticalTemperature::Isothermal => (1.5, 4.0, 2.0),
         };
         let vp = "disk.vertical_temperature";
         let superheating = self.real(vt, vp, "superheating", s0, Range::Closed(0.1, 10.0));
-        let transition = self.real(vt, vp, "transition_scale_heights", z0, Range::OpenClosed(0.0, 20.0));
+        let transition = self.real(
+            vt,
+            vp,
+            "transition_scale_heights",
+            z0,
+            Range::OpenClosed(0.0, 20.0),
+        );
         let delta = self.real(vt, vp, "delta", d0, Range::OpenClosed(0.0, 10.0));
         q.vertical_temperature = match self.choice(vt, vp, "kind", &["isothermal", "two_layer"]) {
             Some(0) => VerticalTemperature::Isothermal,
-            _ => VerticalTemperature::TwoLayer { superheating, transition_scale_heights: transition, delta },
+            _ => VerticalTemperature::TwoLayer {
+                superheating,
+                transition_scale_heights: transition,
+                delta,
+            },
         };
-        q.background_temperature_k = self.real(disk, "disk", "background_temperature_k", dd.background_temperature_k, Range::Closed(0.0, 1.0e4));
-        q.dust_to_gas = self.real(disk, "disk", "dust_to_gas", dd.dust_to_gas, Range::OpenClosed(0.0, 1.0));
-        q.grain_radius_um = self.real(disk, "disk", "grain_radius_um", dd.grain_radius_um, Range::Positive);
-        q.grain_density_g_cm3 = self.real(disk, "disk", "grain_density_g_cm3", dd.grain_density_g_cm3, Range::Positive);
-        q.cosmic_ray_rate_s = self.real(disk, "disk", "cosmic_ray_rate_s", dd.cosmic_ray_rate_s, Range::NonNegative);
-        q.interstellar_fuv_habing = self.real(disk, "disk", "interstellar_fuv_habing", dd.interstellar_fuv_habing, Range::NonNegative);
+        q.background_temperature_k = self.real(
+            disk,
+            "disk",
+            "background_temperature_k",
+            dd.background_temperature_k,
+            Range::Closed(0.0, 1.0e4),
+        );
+        q.dust_to_gas = self.real(
+            disk,
+            "disk",
+            "dust_to_gas",
+            dd.dust_to_gas,
+            Range::OpenClosed(0.0, 1.0),
+        );
+        q.grain_radius_um = self.real(
+            disk,
+            "disk",
+            "grain_radius_um",
+            dd.grain_radius_um,
+            Range::Positive,
+        );
+        q.grain_density_g_cm3 = self.real(
+            disk,
+            "disk",
+            "grain_density_g_cm3",
+            dd.grain_density_g_cm3,
+            Range::Positive,
+        );
+        q.cosmic_ray_rate_s = self.real(
+            disk,
+            "disk",
+            "cosmic_ray_rate_s",
+            dd.cosmic_ray_rate_s,
+            Range::NonNegative,
+        );
+        q.interstellar_fuv_habing = self.real(
+            disk,
+            "disk",
+            "interstellar_fuv_habing",
+            dd.interstellar_fuv_habing,
+            Range::NonNegative,
+        );
         q.age_myr = self.real(disk, "disk", "age_myr", dd.age_myr, Range::Positive);
-        q.midplane_temperature_scale = self.real(disk, "disk", "midplane_temperature_scale", dd.midplane_temperature_scale, Range::Closed(0.1, 10.0));
+        q.midplane_temperature_scale = self.real(
+            disk,
+            "disk",
+            "midplane_temperature_scale",
+            dd.midplane_temperature_scale,
+            Range::Closed(0.1, 10.0),
+        );
 
         // Ices.
         let ices = self.object(
             top.and_then(|m| m.get("ices")),
             "ices",
-            &["desorption", "sticking", "photodesorption", "cosmic_ray_desorption", "binding_energies", "species_overrides"],
+            &[
+                "desorption",
+                "sticking",
+                "photodesorption",
+                "cosmic_ray_desorption",
+                "binding_energies",
+                "species_overrides",
+            ],
         );
-        if let Some(i) = self.choice(ices, "ices", "desorption", &["zeroth_order", "first_order", "fixed_temperature"]) {
-            p.ices.desorption = [DesorptionModel::ZerothOrder, DesorptionModel::FirstOrder, DesorptionModel::FixedTemperature][i];
+        if let Some(i) = self.choice(
+            ices,
+            "ices",
+            "desorption",
+            &["zeroth_order", "first_order", "fixed_temperature"],
+        ) {
+            p.ices.desorption = [
+                DesorptionModel::ZerothOrder,
+                DesorptionModel::FirstOrder,
+                DesorptionModel::FixedTemperature,
+            ][i];
         }
-        p.ices.sticking = self.real(ices, "ices", "sticking", d.ices.sticking, Range::OpenClosed(0.0, 1.0));
-        p.ices.photodesorption = self.boolean(ices, "ices", "photodesorption", d.ices.photodesorption);
-        p.ices.cosmic_ray_desorption = self.boolean(ices, "ices", "cosmic_ray_desorption", d.ices.cosmic_ray_desorption);
+        p.ices.sticking = self.real(
+            ices,
+            "ices",
+            "sticking",
+            d.ices.sticking,
+            Range::OpenClosed(0.0, 1.0),
+        );
+        p.ices.photodesorption =
+            self.boolean(ices, "ices", "photodesorption", d.ices.photodesorption);
+        p.ices.cosmic_ray_desorption = self.boolean(
+            ices,
+            "ices",
+            "cosmic_ray_desorption",
+            d.ices.cosmic_ray_desorption,
+        );
         let set_keys: Vec<&str> = BindingEnergySet::ALL.iter().map(|s| s.key()).collect();
         if let Some(i) = self.choice(ices, "ices", "binding_energies", &set_keys) {
             p.ices.binding_energy_set = BindingEnergySet::ALL[i];
         }
         let species_keys: Vec<&str> = Species::ALL.iter().map(|s| s.key()).collect();
-        let overrides = self.object(ices.and_then(|m| m.get("species_overrides")), "ices.species_overrides", &species_keys);
+        let overrides = self.object(
+            ices.and_then(|m| m.get("species_overrides")),
+            "ices.species_overrides",
+            &species_keys,
+        );
         for s in Species::ALL {
             let sp = join("ices.species_overrides", s.key());
-            let Some(o) = self.object(overrides.and_then(|m| m.get(s.key())), &sp, &["binding_energy_k", "photodesorption_yield", "condensation_temperature_k"]) else {
+            let Some(o) = self.object(
+                overrides.and_then(|m| m.get(s.key())),
+                &sp,
+                &[
+                    "binding_energy_k",
+                    "photodesorption_yield",
+                    "condensation_temperature_k",
+                ],
+            ) else {
                 continue;
             };
             let slot = &mut p.ices.overrides[s.index()];
-            let opt = |r: &mut Reader, key: &str, range: Range| o.contains_key(key).then(|| r.real(Some(o), &sp, key, f64::NAN, range));
+            let opt = |r: &mut Reader, key: &str, range: Range| {
+                o.contains_key(key)
+                    .then(|| r.real(Some(o), &sp, key, f64::NAN, range))
+            };
             slot.binding_energy_k = opt(self, "binding_energy_k", Range::Positive);
-            slot.photodesorption_yield = opt(self, "photodesorption_yield", Range::Closed(0.0, 1.0));
-            slot.condensation_temperature_k = opt(self, "condensation_temperature_k", Range::Positive);
+            slot.photodesorption_yield =
+                opt(self, "photodesorption_yield", Range::Closed(0.0, 1.0));
+            slot.condensation_temperature_k =
+                opt(self, "condensation_temperature_k", Range::Positive);
             // A rejected value came back as NaN: drop it (the problem is already recorded).
-            for v in [&mut slot.binding_energy_k, &mut slot.photodesorption_yield, &mut slot.condensation_temperature_k] {
+            for v in [
+                &mut slot.binding_energy_k,
+                &mut slot.photodesorption_yield,
+                &mut slot.condensation_temperature_k,
+            ] {
                 if v.is_some_and(f64::is_nan) {
                     *v = None;
                 }
@@ -378,7 +721,15 @@ impl Reader {
         let comp = self.object(
             top.and_then(|m| m.get("composition")),
             "composition",
-            &["carbon", "nitrogen", "sulfur", "oxygen_per_silicon", "soot_line_k", "sulfide_release_k", "silicate_sublimation_k"],
+            &[
+                "carbon",
+                "nitrogen",
+                "sulfur",
+                "oxygen_per_silicon",
+                "soot_line_k",
+                "sulfide_release_k",
+                "silicate_sublimation_k",
+            ],
         );
         let before_comp = self.problems.len();
         let dc = &d.composition;
@@ -387,28 +738,112 @@ impl Reader {
             "composition",
             "carbon",
             ["CO", "CO2", "CH4", "CH3OH", "HCN", "refractory"],
-            [dc.carbon.co, dc.carbon.co2, dc.carbon.ch4, dc.carbon.ch3oh, dc.carbon.hcn, dc.carbon.refractory],
+            [
+                dc.carbon.co,
+                dc.carbon.co2,
+                dc.carbon.ch4,
+                dc.carbon.ch3oh,
+                dc.carbon.hcn,
+                dc.carbon.refractory,
+            ],
         );
-        p.composition.carbon = CarbonFractions { co: c[0], co2: c[1], ch4: c[2], ch3oh: c[3], hcn: c[4], refractory: c[5] };
-        let n = self.fractions(comp, "composition", "nitrogen", ["N2", "NH3"], [dc.nitrogen.n2, dc.nitrogen.nh3]);
-        p.composition.nitrogen = NitrogenFractions { n2: n[0], nh3: n[1] };
-        let s = self.fractions(comp, "composition", "sulfur", ["H2S", "refractory"], [dc.sulfur.h2s, dc.sulfur.refractory]);
-        p.composition.sulfur = SulfurFractions { h2s: s[0], refractory: s[1] };
-        p.composition.oxygen_per_silicon = self.real(comp, "composition", "oxygen_per_silicon", dc.oxygen_per_silicon, Range::Closed(0.0, 10.0));
-        p.composition.soot_line_k = self.real(comp, "composition", "soot_line_k", dc.soot_line_k, Range::Positive);
-        p.composition.sulfide_release_k = self.real(comp, "composition", "sulfide_release_k", dc.sulfide_release_k, Range::Positive);
-        p.composition.silicate_sublimation_k = self.real(comp, "composition", "silicate_sublimation_k", dc.silicate_sublimation_k, Range::Positive);
+        p.composition.carbon = CarbonFractions {
+            co: c[0],
+            co2: c[1],
+            ch4: c[2],
+            ch3oh: c[3],
+            hcn: c[4],
+            refractory: c[5],
+        };
+        let n = self.fractions(
+            comp,
+            "composition",
+            "nitrogen",
+            ["N2", "NH3"],
+            [dc.nitrogen.n2, dc.nitrogen.nh3],
+        );
+        p.composition.nitrogen = NitrogenFractions {
+            n2: n[0],
+            nh3: n[1],
+        };
+        let s = self.fractions(
+            comp,
+            "composition",
+            "sulfur",
+            ["H2S", "refractory"],
+            [dc.sulfur.h2s, dc.sulfur.refractory],
+        );
+        p.composition.sulfur = SulfurFractions {
+            h2s: s[0],
+            refractory: s[1],
+        };
+        p.composition.oxygen_per_silicon = self.real(
+            comp,
+            "composition",
+            "oxygen_per_silicon",
+            dc.oxygen_per_silicon,
+            Range::Closed(0.0, 10.0),
+        );
+        p.composition.soot_line_k = self.real(
+            comp,
+            "composition",
+            "soot_line_k",
+            dc.soot_line_k,
+            Range::Positive,
+        );
+        p.composition.sulfide_release_k = self.real(
+            comp,
+            "composition",
+            "sulfide_release_k",
+            dc.sulfide_release_k,
+            Range::Positive,
+        );
+        p.composition.silicate_sublimation_k = self.real(
+            comp,
+            "composition",
+            "silicate_sublimation_k",
+            dc.silicate_sublimation_k,
+            Range::Positive,
+        );
         if star_ok && self.problems.len() == before_comp {
-            if let Err(e) = Carriers::new(stellar_abundances_per_h(&p.star), &p.composition, &SpeciesTable::built_in()) {
-                self.problem("composition", e.to_string().trim_start_matches("composition: ").trim_start_matches("composition.carbon.HCN: ").to_string());
+            if let Err(e) = Carriers::new(
+                stellar_abundances_per_h(&p.star),
+                &p.composition,
+                &SpeciesTable::built_in(),
+            ) {
+                self.problem(
+                    "composition",
+                    e.to_string()
+                        .trim_start_matches("composition: ")
+                        .trim_start_matches("composition.carbon.HCN: ")
+                        .to_string(),
+                );
             }
         }
 
         // Grid.
-        let grid = self.object(top.and_then(|m| m.get("grid")), "grid", &["radial_cells", "vertical_cells", "max_height_scale_heights"]);
-        p.grid.radial_cells = self.integer(grid, "grid", "radial_cells", d.grid.radial_cells, 8, 4096);
-        p.grid.vertical_cells = self.integer(grid, "grid", "vertical_cells", d.grid.vertical_cells, 8, 4096);
-        p.grid.max_height_scale_heights = self.real(grid, "grid", "max_height_scale_heights", d.grid.max_height_scale_heights, Range::Closed(1.0, 20.0));
+        let grid = self.object(
+            top.and_then(|m| m.get("grid")),
+            "grid",
+            &["radial_cells", "vertical_cells", "max_height_scale_heights"],
+        );
+        p.grid.radial_cells =
+            self.integer(grid, "grid", "radial_cells", d.grid.radial_cells, 8, 4096);
+        p.grid.vertical_cells = self.integer(
+            grid,
+            "grid",
+            "vertical_cells",
+            d.grid.vertical_cells,
+            8,
+            4096,
+        );
+        p.grid.max_height_scale_heights = self.real(
+            grid,
+            "grid",
+            "max_height_scale_heights",
+            d.grid.max_height_scale_heights,
+            Range::Closed(1.0, 20.0),
+        );
         f
     }
 }
@@ -418,19 +853,29 @@ mod tests {
     use super::*;
 
     fn problems(text: &str) -> Vec<String> {
-        parse_disk_json(text).unwrap_err().0.iter().map(|p| p.to_string()).collect()
+        parse_disk_json(text)
+            .unwrap_err()
+            .0
+            .iter()
+            .map(|p| p.to_string())
+            .collect()
     }
 
     #[test]
     fn empty_object_is_the_default_disk() {
-        assert_eq!(parse_disk_json("{}").unwrap().parameters, ModelParameters::defaults());
+        assert_eq!(
+            parse_disk_json("{}").unwrap().parameters,
+            ModelParameters::defaults()
+        );
     }
 
     #[test]
     fn every_problem_is_reported_at_once() {
-        let p = problems(r#"{"star": {"mass_msun": -1, "effective_temperature_k": 100},
+        let p = problems(
+            r#"{"star": {"mass_msun": -1, "effective_temperature_k": 100},
             "disk": {"surface_density_index": 2, "inner_radius_au": 10, "outer_radius_au": 5, "gas_mass_msum": 1},
-            "grid": {"radial_cells": 4, "vertical_cells": 10.5}}"#);
+            "grid": {"radial_cells": 4, "vertical_cells": 10.5}}"#,
+        );
         assert_eq!(
             p,
             vec![
@@ -447,20 +892,44 @@ mod tests {
 
     #[test]
     fn did_you_mean_for_misspelt_field() {
-        assert_eq!(problems(r#"{"disk": {"gass_mass_msun": 1}}"#), vec!["disk.gass_mass_msun: unknown field; did you mean gas_mass_msun?"]);
-        assert_eq!(problems(r#"{"ices": {"species_overrides": {"C0": {}}}}"#)[0], "ices.species_overrides.C0: unknown field; did you mean CO?");
+        assert_eq!(
+            problems(r#"{"disk": {"gass_mass_msun": 1}}"#),
+            vec!["disk.gass_mass_msun: unknown field; did you mean gas_mass_msun?"]
+        );
+        assert_eq!(
+            problems(r#"{"ices": {"species_overrides": {"C0": {}}}}"#)[0],
+            "ices.species_overrides.C0: unknown field; did you mean CO?"
+        );
     }
 
     #[test]
     fn strings_are_not_numbers_and_integers_are_reals() {
-        assert_eq!(problems(r#"{"star": {"mass_msun": "1"}}"#), vec![r#"star.mass_msun: must be a number > 0 and finite, got "1""#]);
-        assert_eq!(parse_disk_json(r#"{"star": {"mass_msun": 2}}"#).unwrap().parameters.star.mass_msun, 2.0);
+        assert_eq!(
+            problems(r#"{"star": {"mass_msun": "1"}}"#),
+            vec![r#"star.mass_msun: must be a number > 0 and finite, got "1""#]
+        );
+        assert_eq!(
+            parse_disk_json(r#"{"star": {"mass_msun": 2}}"#)
+                .unwrap()
+                .parameters
+                .star
+                .mass_msun,
+            2.0
+        );
     }
 
     #[test]
     fn fractions_renormalise_or_report_the_sum() {
-        let f = parse_disk_json(r#"{"composition": {"sulfur": {"H2S": 0.2000001, "refractory": 0.8}}}"#).unwrap();
-        assert!((f.parameters.composition.sulfur.h2s + f.parameters.composition.sulfur.refractory - 1.0).abs() < 1e-15);
+        let f = parse_disk_json(
+            r#"{"composition": {"sulfur": {"H2S": 0.2000001, "refractory": 0.8}}}"#,
+        )
+        .unwrap();
+        assert!(
+            (f.parameters.composition.sulfur.h2s + f.parameters.composition.sulfur.refractory
+                - 1.0)
+                .abs()
+                < 1e-15
+        );
         let p = problems(r#"{"composition": {"nitrogen": {"N2": 0.5}}}"#);
         assert_eq!(p, vec!["composition.nitrogen: fractions must sum to 1 (within 1e-6), got N2 0.5 + NH3 0 = 0.5"]);
     }
@@ -469,20 +938,35 @@ mod tests {
     fn carbon_rich_star_is_rejected_with_numbers() {
         let p = problems(r#"{"star": {"abundances": {"offset_dex": {"C": 0.5}}}}"#);
         assert_eq!(p.len(), 1);
-        assert!(p[0].starts_with("composition: oxygen runs out before water (star C/O = 1.738)"), "{}", p[0]);
+        assert!(
+            p[0].starts_with("composition: oxygen runs out before water (star C/O = 1.738)"),
+            "{}",
+            p[0]
+        );
     }
 
     #[test]
     fn inner_radius_inside_star_is_rejected() {
-        let p = problems(r#"{"star": {"luminosity_lsun": 100, "effective_temperature_k": 3000}, "disk": {"inner_radius_au": 0.01}}"#);
+        let p = problems(
+            r#"{"star": {"luminosity_lsun": 100, "effective_temperature_k": 3000}, "disk": {"inner_radius_au": 0.01}}"#,
+        );
         assert_eq!(p.len(), 1);
-        assert!(p[0].starts_with("disk.inner_radius_au: must exceed the stellar radius"), "{}", p[0]);
+        assert!(
+            p[0].starts_with("disk.inner_radius_au: must exceed the stellar radius"),
+            "{}",
+            p[0]
+        );
     }
 
     #[test]
     fn syntax_errors_and_wrong_schema() {
-        assert!(problems("{").iter().all(|p| p.starts_with("(file): not valid JSON")));
-        assert_eq!(problems(r#"{"schema": "other/2"}"#), vec![r#"schema: must be "nivalis-disk/1", got "other/2""#]);
+        assert!(problems("{")
+            .iter()
+            .all(|p| p.starts_with("(file): not valid JSON")));
+        assert_eq!(
+            problems(r#"{"schema": "other/2"}"#),
+            vec![r#"schema: must be "nivalis-disk/1", got "other/2""#]
+        );
         assert_eq!(problems("[1]"), vec!["(file): must be an object, got [1]"]);
     }
 }

@@ -14,12 +14,18 @@ pub fn to_value(file: &DiskFile) -> Value {
         offsets.insert(e.symbol().into(), json!(p.star.offset_dex[i]));
     }
     let opacity = match p.disk.opacity {
-        Opacity::Constant { rosseland_cm2_per_g } => json!({"kind": "constant", "rosseland_cm2_per_g": rosseland_cm2_per_g}),
+        Opacity::Constant {
+            rosseland_cm2_per_g,
+        } => json!({"kind": "constant", "rosseland_cm2_per_g": rosseland_cm2_per_g}),
         Opacity::BellLin1994 => json!({"kind": "bell_lin_1994"}),
     };
     let vertical = match p.disk.vertical_temperature {
         VerticalTemperature::Isothermal => json!({"kind": "isothermal"}),
-        VerticalTemperature::TwoLayer { superheating, transition_scale_heights, delta } => json!({
+        VerticalTemperature::TwoLayer {
+            superheating,
+            transition_scale_heights,
+            delta,
+        } => json!({
             "kind": "two_layer", "superheating": superheating,
             "transition_scale_heights": transition_scale_heights, "delta": delta
         }),

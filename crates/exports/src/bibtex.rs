@@ -55,7 +55,11 @@ pub fn bibtex(methods: &[MethodEntry]) -> String {
 }
 
 fn citation_list(keys: &[&'static str]) -> String {
-    keys.iter().filter_map(|k| reference(k)).map(|r| r.citation).collect::<Vec<_>>().join("; ")
+    keys.iter()
+        .filter_map(|k| reference(k))
+        .map(|r| r.citation)
+        .collect::<Vec<_>>()
+        .join("; ")
 }
 
 fn capitalised(s: &str) -> String {
@@ -69,7 +73,11 @@ fn capitalised(s: &str) -> String {
 /// A plain-text methods paragraph for exactly this configuration: each method
 /// with its parameter values and citations, the grid, and the model's stated
 /// simplifications (independent pure ices, 1+1D radiation, equilibrium at one moment).
-pub fn methods_paragraph(parameters: &ModelParameters, methods: &[MethodEntry], provenance: &Provenance) -> String {
+pub fn methods_paragraph(
+    parameters: &ModelParameters,
+    methods: &[MethodEntry],
+    provenance: &Provenance,
+) -> String {
     let g = &parameters.grid;
     let mut text = format!(
         "We computed the disk with {}, disk file hash {}, on {} logarithmically spaced radial cells from {} to {} au and {} vertical cells per column up to {} midplane scale heights.",
@@ -83,10 +91,17 @@ pub fn methods_paragraph(parameters: &ModelParameters, methods: &[MethodEntry], 
     );
     text.push_str(&format!(
         " The star has M = {} Msun, L = {} Lsun and Teff = {} K.",
-        parameters.star.mass_msun, parameters.star.luminosity_lsun, parameters.star.effective_temperature_k
+        parameters.star.mass_msun,
+        parameters.star.luminosity_lsun,
+        parameters.star.effective_temperature_k
     ));
     for m in methods {
-        text.push_str(&format!(" {}: {} ({}).", capitalised(m.topic), m.text, citation_list(&m.references)));
+        text.push_str(&format!(
+            " {}: {} ({}).",
+            capitalised(m.topic),
+            m.text,
+            citation_list(&m.references)
+        ));
     }
     text.push_str(
         " Simplifications: the volatiles are treated as independent pure ices (no entrapment or mixed-ice binding); radiation is treated in 1+1D, in vertical columns with starlight entering at the grazing angle; gas and dust share one temperature; and the disk is in freeze-out/desorption equilibrium at one moment, with no radial drift, vapour transport, evolution or gas-phase chemistry.",

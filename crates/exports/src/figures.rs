@@ -7,14 +7,21 @@
 use crate::provenance::Provenance;
 
 fn xml_escape(s: &str) -> String {
-    s.replace('&', "&amp;").replace('<', "&lt;").replace('>', "&gt;").replace('"', "&quot;")
+    s.replace('&', "&amp;")
+        .replace('<', "&lt;")
+        .replace('>', "&gt;")
+        .replace('"', "&quot;")
 }
 
 /// Insert a `<metadata>` element right after the opening `<svg ...>` tag.
 /// `view` names the view drawn (e.g. "c_to_o").
 pub fn embed_svg_provenance(svg: &str, provenance: &Provenance, view: &str) -> String {
-    let Some(start) = svg.find("<svg") else { return svg.to_string() };
-    let Some(end) = svg[start..].find('>') else { return svg.to_string() };
+    let Some(start) = svg.find("<svg") else {
+        return svg.to_string();
+    };
+    let Some(end) = svg[start..].find('>') else {
+        return svg.to_string();
+    };
     let at = start + end + 1;
     let metadata = format!(
         "\n<metadata><provenance xmlns=\"urn:nivalis:provenance\" program=\"{}\" view=\"{}\" disk_hash=\"{}\">{}</provenance></metadata>",
@@ -32,7 +39,11 @@ fn crc32(bytes: &[u8]) -> u32 {
     for &b in bytes {
         crc ^= u32::from(b);
         for _ in 0..8 {
-            crc = if crc & 1 != 0 { 0xedb8_8320 ^ (crc >> 1) } else { crc >> 1 };
+            crc = if crc & 1 != 0 {
+                0xedb8_8320 ^ (crc >> 1)
+            } else {
+                crc >> 1
+            };
         }
     }
     !crc
@@ -70,7 +81,10 @@ pub fn embed_png_provenance(png: &[u8], provenance: &Provenance, view: &str) -> 
     out.extend(itxt("Software", &provenance.program));
     out.extend(itxt("nivalis:view", view));
     out.extend(itxt("nivalis:disk_hash", &provenance.disk_hash));
-    out.extend(itxt("nivalis:disk_file", &provenance.disk_value().to_string()));
+    out.extend(itxt(
+        "nivalis:disk_file",
+        &provenance.disk_value().to_string(),
+    ));
     out.extend_from_slice(&png[iend..]);
     out
 }
@@ -88,7 +102,11 @@ mod tests {
     #[test]
     fn svg_metadata_goes_after_the_root_tag() {
         let p = Provenance::of(&nivalis_disk_files::DiskFile::defaults());
-        let svg = embed_svg_provenance("<?xml version=\"1.0\"?><svg width=\"1\"><rect/></svg>", &p, "c_to_o");
+        let svg = embed_svg_provenance(
+            "<?xml version=\"1.0\"?><svg width=\"1\"><rect/></svg>",
+            &p,
+            "c_to_o",
+        );
         assert!(svg.starts_with("<?xml version=\"1.0\"?><svg width=\"1\">\n<metadata><provenance"));
         assert!(svg.ends_with("</metadata><rect/></svg>"));
     }

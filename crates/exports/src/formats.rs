@@ -61,22 +61,44 @@ pub fn to_ecsv(table: &Table, provenance: &Provenance, methods: &[MethodEntry]) 
 }
 
 /// [`to_ecsv`] with extra metadata entries (each value written as a quoted YAML string).
-pub fn to_ecsv_with_meta(table: &Table, provenance: &Provenance, methods: &[MethodEntry], extra: &[(&str, String)]) -> String {
+pub fn to_ecsv_with_meta(
+    table: &Table,
+    provenance: &Provenance,
+    methods: &[MethodEntry],
+    extra: &[(&str, String)],
+) -> String {
     let mut out = String::from("# %ECSV 1.0\n# ---\n# delimiter: ','\n# datatype:\n");
     for c in &table.columns {
         out.push_str(&format!("# - {{name: {}, datatype: float64", c.name));
         if !c.unit.is_empty() {
             out.push_str(&format!(", unit: {}", yaml_quoted(c.unit)));
         }
-        out.push_str(&format!(", description: {}}}\n", yaml_quoted(&c.description)));
+        out.push_str(&format!(
+            ", description: {}}}\n",
+            yaml_quoted(&c.description)
+        ));
     }
     out.push_str("# meta:\n");
-    out.push_str(&format!("#   program: {}\n", yaml_quoted(&provenance.program)));
-    out.push_str(&format!("#   disk_hash: {}\n", yaml_quoted(&provenance.disk_hash)));
-    out.push_str(&format!("#   disk_file: {}\n", yaml_quoted(&provenance.disk_value().to_string())));
+    out.push_str(&format!(
+        "#   program: {}\n",
+        yaml_quoted(&provenance.program)
+    ));
+    out.push_str(&format!(
+        "#   disk_hash: {}\n",
+        yaml_quoted(&provenance.disk_hash)
+    ));
+    out.push_str(&format!(
+        "#   disk_file: {}\n",
+        yaml_quoted(&provenance.disk_value().to_string())
+    ));
     out.push_str("#   methods:\n");
     for m in methods {
-        out.push_str(&format!("#   - {{topic: {}, method: {}, references: [{}]}}\n", yaml_quoted(m.topic), yaml_quoted(&m.text), m.references.join(", ")));
+        out.push_str(&format!(
+            "#   - {{topic: {}, method: {}, references: [{}]}}\n",
+            yaml_quoted(m.topic),
+            yaml_quoted(&m.text),
+            m.references.join(", ")
+        ));
     }
     for (key, value) in extra {
         out.push_str(&format!("#   {key}: {}\n", yaml_quoted(value)));
@@ -95,7 +117,11 @@ pub fn to_json(table: &Table, provenance: &Provenance, methods: &[MethodEntry]) 
         .collect();
     let mut data = Map::new();
     for (i, c) in table.columns.iter().enumerate() {
-        let values: Vec<Value> = table.rows.iter().map(|r| r[i].map_or(Value::Null, |x| json!(x))).collect();
+        let values: Vec<Value> = table
+            .rows
+            .iter()
+            .map(|r| r[i].map_or(Value::Null, |x| json!(x)))
+            .collect();
         data.insert(c.name.clone(), Value::Array(values));
     }
     json!({

@@ -17,4 +17,6 @@ pub mod tables;
 
 pub use formats::{to_csv, to_ecsv, to_json, Format};
 pub use provenance::Provenance;
-pub use tables::{elements_table, map_table, model_table, structure_table, MapQuantity, Phase, Table};
+pub use tables::{
+    elements_table, map_table, model_table, structure_table, MapQuantity, Phase, Table,
+};

@@ -20,7 +20,11 @@ pub struct MethodEntry {
 }
 
 fn entry(topic: &'static str, text: String, references: &[&'static str]) -> MethodEntry {
-    MethodEntry { topic, text, references: references.to_vec() }
+    MethodEntry {
+        topic,
+        text,
+        references: references.to_vec(),
+    }
 }
 
 /// The methods used by a configuration, in the order of the model.
@@ -55,7 +59,10 @@ pub fn methods(p: &ModelParameters) -> Vec<MethodEntry> {
     } else {
         out.push(entry(
             "irradiation",
-            format!("passive irradiation with a fixed flaring angle phi = {}", d.flaring_angle),
+            format!(
+                "passive irradiation with a fixed flaring angle phi = {}",
+                d.flaring_angle
+            ),
             &["chiang1997", "dullemond2001"],
         ));
     }
@@ -70,7 +77,11 @@ pub fn methods(p: &ModelParameters) -> Vec<MethodEntry> {
                 vec!["shakura1973", "pringle1981", "bell1994"],
             ),
         };
-        out.push(MethodEntry { topic: "accretion heating", text, references: refs });
+        out.push(MethodEntry {
+            topic: "accretion heating",
+            text,
+            references: refs,
+        });
     }
     match d.vertical_temperature {
         VerticalTemperature::Isothermal => {
@@ -103,15 +114,28 @@ pub fn methods(p: &ModelParameters) -> Vec<MethodEntry> {
     let props = species_properties(p, &table);
     match p.ices.desorption {
         DesorptionModel::FixedTemperature => {
-            let mut refs: Vec<&'static str> = table.entries.iter().map(|e| e.condensation_source).filter(|k| reference(k).is_some()).collect();
+            let mut refs: Vec<&'static str> = table
+                .entries
+                .iter()
+                .map(|e| e.condensation_source)
+                .filter(|k| reference(k).is_some())
+                .collect();
             refs.sort();
             refs.dedup();
-            let overridden = p.ices.overrides.iter().any(|o| o.condensation_temperature_k.is_some());
+            let overridden = p
+                .ices
+                .overrides
+                .iter()
+                .any(|o| o.condensation_temperature_k.is_some());
             out.push(MethodEntry {
                 topic: "ices",
                 text: format!(
                     "step model: each species is ice below a fixed condensation temperature{}",
-                    if overridden { " (some temperatures set by the user)" } else { "" }
+                    if overridden {
+                        " (some temperatures set by the user)"
+                    } else {
+                        ""
+                    }
                 ),
                 references: refs,
             });
@@ -134,7 +158,14 @@ pub fn methods(p: &ModelParameters) -> Vec<MethodEntry> {
                 }
             }
             let mut seen = Vec::new();
-            refs.retain(|k| if seen.contains(k) { false } else { seen.push(*k); true });
+            refs.retain(|k| {
+                if seen.contains(k) {
+                    false
+                } else {
+                    seen.push(*k);
+                    true
+                }
+            });
             out.push(MethodEntry {
                 topic: "ices",
                 text: format!(
@@ -169,7 +200,12 @@ pub fn methods(p: &ModelParameters) -> Vec<MethodEntry> {
 
 /// Methods as JSON objects.
 pub fn to_json(methods: &[MethodEntry]) -> Value {
-    Value::Array(methods.iter().map(|m| json!({"topic": m.topic, "method": m.text, "references": m.references})).collect())
+    Value::Array(
+        methods
+            .iter()
+            .map(|m| json!({"topic": m.topic, "method": m.text, "references": m.references}))
+            .collect(),
+    )
 }
 
 /// Every reference key the methods cite, once each, in order of first use.
@@ -192,7 +228,10 @@ mod tests {
     #[test]
     fn every_cited_key_is_a_publication() {
         let mut p = ModelParameters::defaults();
-        for desorption in [DesorptionModel::ZerothOrder, DesorptionModel::FixedTemperature] {
+        for desorption in [
+            DesorptionModel::ZerothOrder,
+            DesorptionModel::FixedTemperature,
+        ] {
             p.ices.desorption = desorption;
             for k in cited_keys(&methods(&p)) {
                 assert!(reference(k).is_some(), "{k}");
@@ -206,6 +245,11 @@ mod tests {
         p.disk.accretion_rate_msun_per_yr = 0.0;
         p.ices.cosmic_ray_desorption = false;
         let keys = cited_keys(&methods(&p));
-        assert!(!keys.contains(&"shakura1973") && !keys.contains(&"bell1994") && !keys.contains(&"hasegawa1993"), "{keys:?}");
+        assert!(
+            !keys.contains(&"shakura1973")
+                && !keys.contains(&"bell1994")
+                && !keys.contains(&"hasegawa1993"),
+            "{keys:?}"
+        );
     }
 }

@@ -12,7 +12,11 @@ use nivalis_physics::planet::{ChiSquareMap, FormationPlace, Planet, RadiusInterv
 use serde_json::{json, Map, Value};
 
 fn spec(name: &str, unit: &'static str, description: &str) -> ColumnSpec {
-    ColumnSpec { name: name.into(), unit, description: description.into() }
+    ColumnSpec {
+        name: name.into(),
+        unit,
+        description: description.into(),
+    }
 }
 
 fn place_bounds(planet: &Planet) -> (f64, f64) {
@@ -24,10 +28,26 @@ pub fn planet_table(planet: &Planet) -> Table {
     let e = &planet.envelope;
     let (r1, r2) = place_bounds(planet);
     let mut columns = vec![
-        spec("radius_au", "AU", "formation radius (inner end of a migration range)"),
-        spec("to_radius_au", "AU", "outer end of a migration range (equal to radius_au for one radius)"),
-        spec("solid_to_gas", "", "accreted solid mass over accreted gas mass"),
-        spec("solid_mixing_fraction", "", "fraction of the solids' atoms that enter the envelope"),
+        spec(
+            "radius_au",
+            "AU",
+            "formation radius (inner end of a migration range)",
+        ),
+        spec(
+            "to_radius_au",
+            "AU",
+            "outer end of a migration range (equal to radius_au for one radius)",
+        ),
+        spec(
+            "solid_to_gas",
+            "",
+            "accreted solid mass over accreted gas mass",
+        ),
+        spec(
+            "solid_mixing_fraction",
+            "",
+            "fraction of the solids' atoms that enter the envelope",
+        ),
         spec("local_gas_c_to_o", "", "C/O of the accreted gas"),
         spec("local_solid_c_to_o", "", "C/O of the accreted solids"),
         spec("c_to_o", "", "envelope C/O"),
@@ -46,14 +66,32 @@ pub fn planet_table(planet: &Planet) -> Table {
     for el in [Element::C, Element::O, Element::N, Element::S] {
         let s = el.symbol().to_lowercase();
         let x = e.element(el);
-        columns.push(spec(&format!("{s}_to_h_rel_star"), "", &format!("envelope {}/H over the star's", el.symbol())));
-        columns.push(spec(&format!("{s}_to_h_dex"), "dex", &format!("[{}/H] of the envelope", el.symbol())));
-        columns.push(spec(&format!("{s}_from_solids"), "", &format!("fraction of the envelope's {} atoms that came with the solids", el.symbol())));
+        columns.push(spec(
+            &format!("{s}_to_h_rel_star"),
+            "",
+            &format!("envelope {}/H over the star's", el.symbol()),
+        ));
+        columns.push(spec(
+            &format!("{s}_to_h_dex"),
+            "dex",
+            &format!("[{}/H] of the envelope", el.symbol()),
+        ));
+        columns.push(spec(
+            &format!("{s}_from_solids"),
+            "",
+            &format!(
+                "fraction of the envelope's {} atoms that came with the solids",
+                el.symbol()
+            ),
+        ));
         row.push(Some(x.relative_to_star));
         row.push(x.dex);
         row.push(x.solid_share);
     }
-    Table { columns, rows: vec![row] }
+    Table {
+        columns,
+        rows: vec![row],
+    }
 }
 
 /// The envelope as JSON, with provenance; `place` is the request's formation place.
@@ -113,14 +151,30 @@ fn flag(b: bool) -> Option<f64> {
 pub fn fit_table(map: &ChiSquareMap) -> Table {
     let columns = vec![
         spec("radius_au", "AU", "formation radius (radial cell centre)"),
-        spec("solid_to_gas", "", "accreted solid mass over accreted gas mass"),
+        spec(
+            "solid_to_gas",
+            "",
+            "accreted solid mass over accreted gas mass",
+        ),
         spec("c_to_o", "", "model envelope C/O"),
         spec("c_to_h_dex", "dex", "model envelope [C/H]"),
         spec("o_to_h_dex", "dex", "model envelope [O/H]"),
         spec("chi2", "", "chi-square against the observation"),
-        spec("delta_chi2", "", "chi-square minus its minimum over the map"),
-        spec("within_1sigma", "", "1 where delta_chi2 is within the 1-sigma threshold, else 0"),
-        spec("within_2sigma", "", "1 where delta_chi2 is within the 2-sigma threshold, else 0"),
+        spec(
+            "delta_chi2",
+            "",
+            "chi-square minus its minimum over the map",
+        ),
+        spec(
+            "within_1sigma",
+            "",
+            "1 where delta_chi2 is within the 1-sigma threshold, else 0",
+        ),
+        spec(
+            "within_2sigma",
+            "",
+            "1 where delta_chi2 is within the 2-sigma threshold, else 0",
+        ),
     ];
     let rows = map
         .rows
@@ -164,7 +218,9 @@ pub fn fit_summary(map: &ChiSquareMap) -> Value {
         })
         .collect();
     let o = &map.observed;
-    let metallicity = o.metallicity.map(|m| json!({"tracer": m.tracer.label(), "dex": m.dex, "sigma_dex": m.sigma_dex}));
+    let metallicity = o
+        .metallicity
+        .map(|m| json!({"tracer": m.tracer.label(), "dex": m.dex, "sigma_dex": m.sigma_dex}));
     json!({
         "observed": {"c_to_o": o.c_to_o, "c_to_o_sigma": o.c_to_o_sigma, "metallicity": metallicity},
         "fitted": o.fitted_label(),
@@ -193,7 +249,12 @@ pub fn fit_json(map: &ChiSquareMap, provenance: &Provenance, methods: &[MethodEn
 
 /// The map as ECSV, with the summary (compact JSON) in the metadata.
 pub fn fit_ecsv(map: &ChiSquareMap, provenance: &Provenance, methods: &[MethodEntry]) -> String {
-    to_ecsv_with_meta(&fit_table(map), provenance, methods, &[("fit", fit_summary(map).to_string())])
+    to_ecsv_with_meta(
+        &fit_table(map),
+        provenance,
+        methods,
+        &[("fit", fit_summary(map).to_string())],
+    )
 }
 
 /// One line per fact of an anchoring, for the terminal and the page.
@@ -209,10 +270,21 @@ pub fn anchor_summary(a: &AnchoredDisk) -> Vec<String> {
         a.sigma_au
     )];
     if a.sigma_au > 0.0 {
-        for (label, end) in [("observed - sigma", &a.at_minus_sigma), ("observed + sigma", &a.at_plus_sigma)] {
+        for (label, end) in [
+            ("observed - sigma", &a.at_minus_sigma),
+            ("observed + sigma", &a.at_plus_sigma),
+        ] {
             match end.value {
-                Some(v) => lines.push(format!("at {label} = {} au: {} = {}", end.radius_au, a.parameter.name(), number(v))),
-                None => lines.push(format!("at {label} = {} au: no value ({})", end.radius_au, end.reason)),
+                Some(v) => lines.push(format!(
+                    "at {label} = {} au: {} = {}",
+                    end.radius_au,
+                    a.parameter.name(),
+                    number(v)
+                )),
+                None => lines.push(format!(
+                    "at {label} = {} au: no value ({})",
+                    end.radius_au, end.reason
+                )),
             }
         }
     }

@@ -26,7 +26,11 @@ impl Provenance {
         let disk_json = to_json_string(file);
         let digest = Sha256::digest(disk_json.as_bytes());
         let disk_hash = digest.iter().take(6).map(|b| format!("{b:02x}")).collect();
-        Provenance { program: program_version(), disk_json, disk_hash }
+        Provenance {
+            program: program_version(),
+            disk_json,
+            disk_hash,
+        }
     }
 
     /// The resolved disk as a JSON value.

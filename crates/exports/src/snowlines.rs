@@ -17,8 +17,17 @@ pub fn snowlines_json(model: &Model, provenance: &Provenance) -> Value {
     let st = &model.structure;
     for s in Species::ALL {
         let found = model.snowlines(s);
-        lines.insert(s.key().into(), json!(found.iter().map(|l| l.radius_cm / AU_CM).collect::<Vec<_>>()));
-        directions.insert(s.key().into(), json!(found.iter().map(|l| l.direction.key()).collect::<Vec<_>>()));
+        lines.insert(
+            s.key().into(),
+            json!(found
+                .iter()
+                .map(|l| l.radius_cm / AU_CM)
+                .collect::<Vec<_>>()),
+        );
+        directions.insert(
+            s.key().into(),
+            json!(found.iter().map(|l| l.direction.key()).collect::<Vec<_>>()),
+        );
         let mut height = Vec::with_capacity(st.radial_cells);
         let mut z_over_r = Vec::with_capacity(st.radial_cells);
         let mut status = Vec::with_capacity(st.radial_cells);

@@ -28,7 +28,11 @@ pub struct Table {
 }
 
 fn col(name: impl Into<String>, unit: &'static str, description: impl Into<String>) -> ColumnSpec {
-    ColumnSpec { name: name.into(), unit, description: description.into() }
+    ColumnSpec {
+        name: name.into(),
+        unit,
+        description: description.into(),
+    }
 }
 
 /// A number only if finite (NaN and infinities are undefined).
@@ -43,9 +47,21 @@ pub fn structure_table(model: &Model) -> Table {
         col("radius_au", "AU", "radial cell centre"),
         col("surface_density_g_cm2", "g / cm2", "gas surface density"),
         col("midplane_temperature_k", "K", "midplane temperature"),
-        col("irradiation_temperature_k", "K", "stellar irradiation temperature"),
-        col("accretion_temperature_k", "K", "viscous (accretion) heating temperature"),
-        col("midplane_density_h_cm3", "cm-3", "midplane H-nucleus number density"),
+        col(
+            "irradiation_temperature_k",
+            "K",
+            "stellar irradiation temperature",
+        ),
+        col(
+            "accretion_temperature_k",
+            "K",
+            "viscous (accretion) heating temperature",
+        ),
+        col(
+            "midplane_density_h_cm3",
+            "cm-3",
+            "midplane H-nucleus number density",
+        ),
         col("scale_height_au", "AU", "midplane pressure scale height"),
         col("aspect_ratio", "", "scale height over radius"),
     ];
@@ -75,17 +91,40 @@ pub fn model_table(model: &Model) -> Table {
     let mut columns = vec![
         col("radius_au", "AU", "radial cell centre"),
         col("midplane_temperature_k", "K", "midplane temperature"),
-        col("midplane_density_h_cm3", "cm-3", "midplane H-nucleus number density"),
+        col(
+            "midplane_density_h_cm3",
+            "cm-3",
+            "midplane H-nucleus number density",
+        ),
         col("c_to_o_gas", "", "C/O number ratio of the gas"),
         col("c_to_o_ice", "", "C/O number ratio of the ices alone"),
-        col("c_to_o_solid", "", "C/O number ratio of all solids (ices and refractories)"),
-        col("c_to_h_gas_rel_star", "", "gas C/H divided by the star's C/H"),
-        col("o_to_h_gas_rel_star", "", "gas O/H divided by the star's O/H"),
+        col(
+            "c_to_o_solid",
+            "",
+            "C/O number ratio of all solids (ices and refractories)",
+        ),
+        col(
+            "c_to_h_gas_rel_star",
+            "",
+            "gas C/H divided by the star's C/H",
+        ),
+        col(
+            "o_to_h_gas_rel_star",
+            "",
+            "gas O/H divided by the star's O/H",
+        ),
     ];
     for s in Species::ALL {
-        columns.push(col(format!("ice_fraction_{}", s.key()), "", format!("fraction of {} in ice at the midplane", s.key())));
+        columns.push(col(
+            format!("ice_fraction_{}", s.key()),
+            "",
+            format!("fraction of {} in ice at the midplane", s.key()),
+        ));
     }
-    let fractions: Vec<Vec<f64>> = Species::ALL.iter().map(|&s| model.midplane_ice_fraction(s)).collect();
+    let fractions: Vec<Vec<f64>> = Species::ALL
+        .iter()
+        .map(|&s| model.midplane_ice_fraction(s))
+        .collect();
     let rows = (0..st.radial_cells)
         .map(|j| {
             let mut row = vec![
@@ -176,7 +215,10 @@ impl MapQuantity {
     pub fn parse(text: &str) -> Result<MapQuantity, String> {
         let species = |name: &str| {
             Species::from_key(name).ok_or_else(|| {
-                format!("--quantity: unknown species {name:?}; expected one of {}", Species::ALL.map(|s| s.key()).join(", "))
+                format!(
+                    "--quantity: unknown species {name:?}; expected one of {}",
+                    Species::ALL.map(|s| s.key()).join(", ")
+                )
             })
         };
         Ok(match text {
@@ -201,11 +243,17 @@ impl MapQuantity {
                         .find(|p| p.key() == phase)
                         .ok_or_else(|| format!("--quantity: unknown phase {phase:?}; expected gas, ice, refractory or solid"))?;
                     let element = Element::from_symbol(el).ok_or_else(|| {
-                        format!("--quantity: unknown element {el:?}; expected one of {}", Element::ALL.map(|e| e.symbol()).join(", "))
+                        format!(
+                            "--quantity: unknown element {el:?}; expected one of {}",
+                            Element::ALL.map(|e| e.symbol()).join(", ")
+                        )
                     })?;
                     MapQuantity::ElementAbundance(phase, element)
                 } else {
-                    return Err(format!("--quantity: unknown quantity {text:?}; expected one of {}", Self::NAMES));
+                    return Err(format!(
+                        "--quantity: unknown quantity {text:?}; expected one of {}",
+                        Self::NAMES
+                    ));
                 }
             }
         })
@@ -216,15 +264,34 @@ impl MapQuantity {
         match self {
             MapQuantity::TemperatureK => ("K", "gas and dust temperature".into()),
             MapQuantity::DensityHCm3 => ("cm-3", "H-nucleus number density".into()),
-            MapQuantity::FuvFluxHabing => ("", "FUV photon flux in Habing units (1e8 photons cm-2 s-1)".into()),
+            MapQuantity::FuvFluxHabing => (
+                "",
+                "FUV photon flux in Habing units (1e8 photons cm-2 s-1)".into(),
+            ),
             MapQuantity::IonizationRateS => ("1 / s", "cosmic-ray ionisation rate per H2".into()),
-            MapQuantity::VisualExtinctionMag => ("mag", "visual extinction towards the disk surface".into()),
+            MapQuantity::VisualExtinctionMag => {
+                ("mag", "visual extinction towards the disk surface".into())
+            }
             MapQuantity::IceFraction(s) => ("", format!("fraction of {} in ice", s.key())),
             MapQuantity::CToOGas => ("", "C/O number ratio of the gas".into()),
-            MapQuantity::EquilibrationTimeYr(s) => ("yr", format!("freeze-out/desorption equilibration time of {}", s.key())),
-            MapQuantity::GasDensityCm3(s) => ("cm-3", format!("number density of {} in the gas", s.key())),
-            MapQuantity::IceDensityCm3(s) => ("cm-3", format!("number density of {} in ice (molecules per cm3 of disk)", s.key())),
-            MapQuantity::ElementAbundance(p, e) => ("", format!("{} abundance of {} per H nucleus", p.key(), e.symbol())),
+            MapQuantity::EquilibrationTimeYr(s) => (
+                "yr",
+                format!("freeze-out/desorption equilibration time of {}", s.key()),
+            ),
+            MapQuantity::GasDensityCm3(s) => {
+                ("cm-3", format!("number density of {} in the gas", s.key()))
+            }
+            MapQuantity::IceDensityCm3(s) => (
+                "cm-3",
+                format!(
+                    "number density of {} in ice (molecules per cm3 of disk)",
+                    s.key()
+                ),
+            ),
+            MapQuantity::ElementAbundance(p, e) => (
+                "",
+                format!("{} abundance of {} per H nucleus", p.key(), e.symbol()),
+            ),
         }
     }
 
@@ -234,7 +301,9 @@ impl MapQuantity {
         match self {
             MapQuantity::TemperatureK => finite(s.temperature_k[k]),
             MapQuantity::DensityHCm3 => finite(s.hydrogen_density_cm3[k]),
-            MapQuantity::FuvFluxHabing => finite(s.fuv_photon_flux_cm2_s[k] / HABING_PHOTONS_PER_CM2_S),
+            MapQuantity::FuvFluxHabing => {
+                finite(s.fuv_photon_flux_cm2_s[k] / HABING_PHOTONS_PER_CM2_S)
+            }
             MapQuantity::IonizationRateS => finite(s.ionization_rate_s[k]),
             MapQuantity::VisualExtinctionMag => finite(s.visual_extinction_mag[k]),
             MapQuantity::IceFraction(sp) => finite(model.ice_fraction_at(sp, k)),
@@ -243,13 +312,17 @@ impl MapQuantity {
                 let (c, o) = (Element::C as usize, Element::O as usize);
                 defined_ratio(ph.gas[c], ph.gas[o], model.carriers.stellar_per_h[o])
             }
-            MapQuantity::EquilibrationTimeYr(sp) => {
-                finite(model.equilibration_time_s[sp.index() * model.sample_count() + k] / JULIAN_YEAR_S)
-            }
+            MapQuantity::EquilibrationTimeYr(sp) => finite(
+                model.equilibration_time_s[sp.index() * model.sample_count() + k] / JULIAN_YEAR_S,
+            ),
             MapQuantity::GasDensityCm3(sp) | MapQuantity::IceDensityCm3(sp) => {
                 let total = model.carriers.species_per_h[sp.index()] * s.hydrogen_density_cm3[k];
                 let f = model.ice_fraction_at(sp, k);
-                finite(if matches!(self, MapQuantity::IceDensityCm3(_)) { f * total } else { (1.0 - f) * total })
+                finite(if matches!(self, MapQuantity::IceDensityCm3(_)) {
+                    f * total
+                } else {
+                    (1.0 - f) * total
+                })
             }
             MapQuantity::ElementAbundance(p, e) => finite(p.abundance(&model.phases_at(k), e)),
         }
@@ -263,7 +336,11 @@ pub fn map_table(model: &Model, quantity: MapQuantity, value_name: &str) -> Tabl
     let (unit, description) = quantity.unit_and_description();
     let columns = vec![
         col("radius_au", "AU", "radial cell centre"),
-        col("height_au", "AU", "height of the cell centre above the midplane"),
+        col(
+            "height_au",
+            "AU",
+            "height of the cell centre above the midplane",
+        ),
         col("z_over_r", "", "height over radius"),
         col(value_name, unit, description),
     ];
@@ -273,7 +350,12 @@ pub fn map_table(model: &Model, quantity: MapQuantity, value_name: &str) -> Tabl
         for s in 1..st.samples_per_column {
             let k = st.index(j, s);
             let z = st.samples.height_cm[k];
-            rows.push(vec![finite(r / AU_CM), finite(z / AU_CM), finite(z / r), quantity.value(model, k)]);
+            rows.push(vec![
+                finite(r / AU_CM),
+                finite(z / AU_CM),
+                finite(z / r),
+                quantity.value(model, k),
+            ]);
         }
     }
     Table { columns, rows }
@@ -290,7 +372,11 @@ pub fn elements_table(model: &Model) -> Table {
             columns.push(col(
                 format!("{}_{}_per_h", p.key(), e.symbol()),
                 "",
-                format!("{} abundance of {} per H nucleus at the midplane", p.key(), e.symbol()),
+                format!(
+                    "{} abundance of {} per H nucleus at the midplane",
+                    p.key(),
+                    e.symbol()
+                ),
             ));
         }
     }

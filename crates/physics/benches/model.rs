@@ -40,7 +40,10 @@ fn full_model(parameters: &ModelParameters) -> (usize, usize) {
     // the core that the benchmark should surface loudly rather than time.
     let model = Model::run(parameters).expect("the default disk must run");
     let profile = model.midplane_profile();
-    let snowline_count: usize = Species::ALL.iter().map(|&species| model.snowlines(species).len()).sum();
+    let snowline_count: usize = Species::ALL
+        .iter()
+        .map(|&species| model.snowlines(species).len())
+        .sum();
     (profile.radius_au.len(), snowline_count)
 }
 
@@ -48,11 +51,17 @@ fn structure_benchmark(c: &mut Criterion) {
     let mut group = c.benchmark_group("structure");
     // Flat sampling, as in the model group, so both report per-sample medians of the same kind.
     group.sampling_mode(SamplingMode::Flat);
-    group.sample_size(20).warm_up_time(Duration::from_millis(500)).measurement_time(Duration::from_secs(3));
+    group
+        .sample_size(20)
+        .warm_up_time(Duration::from_millis(500))
+        .measurement_time(Duration::from_secs(3));
     for (label, radial, vertical) in grids() {
         let p = parameters(radial, vertical);
         group.bench_with_input(BenchmarkId::from_parameter(label), &p, |b, p| {
-            b.iter(|| DiskStructure::compute(black_box(p)).expect("the default disk must have a structure"))
+            b.iter(|| {
+                DiskStructure::compute(black_box(p))
+                    .expect("the default disk must have a structure")
+            })
         });
     }
     group.finish();
@@ -64,10 +73,15 @@ fn model_benchmark(c: &mut Criterion) {
     // advice for runs of tens of milliseconds; the default linear ramp would
     // need about 10 s for 20 samples of the 4x grid.
     group.sampling_mode(SamplingMode::Flat);
-    group.sample_size(20).warm_up_time(Duration::from_millis(500)).measurement_time(Duration::from_secs(5));
+    group
+        .sample_size(20)
+        .warm_up_time(Duration::from_millis(500))
+        .measurement_time(Duration::from_secs(5));
     for (label, radial, vertical) in grids() {
         let p = parameters(radial, vertical);
-        group.bench_with_input(BenchmarkId::from_parameter(label), &p, |b, p| b.iter(|| full_model(black_box(p))));
+        group.bench_with_input(BenchmarkId::from_parameter(label), &p, |b, p| {
+            b.iter(|| full_model(black_box(p)))
+        });
     }
     group.finish();
 }

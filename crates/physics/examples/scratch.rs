@@ -10,7 +10,15 @@ fn main() {
         let t2 = t0.elapsed() - t1;
         let t3 = std::time::Instant::now();
         let prof = m.midplane_profile();
-        for sp in Species::ALL { let _ = m.snowlines(sp); }
-        eprintln!("structure {:?} model {:?} profile {:?} {}", t1, t2, t3.elapsed(), prof.radius_au.len() + s.radial_cells);
+        for sp in Species::ALL {
+            let _ = m.snowlines(sp);
+        }
+        eprintln!(
+            "structure {:?} model {:?} profile {:?} {}",
+            t1,
+            t2,
+            t3.elapsed(),
+            prof.radius_au.len() + s.radial_cells
+        );
     }
 }

@@ -24,7 +24,9 @@ use crate::params::{DesorptionModel, ModelParameters};
 use crate::snowlines::{crossings, CrossingDirection};
 use crate::species::{Species, SpeciesTable};
 use crate::star::stellar_abundances_per_h;
-use crate::structure::{column, flaring_solution, radial_cell_centres_cm, surface_density_g_cm2, DiskConstants};
+use crate::structure::{
+    column, flaring_solution, radial_cell_centres_cm, surface_density_g_cm2, DiskConstants,
+};
 use crate::units::AU_CM;
 
 /// Absolute tolerance of the root in ln(parameter).
@@ -101,8 +103,19 @@ pub struct AnchorRequest {
 
 impl AnchorRequest {
     /// A request with the parameter's default range.
-    pub fn new(species: Species, observed_radius_au: f64, sigma_au: f64, parameter: AnchorParameter) -> AnchorRequest {
-        AnchorRequest { species, observed_radius_au, sigma_au, parameter, range: parameter.default_range() }
+    pub fn new(
+        species: Species,
+        observed_radius_au: f64,
+        sigma_au: f64,
+        parameter: AnchorParameter,
+    ) -> AnchorRequest {
+        AnchorRequest {
+            species,
+            observed_radius_au,
+            sigma_au,
+            parameter,
+            range: parameter.default_range(),
+        }
     }
 }
 
@@ -186,13 +199,25 @@ struct SnowlineProbe {
 }
 
 impl SnowlineProbe {
-    fn new(base: &ModelParameters, parameter: AnchorParameter, species: Species) -> Result<SnowlineProbe, PhysicsError> {
+    fn new(
+        base: &ModelParameters,
+        parameter: AnchorParameter,
+        species: Species,
+    ) -> Result<SnowlineProbe, PhysicsError> {
         let table = SpeciesTable::built_in();
-        let carriers = Carriers::new(stellar_abundances_per_h(&base.star), &base.composition, &table)?;
+        let carriers = Carriers::new(
+            stellar_abundances_per_h(&base.star),
+            &base.composition,
+            &table,
+        )?;
         let props = species_properties(base, &table);
         let c = DiskConstants::new(base)?;
-        let radii_cm = radial_cell_centres_cm(c.inner_radius_cm, c.outer_radius_cm, base.grid.radial_cells);
-        let sigma_g_cm2 = radii_cm.iter().map(|&r| surface_density_g_cm2(&c, r)).collect();
+        let radii_cm =
+            radial_cell_centres_cm(c.inner_radius_cm, c.outer_radius_cm, base.grid.radial_cells);
+        let sigma_g_cm2 = radii_cm
+            .iter()
+            .map(|&r| surface_density_g_cm2(&c, r))
+            .collect();
         Ok(SnowlineProbe {
             base: base.clone(),
             parameter,
@@ -211,7 +236,12 @@ impl SnowlineProbe {
     fn position(&self, value: f64) -> Result<SnowlinePosition, PhysicsError> {
         let p = self.parameter.with_value(&self.base, value);
         let c = DiskConstants::new(&p)?;
-        let (phi, mid) = flaring_solution(&c, p.disk.self_consistent_flaring, &self.radii_cm, &self.sigma_g_cm2)?;
+        let (phi, mid) = flaring_solution(
+            &c,
+            p.disk.self_consistent_flaring,
+            &self.radii_cm,
+            &self.sigma_g_cm2,
+        )?;
         let n = self.radii_cm.len();
         let first_frozen = if self.step_model {
             let t: Vec<f64> = mid.iter().map(|m| m.temperature_k).collect();
@@ -225,7 +255,13 @@ impl SnowlineProbe {
         } else {
             let mut f = Vec::with_capacity(n);
             for j in 0..n {
-                let col = column(&c, self.radii_cm[j], self.sigma_g_cm2[j], mid[j].temperature_k, phi[j]);
+                let col = column(
+                    &c,
+                    self.radii_cm[j],
+                    self.sigma_g_cm2[j],
+                    mid[j].temperature_k,
+                    phi[j],
+                );
                 let state = self.balance.solve(
                     self.species_index,
                     self.molecules_per_h * col.hydrogen_density_cm3[0],
@@ -237,23 +273,38 @@ impl SnowlineProbe {
                 f.push(state.ice_fraction);
                 if j > 0 {
                     // The same pairwise test `Model::snowlines` applies to the whole profile.
-                    let pair = crossings(&self.radii_cm[j - 1..=j], &f[j - 1..=j], 0.5, false, true);
-                    if let Some(s) = pair.into_iter().find(|s| s.direction == CrossingDirection::FreezeOut) {
+                    let pair =
+                        crossings(&self.radii_cm[j - 1..=j], &f[j - 1..=j], 0.5, false, true);
+                    if let Some(s) = pair
+                        .into_iter()
+                        .find(|s| s.direction == CrossingDirection::FreezeOut)
+                    {
                         return Ok(SnowlinePosition::Radius(s.radius_cm / AU_CM));
                     }
                 }
             }
             f[0] >= 0.5
         };
-        Ok(if first_frozen { SnowlinePosition::InsideGrid } else { SnowlinePosition::BeyondGrid })
+        Ok(if first_frozen {
+            SnowlinePosition::InsideGrid
+        } else {
+            SnowlinePosition::BeyondGrid
+        })
     }
 }
 
 /// The first freeze-out snowline of `species` for `parameters`, by the fast
 /// midplane-only path (equal to the first `FreezeOut` entry of
 /// `Model::run(parameters)?.snowlines(species)`).
-pub fn first_freeze_out_snowline(parameters: &ModelParameters, species: Species) -> Result<SnowlinePosition, PhysicsError> {
-    let probe = SnowlineProbe::new(parameters, AnchorParameter::MidplaneTemperatureScale, species)?;
+pub fn first_freeze_out_snowline(
+    parameters: &ModelParameters,
+    species: Species,
+) -> Result<SnowlinePosition, PhysicsError> {
+    let probe = SnowlineProbe::new(
+        parameters,
+        AnchorParameter::MidplaneTemperatureScale,
+        species,
+    )?;
     probe.position(parameters.disk.midplane_temperature_scale)
 }
 
@@ -266,7 +317,10 @@ pub fn first_freeze_out_snowline(parameters: &ModelParameters, species: Species)
 /// self-consistent flaring; `NoSolutionInRange` when no value in the range
 /// puts the snowline at the observed radius (the message gives the radii the
 /// range reaches) or the snowline jumps across it.
-pub fn anchor_to_snowline(parameters: &ModelParameters, request: &AnchorRequest) -> Result<AnchoredDisk, PhysicsError> {
+pub fn anchor_to_snowline(
+    parameters: &ModelParameters,
+    request: &AnchorRequest,
+) -> Result<AnchoredDisk, PhysicsError> {
     let d = &parameters.disk;
     let r_obs = request.observed_radius_au;
     if !(r_obs >= d.inner_radius_au && r_obs <= d.outer_radius_au) {
@@ -278,16 +332,28 @@ pub fn anchor_to_snowline(parameters: &ModelParameters, request: &AnchorRequest)
         });
     }
     if !(request.sigma_au >= 0.0 && request.sigma_au.is_finite()) {
-        return Err(PhysicsError::OutOfRange { name: "sigma_au", value: request.sigma_au, allowed: ">= 0 and finite" });
+        return Err(PhysicsError::OutOfRange {
+            name: "sigma_au",
+            value: request.sigma_au,
+            allowed: ">= 0 and finite",
+        });
     }
     let (lo, hi) = request.range;
     match request.parameter {
         AnchorParameter::FlaringAngle => {
             if !(lo > 0.0 && lo <= 1.0) {
-                return Err(PhysicsError::OutOfRange { name: "range_lower", value: lo, allowed: "in (0, 1] for the flaring angle" });
+                return Err(PhysicsError::OutOfRange {
+                    name: "range_lower",
+                    value: lo,
+                    allowed: "in (0, 1] for the flaring angle",
+                });
             }
             if !(hi > 0.0 && hi <= 1.0) {
-                return Err(PhysicsError::OutOfRange { name: "range_upper", value: hi, allowed: "in (0, 1] for the flaring angle" });
+                return Err(PhysicsError::OutOfRange {
+                    name: "range_upper",
+                    value: hi,
+                    allowed: "in (0, 1] for the flaring angle",
+                });
             }
             if d.self_consistent_flaring {
                 return Err(PhysicsError::InvalidChoice {
@@ -299,15 +365,28 @@ pub fn anchor_to_snowline(parameters: &ModelParameters, request: &AnchorRequest)
         }
         AnchorParameter::MidplaneTemperatureScale => {
             if !(lo > 0.0 && lo.is_finite()) {
-                return Err(PhysicsError::OutOfRange { name: "range_lower", value: lo, allowed: "> 0 and finite for the temperature scale" });
+                return Err(PhysicsError::OutOfRange {
+                    name: "range_lower",
+                    value: lo,
+                    allowed: "> 0 and finite for the temperature scale",
+                });
             }
             if !(hi > 0.0 && hi.is_finite()) {
-                return Err(PhysicsError::OutOfRange { name: "range_upper", value: hi, allowed: "> 0 and finite for the temperature scale" });
+                return Err(PhysicsError::OutOfRange {
+                    name: "range_upper",
+                    value: hi,
+                    allowed: "> 0 and finite for the temperature scale",
+                });
             }
         }
     }
     if !(hi > lo) {
-        return Err(PhysicsError::NotIncreasing { name: "range_upper", value: hi, lower_name: "range_lower", lower: lo });
+        return Err(PhysicsError::NotIncreasing {
+            name: "range_upper",
+            value: hi,
+            lower_name: "range_lower",
+            lower: lo,
+        });
     }
     let probe = SnowlineProbe::new(parameters, request.parameter, request.species)?;
     if probe.molecules_per_h == 0.0 {
@@ -317,7 +396,10 @@ pub fn anchor_to_snowline(parameters: &ModelParameters, request: &AnchorRequest)
             got: request.species.key().to_string(),
         });
     }
-    let mut solver = Solver { probe: &probe, cache: Vec::new() };
+    let mut solver = Solver {
+        probe: &probe,
+        cache: Vec::new(),
+    };
     let value = solver.solve(r_obs, (lo, hi), request.species)?;
     let achieved = match solver.evaluate(value)? {
         SnowlinePosition::Radius(r) => r,
@@ -326,17 +408,36 @@ pub fn anchor_to_snowline(parameters: &ModelParameters, request: &AnchorRequest)
     };
     let end = |solver: &mut Solver, r: f64| -> SigmaEnd {
         if !(r > 0.0) || r < d.inner_radius_au || r > d.outer_radius_au {
-            return SigmaEnd { radius_au: r, value: None, reason: format!("{r} au lies outside the disk") };
+            return SigmaEnd {
+                radius_au: r,
+                value: None,
+                reason: format!("{r} au lies outside the disk"),
+            };
         }
         match solver.solve(r, (lo, hi), request.species) {
-            Ok(v) => SigmaEnd { radius_au: r, value: Some(v), reason: String::new() },
-            Err(e) => SigmaEnd { radius_au: r, value: None, reason: e.to_string() },
+            Ok(v) => SigmaEnd {
+                radius_au: r,
+                value: Some(v),
+                reason: String::new(),
+            },
+            Err(e) => SigmaEnd {
+                radius_au: r,
+                value: None,
+                reason: e.to_string(),
+            },
         }
     };
     let (at_minus_sigma, at_plus_sigma) = if request.sigma_au > 0.0 {
-        (end(&mut solver, r_obs - request.sigma_au), end(&mut solver, r_obs + request.sigma_au))
+        (
+            end(&mut solver, r_obs - request.sigma_au),
+            end(&mut solver, r_obs + request.sigma_au),
+        )
     } else {
-        let same = SigmaEnd { radius_au: r_obs, value: Some(value), reason: String::new() };
+        let same = SigmaEnd {
+            radius_au: r_obs,
+            value: Some(value),
+            reason: String::new(),
+        };
         (same.clone(), same)
     };
     Ok(AnchoredDisk {
@@ -355,7 +456,12 @@ pub fn anchor_to_snowline(parameters: &ModelParameters, request: &AnchorRequest)
 }
 
 fn unreachable_position(p: SnowlinePosition) -> Result<f64, PhysicsError> {
-    Err(PhysicsError::NoSolutionInRange { what: format!("anchor: the solved value gave no snowline radius ({})", p.describe()) })
+    Err(PhysicsError::NoSolutionInRange {
+        what: format!(
+            "anchor: the solved value gave no snowline radius ({})",
+            p.describe()
+        ),
+    })
 }
 
 /// Brent's method over ln(parameter), with cached evaluations (the range ends
@@ -386,10 +492,18 @@ impl Solver<'_> {
             .map(|(v, p)| (*v, p.ln_offset(ln_target)))
             .collect();
         points.sort_by(|p, q| p.0.total_cmp(&q.0));
-        points.windows(2).find(|w| w[0].1.signum() != w[1].1.signum()).map(|w| (ln(w[0].0), ln(w[1].0), w[0].1, w[1].1))
+        points
+            .windows(2)
+            .find(|w| w[0].1.signum() != w[1].1.signum())
+            .map(|w| (ln(w[0].0), ln(w[1].0), w[0].1, w[1].1))
     }
 
-    fn solve(&mut self, r_target: f64, (lo, hi): (f64, f64), species: Species) -> Result<f64, PhysicsError> {
+    fn solve(
+        &mut self,
+        r_target: f64,
+        (lo, hi): (f64, f64),
+        species: Species,
+    ) -> Result<f64, PhysicsError> {
         let ln_target = ln(r_target);
         let name = self.probe.parameter.name();
         let (xa, xb) = (ln(lo), ln(hi));
@@ -402,7 +516,11 @@ impl Solver<'_> {
             return Ok(hi);
         }
         // An earlier evaluation may already sit exactly on the target.
-        if let Some((v, _)) = self.cache.iter().find(|(v, p)| *v >= lo && *v <= hi && g(*p) == 0.0) {
+        if let Some((v, _)) = self
+            .cache
+            .iter()
+            .find(|(v, p)| *v >= lo && *v <= hi && g(*p) == 0.0)
+        {
             return Ok(*v);
         }
         let mut bracket = self.cached_bracket(ln_target, lo, hi);
@@ -448,7 +566,14 @@ impl Solver<'_> {
     /// Brent's root finder on g(x) = ln r_snow(e^x) - ln r_target with g(a) g(b) < 0.
     /// Infinite values of g (no snowline on the grid) force a bisection step.
     /// Returns the root and the other end of the final bracket.
-    fn brent(&mut self, a: f64, b: f64, fa: f64, fb: f64, ln_target: f64) -> Result<(f64, f64), PhysicsError> {
+    fn brent(
+        &mut self,
+        a: f64,
+        b: f64,
+        fa: f64,
+        fb: f64,
+        ln_target: f64,
+    ) -> Result<(f64, f64), PhysicsError> {
         let (mut a, mut b, mut fa, mut fb) = (a, b, fa, fb);
         let (mut c, mut fc) = (b, fb);
         let (mut d, mut e) = (b - a, b - a);
@@ -524,7 +649,12 @@ mod tests {
     }
 
     fn full_run_first_freeze_out_au(p: &ModelParameters, s: Species) -> Option<f64> {
-        Model::run(p).unwrap().snowlines(s).into_iter().find(|x| x.direction == CrossingDirection::FreezeOut).map(|x| x.radius_cm / AU_CM)
+        Model::run(p)
+            .unwrap()
+            .snowlines(s)
+            .into_iter()
+            .find(|x| x.direction == CrossingDirection::FreezeOut)
+            .map(|x| x.radius_cm / AU_CM)
     }
 
     #[test]
@@ -537,7 +667,9 @@ mod tests {
                 let fast = first_freeze_out_snowline(&p, s).unwrap();
                 let full = full_run_first_freeze_out_au(&p, s);
                 match (fast, full) {
-                    (SnowlinePosition::Radius(a), Some(b)) => assert_eq!(a, b, "{s:?} scale {scale}"),
+                    (SnowlinePosition::Radius(a), Some(b)) => {
+                        assert_eq!(a, b, "{s:?} scale {scale}")
+                    }
                     // No freeze-out crossing on the grid in either calculation.
                     (SnowlinePosition::InsideGrid | SnowlinePosition::BeyondGrid, None) => {}
                     (a, b) => panic!("{s:?} scale {scale}: fast {a:?}, full {b:?}"),
@@ -546,7 +678,10 @@ mod tests {
         }
         p.ices.desorption = DesorptionModel::FixedTemperature;
         let fast = first_freeze_out_snowline(&p, Species::CO2).unwrap();
-        assert_eq!(fast, SnowlinePosition::Radius(full_run_first_freeze_out_au(&p, Species::CO2).unwrap()));
+        assert_eq!(
+            fast,
+            SnowlinePosition::Radius(full_run_first_freeze_out_au(&p, Species::CO2).unwrap())
+        );
     }
 
     #[test]
@@ -555,7 +690,16 @@ mod tests {
         let mut p = small();
         p.disk.midplane_temperature_scale = 1.3;
         let r = full_run_first_freeze_out_au(&p, Species::CO).unwrap();
-        let a = anchor_to_snowline(&p, &AnchorRequest::new(Species::CO, r, 0.0, AnchorParameter::MidplaneTemperatureScale)).unwrap();
+        let a = anchor_to_snowline(
+            &p,
+            &AnchorRequest::new(
+                Species::CO,
+                r,
+                0.0,
+                AnchorParameter::MidplaneTemperatureScale,
+            ),
+        )
+        .unwrap();
         assert!((a.value / 1.3 - 1.0).abs() < 1e-9, "{}", a.value);
         assert!((a.achieved_radius_au / r - 1.0).abs() < 1e-9);
     }
@@ -563,7 +707,15 @@ mod tests {
     #[test]
     fn unreachable_radius_says_what_the_range_spans() {
         let p = small();
-        let req = AnchorRequest { range: (0.9, 1.1), ..AnchorRequest::new(Species::H2O, 200.0, 0.0, AnchorParameter::MidplaneTemperatureScale) };
+        let req = AnchorRequest {
+            range: (0.9, 1.1),
+            ..AnchorRequest::new(
+                Species::H2O,
+                200.0,
+                0.0,
+                AnchorParameter::MidplaneTemperatureScale,
+            )
+        };
         let err = anchor_to_snowline(&p, &req).unwrap_err();
         let text = err.to_string();
         assert!(text.starts_with("disk.midplane_temperature_scale: no disk.midplane_temperature_scale in [0.9, 1.1] puts the H2O snowline at 200 au; the range puts it between "), "{text}");
@@ -572,19 +724,52 @@ mod tests {
     #[test]
     fn invalid_requests_are_refused_with_names() {
         let mut p = small();
-        let e = anchor_to_snowline(&p, &AnchorRequest::new(Species::CO, 900.0, 0.0, AnchorParameter::FlaringAngle)).unwrap_err();
-        assert_eq!(e.to_string(), "observed_radius_au: must lie in the disk [0.1, 500] au, got 900");
-        let e = anchor_to_snowline(&p, &AnchorRequest::new(Species::CO, 30.0, -1.0, AnchorParameter::FlaringAngle)).unwrap_err();
+        let e = anchor_to_snowline(
+            &p,
+            &AnchorRequest::new(Species::CO, 900.0, 0.0, AnchorParameter::FlaringAngle),
+        )
+        .unwrap_err();
+        assert_eq!(
+            e.to_string(),
+            "observed_radius_au: must lie in the disk [0.1, 500] au, got 900"
+        );
+        let e = anchor_to_snowline(
+            &p,
+            &AnchorRequest::new(Species::CO, 30.0, -1.0, AnchorParameter::FlaringAngle),
+        )
+        .unwrap_err();
         assert_eq!(e.to_string(), "sigma_au: must be >= 0 and finite, got -1");
-        let req = AnchorRequest { range: (0.0, 1.0), ..AnchorRequest::new(Species::CO, 30.0, 1.0, AnchorParameter::FlaringAngle) };
-        assert_eq!(anchor_to_snowline(&p, &req).unwrap_err().to_string(), "range_lower: must be in (0, 1] for the flaring angle, got 0");
+        let req = AnchorRequest {
+            range: (0.0, 1.0),
+            ..AnchorRequest::new(Species::CO, 30.0, 1.0, AnchorParameter::FlaringAngle)
+        };
+        assert_eq!(
+            anchor_to_snowline(&p, &req).unwrap_err().to_string(),
+            "range_lower: must be in (0, 1] for the flaring angle, got 0"
+        );
         p.disk.self_consistent_flaring = true;
-        let e = anchor_to_snowline(&p, &AnchorRequest::new(Species::CO, 30.0, 1.0, AnchorParameter::FlaringAngle)).unwrap_err();
-        assert!(e.to_string().starts_with("disk.self_consistent_flaring: must be false to anchor disk.flaring_angle"), "{e}");
+        let e = anchor_to_snowline(
+            &p,
+            &AnchorRequest::new(Species::CO, 30.0, 1.0, AnchorParameter::FlaringAngle),
+        )
+        .unwrap_err();
+        assert!(
+            e.to_string().starts_with(
+                "disk.self_consistent_flaring: must be false to anchor disk.flaring_angle"
+            ),
+            "{e}"
+        );
         p.disk.self_consistent_flaring = false;
         p.composition.carbon.hcn = 0.0;
         p.composition.carbon.co += 0.01;
-        let e = anchor_to_snowline(&p, &AnchorRequest::new(Species::HCN, 30.0, 1.0, AnchorParameter::FlaringAngle)).unwrap_err();
-        assert_eq!(e.to_string(), "species: must be a species present in the disk (abundance > 0), got HCN");
+        let e = anchor_to_snowline(
+            &p,
+            &AnchorRequest::new(Species::HCN, 30.0, 1.0, AnchorParameter::FlaringAngle),
+        )
+        .unwrap_err();
+        assert_eq!(
+            e.to_string(),
+            "species: must be a species present in the disk (abundance > 0), got HCN"
+        );
     }
 }

@@ -4,7 +4,9 @@
 use crate::math::{exp, sqrt};
 use crate::params::{DesorptionModel, ModelParameters};
 use crate::species::{Species, SpeciesTable, SPECIES_COUNT};
-use crate::units::{BINDING_SITES_PER_CM2, BOLTZMANN_ERG_PER_K, MICRON_CM, REFERENCE_COSMIC_RAY_RATE_S};
+use crate::units::{
+    BINDING_SITES_PER_CM2, BOLTZMANN_ERG_PER_K, MICRON_CM, REFERENCE_COSMIC_RAY_RATE_S,
+};
 use std::f64::consts::PI;
 
 /// Characteristic vibration frequency [s^-1] of a physisorbed molecule:
@@ -38,7 +40,10 @@ pub struct SpeciesProperties {
 }
 
 /// Resolve each species' properties from the table, the chosen set and overrides.
-pub fn species_properties(p: &ModelParameters, table: &SpeciesTable) -> [SpeciesProperties; SPECIES_COUNT] {
+pub fn species_properties(
+    p: &ModelParameters,
+    table: &SpeciesTable,
+) -> [SpeciesProperties; SPECIES_COUNT] {
     Species::ALL.map(|s| {
         let d = table.get(s);
         let o = p.species_override(s);
@@ -51,7 +56,9 @@ pub fn species_properties(p: &ModelParameters, table: &SpeciesTable) -> [Species
             binding_energy_k: e,
             binding_energy_source: src,
             photodesorption_yield: o.photodesorption_yield.unwrap_or(d.photodesorption_yield),
-            condensation_temperature_k: o.condensation_temperature_k.unwrap_or(d.condensation_temperature_k),
+            condensation_temperature_k: o
+                .condensation_temperature_k
+                .unwrap_or(d.condensation_temperature_k),
             mass_g: d.mass_g(),
             vibration_frequency_s: vibration_frequency_s(e, d.mass_g()),
         }
@@ -90,7 +97,10 @@ pub struct IceState {
 
 impl BalanceConstants {
     /// Precompute the balance constants.
-    pub fn new(p: &ModelParameters, props: &[SpeciesProperties; SPECIES_COUNT]) -> BalanceConstants {
+    pub fn new(
+        p: &ModelParameters,
+        props: &[SpeciesProperties; SPECIES_COUNT],
+    ) -> BalanceConstants {
         let a = p.disk.grain_radius_um * MICRON_CM;
         let grain_mass = 4.0 / 3.0 * PI * a * a * a * p.disk.grain_density_g_cm3;
         let cr_on = p.ices.cosmic_ray_desorption;
@@ -100,12 +110,15 @@ impl BalanceConstants {
             cross_section_cm2: PI * a * a,
             sticking: p.ices.sticking,
             photodesorption: p.ices.photodesorption,
-            thermal_speed_coefficient: props.map(|s| sqrt(8.0 * BOLTZMANN_ERG_PER_K / (PI * s.mass_g))),
+            thermal_speed_coefficient: props
+                .map(|s| sqrt(8.0 * BOLTZMANN_ERG_PER_K / (PI * s.mass_g))),
             nu: props.map(|s| s.vibration_frequency_s),
             binding: props.map(|s| s.binding_energy_k),
             cr_per_zeta: props.map(|s| {
                 if cr_on {
-                    CR_HEATING_DUTY_CYCLE * s.vibration_frequency_s * exp(-s.binding_energy_k / CR_PEAK_TEMPERATURE_K)
+                    CR_HEATING_DUTY_CYCLE
+                        * s.vibration_frequency_s
+                        * exp(-s.binding_energy_k / CR_PEAK_TEMPERATURE_K)
                         / REFERENCE_COSMIC_RAY_RATE_S
                 } else {
                     0.0
@@ -127,13 +140,36 @@ impl BalanceConstants {
     /// n = A N/(A + B + C/M) if <= M, else n = N - (B M + C)/A.
     /// First order: A (N - n) = (B + C/M) n. Step model: f = 1 where T < T_cond.
     /// Equilibration time: 1/(A + B + C/M) on the thin-ice branch, 1/A on the thick one.
-    pub fn solve(&self, i: usize, molecules_cm3: f64, temperature_k: f64, density_g_cm3: f64, fuv_photons_cm2_s: f64, ionization_rate_s: f64) -> IceState {
-        self.solve_at(&self.sample(temperature_k, density_g_cm3, fuv_photons_cm2_s, ionization_rate_s), i, molecules_cm3)
+    pub fn solve(
+        &self,
+        i: usize,
+        molecules_cm3: f64,
+        temperature_k: f64,
+        density_g_cm3: f64,
+        fuv_photons_cm2_s: f64,
+        ionization_rate_s: f64,
+    ) -> IceState {
+        self.solve_at(
+            &self.sample(
+                temperature_k,
+                density_g_cm3,
+                fuv_photons_cm2_s,
+                ionization_rate_s,
+            ),
+            i,
+            molecules_cm3,
+        )
     }
 
     /// The species-independent quantities of one place, computed once for all species.
     #[inline]
-    pub fn sample(&self, temperature_k: f64, density_g_cm3: f64, fuv_photons_cm2_s: f64, ionization_rate_s: f64) -> SampleState {
+    pub fn sample(
+        &self,
+        temperature_k: f64,
+        density_g_cm3: f64,
+        fuv_photons_cm2_s: f64,
+        ionization_rate_s: f64,
+    ) -> SampleState {
         let grain_area = self.grains_per_gram * density_g_cm3 * self.cross_section_cm2;
         SampleState {
             temperature_k,
@@ -141,7 +177,11 @@ impl BalanceConstants {
             sqrt_temperature: sqrt(temperature_k),
             grain_area_cm2_per_cm3: grain_area,
             monolayer_cm3: 4.0 * BINDING_SITES_PER_CM2 * grain_area,
-            fuv_photons_cm2_s: if self.photodesorption { fuv_photons_cm2_s } else { 0.0 },
+            fuv_photons_cm2_s: if self.photodesorption {
+                fuv_photons_cm2_s
+            } else {
+                0.0
+            },
             ionization_rate_s,
         }
     }
@@ -150,22 +190,44 @@ impl BalanceConstants {
     #[inline]
     pub fn solve_at(&self, p: &SampleState, i: usize, molecules_cm3: f64) -> IceState {
         if self.model == DesorptionModel::FixedTemperature {
-            let f = if p.temperature_k < self.condensation[i] { 1.0 } else { 0.0 };
-            return IceState { ice_fraction: f, equilibration_time_s: f64::NAN };
+            let f = if p.temperature_k < self.condensation[i] {
+                1.0
+            } else {
+                0.0
+            };
+            return IceState {
+                ice_fraction: f,
+                equilibration_time_s: f64::NAN,
+            };
         }
         if !(molecules_cm3 > 0.0) || !(p.grain_area_cm2_per_cm3 > 0.0) {
-            return IceState { ice_fraction: 0.0, equilibration_time_s: f64::NAN };
+            return IceState {
+                ice_fraction: 0.0,
+                equilibration_time_s: f64::NAN,
+            };
         }
-        let adsorption = self.sticking * p.grain_area_cm2_per_cm3 * self.thermal_speed_coefficient[i] * p.sqrt_temperature;
-        let desorption = self.nu[i] * exp(-self.binding[i] * p.inverse_temperature) + self.cr_per_zeta[i] * p.ionization_rate_s;
+        let adsorption = self.sticking
+            * p.grain_area_cm2_per_cm3
+            * self.thermal_speed_coefficient[i]
+            * p.sqrt_temperature;
+        let desorption = self.nu[i] * exp(-self.binding[i] * p.inverse_temperature)
+            + self.cr_per_zeta[i] * p.ionization_rate_s;
         let photo = p.fuv_photons_cm2_s * self.yields[i] * p.grain_area_cm2_per_cm3;
         let thin_rate = adsorption + desorption + photo / p.monolayer_cm3;
         let thin_fraction = adsorption / thin_rate;
-        if self.model == DesorptionModel::FirstOrder || thin_fraction * molecules_cm3 <= p.monolayer_cm3 {
-            IceState { ice_fraction: thin_fraction, equilibration_time_s: 1.0 / thin_rate }
+        if self.model == DesorptionModel::FirstOrder
+            || thin_fraction * molecules_cm3 <= p.monolayer_cm3
+        {
+            IceState {
+                ice_fraction: thin_fraction,
+                equilibration_time_s: 1.0 / thin_rate,
+            }
         } else {
             let f = 1.0 - (desorption * p.monolayer_cm3 + photo) / (adsorption * molecules_cm3);
-            IceState { ice_fraction: f.clamp(0.0, 1.0), equilibration_time_s: 1.0 / adsorption }
+            IceState {
+                ice_fraction: f.clamp(0.0, 1.0),
+                equilibration_time_s: 1.0 / adsorption,
+            }
         }
     }
 }
@@ -190,9 +252,18 @@ mod tests {
     #[test]
     fn hasegawa_frequencies_match_worked_values() {
         // CHECK_VALUES.md 4b worked nu0 (D, n_s = 1.5e15, m = mu u): tolerance 4e-3 (printed digits).
-        for (e, m, expected) in [(5773.0, 18.0, 2.85e12), (855.0, 28.0, 8.785e11), (790.0, 28.0, 8.44e11), (2575.0, 44.0, 1.216e12), (1090.0, 16.0, 1.31e12)] {
+        for (e, m, expected) in [
+            (5773.0, 18.0, 2.85e12),
+            (855.0, 28.0, 8.785e11),
+            (790.0, 28.0, 8.44e11),
+            (2575.0, 44.0, 1.216e12),
+            (1090.0, 16.0, 1.31e12),
+        ] {
             let nu = vibration_frequency_s(e, m * ATOMIC_MASS_UNIT_G);
-            assert!((nu / expected - 1.0).abs() < 4e-3, "E={e}: {nu:e} vs {expected:e}");
+            assert!(
+                (nu / expected - 1.0).abs() < 4e-3,
+                "E={e}: {nu:e} vs {expected:e}"
+            );
         }
     }
 }

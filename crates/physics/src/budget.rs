@@ -83,7 +83,10 @@ impl Carriers {
         let x_hcn = cf.hcn * x_c;
         let nitrogen_left = x_n - x_hcn;
         if nitrogen_left < 0.0 {
-            return Err(PhysicsError::NitrogenExhausted { nitrogen_per_h: x_n, hcn_per_h: x_hcn });
+            return Err(PhysicsError::NitrogenExhausted {
+                nitrogen_per_h: x_n,
+                hcn_per_h: x_hcn,
+            });
         }
         let silicate_o = composition.oxygen_per_silicon * x_si;
         let x_h2o = x_o - silicate_o - x_co - 2.0 * x_co2 - x_ch3oh;
@@ -137,7 +140,11 @@ impl Carriers {
     /// T >= sulfide release, silicate O, Si, Mg, Fe where T >= silicate
     /// sublimation (MODEL.md section 8). Gas + ice + refractory equals the
     /// stellar abundance of every element (to rounding).
-    pub fn phases(&self, temperature_k: f64, ice_fraction: impl Fn(usize) -> f64) -> PhaseAbundances {
+    pub fn phases(
+        &self,
+        temperature_k: f64,
+        ice_fraction: impl Fn(usize) -> f64,
+    ) -> PhaseAbundances {
         let mut gas = [0.0; ELEMENT_COUNT];
         let mut ice = [0.0; ELEMENT_COUNT];
         let mut refractory = [0.0; ELEMENT_COUNT];
@@ -170,17 +177,29 @@ impl Carriers {
         } else {
             refractory[s] += self.refractory_sulfur_per_h;
         }
-        let silicate_target = if temperature_k >= self.silicate_sublimation_k { &mut gas } else { &mut refractory };
+        let silicate_target = if temperature_k >= self.silicate_sublimation_k {
+            &mut gas
+        } else {
+            &mut refractory
+        };
         silicate_target[o] += self.silicate_oxygen_per_h;
         for e in [Element::Si, Element::Mg, Element::Fe] {
             silicate_target[e as usize] += self.stellar_per_h[e as usize];
         }
-        PhaseAbundances { gas, ice, refractory }
+        PhaseAbundances {
+            gas,
+            ice,
+            refractory,
+        }
     }
 
     /// Mass of solids per H nucleus [amu]: ices (abundance x molecular mass)
     /// plus refractory atoms x atomic mass (MODEL.md section 9).
-    pub fn solid_mass_per_h_amu(&self, phases: &PhaseAbundances, ice_fraction: impl Fn(usize) -> f64) -> f64 {
+    pub fn solid_mass_per_h_amu(
+        &self,
+        phases: &PhaseAbundances,
+        ice_fraction: impl Fn(usize) -> f64,
+    ) -> f64 {
         let mut m = 0.0;
         for i in 0..SPECIES_COUNT {
             m += ice_fraction(i) * self.species_per_h[i] * self.mass_amu[i];
@@ -199,7 +218,11 @@ mod tests {
     use crate::star::stellar_abundances_per_h;
 
     fn carriers(p: &ModelParameters) -> Result<Carriers, PhysicsError> {
-        Carriers::new(stellar_abundances_per_h(&p.star), &p.composition, &SpeciesTable::built_in())
+        Carriers::new(
+            stellar_abundances_per_h(&p.star),
+            &p.composition,
+            &SpeciesTable::built_in(),
+        )
     }
 
     #[test]
@@ -210,7 +233,10 @@ mod tests {
                 let ph = c.phases(t, |_| f);
                 for e in 0..ELEMENT_COUNT {
                     let total = ph.gas[e] + ph.ice[e] + ph.refractory[e];
-                    assert!((total / c.stellar_per_h[e] - 1.0).abs() < 1e-12, "T={t} f={f} e={e}");
+                    assert!(
+                        (total / c.stellar_per_h[e] - 1.0).abs() < 1e-12,
+                        "T={t} f={f} e={e}"
+                    );
                 }
             }
         }

@@ -16,6 +16,11 @@
 //! assert!(!water.is_empty());
 //! ```
 
+#![deny(missing_docs)]
+// Units are written in brackets throughout the docs ("Radius [cm]"), which rustdoc
+// would read as links to items named `cm`; they are not links.
+#![allow(rustdoc::broken_intra_doc_links)]
+
 pub mod anchor;
 pub mod balance;
 pub mod budget;

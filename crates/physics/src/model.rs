@@ -84,7 +84,11 @@ impl Model {
     /// Run the whole model.
     pub fn run(parameters: &ModelParameters) -> Result<Model, PhysicsError> {
         let table = SpeciesTable::built_in();
-        let carriers = Carriers::new(stellar_abundances_per_h(&parameters.star), &parameters.composition, &table)?;
+        let carriers = Carriers::new(
+            stellar_abundances_per_h(&parameters.star),
+            &parameters.composition,
+            &table,
+        )?;
         let structure = DiskStructure::compute(parameters)?;
         let species = species_properties(parameters, &table);
         let balance = BalanceConstants::new(parameters, &species);
@@ -93,7 +97,12 @@ impl Model {
         let mut equilibration_time_s = vec![f64::NAN; SPECIES_COUNT * n];
         let s = &structure.samples;
         for k in 0..n {
-            let sample = balance.sample(s.temperature_k[k], s.density_g_cm3[k], s.fuv_photon_flux_cm2_s[k], s.ionization_rate_s[k]);
+            let sample = balance.sample(
+                s.temperature_k[k],
+                s.density_g_cm3[k],
+                s.fuv_photon_flux_cm2_s[k],
+                s.ionization_rate_s[k],
+            );
             let n_h = s.hydrogen_density_cm3[k];
             for i in 0..SPECIES_COUNT {
                 let state = balance.solve_at(&sample, i, carriers.species_per_h[i] * n_h);
@@ -101,7 +110,16 @@ impl Model {
                 equilibration_time_s[i * n + k] = state.equilibration_time_s;
             }
         }
-        Ok(Model { parameters: parameters.clone(), table, species, carriers, structure, balance, ice_fraction, equilibration_time_s })
+        Ok(Model {
+            parameters: parameters.clone(),
+            table,
+            species,
+            carriers,
+            structure,
+            balance,
+            ice_fraction,
+            equilibration_time_s,
+        })
     }
 
     /// Number of samples (radial cells x (vertical cells + 1)).
@@ -117,7 +135,10 @@ impl Model {
     /// Phase abundances at flat sample index `k`.
     pub fn phases_at(&self, k: usize) -> PhaseAbundances {
         let n = self.sample_count();
-        self.carriers.phases(self.structure.samples.temperature_k[k], |i| self.ice_fraction[i * n + k])
+        self.carriers
+            .phases(self.structure.samples.temperature_k[k], |i| {
+                self.ice_fraction[i * n + k]
+            })
     }
 
     /// Ratios of a set of phase abundances.
@@ -127,7 +148,11 @@ impl Model {
         Ratios {
             c_to_o_gas: defined_ratio(ph.gas[c], ph.gas[o], x[o]),
             c_to_o_ice: defined_ratio(ph.ice[c], ph.ice[o], x[o]),
-            c_to_o_solid: defined_ratio(ph.ice[c] + ph.refractory[c], ph.ice[o] + ph.refractory[o], x[o]),
+            c_to_o_solid: defined_ratio(
+                ph.ice[c] + ph.refractory[c],
+                ph.ice[o] + ph.refractory[o],
+                x[o],
+            ),
             c_to_h_gas_rel_star: Some(ph.gas[c] / x[c]),
             o_to_h_gas_rel_star: Some(ph.gas[o] / x[o]),
         }
@@ -161,7 +186,9 @@ impl Model {
     /// Midplane ice fractions of one species, per radius.
     pub fn midplane_ice_fraction(&self, species: Species) -> Vec<f64> {
         let st = &self.structure;
-        (0..st.radial_cells).map(|j| self.ice_fraction_at(species, st.index(j, 0))).collect()
+        (0..st.radial_cells)
+            .map(|j| self.ice_fraction_at(species, st.index(j, 0)))
+            .collect()
     }
 
     fn is_step_model(&self) -> bool {
@@ -178,9 +205,21 @@ impl Model {
         let st = &self.structure;
         if self.is_step_model() {
             let t_cond = self.species[species.index()].condensation_temperature_k;
-            crossings(&st.radius_cm, &st.midplane_temperature_k, t_cond, true, false)
+            crossings(
+                &st.radius_cm,
+                &st.midplane_temperature_k,
+                t_cond,
+                true,
+                false,
+            )
         } else {
-            crossings(&st.radius_cm, &self.midplane_ice_fraction(species), 0.5, false, true)
+            crossings(
+                &st.radius_cm,
+                &self.midplane_ice_fraction(species),
+                0.5,
+                false,
+                true,
+            )
         }
     }
 
@@ -198,7 +237,12 @@ impl Model {
         } else {
             let n = self.sample_count();
             let base = species.index() * n;
-            snow_surface(heights, &self.ice_fraction[base + range.start..base + range.end], 0.5, true)
+            snow_surface(
+                heights,
+                &self.ice_fraction[base + range.start..base + range.end],
+                0.5,
+                true,
+            )
         }
     }
 
@@ -237,7 +281,15 @@ impl Model {
                 .ice_fraction;
         }
         let phases = self.carriers.phases(mid.temperature_k, |i| ice_fraction[i]);
-        let solid_mass_per_h_amu = self.carriers.solid_mass_per_h_amu(&phases, |i| ice_fraction[i]);
-        Ok(LocalMidplane { radius_cm: r, temperature_k: mid.temperature_k, ice_fraction, phases, solid_mass_per_h_amu })
+        let solid_mass_per_h_amu = self
+            .carriers
+            .solid_mass_per_h_amu(&phases, |i| ice_fraction[i]);
+        Ok(LocalMidplane {
+            radius_cm: r,
+            temperature_k: mid.temperature_k,
+            ice_fraction,
+            phases,
+            solid_mass_per_h_amu,
+        })
     }
 }

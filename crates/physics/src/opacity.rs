@@ -16,14 +16,46 @@ struct Regime {
 /// evaporation, metal grains, metal evaporation, molecules, H-, bound-free and
 /// free-free, electron scattering.
 const REGIMES: [Regime; 8] = [
-    Regime { k: 2e-4, a: 0.0, b: 2.0 },
-    Regime { k: 2e16, a: 0.0, b: -7.0 },
-    Regime { k: 0.1, a: 0.0, b: 0.5 },
-    Regime { k: 2e81, a: 1.0, b: -24.0 },
-    Regime { k: 1e-8, a: 2.0 / 3.0, b: 3.0 },
-    Regime { k: 1e-36, a: 1.0 / 3.0, b: 10.0 },
-    Regime { k: 1.5e20, a: 1.0, b: -2.5 },
-    Regime { k: 0.348, a: 0.0, b: 0.0 },
+    Regime {
+        k: 2e-4,
+        a: 0.0,
+        b: 2.0,
+    },
+    Regime {
+        k: 2e16,
+        a: 0.0,
+        b: -7.0,
+    },
+    Regime {
+        k: 0.1,
+        a: 0.0,
+        b: 0.5,
+    },
+    Regime {
+        k: 2e81,
+        a: 1.0,
+        b: -24.0,
+    },
+    Regime {
+        k: 1e-8,
+        a: 2.0 / 3.0,
+        b: 3.0,
+    },
+    Regime {
+        k: 1e-36,
+        a: 1.0 / 3.0,
+        b: 10.0,
+    },
+    Regime {
+        k: 1.5e20,
+        a: 1.0,
+        b: -2.5,
+    },
+    Regime {
+        k: 0.348,
+        a: 0.0,
+        b: 0.0,
+    },
 ];
 
 /// Temperature [K] where regimes `lo` and `hi` give the same opacity at `density_g_cm3`:
@@ -43,11 +75,11 @@ pub fn bell_lin_1994_cm2_per_g(density_g_cm3: f64, temperature_k: f64) -> f64 {
     // Stack of (regime index, lower boundary temperature).
     let mut stack: [(usize, f64); 8] = [(0, 0.0); 8];
     let mut len = 1;
-    for i in 1..REGIMES.len() {
-        let mut t_b = intersection_k(&REGIMES[stack[len - 1].0], &REGIMES[i], ln_rho);
+    for (i, next) in REGIMES.iter().enumerate().skip(1) {
+        let mut t_b = intersection_k(&REGIMES[stack[len - 1].0], next, ln_rho);
         while len > 1 && t_b <= stack[len - 1].1 {
             len -= 1;
-            t_b = intersection_k(&REGIMES[stack[len - 1].0], &REGIMES[i], ln_rho);
+            t_b = intersection_k(&REGIMES[stack[len - 1].0], next, ln_rho);
         }
         stack[len] = (i, t_b);
         len += 1;
@@ -87,7 +119,10 @@ mod tests {
                 let next_t = t * 1.0001;
                 let next = bell_lin_1994_cm2_per_g(rho, next_t);
                 // A jump would exceed the largest local power law (|b| = 24) times the step.
-                assert!((next / prev).ln().abs() < 25.0 * 1e-4 * 1.01, "rho={rho} T={t}");
+                assert!(
+                    (next / prev).ln().abs() < 25.0 * 1e-4 * 1.01,
+                    "rho={rho} T={t}"
+                );
                 prev = next;
                 t = next_t;
             }

@@ -30,8 +30,15 @@ pub const ELEMENT_COUNT: usize = 7;
 
 impl Element {
     /// All elements in array order.
-    pub const ALL: [Element; ELEMENT_COUNT] =
-        [Element::C, Element::O, Element::N, Element::S, Element::Si, Element::Mg, Element::Fe];
+    pub const ALL: [Element; ELEMENT_COUNT] = [
+        Element::C,
+        Element::O,
+        Element::N,
+        Element::S,
+        Element::Si,
+        Element::Mg,
+        Element::Fe,
+    ];
     /// Chemical symbol.
     pub fn symbol(self) -> &'static str {
         match self {
@@ -340,7 +347,9 @@ impl ModelParameters {
                 accretion_rate_msun_per_yr: 1.0e-8,
                 flaring_angle: 0.05,
                 self_consistent_flaring: false,
-                opacity: Opacity::Constant { rosseland_cm2_per_g: 1.0 },
+                opacity: Opacity::Constant {
+                    rosseland_cm2_per_g: 1.0,
+                },
                 vertical_temperature: VerticalTemperature::TwoLayer {
                     superheating: 1.5,
                     transition_scale_heights: 4.0,
@@ -364,15 +373,29 @@ impl ModelParameters {
                 overrides: [SpeciesOverride::default(); SPECIES_COUNT],
             },
             composition: CompositionParameters {
-                carbon: CarbonFractions { co: 0.30, co2: 0.10, ch4: 0.04, ch3oh: 0.05, hcn: 0.01, refractory: 0.50 },
+                carbon: CarbonFractions {
+                    co: 0.30,
+                    co2: 0.10,
+                    ch4: 0.04,
+                    ch3oh: 0.05,
+                    hcn: 0.01,
+                    refractory: 0.50,
+                },
                 nitrogen: NitrogenFractions { n2: 0.8, nh3: 0.2 },
-                sulfur: SulfurFractions { h2s: 0.1, refractory: 0.9 },
+                sulfur: SulfurFractions {
+                    h2s: 0.1,
+                    refractory: 0.9,
+                },
                 oxygen_per_silicon: 3.0,
                 soot_line_k: 500.0,
                 sulfide_release_k: 700.0,
                 silicate_sublimation_k: 1500.0,
             },
-            grid: GridParameters { radial_cells: 200, vertical_cells: 80, max_height_scale_heights: 10.0 },
+            grid: GridParameters {
+                radial_cells: 200,
+                vertical_cells: 80,
+                max_height_scale_heights: 10.0,
+            },
         }
     }
 

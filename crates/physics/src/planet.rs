@@ -187,7 +187,8 @@ impl Envelope {
     }
     /// The envelope C/O divided by the star's C/O.
     pub fn c_to_o_relative_to_star(&self) -> Option<f64> {
-        let star = self.stellar_per_h[Element::C as usize] / self.stellar_per_h[Element::O as usize];
+        let star =
+            self.stellar_per_h[Element::C as usize] / self.stellar_per_h[Element::O as usize];
         self.c_to_o.map(|r| r / star)
     }
 }
@@ -208,12 +209,25 @@ pub struct PlanetRequest {
 impl PlanetRequest {
     /// A planet accreting at one radius, with M_gas = 1 g and f_mix = 1.
     pub fn at(radius_au: f64, solid_to_gas: f64) -> PlanetRequest {
-        PlanetRequest { place: FormationPlace::Radius { radius_au }, gas_mass_g: 1.0, solid_to_gas, solid_mixing_fraction: 1.0 }
+        PlanetRequest {
+            place: FormationPlace::Radius { radius_au },
+            gas_mass_g: 1.0,
+            solid_to_gas,
+            solid_mixing_fraction: 1.0,
+        }
     }
     /// A planet accreting along [inner, outer] au, uniform weighting, M_gas = 1 g, f_mix = 1.
-    pub fn migrating(inner_radius_au: f64, outer_radius_au: f64, solid_to_gas: f64) -> PlanetRequest {
+    pub fn migrating(
+        inner_radius_au: f64,
+        outer_radius_au: f64,
+        solid_to_gas: f64,
+    ) -> PlanetRequest {
         PlanetRequest {
-            place: FormationPlace::Migration { inner_radius_au, outer_radius_au, weighting: RadialWeighting::Uniform },
+            place: FormationPlace::Migration {
+                inner_radius_au,
+                outer_radius_au,
+                weighting: RadialWeighting::Uniform,
+            },
             gas_mass_g: 1.0,
             solid_to_gas,
             solid_mixing_fraction: 1.0,
@@ -239,26 +253,52 @@ pub struct Planet {
 /// when the migration range is not inner < outer; `NoSolidsToAccrete` for a
 /// positive solid-to-gas ratio where the disk holds no solids.
 pub fn planet(model: &Model, request: &PlanetRequest) -> Result<Planet, PhysicsError> {
-    check_envelope_inputs(request.gas_mass_g, request.solid_to_gas, request.solid_mixing_fraction)?;
+    check_envelope_inputs(
+        request.gas_mass_g,
+        request.solid_to_gas,
+        request.solid_mixing_fraction,
+    )?;
     let phases = match request.place {
         FormationPlace::Radius { radius_au } => AccretedPhases::at(model, radius_au)?,
-        FormationPlace::Migration { inner_radius_au, outer_radius_au, weighting } => {
-            AccretedPhases::averaged(model, inner_radius_au, outer_radius_au, weighting)?
-        }
+        FormationPlace::Migration {
+            inner_radius_au,
+            outer_radius_au,
+            weighting,
+        } => AccretedPhases::averaged(model, inner_radius_au, outer_radius_au, weighting)?,
     };
-    let envelope = phases.envelope(request.gas_mass_g, request.solid_to_gas, request.solid_mixing_fraction)?;
+    let envelope = phases.envelope(
+        request.gas_mass_g,
+        request.solid_to_gas,
+        request.solid_mixing_fraction,
+    )?;
     Ok(Planet { phases, envelope })
 }
 
-fn check_envelope_inputs(gas_mass_g: f64, solid_to_gas: f64, solid_mixing_fraction: f64) -> Result<(), PhysicsError> {
+fn check_envelope_inputs(
+    gas_mass_g: f64,
+    solid_to_gas: f64,
+    solid_mixing_fraction: f64,
+) -> Result<(), PhysicsError> {
     if !(gas_mass_g > 0.0 && gas_mass_g.is_finite()) {
-        return Err(PhysicsError::OutOfRange { name: "gas_mass_g", value: gas_mass_g, allowed: "> 0 and finite" });
+        return Err(PhysicsError::OutOfRange {
+            name: "gas_mass_g",
+            value: gas_mass_g,
+            allowed: "> 0 and finite",
+        });
     }
     if !(solid_to_gas >= 0.0 && solid_to_gas.is_finite()) {
-        return Err(PhysicsError::OutOfRange { name: "solid_to_gas", value: solid_to_gas, allowed: ">= 0 and finite" });
+        return Err(PhysicsError::OutOfRange {
+            name: "solid_to_gas",
+            value: solid_to_gas,
+            allowed: ">= 0 and finite",
+        });
     }
     if !(0.0..=1.0).contains(&solid_mixing_fraction) {
-        return Err(PhysicsError::OutOfRange { name: "solid_mixing_fraction", value: solid_mixing_fraction, allowed: "in [0, 1]" });
+        return Err(PhysicsError::OutOfRange {
+            name: "solid_mixing_fraction",
+            value: solid_mixing_fraction,
+            allowed: "in [0, 1]",
+        });
     }
     Ok(())
 }
@@ -266,7 +306,12 @@ fn check_envelope_inputs(gas_mass_g: f64, solid_to_gas: f64, solid_mixing_fracti
 fn check_radius(model: &Model, name: &'static str, radius_au: f64) -> Result<(), PhysicsError> {
     let d = &model.parameters.disk;
     if !(radius_au >= d.inner_radius_au && radius_au <= d.outer_radius_au) {
-        return Err(PhysicsError::RadiusOutsideDisk { name, radius_au, inner_au: d.inner_radius_au, outer_au: d.outer_radius_au });
+        return Err(PhysicsError::RadiusOutsideDisk {
+            name,
+            radius_au,
+            inner_au: d.inner_radius_au,
+            outer_au: d.outer_radius_au,
+        });
     }
     Ok(())
 }
@@ -282,7 +327,12 @@ struct PointPhases {
 /// which a place counts as holding no solids.
 fn fully_condensed_mass_per_h_amu(model: &Model) -> f64 {
     let c = &model.carriers;
-    let mut m: f64 = c.species_per_h.iter().zip(&c.mass_amu).map(|(x, m)| x * m).sum();
+    let mut m: f64 = c
+        .species_per_h
+        .iter()
+        .zip(&c.mass_amu)
+        .map(|(x, m)| x * m)
+        .sum();
     m += c.refractory_carbon_per_h * Element::C.atomic_mass_amu();
     m += c.refractory_sulfur_per_h * Element::S.atomic_mass_amu();
     m += c.silicate_oxygen_per_h * Element::O.atomic_mass_amu();
@@ -306,7 +356,11 @@ fn point_phases(local: &LocalMidplane, reference_solid_amu: f64) -> PointPhases 
     } else {
         None
     };
-    PointPhases { gas, solid, solid_to_gas: local.solid_mass_per_h_amu * ATOMIC_MASS_UNIT_G / gram_per_h }
+    PointPhases {
+        gas,
+        solid,
+        solid_to_gas: local.solid_mass_per_h_amu * ATOMIC_MASS_UNIT_G / gram_per_h,
+    }
 }
 
 /// The local midplane state of grid cell `j` taken straight from the computed
@@ -318,7 +372,9 @@ fn grid_midplane(model: &Model, j: usize) -> LocalMidplane {
     let n = model.sample_count();
     let phases = model.phases_at(k);
     let ice_fraction = std::array::from_fn(|i| model.ice_fraction[i * n + k]);
-    let solid_mass_per_h_amu = model.carriers.solid_mass_per_h_amu(&phases, |i| ice_fraction[i]);
+    let solid_mass_per_h_amu = model
+        .carriers
+        .solid_mass_per_h_amu(&phases, |i| ice_fraction[i]);
     LocalMidplane {
         radius_cm: st.radius_cm[j],
         temperature_k: st.midplane_temperature_k[j],
@@ -329,7 +385,12 @@ fn grid_midplane(model: &Model, j: usize) -> LocalMidplane {
 }
 
 impl AccretedPhases {
-    fn from_point(model: &Model, inner_radius_au: f64, outer_radius_au: f64, p: PointPhases) -> AccretedPhases {
+    fn from_point(
+        model: &Model,
+        inner_radius_au: f64,
+        outer_radius_au: f64,
+        p: PointPhases,
+    ) -> AccretedPhases {
         AccretedPhases {
             inner_radius_au,
             outer_radius_au,
@@ -357,10 +418,17 @@ impl AccretedPhases {
     /// `OutOfRange` (name `radial_cell`) for `j` beyond the grid.
     pub fn at_grid_cell(model: &Model, j: usize) -> Result<AccretedPhases, PhysicsError> {
         if j >= model.structure.radial_cells {
-            return Err(PhysicsError::OutOfRange { name: "radial_cell", value: j as f64, allowed: "below the number of radial cells" });
+            return Err(PhysicsError::OutOfRange {
+                name: "radial_cell",
+                value: j as f64,
+                allowed: "below the number of radial cells",
+            });
         }
         let r_au = model.structure.radius_cm[j] / AU_CM;
-        let p = point_phases(&grid_midplane(model, j), fully_condensed_mass_per_h_amu(model));
+        let p = point_phases(
+            &grid_midplane(model, j),
+            fully_condensed_mass_per_h_amu(model),
+        );
         Ok(AccretedPhases::from_point(model, r_au, r_au, p))
     }
 
@@ -396,7 +464,9 @@ impl AccretedPhases {
         for k in 0..n {
             let t = (k as f64 + 0.5) / n as f64;
             let r = match weighting {
-                RadialWeighting::Uniform => inner_radius_au + t * (outer_radius_au - inner_radius_au),
+                RadialWeighting::Uniform => {
+                    inner_radius_au + t * (outer_radius_au - inner_radius_au)
+                }
                 RadialWeighting::LogRadius => inner_radius_au * exp(t * ln_ratio),
             };
             let p = point_phases(&model.midplane_at(r)?, reference);
@@ -412,7 +482,11 @@ impl AccretedPhases {
             solid_to_gas += p.solid_to_gas;
         }
         let gas = gas.map(|v| v / n as f64);
-        let solid_atoms_per_g = if with_solids > 0 { Some(solid.map(|v| v / with_solids as f64)) } else { None };
+        let solid_atoms_per_g = if with_solids > 0 {
+            Some(solid.map(|v| v / with_solids as f64))
+        } else {
+            None
+        };
         Ok(AccretedPhases {
             inner_radius_au,
             outer_radius_au,
@@ -429,7 +503,11 @@ impl AccretedPhases {
     /// C/O of the accreted gas (atoms per gram); `None` below the 1e-9 rule.
     pub fn gas_c_to_o(&self) -> Option<f64> {
         let (c, o) = (Element::C as usize, Element::O as usize);
-        defined_ratio(self.gas_atoms_per_g[c], self.gas_atoms_per_g[o], self.stellar_per_h[o] * self.hydrogen_per_gram_of_gas)
+        defined_ratio(
+            self.gas_atoms_per_g[c],
+            self.gas_atoms_per_g[o],
+            self.stellar_per_h[o] * self.hydrogen_per_gram_of_gas,
+        )
     }
 
     /// C/O of the accreted solids (atoms per gram); `None` where there are no
@@ -437,13 +515,22 @@ impl AccretedPhases {
     pub fn solid_c_to_o(&self) -> Option<f64> {
         let (c, o) = (Element::C as usize, Element::O as usize);
         let s = self.solid_atoms_per_g?;
-        defined_ratio(s[c], s[o], self.stellar_per_h[o] * self.hydrogen_per_gram_of_gas)
+        defined_ratio(
+            s[c],
+            s[o],
+            self.stellar_per_h[o] * self.hydrogen_per_gram_of_gas,
+        )
     }
 
     /// The envelope for gas mass `gas_mass_g`, solid-to-gas ratio and f_mix
     /// (validated as in [`planet`]; `NoSolidsToAccrete` for a positive ratio
     /// where these phases hold no solids).
-    pub fn envelope(&self, gas_mass_g: f64, solid_to_gas: f64, solid_mixing_fraction: f64) -> Result<Envelope, PhysicsError> {
+    pub fn envelope(
+        &self,
+        gas_mass_g: f64,
+        solid_to_gas: f64,
+        solid_mixing_fraction: f64,
+    ) -> Result<Envelope, PhysicsError> {
         check_envelope_inputs(gas_mass_g, solid_to_gas, solid_mixing_fraction)?;
         if solid_to_gas > 0.0 && self.solid_atoms_per_g.is_none() {
             return Err(PhysicsError::NoSolidsToAccrete {
@@ -458,7 +545,12 @@ impl AccretedPhases {
 
     /// The envelope without input checks; the solids contribute nothing where
     /// there are none (callers make sure that only happens for a zero ratio).
-    fn envelope_unchecked(&self, gas_mass_g: f64, solid_to_gas: f64, solid_mixing_fraction: f64) -> Envelope {
+    fn envelope_unchecked(
+        &self,
+        gas_mass_g: f64,
+        solid_to_gas: f64,
+        solid_mixing_fraction: f64,
+    ) -> Envelope {
         let solid_mass_g = solid_to_gas * gas_mass_g;
         let hydrogen_atoms = gas_mass_g * self.hydrogen_per_gram_of_gas;
         let elements: [ElementInEnvelope; ELEMENT_COUNT] = std::array::from_fn(|e| {
@@ -478,12 +570,21 @@ impl AccretedPhases {
                 from_solids_atoms,
                 per_h,
                 relative_to_star,
-                dex: if per_h >= 1e-9 * star && per_h > 0.0 { Some(log10(relative_to_star)) } else { None },
-                solid_share: if atoms > 0.0 { Some(from_solids_atoms / atoms) } else { None },
+                dex: if per_h >= 1e-9 * star && per_h > 0.0 {
+                    Some(log10(relative_to_star))
+                } else {
+                    None
+                },
+                solid_share: if atoms > 0.0 {
+                    Some(from_solids_atoms / atoms)
+                } else {
+                    None
+                },
             }
         });
         let (c, o) = (Element::C as usize, Element::O as usize);
-        let c_to_o = defined_ratio(elements[c].per_h, elements[o].per_h, self.stellar_per_h[o]).map(|_| elements[c].atoms / elements[o].atoms);
+        let c_to_o = defined_ratio(elements[c].per_h, elements[o].per_h, self.stellar_per_h[o])
+            .map(|_| elements[c].atoms / elements[o].atoms);
         Envelope {
             gas_mass_g,
             solid_mass_g,
@@ -618,7 +719,12 @@ impl DeltaChiSquare {
             ConfidenceConvention::FittedQuantities => fitted_quantities.clamp(1, 2),
         };
         let (one_sigma, two_sigma) = if nu == 1 { (1.00, 4.00) } else { (2.30, 6.18) };
-        DeltaChiSquare { convention, degrees_of_freedom: nu, one_sigma, two_sigma }
+        DeltaChiSquare {
+            convention,
+            degrees_of_freedom: nu,
+            one_sigma,
+            two_sigma,
+        }
     }
 }
 
@@ -636,7 +742,11 @@ pub struct MapSettings {
 impl MapSettings {
     /// The defaults: 48 ratios, f_mix = 1, two-parameter thresholds.
     pub fn defaults() -> MapSettings {
-        MapSettings { ratio_count: DEFAULT_MAP_RATIO_COUNT, solid_mixing_fraction: 1.0, convention: ConfidenceConvention::MappedParameters }
+        MapSettings {
+            ratio_count: DEFAULT_MAP_RATIO_COUNT,
+            solid_mixing_fraction: 1.0,
+            convention: ConfidenceConvention::MappedParameters,
+        }
     }
 }
 
@@ -782,7 +892,17 @@ pub struct ChiSquareMap {
 pub fn map_solid_to_gas_values(count: usize) -> Vec<f64> {
     let (lo, hi) = MAP_SOLID_TO_GAS_RANGE;
     let (a, b) = (log10(lo), log10(hi));
-    (0..count).map(|k| if k + 1 == count { hi } else if k == 0 { lo } else { exp10(a + (b - a) * k as f64 / (count - 1) as f64) }).collect()
+    (0..count)
+        .map(|k| {
+            if k + 1 == count {
+                hi
+            } else if k == 0 {
+                lo
+            } else {
+                exp10(a + (b - a) * k as f64 / (count - 1) as f64)
+            }
+        })
+        .collect()
 }
 
 /// The inverse map (MODEL.md section 9): chi-square of the forward model at
@@ -799,26 +919,54 @@ pub fn map_solid_to_gas_values(count: usize) -> Vec<f64> {
 /// Errors: `OutOfRange` for `c_to_o` (>= 0, finite), `c_to_o_sigma` (> 0,
 /// finite), the metallicity (finite) and its sigma (> 0, finite), `ratio_count`
 /// ([40, 1000]), `solid_mixing_fraction` ([0, 1]).
-pub fn chi_square_map(model: &Model, observed: &ObservedEnvelope, settings: &MapSettings) -> Result<ChiSquareMap, PhysicsError> {
+pub fn chi_square_map(
+    model: &Model,
+    observed: &ObservedEnvelope,
+    settings: &MapSettings,
+) -> Result<ChiSquareMap, PhysicsError> {
     if !(observed.c_to_o >= 0.0 && observed.c_to_o.is_finite()) {
-        return Err(PhysicsError::OutOfRange { name: "c_to_o", value: observed.c_to_o, allowed: ">= 0 and finite" });
+        return Err(PhysicsError::OutOfRange {
+            name: "c_to_o",
+            value: observed.c_to_o,
+            allowed: ">= 0 and finite",
+        });
     }
     if !(observed.c_to_o_sigma > 0.0 && observed.c_to_o_sigma.is_finite()) {
-        return Err(PhysicsError::OutOfRange { name: "c_to_o_sigma", value: observed.c_to_o_sigma, allowed: "> 0 and finite" });
+        return Err(PhysicsError::OutOfRange {
+            name: "c_to_o_sigma",
+            value: observed.c_to_o_sigma,
+            allowed: "> 0 and finite",
+        });
     }
     if let Some(m) = observed.metallicity {
         if !m.dex.is_finite() {
-            return Err(PhysicsError::OutOfRange { name: "metallicity_dex", value: m.dex, allowed: "finite" });
+            return Err(PhysicsError::OutOfRange {
+                name: "metallicity_dex",
+                value: m.dex,
+                allowed: "finite",
+            });
         }
         if !(m.sigma_dex > 0.0 && m.sigma_dex.is_finite()) {
-            return Err(PhysicsError::OutOfRange { name: "metallicity_sigma_dex", value: m.sigma_dex, allowed: "> 0 and finite" });
+            return Err(PhysicsError::OutOfRange {
+                name: "metallicity_sigma_dex",
+                value: m.sigma_dex,
+                allowed: "> 0 and finite",
+            });
         }
     }
     if !(MIN_MAP_RATIO_COUNT..=MAX_MAP_RATIO_COUNT).contains(&settings.ratio_count) {
-        return Err(PhysicsError::OutOfRange { name: "ratio_count", value: settings.ratio_count as f64, allowed: "in [40, 1000]" });
+        return Err(PhysicsError::OutOfRange {
+            name: "ratio_count",
+            value: settings.ratio_count as f64,
+            allowed: "in [40, 1000]",
+        });
     }
     if !(0.0..=1.0).contains(&settings.solid_mixing_fraction) {
-        return Err(PhysicsError::OutOfRange { name: "solid_mixing_fraction", value: settings.solid_mixing_fraction, allowed: "in [0, 1]" });
+        return Err(PhysicsError::OutOfRange {
+            name: "solid_mixing_fraction",
+            value: settings.solid_mixing_fraction,
+            allowed: "in [0, 1]",
+        });
     }
     let st = &model.structure;
     let n_r = st.radial_cells;
@@ -893,8 +1041,9 @@ pub fn chi_square_map(model: &Model, observed: &ObservedEnvelope, settings: &Map
         }
     }
     let ln_edge = ln(model.parameters.disk.outer_radius_au / model.parameters.disk.inner_radius_au);
-    let cell_edges_au: Vec<f64> =
-        (0..=n_r).map(|j| model.parameters.disk.inner_radius_au * exp(ln_edge * j as f64 / n_r as f64)).collect();
+    let cell_edges_au: Vec<f64> = (0..=n_r)
+        .map(|j| model.parameters.disk.inner_radius_au * exp(ln_edge * j as f64 / n_r as f64))
+        .collect();
     let runs = |k: usize, inside: &dyn Fn(&MapRow) -> bool| -> Vec<RadiusInterval> {
         let mut out = Vec::new();
         let mut start: Option<usize> = None;
@@ -1034,8 +1183,16 @@ impl ChiSquareMap {
 
 /// "2.1-4.3 au and 60-85 au" from cell edges.
 fn list_ranges(ranges: &[RadiusInterval]) -> String {
-    let parts: Vec<String> =
-        ranges.iter().map(|r| format!("{}-{} au", short_radius(r.inner_edge_au), short_radius(r.outer_edge_au))).collect();
+    let parts: Vec<String> = ranges
+        .iter()
+        .map(|r| {
+            format!(
+                "{}-{} au",
+                short_radius(r.inner_edge_au),
+                short_radius(r.outer_edge_au)
+            )
+        })
+        .collect();
     match parts.len() {
         0 => String::new(),
         1 => parts[0].clone(),
@@ -1098,13 +1255,23 @@ mod tests {
         p.grid.vertical_cells = 40;
         let x = crate::star::stellar_abundances_per_h(&p.star);
         let co = 1.0e-4 / x[0];
-        p.composition.carbon = crate::params::CarbonFractions { co, co2: 0.5 - co, ch4: 0.0, ch3oh: 0.0, hcn: 0.0, refractory: 0.5 };
+        p.composition.carbon = crate::params::CarbonFractions {
+            co,
+            co2: 0.5 - co,
+            ch4: 0.0,
+            ch3oh: 0.0,
+            hcn: 0.0,
+            refractory: 0.5,
+        };
         p.composition.oxygen_per_silicon = 0.2 * x[1] / x[4];
         p
     }
 
     fn check_close(actual: f64, expected: f64, rel: f64, what: &str) {
-        assert!((actual - expected).abs() <= rel * expected.abs(), "{what}: {actual:e} vs {expected:e} (rel {rel:e})");
+        assert!(
+            (actual - expected).abs() <= rel * expected.abs(),
+            "{what}: {actual:e} vs {expected:e} (rel {rel:e})"
+        );
     }
 
     #[test]
@@ -1136,12 +1303,18 @@ mod tests {
             let b = AccretedPhases::at(&m, r).unwrap();
             for e in 0..ELEMENT_COUNT {
                 let (x, y) = (a.gas_atoms_per_g[e], b.gas_atoms_per_g[e]);
-                assert!((x - y).abs() <= 1e-12 * x.abs().max(1.0), "gas j={j} e={e}: {x:e} {y:e}");
+                assert!(
+                    (x - y).abs() <= 1e-12 * x.abs().max(1.0),
+                    "gas j={j} e={e}: {x:e} {y:e}"
+                );
             }
             match (a.solid_atoms_per_g, b.solid_atoms_per_g) {
                 (Some(s), Some(t)) => {
                     for e in 0..ELEMENT_COUNT {
-                        assert!((s[e] - t[e]).abs() <= 1e-12 * s[e].abs().max(1.0), "solid j={j} e={e}");
+                        assert!(
+                            (s[e] - t[e]).abs() <= 1e-12 * s[e].abs().max(1.0),
+                            "solid j={j} e={e}"
+                        );
                     }
                 }
                 (s, t) => assert_eq!(s.is_some(), t.is_some(), "j={j}"),
@@ -1156,25 +1329,53 @@ mod tests {
         let m = small_model();
         let water = m.snowlines(crate::Species::H2O)[0].radius_cm / AU_CM;
         let a = AccretedPhases::at(&m, 2.0 * water).unwrap();
-        assert!(a.solid_to_gas_available > 0.005 && a.solid_to_gas_available < 0.02, "{}", a.solid_to_gas_available);
+        assert!(
+            a.solid_to_gas_available > 0.005 && a.solid_to_gas_available < 0.02,
+            "{}",
+            a.solid_to_gas_available
+        );
     }
 
     #[test]
     fn inputs_are_validated_with_named_errors() {
         let m = small_model();
         let err = planet(&m, &PlanetRequest::at(3.0, -1.0)).unwrap_err();
-        assert_eq!(err.to_string(), "solid_to_gas: must be >= 0 and finite, got -1");
+        assert_eq!(
+            err.to_string(),
+            "solid_to_gas: must be >= 0 and finite, got -1"
+        );
         let err = planet(&m, &PlanetRequest::at(3.0, f64::INFINITY)).unwrap_err();
-        assert!(matches!(err, PhysicsError::OutOfRange { name: "solid_to_gas", .. }));
+        assert!(matches!(
+            err,
+            PhysicsError::OutOfRange {
+                name: "solid_to_gas",
+                ..
+            }
+        ));
         let mut req = PlanetRequest::at(3.0, 0.1);
         req.solid_mixing_fraction = 1.5;
-        assert_eq!(planet(&m, &req).unwrap_err().to_string(), "solid_mixing_fraction: must be in [0, 1], got 1.5");
+        assert_eq!(
+            planet(&m, &req).unwrap_err().to_string(),
+            "solid_mixing_fraction: must be in [0, 1], got 1.5"
+        );
         let err = planet(&m, &PlanetRequest::at(900.0, 0.1)).unwrap_err();
-        assert_eq!(err.to_string(), "radius_au: must lie in the disk [0.1, 500] au, got 900");
+        assert_eq!(
+            err.to_string(),
+            "radius_au: must lie in the disk [0.1, 500] au, got 900"
+        );
         let err = planet(&m, &PlanetRequest::migrating(5.0, 3.0, 0.1)).unwrap_err();
-        assert_eq!(err.to_string(), "outer_radius_au: must be greater than inner_radius_au = 5, got 3");
+        assert_eq!(
+            err.to_string(),
+            "outer_radius_au: must be greater than inner_radius_au = 5, got 3"
+        );
         let err = planet(&m, &PlanetRequest::migrating(f64::NAN, 3.0, 0.1)).unwrap_err();
-        assert!(matches!(err, PhysicsError::RadiusOutsideDisk { name: "inner_radius_au", .. }));
+        assert!(matches!(
+            err,
+            PhysicsError::RadiusOutsideDisk {
+                name: "inner_radius_au",
+                ..
+            }
+        ));
     }
 
     #[test]
@@ -1187,7 +1388,10 @@ mod tests {
         assert!(a.solid_atoms_per_g.is_none());
         assert!(a.envelope(1.0, 0.0, 1.0).is_ok());
         let err = a.envelope(1.0, 0.1, 1.0).unwrap_err();
-        assert_eq!(err.to_string(), "solid_to_gas: must be 0 at 0.1 au, where the disk holds no solids, got 0.1");
+        assert_eq!(
+            err.to_string(),
+            "solid_to_gas: must be 0 at 0.1 au, where the disk holds no solids, got 0.1"
+        );
     }
 
     #[test]
@@ -1198,7 +1402,12 @@ mod tests {
         let e2 = a.envelope(3.0e29, 0.05, 0.7).unwrap();
         check_close(e2.c_to_o.unwrap(), e1.c_to_o.unwrap(), 1e-12, "C/O");
         for e in 0..ELEMENT_COUNT {
-            check_close(e2.elements[e].atoms, 3.0e29 * e1.elements[e].atoms, 1e-12, "atoms");
+            check_close(
+                e2.elements[e].atoms,
+                3.0e29 * e1.elements[e].atoms,
+                1e-12,
+                "atoms",
+            );
             check_close(e2.elements[e].per_h, e1.elements[e].per_h, 1e-12, "per H");
             let split = e1.elements[e].from_gas_atoms + e1.elements[e].from_solids_atoms;
             check_close(split, e1.elements[e].atoms, 1e-15, "split sums");
@@ -1218,9 +1427,19 @@ mod tests {
             let avg = AccretedPhases::averaged(&m, r1, r2, w).unwrap();
             assert_eq!(avg.points, 200);
             for e in 0..ELEMENT_COUNT {
-                check_close(avg.gas_atoms_per_g[e], point.gas_atoms_per_g[e], 1e-12, "gas");
+                check_close(
+                    avg.gas_atoms_per_g[e],
+                    point.gas_atoms_per_g[e],
+                    1e-12,
+                    "gas",
+                );
             }
-            check_close(avg.gas_c_to_o().unwrap(), 1.0, 1e-12, "gas C/O between the CO2 and CO lines");
+            check_close(
+                avg.gas_c_to_o().unwrap(),
+                1.0,
+                1e-12,
+                "gas C/O between the CO2 and CO lines",
+            );
         }
     }
 
@@ -1241,9 +1460,17 @@ mod tests {
         let mut o = 0.0;
         for k in 0..200 {
             let r = r1 * (r2 / r1).powf((k as f64 + 0.5) / 200.0);
-            o += AccretedPhases::at(&m, r).unwrap().solid_atoms_per_g.unwrap()[1];
+            o += AccretedPhases::at(&m, r)
+                .unwrap()
+                .solid_atoms_per_g
+                .unwrap()[1];
         }
-        check_close(avg.solid_atoms_per_g.unwrap()[1], o / 200.0, 1e-10, "log-radius midpoint average");
+        check_close(
+            avg.solid_atoms_per_g.unwrap()[1],
+            o / 200.0,
+            1e-10,
+            "log-radius midpoint average",
+        );
     }
 
     #[test]
@@ -1251,11 +1478,18 @@ mod tests {
         let m = small_model();
         let env = planet(&m, &PlanetRequest::at(5.0, 0.02)).unwrap().envelope;
         let star = m.carriers.stellar_per_h[0] / m.carriers.stellar_per_h[1];
-        check_close(env.c_to_o_relative_to_star().unwrap(), env.c_to_o.unwrap() / star, 1e-15, "C/O over the star's");
+        check_close(
+            env.c_to_o_relative_to_star().unwrap(),
+            env.c_to_o.unwrap() / star,
+            1e-15,
+            "C/O over the star's",
+        );
         // Inside the soot line with only silicates as solids, a solid-dominated envelope has tiny carbon:
         // the ratio stays a finite number (never NaN) and [C/H] is reported only above 1e-9 of the star.
         let env = planet(&m, &PlanetRequest::at(0.3, 1e9)).unwrap().envelope;
-        assert!(env.c_to_o.unwrap().is_finite() && env.c_to_o_relative_to_star().unwrap().is_finite());
+        assert!(
+            env.c_to_o.unwrap().is_finite() && env.c_to_o_relative_to_star().unwrap().is_finite()
+        );
     }
 
     #[test]
@@ -1264,11 +1498,17 @@ mod tests {
         // P(chi2 <= x) = 1 - exp(-x/2); 68.27 % and 95.45 % are the Gaussian 1 and 2 sigma
         // probabilities erf(1/sqrt 2) = 0.682689 and erf(2/sqrt 2) = 0.954500 (standard normal table).
         let t = DeltaChiSquare::new(ConfidenceConvention::MappedParameters, 1);
-        assert_eq!((t.degrees_of_freedom, t.one_sigma, t.two_sigma), (2, 2.30, 6.18));
+        assert_eq!(
+            (t.degrees_of_freedom, t.one_sigma, t.two_sigma),
+            (2, 2.30, 6.18)
+        );
         assert!((1.0 - exp(-t.one_sigma / 2.0) - 0.682_689).abs() < 1e-3);
         assert!((1.0 - exp(-t.two_sigma / 2.0) - 0.954_500).abs() < 1e-4);
         let t1 = DeltaChiSquare::new(ConfidenceConvention::FittedQuantities, 1);
-        assert_eq!((t1.degrees_of_freedom, t1.one_sigma, t1.two_sigma), (1, 1.0, 4.0));
+        assert_eq!(
+            (t1.degrees_of_freedom, t1.one_sigma, t1.two_sigma),
+            (1, 1.0, 4.0)
+        );
         let t2 = DeltaChiSquare::new(ConfidenceConvention::FittedQuantities, 2);
         assert_eq!(t2.degrees_of_freedom, 2);
     }
@@ -1286,13 +1526,27 @@ mod tests {
     #[test]
     fn map_validates_its_inputs() {
         let m = small_model();
-        let obs = ObservedEnvelope { c_to_o: 0.5, c_to_o_sigma: 0.0, metallicity: None };
+        let obs = ObservedEnvelope {
+            c_to_o: 0.5,
+            c_to_o_sigma: 0.0,
+            metallicity: None,
+        };
         let err = chi_square_map(&m, &obs, &MapSettings::defaults()).unwrap_err();
-        assert_eq!(err.to_string(), "c_to_o_sigma: must be > 0 and finite, got 0");
-        let obs = ObservedEnvelope { c_to_o: 0.5, c_to_o_sigma: 0.1, metallicity: None };
+        assert_eq!(
+            err.to_string(),
+            "c_to_o_sigma: must be > 0 and finite, got 0"
+        );
+        let obs = ObservedEnvelope {
+            c_to_o: 0.5,
+            c_to_o_sigma: 0.1,
+            metallicity: None,
+        };
         let mut s = MapSettings::defaults();
         s.ratio_count = 39;
-        assert_eq!(chi_square_map(&m, &obs, &s).unwrap_err().to_string(), "ratio_count: must be in [40, 1000], got 39");
+        assert_eq!(
+            chi_square_map(&m, &obs, &s).unwrap_err().to_string(),
+            "ratio_count: must be in [40, 1000], got 39"
+        );
     }
 
     #[test]
@@ -1301,38 +1555,80 @@ mod tests {
         let obs = ObservedEnvelope {
             c_to_o: 0.45,
             c_to_o_sigma: 0.05,
-            metallicity: Some(ObservedMetallicity { tracer: MetallicityTracer::Oxygen, dex: 0.3, sigma_dex: 0.2 }),
+            metallicity: Some(ObservedMetallicity {
+                tracer: MetallicityTracer::Oxygen,
+                dex: 0.3,
+                sigma_dex: 0.2,
+            }),
         };
         let map = chi_square_map(&m, &obs, &MapSettings::defaults()).unwrap();
         assert_eq!(map.rows.len(), 200 * 48);
         for (j, k) in [(60, 0), (120, 20), (180, 47)] {
             let row = map.row(j, k);
-            let env = planet(&m, &PlanetRequest::at(map.radius_au[j], map.solid_to_gas[k])).unwrap().envelope;
+            let env = planet(
+                &m,
+                &PlanetRequest::at(map.radius_au[j], map.solid_to_gas[k]),
+            )
+            .unwrap()
+            .envelope;
             check_close(row.c_to_o.unwrap(), env.c_to_o.unwrap(), 1e-12, "C/O");
-            let chi2 = ((env.c_to_o.unwrap() - 0.45) / 0.05).powi(2) + ((env.o_to_h_dex().unwrap() - 0.3) / 0.2).powi(2);
-            assert!((row.chi2.unwrap() - chi2).abs() <= 1e-9 * chi2.max(1.0), "chi2 {} vs {chi2}", row.chi2.unwrap());
+            let chi2 = ((env.c_to_o.unwrap() - 0.45) / 0.05).powi(2)
+                + ((env.o_to_h_dex().unwrap() - 0.3) / 0.2).powi(2);
+            assert!(
+                (row.chi2.unwrap() - chi2).abs() <= 1e-9 * chi2.max(1.0),
+                "chi2 {} vs {chi2}",
+                row.chi2.unwrap()
+            );
         }
         let best = map.best.unwrap();
-        assert_eq!(map.row(best.radial_cell, best.ratio_index).delta_chi2, Some(0.0));
-        assert!(map.rows.iter().all(|r| r.chi2.iter().all(|&c| c >= best.chi2)));
+        assert_eq!(
+            map.row(best.radial_cell, best.ratio_index).delta_chi2,
+            Some(0.0)
+        );
+        assert!(map
+            .rows
+            .iter()
+            .all(|r| r.chi2.iter().all(|&c| c >= best.chi2)));
         // Rows inside the no-solid inner disk are undefined, never NaN.
         assert!(map.row(0, 10).chi2.is_none());
-        assert!(map.rows.iter().all(|r| r.chi2.iter().all(|c| c.is_finite())));
+        assert!(map
+            .rows
+            .iter()
+            .all(|r| r.chi2.iter().all(|c| c.is_finite())));
         // The allowed intervals are exactly the runs of flagged rows.
         for (k, a) in map.allowed.iter().enumerate() {
             let flagged: Vec<usize> = (0..200).filter(|&j| map.row(j, k).within_2sigma).collect();
-            let from_runs: Vec<usize> = a.two_sigma.iter().flat_map(|r| r.first_cell..=r.last_cell).collect();
+            let from_runs: Vec<usize> = a
+                .two_sigma
+                .iter()
+                .flat_map(|r| r.first_cell..=r.last_cell)
+                .collect();
             assert_eq!(flagged, from_runs);
             for w in a.two_sigma.windows(2) {
-                assert!(w[1].first_cell > w[0].last_cell + 1, "runs must be disjoint and separated");
+                assert!(
+                    w[1].first_cell > w[0].last_cell + 1,
+                    "runs must be disjoint and separated"
+                );
             }
         }
     }
 
     #[test]
     fn degeneracy_text_reads_plainly() {
-        let r = |a: f64, b: f64| RadiusInterval { first_cell: 0, last_cell: 1, inner_centre_au: a, outer_centre_au: b, inner_edge_au: a, outer_edge_au: b };
-        let d = Degeneracy { level: SigmaLevel::One, solid_to_gas: 0.0104, ranges: vec![r(2.1, 4.3), r(60.2, 85.0)], fitted: "C/O".into() };
+        let r = |a: f64, b: f64| RadiusInterval {
+            first_cell: 0,
+            last_cell: 1,
+            inner_centre_au: a,
+            outer_centre_au: b,
+            inner_edge_au: a,
+            outer_edge_au: b,
+        };
+        let d = Degeneracy {
+            level: SigmaLevel::One,
+            solid_to_gas: 0.0104,
+            ranges: vec![r(2.1, 4.3), r(60.2, 85.0)],
+            fitted: "C/O".into(),
+        };
         assert_eq!(d.text(), "at solid-to-gas 0.010, two radius ranges give the same C/O within 1 sigma: 2.1-4.3 au and 60-85 au");
         assert_eq!(significant(0.001, 2), "0.0010");
         assert_eq!(significant(0.5, 2), "0.50");

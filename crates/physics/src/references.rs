@@ -29,7 +29,17 @@ pub struct Reference {
 
 macro_rules! reference {
     ($key:literal, $authors:literal, $year:literal, $title:literal, $journal:literal, $volume:literal, $pages:literal, $doi:literal, $citation:literal) => {
-        Reference { key: $key, authors: $authors, year: $year, title: $title, journal: $journal, volume: $volume, pages: $pages, doi: $doi, citation: $citation }
+        Reference {
+            key: $key,
+            authors: $authors,
+            year: $year,
+            title: $title,
+            journal: $journal,
+            volume: $volume,
+            pages: $pages,
+            doi: $doi,
+            citation: $citation,
+        }
     };
 }
 
@@ -75,8 +85,14 @@ pub const REFERENCES: &[Reference] = &[
 /// They are named in the data and in the methods text, never cited in BibTeX.
 pub const UNPUBLISHED_SOURCES: &[(&str, &str)] = &[
     ("common_practice", "common practice, no single source"),
-    ("memory", "approximate value from memory of the literature, no single source"),
-    ("memory_ch4", "pure CH4 ice, laboratory TPD value of about 1100 K, from memory (low confidence)"),
+    (
+        "memory",
+        "approximate value from memory of the literature, no single source",
+    ),
+    (
+        "memory_ch4",
+        "pure CH4 ice, laboratory TPD value of about 1100 K, from memory (low confidence)",
+    ),
 ];
 
 /// The record with this key, if it is a publication.
@@ -96,7 +112,12 @@ mod tests {
     #[test]
     fn keys_are_sorted_and_unique() {
         for pair in REFERENCES.windows(2) {
-            assert!(pair[0].key < pair[1].key, "{} !< {}", pair[0].key, pair[1].key);
+            assert!(
+                pair[0].key < pair[1].key,
+                "{} !< {}",
+                pair[0].key,
+                pair[1].key
+            );
         }
     }
 }

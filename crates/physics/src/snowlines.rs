@@ -45,8 +45,20 @@ pub enum SnowSurface {
 /// Every crossing of `threshold` by `values` (indexed by radius), inner first,
 /// interpolated linearly in ln r of `values` (or, with `log_values`, of ln values
 /// against ln r). "Frozen" means value >= threshold when `frozen_above`, else value < threshold.
-pub fn crossings(radii_cm: &[f64], values: &[f64], threshold: f64, log_values: bool, frozen_above: bool) -> Vec<Snowline> {
-    let frozen = |v: f64| if frozen_above { v >= threshold } else { v < threshold };
+pub fn crossings(
+    radii_cm: &[f64],
+    values: &[f64],
+    threshold: f64,
+    log_values: bool,
+    frozen_above: bool,
+) -> Vec<Snowline> {
+    let frozen = |v: f64| {
+        if frozen_above {
+            v >= threshold
+        } else {
+            v < threshold
+        }
+    };
     let map = |v: f64| if log_values { ln(v) } else { v };
     let mut out = Vec::new();
     for j in 0..radii_cm.len().saturating_sub(1) {
@@ -58,7 +70,11 @@ pub fn crossings(radii_cm: &[f64], values: &[f64], threshold: f64, log_values: b
         let ln_r = ln(radii_cm[j]) + t * (ln(radii_cm[j + 1]) - ln(radii_cm[j]));
         out.push(Snowline {
             radius_cm: exp(ln_r),
-            direction: if frozen(b) { CrossingDirection::FreezeOut } else { CrossingDirection::Desorption },
+            direction: if frozen(b) {
+                CrossingDirection::FreezeOut
+            } else {
+                CrossingDirection::Desorption
+            },
         });
     }
     out
@@ -67,8 +83,19 @@ pub fn crossings(radii_cm: &[f64], values: &[f64], threshold: f64, log_values: b
 /// The snow surface of one column: scanning up from z = 0, the lowest height where
 /// the column goes from frozen below to not frozen above, interpolated linearly in z.
 /// `values` are at `heights_cm` (index 0 is z = 0).
-pub fn snow_surface(heights_cm: &[f64], values: &[f64], threshold: f64, frozen_above: bool) -> SnowSurface {
-    let frozen = |v: f64| if frozen_above { v >= threshold } else { v < threshold };
+pub fn snow_surface(
+    heights_cm: &[f64],
+    values: &[f64],
+    threshold: f64,
+    frozen_above: bool,
+) -> SnowSurface {
+    let frozen = |v: f64| {
+        if frozen_above {
+            v >= threshold
+        } else {
+            v < threshold
+        }
+    };
     if !frozen(values[0]) {
         return SnowSurface::MidplaneNotFrozen;
     }
@@ -76,7 +103,9 @@ pub fn snow_surface(heights_cm: &[f64], values: &[f64], threshold: f64, frozen_a
         if !frozen(values[s]) {
             let (a, b) = (values[s - 1], values[s]);
             let t = (threshold - a) / (b - a);
-            return SnowSurface::Height(heights_cm[s - 1] + t * (heights_cm[s] - heights_cm[s - 1]));
+            return SnowSurface::Height(
+                heights_cm[s - 1] + t * (heights_cm[s] - heights_cm[s - 1]),
+            );
         }
     }
     SnowSurface::AboveGrid
@@ -98,8 +127,17 @@ mod tests {
     #[test]
     fn snow_surface_cases() {
         let z = [0.0, 1.0, 2.0];
-        assert_eq!(snow_surface(&z, &[0.2, 0.1, 0.0], 0.5, true), SnowSurface::MidplaneNotFrozen);
-        assert_eq!(snow_surface(&z, &[1.0, 1.0, 0.9], 0.5, true), SnowSurface::AboveGrid);
-        assert_eq!(snow_surface(&z, &[1.0, 1.0, 0.0], 0.5, true), SnowSurface::Height(1.5));
+        assert_eq!(
+            snow_surface(&z, &[0.2, 0.1, 0.0], 0.5, true),
+            SnowSurface::MidplaneNotFrozen
+        );
+        assert_eq!(
+            snow_surface(&z, &[1.0, 1.0, 0.9], 0.5, true),
+            SnowSurface::AboveGrid
+        );
+        assert_eq!(
+            snow_surface(&z, &[1.0, 1.0, 0.0], 0.5, true),
+            SnowSurface::Height(1.5)
+        );
     }
 }

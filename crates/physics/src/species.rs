@@ -87,7 +87,8 @@ pub enum BindingEnergySet {
 
 impl BindingEnergySet {
     /// Every set.
-    pub const ALL: [BindingEnergySet; 2] = [BindingEnergySet::PureIces, BindingEnergySet::OnWaterIce];
+    pub const ALL: [BindingEnergySet; 2] =
+        [BindingEnergySet::PureIces, BindingEnergySet::OnWaterIce];
     /// Key in files, e.g. "pure_ices".
     pub fn key(self) -> &'static str {
         match self {
@@ -154,16 +155,31 @@ fn parse_table() -> Result<SpeciesTable, String> {
     let mut entries = Vec::new();
     for row in data_rows(SPECIES_CSV) {
         if row.len() != 11 {
-            return Err(format!("species.csv: row {row:?} has {} columns, expected 11", row.len()));
+            return Err(format!(
+                "species.csv: row {row:?} has {} columns, expected 11",
+                row.len()
+            ));
         }
-        let species = Species::from_key(row[0]).ok_or_else(|| format!("species.csv: unknown species {}", row[0]))?;
-        let num = |s: &str| s.parse::<f64>().map_err(|e| format!("species.csv: {s}: {e}"));
-        let atoms = |s: &str| s.parse::<u8>().map_err(|e| format!("species.csv: {s}: {e}"));
+        let species = Species::from_key(row[0])
+            .ok_or_else(|| format!("species.csv: unknown species {}", row[0]))?;
+        let num = |s: &str| {
+            s.parse::<f64>()
+                .map_err(|e| format!("species.csv: {s}: {e}"))
+        };
+        let atoms = |s: &str| {
+            s.parse::<u8>()
+                .map_err(|e| format!("species.csv: {s}: {e}"))
+        };
         entries.push(SpeciesData {
             species,
             formula: row[1],
             mass_amu: num(row[2])?,
-            atoms_c_o_n_s: [atoms(row[3])?, atoms(row[4])?, atoms(row[5])?, atoms(row[6])?],
+            atoms_c_o_n_s: [
+                atoms(row[3])?,
+                atoms(row[4])?,
+                atoms(row[5])?,
+                atoms(row[6])?,
+            ],
             photodesorption_yield: num(row[7])?,
             yield_source: row[8],
             condensation_temperature_k: num(row[9])?,
@@ -176,17 +192,27 @@ fn parse_table() -> Result<SpeciesTable, String> {
     }
     for row in data_rows(BINDING_CSV) {
         if row.len() != 4 {
-            return Err(format!("binding_energies.csv: row {row:?} has {} columns, expected 4", row.len()));
+            return Err(format!(
+                "binding_energies.csv: row {row:?} has {} columns, expected 4",
+                row.len()
+            ));
         }
-        let set = BindingEnergySet::from_key(row[0]).ok_or_else(|| format!("binding_energies.csv: unknown set {}", row[0]))?;
-        let species = Species::from_key(row[1]).ok_or_else(|| format!("binding_energies.csv: unknown species {}", row[1]))?;
-        let value = row[2].parse::<f64>().map_err(|e| format!("binding_energies.csv: {}: {e}", row[2]))?;
+        let set = BindingEnergySet::from_key(row[0])
+            .ok_or_else(|| format!("binding_energies.csv: unknown set {}", row[0]))?;
+        let species = Species::from_key(row[1])
+            .ok_or_else(|| format!("binding_energies.csv: unknown species {}", row[1]))?;
+        let value = row[2]
+            .parse::<f64>()
+            .map_err(|e| format!("binding_energies.csv: {}: {e}", row[2]))?;
         entries[species.index()].binding_energy_k[set as usize] = (value, row[3]);
     }
     for e in &entries {
         for (value, source) in e.binding_energy_k {
             if !(value > 0.0) {
-                return Err(format!("binding_energies.csv: {} lacks a value in some set", e.species.key()));
+                return Err(format!(
+                    "binding_energies.csv: {} lacks a value in some set",
+                    e.species.key()
+                ));
             }
             if !is_known_source(source) {
                 return Err(format!("binding_energies.csv: unknown source {source}"));
@@ -232,8 +258,14 @@ mod tests {
             assert!(e(Species::N2) < e(Species::CO), "{set:?}");
             assert!(e(Species::CO) < e(Species::CH4), "{set:?}");
             assert!(e(Species::CH4) < e(Species::CO2), "{set:?}");
-            assert!(e(Species::CO2) < e(Species::NH3).min(e(Species::CH3OH)), "{set:?}");
-            assert!(e(Species::NH3).max(e(Species::CH3OH)) < e(Species::H2O), "{set:?}");
+            assert!(
+                e(Species::CO2) < e(Species::NH3).min(e(Species::CH3OH)),
+                "{set:?}"
+            );
+            assert!(
+                e(Species::NH3).max(e(Species::CH3OH)) < e(Species::H2O),
+                "{set:?}"
+            );
         }
     }
 }

@@ -70,7 +70,11 @@ impl DiskConstants {
             star_mass_g: p.star.mass_msun * SOLAR_MASS_G,
             luminosity_erg_s: p.star.luminosity_lsun * SOLAR_LUMINOSITY_ERG_PER_S,
             stellar_radius_cm: r_star,
-            sigma_c_g_cm2: surface_density_normalisation_g_cm2(d.gas_mass_msun * SOLAR_MASS_G, rc, gamma),
+            sigma_c_g_cm2: surface_density_normalisation_g_cm2(
+                d.gas_mass_msun * SOLAR_MASS_G,
+                rc,
+                gamma,
+            ),
             characteristic_radius_cm: rc,
             gamma,
             accretion_rate_g_s: d.accretion_rate_msun_per_yr * MSUN_PER_YR_TO_G_PER_S,
@@ -94,13 +98,19 @@ impl DiskConstants {
 /// r_j = r_in (r_out/r_in)^((j + 0.5)/N_r).
 pub fn radial_cell_centres_cm(inner_cm: f64, outer_cm: f64, cells: usize) -> Vec<f64> {
     let ln_ratio = ln(outer_cm / inner_cm);
-    (0..cells).map(|j| inner_cm * exp(ln_ratio * (j as f64 + 0.5) / cells as f64)).collect()
+    (0..cells)
+        .map(|j| inner_cm * exp(ln_ratio * (j as f64 + 0.5) / cells as f64))
+        .collect()
 }
 
 /// Sigma_c [g cm^-2] of the self-similar profile holding total mass `mass_g`:
 /// Sigma_c = (2 - gamma) M_disk / (2 pi R_c^2) (Lynden-Bell & Pringle 1974;
 /// Hartmann et al. 1998; form of Andrews et al. 2009), valid for gamma < 2.
-pub fn surface_density_normalisation_g_cm2(mass_g: f64, characteristic_radius_cm: f64, gamma: f64) -> f64 {
+pub fn surface_density_normalisation_g_cm2(
+    mass_g: f64,
+    characteristic_radius_cm: f64,
+    gamma: f64,
+) -> f64 {
     (2.0 - gamma) * mass_g / (2.0 * PI * characteristic_radius_cm * characteristic_radius_cm)
 }
 
@@ -115,13 +125,21 @@ pub fn surface_density_g_cm2(c: &DiskConstants, radius_cm: f64) -> f64 {
 /// T_irr^4 = phi L* / (8 pi sigma r^2) (Chiang & Goldreich 1997; fixed-angle form
 /// of Dullemond, Dominik & Natta 2001). phi = 1/2 gives the optically thin blackbody.
 pub fn irradiation_temperature_k(luminosity_erg_s: f64, flaring_angle: f64, radius_cm: f64) -> f64 {
-    root4(flaring_angle * luminosity_erg_s / (8.0 * PI * STEFAN_BOLTZMANN_CGS * radius_cm * radius_cm))
+    root4(
+        flaring_angle * luminosity_erg_s
+            / (8.0 * PI * STEFAN_BOLTZMANN_CGS * radius_cm * radius_cm),
+    )
 }
 
 /// Viscous effective temperature to the fourth [K^4] for accretion rate Mdot:
 /// T_eff^4 = 3 G M* Mdot (1 - sqrt(R*/r)) / (8 pi sigma r^3)
 /// (Shakura & Sunyaev 1973; Pringle 1981 eq. 3.13 flux). Zero inside R*.
-pub fn viscous_effective_temperature4(star_mass_g: f64, accretion_rate_g_s: f64, stellar_radius_cm: f64, radius_cm: f64) -> f64 {
+pub fn viscous_effective_temperature4(
+    star_mass_g: f64,
+    accretion_rate_g_s: f64,
+    stellar_radius_cm: f64,
+    radius_cm: f64,
+) -> f64 {
     let boundary = 1.0 - sqrt(stellar_radius_cm / radius_cm);
     if boundary <= 0.0 {
         return 0.0;
@@ -173,11 +191,18 @@ pub fn midplane_temperature(
 ) -> Result<MidplaneTemperature, PhysicsError> {
     let t_irr = irradiation_temperature_k(c.luminosity_erg_s, flaring_angle, radius_cm);
     let t_bg = c.background_temperature_k;
-    let t_eff4 = viscous_effective_temperature4(c.star_mass_g, c.accretion_rate_g_s, c.stellar_radius_cm, radius_cm);
+    let t_eff4 = viscous_effective_temperature4(
+        c.star_mass_g,
+        c.accretion_rate_g_s,
+        c.stellar_radius_cm,
+        radius_cm,
+    );
     let fixed4 = t_irr.powi(4) + t_bg.powi(4);
     let t_acc4 = |kappa: f64| 0.75 * (kappa * surface_density_g_cm2 / 2.0 + 2.0 / 3.0) * t_eff4;
     let t = match c.opacity {
-        Opacity::Constant { rosseland_cm2_per_g } => root4(fixed4 + t_acc4(rosseland_cm2_per_g)),
+        Opacity::Constant {
+            rosseland_cm2_per_g,
+        } => root4(fixed4 + t_acc4(rosseland_cm2_per_g)),
         Opacity::BellLin1994 => {
             let omega = keplerian_frequency_s(c.star_mass_g, radius_cm);
             let kappa_at = |t: f64| {
@@ -194,7 +219,9 @@ pub fn midplane_temperature(
                     lo = hi;
                     hi *= 1.02;
                     if hi > 1e6 {
-                        return Err(PhysicsError::NoTemperatureSolution { radius_au: radius_cm / AU_CM });
+                        return Err(PhysicsError::NoTemperatureSolution {
+                            radius_au: radius_cm / AU_CM,
+                        });
                     }
                 }
                 for _ in 0..200 {
@@ -244,7 +271,9 @@ pub fn flaring_solution(
     let n = radii_cm.len();
     let fixed = vec![c.flaring_angle; n];
     let solve_all = |phi: &[f64]| -> Result<Vec<MidplaneTemperature>, PhysicsError> {
-        (0..n).map(|j| midplane_temperature(c, phi[j], radii_cm[j], sigma_g_cm2[j])).collect()
+        (0..n)
+            .map(|j| midplane_temperature(c, phi[j], radii_cm[j], sigma_g_cm2[j]))
+            .collect()
     };
     let mid = solve_all(&fixed)?;
     if !self_consistent || n < 3 {
@@ -252,8 +281,18 @@ pub fn flaring_solution(
     }
     let ln_r: Vec<f64> = radii_cm.iter().map(|&r| ln(r)).collect();
     // y_j = h/r = 4 H(T_j)/r_j = k_j sqrt(T_j).
-    let k: Vec<f64> = (0..n).map(|j| 4.0 * scale_height_cm(c.star_mass_g, 1.0, radii_cm[j]) / radii_cm[j]).collect();
-    let stencil = |j: usize| if j == 0 { (0, 1) } else if j == n - 1 { (n - 2, n - 1) } else { (j - 1, j + 1) };
+    let k: Vec<f64> = (0..n)
+        .map(|j| 4.0 * scale_height_cm(c.star_mass_g, 1.0, radii_cm[j]) / radii_cm[j])
+        .collect();
+    let stencil = |j: usize| {
+        if j == 0 {
+            (0, 1)
+        } else if j == n - 1 {
+            (n - 2, n - 1)
+        } else {
+            (j - 1, j + 1)
+        }
+    };
     // Grazing angle from ln T; also whether it is clamped (floor or cap).
     let angles = |u: &[f64]| -> Vec<(f64, bool)> {
         (0..n)
@@ -272,7 +311,9 @@ pub fn flaring_solution(
             })
             .collect()
     };
-    let residual = |u: &[f64], phi: &[(f64, bool)]| -> Result<(Vec<f64>, Vec<MidplaneTemperature>), PhysicsError> {
+    let residual = |u: &[f64],
+                    phi: &[(f64, bool)]|
+     -> Result<(Vec<f64>, Vec<MidplaneTemperature>), PhysicsError> {
         let mut r = Vec::with_capacity(n);
         let mut m = Vec::with_capacity(n);
         for j in 0..n {
@@ -299,7 +340,8 @@ pub fn flaring_solution(
             }
             let p = phi[j].0;
             let dp = 1e-6 * p;
-            let t_plus = midplane_temperature(c, p + dp, radii_cm[j], sigma_g_cm2[j])?.temperature_k;
+            let t_plus =
+                midplane_temperature(c, p + dp, radii_cm[j], sigma_g_cm2[j])?.temperature_k;
             let g = (ln(t_plus) - ln(current[j].temperature_k)) / dp;
             let (a, b) = stencil(j);
             let inv = 1.0 / (ln_r[b] - ln_r[a]);
@@ -316,7 +358,12 @@ pub fn flaring_solution(
                 }
             }
         }
-        let step = solve_tridiagonal(&sub, &diag, &sup, &res.iter().map(|v| -v).collect::<Vec<_>>());
+        let step = solve_tridiagonal(
+            &sub,
+            &diag,
+            &sup,
+            &res.iter().map(|v| -v).collect::<Vec<_>>(),
+        );
         let old_norm = norm(&res);
         let mut lambda = 1.0;
         loop {
@@ -341,7 +388,10 @@ pub fn flaring_solution(
             return Ok((phi.iter().map(|p| p.0).collect(), current));
         }
     }
-    Err(PhysicsError::FlaringNotConverged { iterations: MAX_ITERATIONS, max_relative_change: last_change })
+    Err(PhysicsError::FlaringNotConverged {
+        iterations: MAX_ITERATIONS,
+        max_relative_change: last_change,
+    })
 }
 
 /// Solve a tridiagonal system (row j: sub[j] x[j-1] + diag[j] x[j] + sup[j] x[j+1] = rhs[j])
@@ -352,7 +402,9 @@ fn solve_tridiagonal(sub: &[f64], diag: &[f64], sup: &[f64], rhs: &[f64]) -> Vec
     let mut d: Vec<f64> = diag.to_vec();
     let mut du: Vec<f64> = sup.to_vec();
     let mut du2 = vec![0.0; n];
-    let mut dl: Vec<f64> = (0..n).map(|j| if j + 1 < n { sub[j + 1] } else { 0.0 }).collect();
+    let mut dl: Vec<f64> = (0..n)
+        .map(|j| if j + 1 < n { sub[j + 1] } else { 0.0 })
+        .collect();
     let mut b: Vec<f64> = rhs.to_vec();
     for j in 0..n - 1 {
         if dl[j].abs() > d[j].abs() {
@@ -436,11 +488,16 @@ impl Column {
         self.height_cm.extend_from_slice(&other.height_cm);
         self.temperature_k.extend_from_slice(&other.temperature_k);
         self.density_g_cm3.extend_from_slice(&other.density_g_cm3);
-        self.hydrogen_density_cm3.extend_from_slice(&other.hydrogen_density_cm3);
-        self.column_above_g_cm2.extend_from_slice(&other.column_above_g_cm2);
-        self.visual_extinction_mag.extend_from_slice(&other.visual_extinction_mag);
-        self.fuv_photon_flux_cm2_s.extend_from_slice(&other.fuv_photon_flux_cm2_s);
-        self.ionization_rate_s.extend_from_slice(&other.ionization_rate_s);
+        self.hydrogen_density_cm3
+            .extend_from_slice(&other.hydrogen_density_cm3);
+        self.column_above_g_cm2
+            .extend_from_slice(&other.column_above_g_cm2);
+        self.visual_extinction_mag
+            .extend_from_slice(&other.visual_extinction_mag);
+        self.fuv_photon_flux_cm2_s
+            .extend_from_slice(&other.fuv_photon_flux_cm2_s);
+        self.ionization_rate_s
+            .extend_from_slice(&other.ionization_rate_s);
     }
 }
 
@@ -448,7 +505,13 @@ impl Column {
 /// or the two-layer profile of Dartois et al. 2003 (as used by Williams & Best 2014):
 /// T = T_atm + (T_mid - T_atm) cos^(2 delta)(pi z / (2 z_q)) for z < z_q, else T_atm,
 /// T_atm = s (L*/(16 pi sigma r^2))^(1/4) (Chiang & Goldreich 1997 surface layer), never below T_mid.
-pub fn column_temperature_k(c: &DiskConstants, radius_cm: f64, t_mid: f64, h_mid: f64, z_cm: f64) -> f64 {
+pub fn column_temperature_k(
+    c: &DiskConstants,
+    radius_cm: f64,
+    t_mid: f64,
+    h_mid: f64,
+    z_cm: f64,
+) -> f64 {
     VerticalProfile::new(c, radius_cm, t_mid, h_mid).temperature_k(z_cm)
 }
 
@@ -468,17 +531,34 @@ struct VerticalProfile {
 impl VerticalProfile {
     fn new(c: &DiskConstants, radius_cm: f64, t_mid: f64, h_mid: f64) -> VerticalProfile {
         match c.vertical {
-            VerticalTemperature::Isothermal => {
-                VerticalProfile { t_mid, t_atm: f64::NAN, z_q: 0.0, exponent: 0.0, integer_exponent: None }
-            }
-            VerticalTemperature::TwoLayer { superheating, transition_scale_heights, delta } => {
+            VerticalTemperature::Isothermal => VerticalProfile {
+                t_mid,
+                t_atm: f64::NAN,
+                z_q: 0.0,
+                exponent: 0.0,
+                integer_exponent: None,
+            },
+            VerticalTemperature::TwoLayer {
+                superheating,
+                transition_scale_heights,
+                delta,
+            } => {
                 let t_atm = (superheating
-                    * root4(c.luminosity_erg_s / (16.0 * PI * STEFAN_BOLTZMANN_CGS * radius_cm * radius_cm)))
+                    * root4(
+                        c.luminosity_erg_s
+                            / (16.0 * PI * STEFAN_BOLTZMANN_CGS * radius_cm * radius_cm),
+                    ))
                 .max(t_mid);
                 let exponent = 2.0 * delta;
                 let integer_exponent =
                     (exponent.fract() == 0.0 && exponent.abs() <= 64.0).then_some(exponent as i32);
-                VerticalProfile { t_mid, t_atm, z_q: transition_scale_heights * h_mid, exponent, integer_exponent }
+                VerticalProfile {
+                    t_mid,
+                    t_atm,
+                    z_q: transition_scale_heights * h_mid,
+                    exponent,
+                    integer_exponent,
+                }
             }
         }
     }
@@ -510,7 +590,13 @@ impl VerticalProfile {
 /// F = 1e8 [G*(r) exp(-2 A_V/phi) + G_ISM exp(-2 A_V)] + 1e4 zeta/1.3e-17
 /// (gamma_UV = 2, common practice; CR photons: Prasad & Tarafdar 1983, Shen et al. 2004);
 /// zeta = zeta0/2 [exp(-Sigma_above/96) + exp(-Sigma_below/96)] (Umebayashi & Nakano 1981).
-pub fn column(c: &DiskConstants, radius_cm: f64, sigma_g_cm2: f64, t_mid: f64, flaring_angle: f64) -> Column {
+pub fn column(
+    c: &DiskConstants,
+    radius_cm: f64,
+    sigma_g_cm2: f64,
+    t_mid: f64,
+    flaring_angle: f64,
+) -> Column {
     let n_z = c.vertical_cells;
     let h_mid = scale_height_cm(c.star_mass_g, t_mid, radius_cm);
     let z_max = c.max_height_scale_heights * h_mid;
@@ -563,9 +649,11 @@ pub fn column(c: &DiskConstants, radius_cm: f64, sigma_g_cm2: f64, t_mid: f64, f
         let av = sigma_above * per_h / HYDROGEN_COLUMN_PER_AV_CM2;
         let zeta = c.cosmic_ray_rate_s
             * 0.5
-            * (exp(-sigma_above / COSMIC_RAY_ATTENUATION_G_PER_CM2) + exp(-sigma_below / COSMIC_RAY_ATTENUATION_G_PER_CM2));
+            * (exp(-sigma_above / COSMIC_RAY_ATTENUATION_G_PER_CM2)
+                + exp(-sigma_below / COSMIC_RAY_ATTENUATION_G_PER_CM2));
         let fuv = HABING_PHOTONS_PER_CM2_S
-            * (g_star * exp(-2.0 * av / flaring_angle) + c.interstellar_fuv_habing * exp(-2.0 * av))
+            * (g_star * exp(-2.0 * av / flaring_angle)
+                + c.interstellar_fuv_habing * exp(-2.0 * av))
             + 1.0e4 * zeta / REFERENCE_COSMIC_RAY_RATE_S;
         col.height_cm.push(i as f64 * dz);
         col.temperature_k.push(temperature[i]);
@@ -612,8 +700,12 @@ impl DiskStructure {
     /// Compute the structure on the grid of `p`.
     pub fn compute(p: &ModelParameters) -> Result<DiskStructure, PhysicsError> {
         let c = DiskConstants::new(p)?;
-        let radii = radial_cell_centres_cm(c.inner_radius_cm, c.outer_radius_cm, p.grid.radial_cells);
-        let sigma: Vec<f64> = radii.iter().map(|&r| surface_density_g_cm2(&c, r)).collect();
+        let radii =
+            radial_cell_centres_cm(c.inner_radius_cm, c.outer_radius_cm, p.grid.radial_cells);
+        let sigma: Vec<f64> = radii
+            .iter()
+            .map(|&r| surface_density_g_cm2(&c, r))
+            .collect();
         let (phi, mid) = flaring_solution(&c, p.disk.self_consistent_flaring, &radii, &sigma)?;
         let samples_per_column = p.grid.vertical_cells + 1;
         let total = radii.len() * samples_per_column;
@@ -621,7 +713,11 @@ impl DiskStructure {
         let mut h = Vec::with_capacity(radii.len());
         for j in 0..radii.len() {
             let col = column(&c, radii[j], sigma[j], mid[j].temperature_k, phi[j]);
-            h.push(scale_height_cm(c.star_mass_g, mid[j].temperature_k, radii[j]));
+            h.push(scale_height_cm(
+                c.star_mass_g,
+                mid[j].temperature_k,
+                radii[j],
+            ));
             samples.append(&col);
         }
         Ok(DiskStructure {
@@ -679,8 +775,12 @@ mod tests {
         let rhs: Vec<f64> = (0..4)
             .map(|j| {
                 let mut v = diag[j] * x_true[j];
-                if j > 0 { v += sub[j] * x_true[j - 1]; }
-                if j < 3 { v += sup[j] * x_true[j + 1]; }
+                if j > 0 {
+                    v += sub[j] * x_true[j - 1];
+                }
+                if j < 3 {
+                    v += sup[j] * x_true[j + 1];
+                }
                 v
             })
             .collect();
@@ -703,7 +803,10 @@ mod tests {
         let c = DiskConstants::new(&p).unwrap();
         // Integrate 2 pi r Sigma dr in ln r from 1e-6 R_c to 1e3 R_c.
         let n = 200_000;
-        let (a, b) = (ln(1e-6 * c.characteristic_radius_cm), ln(1e3 * c.characteristic_radius_cm));
+        let (a, b) = (
+            ln(1e-6 * c.characteristic_radius_cm),
+            ln(1e3 * c.characteristic_radius_cm),
+        );
         let h = (b - a) / n as f64;
         let mass: f64 = (0..n)
             .map(|i| {
@@ -711,6 +814,9 @@ mod tests {
                 2.0 * PI * r * r * surface_density_g_cm2(&c, r) * h
             })
             .sum();
-        assert!((mass / (p.disk.gas_mass_msun * SOLAR_MASS_G) - 1.0).abs() < 1e-3, "{mass}");
+        assert!(
+            (mass / (p.disk.gas_mass_msun * SOLAR_MASS_G) - 1.0).abs() < 1e-3,
+            "{mass}"
+        );
     }
 }

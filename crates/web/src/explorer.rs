@@ -19,8 +19,16 @@ use crate::session::{grid_too_large, species_info, Export, Session};
 use crate::transfer::{from_parts, to_parts, ViewParts};
 
 /// The names of the exports, as `exportText` takes them.
-const EXPORTS: [&str; 8] =
-    ["profile_csv", "profile_ecsv", "profile_json", "structure_csv", "snowlines_json", "disk", "methods_text", "bibtex"];
+const EXPORTS: [&str; 8] = [
+    "profile_csv",
+    "profile_ecsv",
+    "profile_json",
+    "structure_csv",
+    "snowlines_json",
+    "disk",
+    "methods_text",
+    "bibtex",
+];
 
 /// A result computed in the page's worker: everything the page shows or
 /// exports, without the model itself.
@@ -38,11 +46,18 @@ pub(crate) const CSS_PX_PER_POINT: f64 = 96.0 / 72.0 * 1.2;
 
 fn to_js(value: &Value) -> JsValue {
     // Invariant: serde_json values always serialise (objects become plain JS objects).
-    value.serialize(&serde_wasm_bindgen::Serializer::json_compatible()).expect("JSON value converts to JS")
+    value
+        .serialize(&serde_wasm_bindgen::Serializer::json_compatible())
+        .expect("JSON value converts to JS")
 }
 
 fn problems_js(problems: &[Problem]) -> Value {
-    Value::Array(problems.iter().map(|p| json!({"path": p.path, "message": p.message})).collect())
+    Value::Array(
+        problems
+            .iter()
+            .map(|p| json!({"path": p.path, "message": p.message}))
+            .collect(),
+    )
 }
 
 /// The page's session: the last valid disk and its model, the views' data and
@@ -72,7 +87,13 @@ impl Explorer {
     /// An explorer without a result.
     #[wasm_bindgen(constructor)]
     pub fn new() -> Explorer {
-        Explorer { session: Session::new(), data: HashMap::new(), layouts: HashMap::new(), remote: None, planet: Default::default() }
+        Explorer {
+            session: Session::new(),
+            data: HashMap::new(),
+            layouts: HashMap::new(),
+            remote: None,
+            planet: Default::default(),
+        }
     }
 
     /// The default disk with every field resolved (what `{}` means), as a JS object.
@@ -94,7 +115,10 @@ impl Explorer {
         let value: Value = match serde_wasm_bindgen::from_value(disk) {
             Ok(v) => v,
             Err(e) => {
-                let p = Problem { path: "(file)".into(), message: format!("cannot read the disk object: {e}") };
+                let p = Problem {
+                    path: "(file)".into(),
+                    message: format!("cannot read the disk object: {e}"),
+                };
                 return self.outcome(Err(vec![p]));
             }
         };
@@ -124,7 +148,9 @@ impl Explorer {
                 self.remote = None;
                 to_js(&json!({"ok": true, "problems": [], "summary": self.session.summary()}))
             }
-            Err(problems) => to_js(&json!({"ok": false, "problems": problems_js(&problems), "summary": self.session.summary()})),
+            Err(problems) => to_js(
+                &json!({"ok": false, "problems": problems_js(&problems), "summary": self.session.summary()}),
+            ),
         }
     }
 
@@ -134,7 +160,9 @@ impl Explorer {
         if let Some(r) = &self.remote {
             return to_js(&r.resolved_disk);
         }
-        self.session.resolved_disk().map_or(JsValue::NULL, |v| to_js(&v))
+        self.session
+            .resolved_disk()
+            .map_or(JsValue::NULL, |v| to_js(&v))
     }
 
     /// The snowline table (see `Session::snowline_table`); `null` before any result.
@@ -143,7 +171,9 @@ impl Explorer {
         if let Some(r) = &self.remote {
             return to_js(&r.snowline_table);
         }
-        self.session.snowline_table().map_or(JsValue::NULL, |v| to_js(&v))
+        self.session
+            .snowline_table()
+            .map_or(JsValue::NULL, |v| to_js(&v))
     }
 
     /// One export as text: `profile_csv`, `profile_ecsv`, `profile_json`,
@@ -151,7 +181,8 @@ impl Explorer {
     /// `undefined` before any result.
     #[wasm_bindgen(js_name = exportText)]
     pub fn export_text(&self, what: &str) -> Result<Option<String>, JsError> {
-        let kind = Export::from_name(what).ok_or_else(|| JsError::new(&format!("unknown export {what:?}")))?;
+        let kind = Export::from_name(what)
+            .ok_or_else(|| JsError::new(&format!("unknown export {what:?}")))?;
         if let Some(r) = &self.remote {
             return Ok(r.exports.get(what).cloned());
         }
@@ -167,11 +198,15 @@ impl Explorer {
             Some("dark") => Theme::dark(),
             _ => Theme::light(),
         };
-        let ratio = get("pixelRatio").and_then(|v| v.as_f64()).filter(|r| r.is_finite() && *r > 0.0).unwrap_or(1.0);
+        let ratio = get("pixelRatio")
+            .and_then(|v| v.as_f64())
+            .filter(|r| r.is_finite() && *r > 0.0)
+            .unwrap_or(1.0);
         let key = view_key(view, get("species").and_then(|v| v.as_string()).as_deref())?;
         let data = self.view_data(&key)?;
         let canvas = canvas::canvas_by_id(canvas_id).map_err(|e| JsError::new(&e))?;
-        let layout = canvas::draw(&canvas, data, &theme, CSS_PX_PER_POINT * ratio).map_err(|e| JsError::new(&e))?;
+        let layout = canvas::draw(&canvas, data, &theme, CSS_PX_PER_POINT * ratio)
+            .map_err(|e| JsError::new(&e))?;
         self.layouts.insert(canvas_id.to_string(), (key, layout));
         Ok(())
     }
@@ -188,7 +223,8 @@ impl Explorer {
     #[wasm_bindgen(js_name = hasView)]
     pub fn has_view(&self, view: &str, species: Option<String>) -> Result<bool, JsError> {
         let key = view_key(view, species.as_deref())?;
-        Ok(self.data.contains_key(&key) || (self.remote.is_none() && self.session.current().is_some()))
+        Ok(self.data.contains_key(&key)
+            || (self.remote.is_none() && self.session.current().is_some()))
     }
 
     /// Worker side: validates and runs like `update`, then packs everything the
@@ -198,7 +234,10 @@ impl Explorer {
     #[wasm_bindgen(js_name = computePacket)]
     pub fn compute_packet(&mut self, disk: JsValue, species: &str) -> Result<JsValue, JsError> {
         let outcome = self.update(disk);
-        let ok = js_sys::Reflect::get(&outcome, &JsValue::from_str("ok")).ok().and_then(|v| v.as_bool()).unwrap_or(false);
+        let ok = js_sys::Reflect::get(&outcome, &JsValue::from_str("ok"))
+            .ok()
+            .and_then(|v| v.as_bool())
+            .unwrap_or(false);
         if !ok {
             return Ok(outcome);
         }
@@ -213,25 +252,54 @@ impl Explorer {
             return Err(JsError::new("no valid disk has been computed yet"));
         }
         let packet = js_sys::Object::new();
-        let set = |key: &str, value: &JsValue| js_sys::Reflect::set(&packet, &JsValue::from_str(key), value).map(|_| ());
+        let set = |key: &str, value: &JsValue| {
+            js_sys::Reflect::set(&packet, &JsValue::from_str(key), value).map(|_| ())
+        };
         let fail = |_| JsError::new("cannot build the result packet");
         set("ok", &JsValue::TRUE).map_err(fail)?;
         set("problems", &js_sys::Array::new()).map_err(fail)?;
-        set("summary", &to_js(&self.session.summary().unwrap_or(Value::Null))).map_err(fail)?;
-        set("snowlineTable", &to_js(&self.session.snowline_table().unwrap_or(Value::Null))).map_err(fail)?;
-        set("resolvedDisk", &to_js(&self.session.resolved_disk().unwrap_or(Value::Null))).map_err(fail)?;
+        set(
+            "summary",
+            &to_js(&self.session.summary().unwrap_or(Value::Null)),
+        )
+        .map_err(fail)?;
+        set(
+            "snowlineTable",
+            &to_js(&self.session.snowline_table().unwrap_or(Value::Null)),
+        )
+        .map_err(fail)?;
+        set(
+            "resolvedDisk",
+            &to_js(&self.session.resolved_disk().unwrap_or(Value::Null)),
+        )
+        .map_err(fail)?;
         let exports = js_sys::Object::new();
         for name in EXPORTS {
             // Invariant: every name in EXPORTS parses, and a result exists (checked above).
-            let text = self.session.export(Export::from_name(name).expect("known export")).unwrap_or_default();
-            js_sys::Reflect::set(&exports, &JsValue::from_str(name), &JsValue::from_str(&text)).map_err(fail)?;
+            let text = self
+                .session
+                .export(Export::from_name(name).expect("known export"))
+                .unwrap_or_default();
+            js_sys::Reflect::set(
+                &exports,
+                &JsValue::from_str(name),
+                &JsValue::from_str(&text),
+            )
+            .map_err(fail)?;
         }
         set("exports", &exports).map_err(fail)?;
         let views = js_sys::Object::new();
         let ice = view_key("ice_map", Some(species))?;
-        for key in ["c_to_o", "temperature", "abundances", "c_to_o_map", ice.as_str()] {
+        for key in [
+            "c_to_o",
+            "temperature",
+            "abundances",
+            "c_to_o_map",
+            ice.as_str(),
+        ] {
             let parts = to_parts(self.view_data(key)?);
-            js_sys::Reflect::set(&views, &JsValue::from_str(key), &parts_to_js(&parts)).map_err(fail)?;
+            js_sys::Reflect::set(&views, &JsValue::from_str(key), &parts_to_js(&parts))
+                .map_err(fail)?;
         }
         set("views", &views).map_err(fail)?;
         Ok(packet.into())
@@ -248,22 +316,40 @@ impl Explorer {
     /// Page side: makes a worker result (`computePacket`) the current one.
     #[wasm_bindgen(js_name = loadPacket)]
     pub fn load_packet(&mut self, packet: JsValue) -> Result<(), JsError> {
-        let get = |key: &str| js_sys::Reflect::get(&packet, &JsValue::from_str(key)).map_err(|_| JsError::new(&format!("packet lacks {key}")));
+        let get = |key: &str| {
+            js_sys::Reflect::get(&packet, &JsValue::from_str(key))
+                .map_err(|_| JsError::new(&format!("packet lacks {key}")))
+        };
         let value = |key: &str| -> Result<Value, JsError> {
-            serde_wasm_bindgen::from_value(get(key)?).map_err(|e| JsError::new(&format!("packet {key}: {e}")))
+            serde_wasm_bindgen::from_value(get(key)?)
+                .map_err(|e| JsError::new(&format!("packet {key}: {e}")))
         };
         let mut exports = HashMap::new();
         let texts = get("exports")?;
         for name in EXPORTS {
-            if let Some(text) = js_sys::Reflect::get(&texts, &JsValue::from_str(name)).ok().and_then(|v| v.as_string()) {
+            if let Some(text) = js_sys::Reflect::get(&texts, &JsValue::from_str(name))
+                .ok()
+                .and_then(|v| v.as_string())
+            {
                 exports.insert(name.to_string(), text);
             }
         }
-        let remote = Remote { summary: value("summary")?, snowline_table: value("snowlineTable")?, resolved_disk: value("resolvedDisk")?, exports };
+        let remote = Remote {
+            summary: value("summary")?,
+            snowline_table: value("snowlineTable")?,
+            resolved_disk: value("resolvedDisk")?,
+            exports,
+        };
         let views = get("views")?;
         let mut data = HashMap::new();
-        for key in js_sys::Object::keys(&views.clone().into()).iter().filter_map(|k| k.as_string()) {
-            let parts = parts_from_js(&js_sys::Reflect::get(&views, &JsValue::from_str(&key)).map_err(|_| JsError::new("packet view"))?)?;
+        for key in js_sys::Object::keys(&views.clone().into())
+            .iter()
+            .filter_map(|k| k.as_string())
+        {
+            let parts = parts_from_js(
+                &js_sys::Reflect::get(&views, &JsValue::from_str(&key))
+                    .map_err(|_| JsError::new("packet view"))?,
+            )?;
             data.insert(key, from_parts(&parts).map_err(|e| JsError::new(&e))?);
         }
         self.data = data;
@@ -274,7 +360,12 @@ impl Explorer {
 
     /// Page side: adds one view's parts from the worker (`mapPacket`), e.g. another species' ice map.
     #[wasm_bindgen(js_name = loadView)]
-    pub fn load_view(&mut self, view: &str, species: Option<String>, parts: JsValue) -> Result<(), JsError> {
+    pub fn load_view(
+        &mut self,
+        view: &str,
+        species: Option<String>,
+        parts: JsValue,
+    ) -> Result<(), JsError> {
         let key = view_key(view, species.as_deref())?;
         let data = from_parts(&parts_from_js(&parts)?).map_err(|e| JsError::new(&e))?;
         self.data.insert(key, data);
@@ -292,19 +383,30 @@ impl Explorer {
     pub(crate) fn view_data(&mut self, key: &str) -> Result<&ViewData, JsError> {
         if !self.data.contains_key(key) {
             if self.remote.is_some() {
-                return Err(JsError::new(&format!("the view {key} has not been received from the worker")));
+                return Err(JsError::new(&format!(
+                    "the view {key} has not been received from the worker"
+                )));
             }
-            let current = self.session.current().ok_or_else(|| JsError::new("no valid disk has been computed yet"))?;
+            let current = self
+                .session
+                .current()
+                .ok_or_else(|| JsError::new("no valid disk has been computed yet"))?;
             let model = &current.model;
             let data = match key {
                 // With the planet panel's marks (planet radius, allowed formation radii).
-                "c_to_o" => ViewData::Profile(crate::planet::with_marks(ProfileData::from_model(model), &self.planet)),
+                "c_to_o" => ViewData::Profile(crate::planet::with_marks(
+                    ProfileData::from_model(model),
+                    &self.planet,
+                )),
                 "temperature" => ViewData::Temperature(TemperatureData::from_model(model)),
                 "abundances" => ViewData::Abundances(AbundanceData::from_model(model)),
                 "c_to_o_map" => ViewData::CToOMap(MapData::gas_c_to_o(model)),
                 _ => {
                     // Invariant: `draw` builds ice-map keys from a parsed species.
-                    let species = key.strip_prefix("ice_map:").and_then(Species::from_key).expect("ice-map key names a species");
+                    let species = key
+                        .strip_prefix("ice_map:")
+                        .and_then(Species::from_key)
+                        .expect("ice-map key names a species");
                     ViewData::IceMap(MapData::ice_fraction(model, species))
                 }
             };
@@ -320,7 +422,8 @@ fn view_key(view: &str, species: Option<&str>) -> Result<String, JsError> {
     match view {
         "ice_map" => {
             let name = species.unwrap_or("H2O");
-            let species = Species::from_key(name).ok_or_else(|| JsError::new(&format!("unknown species {name:?}")))?;
+            let species = Species::from_key(name)
+                .ok_or_else(|| JsError::new(&format!("unknown species {name:?}")))?;
             Ok(format!("ice_map:{}", species.key()))
         }
         "c_to_o" | "temperature" | "abundances" | "c_to_o_map" => Ok(view.to_string()),
@@ -333,7 +436,11 @@ fn parts_to_js(parts: &ViewParts) -> JsValue {
     let arrays = js_sys::Object::new();
     for (name, values) in &parts.arrays {
         // Reflect::set on a fresh plain object cannot fail.
-        let _ = js_sys::Reflect::set(&arrays, &JsValue::from_str(name), &js_sys::Float64Array::from(&values[..]));
+        let _ = js_sys::Reflect::set(
+            &arrays,
+            &JsValue::from_str(name),
+            &js_sys::Float64Array::from(&values[..]),
+        );
     }
     let out = js_sys::Object::new();
     let _ = js_sys::Reflect::set(&out, &JsValue::from_str("meta"), &to_js(&parts.meta));
@@ -342,13 +449,22 @@ fn parts_to_js(parts: &ViewParts) -> JsValue {
 }
 
 fn parts_from_js(value: &JsValue) -> Result<ViewParts, JsError> {
-    let meta = js_sys::Reflect::get(value, &JsValue::from_str("meta")).map_err(|_| JsError::new("view parts lack meta"))?;
-    let meta: Value = serde_wasm_bindgen::from_value(meta).map_err(|e| JsError::new(&format!("view meta: {e}")))?;
-    let arrays_js = js_sys::Reflect::get(value, &JsValue::from_str("arrays")).map_err(|_| JsError::new("view parts lack arrays"))?;
+    let meta = js_sys::Reflect::get(value, &JsValue::from_str("meta"))
+        .map_err(|_| JsError::new("view parts lack meta"))?;
+    let meta: Value = serde_wasm_bindgen::from_value(meta)
+        .map_err(|e| JsError::new(&format!("view meta: {e}")))?;
+    let arrays_js = js_sys::Reflect::get(value, &JsValue::from_str("arrays"))
+        .map_err(|_| JsError::new("view parts lack arrays"))?;
     let mut arrays = Vec::new();
-    for name in js_sys::Object::keys(&arrays_js.clone().into()).iter().filter_map(|k| k.as_string()) {
-        let array = js_sys::Reflect::get(&arrays_js, &JsValue::from_str(&name)).map_err(|_| JsError::new("view array"))?;
-        let array: js_sys::Float64Array = array.dyn_into().map_err(|_| JsError::new(&format!("view array {name} is not a Float64Array")))?;
+    for name in js_sys::Object::keys(&arrays_js.clone().into())
+        .iter()
+        .filter_map(|k| k.as_string())
+    {
+        let array = js_sys::Reflect::get(&arrays_js, &JsValue::from_str(&name))
+            .map_err(|_| JsError::new("view array"))?;
+        let array: js_sys::Float64Array = array
+            .dyn_into()
+            .map_err(|_| JsError::new(&format!("view array {name} is not a Float64Array")))?;
         arrays.push((name, array.to_vec()));
     }
     Ok(ViewParts { meta, arrays })

@@ -20,7 +20,9 @@ use nivalis_charts::{draw_figure, CellDrawing, ChartError, Figure, FigureSize, T
 use nivalis_exports::figures::{embed_png_provenance, embed_svg_provenance};
 use nivalis_exports::Provenance;
 use plotters::prelude::{IntoDrawingArea, SVGBackend};
-use plotters_backend::{BackendColor, BackendCoord, BackendStyle, BackendTextStyle, DrawingBackend, DrawingErrorKind};
+use plotters_backend::{
+    BackendColor, BackendCoord, BackendStyle, BackendTextStyle, DrawingBackend, DrawingErrorKind,
+};
 use serde_json::Value;
 use std::sync::OnceLock;
 
@@ -51,7 +53,12 @@ pub struct FigureOptions {
 
 impl Default for FigureOptions {
     fn default() -> Self {
-        FigureOptions { format: FigureFormat::Svg, double_column: false, dpi: 300.0, dark: false }
+        FigureOptions {
+            format: FigureFormat::Svg,
+            double_column: false,
+            dpi: 300.0,
+            dark: false,
+        }
     }
 }
 
@@ -89,7 +96,11 @@ impl FigureOptions {
             };
             out.dpi = match dpi {
                 Some(d) if d.is_finite() && (36.0..=1200.0).contains(&d) => d,
-                _ => return Err(format!("dpi: must be a number between 36 and 1200, got {v}")),
+                _ => {
+                    return Err(format!(
+                        "dpi: must be a number between 36 and 1200, got {v}"
+                    ))
+                }
             };
         }
         Ok(out)
@@ -133,14 +144,20 @@ pub fn figure_of(data: &ViewData) -> Figure {
 /// The figure file's bytes with provenance, exactly as the CLI writes it.
 /// `view` is the CLI's view text (`c_to_o`, `ice_map:CO`, `chi2_map`, ...),
 /// which the provenance records.
-pub fn figure_file(figure: &Figure, options: &FigureOptions, provenance: &Provenance, view: &str) -> Result<Vec<u8>, ChartError> {
+pub fn figure_file(
+    figure: &Figure,
+    options: &FigureOptions,
+    provenance: &Provenance,
+    view: &str,
+) -> Result<Vec<u8>, ChartError> {
     match options.format {
         FigureFormat::Svg => {
             let svg = render_svg(figure, &options.theme(), options.size())?;
             Ok(embed_svg_provenance(&svg, provenance, view).into_bytes())
         }
         FigureFormat::Png => {
-            let png = nivalis_charts::render_png(figure, &options.theme(), options.size(), options.dpi)?;
+            let png =
+                nivalis_charts::render_png(figure, &options.theme(), options.size(), options.dpi)?;
             Ok(embed_png_provenance(&png, provenance, view))
         }
     }
@@ -153,7 +170,11 @@ pub fn render_svg(figure: &Figure, theme: &Theme, size: FigureSize) -> Result<St
     // The size check of render_svg: 72..2880 pt (1 to 40 in).
     for (field, v) in [("width_pt", size.width_pt), ("height_pt", size.height_pt)] {
         if !(v.is_finite() && (72.0..=2880.0).contains(&v)) {
-            return Err(ChartError::InvalidValue { field, value: v, allowed: "between 72 and 2880 (1 to 40 in)" });
+            return Err(ChartError::InvalidValue {
+                field,
+                value: v,
+                allowed: "between 72 and 2880 (1 to 40 in)",
+            });
         }
     }
     let w = (size.width_pt * SVG_UNITS_PER_POINT).round() as u32;
@@ -161,11 +182,23 @@ pub fn render_svg(figure: &Figure, theme: &Theme, size: FigureSize) -> Result<St
     let mut out = String::new();
     {
         let area = MeasuredSvg(SVGBackend::with_string(&mut out, (w, h))).into_drawing_area();
-        draw_figure(&area, figure, theme, SVG_UNITS_PER_POINT, CellDrawing::Rectangles)?;
-        area.present().map_err(|e| ChartError::Drawing { message: e.to_string() })?;
+        draw_figure(
+            &area,
+            figure,
+            theme,
+            SVG_UNITS_PER_POINT,
+            CellDrawing::Rectangles,
+        )?;
+        area.present().map_err(|e| ChartError::Drawing {
+            message: e.to_string(),
+        })?;
     }
     let header = format!("<svg width=\"{w}\" height=\"{h}\"");
-    let physical = format!("<svg width=\"{}pt\" height=\"{}pt\"", fmt_pt(size.width_pt), fmt_pt(size.height_pt));
+    let physical = format!(
+        "<svg width=\"{}pt\" height=\"{}pt\"",
+        fmt_pt(size.width_pt),
+        fmt_pt(size.height_pt)
+    );
     Ok(out.replacen(&header, &physical, 1))
 }
 
@@ -219,10 +252,19 @@ impl DrawingBackend for MeasuredSvg<'_> {
     fn present(&mut self) -> Result<(), DrawingErrorKind<SvgError>> {
         self.0.present()
     }
-    fn draw_pixel(&mut self, point: BackendCoord, color: BackendColor) -> Result<(), DrawingErrorKind<SvgError>> {
+    fn draw_pixel(
+        &mut self,
+        point: BackendCoord,
+        color: BackendColor,
+    ) -> Result<(), DrawingErrorKind<SvgError>> {
         self.0.draw_pixel(point, color)
     }
-    fn draw_line<S: BackendStyle>(&mut self, from: BackendCoord, to: BackendCoord, style: &S) -> Result<(), DrawingErrorKind<SvgError>> {
+    fn draw_line<S: BackendStyle>(
+        &mut self,
+        from: BackendCoord,
+        to: BackendCoord,
+        style: &S,
+    ) -> Result<(), DrawingErrorKind<SvgError>> {
         self.0.draw_line(from, to, style)
     }
     fn draw_rect<S: BackendStyle>(
@@ -234,22 +276,50 @@ impl DrawingBackend for MeasuredSvg<'_> {
     ) -> Result<(), DrawingErrorKind<SvgError>> {
         self.0.draw_rect(upper_left, bottom_right, style, fill)
     }
-    fn draw_path<S: BackendStyle, I: IntoIterator<Item = BackendCoord>>(&mut self, path: I, style: &S) -> Result<(), DrawingErrorKind<SvgError>> {
+    fn draw_path<S: BackendStyle, I: IntoIterator<Item = BackendCoord>>(
+        &mut self,
+        path: I,
+        style: &S,
+    ) -> Result<(), DrawingErrorKind<SvgError>> {
         self.0.draw_path(path, style)
     }
-    fn draw_circle<S: BackendStyle>(&mut self, center: BackendCoord, radius: u32, style: &S, fill: bool) -> Result<(), DrawingErrorKind<SvgError>> {
+    fn draw_circle<S: BackendStyle>(
+        &mut self,
+        center: BackendCoord,
+        radius: u32,
+        style: &S,
+        fill: bool,
+    ) -> Result<(), DrawingErrorKind<SvgError>> {
         self.0.draw_circle(center, radius, style, fill)
     }
-    fn fill_polygon<S: BackendStyle, I: IntoIterator<Item = BackendCoord>>(&mut self, vert: I, style: &S) -> Result<(), DrawingErrorKind<SvgError>> {
+    fn fill_polygon<S: BackendStyle, I: IntoIterator<Item = BackendCoord>>(
+        &mut self,
+        vert: I,
+        style: &S,
+    ) -> Result<(), DrawingErrorKind<SvgError>> {
         self.0.fill_polygon(vert, style)
     }
-    fn draw_text<S: BackendTextStyle>(&mut self, text: &str, style: &S, pos: BackendCoord) -> Result<(), DrawingErrorKind<SvgError>> {
+    fn draw_text<S: BackendTextStyle>(
+        &mut self,
+        text: &str,
+        style: &S,
+        pos: BackendCoord,
+    ) -> Result<(), DrawingErrorKind<SvgError>> {
         self.0.draw_text(text, style, pos)
     }
-    fn estimate_text_size<S: BackendTextStyle>(&self, text: &str, style: &S) -> Result<(u32, u32), DrawingErrorKind<SvgError>> {
+    fn estimate_text_size<S: BackendTextStyle>(
+        &self,
+        text: &str,
+        style: &S,
+    ) -> Result<(u32, u32), DrawingErrorKind<SvgError>> {
         Ok(plotters_text_size(text, style.size()))
     }
-    fn blit_bitmap(&mut self, pos: BackendCoord, size: (u32, u32), src: &[u8]) -> Result<(), DrawingErrorKind<SvgError>> {
+    fn blit_bitmap(
+        &mut self,
+        pos: BackendCoord,
+        size: (u32, u32),
+        src: &[u8],
+    ) -> Result<(), DrawingErrorKind<SvgError>> {
         self.0.blit_bitmap(pos, size, src)
     }
 }
@@ -267,7 +337,13 @@ mod tests {
         // with the bundled font registered; ours measures with our copy of that
         // computation. Both must give the same document, byte for byte.
         let model = Model::run(&ModelParameters::defaults()).unwrap();
-        let views = [View::CToOProfile, View::TemperatureProfile, View::Abundances, View::IceMap(Species::CO), View::CToOMap];
+        let views = [
+            View::CToOProfile,
+            View::TemperatureProfile,
+            View::Abundances,
+            View::IceMap(Species::CO),
+            View::CToOMap,
+        ];
         for (view, theme, size) in [
             (0, Theme::light(), FigureSize::single_column()),
             (1, Theme::dark(), FigureSize::double_column()),
@@ -278,29 +354,72 @@ mod tests {
             let figure = Figure::from_model(views[view], &model);
             let ours = render_svg(&figure, &theme, size).unwrap();
             let cli = nivalis_charts::render_svg(&figure, &theme, size).unwrap();
-            assert!(ours == cli, "view {:?}: SVG differs from nivalis_charts::render_svg", views[view]);
+            assert!(
+                ours == cli,
+                "view {:?}: SVG differs from nivalis_charts::render_svg",
+                views[view]
+            );
         }
-        let map = chi_square_map(&model, &ObservedEnvelope { c_to_o: 0.8, c_to_o_sigma: 0.1, metallicity: None }, &MapSettings::defaults()).unwrap();
+        let map = chi_square_map(
+            &model,
+            &ObservedEnvelope {
+                c_to_o: 0.8,
+                c_to_o_sigma: 0.1,
+                metallicity: None,
+            },
+            &MapSettings::defaults(),
+        )
+        .unwrap();
         let figure = Figure::Chi2(Chi2Data::from_map(&map));
-        assert!(render_svg(&figure, &Theme::light(), FigureSize::single_column()).unwrap()
-            == nivalis_charts::render_svg(&figure, &Theme::light(), FigureSize::single_column()).unwrap());
+        assert!(
+            render_svg(&figure, &Theme::light(), FigureSize::single_column()).unwrap()
+                == nivalis_charts::render_svg(
+                    &figure,
+                    &Theme::light(),
+                    FigureSize::single_column()
+                )
+                .unwrap()
+        );
     }
 
     #[test]
     fn figure_of_the_page_profile_drops_the_planet_marks() {
         let model = Model::run(&ModelParameters::defaults()).unwrap();
-        let marked = nivalis_charts::ProfileData::from_model(&model).with_planet_radius_au(5.0).with_allowed_formation_radii_au(vec![(1.0, 2.0)]);
-        assert_eq!(figure_of(&ViewData::Profile(marked)), Figure::from_model(View::CToOProfile, &model));
+        let marked = nivalis_charts::ProfileData::from_model(&model)
+            .with_planet_radius_au(5.0)
+            .with_allowed_formation_radii_au(vec![(1.0, 2.0)]);
+        assert_eq!(
+            figure_of(&ViewData::Profile(marked)),
+            Figure::from_model(View::CToOProfile, &model)
+        );
     }
 
     #[test]
     fn options_follow_the_cli_defaults_and_name_bad_fields() {
         let o = FigureOptions::from_value(&serde_json::json!({})).unwrap();
         assert_eq!(o, FigureOptions::default());
-        let o = FigureOptions::from_value(&serde_json::json!({"format": "png", "width": "double", "dpi": "150", "theme": "dark"})).unwrap();
-        assert_eq!(o, FigureOptions { format: FigureFormat::Png, double_column: true, dpi: 150.0, dark: true });
-        assert_eq!(FigureOptions::from_value(&serde_json::json!({"dpi": 20})).unwrap_err(), "dpi: must be a number between 36 and 1200, got 20");
-        assert!(FigureOptions::from_value(&serde_json::json!({"width": "triple"})).unwrap_err().starts_with("width:"));
+        let o = FigureOptions::from_value(
+            &serde_json::json!({"format": "png", "width": "double", "dpi": "150", "theme": "dark"}),
+        )
+        .unwrap();
+        assert_eq!(
+            o,
+            FigureOptions {
+                format: FigureFormat::Png,
+                double_column: true,
+                dpi: 150.0,
+                dark: true
+            }
+        );
+        assert_eq!(
+            FigureOptions::from_value(&serde_json::json!({"dpi": 20})).unwrap_err(),
+            "dpi: must be a number between 36 and 1200, got 20"
+        );
+        assert!(
+            FigureOptions::from_value(&serde_json::json!({"width": "triple"}))
+                .unwrap_err()
+                .starts_with("width:")
+        );
     }
 
     #[test]
@@ -308,7 +427,11 @@ mod tests {
         // 252 pt at 150 dpi = 3.5 in x 150 = 525 px wide, 189 pt = 393.75 -> 394 px high (FigureSize::pixels_at_dpi).
         let model = Model::run(&ModelParameters::defaults()).unwrap();
         let figure = Figure::from_model(View::TemperatureProfile, &model);
-        let options = FigureOptions { format: FigureFormat::Png, dpi: 150.0, ..FigureOptions::default() };
+        let options = FigureOptions {
+            format: FigureFormat::Png,
+            dpi: 150.0,
+            ..FigureOptions::default()
+        };
         let file = nivalis_disk_files::DiskFile::defaults();
         let bytes = figure_file(&figure, &options, &Provenance::of(&file), "temperature").unwrap();
         assert_eq!(&bytes[1..4], b"PNG");

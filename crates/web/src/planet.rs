@@ -17,14 +17,17 @@ use nivalis_disk_files::{DiskFile, Problem};
 use nivalis_exports::bibtex::{bibtex, bibtex_entry, methods_paragraph};
 use nivalis_exports::formats::json_text;
 use nivalis_exports::methods::{cited_keys, methods};
-use nivalis_exports::planet::{anchor_summary, fit_ecsv, fit_json, fit_summary, fit_table, planet_json, planet_table};
+use nivalis_exports::planet::{
+    anchor_summary, fit_ecsv, fit_json, fit_summary, fit_table, planet_json, planet_table,
+};
 use nivalis_exports::provenance::program_version;
 use nivalis_exports::{to_csv, Provenance};
 use nivalis_physics::anchor::{anchor_to_snowline, AnchorParameter, AnchorRequest};
 use nivalis_physics::params::Element;
 use nivalis_physics::planet::{
-    chi_square_map, planet, ChiSquareMap, ConfidenceConvention, FormationPlace, MapSettings, MetallicityTracer, ObservedEnvelope,
-    ObservedMetallicity, Planet, PlanetRequest, RadialWeighting, RadiusInterval, SigmaLevel, DEFAULT_MAP_RATIO_COUNT,
+    chi_square_map, planet, ChiSquareMap, ConfidenceConvention, FormationPlace, MapSettings,
+    MetallicityTracer, ObservedEnvelope, ObservedMetallicity, Planet, PlanetRequest,
+    RadialWeighting, RadiusInterval, SigmaLevel, DEFAULT_MAP_RATIO_COUNT,
 };
 use nivalis_physics::references::reference;
 use nivalis_physics::units::AU_CM;
@@ -108,16 +111,30 @@ impl PlanetExport {
 /// (what a person typed). Blank or absent is `None`; anything else, or a
 /// non-finite value, is a problem naming the field and what was typed.
 pub fn typed_number(input: &Value, key: &str, path: &str) -> Result<Option<f64>, Problem> {
-    let problem = |got: String| Problem { path: path.to_string(), message: format!("must be a finite number, got {got}") };
+    let problem = |got: String| Problem {
+        path: path.to_string(),
+        message: format!("must be a finite number, got {got}"),
+    };
     match input.get(key) {
         None | Some(Value::Null) => Ok(None),
-        Some(Value::Number(n)) => n.as_f64().filter(|x| x.is_finite()).map(Some).ok_or_else(|| problem(n.to_string())),
+        Some(Value::Number(n)) => n
+            .as_f64()
+            .filter(|x| x.is_finite())
+            .map(Some)
+            .ok_or_else(|| problem(n.to_string())),
         Some(Value::String(s)) if s.trim().is_empty() => Ok(None),
         Some(Value::String(s)) => {
             let t = s.trim();
             // Rust's float parser also reads "inf" and "NaN"; neither is a value here.
             match t.parse::<f64>() {
-                Ok(x) if x.is_finite() && !t.chars().any(|c| c.is_ascii_alphabetic() && c != 'e' && c != 'E') => Ok(Some(x)),
+                Ok(x)
+                    if x.is_finite()
+                        && !t
+                            .chars()
+                            .any(|c| c.is_ascii_alphabetic() && c != 'e' && c != 'E') =>
+                {
+                    Ok(Some(x))
+                }
                 _ => Err(problem(format!("{s:?}"))),
             }
         }
@@ -129,7 +146,10 @@ fn required(input: &Value, key: &str, path: &str, problems: &mut Vec<Problem>) -
     match typed_number(input, key, path) {
         Ok(Some(x)) => Some(x),
         Ok(None) => {
-            problems.push(Problem { path: path.to_string(), message: "is required".to_string() });
+            problems.push(Problem {
+                path: path.to_string(),
+                message: "is required".to_string(),
+            });
             None
         }
         Err(p) => {
@@ -152,8 +172,14 @@ fn optional(input: &Value, key: &str, path: &str, problems: &mut Vec<Problem>) -
 fn core_problem(error: &PhysicsError, prefix: &str, fields: &[(&str, &str)]) -> Problem {
     let p = physics_problem(error);
     match fields.iter().find(|(core, _)| *core == p.path) {
-        Some((_, field)) => Problem { path: format!("{prefix}.{field}"), message: p.message },
-        None => Problem { path: prefix.to_string(), message: error.to_string() },
+        Some((_, field)) => Problem {
+            path: format!("{prefix}.{field}"),
+            message: p.message,
+        },
+        None => Problem {
+            path: prefix.to_string(),
+            message: error.to_string(),
+        },
     }
 }
 
@@ -170,24 +196,42 @@ pub fn planet_request(input: &Value) -> Result<PlanetRequest, Vec<Problem>> {
         None | Some("uniform") => RadialWeighting::Uniform,
         Some("log_radius") => RadialWeighting::LogRadius,
         Some(other) => {
-            problems.push(Problem { path: "planet.weighting".into(), message: format!("must be uniform or log_radius, got {other:?}") });
+            problems.push(Problem {
+                path: "planet.weighting".into(),
+                message: format!("must be uniform or log_radius, got {other:?}"),
+            });
             RadialWeighting::Uniform
         }
     };
-    let (Some(radius_au), Some(solid_to_gas)) = (radius_au, solid_to_gas) else { return Err(problems) };
+    let (Some(radius_au), Some(solid_to_gas)) = (radius_au, solid_to_gas) else {
+        return Err(problems);
+    };
     if !problems.is_empty() {
         return Err(problems);
     }
     let place = match to_radius_au {
         None => FormationPlace::Radius { radius_au },
-        Some(outer) => FormationPlace::Migration { inner_radius_au: radius_au, outer_radius_au: outer, weighting },
+        Some(outer) => FormationPlace::Migration {
+            inner_radius_au: radius_au,
+            outer_radius_au: outer,
+            weighting,
+        },
     };
     // gas_mass_g = 1 as in the CLI: only the mass ratio enters every ratio.
-    Ok(PlanetRequest { place, gas_mass_g: 1.0, solid_to_gas, solid_mixing_fraction: mix })
+    Ok(PlanetRequest {
+        place,
+        gas_mass_g: 1.0,
+        solid_to_gas,
+        solid_mixing_fraction: mix,
+    })
 }
 
 /// Runs the forward model as `nivalis planet` does; problems name the panel's fields.
-pub fn place_planet(model: &Model, file: &DiskFile, input: &Value) -> Result<PlacedPlanet, Vec<Problem>> {
+pub fn place_planet(
+    model: &Model,
+    file: &DiskFile,
+    input: &Value,
+) -> Result<PlacedPlanet, Vec<Problem>> {
     let request = planet_request(input)?;
     let fields = [
         ("radius_au", "radius_au"),
@@ -197,7 +241,11 @@ pub fn place_planet(model: &Model, file: &DiskFile, input: &Value) -> Result<Pla
         ("solid_mixing_fraction", "mix"),
     ];
     let result = planet(model, &request).map_err(|e| vec![core_problem(&e, "planet", &fields)])?;
-    Ok(PlacedPlanet { place: request.place, planet: result, file: file.clone() })
+    Ok(PlacedPlanet {
+        place: request.place,
+        planet: result,
+        file: file.clone(),
+    })
 }
 
 /// What the panel shows of a placed planet: the envelope (C/O, [C/H], [O/H],
@@ -214,7 +262,10 @@ pub fn planet_view(p: &PlacedPlanet) -> Value {
             (el.symbol().to_string(), json!({"relative_to_star": finite(v.relative_to_star), "dex": v.dex, "solid_share": v.solid_share}))
         })
         .collect();
-    let (r1, r2) = (p.planet.phases.inner_radius_au, p.planet.phases.outer_radius_au);
+    let (r1, r2) = (
+        p.planet.phases.inner_radius_au,
+        p.planet.phases.outer_radius_au,
+    );
     json!({
         "radius_au": r1,
         "to_radius_au": if r2 != r1 { Some(r2) } else { None },
@@ -254,17 +305,34 @@ pub fn fit_request(input: &Value) -> Result<(ObservedEnvelope, MapSettings), Vec
         Some("C") => Some(MetallicityTracer::Carbon),
         Some("O") => Some(MetallicityTracer::Oxygen),
         Some(other) => {
-            problems.push(Problem { path: "fit.tracer".into(), message: format!("must be none, C or O, got {other:?}") });
+            problems.push(Problem {
+                path: "fit.tracer".into(),
+                message: format!("must be none, C or O, got {other:?}"),
+            });
             None
         }
     };
     let metallicity = match tracer {
         None => None,
         Some(tracer) => {
-            let dex = required(input, "metallicity_dex", "fit.metallicity_dex", &mut problems);
-            let sigma = required(input, "metallicity_sigma_dex", "fit.metallicity_sigma_dex", &mut problems);
+            let dex = required(
+                input,
+                "metallicity_dex",
+                "fit.metallicity_dex",
+                &mut problems,
+            );
+            let sigma = required(
+                input,
+                "metallicity_sigma_dex",
+                "fit.metallicity_sigma_dex",
+                &mut problems,
+            );
             match (dex, sigma) {
-                (Some(dex), Some(sigma_dex)) => Some(ObservedMetallicity { tracer, dex, sigma_dex }),
+                (Some(dex), Some(sigma_dex)) => Some(ObservedMetallicity {
+                    tracer,
+                    dex,
+                    sigma_dex,
+                }),
                 _ => None,
             }
         }
@@ -282,15 +350,27 @@ pub fn fit_request(input: &Value) -> Result<(ObservedEnvelope, MapSettings), Vec
     };
     match (c_to_o, c_to_o_sigma) {
         (Some(c_to_o), Some(c_to_o_sigma)) if problems.is_empty() => Ok((
-            ObservedEnvelope { c_to_o, c_to_o_sigma, metallicity },
-            MapSettings { ratio_count: DEFAULT_MAP_RATIO_COUNT, solid_mixing_fraction: mix, convention },
+            ObservedEnvelope {
+                c_to_o,
+                c_to_o_sigma,
+                metallicity,
+            },
+            MapSettings {
+                ratio_count: DEFAULT_MAP_RATIO_COUNT,
+                solid_mixing_fraction: mix,
+                convention,
+            },
         )),
         _ => Err(problems),
     }
 }
 
 /// Runs the inverse map as `nivalis fit` does; problems name the panel's fields.
-pub fn fit_planet(model: &Model, file: &DiskFile, input: &Value) -> Result<FittedMap, Vec<Problem>> {
+pub fn fit_planet(
+    model: &Model,
+    file: &DiskFile,
+    input: &Value,
+) -> Result<FittedMap, Vec<Problem>> {
     let (observed, settings) = fit_request(input)?;
     let fields = [
         ("c_to_o", "c_to_o"),
@@ -299,9 +379,14 @@ pub fn fit_planet(model: &Model, file: &DiskFile, input: &Value) -> Result<Fitte
         ("metallicity_sigma_dex", "metallicity_sigma_dex"),
         ("solid_mixing_fraction", "mix"),
     ];
-    let map = chi_square_map(model, &observed, &settings).map_err(|e| vec![core_problem(&e, "fit", &fields)])?;
+    let map = chi_square_map(model, &observed, &settings)
+        .map_err(|e| vec![core_problem(&e, "fit", &fields)])?;
     let allowed_union_au = allowed_union(&map);
-    Ok(FittedMap { map, file: file.clone(), allowed_union_au })
+    Ok(FittedMap {
+        map,
+        file: file.clone(),
+        allowed_union_au,
+    })
 }
 
 /// Every radius allowed at 1 sigma for some solid-to-gas ratio of the map, as
@@ -319,8 +404,9 @@ pub fn allowed_union(map: &ChiSquareMap) -> Vec<(f64, f64)> {
     }
     let mut out = Vec::new();
     let mut start = None;
+    #[allow(clippy::needless_range_loop)] // j runs one past the last cell to close a range
     for j in 0..=n_r {
-        let ok = j < n_r && inside[j];
+        let ok = inside.get(j).copied().unwrap_or(false);
         match (ok, start) {
             (true, None) => start = Some(j),
             (false, Some(s)) => {
@@ -348,7 +434,10 @@ fn sig(x: f64, digits: usize) -> String {
 }
 
 fn ratio_text(x: Option<f64>) -> String {
-    x.map_or_else(|| "undefined (too little oxygen)".to_string(), |v| sig(v, 2))
+    x.map_or_else(
+        || "undefined (too little oxygen)".to_string(),
+        |v| sig(v, 2),
+    )
 }
 
 /// The snowlines (label, radius [au]) of the model's freeze-out fronts, inner first.
@@ -360,7 +449,12 @@ fn freeze_out_lines(model: &Model) -> Vec<(String, f64)> {
                 .snowlines(s)
                 .into_iter()
                 .filter(|l| l.direction == nivalis_physics::CrossingDirection::FreezeOut)
-                .map(move |l| (nivalis_charts::typeset_formula(s.key()), l.radius_cm / AU_CM))
+                .map(move |l| {
+                    (
+                        nivalis_charts::typeset_formula(s.key()),
+                        l.radius_cm / AU_CM,
+                    )
+                })
         })
         .collect();
     lines.sort_by(|a, b| a.1.total_cmp(&b.1));
@@ -370,7 +464,7 @@ fn freeze_out_lines(model: &Model) -> Vec<(String, f64)> {
 /// Where a radius lies among the snowlines, in words: "inside the H₂O
 /// snowline", "between the H₂O and CO₂ snowlines", "outside the CO snowline".
 fn among_snowlines(lines: &[(String, f64)], r: f64) -> String {
-    let outside = lines.iter().filter(|(_, x)| *x <= r).last();
+    let outside = lines.iter().rfind(|(_, x)| *x <= r);
     let inside = lines.iter().find(|(_, x)| *x > r);
     match (outside, inside) {
         (None, None) => "where no ice has a snowline".to_string(),
@@ -437,7 +531,14 @@ pub fn explain(model: &Model, map: &ChiSquareMap) -> Vec<String> {
 pub fn fit_view(model: &Model, fitted: &FittedMap) -> Value {
     let mut summary = fit_summary(&fitted.map);
     if let Value::Object(o) = &mut summary {
-        o.insert("allowed_union_au".into(), json!(fitted.allowed_union_au.iter().map(|(a, b)| json!([a, b])).collect::<Vec<_>>()));
+        o.insert(
+            "allowed_union_au".into(),
+            json!(fitted
+                .allowed_union_au
+                .iter()
+                .map(|(a, b)| json!([a, b]))
+                .collect::<Vec<_>>()),
+        );
         o.insert("explanation".into(), json!(explain(model, &fitted.map)));
         if let Some(b) = &fitted.map.best {
             let profile = model.midplane_profile();
@@ -453,8 +554,15 @@ pub fn fit_view(model: &Model, fitted: &FittedMap) -> Value {
 /// The profile with the planet's radius and the allowed 1-sigma radii marked.
 pub fn with_marks(profile: ProfileData, state: &PlanetState) -> ProfileData {
     let mut p = profile;
-    p.planet_radius_au = state.placed.as_ref().map(|pl| pl.planet.phases.inner_radius_au);
-    p.allowed_formation_radii_au = state.fitted.as_ref().map(|f| f.allowed_union_au.clone()).unwrap_or_default();
+    p.planet_radius_au = state
+        .placed
+        .as_ref()
+        .map(|pl| pl.planet.phases.inner_radius_au);
+    p.allowed_formation_radii_au = state
+        .fitted
+        .as_ref()
+        .map(|f| f.allowed_union_au.clone())
+        .unwrap_or_default();
     p
 }
 
@@ -469,11 +577,19 @@ pub fn export(state: &PlanetState, what: PlanetExport) -> Option<String> {
         PlanetExport::FitCsv => to_csv(&fit_table(&state.fitted.as_ref()?.map)),
         PlanetExport::FitEcsv => {
             let f = state.fitted.as_ref()?;
-            fit_ecsv(&f.map, &Provenance::of(&f.file), &methods(&f.file.parameters))
+            fit_ecsv(
+                &f.map,
+                &Provenance::of(&f.file),
+                &methods(&f.file.parameters),
+            )
         }
         PlanetExport::FitJson => {
             let f = state.fitted.as_ref()?;
-            json_text(&fit_json(&f.map, &Provenance::of(&f.file), &methods(&f.file.parameters)))
+            json_text(&fit_json(
+                &f.map,
+                &Provenance::of(&f.file),
+                &methods(&f.file.parameters),
+            ))
         }
         PlanetExport::PlanetMethods => planet_methods(state)?,
         PlanetExport::PlanetBibtex => planet_bibtex(state)?,
@@ -492,7 +608,11 @@ fn number_text(x: f64) -> String {
 /// the solids' atoms unless f_mix < 1, hydrogen from the gas only, and the
 /// disk in equilibrium at one moment.
 pub fn planet_methods(state: &PlanetState) -> Option<String> {
-    let file = state.placed.as_ref().map(|p| &p.file).or(state.fitted.as_ref().map(|f| &f.file))?;
+    let file = state
+        .placed
+        .as_ref()
+        .map(|p| &p.file)
+        .or(state.fitted.as_ref().map(|f| &f.file))?;
     let provenance = Provenance::of(file);
     // Invariant: the key is in nivalis_physics::references (a unit test checks it).
     let citation = reference(PLANET_REFERENCE).map_or("", |r| r.citation);
@@ -545,7 +665,11 @@ pub fn planet_methods(state: &PlanetState) -> Option<String> {
                 number_text(x.dex),
                 number_text(x.sigma_dex)
             ),
-            None => format!("C/O = {} +- {}", number_text(o.c_to_o), number_text(o.c_to_o_sigma)),
+            None => format!(
+                "C/O = {} +- {}",
+                number_text(o.c_to_o),
+                number_text(o.c_to_o_sigma)
+            ),
         };
         text.push_str(&format!(
             " To find where a planet with the observed {observed} could have formed, we computed chi-square over the {} radial cells of the disk model and {} solid-to-gas ratios spaced logarithmically from 0.001 to 1, with {} (solids at every place mixed alike); the 1- and 2-sigma regions are those with delta chi-square up to {} and {}, the 68.27 % and 95.45 % quantiles of a chi-square distribution with {} degree{} of freedom ({}).",
@@ -562,18 +686,30 @@ pub fn planet_methods(state: &PlanetState) -> Option<String> {
             }
         ));
         if let Some(b) = &m.best {
-            text.push_str(&format!(" The best fit lies at {} au with solid-to-gas {}.", sig(b.radius_au, 3), sig(b.solid_to_gas, 2)));
+            text.push_str(&format!(
+                " The best fit lies at {} au with solid-to-gas {}.",
+                sig(b.radius_au, 3),
+                sig(b.solid_to_gas, 2)
+            ));
         }
     }
     text.push_str("\n\n");
-    text.push_str(&methods_paragraph(&file.parameters, &methods(&file.parameters), &provenance));
+    text.push_str(&methods_paragraph(
+        &file.parameters,
+        &methods(&file.parameters),
+        &provenance,
+    ));
     Some(text)
 }
 
 /// BibTeX of exactly the references the planet methods text cites: the disk
 /// methods' (as `nivalis methods --bibtex` writes them) and the envelope bookkeeping's.
 pub fn planet_bibtex(state: &PlanetState) -> Option<String> {
-    let file = state.placed.as_ref().map(|p| &p.file).or(state.fitted.as_ref().map(|f| &f.file))?;
+    let file = state
+        .placed
+        .as_ref()
+        .map(|p| &p.file)
+        .or(state.fitted.as_ref().map(|f| &f.file))?;
     let used = methods(&file.parameters);
     let mut text = bibtex(&used);
     if !cited_keys(&used).contains(&PLANET_REFERENCE) {
@@ -591,13 +727,22 @@ pub fn planet_bibtex(state: &PlanetState) -> Option<String> {
 /// "flaring_angle"|"temperature_scale"}`.
 pub fn anchor(file: &DiskFile, input: &Value) -> Result<(DiskFile, Vec<String>), Vec<Problem>> {
     let mut problems = Vec::new();
-    let species = match input.get("species").and_then(Value::as_str).and_then(Species::from_key) {
+    let species = match input
+        .get("species")
+        .and_then(Value::as_str)
+        .and_then(Species::from_key)
+    {
         Some(s) => Some(s),
         None => {
-            let got = input.get("species").map_or("nothing".to_string(), Value::to_string);
+            let got = input
+                .get("species")
+                .map_or("nothing".to_string(), Value::to_string);
             problems.push(Problem {
                 path: "anchor.species".into(),
-                message: format!("must be one of {}, got {got}", Species::ALL.map(|s| s.key()).join(", ")),
+                message: format!(
+                    "must be one of {}, got {got}",
+                    Species::ALL.map(|s| s.key()).join(", ")
+                ),
             });
             None
         }
@@ -608,15 +753,24 @@ pub fn anchor(file: &DiskFile, input: &Value) -> Result<(DiskFile, Vec<String>),
         None | Some("flaring_angle") => AnchorParameter::FlaringAngle,
         Some("temperature_scale") => AnchorParameter::MidplaneTemperatureScale,
         Some(other) => {
-            problems.push(Problem { path: "anchor.adjust".into(), message: format!("must be flaring_angle or temperature_scale, got {other:?}") });
+            problems.push(Problem {
+                path: "anchor.adjust".into(),
+                message: format!("must be flaring_angle or temperature_scale, got {other:?}"),
+            });
             AnchorParameter::FlaringAngle
         }
     };
-    let (Some(species), Some(radius_au)) = (species, radius_au) else { return Err(problems) };
+    let (Some(species), Some(radius_au)) = (species, radius_au) else {
+        return Err(problems);
+    };
     if !problems.is_empty() {
         return Err(problems);
     }
-    let anchored = anchor_to_snowline(&file.parameters, &AnchorRequest::new(species, radius_au, sigma_au, parameter)).map_err(|e| {
+    let anchored = anchor_to_snowline(
+        &file.parameters,
+        &AnchorRequest::new(species, radius_au, sigma_au, parameter),
+    )
+    .map_err(|e| {
         let fields = [
             ("observed_radius_au", "radius_au"),
             ("sigma_au", "sigma_au"),
@@ -630,7 +784,11 @@ pub fn anchor(file: &DiskFile, input: &Value) -> Result<(DiskFile, Vec<String>),
     let mut out = file.clone();
     out.parameters = anchored.parameters.clone();
     let note = format!("[{}] {}.", program_version(), summary[0]);
-    out.notes = if file.notes.is_empty() { note } else { format!("{} {note}", file.notes) };
+    out.notes = if file.notes.is_empty() {
+        note
+    } else {
+        format!("{} {note}", file.notes)
+    };
     Ok((out, summary))
 }
 
@@ -652,7 +810,10 @@ mod tests {
         assert_eq!(typed_number(&v, "b", "x.b").unwrap(), Some(1e-3));
         assert_eq!(typed_number(&v, "c", "x.c").unwrap(), None);
         assert_eq!(typed_number(&v, "missing", "x.m").unwrap(), None);
-        assert_eq!(typed_number(&v, "d", "x.d").unwrap_err().to_string(), "x.d: must be a finite number, got \"abc\"");
+        assert_eq!(
+            typed_number(&v, "d", "x.d").unwrap_err().to_string(),
+            "x.d: must be a finite number, got \"abc\""
+        );
         assert!(typed_number(&v, "e", "x.e").is_err());
         assert!(typed_number(&v, "f", "x.f").is_err());
     }
@@ -662,12 +823,35 @@ mod tests {
         // The CLI (crates/cli, Command::Planet) calls planet() with gas_mass_g = 1 and
         // writes planet_json / planet_table; the page must produce the same text.
         let (model, file) = model();
-        let placed = place_planet(&model, &file, &json!({"radius_au": "12", "solid_to_gas": 0.05, "mix": 1})).unwrap();
-        let request = PlanetRequest { place: FormationPlace::Radius { radius_au: 12.0 }, gas_mass_g: 1.0, solid_to_gas: 0.05, solid_mixing_fraction: 1.0 };
+        let placed = place_planet(
+            &model,
+            &file,
+            &json!({"radius_au": "12", "solid_to_gas": 0.05, "mix": 1}),
+        )
+        .unwrap();
+        let request = PlanetRequest {
+            place: FormationPlace::Radius { radius_au: 12.0 },
+            gas_mass_g: 1.0,
+            solid_to_gas: 0.05,
+            solid_mixing_fraction: 1.0,
+        };
         let direct = planet(&model, &request).unwrap();
-        let state = PlanetState { placed: Some(placed), fitted: None };
-        assert_eq!(export(&state, PlanetExport::PlanetJson).unwrap(), json_text(&planet_json(&direct, &request.place, &Provenance::of(&file))));
-        assert_eq!(export(&state, PlanetExport::PlanetCsv).unwrap(), to_csv(&planet_table(&direct)));
+        let state = PlanetState {
+            placed: Some(placed),
+            fitted: None,
+        };
+        assert_eq!(
+            export(&state, PlanetExport::PlanetJson).unwrap(),
+            json_text(&planet_json(
+                &direct,
+                &request.place,
+                &Provenance::of(&file)
+            ))
+        );
+        assert_eq!(
+            export(&state, PlanetExport::PlanetCsv).unwrap(),
+            to_csv(&planet_table(&direct))
+        );
         let view = planet_view(state.placed.as_ref().unwrap());
         assert_eq!(view["envelope"]["c_to_o"].as_f64(), direct.envelope.c_to_o);
         assert!(view["to_radius_au"].is_null());
@@ -677,23 +861,50 @@ mod tests {
     fn pure_gas_planet_has_the_local_gas_c_to_o() {
         // MODEL.md section 9: with no solids the envelope is the local gas (Oberg, Murray-Clay & Bergin 2011).
         let (model, file) = model();
-        let placed = place_planet(&model, &file, &json!({"radius_au": 30, "solid_to_gas": 0})).unwrap();
+        let placed =
+            place_planet(&model, &file, &json!({"radius_au": 30, "solid_to_gas": 0})).unwrap();
         let v = planet_view(&placed);
-        let (env, gas) = (v["envelope"]["c_to_o"].as_f64().unwrap(), v["local"]["gas_c_to_o"].as_f64().unwrap());
+        let (env, gas) = (
+            v["envelope"]["c_to_o"].as_f64().unwrap(),
+            v["local"]["gas_c_to_o"].as_f64().unwrap(),
+        );
         assert!((env / gas - 1.0).abs() < 1e-12, "{env} vs {gas}");
     }
 
     #[test]
     fn invalid_planet_input_names_the_field() {
         let (model, file) = model();
-        let p = place_planet(&model, &file, &json!({"radius_au": 1000, "solid_to_gas": 0.1})).unwrap_err();
+        let p = place_planet(
+            &model,
+            &file,
+            &json!({"radius_au": 1000, "solid_to_gas": 0.1}),
+        )
+        .unwrap_err();
         assert_eq!(p[0].path, "planet.radius_au");
         assert_eq!(p[0].message, "must lie in the disk [0.1, 500] au, got 1000");
-        let p = place_planet(&model, &file, &json!({"radius_au": 5, "solid_to_gas": 0.1, "mix": 2})).unwrap_err();
-        assert_eq!((p[0].path.as_str(), p[0].message.as_str()), ("planet.mix", "must be in [0, 1], got 2"));
-        let p = place_planet(&model, &file, &json!({"radius_au": 5, "to_radius_au": 2, "solid_to_gas": 0.1})).unwrap_err();
+        let p = place_planet(
+            &model,
+            &file,
+            &json!({"radius_au": 5, "solid_to_gas": 0.1, "mix": 2}),
+        )
+        .unwrap_err();
+        assert_eq!(
+            (p[0].path.as_str(), p[0].message.as_str()),
+            ("planet.mix", "must be in [0, 1], got 2")
+        );
+        let p = place_planet(
+            &model,
+            &file,
+            &json!({"radius_au": 5, "to_radius_au": 2, "solid_to_gas": 0.1}),
+        )
+        .unwrap_err();
         assert_eq!(p[0].path, "planet.to_radius_au");
-        let p = place_planet(&model, &file, &json!({"radius_au": "x", "solid_to_gas": ""})).unwrap_err();
+        let p = place_planet(
+            &model,
+            &file,
+            &json!({"radius_au": "x", "solid_to_gas": ""}),
+        )
+        .unwrap_err();
         assert_eq!(p.len(), 2);
         assert_eq!(p[1].to_string(), "planet.solid_to_gas: is required");
     }
@@ -701,17 +912,46 @@ mod tests {
     #[test]
     fn fit_equals_the_cli_calls_and_marks_allowed_radii() {
         let (model, file) = model();
-        let fitted = fit_planet(&model, &file, &json!({"c_to_o": "0.8", "c_to_o_sigma": "0.1"})).unwrap();
-        let direct = chi_square_map(&model, &ObservedEnvelope { c_to_o: 0.8, c_to_o_sigma: 0.1, metallicity: None }, &MapSettings::defaults()).unwrap();
+        let fitted = fit_planet(
+            &model,
+            &file,
+            &json!({"c_to_o": "0.8", "c_to_o_sigma": "0.1"}),
+        )
+        .unwrap();
+        let direct = chi_square_map(
+            &model,
+            &ObservedEnvelope {
+                c_to_o: 0.8,
+                c_to_o_sigma: 0.1,
+                metallicity: None,
+            },
+            &MapSettings::defaults(),
+        )
+        .unwrap();
         assert!(fitted.map == direct);
-        let state = PlanetState { placed: None, fitted: Some(fitted) };
-        assert_eq!(export(&state, PlanetExport::FitCsv).unwrap(), to_csv(&fit_table(&direct)));
+        let state = PlanetState {
+            placed: None,
+            fitted: Some(fitted),
+        };
+        assert_eq!(
+            export(&state, PlanetExport::FitCsv).unwrap(),
+            to_csv(&fit_table(&direct))
+        );
         let prov = Provenance::of(&file);
-        assert_eq!(export(&state, PlanetExport::FitEcsv).unwrap(), fit_ecsv(&direct, &prov, &methods(&file.parameters)));
+        assert_eq!(
+            export(&state, PlanetExport::FitEcsv).unwrap(),
+            fit_ecsv(&direct, &prov, &methods(&file.parameters))
+        );
         // The union of the 1-sigma ranges covers the best fit's radius.
         let best = direct.best.unwrap();
         let union = &state.fitted.as_ref().unwrap().allowed_union_au;
-        assert!(union.iter().any(|(a, b)| *a <= best.radius_au && best.radius_au <= *b), "{union:?} vs {}", best.radius_au);
+        assert!(
+            union
+                .iter()
+                .any(|(a, b)| *a <= best.radius_au && best.radius_au <= *b),
+            "{union:?} vs {}",
+            best.radius_au
+        );
         let marked = with_marks(ProfileData::from_model(&model), &state);
         assert_eq!(&marked.allowed_formation_radii_au, union);
         // The explanation starts with the core's sentences and adds ours.
@@ -724,21 +964,50 @@ mod tests {
     fn fit_problems_name_the_fields() {
         let (model, file) = model();
         let p = fit_planet(&model, &file, &json!({"c_to_o": 0.8, "c_to_o_sigma": 0})).unwrap_err();
-        assert_eq!(p[0].to_string(), "fit.c_to_o_sigma: must be > 0 and finite, got 0");
-        let p = fit_planet(&model, &file, &json!({"c_to_o": 0.8, "c_to_o_sigma": 0.1, "tracer": "O"})).unwrap_err();
-        assert_eq!(p.iter().map(|p| p.path.as_str()).collect::<Vec<_>>(), ["fit.metallicity_dex", "fit.metallicity_sigma_dex"]);
+        assert_eq!(
+            p[0].to_string(),
+            "fit.c_to_o_sigma: must be > 0 and finite, got 0"
+        );
+        let p = fit_planet(
+            &model,
+            &file,
+            &json!({"c_to_o": 0.8, "c_to_o_sigma": 0.1, "tracer": "O"}),
+        )
+        .unwrap_err();
+        assert_eq!(
+            p.iter().map(|p| p.path.as_str()).collect::<Vec<_>>(),
+            ["fit.metallicity_dex", "fit.metallicity_sigma_dex"]
+        );
     }
 
     #[test]
     fn methods_cite_exactly_what_the_bibtex_holds() {
         let (model, file) = model();
         let state = PlanetState {
-            placed: Some(place_planet(&model, &file, &json!({"radius_au": 8, "solid_to_gas": 0.02, "mix": 0.5})).unwrap()),
-            fitted: Some(fit_planet(&model, &file, &json!({"c_to_o": 0.6, "c_to_o_sigma": 0.05})).unwrap()),
+            placed: Some(
+                place_planet(
+                    &model,
+                    &file,
+                    &json!({"radius_au": 8, "solid_to_gas": 0.02, "mix": 0.5}),
+                )
+                .unwrap(),
+            ),
+            fitted: Some(
+                fit_planet(&model, &file, &json!({"c_to_o": 0.6, "c_to_o_sigma": 0.05})).unwrap(),
+            ),
         };
         let text = planet_methods(&state).unwrap();
-        assert!(text.contains("local accretion") && text.contains("f_mix = 0.5") && text.contains("equilibrium at one moment"), "{text}");
-        assert!(text.ends_with(&methods_paragraph(&file.parameters, &methods(&file.parameters), &Provenance::of(&file))));
+        assert!(
+            text.contains("local accretion")
+                && text.contains("f_mix = 0.5")
+                && text.contains("equilibrium at one moment"),
+            "{text}"
+        );
+        assert!(text.ends_with(&methods_paragraph(
+            &file.parameters,
+            &methods(&file.parameters),
+            &Provenance::of(&file)
+        )));
         let bib = planet_bibtex(&state).unwrap();
         assert!(reference(PLANET_REFERENCE).is_some());
         assert!(bib.contains("@article{oberg2011,"));
@@ -756,13 +1025,25 @@ mod tests {
         // the flaring angle comes back (round trip, MODEL.md section 9 anchor).
         let (model, file) = model();
         let co = model.snowlines(Species::CO)[0].radius_cm / AU_CM;
-        let (anchored, summary) = anchor(&file, &json!({"species": "CO", "radius_au": co})).unwrap();
+        let (anchored, summary) =
+            anchor(&file, &json!({"species": "CO", "radius_au": co})).unwrap();
         let phi0 = file.parameters.disk.flaring_angle;
-        assert!((anchored.parameters.disk.flaring_angle / phi0 - 1.0).abs() < 1e-3, "{} vs {phi0}", anchored.parameters.disk.flaring_angle);
-        assert!(anchored.notes.contains("anchored disk.flaring_angle"), "{}", anchored.notes);
+        assert!(
+            (anchored.parameters.disk.flaring_angle / phi0 - 1.0).abs() < 1e-3,
+            "{} vs {phi0}",
+            anchored.parameters.disk.flaring_angle
+        );
+        assert!(
+            anchored.notes.contains("anchored disk.flaring_angle"),
+            "{}",
+            anchored.notes
+        );
         assert!(summary[0].starts_with("anchored disk.flaring_angle"));
         assert!(to_json_string(&anchored).contains("\"notes\""));
         let p = anchor(&file, &json!({"species": "XX", "radius_au": "a"})).unwrap_err();
-        assert_eq!(p.iter().map(|p| p.path.as_str()).collect::<Vec<_>>(), ["anchor.species", "anchor.radius_au"]);
+        assert_eq!(
+            p.iter().map(|p| p.path.as_str()).collect::<Vec<_>>(),
+            ["anchor.species", "anchor.radius_au"]
+        );
     }
 }

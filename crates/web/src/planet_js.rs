@@ -30,15 +30,25 @@ const NO_MODEL: &str = "the planet tools need the model on this page, but this g
 
 fn to_js(value: &Value) -> JsValue {
     // Invariant: serde_json values always serialise (objects become plain JS objects).
-    value.serialize(&serde_wasm_bindgen::Serializer::json_compatible()).expect("JSON value converts to JS")
+    value
+        .serialize(&serde_wasm_bindgen::Serializer::json_compatible())
+        .expect("JSON value converts to JS")
 }
 
 fn from_js(value: JsValue) -> Result<Value, Problem> {
-    serde_wasm_bindgen::from_value(value).map_err(|e| Problem { path: "(input)".into(), message: format!("cannot read the input: {e}") })
+    serde_wasm_bindgen::from_value(value).map_err(|e| Problem {
+        path: "(input)".into(),
+        message: format!("cannot read the input: {e}"),
+    })
 }
 
 fn problems_js(problems: &[Problem]) -> Value {
-    Value::Array(problems.iter().map(|p| json!({"path": p.path, "message": p.message})).collect())
+    Value::Array(
+        problems
+            .iter()
+            .map(|p| json!({"path": p.path, "message": p.message}))
+            .collect(),
+    )
 }
 
 fn failed(problems: &[Problem]) -> JsValue {
@@ -46,7 +56,9 @@ fn failed(problems: &[Problem]) -> JsValue {
 }
 
 fn option_text(options: &JsValue, key: &str) -> Option<String> {
-    js_sys::Reflect::get(options, &JsValue::from_str(key)).ok().and_then(|v| v.as_string())
+    js_sys::Reflect::get(options, &JsValue::from_str(key))
+        .ok()
+        .and_then(|v| v.as_string())
 }
 
 #[wasm_bindgen]
@@ -65,7 +77,10 @@ impl Explorer {
     pub fn place_planet(&mut self, input: JsValue) -> JsValue {
         self.planet.placed = None;
         let outcome = match (self.has_model(), from_js(input)) {
-            (false, _) => Err(vec![Problem { path: "planet".into(), message: NO_MODEL.into() }]),
+            (false, _) => Err(vec![Problem {
+                path: "planet".into(),
+                message: NO_MODEL.into(),
+            }]),
             (true, Err(p)) => Err(vec![p]),
             (true, Ok(input)) => {
                 // Invariant: has_model checked that a current result exists.
@@ -100,7 +115,10 @@ impl Explorer {
     pub fn fit_planet(&mut self, input: JsValue) -> JsValue {
         self.planet.fitted = None;
         let outcome = match (self.has_model(), from_js(input)) {
-            (false, _) => Err(vec![Problem { path: "fit".into(), message: NO_MODEL.into() }]),
+            (false, _) => Err(vec![Problem {
+                path: "fit".into(),
+                message: NO_MODEL.into(),
+            }]),
             (true, Err(p)) => Err(vec![p]),
             (true, Ok(input)) => {
                 // Invariant: has_model checked that a current result exists.
@@ -134,7 +152,8 @@ impl Explorer {
     /// `undefined` when the tool has no result.
     #[wasm_bindgen(js_name = planetExport)]
     pub fn planet_export(&self, what: &str) -> Result<Option<String>, JsError> {
-        let kind = PlanetExport::from_name(what).ok_or_else(|| JsError::new(&format!("unknown planet export {what:?}")))?;
+        let kind = PlanetExport::from_name(what)
+            .ok_or_else(|| JsError::new(&format!("unknown planet export {what:?}")))?;
         Ok(planet::export(&self.planet, kind))
     }
 
@@ -149,18 +168,28 @@ impl Explorer {
         let options = from_js(options).map_err(|p| JsError::new(&p.message))?;
         let options = FigureOptions::from_value(&options).map_err(|e| JsError::new(&e))?;
         let (figure, provenance) = if view == "chi2_map" {
-            let f = self.planet.fitted.as_ref().ok_or_else(|| JsError::new("no chi-square map yet: fit an observed planet first"))?;
-            (Figure::Chi2(Chi2Data::from_map(&f.map)), Provenance::of(&f.file))
+            let f = self.planet.fitted.as_ref().ok_or_else(|| {
+                JsError::new("no chi-square map yet: fit an observed planet first")
+            })?;
+            (
+                Figure::Chi2(Chi2Data::from_map(&f.map)),
+                Provenance::of(&f.file),
+            )
         } else {
             let key = match view.strip_prefix("ice_map:") {
                 Some(s) => {
-                    let species = Species::from_key(s).ok_or_else(|| JsError::new(&format!("unknown species {s:?}")))?;
+                    let species = Species::from_key(s)
+                        .ok_or_else(|| JsError::new(&format!("unknown species {s:?}")))?;
                     format!("ice_map:{}", species.key())
                 }
-                None if ["c_to_o", "temperature", "abundances", "c_to_o_map"].contains(&view) => view.to_string(),
+                None if ["c_to_o", "temperature", "abundances", "c_to_o_map"].contains(&view) => {
+                    view.to_string()
+                }
                 None => return Err(JsError::new(&format!("unknown view {view:?}"))),
             };
-            let file = self.current_file().ok_or_else(|| JsError::new("no valid disk has been computed yet"))?;
+            let file = self
+                .current_file()
+                .ok_or_else(|| JsError::new("no valid disk has been computed yet"))?;
             let figure = figure_of(self.view_data(&key)?);
             (figure, Provenance::of(&file))
         };
@@ -171,7 +200,11 @@ impl Explorer {
     /// fit) into the canvas `canvas_id`. `options`: `{theme, pixelRatio}`.
     #[wasm_bindgen(js_name = drawChi2)]
     pub fn draw_chi2(&mut self, canvas_id: &str, options: JsValue) -> Result<(), JsError> {
-        let f = self.planet.fitted.as_ref().ok_or_else(|| JsError::new("no chi-square map yet"))?;
+        let f = self
+            .planet
+            .fitted
+            .as_ref()
+            .ok_or_else(|| JsError::new("no chi-square map yet"))?;
         let theme = match option_text(&options, "theme").as_deref() {
             Some("dark") => Theme::dark(),
             _ => Theme::light(),
@@ -192,9 +225,11 @@ impl Explorer {
         let measured = canvas::MeasuredCanvas::new(&canvas).map_err(|e| JsError::new(&e))?;
         let area = LeadingRects::new(measured, context).into_drawing_area();
         let data = Chi2Data::from_map(&f.map);
-        let layout = draw_chi2_map(&area, &data, &theme, CSS_PX_PER_POINT * ratio).map_err(|e| JsError::new(&e.to_string()))?;
+        let layout = draw_chi2_map(&area, &data, &theme, CSS_PX_PER_POINT * ratio)
+            .map_err(|e| JsError::new(&e.to_string()))?;
         area.present().map_err(|e| JsError::new(&e.to_string()))?;
-        self.layouts.insert(canvas_id.to_string(), ("chi2_map".to_string(), layout));
+        self.layouts
+            .insert(canvas_id.to_string(), ("chi2_map".to_string(), layout));
         Ok(())
     }
 
@@ -205,13 +240,18 @@ impl Explorer {
         let f = self.planet.fitted.as_ref().filter(|_| key == "chi2_map")?;
         let (panel, r, q) = layout.panel_at(x, y)?;
         if panel.name == "colour_bar" {
-            return Some(format!("colour bar: {} {}", panel.y.label, format_sig(q, 3)));
+            return Some(format!(
+                "colour bar: {} {}",
+                panel.y.label,
+                format_sig(q, 3)
+            ));
         }
         let m = &f.map;
         let j = crate::readout::nearest_radius(&m.radius_au, r)?;
         let k = crate::readout::nearest_radius(&m.solid_to_gas, q)?;
         let row = &m.rows[j * m.solid_to_gas.len() + k];
-        let value = |v: Option<f64>| v.map_or_else(|| "undefined".to_string(), |v| format_sig(v, 3));
+        let value =
+            |v: Option<f64>| v.map_or_else(|| "undefined".to_string(), |v| format_sig(v, 3));
         let region = if row.within_1sigma {
             "inside 1σ"
         } else if row.within_2sigma {
@@ -246,14 +286,19 @@ impl Explorer {
     #[wasm_bindgen(js_name = anchorDisk)]
     pub fn anchor_disk(&self, input: JsValue) -> JsValue {
         let Some(file) = self.current_file() else {
-            return failed(&[Problem { path: "anchor".into(), message: "no valid disk has been computed yet".into() }]);
+            return failed(&[Problem {
+                path: "anchor".into(),
+                message: "no valid disk has been computed yet".into(),
+            }]);
         };
         let input = match from_js(input) {
             Ok(v) => v,
             Err(p) => return failed(&[p]),
         };
         match planet::anchor(&file, &input) {
-            Ok((anchored, summary)) => to_js(&json!({"ok": true, "problems": [], "disk": to_value(&anchored), "summary": summary})),
+            Ok((anchored, summary)) => to_js(
+                &json!({"ok": true, "problems": [], "disk": to_value(&anchored), "summary": summary}),
+            ),
             Err(problems) => failed(&problems),
         }
     }

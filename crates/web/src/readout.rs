@@ -28,7 +28,9 @@ pub fn format_sig(x: f64, n: usize) -> String {
         return "0".to_string();
     }
     // The magnitude after rounding to n digits, so 0.99996 shows as 1.00, not 1.000.
-    let rounded: f64 = format!("{:.*e}", n.saturating_sub(1), x).parse().unwrap_or(x);
+    let rounded: f64 = format!("{:.*e}", n.saturating_sub(1), x)
+        .parse()
+        .unwrap_or(x);
     let magnitude = rounded.abs().log10().floor() as i32;
     if !(-3..=4).contains(&magnitude) {
         let s = format!("{:.*e}", n.saturating_sub(1), x);
@@ -114,7 +116,11 @@ pub fn readout(data: &ViewData, layout: &ChartLayout, px: f64, py: f64) -> Optio
                 .iter()
                 .map(|s| {
                     let v = if gas { s.gas_per_h[j] } else { s.ice_per_h[j] };
-                    format!("{} {}", s.label, v.map_or_else(|| "0".to_string(), |v| format_sig(v, 2)))
+                    format!(
+                        "{} {}",
+                        s.label,
+                        v.map_or_else(|| "0".to_string(), |v| format_sig(v, 2))
+                    )
                 })
                 .collect();
             Some(format!(
@@ -129,18 +135,30 @@ pub fn readout(data: &ViewData, layout: &ChartLayout, px: f64, py: f64) -> Optio
             let column = &d.z_over_r[j * d.rows..(j + 1) * d.rows];
             let column_top = column.last().copied().unwrap_or(0.0);
             if y > column_top * 1.02 {
-                return Some(format!("r = {} au, z/r = {}: above the model grid", format_sig(d.radius_au[j], 3), format_sig(y, 3)));
+                return Some(format!(
+                    "r = {} au, z/r = {}: above the model grid",
+                    format_sig(d.radius_au[j], 3),
+                    format_sig(y, 3)
+                ));
             }
             // Nearest sample in z/r (increasing within a column).
             let k = column.partition_point(|&z| z < y).min(d.rows - 1);
-            let k = if k > 0 && (y - column[k - 1]).abs() <= (column[k] - y).abs() { k - 1 } else { k };
+            let k = if k > 0 && (y - column[k - 1]).abs() <= (column[k] - y).abs() {
+                k - 1
+            } else {
+                k
+            };
             let v = d.values[j * d.rows + k];
             let mut text = format!(
                 "r = {} au, z/r = {}: {} {}",
                 format_sig(d.radius_au[j], 3),
                 format_sig(column[k], 3),
                 d.value_label,
-                if v.is_nan() { "undefined".to_string() } else { format_sig(v, 3) }
+                if v.is_nan() {
+                    "undefined".to_string()
+                } else {
+                    format_sig(v, 3)
+                }
             );
             if let Some(h) = d.scale_height_over_r.get(j).filter(|h| **h > 0.0) {
                 text.push_str(&format!(" (z = {} H)", format_sig(column[k] / h, 2)));
@@ -157,7 +175,7 @@ mod tests {
 
     #[test]
     fn numbers_keep_three_significant_digits() {
-        assert_eq!(format_sig(3.14159, 3), "3.14");
+        assert_eq!(format_sig(1.23456, 3), "1.23");
         assert_eq!(format_sig(0.0123456, 3), "0.0123");
         assert_eq!(format_sig(123.456, 3), "123");
         assert_eq!(format_sig(1.234e-5, 3), "1.23e-5");
@@ -186,14 +204,35 @@ mod tests {
                 top: 0,
                 width: 100,
                 height: 100,
-                x: nivalis_charts::AxisTransform::new(map.radius_au[0], *map.radius_au.last().unwrap(), nivalis_charts::Scale::Log10, "r [au]"),
-                y: nivalis_charts::AxisTransform::new(0.0, map.z_over_r_max, nivalis_charts::Scale::Linear, "z/r"),
+                x: nivalis_charts::AxisTransform::new(
+                    map.radius_au[0],
+                    *map.radius_au.last().unwrap(),
+                    nivalis_charts::Scale::Log10,
+                    "r [au]",
+                ),
+                y: nivalis_charts::AxisTransform::new(
+                    0.0,
+                    map.z_over_r_max,
+                    nivalis_charts::Scale::Linear,
+                    "z/r",
+                ),
             }],
         };
         // 62 % of the way along 0.1..500 au (log) is about 20 au, on the midplane,
         // where water is frozen (common practice: the water snowline lies at a few au).
         let text = readout(&ViewData::IceMap(map), &layout, 62.0, 99.9).unwrap();
-        assert!(text.starts_with("r = 19.") && text.contains("z/r = 0: H₂O ice fraction 1.00"), "{text}");
-        assert_eq!(readout(&ViewData::Profile(nivalis_charts::ProfileData::from_model(&model)), &layout, 200.0, 50.0), None);
+        assert!(
+            text.starts_with("r = 19.") && text.contains("z/r = 0: H₂O ice fraction 1.00"),
+            "{text}"
+        );
+        assert_eq!(
+            readout(
+                &ViewData::Profile(nivalis_charts::ProfileData::from_model(&model)),
+                &layout,
+                200.0,
+                50.0
+            ),
+            None
+        );
     }
 }

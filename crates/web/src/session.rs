@@ -76,10 +76,14 @@ impl Export {
 pub fn physics_problem(error: &PhysicsError) -> Problem {
     let text = error.to_string();
     match text.split_once(": ") {
-        Some((path, message)) if !path.is_empty() && !path.contains(' ') => {
-            Problem { path: path.to_string(), message: message.to_string() }
-        }
-        _ => Problem { path: "(model)".to_string(), message: text },
+        Some((path, message)) if !path.is_empty() && !path.contains(' ') => Problem {
+            path: path.to_string(),
+            message: message.to_string(),
+        },
+        _ => Problem {
+            path: "(model)".to_string(),
+            message: text,
+        },
     }
 }
 
@@ -104,7 +108,10 @@ impl Session {
     pub fn update_from_text(&mut self, text: &str) -> Result<(), Vec<Problem>> {
         match serde_json::from_str::<Value>(text) {
             Ok(value) => self.update(&value),
-            Err(e) => Err(vec![Problem { path: "(file)".into(), message: format!("not valid JSON: {e}") }]),
+            Err(e) => Err(vec![Problem {
+                path: "(file)".into(),
+                message: format!("not valid JSON: {e}"),
+            }]),
         }
     }
 
@@ -124,12 +131,24 @@ impl Session {
         let (file, model) = (&c.file, &c.model);
         Some(match what {
             Export::ProfileCsv => to_csv(&model_table(model)),
-            Export::ProfileEcsv => to_ecsv(&model_table(model), &Provenance::of(file), &methods(&file.parameters)),
-            Export::ProfileJson => json_text(&to_json(&model_table(model), &Provenance::of(file), &methods(&file.parameters))),
+            Export::ProfileEcsv => to_ecsv(
+                &model_table(model),
+                &Provenance::of(file),
+                &methods(&file.parameters),
+            ),
+            Export::ProfileJson => json_text(&to_json(
+                &model_table(model),
+                &Provenance::of(file),
+                &methods(&file.parameters),
+            )),
             Export::StructureCsv => to_csv(&structure_table(model)),
             Export::SnowlinesJson => json_text(&snowlines_json(model, &Provenance::of(file))),
             Export::DiskFile => to_json_string(file),
-            Export::MethodsText => methods_paragraph(&file.parameters, &methods(&file.parameters), &Provenance::of(file)),
+            Export::MethodsText => methods_paragraph(
+                &file.parameters,
+                &methods(&file.parameters),
+                &Provenance::of(file),
+            ),
             Export::Bibtex => bibtex(&methods(&file.parameters)),
         })
     }
@@ -141,7 +160,13 @@ impl Session {
     pub fn snowline_table(&self) -> Option<Value> {
         let c = self.current.as_ref()?;
         let model = &c.model;
-        let inner_ice = |s: Species| model.midplane_ice_fraction(s).first().copied().unwrap_or(0.0);
+        let inner_ice = |s: Species| {
+            model
+                .midplane_ice_fraction(s)
+                .first()
+                .copied()
+                .unwrap_or(0.0)
+        };
         let rows: Vec<Value> = Species::ALL
             .iter()
             .map(|&s| {
@@ -214,8 +239,12 @@ pub const MAX_SAMPLES: usize = 4_000_000;
 pub fn grid_too_large(disk: &Value) -> Option<Problem> {
     let defaults = nivalis_physics::ModelParameters::defaults().grid;
     let grid = disk.get("grid")?;
-    let cells = |key: &str, default: usize| grid.get(key).map_or(Some(default as f64), Value::as_f64);
-    let (radial, vertical) = (cells("radial_cells", defaults.radial_cells)?, cells("vertical_cells", defaults.vertical_cells)?);
+    let cells =
+        |key: &str, default: usize| grid.get(key).map_or(Some(default as f64), Value::as_f64);
+    let (radial, vertical) = (
+        cells("radial_cells", defaults.radial_cells)?,
+        cells("vertical_cells", defaults.vertical_cells)?,
+    );
     let samples = radial * (vertical + 1.0);
     (samples > MAX_SAMPLES as f64).then(|| Problem {
         path: "grid.radial_cells".into(),
@@ -234,8 +263,10 @@ pub fn species_info() -> Value {
         .entries
         .iter()
         .map(|e| {
-            let energies: serde_json::Map<String, Value> =
-                BindingEnergySet::ALL.iter().map(|set| (set.key().to_string(), json!(e.binding_energy(*set).0))).collect();
+            let energies: serde_json::Map<String, Value> = BindingEnergySet::ALL
+                .iter()
+                .map(|set| (set.key().to_string(), json!(e.binding_energy(*set).0)))
+                .collect();
             json!({
                 "species": e.species.key(),
                 "formula": e.formula,
@@ -258,18 +289,30 @@ mod tests {
         let mut s = Session::new();
         s.update(&json!({})).unwrap();
         let before = s.export(Export::ProfileCsv).unwrap();
-        let problems = s.update(&json!({"star": {"luminosity_lsun": -1}})).unwrap_err();
-        assert_eq!(problems[0].to_string(), "star.luminosity_lsun: must be > 0 and finite, got -1");
+        let problems = s
+            .update(&json!({"star": {"luminosity_lsun": -1}}))
+            .unwrap_err();
+        assert_eq!(
+            problems[0].to_string(),
+            "star.luminosity_lsun: must be > 0 and finite, got -1"
+        );
         assert_eq!(s.export(Export::ProfileCsv).unwrap(), before);
     }
 
     #[test]
     fn exports_match_the_cli_functions() {
         let mut s = Session::new();
-        s.update_from_text(r#"{"star": {"luminosity_lsun": 2}}"#).unwrap();
+        s.update_from_text(r#"{"star": {"luminosity_lsun": 2}}"#)
+            .unwrap();
         let c = s.current().unwrap();
-        assert_eq!(s.export(Export::ProfileCsv).unwrap(), to_csv(&model_table(&c.model)));
-        assert!(s.export(Export::ProfileEcsv).unwrap().starts_with("# %ECSV 1.0\n"));
+        assert_eq!(
+            s.export(Export::ProfileCsv).unwrap(),
+            to_csv(&model_table(&c.model))
+        );
+        assert!(s
+            .export(Export::ProfileEcsv)
+            .unwrap()
+            .starts_with("# %ECSV 1.0\n"));
         assert_eq!(s.export(Export::DiskFile).unwrap(), to_json_string(&c.file));
     }
 
@@ -291,14 +334,18 @@ mod tests {
     fn oversized_grids_are_refused_before_the_run() {
         assert!(grid_too_large(&json!({})).is_none());
         assert!(grid_too_large(&json!({"grid": {"radial_cells": 4096}})).is_none());
-        let p = grid_too_large(&json!({"grid": {"radial_cells": 4096, "vertical_cells": 4096}})).unwrap();
+        let p = grid_too_large(&json!({"grid": {"radial_cells": 4096, "vertical_cells": 4096}}))
+            .unwrap();
         assert_eq!(p.path, "grid.radial_cells");
         assert!(p.message.contains("16781312"), "{}", p.message);
     }
 
     #[test]
     fn core_errors_name_their_field() {
-        let p = physics_problem(&PhysicsError::NitrogenExhausted { nitrogen_per_h: 1e-5, hcn_per_h: 2e-5 });
+        let p = physics_problem(&PhysicsError::NitrogenExhausted {
+            nitrogen_per_h: 1e-5,
+            hcn_per_h: 2e-5,
+        });
         assert_eq!(p.path, "composition.carbon.HCN");
         let p = physics_problem(&PhysicsError::NoTemperatureSolution { radius_au: 0.1 });
         assert_eq!(p.path, "(model)");

@@ -8,7 +8,9 @@
 //!
 //! Plain Rust, tested natively: every view survives the round trip unchanged.
 
-use nivalis_charts::{AbundanceData, ColourMap, MapData, ProfileData, SpeciesAbundance, TemperatureData};
+use nivalis_charts::{
+    AbundanceData, ColourMap, MapData, ProfileData, SpeciesAbundance, TemperatureData,
+};
 use serde_json::{json, Value};
 
 use crate::readout::ViewData;
@@ -27,7 +29,10 @@ fn nan_for_none(series: &[Option<f64>]) -> Vec<f64> {
 }
 
 fn none_for_nan(series: &[f64]) -> Vec<Option<f64>> {
-    series.iter().map(|&v| if v.is_nan() { None } else { Some(v) }).collect()
+    series
+        .iter()
+        .map(|&v| if v.is_nan() { None } else { Some(v) })
+        .collect()
 }
 
 fn number(meta: &Value, key: &str) -> Option<f64> {
@@ -35,13 +40,20 @@ fn number(meta: &Value, key: &str) -> Option<f64> {
 }
 
 fn text(meta: &Value, key: &str) -> String {
-    meta.get(key).and_then(Value::as_str).unwrap_or_default().to_string()
+    meta.get(key)
+        .and_then(Value::as_str)
+        .unwrap_or_default()
+        .to_string()
 }
 
 fn pairs(value: Option<&Value>) -> Vec<(f64, f64)> {
     value
         .and_then(Value::as_array)
-        .map(|a| a.iter().filter_map(|p| Some((p.get(0)?.as_f64()?, p.get(1)?.as_f64()?))).collect())
+        .map(|a| {
+            a.iter()
+                .filter_map(|p| Some((p.get(0)?.as_f64()?, p.get(1)?.as_f64()?)))
+                .collect()
+        })
         .unwrap_or_default()
 }
 
@@ -67,10 +79,22 @@ pub fn to_parts(data: &ViewData) -> ViewParts {
             meta: json!({"kind": "temperature"}),
             arrays: vec![
                 ("radius_au".into(), d.radius_au.clone()),
-                ("midplane_temperature_k".into(), nan_for_none(&d.midplane_temperature_k)),
-                ("irradiation_temperature_k".into(), nan_for_none(&d.irradiation_temperature_k)),
-                ("accretion_temperature_k".into(), nan_for_none(&d.accretion_temperature_k)),
-                ("surface_density_g_cm2".into(), nan_for_none(&d.surface_density_g_cm2)),
+                (
+                    "midplane_temperature_k".into(),
+                    nan_for_none(&d.midplane_temperature_k),
+                ),
+                (
+                    "irradiation_temperature_k".into(),
+                    nan_for_none(&d.irradiation_temperature_k),
+                ),
+                (
+                    "accretion_temperature_k".into(),
+                    nan_for_none(&d.accretion_temperature_k),
+                ),
+                (
+                    "surface_density_g_cm2".into(),
+                    nan_for_none(&d.surface_density_g_cm2),
+                ),
             ],
         },
         ViewData::Abundances(d) => {
@@ -79,17 +103,26 @@ pub fn to_parts(data: &ViewData) -> ViewParts {
                 arrays.push((format!("gas_{i}"), nan_for_none(&s.gas_per_h)));
                 arrays.push((format!("ice_{i}"), nan_for_none(&s.ice_per_h)));
             }
-            ViewParts { meta: json!({"kind": "abundances", "labels": d.species.iter().map(|s| s.label.clone()).collect::<Vec<_>>()}), arrays }
+            ViewParts {
+                meta: json!({"kind": "abundances", "labels": d.species.iter().map(|s| s.label.clone()).collect::<Vec<_>>()}),
+                arrays,
+            }
         }
         ViewData::IceMap(d) | ViewData::CToOMap(d) => {
             let mut arrays = vec![
                 ("radius_au".to_string(), d.radius_au.clone()),
                 ("z_over_r".to_string(), d.z_over_r.clone()),
                 ("values".to_string(), d.values.clone()),
-                ("scale_height_over_r".to_string(), d.scale_height_over_r.clone()),
+                (
+                    "scale_height_over_r".to_string(),
+                    d.scale_height_over_r.clone(),
+                ),
             ];
             for (i, curve) in d.curves.iter().enumerate() {
-                arrays.push((format!("curve_{i}"), curve.iter().flat_map(|&(r, z)| [r, z]).collect()));
+                arrays.push((
+                    format!("curve_{i}"),
+                    curve.iter().flat_map(|&(r, z)| [r, z]).collect(),
+                ));
             }
             ViewParts {
                 meta: json!({
@@ -113,7 +146,12 @@ pub fn to_parts(data: &ViewData) -> ViewParts {
 /// A view back from its parts; an error names what is missing.
 pub fn from_parts(parts: &ViewParts) -> Result<ViewData, String> {
     let array = |name: &str| -> Result<Vec<f64>, String> {
-        parts.arrays.iter().find(|(n, _)| n == name).map(|(_, v)| v.clone()).ok_or_else(|| format!("view data lacks the array {name:?}"))
+        parts
+            .arrays
+            .iter()
+            .find(|(n, _)| n == name)
+            .map(|(_, v)| v.clone())
+            .ok_or_else(|| format!("view data lacks the array {name:?}"))
     };
     let meta = &parts.meta;
     Ok(match meta.get("kind").and_then(Value::as_str) {
@@ -126,7 +164,13 @@ pub fn from_parts(parts: &ViewParts) -> Result<ViewData, String> {
             snowlines: meta
                 .get("snowlines")
                 .and_then(Value::as_array)
-                .map(|a| a.iter().filter_map(|p| Some((p.get(0)?.as_str()?.to_string(), p.get(1)?.as_f64()?))).collect())
+                .map(|a| {
+                    a.iter()
+                        .filter_map(|p| {
+                            Some((p.get(0)?.as_str()?.to_string(), p.get(1)?.as_f64()?))
+                        })
+                        .collect()
+                })
                 .unwrap_or_default(),
             planet_radius_au: number(meta, "planet_radius_au"),
             allowed_formation_radii_au: pairs(meta.get("allowed_formation_radii_au")),
@@ -142,7 +186,11 @@ pub fn from_parts(parts: &ViewParts) -> Result<ViewData, String> {
             let labels: Vec<String> = meta
                 .get("labels")
                 .and_then(Value::as_array)
-                .map(|a| a.iter().filter_map(|l| l.as_str().map(str::to_string)).collect())
+                .map(|a| {
+                    a.iter()
+                        .filter_map(|l| l.as_str().map(str::to_string))
+                        .collect()
+                })
                 .unwrap_or_default();
             let mut species = Vec::with_capacity(labels.len());
             for (i, label) in labels.into_iter().enumerate() {
@@ -152,24 +200,42 @@ pub fn from_parts(parts: &ViewParts) -> Result<ViewData, String> {
                     ice_per_h: none_for_nan(&array(&format!("ice_{i}"))?),
                 });
             }
-            ViewData::Abundances(AbundanceData { radius_au: array("radius_au")?, species })
+            ViewData::Abundances(AbundanceData {
+                radius_au: array("radius_au")?,
+                species,
+            })
         }
         Some(kind @ ("ice_map" | "c_to_o_map")) => {
-            let range = pairs(Some(&json!([meta.get("value_range").cloned().unwrap_or(Value::Null)])));
+            let range = pairs(Some(&json!([meta
+                .get("value_range")
+                .cloned()
+                .unwrap_or(Value::Null)])));
             let curves = meta.get("curves").and_then(Value::as_u64).unwrap_or(0) as usize;
             let mut curve_points = Vec::with_capacity(curves);
             for i in 0..curves {
-                curve_points.push(array(&format!("curve_{i}"))?.chunks_exact(2).map(|p| (p[0], p[1])).collect());
+                curve_points.push(
+                    array(&format!("curve_{i}"))?
+                        .chunks_exact(2)
+                        .map(|p| (p[0], p[1]))
+                        .collect(),
+                );
             }
             let map = MapData {
                 radius_au: array("radius_au")?,
-                rows: meta.get("rows").and_then(Value::as_u64).ok_or("view data lacks rows")? as usize,
+                rows: meta
+                    .get("rows")
+                    .and_then(Value::as_u64)
+                    .ok_or("view data lacks rows")? as usize,
                 z_over_r: array("z_over_r")?,
                 values: array("values")?,
                 scale_height_over_r: array("scale_height_over_r")?,
                 value_label: text(meta, "value_label"),
                 value_range: *range.first().ok_or("view data lacks value_range")?,
-                colour_map: if text(meta, "colour_map") == ColourMap::Cividis.name() { ColourMap::Cividis } else { ColourMap::Viridis },
+                colour_map: if text(meta, "colour_map") == ColourMap::Cividis.name() {
+                    ColourMap::Cividis
+                } else {
+                    ColourMap::Viridis
+                },
                 contour_level: number(meta, "contour_level"),
                 contour_label: text(meta, "contour_label"),
                 curves: curve_points,
@@ -198,9 +264,15 @@ mod tests {
         let (pa, pb) = (to_parts(a), to_parts(b));
         pa.meta == pb.meta
             && pa.arrays.len() == pb.arrays.len()
-            && pa.arrays.iter().zip(&pb.arrays).all(|((na, va), (nb, vb))| {
-                na == nb && va.len() == vb.len() && va.iter().zip(vb).all(|(x, y)| x.to_bits() == y.to_bits())
-            })
+            && pa
+                .arrays
+                .iter()
+                .zip(&pb.arrays)
+                .all(|((na, va), (nb, vb))| {
+                    na == nb
+                        && va.len() == vb.len()
+                        && va.iter().zip(vb).all(|(x, y)| x.to_bits() == y.to_bits())
+                })
     }
 
     #[test]
@@ -232,7 +304,10 @@ mod tests {
 
     #[test]
     fn missing_parts_are_named() {
-        let parts = ViewParts { meta: json!({"kind": "temperature"}), arrays: vec![] };
+        let parts = ViewParts {
+            meta: json!({"kind": "temperature"}),
+            arrays: vec![],
+        };
         assert!(matches!(from_parts(&parts), Err(message) if message.contains("radius_au")));
     }
 }

@@ -19,8 +19,10 @@ use std::time::{Duration, SystemTime};
 use crate::{cargo, relative, repo_root, run, web_crate_exists};
 
 /// Benchmark groups in `benches/model.rs`, with what they time.
-const GROUPS: [(&str, &str); 2] =
-    [("structure", "DiskStructure::compute"), ("model", "Model::run + midplane_profile + snowlines")];
+const GROUPS: [(&str, &str); 2] = [
+    ("structure", "DiskStructure::compute"),
+    ("model", "Model::run + midplane_profile + snowlines"),
+];
 
 /// The default grid and the one with four times as many samples, as labelled in `benches/model.rs`.
 const DEFAULT_GRID: &str = "200x80";
@@ -31,11 +33,16 @@ pub fn bench() -> Result<(), String> {
     // Some file systems keep modification times to the second only; the slack
     // keeps a record written in this run from looking older than the run.
     let started = SystemTime::now() - Duration::from_secs(2);
-    run(cargo().current_dir(&root).args(["bench", "-p", "nivalis-physics", "--bench", "model"]))?;
+    run(cargo()
+        .current_dir(&root)
+        .args(["bench", "-p", "nivalis-physics", "--bench", "model"]))?;
 
     let criterion = root.join("target/criterion");
     println!("\nmedians (default disk; criterion median point estimates):");
-    println!("  {:<10} {:>12} {:>12} {:>12}   timed", "benchmark", DEFAULT_GRID, LARGE_GRID, "4x / 1x");
+    println!(
+        "  {:<10} {:>12} {:>12} {:>12}   timed",
+        "benchmark", DEFAULT_GRID, LARGE_GRID, "4x / 1x"
+    );
     for (group, what) in GROUPS {
         let small = median_ns(&criterion.join(group).join(DEFAULT_GRID), started)?;
         let large = median_ns(&criterion.join(group).join(LARGE_GRID), started)?;
@@ -56,10 +63,13 @@ pub fn bench() -> Result<(), String> {
 fn median_ns(benchmark_dir: &Path, not_before: SystemTime) -> Result<f64, String> {
     let file = benchmark_dir.join("new/estimates.json");
     let shown = relative(&file);
-    let modified =
-        std::fs::metadata(&file).and_then(|m| m.modified()).map_err(|e| format!("cannot read {shown}: {e}"))?;
+    let modified = std::fs::metadata(&file)
+        .and_then(|m| m.modified())
+        .map_err(|e| format!("cannot read {shown}: {e}"))?;
     if modified < not_before {
-        return Err(format!("{shown} was not rewritten by this run; did the benchmark run?"));
+        return Err(format!(
+            "{shown} was not rewritten by this run; did the benchmark run?"
+        ));
     }
     let text = std::fs::read_to_string(&file).map_err(|e| format!("cannot read {shown}: {e}"))?;
     median_point_estimate(&text).ok_or_else(|| format!("{shown}: no median point estimate found"))
@@ -72,9 +82,14 @@ fn median_ns(benchmark_dir: &Path, not_before: SystemTime) -> Result<f64, String
 fn median_point_estimate(json: &str) -> Option<f64> {
     let after_median = key_value(json, "median")?;
     let after_point = key_value(after_median, "point_estimate")?;
-    let number: String =
-        after_point.chars().take_while(|c| c.is_ascii_digit() || matches!(c, '.' | '-' | '+' | 'e' | 'E')).collect();
-    number.parse::<f64>().ok().filter(|value| value.is_finite() && *value > 0.0)
+    let number: String = after_point
+        .chars()
+        .take_while(|c| c.is_ascii_digit() || matches!(c, '.' | '-' | '+' | 'e' | 'E'))
+        .collect();
+    number
+        .parse::<f64>()
+        .ok()
+        .filter(|value| value.is_finite() && *value > 0.0)
 }
 
 /// The text right after `"key":` (whitespace allowed around the colon), for the
@@ -128,7 +143,9 @@ fn browser_bench() -> Result<(), String> {
         println!("built {}", relative(&page));
     }
     crate::test::ensure_browser_packages()?;
-    run(Command::new("node").current_dir(&root).arg("tests/browser/bench.mjs"))
+    run(Command::new("node")
+        .current_dir(&root)
+        .arg("tests/browser/bench.mjs"))
 }
 
 #[cfg(test)]
@@ -151,8 +168,14 @@ mod tests {
 
     #[test]
     fn missing_or_bad_median_is_none() {
-        assert_eq!(median_point_estimate("{\"mean\":{\"point_estimate\":1.0}}"), None);
-        assert_eq!(median_point_estimate("{\"median\":{\"point_estimate\":\"x\"}}"), None);
+        assert_eq!(
+            median_point_estimate("{\"mean\":{\"point_estimate\":1.0}}"),
+            None
+        );
+        assert_eq!(
+            median_point_estimate("{\"median\":{\"point_estimate\":\"x\"}}"),
+            None
+        );
     }
 
     #[test]

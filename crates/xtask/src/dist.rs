@@ -68,10 +68,15 @@ pub fn dist(release: bool) -> Result<PathBuf, String> {
         "--config",
         "profile.wasm-release.strip=\"debuginfo\"",
     ]))?;
-    let target_dir = std::env::var_os("CARGO_TARGET_DIR").map(PathBuf::from).unwrap_or_else(|| root.join("target"));
+    let target_dir = std::env::var_os("CARGO_TARGET_DIR")
+        .map(PathBuf::from)
+        .unwrap_or_else(|| root.join("target"));
     // Cargo names the dev profile's output directory `debug`.
     let profile_dir = if release { "wasm-release" } else { "debug" };
-    let wasm_path = target_dir.join(WASM_TARGET).join(profile_dir).join("nivalis_web.wasm");
+    let wasm_path = target_dir
+        .join(WASM_TARGET)
+        .join(profile_dir)
+        .join("nivalis_web.wasm");
 
     let (glue, worker_glue, mut wasm) = bindgen(&wasm_path)?;
     if release && std::env::var_os("NIVALIS_KEEP_NAMES").is_none() {
@@ -83,7 +88,9 @@ pub fn dist(release: bool) -> Result<PathBuf, String> {
         wasm = optimise(&root, wasm)?;
     }
 
-    let read = |path: &Path| std::fs::read_to_string(path).map_err(|e| format!("cannot read {}: {e}", relative(path)));
+    let read = |path: &Path| {
+        std::fs::read_to_string(path).map_err(|e| format!("cannot read {}: {e}", relative(path)))
+    };
     let template = read(&root.join("web/index.html"))?;
     // Several sources per element, joined in this fixed order: the planet
     // panel's script runs after app.js in the same module scope (it uses
@@ -107,11 +114,16 @@ pub fn dist(release: bool) -> Result<PathBuf, String> {
         base64(&wasm)
     );
     for (what, text) in [
-        ("web/app.js and web/planet.js with the glue", script.as_str()),
+        (
+            "web/app.js and web/planet.js with the glue",
+            script.as_str(),
+        ),
         ("web/worker.js with the glue", worker_source.as_str()),
         ("web/style.css and web/planet.css", style.as_str()),
     ] {
-        if text.to_ascii_lowercase().contains("</script") || text.to_ascii_lowercase().contains("</style") {
+        if text.to_ascii_lowercase().contains("</script")
+            || text.to_ascii_lowercase().contains("</style")
+        {
             return Err(format!("{what} contains a closing </script> or </style> tag, which would end its inline element early"));
         }
     }
@@ -123,11 +135,20 @@ pub fn dist(release: bool) -> Result<PathBuf, String> {
     )?;
     // The worker's script, as text the page turns into a blob: URL (a
     // text/plain script element is never executed by the page itself).
-    let html = fill(&html, WORKER_SLOT, &format!("<script type=\"text/plain\" id=\"worker-source\">\n{worker_source}\n</script>"))?;
-    let html = fill(&html, SCRIPT_SLOT, &format!("<script type=\"module\">\n{script}\n</script>"))?;
+    let html = fill(
+        &html,
+        WORKER_SLOT,
+        &format!("<script type=\"text/plain\" id=\"worker-source\">\n{worker_source}\n</script>"),
+    )?;
+    let html = fill(
+        &html,
+        SCRIPT_SLOT,
+        &format!("<script type=\"module\">\n{script}\n</script>"),
+    )?;
 
     let site = target_dir.join("site");
-    std::fs::create_dir_all(&site).map_err(|e| format!("cannot create {}: {e}", relative(&site)))?;
+    std::fs::create_dir_all(&site)
+        .map_err(|e| format!("cannot create {}: {e}", relative(&site)))?;
     let page = site.join("nivalis.html");
     std::fs::write(&page, &html).map_err(|e| format!("cannot write {}: {e}", relative(&page)))?;
     println!(
@@ -153,7 +174,9 @@ fn bindgen(wasm_path: &Path) -> Result<(String, String, Vec<u8>), String> {
     let (page_glue, page_wasm) = bindgen_target(wasm_path, false)?;
     let (worker_glue, worker_wasm) = bindgen_target(wasm_path, true)?;
     if page_wasm != worker_wasm {
-        return Err("wasm-bindgen produced different modules for the page and the worker glue".to_string());
+        return Err(
+            "wasm-bindgen produced different modules for the page and the worker glue".to_string(),
+        );
     }
     Ok((page_glue, worker_glue, page_wasm))
 }
@@ -163,22 +186,30 @@ fn bindgen_target(wasm_path: &Path, classic: bool) -> Result<(String, Vec<u8>), 
     // the page names Rust functions (for performance work; the page is larger).
     let keep_names = std::env::var_os("NIVALIS_KEEP_NAMES").is_some_and(|v| v == "1");
     let mut bindgen = wasm_bindgen_cli_support::Bindgen::new();
-    bindgen
-        .input_path(wasm_path);
+    bindgen.input_path(wasm_path);
     if classic {
-        bindgen.no_modules(true).map_err(|e| format!("wasm-bindgen: {e:#}"))?;
+        bindgen
+            .no_modules(true)
+            .map_err(|e| format!("wasm-bindgen: {e:#}"))?;
     } else {
-        bindgen.web(true).map_err(|e| format!("wasm-bindgen: {e:#}"))?;
+        bindgen
+            .web(true)
+            .map_err(|e| format!("wasm-bindgen: {e:#}"))?;
     }
     bindgen
         .typescript(false)
         .debug(false)
         .remove_name_section(!keep_names)
         .remove_producers_section(true);
-    let mut output = bindgen.generate_output().map_err(|e| format!("wasm-bindgen: {e:#}"))?;
+    let mut output = bindgen
+        .generate_output()
+        .map_err(|e| format!("wasm-bindgen: {e:#}"))?;
     if !output.snippets().values().all(Vec::is_empty) || !output.local_modules().is_empty() {
         // Snippets would be extra JS files; the page must stay one file.
-        return Err("wasm-bindgen produced JS snippets or local modules; the page cannot inline them".to_string());
+        return Err(
+            "wasm-bindgen produced JS snippets or local modules; the page cannot inline them"
+                .to_string(),
+        );
     }
     let glue = output.js().to_string();
     let wasm = output.wasm_mut().emit_wasm();
@@ -200,12 +231,21 @@ fn optimise(root: &Path, wasm: Vec<u8>) -> Result<Vec<u8>, String> {
     // The features match what rustc's wasm32 target emits by default.
     let outcome = run(Command::new(&tool)
         .arg("-Oz")
-        .args(["--enable-bulk-memory", "--enable-nontrapping-float-to-int", "--enable-sign-ext", "--enable-mutable-globals", "--enable-multivalue", "--enable-reference-types"])
+        .args([
+            "--enable-bulk-memory",
+            "--enable-nontrapping-float-to-int",
+            "--enable-sign-ext",
+            "--enable-mutable-globals",
+            "--enable-multivalue",
+            "--enable-reference-types",
+        ])
         .arg(&input)
         .arg("-o")
         .arg(&output));
     let result = match outcome {
-        Ok(()) => std::fs::read(&output).map_err(|e| format!("cannot read {}: {e}", output.display())),
+        Ok(()) => {
+            std::fs::read(&output).map_err(|e| format!("cannot read {}: {e}", output.display()))
+        }
         Err(message) => {
             println!("wasm-opt failed ({message}); module left as built");
             Ok(wasm)
@@ -219,7 +259,9 @@ fn optimise(root: &Path, wasm: Vec<u8>) -> Result<Vec<u8>, String> {
 fn fill(template: &str, slot: &str, content: &str) -> Result<String, String> {
     match template.matches(slot).count() {
         1 => Ok(template.replacen(slot, content, 1)),
-        n => Err(format!("web/index.html must contain {slot} exactly once, found {n}")),
+        n => Err(format!(
+            "web/index.html must contain {slot} exactly once, found {n}"
+        )),
     }
 }
 
@@ -236,13 +278,17 @@ fn demo_disks_json(dir: &Path) -> Result<String, String> {
     files.sort();
     let mut out = String::from("{");
     for (i, file) in files.iter().enumerate() {
-        let text = std::fs::read_to_string(file).map_err(|e| format!("cannot read {}: {e}", relative(file)))?;
+        let text = std::fs::read_to_string(file)
+            .map_err(|e| format!("cannot read {}: {e}", relative(file)))?;
         let trimmed = text.trim();
         if !trimmed.starts_with('{') || !trimmed.ends_with('}') {
             return Err(format!("{} is not a JSON object", relative(file)));
         }
         // Invariant: file_name exists because read_dir lists entries by name.
-        let name = file.file_name().expect("listed file has a name").to_string_lossy();
+        let name = file
+            .file_name()
+            .expect("listed file has a name")
+            .to_string_lossy();
         if i > 0 {
             out.push(',');
         }
@@ -275,7 +321,11 @@ fn base64(bytes: &[u8]) -> String {
     const ALPHABET: &[u8; 64] = b"ABCDEFGHIJKLMNOPQRSTUVWXYZabcdefghijklmnopqrstuvwxyz0123456789+/";
     let mut out = String::with_capacity(bytes.len().div_ceil(3) * 4);
     for chunk in bytes.chunks(3) {
-        let b = [chunk[0], *chunk.get(1).unwrap_or(&0), *chunk.get(2).unwrap_or(&0)];
+        let b = [
+            chunk[0],
+            *chunk.get(1).unwrap_or(&0),
+            *chunk.get(2).unwrap_or(&0),
+        ];
         let n = (u32::from(b[0]) << 16) | (u32::from(b[1]) << 8) | u32::from(b[2]);
         for (i, shift) in [18, 12, 6, 0].into_iter().enumerate() {
             if i <= chunk.len() {
@@ -295,7 +345,15 @@ mod tests {
     #[test]
     fn base64_matches_rfc_4648_test_vectors() {
         // RFC 4648 section 10 test vectors.
-        for (input, expected) in [("", ""), ("f", "Zg=="), ("fo", "Zm8="), ("foo", "Zm9v"), ("foob", "Zm9vYg=="), ("fooba", "Zm9vYmE="), ("foobar", "Zm9vYmFy")] {
+        for (input, expected) in [
+            ("", ""),
+            ("f", "Zg=="),
+            ("fo", "Zm8="),
+            ("foo", "Zm9v"),
+            ("foob", "Zm9vYg=="),
+            ("fooba", "Zm9vYmE="),
+            ("foobar", "Zm9vYmFy"),
+        ] {
             assert_eq!(base64(input.as_bytes()), expected, "{input}");
         }
     }
@@ -316,6 +374,9 @@ mod tests {
         std::fs::write(dir.join("notes.md"), "not a disk").unwrap();
         let json = demo_disks_json(&dir).unwrap();
         std::fs::remove_dir_all(&dir).unwrap();
-        assert_eq!(json, "{\"a.json\":{},\"b.json\":{\"name\": \"x<\\/script>\"}}");
+        assert_eq!(
+            json,
+            "{\"a.json\":{},\"b.json\":{\"name\": \"x<\\/script>\"}}"
+        );
     }
 }

@@ -19,7 +19,11 @@ pub fn fuzz(seconds: u64) -> Result<(), String> {
     }
     // `+nightly` is understood by rustup's `cargo` proxy only, so this calls
     // `cargo` from PATH rather than the toolchain binary in $CARGO.
-    if !succeeds(Command::new("cargo").current_dir(&dir).args(["+nightly", "fuzz", "--version"])) {
+    if !succeeds(
+        Command::new("cargo")
+            .current_dir(&dir)
+            .args(["+nightly", "fuzz", "--version"]),
+    ) {
         println!("cargo-fuzz or a nightly toolchain is missing. Install them with");
         println!("    rustup toolchain install nightly");
         println!("    cargo install cargo-fuzz");
@@ -28,7 +32,10 @@ pub fn fuzz(seconds: u64) -> Result<(), String> {
     }
     let targets = fuzz_targets(&dir.join("fuzz_targets"))?;
     if targets.is_empty() {
-        return Err(format!("no fuzz targets in {}", relative(&dir.join("fuzz_targets"))));
+        return Err(format!(
+            "no fuzz targets in {}",
+            relative(&dir.join("fuzz_targets"))
+        ));
     }
     for target in &targets {
         println!("\n==> fuzzing {target} for {seconds} s");
@@ -37,17 +44,24 @@ pub fn fuzz(seconds: u64) -> Result<(), String> {
             .args(["+nightly", "fuzz", "run", target, "--"])
             .arg(format!("-max_total_time={seconds}")))?;
     }
-    println!("\n{} fuzz targets ran {seconds} s each without a crash", targets.len());
+    println!(
+        "\n{} fuzz targets ran {seconds} s each without a crash",
+        targets.len()
+    );
     Ok(())
 }
 
 /// Target names: the stems of the `.rs` files in `fuzz/fuzz_targets`, sorted.
 fn fuzz_targets(dir: &std::path::Path) -> Result<Vec<String>, String> {
-    let entries = std::fs::read_dir(dir).map_err(|e| format!("cannot list {}: {e}", relative(dir)))?;
+    let entries =
+        std::fs::read_dir(dir).map_err(|e| format!("cannot list {}: {e}", relative(dir)))?;
     let mut names: Vec<String> = entries
         .filter_map(|entry| entry.ok().map(|e| e.path()))
         .filter(|path: &PathBuf| path.extension().is_some_and(|ext| ext == "rs"))
-        .filter_map(|path| path.file_stem().map(|stem| stem.to_string_lossy().into_owned()))
+        .filter_map(|path| {
+            path.file_stem()
+                .map(|stem| stem.to_string_lossy().into_owned())
+        })
         .collect();
     names.sort();
     Ok(names)

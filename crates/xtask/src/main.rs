@@ -21,6 +21,7 @@
 mod bench;
 mod dist;
 mod fuzz;
+mod gates;
 mod open;
 mod test;
 
@@ -53,9 +54,8 @@ fn main() -> ExitCode {
         "test" => no_options(command, rest).and_then(|()| test::test()),
         "bench" => no_options(command, rest).and_then(|()| bench::bench()),
         "open" => dev_flag(command, rest).and_then(|dev| open::open(!dev)),
-        "dist" => {
-            dev_flag(command, rest).and_then(|dev| dist::dist(!dev).map(|path| println!("built {}", path.display())))
-        }
+        "dist" => dev_flag(command, rest)
+            .and_then(|dev| dist::dist(!dev).map(|path| println!("built {}", path.display()))),
         "fuzz" => fuzz_seconds(rest).and_then(fuzz::fuzz),
         "help" | "--help" | "-h" => {
             println!("{USAGE}");
@@ -83,7 +83,9 @@ fn main() -> ExitCode {
 fn no_options(command: &str, rest: &[String]) -> Result<(), String> {
     match rest.first() {
         None => Ok(()),
-        Some(extra) => Err(format!("unexpected argument `{extra}`; `{command}` takes no arguments")),
+        Some(extra) => Err(format!(
+            "unexpected argument `{extra}`; `{command}` takes no arguments"
+        )),
     }
 }
 
@@ -92,7 +94,9 @@ fn dev_flag(command: &str, rest: &[String]) -> Result<bool, String> {
     match rest {
         [] => Ok(false),
         [flag] if flag == "--dev" => Ok(true),
-        [extra, ..] => Err(format!("unexpected argument `{extra}`; `{command}` accepts only --dev")),
+        [extra, ..] => Err(format!(
+            "unexpected argument `{extra}`; `{command}` accepts only --dev"
+        )),
     }
 }
 
@@ -104,7 +108,9 @@ fn fuzz_seconds(rest: &[String]) -> Result<u64, String> {
             Ok(value) if value > 0 => Ok(value),
             _ => Err(format!("SECONDS must be a whole number > 0, got {seconds}")),
         },
-        [_, extra, ..] => Err(format!("unexpected argument `{extra}`; usage: cargo xtask fuzz [SECONDS]")),
+        [_, extra, ..] => Err(format!(
+            "unexpected argument `{extra}`; usage: cargo xtask fuzz [SECONDS]"
+        )),
     }
 }
 
@@ -114,7 +120,11 @@ fn fuzz_seconds(rest: &[String]) -> Result<u64, String> {
 pub fn repo_root() -> PathBuf {
     let manifest = Path::new(env!("CARGO_MANIFEST_DIR"));
     // The two ancestors exist because the manifest directory is `<root>/crates/xtask`.
-    manifest.ancestors().nth(2).expect("crates/xtask sits two levels below the workspace root").to_path_buf()
+    manifest
+        .ancestors()
+        .nth(2)
+        .expect("crates/xtask sits two levels below the workspace root")
+        .to_path_buf()
 }
 
 /// Whether the page crate exists yet (its engineer adds `crates/web`).
@@ -133,7 +143,9 @@ pub fn cargo() -> Command {
 pub fn run(command: &mut Command) -> Result<(), String> {
     let shown = show(command);
     println!("$ {shown}");
-    let status = command.status().map_err(|error| format!("could not start `{shown}`: {error}"))?;
+    let status = command
+        .status()
+        .map_err(|error| format!("could not start `{shown}`: {error}"))?;
     if status.success() {
         Ok(())
     } else {
@@ -155,7 +167,9 @@ pub fn succeeds(command: &mut Command) -> bool {
 
 /// Whether a program can be found on `PATH` (for optional tools like openers).
 pub fn on_path(program: &str) -> bool {
-    let Some(path) = std::env::var_os("PATH") else { return false };
+    let Some(path) = std::env::var_os("PATH") else {
+        return false;
+    };
     std::env::split_paths(&path).any(|dir| {
         let candidate = dir.join(program);
         candidate.is_file() || (cfg!(windows) && candidate.with_extension("exe").is_file())
@@ -165,7 +179,10 @@ pub fn on_path(program: &str) -> bool {
 /// A command line as text, program name shortened to its file name, for echoing.
 fn show(command: &Command) -> String {
     let program = Path::new(command.get_program());
-    let name = program.file_name().map(|n| n.to_string_lossy().into_owned()).unwrap_or_default();
+    let name = program
+        .file_name()
+        .map(|n| n.to_string_lossy().into_owned())
+        .unwrap_or_default();
     let mut text = name;
     for arg in command.get_args() {
         text.push(' ');
@@ -205,7 +222,10 @@ mod tests {
     fn fuzz_seconds_accepts_positive_integers_only() {
         assert_eq!(fuzz_seconds(&[]), Ok(60));
         assert_eq!(fuzz_seconds(&strings(&["5"])), Ok(5));
-        assert_eq!(fuzz_seconds(&strings(&["0"])), Err("SECONDS must be a whole number > 0, got 0".to_string()));
+        assert_eq!(
+            fuzz_seconds(&strings(&["0"])),
+            Err("SECONDS must be a whole number > 0, got 0".to_string())
+        );
         assert!(fuzz_seconds(&strings(&["ten"])).is_err());
         assert!(fuzz_seconds(&strings(&["5", "6"])).is_err());
     }

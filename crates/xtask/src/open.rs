@@ -14,7 +14,9 @@ use crate::{cargo, on_path, relative, repo_root, run, web_crate_exists};
 
 pub fn open(release: bool) -> Result<(), String> {
     if !web_crate_exists() {
-        println!("the page is not built yet: crates/web does not exist, so there is nothing to open.");
+        println!(
+            "the page is not built yet: crates/web does not exist, so there is nothing to open."
+        );
         return cli_fallback();
     }
     match crate::dist::dist(release) {
@@ -30,7 +32,9 @@ pub fn open(release: bool) -> Result<(), String> {
 
 /// Shows the file's location and hands it to the system opener when one can work here.
 fn open_file(page: &Path) -> Result<(), String> {
-    let page = page.canonicalize().map_err(|e| format!("built page {} is missing: {e}", page.display()))?;
+    let page = page
+        .canonicalize()
+        .map_err(|e| format!("built page {} is missing: {e}", page.display()))?;
     println!("page: {}", page.display());
     println!("url:  {}", file_url(&page));
     let Some(mut opener) = system_opener(&page) else {
@@ -60,7 +64,8 @@ fn system_opener(page: &Path) -> Option<Command> {
         command.args(["/c", "start", ""]).arg(page);
         Some(command)
     } else {
-        let has_display = std::env::var_os("DISPLAY").is_some() || std::env::var_os("WAYLAND_DISPLAY").is_some();
+        let has_display =
+            std::env::var_os("DISPLAY").is_some() || std::env::var_os("WAYLAND_DISPLAY").is_some();
         if has_display && on_path("xdg-open") {
             let mut command = Command::new("xdg-open");
             command.arg(page);
@@ -84,7 +89,9 @@ fn file_url(path: &Path) -> String {
     }
     for byte in text.bytes() {
         match byte {
-            b'A'..=b'Z' | b'a'..=b'z' | b'0'..=b'9' | b'-' | b'.' | b'_' | b'~' | b'/' | b':' => url.push(byte as char),
+            b'A'..=b'Z' | b'a'..=b'z' | b'0'..=b'9' | b'-' | b'.' | b'_' | b'~' | b'/' | b':' => {
+                url.push(byte as char)
+            }
             other => url.push_str(&format!("%{other:02X}")),
         }
     }
@@ -95,10 +102,16 @@ fn file_url(path: &Path) -> String {
 fn cli_fallback() -> Result<(), String> {
     let root = repo_root();
     if !root.join("crates/cli/Cargo.toml").is_file() {
-        return Err("the CLI (crates/cli) does not exist yet either, so there is nothing to show".to_string());
+        return Err(
+            "the CLI (crates/cli) does not exist yet either, so there is nothing to show"
+                .to_string(),
+        );
     }
     let disk = default_disk(&root)?;
-    println!("showing the CLI's structure profile of the default disk ({}) instead:\n", relative(&disk));
+    println!(
+        "showing the CLI's structure profile of the default disk ({}) instead:\n",
+        relative(&disk)
+    );
     run(cargo()
         .current_dir(&root)
         .args(["run", "--quiet", "-p", "nivalis-cli", "--", "structure"])
@@ -128,8 +141,14 @@ mod tests {
 
     #[test]
     fn file_urls_encode_spaces_and_keep_separators() {
-        assert_eq!(file_url(Path::new("/home/a b/site/nivalis.html")), "file:///home/a%20b/site/nivalis.html");
-        assert_eq!(file_url(Path::new("/x/caf\u{e9}.html")), "file:///x/caf%C3%A9.html");
+        assert_eq!(
+            file_url(Path::new("/home/a b/site/nivalis.html")),
+            "file:///home/a%20b/site/nivalis.html"
+        );
+        assert_eq!(
+            file_url(Path::new("/x/caf\u{e9}.html")),
+            "file:///x/caf%C3%A9.html"
+        );
     }
 
     #[test]

@@ -2,14 +2,19 @@
 //!
 //! Stages, in order (a stage whose part of the tree does not exist yet is
 //! skipped and not counted, with the reason printed):
-//! 1. Rust: `cargo test --workspace` (unit, integration and doc tests).
-//! 2. Python checks: every `tests/python/*.py` script, run with `python3` from
+//! 1. Quality gates: `cargo fmt --check`, `cargo clippy -D warnings`, the
+//!    core's docs with rustdoc warnings denied ([`crate::gates`]).
+//! 2. Rust: `cargo test --workspace` (unit, integration and doc tests).
+//! 3. The core in WebAssembly: the core's and the integration tests compiled
+//!    to wasm32-wasip1 and run under Node's WASI, and a bit-exact comparison of
+//!    native and WebAssembly numbers ([`crate::gates`]).
+//! 4. Python checks: every `tests/python/*.py` script, run with `python3` from
 //!    the repository root, after making sure the reference libraries they use
 //!    (astropy, scipy, bibtexparser) can be imported.
-//! 3. Page build: when `crates/web/Cargo.toml` exists, make sure the
+//! 5. Page build: when `crates/web/Cargo.toml` exists, make sure the
 //!    wasm32-unknown-unknown target is installed and build the page with
 //!    [`crate::dist::dist`], because the browser tests load the built file.
-//! 4. Browser tests: when `tests/browser/package.json` exists, install its npm
+//! 6. Browser tests: when `tests/browser/package.json` exists, install its npm
 //!    packages if `node_modules` is missing, then `node --test tests/browser/`.
 //!
 //! The first failing stage stops the run. The last line printed is always
@@ -47,10 +52,30 @@ struct Stage {
 /// tells `main` that the failure has already been reported.
 pub fn test() -> Result<(), String> {
     let stages = [
-        Stage { name: "rust tests (cargo test --workspace)", work: rust_tests },
-        Stage { name: "python checks (tests/python/*.py)", work: python_checks },
-        Stage { name: "page build (cargo xtask dist)", work: page_build },
-        Stage { name: "browser tests (node --test tests/browser/)", work: browser_tests },
+        Stage {
+            name: "quality gates (fmt, clippy -D warnings, core docs)",
+            work: crate::gates::quality_gates,
+        },
+        Stage {
+            name: "rust tests (cargo test --workspace)",
+            work: rust_tests,
+        },
+        Stage {
+            name: "core in WebAssembly (wasm32-wasip1 under Node's WASI)",
+            work: crate::gates::wasm_core,
+        },
+        Stage {
+            name: "python checks (tests/python/*.py)",
+            work: python_checks,
+        },
+        Stage {
+            name: "page build (cargo xtask dist)",
+            work: page_build,
+        },
+        Stage {
+            name: "browser tests (node --test tests/browser/)",
+            work: browser_tests,
+        },
     ];
     let mut outcomes = Vec::new();
     let mut failed = false;
@@ -59,7 +84,12 @@ pub fn test() -> Result<(), String> {
             outcomes.push(Outcome::NotRun);
             continue;
         }
-        println!("\n==> stage {}/{}: {}", number + 1, stages.len(), stage.name);
+        println!(
+            "\n==> stage {}/{}: {}",
+            number + 1,
+            stages.len(),
+            stage.name
+        );
         let outcome = match (stage.work)() {
             Ok(None) => Outcome::Passed,
             Ok(Some(reason)) => {
@@ -84,8 +114,14 @@ pub fn test() -> Result<(), String> {
             Outcome::NotRun => println!("  not run  {} (an earlier stage failed)", stage.name),
         }
     }
-    let passed = outcomes.iter().filter(|o| matches!(o, Outcome::Passed)).count();
-    let failures = outcomes.iter().filter(|o| matches!(o, Outcome::Failed(_))).count();
+    let passed = outcomes
+        .iter()
+        .filter(|o| matches!(o, Outcome::Passed))
+        .count();
+    let failures = outcomes
+        .iter()
+        .filter(|o| matches!(o, Outcome::Failed(_)))
+        .count();
     println!("{passed} passed, {failures} failed");
     if failures == 0 {
         Ok(())
@@ -95,7 +131,9 @@ pub fn test() -> Result<(), String> {
 }
 
 fn rust_tests() -> Result<Option<String>, String> {
-    run(cargo().current_dir(repo_root()).args(["test", "--workspace"]))?;
+    run(cargo()
+        .current_dir(repo_root())
+        .args(["test", "--workspace"]))?;
     Ok(None)
 }
 
@@ -121,7 +159,12 @@ fn python_checks() -> Result<Option<String>, String> {
         println!("{} python scripts passed", scripts.len());
         Ok(None)
     } else {
-        Err(format!("{} of {} python scripts failed: {}", failures.len(), scripts.len(), failures.join(", ")))
+        Err(format!(
+            "{} of {} python scripts failed: {}",
+            failures.len(),
+            scripts.len(),
+            failures.join(", ")
+        ))
     }
 }
 
@@ -131,7 +174,8 @@ fn python_scripts(dir: &Path) -> Result<Vec<PathBuf>, String> {
     if !dir.is_dir() {
         return Ok(Vec::new());
     }
-    let entries = std::fs::read_dir(dir).map_err(|e| format!("cannot list {}: {e}", relative(dir)))?;
+    let entries =
+        std::fs::read_dir(dir).map_err(|e| format!("cannot list {}: {e}", relative(dir)))?;
     let mut scripts: Vec<PathBuf> = entries
         .filter_map(|entry| entry.ok().map(|e| e.path()))
         .filter(|path| path.is_file() && path.extension().is_some_and(|ext| ext == "py"))
@@ -149,9 +193,15 @@ pub fn ensure_python_modules() -> Result<(), String> {
     if succeeds(Command::new("python3").args(["-c", &import])) {
         return Ok(());
     }
-    println!("python modules missing; installing {}", PYTHON_MODULES.join(" "));
+    println!(
+        "python modules missing; installing {}",
+        PYTHON_MODULES.join(" ")
+    );
     let install = |extra: &[&str]| {
-        run(Command::new("python3").args(["-m", "pip", "install", "--quiet"]).args(extra).args(PYTHON_MODULES))
+        run(Command::new("python3")
+            .args(["-m", "pip", "install", "--quiet"])
+            .args(extra)
+            .args(PYTHON_MODULES))
     };
     if let Err(first) = install(&[]) {
         println!("plain pip install failed ({first}); retrying with --break-system-packages");
@@ -160,7 +210,9 @@ pub fn ensure_python_modules() -> Result<(), String> {
     if succeeds(Command::new("python3").args(["-c", &import])) {
         Ok(())
     } else {
-        Err(format!("`python3 -c \"{import}\"` still fails after pip install"))
+        Err(format!(
+            "`python3 -c \"{import}\"` still fails after pip install"
+        ))
     }
 }
 
@@ -180,37 +232,58 @@ fn page_build() -> Result<Option<String>, String> {
 /// one running this task, because the rustup proxy passes it on in
 /// `RUSTUP_TOOLCHAIN`.
 pub fn ensure_wasm_target() -> Result<(), String> {
+    ensure_target(WASM_TARGET)
+}
+
+/// Installs a compilation target when the active toolchain lacks it (see
+/// [`ensure_wasm_target`] for why rustup is asked from outside the repository).
+pub fn ensure_target(target: &str) -> Result<(), String> {
     let outside = std::env::temp_dir();
-    let listed = Command::new("rustup").current_dir(&outside).args(["target", "list", "--installed"]).output();
+    let listed = Command::new("rustup")
+        .current_dir(&outside)
+        .args(["target", "list", "--installed"])
+        .output();
     match listed {
         Err(_) => {
             // Without rustup the toolchain was installed some other way; the
             // build itself will say clearly if the target is missing.
-            println!("rustup not found; assuming the {WASM_TARGET} target is installed");
+            println!("rustup not found; assuming the {target} target is installed");
             Ok(())
         }
-        Ok(output) if String::from_utf8_lossy(&output.stdout).lines().any(|line| line.trim() == WASM_TARGET) => {
-            println!("{WASM_TARGET} target installed");
+        Ok(output)
+            if String::from_utf8_lossy(&output.stdout)
+                .lines()
+                .any(|line| line.trim() == target) =>
+        {
+            println!("{target} target installed");
             Ok(())
         }
-        Ok(_) => run(Command::new("rustup").current_dir(&outside).args(["target", "add", WASM_TARGET])),
+        Ok(_) => run(Command::new("rustup")
+            .current_dir(&outside)
+            .args(["target", "add", target])),
     }
 }
 
 fn browser_tests() -> Result<Option<String>, String> {
     let dir = repo_root().join("tests/browser");
     if !dir.join("package.json").is_file() {
-        return Ok(Some("tests/browser/package.json does not exist yet".to_string()));
+        return Ok(Some(
+            "tests/browser/package.json does not exist yet".to_string(),
+        ));
     }
     ensure_browser_packages()?;
     // Node's runner quietly passes when it finds no test file, which would make
     // this stage unable to fail; count them first.
     let count = node_test_files(&dir).len();
     if count == 0 {
-        return Err("no test files in tests/browser (node --test runs files named *.test.mjs)".to_string());
+        return Err(
+            "no test files in tests/browser (node --test runs files named *.test.mjs)".to_string(),
+        );
     }
     println!("{count} browser test files");
-    run(Command::new("node").current_dir(repo_root()).args(["--test", "tests/browser/"]))?;
+    run(Command::new("node")
+        .current_dir(repo_root())
+        .args(["--test", "tests/browser/"]))?;
     Ok(None)
 }
 
@@ -221,8 +294,14 @@ pub fn ensure_browser_packages() -> Result<(), String> {
     if dir.join("node_modules").is_dir() {
         return Ok(());
     }
-    let verb = if dir.join("package-lock.json").is_file() { "ci" } else { "install" };
-    run(Command::new("npm").current_dir(&dir).args([verb, "--no-audit", "--no-fund"]))
+    let verb = if dir.join("package-lock.json").is_file() {
+        "ci"
+    } else {
+        "install"
+    };
+    run(Command::new("npm")
+        .current_dir(&dir)
+        .args([verb, "--no-audit", "--no-fund"]))
 }
 
 /// Files under `dir` (outside `node_modules`) that `node --test DIR` runs:
@@ -232,7 +311,9 @@ fn node_test_files(dir: &Path) -> Vec<PathBuf> {
     let mut found = Vec::new();
     let mut pending = vec![(dir.to_path_buf(), false)];
     while let Some((current, inside_test_dir)) = pending.pop() {
-        let Ok(entries) = std::fs::read_dir(&current) else { continue };
+        let Ok(entries) = std::fs::read_dir(&current) else {
+            continue;
+        };
         for entry in entries.flatten() {
             let path = entry.path();
             let name = entry.file_name().to_string_lossy().into_owned();
@@ -250,7 +331,9 @@ fn node_test_files(dir: &Path) -> Vec<PathBuf> {
 }
 
 fn is_node_test_file(name: &str, inside_test_dir: bool) -> bool {
-    let Some((stem, extension)) = name.rsplit_once('.') else { return false };
+    let Some((stem, extension)) = name.rsplit_once('.') else {
+        return false;
+    };
     if !matches!(extension, "js" | "mjs" | "cjs") {
         return false;
     }
@@ -268,10 +351,22 @@ mod tests {
 
     #[test]
     fn node_test_file_names_follow_node_20_defaults() {
-        for name in ["page.test.mjs", "page-test.js", "page_test.cjs", "test-page.mjs", "test.js"] {
+        for name in [
+            "page.test.mjs",
+            "page-test.js",
+            "page_test.cjs",
+            "test-page.mjs",
+            "test.js",
+        ] {
             assert!(is_node_test_file(name, false), "{name}");
         }
-        for name in ["bench.mjs", "helpers.mjs", "page.test.ts", "README.md", "testing.mjs"] {
+        for name in [
+            "bench.mjs",
+            "helpers.mjs",
+            "page.test.ts",
+            "README.md",
+            "testing.mjs",
+        ] {
             assert!(!is_node_test_file(name, false), "{name}");
         }
         assert!(is_node_test_file("helpers.mjs", true));
