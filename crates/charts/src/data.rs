@@ -7,7 +7,7 @@ use nivalis_physics::units::AU_CM;
 use nivalis_physics::{CrossingDirection, Model, Species};
 
 use crate::error::{check_increasing_positive, check_length, ChartError};
-use crate::paint::typeset_formula;
+use crate::text::typeset_formula;
 
 /// `Some(v)` for finite positive values, the only ones a log axis can show.
 fn positive(v: f64) -> Option<f64> {

@@ -35,6 +35,7 @@ pub mod layout;
 pub mod map;
 mod paint;
 pub mod render;
+pub mod text;
 pub mod theme;
 pub mod views;
 
@@ -45,13 +46,13 @@ pub use data::{
 pub use error::ChartError;
 pub use layout::{AxisTransform, ChartLayout, PanelLayout, Scale};
 pub use map::{rasterise_map, MapData, RasterImage};
-pub use paint::typeset_formula;
 #[cfg(feature = "png")]
 pub use render::render_png;
 pub use render::{
     draw_figure, render_svg, Figure, FigureSize, View, DEFAULT_ASPECT, DOUBLE_COLUMN_WIDTH_PT,
     SINGLE_COLUMN_WIDTH_PT,
 };
+pub use text::typeset_formula;
 pub use theme::{LineDash, Marker, SeriesStyle, Theme};
 pub use views::{
     draw_abundance_profiles, draw_c_to_o_map, draw_c_to_o_profile, draw_chi2_map, draw_ice_map,

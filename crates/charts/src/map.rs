@@ -16,7 +16,7 @@ use nivalis_physics::{Model, SnowSurface, Species};
 use crate::colour::{ColourMap, Rgba};
 use crate::contour::marching_squares;
 use crate::error::{check_increasing_positive, check_length, ChartError};
-use crate::paint::typeset_formula;
+use crate::text::typeset_formula;
 use crate::theme::Theme;
 
 /// Inputs of an r-z map (views c and d).

@@ -4,6 +4,7 @@
 //! are pixels relative to the area, as `f64`; they are rounded only when handed
 //! to plotters, whose elements take integer pixels.
 
+use crate::text::superscript;
 use plotters::coord::Shift;
 use plotters::element::{Circle, PathElement, Polygon, Rectangle, Text};
 use plotters::prelude::{DrawingArea, DrawingBackend};
@@ -595,35 +596,6 @@ fn format_plain(v: f64) -> String {
     }
 }
 
-/// Unicode superscripts of digits and minus signs.
-pub(crate) fn superscript(s: &str) -> String {
-    s.chars()
-        .map(|c| match c {
-            '0' => '\u{2070}',
-            '1' => '\u{00b9}',
-            '2' => '\u{00b2}',
-            '3' => '\u{00b3}',
-            '4'..='9' => char::from_u32(0x2074 + (c as u32 - '4' as u32)).unwrap_or(c),
-            '-' => '\u{207b}',
-            other => other,
-        })
-        .collect()
-}
-
-/// A chemical formula with subscript digits: "CH3OH" becomes "CH₃OH".
-pub fn typeset_formula(formula: &str) -> String {
-    formula
-        .chars()
-        .map(|c| {
-            if c.is_ascii_digit() {
-                char::from_u32(0x2080 + (c as u32 - '0' as u32)).unwrap_or(c)
-            } else {
-                c
-            }
-        })
-        .collect()
-}
-
 /// Which sides of a panel carry tick labels and the axis label.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub(crate) struct AxisOptions {
@@ -1007,11 +979,5 @@ mod tests {
         assert_eq!(pieces.len(), 10);
         let total: f64 = pieces.iter().map(|p| p.last().unwrap().0 - p[0].0).sum();
         assert!((total - 50.0).abs() < 1e-9, "{total}");
-    }
-
-    #[test]
-    fn formulas_get_subscripts() {
-        assert_eq!(typeset_formula("CH3OH"), "CH\u{2083}OH");
-        assert_eq!(superscript("-2"), "\u{207b}\u{00b2}");
     }
 }

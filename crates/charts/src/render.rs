@@ -149,6 +149,12 @@ pub fn render_svg(figure: &Figure, theme: &Theme, size: FigureSize) -> Result<St
     let h = (size.height_pt * SVG_UNITS_PER_POINT).round() as u32;
     let mut out = String::new();
     {
+        // Text measured from the bundled font on every target (crate::text), so
+        // the page and the CLI lay the figure out identically.
+        #[cfg(feature = "png")]
+        let area =
+            crate::text::MeasuredSvg(SVGBackend::with_string(&mut out, (w, h))).into_drawing_area();
+        #[cfg(not(feature = "png"))]
         let area = SVGBackend::with_string(&mut out, (w, h)).into_drawing_area();
         draw_figure(
             &area,
@@ -226,24 +232,20 @@ struct BundledText<B>(B);
 
 #[cfg(feature = "png")]
 mod bundled_text {
-    use super::{BundledText, BUNDLED_FONT};
+    use super::BundledText;
     use ab_glyph::{point, Font, FontRef, PxScale, ScaleFont};
     use plotters_backend::text_anchor::{HPos, VPos};
     use plotters_backend::{
         BackendColor, BackendCoord, BackendStyle, BackendTextStyle, DrawingBackend,
         DrawingErrorKind,
     };
-    use std::sync::OnceLock;
-
     /// plotters' font sizes are line heights: the em is `size / 1.24` (as its SVG back end writes).
     const EM_PER_SIZE: f32 = 1.0 / 1.24;
     /// DejaVu Sans cap height [em] (1493 / 2048 units).
     const CAP_HEIGHT_EM: f32 = 0.729;
 
     fn font() -> &'static FontRef<'static> {
-        static FONT: OnceLock<FontRef<'static>> = OnceLock::new();
-        // The bundled bytes are a valid font: a unit test parses them.
-        FONT.get_or_init(|| FontRef::try_from_slice(BUNDLED_FONT).expect("bundled font parses"))
+        crate::text::bundled_font()
     }
 
     /// Scale for an em of `em_px` pixels (ab_glyph scales by ascent - descent).
