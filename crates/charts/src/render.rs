@@ -90,6 +90,48 @@ pub enum View {
     Abundances,
 }
 
+impl View {
+    /// The names every front end accepts, for messages and help texts.
+    pub const NAMES: &'static str =
+        "c_to_o, temperature, abundances, ice_map:<SPECIES>, c_to_o_map";
+
+    /// The view's name as the CLI (`--view`), the page and the provenance write it:
+    /// `c_to_o`, `temperature`, `abundances`, `ice_map:<SPECIES>`, `c_to_o_map`.
+    pub fn key(&self) -> String {
+        match self {
+            View::CToOProfile => "c_to_o".to_string(),
+            View::TemperatureProfile => "temperature".to_string(),
+            View::Abundances => "abundances".to_string(),
+            View::CToOMap => "c_to_o_map".to_string(),
+            View::IceMap(species) => format!("ice_map:{}", species.key()),
+        }
+    }
+
+    /// Parses a view name (see [`View::key`]); the error names what is allowed.
+    pub fn from_key(text: &str) -> Result<View, String> {
+        Ok(match text {
+            "c_to_o" => View::CToOProfile,
+            "temperature" => View::TemperatureProfile,
+            "abundances" => View::Abundances,
+            "c_to_o_map" => View::CToOMap,
+            _ => match text.strip_prefix("ice_map:") {
+                Some(s) => View::IceMap(Species::from_key(s).ok_or_else(|| {
+                    format!(
+                        "unknown species {s:?}; expected one of {}",
+                        Species::ALL.map(|s| s.key()).join(", ")
+                    )
+                })?),
+                None => {
+                    return Err(format!(
+                        "unknown view {text:?}; expected one of {}",
+                        View::NAMES
+                    ))
+                }
+            },
+        })
+    }
+}
+
 /// A view together with its data: what [`render_svg`] and [`render_png`] draw.
 #[derive(Debug, Clone, PartialEq)]
 pub enum Figure {
@@ -477,6 +519,25 @@ pub(crate) fn ensure_font(theme: &Theme) {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn view_names_round_trip() {
+        for view in [
+            View::CToOProfile,
+            View::TemperatureProfile,
+            View::Abundances,
+            View::CToOMap,
+        ]
+        .into_iter()
+        .chain(Species::ALL.map(View::IceMap))
+        {
+            assert_eq!(View::from_key(&view.key()), Ok(view));
+        }
+        assert!(View::from_key("ice_map:XY")
+            .unwrap_err()
+            .contains("unknown species"));
+        assert!(View::from_key("map").unwrap_err().contains("c_to_o_map"));
+    }
 
     #[test]
     fn journal_sizes() {

@@ -65,25 +65,9 @@ enum FigureTheme {
     Dark,
 }
 
-/// Parse a figure view name such as `ice_map:CO`.
+/// Parse a figure view name such as `ice_map:CO` (the names live in `nivalis_charts::View`).
 pub fn parse_view(text: &str) -> Result<nivalis_charts::View, String> {
-    use nivalis_charts::View;
-    Ok(match text {
-        "c_to_o" => View::CToOProfile,
-        "temperature" => View::TemperatureProfile,
-        "abundances" => View::Abundances,
-        "c_to_o_map" => View::CToOMap,
-        _ => match text.strip_prefix("ice_map:") {
-            Some(s) => View::IceMap(nivalis_physics::Species::from_key(s).ok_or_else(|| {
-                format!("--view: unknown species {s:?}; expected one of {}", nivalis_physics::Species::ALL.map(|s| s.key()).join(", "))
-            })?),
-            None => {
-                return Err(format!(
-                    "--view: unknown view {text:?}; expected one of c_to_o, temperature, abundances, ice_map:<SPECIES>, c_to_o_map"
-                ))
-            }
-        },
-    })
+    nivalis_charts::View::from_key(text).map_err(|e| format!("--view: {e}"))
 }
 
 /// Planet output formats.

@@ -417,18 +417,17 @@ impl Explorer {
     }
 }
 
-/// The data key of a view: the view's name, or `ice_map:<SPECIES>`.
+/// The data key of a view: the view's name, or `ice_map:<SPECIES>` (default
+/// species H2O); names and messages from `nivalis_charts::View`.
 fn view_key(view: &str, species: Option<&str>) -> Result<String, JsError> {
-    match view {
-        "ice_map" => {
-            let name = species.unwrap_or("H2O");
-            let species = Species::from_key(name)
-                .ok_or_else(|| JsError::new(&format!("unknown species {name:?}")))?;
-            Ok(format!("ice_map:{}", species.key()))
-        }
-        "c_to_o" | "temperature" | "abundances" | "c_to_o_map" => Ok(view.to_string()),
-        other => Err(JsError::new(&format!("unknown view {other:?}"))),
-    }
+    let name = if view == "ice_map" {
+        format!("ice_map:{}", species.unwrap_or("H2O"))
+    } else {
+        view.to_string()
+    };
+    nivalis_charts::View::from_key(&name)
+        .map(|v| v.key())
+        .map_err(|e| JsError::new(&e))
 }
 
 /// `{meta, arrays: {name: Float64Array}}`.

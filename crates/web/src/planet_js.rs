@@ -176,17 +176,9 @@ impl Explorer {
                 Provenance::of(&f.file),
             )
         } else {
-            let key = match view.strip_prefix("ice_map:") {
-                Some(s) => {
-                    let species = Species::from_key(s)
-                        .ok_or_else(|| JsError::new(&format!("unknown species {s:?}")))?;
-                    format!("ice_map:{}", species.key())
-                }
-                None if ["c_to_o", "temperature", "abundances", "c_to_o_map"].contains(&view) => {
-                    view.to_string()
-                }
-                None => return Err(JsError::new(&format!("unknown view {view:?}"))),
-            };
+            let key = nivalis_charts::View::from_key(view)
+                .map(|v| v.key())
+                .map_err(|e| JsError::new(&e))?;
             let file = self
                 .current_file()
                 .ok_or_else(|| JsError::new("no valid disk has been computed yet"))?;
