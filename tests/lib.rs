@@ -4,7 +4,7 @@
 
 /// Assert that `actual` is within the relative tolerance `rel_tol` of `expected`.
 ///
-/// `what` names the check and its source, e.g. "T_eff at 1 au (CHECK_VALUES 3, D)".
+/// `what` names the check and its source, e.g. "T_eff at 1 au (docs/check-values.md section 3, D)".
 #[track_caller]
 pub fn assert_rel(actual: f64, expected: f64, rel_tol: f64, what: &str) {
     let rel = ((actual - expected) / expected).abs();
@@ -41,7 +41,7 @@ pub fn small_default() -> nivalis_physics::ModelParameters {
     p
 }
 
-/// The CHECK_VALUES.md 5a inputs (D) in the step model on [`small_default`]:
+/// The docs/check-values.md section 5a inputs (D) in the step model on [`small_default`]:
 /// Asplund et al. 2009 C/H and O/H, refractory C 50 %, CO/H = 1.0e-4, CO2 the
 /// rest of the volatile carbon, no CH4, CH3OH or HCN, silicates holding 20 %
 /// of the oxygen (oxygen_per_silicon x_Si = 0.2 x_O, about 3.03), water the rest;

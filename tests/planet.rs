@@ -1,11 +1,11 @@
-//! The planet-formation argument (MODEL.md section 9) and the snowline
+//! The planet-formation argument (docs/model.md section 9) and the snowline
 //! anchor: envelope C/O and metallicity from accreted gas and solids, the
 //! chi-square map of formation places, and anchoring a disk to an observed
 //! snowline.
 //!
-//! Sources: the mixing formula and the derived zone table of the shared
-//! reference CHECK_VALUES.md (section 5a, D and C), the step-model picture of
-//! Oberg, Murray-Clay & Bergin 2011 (ApJL 743, L16; CHECK_VALUES.md sections 5
+//! Sources: the mixing formula and the derived zone table of
+//! docs/check-values.md (section 5a, D and C), the step-model picture of
+//! Oberg, Murray-Clay & Bergin 2011 (ApJL 743, L16; docs/check-values.md sections 5
 //! and 6, V qualitative, M for the figure values), and round trips through the
 //! model itself (internal consistency, named as such). Each check names its
 //! source and tolerance. Run with `cargo test -p nivalis-tests --test planet`.
@@ -26,7 +26,7 @@ use std::time::Instant;
 const C: usize = Element::C as usize;
 const O: usize = Element::O as usize;
 
-/// The CHECK_VALUES 5a inputs in the step model (tests/lib.rs `step_model_5a`). Nitrogen and
+/// The docs/check-values.md section 5a inputs in the step model (tests/lib.rs `step_model_5a`). Nitrogen and
 /// sulfur carry no C or O; to keep each zone's solids the same per gram (not only per H), all N is
 /// N2 (which freezes beyond the CO line) and all S is FeS, so no NH3 or H2S line falls inside a zone.
 fn step_model_5a() -> ModelParameters {
@@ -78,7 +78,7 @@ fn zone_radii(model: &Model) -> [f64; 4] {
 
 #[test]
 fn pure_gas_accretion_has_the_local_gas_c_to_o() {
-    // CHECK_VALUES 5a "Planet C/O by mixing" with no solids (f_s = 0): C/O_p = C_g/O_g, exact (C).
+    // docs/check-values.md section 5a "Planet C/O by mixing" with no solids (f_s = 0): C/O_p = C_g/O_g, exact (C).
     // Tolerance 1e-12 relative (rounding only). Kinetic default disk and the 5a step model.
     for p in [small_default(), step_model_5a()] {
         let model = Model::run(&p).unwrap();
@@ -108,7 +108,7 @@ fn pure_gas_accretion_has_the_local_gas_c_to_o() {
 
 #[test]
 fn pure_solid_accretion_tends_to_the_local_solid_c_to_o() {
-    // CHECK_VALUES 5a mixing formula in the limit f_g -> 0: C/O_p -> C_s/O_s (C). The accreted solids'
+    // docs/check-values.md section 5a mixing formula in the limit f_g -> 0: C/O_p -> C_s/O_s (C). The accreted solids'
     // own C/O equals the model's solid (ice + refractory) C/O to 1e-12; a solid-to-gas ratio of 1e12
     // leaves a gas contribution of order 1e-12 x 100 (solids per gram / gas per gram), so 1e-8.
     let model = Model::run(&small_default()).unwrap();
@@ -137,7 +137,7 @@ fn pure_solid_accretion_tends_to_the_local_solid_c_to_o() {
 
 #[test]
 fn mixtures_lie_between_gas_and_solids_and_move_monotonically() {
-    // CHECK_VALUES 5a "Planet C/O by mixing" (C, tested exactly): C/O_p = (f_g C_g + f_s C_s)/(f_g O_g + f_s O_s),
+    // docs/check-values.md section 5a "Planet C/O by mixing" (C, tested exactly): C/O_p = (f_g C_g + f_s C_s)/(f_g O_g + f_s O_s),
     // f_g = M_gas/(1.4 m_H) and f_s = f_mix M_solid/m_solid_per_H. Recomputed here from the raw local state,
     // to 1e-12; the result lies between the gas and solid C/O and moves monotonically from one to the other
     // as the solid-to-gas ratio grows.
@@ -180,7 +180,7 @@ fn mixtures_lie_between_gas_and_solids_and_move_monotonically() {
 
 #[test]
 fn oberg_2011_step_model_envelopes() {
-    // Oberg, Murray-Clay & Bergin 2011 (ApJL 743, L16), CHECK_VALUES 5 and 6: envelopes accreted from gas
+    // Oberg, Murray-Clay & Bergin 2011 (ApJL 743, L16), docs/check-values.md section 5 and 6: envelopes accreted from gas
     // outside the H2O snowline have C/O ~ 1, solid-polluted envelopes have stellar or substellar C/O (V,
     // qualitative). The zone values are the 5a derived table (D): gas C/O 0.796 (H2O-CO2), 1.000 (CO2-CO),
     // solid C/O 0.420, 0.434, 0.550 (beyond CO); gas C/H = O/H = 1.000e-4 between the CO2 and CO lines.
@@ -277,7 +277,7 @@ fn oberg_2011_step_model_envelopes() {
 
 #[test]
 fn migration_across_a_snowline_is_the_midpoint_rule_average() {
-    // MODEL.md section 9: atoms per gram averaged uniformly in radius, midpoint rule, 200 points. In the step
+    // docs/model.md section 9: atoms per gram averaged uniformly in radius, midpoint rule, 200 points. In the step
     // model each phase is constant on either side of the CO2 line, so the average is the count-weighted mean
     // of the two zone values over the 200 midpoints (D: arithmetic), to 1e-12.
     let model = Model::run(&step_model_5a()).unwrap();
@@ -463,7 +463,7 @@ fn a_degenerate_place_is_reported_as_split_ranges() {
 
 #[test]
 fn c_to_o_alone_is_degenerate_and_the_map_says_so() {
-    // CHECK_VALUES 5a zone table (D) in the step model: beyond the CO line the gas holds no C or O, so any
+    // docs/check-values.md section 5a zone table (D) in the step model: beyond the CO line the gas holds no C or O, so any
     // envelope there has the solids' C/O 0.550 at every ratio. Between the CO2 and CO lines the gas C/O is
     // 1.000, so at small ratios the envelope C/O there lies well above 0.55, while further in (gas 0.343
     // inside the water line rising toward its solids' 1.374, gas 0.796 between the H2O and CO2 lines falling
@@ -479,7 +479,7 @@ fn c_to_o_alone_is_degenerate_and_the_map_says_so() {
     assert_eq!(
         (map.thresholds.one_sigma, map.thresholds.two_sigma),
         (2.30, 6.18),
-        "MODEL.md section 9 default"
+        "docs/model.md section 9 default"
     );
     let split = map.degeneracies(SigmaLevel::One);
     assert!(

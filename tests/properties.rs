@@ -220,9 +220,9 @@ fn run_properties(
 #[test]
 fn temperatures_densities_and_ice_fractions_are_physical() {
     // T > 0 and finite everywhere; density positive, finite and falling with height in every column
-    // (MODEL.md section 5: d ln rho/dz = -g_z mu m_H/(k T) - d ln T/dz, and T never falls with height in
+    // (docs/model.md section 5: d ln rho/dz = -g_z mu m_H/(k T) - d ln T/dz, and T never falls with height in
     // either vertical model, so rho falls; strictly in isothermal columns); 0 <= f_ice <= 1 for every
-    // species and sample (MODEL.md section 7). Exact inequalities: no tolerance.
+    // species and sample (docs/model.md section 7). Exact inequalities: no tolerance.
     run_properties("physical fields", |p, m, tally| {
         let st = &m.structure;
         for j in 0..st.radial_cells {
@@ -274,8 +274,8 @@ fn temperatures_densities_and_ice_fractions_are_physical() {
 
 #[test]
 fn elements_are_conserved_in_every_cell() {
-    // MODEL.md section 8: gas + ice + refractory = stellar, every cell, every element, to 1e-12 relative;
-    // and the stellar abundances are X/H = 10^(log eps - 12 + offset) of the chosen set (MODEL.md section 1).
+    // docs/model.md section 8: gas + ice + refractory = stellar, every cell, every element, to 1e-12 relative;
+    // and the stellar abundances are X/H = 10^(log eps - 12 + offset) of the chosen set (docs/model.md section 1).
     run_properties("element conservation", |p, m, _| {
         let log_eps = p.star.abundance_reference.log_eps();
         let stellar = m.carriers.stellar_per_h;
@@ -338,7 +338,7 @@ fn water_line_cm(m: &Model) -> Option<f64> {
 fn more_heating_never_cools_the_midplane_and_moves_the_water_line_out() {
     // More luminosity (at a fixed stellar radius, so the viscous boundary term is unchanged) or a higher
     // accretion rate adds heat: T_mid^4 = T_irr^4 + T_acc^4 + T_bg^4 with every term non-decreasing
-    // (MODEL.md section 4), so the midplane is nowhere cooler (tolerance 1e-12 relative, rounding).
+    // (docs/model.md section 4), so the midplane is nowhere cooler (tolerance 1e-12 relative, rounding).
     // At the midplane the ice fraction then falls (hotter, thinner gas; the same column above), so the
     // water snowline, where the inner edge is gas, moves outward (tolerance 1e-9 relative, rounding of
     // the interpolation).
@@ -412,7 +412,7 @@ fn more_heating_never_cools_the_midplane_and_moves_the_water_line_out() {
 
 #[test]
 fn gas_between_co2_and_co_lines_is_carbon_rich_relative_to_the_star() {
-    // Oberg, Murray-Clay & Bergin 2011 (CHECK_VALUES 5, V qualitative): between the CO2 and CO snowlines
+    // Oberg, Murray-Clay & Bergin 2011 (docs/check-values.md section 5, V qualitative): between the CO2 and CO snowlines
     // most O is in ice and most C in gas, so the gas C/O exceeds the total (stellar) C/O, where refractory
     // carbon is still solid (below the soot line). Checked at every midplane cell strictly between the
     // innermost CO2 and CO freeze-out lines. Exact inequality.
@@ -458,7 +458,7 @@ fn gas_between_co2_and_co_lines_is_carbon_rich_relative_to_the_star() {
 
 #[test]
 fn step_model_snowlines_sit_at_the_condensation_temperature() {
-    // MODEL.md section 7: in the step model the snowline is where T_mid = T_cond, ln T interpolated
+    // docs/model.md section 7: in the step model the snowline is where T_mid = T_cond, ln T interpolated
     // against ln r. Every species present has as many lines as T_mid crosses T_cond, and ln T
     // interpolated linearly in ln r at each line is ln T_cond (tolerance 1e-9, rounding).
     run_properties("step-model lines", |p, m, tally| {

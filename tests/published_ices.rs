@@ -1,6 +1,6 @@
-//! Ice physics and the element budget (MODEL.md sections 7-9) against
+//! Ice physics and the element budget (docs/model.md sections 7-9) against
 //! published rates, condensation temperatures and the derived C/O zones of
-//! the shared reference CHECK_VALUES.md (sections 2, 4 and 5).
+//! docs/check-values.md (sections 2, 4 and 5).
 //!
 //! Each check names its source, the status of the value there (V verified,
 //! M from memory, D derived arithmetic, C common practice) and its tolerance
@@ -29,7 +29,7 @@ fn first_freeze_out_au(model: &Model, species: Species) -> Option<f64> {
 
 #[test]
 fn hasegawa_herbst_leung_frequencies() {
-    // CHECK_VALUES 4b "Worked nu0" (D): nu0 = [2 n_s E_b / (pi^2 m)]^1/2 (Hasegawa, Herbst & Leung 1992),
+    // docs/check-values.md section 4b "Worked nu0" (D): nu0 = [2 n_s E_b / (pi^2 m)]^1/2 (Hasegawa, Herbst & Leung 1992),
     // n_s = 1.5e15 cm^-2, m = (integer mass number) u: H2O (5773 K) 2.85e12, CO (855 K) 8.785e11,
     // N2 (790 K) 8.44e11, CO2 (2575 K) 1.216e12, CH4 (1090 K) 1.31e12 s^-1. Tolerance 4e-3 (printed digits).
     for (name, e, mass_number, expected) in [
@@ -44,7 +44,7 @@ fn hasegawa_herbst_leung_frequencies() {
             nu,
             expected,
             4e-3,
-            &format!("nu0 of {name} (CHECK_VALUES 4b, D)"),
+            &format!("nu0 of {name} (docs/check-values.md section 4b, D)"),
         );
     }
     // The model's own species (pure-ice set, molecular masses from standard atomic weights)
@@ -68,7 +68,7 @@ fn hasegawa_herbst_leung_frequencies() {
 
 #[test]
 fn temperature_where_desorption_takes_a_year() {
-    // CHECK_VALUES 4b "Worked check" (D): T where nu0 exp(-E/T) = 1 per (Julian) year,
+    // docs/check-values.md section 4b "Worked check" (D): T where nu0 exp(-E/T) = 1 per (Julian) year,
     // T = E / ln(nu0 yr): H2O 125.7 K, CO 19.10 K, N2 17.66 K. The row's tolerance is 0.01 K, but
     // 125.7 is printed to 0.1 K; the unrounded arithmetic gives 125.651 K, so H2O is held to half a
     // unit of its printed digit (0.05 K) and CO, N2 (printed to 0.01 K) to 0.005 K.
@@ -83,7 +83,7 @@ fn temperature_where_desorption_takes_a_year() {
             t,
             expected,
             tol,
-            &format!("T(k_des = 1/yr) of {name} (CHECK_VALUES 4b, D)"),
+            &format!("T(k_des = 1/yr) of {name} (docs/check-values.md section 4b, D)"),
         );
         // And the rate at that temperature is one per year (first-order thermal desorption, HHL92).
         assert_rel(
@@ -95,14 +95,14 @@ fn temperature_where_desorption_takes_a_year() {
     }
 }
 
-// `small_default` and `step_model_5a` (the CHECK_VALUES 5a inputs) live in tests/lib.rs.
+// `small_default` and `step_model_5a` (the docs/check-values.md section 5a inputs) live in tests/lib.rs.
 
 #[test]
 fn step_model_zone_c_to_o() {
-    // CHECK_VALUES 5a (D arithmetic with stated inputs; the zone scheme of Oberg, Murray-Clay & Bergin
+    // docs/check-values.md section 5a (D arithmetic with stated inputs; the zone scheme of Oberg, Murray-Clay & Bergin
     // 2011, ApJL 743, L16): Asplund 2009 C/H, O/H; refractory C 50 %, CO = 1.0e-4, CO2 the rest of the
     // volatile C, no CH4/CH3OH/HCN; silicate O 20 % of O; water the rest of the O. Sharp snowlines at the
-    // Oberg 2011 condensation temperatures H2O 135 K, CO2 47 K, CO 20 K (CHECK_VALUES 5, M).
+    // Oberg 2011 condensation temperatures H2O 135 K, CO2 47 K, CO 20 K (docs/check-values.md section 5, M).
     //   zone             gas C/O   solid C/O
     //   inside H2O       0.343     1.374
     //   H2O-CO2          0.796     0.420
@@ -227,7 +227,7 @@ fn step_model_zone_c_to_o() {
         );
     }
     // Every midplane cell whose temperature lies inside a zone (soot line to CO line) has that zone's
-    // ratios; where CO is the only gas-phase carrier the gas C/O is 1 exactly (CHECK_VALUES 5a invariant).
+    // ratios; where CO is the only gas-phase carrier the gas C/O is 1 exactly (docs/check-values.md section 5a invariant).
     let profile = model.midplane_profile();
     let mut seen = [0usize; 4];
     for j in 0..st.radial_cells {
@@ -324,11 +324,11 @@ fn half_frozen_temperature_k(
 
 #[test]
 fn hollenbach_freeze_out_temperature() {
-    // Hollenbach et al. 2009 (ApJ 690, 1497; CHECK_VALUES 4b, M with low confidence on the exact form):
+    // Hollenbach et al. 2009 (ApJ 690, 1497; docs/check-values.md section 4b, M with low confidence on the exact form):
     //   T_f = (E/k) / [57 + ln((N_s/1e15 cm^-2)(nu/1e13 s^-1)(1 cm^-3/n_i)(1e4 cm s^-1/v_i))],
     // read here with the unit normalisations we recall from the paper (from memory), n_i the gas-phase
     // density of the species and v_i its thermal speed sqrt(8kT/(pi m)).
-    // What our balance implies (MODEL.md section 7, zeroth order, thick ice, no photo/CR desorption):
+    // What our balance implies (docs/model.md section 7, zeroth order, thick ice, no photo/CR desorption):
     // A (N - n) = B M with f = n/N = 1/2 gives S pi a^2 n_gr v N/2 = nu exp(-E/T) 4 pi a^2 N_s n_gr, i.e.
     //   T = E / ln(4 nu N_s / (S v n_gas)), n_gas = N/2,
     // the same form with 57 replaced by ln(4 x 1e15 x 1e13 / 1e4) = 56.65 (D, derived here).
@@ -386,9 +386,9 @@ fn hollenbach_freeze_out_temperature() {
 
 #[test]
 fn total_c_to_o_is_stellar_in_every_cell() {
-    // MODEL.md sections 1 and 8: gas + ice + refractory carry the star's elements, so the total C/O in
+    // docs/model.md sections 1 and 8: gas + ice + refractory carry the star's elements, so the total C/O in
     // every sample is the chosen set's C/O: Asplund et al. 2009 10^(8.43-8.69) = 0.5495 (V: 0.55 +- 0.05
-    // quoted by Fortney 2012; CHECK_VALUES 2) and Asplund et al. 2021 10^(8.46-8.69) = 0.5888 (D).
+    // quoted by Fortney 2012; docs/check-values.md section 2) and Asplund et al. 2021 10^(8.46-8.69) = 0.5888 (D).
     // Tolerance 1e-12 relative on the exact conversion; +-0.01 on the published rounded ratio.
     for (reference, exact, published) in [
         (
@@ -409,7 +409,7 @@ fn total_c_to_o_is_stellar_in_every_cell() {
             exact,
             published,
             0.01,
-            &format!("C/O of {reference:?} (CHECK_VALUES 2)"),
+            &format!("C/O of {reference:?} (docs/check-values.md section 2)"),
         );
         for k in 0..model.sample_count() {
             let ph = model.phases_at(k);
@@ -427,13 +427,13 @@ fn total_c_to_o_is_stellar_in_every_cell() {
         f64::powf(10.0, 8.43 - 8.69),
         0.5495,
         1e-4,
-        "Asplund 2009 solar C/O = 0.5495 (MODEL.md section 1)",
+        "Asplund 2009 solar C/O = 0.5495 (docs/model.md section 1)",
     );
 }
 
 #[test]
 fn snowline_ordering() {
-    // Common practice (CHECK_VALUES 4a ordering, C): the supervolatiles N2 and CO freeze out
+    // Common practice (docs/check-values.md section 4a ordering, C): the supervolatiles N2 and CO freeze out
     // outermost and water innermost, for the default disk in both binding-energy sets.
     for set in BindingEnergySet::ALL {
         let mut p = small_default();
@@ -475,7 +475,7 @@ fn snowline_ordering() {
 
 #[test]
 fn solids_per_gas_mass_near_one_percent_outside_the_water_line() {
-    // MODEL.md section 9: the solid mass per H divided by the gas mass per H (1.4 m_H) should land within a
+    // docs/model.md section 9: the solid mass per H divided by the gas mass per H (1.4 m_H) should land within a
     // factor 2 of the usual 0.01 dust-to-gas ratio outside the water snowline (C, e.g. Bohlin et al. 1978).
     // Computed: `midplane_at(r).solid_mass_per_h_amu / 1.4` (amu per amu; 1.4 amu rather than 1.4 m_H = 1.411 amu,
     // a 0.8 % difference that does not matter for a factor-2 test), at ten radii log-spaced from 1.2x the water
@@ -509,7 +509,7 @@ fn solids_per_gas_mass_near_one_percent_outside_the_water_line() {
 
 #[test]
 fn binding_energy_ordering_and_overrides() {
-    // CHECK_VALUES 4a: N2 < CO < CH4 < CO2 < NH3, CH3OH < H2O in every set (C; holds in every listed set).
+    // docs/check-values.md section 4a: N2 < CO < CH4 < CO2 < NH3, CH3OH < H2O in every set (C; holds in every listed set).
     let table = SpeciesTable::built_in();
     for set in BindingEnergySet::ALL {
         let e = |s: Species| table.get(s).binding_energy(set).0;
@@ -525,7 +525,7 @@ fn binding_energy_ordering_and_overrides() {
             "{set:?}: NH3, CH3OH < H2O"
         );
     }
-    // The default set's values as published (CHECK_VALUES 4a): H2O 5773 (Fraser et al. 2001, V),
+    // The default set's values as published (docs/check-values.md section 4a): H2O 5773 (Fraser et al. 2001, V),
     // CO 855 and N2 790 (Oberg et al. 2005, M), CO2 2575 (Sandford & Allamandola 1990, M). Exact.
     let model = Model::run(&small_default()).unwrap();
     for (s, e) in [
@@ -542,7 +542,7 @@ fn binding_energy_ordering_and_overrides() {
         );
     }
     // Overriding a binding energy moves the snowline the right way: a more tightly bound ice survives
-    // in warmer gas, so its line moves inward; a weaker one moves outward (MODEL.md section 7).
+    // in warmer gas, so its line moves inward; a weaker one moves outward (docs/model.md section 7).
     for (s, base) in [
         (Species::CO, 855.0),
         (Species::H2O, 5773.0),

@@ -1,5 +1,5 @@
-//! Disk structure (MODEL.md sections 1-6) against published laws and worked
-//! values (shared reference CHECK_VALUES.md sections 1 and 3).
+//! Disk structure (docs/model.md sections 1-6) against published laws and worked
+//! values (docs/check-values.md sections 1 and 3).
 //!
 //! Each check names its source, the status of the value there (V verified,
 //! M from memory, D derived arithmetic, C common practice) and its tolerance
@@ -38,8 +38,8 @@ fn irradiation_only(luminosity_lsun: f64, flaring_angle: f64) -> ModelParameters
 
 #[test]
 fn optically_thin_blackbody_is_278_3_k() {
-    // CHECK_VALUES 3 "Optically thin blackbody grain": T = 278.3 K (L/Lsun)^1/4 (r/au)^-1/2, D, 1e-3 rel.
-    // phi = 1/2 in T_irr^4 = phi L / (8 pi sigma r^2) is that blackbody (MODEL.md section 4).
+    // docs/check-values.md section 3 "Optically thin blackbody grain": T = 278.3 K (L/Lsun)^1/4 (r/au)^-1/2, D, 1e-3 rel.
+    // phi = 1/2 in T_irr^4 = phi L / (8 pi sigma r^2) is that blackbody (docs/model.md section 4).
     for (l, r_au) in [
         (1.0, 1.0),
         (1.0, 0.3),
@@ -53,14 +53,14 @@ fn optically_thin_blackbody_is_278_3_k() {
             t,
             expected,
             1e-3,
-            &format!("blackbody T at L={l}, r={r_au} au (CHECK_VALUES 3, D)"),
+            &format!("blackbody T at L={l}, r={r_au} au (docs/check-values.md section 3, D)"),
         );
     }
 }
 
 #[test]
 fn default_flaring_angle_gives_156_5_k_at_1_au() {
-    // MODEL.md section 4 check value: phi = 0.05, L = 1 Lsun gives 156.5 K at 1 au (D).
+    // docs/model.md section 4 check value: phi = 0.05, L = 1 Lsun gives 156.5 K at 1 au (D).
     // Tolerance: half a unit of the printed digit, 0.05 K. Evaluated through the whole
     // model at exactly 1 au (`midplane_at`), with heating by starlight only.
     let model = Model::run(&irradiation_only(1.0, 0.05)).unwrap();
@@ -69,14 +69,14 @@ fn default_flaring_angle_gives_156_5_k_at_1_au() {
         local.temperature_k,
         156.5,
         0.05,
-        "T_mid(1 au), phi = 0.05 (MODEL.md section 4, D)",
+        "T_mid(1 au), phi = 0.05 (docs/model.md section 4, D)",
     );
 }
 
 #[test]
 fn hayashi_temperature_law_from_irradiation_only_disk() {
-    // Hayashi 1981 MMSN: T = 280 K (r/au)^-1/2 (L/Lsun)^1/4 (CHECK_VALUES 3, M).
-    // (a) phi = 1/2 is the optically thin blackbody (278.3 K), which MODEL.md says lies
+    // Hayashi 1981 MMSN: T = 280 K (r/au)^-1/2 (L/Lsun)^1/4 (docs/check-values.md section 3, M).
+    // (a) phi = 1/2 is the optically thin blackbody (278.3 K), which docs/model.md says lies
     //     within 1 % of Hayashi's 280 K: tolerance 1 %.
     // (b) With phi chosen so the 1 au, 1 Lsun value is 280 K, phi = (1/2)(280/T_bb)^4 = 0.5121,
     //     the model reproduces the law's radius and luminosity scaling at every cell:
@@ -122,7 +122,7 @@ fn hayashi_temperature_law_from_irradiation_only_disk() {
 
 #[test]
 fn viscous_effective_temperature_worked_values() {
-    // CHECK_VALUES 3 "Worked viscous T_eff" (D): M = 1 Msun, Mdot = 1e-8 Msun/yr, no boundary term:
+    // docs/check-values.md section 3 "Worked viscous T_eff" (D): M = 1 Msun, Mdot = 1e-8 Msun/yr, no boundary term:
     // 479 K (0.1 au), 85.2 K (1 au), 15.14 K (10 au); with R* = 2 Rsun at 0.1 au: 437 K.
     // Tolerance 3e-3 relative (printed digits).
     let mdot = 1e-8 * MSUN_PER_YR_TO_G_PER_S;
@@ -134,12 +134,7 @@ fn viscous_effective_temperature_worked_values() {
     ] {
         let t =
             viscous_effective_temperature4(SOLAR_MASS_G, mdot, r_star_cm, r_au * AU_CM).powf(0.25);
-        assert_rel(
-            t,
-            expected,
-            3e-3,
-            &format!("viscous T_eff at {r_au} au, R* = {r_star_cm:e} cm (CHECK_VALUES 3, D)"),
-        );
+        assert_rel(t, expected, 3e-3, &format!("viscous T_eff at {r_au} au, R* = {r_star_cm:e} cm (docs/check-values.md section 3, D)"));
     }
     // Inside the star there is no viscous flux (the boundary factor would be negative).
     assert_eq!(
@@ -164,7 +159,7 @@ fn accreting_constant_opacity() -> ModelParameters {
 
 #[test]
 fn grey_midplane_convention_hand_computed() {
-    // MODEL.md section 4 convention (CHECK_VALUES 3 "Optically thick midplane", C/M: prefactors
+    // docs/model.md section 4 convention (docs/check-values.md section 3 "Optically thick midplane", C/M: prefactors
     // vary in the literature, so the program's convention is pinned here):
     //   T_mid^4 = T_irr^4 + (3/4)(tau + 2/3) T_eff^4 + T_bg^4, tau = kappa Sigma / 2.
     // Hand-computed case (plain arithmetic, D), evaluated in Python with the same constants:
@@ -247,7 +242,7 @@ fn grey_midplane_convention_hand_computed() {
 #[test]
 fn grey_midplane_optically_thin_limit_keeps_two_thirds_term() {
     // With kappa -> 0 the grey Eddington form leaves T_acc^4 = (3/4)(2/3) T_eff^4 = T_eff^4 / 2
-    // (MODEL.md section 4; the additive 2/3 of CHECK_VALUES 3). Tolerance 1e-12 (exact arithmetic).
+    // (docs/model.md section 4; the additive 2/3 of docs/check-values.md section 3). Tolerance 1e-12 (exact arithmetic).
     let mut p = accreting_constant_opacity();
     p.disk.opacity = Opacity::Constant {
         rosseland_cm2_per_g: 0.0,
@@ -273,8 +268,8 @@ fn grey_midplane_optically_thin_limit_keeps_two_thirds_term() {
 
 #[test]
 fn mmsn_scale_height_at_1_au() {
-    // CHECK_VALUES 3 "MMSN H/r at 1 au": 0.03336 (D) for mu = 2.34, 280 K, 1 Msun, with
-    // c_s = 994 m/s and Omega = 1.991e-7 s^-1. Our mu is 2.37 (Kauffmann et al. 2008, MODEL.md
+    // docs/check-values.md section 3 "MMSN H/r at 1 au": 0.03336 (D) for mu = 2.34, 280 K, 1 Msun, with
+    // c_s = 994 m/s and Omega = 1.991e-7 s^-1. Our mu is 2.37 (Kauffmann et al. 2008, docs/model.md
     // section 5), and H scales as mu^-1/2, so the expected value is 0.03336 sqrt(2.34/2.37).
     // Tolerance 2e-3 relative (printed digits).
     let h = scale_height_cm(SOLAR_MASS_G, 280.0, AU_CM);
@@ -282,17 +277,22 @@ fn mmsn_scale_height_at_1_au() {
         h / AU_CM,
         0.03336 * (2.34f64 / 2.37).sqrt(),
         2e-3,
-        "H/r at 1 au, 280 K, mu = 2.37 (CHECK_VALUES 3, D scaled)",
+        "H/r at 1 au, 280 K, mu = 2.37 (docs/check-values.md section 3, D scaled)",
     );
     assert_rel(
         sound_speed_cm_s(280.0) * (2.37f64 / 2.34).sqrt(),
         994.0e2,
         2e-3,
-        "c_s at 280 K, mu = 2.34 (CHECK_VALUES 3, D)",
+        "c_s at 280 K, mu = 2.34 (docs/check-values.md section 3, D)",
     );
     let omega = (GRAVITATIONAL_CONSTANT_CGS * SOLAR_MASS_G / AU_CM.powi(3)).sqrt();
-    assert_rel(omega, 1.991e-7, 2e-3, "Omega_K at 1 au (CHECK_VALUES 3, D)");
-    // H = c_s / Omega with c_s = sqrt(k T / (mu m_H)) (MODEL.md section 5; CHECK_VALUES 3, C):
+    assert_rel(
+        omega,
+        1.991e-7,
+        2e-3,
+        "Omega_K at 1 au (docs/check-values.md section 3, D)",
+    );
+    // H = c_s / Omega with c_s = sqrt(k T / (mu m_H)) (docs/model.md section 5; docs/check-values.md section 3, C):
     // written out here with the literal constants of CODATA 2018/2022 and AME2020 (V via scipy).
     let m_h: f64 = 1.007_825_031_898 * 1.660_539_068_92e-24;
     let c_s = (1.380_649e-16 * 280.0 / (2.37 * m_h)).sqrt();
@@ -301,8 +301,8 @@ fn mmsn_scale_height_at_1_au() {
 
 #[test]
 fn isothermal_column_is_gaussian_in_a_thin_disk() {
-    // MODEL.md section 5: an isothermal thin column is the Gaussian rho0 exp(-z^2 / 2H^2) with
-    // H = c_s / Omega (standard; CHECK_VALUES 3 "Scale height", C). The full-gravity column departs
+    // docs/model.md section 5: an isothermal thin column is the Gaussian rho0 exp(-z^2 / 2H^2) with
+    // H = c_s / Omega (standard; docs/check-values.md section 3 "Scale height", C). The full-gravity column departs
     // from it by (z^2/2H^2)(3/4)(z/r)^2 in the exponent, 30 (H/r)^2 at z = 3H: at H/r <= 0.015 that is
     // under 0.7 %, so the tolerance is 1 % for z < 3H. A faint star (0.1 Lsun) keeps the inner disk thin.
     let mut p = irradiation_only(0.1, 0.5 * (280.0 / blackbody_1au_k()).powi(4));
@@ -337,7 +337,7 @@ fn isothermal_column_is_gaussian_in_a_thin_disk() {
             );
             checked += 1;
         }
-        // Tighter: the exact isothermal profile in the star's full gravity (MODEL.md section 5),
+        // Tighter: the exact isothermal profile in the star's full gravity (docs/model.md section 5),
         // rho/rho0 = exp[-(G M mu m_H / k T)(1/r - 1/sqrt(r^2 + z^2))], up to z_max = 10 H.
         // Tolerance 1e-5: the trapezoid rule on a grid of H/24 for a smooth integrand.
         let exact = (-(GRAVITATIONAL_CONSTANT_CGS * c.star_mass_g / sound_speed_cm_s(t).powi(2))
@@ -355,7 +355,7 @@ fn isothermal_column_is_gaussian_in_a_thin_disk() {
 
 #[test]
 fn vertical_column_normalisation() {
-    // MODEL.md section 5: every column is normalised so 2 * integral rho dz = Sigma_gas. The
+    // docs/model.md section 5: every column is normalised so 2 * integral rho dz = Sigma_gas. The
     // column above the midplane sample is that one-sided integral: Sigma/2 to 1e-12 (rounding).
     // Also, for the isothermal thin column, rho_mid = Sigma / (sqrt(2 pi) H) (Gaussian integral,
     // standard): 1 % (the full-gravity correction, about (9/8)(H/r)^2, and the 10 H top).
@@ -390,7 +390,7 @@ fn vertical_column_normalisation() {
 
 #[test]
 fn surface_density_integrates_to_disk_mass() {
-    // MODEL.md section 3: M_disk is the total mass of the analytic profile,
+    // docs/model.md section 3: M_disk is the total mass of the analytic profile,
     // Sigma_c = (2 - gamma) M / (2 pi R_c^2) (Lynden-Bell & Pringle 1974; Andrews et al. 2009, V form).
     // Integrate 2 pi r Sigma dr from 1e-12 R_c (missing mass (1e-12)^(2-gamma) <= 1e-6) to 1e3 R_c.
     // Tolerance 1e-3 (the brief); the midpoint rule in ln r does far better.
@@ -420,7 +420,7 @@ fn surface_density_integrates_to_disk_mass() {
 
 #[test]
 fn cosmic_ray_attenuation_umebayashi_nakano() {
-    // Umebayashi & Nakano 1981 (CHECK_VALUES 3 "CR attenuation", M; MODEL.md section 6):
+    // Umebayashi & Nakano 1981 (docs/check-values.md section 3 "CR attenuation", M; docs/model.md section 6):
     // zeta(z) = zeta0/2 [exp(-Sigma_above/96) + exp(-Sigma_below/96)], columns in g/cm^2.
     let mut p = ModelParameters::defaults();
     p.disk.gas_mass_msun = 0.05;
@@ -489,8 +489,8 @@ fn cosmic_ray_attenuation_umebayashi_nakano() {
 
 #[test]
 fn visual_extinction_per_hydrogen_column() {
-    // Bohlin, Savage & Drake 1978 (MODEL.md section 6; R_V = 3.1): A_V = N_H / 1.87e21 cm^-2, with
-    // N_H = Sigma_above / (1.4 m_H) (MODEL.md section 5: 1.4 m_H per H nucleus). m_H = 1.007825031898 u
+    // Bohlin, Savage & Drake 1978 (docs/model.md section 6; R_V = 3.1): A_V = N_H / 1.87e21 cm^-2, with
+    // N_H = Sigma_above / (1.4 m_H) (docs/model.md section 5: 1.4 m_H per H nucleus). m_H = 1.007825031898 u
     // (AME2020) with u from CODATA 2022 (cross-checked against scipy by tests/python/check_constants.py).
     // Tolerance 1e-12 (the same arithmetic); n_H = rho / (1.4 m_H) likewise.
     let m_h: f64 = 1.007_825_031_898 * 1.660_539_068_92e-24;
@@ -520,7 +520,7 @@ fn visual_extinction_per_hydrogen_column() {
 
 #[test]
 fn mmsn_midplane_density() {
-    // Hayashi 1981 MMSN midplane density: rho0 = 1.4e-9 (r/au)^-11/4 g/cm^3 (CHECK_VALUES 3, M, 5 %),
+    // Hayashi 1981 MMSN midplane density: rho0 = 1.4e-9 (r/au)^-11/4 g/cm^3 (docs/check-values.md section 3, M, 5 %),
     // with the D check 1.36e-9 from Sigma/(sqrt(2 pi) H), mu = 2.34, 1 Msun, 280 K.
     // Our profile is the tapered power law; gamma = 3/2 and R_c = 1e8 au make it
     // Sigma = 1700 (r/au)^-3/2 exp(-(r/R_c)^(1/2)), the MMSN to 1e-4 at 1 au, with
@@ -561,7 +561,7 @@ fn mmsn_midplane_density() {
         rho_1au,
         1.36e-9 * (2.37f64 / 2.34).sqrt(),
         5e-3,
-        "MMSN rho0(1 au), mu = 2.37 (CHECK_VALUES 3, D scaled)",
+        "MMSN rho0(1 au), mu = 2.37 (docs/check-values.md section 3, D scaled)",
     );
     assert_rel(
         rho_1au,
@@ -584,7 +584,7 @@ fn mmsn_midplane_density() {
 
 #[test]
 fn sun_gives_iau_nominal_radius() {
-    // IAU 2015 Resolution B3 (CHECK_VALUES 1: L_sun = 3.828e26 W, R_sun = 6.957e8 m exact, V;
+    // IAU 2015 Resolution B3 (docs/check-values.md section 1: L_sun = 3.828e26 W, R_sun = 6.957e8 m exact, V;
     // T_eff,sun = 5772 K nominal, M). R = sqrt(L / (4 pi sigma T^4)) with 5772 K. The nominal
     // T_eff is rounded to 1 K; half a kelvin moves R by 2 x 0.5/5772 = 1.7e-4: tolerance 2e-4.
     let r = stellar_radius_cm(1.0, 5772.0);

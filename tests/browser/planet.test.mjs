@@ -99,7 +99,7 @@ test("a typed planet's envelope C/O and files equal `nivalis planet`", async () 
   assert.ok(migrating.text === run([...args, "--to-radius-au", "20", "--format", "json"]), "migration JSON differs from the CLI's");
   assert.match(await page.textContent("#planet-table caption"), /averaged over 12–20 au/);
 
-  // Gas only (the checkbox): the envelope C/O is the local gas C/O (MODEL.md section 9).
+  // Gas only (the checkbox): the envelope C/O is the local gas C/O (docs/model.md section 9).
   await typePlanet(page, "planet.to_radius_au", "");
   await page.check("#pp-planet-solid_to_gas-zero");
   await settle(page);

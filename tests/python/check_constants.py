@@ -8,7 +8,7 @@ constants (products and quotients, e.g. HYDROGEN_MASS_G, SOLAR_MASS_G) are evalu
 from the parsed constants. A constant with no reference here is a failure, so a new
 constant must be given a reference (or an explicit reason to skip it) below.
 
-Tolerances (shared reference CHECK_VALUES.md section 1): exact SI/IAU values to 1e-14
+Tolerances (docs/check-values.md section 1): exact SI/IAU values to 1e-14
 relative (double rounding of the unit conversion); measured CODATA values to 1e-8
 relative (CODATA 2018 vs 2022 drift); others as stated per row.
 
@@ -111,7 +111,7 @@ def references():
             ("astropy c", cgs(ac.c), EXACT),
         ],
         "STEFAN_BOLTZMANN_CGS": [
-            # Exact in SI from k, h, c, but CODATA prints 10 digits: 1e-9 (CHECK_VALUES 1).
+            # Exact in SI from k, h, c, but CODATA prints 10 digits: 1e-9 (docs/check-values.md section 1).
             ("scipy sigma (CODATA)", sc.Stefan_Boltzmann * 1e3, 1e-9),
             ("astropy sigma_sb", cgs(ac.sigma_sb), 1e-9),
             ("2 pi^5 k^4 / (15 h^3 c^2) from scipy's exact k, h, c",
@@ -146,7 +146,7 @@ def references():
             ("astropy yr (Julian)", float((1 * u.yr).to_value(u.s)), EXACT),
         ],
         "HABING_PHOTONS_PER_CM2_S": [
-            # Common practice (CHECK_VALUES 4b, C/D): 1.6e-3 erg cm^-2 s^-1 / 10 eV = 0.9986e8; the
+            # Common practice (docs/check-values.md section 4b, C/D): 1.6e-3 erg cm^-2 s^-1 / 10 eV = 0.9986e8; the
             # constant is the rounded 1e8, so the tolerance is the rounding, 2e-3.
             ("1.6e-3 erg / (10 eV, scipy)", 1.6e-3 / (10 * sc.eV * 1e7), 2e-3),
         ],

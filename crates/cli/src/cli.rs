@@ -16,7 +16,7 @@ use std::process::ExitCode;
 
 /// Protoplanetary-disk structure, ice lines and C/O ratios from a disk description file.
 ///
-/// DISK is a `nivalis-disk/1` JSON file (see DISK_FILE.md); every field is optional and
+/// DISK is a `nivalis-disk/1` JSON file (see docs/disk-file.md); every field is optional and
 /// `{}` is the default disk. Use `-` to read the file from standard input.
 /// Units are in the column names: au (astronomical units), K, g/cm2, H nuclei per cm3,
 /// yr, s-1; ratios (C/O, ice fractions) are dimensionless.
@@ -30,7 +30,7 @@ pub struct Args {
 /// Table formats.
 #[derive(Copy, Clone, Debug, PartialEq, Eq, ValueEnum)]
 enum TableFormat {
-    /// Comma-separated values, one header line of column names (units in the names).
+    /// Comma-separated values: `#` lines with the version, disk hash and resolved disk, then one header line of column names (units in the names).
     Csv,
     /// Enhanced Character-Separated Values 1.0 (astropy reads it) with units, descriptions, the resolved disk and the methods.
     Ecsv,
@@ -75,7 +75,7 @@ pub fn parse_view(text: &str) -> Result<nivalis_charts::View, String> {
 enum PlanetFormat {
     /// JSON with the envelope, each element's origin and provenance.
     Json,
-    /// One header line and one row.
+    /// `#` provenance lines, one header line and one row.
     Csv,
 }
 
@@ -373,7 +373,7 @@ fn write_bytes(out: &Option<PathBuf>, bytes: &[u8]) -> Result<(), Failure> {
 
 fn render(table: &Table, format: TableFormat, file: &DiskFile) -> String {
     match format {
-        TableFormat::Csv => to_csv(table),
+        TableFormat::Csv => to_csv(table, &Provenance::of(file)),
         TableFormat::Ecsv => to_ecsv(table, &Provenance::of(file), &methods(&file.parameters)),
         TableFormat::Json => json_text(&to_json(
             table,
@@ -484,7 +484,10 @@ fn execute(args: Args) -> Result<(), Failure> {
                     &place,
                     &Provenance::of(&file),
                 )),
-                PlanetFormat::Csv => to_csv(&nivalis_exports::planet::planet_table(&result)),
+                PlanetFormat::Csv => to_csv(
+                    &nivalis_exports::planet::planet_table(&result),
+                    &Provenance::of(&file),
+                ),
             };
             write_output(&out, &text)
         }
@@ -539,7 +542,7 @@ fn execute(args: Args) -> Result<(), Failure> {
             let prov = Provenance::of(&file);
             let used = methods(&file.parameters);
             let text = match output.format {
-                TableFormat::Csv => to_csv(&nivalis_exports::planet::fit_table(&map)),
+                TableFormat::Csv => to_csv(&nivalis_exports::planet::fit_table(&map), &prov),
                 TableFormat::Ecsv => nivalis_exports::planet::fit_ecsv(&map, &prov, &used),
                 TableFormat::Json => {
                     json_text(&nivalis_exports::planet::fit_json(&map, &prov, &used))

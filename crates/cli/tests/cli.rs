@@ -30,6 +30,14 @@ fn stdout(o: &Output) -> String {
     String::from_utf8(o.stdout.clone()).unwrap()
 }
 
+/// A CSV export without its `#` provenance lines (header line and rows).
+fn csv_body(text: &str) -> String {
+    text.lines()
+        .skip_while(|l| l.starts_with('#'))
+        .map(|l| format!("{l}\n"))
+        .collect()
+}
+
 fn stderr(o: &Output) -> String {
     String::from_utf8(o.stderr.clone()).unwrap()
 }
@@ -104,27 +112,101 @@ fn valid_files_check_and_run_without_nan() {
 
 #[test]
 fn csv_columns_are_the_documented_ones() {
-    let structure = stdout(&nivalis(&["structure", "demo_disks/young_sun.json"]));
+    let structure = csv_body(&stdout(&nivalis(&[
+        "structure",
+        "demo_disks/young_sun.json",
+    ])));
     assert_eq!(
         structure.lines().next().unwrap(),
         "radius_au,surface_density_g_cm2,midplane_temperature_k,irradiation_temperature_k,accretion_temperature_k,midplane_density_h_cm3,scale_height_au,aspect_ratio"
     );
     assert_eq!(structure.lines().count(), 201);
-    let model = stdout(&nivalis(&["model", "demo_disks/young_sun.json"]));
+    let model = csv_body(&stdout(&nivalis(&["model", "demo_disks/young_sun.json"])));
     assert!(model.lines().next().unwrap().starts_with(
         "radius_au,midplane_temperature_k,midplane_density_h_cm3,c_to_o_gas,c_to_o_ice,c_to_o_solid,c_to_h_gas_rel_star,o_to_h_gas_rel_star,ice_fraction_H2O,ice_fraction_CO,"
     ));
-    let map = stdout(&nivalis(&[
+    let map = csv_body(&stdout(&nivalis(&[
         "map",
         "demo_disks/cool_dwarf.json",
         "--quantity",
         "ice_fraction:CO",
-    ]));
+    ])));
     assert_eq!(
         map.lines().next().unwrap(),
         "radius_au,height_au,z_over_r,ice_fraction_CO"
     );
     assert_eq!(map.lines().count(), 1 + 200 * 80);
+}
+
+#[test]
+fn csv_files_open_with_their_provenance() {
+    // Issue 11 item 6: every CSV names the program version, the disk hash (the same as the
+    // JSON export's) and where the resolved disk file is, in `#` lines before the header.
+    let json: serde_json::Value = serde_json::from_str(&stdout(&nivalis(&[
+        "model",
+        "demo_disks/young_sun.json",
+        "--format",
+        "json",
+    ])))
+    .unwrap();
+    let hash = json["disk_hash"].as_str().unwrap().to_string();
+    assert_eq!(hash.len(), 12);
+    for args in [
+        vec!["structure", "demo_disks/young_sun.json"],
+        vec!["model", "demo_disks/young_sun.json"],
+        vec!["elements", "demo_disks/young_sun.json"],
+        vec![
+            "map",
+            "demo_disks/young_sun.json",
+            "--quantity",
+            "c_to_o_gas",
+        ],
+        vec![
+            "planet",
+            "demo_disks/young_sun.json",
+            "--radius-au",
+            "5",
+            "--solid-to-gas",
+            "0.02",
+            "--format",
+            "csv",
+        ],
+        vec![
+            "fit",
+            "demo_disks/young_sun.json",
+            "--c-to-o",
+            "0.8",
+            "--c-to-o-sigma",
+            "0.1",
+            "--format",
+            "csv",
+        ],
+    ] {
+        let out = nivalis(&args);
+        assert_eq!(out.status.code(), Some(0), "{args:?}: {}", stderr(&out));
+        let text = stdout(&out);
+        let comments: Vec<&str> = text.lines().take_while(|l| l.starts_with('#')).collect();
+        assert_eq!(comments.len(), 3, "{args:?}: {comments:?}");
+        assert_eq!(
+            comments[0],
+            format!("# nivalis {}", env!("CARGO_PKG_VERSION")),
+            "{args:?}"
+        );
+        assert!(
+            comments[1].starts_with(&format!("# disk hash {hash}: ")),
+            "{args:?}: {}",
+            comments[1]
+        );
+        assert!(
+            comments[2].contains("nivalis model DISK --format json"),
+            "{args:?}: {}",
+            comments[2]
+        );
+        assert!(
+            !text.lines().skip(3).any(|l| l.starts_with('#')),
+            "{args:?}: comment lines after the header"
+        );
+    }
 }
 
 #[test]
@@ -261,10 +343,13 @@ fn methods_and_bibtex_agree() {
 
 #[test]
 fn element_table_conserves_every_element() {
-    // Gas + solid (ice + refractory) must equal the star's X/H at every radius (MODEL.md section 8);
+    // Gas + solid (ice + refractory) must equal the star's X/H at every radius (docs/model.md section 8);
     // the CSV carries 7 significant digits, so the check is to 2e-6 relative. The star's values are
     // Asplund et al. 2009 Table 1 (log eps C 8.43, O 8.69, N 7.83, S 7.12, Si 7.51, Mg 7.60, Fe 7.50).
-    let text = stdout(&nivalis(&["elements", "demo_disks/young_sun.json"]));
+    let text = csv_body(&stdout(&nivalis(&[
+        "elements",
+        "demo_disks/young_sun.json",
+    ])));
     let mut lines = text.lines();
     let header: Vec<&str> = lines.next().unwrap().split(',').collect();
     let star = [8.43, 8.69, 7.83, 7.12, 7.51, 7.60, 7.50].map(|l: f64| 10f64.powf(l - 12.0));

@@ -1,7 +1,7 @@
 //! # nivalis-disk-files
 //!
 //! Reads, validates and writes disk description files in the `nivalis-disk/1`
-//! JSON format (`../shared/DISK_FILE.md`). Every field is optional; a missing
+//! JSON format (`docs/disk-file.md`). Every field is optional; a missing
 //! field takes the default of [`ModelParameters::defaults`], whose docs name
 //! each default's source. Validation happens once, here, into the typed
 //! parameters the physics core takes; every problem of a file is reported at

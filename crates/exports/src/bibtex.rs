@@ -1,6 +1,12 @@
 //! The methods paragraph and the BibTeX file of exactly the references a
 //! configuration used (issue "paper-ready output"). Records come from
-//! `nivalis_physics::references`, where each is kept once.
+//! `nivalis_physics::references`, where each is kept once; the software
+//! itself is cited too, with its version ([`software_entry`]).
+//!
+//! The paragraph is UTF-8 prose (Öberg, ±). The BibTeX is plain ASCII: letters
+//! with accents are written as LaTeX accent commands in braces (`{\"O}berg`),
+//! which classic BibTeX, every journal's style file and bibtexparser's LaTeX
+//! decoding all read (tests/python/check_bibtex.py checks the last).
 
 use crate::methods::{cited_keys, MethodEntry};
 use crate::provenance::Provenance;
@@ -24,12 +30,82 @@ fn escape(text: &str) -> String {
     out
 }
 
+/// The LaTeX accent command, in braces, of a letter outside ASCII
+/// (`Ö` -> `{\"O}`), or `None` for a character without one here.
+fn latex_letter(ch: char) -> Option<&'static str> {
+    Some(match ch {
+        'Ä' => "{\\\"A}",
+        'Ö' => "{\\\"O}",
+        'Ü' => "{\\\"U}",
+        'ä' => "{\\\"a}",
+        'ö' => "{\\\"o}",
+        'ü' => "{\\\"u}",
+        'ë' => "{\\\"e}",
+        'ï' => "{\\\"i}",
+        'é' => "{\\'e}",
+        'É' => "{\\'E}",
+        'á' => "{\\'a}",
+        'í' => "{\\'i}",
+        'ó' => "{\\'o}",
+        'ú' => "{\\'u}",
+        'è' => "{\\`e}",
+        'à' => "{\\`a}",
+        'ñ' => "{\\~n}",
+        'ç' => "{\\c c}",
+        'ā' => "{\\=a}",
+        'ø' => "{\\o}",
+        'Ø' => "{\\O}",
+        'å' => "{\\aa}",
+        'ß' => "{\\ss}",
+        'š' => "{\\v s}",
+        'č' => "{\\v c}",
+        _ => return None,
+    })
+}
+
+/// A field value for BibTeX: special characters escaped, then accented
+/// letters as LaTeX accent commands (so the file stays ASCII).
+fn bibtex_text(text: &str) -> String {
+    let escaped = escape(text);
+    let mut out = String::with_capacity(escaped.len());
+    for ch in escaped.chars() {
+        match latex_letter(ch) {
+            Some(latex) => out.push_str(latex),
+            None => out.push(ch),
+        }
+    }
+    out
+}
+
+/// The year of this version of Nivalis, for its citation (update with the
+/// version in the workspace Cargo.toml and CITATION.cff).
+pub const SOFTWARE_YEAR: u16 = 2026;
+
+/// BibTeX key of the software's own entry.
+pub const SOFTWARE_KEY: &str = "nivalis";
+
+/// How the methods paragraph cites the software, e.g. "The Nivalis developers 2026".
+pub fn software_citation() -> String {
+    format!("The Nivalis developers {SOFTWARE_YEAR}")
+}
+
+/// The BibTeX entry of Nivalis itself with its version (as in CITATION.cff).
+/// `@misc`, which every BibTeX style knows, with the version in `version`
+/// (read by biblatex and the AAS styles) and in `howpublished` (printed by
+/// the classic styles).
+pub fn software_entry() -> String {
+    let version = env!("CARGO_PKG_VERSION");
+    format!(
+        "@misc{{{SOFTWARE_KEY},\n  author = {{{{The Nivalis developers}}}},\n  title = {{{{Nivalis: an offline explorer of protoplanetary-disk chemistry}}}},\n  year = {{{SOFTWARE_YEAR}}},\n  version = {{{version}}},\n  howpublished = {{Computer software, version {version}}},\n}}\n"
+    )
+}
+
 /// One BibTeX `@article` entry.
 pub fn bibtex_entry(r: &Reference) -> String {
     let mut s = format!("@article{{{},\n", r.key);
-    s.push_str(&format!("  author = {{{}}},\n", escape(r.authors)));
-    s.push_str(&format!("  title = {{{{{}}}}},\n", escape(r.title)));
-    s.push_str(&format!("  journal = {{{}}},\n", escape(r.journal)));
+    s.push_str(&format!("  author = {{{}}},\n", bibtex_text(r.authors)));
+    s.push_str(&format!("  title = {{{{{}}}}},\n", bibtex_text(r.title)));
+    s.push_str(&format!("  journal = {{{}}},\n", bibtex_text(r.journal)));
     s.push_str(&format!("  year = {{{}}},\n", r.year));
     if !r.volume.is_empty() {
         s.push_str(&format!("  volume = {{{}}},\n", escape(r.volume)));
@@ -44,12 +120,16 @@ pub fn bibtex_entry(r: &Reference) -> String {
     s
 }
 
-/// The BibTeX file of every reference the methods cite, in order of first citation.
+/// The BibTeX file of every reference the methods paragraph cites, in order
+/// of first citation: the software itself first, then the publications.
 pub fn bibtex(methods: &[MethodEntry]) -> String {
-    cited_keys(methods)
-        .into_iter()
-        .filter_map(reference)
-        .map(bibtex_entry)
+    std::iter::once(software_entry())
+        .chain(
+            cited_keys(methods)
+                .into_iter()
+                .filter_map(reference)
+                .map(bibtex_entry),
+        )
         .collect::<Vec<_>>()
         .join("\n")
 }
@@ -80,8 +160,9 @@ pub fn methods_paragraph(
 ) -> String {
     let g = &parameters.grid;
     let mut text = format!(
-        "We computed the disk with {}, disk file hash {}, on {} logarithmically spaced radial cells from {} to {} au and {} vertical cells per column up to {} midplane scale heights.",
-        provenance.program,
+        "We computed the disk with Nivalis version {} ({}) from the disk file whose SHA-256 hash begins {}, on {} logarithmically spaced radial cells from {} to {} au and {} vertical cells per column up to {} midplane scale heights.",
+        env!("CARGO_PKG_VERSION"),
+        software_citation(),
         provenance.disk_hash,
         g.radial_cells,
         parameters.disk.inner_radius_au,
@@ -90,21 +171,19 @@ pub fn methods_paragraph(
         g.max_height_scale_heights
     );
     text.push_str(&format!(
-        " The star has M = {} Msun, L = {} Lsun and Teff = {} K.",
-        parameters.star.mass_msun,
-        parameters.star.luminosity_lsun,
-        parameters.star.effective_temperature_k
+        " The star has a mass of {} M☉, a luminosity of {} L☉ and an effective temperature of {} K.",
+        parameters.star.mass_msun, parameters.star.luminosity_lsun, parameters.star.effective_temperature_k
     ));
     for m in methods {
-        text.push_str(&format!(
-            " {}: {} ({}).",
-            capitalised(m.topic),
-            m.text,
-            citation_list(&m.references)
-        ));
+        let citations = citation_list(&m.references);
+        if citations.is_empty() {
+            text.push_str(&format!(" {}.", capitalised(&m.text)));
+        } else {
+            text.push_str(&format!(" {} ({citations}).", capitalised(&m.text)));
+        }
     }
     text.push_str(
-        " Simplifications: the volatiles are treated as independent pure ices (no entrapment or mixed-ice binding); radiation is treated in 1+1D, in vertical columns with starlight entering at the grazing angle; gas and dust share one temperature; and the disk is in freeze-out/desorption equilibrium at one moment, with no radial drift, vapour transport, evolution or gas-phase chemistry.",
+        " The model simplifies in four ways: the volatiles are treated as independent pure ices, with no entrapment and no binding in mixed ices; radiation is treated in 1+1D, in vertical columns with starlight entering at the grazing angle; gas and dust share one temperature; and the disk is in freeze-out/desorption equilibrium at one moment, with no radial drift, vapour transport, evolution or gas-phase chemistry.",
     );
     text.push('\n');
     text

@@ -11,7 +11,7 @@ use serde_json::{json, Map, Value};
 /// Output format of a table.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub enum Format {
-    /// Comma-separated values with one header line of column names.
+    /// Comma-separated values: `#` provenance lines, one header line of column names, the rows.
     Csv,
     /// ECSV 1.0 with units, descriptions and provenance in the header.
     Ecsv,
@@ -41,9 +41,21 @@ fn data_lines(table: &Table, out: &mut String) {
     }
 }
 
-/// CSV: a header line of column names (units are in the names) and the rows.
-pub fn to_csv(table: &Table) -> String {
-    let mut out = String::new();
+/// The `#` comment lines that open every CSV file: the program version, the
+/// disk hash and where to get the resolved disk file (issue 11 item 6).
+/// Readers that skip `#` lines (astropy's `comment="#"`, pandas'
+/// `comment="#"`, Python's csv after filtering) read the table unchanged.
+pub fn csv_provenance_lines(provenance: &Provenance) -> String {
+    format!(
+        "# {}\n# disk hash {}: the first 12 hex digits of the SHA-256 of the resolved disk file\n# resolved disk file: the \"disk\" field of `nivalis model DISK --format json`, or the page's disk-file download (its sha256sum begins with the hash)\n",
+        provenance.program, provenance.disk_hash
+    )
+}
+
+/// CSV: the provenance as `#` comment lines ([`csv_provenance_lines`]), a
+/// header line of column names (units are in the names) and the rows.
+pub fn to_csv(table: &Table, provenance: &Provenance) -> String {
+    let mut out = csv_provenance_lines(provenance);
     data_lines(table, &mut out);
     out
 }

@@ -5,7 +5,7 @@
 use nivalis_physics::balance::species_properties;
 use nivalis_physics::params::{DesorptionModel, ModelParameters, Opacity, VerticalTemperature};
 use nivalis_physics::references::reference;
-use nivalis_physics::species::SpeciesTable;
+use nivalis_physics::species::{BindingEnergySet, SpeciesTable};
 use serde_json::{json, Value};
 
 /// One method of the run.
@@ -13,7 +13,9 @@ use serde_json::{json, Value};
 pub struct MethodEntry {
     /// What it computes, e.g. "surface density".
     pub topic: &'static str,
-    /// The method and its parameter values, one sentence.
+    /// The method and its parameter values as one clause of plain prose
+    /// (sets and references named in words, never by internal key); the
+    /// methods paragraph capitalises it and appends the citations.
     pub text: String,
     /// Reference keys (publications only).
     pub references: Vec<&'static str>,
@@ -33,18 +35,21 @@ pub fn methods(p: &ModelParameters) -> Vec<MethodEntry> {
     let mut out = vec![
         entry(
             "stellar abundances",
-            format!(
-                "stellar abundances per H from {} photospheric values with offsets [dex] C {:+}, O {:+}, N {:+}, S {:+}, Si {:+}, Mg {:+}, Fe {:+}",
-                p.star.abundance_reference.key(),
-                p.star.offset_dex[0], p.star.offset_dex[1], p.star.offset_dex[2], p.star.offset_dex[3],
-                p.star.offset_dex[4], p.star.offset_dex[5], p.star.offset_dex[6]
-            ),
+            if p.star.offset_dex.iter().all(|&x| x == 0.0) {
+                "the stellar abundances per H nucleus are the solar photospheric values".to_string()
+            } else {
+                format!(
+                    "the stellar abundances per H nucleus are the solar photospheric values shifted for this star by {:+} dex in C, {:+} in O, {:+} in N, {:+} in S, {:+} in Si, {:+} in Mg and {:+} in Fe",
+                    p.star.offset_dex[0], p.star.offset_dex[1], p.star.offset_dex[2], p.star.offset_dex[3],
+                    p.star.offset_dex[4], p.star.offset_dex[5], p.star.offset_dex[6]
+                )
+            },
             &[p.star.abundance_reference.key()],
         ),
         entry(
             "surface density",
             format!(
-                "self-similar viscous-disk surface density, gas mass {} Msun, R_c = {} au, gamma = {}",
+                "the gas surface density is the self-similar viscous-disk profile with a total gas mass of {} M☉ (of the whole profile), characteristic radius R_c = {} au and index γ = {}",
                 d.gas_mass_msun, d.characteristic_radius_au, d.surface_density_index
             ),
             &["lynden-bell1974", "hartmann1998", "andrews2009"],
@@ -53,14 +58,14 @@ pub fn methods(p: &ModelParameters) -> Vec<MethodEntry> {
     if d.self_consistent_flaring {
         out.push(entry(
             "irradiation",
-            "passive irradiation with the grazing angle solved self-consistently, phi = 0.4 R*/r + r d(h/r)/dr with h = 4 H".into(),
+            "starlight heats the disk at a grazing angle solved self-consistently, φ = 0.4 R*/r + r d(h/r)/dr with the absorbing surface at h = 4 H".into(),
             &["chiang1997"],
         ));
     } else {
         out.push(entry(
             "irradiation",
             format!(
-                "passive irradiation with a fixed flaring angle phi = {}",
+                "starlight heats the disk at a fixed flaring angle φ = {}",
                 d.flaring_angle
             ),
             &["chiang1997", "dullemond2001"],
@@ -69,11 +74,17 @@ pub fn methods(p: &ModelParameters) -> Vec<MethodEntry> {
     if d.accretion_rate_msun_per_yr > 0.0 {
         let (text, refs): (String, Vec<&'static str>) = match d.opacity {
             Opacity::Constant { rosseland_cm2_per_g } => (
-                format!("viscous heating for Mdot = {:e} Msun/yr, grey midplane with constant kappa_R = {} cm2/g", d.accretion_rate_msun_per_yr, rosseland_cm2_per_g),
+                format!(
+                    "viscous heating for an accretion rate of {:e} M☉/yr adds to it in a grey midplane with a constant Rosseland mean opacity of {} cm² per gram of gas",
+                    d.accretion_rate_msun_per_yr, rosseland_cm2_per_g
+                ),
                 vec!["shakura1973", "pringle1981"],
             ),
             Opacity::BellLin1994 => (
-                format!("viscous heating for Mdot = {:e} Msun/yr, grey midplane with the Bell & Lin 1994 opacities", d.accretion_rate_msun_per_yr),
+                format!(
+                    "viscous heating for an accretion rate of {:e} M☉/yr adds to it in a grey midplane with piecewise power-law Rosseland mean opacities",
+                    d.accretion_rate_msun_per_yr
+                ),
                 vec!["shakura1973", "pringle1981", "bell1994"],
             ),
         };
@@ -85,12 +96,16 @@ pub fn methods(p: &ModelParameters) -> Vec<MethodEntry> {
     }
     match d.vertical_temperature {
         VerticalTemperature::Isothermal => {
-            out.push(entry("vertical structure", "vertically isothermal columns in hydrostatic equilibrium in the full stellar gravity, mu = 2.37".into(), &["kauffmann2008"]))
+            out.push(entry(
+                "vertical structure",
+                "each column is vertically isothermal and in hydrostatic equilibrium in the full stellar gravity, with a mean molecular weight of 2.37".into(),
+                &["kauffmann2008"],
+            ))
         }
         VerticalTemperature::TwoLayer { superheating, transition_scale_heights, delta } => out.push(entry(
             "vertical structure",
             format!(
-                "two-layer vertical temperature (z_q = {transition_scale_heights} H, delta = {delta}, superheated surface factor {superheating}), hydrostatic density in the full stellar gravity, mu = 2.37"
+                "the vertical temperature has two layers, with the transition at z_q = {transition_scale_heights} H, exponent δ = {delta} and the surface layer superheated by a factor {superheating}, and the density is hydrostatic in the full stellar gravity with a mean molecular weight of 2.37"
             ),
             &["dartois2003", "williams2014", "chiang1997", "kauffmann2008"],
         )),
@@ -102,11 +117,11 @@ pub fn methods(p: &ModelParameters) -> Vec<MethodEntry> {
     out.push(MethodEntry {
         topic: "radiation",
         text: format!(
-            "1+1D radiation: A_V = N_H/1.87e21 cm-2, stellar FUV {:e} G0 at 1 au entering at the grazing angle, interstellar FUV {} G0, cosmic rays zeta = {:e} s-1 attenuated over 96 g cm-2 from both sides{}",
+            "radiation is followed in 1+1D vertical columns, with A_V = N_H/1.87e21 cm⁻², a stellar FUV field of {:e} G0 at 1 au entering at the grazing angle, an interstellar FUV field of {} G0 from above, and cosmic rays of rate ζ = {:e} s⁻¹ attenuated over 96 g cm⁻² from both sides{}",
             p.star.fuv_1au_habing,
             d.interstellar_fuv_habing,
             d.cosmic_ray_rate_s,
-            if p.ices.photodesorption { ", cosmic-ray induced UV photons" } else { "" }
+            if p.ices.photodesorption { ", which also induce UV photons" } else { "" }
         ),
         references: radiation,
     });
@@ -130,12 +145,8 @@ pub fn methods(p: &ModelParameters) -> Vec<MethodEntry> {
             out.push(MethodEntry {
                 topic: "ices",
                 text: format!(
-                    "step model: each species is ice below a fixed condensation temperature{}",
-                    if overridden {
-                        " (some temperatures set by the user)"
-                    } else {
-                        ""
-                    }
+                    "the ices follow the step model, in which each species is ice below a fixed condensation temperature{}",
+                    if overridden { ", some of them set by the user" } else { "" }
                 ),
                 references: refs,
             });
@@ -169,13 +180,13 @@ pub fn methods(p: &ModelParameters) -> Vec<MethodEntry> {
             out.push(MethodEntry {
                 topic: "ices",
                 text: format!(
-                    "{} desorption balance of independent pure ices with adsorption (sticking {}), thermal desorption with the Hasegawa-Herbst-Leung frequency{}{}; binding energies: set {}{}; grains a = {} um, rho = {} g cm-3, dust-to-gas {}",
+                    "each volatile is an independent pure ice in {} desorption balance: adsorption with a sticking coefficient of {}, thermal desorption at the vibration frequency of Hasegawa, Herbst & Leung{}{}, with the binding energies {}{}, on grains of radius {} µm and density {} g cm⁻³ at a dust-to-gas mass ratio of {}",
                     if model == DesorptionModel::ZerothOrder { "zeroth-order (multilayer)" } else { "first-order" },
                     p.ices.sticking,
-                    if p.ices.cosmic_ray_desorption { ", cosmic-ray desorption" } else { "" },
-                    if p.ices.photodesorption { ", photodesorption" } else { "" },
-                    p.ices.binding_energy_set.key(),
-                    if props.iter().any(|s| s.binding_energy_source == "override") { " with user overrides" } else { "" },
+                    if p.ices.cosmic_ray_desorption { ", cosmic-ray induced desorption" } else { "" },
+                    if p.ices.photodesorption { " and photodesorption" } else { "" },
+                    binding_energy_text(p.ices.binding_energy_set),
+                    if props.iter().any(|s| s.binding_energy_source == "override") { ", some of them set by the user" } else { "" },
                     d.grain_radius_um,
                     d.grain_density_g_cm3,
                     d.dust_to_gas
@@ -188,7 +199,7 @@ pub fn methods(p: &ModelParameters) -> Vec<MethodEntry> {
     out.push(entry(
         "element budget",
         format!(
-            "carbon fractions CO {}, CO2 {}, CH4 {}, CH3OH {}, HCN {}, refractory {}; nitrogen after HCN: N2 {}, NH3 {}; sulfur: H2S {}, refractory {}; {} O per Si in silicates; water takes the oxygen left; refractory carbon released at {} K, sulfide at {} K, silicates at {} K",
+            "the carbon is carried as CO {}, CO2 {}, CH4 {}, CH3OH {}, HCN {} and refractory carbon {} (fractions of all carbon), the nitrogen left after HCN as N2 {} and NH3 {}, and the sulfur as H2S {} and refractory sulfide {}; silicates hold {} O per Si and water takes the oxygen left; refractory carbon is released to the gas at {} K, sulfide at {} K and silicates at {} K",
             c.carbon.co, c.carbon.co2, c.carbon.ch4, c.carbon.ch3oh, c.carbon.hcn, c.carbon.refractory,
             c.nitrogen.n2, c.nitrogen.nh3, c.sulfur.h2s, c.sulfur.refractory, c.oxygen_per_silicon,
             c.soot_line_k, c.sulfide_release_k, c.silicate_sublimation_k
@@ -196,6 +207,14 @@ pub fn methods(p: &ModelParameters) -> Vec<MethodEntry> {
         &["oberg2011", "bergin2015", "li2021", "lodders2003"],
     ));
     out
+}
+
+/// The binding-energy set in words, for the methods text.
+fn binding_energy_text(set: BindingEnergySet) -> &'static str {
+    match set {
+        BindingEnergySet::PureIces => "for desorption from each species' own pure ice",
+        BindingEnergySet::OnWaterIce => "for desorption from a water-ice surface",
+    }
 }
 
 /// Methods as JSON objects.

@@ -1,5 +1,5 @@
 //! Freeze-out / desorption equilibrium of each volatile in each cell
-//! (MODEL.md section 7): closed form, no iteration.
+//! (docs/model.md section 7): closed form, no iteration.
 
 use crate::math::{exp, sqrt};
 use crate::params::{DesorptionModel, ModelParameters};
@@ -251,7 +251,7 @@ mod tests {
 
     #[test]
     fn hasegawa_frequencies_match_worked_values() {
-        // CHECK_VALUES.md 4b worked nu0 (D, n_s = 1.5e15, m = mu u): tolerance 4e-3 (printed digits).
+        // docs/check-values.md section 4b worked nu0 (D, n_s = 1.5e15, m = mu u): tolerance 4e-3 (printed digits).
         for (e, m, expected) in [
             (5773.0, 18.0, 2.85e12),
             (855.0, 28.0, 8.785e11),

@@ -1,4 +1,4 @@
-//! Element budget (MODEL.md section 8): how the star's C, O, N, S, Si, Mg, Fe
+//! Element budget (docs/model.md section 8): how the star's C, O, N, S, Si, Mg, Fe
 //! are divided among volatile carriers and refractory solids, and, given the
 //! local temperature and ice fractions, how much of each element is in the gas,
 //! in ices and in refractory solids.
@@ -51,7 +51,7 @@ impl PhaseAbundances {
 }
 
 /// Ratio `numerator / denominator`, undefined (`None`) where the denominator
-/// is below 1e-9 of `reference` (MODEL.md section 8: never a noisy number).
+/// is below 1e-9 of `reference` (docs/model.md section 8: never a noisy number).
 pub fn defined_ratio(numerator: f64, denominator: f64, reference: f64) -> Option<f64> {
     if denominator < 1e-9 * reference || denominator <= 0.0 {
         None
@@ -61,7 +61,7 @@ pub fn defined_ratio(numerator: f64, denominator: f64, reference: f64) -> Option
 }
 
 impl Carriers {
-    /// Divide the star's elements among carriers (MODEL.md section 8).
+    /// Divide the star's elements among carriers (docs/model.md section 8).
     ///
     /// Carbon fractions are of all carbon; nitrogen fractions of the nitrogen
     /// left after HCN (x_N2 = f x_left / 2, x_NH3 = f x_left); sulfur fractions
@@ -138,7 +138,7 @@ impl Carriers {
     ///
     /// Refractory carbon is gas where T >= soot line, sulfide sulfur where
     /// T >= sulfide release, silicate O, Si, Mg, Fe where T >= silicate
-    /// sublimation (MODEL.md section 8). Gas + ice + refractory equals the
+    /// sublimation (docs/model.md section 8). Gas + ice + refractory equals the
     /// stellar abundance of every element (to rounding).
     pub fn phases(
         &self,
@@ -194,7 +194,7 @@ impl Carriers {
     }
 
     /// Mass of solids per H nucleus [amu]: ices (abundance x molecular mass)
-    /// plus refractory atoms x atomic mass (MODEL.md section 9).
+    /// plus refractory atoms x atomic mass (docs/model.md section 9).
     pub fn solid_mass_per_h_amu(
         &self,
         phases: &PhaseAbundances,

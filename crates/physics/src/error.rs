@@ -13,7 +13,7 @@ pub enum PhysicsError {
         /// Stellar radius [au].
         stellar_radius_au: f64,
     },
-    /// Water would need negative oxygen: a carbon-rich star (MODEL.md section 8).
+    /// Water would need negative oxygen: a carbon-rich star (docs/model.md section 8).
     OxygenExhausted {
         /// Stellar O/H.
         oxygen_per_h: f64,

@@ -197,7 +197,7 @@ impl Model {
 
     /// Every snowline of a species, inner first. An absent species (x = 0) has none.
     /// Kinetic models: crossings of midplane f_ice = 0.5, linear in ln r. Step model:
-    /// where T_mid = T_cond, ln T interpolated against ln r (MODEL.md section 7).
+    /// where T_mid = T_cond, ln T interpolated against ln r (docs/model.md section 7).
     pub fn snowlines(&self, species: Species) -> Vec<Snowline> {
         if self.carriers.species_per_h[species.index()] == 0.0 {
             return Vec::new();
@@ -247,7 +247,7 @@ impl Model {
     }
 
     /// The model's midplane state at an arbitrary radius, from that radius' own
-    /// column (MODEL.md section 9: not the nearest grid cell). The grazing angle
+    /// column (docs/model.md section 9: not the nearest grid cell). The grazing angle
     /// is interpolated in ln r from the grid when it is solved self-consistently.
     pub fn midplane_at(&self, radius_au: f64) -> Result<LocalMidplane, PhysicsError> {
         let d = &self.parameters.disk;

@@ -1,5 +1,5 @@
 //! Rosseland mean opacities of Bell & Lin 1994 (ApJ 427, 987, Table 3 as
-//! recalled in MODEL.md section 4): kappa = k rho^a T^b per regime, regimes in
+//! recalled in docs/model.md section 4): kappa = k rho^a T^b per regime, regimes in
 //! order of rising temperature, boundaries where neighbouring laws meet.
 
 use crate::math::{ln, pow};
@@ -68,7 +68,7 @@ fn intersection_k(lo: &Regime, hi: &Regime, ln_rho: f64) -> f64 {
 /// The Bell & Lin 1994 Rosseland opacity [cm^2 g^-1] at density and temperature.
 ///
 /// Regimes whose interval is empty at this density are dropped and their
-/// neighbours meet at their own intersection (MODEL.md section 4), so kappa
+/// neighbours meet at their own intersection (docs/model.md section 4), so kappa
 /// is continuous in T. Valid for rho > 0, T > 0.
 pub fn bell_lin_1994_cm2_per_g(density_g_cm3: f64, temperature_k: f64) -> f64 {
     let ln_rho = ln(density_g_cm3);
@@ -101,7 +101,7 @@ mod tests {
 
     #[test]
     fn ice_boundaries_match_model_md() {
-        // MODEL.md section 4: ice boundaries at 166.8 K and 202.7 K (derived from the laws).
+        // docs/model.md section 4: ice boundaries at 166.8 K and 202.7 K (derived from the laws).
         let rho = 1e-10;
         let t1 = intersection_k(&REGIMES[0], &REGIMES[1], ln(rho));
         let t2 = intersection_k(&REGIMES[1], &REGIMES[2], ln(rho));

@@ -161,13 +161,13 @@ pub struct DiskParameters {
     pub characteristic_radius_au: f64,
     /// Surface density index gamma. Default 1.0 (Andrews et al. 2009 median about 0.9; Hartmann et al. 1998 use 1).
     pub surface_density_index: f64,
-    /// Inner edge [au]. Default 0.1 (MODEL.md section 2).
+    /// Inner edge [au]. Default 0.1 (docs/model.md section 2).
     pub inner_radius_au: f64,
-    /// Outer edge [au]. Default 500 (MODEL.md section 2).
+    /// Outer edge [au]. Default 500 (docs/model.md section 2).
     pub outer_radius_au: f64,
     /// Accretion rate [Msun/yr], constant in radius. Default 1e-8 (typical T Tauri value, Hartmann et al. 1998).
     pub accretion_rate_msun_per_yr: f64,
-    /// Flaring (grazing) angle phi. Default 0.05 (MODEL.md section 4; Chiang & Goldreich 1997 find 0.02-0.08).
+    /// Flaring (grazing) angle phi. Default 0.05 (docs/model.md section 4; Chiang & Goldreich 1997 find 0.02-0.08).
     pub flaring_angle: f64,
     /// Solve the grazing angle self-consistently (Chiang & Goldreich 1997). Default false.
     pub self_consistent_flaring: bool,
@@ -175,13 +175,13 @@ pub struct DiskParameters {
     pub opacity: Opacity,
     /// Vertical temperature structure. Default two-layer.
     pub vertical_temperature: VerticalTemperature,
-    /// Background temperature floor [K]. Default 10 K (MODEL.md section 4).
+    /// Background temperature floor [K]. Default 10 K (docs/model.md section 4).
     pub background_temperature_k: f64,
     /// Dust-to-gas mass ratio. Default 0.01 (ISM value, e.g. Bohlin et al. 1978).
     pub dust_to_gas: f64,
-    /// Grain radius [micron]. Default 0.1 (MODEL.md section 3, typical of MRN grains).
+    /// Grain radius [micron]. Default 0.1 (docs/model.md section 3, typical of MRN grains).
     pub grain_radius_um: f64,
-    /// Grain material density [g cm^-3]. Default 3 (silicate; MODEL.md section 3).
+    /// Grain material density [g cm^-3]. Default 3 (silicate; docs/model.md section 3).
     pub grain_density_g_cm3: f64,
     /// Cosmic-ray ionisation rate at the disk surface, per H2 [s^-1]. Default 1.3e-17.
     pub cosmic_ray_rate_s: f64,
@@ -279,7 +279,7 @@ pub struct SulfurFractions {
     pub refractory: f64,
 }
 
-/// Where the elements are (MODEL.md section 8).
+/// Where the elements are (docs/model.md section 8).
 #[derive(Debug, Clone, PartialEq)]
 pub struct CompositionParameters {
     /// Carbon carriers. Default: refractory 0.5 (Bergin et al. 2015; Li et al. 2021: about half of
@@ -303,11 +303,11 @@ pub struct CompositionParameters {
 /// Grid resolution.
 #[derive(Debug, Clone, PartialEq)]
 pub struct GridParameters {
-    /// Radial cells. Default 200 (MODEL.md section 2).
+    /// Radial cells. Default 200 (docs/model.md section 2).
     pub radial_cells: usize,
-    /// Vertical cells per column. Default 80 (MODEL.md section 2).
+    /// Vertical cells per column. Default 80 (docs/model.md section 2).
     pub vertical_cells: usize,
-    /// Top of each column in midplane scale heights. Default 10 (MODEL.md section 2).
+    /// Top of each column in midplane scale heights. Default 10 (docs/model.md section 2).
     pub max_height_scale_heights: f64,
 }
 

@@ -1,11 +1,11 @@
-//! The planet-formation argument (MODEL.md section 9): what a giant planet's
+//! The planet-formation argument (docs/model.md section 9): what a giant planet's
 //! envelope contains if it accreted gas and solids at one place in the disk,
 //! or along a migration path, and the inverse question: which formation places
 //! fit an observed envelope C/O (and optionally [C/H] or [O/H]).
 //!
 //! # Forward model
 //! A planet accretes gas mass M_gas and solid mass M_solid. Each gram of gas
-//! carries 1 / (1.4 m_H) H nuclei (the 1.4 accounts for helium, MODEL.md
+//! carries 1 / (1.4 m_H) H nuclei (the 1.4 accounts for helium, docs/model.md
 //! section 5) and, per H nucleus, the local gas-phase abundance x_e,gas of every
 //! element; each gram of solids carries x_e,solid / m_solid_per_H atoms of
 //! element e, where m_solid_per_H = `solid_mass_per_h_amu` u is the mass of
@@ -33,7 +33,7 @@
 //! # Undefined values
 //! A ratio whose denominator is below 1e-9 of the star's abundance of that
 //! element (per H nucleus, or per gram on the same footing) is `None`, as
-//! everywhere in the core (MODEL.md section 8). A place with no solids at all
+//! everywhere in the core (docs/model.md section 8). A place with no solids at all
 //! (everything sublimated) cannot supply solids: asking for a positive
 //! solid-to-gas ratio there is an error in the forward model and an undefined
 //! row in the map.
@@ -45,16 +45,16 @@ use crate::model::{LocalMidplane, Model};
 use crate::params::{Element, ELEMENT_COUNT};
 use crate::units::{ATOMIC_MASS_UNIT_G, AU_CM, HYDROGEN_MASS_G, MASS_PER_HYDROGEN_NUCLEUS_AMU_H};
 
-/// Number of midpoint-rule points used to average over a migration range (MODEL.md section 9).
+/// Number of midpoint-rule points used to average over a migration range (docs/model.md section 9).
 pub const AVERAGING_POINTS: usize = 200;
 
-/// Smallest and largest solid-to-gas mass ratio of the inverse map (MODEL.md section 9).
+/// Smallest and largest solid-to-gas mass ratio of the inverse map (docs/model.md section 9).
 pub const MAP_SOLID_TO_GAS_RANGE: (f64, f64) = (1.0e-3, 1.0);
 
 /// Default number of log-spaced solid-to-gas values in the inverse map.
 pub const DEFAULT_MAP_RATIO_COUNT: usize = 48;
 
-/// Fewest solid-to-gas values the inverse map accepts (MODEL.md section 9: at least 40).
+/// Fewest solid-to-gas values the inverse map accepts (docs/model.md section 9: at least 40).
 pub const MIN_MAP_RATIO_COUNT: usize = 40;
 
 /// Most solid-to-gas values the inverse map accepts (a bound on memory, 1000 x N_r rows).
@@ -64,7 +64,7 @@ pub const MAX_MAP_RATIO_COUNT: usize = 1000;
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
 pub enum RadialWeighting {
     /// Uniform in radius: midpoints r_k = r1 + (k + 1/2)(r2 - r1)/200, equal
-    /// weights (MODEL.md section 9). Default.
+    /// weights (docs/model.md section 9). Default.
     #[default]
     Uniform,
     /// Uniform in ln r: midpoints r_k = r1 (r2/r1)^((k + 1/2)/200), equal
@@ -244,7 +244,7 @@ pub struct Planet {
     pub envelope: Envelope,
 }
 
-/// The forward model (MODEL.md section 9): the envelope of a planet that
+/// The forward model (docs/model.md section 9): the envelope of a planet that
 /// accreted as `request` says in the disk `model`.
 ///
 /// Errors (`PhysicsError`): `OutOfRange` for `gas_mass_g` (> 0, finite),
@@ -433,7 +433,7 @@ impl AccretedPhases {
     }
 
     /// The phases averaged over a migration range [inner, outer] au
-    /// (MODEL.md section 9): atoms per gram of each phase averaged with the
+    /// (docs/model.md section 9): atoms per gram of each phase averaged with the
     /// midpoint rule over 200 points placed as `weighting` says, each point the
     /// model's own column at that radius. The solids' atoms per gram are
     /// averaged over the points that hold solids (a place without solids
@@ -668,7 +668,7 @@ impl ObservedEnvelope {
 /// quantile with nu degrees of freedom at 68.27 % and 95.45 %: 2.30 and 6.18
 /// for nu = 2, 1.00 and 4.00 for nu = 1 (Press et al. 2007, Numerical Recipes,
 /// 3rd ed., section 15.6.5 and its table of delta chi-square; Avni 1976,
-/// ApJ 210, 642). MODEL.md section 9 prescribes nu = 2, which is the default.
+/// ApJ 210, 642). docs/model.md section 9 prescribes nu = 2, which is the default.
 ///
 /// With only C/O observed, one number constrains two parameters: the chi-square
 /// surface has a valley along which chi2 = 0, the parameters are not
@@ -680,7 +680,7 @@ impl ObservedEnvelope {
 /// gives that reading. With two fitted quantities both conventions coincide.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
 pub enum ConfidenceConvention {
-    /// nu = 2, the two mapped parameters (MODEL.md section 9). Default.
+    /// nu = 2, the two mapped parameters (docs/model.md section 9). Default.
     #[default]
     MappedParameters,
     /// nu = number of fitted observed quantities (1 for C/O alone, 2 with a metallicity).
@@ -905,7 +905,7 @@ pub fn map_solid_to_gas_values(count: usize) -> Vec<f64> {
         .collect()
 }
 
-/// The inverse map (MODEL.md section 9): chi-square of the forward model at
+/// The inverse map (docs/model.md section 9): chi-square of the forward model at
 /// every radial cell centre (the model's own grid midplane, which equals
 /// `Model::midplane_at` there) times every solid-to-gas value, against
 /// `observed`:
@@ -1246,7 +1246,7 @@ mod tests {
     }
 
     /// The step model with the carrier choice of Oberg, Murray-Clay & Bergin 2011
-    /// (CHECK_VALUES.md 5a): refractory C 50 %, CO/H = 1e-4, CO2 the rest of the
+    /// (docs/check-values.md section 5a): refractory C 50 %, CO/H = 1e-4, CO2 the rest of the
     /// volatile carbon, silicates 20 % of O, water the rest; condensation
     /// temperatures H2O 135, CO2 47, CO 20 K (the built-in step-model values).
     fn oberg_like_step_model() -> ModelParameters {
@@ -1276,7 +1276,7 @@ mod tests {
 
     #[test]
     fn pure_gas_envelope_has_the_local_gas_c_to_o() {
-        // Source: MODEL.md section 9 / CHECK_VALUES.md 5a mixing formula with f_s = 0 (C, exact).
+        // Source: docs/model.md section 9 / docs/check-values.md section 5a mixing formula with f_s = 0 (C, exact).
         let m = small_model();
         for r in [0.5, 3.0, 20.0, 120.0] {
             let p = planet(&m, &PlanetRequest::at(r, 0.0)).unwrap();
@@ -1295,7 +1295,7 @@ mod tests {
 
     #[test]
     fn grid_cell_and_midplane_at_agree() {
-        // Internal consistency (MODEL.md section 9: the local state at r_p is the model at r_p).
+        // Internal consistency (docs/model.md section 9: the local state at r_p is the model at r_p).
         let m = small_model();
         for j in [0, 37, 100, 150, 199] {
             let r = m.structure.radius_cm[j] / AU_CM;
@@ -1324,7 +1324,7 @@ mod tests {
 
     #[test]
     fn solid_mass_per_h_is_near_the_ism_dust_to_gas_ratio_outside_the_water_snowline() {
-        // MODEL.md section 9 test: m_solid_per_H / (1.4 m_H) within a factor 2 of 0.01
+        // docs/model.md section 9 test: m_solid_per_H / (1.4 m_H) within a factor 2 of 0.01
         // (the ISM dust-to-gas mass ratio, e.g. Bohlin et al. 1978; common practice).
         let m = small_model();
         let water = m.snowlines(crate::Species::H2O)[0].radius_cm / AU_CM;

@@ -9,7 +9,8 @@
 pub struct Reference {
     /// Citation key, also the BibTeX key.
     pub key: &'static str,
-    /// Authors in "Last, F. and Last, F." form (BibTeX convention).
+    /// Authors in "Last, F. and Last, F." form (BibTeX convention), in UTF-8
+    /// (`Öberg`); the BibTeX writer turns accents into LaTeX commands.
     pub authors: &'static str,
     /// Publication year.
     pub year: u16,
@@ -66,10 +67,10 @@ pub const REFERENCES: &[Reference] = &[
     reference!("li2021", "Li, J. and Bergin, E. A. and Blake, G. A. and Ciesla, F. J. and Hirschmann, M. M.", 2021, "Earth's carbon deficit caused by early loss through irreversible sublimation", "Sci. Adv.", "7", "eabd3632", "10.1126/sciadv.abd3632", "Li et al. 2021"),
     reference!("lodders2003", "Lodders, K.", 2003, "Solar System Abundances and Condensation Temperatures of the Elements", "ApJ", "591", "1220", "10.1086/375492", "Lodders 2003"),
     reference!("lynden-bell1974", "Lynden-Bell, D. and Pringle, J. E.", 1974, "The evolution of viscous discs and the origin of the nebular variables", "MNRAS", "168", "603", "10.1093/mnras/168.3.603", "Lynden-Bell & Pringle 1974"),
-    reference!("oberg2005", "Oberg, K. I. and van Broekhuizen, F. and Fraser, H. J. and Bisschop, S. E. and van Dishoeck, E. F. and Schlemmer, S.", 2005, "Competition between CO and N2 Desorption from Interstellar Ices", "ApJL", "621", "L33", "10.1086/428901", "Oberg et al. 2005"),
-    reference!("oberg2009co", "Oberg, K. I. and van Dishoeck, E. F. and Linnartz, H.", 2009, "Photodesorption of ices I: CO, N2, and CO2", "A&A", "496", "281", "10.1051/0004-6361/200810207", "Oberg, van Dishoeck & Linnartz 2009"),
-    reference!("oberg2009water", "Oberg, K. I. and Linnartz, H. and Visser, R. and van Dishoeck, E. F.", 2009, "Photodesorption of Ices. II. H2O and D2O", "ApJ", "693", "1209", "10.1088/0004-637X/693/2/1209", "Oberg et al. 2009"),
-    reference!("oberg2011", "Oberg, K. I. and Murray-Clay, R. and Bergin, E. A.", 2011, "The Effects of Snowlines on C/O in Planetary Atmospheres", "ApJL", "743", "L16", "10.1088/2041-8205/743/1/L16", "Oberg, Murray-Clay & Bergin 2011"),
+    reference!("oberg2005", "Öberg, K. I. and van Broekhuizen, F. and Fraser, H. J. and Bisschop, S. E. and van Dishoeck, E. F. and Schlemmer, S.", 2005, "Competition between CO and N2 Desorption from Interstellar Ices", "ApJL", "621", "L33", "10.1086/428901", "Öberg et al. 2005"),
+    reference!("oberg2009co", "Öberg, K. I. and van Dishoeck, E. F. and Linnartz, H.", 2009, "Photodesorption of ices I: CO, N2, and CO2", "A&A", "496", "281", "10.1051/0004-6361/200810207", "Öberg, van Dishoeck & Linnartz 2009"),
+    reference!("oberg2009water", "Öberg, K. I. and Linnartz, H. and Visser, R. and van Dishoeck, E. F.", 2009, "Photodesorption of Ices. II. H2O and D2O", "ApJ", "693", "1209", "10.1088/0004-637X/693/2/1209", "Öberg et al. 2009"),
+    reference!("oberg2011", "Öberg, K. I. and Murray-Clay, R. and Bergin, E. A.", 2011, "The Effects of Snowlines on C/O in Planetary Atmospheres", "ApJL", "743", "L16", "10.1088/2041-8205/743/1/L16", "Öberg, Murray-Clay & Bergin 2011"),
     reference!("penteado2017", "Penteado, E. M. and Walsh, C. and Cuppen, H. M.", 2017, "Sensitivity Analysis of Grain Surface Chemistry to Binding Energies of Ice Species", "ApJ", "844", "71", "10.3847/1538-4357/aa78f9", "Penteado, Walsh & Cuppen 2017"),
     reference!("prasad1983", "Prasad, S. S. and Tarafdar, S. P.", 1983, "UV radiation field inside dense clouds: its possible existence and chemical implications", "ApJ", "267", "603", "10.1086/160896", "Prasad & Tarafdar 1983"),
     reference!("pringle1981", "Pringle, J. E.", 1981, "Accretion discs in astrophysics", "ARA&A", "19", "137", "10.1146/annurev.aa.19.090181.001033", "Pringle 1981"),

@@ -1,5 +1,5 @@
 //! Snowlines (midplane crossings of f_ice = 0.5) and snow surfaces (the height
-//! where f_ice falls through 0.5), MODEL.md section 7 and Numerics.
+//! where f_ice falls through 0.5), docs/model.md section 7 and Numerics.
 
 use crate::math::{exp, ln};
 

@@ -251,7 +251,7 @@ mod tests {
 
     #[test]
     fn binding_energy_ordering_holds_in_every_set() {
-        // N2 < CO < CH4 < CO2 < NH3, CH3OH < H2O (CHECK_VALUES.md 4a, common practice; holds in every listed set).
+        // N2 < CO < CH4 < CO2 < NH3, CH3OH < H2O (docs/check-values.md section 4a, common practice; holds in every listed set).
         let t = SpeciesTable::built_in();
         for set in BindingEnergySet::ALL {
             let e = |s: Species| t.get(s).binding_energy(set).0;

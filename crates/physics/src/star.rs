@@ -1,5 +1,5 @@
 //! The star: radius from luminosity and effective temperature, elemental
-//! abundances per H nucleus (MODEL.md section 1).
+//! abundances per H nucleus (docs/model.md section 1).
 
 use crate::math::{exp10, sqrt};
 use crate::params::{StarParameters, ELEMENT_COUNT};
@@ -47,7 +47,7 @@ mod tests {
 
     #[test]
     fn solar_c_to_o_asplund2009() {
-        // MODEL.md section 1: solar C/O = 10^(8.43-8.69) = 0.5495 (Asplund et al. 2009).
+        // docs/model.md section 1: solar C/O = 10^(8.43-8.69) = 0.5495 (Asplund et al. 2009).
         let x = stellar_abundances_per_h(&ModelParameters::defaults().star);
         assert!((x[0] / x[1] - 0.549_540_873_857_625).abs() < 1e-12);
     }

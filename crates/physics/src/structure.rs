@@ -1,4 +1,4 @@
-//! Disk physical structure (MODEL.md sections 2-6): radial grid, surface
+//! Disk physical structure (docs/model.md sections 2-6): radial grid, surface
 //! density, midplane temperature, vertical temperature and hydrostatic density
 //! per column, and the radiation fields (columns, A_V, FUV, cosmic rays).
 
@@ -94,7 +94,7 @@ impl DiskConstants {
     }
 }
 
-/// Log-spaced radial cell centres [cm] (MODEL.md Numerics):
+/// Log-spaced radial cell centres [cm] (docs/model.md Numerics):
 /// r_j = r_in (r_out/r_in)^((j + 0.5)/N_r).
 pub fn radial_cell_centres_cm(inner_cm: f64, outer_cm: f64, cells: usize) -> Vec<f64> {
     let ln_ratio = ln(outer_cm / inner_cm);
@@ -174,7 +174,7 @@ pub struct MidplaneTemperature {
     pub accretion_temperature_k: f64,
 }
 
-/// Midplane temperature (MODEL.md section 4):
+/// Midplane temperature (docs/model.md section 4):
 /// T_mid^4 = T_irr^4 + T_acc^4 + T_bg^4, T_acc^4 = (3/4)(tau + 2/3) T_eff,acc^4,
 /// tau = kappa_R Sigma / 2 (grey Eddington approximation).
 ///
@@ -254,7 +254,7 @@ pub fn midplane_temperature(
 /// small grains), derivative by centred differences in ln r (one-sided at the
 /// ends), floored at 0.4 R*/r where the disk self-shadows and capped at 1.
 ///
-/// Solver (a documented departure from MODEL.md's plain under-relaxed
+/// Solver (a documented departure from the first specification's plain under-relaxed
 /// iteration): the T_mid <-> phi fixed point has a grid-scale gain of about
 /// (h/r) / (2 phi dln r) (about 6 at 200 cells, growing with N_r), so a relaxed
 /// fixed-point iteration diverges unless its weight shrinks as 1/N_r^2. We solve
@@ -501,7 +501,7 @@ impl Column {
     }
 }
 
-/// Temperature [K] at height z in a column (MODEL.md section 5): isothermal,
+/// Temperature [K] at height z in a column (docs/model.md section 5): isothermal,
 /// or the two-layer profile of Dartois et al. 2003 (as used by Williams & Best 2014):
 /// T = T_atm + (T_mid - T_atm) cos^(2 delta)(pi z / (2 z_q)) for z < z_q, else T_atm,
 /// T_atm = s (L*/(16 pi sigma r^2))^(1/4) (Chiang & Goldreich 1997 surface layer), never below T_mid.
@@ -580,7 +580,7 @@ impl VerticalProfile {
     }
 }
 
-/// Build one column in hydrostatic equilibrium (MODEL.md sections 5-6).
+/// Build one column in hydrostatic equilibrium (docs/model.md sections 5-6).
 ///
 /// d ln rho/dz = -(mu m_H/(k T)) G M* z/(r^2+z^2)^(3/2) - d ln T/dz, integrated
 /// exactly in T (rho T = rho0 T0 exp(-integral)) and by the trapezoid rule on a
@@ -792,7 +792,7 @@ mod tests {
 
     #[test]
     fn default_fixed_angle_gives_156_k_at_1_au() {
-        // MODEL.md section 4 check value: phi = 0.05, L = 1 Lsun gives 156.5 K at 1 au (derived).
+        // docs/model.md section 4 check value: phi = 0.05, L = 1 Lsun gives 156.5 K at 1 au (derived).
         let t = irradiation_temperature_k(SOLAR_LUMINOSITY_ERG_PER_S, 0.05, AU_CM);
         assert!((t - 156.5).abs() < 0.05, "{t}");
     }

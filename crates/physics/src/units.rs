@@ -33,9 +33,9 @@ pub const JULIAN_YEAR_S: f64 = 3.155_76e7;
 pub const HABING_ERG_PER_CM2_S: f64 = 1.6e-3;
 /// FUV photon flux of one Habing field [photons cm^-2 s^-1]: 1.6e-3 erg / ~10 eV (common practice in photodesorption work).
 pub const HABING_PHOTONS_PER_CM2_S: f64 = 1.0e8;
-/// Mean molecular weight per free particle, mu = 2.37 (Kauffmann et al. 2008, A&A 487, 993), used everywhere (MODEL.md section 5).
+/// Mean molecular weight per free particle, mu = 2.37 (Kauffmann et al. 2008, A&A 487, 993), used everywhere (docs/model.md section 5).
 pub const MEAN_MOLECULAR_WEIGHT: f64 = 2.37;
-/// Mass per H nucleus in units of m_H, 1.4, accounting for helium (MODEL.md section 5).
+/// Mass per H nucleus in units of m_H, 1.4, accounting for helium (docs/model.md section 5).
 pub const MASS_PER_HYDROGEN_NUCLEUS_AMU_H: f64 = 1.4;
 /// Surface density of binding sites N_s [cm^-2] (Hasegawa, Herbst & Leung 1992, ApJS 82, 167).
 pub const BINDING_SITES_PER_CM2: f64 = 1.5e15;
@@ -63,7 +63,7 @@ mod tests {
 
     #[test]
     fn hydrogen_atom_mass() {
-        // m_H = 1.6735328e-24 g from 1.00782503 u (AME2020); CHECK_VALUES.md quotes 1.6735575e-24
+        // m_H = 1.6735328e-24 g from 1.00782503 u (AME2020); the first specification quoted 1.6735575e-24
         // (M, an older rounded table value); they agree to 2e-5.
         assert!((HYDROGEN_MASS_G / 1.673_532_8e-24 - 1.0).abs() < 1e-7);
         assert!((HYDROGEN_MASS_G / 1.673_557_5e-24 - 1.0).abs() < 2e-5);

@@ -36,7 +36,7 @@ use serde_json::{json, Value};
 
 use crate::session::physics_problem;
 
-/// The reference for the envelope bookkeeping (MODEL.md section 9), kept in
+/// The reference for the envelope bookkeeping (docs/model.md section 9), kept in
 /// `nivalis_physics::references` with its full record.
 const PLANET_REFERENCE: &str = "oberg2011";
 
@@ -573,8 +573,14 @@ pub fn export(state: &PlanetState, what: PlanetExport) -> Option<String> {
             let p = state.placed.as_ref()?;
             json_text(&planet_json(&p.planet, &p.place, &Provenance::of(&p.file)))
         }
-        PlanetExport::PlanetCsv => to_csv(&planet_table(&state.placed.as_ref()?.planet)),
-        PlanetExport::FitCsv => to_csv(&fit_table(&state.fitted.as_ref()?.map)),
+        PlanetExport::PlanetCsv => {
+            let p = state.placed.as_ref()?;
+            to_csv(&planet_table(&p.planet), &Provenance::of(&p.file))
+        }
+        PlanetExport::FitCsv => {
+            let f = state.fitted.as_ref()?;
+            to_csv(&fit_table(&f.map), &Provenance::of(&f.file))
+        }
         PlanetExport::FitEcsv => {
             let f = state.fitted.as_ref()?;
             fit_ecsv(
@@ -658,7 +664,7 @@ pub fn planet_methods(state: &PlanetState) -> Option<String> {
         let o = &m.observed;
         let observed = match o.metallicity {
             Some(x) => format!(
-                "C/O = {} +- {} and {} = {} +- {} dex",
+                "C/O = {} ± {} and {} = {} ± {} dex",
                 number_text(o.c_to_o),
                 number_text(o.c_to_o_sigma),
                 x.tracer.label(),
@@ -666,13 +672,13 @@ pub fn planet_methods(state: &PlanetState) -> Option<String> {
                 number_text(x.sigma_dex)
             ),
             None => format!(
-                "C/O = {} +- {}",
+                "C/O = {} ± {}",
                 number_text(o.c_to_o),
                 number_text(o.c_to_o_sigma)
             ),
         };
         text.push_str(&format!(
-            " To find where a planet with the observed {observed} could have formed, we computed chi-square over the {} radial cells of the disk model and {} solid-to-gas ratios spaced logarithmically from 0.001 to 1, with {} (solids at every place mixed alike); the 1- and 2-sigma regions are those with delta chi-square up to {} and {}, the 68.27 % and 95.45 % quantiles of a chi-square distribution with {} degree{} of freedom ({}).",
+            " To find where a planet with the observed {observed} could have formed, we computed chi-square over the {} radial cells of the disk model and {} solid-to-gas ratios spaced logarithmically from 0.001 to 1, assuming at every place that {}; the 1- and 2-sigma regions are those with delta chi-square up to {} and {}, the 68.27 % and 95.45 % quantiles of a chi-square distribution with {} degree{} of freedom ({}).",
             m.radius_au.len(),
             m.solid_to_gas.len(),
             mixing(m.settings.solid_mixing_fraction),
@@ -850,7 +856,7 @@ mod tests {
         );
         assert_eq!(
             export(&state, PlanetExport::PlanetCsv).unwrap(),
-            to_csv(&planet_table(&direct))
+            to_csv(&planet_table(&direct), &Provenance::of(&file))
         );
         let view = planet_view(state.placed.as_ref().unwrap());
         assert_eq!(view["envelope"]["c_to_o"].as_f64(), direct.envelope.c_to_o);
@@ -859,7 +865,7 @@ mod tests {
 
     #[test]
     fn pure_gas_planet_has_the_local_gas_c_to_o() {
-        // MODEL.md section 9: with no solids the envelope is the local gas (Oberg, Murray-Clay & Bergin 2011).
+        // docs/model.md section 9: with no solids the envelope is the local gas (Oberg, Murray-Clay & Bergin 2011).
         let (model, file) = model();
         let placed =
             place_planet(&model, &file, &json!({"radius_au": 30, "solid_to_gas": 0})).unwrap();
@@ -935,7 +941,7 @@ mod tests {
         };
         assert_eq!(
             export(&state, PlanetExport::FitCsv).unwrap(),
-            to_csv(&fit_table(&direct))
+            to_csv(&fit_table(&direct), &Provenance::of(&file))
         );
         let prov = Provenance::of(&file);
         assert_eq!(
@@ -1003,6 +1009,27 @@ mod tests {
                 && text.contains("equilibrium at one moment"),
             "{text}"
         );
+        // Paper-ready prose (issue 11 item 5): ±, the Unicode author name, no doubled parentheses.
+        assert!(
+            text.contains("C/O = 0.6 ± 0.05") && text.contains("Öberg, Murray-Clay & Bergin 2011"),
+            "{text}"
+        );
+        for bad in ["+-", "Oberg", ") (", "((", "))"] {
+            assert!(!text.contains(bad), "{bad:?} in {text}");
+        }
+        let full = PlanetState {
+            placed: None,
+            fitted: Some(
+                fit_planet(
+                    &model,
+                    &file,
+                    &json!({"c_to_o": 0.6, "c_to_o_sigma": 0.05, "mix": 1}),
+                )
+                .unwrap(),
+            ),
+        };
+        let text = planet_methods(&full).unwrap();
+        assert!(text.contains("assuming at every place that all of the accreted solids' atoms enter the envelope (full mixing);"), "{text}");
         assert!(text.ends_with(&methods_paragraph(
             &file.parameters,
             &methods(&file.parameters),
@@ -1022,7 +1049,7 @@ mod tests {
     #[test]
     fn anchoring_writes_the_cli_file() {
         // Anchor the default disk's CO snowline where the model itself puts it:
-        // the flaring angle comes back (round trip, MODEL.md section 9 anchor).
+        // the flaring angle comes back (round trip, docs/model.md section 9 anchor).
         let (model, file) = model();
         let co = model.snowlines(Species::CO)[0].radius_cm / AU_CM;
         let (anchored, summary) =

@@ -130,7 +130,7 @@ impl Session {
         let c = self.current.as_ref()?;
         let (file, model) = (&c.file, &c.model);
         Some(match what {
-            Export::ProfileCsv => to_csv(&model_table(model)),
+            Export::ProfileCsv => to_csv(&model_table(model), &Provenance::of(file)),
             Export::ProfileEcsv => to_ecsv(
                 &model_table(model),
                 &Provenance::of(file),
@@ -141,7 +141,7 @@ impl Session {
                 &Provenance::of(file),
                 &methods(&file.parameters),
             )),
-            Export::StructureCsv => to_csv(&structure_table(model)),
+            Export::StructureCsv => to_csv(&structure_table(model), &Provenance::of(file)),
             Export::SnowlinesJson => json_text(&snowlines_json(model, &Provenance::of(file))),
             Export::DiskFile => to_json_string(file),
             Export::MethodsText => methods_paragraph(
@@ -307,7 +307,7 @@ mod tests {
         let c = s.current().unwrap();
         assert_eq!(
             s.export(Export::ProfileCsv).unwrap(),
-            to_csv(&model_table(&c.model))
+            to_csv(&model_table(&c.model), &Provenance::of(&c.file))
         );
         assert!(s
             .export(Export::ProfileEcsv)

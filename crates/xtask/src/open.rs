@@ -123,7 +123,7 @@ const DEFAULT_DEMO_DISK: &str = "demo_disks/young_sun.json";
 
 /// The disk file to show: [`DEFAULT_DEMO_DISK`] when it exists, else `{}`
 /// written to a temporary file, which the disk-file format defines as the
-/// default disk (DISK_FILE.md). Another demo disk would not do: the message
+/// default disk (docs/disk-file.md). Another demo disk would not do: the message
 /// promises the default disk.
 fn default_disk(root: &Path) -> Result<PathBuf, String> {
     let demo = root.join(DEFAULT_DEMO_DISK);
