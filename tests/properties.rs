@@ -102,7 +102,8 @@ fn disks() -> impl Strategy<Value = ModelParameters> {
             Just(DesorptionModel::FixedTemperature)
         ],
         prop_oneof![
-            Just(BindingEnergySet::PureIces),
+            Just(BindingEnergySet::TransitionState),
+            Just(BindingEnergySet::Hhl92FrequencyLegacy),
             Just(BindingEnergySet::OnWaterIce)
         ],
         prop::bool::weighted(0.8),

@@ -902,7 +902,8 @@ function fillSnowlineTable() {
       }
       if (line) {
         tr.append(cell(sig(line.radius_au), { "data-radius-au": String(line.radius_au) }),
-          cell(line.direction === "freeze_out" ? "freezes out (ice outside)" : "desorbs (gas outside)"),
+          cell((line.direction === "freeze_out" ? "freezes out (ice outside)" : "desorbs (gas outside)")
+            + (line.out_of_equilibrium ? "; not in equilibrium at the disk's age" : "")),
           cell(sig(line.midplane_temperature_k)));
       } else {
         const why = row.inner_edge === "absent" ? "species absent (no carrier)"

@@ -230,7 +230,7 @@ function buildPanel() {
     element("button", { type: "button", id: "anchor-button", text: "Anchor the disk (an edit: Undo restores it)" }), anchorMessage);
   panel.append(
     element("h2", { id: "planet-title", text: "(g) Planet formation: envelope composition and where an observed planet could have formed" }),
-    element("p", { class: "intro", text: "A giant planet's envelope takes in the disk's gas and solids where it accretes. Place a planet (type a radius, or click the C/O profile (a)) and choose how much solid it took in; its envelope composition appears beside the local gas, the local solids and the star. Assumptions: local accretion of midplane gas and solids, the solids' atoms fully mixed into the envelope unless f_mix < 1, hydrogen from the gas only, and the disk in equilibrium at one moment." }),
+    element("p", { class: "intro", text: "A giant planet's envelope takes in the disk's gas and solids where it accretes. Place a planet (type a radius, or click the C/O profile (a)) and choose how much solid it took in; its envelope composition appears beside the local gas, the local solids and the star. Assumptions: local accretion of midplane gas and solids, the solids' atoms fully mixed into the envelope unless f_mix < 1, hydrogen from the gas only, and the disk at one moment, its ices evolved over the disk's age from the chosen initial state." }),
     element("div", { class: "planet-grid" }, planetBox, planetResult),
     element("div", { class: "export-row" },
       exportButton("planet_json", "Planet (JSON)"), exportButton("planet_csv", "Planet (CSV)")),

@@ -248,7 +248,7 @@ test("figure downloads equal `nivalis figure`, and methods text and BibTeX equal
   const planetMethods = await downloadText(page, '[data-planet-export="planet_methods"]');
   assert.match(planetMethods.text, /local accretion/);
   assert.match(planetMethods.text, /f_mix = 0\.4/);
-  assert.match(planetMethods.text, /equilibrium at one moment/);
+  assert.match(planetMethods.text, /rate equation over the disk's age/);
   assert.ok(planetMethods.text.endsWith(methods), "the planet methods text does not end with `nivalis methods` for the disk");
   const planetBib = await downloadText(page, '[data-planet-export="planet_bibtex"]');
   assert.match(planetBib.text, /@article\{oberg2011,/);

@@ -158,7 +158,8 @@ enum Command {
         disk: PathBuf,
         /// The mapped quantity: temperature_k [K], density_h_cm3 [H nuclei cm-3], fuv_flux_habing [G0],
         /// ionization_rate_s [s-1], visual_extinction_mag [mag], ice_fraction:<SPECIES> [0-1],
-        /// c_to_o_gas, equilibration_time_yr:<SPECIES> [yr], gas_density_cm3:<SPECIES> and
+        /// c_to_o_gas, equilibration_time_yr:<SPECIES> [yr], out_of_equilibrium:<SPECIES> [1 where the ice has
+        /// not reached equilibrium within the disk's age, else 0], gas_density_cm3:<SPECIES> and
         /// ice_density_cm3:<SPECIES> [molecules cm-3], <PHASE>_abundance:<ELEMENT> [per H nucleus]
         /// with PHASE gas, ice, refractory or solid and ELEMENT C O N S Si Mg Fe.
         /// SPECIES: H2O CO CO2 CH4 N2 NH3 CH3OH H2S HCN.
@@ -167,8 +168,8 @@ enum Command {
         #[command(flatten)]
         output: Output,
     },
-    /// Every snowline (midplane f_ice = 0.5 crossing, radius in au, inner first, with its direction)
-    /// and the snow surface (height in au and z/r) of each species at each radius, as JSON.
+    /// Every snowline (midplane f_ice = 0.5 crossing, radius in au, inner first, with its direction and
+    /// whether it is out of equilibrium at the disk's age) and the snow surface (height in au and z/r) of each species at each radius, as JSON.
     Snowlines {
         /// The disk file.
         disk: PathBuf,

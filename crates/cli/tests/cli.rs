@@ -331,10 +331,14 @@ fn methods_and_bibtex_agree() {
     assert_eq!(out.status.code(), Some(0));
     let paragraph = stdout(&out);
     let bibtex = std::fs::read_to_string(&bib).unwrap();
+    // The default binding-energy set names its frequency and laboratory sources (the HHL92 frequency,
+    // cited before the laboratory-matched set became the default, belongs to the legacy set now).
     assert!(
-        paragraph.contains("Hasegawa, Herbst & Leung 1992")
-            && bibtex.contains("@article{hasegawa1992,")
+        paragraph.contains("Ligterink & Minissale 2023")
+            && bibtex.contains("@article{ligterink2023,"),
+        "{paragraph}"
     );
+    assert!(paragraph.contains("Murphy & Koop 2005") && bibtex.contains("@article{murphy2005,"));
     assert!(
         !bibtex.contains("bell1994"),
         "Bell & Lin 1994 is not used by the young Sun disk"
@@ -374,4 +378,67 @@ fn element_table_conserves_every_element() {
         rows += 1;
     }
     assert_eq!(rows, 200);
+}
+
+#[test]
+fn out_of_equilibrium_is_marked_in_maps_snowlines_and_planets() {
+    // Issue 10 item 5: 100 um grains freeze CO out slowly (~9 Myr at 300 au), so at an age of 0.1 Myr some
+    // cells keep their inherited ice; the map quantity, the snowline listing and the planet output say so.
+    let disk = temp_file(
+        "slow_grains.json",
+        r#"{"schema": "nivalis-disk/1", "name": "slow grains", "disk": {"grain_radius_um": 100, "age_myr": 0.1}, "ices": {"initial_state": "inherited"}}"#,
+    );
+    let disk = disk.to_str().unwrap();
+    let out = nivalis(&[
+        "map",
+        disk,
+        "--quantity",
+        "out_of_equilibrium:CO",
+        "--format",
+        "json",
+    ]);
+    assert_eq!(out.status.code(), Some(0), "{}", stderr(&out));
+    let map: serde_json::Value = serde_json::from_str(&stdout(&out)).unwrap();
+    let values: Vec<f64> = map["data"]["out_of_equilibrium_CO"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|v| v.as_f64().unwrap())
+        .collect();
+    assert_eq!(values.len(), 200 * 80);
+    assert!(values.iter().all(|v| *v == 0.0 || *v == 1.0));
+    assert!(
+        values.contains(&1.0) && values.contains(&0.0),
+        "some cells flagged, not all"
+    );
+    let snow: serde_json::Value =
+        serde_json::from_str(&stdout(&nivalis(&["snowlines", disk]))).unwrap();
+    let flags = snow["snowline_out_of_equilibrium"]["CO"]
+        .as_array()
+        .unwrap();
+    assert_eq!(
+        flags.len(),
+        snow["snowlines"]["CO"].as_array().unwrap().len()
+    );
+    assert_eq!(snow["initial_state"], "inherited");
+    let out = nivalis(&[
+        "planet",
+        disk,
+        "--radius-au",
+        "200",
+        "--solid-to-gas",
+        "0.01",
+        "--format",
+        "json",
+    ]);
+    assert_eq!(out.status.code(), Some(0), "{}", stderr(&out));
+    let planet: serde_json::Value = serde_json::from_str(&stdout(&out)).unwrap();
+    assert!(
+        planet["local"]["ices_out_of_equilibrium"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .any(|s| s == "CO"),
+        "{planet}"
+    );
 }

@@ -3,8 +3,8 @@
 use crate::{DiskFile, Problem, Problems, SCHEMA};
 use nivalis_physics::budget::Carriers;
 use nivalis_physics::params::{
-    AbundanceReference, CarbonFractions, DesorptionModel, Element, NitrogenFractions, Opacity,
-    SulfurFractions, VerticalTemperature,
+    AbundanceReference, CarbonFractions, DesorptionModel, Element, InitialIceState,
+    NitrogenFractions, Opacity, SulfurFractions, VerticalTemperature,
 };
 use nivalis_physics::species::SpeciesTable;
 use nivalis_physics::star::{stellar_abundances_per_h, stellar_radius_au};
@@ -643,6 +643,7 @@ impl Reader {
                 "cosmic_ray_desorption",
                 "binding_energies",
                 "species_overrides",
+                "initial_state",
             ],
         );
         if let Some(i) = self.choice(
@@ -673,8 +674,19 @@ impl Reader {
             d.ices.cosmic_ray_desorption,
         );
         let set_keys: Vec<&str> = BindingEnergySet::ALL.iter().map(|s| s.key()).collect();
-        if let Some(i) = self.choice(ices, "ices", "binding_energies", &set_keys) {
+        // "pure_ices" is the former name of "hhl92_frequency_legacy": files saved before stay readable.
+        if ices
+            .and_then(|m| m.get("binding_energies"))
+            .and_then(Value::as_str)
+            == Some("pure_ices")
+        {
+            p.ices.binding_energy_set = BindingEnergySet::Hhl92FrequencyLegacy;
+        } else if let Some(i) = self.choice(ices, "ices", "binding_energies", &set_keys) {
             p.ices.binding_energy_set = BindingEnergySet::ALL[i];
+        }
+        let state_keys: Vec<&str> = InitialIceState::ALL.iter().map(|s| s.key()).collect();
+        if let Some(i) = self.choice(ices, "ices", "initial_state", &state_keys) {
+            p.ices.initial_state = InitialIceState::ALL[i];
         }
         let species_keys: Vec<&str> = Species::ALL.iter().map(|s| s.key()).collect();
         let overrides = self.object(
@@ -689,6 +701,7 @@ impl Reader {
                 &sp,
                 &[
                     "binding_energy_k",
+                    "attempt_frequency_s",
                     "photodesorption_yield",
                     "condensation_temperature_k",
                 ],
@@ -701,6 +714,7 @@ impl Reader {
                     .then(|| r.real(Some(o), &sp, key, f64::NAN, range))
             };
             slot.binding_energy_k = opt(self, "binding_energy_k", Range::Positive);
+            slot.attempt_frequency_s = opt(self, "attempt_frequency_s", Range::Closed(1e6, 1e22));
             slot.photodesorption_yield =
                 opt(self, "photodesorption_yield", Range::Closed(0.0, 1.0));
             slot.condensation_temperature_k =
@@ -708,6 +722,7 @@ impl Reader {
             // A rejected value came back as NaN: drop it (the problem is already recorded).
             for v in [
                 &mut slot.binding_energy_k,
+                &mut slot.attempt_frequency_s,
                 &mut slot.photodesorption_yield,
                 &mut slot.condensation_temperature_k,
             ] {
@@ -859,6 +874,50 @@ mod tests {
             .iter()
             .map(|p| p.to_string())
             .collect()
+    }
+
+    #[test]
+    fn ice_history_and_frequency_fields() {
+        let p = parse_disk_json(
+            r#"{"ices": {"initial_state": "gas", "binding_energies": "on_water_ice", "species_overrides": {"CO": {"attempt_frequency_s": 1e15}}}}"#,
+        )
+        .unwrap()
+        .parameters;
+        assert_eq!(p.ices.initial_state, InitialIceState::Gas);
+        assert_eq!(p.ices.binding_energy_set, BindingEnergySet::OnWaterIce);
+        assert_eq!(
+            p.ices.overrides[Species::CO.index()].attempt_frequency_s,
+            Some(1e15)
+        );
+        // The former name of the legacy set stays readable.
+        let legacy = parse_disk_json(r#"{"ices": {"binding_energies": "pure_ices"}}"#)
+            .unwrap()
+            .parameters;
+        assert_eq!(
+            legacy.ices.binding_energy_set,
+            BindingEnergySet::Hhl92FrequencyLegacy
+        );
+        assert_eq!(
+            ModelParameters::defaults().ices.initial_state,
+            InitialIceState::Inherited
+        );
+        assert_eq!(
+            problems(
+                r#"{"ices": {"initial_state": "frozen", "species_overrides": {"H2O": {"attempt_frequency_s": 10}}}}"#
+            ),
+            vec![
+                "ices.initial_state: must be one of inherited, gas, equilibrium, got \"frozen\""
+                    .to_string(),
+                problems(
+                    r#"{"ices": {"species_overrides": {"H2O": {"attempt_frequency_s": 10}}}}"#
+                )[0]
+                .clone(),
+            ]
+        );
+        assert!(problems(
+            r#"{"ices": {"species_overrides": {"H2O": {"attempt_frequency_s": 10}}}}"#
+        )[0]
+        .starts_with("ices.species_overrides.H2O.attempt_frequency_s:"));
     }
 
     #[test]

@@ -37,6 +37,9 @@ pub fn to_value(file: &DiskFile) -> Value {
         if let Some(v) = o.binding_energy_k {
             m.insert("binding_energy_k".into(), json!(v));
         }
+        if let Some(v) = o.attempt_frequency_s {
+            m.insert("attempt_frequency_s".into(), json!(v));
+        }
         if let Some(v) = o.photodesorption_yield {
             m.insert("photodesorption_yield".into(), json!(v));
         }
@@ -85,6 +88,7 @@ pub fn to_value(file: &DiskFile) -> Value {
             "photodesorption": p.ices.photodesorption,
             "cosmic_ray_desorption": p.ices.cosmic_ray_desorption,
             "binding_energies": p.ices.binding_energy_set.key(),
+            "initial_state": p.ices.initial_state.key(),
             "species_overrides": overrides
         },
         "composition": {

@@ -152,7 +152,7 @@ fn capitalised(s: &str) -> String {
 
 /// A plain-text methods paragraph for exactly this configuration: each method
 /// with its parameter values and citations, the grid, and the model's stated
-/// simplifications (independent pure ices, 1+1D radiation, equilibrium at one moment).
+/// simplifications (independent pure ices, 1+1D radiation, one moment of a static disk).
 pub fn methods_paragraph(
     parameters: &ModelParameters,
     methods: &[MethodEntry],
@@ -183,7 +183,7 @@ pub fn methods_paragraph(
         }
     }
     text.push_str(
-        " The model simplifies in four ways: the volatiles are treated as independent pure ices, with no entrapment and no binding in mixed ices; radiation is treated in 1+1D, in vertical columns with starlight entering at the grazing angle; gas and dust share one temperature; and the disk is in freeze-out/desorption equilibrium at one moment, with no radial drift, vapour transport, evolution or gas-phase chemistry.",
+        " The model simplifies in four ways: the volatiles are treated as independent pure ices, with no entrapment and no binding in mixed ices; radiation is treated in 1+1D, in vertical columns with starlight entering at the grazing angle; gas and dust share one temperature; and the disk is static: the ices of each cell follow the freeze-out/desorption rate equation over the disk's age, whose long-time limit is the equilibrium, with no radial drift, vapour transport, structural evolution or gas-phase chemistry.",
     );
     text.push('\n');
     text

@@ -3,9 +3,12 @@
 //! listed, so no reference is cited that the run did not use.
 
 use nivalis_physics::balance::species_properties;
-use nivalis_physics::params::{DesorptionModel, ModelParameters, Opacity, VerticalTemperature};
+use nivalis_physics::params::{
+    DesorptionModel, InitialIceState, ModelParameters, Opacity, VerticalTemperature,
+};
 use nivalis_physics::references::reference;
-use nivalis_physics::species::{BindingEnergySet, SpeciesTable};
+use nivalis_physics::species::SpeciesTable;
+use nivalis_physics::BindingEnergySet;
 use serde_json::{json, Value};
 
 /// One method of the run.
@@ -152,9 +155,17 @@ pub fn methods(p: &ModelParameters) -> Vec<MethodEntry> {
             });
         }
         model => {
-            let mut refs: Vec<&'static str> = vec!["hasegawa1992"];
+            let mut refs: Vec<&'static str> = Vec::new();
             if p.ices.cosmic_ray_desorption {
                 refs.push("hasegawa1993");
+            }
+            for prop in &props {
+                if reference(prop.frequency_source).is_some() {
+                    refs.push(prop.frequency_source);
+                }
+            }
+            if p.ices.binding_energy_set == BindingEnergySet::TransitionState {
+                refs.push("minissale2022");
             }
             for prop in &props {
                 if reference(prop.binding_energy_source).is_some() {
@@ -180,13 +191,19 @@ pub fn methods(p: &ModelParameters) -> Vec<MethodEntry> {
             out.push(MethodEntry {
                 topic: "ices",
                 text: format!(
-                    "each volatile is an independent pure ice in {} desorption balance: adsorption with a sticking coefficient of {}, thermal desorption at the vibration frequency of Hasegawa, Herbst & Leung{}{}, with the binding energies {}{}, on grains of radius {} µm and density {} g cm⁻³ at a dust-to-gas mass ratio of {}",
+                    "each volatile is an independent pure ice in {} desorption balance: adsorption with a sticking coefficient of {}, thermal desorption{}{}, with binding energies and the attempt frequencies they were measured with taken as pairs from the {}{}; the freeze-out/desorption rate equation is integrated in closed form over the disk age of {} Myr starting from {}; the grains have a radius of {} µm and a density of {} g cm⁻³ at a dust-to-gas mass ratio of {}",
                     if model == DesorptionModel::ZerothOrder { "zeroth-order (multilayer)" } else { "first-order" },
                     p.ices.sticking,
                     if p.ices.cosmic_ray_desorption { ", cosmic-ray induced desorption" } else { "" },
                     if p.ices.photodesorption { " and photodesorption" } else { "" },
-                    binding_energy_text(p.ices.binding_energy_set),
-                    if props.iter().any(|s| s.binding_energy_source == "override") { ", some of them set by the user" } else { "" },
+                    set_description(p.ices.binding_energy_set),
+                    if props.iter().any(|s| s.binding_energy_source == "override" || s.frequency_source == "override") { ", some of them set by the user" } else { "" },
+                    d.age_myr,
+                    match p.ices.initial_state {
+                        InitialIceState::Inherited => "inherited ices (every volatile frozen at the start)",
+                        InitialIceState::Gas => "every volatile in the gas",
+                        InitialIceState::Equilibrium => "the equilibrium, its long-time limit (the age then only flags slow cells)",
+                    },
                     d.grain_radius_um,
                     d.grain_density_g_cm3,
                     d.dust_to_gas
@@ -209,11 +226,12 @@ pub fn methods(p: &ModelParameters) -> Vec<MethodEntry> {
     out
 }
 
-/// The binding-energy set in words, for the methods text.
-fn binding_energy_text(set: BindingEnergySet) -> &'static str {
+/// The binding-energy set in words, by its citations, for the methods text.
+fn set_description(set: BindingEnergySet) -> &'static str {
     match set {
-        BindingEnergySet::PureIces => "for desorption from each species' own pure ice",
-        BindingEnergySet::OnWaterIce => "for desorption from a water-ice surface",
+        BindingEnergySet::TransitionState => "transition-state-theory frequencies of Ligterink & Minissale 2023 with energies matched to the laboratory sublimation pressures of Murphy & Koop 2005, Fray & Schmitt 2009 and Brown & Ziegler 1980",
+        BindingEnergySet::Hhl92FrequencyLegacy => "pure-ice energies of their sources with the frequency of Hasegawa, Herbst & Leung 1992, a legacy pairing",
+        BindingEnergySet::OnWaterIce => "energies on a water-ice surface of Garrod & Herbst 2006 with the frequency of Hasegawa, Herbst & Leung 1992",
     }
 }
 

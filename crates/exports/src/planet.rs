@@ -9,6 +9,7 @@ use crate::tables::{ColumnSpec, Table};
 use nivalis_physics::anchor::AnchoredDisk;
 use nivalis_physics::params::Element;
 use nivalis_physics::planet::{ChiSquareMap, FormationPlace, Planet, RadiusInterval, SigmaLevel};
+use nivalis_physics::Species;
 use serde_json::{json, Map, Value};
 
 fn spec(name: &str, unit: &'static str, description: &str) -> ColumnSpec {
@@ -113,6 +114,11 @@ pub fn planet_json(planet: &Planet, place: &FormationPlace, provenance: &Provena
         );
     }
     let weighting = weighting_key(place).map_or(Value::Null, |w| Value::String(w.into()));
+    let out_of_equilibrium: Vec<&str> = Species::ALL
+        .iter()
+        .filter(|s| planet.phases.out_of_equilibrium[s.index()])
+        .map(|s| s.key())
+        .collect();
     json!({
         "program": provenance.program,
         "disk_hash": provenance.disk_hash,
@@ -123,6 +129,7 @@ pub fn planet_json(planet: &Planet, place: &FormationPlace, provenance: &Provena
             "gas_c_to_o": planet.phases.gas_c_to_o(),
             "solid_c_to_o": planet.phases.solid_c_to_o(),
             "solid_to_gas_available": planet.phases.solid_to_gas_available,
+            "ices_out_of_equilibrium": out_of_equilibrium,
         },
         "envelope": {
             "c_to_o": e.c_to_o,
@@ -131,7 +138,7 @@ pub fn planet_json(planet: &Planet, place: &FormationPlace, provenance: &Provena
             "o_to_h_dex": e.o_to_h_dex(),
             "elements": elements,
         },
-        "assumptions": "local accretion of midplane gas and solids (or their average over the migration range), a fraction solid_mixing_fraction of the solids' atoms mixed into the envelope, H from the gas only, the disk in equilibrium at one moment",
+        "assumptions": "local accretion of midplane gas and solids (or their average over the migration range), a fraction solid_mixing_fraction of the solids' atoms mixed into the envelope, H from the gas only, the disk at one moment: its ices evolved over the disk's age from the chosen initial state (species whose ice has not reached equilibrium there are listed in local.ices_out_of_equilibrium)",
     })
 }
 

@@ -6,13 +6,17 @@ use nivalis_physics::units::AU_CM;
 use nivalis_physics::{Model, SnowSurface, Species};
 use serde_json::{json, Map, Value};
 
-/// JSON `{"snowlines": {...}, "snowline_directions": {...}, "snow_surfaces": {...}}` plus provenance.
+/// JSON `{"snowlines": {...}, "snowline_directions": {...}, "snowline_out_of_equilibrium": {...},
+/// "snow_surfaces": {...}}` plus provenance. `snowline_out_of_equilibrium` holds, per species and
+/// snowline, whether the ice there has not reached its equilibrium within the disk's age
+/// (`Model::snowline_out_of_equilibrium`); `disk_age_myr` and `initial_state` say what was assumed.
 /// Snow surfaces per species: arrays over the radial cells of `radius_au`,
 /// `height_au` and `z_over_r` (null where there is none) and `status`
 /// (`surface`, `midplane_not_frozen` or `above_grid`).
 pub fn snowlines_json(model: &Model, provenance: &Provenance) -> Value {
     let mut lines = Map::new();
     let mut directions = Map::new();
+    let mut out_of_equilibrium = Map::new();
     let mut surfaces = Map::new();
     let st = &model.structure;
     for s in Species::ALL {
@@ -27,6 +31,13 @@ pub fn snowlines_json(model: &Model, provenance: &Provenance) -> Value {
         directions.insert(
             s.key().into(),
             json!(found.iter().map(|l| l.direction.key()).collect::<Vec<_>>()),
+        );
+        out_of_equilibrium.insert(
+            s.key().into(),
+            json!(found
+                .iter()
+                .map(|l| model.snowline_out_of_equilibrium(s, l))
+                .collect::<Vec<_>>()),
         );
         let mut height = Vec::with_capacity(st.radial_cells);
         let mut z_over_r = Vec::with_capacity(st.radial_cells);
@@ -65,6 +76,9 @@ pub fn snowlines_json(model: &Model, provenance: &Provenance) -> Value {
         "disk_hash": provenance.disk_hash,
         "snowlines": lines,
         "snowline_directions": directions,
+        "snowline_out_of_equilibrium": out_of_equilibrium,
+        "disk_age_myr": model.parameters.disk.age_myr,
+        "initial_state": model.parameters.ices.initial_state.key(),
         "snow_surfaces": surfaces,
     })
 }

@@ -163,6 +163,8 @@ pub enum MapQuantity {
     CToOGas,
     /// Equilibration time of one species [yr].
     EquilibrationTimeYr(Species),
+    /// 1 where the ice of one species is out of equilibrium at the disk's age, else 0.
+    OutOfEquilibrium(Species),
     /// Gas-phase number density of one species [cm^-3].
     GasDensityCm3(Species),
     /// Ice number density of one species [molecules cm^-3].
@@ -209,7 +211,7 @@ impl Phase {
 
 impl MapQuantity {
     /// Every accepted spelling, for help texts.
-    pub const NAMES: &'static str = "temperature_k, density_h_cm3, fuv_flux_habing, ionization_rate_s, visual_extinction_mag, ice_fraction:<SPECIES>, c_to_o_gas, equilibration_time_yr:<SPECIES>, gas_density_cm3:<SPECIES>, ice_density_cm3:<SPECIES>, gas_abundance:<ELEMENT>, ice_abundance:<ELEMENT>, refractory_abundance:<ELEMENT>, solid_abundance:<ELEMENT>";
+    pub const NAMES: &'static str = "temperature_k, density_h_cm3, fuv_flux_habing, ionization_rate_s, visual_extinction_mag, ice_fraction:<SPECIES>, c_to_o_gas, equilibration_time_yr:<SPECIES>, out_of_equilibrium:<SPECIES>, gas_density_cm3:<SPECIES>, ice_density_cm3:<SPECIES>, gas_abundance:<ELEMENT>, ice_abundance:<ELEMENT>, refractory_abundance:<ELEMENT>, solid_abundance:<ELEMENT>";
 
     /// Parse a quantity name such as `ice_fraction:CO`.
     pub fn parse(text: &str) -> Result<MapQuantity, String> {
@@ -233,6 +235,8 @@ impl MapQuantity {
                     MapQuantity::IceFraction(species(s)?)
                 } else if let Some(s) = text.strip_prefix("equilibration_time_yr:") {
                     MapQuantity::EquilibrationTimeYr(species(s)?)
+                } else if let Some(s) = text.strip_prefix("out_of_equilibrium:") {
+                    MapQuantity::OutOfEquilibrium(species(s)?)
                 } else if let Some(s) = text.strip_prefix("gas_density_cm3:") {
                     MapQuantity::GasDensityCm3(species(s)?)
                 } else if let Some(s) = text.strip_prefix("ice_density_cm3:") {
@@ -264,34 +268,19 @@ impl MapQuantity {
         match self {
             MapQuantity::TemperatureK => ("K", "gas and dust temperature".into()),
             MapQuantity::DensityHCm3 => ("cm-3", "H-nucleus number density".into()),
-            MapQuantity::FuvFluxHabing => (
-                "",
-                "FUV photon flux in Habing units (1e8 photons cm-2 s-1)".into(),
-            ),
+            MapQuantity::FuvFluxHabing => ("", "FUV photon flux in Habing units (1e8 photons cm-2 s-1)".into()),
             MapQuantity::IonizationRateS => ("1 / s", "cosmic-ray ionisation rate per H2".into()),
-            MapQuantity::VisualExtinctionMag => {
-                ("mag", "visual extinction towards the disk surface".into())
-            }
+            MapQuantity::VisualExtinctionMag => ("mag", "visual extinction towards the disk surface".into()),
             MapQuantity::IceFraction(s) => ("", format!("fraction of {} in ice", s.key())),
             MapQuantity::CToOGas => ("", "C/O number ratio of the gas".into()),
-            MapQuantity::EquilibrationTimeYr(s) => (
-                "yr",
-                format!("freeze-out/desorption equilibration time of {}", s.key()),
-            ),
-            MapQuantity::GasDensityCm3(s) => {
-                ("cm-3", format!("number density of {} in the gas", s.key()))
-            }
-            MapQuantity::IceDensityCm3(s) => (
-                "cm-3",
-                format!(
-                    "number density of {} in ice (molecules per cm3 of disk)",
-                    s.key()
-                ),
-            ),
-            MapQuantity::ElementAbundance(p, e) => (
+            MapQuantity::EquilibrationTimeYr(s) => ("yr", format!("freeze-out/desorption equilibration time of {}", s.key())),
+            MapQuantity::OutOfEquilibrium(s) => (
                 "",
-                format!("{} abundance of {} per H nucleus", p.key(), e.symbol()),
+                format!("1 where {} ice has not reached its equilibrium within the disk's age (equilibration time above the age, or f_ice still 0.01 from equilibrium), else 0", s.key()),
             ),
+            MapQuantity::GasDensityCm3(s) => ("cm-3", format!("number density of {} in the gas", s.key())),
+            MapQuantity::IceDensityCm3(s) => ("cm-3", format!("number density of {} in ice (molecules per cm3 of disk)", s.key())),
+            MapQuantity::ElementAbundance(p, e) => ("", format!("{} abundance of {} per H nucleus", p.key(), e.symbol())),
         }
     }
 
@@ -315,6 +304,11 @@ impl MapQuantity {
             MapQuantity::EquilibrationTimeYr(sp) => finite(
                 model.equilibration_time_s[sp.index() * model.sample_count() + k] / JULIAN_YEAR_S,
             ),
+            MapQuantity::OutOfEquilibrium(sp) => Some(if model.out_of_equilibrium_at(sp, k) {
+                1.0
+            } else {
+                0.0
+            }),
             MapQuantity::GasDensityCm3(sp) | MapQuantity::IceDensityCm3(sp) => {
                 let total = model.carriers.species_per_h[sp.index()] * s.hydrogen_density_cm3[k];
                 let f = model.ice_fraction_at(sp, k);

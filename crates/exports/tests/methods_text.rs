@@ -184,7 +184,7 @@ fn the_checker_catches_what_it_looks_for() {
     // The checks above can fail: each known bad form is caught.
     for bad in [
         "Stellar abundances from asplund2009 photospheric values.",
-        "Binding energies: set pure_ices.",
+        "Binding energies: set transition_state.",
         "The solids enter the envelope (full mixing) (solids at every place mixed alike).",
         "C/O = 0.8 +- 0.1.",
         "Values of Oberg et al. 2011.",

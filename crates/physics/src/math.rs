@@ -40,3 +40,15 @@ pub fn exp10(x: f64) -> f64 {
 pub fn root4(x: f64) -> f64 {
     libm::sqrt(libm::sqrt(x))
 }
+
+/// exp(x) - 1, accurate for small |x| (libm `expm1`).
+#[inline]
+pub fn exp_m1(x: f64) -> f64 {
+    libm::expm1(x)
+}
+
+/// ln(1 + x), accurate for small |x| (libm `log1p`).
+#[inline]
+pub fn ln_1p(x: f64) -> f64 {
+    libm::log1p(x)
+}

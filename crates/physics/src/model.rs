@@ -25,10 +25,15 @@ pub struct Model {
     /// Physical structure.
     pub structure: DiskStructure,
     balance: BalanceConstants,
-    /// Ice fraction per species and sample: index `species * n_samples + sample`.
+    /// Ice fraction at the disk's age per species and sample: index `species * n_samples + sample`.
     pub ice_fraction: Vec<f64>,
+    /// Equilibrium ice fraction (the long-time limit), same indexing.
+    pub equilibrium_ice_fraction: Vec<f64>,
     /// Equilibration time [s] per species and sample (NaN where undefined).
     pub equilibration_time_s: Vec<f64>,
+    /// Whether the ice is out of equilibrium at the disk's age (equilibration time longer than the
+    /// age, or f_ice still more than 0.01 from its equilibrium), same indexing.
+    pub out_of_equilibrium: Vec<bool>,
 }
 
 /// Midplane state at one radius, for the planet tools.
@@ -38,8 +43,10 @@ pub struct LocalMidplane {
     pub radius_cm: f64,
     /// Midplane temperature [K].
     pub temperature_k: f64,
-    /// Ice fraction per species.
+    /// Ice fraction per species (at the disk's age).
     pub ice_fraction: [f64; SPECIES_COUNT],
+    /// Per species: out of equilibrium at the disk's age (see [`Model::out_of_equilibrium`]).
+    pub out_of_equilibrium: [bool; SPECIES_COUNT],
     /// Element abundances per H in each phase.
     pub phases: PhaseAbundances,
     /// Solid mass per H nucleus [amu].
@@ -94,7 +101,9 @@ impl Model {
         let balance = BalanceConstants::new(parameters, &species);
         let n = structure.samples.temperature_k.len();
         let mut ice_fraction = vec![0.0; SPECIES_COUNT * n];
+        let mut equilibrium_ice_fraction = vec![0.0; SPECIES_COUNT * n];
         let mut equilibration_time_s = vec![f64::NAN; SPECIES_COUNT * n];
+        let mut out_of_equilibrium = vec![false; SPECIES_COUNT * n];
         let s = &structure.samples;
         for k in 0..n {
             let sample = balance.sample(
@@ -105,9 +114,11 @@ impl Model {
             );
             let n_h = s.hydrogen_density_cm3[k];
             for i in 0..SPECIES_COUNT {
-                let state = balance.solve_at(&sample, i, carriers.species_per_h[i] * n_h);
+                let state = balance.solve_aged(&sample, i, carriers.species_per_h[i] * n_h);
                 ice_fraction[i * n + k] = state.ice_fraction;
+                equilibrium_ice_fraction[i * n + k] = state.equilibrium_ice_fraction;
                 equilibration_time_s[i * n + k] = state.equilibration_time_s;
+                out_of_equilibrium[i * n + k] = state.out_of_equilibrium;
             }
         }
         Ok(Model {
@@ -118,7 +129,9 @@ impl Model {
             structure,
             balance,
             ice_fraction,
+            equilibrium_ice_fraction,
             equilibration_time_s,
+            out_of_equilibrium,
         })
     }
 
@@ -130,6 +143,23 @@ impl Model {
     /// Ice fraction of species `species` at flat sample index `k`.
     pub fn ice_fraction_at(&self, species: Species, k: usize) -> f64 {
         self.ice_fraction[species.index() * self.sample_count() + k]
+    }
+
+    /// Whether species `species` at flat sample index `k` is out of equilibrium at the disk's age.
+    pub fn out_of_equilibrium_at(&self, species: Species, k: usize) -> bool {
+        self.out_of_equilibrium[species.index() * self.sample_count() + k]
+    }
+
+    /// Whether a snowline is out of equilibrium: either midplane cell bracketing its radius is.
+    pub fn snowline_out_of_equilibrium(&self, species: Species, line: &Snowline) -> bool {
+        let st = &self.structure;
+        let j = st
+            .radius_cm
+            .partition_point(|&r| r < line.radius_cm)
+            .min(st.radial_cells - 1);
+        let lo = j.saturating_sub(1);
+        self.out_of_equilibrium_at(species, st.index(lo, 0))
+            || self.out_of_equilibrium_at(species, st.index(j, 0))
     }
 
     /// Phase abundances at flat sample index `k`.
@@ -267,18 +297,21 @@ impl Model {
         // Only the midplane sample is needed, but its density needs the whole column's normalisation.
         let col = column(c, r, sigma, mid.temperature_k, phi);
         let mut ice_fraction = [0.0; SPECIES_COUNT];
-        for (i, f) in ice_fraction.iter_mut().enumerate() {
-            *f = self
-                .balance
-                .solve(
-                    i,
-                    self.carriers.species_per_h[i] * col.hydrogen_density_cm3[0],
-                    col.temperature_k[0],
-                    col.density_g_cm3[0],
-                    col.fuv_photon_flux_cm2_s[0],
-                    col.ionization_rate_s[0],
-                )
-                .ice_fraction;
+        let mut out_of_equilibrium = [false; SPECIES_COUNT];
+        let sample = self.balance.sample(
+            col.temperature_k[0],
+            col.density_g_cm3[0],
+            col.fuv_photon_flux_cm2_s[0],
+            col.ionization_rate_s[0],
+        );
+        for i in 0..SPECIES_COUNT {
+            let state = self.balance.solve_aged(
+                &sample,
+                i,
+                self.carriers.species_per_h[i] * col.hydrogen_density_cm3[0],
+            );
+            ice_fraction[i] = state.ice_fraction;
+            out_of_equilibrium[i] = state.out_of_equilibrium;
         }
         let phases = self.carriers.phases(mid.temperature_k, |i| ice_fraction[i]);
         let solid_mass_per_h_amu = self
@@ -288,6 +321,7 @@ impl Model {
             radius_cm: r,
             temperature_k: mid.temperature_k,
             ice_fraction,
+            out_of_equilibrium,
             phases,
             solid_mass_per_h_amu,
         })

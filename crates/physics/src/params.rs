@@ -187,7 +187,8 @@ pub struct DiskParameters {
     pub cosmic_ray_rate_s: f64,
     /// Interstellar FUV field [Habing]. Default 1.
     pub interstellar_fuv_habing: f64,
-    /// Disk age [Myr], compared with equilibration times. Default 1.
+    /// Disk age [Myr]: the ice balance is integrated over it from `ices.initial_state`, and cells whose
+    /// equilibration time exceeds it are flagged. Default 1 (a typical T Tauri disk age; common practice).
     pub age_myr: f64,
     /// Multiplier of the midplane temperature (and so of the whole column), for
     /// anchoring a model to an observed snowline. Default 1 (no change).
@@ -216,11 +217,44 @@ impl DesorptionModel {
     }
 }
 
+/// The ice state at the disk's birth, from which the rate equation is integrated over its age
+/// (docs/model.md section 7).
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum InitialIceState {
+    /// Every volatile starts frozen: ices inherited from the parent cloud. Default (common practice
+    /// for disks, whose ices are largely inherited from the protostellar envelope).
+    Inherited,
+    /// Every volatile starts in the gas (a fully reset disk).
+    Gas,
+    /// No history: the equilibrium, the long-time limit of either start.
+    Equilibrium,
+}
+
+impl InitialIceState {
+    /// Every state, in file-key order.
+    pub const ALL: [InitialIceState; 3] = [
+        InitialIceState::Inherited,
+        InitialIceState::Gas,
+        InitialIceState::Equilibrium,
+    ];
+    /// Key in disk files.
+    pub fn key(self) -> &'static str {
+        match self {
+            InitialIceState::Inherited => "inherited",
+            InitialIceState::Gas => "gas",
+            InitialIceState::Equilibrium => "equilibrium",
+        }
+    }
+}
+
 /// Per-species replacements of the built-in data.
 #[derive(Debug, Clone, Copy, PartialEq, Default)]
 pub struct SpeciesOverride {
     /// Binding energy E_b/k [K].
     pub binding_energy_k: Option<f64>,
+    /// Attempt frequency nu [s^-1] of thermal desorption. Without it the set's rule applies:
+    /// the set's fixed nu of the species, or the HHL92 formula with the (overridden) energy.
+    pub attempt_frequency_s: Option<f64>,
     /// Photodesorption yield [molecules per photon].
     pub photodesorption_yield: Option<f64>,
     /// Condensation temperature of the step model [K].
@@ -238,10 +272,13 @@ pub struct IceParameters {
     pub photodesorption: bool,
     /// Include cosmic-ray desorption. Default true.
     pub cosmic_ray_desorption: bool,
-    /// Binding-energy set. Default pure ices.
+    /// Binding-energy set (energies with their matched attempt frequencies). Default
+    /// `TransitionState`, the set whose multilayer regime reproduces laboratory sublimation pressures.
     pub binding_energy_set: BindingEnergySet,
     /// Overrides per species, `Species::ALL` order.
     pub overrides: [SpeciesOverride; SPECIES_COUNT],
+    /// Ice state at t = 0 of the rate equation integrated over `disk.age_myr`. Default inherited.
+    pub initial_state: InitialIceState,
 }
 
 /// Fractions of all carbon in each carrier (sum 1).
@@ -369,8 +406,9 @@ impl ModelParameters {
                 sticking: 1.0,
                 photodesorption: true,
                 cosmic_ray_desorption: true,
-                binding_energy_set: BindingEnergySet::PureIces,
+                binding_energy_set: BindingEnergySet::TransitionState,
                 overrides: [SpeciesOverride::default(); SPECIES_COUNT],
+                initial_state: InitialIceState::Inherited,
             },
             composition: CompositionParameters {
                 carbon: CarbonFractions {

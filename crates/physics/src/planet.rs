@@ -43,6 +43,7 @@ use crate::error::PhysicsError;
 use crate::math::{exp, exp10, ln};
 use crate::model::{LocalMidplane, Model};
 use crate::params::{Element, ELEMENT_COUNT};
+use crate::species::SPECIES_COUNT;
 use crate::units::{ATOMIC_MASS_UNIT_G, AU_CM, HYDROGEN_MASS_G, MASS_PER_HYDROGEN_NUCLEUS_AMU_H};
 
 /// Number of midpoint-rule points used to average over a migration range (docs/model.md section 9).
@@ -128,6 +129,9 @@ pub struct AccretedPhases {
     pub points: usize,
     /// The star's abundances per H (C, O, N, S, Si, Mg, Fe).
     pub stellar_per_h: [f64; ELEMENT_COUNT],
+    /// Per species (`Species::ALL` order): its ice is out of equilibrium at the disk's age at this
+    /// place (at any averaging point), so the accreted phases depend on the disk's history.
+    pub out_of_equilibrium: [bool; SPECIES_COUNT],
 }
 
 /// One element in the envelope.
@@ -321,6 +325,7 @@ struct PointPhases {
     gas: [f64; ELEMENT_COUNT],
     solid: Option<[f64; ELEMENT_COUNT]>,
     solid_to_gas: f64,
+    out_of_equilibrium: [bool; SPECIES_COUNT],
 }
 
 /// Mass of solids per H [amu] if every carrier were solid: the reference below
@@ -360,6 +365,7 @@ fn point_phases(local: &LocalMidplane, reference_solid_amu: f64) -> PointPhases 
         gas,
         solid,
         solid_to_gas: local.solid_mass_per_h_amu * ATOMIC_MASS_UNIT_G / gram_per_h,
+        out_of_equilibrium: local.out_of_equilibrium,
     }
 }
 
@@ -372,6 +378,7 @@ fn grid_midplane(model: &Model, j: usize) -> LocalMidplane {
     let n = model.sample_count();
     let phases = model.phases_at(k);
     let ice_fraction = std::array::from_fn(|i| model.ice_fraction[i * n + k]);
+    let out_of_equilibrium = std::array::from_fn(|i| model.out_of_equilibrium[i * n + k]);
     let solid_mass_per_h_amu = model
         .carriers
         .solid_mass_per_h_amu(&phases, |i| ice_fraction[i]);
@@ -379,6 +386,7 @@ fn grid_midplane(model: &Model, j: usize) -> LocalMidplane {
         radius_cm: st.radius_cm[j],
         temperature_k: st.midplane_temperature_k[j],
         ice_fraction,
+        out_of_equilibrium,
         phases,
         solid_mass_per_h_amu,
     }
@@ -401,6 +409,7 @@ impl AccretedPhases {
             solid_to_gas_available: p.solid_to_gas,
             points: 1,
             stellar_per_h: model.carriers.stellar_per_h,
+            out_of_equilibrium: p.out_of_equilibrium,
         }
     }
 
@@ -460,6 +469,7 @@ impl AccretedPhases {
         let mut solid = [0.0; ELEMENT_COUNT];
         let mut solid_to_gas = 0.0;
         let mut with_solids = 0usize;
+        let mut out_of_equilibrium = [false; SPECIES_COUNT];
         let ln_ratio = ln(outer_radius_au / inner_radius_au);
         for k in 0..n {
             let t = (k as f64 + 0.5) / n as f64;
@@ -480,6 +490,9 @@ impl AccretedPhases {
                 }
             }
             solid_to_gas += p.solid_to_gas;
+            for (flag, point) in out_of_equilibrium.iter_mut().zip(p.out_of_equilibrium) {
+                *flag |= point;
+            }
         }
         let gas = gas.map(|v| v / n as f64);
         let solid_atoms_per_g = if with_solids > 0 {
@@ -497,6 +510,7 @@ impl AccretedPhases {
             points_with_solids: with_solids,
             points: n,
             stellar_per_h: model.carriers.stellar_per_h,
+            out_of_equilibrium,
         })
     }
 

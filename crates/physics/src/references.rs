@@ -53,11 +53,13 @@ pub const REFERENCES: &[Reference] = &[
     reference!("bergin2015", "Bergin, E. A. and Blake, G. A. and Ciesla, F. and Hirschmann, M. M. and Li, J.", 2015, "Tracing the ingredients for a habitable earth from interstellar space through planet formation", "PNAS", "112", "8965", "10.1073/pnas.1500954112", "Bergin et al. 2015"),
     reference!("bertin2016", "Bertin, M. and Romanzin, C. and Doronin, M. and others", 2016, "UV Photodesorption of Methanol in Pure and CO-rich Ices: Desorption Rates of the Intact Molecule and of the Photofragments", "ApJL", "817", "L12", "10.3847/2041-8205/817/2/L12", "Bertin et al. 2016"),
     reference!("bohlin1978", "Bohlin, R. C. and Savage, B. D. and Drake, J. F.", 1978, "A survey of interstellar H I from L-alpha absorption measurements. II", "ApJ", "224", "132", "10.1086/156357", "Bohlin, Savage & Drake 1978"),
+    reference!("brown1980", "Brown, G. N. and Ziegler, W. T.", 1980, "Vapor pressure and heats of vaporization and sublimation of liquids and solids of interest in cryogenics below 1-atm pressure", "Adv. Cryog. Eng.", "25", "662", "", "Brown & Ziegler 1980"),
     reference!("brown2007", "Brown, W. A. and Bolina, A. S.", 2007, "Fundamental data on the desorption of pure interstellar ices", "MNRAS", "374", "1006", "10.1111/j.1365-2966.2006.11216.x", "Brown & Bolina 2007"),
     reference!("chiang1997", "Chiang, E. I. and Goldreich, P.", 1997, "Spectral Energy Distributions of T Tauri Stars with Passive Circumstellar Disks", "ApJ", "490", "368", "10.1086/304869", "Chiang & Goldreich 1997"),
     reference!("dartois2003", "Dartois, E. and Dutrey, A. and Guilloteau, S.", 2003, "Structure of the DM Tau Outer Disk: Probing the vertical kinetic temperature gradient", "A&A", "399", "773", "10.1051/0004-6361:20021638", "Dartois, Dutrey & Guilloteau 2003"),
     reference!("dullemond2001", "Dullemond, C. P. and Dominik, C. and Natta, A.", 2001, "Passive Irradiated Circumstellar Disks with an Inner Hole", "ApJ", "560", "957", "10.1086/323057", "Dullemond, Dominik & Natta 2001"),
     reference!("fraser2001", "Fraser, H. J. and Collings, M. P. and McCoustra, M. R. S. and Williams, D. A.", 2001, "Thermal desorption of water ice in the interstellar medium", "MNRAS", "327", "1165", "10.1046/j.1365-8711.2001.04835.x", "Fraser et al. 2001"),
+    reference!("fray2009", "Fray, N. and Schmitt, B.", 2009, "Sublimation of ices of astrophysical interest: A bibliographic review", "Planet. Space Sci.", "57", "2053", "10.1016/j.pss.2009.09.011", "Fray & Schmitt 2009"),
     reference!("garrod2006", "Garrod, R. T. and Herbst, E.", 2006, "Formation of methyl formate and other organic species in the warm-up phase of hot molecular cores", "A&A", "457", "927", "10.1051/0004-6361:20065560", "Garrod & Herbst 2006"),
     reference!("habing1968", "Habing, H. J.", 1968, "The interstellar radiation density between 912 A and 2400 A", "BAN", "19", "421", "", "Habing 1968"),
     reference!("hartmann1998", "Hartmann, L. and Calvet, N. and Gullbring, E. and D'Alessio, P.", 1998, "Accretion and the Evolution of T Tauri Disks", "ApJ", "495", "385", "10.1086/305277", "Hartmann et al. 1998"),
@@ -65,8 +67,11 @@ pub const REFERENCES: &[Reference] = &[
     reference!("hasegawa1993", "Hasegawa, T. I. and Herbst, E.", 1993, "New gas-grain chemical models of quiescent dense interstellar clouds: the effects of H2 tunnelling reactions and cosmic ray induced desorption", "MNRAS", "261", "83", "10.1093/mnras/261.1.83", "Hasegawa & Herbst 1993"),
     reference!("kauffmann2008", "Kauffmann, J. and Bertoldi, F. and Bourke, T. L. and Evans, N. J. and Lee, C. W.", 2008, "MAMBO mapping of Spitzer c2d small clouds and cores", "A&A", "487", "993", "10.1051/0004-6361:200809481", "Kauffmann et al. 2008"),
     reference!("li2021", "Li, J. and Bergin, E. A. and Blake, G. A. and Ciesla, F. J. and Hirschmann, M. M.", 2021, "Earth's carbon deficit caused by early loss through irreversible sublimation", "Sci. Adv.", "7", "eabd3632", "10.1126/sciadv.abd3632", "Li et al. 2021"),
+    reference!("ligterink2023", "Ligterink, N. F. W. and Minissale, M.", 2023, "An overview of desorption parameters of Volatile and Complex Organic Molecules: A systematic dig on experimental literature", "A&A", "", "", "", "Ligterink & Minissale 2023"),
     reference!("lodders2003", "Lodders, K.", 2003, "Solar System Abundances and Condensation Temperatures of the Elements", "ApJ", "591", "1220", "10.1086/375492", "Lodders 2003"),
     reference!("lynden-bell1974", "Lynden-Bell, D. and Pringle, J. E.", 1974, "The evolution of viscous discs and the origin of the nebular variables", "MNRAS", "168", "603", "10.1093/mnras/168.3.603", "Lynden-Bell & Pringle 1974"),
+    reference!("minissale2022", "Minissale, M. and Aikawa, Y. and Bergin, E. and others", 2022, "Thermal Desorption of Interstellar Ices: A Review on the Controlling Parameters and Their Implications from Snowlines to Chemical Complexity", "ACS Earth Space Chem.", "6", "597", "", "Minissale et al. 2022"),
+    reference!("murphy2005", "Murphy, D. M. and Koop, T.", 2005, "Review of the vapour pressures of ice and supercooled water for atmospheric applications", "Q. J. R. Meteorol. Soc.", "131", "1539", "10.1256/qj.04.94", "Murphy & Koop 2005"),
     reference!("oberg2005", "Öberg, K. I. and van Broekhuizen, F. and Fraser, H. J. and Bisschop, S. E. and van Dishoeck, E. F. and Schlemmer, S.", 2005, "Competition between CO and N2 Desorption from Interstellar Ices", "ApJL", "621", "L33", "10.1086/428901", "Öberg et al. 2005"),
     reference!("oberg2009co", "Öberg, K. I. and van Dishoeck, E. F. and Linnartz, H.", 2009, "Photodesorption of ices I: CO, N2, and CO2", "A&A", "496", "281", "10.1051/0004-6361/200810207", "Öberg, van Dishoeck & Linnartz 2009"),
     reference!("oberg2009water", "Öberg, K. I. and Linnartz, H. and Visser, R. and van Dishoeck, E. F.", 2009, "Photodesorption of Ices. II. H2O and D2O", "ApJ", "693", "1209", "10.1088/0004-637X/693/2/1209", "Öberg et al. 2009"),
@@ -87,13 +92,11 @@ pub const REFERENCES: &[Reference] = &[
 pub const UNPUBLISHED_SOURCES: &[(&str, &str)] = &[
     ("common_practice", "common practice, no single source"),
     (
-        "memory",
-        "approximate value from memory of the literature, no single source",
+        "converted_legacy",
+        "energy converted from the HHL92-paired pure-ice value to the transition-state frequency at constant vapour pressure at the legacy half-freezing temperature (n_H = 1e12 cm^-3, x = 1e-5); derived, low confidence",
     ),
-    (
-        "memory_ch4",
-        "pure CH4 ice, laboratory TPD value of about 1100 K, from memory (low confidence)",
-    ),
+    ("memory", "approximate value from memory of the literature, no single source"),
+    ("memory_ch4", "pure CH4 ice, laboratory TPD value of about 1100 K, from memory (low confidence)"),
 ];
 
 /// The record with this key, if it is a publication.

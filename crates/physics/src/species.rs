@@ -76,23 +76,32 @@ impl Species {
     }
 }
 
-/// A named set of binding energies.
+/// A named set of binding energies, each paired with the attempt frequency its source used.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub enum BindingEnergySet {
-    /// Desorption from each species' own pure ice (default).
-    PureIces,
-    /// Desorption from a water-ice surface (network values, Garrod & Herbst 2006).
+    /// Transition-state-theory frequencies (Ligterink & Minissale 2023 mass relation) with
+    /// energies matched to laboratory sublimation pressures (default; see `data/binding_energies.csv`).
+    TransitionState,
+    /// Pure-ice energies with the Hasegawa, Herbst & Leung 1992 frequency (the original default, kept
+    /// for comparison; sublimates water about 27 K too hot against the ice vapour pressure).
+    Hhl92FrequencyLegacy,
+    /// Desorption from a water-ice surface (network values, Garrod & Herbst 2006) with the HHL92 frequency:
+    /// the first-monolayer regime.
     OnWaterIce,
 }
 
 impl BindingEnergySet {
     /// Every set.
-    pub const ALL: [BindingEnergySet; 2] =
-        [BindingEnergySet::PureIces, BindingEnergySet::OnWaterIce];
-    /// Key in files, e.g. "pure_ices".
+    pub const ALL: [BindingEnergySet; 3] = [
+        BindingEnergySet::TransitionState,
+        BindingEnergySet::Hhl92FrequencyLegacy,
+        BindingEnergySet::OnWaterIce,
+    ];
+    /// Key in files, e.g. "transition_state".
     pub fn key(self) -> &'static str {
         match self {
-            BindingEnergySet::PureIces => "pure_ices",
+            BindingEnergySet::TransitionState => "transition_state",
+            BindingEnergySet::Hhl92FrequencyLegacy => "hhl92_frequency_legacy",
             BindingEnergySet::OnWaterIce => "on_water_ice",
         }
     }
@@ -100,6 +109,28 @@ impl BindingEnergySet {
     pub fn from_key(key: &str) -> Option<Self> {
         Self::ALL.iter().copied().find(|s| s.key() == key)
     }
+}
+
+/// How a set gives the attempt frequency nu of thermal desorption.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub enum FrequencyRule {
+    /// nu = sqrt(2 N_s k E_b/(pi^2 m)) with the energy in use (Hasegawa, Herbst & Leung 1992).
+    Hhl92,
+    /// A fixed value [s^-1] (it stays with the species when its energy is overridden).
+    Value(f64),
+}
+
+/// One entry of a binding-energy set: the energy, the frequency rule, and their sources.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct DesorptionPair {
+    /// E_b/k [K].
+    pub binding_energy_k: f64,
+    /// Source key of the energy.
+    pub energy_source: &'static str,
+    /// The attempt frequency.
+    pub frequency: FrequencyRule,
+    /// Source key of the frequency.
+    pub frequency_source: &'static str,
 }
 
 /// Laboratory data of one species.
@@ -121,8 +152,8 @@ pub struct SpeciesData {
     pub condensation_temperature_k: f64,
     /// Source key of the condensation temperature.
     pub condensation_source: &'static str,
-    /// Binding energy E_b/k [K] in each set, in `BindingEnergySet::ALL` order, with source keys.
-    pub binding_energy_k: [(f64, &'static str); 2],
+    /// The desorption pair of each set, in `BindingEnergySet::ALL` order.
+    pub desorption: [DesorptionPair; 3],
 }
 
 impl SpeciesData {
@@ -132,7 +163,12 @@ impl SpeciesData {
     }
     /// Binding energy [K] of a set, with its source key.
     pub fn binding_energy(&self, set: BindingEnergySet) -> (f64, &'static str) {
-        self.binding_energy_k[set as usize]
+        let d = &self.desorption[set as usize];
+        (d.binding_energy_k, d.energy_source)
+    }
+    /// The desorption pair (energy and frequency rule) of a set.
+    pub fn pair(&self, set: BindingEnergySet) -> &DesorptionPair {
+        &self.desorption[set as usize]
     }
 }
 
@@ -184,16 +220,21 @@ fn parse_table() -> Result<SpeciesTable, String> {
             yield_source: row[8],
             condensation_temperature_k: num(row[9])?,
             condensation_source: row[10],
-            binding_energy_k: [(f64::NAN, ""); 2],
+            desorption: [DesorptionPair {
+                binding_energy_k: f64::NAN,
+                energy_source: "",
+                frequency: FrequencyRule::Hhl92,
+                frequency_source: "",
+            }; 3],
         });
     }
     if entries.iter().map(|e| e.species).collect::<Vec<_>>() != Species::ALL {
         return Err("species.csv: rows must list every species once, in Species::ALL order".into());
     }
     for row in data_rows(BINDING_CSV) {
-        if row.len() != 4 {
+        if row.len() != 6 {
             return Err(format!(
-                "binding_energies.csv: row {row:?} has {} columns, expected 4",
+                "binding_energies.csv: row {row:?} has {} columns, expected 6",
                 row.len()
             ));
         }
@@ -204,18 +245,39 @@ fn parse_table() -> Result<SpeciesTable, String> {
         let value = row[2]
             .parse::<f64>()
             .map_err(|e| format!("binding_energies.csv: {}: {e}", row[2]))?;
-        entries[species.index()].binding_energy_k[set as usize] = (value, row[3]);
+        let frequency = match row[4] {
+            "hhl92" => FrequencyRule::Hhl92,
+            text => {
+                let nu = text
+                    .parse::<f64>()
+                    .map_err(|e| format!("binding_energies.csv: {text}: {e}"))?;
+                if !(nu > 0.0 && nu.is_finite()) {
+                    return Err(format!(
+                        "binding_energies.csv: attempt frequency {text} is not positive"
+                    ));
+                }
+                FrequencyRule::Value(nu)
+            }
+        };
+        entries[species.index()].desorption[set as usize] = DesorptionPair {
+            binding_energy_k: value,
+            energy_source: row[3],
+            frequency,
+            frequency_source: row[5],
+        };
     }
     for e in &entries {
-        for (value, source) in e.binding_energy_k {
-            if !(value > 0.0) {
+        for d in e.desorption {
+            if !(d.binding_energy_k > 0.0) {
                 return Err(format!(
                     "binding_energies.csv: {} lacks a value in some set",
                     e.species.key()
                 ));
             }
-            if !is_known_source(source) {
-                return Err(format!("binding_energies.csv: unknown source {source}"));
+            for source in [d.energy_source, d.frequency_source] {
+                if !is_known_source(source) {
+                    return Err(format!("binding_energies.csv: unknown source {source}"));
+                }
             }
         }
         for source in [e.yield_source, e.condensation_source] {
@@ -251,9 +313,15 @@ mod tests {
 
     #[test]
     fn binding_energy_ordering_holds_in_every_set() {
-        // N2 < CO < CH4 < CO2 < NH3, CH3OH < H2O (docs/check-values.md section 4a, common practice; holds in every listed set).
+        // N2 < CO < CH4 < CO2 < NH3, CH3OH < H2O (docs/check-values.md section 4a, common practice; holds in every listed
+        // set). Energies compare only at a common prefactor: the HHL92 sets. The transition-state set's
+        // frequencies span 2.7e15-1.3e18 s^-1, so its order is checked on sublimation temperatures instead
+        // (tests/published_ices.rs, `sublimation_order_in_every_set`).
         let t = SpeciesTable::built_in();
-        for set in BindingEnergySet::ALL {
+        for set in [
+            BindingEnergySet::Hhl92FrequencyLegacy,
+            BindingEnergySet::OnWaterIce,
+        ] {
             let e = |s: Species| t.get(s).binding_energy(set).0;
             assert!(e(Species::N2) < e(Species::CO), "{set:?}");
             assert!(e(Species::CO) < e(Species::CH4), "{set:?}");

@@ -282,6 +282,11 @@ pub fn planet_view(p: &PlacedPlanet) -> Value {
             "gas_c_to_o": p.planet.phases.gas_c_to_o(),
             "solid_c_to_o": p.planet.phases.solid_c_to_o(),
             "solid_to_gas_available": finite(p.planet.phases.solid_to_gas_available),
+            "ices_out_of_equilibrium": Species::ALL
+                .iter()
+                .filter(|s| p.planet.phases.out_of_equilibrium[s.index()])
+                .map(|s| s.key())
+                .collect::<Vec<_>>(),
         },
         "star_c_to_o": finite(x[Element::C as usize] / x[Element::O as usize]),
     })
@@ -612,7 +617,7 @@ fn number_text(x: f64) -> String {
 /// writes it, so one text covers everything the numbers rest on. States the
 /// assumptions: local accretion of midplane gas and solids, full mixing of
 /// the solids' atoms unless f_mix < 1, hydrogen from the gas only, and the
-/// disk in equilibrium at one moment.
+/// disk at one moment, its ices evolved over the disk's age.
 pub fn planet_methods(state: &PlanetState) -> Option<String> {
     let file = state
         .placed
@@ -623,7 +628,7 @@ pub fn planet_methods(state: &PlanetState) -> Option<String> {
     // Invariant: the key is in nivalis_physics::references (a unit test checks it).
     let citation = reference(PLANET_REFERENCE).map_or("", |r| r.citation);
     let mut text = format!(
-        "We estimated the planet's envelope composition with {} on the disk described below (disk file hash {}), with the bookkeeping of {citation}: the envelope takes in the gas and the solids of the disk midplane where the planet accretes (local accretion), its hydrogen is counted from the accreted gas only, and the disk is taken in freeze-out/desorption equilibrium at one moment, with no radial drift of grains, no vapour transport and no evolution of the disk while the planet accretes.",
+        "We estimated the planet's envelope composition with {} on the disk described below (disk file hash {}), with the bookkeeping of {citation}: the envelope takes in the gas and the solids of the disk midplane where the planet accretes (local accretion), its hydrogen is counted from the accreted gas only, and the disk is taken at one moment, its ices having followed the freeze-out/desorption rate equation over the disk's age, with no radial drift of grains, no vapour transport and no evolution of the disk while the planet accretes.",
         provenance.program, provenance.disk_hash
     );
     let mixing = |f: f64| {
@@ -1006,7 +1011,7 @@ mod tests {
         assert!(
             text.contains("local accretion")
                 && text.contains("f_mix = 0.5")
-                && text.contains("equilibrium at one moment"),
+                && text.contains("rate equation over the disk's age"),
             "{text}"
         );
         // Paper-ready prose (issue 11 item 5): ±, the Unicode author name, no doubled parentheses.

@@ -185,6 +185,7 @@ impl Session {
                             "radius_au": radius_au,
                             "direction": line.direction.key(),
                             "midplane_temperature_k": temperature,
+                            "out_of_equilibrium": model.snowline_out_of_equilibrium(s, line),
                         })
                     })
                     .collect();
