@@ -61,5 +61,8 @@ pub fn step_model_5a() -> nivalis_physics::ModelParameters {
     cf.ch3oh = 0.0;
     cf.hcn = 0.0;
     p.composition.oxygen_per_silicon = 0.2 * x_o / x_si;
+    // Oberg, Murray-Clay & Bergin 2011 keep refractory carbon solid wherever today's disk is below
+    // the soot line: the reversible picture, kept as an option (docs/model.md section 8).
+    p.composition.soot_line = nivalis_physics::params::SootLine::Reversible;
     p
 }

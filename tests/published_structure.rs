@@ -5,7 +5,7 @@
 //! M from memory, D derived arithmetic, C common practice) and its tolerance
 //! with the reason. Run with `cargo test -p nivalis-tests --test published_structure`.
 
-use nivalis_physics::params::{Opacity, VerticalTemperature};
+use nivalis_physics::params::{GasMassMeaning, Opacity, VerticalTemperature};
 use nivalis_physics::star::stellar_radius_cm;
 use nivalis_physics::structure::{
     irradiation_temperature_k, scale_height_cm, sound_speed_cm_s, surface_density_g_cm2,
@@ -152,6 +152,8 @@ fn accreting_constant_opacity() -> ModelParameters {
         rosseland_cm2_per_g: 0.3,
     };
     p.disk.vertical_temperature = VerticalTemperature::Isothermal;
+    // The hand values take 0.01 Msun as the total of the profile (the old meaning of the field).
+    p.disk.gas_mass_meaning = GasMassMeaning::ProfileTotal;
     p.grid.radial_cells = 30;
     p.grid.vertical_cells = 20;
     p
@@ -404,6 +406,7 @@ fn surface_density_integrates_to_disk_mass() {
         p.disk.surface_density_index = gamma;
         p.disk.characteristic_radius_au = rc_au;
         p.disk.gas_mass_msun = mass;
+        p.disk.gas_mass_meaning = GasMassMeaning::ProfileTotal;
         let c = DiskConstants::new(&p).unwrap();
         let rc = rc_au * AU_CM;
         let integral = integrate_ln(1e-12 * rc, 1e3 * rc, 400_000, |r| {
@@ -536,6 +539,7 @@ fn mmsn_midplane_density() {
     p.disk.surface_density_index = 1.5;
     p.disk.characteristic_radius_au = rc_au;
     p.disk.gas_mass_msun = mass_g / SOLAR_MASS_G;
+    p.disk.gas_mass_meaning = GasMassMeaning::ProfileTotal;
     // Nine cells log-spaced over [0.5, 2] au: the middle centre is exactly sqrt(0.5 * 2) = 1 au.
     p.disk.inner_radius_au = 0.5;
     p.disk.outer_radius_au = 2.0;

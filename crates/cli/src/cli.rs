@@ -390,6 +390,9 @@ fn execute(args: Args) -> Result<(), Failure> {
             let file = read_disk(&disk)?;
             // Physics-level checks (e.g. a self-consistent flaring solve that cannot converge) need a run.
             run_model(&file)?;
+            for w in &file.warnings {
+                eprintln!("{}: warning: {w}", disk.display());
+            }
             println!(
                 "{}: valid {} file",
                 disk.display(),

@@ -442,3 +442,25 @@ fn out_of_equilibrium_is_marked_in_maps_snowlines_and_planets() {
         "{planet}"
     );
 }
+
+#[test]
+fn check_warns_when_the_edges_cut_off_most_of_the_profile() {
+    // Issue 11 item 7: R_c = 4000 au with edges 0.1-500 au keeps 11.7 % of the profile; a warning, not an error.
+    let path = temp_file(
+        "wide.json",
+        r#"{"disk": {"characteristic_radius_au": 4000, "gas_mass_msun": 0.03}}"#,
+    );
+    let out = nivalis(&["check", path.to_str().unwrap()]);
+    assert_eq!(out.status.code(), Some(0), "{}", stderr(&out));
+    assert!(
+        stdout(&out).contains("valid nivalis-disk/1 file"),
+        "{}",
+        stdout(&out)
+    );
+    let err = stderr(&out);
+    assert!(err.contains("warning: disk.inner_radius_au: the edges 0.1-500 au cut off 88.3 % of the surface-density profile"), "{err}");
+    assert!(err.contains("disk.gas_mass_profile_total_msun"), "{err}");
+    // The default disk gives no warning.
+    let out = nivalis(&["check", "demo_disks/young_sun.json"]);
+    assert_eq!(stderr(&out), "");
+}

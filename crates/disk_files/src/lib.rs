@@ -35,6 +35,9 @@ pub struct DiskFile {
     pub notes: String,
     /// The validated model inputs.
     pub parameters: ModelParameters,
+    /// Things worth knowing that do not stop a run (e.g. edges that cut off most of
+    /// the surface-density profile; the new meaning of `disk.gas_mass_msun`).
+    pub warnings: Vec<Problem>,
 }
 
 impl DiskFile {
@@ -44,6 +47,7 @@ impl DiskFile {
             name: String::new(),
             notes: String::new(),
             parameters: ModelParameters::defaults(),
+            warnings: Vec::new(),
         }
     }
 }

@@ -3,11 +3,13 @@
 use crate::{DiskFile, Problem, Problems, SCHEMA};
 use nivalis_physics::budget::Carriers;
 use nivalis_physics::params::{
-    AbundanceReference, CarbonFractions, DesorptionModel, Element, InitialIceState,
-    NitrogenFractions, Opacity, SulfurFractions, VerticalTemperature,
+    default_flaring_angle, AbundanceReference, CarbonFractions, DesorptionModel, EarlyPhase,
+    Element, GasMassMeaning, InitialIceState, NitrogenFractions, Opacity, SootLine,
+    SulfurFractions, TemperatureLaw, VerticalTemperature,
 };
 use nivalis_physics::species::SpeciesTable;
 use nivalis_physics::star::{stellar_abundances_per_h, stellar_radius_au};
+use nivalis_physics::structure::{profile_fraction_between, MIN_PROFILE_FRACTION_BETWEEN_EDGES};
 use nivalis_physics::{BindingEnergySet, ModelParameters, Species};
 use serde_json::{Map, Value};
 
@@ -26,8 +28,10 @@ pub fn parse_disk_json(text: &str) -> Result<DiskFile, Problems> {
 pub fn from_value(value: &Value) -> Result<DiskFile, Problems> {
     let mut r = Reader {
         problems: Vec::new(),
+        warnings: Vec::new(),
     };
-    let file = r.file(value);
+    let mut file = r.file(value);
+    file.warnings = r.warnings;
     if r.problems.is_empty() {
         Ok(file)
     } else {
@@ -74,6 +78,7 @@ impl Range {
 
 struct Reader {
     problems: Vec<Problem>,
+    warnings: Vec<Problem>,
 }
 
 fn join(path: &str, key: &str) -> String {
@@ -443,17 +448,41 @@ impl Reader {
                 "interstellar_fuv_habing",
                 "age_myr",
                 "midplane_temperature_scale",
+                "gas_mass_profile_total_msun",
+                "temperature",
+                "early_phase",
             ],
         );
         let dd = &d.disk;
         let q = &mut p.disk;
-        q.gas_mass_msun = self.real(
-            disk,
-            "disk",
-            "gas_mass_msun",
-            dd.gas_mass_msun,
-            Range::Positive,
-        );
+        let before_mass = self.problems.len();
+        let mass_between = disk.is_some_and(|m| m.contains_key("gas_mass_msun"));
+        let mass_total = disk.is_some_and(|m| m.contains_key("gas_mass_profile_total_msun"));
+        if mass_between && mass_total {
+            self.problem(
+                "disk.gas_mass_profile_total_msun",
+                "give either disk.gas_mass_msun (the mass between the edges) or disk.gas_mass_profile_total_msun (the total of the profile), not both",
+            );
+        }
+        if mass_total {
+            q.gas_mass_msun = self.real(
+                disk,
+                "disk",
+                "gas_mass_profile_total_msun",
+                dd.gas_mass_msun,
+                Range::Positive,
+            );
+            q.gas_mass_meaning = GasMassMeaning::ProfileTotal;
+        } else {
+            q.gas_mass_msun = self.real(
+                disk,
+                "disk",
+                "gas_mass_msun",
+                dd.gas_mass_msun,
+                Range::Positive,
+            );
+            q.gas_mass_meaning = GasMassMeaning::BetweenEdges;
+        }
         q.characteristic_radius_au = self.real(
             disk,
             "disk",
@@ -501,6 +530,45 @@ impl Reader {
                 );
             }
         }
+        if self.problems.len() == before_mass {
+            let f = profile_fraction_between(
+                q.inner_radius_au,
+                q.outer_radius_au,
+                q.characteristic_radius_au,
+                q.surface_density_index,
+            );
+            let (rin, rout, rc) = (
+                q.inner_radius_au,
+                q.outer_radius_au,
+                q.characteristic_radius_au,
+            );
+            if q.gas_mass_meaning == GasMassMeaning::BetweenEdges
+                && !(f >= MIN_PROFILE_FRACTION_BETWEEN_EDGES)
+            {
+                self.problem(
+                    "disk.gas_mass_msun",
+                    format!("the edges {rin}-{rout} au hold only {f:.3e} of the surface-density profile (R_c = {rc} au), need at least 1e-9; move the edges or R_c"),
+                );
+            } else if f < 0.5 {
+                self.warnings.push(Problem {
+                    path: "disk.inner_radius_au".into(),
+                    message: format!(
+                        "the edges {rin}-{rout} au cut off {:.1} % of the surface-density profile (R_c = {rc} au); the disk is a small part of its profile",
+                        100.0 * (1.0 - f)
+                    ),
+                });
+            }
+            if mass_between && (MIN_PROFILE_FRACTION_BETWEEN_EDGES..0.99).contains(&f) {
+                self.warnings.push(Problem {
+                    path: "disk.gas_mass_msun".into(),
+                    message: format!(
+                        "now the gas mass between the edges ({} Msun; the whole profile holds {:.4e} Msun); files written before this change meant the profile total, which is now disk.gas_mass_profile_total_msun",
+                        q.gas_mass_msun,
+                        q.gas_mass_msun / f
+                    ),
+                });
+            }
+        }
         q.accretion_rate_msun_per_yr = self.real(
             disk,
             "disk",
@@ -512,7 +580,7 @@ impl Reader {
             disk,
             "disk",
             "flaring_angle",
-            dd.flaring_angle,
+            default_flaring_angle(p.star.luminosity_lsun),
             Range::OpenClosed(0.0, 1.0),
         );
         q.self_consistent_flaring = self.boolean(
@@ -580,6 +648,120 @@ impl Reader {
                 transition_scale_heights: transition,
                 delta,
             },
+        };
+        let tl = self.object(
+            disk.and_then(|m| m.get("temperature")),
+            "disk.temperature",
+            &[
+                "kind",
+                "midplane_1au_k",
+                "midplane_index",
+                "atmosphere_1au_k",
+                "atmosphere_index",
+            ],
+        );
+        let tp = "disk.temperature";
+        let kind = self.choice(tl, tp, "kind", &["energy_balance", "power_law"]);
+        let power_keys = [
+            "midplane_1au_k",
+            "midplane_index",
+            "atmosphere_1au_k",
+            "atmosphere_index",
+        ];
+        if kind == Some(1) {
+            for key in ["midplane_1au_k", "midplane_index"] {
+                if !tl.is_some_and(|m| m.contains_key(key)) {
+                    self.problem(
+                        join(tp, key),
+                        "required when disk.temperature.kind is power_law",
+                    );
+                }
+            }
+            let t1 = self.real(
+                tl,
+                tp,
+                "midplane_1au_k",
+                100.0,
+                Range::OpenClosed(0.0, 1.0e4),
+            );
+            let q1 = self.real(tl, tp, "midplane_index", 0.5, Range::Closed(-1.0, 3.0));
+            let has_atm = tl.is_some_and(|m| {
+                m.contains_key("atmosphere_1au_k") || m.contains_key("atmosphere_index")
+            });
+            let atmosphere = if has_atm {
+                let ta = self.real(
+                    tl,
+                    tp,
+                    "atmosphere_1au_k",
+                    t1,
+                    Range::OpenClosed(0.0, 1.0e4),
+                );
+                let qa = self.real(tl, tp, "atmosphere_index", q1, Range::Closed(-1.0, 3.0));
+                Some((ta, qa))
+            } else {
+                None
+            };
+            q.temperature = TemperatureLaw::PowerLaw {
+                midplane_1au_k: t1,
+                midplane_index: q1,
+                atmosphere,
+            };
+            if q.self_consistent_flaring {
+                self.warnings.push(Problem {
+                    path: "disk.self_consistent_flaring".into(),
+                    message: "ignored: disk.temperature.kind power_law sets the midplane temperature (the fixed flaring angle still sets the starlight's path)".into(),
+                });
+            }
+        } else {
+            for key in power_keys {
+                if tl.is_some_and(|m| m.contains_key(key)) {
+                    self.problem(
+                        join(tp, key),
+                        "applies only when disk.temperature.kind is power_law",
+                    );
+                }
+            }
+            q.temperature = TemperatureLaw::EnergyBalance;
+        }
+        let ep = self.object(
+            disk.and_then(|m| m.get("early_phase")),
+            "disk.early_phase",
+            &[
+                "accretion_rate_msun_per_yr",
+                "luminosity_lsun",
+                "surface_density_scale",
+            ],
+        );
+        let epp = "disk.early_phase";
+        // Up to 1e-3 Msun/yr: above FU Orionis outbursts (about 1e-4, Hartmann & Kenyon 1996; from memory).
+        let mdot_early = self.real(
+            ep,
+            epp,
+            "accretion_rate_msun_per_yr",
+            dd.early_phase.accretion_rate_msun_per_yr,
+            Range::Closed(0.0, 1.0e-3),
+        );
+        let early_defaults = EarlyPhase::defaults_for(
+            if star_ok { &p.star } else { &d.star },
+            q.accretion_rate_msun_per_yr,
+            mdot_early,
+        );
+        q.early_phase = EarlyPhase {
+            accretion_rate_msun_per_yr: mdot_early,
+            luminosity_lsun: self.real(
+                ep,
+                epp,
+                "luminosity_lsun",
+                early_defaults.luminosity_lsun,
+                Range::Positive,
+            ),
+            surface_density_scale: self.real(
+                ep,
+                epp,
+                "surface_density_scale",
+                early_defaults.surface_density_scale,
+                Range::Closed(1e-3, 1e4),
+            ),
         };
         q.background_temperature_k = self.real(
             disk,
@@ -742,6 +924,7 @@ impl Reader {
                 "sulfur",
                 "oxygen_per_silicon",
                 "soot_line_k",
+                "soot_line",
                 "sulfide_release_k",
                 "silicate_sublimation_k",
             ],
@@ -806,6 +989,14 @@ impl Reader {
             dc.soot_line_k,
             Range::Positive,
         );
+        if let Some(i) = self.choice(
+            comp,
+            "composition",
+            "soot_line",
+            &["irreversible", "reversible"],
+        ) {
+            p.composition.soot_line = [SootLine::Irreversible, SootLine::Reversible][i];
+        }
         p.composition.sulfide_release_k = self.real(
             comp,
             "composition",
@@ -1027,5 +1218,157 @@ mod tests {
             vec![r#"schema: must be "nivalis-disk/1", got "other/2""#]
         );
         assert_eq!(problems("[1]"), vec!["(file): must be an object, got [1]"]);
+    }
+
+    #[test]
+    fn gas_mass_between_edges_and_the_old_meaning() {
+        use nivalis_physics::params::GasMassMeaning;
+        let f = parse_disk_json(r#"{"disk": {"gas_mass_msun": 0.03}}"#).unwrap();
+        assert_eq!(
+            f.parameters.disk.gas_mass_meaning,
+            GasMassMeaning::BetweenEdges
+        );
+        let f = parse_disk_json(r#"{"disk": {"gas_mass_profile_total_msun": 0.03}}"#).unwrap();
+        assert_eq!(
+            f.parameters.disk.gas_mass_meaning,
+            GasMassMeaning::ProfileTotal
+        );
+        assert_eq!(f.parameters.disk.gas_mass_msun, 0.03);
+        let p =
+            problems(r#"{"disk": {"gas_mass_msun": 0.03, "gas_mass_profile_total_msun": 0.03}}"#);
+        assert_eq!(p.len(), 1);
+        assert!(
+            p[0].starts_with("disk.gas_mass_profile_total_msun: give either"),
+            "{}",
+            p[0]
+        );
+        assert_eq!(
+            problems(r#"{"disk": {"gas_mass_profile_total": 1}}"#),
+            vec!["disk.gas_mass_profile_total: unknown field; did you mean gas_mass_profile_total_msun?"]
+        );
+    }
+
+    #[test]
+    fn edges_that_cut_off_most_of_the_profile_warn() {
+        // R_c = 4000 au, 0.1-500 au: the edges hold 11.7 % of the profile (issue 11 item 7).
+        let f = parse_disk_json(
+            r#"{"disk": {"characteristic_radius_au": 4000, "gas_mass_msun": 0.03}}"#,
+        )
+        .unwrap();
+        let w: Vec<String> = f.warnings.iter().map(|p| p.to_string()).collect();
+        assert_eq!(w.len(), 2, "{w:?}");
+        assert!(w[0].starts_with("disk.inner_radius_au: the edges 0.1-500 au cut off 88.3 % of the surface-density profile"), "{}", w[0]);
+        assert!(
+            w[1].starts_with("disk.gas_mass_msun: now the gas mass between the edges (0.03 Msun; the whole profile holds 2.5537e-1 Msun)"),
+            "{}",
+            w[1]
+        );
+        // The default disk's edges hold 99.8 % of its profile: no warning.
+        assert!(parse_disk_json("{}").unwrap().warnings.is_empty());
+        assert!(parse_disk_json(r#"{"disk": {"gas_mass_msun": 0.02}}"#)
+            .unwrap()
+            .warnings
+            .is_empty());
+        // The old meaning warns about the cut, not about the migration.
+        let f = parse_disk_json(
+            r#"{"disk": {"characteristic_radius_au": 4000, "gas_mass_profile_total_msun": 0.03}}"#,
+        )
+        .unwrap();
+        assert_eq!(f.warnings.len(), 1);
+        // Edges holding almost nothing of the profile are an error when the mass is between them.
+        let p = problems(
+            r#"{"disk": {"characteristic_radius_au": 1, "inner_radius_au": 100, "outer_radius_au": 200}}"#,
+        );
+        assert!(
+            p[0].starts_with("disk.gas_mass_msun: the edges 100-200 au hold only"),
+            "{p:?}"
+        );
+    }
+
+    #[test]
+    fn soot_line_choice_and_early_phase() {
+        use nivalis_physics::params::SootLine;
+        assert_eq!(
+            parse_disk_json("{}")
+                .unwrap()
+                .parameters
+                .composition
+                .soot_line,
+            SootLine::Irreversible
+        );
+        let f = parse_disk_json(r#"{"composition": {"soot_line": "reversible"}}"#).unwrap();
+        assert_eq!(f.parameters.composition.soot_line, SootLine::Reversible);
+        assert_eq!(
+            problems(r#"{"composition": {"soot_line": "irreversable"}}"#),
+            vec![
+                r#"composition.soot_line: must be one of irreversible, reversible, got "irreversable"; did you mean irreversible?"#
+            ]
+        );
+        // Early phase defaults: L* + 0.8 G M* Mdot / R* and Mdot_early / Mdot.
+        let f = parse_disk_json(r#"{"disk": {"accretion_rate_msun_per_yr": 1e-7, "early_phase": {"accretion_rate_msun_per_yr": 2e-6}}}"#).unwrap();
+        let e = &f.parameters.disk.early_phase;
+        assert!((e.surface_density_scale - 20.0).abs() < 1e-9, "{e:?}");
+        let d = ModelParameters::defaults().disk.early_phase;
+        assert!(
+            ((e.luminosity_lsun - 1.0) / (d.luminosity_lsun - 1.0) - 2.0).abs() < 1e-9,
+            "{e:?} {d:?}"
+        );
+        let f = parse_disk_json(r#"{"disk": {"accretion_rate_msun_per_yr": 0}}"#).unwrap();
+        assert_eq!(f.parameters.disk.early_phase.surface_density_scale, 1.0);
+        assert_eq!(
+            problems(r#"{"disk": {"early_phase": {"surface_density_scale": 0}}}"#),
+            vec!["disk.early_phase.surface_density_scale: must be in [0.001, 10000], got 0"]
+        );
+        assert_eq!(
+            problems(r#"{"disk": {"early_phase": {"accretion_rate_msun_per_yr": 0.01}}}"#),
+            vec!["disk.early_phase.accretion_rate_msun_per_yr: must be in [0, 0.001], got 0.01"]
+        );
+        let w = parse_disk_json(r#"{"disk": {"self_consistent_flaring": true, "temperature": {"kind": "power_law", "midplane_1au_k": 150, "midplane_index": 0.5}}}"#)
+            .unwrap()
+            .warnings;
+        assert!(
+            w.len() == 1 && w[0].path == "disk.self_consistent_flaring",
+            "{w:?}"
+        );
+    }
+
+    #[test]
+    fn observed_temperature_law() {
+        use nivalis_physics::params::TemperatureLaw;
+        let f = parse_disk_json(r#"{"disk": {"temperature": {"kind": "power_law", "midplane_1au_k": 120, "midplane_index": 0.55}}}"#).unwrap();
+        assert_eq!(
+            f.parameters.disk.temperature,
+            TemperatureLaw::PowerLaw {
+                midplane_1au_k: 120.0,
+                midplane_index: 0.55,
+                atmosphere: None
+            }
+        );
+        let f = parse_disk_json(
+            r#"{"disk": {"temperature": {"kind": "power_law", "midplane_1au_k": 120, "midplane_index": 0.55, "atmosphere_1au_k": 400}}}"#,
+        )
+        .unwrap();
+        assert_eq!(
+            f.parameters.disk.temperature,
+            TemperatureLaw::PowerLaw {
+                midplane_1au_k: 120.0,
+                midplane_index: 0.55,
+                atmosphere: Some((400.0, 0.55))
+            }
+        );
+        assert_eq!(
+            problems(r#"{"disk": {"temperature": {"kind": "power_law", "midplane_1au_k": 120}}}"#),
+            vec![
+                "disk.temperature.midplane_index: required when disk.temperature.kind is power_law"
+            ]
+        );
+        assert_eq!(
+            problems(r#"{"disk": {"temperature": {"midplane_1au_k": 120}}}"#),
+            vec!["disk.temperature.midplane_1au_k: applies only when disk.temperature.kind is power_law"]
+        );
+        assert_eq!(
+            problems(r#"{"disk": {"temperature": {"kind": "powerlaw"}}}"#)[0],
+            r#"disk.temperature.kind: must be one of energy_balance, power_law, got "powerlaw"; did you mean power_law?"#
+        );
     }
 }

@@ -2,7 +2,9 @@
 //! (defaults filled in), so an exported file records exactly what was run.
 
 use crate::{DiskFile, SCHEMA};
-use nivalis_physics::params::{Element, Opacity, VerticalTemperature};
+use nivalis_physics::params::{
+    Element, GasMassMeaning, Opacity, TemperatureLaw, VerticalTemperature,
+};
 use nivalis_physics::Species;
 use serde_json::{json, Map, Value};
 
@@ -30,6 +32,28 @@ pub fn to_value(file: &DiskFile) -> Value {
             "transition_scale_heights": transition_scale_heights, "delta": delta
         }),
     };
+    let temperature = match p.disk.temperature {
+        TemperatureLaw::EnergyBalance => json!({"kind": "energy_balance"}),
+        TemperatureLaw::PowerLaw {
+            midplane_1au_k,
+            midplane_index,
+            atmosphere,
+        } => {
+            let mut m = Map::new();
+            m.insert("kind".into(), json!("power_law"));
+            m.insert("midplane_1au_k".into(), json!(midplane_1au_k));
+            m.insert("midplane_index".into(), json!(midplane_index));
+            if let Some((t, q)) = atmosphere {
+                m.insert("atmosphere_1au_k".into(), json!(t));
+                m.insert("atmosphere_index".into(), json!(q));
+            }
+            Value::Object(m)
+        }
+    };
+    let mass_key = match p.disk.gas_mass_meaning {
+        GasMassMeaning::BetweenEdges => "gas_mass_msun",
+        GasMassMeaning::ProfileTotal => "gas_mass_profile_total_msun",
+    };
     let mut overrides = Map::new();
     for s in Species::ALL {
         let o = p.ices.overrides[s.index()];
@@ -51,7 +75,8 @@ pub fn to_value(file: &DiskFile) -> Value {
         }
     }
     let c = &p.composition;
-    json!({
+    let e = &p.disk.early_phase;
+    let mut value = json!({
         "schema": SCHEMA,
         "name": file.name,
         "notes": file.notes,
@@ -64,6 +89,7 @@ pub fn to_value(file: &DiskFile) -> Value {
         },
         "disk": {
             "gas_mass_msun": p.disk.gas_mass_msun,
+            "gas_mass_profile_total_msun": p.disk.gas_mass_msun,
             "characteristic_radius_au": p.disk.characteristic_radius_au,
             "surface_density_index": p.disk.surface_density_index,
             "inner_radius_au": p.disk.inner_radius_au,
@@ -73,6 +99,12 @@ pub fn to_value(file: &DiskFile) -> Value {
             "self_consistent_flaring": p.disk.self_consistent_flaring,
             "opacity": opacity,
             "vertical_temperature": vertical,
+            "temperature": temperature,
+            "early_phase": {
+                "accretion_rate_msun_per_yr": e.accretion_rate_msun_per_yr,
+                "luminosity_lsun": e.luminosity_lsun,
+                "surface_density_scale": e.surface_density_scale
+            },
             "background_temperature_k": p.disk.background_temperature_k,
             "dust_to_gas": p.disk.dust_to_gas,
             "grain_radius_um": p.disk.grain_radius_um,
@@ -97,6 +129,7 @@ pub fn to_value(file: &DiskFile) -> Value {
             "sulfur": {"H2S": c.sulfur.h2s, "refractory": c.sulfur.refractory},
             "oxygen_per_silicon": c.oxygen_per_silicon,
             "soot_line_k": c.soot_line_k,
+            "soot_line": c.soot_line.key(),
             "sulfide_release_k": c.sulfide_release_k,
             "silicate_sublimation_k": c.silicate_sublimation_k
         },
@@ -105,7 +138,17 @@ pub fn to_value(file: &DiskFile) -> Value {
             "vertical_cells": p.grid.vertical_cells,
             "max_height_scale_heights": p.grid.max_height_scale_heights
         }
-    })
+    });
+    // Exactly one of the two gas-mass fields, the one this file means.
+    let other = if mass_key == "gas_mass_msun" {
+        "gas_mass_profile_total_msun"
+    } else {
+        "gas_mass_msun"
+    };
+    if let Some(disk) = value.get_mut("disk").and_then(Value::as_object_mut) {
+        disk.shift_remove(other);
+    }
+    value
 }
 
 /// The resolved disk file as pretty-printed JSON text with a final newline.
@@ -128,5 +171,22 @@ mod tests {
         let f = parse_disk_json(text).unwrap();
         let again = parse_disk_json(&to_json_string(&f)).unwrap();
         assert_eq!(f, again);
+        // The new fields: observed temperature law, early phase, soot line, the profile-total mass.
+        let text = r#"{"disk": {"gas_mass_profile_total_msun": 0.02, "temperature": {"kind": "power_law", "midplane_1au_k": 150,
+            "midplane_index": 0.5, "atmosphere_1au_k": 500, "atmosphere_index": 0.4}, "early_phase": {"luminosity_lsun": 7}},
+            "composition": {"soot_line": "reversible"}}"#;
+        let f = parse_disk_json(text).unwrap();
+        let written = to_json_string(&f);
+        assert!(
+            written.contains("gas_mass_profile_total_msun")
+                && !written.contains("\"gas_mass_msun\""),
+            "{written}"
+        );
+        assert_eq!(f, parse_disk_json(&written).unwrap());
+        let d = to_json_string(&parse_disk_json("{}").unwrap());
+        assert!(
+            d.contains("\"gas_mass_msun\"") && !d.contains("gas_mass_profile_total_msun"),
+            "{d}"
+        );
     }
 }

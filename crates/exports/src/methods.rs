@@ -4,7 +4,8 @@
 
 use nivalis_physics::balance::species_properties;
 use nivalis_physics::params::{
-    DesorptionModel, InitialIceState, ModelParameters, Opacity, VerticalTemperature,
+    default_flaring_angle, DesorptionModel, GasMassMeaning, InitialIceState, ModelParameters,
+    Opacity, SootLine, TemperatureLaw, VerticalTemperature,
 };
 use nivalis_physics::references::reference;
 use nivalis_physics::species::SpeciesTable;
@@ -52,29 +53,65 @@ pub fn methods(p: &ModelParameters) -> Vec<MethodEntry> {
         entry(
             "surface density",
             format!(
-                "the gas surface density is the self-similar viscous-disk profile with a total gas mass of {} M☉ (of the whole profile), characteristic radius R_c = {} au and index γ = {}",
-                d.gas_mass_msun, d.characteristic_radius_au, d.surface_density_index
+                "the gas surface density is the self-similar viscous-disk profile with a gas mass of {} M☉ {}, characteristic radius R_c = {} au and index γ = {}",
+                d.gas_mass_msun,
+                match d.gas_mass_meaning {
+                    GasMassMeaning::BetweenEdges => format!("between {} and {} au", d.inner_radius_au, d.outer_radius_au),
+                    GasMassMeaning::ProfileTotal => "in the whole profile (the disk between its edges holds less)".to_string(),
+                },
+                d.characteristic_radius_au,
+                d.surface_density_index
             ),
             &["lynden-bell1974", "hartmann1998", "andrews2009"],
         ),
     ];
-    if d.self_consistent_flaring {
+    if let TemperatureLaw::PowerLaw {
+        midplane_1au_k,
+        midplane_index,
+        atmosphere,
+    } = d.temperature
+    {
+        out.push(entry(
+            "midplane temperature",
+            format!(
+                "observed power-law midplane temperature T = {midplane_1au_k} K (r/1 au)^-{midplane_index}, floored at {} K{}",
+                d.background_temperature_k,
+                match atmosphere {
+                    Some((t, q)) => format!(", atmosphere T = {t} K (r/1 au)^-{q}"),
+                    None => String::new(),
+                }
+            ),
+            &["andrews2005", "dartois2003"],
+        ));
+    } else if d.self_consistent_flaring {
         out.push(entry(
             "irradiation",
             "starlight heats the disk at a grazing angle solved self-consistently, φ = 0.4 R*/r + r d(h/r)/dr with the absorbing surface at h = 4 H".into(),
             &["chiang1997"],
         ));
     } else {
-        out.push(entry(
-            "irradiation",
-            format!(
-                "starlight heats the disk at a fixed flaring angle φ = {}",
-                d.flaring_angle
-            ),
-            &["chiang1997", "dullemond2001"],
-        ));
+        if d.flaring_angle == default_flaring_angle(p.star.luminosity_lsun) {
+            out.push(entry(
+                "irradiation",
+                format!(
+                    "starlight heats the disk at a fixed flaring angle φ = {}, the default for the star's luminosity, φ = 0.02 (L*/L☉)^(−1/3), calibrated on the midplane temperature law of Huang et al. 2018 and Dullemond et al. 2018 and on the observed CO snowlines of a T Tauri and a Herbig Ae disk",
+                    d.flaring_angle
+                ),
+                &["chiang1997", "dullemond2001", "huang2018", "dullemond2018", "qi2013", "zhang2017", "qi2015"],
+            ));
+        } else {
+            out.push(entry(
+                "irradiation",
+                format!(
+                    "starlight heats the disk at a fixed flaring angle φ = {}",
+                    d.flaring_angle
+                ),
+                &["chiang1997", "dullemond2001"],
+            ));
+        }
     }
-    if d.accretion_rate_msun_per_yr > 0.0 {
+    let energy_balance = d.temperature == TemperatureLaw::EnergyBalance;
+    if energy_balance && d.accretion_rate_msun_per_yr > 0.0 {
         let (text, refs): (String, Vec<&'static str>) = match d.opacity {
             Opacity::Constant { rosseland_cm2_per_g } => (
                 format!(
@@ -113,14 +150,25 @@ pub fn methods(p: &ModelParameters) -> Vec<MethodEntry> {
             &["dartois2003", "williams2014", "chiang1997", "kauffmann2008"],
         )),
     }
-    let mut radiation = vec!["bohlin1978", "habing1968", "umebayashi1981"];
+    let mut radiation = vec![
+        "bohlin1978",
+        "vandehulst1957",
+        "bohren1983",
+        "habing1968",
+        "umebayashi1981",
+    ];
     if p.ices.photodesorption {
         radiation.extend(["prasad1983", "shen2004"]);
     }
     out.push(MethodEntry {
         topic: "radiation",
         text: format!(
-            "radiation is followed in 1+1D vertical columns, with A_V = N_H/1.87e21 cm⁻², a stellar FUV field of {:e} G0 at 1 au entering at the grazing angle, an interstellar FUV field of {} G0 from above, and cosmic rays of rate ζ = {:e} s⁻¹ attenuated over 96 g cm⁻² from both sides{}",
+            "radiation is followed in 1+1D vertical columns, with the visual extinction per hydrogen nucleus of the dust actually present, A_V/N_H = 1.086 Q_ext π a² n_gr/n_H with the extinction efficiency Q_ext = min(2, 2x/x_c), x = 2π a/0.55 µm and x_c = 2.717 chosen so that interstellar dust gives N_H/A_V = 1.87e21 cm⁻² (here N_H/A_V = {:.4e} cm⁻²), a stellar FUV field of {:e} G0 at 1 au entering at the grazing angle, an interstellar FUV field of {} G0 from above, and cosmic rays of rate ζ = {:e} s⁻¹ attenuated over 96 g cm⁻² from both sides{}",
+            1.0 / nivalis_physics::structure::visual_extinction_per_hydrogen_mag_cm2(
+                d.dust_to_gas,
+                d.grain_radius_um * nivalis_physics::units::MICRON_CM,
+                d.grain_density_g_cm3
+            ),
             p.star.fuv_1au_habing,
             d.interstellar_fuv_habing,
             d.cosmic_ray_rate_s,
@@ -213,6 +261,17 @@ pub fn methods(p: &ModelParameters) -> Vec<MethodEntry> {
         }
     }
     let c = &p.composition;
+    if c.soot_line == SootLine::Irreversible {
+        let e = &d.early_phase;
+        out.push(entry(
+            "soot line",
+            format!(
+                "the soot line is irreversible: refractory carbon stays in the gas inside the furthest radius where the midplane reached {3} K during a hot early phase with an accretion rate of {0:e} M☉/yr, a luminosity of {1:.4} L☉ including the accretion luminosity 0.8 G M* Ṁ/R*, and {2} times today's surface density",
+                e.accretion_rate_msun_per_yr, e.luminosity_lsun, e.surface_density_scale, c.soot_line_k
+            ),
+            &["li2021", "dunham2014", "gullbring1998", "pringle1981"],
+        ));
+    }
     out.push(entry(
         "element budget",
         format!(

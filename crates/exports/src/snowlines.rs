@@ -12,7 +12,10 @@ use serde_json::{json, Map, Value};
 /// (`Model::snowline_out_of_equilibrium`); `disk_age_myr` and `initial_state` say what was assumed.
 /// Snow surfaces per species: arrays over the radial cells of `radius_au`,
 /// `height_au` and `z_over_r` (null where there is none) and `status`
-/// (`surface`, `midplane_not_frozen` or `above_grid`).
+/// (`surface`, `midplane_not_frozen` or `above_grid`). `soot_line` gives the
+/// soot-line picture, its temperature and, when irreversible, the furthest
+/// radius the early phase's soot line reached (`early_phase_radius_au`, null
+/// when it never did; docs/model.md section 8).
 pub fn snowlines_json(model: &Model, provenance: &Provenance) -> Value {
     let mut lines = Map::new();
     let mut directions = Map::new();
@@ -80,5 +83,10 @@ pub fn snowlines_json(model: &Model, provenance: &Provenance) -> Value {
         "disk_age_myr": model.parameters.disk.age_myr,
         "initial_state": model.parameters.ices.initial_state.key(),
         "snow_surfaces": surfaces,
+        "soot_line": {
+            "kind": model.parameters.composition.soot_line.key(),
+            "temperature_k": model.parameters.composition.soot_line_k,
+            "early_phase_radius_au": st.early_soot_line_radius_cm.map(|r| r / AU_CM),
+        },
     })
 }

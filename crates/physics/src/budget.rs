@@ -30,6 +30,9 @@ pub struct Carriers {
     pub sulfide_release_k: f64,
     /// Silicate sublimation temperature [K].
     pub silicate_sublimation_k: f64,
+    /// Radius [cm] inside which refractory carbon is in the gas whatever today's
+    /// temperature: the furthest extent of the irreversible soot line (0 = none).
+    pub carbon_released_within_cm: f64,
 }
 
 /// Element abundances per H nucleus in each phase at one place.
@@ -130,19 +133,24 @@ impl Carriers {
             soot_line_k: composition.soot_line_k,
             sulfide_release_k: composition.sulfide_release_k,
             silicate_sublimation_k: composition.silicate_sublimation_k,
+            carbon_released_within_cm: 0.0,
         })
     }
 
-    /// Phase abundances at temperature `temperature_k` with ice fractions
-    /// `ice_fraction` (per species, in [0, 1]).
+    /// Phase abundances at temperature `temperature_k` and cylindrical radius
+    /// `radius_cm` with ice fractions `ice_fraction` (per species, in [0, 1]).
     ///
-    /// Refractory carbon is gas where T >= soot line, sulfide sulfur where
+    /// Refractory carbon is gas where T >= soot line or, for the irreversible
+    /// soot line, at r <= `carbon_released_within_cm` (carbon once sublimated
+    /// there stays in the gas, Li et al. 2021; kept in the gas so that elements
+    /// are conserved in a static disk), sulfide sulfur where
     /// T >= sulfide release, silicate O, Si, Mg, Fe where T >= silicate
     /// sublimation (docs/model.md section 8). Gas + ice + refractory equals the
     /// stellar abundance of every element (to rounding).
     pub fn phases(
         &self,
         temperature_k: f64,
+        radius_cm: f64,
         ice_fraction: impl Fn(usize) -> f64,
     ) -> PhaseAbundances {
         let mut gas = [0.0; ELEMENT_COUNT];
@@ -167,7 +175,7 @@ impl Carriers {
         let c = Element::C as usize;
         let o = Element::O as usize;
         let s = Element::S as usize;
-        if temperature_k >= self.soot_line_k {
+        if temperature_k >= self.soot_line_k || radius_cm <= self.carbon_released_within_cm {
             gas[c] += self.refractory_carbon_per_h;
         } else {
             refractory[c] += self.refractory_carbon_per_h;
@@ -228,9 +236,11 @@ mod tests {
     #[test]
     fn elements_are_conserved_in_every_regime() {
         let c = carriers(&ModelParameters::defaults()).unwrap();
+        let mut c = c;
+        c.carbon_released_within_cm = 2.0e13;
         for t in [20.0, 600.0, 800.0, 2000.0] {
             for f in [0.0, 0.3, 1.0] {
-                let ph = c.phases(t, |_| f);
+                let ph = c.phases(t, 1.0e13, |_| f);
                 for e in 0..ELEMENT_COUNT {
                     let total = ph.gas[e] + ph.ice[e] + ph.refractory[e];
                     assert!(

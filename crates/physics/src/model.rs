@@ -91,12 +91,13 @@ impl Model {
     /// Run the whole model.
     pub fn run(parameters: &ModelParameters) -> Result<Model, PhysicsError> {
         let table = SpeciesTable::built_in();
-        let carriers = Carriers::new(
+        let mut carriers = Carriers::new(
             stellar_abundances_per_h(&parameters.star),
             &parameters.composition,
             &table,
         )?;
         let structure = DiskStructure::compute(parameters)?;
+        carriers.carbon_released_within_cm = structure.early_soot_line_radius_cm.unwrap_or(0.0);
         let species = species_properties(parameters, &table);
         let balance = BalanceConstants::new(parameters, &species);
         let n = structure.samples.temperature_k.len();
@@ -165,8 +166,9 @@ impl Model {
     /// Phase abundances at flat sample index `k`.
     pub fn phases_at(&self, k: usize) -> PhaseAbundances {
         let n = self.sample_count();
+        let radius_cm = self.structure.radius_cm[k / self.structure.samples_per_column];
         self.carriers
-            .phases(self.structure.samples.temperature_k[k], |i| {
+            .phases(self.structure.samples.temperature_k[k], radius_cm, |i| {
                 self.ice_fraction[i * n + k]
             })
     }
@@ -313,7 +315,9 @@ impl Model {
             ice_fraction[i] = state.ice_fraction;
             out_of_equilibrium[i] = state.out_of_equilibrium;
         }
-        let phases = self.carriers.phases(mid.temperature_k, |i| ice_fraction[i]);
+        let phases = self
+            .carriers
+            .phases(mid.temperature_k, r, |i| ice_fraction[i]);
         let solid_mass_per_h_amu = self
             .carriers
             .solid_mass_per_h_amu(&phases, |i| ice_fraction[i]);

@@ -152,11 +152,115 @@ pub enum VerticalTemperature {
     },
 }
 
+/// What `DiskParameters::gas_mass_msun` means (docs/disk-file.md; docs/model.md section 3).
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum GasMassMeaning {
+    /// The gas mass between the inner and outer edges (disk-file `disk.gas_mass_msun`). Default.
+    BetweenEdges,
+    /// The total of the self-similar profile from 0 to infinity, the meaning of
+    /// `disk.gas_mass_msun` before this change (disk-file `disk.gas_mass_profile_total_msun`).
+    ProfileTotal,
+}
+
+/// Midplane temperature law (docs/model.md section 4).
+#[derive(Debug, Clone, PartialEq)]
+pub enum TemperatureLaw {
+    /// Energy balance of irradiation, accretion heating and background. Default.
+    EnergyBalance,
+    /// An observed power law T_mid = T_1au (r / 1 au)^-q, as observers fit it
+    /// (e.g. Andrews & Williams 2005; Williams & Best 2014), floored at the
+    /// background temperature; optionally with its own atmosphere law
+    /// T_atm = T_atm,1au (r / 1 au)^-q_atm for the two-layer vertical profile.
+    PowerLaw {
+        /// T_mid at 1 au [K].
+        midplane_1au_k: f64,
+        /// Index q of the midplane law.
+        midplane_index: f64,
+        /// T_atm at 1 au [K] and its index, or `None` to keep the superheated-layer law.
+        atmosphere: Option<(f64, f64)>,
+    },
+}
+
+/// The disk's hot early phase, which sets the furthest extent of the soot line
+/// (docs/model.md section 8; Li et al. 2021).
+#[derive(Debug, Clone, PartialEq)]
+pub struct EarlyPhase {
+    /// Accretion rate of the early (Class I) phase [Msun/yr]. Default 1e-6
+    /// (Class 0/I accretion rates of order 1e-6 Msun/yr, e.g. Hartmann et al. 1998 and
+    /// Dunham et al. 2014; from memory).
+    pub accretion_rate_msun_per_yr: f64,
+    /// Stellar (plus accretion) luminosity of the early phase [Lsun]. The reader's
+    /// default is the star's luminosity plus the accretion luminosity
+    /// 0.8 G M* Mdot_early / R* (Gullbring et al. 1998, magnetospheric infall from 5 R*).
+    pub luminosity_lsun: f64,
+    /// Surface density of the early phase over today's. The reader's default is
+    /// Mdot_early / Mdot (a steady viscous disk at the same viscosity, Mdot = 3 pi nu Sigma,
+    /// Pringle 1981), or 1 for a passive disk (Mdot = 0).
+    pub surface_density_scale: f64,
+}
+
+impl EarlyPhase {
+    /// The default early accretion rate [Msun/yr] (see the field).
+    pub const DEFAULT_ACCRETION_RATE_MSUN_PER_YR: f64 = 1.0e-6;
+
+    /// The documented defaults for a star, today's accretion rate and the early one:
+    /// L_early = L* + 0.8 G M* Mdot_early / R*, s = Mdot_early / Mdot (1 if Mdot = 0),
+    /// clamped to the allowed [1e-3, 1e4].
+    pub fn defaults_for(
+        star: &StarParameters,
+        accretion_rate_msun_per_yr: f64,
+        mdot_early: f64,
+    ) -> EarlyPhase {
+        let r_star =
+            crate::star::stellar_radius_cm(star.luminosity_lsun, star.effective_temperature_k);
+        let l_acc = 0.8
+            * crate::units::GRAVITATIONAL_CONSTANT_CGS
+            * star.mass_msun
+            * crate::units::SOLAR_MASS_G
+            * mdot_early
+            * crate::units::MSUN_PER_YR_TO_G_PER_S
+            / r_star;
+        EarlyPhase {
+            accretion_rate_msun_per_yr: mdot_early,
+            luminosity_lsun: star.luminosity_lsun
+                + l_acc / crate::units::SOLAR_LUMINOSITY_ERG_PER_S,
+            surface_density_scale: if accretion_rate_msun_per_yr > 0.0 {
+                (mdot_early / accretion_rate_msun_per_yr).clamp(1e-3, 1e4)
+            } else {
+                1.0
+            },
+        }
+    }
+}
+
+/// How refractory carbon responds to the soot line (docs/model.md section 8).
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum SootLine {
+    /// Carbon that was ever above the soot-line temperature (today, or in the hot
+    /// early phase) stays in the gas (Li et al. 2021). Default.
+    Irreversible,
+    /// Refractory carbon is solid wherever today's temperature is below the soot line.
+    Reversible,
+}
+
+impl SootLine {
+    /// Key in disk files.
+    pub fn key(self) -> &'static str {
+        match self {
+            SootLine::Irreversible => "irreversible",
+            SootLine::Reversible => "reversible",
+        }
+    }
+}
+
 /// The disk.
 #[derive(Debug, Clone, PartialEq)]
 pub struct DiskParameters {
-    /// Total gas mass of the analytic profile [Msun]. Default 0.01 (about the minimum-mass solar nebula, Hayashi 1981).
+    /// Gas mass [Msun], between the edges or of the whole profile as `gas_mass_meaning` says.
+    /// Default 0.01 between the edges (about the minimum-mass solar nebula, Hayashi 1981).
     pub gas_mass_msun: f64,
+    /// What `gas_mass_msun` means. Default: between the edges.
+    pub gas_mass_meaning: GasMassMeaning,
     /// Characteristic radius R_c [au]. Default 50 (inside the 14-200 au range of Andrews et al. 2009, 2010).
     pub characteristic_radius_au: f64,
     /// Surface density index gamma. Default 1.0 (Andrews et al. 2009 median about 0.9; Hartmann et al. 1998 use 1).
@@ -167,7 +271,8 @@ pub struct DiskParameters {
     pub outer_radius_au: f64,
     /// Accretion rate [Msun/yr], constant in radius. Default 1e-8 (typical T Tauri value, Hartmann et al. 1998).
     pub accretion_rate_msun_per_yr: f64,
-    /// Flaring (grazing) angle phi. Default 0.05 (docs/model.md section 4; Chiang & Goldreich 1997 find 0.02-0.08).
+    /// Flaring (grazing) angle phi. The reader's default depends on the star
+    /// ([`default_flaring_angle`]); `ModelParameters::defaults()` holds its value for the default star.
     pub flaring_angle: f64,
     /// Solve the grazing angle self-consistently (Chiang & Goldreich 1997). Default false.
     pub self_consistent_flaring: bool,
@@ -175,6 +280,10 @@ pub struct DiskParameters {
     pub opacity: Opacity,
     /// Vertical temperature structure. Default two-layer.
     pub vertical_temperature: VerticalTemperature,
+    /// Midplane temperature law. Default: the energy balance.
+    pub temperature: TemperatureLaw,
+    /// The hot early phase that sets the irreversible soot line.
+    pub early_phase: EarlyPhase,
     /// Background temperature floor [K]. Default 10 K (docs/model.md section 4).
     pub background_temperature_k: f64,
     /// Dust-to-gas mass ratio. Default 0.01 (ISM value, e.g. Bohlin et al. 1978).
@@ -331,6 +440,8 @@ pub struct CompositionParameters {
     pub oxygen_per_silicon: f64,
     /// Soot line [K] above which refractory carbon is gas. Default 500 K (Li et al. 2021).
     pub soot_line_k: f64,
+    /// Irreversible (default, Li et al. 2021) or reversible soot line.
+    pub soot_line: SootLine,
     /// FeS release temperature [K]. Default 700 K (Lodders 2003 FeS condensation about 704 K, from memory).
     pub sulfide_release_k: f64,
     /// Silicate sublimation temperature [K]. Default 1500 K (common practice).
@@ -346,6 +457,25 @@ pub struct GridParameters {
     pub vertical_cells: usize,
     /// Top of each column in midplane scale heights. Default 10 (docs/model.md section 2).
     pub max_height_scale_heights: f64,
+}
+
+/// The default fixed grazing angle for a star of luminosity `luminosity_lsun` [Lsun]:
+/// phi = 0.02 (L*/Lsun)^(-1/3) (docs/model.md section 4; DEVELOPERS.md "Model choices").
+///
+/// 0.02 at 1 Lsun is the grazing angle of the midplane-temperature law of Huang et al. 2018
+/// (Huang et al. 2018; Dullemond et al. 2018; from memory) and gives 131 K at 1 au
+/// around the Chiang & Goldreich 1997 T Tauri star (1.44 Lsun), whose two-layer
+/// radiative model has about 150 K there. The L^(-1/3) dependence is an empirical
+/// calibration on the CO snowlines of a well-studied T Tauri disk (0.28 Lsun,
+/// observed 17-30 au: Qi et al. 2013; Zhang et al. 2017) and Herbig Ae disk
+/// (17 Lsun, observed 65-90 au: Qi et al. 2015), both from memory; a single
+/// angle (0.05) put the Herbig disk's CO snowline 3-4x too far out. Herbig disks'
+/// outer midplanes are colder than a flaring angle growing with the star's
+/// luminosity would make them (settled dust lowers the absorbing surface;
+/// self-shadowing), which this law absorbs without modelling it.
+/// Clamped to [1e-3, 0.1].
+pub fn default_flaring_angle(luminosity_lsun: f64) -> f64 {
+    (0.02 * crate::math::pow(luminosity_lsun, -1.0 / 3.0)).clamp(1.0e-3, 0.1)
 }
 
 /// Everything the model needs.
@@ -366,23 +496,25 @@ pub struct ModelParameters {
 impl ModelParameters {
     /// The default disk (what `{}` means in a disk file); each value's source is on its field.
     pub fn defaults() -> ModelParameters {
+        let star = StarParameters {
+            mass_msun: 1.0,
+            luminosity_lsun: 1.0,
+            effective_temperature_k: 4000.0,
+            fuv_1au_habing: 1.0e7,
+            abundance_reference: AbundanceReference::Asplund2009,
+            offset_dex: [0.0; ELEMENT_COUNT],
+        };
         ModelParameters {
-            star: StarParameters {
-                mass_msun: 1.0,
-                luminosity_lsun: 1.0,
-                effective_temperature_k: 4000.0,
-                fuv_1au_habing: 1.0e7,
-                abundance_reference: AbundanceReference::Asplund2009,
-                offset_dex: [0.0; ELEMENT_COUNT],
-            },
+            star: star.clone(),
             disk: DiskParameters {
                 gas_mass_msun: 0.01,
+                gas_mass_meaning: GasMassMeaning::BetweenEdges,
                 characteristic_radius_au: 50.0,
                 surface_density_index: 1.0,
                 inner_radius_au: 0.1,
                 outer_radius_au: 500.0,
                 accretion_rate_msun_per_yr: 1.0e-8,
-                flaring_angle: 0.05,
+                flaring_angle: default_flaring_angle(1.0),
                 self_consistent_flaring: false,
                 opacity: Opacity::Constant {
                     rosseland_cm2_per_g: 1.0,
@@ -392,6 +524,12 @@ impl ModelParameters {
                     transition_scale_heights: 4.0,
                     delta: 2.0,
                 },
+                temperature: TemperatureLaw::EnergyBalance,
+                early_phase: EarlyPhase::defaults_for(
+                    &star,
+                    1.0e-8,
+                    EarlyPhase::DEFAULT_ACCRETION_RATE_MSUN_PER_YR,
+                ),
                 background_temperature_k: 10.0,
                 dust_to_gas: 0.01,
                 grain_radius_um: 0.1,
@@ -426,6 +564,7 @@ impl ModelParameters {
                 },
                 oxygen_per_silicon: 3.0,
                 soot_line_k: 500.0,
+                soot_line: SootLine::Irreversible,
                 sulfide_release_k: 700.0,
                 silicate_sublimation_k: 1500.0,
             },

@@ -5,7 +5,9 @@
 use crate::error::PhysicsError;
 use crate::math::{cos, exp, ln, pow, root4, sqrt};
 use crate::opacity::bell_lin_1994_cm2_per_g;
-use crate::params::{ModelParameters, Opacity, VerticalTemperature};
+use crate::params::{
+    GasMassMeaning, ModelParameters, Opacity, SootLine, TemperatureLaw, VerticalTemperature,
+};
 use crate::star::stellar_radius_cm;
 use crate::units::*;
 use std::f64::consts::PI;
@@ -51,6 +53,10 @@ pub struct DiskConstants {
     pub fuv_1au_habing: f64,
     /// Interstellar FUV [Habing].
     pub interstellar_fuv_habing: f64,
+    /// Visual extinction per H nucleus column [mag cm^2] of the disk's dust.
+    pub extinction_per_hydrogen_mag_cm2: f64,
+    /// Midplane temperature law.
+    pub temperature_law: TemperatureLaw,
 }
 
 impl DiskConstants {
@@ -66,15 +72,30 @@ impl DiskConstants {
         }
         let rc = d.characteristic_radius_au * AU_CM;
         let gamma = d.surface_density_index;
+        let profile_mass_g = match d.gas_mass_meaning {
+            GasMassMeaning::ProfileTotal => d.gas_mass_msun * SOLAR_MASS_G,
+            GasMassMeaning::BetweenEdges => {
+                let f = profile_fraction_between(
+                    d.inner_radius_au,
+                    d.outer_radius_au,
+                    d.characteristic_radius_au,
+                    gamma,
+                );
+                if !(f >= MIN_PROFILE_FRACTION_BETWEEN_EDGES) {
+                    return Err(PhysicsError::OutOfRange {
+                        name: "disk.gas_mass_msun",
+                        value: f,
+                        allowed: "a disk whose edges hold at least 1e-9 of the surface-density profile (the value is that fraction)",
+                    });
+                }
+                d.gas_mass_msun * SOLAR_MASS_G / f
+            }
+        };
         Ok(DiskConstants {
             star_mass_g: p.star.mass_msun * SOLAR_MASS_G,
             luminosity_erg_s: p.star.luminosity_lsun * SOLAR_LUMINOSITY_ERG_PER_S,
             stellar_radius_cm: r_star,
-            sigma_c_g_cm2: surface_density_normalisation_g_cm2(
-                d.gas_mass_msun * SOLAR_MASS_G,
-                rc,
-                gamma,
-            ),
+            sigma_c_g_cm2: surface_density_normalisation_g_cm2(profile_mass_g, rc, gamma),
             characteristic_radius_cm: rc,
             gamma,
             accretion_rate_g_s: d.accretion_rate_msun_per_yr * MSUN_PER_YR_TO_G_PER_S,
@@ -90,6 +111,12 @@ impl DiskConstants {
             cosmic_ray_rate_s: d.cosmic_ray_rate_s,
             fuv_1au_habing: p.star.fuv_1au_habing,
             interstellar_fuv_habing: d.interstellar_fuv_habing,
+            extinction_per_hydrogen_mag_cm2: visual_extinction_per_hydrogen_mag_cm2(
+                d.dust_to_gas,
+                d.grain_radius_um * MICRON_CM,
+                d.grain_density_g_cm3,
+            ),
+            temperature_law: d.temperature.clone(),
         })
     }
 }
@@ -112,6 +139,96 @@ pub fn surface_density_normalisation_g_cm2(
     gamma: f64,
 ) -> f64 {
     (2.0 - gamma) * mass_g / (2.0 * PI * characteristic_radius_cm * characteristic_radius_cm)
+}
+
+/// The smallest fraction of the profile the edges may hold when the gas mass is
+/// given between the edges (below it Sigma_c would be absurd or infinite).
+pub const MIN_PROFILE_FRACTION_BETWEEN_EDGES: f64 = 1e-9;
+
+/// Fraction of the self-similar profile's total mass between r_in and r_out:
+/// M(<r) / M_total = 1 - exp[-(r/R_c)^(2-gamma)] for Sigma of
+/// [`surface_density_g_cm2`] (exact integral of 2 pi r Sigma dr, gamma < 2;
+/// Lynden-Bell & Pringle 1974; Hartmann et al. 1998), so the fraction is
+/// exp[-(r_in/R_c)^(2-gamma)] - exp[-(r_out/R_c)^(2-gamma)]. Radii in any one unit.
+pub fn profile_fraction_between(
+    inner_radius: f64,
+    outer_radius: f64,
+    characteristic_radius: f64,
+    gamma: f64,
+) -> f64 {
+    let k = 2.0 - gamma;
+    exp(-pow(inner_radius / characteristic_radius, k))
+        - exp(-pow(outer_radius / characteristic_radius, k))
+}
+
+/// Visual wavelength [cm] at which A_V is defined (Johnson V, 0.55 um).
+pub const VISUAL_WAVELENGTH_CM: f64 = 0.55e-4;
+
+/// Size parameter x_c = 2 pi a / lambda_V above which the extinction efficiency
+/// is the large-grain limit Q_ext = 2 (see [`extinction_efficiency_visual`]).
+/// Fixed so that ISM dust (dust-to-gas 0.01, a = 0.1 um, rho = 3 g cm^-3)
+/// gives N_H / A_V = 1.87e21 cm^-2 mag^-1 (Bohlin, Savage & Drake 1978):
+/// Q_ext(ISM) = 1.087 / (1.086 x 3 x 0.01 x 1.4 m_H / (4 a rho)) = 0.8409 at
+/// x = 1.1424, so x_c = 2 x / Q_ext(ISM) = 2.717.
+pub fn extinction_transition_size_parameter() -> f64 {
+    let per_h = ism_geometric_extinction_per_hydrogen_mag_cm2();
+    let q_ism = 1.0 / (HYDROGEN_COLUMN_PER_AV_CM2 * per_h);
+    let x_ism = 2.0 * PI * 0.1 * MICRON_CM / VISUAL_WAVELENGTH_CM;
+    2.0 * x_ism / q_ism
+}
+
+/// 1.086 pi a^2 n_gr / n_H [mag cm^2] for ISM dust with Q_ext = 1.
+fn ism_geometric_extinction_per_hydrogen_mag_cm2() -> f64 {
+    geometric_extinction_per_hydrogen_mag_cm2(0.01, 0.1 * MICRON_CM, 3.0)
+}
+
+/// 1.086 pi a^2 n_gr / n_H [mag cm^2] (Q_ext = 1): grains of radius a and
+/// material density rho_gr carrying the mass fraction d/g of the gas,
+/// n_gr / n_H = (d/g) 1.4 m_H / ((4/3) pi a^3 rho_gr), so
+/// 1.086 pi a^2 n_gr / n_H = 1.086 x 3 (d/g) 1.4 m_H / (4 a rho_gr).
+fn geometric_extinction_per_hydrogen_mag_cm2(
+    dust_to_gas: f64,
+    grain_radius_cm: f64,
+    grain_density_g_cm3: f64,
+) -> f64 {
+    1.086 * 3.0 * dust_to_gas * MASS_PER_HYDROGEN_NUCLEUS_AMU_H * HYDROGEN_MASS_G
+        / (4.0 * grain_radius_cm * grain_density_g_cm3)
+}
+
+/// Extinction efficiency at V of one grain size, Q_ext(x), x = 2 pi a / lambda_V:
+/// Q_ext = 2 for x >= x_c (the large-grain limit of Mie theory, the
+/// "extinction paradox": van de Hulst 1957; Bohren & Huffman 1983) and
+/// Q_ext = 2 x / x_c below (small absorbing grains: Q_abs proportional to x in
+/// the Rayleigh limit, Bohren & Huffman 1983), with x_c from
+/// [`extinction_transition_size_parameter`] (about 2.72, a = 0.24 um).
+/// So for a < 0.24 um the extinction per gram of dust no longer depends on a.
+pub fn extinction_efficiency_visual(grain_radius_cm: f64) -> f64 {
+    let x = 2.0 * PI * grain_radius_cm / VISUAL_WAVELENGTH_CM;
+    let x_c = extinction_transition_size_parameter();
+    if x >= x_c {
+        2.0
+    } else {
+        2.0 * x / x_c
+    }
+}
+
+/// Visual extinction per H nucleus column [mag cm^2] of single-size grains:
+/// A_V / N_H = 1.086 Q_ext pi a^2 n_gr / n_H (extinction cross-section of a
+/// sphere; 1.086 = 2.5 log10 e), with Q_ext from [`extinction_efficiency_visual`]
+/// and n_gr / n_H = (d/g) 1.4 m_H / ((4/3) pi a^3 rho_gr). ISM dust gives
+/// 1 / 1.87e21 (Bohlin, Savage & Drake 1978); for grains above 0.24 um it is
+/// proportional to (d/g) / (a rho_gr).
+pub fn visual_extinction_per_hydrogen_mag_cm2(
+    dust_to_gas: f64,
+    grain_radius_cm: f64,
+    grain_density_g_cm3: f64,
+) -> f64 {
+    extinction_efficiency_visual(grain_radius_cm)
+        * geometric_extinction_per_hydrogen_mag_cm2(
+            dust_to_gas,
+            grain_radius_cm,
+            grain_density_g_cm3,
+        )
 }
 
 /// Gas surface density [g cm^-2]:
@@ -183,12 +300,30 @@ pub struct MidplaneTemperature {
 /// upward from the kappa = 0 solution in steps of 2 % to 1e6 K and bisected
 /// to 1e-13 relative (the lowest root above the kappa = 0 solution).
 /// The result is multiplied by `temperature_scale` (default 1).
+///
+/// With the observed law (`TemperatureLaw::PowerLaw`) T_mid = max(T_1au (r/au)^-q, T_bg)
+/// instead (the power law observers fit, e.g. Andrews & Williams 2005), then scaled;
+/// it is reported as the irradiation temperature, with no accretion part.
 pub fn midplane_temperature(
     c: &DiskConstants,
     flaring_angle: f64,
     radius_cm: f64,
     surface_density_g_cm2: f64,
 ) -> Result<MidplaneTemperature, PhysicsError> {
+    if let TemperatureLaw::PowerLaw {
+        midplane_1au_k,
+        midplane_index,
+        ..
+    } = c.temperature_law
+    {
+        let t = (midplane_1au_k * pow(radius_cm / AU_CM, -midplane_index))
+            .max(c.background_temperature_k);
+        return Ok(MidplaneTemperature {
+            temperature_k: t * c.temperature_scale,
+            irradiation_temperature_k: t,
+            accretion_temperature_k: 0.0,
+        });
+    }
     let t_irr = irradiation_temperature_k(c.luminosity_erg_s, flaring_angle, radius_cm);
     let t_bg = c.background_temperature_k;
     let t_eff4 = viscous_effective_temperature4(
@@ -276,7 +411,8 @@ pub fn flaring_solution(
             .collect()
     };
     let mid = solve_all(&fixed)?;
-    if !self_consistent || n < 3 {
+    let observed_law = matches!(c.temperature_law, TemperatureLaw::PowerLaw { .. });
+    if !self_consistent || n < 3 || observed_law {
         return Ok((fixed, mid));
     }
     let ln_r: Vec<f64> = radii_cm.iter().map(|&r| ln(r)).collect();
@@ -504,7 +640,9 @@ impl Column {
 /// Temperature [K] at height z in a column (docs/model.md section 5): isothermal,
 /// or the two-layer profile of Dartois et al. 2003 (as used by Williams & Best 2014):
 /// T = T_atm + (T_mid - T_atm) cos^(2 delta)(pi z / (2 z_q)) for z < z_q, else T_atm,
-/// T_atm = s (L*/(16 pi sigma r^2))^(1/4) (Chiang & Goldreich 1997 surface layer), never below T_mid.
+/// T_atm = s (L*/(16 pi sigma r^2))^(1/4) (Chiang & Goldreich 1997 surface layer), never below T_mid;
+/// with an observed temperature law that gives one, T_atm = T_atm,1au (r/au)^-q_atm
+/// (the two-layer fits of Dartois et al. 2003), never below T_mid.
 pub fn column_temperature_k(
     c: &DiskConstants,
     radius_cm: f64,
@@ -543,11 +681,19 @@ impl VerticalProfile {
                 transition_scale_heights,
                 delta,
             } => {
-                let t_atm = (superheating
-                    * root4(
-                        c.luminosity_erg_s
-                            / (16.0 * PI * STEFAN_BOLTZMANN_CGS * radius_cm * radius_cm),
-                    ))
+                let t_atm = match c.temperature_law {
+                    TemperatureLaw::PowerLaw {
+                        atmosphere: Some((t_atm_1au, q_atm)),
+                        ..
+                    } => t_atm_1au * pow(radius_cm / AU_CM, -q_atm),
+                    _ => {
+                        superheating
+                            * root4(
+                                c.luminosity_erg_s
+                                    / (16.0 * PI * STEFAN_BOLTZMANN_CGS * radius_cm * radius_cm),
+                            )
+                    }
+                }
                 .max(t_mid);
                 let exponent = 2.0 * delta;
                 let integer_exponent =
@@ -586,7 +732,8 @@ impl VerticalProfile {
 /// exactly in T (rho T = rho0 T0 exp(-integral)) and by the trapezoid rule on a
 /// grid 4x finer than the cells; normalised so 2 integral rho dz = Sigma; the
 /// density above z_max is zero. Columns above each point by the trapezoid rule
-/// from z_max down; A_V = N_H / 1.87e21 (Bohlin, Savage & Drake 1978); FUV
+/// from z_max down; A_V = N_H x (A_V/N_H of the disk's dust,
+/// [`visual_extinction_per_hydrogen_mag_cm2`]; 1/1.87e21 for ISM dust, Bohlin, Savage & Drake 1978); FUV
 /// F = 1e8 [G*(r) exp(-2 A_V/phi) + G_ISM exp(-2 A_V)] + 1e4 zeta/1.3e-17
 /// (gamma_UV = 2, common practice; CR photons: Prasad & Tarafdar 1983, Shen et al. 2004);
 /// zeta = zeta0/2 [exp(-Sigma_above/96) + exp(-Sigma_below/96)] (Umebayashi & Nakano 1981).
@@ -646,7 +793,7 @@ pub fn column(
         let i = if s == 0 { 0 } else { 4 * (s - 1) + 2 };
         let sigma_above = above[i];
         let sigma_below = (sigma_g_cm2 - sigma_above).max(0.0);
-        let av = sigma_above * per_h / HYDROGEN_COLUMN_PER_AV_CM2;
+        let av = sigma_above * per_h * c.extinction_per_hydrogen_mag_cm2;
         let zeta = c.cosmic_ray_rate_s
             * 0.5
             * (exp(-sigma_above / COSMIC_RAY_ATTENUATION_G_PER_CM2)
@@ -665,6 +812,58 @@ pub fn column(
         col.ionization_rate_s.push(zeta);
     }
     col
+}
+
+/// Outermost radius [cm] where the midplane of the disk's hot early phase
+/// reached the soot-line temperature `soot_line_k`, or `None` where it never did
+/// on this radial grid (docs/model.md section 8; Li et al. 2021: carbon lost
+/// there does not come back).
+///
+/// The early phase is this disk computed with the same functions
+/// ([`DiskConstants::new`], [`surface_density_g_cm2`], [`midplane_temperature`])
+/// but with the early accretion rate, early luminosity and early surface
+/// density Sigma_early = s Sigma (s = `early_phase.surface_density_scale`), the
+/// energy-balance temperature law, the fixed grazing angle and no temperature scale.
+/// Between the outermost hot cell centre and the next one the radius is
+/// interpolated linearly in ln T against ln r; if the outermost cell is hot it is
+/// the outer edge.
+pub fn early_soot_line_radius_cm(
+    p: &ModelParameters,
+    radii_cm: &[f64],
+    soot_line_k: f64,
+) -> Result<Option<f64>, PhysicsError> {
+    let e = &p.disk.early_phase;
+    let mut c = DiskConstants::new(p)?;
+    c.luminosity_erg_s = e.luminosity_lsun * SOLAR_LUMINOSITY_ERG_PER_S;
+    c.accretion_rate_g_s = e.accretion_rate_msun_per_yr * MSUN_PER_YR_TO_G_PER_S;
+    c.sigma_c_g_cm2 *= e.surface_density_scale;
+    c.temperature_law = TemperatureLaw::EnergyBalance;
+    c.temperature_scale = 1.0;
+    let mut previous: Option<(f64, f64)> = None;
+    for &r in radii_cm.iter().rev() {
+        let t = match midplane_temperature(&c, c.flaring_angle, r, surface_density_g_cm2(&c, r)) {
+            Ok(m) => m.temperature_k,
+            Err(PhysicsError::NoTemperatureSolution { radius_au }) => {
+                return Err(PhysicsError::NoSolutionInRange {
+                    what: format!(
+                        "disk.early_phase: no midplane temperature below 1e6 K balances the early phase's heating at r = {radius_au:.4} au; lower disk.early_phase.accretion_rate_msun_per_yr or surface_density_scale, or set composition.soot_line to reversible"
+                    ),
+                })
+            }
+            Err(e) => return Err(e),
+        };
+        if t >= soot_line_k {
+            return Ok(Some(match previous {
+                None => c.outer_radius_cm,
+                Some((r_out, t_out)) => {
+                    let w = (ln(soot_line_k) - ln(t)) / (ln(t_out) - ln(t));
+                    exp(ln(r) + w * (ln(r_out) - ln(r)))
+                }
+            }));
+        }
+        previous = Some((r, t));
+    }
+    Ok(None)
 }
 
 /// The disk structure on the grid. Per-radius arrays have N_r entries;
@@ -694,6 +893,9 @@ pub struct DiskStructure {
     pub flaring_angle: Vec<f64>,
     /// Per-sample fields (flat, stride `samples_per_column`).
     pub samples: Column,
+    /// Furthest extent of the soot line in the hot early phase [cm] (irreversible
+    /// soot line only; `None` when reversible or never reached).
+    pub early_soot_line_radius_cm: Option<f64>,
 }
 
 impl DiskStructure {
@@ -720,7 +922,14 @@ impl DiskStructure {
             ));
             samples.append(&col);
         }
+        let early_soot_line_radius_cm = match p.composition.soot_line {
+            SootLine::Irreversible => {
+                early_soot_line_radius_cm(p, &radii, p.composition.soot_line_k)?
+            }
+            SootLine::Reversible => None,
+        };
         Ok(DiskStructure {
+            early_soot_line_radius_cm,
             constants: c,
             radial_cells: radii.len(),
             samples_per_column,
@@ -799,7 +1008,9 @@ mod tests {
 
     #[test]
     fn surface_density_integrates_to_disk_mass() {
-        let p = ModelParameters::defaults();
+        // The old meaning, kept as `gas_mass_profile_total_msun`: the whole profile holds the mass.
+        let mut p = ModelParameters::defaults();
+        p.disk.gas_mass_meaning = GasMassMeaning::ProfileTotal;
         let c = DiskConstants::new(&p).unwrap();
         // Integrate 2 pi r Sigma dr in ln r from 1e-6 R_c to 1e3 R_c.
         let n = 200_000;
@@ -818,5 +1029,53 @@ mod tests {
             (mass / (p.disk.gas_mass_msun * SOLAR_MASS_G) - 1.0).abs() < 1e-3,
             "{mass}"
         );
+    }
+
+    #[test]
+    fn profile_fraction_is_the_integral_between_the_edges() {
+        // Exact integral of 2 pi r Sigma dr (derived, D) against the midpoint rule.
+        for (rin, rout, rc, gamma) in [
+            (0.1, 500.0, 4000.0, 1.0),
+            (1.0, 100.0, 30.0, 0.5),
+            (0.5, 300.0, 80.0, -0.5),
+        ] {
+            let n = 100_000;
+            let (a, b) = (ln(rin), ln(rout));
+            let h = (b - a) / n as f64;
+            let sigma = |r: f64| pow(r / rc, -gamma) * exp(-pow(r / rc, 2.0 - gamma));
+            let inside: f64 = (0..n)
+                .map(|i| {
+                    let r = exp(a + (i as f64 + 0.5) * h);
+                    r * r * sigma(r) * h
+                })
+                .sum();
+            let (a, b) = (ln(1e-8 * rc), ln(1e3 * rc));
+            let h = (b - a) / n as f64;
+            let total: f64 = (0..n)
+                .map(|i| {
+                    let r = exp(a + (i as f64 + 0.5) * h);
+                    r * r * sigma(r) * h
+                })
+                .sum();
+            let f = profile_fraction_between(rin, rout, rc, gamma);
+            assert!(
+                (f / (inside / total) - 1.0).abs() < 1e-6,
+                "{rin} {rout} {rc} {gamma}: {f} vs {}",
+                inside / total
+            );
+        }
+    }
+
+    #[test]
+    fn extinction_efficiency_limits() {
+        // Large grains: Q_ext -> 2 (van de Hulst 1957; Bohren & Huffman 1983, V, from memory).
+        assert_eq!(extinction_efficiency_visual(10.0 * MICRON_CM), 2.0);
+        // ISM grains: Q_ext near 0.84, below the large-grain limit (derived from Bohlin et al. 1978, D).
+        let q = extinction_efficiency_visual(0.1 * MICRON_CM);
+        assert!((q - 0.8409).abs() < 1e-3, "{q}");
+        // Small grains: Q proportional to a (Rayleigh absorption), so A_V per H no longer depends on a.
+        let a1 = visual_extinction_per_hydrogen_mag_cm2(0.01, 0.01 * MICRON_CM, 3.0);
+        let a2 = visual_extinction_per_hydrogen_mag_cm2(0.01, 0.05 * MICRON_CM, 3.0);
+        assert!((a1 / a2 - 1.0).abs() < 1e-12, "{a1} {a2}");
     }
 }
