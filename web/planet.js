@@ -22,7 +22,7 @@ const PLANET_FIELDS = [
   { key: "radius_au", path: "planet.radius_au", label: "Formation radius", unit: "au",
     hint: "inside the disk; click the C/O profile (a) to set it" },
   { key: "to_radius_au", path: "planet.to_radius_au", label: "Migrated to radius (optional)", unit: "au",
-    hint: "blank = formed at one radius; else the gas and solids are averaged uniformly in radius over the range" },
+    hint: "blank = formed at one radius; else the gas and solids are averaged over the range, weighted by the mass accreted in each annulus" },
   { key: "solid_to_gas", path: "planet.solid_to_gas", label: "Accreted solid-to-gas mass ratio M_solid/M_gas", unit: "",
     hint: "≥ 0; slider 0.001 to 1 (log); 0 = gas only", slider: { min: 1e-3, max: 1, log: true }, zeroBox: true },
   { key: "mix", path: "planet.mix", label: "Fraction of the solids' atoms mixed into the envelope f_mix", unit: "",
@@ -30,16 +30,36 @@ const PLANET_FIELDS = [
 ];
 
 const FIT_FIELDS = [
-  { key: "c_to_o", path: "fit.c_to_o", label: "Observed envelope C/O", unit: "", hint: "≥ 0" },
+  { key: "c_to_o", path: "fit.c_to_o", label: "Observed envelope C/O", unit: "", hint: "≥ 0 (linear number ratio)" },
   { key: "c_to_o_sigma", path: "fit.c_to_o_sigma", label: "its 1σ error", unit: "", hint: "> 0" },
-  { key: "tracer", path: "fit.tracer", label: "Observed metallicity", kind: "select",
-    options: [["none", "none (C/O only)"], ["C", "[C/H]"], ["O", "[O/H]"]] },
-  { key: "metallicity_dex", path: "fit.metallicity_dex", label: "its value relative to the star", unit: "dex", hint: "e.g. 0.5 for 3.2 × stellar" },
-  { key: "metallicity_sigma_dex", path: "fit.metallicity_sigma_dex", label: "its 1σ error", unit: "dex", hint: "> 0" },
+  { key: "c_to_h_dex", path: "fit.c_to_h_dex", label: "Observed [C/H] (optional)", unit: "dex", hint: "relative to the reference below" },
+  { key: "c_to_h_sigma", path: "fit.c_to_h_sigma", label: "its 1σ error", unit: "dex", hint: "> 0" },
+  { key: "o_to_h_dex", path: "fit.o_to_h_dex", label: "Observed [O/H] (optional)", unit: "dex", hint: "e.g. 0.5 for 3.2 × the reference" },
+  { key: "o_to_h_sigma", path: "fit.o_to_h_sigma", label: "its 1σ error", unit: "dex", hint: "> 0" },
+  { key: "m_to_h_dex", path: "fit.m_to_h_dex", label: "Observed [M/H] (optional)", unit: "dex", hint: "(C+O+N+S)/H over the reference's" },
+  { key: "m_to_h_sigma", path: "fit.m_to_h_sigma", label: "its 1σ error", unit: "dex", hint: "> 0" },
+  { key: "relative_to", path: "fit.relative_to", label: "Metallicities relative to", kind: "select",
+    options: [["star", "the star (its offsets applied)"], ["sun", "the Sun"]] },
+  { key: "covariance", path: "fit.covariance", label: "Covariance matrix (optional; replaces the errors)", unit: "",
+    hint: "order C/O, [C/H], [O/H], [M/H] of those given; rows separated by ';', e.g. 0.0025,0.001;0.001,0.04" },
   { key: "mix", path: "fit.mix", label: "f_mix over the whole map", unit: "", hint: "0 to 1; 1 = full mixing" },
+  { key: "ratio_min", path: "fit.ratio_min", label: "Smallest solid-to-gas ratio", unit: "", hint: "> 0; default 0.001" },
+  { key: "ratio_max", path: "fit.ratio_max", label: "Largest solid-to-gas ratio", unit: "", hint: "≤ 1000; default 1" },
+  { key: "ratio_count", path: "fit.ratio_count", label: "Number of ratios", unit: "", hint: "40 to 1000; default 48" },
+  { key: "radius_prior_au", path: "fit.radius_prior_au", label: "Prior on the formation radius (optional)", unit: "au", hint: "MIN,MAX" },
+  { key: "solid_to_gas_prior", path: "fit.solid_to_gas_prior", label: "Prior on the solid-to-gas ratio (optional)", unit: "", hint: "MIN,MAX" },
+  { key: "oxygen_correction", path: "fit.oxygen_correction", label: "Oxygen hidden in the planet's condensates", kind: "select",
+    options: [["off", "none"], ["on", "20 % of O (Burrows & Sharp 1999)"]] },
+  { key: "planet_mass_mjup", path: "fit.planet_mass_mjup", label: "Planet mass (optional)", unit: "M_Jup",
+    hint: "> 0; places whose feeding zone holds less gas than the envelope are infeasible" },
+  { key: "feeding_zone_hill_radii", path: "fit.feeding_zone_hill_radii", label: "Feeding-zone half-width", unit: "Hill radii",
+    hint: "> 0; default 2√3 = 3.46 (Lissauer 1993)" },
   { key: "convention", path: "fit.convention", label: "1σ and 2σ regions (Δχ²)", kind: "select",
     options: [["mapped_parameters", "2.30 and 6.18: two mapped parameters"], ["fitted_quantities", "by the number of fitted quantities (1.00 and 4.00 for C/O alone)"]] },
 ];
+
+// The observed quantities: the map runs when any of them is typed.
+const FIT_QUANTITIES = ["c_to_o", "c_to_h_dex", "o_to_h_dex", "m_to_h_dex"];
 
 const ANCHOR_FIELDS = [
   { key: "species", path: "anchor.species", label: "Species whose snowline was observed", kind: "select", options: [] /* filled below */ },
@@ -235,7 +255,7 @@ function buildPanel() {
     element("div", { class: "export-row" },
       exportButton("planet_json", "Planet (JSON)"), exportButton("planet_csv", "Planet (CSV)")),
     element("h3", { text: "Which formation places fit an observed planet?" }),
-    element("p", { class: "intro", text: "Give the measured envelope C/O (and optionally [C/H] or [O/H]) to map chi-square over formation radius and accreted solid-to-gas ratio (0.001 to 1). The shaded band on the C/O profile (a) marks every radius allowed at 1σ for some ratio." }),
+    element("p", { class: "intro", text: "Give what a retrieval measured (any of C/O, [C/H], [O/H] and [M/H], with errors or a covariance) to map chi-square over formation radius and accreted solid-to-gas ratio. The fit reports its goodness (χ², degrees of freedom, p-value); when no place is acceptable (p < 0.01) nothing is allowed. The shaded band on the C/O profile (a) marks every radius allowed at 1σ for some ratio; with a planet mass, places whose feeding zone lacks the envelope's gas are hatched grey as infeasible." }),
     element("div", { class: "planet-grid" }, fitBox, fitResult),
     chi2Figure,
     element("div", { class: "export-row" },
@@ -382,7 +402,7 @@ function runPlanet(doPlanet = true, doFit = true, deferMap = false) {
   }
   if (!doFit) {
     // Only the planet changed.
-  } else if (hasText(fv, ["c_to_o", "c_to_o_sigma"])) {
+  } else if (hasText(fv, FIT_QUANTITIES)) {
     fitOk = false;
     const t0 = performance.now();
     const r = explorer.fitPlanet(fv);
@@ -397,7 +417,7 @@ function runPlanet(doPlanet = true, doFit = true, deferMap = false) {
     showFit(null, fv);
   }
   // Redraw the C/O profile when its marks changed.
-  const marks = JSON.stringify([planetOk ? pv.radius_au : null, currentUnion]);
+  const marks = JSON.stringify([planetOk ? pv.radius_au : null, currentUnion, currentInfeasible]);
   if (marks !== lastMarks) {
     lastMarks = marks;
     drawView(VIEWS.find((v) => v.view === "c_to_o"));
@@ -434,10 +454,12 @@ function showPlanet(p, typed) {
     element("thead", {}, row(["", "planet envelope", "local gas", "local solids", "star (= disk gas + solids)"], true)),
     element("tbody", {},
       row(["C/O", show(e.c_to_o), show(p.local.gas_c_to_o), show(p.local.solid_c_to_o), show(p.star_c_to_o)]),
-      row(["[C/H] [dex]", dex(e.c_to_h_dex), "", "", "0"]),
-      row(["[O/H] [dex]", dex(e.o_to_h_dex), "", "", "0"]),
-      row(["N/H relative to the star", show(el.N.relative_to_star), "", "", "1"]),
-      row(["S/H relative to the star", show(el.S.relative_to_star), "", "", "1"]),
+      row(["[C/H] relative to the star [dex]", dex(e.c_to_h_dex_rel_star), "", "", "0"]),
+      row(["[O/H] relative to the star [dex]", dex(e.o_to_h_dex_rel_star), "", "", "0"]),
+      row(["[C/H] relative to the Sun [dex]", dex(e.c_to_h_dex_rel_sun), "", "", ""]),
+      row(["[O/H] relative to the Sun [dex]", dex(e.o_to_h_dex_rel_sun), "", "", ""]),
+      row(["N/H / (N/H)_star (linear)", show(el.N.relative_to_star), "", "", "1"]),
+      row(["S/H / (S/H)_star (linear)", show(el.S.relative_to_star), "", "", "1"]),
       row(["share of C / O / N / S from solids", [el.C, el.O, el.N, el.S].map((x) => percent(x.solid_share)).join(" / "), "", "", ""])));
   table.querySelector("tbody td").id = "planet-c-to-o";
   const command = `nivalis planet DISK --radius-au ${cliNumber(typed.radius_au)}${typed.to_radius_au.trim() ? ` --to-radius-au ${cliNumber(typed.to_radius_au)}` : ""} --solid-to-gas ${cliNumber(typed.solid_to_gas)} --mix ${typed.mix.trim() ? cliNumber(typed.mix) : "1"}`;
@@ -446,21 +468,44 @@ function showPlanet(p, typed) {
 }
 
 let currentUnion = [];
+let currentInfeasible = [];
+
+// The `nivalis fit` options the typed fields stand for (blank fields are left out).
+function fitCommand(typed) {
+  const flag = (key, name) => (typed[key] && String(typed[key]).trim() ? ` --${name} ${cliNumber(typed[key])}` : "");
+  let text = "nivalis fit DISK";
+  for (const [key, name] of [["c_to_o", "c-to-o"], ["c_to_o_sigma", "c-to-o-sigma"], ["c_to_h_dex", "c-to-h-dex"], ["c_to_h_sigma", "c-to-h-sigma"],
+    ["o_to_h_dex", "o-to-h-dex"], ["o_to_h_sigma", "o-to-h-sigma"], ["m_to_h_dex", "m-to-h-dex"], ["m_to_h_sigma", "m-to-h-sigma"]]) text += flag(key, name);
+  if (typed.covariance && typed.covariance.trim()) text += ` --covariance "${typed.covariance.trim()}"`;
+  if (typed.relative_to === "sun") text += " --relative-to sun";
+  text += ` --mix ${typed.mix && typed.mix.trim() ? cliNumber(typed.mix) : "1"}`;
+  for (const [key, name] of [["ratio_min", "ratio-min"], ["ratio_max", "ratio-max"], ["ratio_count", "ratio-count"], ["radius_prior_au", "radius-prior-au"],
+    ["solid_to_gas_prior", "solid-to-gas-prior"], ["planet_mass_mjup", "planet-mass-mjup"], ["feeding_zone_hill_radii", "feeding-zone-hill-radii"]]) text += flag(key, name);
+  if (typed.oxygen_correction === "on") text += " --oxygen-correction";
+  return `${text} --convention ${typed.convention} --format csv|ecsv|json [--figure FILE.svg|FILE.png]`;
+}
 
 function showFit(f, typed, deferMap = false) {
   fitResult.replaceChildren();
   currentUnion = f ? f.allowed_union_au : [];
+  currentInfeasible = f ? f.feasibility.infeasible_radii.map((i) => [i.inner_edge_au, i.outer_edge_au]) : [];
   chi2Figure.hidden = !f;
   $("fit-cli").textContent = "";
   if (!f) {
-    fitResult.append(element("p", { class: "note", text: "Type the observed C/O and its error to draw the map." }));
+    fitResult.append(element("p", { class: "note", text: "Type an observed C/O, [C/H], [O/H] or [M/H] and its error to draw the map." }));
     return;
   }
   const b = f.best_fit;
-  const best = b ? `Best fit: ${show(b.radius_au)} au with solid-to-gas ${show(b.solid_to_gas, 2)} (χ² ${show(b.chi2, 2)}; envelope C/O ${show(b.c_to_o)}; there the gas has C/O ${show(f.best_local.gas_c_to_o)} and the solids ${show(f.best_local.solid_c_to_o)}).` : "No place of the map gives a defined envelope C/O.";
-  const union = f.allowed_union_au.length
-    ? `Allowed at 1σ for some solid-to-gas ratio: ${f.allowed_union_au.map(([a, c]) => `${show(a, 2)}–${show(c, 2)} au`).join(", ")} (shaded on the C/O profile).`
-    : "No radius is allowed at 1σ.";
+  const g = f.goodness;
+  const pText = g.p_value == null ? "undefined" : g.p_value < 1e-3 ? g.p_value.toExponential(1) : show(g.p_value, 2);
+  const fit = `χ²_min ${show(g.chi2_min, 3)} for ${g.degrees_of_freedom} degree${g.degrees_of_freedom > 1 ? "s" : ""} of freedom, p = ${pText}`;
+  const best = !b ? "No place of the map gives defined values of the fitted quantities."
+    : g.acceptable ? `Best fit: ${show(b.radius_au)} au with solid-to-gas ${show(b.solid_to_gas, 2)} (${fit}; envelope C/O ${show(b.c_to_o)}; there the gas has C/O ${show(f.best_local.gas_c_to_o)} and the solids ${show(f.best_local.solid_c_to_o)}).`
+      : `No place in the disk is acceptable (${fit} < ${g.acceptable_p_value}). The closest place is ${show(b.radius_au)} au with solid-to-gas ${show(b.solid_to_gas, 2)} (envelope C/O ${show(b.c_to_o)}).`;
+  const union = !g.acceptable ? "No radius is allowed: the observation lies outside what this disk can give."
+    : f.allowed_union_au.length
+      ? `Allowed at 1σ for some solid-to-gas ratio: ${f.allowed_union_au.map(([a, c]) => `${show(a, 2)}–${show(c, 2)} au`).join(", ")} (shaded on the C/O profile).`
+      : "No radius is allowed at 1σ.";
   const t = f.thresholds;
   const list = element("ul", { class: "explanation", id: "fit-explanation" }, ...f.explanation.map((s) => element("li", { text: s.charAt(0).toUpperCase() + s.slice(1) + (/[.!?]$/.test(s) ? "" : ".") })));
   const perRatio = element("table", { class: "allowed-table" },
@@ -468,15 +513,18 @@ function showFit(f, typed, deferMap = false) {
     element("tbody", {}, ...f.allowed_radii.map((a) => row([show(a.solid_to_gas, 2),
       a.one_sigma.map((i) => `${show(i.inner_edge_au, 2)}–${show(i.outer_edge_au, 2)}`).join(", ") || "none",
       a.two_sigma.map((i) => `${show(i.inner_edge_au, 2)}–${show(i.outer_edge_au, 2)}`).join(", ") || "none"]))));
+  const infeasible = currentInfeasible.length
+    ? [element("p", { class: "note", id: "fit-infeasible", text: `Infeasible (the feeding zone holds less gas than the envelope at every ratio): ${currentInfeasible.map(([a, c]) => `${show(a, 2)}–${show(c, 2)} au`).join(", ")} (hatched grey on the C/O profile).` })]
+    : [];
   fitResult.append(
     element("p", { id: "fit-best", text: best }),
     element("p", { id: "fit-union", text: union }),
+    ...infeasible,
+    ...f.warnings.map((w) => element("p", { class: "problem fit-warning", text: w.charAt(0).toUpperCase() + w.slice(1) + "." })),
     element("p", { class: "note", text: `Fitted: ${f.fitted}; 1σ and 2σ regions at Δχ² ≤ ${t.one_sigma} and ${t.two_sigma} (${t.degrees_of_freedom} degree${t.degrees_of_freedom > 1 ? "s" : ""} of freedom).` }),
     element("h4", { text: "What the map shows, in words" }), list,
     element("details", {}, element("summary", { text: "Allowed radii at each solid-to-gas ratio" }), element("div", { class: "table-wrap" }, perRatio)));
-  const metal = typed.tracer === "C" ? ` --c-to-h-dex ${cliNumber(typed.metallicity_dex)} --c-to-h-sigma ${cliNumber(typed.metallicity_sigma_dex)}`
-    : typed.tracer === "O" ? ` --o-to-h-dex ${cliNumber(typed.metallicity_dex)} --o-to-h-sigma ${cliNumber(typed.metallicity_sigma_dex)}` : "";
-  $("fit-cli").replaceChildren("Same files: ", element("code", { text: `nivalis fit DISK --c-to-o ${cliNumber(typed.c_to_o)} --c-to-o-sigma ${cliNumber(typed.c_to_o_sigma)}${metal} --mix ${typed.mix.trim() ? cliNumber(typed.mix) : "1"} --convention ${typed.convention} --format csv|ecsv|json [--figure FILE.svg|FILE.png]` }), " (the map figure's CLI form is one column, light, 300 dpi).");
+  $("fit-cli").replaceChildren("Same files: ", element("code", { text: fitCommand(typed) }), " (the map figure's CLI form is one column, light, 300 dpi).");
   chi2Dirty = true;
   if (!deferMap) drawChi2();
   else if (chi2OnScreen && !chi2Idle) chi2Idle = requestIdleCallback(() => { chi2Idle = 0; if (chi2Dirty) drawChi2(); }, { timeout: 300 });
@@ -603,7 +651,7 @@ function planetFragment() {
   const fv = fitGroup.values();
   const out = {};
   if (hasText(pv, ["radius_au", "to_radius_au", "solid_to_gas"])) out.planet = pv;
-  if (hasText(fv, ["c_to_o", "c_to_o_sigma"])) out.fit = fv;
+  if (hasText(fv, FIT_QUANTITIES)) out.fit = fv;
   return Object.keys(out).length ? [`planet=${base64urlEncode(JSON.stringify(out))}`] : [];
 }
 
@@ -627,7 +675,9 @@ function readPlanetFragment(hash) {
 buildPanel();
 buildFigureDownloads();
 planetGroup.set({ radius_au: "", to_radius_au: "", solid_to_gas: "0.01", mix: "1" });
-fitGroup.set({ c_to_o: "", c_to_o_sigma: "", tracer: "none", metallicity_dex: "", metallicity_sigma_dex: "", mix: "1", convention: "mapped_parameters" });
+fitGroup.set({ c_to_o: "", c_to_o_sigma: "", c_to_h_dex: "", c_to_h_sigma: "", o_to_h_dex: "", o_to_h_sigma: "", m_to_h_dex: "", m_to_h_sigma: "",
+  relative_to: "star", covariance: "", mix: "1", ratio_min: "0.001", ratio_max: "1", ratio_count: "48", radius_prior_au: "", solid_to_gas_prior: "",
+  oxygen_correction: "off", planet_mass_mjup: "", feeding_zone_hill_radii: "", convention: "mapped_parameters" });
 anchorGroup.set({ radius_au: "", sigma_au: "", adjust: "flaring_angle" });
 $("anchor-button").addEventListener("click", anchorNow);
 readPlanetFragment(pageHooks.initialHash);

@@ -187,15 +187,27 @@ test("the observed-planet map and its files equal `nivalis fit`", async () => {
   for (const sentence of summary) assert.ok(words.some((w) => w.toLowerCase().startsWith(sentence.toLowerCase().slice(0, 40))), `missing: ${sentence}`);
 
   // With an observed [O/H] as well, as `--o-to-h-dex 0.3 --o-to-h-sigma 0.2`, and the other Δχ² convention.
-  await page.selectOption("#pp-fit-tracer", "O");
-  await typePlanet(page, "fit.metallicity_dex", "0.3");
-  await typePlanet(page, "fit.metallicity_sigma_dex", "0.2");
+  await typePlanet(page, "fit.o_to_h_dex", "0.3");
+  await typePlanet(page, "fit.o_to_h_sigma", "0.2");
   await page.selectOption("#pp-fit-convention", "fitted_quantities");
   await settle(page);
   await page.evaluate(() => window.nivalis.planet.whenDone());
   const withMetal = await downloadText(page, '[data-planet-export="fit_csv"]');
   const metalArgs = [...args, "--o-to-h-dex", "0.3", "--o-to-h-sigma", "0.2", "--convention", "fitted_quantities", "--format", "csv"];
   assert.ok(withMetal.text === run(metalArgs), "page fit CSV with [O/H] differs from the CLI's");
+
+  // An observation out of the disk's reach (issue 11): unacceptable, no radius allowed, the same JSON as the CLI.
+  // (This page's disk reaches envelope C/O ~1.5 with solid-rich accretion inside the soot line, so 2.5 is used.)
+  await typePlanet(page, "fit.o_to_h_dex", "");
+  await typePlanet(page, "fit.o_to_h_sigma", "");
+  await page.selectOption("#pp-fit-convention", "mapped_parameters");
+  await typePlanet(page, "fit.c_to_o", "2.5");
+  await typePlanet(page, "fit.c_to_o_sigma", "0.05");
+  assert.match(await page.textContent("#fit-best"), /^No place in the disk is acceptable/);
+  assert.match(await page.textContent("#fit-union"), /^No radius is allowed/);
+  const impossible = await downloadText(page, '[data-planet-export="fit_json"]');
+  assert.ok(impossible.text === run(["fit", disk, "--c-to-o", "2.5", "--c-to-o-sigma", "0.05", "--format", "json"]), "page fit JSON (impossible) differs from the CLI's");
+  assert.equal(JSON.parse(impossible.text).fit.goodness.acceptable, false);
   assert.deepEqual(errors, []);
   await page.close();
 });
@@ -291,9 +303,8 @@ test("the planet state round-trips through the URL", async () => {
   await typePlanet(page, "planet.mix", "0.3");
   await typePlanet(page, "fit.c_to_o", "0.55");
   await typePlanet(page, "fit.c_to_o_sigma", "0.05");
-  await page.selectOption("#pp-fit-tracer", "C");
-  await typePlanet(page, "fit.metallicity_dex", "0.4");
-  await typePlanet(page, "fit.metallicity_sigma_dex", "0.1");
+  await typePlanet(page, "fit.c_to_h_dex", "0.4");
+  await typePlanet(page, "fit.c_to_h_sigma", "0.1");
   const url = page.url();
   assert.match(url, /&planet=[A-Za-z0-9_-]+/);
   const table = await page.innerHTML("#planet-table");
@@ -303,7 +314,7 @@ test("the planet state round-trips through the URL", async () => {
   const { page: again, errors } = await freshPage(url);
   await again.evaluate(() => window.nivalis.planet.whenDone());
   for (const [id, value] of [["#pp-planet-radius_au", "7.5"], ["#pp-planet-solid_to_gas", "0.2"], ["#pp-planet-mix", "0.3"],
-    ["#pp-fit-c_to_o", "0.55"], ["#pp-fit-c_to_o_sigma", "0.05"], ["#pp-fit-tracer", "C"], ["#pp-fit-metallicity_dex", "0.4"]]) {
+    ["#pp-fit-c_to_o", "0.55"], ["#pp-fit-c_to_o_sigma", "0.05"], ["#pp-fit-c_to_h_dex", "0.4"], ["#pp-fit-c_to_h_sigma", "0.1"]]) {
     assert.equal(await again.inputValue(id), value, id);
   }
   assert.equal(await again.innerHTML("#planet-table"), table);

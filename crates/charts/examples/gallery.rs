@@ -23,11 +23,12 @@ fn main() -> Result<(), Box<dyn std::error::Error>> {
     for (name, view) in views {
         let mut figure = Figure::from_model(view, &model);
         if let Figure::CToOProfile(p) = figure {
-            // A demo planet at 8 au allowed between 3 and 12 au (invented).
-            figure = Figure::CToOProfile(
-                p.with_planet_radius_au(8.0)
-                    .with_allowed_formation_radii_au(vec![(3.0, 12.0)]),
-            );
+            // A demo planet at 8 au allowed between 3 and 12 au, infeasible beyond 190 au (invented).
+            let mut p = p
+                .with_planet_radius_au(8.0)
+                .with_allowed_formation_radii_au(vec![(3.0, 12.0)]);
+            p.infeasible_formation_radii_au = vec![(0.1, 0.5), (190.0, 500.0)];
+            figure = Figure::CToOProfile(p);
         }
         for (theme_name, theme) in [("light", Theme::light()), ("dark", Theme::dark())] {
             let svg = render_svg(&figure, &theme, FigureSize::single_column())?;

@@ -33,6 +33,9 @@ pub struct ProfileData {
     pub planet_radius_au: Option<f64>,
     /// Radius intervals [au] (inner, outer) where the planet may have formed, shaded.
     pub allowed_formation_radii_au: Vec<(f64, f64)>,
+    /// Radius intervals [au] (inner, outer) where the planet cannot have formed
+    /// (too little gas in its feeding zone), hatched.
+    pub infeasible_formation_radii_au: Vec<(f64, f64)>,
 }
 
 /// Every snowline of a model as (typeset species label, radius [au]), inner first per species.
@@ -67,6 +70,7 @@ impl ProfileData {
             snowlines: model_snowlines(model),
             planet_radius_au: None,
             allowed_formation_radii_au: Vec::new(),
+            infeasible_formation_radii_au: Vec::new(),
         }
     }
 
@@ -89,15 +93,22 @@ impl ProfileData {
         let mut chi2 = vec![f64::NAN; n_r * n_q];
         for j in 0..n_r {
             for k in 0..n_q {
-                if let Some(c) = map.rows[j * n_q + k].chi2 {
+                // Infeasible places and places outside the priors are left blank (drawn as no data).
+                let row = &map.rows[j * n_q + k];
+                if let (Some(c), true) = (row.chi2, row.feasible && row.in_prior) {
                     chi2[k * n_r + j] = c;
                 }
             }
         }
-        let thresholds = vec![
-            ("1σ".to_string(), map.thresholds.one_sigma),
-            ("2σ".to_string(), map.thresholds.two_sigma),
-        ];
+        // No contours when no place is acceptable (docs/model.md section 9, goodness of fit).
+        let thresholds = if map.goodness.acceptable {
+            vec![
+                ("1σ".to_string(), map.thresholds.one_sigma),
+                ("2σ".to_string(), map.thresholds.two_sigma),
+            ]
+        } else {
+            Vec::new()
+        };
         Chi2Data::new(
             &map.radius_au,
             &map.solid_to_gas,
@@ -152,15 +163,22 @@ impl TemperatureData {
         let mut chi2 = vec![f64::NAN; n_r * n_q];
         for j in 0..n_r {
             for k in 0..n_q {
-                if let Some(c) = map.rows[j * n_q + k].chi2 {
+                // Infeasible places and places outside the priors are left blank (drawn as no data).
+                let row = &map.rows[j * n_q + k];
+                if let (Some(c), true) = (row.chi2, row.feasible && row.in_prior) {
                     chi2[k * n_r + j] = c;
                 }
             }
         }
-        let thresholds = vec![
-            ("1σ".to_string(), map.thresholds.one_sigma),
-            ("2σ".to_string(), map.thresholds.two_sigma),
-        ];
+        // No contours when no place is acceptable (docs/model.md section 9, goodness of fit).
+        let thresholds = if map.goodness.acceptable {
+            vec![
+                ("1σ".to_string(), map.thresholds.one_sigma),
+                ("2σ".to_string(), map.thresholds.two_sigma),
+            ]
+        } else {
+            Vec::new()
+        };
         Chi2Data::new(
             &map.radius_au,
             &map.solid_to_gas,
@@ -235,15 +253,22 @@ impl AbundanceData {
         let mut chi2 = vec![f64::NAN; n_r * n_q];
         for j in 0..n_r {
             for k in 0..n_q {
-                if let Some(c) = map.rows[j * n_q + k].chi2 {
+                // Infeasible places and places outside the priors are left blank (drawn as no data).
+                let row = &map.rows[j * n_q + k];
+                if let (Some(c), true) = (row.chi2, row.feasible && row.in_prior) {
                     chi2[k * n_r + j] = c;
                 }
             }
         }
-        let thresholds = vec![
-            ("1σ".to_string(), map.thresholds.one_sigma),
-            ("2σ".to_string(), map.thresholds.two_sigma),
-        ];
+        // No contours when no place is acceptable (docs/model.md section 9, goodness of fit).
+        let thresholds = if map.goodness.acceptable {
+            vec![
+                ("1σ".to_string(), map.thresholds.one_sigma),
+                ("2σ".to_string(), map.thresholds.two_sigma),
+            ]
+        } else {
+            Vec::new()
+        };
         Chi2Data::new(
             &map.radius_au,
             &map.solid_to_gas,
@@ -314,15 +339,22 @@ impl Chi2Data {
         let mut chi2 = vec![f64::NAN; n_r * n_q];
         for j in 0..n_r {
             for k in 0..n_q {
-                if let Some(c) = map.rows[j * n_q + k].chi2 {
+                // Infeasible places and places outside the priors are left blank (drawn as no data).
+                let row = &map.rows[j * n_q + k];
+                if let (Some(c), true) = (row.chi2, row.feasible && row.in_prior) {
                     chi2[k * n_r + j] = c;
                 }
             }
         }
-        let thresholds = vec![
-            ("1σ".to_string(), map.thresholds.one_sigma),
-            ("2σ".to_string(), map.thresholds.two_sigma),
-        ];
+        // No contours when no place is acceptable (docs/model.md section 9, goodness of fit).
+        let thresholds = if map.goodness.acceptable {
+            vec![
+                ("1σ".to_string(), map.thresholds.one_sigma),
+                ("2σ".to_string(), map.thresholds.two_sigma),
+            ]
+        } else {
+            Vec::new()
+        };
         Chi2Data::new(
             &map.radius_au,
             &map.solid_to_gas,

@@ -205,11 +205,7 @@ mod tests {
         ];
         let map = chi_square_map(
             &model,
-            &ObservedEnvelope {
-                c_to_o: 0.8,
-                c_to_o_sigma: 0.1,
-                metallicity: None,
-            },
+            &ObservedEnvelope::c_to_o(0.8, 0.1),
             &MapSettings::defaults(),
         )
         .unwrap();

@@ -182,6 +182,27 @@ pub fn draw_c_to_o_profile<DB: DrawingBackend>(
             }
         }
     }
+    // Infeasible radii: thin diagonal hatching in the muted colour.
+    for &(a, b) in &data.infeasible_formation_radii_au {
+        if let (Some(xa), Some(xb)) = (panel.px_x(a.min(b)), panel.px_x(a.max(b))) {
+            let (xa, xb) = (xa.max(frame.left), xb.min(frame.right));
+            let (h, step) = (frame.bottom - frame.top, p.px(6.0));
+            let mut x0 = xa - h;
+            while x0 < xb {
+                // The segment from (x0, bottom) to (x0 + h, top), clipped to [xa, xb].
+                let (s, e) = ((xa - x0).max(0.0), (xb - x0).min(h));
+                if e > s {
+                    p.polyline(
+                        &[(x0 + s, frame.bottom - s), (x0 + e, frame.bottom - e)],
+                        theme.muted,
+                        theme.axis_width_pt * 0.6,
+                        LineDash::Solid,
+                    )?;
+                }
+                x0 += step;
+            }
+        }
+    }
     p.grid(&panel)?;
 
     let mut occupied = Vec::new();

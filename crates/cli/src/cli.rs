@@ -82,6 +82,9 @@ enum PlanetFormat {
 /// Averaging of a migration range.
 #[derive(Copy, Clone, Debug, PartialEq, Eq, ValueEnum)]
 enum Weighting {
+    /// Weighted by the accreted mass, Sigma_gas 2 pi r dr (solids by their own mass).
+    #[value(name = "accreted_mass")]
+    AccretedMass,
     /// Uniform in radius.
     Uniform,
     /// Uniform in log radius.
@@ -98,6 +101,15 @@ enum Convention {
     /// The number of fitted quantities: 1.00 and 4.00 for C/O alone.
     #[value(name = "fitted_quantities")]
     FittedQuantities,
+}
+
+/// Reference of the metallicities.
+#[derive(Copy, Clone, Debug, PartialEq, Eq, ValueEnum)]
+enum RelativeTo {
+    /// The star: the reference compilation plus the star's offsets.
+    Star,
+    /// The Sun: the reference compilation alone.
+    Sun,
 }
 
 /// Anchoring parameters.
@@ -122,6 +134,8 @@ struct Output {
 }
 
 #[derive(Subcommand, Debug)]
+// Parsed once per run, so the size of its largest variant (the fit options) does not matter.
+#[allow(clippy::large_enum_variant)]
 enum Command {
     /// Validate a disk file and list every problem (field, value, allowed range).
     Check {
@@ -189,8 +203,8 @@ enum Command {
         /// Outer end of a migration range [au]; gas and solids are averaged over 200 midpoints.
         #[arg(long = "to-radius-au", value_name = "AU")]
         to_radius_au: Option<f64>,
-        /// How the migration range is averaged.
-        #[arg(long, value_enum, default_value_t = Weighting::Uniform)]
+        /// How the migration range is averaged: by accreted mass (default), uniform in radius or in log radius.
+        #[arg(long, value_enum, default_value_t = Weighting::AccretedMass)]
         weighting: Weighting,
         /// Accreted solid mass over accreted gas mass, M_solid / M_gas (>= 0).
         #[arg(long = "solid-to-gas", value_name = "RATIO")]
@@ -205,41 +219,93 @@ enum Command {
         #[arg(long, value_name = "FILE")]
         out: Option<PathBuf>,
     },
-    /// Which formation places fit an observed envelope C/O (and optionally [C/H] or [O/H]):
-    /// a chi-square map over formation radius x solid-to-gas ratio (1e-3..1, log-spaced),
-    /// with the best fit, the 1- and 2-sigma radius ranges at each ratio and the degeneracies.
+    /// Which formation places fit an observed envelope: any of C/O, [C/H], [O/H] and [M/H]
+    /// (optionally with their covariance): a chi-square map over formation radius x solid-to-gas ratio
+    /// (log-spaced), with the goodness of fit, the best fit, the 1- and 2-sigma radius ranges at each
+    /// ratio and the degeneracies.
     Fit {
         /// The disk file.
         disk: PathBuf,
-        /// Observed envelope C/O.
-        #[arg(long = "c-to-o", value_name = "C/O")]
-        c_to_o: f64,
+        /// Observed envelope C/O (linear number ratio).
+        #[arg(long = "c-to-o", value_name = "C/O", allow_negative_numbers = true)]
+        c_to_o: Option<f64>,
         /// Its 1-sigma error (> 0).
-        #[arg(long = "c-to-o-sigma", value_name = "SIGMA")]
-        c_to_o_sigma: f64,
-        /// Observed [C/H] [dex] relative to the star.
         #[arg(
-            long = "c-to-h-dex",
-            value_name = "DEX",
-            requires = "c_to_h_sigma",
-            conflicts_with = "o_to_h_dex"
+            long = "c-to-o-sigma",
+            value_name = "SIGMA",
+            allow_negative_numbers = true
         )]
+        c_to_o_sigma: Option<f64>,
+        /// Observed [C/H] [dex], relative to --relative-to.
+        #[arg(long = "c-to-h-dex", value_name = "DEX", allow_negative_numbers = true)]
         c_to_h_dex: Option<f64>,
         /// 1-sigma error of [C/H] [dex].
-        #[arg(long = "c-to-h-sigma", value_name = "DEX", requires = "c_to_h_dex")]
+        #[arg(
+            long = "c-to-h-sigma",
+            value_name = "DEX",
+            allow_negative_numbers = true
+        )]
         c_to_h_sigma: Option<f64>,
-        /// Observed [O/H] [dex] relative to the star.
-        #[arg(long = "o-to-h-dex", value_name = "DEX", requires = "o_to_h_sigma")]
+        /// Observed [O/H] [dex], relative to --relative-to.
+        #[arg(long = "o-to-h-dex", value_name = "DEX", allow_negative_numbers = true)]
         o_to_h_dex: Option<f64>,
         /// 1-sigma error of [O/H] [dex].
-        #[arg(long = "o-to-h-sigma", value_name = "DEX", requires = "o_to_h_dex")]
+        #[arg(
+            long = "o-to-h-sigma",
+            value_name = "DEX",
+            allow_negative_numbers = true
+        )]
         o_to_h_sigma: Option<f64>,
+        /// Observed [M/H] [dex] = (C+O+N+S)/H, relative to --relative-to.
+        #[arg(long = "m-to-h-dex", value_name = "DEX", allow_negative_numbers = true)]
+        m_to_h_dex: Option<f64>,
+        /// 1-sigma error of [M/H] [dex].
+        #[arg(
+            long = "m-to-h-sigma",
+            value_name = "DEX",
+            allow_negative_numbers = true
+        )]
+        m_to_h_sigma: Option<f64>,
+        /// Covariance matrix of the given quantities in the order C/O, [C/H], [O/H], [M/H]: rows
+        /// separated by ';', entries by ',' (e.g. "0.0025,0.001;0.001,0.04"); replaces the sigmas.
+        #[arg(long, value_name = "MATRIX", value_parser = nivalis_exports::planet::parse_covariance)]
+        covariance: Option<Vec<f64>>,
+        /// What [C/H], [O/H] and [M/H] are relative to: the star (its offsets applied) or the Sun.
+        #[arg(long = "relative-to", value_enum, default_value_t = RelativeTo::Star)]
+        relative_to: RelativeTo,
         /// Fraction of the solids' atoms that enter the envelope, fixed over the map, in [0, 1].
         #[arg(long, value_name = "F", default_value_t = 1.0)]
         mix: f64,
-        /// Number of log-spaced solid-to-gas values over 1e-3..1 (40-1000).
-        #[arg(long, value_name = "N", default_value_t = 48)]
-        ratios: usize,
+        /// Number of log-spaced solid-to-gas values (40-1000).
+        #[arg(
+            long = "ratio-count",
+            visible_alias = "ratios",
+            value_name = "N",
+            default_value_t = 48
+        )]
+        ratio_count: usize,
+        /// Smallest solid-to-gas ratio of the grid (> 0).
+        #[arg(long = "ratio-min", value_name = "RATIO", default_value_t = 1e-3)]
+        ratio_min: f64,
+        /// Largest solid-to-gas ratio of the grid (at most 1000).
+        #[arg(long = "ratio-max", value_name = "RATIO", default_value_t = 1.0)]
+        ratio_max: f64,
+        /// Flat prior on the formation radius [au]: only places in MIN,MAX are fitted.
+        #[arg(long = "radius-prior-au", value_name = "MIN,MAX", value_parser = nivalis_exports::planet::parse_range)]
+        radius_prior_au: Option<(f64, f64)>,
+        /// Flat prior on the solid-to-gas ratio: only ratios in MIN,MAX are fitted.
+        #[arg(long = "solid-to-gas-prior", value_name = "MIN,MAX", value_parser = nivalis_exports::planet::parse_range)]
+        solid_to_gas_prior: Option<(f64, f64)>,
+        /// Take 20 % of the envelope's oxygen as hidden in the planet's own condensates before
+        /// comparing (Burrows & Sharp 1999).
+        #[arg(long = "oxygen-correction")]
+        oxygen_correction: bool,
+        /// Planet mass [M_Jup]: places whose feeding zone holds less gas than the envelope are infeasible.
+        #[arg(long = "planet-mass-mjup", value_name = "MJUP")]
+        planet_mass_mjup: Option<f64>,
+        /// Feeding-zone half-width [Hill radii] (default 2 sqrt 3 = 3.46, Lissauer 1993).
+        #[arg(long = "feeding-zone-hill-radii", value_name = "N", default_value_t = nivalis_physics::planet::DEFAULT_FEEDING_ZONE_HILL_RADII)]
+        feeding_zone_hill_radii: f64,
         /// Delta chi-square thresholds: for the two mapped parameters (2.30, 6.18; default) or
         /// for the number of fitted quantities (1.00, 4.00 with C/O alone).
         #[arg(long, value_enum, default_value_t = Convention::MappedParameters)]
@@ -460,26 +526,25 @@ fn execute(args: Args) -> Result<(), Failure> {
             format,
             out,
         } => {
-            use nivalis_physics::planet::{planet, FormationPlace, PlanetRequest, RadialWeighting};
+            use nivalis_exports::planet::PlanetOptions;
+            use nivalis_physics::planet::{planet, RadialWeighting};
             let file = read_disk(&disk)?;
             let model = run_model(&file)?;
-            let place = match to_radius_au {
-                None => FormationPlace::Radius { radius_au },
-                Some(outer) => FormationPlace::Migration {
-                    inner_radius_au: radius_au,
-                    outer_radius_au: outer,
-                    weighting: match weighting {
-                        Weighting::Uniform => RadialWeighting::Uniform,
-                        Weighting::LogRadius => RadialWeighting::LogRadius,
-                    },
-                },
+            let weighting = match weighting {
+                Weighting::AccretedMass => RadialWeighting::AccretedMass,
+                Weighting::Uniform => RadialWeighting::Uniform,
+                Weighting::LogRadius => RadialWeighting::LogRadius,
             };
-            let request = PlanetRequest {
-                place,
-                gas_mass_g: 1.0,
+            // The same request the page builds (PlanetOptions, shared).
+            let request = PlanetOptions {
+                radius_au,
+                to_radius_au,
+                weighting,
                 solid_to_gas,
-                solid_mixing_fraction: mix,
-            };
+                mix,
+            }
+            .request();
+            let place = request.place;
             let result =
                 planet(&model, &request).map_err(|e| Failure::input(vec![e.to_string()]))?;
             let text = match format {
@@ -503,44 +568,64 @@ fn execute(args: Args) -> Result<(), Failure> {
             c_to_h_sigma,
             o_to_h_dex,
             o_to_h_sigma,
+            m_to_h_dex,
+            m_to_h_sigma,
+            covariance,
+            relative_to,
             mix,
-            ratios,
+            ratio_count,
+            ratio_min,
+            ratio_max,
+            radius_prior_au,
+            solid_to_gas_prior,
+            oxygen_correction,
+            planet_mass_mjup,
+            feeding_zone_hill_radii,
             convention,
             figure,
             output,
         } => {
+            use nivalis_exports::planet::FitOptions;
             use nivalis_physics::planet::{
-                chi_square_map, ConfidenceConvention, MapSettings, MetallicityTracer,
-                ObservedEnvelope, ObservedMetallicity,
+                chi_square_map, ConfidenceConvention, MetallicityReference,
             };
-            let file = read_disk(&disk)?;
-            let model = run_model(&file)?;
-            let metallicity = match (c_to_h_dex, c_to_h_sigma, o_to_h_dex, o_to_h_sigma) {
-                (Some(dex), Some(sigma_dex), _, _) => Some(ObservedMetallicity {
-                    tracer: MetallicityTracer::Carbon,
-                    dex,
-                    sigma_dex,
-                }),
-                (_, _, Some(dex), Some(sigma_dex)) => Some(ObservedMetallicity {
-                    tracer: MetallicityTracer::Oxygen,
-                    dex,
-                    sigma_dex,
-                }),
-                _ => None,
-            };
-            let observed = ObservedEnvelope {
+            let options = FitOptions {
                 c_to_o,
                 c_to_o_sigma,
-                metallicity,
-            };
-            let settings = MapSettings {
-                ratio_count: ratios,
-                solid_mixing_fraction: mix,
+                c_to_h_dex,
+                c_to_h_sigma,
+                o_to_h_dex,
+                o_to_h_sigma,
+                m_to_h_dex,
+                m_to_h_sigma,
+                covariance,
+                relative_to: match relative_to {
+                    RelativeTo::Star => MetallicityReference::Star,
+                    RelativeTo::Sun => MetallicityReference::Sun,
+                },
+                mix,
+                ratio_min,
+                ratio_max,
+                ratio_count,
+                radius_prior_au,
+                solid_to_gas_prior,
+                oxygen_correction,
+                planet_mass_mjup,
+                feeding_zone_hill_radii,
                 convention: match convention {
                     Convention::MappedParameters => ConfidenceConvention::MappedParameters,
                     Convention::FittedQuantities => ConfidenceConvention::FittedQuantities,
                 },
             };
+            let (observed, settings) = options.build().map_err(|ps| {
+                Failure::input(
+                    ps.iter()
+                        .map(|p| format!("--{}: {}", p.option.replace('_', "-"), p.message))
+                        .collect(),
+                )
+            })?;
+            let file = read_disk(&disk)?;
+            let model = run_model(&file)?;
             let map = chi_square_map(&model, &observed, &settings)
                 .map_err(|e| Failure::input(vec![e.to_string()]))?;
             let prov = Provenance::of(&file);
@@ -552,8 +637,13 @@ fn execute(args: Args) -> Result<(), Failure> {
                     json_text(&nivalis_exports::planet::fit_json(&map, &prov, &used))
                 }
             };
-            for line in map.degeneracy_summary() {
-                eprintln!("note: {line}");
+            for line in nivalis_exports::planet::fit_warnings(&map) {
+                eprintln!("warning: {line}");
+            }
+            if map.goodness.acceptable {
+                for line in map.degeneracy_summary() {
+                    eprintln!("note: {line}");
+                }
             }
             if let Some(path) = &figure {
                 use nivalis_charts::{render_png, render_svg, Chi2Data, Figure, FigureSize, Theme};

@@ -383,7 +383,12 @@ pub fn elements_table(model: &Model) -> Table {
             let mut row = vec![finite(*r)];
             for p in phases {
                 for e in Element::ALL {
-                    row.push(finite(p.abundance(ph, e)));
+                    // Below 1e-9 of the element's total (the star's X/H) is zero up to rounding (docs/model.md section 8).
+                    let total = model.carriers.stellar_per_h[e as usize];
+                    row.push(finite(nivalis_physics::budget::zero_below_rounding(
+                        p.abundance(ph, e),
+                        total,
+                    )));
                 }
             }
             row

@@ -53,6 +53,27 @@ impl PhaseAbundances {
     }
 }
 
+/// `value`, or exactly 0 where it is zero up to rounding: below 1e-9 of
+/// `total`, the element's total abundance (docs/model.md section 8: never a
+/// noisy number; the same threshold as [`defined_ratio`]).
+pub fn zero_below_rounding(value: f64, total: f64) -> f64 {
+    if value.abs() < 1e-9 * total.abs() {
+        0.0
+    } else {
+        value
+    }
+}
+
+/// A ratio to a reference that equals 1 up to rounding (within 1e-9) is
+/// written as exactly 1, so its logarithm is exactly 0 dex.
+pub fn one_within_rounding(ratio: f64) -> f64 {
+    if (ratio - 1.0).abs() < 1e-9 {
+        1.0
+    } else {
+        ratio
+    }
+}
+
 /// Ratio `numerator / denominator`, undefined (`None`) where the denominator
 /// is below 1e-9 of `reference` (docs/model.md section 8: never a noisy number).
 pub fn defined_ratio(numerator: f64, denominator: f64, reference: f64) -> Option<f64> {

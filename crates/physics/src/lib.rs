@@ -34,6 +34,7 @@ pub mod references;
 pub mod snowlines;
 pub mod species;
 pub mod star;
+pub mod statistics;
 pub mod structure;
 pub mod units;
 

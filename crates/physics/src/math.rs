@@ -52,3 +52,9 @@ pub fn exp_m1(x: f64) -> f64 {
 pub fn ln_1p(x: f64) -> f64 {
     libm::log1p(x)
 }
+
+/// ln Gamma(x) (libm `lgamma`).
+#[inline]
+pub fn ln_gamma(x: f64) -> f64 {
+    libm::lgamma(x)
+}

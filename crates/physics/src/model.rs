@@ -2,7 +2,9 @@
 //! snowlines. [`Model::run`] is the one entry point the CLI and the page call.
 
 use crate::balance::{species_properties, BalanceConstants, SpeciesProperties};
-use crate::budget::{defined_ratio, Carriers, PhaseAbundances};
+use crate::budget::{
+    defined_ratio, one_within_rounding, zero_below_rounding, Carriers, PhaseAbundances,
+};
 use crate::error::PhysicsError;
 use crate::params::{DesorptionModel, Element, ModelParameters};
 use crate::snowlines::{crossings, snow_surface, SnowSurface, Snowline};
@@ -177,16 +179,20 @@ impl Model {
     pub fn ratios(&self, ph: &PhaseAbundances) -> Ratios {
         let x = &self.carriers.stellar_per_h;
         let (c, o) = (Element::C as usize, Element::O as usize);
+        // Carbon below 1e-9 of the star's is zero up to rounding (docs/model.md section 8).
+        let carbon = |v: f64| zero_below_rounding(v, x[c]);
         Ratios {
-            c_to_o_gas: defined_ratio(ph.gas[c], ph.gas[o], x[o]),
-            c_to_o_ice: defined_ratio(ph.ice[c], ph.ice[o], x[o]),
+            c_to_o_gas: defined_ratio(carbon(ph.gas[c]), ph.gas[o], x[o]),
+            c_to_o_ice: defined_ratio(carbon(ph.ice[c]), ph.ice[o], x[o]),
             c_to_o_solid: defined_ratio(
-                ph.ice[c] + ph.refractory[c],
+                carbon(ph.ice[c] + ph.refractory[c]),
                 ph.ice[o] + ph.refractory[o],
                 x[o],
             ),
-            c_to_h_gas_rel_star: Some(ph.gas[c] / x[c]),
-            o_to_h_gas_rel_star: Some(ph.gas[o] / x[o]),
+            c_to_h_gas_rel_star: Some(one_within_rounding(carbon(ph.gas[c]) / x[c])),
+            o_to_h_gas_rel_star: Some(one_within_rounding(
+                zero_below_rounding(ph.gas[o], x[o]) / x[o],
+            )),
         }
     }
 

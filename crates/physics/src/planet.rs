@@ -38,12 +38,14 @@
 //! solid-to-gas ratio there is an error in the forward model and an undefined
 //! row in the map.
 
-use crate::budget::defined_ratio;
+use crate::budget::{defined_ratio, one_within_rounding, zero_below_rounding};
 use crate::error::PhysicsError;
 use crate::math::{exp, exp10, ln};
 use crate::model::{LocalMidplane, Model};
 use crate::params::{Element, ELEMENT_COUNT};
 use crate::species::SPECIES_COUNT;
+use crate::statistics::chi_square_survival;
+use crate::structure::surface_density_g_cm2;
 use crate::units::{ATOMIC_MASS_UNIT_G, AU_CM, HYDROGEN_MASS_G, MASS_PER_HYDROGEN_NUCLEUS_AMU_H};
 
 /// Number of midpoint-rule points used to average over a migration range (docs/model.md section 9).
@@ -64,9 +66,16 @@ pub const MAX_MAP_RATIO_COUNT: usize = 1000;
 /// How the atoms per gram of each phase are weighted along a migration range.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
 pub enum RadialWeighting {
-    /// Uniform in radius: midpoints r_k = r1 + (k + 1/2)(r2 - r1)/200, equal
-    /// weights (docs/model.md section 9). Default.
+    /// Weighted by the mass the planet accretes there: midpoints uniform in
+    /// radius as for `Uniform`, the gas's atoms per gram weighted by the gas
+    /// mass of each annulus, w_k = Sigma_gas(r_k) 2 pi r_k dr, and the solids'
+    /// by the solid mass, w_k times the local solid-to-gas ratio (a planet
+    /// sweeping the range takes in each annulus's material in proportion to
+    /// what is there; docs/model.md section 9, a model choice of this program). Default.
     #[default]
+    AccretedMass,
+    /// Uniform in radius: midpoints r_k = r1 + (k + 1/2)(r2 - r1)/200, equal
+    /// weights (the specification's original average).
     Uniform,
     /// Uniform in ln r: midpoints r_k = r1 (r2/r1)^((k + 1/2)/200), equal
     /// weights; a planet spending equal time per factor in radius (common
@@ -78,6 +87,7 @@ impl RadialWeighting {
     /// Key in outputs.
     pub fn key(self) -> &'static str {
         match self {
+            RadialWeighting::AccretedMass => "accreted_mass",
             RadialWeighting::Uniform => "uniform",
             RadialWeighting::LogRadius => "log_radius",
         }
@@ -100,7 +110,7 @@ pub enum FormationPlace {
         inner_radius_au: f64,
         /// Outer end [au], greater than the inner end.
         outer_radius_au: f64,
-        /// Weighting of the midpoints. Default uniform in radius.
+        /// Weighting of the midpoints. Default by accreted mass.
         weighting: RadialWeighting,
     },
 }
@@ -132,6 +142,19 @@ pub struct AccretedPhases {
     /// Per species (`Species::ALL` order): its ice is out of equilibrium at the disk's age at this
     /// place (at any averaging point), so the accreted phases depend on the disk's history.
     pub out_of_equilibrium: [bool; SPECIES_COUNT],
+    /// The Sun's abundances per H: the star's reference compilation without its offsets.
+    pub solar_per_h: [f64; ELEMENT_COUNT],
+}
+
+/// The Sun's X/H (C, O, N, S, Si, Mg, Fe): 10^(log eps - 12) of the model's
+/// reference compilation, without the star's offsets (docs/model.md section 1).
+pub fn solar_per_h(model: &Model) -> [f64; ELEMENT_COUNT] {
+    model
+        .parameters
+        .star
+        .abundance_reference
+        .log_eps()
+        .map(|l| exp10(l - 12.0))
 }
 
 /// One element in the envelope.
@@ -149,8 +172,12 @@ pub struct ElementInEnvelope {
     pub per_h: f64,
     /// (N_e / N_H) / (X/H of the star).
     pub relative_to_star: f64,
-    /// [X/H] = log10 of `relative_to_star`; `None` where N_e/N_H is below 1e-9 of the star's X/H.
+    /// [X/H] relative to the star = log10 of `relative_to_star`; `None` where N_e/N_H is below 1e-9 of the star's X/H.
     pub dex: Option<f64>,
+    /// (N_e / N_H) / (X/H of the Sun).
+    pub relative_to_sun: f64,
+    /// [X/H] relative to the Sun [dex]; `None` where N_e/N_H is below 1e-9 of the Sun's X/H.
+    pub dex_sun: Option<f64>,
     /// Fraction of the atoms that came with the solids; `None` where the envelope has none.
     pub solid_share: Option<f64>,
 }
@@ -181,11 +208,19 @@ impl Envelope {
     pub fn element(&self, e: Element) -> &ElementInEnvelope {
         &self.elements[e as usize]
     }
-    /// [C/H] in dex.
+    /// [C/H] relative to the Sun, in dex.
+    pub fn c_to_h_dex_rel_sun(&self) -> Option<f64> {
+        self.element(Element::C).dex_sun
+    }
+    /// [O/H] relative to the Sun, in dex.
+    pub fn o_to_h_dex_rel_sun(&self) -> Option<f64> {
+        self.element(Element::O).dex_sun
+    }
+    /// [C/H] relative to the star, in dex.
     pub fn c_to_h_dex(&self) -> Option<f64> {
         self.element(Element::C).dex
     }
-    /// [O/H] in dex.
+    /// [O/H] relative to the star, in dex.
     pub fn o_to_h_dex(&self) -> Option<f64> {
         self.element(Element::O).dex
     }
@@ -220,7 +255,7 @@ impl PlanetRequest {
             solid_mixing_fraction: 1.0,
         }
     }
-    /// A planet accreting along [inner, outer] au, uniform weighting, M_gas = 1 g, f_mix = 1.
+    /// A planet accreting along [inner, outer] au, weighted by accreted mass (the default), M_gas = 1 g, f_mix = 1.
     pub fn migrating(
         inner_radius_au: f64,
         outer_radius_au: f64,
@@ -230,7 +265,7 @@ impl PlanetRequest {
             place: FormationPlace::Migration {
                 inner_radius_au,
                 outer_radius_au,
-                weighting: RadialWeighting::Uniform,
+                weighting: RadialWeighting::AccretedMass,
             },
             gas_mass_g: 1.0,
             solid_to_gas,
@@ -410,6 +445,7 @@ impl AccretedPhases {
             points: 1,
             stellar_per_h: model.carriers.stellar_per_h,
             out_of_equilibrium: p.out_of_equilibrium,
+            solar_per_h: solar_per_h(model),
         }
     }
 
@@ -443,10 +479,12 @@ impl AccretedPhases {
 
     /// The phases averaged over a migration range [inner, outer] au
     /// (docs/model.md section 9): atoms per gram of each phase averaged with the
-    /// midpoint rule over 200 points placed as `weighting` says, each point the
-    /// model's own column at that radius. The solids' atoms per gram are
-    /// averaged over the points that hold solids (a place without solids
-    /// supplies none), so they are `None` only when no point holds solids.
+    /// midpoint rule over 200 points placed and weighted as `weighting` says
+    /// (by accreted mass: gas weights Sigma_gas(r_k) r_k, solid weights those
+    /// times the local solid-to-gas ratio), each point the model's own column at
+    /// that radius. The solids' atoms per gram are averaged over the points that
+    /// hold solids (a place without solids supplies none), so they are `None`
+    /// only when no point holds solids.
     pub fn averaged(
         model: &Model,
         inner_radius_au: f64,
@@ -470,36 +508,51 @@ impl AccretedPhases {
         let mut solid_to_gas = 0.0;
         let mut with_solids = 0usize;
         let mut out_of_equilibrium = [false; SPECIES_COUNT];
+        let (mut gas_weight, mut solid_weight) = (0.0, 0.0);
         let ln_ratio = ln(outer_radius_au / inner_radius_au);
         for k in 0..n {
             let t = (k as f64 + 0.5) / n as f64;
             let r = match weighting {
-                RadialWeighting::Uniform => {
+                RadialWeighting::Uniform | RadialWeighting::AccretedMass => {
                     inner_radius_au + t * (outer_radius_au - inner_radius_au)
                 }
                 RadialWeighting::LogRadius => inner_radius_au * exp(t * ln_ratio),
             };
             let p = point_phases(&model.midplane_at(r)?, reference);
+            // Gas weight: Sigma_gas r (dr is the same at every midpoint), or 1.
+            let w = match weighting {
+                RadialWeighting::AccretedMass => {
+                    surface_density_g_cm2(&model.structure.constants, r * AU_CM) * r
+                }
+                _ => 1.0,
+            };
             for (sum, v) in gas.iter_mut().zip(p.gas) {
-                *sum += v;
+                *sum += w * v;
             }
+            gas_weight += w;
             if let Some(s) = p.solid {
                 with_solids += 1;
+                let ws = match weighting {
+                    RadialWeighting::AccretedMass => w * p.solid_to_gas,
+                    _ => 1.0,
+                };
                 for (sum, v) in solid.iter_mut().zip(s) {
-                    *sum += v;
+                    *sum += ws * v;
                 }
+                solid_weight += ws;
             }
-            solid_to_gas += p.solid_to_gas;
+            solid_to_gas += w * p.solid_to_gas;
             for (flag, point) in out_of_equilibrium.iter_mut().zip(p.out_of_equilibrium) {
                 *flag |= point;
             }
         }
-        let gas = gas.map(|v| v / n as f64);
-        let solid_atoms_per_g = if with_solids > 0 {
-            Some(solid.map(|v| v / with_solids as f64))
+        let gas = gas.map(|v| v / gas_weight);
+        let solid_atoms_per_g = if with_solids > 0 && solid_weight > 0.0 {
+            Some(solid.map(|v| v / solid_weight))
         } else {
             None
         };
+        let solid_to_gas = solid_to_gas * n as f64 / gas_weight;
         Ok(AccretedPhases {
             inner_radius_au,
             outer_radius_au,
@@ -511,14 +564,19 @@ impl AccretedPhases {
             points: n,
             stellar_per_h: model.carriers.stellar_per_h,
             out_of_equilibrium,
+            solar_per_h: solar_per_h(model),
         })
     }
 
     /// C/O of the accreted gas (atoms per gram); `None` below the 1e-9 rule.
     pub fn gas_c_to_o(&self) -> Option<f64> {
         let (c, o) = (Element::C as usize, Element::O as usize);
-        defined_ratio(
+        let carbon = zero_below_rounding(
             self.gas_atoms_per_g[c],
+            self.stellar_per_h[c] * self.hydrogen_per_gram_of_gas,
+        );
+        defined_ratio(
+            carbon,
             self.gas_atoms_per_g[o],
             self.stellar_per_h[o] * self.hydrogen_per_gram_of_gas,
         )
@@ -529,8 +587,11 @@ impl AccretedPhases {
     pub fn solid_c_to_o(&self) -> Option<f64> {
         let (c, o) = (Element::C as usize, Element::O as usize);
         let s = self.solid_atoms_per_g?;
+        // Carbon per gram of solids below 1e-9 of the star's C per gram of gas is zero up to rounding.
+        let carbon =
+            zero_below_rounding(s[c], self.stellar_per_h[c] * self.hydrogen_per_gram_of_gas);
         defined_ratio(
-            s[c],
+            carbon,
             s[o],
             self.stellar_per_h[o] * self.hydrogen_per_gram_of_gas,
         )
@@ -568,15 +629,21 @@ impl AccretedPhases {
         let solid_mass_g = solid_to_gas * gas_mass_g;
         let hydrogen_atoms = gas_mass_g * self.hydrogen_per_gram_of_gas;
         let elements: [ElementInEnvelope; ELEMENT_COUNT] = std::array::from_fn(|e| {
-            let from_gas_atoms = gas_mass_g * self.gas_atoms_per_g[e];
+            // Atoms below 1e-9 of the star's share of this element (per H of the
+            // accreted gas) are zero up to rounding (docs/model.md section 8).
+            let star = self.stellar_per_h[e];
+            let total = star * hydrogen_atoms;
+            let from_gas_atoms = zero_below_rounding(gas_mass_g * self.gas_atoms_per_g[e], total);
             let from_solids_atoms = match &self.solid_atoms_per_g {
-                Some(s) => solid_mixing_fraction * solid_mass_g * s[e],
+                Some(s) => zero_below_rounding(
+                    solid_mixing_fraction * solid_mass_g * s[e],
+                    total.max(from_gas_atoms),
+                ),
                 None => 0.0,
             };
             let atoms = from_gas_atoms + from_solids_atoms;
             let per_h = atoms / hydrogen_atoms;
-            let star = self.stellar_per_h[e];
-            let relative_to_star = per_h / star;
+            let relative_to_star = one_within_rounding(per_h / star);
             ElementInEnvelope {
                 element: Element::ALL[e],
                 atoms,
@@ -586,6 +653,12 @@ impl AccretedPhases {
                 relative_to_star,
                 dex: if per_h >= 1e-9 * star && per_h > 0.0 {
                     Some(log10(relative_to_star))
+                } else {
+                    None
+                },
+                relative_to_sun: one_within_rounding(per_h / self.solar_per_h[e]),
+                dex_sun: if per_h >= 1e-9 * self.solar_per_h[e] && per_h > 0.0 {
+                    Some(log10(one_within_rounding(per_h / self.solar_per_h[e])))
                 } else {
                     None
                 },
@@ -620,57 +693,146 @@ fn log10(x: f64) -> f64 {
 // ---------------------------------------------------------------------------
 // Inverse map.
 
-/// Which metallicity tracer an observation constrains.
+/// A quantity an atmospheric retrieval gives of a planet's envelope.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
-pub enum MetallicityTracer {
-    /// [C/H].
-    Carbon,
-    /// [O/H].
-    Oxygen,
+pub enum Observable {
+    /// C/O, the number ratio (linear, no reference).
+    CToO,
+    /// [C/H] [dex], relative to the star or the Sun.
+    CToH,
+    /// [O/H] [dex], relative to the star or the Sun.
+    OToH,
+    /// [M/H] [dex]: (C + O + N + S)/H relative to the same sum of the
+    /// reference, the metallicity of the volatile elements the model partitions
+    /// between gas and solids (Si, Mg, Fe are not counted). A choice of this
+    /// program (no single source; retrievals define [M/H] in several ways).
+    MToH,
 }
 
-impl MetallicityTracer {
-    /// Label, e.g. "[C/H]".
+impl Observable {
+    /// Every observable, in the order they are fitted and listed.
+    pub const ALL: [Observable; 4] = [
+        Observable::CToO,
+        Observable::CToH,
+        Observable::OToH,
+        Observable::MToH,
+    ];
+    /// Key in outputs and options: c_to_o, c_to_h, o_to_h, m_to_h.
+    pub fn key(self) -> &'static str {
+        match self {
+            Observable::CToO => "c_to_o",
+            Observable::CToH => "c_to_h",
+            Observable::OToH => "o_to_h",
+            Observable::MToH => "m_to_h",
+        }
+    }
+    /// Label: "C/O", "[C/H]", "[O/H]", "[M/H]".
     pub fn label(self) -> &'static str {
         match self {
-            MetallicityTracer::Carbon => "[C/H]",
-            MetallicityTracer::Oxygen => "[O/H]",
+            Observable::CToO => "C/O",
+            Observable::CToH => "[C/H]",
+            Observable::OToH => "[O/H]",
+            Observable::MToH => "[M/H]",
+        }
+    }
+    /// True for the metallicities (in dex).
+    pub fn is_metallicity(self) -> bool {
+        self != Observable::CToO
+    }
+}
+
+/// What a metallicity [X/H] is relative to.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
+pub enum MetallicityReference {
+    /// The star's own X/H (the reference compilation plus the star's offsets). Default.
+    #[default]
+    Star,
+    /// The Sun: the reference compilation's photospheric X/H without the star's offsets.
+    Sun,
+}
+
+impl MetallicityReference {
+    /// Key in outputs: "star" or "sun".
+    pub fn key(self) -> &'static str {
+        match self {
+            MetallicityReference::Star => "star",
+            MetallicityReference::Sun => "sun",
         }
     }
 }
 
-/// An observed metallicity [X/H] in dex with its 1-sigma error.
+/// One observed quantity with its 1-sigma error.
 #[derive(Debug, Clone, Copy, PartialEq)]
-pub struct ObservedMetallicity {
-    /// Which element.
-    pub tracer: MetallicityTracer,
-    /// [X/H] [dex], relative to the star.
-    pub dex: f64,
-    /// 1-sigma error [dex], > 0.
-    pub sigma_dex: f64,
+pub struct Observation {
+    /// What was observed.
+    pub quantity: Observable,
+    /// The value (C/O linear; metallicities in dex).
+    pub value: f64,
+    /// 1-sigma error (> 0; ignored when a covariance matrix is given).
+    pub sigma: f64,
 }
 
-/// What was observed of a planet's envelope.
-#[derive(Debug, Clone, Copy, PartialEq)]
+/// What was observed of a planet's envelope: any of C/O, [C/H], [O/H] and
+/// [M/H], each at most once, optionally with their covariance.
+#[derive(Debug, Clone, PartialEq)]
 pub struct ObservedEnvelope {
-    /// Envelope C/O (>= 0).
-    pub c_to_o: f64,
-    /// 1-sigma error of C/O (> 0).
-    pub c_to_o_sigma: f64,
-    /// Optional [C/H] or [O/H].
-    pub metallicity: Option<ObservedMetallicity>,
+    /// The observed quantities (at least one, each at most once).
+    pub observations: Vec<Observation>,
+    /// Optional covariance matrix, row-major n x n in the order of
+    /// `observations`; symmetric and positive definite. When given it
+    /// replaces the sigmas: chi2 = r^T C^-1 r.
+    pub covariance: Option<Vec<f64>>,
+    /// What the metallicities are relative to.
+    pub relative_to: MetallicityReference,
 }
 
 impl ObservedEnvelope {
-    /// Number of observed quantities fitted (1 or 2).
-    pub fn fitted_quantities(&self) -> usize {
-        1 + usize::from(self.metallicity.is_some())
+    /// C/O alone, metallicities (none) relative to the star.
+    pub fn c_to_o(value: f64, sigma: f64) -> ObservedEnvelope {
+        ObservedEnvelope {
+            observations: vec![Observation {
+                quantity: Observable::CToO,
+                value,
+                sigma,
+            }],
+            covariance: None,
+            relative_to: MetallicityReference::Star,
+        }
     }
-    /// What is fitted, in words ("C/O" or "C/O and [O/H]").
+    /// Adds an observed quantity.
+    pub fn with(mut self, quantity: Observable, value: f64, sigma: f64) -> ObservedEnvelope {
+        self.observations.push(Observation {
+            quantity,
+            value,
+            sigma,
+        });
+        self
+    }
+    /// The observation of `quantity`, if any.
+    pub fn get(&self, quantity: Observable) -> Option<&Observation> {
+        self.observations.iter().find(|o| o.quantity == quantity)
+    }
+    /// True when a metallicity ([C/H], [O/H] or [M/H]) is fitted.
+    pub fn has_metallicity(&self) -> bool {
+        self.observations
+            .iter()
+            .any(|o| o.quantity.is_metallicity())
+    }
+    /// Number of observed quantities fitted.
+    pub fn fitted_quantities(&self) -> usize {
+        self.observations.len()
+    }
+    /// What is fitted, in words ("C/O", "C/O and [O/H]", "C/O, [C/H] and [O/H]").
     pub fn fitted_label(&self) -> String {
-        match self.metallicity {
-            Some(m) => format!("C/O and {}", m.tracer.label()),
-            None => "C/O".to_string(),
+        let labels: Vec<&str> = self
+            .observations
+            .iter()
+            .map(|o| o.quantity.label())
+            .collect();
+        match labels.len() {
+            0 => String::new(),
+            1 => labels[0].to_string(),
+            n => format!("{} and {}", labels[..n - 1].join(", "), labels[n - 1]),
         }
     }
 }
@@ -682,7 +844,7 @@ impl ObservedEnvelope {
 /// quantile with nu degrees of freedom at 68.27 % and 95.45 %: 2.30 and 6.18
 /// for nu = 2, 1.00 and 4.00 for nu = 1 (Press et al. 2007, Numerical Recipes,
 /// 3rd ed., section 15.6.5 and its table of delta chi-square; Avni 1976,
-/// ApJ 210, 642). docs/model.md section 9 prescribes nu = 2, which is the default.
+/// ApJ 210, 642). docs/model.md section 9 prescribes nu = 2, the default.
 ///
 /// With only C/O observed, one number constrains two parameters: the chi-square
 /// surface has a valley along which chi2 = 0, the parameters are not
@@ -697,7 +859,7 @@ pub enum ConfidenceConvention {
     /// nu = 2, the two mapped parameters (docs/model.md section 9). Default.
     #[default]
     MappedParameters,
-    /// nu = number of fitted observed quantities (1 for C/O alone, 2 with a metallicity).
+    /// nu = number of fitted observed quantities (1 for C/O alone, 2 or more with metallicities; capped at 2).
     FittedQuantities,
 }
 
@@ -742,24 +904,67 @@ impl DeltaChiSquare {
     }
 }
 
+/// Fraction of a giant planet's oxygen locked in silicate and metal-oxide
+/// condensates below the observable atmosphere, about 20 % (Burrows & Sharp
+/// 1999, ApJ 512, 843, section on condensation: roughly 20 % of O is bound
+/// to Si, Mg, Ca and Al in deep condensates). Used by the optional correction.
+pub const BURROWS_SHARP_OXYGEN_SEQUESTERED: f64 = 0.2;
+
+/// Default feeding-zone half-width in Hill radii: 2 sqrt(3) = 3.46, the
+/// half-width of the region a protoplanet on a circular orbit can accrete from
+/// (Lissauer 1993, ARA&A 31, 129, section 3; from memory, M).
+pub const DEFAULT_FEEDING_ZONE_HILL_RADII: f64 = 3.464_101_615_137_754_6;
+
+/// Fitted parameters of the map (formation radius, solid-to-gas ratio).
+pub const FITTED_PARAMETERS: usize = 2;
+
+/// Smallest p-value at which a fit counts as acceptable (common practice, no
+/// source: a 1 % significance level).
+pub const ACCEPTABLE_P_VALUE: f64 = 0.01;
+
 /// Settings of the inverse map.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct MapSettings {
-    /// Number of log-spaced solid-to-gas values over 1e-3..1 (both ends included). Default 48, in [40, 1000].
+    /// Number of log-spaced solid-to-gas values (both ends included). Default 48, in [40, 1000].
     pub ratio_count: usize,
+    /// Smallest solid-to-gas value. Default 1e-3; > 0.
+    pub ratio_min: f64,
+    /// Largest solid-to-gas value. Default 1; greater than `ratio_min`, at most 1000.
+    pub ratio_max: f64,
     /// f_mix, fixed over the map. Default 1.
     pub solid_mixing_fraction: f64,
     /// Delta chi-square convention. Default two mapped parameters (2.30, 6.18).
     pub convention: ConfidenceConvention,
+    /// Flat prior on the formation radius [au]: places outside are excluded. Default none.
+    pub radius_prior_au: Option<(f64, f64)>,
+    /// Flat prior on the solid-to-gas ratio: ratios outside are excluded. Default none.
+    pub solid_to_gas_prior: Option<(f64, f64)>,
+    /// Fraction of the envelope's oxygen taken as hidden in the planet's own
+    /// condensates before comparing with the observation, in [0, 1). Default 0
+    /// (no correction); [`BURROWS_SHARP_OXYGEN_SEQUESTERED`] is the usual value.
+    pub oxygen_sequestered_fraction: f64,
+    /// Planet mass [M_Jup]; when given, places whose feeding zone holds less
+    /// gas than the envelope are infeasible. Default none.
+    pub planet_mass_mjup: Option<f64>,
+    /// Feeding-zone half-width [Hill radii]. Default [`DEFAULT_FEEDING_ZONE_HILL_RADII`].
+    pub feeding_zone_hill_radii: f64,
 }
 
 impl MapSettings {
-    /// The defaults: 48 ratios, f_mix = 1, two-parameter thresholds.
+    /// The defaults: 48 ratios over 1e-3..1, f_mix = 1, two-parameter
+    /// thresholds, no priors, no oxygen correction, no planet mass.
     pub fn defaults() -> MapSettings {
         MapSettings {
             ratio_count: DEFAULT_MAP_RATIO_COUNT,
+            ratio_min: MAP_SOLID_TO_GAS_RANGE.0,
+            ratio_max: MAP_SOLID_TO_GAS_RANGE.1,
             solid_mixing_fraction: 1.0,
             convention: ConfidenceConvention::MappedParameters,
+            radius_prior_au: None,
+            solid_to_gas_prior: None,
+            oxygen_sequestered_fraction: 0.0,
+            planet_mass_mjup: None,
+            feeding_zone_hill_radii: DEFAULT_FEEDING_ZONE_HILL_RADII,
         }
     }
 }
@@ -771,19 +976,25 @@ pub struct MapRow {
     pub radius_au: f64,
     /// M_solid / M_gas.
     pub solid_to_gas: f64,
-    /// Model envelope C/O.
+    /// Model envelope C/O (after the oxygen correction, if any).
     pub c_to_o: Option<f64>,
-    /// Model [C/H] [dex].
+    /// Model [C/H] [dex], relative to `observed.relative_to`.
     pub c_to_h_dex: Option<f64>,
-    /// Model [O/H] [dex].
+    /// Model [O/H] [dex], relative to `observed.relative_to` (after the oxygen correction).
     pub o_to_h_dex: Option<f64>,
+    /// Model [M/H] [dex], relative to `observed.relative_to` (after the oxygen correction).
+    pub m_to_h_dex: Option<f64>,
     /// Chi-square against the observation; `None` where a fitted model quantity is undefined.
     pub chi2: Option<f64>,
-    /// chi2 - min chi2 over the map.
+    /// chi2 - min chi2 over the eligible rows.
     pub delta_chi2: Option<f64>,
-    /// delta chi2 <= the 1-sigma threshold.
+    /// The feeding zone holds at least the envelope's gas (always true without a planet mass).
+    pub feasible: bool,
+    /// Inside the priors (always true without priors).
+    pub in_prior: bool,
+    /// delta chi2 <= the 1-sigma threshold, the row eligible and the fit acceptable.
     pub within_1sigma: bool,
-    /// delta chi2 <= the 2-sigma threshold.
+    /// delta chi2 <= the 2-sigma threshold, the row eligible and the fit acceptable.
     pub within_2sigma: bool,
 }
 
@@ -802,6 +1013,25 @@ pub struct BestFit {
     pub chi2: f64,
     /// The row.
     pub row: MapRow,
+}
+
+/// How well the best place fits (docs/model.md section 9, goodness of fit).
+#[derive(Debug, Clone, PartialEq)]
+pub struct Goodness {
+    /// Smallest chi-square over the eligible rows (feasible, inside the priors); `None` if none is defined.
+    pub chi2_min: Option<f64>,
+    /// Degrees of freedom: fitted observables minus the 2 fitted parameters, floored at 1.
+    pub degrees_of_freedom: usize,
+    /// True when the floor was used (fewer than 3 observables).
+    pub degrees_of_freedom_floored: bool,
+    /// P(chi2 >= chi2_min) for that many degrees of freedom (chi-square survival function).
+    pub p_value: Option<f64>,
+    /// p >= 0.01: some place reproduces the observation.
+    pub acceptable: bool,
+    /// The best fit sits on the smallest or largest solid-to-gas value of the grid.
+    pub best_on_ratio_grid_edge: bool,
+    /// Why the fit is unacceptable, in words; `None` when acceptable.
+    pub reason: Option<String>,
 }
 
 /// A contiguous run of radial cells.
@@ -894,17 +1124,27 @@ pub struct ChiSquareMap {
     pub solid_to_gas: Vec<f64>,
     /// Long-form rows, radius-major: row `j * solid_to_gas.len() + k`.
     pub rows: Vec<MapRow>,
-    /// The smallest chi-square (first in row order on ties); `None` if no row is defined.
+    /// The smallest chi-square over the eligible rows (first in row order on ties); `None` if none is defined.
     pub best: Option<BestFit>,
-    /// Per solid-to-gas value, the allowed radius ranges.
+    /// Goodness of fit of the best place.
+    pub goodness: Goodness,
+    /// Per solid-to-gas value, the allowed radius ranges (all empty when the fit is unacceptable).
     pub allowed: Vec<AllowedRadii>,
     /// Radial cell edges [au] (N_r + 1 values).
     pub cell_edges_au: Vec<f64>,
+    /// Gas mass [g] within the feeding zone of each radial cell; empty without a planet mass.
+    pub feeding_zone_gas_g: Vec<f64>,
+    /// Runs of radial cells where no solid-to-gas value is feasible (too little gas), inner first.
+    pub infeasible: Vec<RadiusInterval>,
 }
 
-/// The log-spaced solid-to-gas values of the map: 10^(-3 + 3 k/(n - 1)), k = 0..n-1.
+/// The log-spaced solid-to-gas values of the default map: 10^(-3 + 3 k/(n - 1)), k = 0..n-1.
 pub fn map_solid_to_gas_values(count: usize) -> Vec<f64> {
-    let (lo, hi) = MAP_SOLID_TO_GAS_RANGE;
+    solid_to_gas_values(MAP_SOLID_TO_GAS_RANGE.0, MAP_SOLID_TO_GAS_RANGE.1, count)
+}
+
+/// `count` log-spaced values from `lo` to `hi` (both included exactly).
+pub fn solid_to_gas_values(lo: f64, hi: f64, count: usize) -> Vec<f64> {
     let (a, b) = (log10(lo), log10(hi));
     (0..count)
         .map(|k| {
@@ -919,138 +1159,232 @@ pub fn map_solid_to_gas_values(count: usize) -> Vec<f64> {
         .collect()
 }
 
-/// The inverse map (docs/model.md section 9): chi-square of the forward model at
-/// every radial cell centre (the model's own grid midplane, which equals
-/// `Model::midplane_at` there) times every solid-to-gas value, against
-/// `observed`:
+/// Mass of Jupiter [g] from the IAU 2015 nominal GM_J = 1.266 865 3e26 m^3 s^-2
+/// (IAU 2015 Resolution B3) and the CODATA 2018 G.
+pub const JUPITER_MASS_G: f64 = 1.266_865_3e23 / crate::units::GRAVITATIONAL_CONSTANT_CGS;
+
+/// Mass of the Earth [g] from the IAU 2015 nominal GM_E = 3.986 004e14 m^3 s^-2
+/// (IAU 2015 Resolution B3) and the CODATA 2018 G.
+pub const EARTH_MASS_G: f64 = 3.986_004e20 / crate::units::GRAVITATIONAL_CONSTANT_CGS;
+
+/// Hill radius [cm] of a planet of mass `planet_mass_g` at `radius_cm` around
+/// a star of mass `star_mass_g`: R_H = r (M_p / (3 M_*))^(1/3) (Hill 1878;
+/// e.g. Murray & Dermott 1999, Solar System Dynamics, eq. 3.75).
+pub fn hill_radius_cm(radius_cm: f64, planet_mass_g: f64, star_mass_g: f64) -> f64 {
+    radius_cm * crate::math::pow(planet_mass_g / (3.0 * star_mass_g), 1.0 / 3.0)
+}
+
+/// Gas mass [g] in the annulus [r1, r2] (clipped to the disk's edges):
+/// M = integral of Sigma_gas(r) 2 pi r dr (docs/model.md section 2 surface
+/// density), by the midpoint rule on 400 points uniform in ln r.
+pub fn gas_mass_in_annulus_g(model: &Model, inner_cm: f64, outer_cm: f64) -> f64 {
+    let d = &model.parameters.disk;
+    let (lo, hi) = (
+        inner_cm.max(d.inner_radius_au * AU_CM),
+        outer_cm.min(d.outer_radius_au * AU_CM),
+    );
+    if !(hi > lo) {
+        return 0.0;
+    }
+    const POINTS: usize = 400;
+    let l = ln(hi / lo);
+    let mut m = 0.0;
+    for k in 0..POINTS {
+        let r = lo * exp(l * (k as f64 + 0.5) / POINTS as f64);
+        // dr = r d(ln r)
+        m += surface_density_g_cm2(&model.structure.constants, r)
+            * 2.0
+            * std::f64::consts::PI
+            * r
+            * r;
+    }
+    m * l / POINTS as f64
+}
+
+/// The inverse map (docs/model.md section 9): chi-square of the forward model
+/// at every radial cell centre (the model's own grid midplane, which equals
+/// `Model::midplane_at` there) times every solid-to-gas value, against `observed`:
 ///
-///   chi2 = ((C/O_model - C/O_obs) / sigma)^2 [+ (([X/H]_model - [X/H]_obs) / sigma_dex)^2].
+///   chi2 = sum_i ((m_i - o_i) / sigma_i)^2,   or   r^T C^-1 r with a covariance C,
 ///
-/// The per-radius phases are computed once; each ratio then costs a few
-/// multiplications. Rows where a fitted model quantity is undefined (no oxygen,
-/// no solids to accrete at a positive ratio) have `chi2 = None` and lie in no region.
+/// over the observed quantities i (C/O, [C/H], [O/H], [M/H]), the model's
+/// metallicities taken relative to the reference the observation names, and
+/// (optionally) a fraction of the envelope's oxygen removed as hidden in the
+/// planet's condensates (Burrows & Sharp 1999).
 ///
-/// Errors: `OutOfRange` for `c_to_o` (>= 0, finite), `c_to_o_sigma` (> 0,
-/// finite), the metallicity (finite) and its sigma (> 0, finite), `ratio_count`
-/// ([40, 1000]), `solid_mixing_fraction` ([0, 1]).
+/// A row is eligible when it lies inside the priors and, with a planet mass,
+/// when the gas in its feeding zone (a half-width of `feeding_zone_hill_radii`
+/// Hill radii about the place) is at least the envelope's gas mass
+/// M_p / (1 + solid-to-gas). The best fit is the smallest chi-square over
+/// eligible rows; its goodness is the chi-square survival function with
+/// max(n_obs - 2, 1) degrees of freedom. When p < 0.01 no place is acceptable
+/// and no radius is allowed.
+///
+/// Errors: `OutOfRange` for observed values (finite; C/O >= 0) and sigmas
+/// (> 0, finite) named `c_to_o`, `c_to_o_sigma`, `c_to_h_dex`, ...;
+/// `observations` (empty or repeated); `covariance` (size, symmetry, positive
+/// definiteness); `ratio_count` ([40, 1000]); `ratio_min`, `ratio_max`;
+/// `solid_mixing_fraction` ([0, 1]); priors; `oxygen_sequestered_fraction`
+/// ([0, 1)); `planet_mass_mjup` (> 0); `feeding_zone_hill_radii` (> 0).
 pub fn chi_square_map(
     model: &Model,
     observed: &ObservedEnvelope,
     settings: &MapSettings,
 ) -> Result<ChiSquareMap, PhysicsError> {
-    if !(observed.c_to_o >= 0.0 && observed.c_to_o.is_finite()) {
-        return Err(PhysicsError::OutOfRange {
-            name: "c_to_o",
-            value: observed.c_to_o,
-            allowed: ">= 0 and finite",
-        });
-    }
-    if !(observed.c_to_o_sigma > 0.0 && observed.c_to_o_sigma.is_finite()) {
-        return Err(PhysicsError::OutOfRange {
-            name: "c_to_o_sigma",
-            value: observed.c_to_o_sigma,
-            allowed: "> 0 and finite",
-        });
-    }
-    if let Some(m) = observed.metallicity {
-        if !m.dex.is_finite() {
-            return Err(PhysicsError::OutOfRange {
-                name: "metallicity_dex",
-                value: m.dex,
-                allowed: "finite",
-            });
-        }
-        if !(m.sigma_dex > 0.0 && m.sigma_dex.is_finite()) {
-            return Err(PhysicsError::OutOfRange {
-                name: "metallicity_sigma_dex",
-                value: m.sigma_dex,
-                allowed: "> 0 and finite",
-            });
-        }
-    }
-    if !(MIN_MAP_RATIO_COUNT..=MAX_MAP_RATIO_COUNT).contains(&settings.ratio_count) {
-        return Err(PhysicsError::OutOfRange {
-            name: "ratio_count",
-            value: settings.ratio_count as f64,
-            allowed: "in [40, 1000]",
-        });
-    }
-    if !(0.0..=1.0).contains(&settings.solid_mixing_fraction) {
-        return Err(PhysicsError::OutOfRange {
-            name: "solid_mixing_fraction",
-            value: settings.solid_mixing_fraction,
-            allowed: "in [0, 1]",
-        });
-    }
+    let weights = validate_map_inputs(observed, settings)?;
     let st = &model.structure;
     let n_r = st.radial_cells;
-    let ratios = map_solid_to_gas_values(settings.ratio_count);
+    let ratios = solid_to_gas_values(settings.ratio_min, settings.ratio_max, settings.ratio_count);
+    let n_q = ratios.len();
     let radius_au: Vec<f64> = st.radius_cm.iter().map(|r| r / AU_CM).collect();
     let reference = fully_condensed_mass_per_h_amu(model);
-    let mut rows = Vec::with_capacity(n_r * ratios.len());
+    let reference_per_h = match observed.relative_to {
+        MetallicityReference::Star => model.carriers.stellar_per_h,
+        MetallicityReference::Sun => solar_per_h(model),
+    };
+    let feeding_zone_gas_g: Vec<f64> = match settings.planet_mass_mjup {
+        None => Vec::new(),
+        Some(mp) => st
+            .radius_cm
+            .iter()
+            .map(|&r| {
+                let half = settings.feeding_zone_hill_radii
+                    * hill_radius_cm(r, mp * JUPITER_MASS_G, st.constants.star_mass_g);
+                gas_mass_in_annulus_g(model, r - half, r + half)
+            })
+            .collect(),
+    };
+    let keep_o = 1.0 - settings.oxygen_sequestered_fraction;
+    let mut rows = Vec::with_capacity(n_r * n_q);
     for (j, &r_au) in radius_au.iter().enumerate() {
         let p = point_phases(&grid_midplane(model, j), reference);
         let phases = AccretedPhases::from_point(model, r_au, r_au, p);
+        let in_radius_prior = settings
+            .radius_prior_au
+            .is_none_or(|(a, b)| r_au >= a && r_au <= b);
         for &q in &ratios {
+            let in_prior = in_radius_prior
+                && settings
+                    .solid_to_gas_prior
+                    .is_none_or(|(a, b)| q >= a && q <= b);
+            let feasible = match settings.planet_mass_mjup {
+                None => true,
+                Some(mp) => feeding_zone_gas_g[j] >= mp * JUPITER_MASS_G / (1.0 + q),
+            };
+            let mut row = MapRow {
+                radius_au: r_au,
+                solid_to_gas: q,
+                c_to_o: None,
+                c_to_h_dex: None,
+                o_to_h_dex: None,
+                m_to_h_dex: None,
+                chi2: None,
+                delta_chi2: None,
+                feasible,
+                in_prior,
+                within_1sigma: false,
+                within_2sigma: false,
+            };
             if phases.solid_atoms_per_g.is_none() {
-                rows.push(MapRow {
-                    radius_au: r_au,
-                    solid_to_gas: q,
-                    c_to_o: None,
-                    c_to_h_dex: None,
-                    o_to_h_dex: None,
-                    chi2: None,
-                    delta_chi2: None,
-                    within_1sigma: false,
-                    within_2sigma: false,
-                });
+                rows.push(row);
                 continue;
             }
             let env = phases.envelope_unchecked(1.0, q, settings.solid_mixing_fraction);
-            let (c_to_h, o_to_h) = (env.c_to_h_dex(), env.o_to_h_dex());
-            let chi2 = env.c_to_o.and_then(|c| {
-                let base = sq((c - observed.c_to_o) / observed.c_to_o_sigma);
-                match observed.metallicity {
-                    None => Some(base),
-                    Some(m) => {
-                        let model_dex = match m.tracer {
-                            MetallicityTracer::Carbon => c_to_h,
-                            MetallicityTracer::Oxygen => o_to_h,
-                        };
-                        model_dex.map(|d| base + sq((d - m.dex) / m.sigma_dex))
+            let per_h =
+                |e: Element| env.element(e).per_h * if e == Element::O { keep_o } else { 1.0 };
+            let dex = |x: f64, x_ref: f64| {
+                (x >= 1e-9 * x_ref && x > 0.0).then(|| zero_if_rounding(log10(x / x_ref)))
+            };
+            let (c, o) = (per_h(Element::C), per_h(Element::O));
+            let (ci, oi) = (Element::C as usize, Element::O as usize);
+            row.c_to_o = defined_ratio(c, o, model.carriers.stellar_per_h[oi]);
+            row.c_to_h_dex = dex(c, reference_per_h[ci]);
+            row.o_to_h_dex = dex(o, reference_per_h[oi]);
+            let volatile = [Element::C, Element::O, Element::N, Element::S];
+            let m_sum: f64 = volatile.iter().map(|&e| per_h(e)).sum();
+            let m_ref: f64 = volatile.iter().map(|&e| reference_per_h[e as usize]).sum();
+            row.m_to_h_dex = dex(m_sum, m_ref);
+            let model_values: Option<Vec<f64>> = observed
+                .observations
+                .iter()
+                .map(|ob| match ob.quantity {
+                    Observable::CToO => row.c_to_o,
+                    Observable::CToH => row.c_to_h_dex,
+                    Observable::OToH => row.o_to_h_dex,
+                    Observable::MToH => row.m_to_h_dex,
+                })
+                .collect();
+            row.chi2 = model_values.map(|m| {
+                let n = m.len();
+                let r: Vec<f64> = m
+                    .iter()
+                    .zip(&observed.observations)
+                    .map(|(mv, ob)| mv - ob.value)
+                    .collect();
+                let mut s = 0.0;
+                for a in 0..n {
+                    for b in 0..n {
+                        s += r[a] * weights[a * n + b] * r[b];
                     }
                 }
+                s
             });
-            rows.push(MapRow {
-                radius_au: r_au,
-                solid_to_gas: q,
-                c_to_o: env.c_to_o,
-                c_to_h_dex: c_to_h,
-                o_to_h_dex: o_to_h,
-                chi2,
-                delta_chi2: None,
-                within_1sigma: false,
-                within_2sigma: false,
-            });
+            rows.push(row);
         }
     }
     let thresholds = DeltaChiSquare::new(settings.convention, observed.fitted_quantities());
-    let n_q = ratios.len();
+    let eligible = |r: &MapRow| r.feasible && r.in_prior;
     let mut best: Option<(usize, f64)> = None;
     for (i, row) in rows.iter().enumerate() {
-        if let Some(c) = row.chi2 {
-            if best.map(|(_, b)| c < b).unwrap_or(true) {
+        if let (Some(c), true) = (row.chi2, eligible(row)) {
+            if best.is_none_or(|(_, b)| c < b) {
                 best = Some((i, c));
             }
         }
     }
+    let n_obs = observed.fitted_quantities();
+    let degrees_of_freedom = n_obs.saturating_sub(FITTED_PARAMETERS).max(1);
+    let p_value = best.and_then(|(_, c)| chi_square_survival(c, degrees_of_freedom));
+    let acceptable = p_value.is_some_and(|p| p >= ACCEPTABLE_P_VALUE);
+    let any_defined = rows.iter().any(|r| r.chi2.is_some());
+    let reason = if acceptable {
+        None
+    } else if !any_defined {
+        Some(format!(
+            "no place in the disk gives defined values of {}",
+            observed.fitted_label()
+        ))
+    } else if best.is_none() {
+        if settings.planet_mass_mjup.is_some()
+            && rows.iter().any(|r| r.chi2.is_some() && r.in_prior)
+        {
+            Some("no place allowed by the priors holds enough gas in its feeding zone for the planet's envelope".to_string())
+        } else {
+            Some(
+                "no place inside the priors gives defined values of the fitted quantities"
+                    .to_string(),
+            )
+        }
+    } else {
+        let (_, c) = best.unwrap_or((0, f64::NAN));
+        Some(format!(
+            "no place in the disk reproduces the observed {}: the smallest chi-square is {} for {} degree{} of freedom, p = {} < {}",
+            observed.fitted_label(),
+            significant(c, 3),
+            degrees_of_freedom,
+            if degrees_of_freedom == 1 { "" } else { "s" },
+            p_text(p_value.unwrap_or(0.0)),
+            ACCEPTABLE_P_VALUE
+        ))
+    };
     if let Some((_, min)) = best {
         for row in rows.iter_mut() {
             if let Some(c) = row.chi2 {
                 let d = c - min;
                 row.delta_chi2 = Some(d);
-                row.within_1sigma = d <= thresholds.one_sigma;
-                row.within_2sigma = d <= thresholds.two_sigma;
+                let ok = acceptable && eligible(row);
+                row.within_1sigma = ok && d <= thresholds.one_sigma;
+                row.within_2sigma = ok && d <= thresholds.two_sigma;
             }
         }
     }
@@ -1058,11 +1392,11 @@ pub fn chi_square_map(
     let cell_edges_au: Vec<f64> = (0..=n_r)
         .map(|j| model.parameters.disk.inner_radius_au * exp(ln_edge * j as f64 / n_r as f64))
         .collect();
-    let runs = |k: usize, inside: &dyn Fn(&MapRow) -> bool| -> Vec<RadiusInterval> {
+    let runs_of = |inside: &dyn Fn(usize) -> bool| -> Vec<RadiusInterval> {
         let mut out = Vec::new();
         let mut start: Option<usize> = None;
         for j in 0..=n_r {
-            let ok = j < n_r && inside(&rows[j * n_q + k]);
+            let ok = j < n_r && inside(j);
             match (ok, start) {
                 (true, None) => start = Some(j),
                 (false, Some(s)) => {
@@ -1084,10 +1418,15 @@ pub fn chi_square_map(
     let allowed = (0..n_q)
         .map(|k| AllowedRadii {
             solid_to_gas: ratios[k],
-            one_sigma: runs(k, &|r: &MapRow| r.within_1sigma),
-            two_sigma: runs(k, &|r: &MapRow| r.within_2sigma),
+            one_sigma: runs_of(&|j| rows[j * n_q + k].within_1sigma),
+            two_sigma: runs_of(&|j| rows[j * n_q + k].within_2sigma),
         })
         .collect();
+    let infeasible = if settings.planet_mass_mjup.is_some() {
+        runs_of(&|j| (0..n_q).all(|k| !rows[j * n_q + k].feasible))
+    } else {
+        Vec::new()
+    };
     let best = best.map(|(i, chi2)| BestFit {
         radial_cell: i / n_q,
         ratio_index: i % n_q,
@@ -1096,21 +1435,255 @@ pub fn chi_square_map(
         chi2,
         row: rows[i],
     });
+    let goodness = Goodness {
+        chi2_min: best.map(|b| b.chi2),
+        degrees_of_freedom,
+        degrees_of_freedom_floored: n_obs < FITTED_PARAMETERS + 1,
+        p_value,
+        acceptable,
+        best_on_ratio_grid_edge: best
+            .is_some_and(|b| b.ratio_index == 0 || b.ratio_index + 1 == n_q),
+        reason,
+    };
     Ok(ChiSquareMap {
-        observed: *observed,
+        observed: observed.clone(),
         settings: *settings,
         thresholds,
         radius_au,
         solid_to_gas: ratios,
         rows,
         best,
+        goodness,
         allowed,
         cell_edges_au,
+        feeding_zone_gas_g,
+        infeasible,
     })
 }
 
-fn sq(x: f64) -> f64 {
-    x * x
+/// A p-value in words: "1.2e-20", "0.0034".
+fn p_text(p: f64) -> String {
+    if p == 0.0 {
+        "0 (below the smallest double)".to_string()
+    } else if p < 1e-3 {
+        format!("{p:.1e}")
+    } else {
+        significant(p, 2)
+    }
+}
+
+/// A dex value that is zero up to rounding (|x| < 1e-9 dex, a ratio within
+/// 2.3e-9 of the reference) is written as exactly 0.
+fn zero_if_rounding(x: f64) -> f64 {
+    if x.abs() < 1e-9 {
+        0.0
+    } else {
+        x
+    }
+}
+
+/// Checks the observation and settings; returns the inverse covariance (row-major n x n).
+fn validate_map_inputs(
+    observed: &ObservedEnvelope,
+    settings: &MapSettings,
+) -> Result<Vec<f64>, PhysicsError> {
+    let n = observed.observations.len();
+    if n == 0 {
+        return Err(PhysicsError::OutOfRange {
+            name: "observations",
+            value: 0.0,
+            allowed: "at least one of C/O, [C/H], [O/H], [M/H]",
+        });
+    }
+    for (i, ob) in observed.observations.iter().enumerate() {
+        if observed.observations[..i]
+            .iter()
+            .any(|o| o.quantity == ob.quantity)
+        {
+            return Err(PhysicsError::OutOfRange {
+                name: "observations",
+                value: n as f64,
+                allowed: "each quantity at most once",
+            });
+        }
+        let (name, sigma_name): (&'static str, &'static str) = match ob.quantity {
+            Observable::CToO => ("c_to_o", "c_to_o_sigma"),
+            Observable::CToH => ("c_to_h_dex", "c_to_h_sigma"),
+            Observable::OToH => ("o_to_h_dex", "o_to_h_sigma"),
+            Observable::MToH => ("m_to_h_dex", "m_to_h_sigma"),
+        };
+        let value_ok = ob.value.is_finite() && (ob.quantity.is_metallicity() || ob.value >= 0.0);
+        if !value_ok {
+            let allowed = if ob.quantity.is_metallicity() {
+                "finite"
+            } else {
+                ">= 0 and finite"
+            };
+            return Err(PhysicsError::OutOfRange {
+                name,
+                value: ob.value,
+                allowed,
+            });
+        }
+        if observed.covariance.is_none() && !(ob.sigma > 0.0 && ob.sigma.is_finite()) {
+            return Err(PhysicsError::OutOfRange {
+                name: sigma_name,
+                value: ob.sigma,
+                allowed: "> 0 and finite",
+            });
+        }
+    }
+    if !(MIN_MAP_RATIO_COUNT..=MAX_MAP_RATIO_COUNT).contains(&settings.ratio_count) {
+        return Err(PhysicsError::OutOfRange {
+            name: "ratio_count",
+            value: settings.ratio_count as f64,
+            allowed: "in [40, 1000]",
+        });
+    }
+    if !(settings.ratio_min > 0.0 && settings.ratio_min.is_finite()) {
+        return Err(PhysicsError::OutOfRange {
+            name: "ratio_min",
+            value: settings.ratio_min,
+            allowed: "> 0 and finite",
+        });
+    }
+    if !(settings.ratio_max > settings.ratio_min && settings.ratio_max <= 1000.0) {
+        return Err(PhysicsError::NotIncreasing {
+            name: "ratio_max",
+            value: settings.ratio_max,
+            lower_name: "ratio_min",
+            lower: settings.ratio_min,
+        });
+    }
+    if !(0.0..=1.0).contains(&settings.solid_mixing_fraction) {
+        return Err(PhysicsError::OutOfRange {
+            name: "solid_mixing_fraction",
+            value: settings.solid_mixing_fraction,
+            allowed: "in [0, 1]",
+        });
+    }
+    for (name, prior) in [
+        ("radius_prior_au", settings.radius_prior_au),
+        ("solid_to_gas_prior", settings.solid_to_gas_prior),
+    ] {
+        if let Some((a, b)) = prior {
+            if !(a.is_finite() && b.is_finite() && a >= 0.0) {
+                return Err(PhysicsError::OutOfRange {
+                    name,
+                    value: if a.is_finite() { b } else { a },
+                    allowed: "finite and >= 0",
+                });
+            }
+            if !(b > a) {
+                return Err(PhysicsError::NotIncreasing {
+                    name,
+                    value: b,
+                    lower_name: "its lower end",
+                    lower: a,
+                });
+            }
+        }
+    }
+    if !(0.0..1.0).contains(&settings.oxygen_sequestered_fraction) {
+        return Err(PhysicsError::OutOfRange {
+            name: "oxygen_sequestered_fraction",
+            value: settings.oxygen_sequestered_fraction,
+            allowed: "in [0, 1)",
+        });
+    }
+    if let Some(m) = settings.planet_mass_mjup {
+        if !(m > 0.0 && m.is_finite()) {
+            return Err(PhysicsError::OutOfRange {
+                name: "planet_mass_mjup",
+                value: m,
+                allowed: "> 0 and finite",
+            });
+        }
+    }
+    if !(settings.feeding_zone_hill_radii > 0.0 && settings.feeding_zone_hill_radii.is_finite()) {
+        return Err(PhysicsError::OutOfRange {
+            name: "feeding_zone_hill_radii",
+            value: settings.feeding_zone_hill_radii,
+            allowed: "> 0 and finite",
+        });
+    }
+    match &observed.covariance {
+        None => {
+            let mut w = vec![0.0; n * n];
+            for (i, ob) in observed.observations.iter().enumerate() {
+                w[i * n + i] = 1.0 / (ob.sigma * ob.sigma);
+            }
+            Ok(w)
+        }
+        Some(c) => {
+            if c.len() != n * n {
+                return Err(PhysicsError::OutOfRange {
+                    name: "covariance",
+                    value: c.len() as f64,
+                    allowed: "n x n entries for n observed quantities",
+                });
+            }
+            for a in 0..n {
+                for b in 0..n {
+                    let (x, y) = (c[a * n + b], c[b * n + a]);
+                    if !x.is_finite() || (x - y).abs() > 1e-12 * x.abs().max(y.abs()) {
+                        return Err(PhysicsError::OutOfRange {
+                            name: "covariance",
+                            value: x,
+                            allowed: "finite and symmetric",
+                        });
+                    }
+                }
+            }
+            invert_positive_definite(c, n).ok_or(PhysicsError::OutOfRange {
+                name: "covariance",
+                value: c[0],
+                allowed: "positive definite",
+            })
+        }
+    }
+}
+
+/// Inverse of a symmetric positive-definite n x n matrix (row-major) by the
+/// Cholesky decomposition (Press et al. 2007, section 2.9); `None` if not positive definite.
+fn invert_positive_definite(a: &[f64], n: usize) -> Option<Vec<f64>> {
+    let mut l = vec![0.0; n * n];
+    for i in 0..n {
+        for j in 0..=i {
+            let mut s = a[i * n + j];
+            for k in 0..j {
+                s -= l[i * n + k] * l[j * n + k];
+            }
+            if i == j {
+                if !(s > 0.0) {
+                    return None;
+                }
+                l[i * n + i] = crate::math::sqrt(s);
+            } else {
+                l[i * n + j] = s / l[j * n + j];
+            }
+        }
+    }
+    // Solve L L^T x = e_c for every column c.
+    let mut inv = vec![0.0; n * n];
+    for c in 0..n {
+        let mut y = vec![0.0; n];
+        for i in 0..n {
+            let mut s = if i == c { 1.0 } else { 0.0 };
+            for k in 0..i {
+                s -= l[i * n + k] * y[k];
+            }
+            y[i] = s / l[i * n + i];
+        }
+        for i in (0..n).rev() {
+            let mut s = y[i];
+            for k in i + 1..n {
+                s -= l[k * n + i] * inv[k * n + c];
+            }
+            inv[i * n + c] = s / l[i * n + i];
+        }
+    }
+    Some(inv)
 }
 
 impl ChiSquareMap {
@@ -1540,21 +2113,13 @@ mod tests {
     #[test]
     fn map_validates_its_inputs() {
         let m = small_model();
-        let obs = ObservedEnvelope {
-            c_to_o: 0.5,
-            c_to_o_sigma: 0.0,
-            metallicity: None,
-        };
+        let obs = ObservedEnvelope::c_to_o(0.5, 0.0);
         let err = chi_square_map(&m, &obs, &MapSettings::defaults()).unwrap_err();
         assert_eq!(
             err.to_string(),
             "c_to_o_sigma: must be > 0 and finite, got 0"
         );
-        let obs = ObservedEnvelope {
-            c_to_o: 0.5,
-            c_to_o_sigma: 0.1,
-            metallicity: None,
-        };
+        let obs = ObservedEnvelope::c_to_o(0.5, 0.1);
         let mut s = MapSettings::defaults();
         s.ratio_count = 39;
         assert_eq!(
@@ -1566,15 +2131,7 @@ mod tests {
     #[test]
     fn map_rows_are_the_forward_model() {
         let m = small_model();
-        let obs = ObservedEnvelope {
-            c_to_o: 0.45,
-            c_to_o_sigma: 0.05,
-            metallicity: Some(ObservedMetallicity {
-                tracer: MetallicityTracer::Oxygen,
-                dex: 0.3,
-                sigma_dex: 0.2,
-            }),
-        };
+        let obs = ObservedEnvelope::c_to_o(0.45, 0.05).with(Observable::OToH, 0.3, 0.2);
         let map = chi_square_map(&m, &obs, &MapSettings::defaults()).unwrap();
         assert_eq!(map.rows.len(), 200 * 48);
         for (j, k) in [(60, 0), (120, 20), (180, 47)] {

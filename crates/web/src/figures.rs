@@ -118,6 +118,7 @@ pub fn figure_of(data: &ViewData) -> Figure {
             let mut d = d.clone();
             d.planet_radius_au = None;
             d.allowed_formation_radii_au.clear();
+            d.infeasible_formation_radii_au.clear();
             Figure::CToOProfile(d)
         }
         ViewData::Temperature(d) => Figure::TemperatureProfile(d.clone()),

@@ -18,7 +18,8 @@ use nivalis_exports::bibtex::{bibtex, bibtex_entry, methods_paragraph};
 use nivalis_exports::formats::json_text;
 use nivalis_exports::methods::{cited_keys, methods};
 use nivalis_exports::planet::{
-    anchor_summary, fit_ecsv, fit_json, fit_summary, fit_table, planet_json, planet_table,
+    anchor_summary, explain, fit_ecsv, fit_json, fit_summary, fit_table, parse_covariance,
+    parse_range, planet_json, planet_table, weighting_from_key, FitOptions, PlanetOptions,
 };
 use nivalis_exports::provenance::program_version;
 use nivalis_exports::{to_csv, Provenance};
@@ -26,11 +27,10 @@ use nivalis_physics::anchor::{anchor_to_snowline, AnchorParameter, AnchorRequest
 use nivalis_physics::params::Element;
 use nivalis_physics::planet::{
     chi_square_map, planet, ChiSquareMap, ConfidenceConvention, FormationPlace, MapSettings,
-    MetallicityTracer, ObservedEnvelope, ObservedMetallicity, Planet, PlanetRequest,
-    RadialWeighting, RadiusInterval, SigmaLevel, DEFAULT_MAP_RATIO_COUNT,
+    MetallicityReference, ObservedEnvelope, Planet, PlanetRequest, RadialWeighting, EARTH_MASS_G,
+    JUPITER_MASS_G,
 };
 use nivalis_physics::references::reference;
-use nivalis_physics::units::AU_CM;
 use nivalis_physics::{Model, PhysicsError, Species};
 use serde_json::{json, Value};
 
@@ -193,15 +193,14 @@ pub fn planet_request(input: &Value) -> Result<PlanetRequest, Vec<Problem>> {
     let solid_to_gas = required(input, "solid_to_gas", "planet.solid_to_gas", &mut problems);
     let mix = optional(input, "mix", "planet.mix", &mut problems).unwrap_or(1.0);
     let weighting = match input.get("weighting").and_then(Value::as_str) {
-        None | Some("uniform") => RadialWeighting::Uniform,
-        Some("log_radius") => RadialWeighting::LogRadius,
-        Some(other) => {
+        None | Some("") => RadialWeighting::AccretedMass,
+        Some(key) => weighting_from_key(key).unwrap_or_else(|| {
             problems.push(Problem {
                 path: "planet.weighting".into(),
-                message: format!("must be uniform or log_radius, got {other:?}"),
+                message: format!("must be accreted_mass, uniform or log_radius, got {key:?}"),
             });
-            RadialWeighting::Uniform
-        }
+            RadialWeighting::AccretedMass
+        }),
     };
     let (Some(radius_au), Some(solid_to_gas)) = (radius_au, solid_to_gas) else {
         return Err(problems);
@@ -209,21 +208,15 @@ pub fn planet_request(input: &Value) -> Result<PlanetRequest, Vec<Problem>> {
     if !problems.is_empty() {
         return Err(problems);
     }
-    let place = match to_radius_au {
-        None => FormationPlace::Radius { radius_au },
-        Some(outer) => FormationPlace::Migration {
-            inner_radius_au: radius_au,
-            outer_radius_au: outer,
-            weighting,
-        },
-    };
-    // gas_mass_g = 1 as in the CLI: only the mass ratio enters every ratio.
-    Ok(PlanetRequest {
-        place,
-        gas_mass_g: 1.0,
+    // The same request `nivalis planet` builds (PlanetOptions, shared with the CLI).
+    Ok(PlanetOptions {
+        radius_au,
+        to_radius_au,
+        weighting,
         solid_to_gas,
-        solid_mixing_fraction: mix,
-    })
+        mix,
+    }
+    .request())
 }
 
 /// Runs the forward model as `nivalis planet` does; problems name the panel's fields.
@@ -259,7 +252,11 @@ pub fn planet_view(p: &PlacedPlanet) -> Value {
         .iter()
         .map(|&el| {
             let v = e.element(el);
-            (el.symbol().to_string(), json!({"relative_to_star": finite(v.relative_to_star), "dex": v.dex, "solid_share": v.solid_share}))
+            (
+                el.symbol().to_string(),
+                json!({"relative_to_star": finite(v.relative_to_star), "relative_to_sun": finite(v.relative_to_sun),
+                       "dex_rel_star": v.dex, "dex_rel_sun": v.dex_sun, "solid_share": v.solid_share}),
+            )
         })
         .collect();
     let (r1, r2) = (
@@ -274,8 +271,10 @@ pub fn planet_view(p: &PlacedPlanet) -> Value {
         "envelope": {
             "c_to_o": e.c_to_o,
             "c_to_o_rel_star": e.c_to_o_relative_to_star(),
-            "c_to_h_dex": e.c_to_h_dex(),
-            "o_to_h_dex": e.o_to_h_dex(),
+            "c_to_h_dex_rel_star": e.c_to_h_dex(),
+            "c_to_h_dex_rel_sun": e.c_to_h_dex_rel_sun(),
+            "o_to_h_dex_rel_star": e.o_to_h_dex(),
+            "o_to_h_dex_rel_sun": e.o_to_h_dex_rel_sun(),
             "elements": elements,
         },
         "local": {
@@ -296,53 +295,139 @@ fn finite(x: f64) -> Option<f64> {
     x.is_finite().then_some(x)
 }
 
-/// The settings and observation `nivalis fit` builds from its options, read
-/// from the panel's `{c_to_o, c_to_o_sigma, tracer: "none"|"C"|"O",
-/// metallicity_dex, metallicity_sigma_dex, mix, convention}`. The number of
-/// solid-to-gas values is the CLI's default (48).
-pub fn fit_request(input: &Value) -> Result<(ObservedEnvelope, MapSettings), Vec<Problem>> {
+/// The options `nivalis fit` reads, from the panel's fields of the same names
+/// (`c_to_o`, `c_to_o_sigma`, `c_to_h_dex`, `c_to_h_sigma`, `o_to_h_dex`,
+/// `o_to_h_sigma`, `m_to_h_dex`, `m_to_h_sigma`, `covariance` as text,
+/// `relative_to`: "star"|"sun", `mix`, `ratio_min`, `ratio_max`,
+/// `ratio_count`, `radius_prior_au` and `solid_to_gas_prior` as "MIN,MAX",
+/// `oxygen_correction`: true|"on", `planet_mass_mjup`,
+/// `feeding_zone_hill_radii`, `convention`). The older single-metallicity
+/// fields `{tracer: "none"|"C"|"O"|"M", metallicity_dex, metallicity_sigma_dex}`
+/// (saved addresses) are read as the matching pair. Problems name the fields.
+pub fn fit_options(input: &Value) -> Result<FitOptions, Vec<Problem>> {
     let mut problems = Vec::new();
-    let c_to_o = required(input, "c_to_o", "fit.c_to_o", &mut problems);
-    let c_to_o_sigma = required(input, "c_to_o_sigma", "fit.c_to_o_sigma", &mut problems);
-    let mix = optional(input, "mix", "fit.mix", &mut problems).unwrap_or(1.0);
-    let tracer = match input.get("tracer").and_then(Value::as_str) {
+    let mut o = FitOptions::default();
+    let mut num = |key: &str| optional(input, key, &format!("fit.{key}"), &mut problems);
+    o.c_to_o = num("c_to_o");
+    o.c_to_o_sigma = num("c_to_o_sigma");
+    o.c_to_h_dex = num("c_to_h_dex");
+    o.c_to_h_sigma = num("c_to_h_sigma");
+    o.o_to_h_dex = num("o_to_h_dex");
+    o.o_to_h_sigma = num("o_to_h_sigma");
+    o.m_to_h_dex = num("m_to_h_dex");
+    o.m_to_h_sigma = num("m_to_h_sigma");
+    o.mix = num("mix").unwrap_or(1.0);
+    if let Some(x) = num("ratio_min") {
+        o.ratio_min = x;
+    }
+    if let Some(x) = num("ratio_max") {
+        o.ratio_max = x;
+    }
+    if let Some(x) = num("feeding_zone_hill_radii") {
+        o.feeding_zone_hill_radii = x;
+    }
+    o.planet_mass_mjup = num("planet_mass_mjup");
+    let count = num("ratio_count");
+    let legacy = match input.get("tracer").and_then(Value::as_str) {
         None | Some("none") | Some("") => None,
-        Some("C") => Some(MetallicityTracer::Carbon),
-        Some("O") => Some(MetallicityTracer::Oxygen),
+        Some("C") => Some(0),
+        Some("O") => Some(1),
+        Some("M") => Some(2),
         Some(other) => {
             problems.push(Problem {
                 path: "fit.tracer".into(),
-                message: format!("must be none, C or O, got {other:?}"),
+                message: format!("must be none, C, O or M, got {other:?}"),
             });
             None
         }
     };
-    let metallicity = match tracer {
-        None => None,
-        Some(tracer) => {
-            let dex = required(
-                input,
-                "metallicity_dex",
-                "fit.metallicity_dex",
-                &mut problems,
-            );
-            let sigma = required(
-                input,
-                "metallicity_sigma_dex",
-                "fit.metallicity_sigma_dex",
-                &mut problems,
-            );
-            match (dex, sigma) {
-                (Some(dex), Some(sigma_dex)) => Some(ObservedMetallicity {
-                    tracer,
-                    dex,
-                    sigma_dex,
+    if let Some(which) = legacy {
+        let dex = required(
+            input,
+            "metallicity_dex",
+            "fit.metallicity_dex",
+            &mut problems,
+        );
+        let sigma = required(
+            input,
+            "metallicity_sigma_dex",
+            "fit.metallicity_sigma_dex",
+            &mut problems,
+        );
+        let slot = match which {
+            0 => (&mut o.c_to_h_dex, &mut o.c_to_h_sigma),
+            1 => (&mut o.o_to_h_dex, &mut o.o_to_h_sigma),
+            _ => (&mut o.m_to_h_dex, &mut o.m_to_h_sigma),
+        };
+        if slot.0.is_none() {
+            *slot.0 = dex;
+            *slot.1 = sigma;
+        }
+    }
+    if let Some(c) = count {
+        if (1.0..=1.0e6).contains(&c) && c.fract() == 0.0 {
+            o.ratio_count = c as usize;
+        } else {
+            problems.push(Problem {
+                path: "fit.ratio_count".into(),
+                message: format!("must be a whole number in [40, 1000], got {c}"),
+            });
+        }
+    }
+    let text = |key: &str| {
+        input
+            .get(key)
+            .and_then(Value::as_str)
+            .map(str::trim)
+            .filter(|t| !t.is_empty())
+    };
+    if let Some(t) = text("covariance") {
+        match parse_covariance(t) {
+            Ok(c) => o.covariance = Some(c),
+            Err(m) => problems.push(Problem {
+                path: "fit.covariance".into(),
+                message: m,
+            }),
+        }
+    }
+    for (key, slot) in [
+        ("radius_prior_au", &mut o.radius_prior_au),
+        ("solid_to_gas_prior", &mut o.solid_to_gas_prior),
+    ] {
+        if let Some(t) = text(key) {
+            match parse_range(t) {
+                Ok(r) => *slot = Some(r),
+                Err(m) => problems.push(Problem {
+                    path: format!("fit.{key}"),
+                    message: m,
                 }),
-                _ => None,
             }
         }
+    }
+    o.relative_to = match input.get("relative_to").and_then(Value::as_str) {
+        None | Some("star") | Some("") => MetallicityReference::Star,
+        Some("sun") => MetallicityReference::Sun,
+        Some(other) => {
+            problems.push(Problem {
+                path: "fit.relative_to".into(),
+                message: format!("must be star or sun, got {other:?}"),
+            });
+            MetallicityReference::Star
+        }
     };
-    let convention = match input.get("convention").and_then(Value::as_str) {
+    o.oxygen_correction = match input.get("oxygen_correction") {
+        None | Some(Value::Null) => false,
+        Some(Value::Bool(b)) => *b,
+        Some(Value::String(s)) => matches!(s.as_str(), "on" | "true" | "yes" | "1"),
+        Some(other) => {
+            problems.push(Problem {
+                path: "fit.oxygen_correction".into(),
+                message: format!("must be true or false, got {other}"),
+            });
+            false
+        }
+    };
+    o.convention = match input.get("convention").and_then(Value::as_str) {
         None | Some("mapped_parameters") => ConfidenceConvention::MappedParameters,
         Some("fitted_quantities") => ConfidenceConvention::FittedQuantities,
         Some(other) => {
@@ -353,21 +438,25 @@ pub fn fit_request(input: &Value) -> Result<(ObservedEnvelope, MapSettings), Vec
             ConfidenceConvention::MappedParameters
         }
     };
-    match (c_to_o, c_to_o_sigma) {
-        (Some(c_to_o), Some(c_to_o_sigma)) if problems.is_empty() => Ok((
-            ObservedEnvelope {
-                c_to_o,
-                c_to_o_sigma,
-                metallicity,
-            },
-            MapSettings {
-                ratio_count: DEFAULT_MAP_RATIO_COUNT,
-                solid_mixing_fraction: mix,
-                convention,
-            },
-        )),
-        _ => Err(problems),
+    if problems.is_empty() {
+        Ok(o)
+    } else {
+        Err(problems)
     }
+}
+
+/// The observation and settings `nivalis fit` builds from the same options
+/// ([`FitOptions::build`], shared with the CLI); problems name the panel's fields.
+pub fn fit_request(input: &Value) -> Result<(ObservedEnvelope, MapSettings), Vec<Problem>> {
+    let options = fit_options(input)?;
+    options.build().map_err(|ps| {
+        ps.into_iter()
+            .map(|p| Problem {
+                path: format!("fit.{}", p.option),
+                message: p.message,
+            })
+            .collect()
+    })
 }
 
 /// Runs the inverse map as `nivalis fit` does; problems name the panel's fields.
@@ -377,15 +466,13 @@ pub fn fit_planet(
     input: &Value,
 ) -> Result<FittedMap, Vec<Problem>> {
     let (observed, settings) = fit_request(input)?;
-    let fields = [
-        ("c_to_o", "c_to_o"),
-        ("c_to_o_sigma", "c_to_o_sigma"),
-        ("metallicity_dex", "metallicity_dex"),
-        ("metallicity_sigma_dex", "metallicity_sigma_dex"),
-        ("solid_mixing_fraction", "mix"),
-    ];
-    let map = chi_square_map(model, &observed, &settings)
-        .map_err(|e| vec![core_problem(&e, "fit", &fields)])?;
+    let map = chi_square_map(model, &observed, &settings).map_err(|e| {
+        let p = physics_problem(&e);
+        vec![Problem {
+            path: format!("fit.{}", FitOptions::option_of(&p.path)),
+            message: p.message,
+        }]
+    })?;
     let allowed_union_au = allowed_union(&map);
     Ok(FittedMap {
         map,
@@ -438,97 +525,6 @@ fn sig(x: f64, digits: usize) -> String {
     format!("{x:.decimals$}")
 }
 
-fn ratio_text(x: Option<f64>) -> String {
-    x.map_or_else(
-        || "undefined (too little oxygen)".to_string(),
-        |v| sig(v, 2),
-    )
-}
-
-/// The snowlines (label, radius [au]) of the model's freeze-out fronts, inner first.
-fn freeze_out_lines(model: &Model) -> Vec<(String, f64)> {
-    let mut lines: Vec<(String, f64)> = Species::ALL
-        .iter()
-        .flat_map(|&s| {
-            model
-                .snowlines(s)
-                .into_iter()
-                .filter(|l| l.direction == nivalis_physics::CrossingDirection::FreezeOut)
-                .map(move |l| {
-                    (
-                        nivalis_charts::typeset_formula(s.key()),
-                        l.radius_cm / AU_CM,
-                    )
-                })
-        })
-        .collect();
-    lines.sort_by(|a, b| a.1.total_cmp(&b.1));
-    lines
-}
-
-/// Where a radius lies among the snowlines, in words: "inside the H₂O
-/// snowline", "between the H₂O and CO₂ snowlines", "outside the CO snowline".
-fn among_snowlines(lines: &[(String, f64)], r: f64) -> String {
-    let outside = lines.iter().rfind(|(_, x)| *x <= r);
-    let inside = lines.iter().find(|(_, x)| *x > r);
-    match (outside, inside) {
-        (None, None) => "where no ice has a snowline".to_string(),
-        (None, Some((b, _))) => format!("inside the {b} snowline"),
-        (Some((a, _)), None) => format!("outside the {a} snowline"),
-        (Some((a, _)), Some((b, _))) => format!("between the {a} and {b} snowlines"),
-    }
-}
-
-/// The degeneracies of the map in plain words: the core's sentences
-/// (`degeneracy_summary`), then why they arise in this disk: for each of the
-/// disjoint radius ranges at the first split, where it lies among the
-/// snowlines and what C/O its gas and its solids have there, and what would
-/// tell the ranges apart.
-pub fn explain(model: &Model, map: &ChiSquareMap) -> Vec<String> {
-    let mut out = map.degeneracy_summary();
-    let lines = freeze_out_lines(model);
-    let profile = model.midplane_profile();
-    let degeneracies = map.degeneracies(SigmaLevel::One);
-    let local = |i: &RadiusInterval| {
-        // The cell nearest the range's centre in log r.
-        let j = (i.first_cell + i.last_cell) / 2;
-        let centre = (i.inner_centre_au * i.outer_centre_au).sqrt();
-        format!(
-            "in {}-{} au, whose middle ({} au) lies {}, the gas has C/O {} and the solids {}",
-            sig(i.inner_edge_au, 2),
-            sig(i.outer_edge_au, 2),
-            sig(centre, 2),
-            among_snowlines(&lines, centre),
-            ratio_text(profile.c_to_o_gas[j]),
-            ratio_text(profile.c_to_o_solid[j])
-        )
-    };
-    if let Some(d) = degeneracies.first() {
-        let parts: Vec<String> = d.ranges.iter().map(local).collect();
-        out.push(format!(
-            "Why: the envelope's C/O is the mix of the local gas's C/O and the local solids' C/O, weighted by how much of each the planet took in, and both change in steps at the snowlines, where an ice takes its carbon and oxygen out of the gas. At solid-to-gas {}, {}. Different mixes of gas and solids from these places reach the same envelope C/O, so C/O alone cannot tell them apart.",
-            sig(d.solid_to_gas, 2),
-            parts.join("; ")
-        ));
-    }
-    if map.observed.metallicity.is_none() {
-        let band = match &map.best {
-            Some(b) => format!(
-                " The best fit ({} au, solid-to-gas {}) is only one of many equally good places.",
-                sig(b.radius_au, 2),
-                sig(b.solid_to_gas, 2)
-            ),
-            None => String::new(),
-        };
-        out.push(format!(
-            "One observed number (C/O) is fitted with two unknowns (formation radius and solid-to-gas ratio), so the allowed region is a band across the map rather than a point: formed farther out with more solids can look like formed closer in with fewer.{band} A measured [C/H] or [O/H] narrows it, because accreted solids raise the envelope's metallicity while gas from outside a snowline lacks the elements frozen out there."
-        ));
-    } else if degeneracies.is_empty() {
-        out.push(format!("With {} both fitted, the 1-sigma region does not split into separate radius ranges at any solid-to-gas ratio.", map.observed.fitted_label()));
-    }
-    out
-}
-
 /// What the panel shows of an inverse map: the CLI's summary (observation,
 /// thresholds, best fit, allowed radii per ratio, degeneracy sentences; the
 /// same object `nivalis fit --format json` writes under `fit`), the union of
@@ -567,6 +563,17 @@ pub fn with_marks(profile: ProfileData, state: &PlanetState) -> ProfileData {
         .fitted
         .as_ref()
         .map(|f| f.allowed_union_au.clone())
+        .unwrap_or_default();
+    p.infeasible_formation_radii_au = state
+        .fitted
+        .as_ref()
+        .map(|f| {
+            f.map
+                .infeasible
+                .iter()
+                .map(|i| (i.inner_edge_au, i.outer_edge_au))
+                .collect()
+        })
         .unwrap_or_default();
     p
 }
@@ -650,13 +657,14 @@ pub fn planet_methods(state: &PlanetState) -> Option<String> {
                 number_text(outer_radius_au),
                 p.planet.phases.points,
                 match weighting {
+                    RadialWeighting::AccretedMass => "weighted by the mass accreted in each annulus (gas by its surface density times the annulus area, solids by their own mass)",
                     RadialWeighting::Uniform => "uniform in radius",
                     RadialWeighting::LogRadius => "uniform in log radius",
                 }
             ),
         };
         text.push_str(&format!(
-            " The planet accreted {place} with a solid-to-gas accreted mass ratio of {}; {}. Its envelope then has C/O = {}, [C/H] = {} and [O/H] = {}.",
+            " The planet accreted {place} with a solid-to-gas accreted mass ratio of {}; {}. Its envelope then has C/O = {}, [C/H] = {} and [O/H] = {} dex relative to the star.",
             number_text(e.solid_to_gas),
             mixing(e.solid_mixing_fraction),
             e.c_to_o.map_or("undefined".to_string(), |v| sig(v, 3)),
@@ -665,44 +673,8 @@ pub fn planet_methods(state: &PlanetState) -> Option<String> {
         ));
     }
     if let Some(f) = &state.fitted {
-        let m = &f.map;
-        let o = &m.observed;
-        let observed = match o.metallicity {
-            Some(x) => format!(
-                "C/O = {} ± {} and {} = {} ± {} dex",
-                number_text(o.c_to_o),
-                number_text(o.c_to_o_sigma),
-                x.tracer.label(),
-                number_text(x.dex),
-                number_text(x.sigma_dex)
-            ),
-            None => format!(
-                "C/O = {} ± {}",
-                number_text(o.c_to_o),
-                number_text(o.c_to_o_sigma)
-            ),
-        };
-        text.push_str(&format!(
-            " To find where a planet with the observed {observed} could have formed, we computed chi-square over the {} radial cells of the disk model and {} solid-to-gas ratios spaced logarithmically from 0.001 to 1, assuming at every place that {}; the 1- and 2-sigma regions are those with delta chi-square up to {} and {}, the 68.27 % and 95.45 % quantiles of a chi-square distribution with {} degree{} of freedom ({}).",
-            m.radius_au.len(),
-            m.solid_to_gas.len(),
-            mixing(m.settings.solid_mixing_fraction),
-            sig(m.thresholds.one_sigma, 3),
-            sig(m.thresholds.two_sigma, 3),
-            m.thresholds.degrees_of_freedom,
-            if m.thresholds.degrees_of_freedom == 1 { "" } else { "s" },
-            match m.thresholds.convention {
-                ConfidenceConvention::MappedParameters => "the two mapped parameters",
-                ConfidenceConvention::FittedQuantities => "the number of fitted quantities",
-            }
-        ));
-        if let Some(b) = &m.best {
-            text.push_str(&format!(
-                " The best fit lies at {} au with solid-to-gas {}.",
-                sig(b.radius_au, 3),
-                sig(b.solid_to_gas, 2)
-            ));
-        }
+        text.push(' ');
+        text.push_str(&fit_methods(&f.map, &f.allowed_union_au));
     }
     text.push_str("\n\n");
     text.push_str(&methods_paragraph(
@@ -711,6 +683,169 @@ pub fn planet_methods(state: &PlanetState) -> Option<String> {
         &provenance,
     ));
     Some(text)
+}
+
+/// The fit's methods sentences: what was observed (with ±), the grid, the
+/// mixing, the priors, the oxygen correction, the feasibility test, the
+/// thresholds, the goodness of fit and the allowed radii (or that none are).
+pub fn fit_methods(m: &ChiSquareMap, union_au: &[(f64, f64)]) -> String {
+    let o = &m.observed;
+    let s = &m.settings;
+    let reference = match o.relative_to {
+        MetallicityReference::Star => "the star",
+        MetallicityReference::Sun => "the Sun",
+    };
+    let quantities: Vec<String> = o
+        .observations
+        .iter()
+        .map(|x| {
+            let unit = if x.quantity.is_metallicity() {
+                " dex"
+            } else {
+                ""
+            };
+            if o.covariance.is_some() {
+                format!("{} = {}{unit}", x.quantity.label(), number_text(x.value))
+            } else {
+                format!(
+                    "{} = {} ± {}{unit}",
+                    x.quantity.label(),
+                    number_text(x.value),
+                    number_text(x.sigma)
+                )
+            }
+        })
+        .collect();
+    let listed = match quantities.len() {
+        1 => quantities[0].clone(),
+        n => format!(
+            "{} and {}",
+            quantities[..n - 1].join(", "),
+            quantities[n - 1]
+        ),
+    };
+    let mut t = format!("To find where a planet with the observed {listed}");
+    if o.has_metallicity() {
+        t.push_str(&format!(
+            " (metallicities relative to {reference}; [M/H] is (C+O+N+S)/H)"
+        ));
+    }
+    if o.covariance.is_some() {
+        t.push_str(" and the given covariance matrix of these quantities");
+    }
+    let mixing = if s.solid_mixing_fraction >= 1.0 {
+        "all of the accreted solids' atoms entering the envelope (full mixing) at every place"
+            .to_string()
+    } else {
+        format!("a fraction f_mix = {} of the accreted solids' atoms entering the envelope at every place", number_text(s.solid_mixing_fraction))
+    };
+    t.push_str(&format!(
+        " could have formed, we computed chi-square over the {} radial cells of the disk model and {} solid-to-gas ratios spaced logarithmically from {} to {}, with {}.",
+        m.radius_au.len(),
+        m.solid_to_gas.len(),
+        sig(s.ratio_min, 3),
+        sig(s.ratio_max, 3),
+        mixing
+    ));
+    if let Some((a, b)) = s.radius_prior_au {
+        t.push_str(&format!(
+            " Only formation radii from {} to {} au were allowed (flat prior).",
+            number_text(a),
+            number_text(b)
+        ));
+    }
+    if let Some((a, b)) = s.solid_to_gas_prior {
+        t.push_str(&format!(
+            " Only solid-to-gas ratios from {} to {} were allowed (flat prior).",
+            number_text(a),
+            number_text(b)
+        ));
+    }
+    if s.oxygen_sequestered_fraction > 0.0 {
+        t.push_str(&format!(
+            " Before comparing, {} % of the envelope's oxygen was taken as hidden in the planet's own silicate condensates (Burrows & Sharp 1999).",
+            sig(100.0 * s.oxygen_sequestered_fraction, 2)
+        ));
+    }
+    if let Some(mp) = s.planet_mass_mjup {
+        t.push_str(&format!(
+            " For a planet of {} Jupiter masses ({} Earth masses), places whose feeding zone (±{} Hill radii) holds less gas than the envelope, M_p/(1 + solid-to-gas), were excluded as infeasible",
+            number_text(mp),
+            sig(mp * JUPITER_MASS_G / EARTH_MASS_G, 3),
+            sig(s.feeding_zone_hill_radii, 3)
+        ));
+        if m.infeasible.is_empty() {
+            t.push_str("; none was.");
+        } else {
+            let runs: Vec<String> = m
+                .infeasible
+                .iter()
+                .map(|i| format!("{}–{} au", sig(i.inner_edge_au, 2), sig(i.outer_edge_au, 2)))
+                .collect();
+            t.push_str(&format!(
+                "; at every ratio this excludes {}.",
+                runs.join(", ")
+            ));
+        }
+    }
+    t.push_str(&format!(
+        " The 1- and 2-sigma regions are those with delta chi-square up to {} and {}, the 68.27 % and 95.45 % quantiles of a chi-square distribution with {} degree{} of freedom ({}).",
+        sig(m.thresholds.one_sigma, 3),
+        sig(m.thresholds.two_sigma, 3),
+        m.thresholds.degrees_of_freedom,
+        if m.thresholds.degrees_of_freedom == 1 { "" } else { "s" },
+        match m.thresholds.convention {
+            ConfidenceConvention::MappedParameters => "the two mapped parameters",
+            ConfidenceConvention::FittedQuantities => "the number of fitted quantities",
+        }
+    ));
+    let g = &m.goodness;
+    let dof_words = if g.degrees_of_freedom_floored {
+        format!(
+            "{} degree of freedom ({} fitted quantit{} and two fitted parameters; the number is floored at 1)",
+            g.degrees_of_freedom,
+            o.fitted_quantities(),
+            if o.fitted_quantities() == 1 { "y" } else { "ies" }
+        )
+    } else {
+        format!("{} degrees of freedom", g.degrees_of_freedom)
+    };
+    match (&m.best, g.chi2_min, g.p_value) {
+        (Some(b), Some(c), Some(p)) => {
+            t.push_str(&format!(
+                " The best fit lies at {} au with solid-to-gas {}, with minimum chi-square {} for {dof_words}, p = {}",
+                sig(b.radius_au, 3),
+                sig(b.solid_to_gas, 2),
+                sig(c, 3),
+                if p < 1e-3 { format!("{p:.1e}") } else { sig(p, 2) }
+            ));
+            if g.best_on_ratio_grid_edge {
+                t.push_str(", on the edge of the solid-to-gas grid");
+            }
+            t.push('.');
+        }
+        _ => t.push_str(" No place of the map gives defined values of the fitted quantities."),
+    }
+    if g.acceptable {
+        if union_au.is_empty() {
+            t.push_str(" No radius is allowed at 1 sigma.");
+        } else {
+            let runs: Vec<String> = union_au
+                .iter()
+                .map(|(a, b)| format!("{}–{} au", sig(*a, 2), sig(*b, 2)))
+                .collect();
+            t.push_str(&format!(
+                " At 1 sigma, for some solid-to-gas ratio, the planet may have formed at {}.",
+                runs.join(", ")
+            ));
+        }
+    } else {
+        t.push_str(&format!(
+            " Since p < {}, no place in the disk is acceptable and no formation radius is allowed.",
+            nivalis_physics::planet::ACCEPTABLE_P_VALUE
+        ));
+    }
+    t
 }
 
 /// BibTeX of exactly the references the planet methods text cites: the disk
@@ -807,6 +942,7 @@ pub fn anchor(file: &DiskFile, input: &Value) -> Result<(DiskFile, Vec<String>),
 mod tests {
     use super::*;
     use nivalis_disk_files::to_json_string;
+    use nivalis_physics::units::AU_CM;
     use nivalis_physics::ModelParameters;
 
     fn model() -> (Model, DiskFile) {
@@ -931,11 +1067,7 @@ mod tests {
         .unwrap();
         let direct = chi_square_map(
             &model,
-            &ObservedEnvelope {
-                c_to_o: 0.8,
-                c_to_o_sigma: 0.1,
-                metallicity: None,
-            },
+            &ObservedEnvelope::c_to_o(0.8, 0.1),
             &MapSettings::defaults(),
         )
         .unwrap();
@@ -969,6 +1101,85 @@ mod tests {
         let words = explain(&model, &direct);
         assert!(words.len() > direct.degeneracy_summary().len());
         assert!(words.iter().any(|w| w.contains("two unknowns")));
+    }
+
+    #[test]
+    fn an_impossible_fit_shades_nothing_and_a_mass_marks_infeasible_radii() {
+        // Issue 11: a C/O out of the disk's reach (twice the largest local C/O of gas or solids plus
+        // 0.5, +- 0.05; an envelope mixes the two) is reported so; the page shades no radius.
+        let (model, file) = model();
+        let profile = model.midplane_profile();
+        let highest = profile
+            .c_to_o_gas
+            .iter()
+            .chain(&profile.c_to_o_solid)
+            .flatten()
+            .fold(0.0f64, |a, &b| a.max(b));
+        let fitted = fit_planet(
+            &model,
+            &file,
+            &json!({"c_to_o": (2.0 * highest + 0.5).to_string(), "c_to_o_sigma": "0.05"}),
+        )
+        .unwrap();
+        assert!(!fitted.map.goodness.acceptable);
+        assert!(fitted.allowed_union_au.is_empty());
+        let view = fit_view(&model, &fitted);
+        assert_eq!(view["goodness"]["acceptable"], json!(false));
+        assert!(view["goodness"]["reason"]
+            .as_str()
+            .unwrap()
+            .starts_with("no place in the disk reproduces"));
+        let state = PlanetState {
+            placed: None,
+            fitted: Some(fitted),
+        };
+        assert!(with_marks(ProfileData::from_model(&model), &state)
+            .allowed_formation_radii_au
+            .is_empty());
+        // A 1 M_Jup planet: the outer disk is drawn infeasible; the request equals the CLI's options.
+        let input = json!({"c_to_o": "0.5", "c_to_o_sigma": "0.1", "planet_mass_mjup": "1", "relative_to": "sun",
+                           "o_to_h_dex": "0.2", "o_to_h_sigma": "0.3", "ratio_count": "60", "oxygen_correction": "on"});
+        let fitted = fit_planet(&model, &file, &input).unwrap();
+        let options = FitOptions {
+            c_to_o: Some(0.5),
+            c_to_o_sigma: Some(0.1),
+            o_to_h_dex: Some(0.2),
+            o_to_h_sigma: Some(0.3),
+            planet_mass_mjup: Some(1.0),
+            relative_to: MetallicityReference::Sun,
+            ratio_count: 60,
+            oxygen_correction: true,
+            ..FitOptions::default()
+        };
+        let (o, s) = options.build().unwrap();
+        assert!(fitted.map == chi_square_map(&model, &o, &s).unwrap());
+        let state = PlanetState {
+            placed: None,
+            fitted: Some(fitted),
+        };
+        let marked = with_marks(ProfileData::from_model(&model), &state);
+        assert!(
+            marked
+                .infeasible_formation_radii_au
+                .iter()
+                .any(|(a, b)| *a < 380.0 && *b >= 500.0 - 1e-9),
+            "{:?}",
+            marked.infeasible_formation_radii_au
+        );
+        // The older single-metallicity fields of saved addresses still read.
+        let (legacy, _) = fit_request(&json!({"c_to_o": 0.5, "c_to_o_sigma": 0.1, "tracer": "O", "metallicity_dex": 0.2, "metallicity_sigma_dex": 0.3})).unwrap();
+        assert_eq!(legacy.fitted_label(), "C/O and [O/H]");
+        let methods = planet_methods(&state).unwrap();
+        assert!(
+            methods.contains("infeasible")
+                && methods.contains("Burrows & Sharp 1999")
+                && methods.contains("± 0.1"),
+            "{methods}"
+        );
+        assert!(
+            !methods.contains("+-") && !methods.contains(") ("),
+            "{methods}"
+        );
     }
 
     #[test]
@@ -1034,7 +1245,7 @@ mod tests {
             ),
         };
         let text = planet_methods(&full).unwrap();
-        assert!(text.contains("assuming at every place that all of the accreted solids' atoms enter the envelope (full mixing);"), "{text}");
+        assert!(text.contains("with all of the accreted solids' atoms entering the envelope (full mixing) at every place."), "{text}");
         assert!(text.ends_with(&methods_paragraph(
             &file.parameters,
             &methods(&file.parameters),

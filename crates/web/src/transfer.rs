@@ -67,6 +67,7 @@ pub fn to_parts(data: &ViewData) -> ViewParts {
                 "snowlines": d.snowlines.iter().map(|(l, r)| json!([l, r])).collect::<Vec<_>>(),
                 "planet_radius_au": d.planet_radius_au,
                 "allowed_formation_radii_au": d.allowed_formation_radii_au.iter().map(|(a, b)| json!([a, b])).collect::<Vec<_>>(),
+                "infeasible_formation_radii_au": d.infeasible_formation_radii_au.iter().map(|(a, b)| json!([a, b])).collect::<Vec<_>>(),
             }),
             arrays: vec![
                 ("radius_au".into(), d.radius_au.clone()),
@@ -174,6 +175,7 @@ pub fn from_parts(parts: &ViewParts) -> Result<ViewData, String> {
                 .unwrap_or_default(),
             planet_radius_au: number(meta, "planet_radius_au"),
             allowed_formation_radii_au: pairs(meta.get("allowed_formation_radii_au")),
+            infeasible_formation_radii_au: pairs(meta.get("infeasible_formation_radii_au")),
         }),
         Some("temperature") => ViewData::Temperature(TemperatureData {
             radius_au: array("radius_au")?,
