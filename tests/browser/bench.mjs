@@ -8,11 +8,62 @@
 // real recomputation, at the default grid (200 x 80) and at 400 x 160 (timed
 // on the main thread), and 10 repeats of the Web Worker path at 800 x 320.
 // Prints the medians (and the 10th/90th percentiles) in milliseconds.
+//
+// The in-page floor, timed in the same page: one Math.exp and one Math.sqrt
+// per cell-species at the default grid, in plain JavaScript, written into a
+// preallocated Float64Array laid out like the model's ice fractions (species
+// major). Cell-species: radial cells x (vertical cells + 1) samples (the
+// midplane and each vertical cell centre) x 9 species = 200 x 81 x 9 = 145 800,
+// the count of the native floor in crates/physics/benches/model.rs. Inputs are
+// realistic and prepared before timing: the default disk's sample
+// temperatures from the native CLI (`model` for the midplane, `map --quantity
+// temperature_k` for the cells) and each species' binding energy (the
+// `pure_ices` set) and mass from crates/physics/data. Per cell-species:
+// exp(-E_b / T) * sqrt(8 k T / (pi m)). The ratio `edit redraw / floor`
+// divides the median of "total (compute + all 5 charts)" at 200 x 80 by the
+// floor's median; issue 9 targets at most 7.
+// Percentiles: linear interpolation between order statistics (numpy's default).
 
-import { ensurePage, launch, openPage } from "./helpers.mjs";
+import { execFileSync } from "node:child_process";
+import { readFileSync } from "node:fs";
+import { join } from "node:path";
+import { ensureCli, ensurePage, launch, openPage, repoRoot } from "./helpers.mjs";
 
 const REPEATS = 50;
 const GRIDS = [[200, 80], [400, 160]];
+const SPECIES = ["H2O", "CO", "CO2", "CH4", "N2", "NH3", "CH3OH", "H2S", "HCN"];
+const BOLTZMANN_ERG_PER_K = 1.380649e-16; // exact (SI 2019), as crates/physics/src/units.rs
+const ATOMIC_MASS_UNIT_G = 1.66053906892e-24; // CODATA 2022, as crates/physics/src/units.rs
+
+/// Rows of one of the core's data files as objects keyed by the header.
+function dataRows(name) {
+  const lines = readFileSync(join(repoRoot, "crates", "physics", "data", name), "utf8")
+    .split("\n").map((l) => l.trim()).filter((l) => l && !l.startsWith("#"));
+  const header = lines[0].split(",").map((h) => h.trim());
+  return lines.slice(1).map((l) => Object.fromEntries(l.split(",").map((v, i) => [header[i], v.trim()])));
+}
+
+/// The floor's inputs at the default grid: per sample T [K], per species -E_b [K] and 8 k / (pi m).
+function floorInputs() {
+  const cli = ensureCli();
+  const run = (args) => execFileSync(cli, args, { input: "{}", maxBuffer: 1 << 28 }).toString();
+  const midplane = JSON.parse(run(["model", "-", "--format", "json"])).data.midplane_temperature_k;
+  const cells = run(["map", "-", "--quantity", "temperature_k"]).trim().split("\n").slice(1)
+    .map((l) => Number(l.split(",")[3]));
+  const vertical = cells.length / midplane.length;
+  if (!Number.isInteger(vertical)) throw new Error(`${cells.length} map cells for ${midplane.length} radii`);
+  // Sample 0 of each column is the midplane, samples 1..N_z the cell centres (the model's layout).
+  const temperature = [];
+  midplane.forEach((t, j) => temperature.push(t, ...cells.slice(j * vertical, (j + 1) * vertical)));
+  if (!temperature.every((t) => t > 0 && Number.isFinite(t))) throw new Error("bad sample temperatures");
+  const species = Object.fromEntries(dataRows("species.csv").map((r) => [r.species, r]));
+  const binding = Object.fromEntries(dataRows("binding_energies.csv").filter((r) => r.set === "pure_ices")
+    .map((r) => [r.species, Number(r.binding_energy_k)]));
+  const minusBinding = SPECIES.map((s) => -binding[s]);
+  const thermal = SPECIES.map((s) => 8 * BOLTZMANN_ERG_PER_K / (Math.PI * Number(species[s].mass_amu) * ATOMIC_MASS_UNIT_G));
+  if (![...minusBinding, ...thermal].every(Number.isFinite)) throw new Error("species data not found");
+  return { radial: midplane.length, vertical, temperature, minusBinding, thermal };
+}
 
 function percentile(values, q) {
   const s = [...values].sort((a, b) => a - b);
@@ -23,9 +74,33 @@ function percentile(values, q) {
 }
 
 ensurePage();
+const inputs = floorInputs();
 const { context, close } = await launch();
 try {
   const { page, errors } = await openPage(context);
+  // The floor first, in the same page, before the page's own work below.
+  const floor = await page.evaluate(({ temperature, minusBinding, thermal, repeats }) => {
+    const n = temperature.length;
+    const t = Float64Array.from(temperature);
+    const invT = t.map((v) => 1 / v);
+    const out = new Float64Array(minusBinding.length * n);
+    const times = [];
+    let check = 0;
+    for (let r = 0; r < repeats + 5; r++) {
+      const t0 = performance.now();
+      for (let i = 0; i < minusBinding.length; i++) {
+        const e = minusBinding[i];
+        const a = thermal[i];
+        const base = i * n;
+        for (let k = 0; k < n; k++) out[base + k] = Math.exp(e * invT[k]) * Math.sqrt(a * t[k]);
+      }
+      const t1 = performance.now();
+      check += out[(r * 7919) % out.length];
+      if (r >= 5) times.push(t1 - t0); // the first 5 runs warm the JIT up
+    }
+    if (!Number.isFinite(check)) throw new Error("the floor produced a non-finite value");
+    return { times, count: out.length };
+  }, { ...inputs, repeats: REPEATS });
   const rows = [];
   for (const [radial, vertical] of GRIDS) {
     const result = await page.evaluate(({ radial, vertical, repeats }) => {
@@ -105,11 +180,22 @@ try {
     const total = r.compute.map((c, i) => c + r.draw[i]);
     console.log(`  ${r.grid.padEnd(10)} ${"total (compute + all 5 charts)".padEnd(33)} ${f(percentile(total, 0.5))} ${f(percentile(total, 0.1))} ${f(percentile(total, 0.9))}`);
   }
+  const floorGrid = `${inputs.radial}x${inputs.vertical}`;
+  console.log(`  ${floorGrid.padEnd(10)} ${"floor: exp + sqrt per cell-species".padEnd(33)} ${f(percentile(floor.times, 0.5))} ${f(percentile(floor.times, 0.1))} ${f(percentile(floor.times, 0.9))}`);
+  console.log(`             (${floor.count} = ${inputs.radial} x ${inputs.vertical + 1} samples x ${SPECIES.length} species, plain JS, ${REPEATS} repeats after 5 warm-up runs)`);
   const grid = `${WORKER_GRID[0]}x${WORKER_GRID[1]}`;
   console.log(`  worker path (${WORKER_REPEATS} repeats; the page keeps responding meanwhile):`);
   console.log(`  ${grid.padEnd(10)} ${"compute (validate + run), worker".padEnd(33)} ${f(percentile(background.inWorker, 0.5))} ${f(percentile(background.inWorker, 0.1))} ${f(percentile(background.inWorker, 0.9))}`);
   console.log(`  ${grid.padEnd(10)} ${"pack the result for the page".padEnd(33)} ${f(percentile(background.packing, 0.5))} ${f(percentile(background.packing, 0.1))} ${f(percentile(background.packing, 0.9))}`);
   console.log(`  ${grid.padEnd(10)} ${"edit to result on screen".padEnd(33)} ${f(percentile(background.roundTrip, 0.5))} ${f(percentile(background.roundTrip, 0.1))} ${f(percentile(background.roundTrip, 0.9))}`);
+  const atDefault = rows.find((r) => r.grid === floorGrid);
+  if (atDefault) {
+    const floorMedian = percentile(floor.times, 0.5);
+    const total = percentile(atDefault.compute.map((c, i) => c + atDefault.draw[i]), 0.5);
+    console.log(`  ratios of medians at ${floorGrid} (this page, this run):`);
+    console.log(`    edit redraw (compute + all 5 charts) / floor ${(total / floorMedian).toFixed(2).padStart(7)}   target <= 7 (issue 9)`);
+    console.log(`    compute (validate + Model::run) / floor      ${(percentile(atDefault.compute, 0.5) / floorMedian).toFixed(2).padStart(7)}`);
+  }
 } finally {
   await close();
 }

@@ -1,32 +1,121 @@
-//! `cargo xtask bench`: runs the criterion benchmarks of the physics core
-//! (`crates/physics/benches/model.rs`) and prints a table of their medians with
-//! the ratio between the 4x grid (400 x 160) and the default grid (200 x 80).
+//! `cargo xtask bench`: the speed of the model, measured in one run so that
+//! every ratio compares numbers taken on the same machine at the same time.
 //!
-//! The medians are read from criterion's own record,
-//! `target/criterion/<group>/<grid>/new/estimates.json` (the median's point
-//! estimate, in nanoseconds), rather than from its console text, which is
-//! meant for people and changes between versions. A record older than this
-//! run is refused, so a failed benchmark cannot show last week's numbers.
+//! 1. The criterion benchmarks of the physics core
+//!    (`crates/physics/benches/model.rs`): the floor (one `exp` and one `sqrt`
+//!    per cell-species), the structure, the full model and the ice-only edit.
+//! 2. The numpy baseline (`crates/physics/benches/numpy_baseline.py`) at
+//!    400 x 160, first checked against the native CLI's output for the same
+//!    disk, then timed with `timeit.repeat`.
+//! 3. A table of medians, p10 and p90 per benchmark and the ratios
+//!    `model / floor` (target <= 2) and `numpy / native model` (target >= 10).
+//! 4. The in-browser benchmark (`tests/browser/bench.mjs`), which prints its
+//!    own table, including the in-page floor and `edit redraw / floor`.
 //!
-//! Hook for the page: when `tests/browser/bench.mjs` exists, the page is built
-//! (when `crates/web` exists) and that script runs with Node; its output is
-//! shown as it is.
+//! The native numbers come from criterion's record of the raw samples,
+//! `target/criterion/<group>/<grid>/new/sample.json` (per sample: `iters`
+//! iterations took `times` nanoseconds), not from its console text, which is
+//! meant for people and changes between versions. Each sample gives one
+//! per-iteration time `times[i] / iters[i]`; the percentiles of those are
+//! taken by [`percentile`]. A record older than this run is refused, so a
+//! failed benchmark cannot show last week's numbers.
 
-use std::path::Path;
-use std::process::Command;
+use std::path::{Path, PathBuf};
+use std::process::{Command, Stdio};
 use std::time::{Duration, SystemTime};
 
-use crate::{cargo, relative, repo_root, run, web_crate_exists};
+use crate::{cargo, relative, repo_root, run, succeeds, web_crate_exists};
 
-/// Benchmark groups in `benches/model.rs`, with what they time.
-const GROUPS: [(&str, &str); 2] = [
-    ("structure", "DiskStructure::compute"),
-    ("model", "Model::run + midplane_profile + snowlines"),
+/// One criterion benchmark: group, grid label (as in `benches/model.rs`) and what it times.
+struct Case {
+    group: &'static str,
+    grid: &'static str,
+    what: &'static str,
+}
+
+const CASES: [Case; 6] = [
+    Case {
+        group: "floor",
+        grid: DEFAULT_GRID,
+        what: "1 exp + 1 sqrt per cell-species (200 x 81 x 9, libm)",
+    },
+    Case {
+        group: "structure",
+        grid: DEFAULT_GRID,
+        what: "DiskStructure::compute",
+    },
+    Case {
+        group: "structure",
+        grid: LARGE_GRID,
+        what: "DiskStructure::compute",
+    },
+    Case {
+        group: "model",
+        grid: DEFAULT_GRID,
+        what: "Model::run + midplane profile + snowlines",
+    },
+    Case {
+        group: "model",
+        grid: LARGE_GRID,
+        what: "Model::run + midplane profile + snowlines",
+    },
+    Case {
+        group: "ice_edit",
+        grid: DEFAULT_GRID,
+        what: "sticking edit: full Model::run (no structure reuse yet)",
+    },
 ];
 
 /// The default grid and the one with four times as many samples, as labelled in `benches/model.rs`.
 const DEFAULT_GRID: &str = "200x80";
 const LARGE_GRID: &str = "400x160";
+/// The same grid as a disk file for the CLI.
+const LARGE_GRID_DISK: &str = r#"{"grid":{"radial_cells":400,"vertical_cells":160}}"#;
+
+/// Median, 10th and 90th percentile of a set of times [ns].
+#[derive(Debug, Clone, Copy, PartialEq)]
+struct Spread {
+    median: f64,
+    p10: f64,
+    p90: f64,
+}
+
+impl Spread {
+    /// The spread of `values` (at least one, all finite).
+    fn of(values: &[f64]) -> Option<Spread> {
+        let mut sorted = values.to_vec();
+        if sorted.is_empty() || sorted.iter().any(|v| !v.is_finite()) {
+            return None;
+        }
+        sorted.sort_by(f64::total_cmp);
+        Some(Spread {
+            median: percentile(&sorted, 0.5),
+            p10: percentile(&sorted, 0.1),
+            p90: percentile(&sorted, 0.9),
+        })
+    }
+}
+
+/// The q-quantile (0 <= q <= 1) of sorted values by linear interpolation
+/// between order statistics: position (n - 1) q, counted from 0 (Hyndman &
+/// Fan 1996 definition 7, numpy's default; the rule `numpy_baseline.py` and
+/// `tests/browser/bench.mjs` use too).
+fn percentile(sorted: &[f64], q: f64) -> f64 {
+    let position = (sorted.len() - 1) as f64 * q;
+    let lo = position.floor() as usize;
+    let hi = position.ceil() as usize;
+    sorted[lo] + (sorted[hi] - sorted[lo]) * (position - lo as f64)
+}
+
+/// What the numpy baseline reported (seconds and differences from the native CLI).
+struct Baseline {
+    spread_ns: Spread,
+    repeats: f64,
+    temperature: f64,
+    c_to_o: f64,
+    ice_fraction: f64,
+    agrees: bool,
+}
 
 pub fn bench() -> Result<(), String> {
     let root = repo_root();
@@ -36,32 +125,121 @@ pub fn bench() -> Result<(), String> {
     run(cargo()
         .current_dir(&root)
         .args(["bench", "-p", "nivalis-physics", "--bench", "model"]))?;
+    let criterion = target_dir().join("criterion");
+    let mut native = Vec::new();
+    for case in &CASES {
+        let dir = criterion.join(case.group).join(case.grid);
+        native.push(per_iteration_spread(&dir, started)?);
+    }
+    let find = |group: &str, grid: &str| {
+        CASES
+            .iter()
+            .position(|c| c.group == group && c.grid == grid)
+            .map(|i| native[i])
+    };
 
-    let criterion = root.join("target/criterion");
-    println!("\nmedians (default disk; criterion median point estimates):");
+    let mut problems = Vec::new();
+    let baseline = match numpy_baseline() {
+        Ok(b) => Some(b),
+        Err(message) => {
+            problems.push(message);
+            None
+        }
+    };
+
+    println!("\nnative benchmarks (default disk; per-iteration times of criterion's 20 samples):");
     println!(
-        "  {:<10} {:>12} {:>12} {:>12}   timed",
-        "benchmark", DEFAULT_GRID, LARGE_GRID, "4x / 1x"
+        "  {:<20} {:>10} {:>10} {:>10}   timed",
+        "benchmark", "median", "p10", "p90"
     );
-    for (group, what) in GROUPS {
-        let small = median_ns(&criterion.join(group).join(DEFAULT_GRID), started)?;
-        let large = median_ns(&criterion.join(group).join(LARGE_GRID), started)?;
+    for (case, s) in CASES.iter().zip(&native) {
         println!(
-            "  {:<10} {:>12} {:>12} {:>12}   {what}",
-            group,
-            format_duration(small),
-            format_duration(large),
-            format!("{:.2}", large / small)
+            "  {:<20} {:>10} {:>10} {:>10}   {}",
+            format!("{}/{}", case.group, case.grid),
+            format_duration(s.median),
+            format_duration(s.p10),
+            format_duration(s.p90),
+            case.what
         );
     }
-    println!("  (the 4x grid has 4x the samples, so a ratio near 4 means linear scaling)");
+    if let Some(b) = &baseline {
+        println!(
+            "  {:<20} {:>10} {:>10} {:>10}   numpy baseline, {} timeit runs",
+            format!("numpy/{LARGE_GRID}"),
+            format_duration(b.spread_ns.median),
+            format_duration(b.spread_ns.p10),
+            format_duration(b.spread_ns.p90),
+            b.repeats
+        );
+        println!(
+            "  numpy baseline against the native CLI at {LARGE_GRID}: max relative difference \
+             midplane T {:.1e}, gas C/O {:.1e}; max difference of midplane ice fractions {:.1e} ({})",
+            b.temperature,
+            b.c_to_o,
+            b.ice_fraction,
+            if b.agrees { "agree" } else { "DISAGREE" }
+        );
+    }
 
-    browser_bench()
+    println!("\nratios of medians from this run:");
+    let ratio = |name: &str, numerator: Option<Spread>, denominator: Option<Spread>, note: &str| {
+        if let (Some(n), Some(d)) = (numerator, denominator) {
+            println!("  {name:<34} {:>7.2}   {note}", n.median / d.median);
+        }
+    };
+    let floor = find("floor", DEFAULT_GRID);
+    ratio(
+        &format!("model / floor at {DEFAULT_GRID}"),
+        find("model", DEFAULT_GRID),
+        floor,
+        "target <= 2 (issue 9)",
+    );
+    ratio(
+        &format!("ice edit / floor at {DEFAULT_GRID}"),
+        find("ice_edit", DEFAULT_GRID),
+        floor,
+        "full run today; the structure could be reused",
+    );
+    ratio(
+        &format!("numpy / native model at {LARGE_GRID}"),
+        baseline.as_ref().map(|b| b.spread_ns),
+        find("model", LARGE_GRID),
+        "target >= 10 (issue 9)",
+    );
+    ratio(
+        "model 400x160 / 200x80",
+        find("model", LARGE_GRID),
+        find("model", DEFAULT_GRID),
+        "4x the samples: near 4 means linear scaling",
+    );
+    ratio(
+        "structure 400x160 / 200x80",
+        find("structure", LARGE_GRID),
+        find("structure", DEFAULT_GRID),
+        "4x the samples",
+    );
+
+    if let Err(message) = browser_bench() {
+        problems.push(message);
+    }
+    if problems.is_empty() {
+        Ok(())
+    } else {
+        Err(problems.join("; "))
+    }
 }
 
-/// The median point estimate [ns] of one benchmark, from its `new/estimates.json`.
-fn median_ns(benchmark_dir: &Path, not_before: SystemTime) -> Result<f64, String> {
-    let file = benchmark_dir.join("new/estimates.json");
+/// The workspace's target directory (CARGO_TARGET_DIR when set, as cargo does).
+fn target_dir() -> PathBuf {
+    std::env::var_os("CARGO_TARGET_DIR")
+        .map(PathBuf::from)
+        .unwrap_or_else(|| repo_root().join("target"))
+}
+
+/// Median, p10 and p90 [ns] of the per-iteration times of one benchmark,
+/// from its `new/sample.json`.
+fn per_iteration_spread(benchmark_dir: &Path, not_before: SystemTime) -> Result<Spread, String> {
+    let file = benchmark_dir.join("new/sample.json");
     let shown = relative(&file);
     let modified = std::fs::metadata(&file)
         .and_then(|m| m.modified())
@@ -72,24 +250,54 @@ fn median_ns(benchmark_dir: &Path, not_before: SystemTime) -> Result<f64, String
         ));
     }
     let text = std::fs::read_to_string(&file).map_err(|e| format!("cannot read {shown}: {e}"))?;
-    median_point_estimate(&text).ok_or_else(|| format!("{shown}: no median point estimate found"))
+    let times = per_iteration_times(&text).map_err(|e| format!("{shown}: {e}"))?;
+    Spread::of(&times).ok_or_else(|| format!("{shown}: no usable samples"))
 }
 
-/// Extracts `median.point_estimate` from criterion's estimates JSON. A full
-/// JSON parser would be the task runner's first dependency; the file's shape
-/// (an object of estimate objects, each with a numeric `point_estimate`) is
-/// simple and stable enough to scan.
-fn median_point_estimate(json: &str) -> Option<f64> {
-    let after_median = key_value(json, "median")?;
-    let after_point = key_value(after_median, "point_estimate")?;
-    let number: String = after_point
+/// Per-iteration times `times[i] / iters[i]` [ns] from criterion's sample JSON
+/// (`{"sampling_mode": ..., "iters": [...], "times": [...]}`).
+fn per_iteration_times(json: &str) -> Result<Vec<f64>, String> {
+    let iters = number_array(json, "iters").ok_or("no `iters` array of numbers")?;
+    let times = number_array(json, "times").ok_or("no `times` array of numbers")?;
+    if iters.len() != times.len() || iters.is_empty() {
+        return Err(format!(
+            "{} iteration counts for {} times",
+            iters.len(),
+            times.len()
+        ));
+    }
+    iters
+        .iter()
+        .zip(&times)
+        .map(|(&n, &t)| {
+            if n >= 1.0 && t.is_finite() && t > 0.0 {
+                Ok(t / n)
+            } else {
+                Err(format!("a sample of {n} iterations took {t} ns"))
+            }
+        })
+        .collect()
+}
+
+/// The array of numbers right after `"key":`. A full JSON parser would be the
+/// task runner's first dependency; criterion's file is flat and simple to scan.
+fn number_array(json: &str, key: &str) -> Option<Vec<f64>> {
+    let rest = key_value(json, key)?.strip_prefix('[')?;
+    let body = &rest[..rest.find(']')?];
+    if body.trim().is_empty() {
+        return Some(Vec::new());
+    }
+    body.split(',').map(|v| v.trim().parse().ok()).collect()
+}
+
+/// The number right after `"key":`.
+fn number_value(json: &str, key: &str) -> Option<f64> {
+    let value = key_value(json, key)?;
+    let number: String = value
         .chars()
         .take_while(|c| c.is_ascii_digit() || matches!(c, '.' | '-' | '+' | 'e' | 'E'))
         .collect();
-    number
-        .parse::<f64>()
-        .ok()
-        .filter(|value| value.is_finite() && *value > 0.0)
+    number.parse::<f64>().ok().filter(|v| v.is_finite())
 }
 
 /// The text right after `"key":` (whitespace allowed around the colon), for the
@@ -105,6 +313,81 @@ fn key_value<'a>(json: &'a str, key: &str) -> Option<&'a str> {
         from += offset + quoted.len();
     }
     None
+}
+
+/// Runs the numpy baseline at 400 x 160 against the native CLI's output for
+/// the same disk (written to `target/bench/`), and reads back its results.
+fn numpy_baseline() -> Result<Baseline, String> {
+    let root = repo_root();
+    println!("\nnumpy baseline:");
+    if !succeeds(Command::new("python3").args(["-c", "import numpy"])) {
+        // numpy comes with scipy, one of the reference libraries of the Python checks.
+        crate::test::ensure_python_modules()?;
+    }
+    let out_dir = target_dir().join("bench");
+    std::fs::create_dir_all(&out_dir)
+        .map_err(|e| format!("cannot create {}: {e}", relative(&out_dir)))?;
+    let reference = out_dir.join(format!("native_model_{LARGE_GRID}.json"));
+    let results = out_dir.join(format!("numpy_baseline_{LARGE_GRID}.json"));
+    // The reference is the CLI's own output (a debug build suffices: only its numbers matter).
+    let mut cli = cargo();
+    cli.current_dir(&root)
+        .args(["run", "--quiet", "-p", "nivalis-cli", "--", "model", "-"])
+        .args(["--format", "json", "--out"])
+        .arg(&reference);
+    println!("$ echo '{LARGE_GRID_DISK}' | cargo run --quiet -p nivalis-cli -- model - --format json --out {}", relative(&reference));
+    let mut child = cli
+        .stdin(Stdio::piped())
+        .spawn()
+        .map_err(|e| format!("could not start the CLI: {e}"))?;
+    {
+        use std::io::Write;
+        let mut stdin = child.stdin.take().ok_or("no stdin for the CLI")?;
+        stdin
+            .write_all(LARGE_GRID_DISK.as_bytes())
+            .map_err(|e| format!("could not write the disk to the CLI: {e}"))?;
+    }
+    let status = child
+        .wait()
+        .map_err(|e| format!("the CLI did not finish: {e}"))?;
+    if !status.success() {
+        return Err(format!("the CLI failed ({status})"));
+    }
+    let _ = std::fs::remove_file(&results);
+    let outcome = run(Command::new("python3")
+        .current_dir(&root)
+        .arg("crates/physics/benches/numpy_baseline.py")
+        .args(["--grid", LARGE_GRID, "--reference"])
+        .arg(relative(&reference))
+        .arg("--json")
+        .arg(relative(&results)));
+    let text = std::fs::read_to_string(&results).map_err(|e| match &outcome {
+        Err(run_error) => run_error.clone(),
+        Ok(()) => format!("cannot read {}: {e}", relative(&results)),
+    })?;
+    let baseline = parse_baseline(&text)
+        .ok_or_else(|| format!("{}: unexpected contents", relative(&results)))?;
+    if !baseline.agrees {
+        return Err("the numpy baseline disagrees with the native model (see above)".to_string());
+    }
+    outcome.map(|()| baseline)
+}
+
+/// The baseline's JSON: times in seconds, differences, whether it agrees.
+fn parse_baseline(json: &str) -> Option<Baseline> {
+    let seconds = |key: &str| number_value(json, key).map(|s| s * 1e9);
+    Some(Baseline {
+        spread_ns: Spread {
+            median: seconds("median_s")?,
+            p10: seconds("p10_s")?,
+            p90: seconds("p90_s")?,
+        },
+        repeats: number_value(json, "repeats")?,
+        temperature: number_value(json, "max_rel_diff_temperature")?,
+        c_to_o: number_value(json, "max_rel_diff_c_to_o_gas")?,
+        ice_fraction: number_value(json, "max_abs_diff_ice_fraction")?,
+        agrees: key_value(json, "agrees")?.starts_with("true"),
+    })
 }
 
 /// A duration in nanoseconds with three significant digits and a fitting unit.
@@ -128,7 +411,7 @@ fn format_duration(nanoseconds: f64) -> String {
     format!("{value:.decimals$} {unit}")
 }
 
-/// The in-browser benchmark, once the page engineer adds `tests/browser/bench.mjs`.
+/// The in-browser benchmark `tests/browser/bench.mjs`, run with Node after the page is built.
 fn browser_bench() -> Result<(), String> {
     let root = repo_root();
     let script = root.join("tests/browser/bench.mjs");
@@ -152,30 +435,66 @@ fn browser_bench() -> Result<(), String> {
 mod tests {
     use super::*;
 
-    /// Shape of a real `estimates.json` written by criterion 0.5 (numbers shortened).
-    const ESTIMATES: &str = r#"{"mean":{"confidence_interval":{"confidence_level":0.95,"lower_bound":1.1e7,"upper_bound":1.3e7},"point_estimate":12495526.2,"standard_error":342939.7},"median":{"confidence_interval":{"confidence_level":0.95,"lower_bound":11694617.2,"upper_bound":12019960.1},"point_estimate":11838108.5,"standard_error":107551.9},"median_abs_dev":{"confidence_interval":{"confidence_level":0.95,"lower_bound":124719.5,"upper_bound":647697.4},"point_estimate":267023.2,"standard_error":164238.2},"slope":null,"std_dev":{"point_estimate":1.0}}"#;
+    /// Shape of a real `new/sample.json` written by criterion 0.5.1 (flat sampling, shortened).
+    const SAMPLE: &str = r#"{"sampling_mode":"Flat","iters":[58.0,58.0,58.0,58.0],"times":[123209653.0,72671210.0,104561733.0,72146344.0]}"#;
 
     #[test]
-    fn median_is_read_from_the_median_object_not_the_mean_or_mad() {
-        assert_eq!(median_point_estimate(ESTIMATES), Some(11838108.5));
+    fn per_iteration_times_divide_each_sample_by_its_iterations() {
+        let times = per_iteration_times(SAMPLE).unwrap();
+        assert_eq!(times.len(), 4);
+        assert_eq!(times[0], 123209653.0 / 58.0);
+        assert_eq!(times[3], 72146344.0 / 58.0);
+        // Linear sampling gives a different count per sample.
+        let linear = r#"{"sampling_mode":"Linear", "iters" : [1.0, 2.0], "times": [10.0, 30.0]}"#;
+        assert_eq!(per_iteration_times(linear).unwrap(), vec![10.0, 15.0]);
     }
 
     #[test]
-    fn median_tolerates_pretty_printed_json() {
-        let pretty = "{\n  \"median_abs_dev\": {\"point_estimate\": 3.0},\n  \"median\" : {\n    \"point_estimate\" : 2.5e6\n  }\n}";
-        assert_eq!(median_point_estimate(pretty), Some(2.5e6));
+    fn malformed_samples_are_errors() {
+        assert!(per_iteration_times(r#"{"iters":[1.0],"times":[]}"#).is_err());
+        assert!(per_iteration_times(r#"{"iters":[0.0],"times":[5.0]}"#).is_err());
+        assert!(per_iteration_times(r#"{"iters":[1.0],"times":["x"]}"#).is_err());
+        assert!(per_iteration_times(r#"{"times":[1.0]}"#).is_err());
+        assert!(per_iteration_times(r#"{"iters":[],"times":[]}"#).is_err());
     }
 
     #[test]
-    fn missing_or_bad_median_is_none() {
+    fn percentiles_interpolate_like_numpy() {
+        // numpy.percentile([1, 2, 3, 4, 10], [10, 50, 90]) = [1.4, 3.0, 7.6] (numpy's
+        // default "linear" method; values computed by hand from (n - 1) q = 0.4, 2, 3.6).
+        let s = Spread::of(&[10.0, 3.0, 1.0, 4.0, 2.0]).unwrap();
+        assert!((s.p10 - 1.4).abs() < 1e-12, "{s:?}");
+        assert_eq!(s.median, 3.0);
+        assert!((s.p90 - 7.6).abs() < 1e-12, "{s:?}");
+        // An even count: the median is the mean of the middle two.
+        assert_eq!(Spread::of(&[4.0, 1.0, 3.0, 2.0]).unwrap().median, 2.5);
         assert_eq!(
-            median_point_estimate("{\"mean\":{\"point_estimate\":1.0}}"),
-            None
+            Spread::of(&[7.0]),
+            Some(Spread {
+                median: 7.0,
+                p10: 7.0,
+                p90: 7.0
+            })
         );
-        assert_eq!(
-            median_point_estimate("{\"median\":{\"point_estimate\":\"x\"}}"),
-            None
+        assert_eq!(Spread::of(&[]), None);
+        assert_eq!(Spread::of(&[1.0, f64::NAN]), None);
+    }
+
+    #[test]
+    fn baseline_results_are_read_in_nanoseconds() {
+        let json = r#"{"grid": "400x160", "repeats": 15, "median_s": 0.0701, "p10_s": 0.0677, "p90_s": 0.0863, "max_rel_diff_temperature": 4.44e-16, "max_rel_diff_c_to_o_gas": 7.29e-12, "max_abs_diff_ice_fraction": 7.2e-15, "tolerance": 1e-06, "agrees": true}"#;
+        let b = parse_baseline(json).unwrap();
+        assert!((b.spread_ns.median - 7.01e7).abs() < 1e-3);
+        assert!((b.spread_ns.p90 - 8.63e7).abs() < 1e-3);
+        assert_eq!(b.repeats, 15.0);
+        assert_eq!(b.c_to_o, 7.29e-12);
+        assert!(b.agrees);
+        assert!(
+            !parse_baseline(&json.replace("true", "false"))
+                .unwrap()
+                .agrees
         );
+        assert!(parse_baseline(r#"{"median_s": 1.0}"#).is_none());
     }
 
     #[test]
