@@ -1,13 +1,13 @@
 // app.js: the page's behaviour. `cargo xtask dist` puts it in the page's one
 // inline module script, after the wasm-bindgen glue (which defines `initSync`
 // and `Explorer` in this same module scope) and the constant
-// `NIVALIS_WASM_BASE64`. It holds no physics: every number comes from the
+// `NIVALIS_WASM_DEFLATE_BASE64` (the module, compressed). It holds no physics: every number comes from the
 // Rust core through `Explorer`; this file builds the controls, keeps the state
 // (URL fragment, undo), schedules recomputation and hands canvases to Rust.
 // Grids too large for a frame are computed in a Web Worker (web/worker.js)
 // that runs the same Rust code and sends back what the views need.
 
-/* global initSync, Explorer, NIVALIS_WASM_BASE64 */
+/* global initSync, Explorer, NIVALIS_WASM_DEFLATE_BASE64, wasm */
 
 // ---------------------------------------------------------------------------
 // The inputs. One entry per field of the nivalis-disk/1 file, grouped as the
@@ -240,17 +240,62 @@ function download(name, text, type) {
   setTimeout(() => URL.revokeObjectURL(url), 1000);
 }
 
+// ---------------------------------------------------------------------------
+// Input bounds, checked before anything from the address, an opened file or
+// the typed inputs is deserialised (JSON.parse here, serde in the core): a
+// disk file is at most 1,000,000 bytes (the reader's documented limit for
+// disk files) and nests at most 64 arrays/objects deep (a valid disk file
+// nests 4 deep). Deeper input would overflow a recursive parser's stack.
+// ---------------------------------------------------------------------------
+
+const INPUT_LIMITS = { bytes: 1000000, depth: 64 };
+
+// A problem with `text` as a disk file's JSON, or null: its size, then its
+// nesting depth, found by one scan that skips strings (a bracket in a string
+// does not nest).
+function checkJsonBounds(text, what) {
+  // UTF-16 code units never outnumber UTF-8 bytes, so this first test is safe.
+  if (text.length > INPUT_LIMITS.bytes) return tooLarge(what, text.length);
+  const bytes = new TextEncoder().encode(text).length;
+  if (bytes > INPUT_LIMITS.bytes) return tooLarge(what, bytes);
+  let depth = 0;
+  let inString = false;
+  for (let i = 0; i < text.length; i += 1) {
+    const c = text.charCodeAt(i);
+    if (inString) {
+      if (c === 92) i += 1; // backslash: skip the escaped character
+      else if (c === 34) inString = false;
+    } else if (c === 34) inString = true;
+    else if (c === 123 || c === 91) { // { [
+      depth += 1;
+      if (depth > INPUT_LIMITS.depth) return `${what} nests more than ${INPUT_LIMITS.depth} objects or arrays deep; a disk file nests at most 4 deep`;
+    } else if (c === 125 || c === 93) depth -= 1;
+  }
+  return null;
+}
+
+const tooLarge = (what, size) => `${what} is ${size.toLocaleString("en")} bytes or more, over the limit of ${INPUT_LIMITS.bytes.toLocaleString("en")} bytes for a disk file`;
+
 const slug = (name) => (name || "disk").toLowerCase().replace(/[^a-z0-9]+/g, "-").replace(/^-|-$/g, "").slice(0, 60) || "disk";
 
 // ---------------------------------------------------------------------------
 // Start the core.
 // ---------------------------------------------------------------------------
 
-const wasmBytes = Uint8Array.from(atob(NIVALIS_WASM_BASE64), (c) => c.charCodeAt(0));
+// The module is embedded DEFLATE-compressed (cargo xtask dist): inflated with
+// the browser's own DecompressionStream, then compiled. Top-level await: the
+// rest of the page's script (and planet.js after it) runs once it is ready.
+async function inflateRaw(bytes) {
+  const stream = new Blob([bytes]).stream().pipeThrough(new DecompressionStream("deflate-raw"));
+  return new Uint8Array(await new Response(stream).arrayBuffer());
+}
+const wasmBytes = await inflateRaw(Uint8Array.from(atob(NIVALIS_WASM_DEFLATE_BASE64), (c) => c.charCodeAt(0)));
 // Compiled once: the page instantiates it here, and the worker (large grids) gets the same module.
 const nivalisModule = new WebAssembly.Module(wasmBytes);
 initSync({ module: nivalisModule });
-const explorer = new Explorer();
+// `let`: rebuilt after a trap in the core (rebuildCore below); web/planet.js
+// reads this same binding.
+let explorer = new Explorer();
 const DEFAULTS = Explorer.defaultDisk();
 const SPECIES_INFO = Explorer.speciesInfo();
 const DEMOS = JSON.parse($("demo-disks").textContent);
@@ -261,7 +306,36 @@ const DEMOS = JSON.parse($("demo-disks").textContent);
 // drawn, `fragmentParts` adds its state to the address, and `initialHash` is
 // the address as opened (the first result rewrites location.hash before
 // planet.js runs).
-const pageHooks = { afterResult: () => {}, fragmentParts: () => [], initialHash: location.hash };
+// `snapshot` and `restore` let undo cover the planet panel's inputs too: each
+// undo step holds the disk and `snapshot()` of the page's other inputs.
+const pageHooks = { afterResult: () => {}, fragmentParts: () => [], initialHash: location.hash, snapshot: () => null, restore: () => {} };
+
+// Test hooks (documented in docs/page.md; used by tests/browser): the page's
+// query string `?worker=force` sends every computation to the Web Worker and
+// `?worker=never` keeps every one on the main thread, whatever the grid and
+// the measured speed, so a test of either path does not depend on machine
+// speed. Without a query the page chooses by predicted compute time.
+const TEST_OPTIONS = new URLSearchParams(location.search);
+const WORKER_MODE = ["force", "never"].includes(TEST_OPTIONS.get("worker")) ? TEST_OPTIONS.get("worker") : "auto";
+
+// Explicit page state for tests and assistive tools, on <body>:
+// data-state = "loading" | "computing" (the worker holds a job) | "ready"
+// (the views show the current input's result) | "invalid" (the input is not
+// valid; the views show the last valid result) | "failed" (the core could not
+// be restarted); data-generation counts the results drawn since loading, so a
+// test waits for "the next result" by generation, never by a timeout.
+let generation = 0;
+function setPageState(name) {
+  document.body.dataset.state = name;
+  document.body.dataset.generation = String(generation);
+}
+function resultShown() {
+  generation += 1;
+  lastGoodState = JSON.stringify(state);
+}
+
+// The last state whose result was drawn, for the restart after a trap.
+let lastGoodState = null;
 
 // ---------------------------------------------------------------------------
 // State: `state` is the disk as edited (it may be invalid); the core keeps the
@@ -278,11 +352,20 @@ let lastEditPath = null;
 let valid = false;
 const timings = { computeMs: NaN, drawMs: NaN, path: "main thread" };
 
+// One undo step: the disk and the other inputs of the page (the planet panel's).
+const undoEntry = () => JSON.stringify({ disk: state, page: pageHooks.snapshot() });
+
+function restoreEntry(text) {
+  const entry = JSON.parse(text);
+  state = entry.disk;
+  pageHooks.restore(entry.page);
+}
+
 function pushUndo(path) {
   // A run of edits of one field within a second (a slider drag, typing) is one undo step.
   const now = performance.now();
   if (path !== lastEditPath || now - lastEditAt > 1000) {
-    undoStack.push(JSON.stringify(state));
+    undoStack.push(undoEntry());
     if (undoStack.length > 200) undoStack.shift();
     redoStack.length = 0;
   }
@@ -298,16 +381,16 @@ function updateUndoButtons() {
 
 function undo() {
   if (undoStack.length === 0) return;
-  redoStack.push(JSON.stringify(state));
-  state = JSON.parse(undoStack.pop());
+  redoStack.push(undoEntry());
+  restoreEntry(undoStack.pop());
   lastEditPath = null;
   afterStateChange();
 }
 
 function redo() {
   if (redoStack.length === 0) return;
-  undoStack.push(JSON.stringify(state));
-  state = JSON.parse(redoStack.pop());
+  undoStack.push(undoEntry());
+  restoreEntry(redoStack.pop());
   lastEditPath = null;
   afterStateChange();
 }
@@ -593,17 +676,48 @@ function predictedMs(samples) {
   return samples * (recentPerSample.length ? Math.min(...recentPerSample) : PRIOR_MS_PER_SAMPLE);
 }
 
+function useWorker(samples) {
+  if (typeof Worker === "undefined" || WORKER_MODE === "never") return false;
+  if (WORKER_MODE === "force") return true;
+  return samples > MAIN_THREAD_SAMPLES && predictedMs(samples) > WORKER_ABOVE_MS;
+}
+
 function runNow() {
   framePending = false;
+  try {
+    computeAndDraw();
+  } catch (error) {
+    if (!isCoreFailure(error)) throw error;
+    recoverFromTrap(error);
+  }
+}
+
+// The typed inputs' size, checked before the state goes to the core (text
+// fields are the only way to make a state large; nothing typed can nest).
+function typedInputProblem(disk) {
+  const problem = checkJsonBounds(JSON.stringify(disk), "The disk as typed");
+  return problem ? [{ path: "(file)", message: problem }] : [];
+}
+
+function computeAndDraw() {
   const samples = sampleCount(state);
-  if (samples > MAIN_THREAD_SAMPLES && predictedMs(samples) > WORKER_ABOVE_MS && typeof Worker !== "undefined") {
+  const disk = prune(clone(state));
+  const tooBig = typedInputProblem(disk);
+  if (tooBig.length) {
+    cancelWorkerJob();
+    showProblems(tooBig);
+    lastRunOk = false;
+    finishRun();
+    return;
+  }
+  if (useWorker(samples)) {
     computeInWorker(samples);
     return;
   }
   // A main-thread result replaces whatever a worker was still computing.
   cancelWorkerJob();
   const t0 = performance.now();
-  const result = explorer.update(prune(clone(state)));
+  const result = explorer.update(disk);
   const t1 = performance.now();
   showProblems(result.problems || []);
   if (result.ok) {
@@ -621,11 +735,93 @@ function runNow() {
     writeFragment();
     timings.path = "main thread";
     showStatus(result.summary);
+    resultShown();
     pageHooks.afterResult();
   }
+  lastRunOk = result.ok;
+  finishRun();
+  afterFirstAddressResult(result);
+}
+
+// Whether the latest computed input was valid (its result is on screen).
+let lastRunOk = false;
+
+function finishRun() {
   document.body.dataset.ready = "true";
+  setPageState(job ? "computing" : lastRunOk ? "ready" : "invalid");
   if (dirty.size === 0) settleWaiters();
 }
+
+// ---------------------------------------------------------------------------
+// A trap in the core (a WebAssembly RuntimeError: out of memory, a stack
+// overflow, a Rust panic, which aborts) leaves its instance unusable: any later
+// call fails with "recursive use of an object detected". The page then builds
+// a new instance from the same compiled module, returns to the last state
+// whose result was drawn (the state that trapped is not tried again), and says
+// so in a banner. A second trap while restoring falls back to the default
+// disk; a third stops with a banner (data-state="failed").
+// ---------------------------------------------------------------------------
+
+let coreRestarts = 0;
+let recovering = false;
+
+function isCoreFailure(error) {
+  if (typeof WebAssembly !== "undefined" && error instanceof WebAssembly.RuntimeError) return true;
+  const text = String(error && error.message ? error.message : error);
+  return /recursive use of an object detected|memory access out of bounds|unreachable|Maximum call stack size exceeded/.test(text);
+}
+
+// A new instance of the compiled module and a new Explorer on it. The glue's
+// module-scope `wasm` (same inline module script) is reset so `initSync`
+// instantiates again; the old Explorer is freed first so its finaliser cannot
+// later free a pointer of the new instance.
+function rebuildCore() {
+  try { explorer.free(); } catch (_) { /* the trapped instance may refuse; its finaliser is unregistered either way */ }
+  wasm = undefined;
+  initSync({ module: nivalisModule });
+  explorer = new Explorer();
+  coreRestarts += 1;
+}
+
+function recoverFromTrap(error, attempt = 1) {
+  if (recovering && attempt === 1) return;
+  recovering = true;
+  const what = String(error && error.message ? error.message : error);
+  try {
+    cancelWorkerJob();
+    rebuildCore();
+    valid = false;
+    drawnOnce = false;
+    state = attempt === 1 && lastGoodState ? JSON.parse(lastGoodState) : clone(DEFAULTS);
+    fillControls();
+    computeAndDraw();
+    showBanner(`The computation core stopped (${what}) and was restarted; `
+      + (attempt === 1 && lastGoodState ? "the inputs are back at the last disk that gave a result." : "the default disk is shown."));
+  } catch (again) {
+    if (attempt < 2 && isCoreFailure(again)) {
+      recoverFromTrap(again, attempt + 1);
+    } else {
+      showBanner(`The computation core stopped (${what}) and could not be restarted: ${again && again.message ? again.message : again}. Reload the page.`);
+      setPageState("failed");
+    }
+  } finally {
+    if (attempt === 1) recovering = false;
+  }
+}
+
+// Traps in event handlers (the planet panel, downloads, readouts) reach here.
+window.addEventListener("error", (event) => {
+  if (isCoreFailure(event.error || event.message)) {
+    event.preventDefault();
+    recoverFromTrap(event.error || new Error(event.message));
+  }
+});
+window.addEventListener("unhandledrejection", (event) => {
+  if (isCoreFailure(event.reason)) {
+    event.preventDefault();
+    recoverFromTrap(event.reason);
+  }
+});
 
 function showStatus(summary) {
   $("status").textContent = `${summary.name || "Unnamed disk"}: ${summary.radial_cells} × ${summary.vertical_cells} cells, star C/O ${summary.star_c_to_o.toFixed(3)}. `
@@ -651,6 +847,8 @@ function startWorker() {
     showBanner(`The background computation failed: ${e.message || "unknown error"}. Showing the last result.`);
     job = null;
     hideProgress();
+    lastRunOk = false;
+    finishRun();
   };
   worker.postMessage({ type: "init", module: nivalisModule });
   setTimeout(() => URL.revokeObjectURL(url), 10000);
@@ -671,6 +869,7 @@ function computeInWorker(samples) {
   job = { id: ++jobId, started: performance.now(), predicted: expected, samples };
   worker.postMessage({ type: "compute", id: job.id, disk: prune(clone(state)), species: mapSpecies });
   showProgress();
+  setPageState("computing");
 }
 
 function showProgress() {
@@ -692,7 +891,25 @@ function hideProgress() {
   document.body.classList.remove("is-busy");
 }
 
+// Test hook: worker messages held back (see window.__nivalisTest), so a test
+// can look at the page while a job is pending without racing the worker.
+let holdWorker = false;
+const heldMessages = [];
+
 function onWorkerMessage(event) {
+  if (holdWorker) {
+    heldMessages.push(event);
+    return;
+  }
+  try {
+    handleWorkerMessage(event);
+  } catch (error) {
+    if (!isCoreFailure(error)) throw error;
+    recoverFromTrap(error);
+  }
+}
+
+function handleWorkerMessage(event) {
   const message = event.data;
   if (message.type === "result" && job && message.id === job.id) {
     const { result } = message;
@@ -717,9 +934,12 @@ function onWorkerMessage(event) {
       timings.drawMs = performance.now() - t2;
       writeFragment();
       showStatus(result.summary);
+      resultShown();
       pageHooks.afterResult();
     }
-    if (dirty.size === 0) settleWaiters();
+    lastRunOk = result.ok;
+    finishRun();
+    afterFirstAddressResult(result);
   } else if (message.type === "map") {
     explorer.loadView("ice_map", message.species, message.parts);
     if (message.species === mapSpecies) drawView(VIEWS.find((v) => v.view === "ice_map"));
@@ -729,7 +949,13 @@ function onWorkerMessage(event) {
       hideProgress();
     }
     showBanner(`The background computation failed: ${message.message}`);
-    settleWaiters();
+    // Its core may be left unusable (a trap); the next job starts a new worker.
+    if (worker && !job) {
+      worker.terminate();
+      worker = null;
+    }
+    lastRunOk = false;
+    finishRun();
   }
 }
 
@@ -924,13 +1150,25 @@ function fillSnowlineTable() {
 // The URL fragment: #disk=<base64url of the compact disk JSON>&species=..&theme=..
 // ---------------------------------------------------------------------------
 
+// The longest address the page writes. Chromium refuses addresses over 2 MB
+// (its documented URL limit) and other browsers less; past this the state is
+// not put in the address (which would silently keep an older one) and the page
+// says so, offering to save a disk file instead.
+const ADDRESS_LIMIT = 64 * 1024;
+
 function writeFragment() {
   const diff = difference(prune(clone(state)), DEFAULTS);
   const parts = [`disk=${base64urlEncode(JSON.stringify(diff))}`];
   if (mapSpecies !== "H2O") parts.push(`species=${mapSpecies}`);
   if (theme !== "system") parts.push(`theme=${theme}`);
   parts.push(...pageHooks.fragmentParts());
-  const hash = "#" + parts.join("&");
+  let hash = "#" + parts.join("&");
+  const tooLong = hash.length > ADDRESS_LIMIT;
+  if (tooLong) hash = "#disk=too-large";
+  $("address-warning").hidden = !tooLong;
+  if (tooLong) {
+    $("address-warning-text").textContent = `This disk is too large for the address (${(parts.join("&").length + 1).toLocaleString("en")} characters, limit ${ADDRESS_LIMIT.toLocaleString("en")}), so a bookmark or a reload will not restore it. Save it as a disk file to keep it.`;
+  }
   if (location.hash !== hash) history.replaceState(null, "", hash);
 }
 
@@ -939,8 +1177,17 @@ function readFragment() {
   if (params.has("species") && SPECIES.includes(params.get("species"))) mapSpecies = params.get("species");
   if (["light", "dark", "system"].includes(params.get("theme"))) theme = params.get("theme");
   if (!params.has("disk")) return false;
+  if (params.get("disk") === "too-large") {
+    showBanner("The disk of this address was too large to be kept in it; showing the default disk.");
+    return false;
+  }
   try {
-    state = merge(DEFAULTS, JSON.parse(base64urlDecode(params.get("disk"))));
+    const text = base64urlDecode(params.get("disk"));
+    const problem = checkJsonBounds(text, "The disk in the address");
+    if (problem) throw new Error(problem);
+    const parsed = JSON.parse(text);
+    if (!parsed || typeof parsed !== "object" || Array.isArray(parsed)) throw new Error("it is not a JSON object");
+    state = merge(DEFAULTS, parsed);
     return true;
   } catch (e) {
     showBanner(`The address holds a disk that cannot be read (${e.message}); showing the default disk.`);
@@ -967,7 +1214,7 @@ function loadDisk(result, what) {
     showBanner(`${what} was not loaded: ` + result.problems.map((p) => `${p.path}: ${p.message}`).join(" · "));
     return;
   }
-  undoStack.push(JSON.stringify(state));
+  undoStack.push(undoEntry());
   redoStack.length = 0;
   lastEditPath = null;
   state = explorer.resolvedDisk();
@@ -1035,17 +1282,19 @@ function start() {
     }
   });
 
-  readFragment();
+  const fromAddress = readFragment();
   document.documentElement.dataset.theme = theme;
   $("theme-button").textContent = `Theme: ${theme}`;
   fillControls();
+  $("address-save").addEventListener("click", () => $("save-button").click());
 
   $("theme-button").addEventListener("click", () => setTheme({ system: "light", light: "dark", dark: "system" }[theme]));
   matchMedia("(prefers-color-scheme: dark)").addEventListener("change", () => { if (theme === "system") drawAll(); });
   $("cancel-button").addEventListener("click", () => {
     cancelWorkerJob();
     showBanner("The background computation was cancelled; the views show the last result.");
-    settleWaiters();
+    lastRunOk = false;
+    finishRun();
   });
   $("undo-button").addEventListener("click", undo);
   $("redo-button").addEventListener("click", redo);
@@ -1059,11 +1308,21 @@ function start() {
   $("open-file").addEventListener("change", () => {
     const file = $("open-file").files[0];
     if (!file) return;
+    $("open-file").value = "";
+    // The size is known before reading: a file over the limit is never read.
+    if (file.size > INPUT_LIMITS.bytes) {
+      showBanner(`File ${file.name} was not loaded: ${tooLarge("it", file.size)}.`);
+      return;
+    }
     const reader = new FileReader();
-    reader.onload = () => loadDisk(explorer.updateFromText(String(reader.result)), `File ${file.name}`);
+    reader.onload = () => {
+      const text = String(reader.result);
+      const problem = checkJsonBounds(text, "it");
+      if (problem) showBanner(`File ${file.name} was not loaded: ${problem}.`);
+      else loadDisk(explorer.updateFromText(text), `File ${file.name}`);
+    };
     reader.onerror = () => showBanner(`File ${file.name} could not be read: ${reader.error}`);
     reader.readAsText(file);
-    $("open-file").value = "";
   });
   $("save-button").addEventListener("click", () => {
     const text = explorer.exportText("disk");
@@ -1081,14 +1340,34 @@ function start() {
   attachReadouts();
   observeCanvases();
 
+  addressPending = fromAddress;
   runNow();
+}
+
+// Set while the disk read from the address has not been computed yet.
+let addressPending = false;
+
+// After each computed result: an invalid disk from the address on first load
+// gives way to the default disk, with the address disk's problems listed, so
+// the page never waits on nothing.
+function afterFirstAddressResult(result) {
+  if (!addressPending) return;
+  addressPending = false;
+  if (result.ok) return;
+  const problems = (result.problems || []).map((p) => `${p.path}: ${p.message}`);
+  state = clone(DEFAULTS);
+  fillControls();
+  schedule();
+  showBanner(`The disk in the address is not valid, so the default disk is shown. Its problems: ${problems.join(" · ") || "unknown"}`);
 }
 
 // For the browser tests and the benchmark (tests/browser): the running core and
 // the page's own compute and draw steps, so they time exactly what the page does.
 window.nivalis = {
-  explorer,
+  get explorer() { return explorer; },
   timings,
+  get generation() { return generation; },
+  get coreRestarts() { return coreRestarts; },
   get state() { return clone(state); },
   computeOnce: () => explorer.update(prune(clone(state))),
   drawOnce: () => { drawAll(true); fillSnowlineTable(); },
@@ -1100,6 +1379,24 @@ window.nivalis = {
   edit,
   // Sets a field without scheduling a recompute (the benchmark times `recompute` itself).
   setQuietly: (path, value) => setPath(state, path, value),
+};
+
+// Test hooks (tests/browser): `trapCore` makes the core trap inside an
+// Explorer method (Explorer.testTrap: "RuntimeError: unreachable" while the
+// Explorer is borrowed, as an out-of-memory abort in `update` would leave it);
+// `trapAllocator` makes the allocator abort (a request of 4 GiB - 16 bytes,
+// more than wasm32 can address). Both run from an event callback, as a trap in
+// any handler would, so the tests can check that the page restarts the core.
+window.__nivalisTest = {
+  trapCore: () => setTimeout(() => explorer.testTrap()),
+  trapAllocator: () => setTimeout(() => wasm.__wbindgen_malloc(0xfffffff0, 8)),
+  // While held, the worker's replies wait here; releasing delivers them in order.
+  holdWorkerResults: (hold) => {
+    holdWorker = Boolean(hold);
+    if (!holdWorker) for (const event of heldMessages.splice(0)) onWorkerMessage(event);
+  },
+  // The held replies that carry a result.
+  get heldWorkerMessages() { return heldMessages.filter((e) => e.data && e.data.type === "result").length; },
 };
 
 start();

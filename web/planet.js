@@ -11,7 +11,7 @@
 // `figure` and `methods` commands, so the downloads equal the CLI's byte for byte.
 
 /* global explorer, $, download, slug, getPath, state, valid, drawView, VIEWS, loadDisk, themeName, writeFragment,
-   pageHooks, mapSpecies, formula, SPECIES, base64urlEncode, base64urlDecode, roundSlider */
+   pageHooks, mapSpecies, formula, SPECIES, base64urlEncode, base64urlDecode, roundSlider, pushUndo, checkJsonBounds */
 
 // ---------------------------------------------------------------------------
 // The panel's inputs. `key` is what the Rust side reads, `path` names the
@@ -221,8 +221,16 @@ function showPlanetProblems(prefix, problems, fallback) {
 // ---------------------------------------------------------------------------
 
 const panel = element("section", { class: "view planet", id: "planet-panel", "aria-labelledby": "planet-title" });
-const planetGroup = makeGroup(PLANET_FIELDS, () => schedulePlanet("planet"));
-const fitGroup = makeGroup(FIT_FIELDS, () => schedulePlanet("fit"));
+// Undo covers these inputs: before an edit lands, app.js's pushUndo records
+// the values as they were (`committed`, updated after every edit).
+let committed = null;
+function planetEdited(tool, field) {
+  pushUndo(`${tool}.${field.key}`);
+  committed = { planet: planetGroup.values(), fit: fitGroup.values() };
+  schedulePlanet(tool);
+}
+const planetGroup = makeGroup(PLANET_FIELDS, (field) => planetEdited("planet", field));
+const fitGroup = makeGroup(FIT_FIELDS, (field) => planetEdited("fit", field));
 const anchorGroup = makeGroup(ANCHOR_FIELDS, () => {});
 const anchorSpecies = anchorGroup.inputs.get("species").input;
 for (const sp of SPECIES) anchorSpecies.add(new Option(formula(sp), sp));
@@ -267,7 +275,8 @@ function buildPanel() {
     element("p", { class: "intro", text: "An observed snowline (for instance a ring of a tracer molecule in a resolved image) fixes the disk's temperature: the flaring angle, or a multiplier of the midplane temperature, is solved so the model's first freeze-out snowline of that species lies at the observed radius. The anchored disk replaces the current one in every view and in the planet tools." }),
     element("div", { class: "planet-grid" }, anchorBox, anchorResult),
   );
-  $("view-c-to-o").after(panel);
+  // After the snowline table (f), so the panels run (a) to (g) in page order.
+  $("view-snowlines").after(panel);
 }
 
 // The figure and methods downloads: a button pair in every view's caption,
@@ -659,7 +668,10 @@ function readPlanetFragment(hash) {
   const params = new URLSearchParams(hash.slice(1));
   if (!params.has("planet")) return;
   try {
-    const saved = JSON.parse(base64urlDecode(params.get("planet")));
+    const text = base64urlDecode(params.get("planet"));
+    const problem = checkJsonBounds(text, "The planet in the address");
+    if (problem) throw new Error(problem);
+    const saved = JSON.parse(text);
     if (saved.planet) planetGroup.set(saved.planet);
     if (saved.fit) fitGroup.set(saved.fit);
   } catch (e) {
@@ -682,6 +694,15 @@ anchorGroup.set({ radius_au: "", sigma_au: "", adjust: "flaring_angle" });
 $("anchor-button").addEventListener("click", anchorNow);
 readPlanetFragment(pageHooks.initialHash);
 pageHooks.fragmentParts = planetFragment;
+committed = { planet: planetGroup.values(), fit: fitGroup.values() };
+pageHooks.snapshot = () => committed;
+pageHooks.restore = (saved) => {
+  if (!saved) return;
+  planetGroup.set(saved.planet);
+  fitGroup.set(saved.fit);
+  committed = { planet: planetGroup.values(), fit: fitGroup.values() };
+  // The disk's recompute (scheduled by undo) reruns the panel with these values.
+};
 pageHooks.afterResult = () => runPlanet(true, true, true);
 runPlanet();
 

@@ -76,6 +76,20 @@ async function loadPage(page, url) {
   return { page, errors };
 }
 
+/// The page's result counter (body[data-generation]): it grows by one per result drawn.
+export async function generation(page) {
+  return page.evaluate(() => Number(document.body.dataset.generation));
+}
+
+/// Waits, with no time limit of its own (the test runner's applies), until a
+/// result newer than generation `after` is drawn and the page is "ready"
+/// (body[data-state]); explicit page state, never a timing.
+export async function nextResult(page, after) {
+  await page.waitForFunction((g) => Number(document.body.dataset.generation) > g && document.body.dataset.state === "ready",
+    after, { timeout: 300000, polling: 50 });
+  await page.evaluate(() => window.nivalis.whenDrawn());
+}
+
 /// The text of a download started by clicking `selector`.
 export async function downloadText(page, selector) {
   const [download] = await Promise.all([page.waitForEvent("download"), page.click(selector)]);

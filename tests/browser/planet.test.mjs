@@ -19,7 +19,7 @@ import { after, before, test } from "node:test";
 import assert from "node:assert/strict";
 import { mkdtempSync, readFileSync, rmSync, writeFileSync } from "node:fs";
 import { tmpdir } from "node:os";
-import { canvasStats, ensureCli, ensurePage, execFileSync, join, launch, pageUrl, repoRoot, settle } from "./helpers.mjs";
+import { canvasStats, ensureCli, ensurePage, execFileSync, generation, join, launch, nextResult, pageUrl, repoRoot, settle } from "./helpers.mjs";
 import { newPage } from "./helpers.mjs";
 
 let browser;
@@ -327,13 +327,17 @@ test("the planet state round-trips through the URL", async () => {
 });
 
 test("a grid computed in the Web Worker still gives CLI-identical figures and methods; the planet tools say why they wait", async () => {
-  const { page, errors } = await freshPage();
+  // `?worker=force` (a documented test hook) sends every computation to the
+  // worker, whatever this machine's speed; the test waits on the page's
+  // explicit state (a newer result generation, data-state="ready").
+  const { page, errors } = await freshPage(pageUrl.replace(/(#.*)?$/, "?worker=force"));
   await typePlanet(page, "planet.radius_au", "5");
-  // 400 x 161 samples: four times the default grid, which the page computes in its worker.
+  const before = await generation(page);
   await page.fill("#f-grid-radial_cells", "400");
   await page.fill("#f-grid-vertical_cells", "160");
-  await page.waitForFunction(() => /in the background/.test(document.getElementById("status").textContent), null, { timeout: 60000 });
-  await page.evaluate(() => window.nivalis.whenDrawn());
+  await page.waitForFunction(() => /400 × 160 cells/.test(document.getElementById("status").textContent), null, { timeout: 300000, polling: 50 });
+  await nextResult(page, before);
+  assert.match(await page.textContent("#status"), /in the background/);
   await page.evaluate(() => window.nivalis.planet.whenDone());
   const disk = await savedDisk(page, "worker-disk.json");
   const svg = await downloadText(page, '#view-c-to-o [data-format="svg"]');
@@ -343,6 +347,37 @@ test("a grid computed in the Web Worker still gives CLI-identical figures and me
   // The planet tools need the model itself, which stays in the worker: a message, no stale numbers, no NaN.
   assert.match(await page.textContent("#planet-message"), /computed in the background/);
   assert.equal(await page.isDisabled('[data-planet-export="planet_json"]'), true);
+  assert.ok(!/NaN/.test(await page.textContent("#planet-panel")));
+  assert.deepEqual(errors, []);
+  await page.close();
+});
+
+test("planet and fit inputs are part of undo and redo, in order with the disk's edits", async () => {
+  const { page, errors } = await freshPage();
+  const luminosity = await page.inputValue("#f-star-luminosity_lsun");
+  await typePlanet(page, "planet.radius_au", "5");
+  await typePlanet(page, "fit.c_to_o", "0.6");
+  await page.fill("#f-star-luminosity_lsun", "2");
+  await settle(page);
+  await typePlanet(page, "fit.c_to_o_sigma", "0.05");
+  const steps = [
+    ["#pp-fit-c_to_o_sigma", ""], ["#f-star-luminosity_lsun", luminosity], ["#pp-fit-c_to_o", ""], ["#pp-planet-radius_au", ""],
+  ];
+  for (const [id, before] of steps) {
+    await page.click("#undo-button");
+    await settle(page);
+    await page.evaluate(() => window.nivalis.planet.whenDone());
+    assert.equal(await page.inputValue(id), before, `undo did not restore ${id}`);
+  }
+  assert.equal(await page.isDisabled("#undo-button"), true);
+  // Redo brings them back in order, the planet result included.
+  for (const [id, value] of [["#pp-planet-radius_au", "5"], ["#pp-fit-c_to_o", "0.6"], ["#f-star-luminosity_lsun", "2"], ["#pp-fit-c_to_o_sigma", "0.05"]]) {
+    await page.click("#redo-button");
+    await settle(page);
+    await page.evaluate(() => window.nivalis.planet.whenDone());
+    assert.equal(await page.inputValue(id), value, `redo did not restore ${id}`);
+  }
+  assert.match(await page.textContent("#planet-table"), /C\/O/);
   assert.ok(!/NaN/.test(await page.textContent("#planet-panel")));
   assert.deepEqual(errors, []);
   await page.close();

@@ -97,9 +97,28 @@ fn positive_extent<'a>(series: impl IntoIterator<Item = &'a Option<f64>>) -> Opt
     out
 }
 
+/// The radius axis of the profiles: from the inner edge of the first cell to
+/// the outer edge of the last, so the grid's own edges (say 0.1 au) are on
+/// the axis and get their tick labels. The cells are log-spaced with centres
+/// at the geometric mean of their edges, so each edge lies half a cell's
+/// ratio beyond its centre: r_0 * sqrt(r_0 / r_1) and r_n * sqrt(r_n / r_(n-1)).
+/// A radius list that is not increasing keeps the plain span of its ends.
 fn radius_axis(radius_au: &[f64]) -> AxisTransform {
-    let (a, b) = (radius_au[0], radius_au[radius_au.len() - 1]);
-    let (a, b) = if b > a { (a, b) } else { (a / 1.5, a * 1.5) };
+    let n = radius_au.len();
+    let (a, b) = (radius_au[0], radius_au[n - 1]);
+    let (a, b) = if b <= a {
+        (a / 1.5, a * 1.5)
+    } else if n >= 2 && radius_au[1] > a && b > radius_au[n - 2] && a > 0.0 {
+        let low = a * nivalis_physics::math::sqrt(a / radius_au[1]);
+        let high = b * nivalis_physics::math::sqrt(b / radius_au[n - 2]);
+        if low.is_finite() && high.is_finite() && low > 0.0 {
+            (low, high)
+        } else {
+            (a, b)
+        }
+    } else {
+        (a, b)
+    };
     AxisTransform::new(a, b, Scale::Log10, "r [au]")
 }
 
@@ -109,6 +128,54 @@ fn occupied_points(panel: &Panel, xs: &[f64], series: &[&[Option<f64>]]) -> Vec<
         for run in defined_runs(panel, xs, ys) {
             out.extend(run);
         }
+    }
+    out
+}
+
+/// Centres for labels of width `slot` that want to sit at `wanted` (sorted
+/// ascending), within `[low, high]`, no two closer than `slot`: overlapping
+/// neighbours are merged into clusters centred on the mean of what they want
+/// (the usual one-dimensional label-spreading scheme), then clusters are kept
+/// inside the bounds. When the bounds are too narrow for all of them the
+/// labels keep `slot` apart and run past `high` (the caller adds rows so this
+/// does not happen).
+fn label_positions(wanted: &[f64], slot: f64, low: f64, high: f64) -> Vec<f64> {
+    // Each cluster: (first index, count, sum of wanted centres).
+    let mut clusters: Vec<(usize, usize, f64)> = Vec::new();
+    let start = |c: &(usize, usize, f64)| (c.2 / c.1 as f64) - 0.5 * slot * (c.1 as f64 - 1.0);
+    for (i, &w) in wanted.iter().enumerate() {
+        clusters.push((i, 1, w));
+        while clusters.len() > 1 {
+            let last = clusters[clusters.len() - 1];
+            let prev = clusters[clusters.len() - 2];
+            let prev_end = start(&prev) + slot * (prev.1 as f64 - 1.0);
+            if start(&last) - prev_end >= slot {
+                break;
+            }
+            clusters.pop();
+            let merged = clusters.last_mut().expect("two clusters were present");
+            merged.1 += last.1;
+            merged.2 += last.2;
+        }
+    }
+    let mut out = Vec::with_capacity(wanted.len());
+    for c in &clusters {
+        let s = start(c);
+        for k in 0..c.1 {
+            out.push(s + slot * k as f64);
+        }
+    }
+    // Keep them in bounds: from the right (nothing past `high`), then from the
+    // left (nothing before `low`, which wins when both cannot hold).
+    let mut limit = high;
+    for x in out.iter_mut().rev() {
+        *x = x.min(limit);
+        limit = *x - slot;
+    }
+    let mut floor = low;
+    for x in out.iter_mut() {
+        *x = x.max(floor);
+        floor = *x + slot;
     }
     out
 }
@@ -206,12 +273,14 @@ pub fn draw_c_to_o_profile<DB: DrawingBackend>(
     p.grid(&panel)?;
 
     let mut occupied = Vec::new();
-    // Snowlines: dotted vertical lines, labels rotated along them from the top,
-    // staggered downward where neighbours would overlap.
+    // Snowlines: dotted vertical lines, every one labelled. The labels, rotated
+    // to read upward, hang from the top of the frame; where neighbours would
+    // overlap they are spread apart sideways (label_positions) and a short
+    // leader joins each moved label to its line. When even that cannot fit
+    // them in one row, they take further rows below the first, so no two
+    // labels ever overlap and none is dropped.
     let label_pt = theme.legend_font_pt;
-    let mut last_x = f64::NEG_INFINITY;
-    let mut row = 0usize;
-    let mut row_depth: f64 = 0.0;
+    let mut lines = Vec::new();
     for (label, r) in &data.snowlines {
         let Some(xp) = panel.px_x(*r) else { continue };
         if xp < frame.left || xp > frame.right {
@@ -224,27 +293,57 @@ pub fn draw_c_to_o_profile<DB: DrawingBackend>(
             LineDash::Dotted,
         )?;
         let (tw, th) = p.text_size(label, label_pt)?;
-        if xp - last_x < th + p.px(1.0) {
-            row += 1;
-        } else {
-            row = 0;
-            row_depth = 0.0;
-        }
-        if row < 3 {
-            let y0 = frame.top + p.px(2.0) + row_depth;
-            p.text(
-                label,
-                (xp - p.px(0.8), y0),
-                label_pt,
-                theme.muted,
-                (HPos::Right, VPos::Bottom),
-                Orientation::Up,
-            )?;
-            for t in 0..5 {
-                occupied.push((xp - 0.5 * th, y0 + tw * t as f64 / 4.0));
+        lines.push((label.as_str(), xp, tw, th));
+    }
+    if !lines.is_empty() {
+        let slot = lines.iter().map(|l| l.3).fold(0.0, f64::max) + p.px(1.0);
+        let leader = p.px(5.0);
+        let longest = lines.iter().map(|l| l.2).fold(0.0, f64::max);
+        lines.sort_by(|a, b| a.1.total_cmp(&b.1));
+        // Rows needed so each row's labels fit side by side in the frame.
+        let per_row = ((frame.right - frame.left) / slot).floor().max(1.0) as usize;
+        let rows = lines.len().div_ceil(per_row);
+        for row in 0..rows {
+            let members: Vec<_> = lines.iter().skip(row).step_by(rows).collect();
+            // A label's centre (it sits to the left of its anchor, half a slot wide each way).
+            let wanted: Vec<f64> = members
+                .iter()
+                .map(|l| l.1 - 0.5 * l.3 - p.px(0.8))
+                .collect();
+            let placed = label_positions(
+                &wanted,
+                slot,
+                frame.left + 0.5 * slot,
+                frame.right - 0.5 * slot,
+            );
+            let y0 = frame.top + p.px(2.0) + row as f64 * (longest + leader + p.px(2.0));
+            for ((label, xp, tw, th), centre) in members.iter().zip(placed) {
+                let anchor = centre + 0.5 * th;
+                let moved = (anchor - (xp - p.px(0.8))).abs() > p.px(0.5);
+                let y_text = y0;
+                p.text(
+                    label,
+                    (anchor, y_text),
+                    label_pt,
+                    theme.muted,
+                    (HPos::Right, VPos::Bottom),
+                    Orientation::Up,
+                )?;
+                if moved {
+                    // The leader: from under the label to its line.
+                    let from = (centre, y_text + tw + p.px(1.0));
+                    let to = (*xp, y_text + tw + leader);
+                    p.polyline(
+                        &[from, to],
+                        theme.muted,
+                        theme.axis_width_pt,
+                        LineDash::Solid,
+                    )?;
+                }
+                for t in 0..5 {
+                    occupied.push((centre, y_text + tw * t as f64 / 4.0));
+                }
             }
-            row_depth += tw + p.px(2.0);
-            last_x = xp;
         }
     }
     if let Some(star) = data.star_c_to_o {
@@ -837,6 +936,40 @@ fn colour_bar<DB: DrawingBackend>(
     )
 }
 
+/// A filled triangle of height `h` standing on the top of the colour bar
+/// `bar`, in the bar's top colour and outlined: values beyond the bar's range.
+/// Filled row by row with one-pixel lines (the painter has no polygon fill).
+fn over_range_mark<DB: DrawingBackend>(
+    p: &Painter<DB>,
+    bar: &Frame,
+    h: f64,
+    colour: Rgba,
+) -> Result<(), ChartError> {
+    let (base, apex) = (bar.top - p.px(1.0), bar.top - p.px(1.0) - h);
+    let (left, right) = (bar.left, bar.right);
+    let mid = 0.5 * (left + right);
+    let rows = h.ceil().max(1.0) as usize;
+    for r in 0..=rows {
+        let y = apex + h * r as f64 / rows as f64;
+        let half = 0.5 * (right - left) * (y - apex) / h;
+        if half > 0.0 {
+            p.polyline(
+                &[(mid - half, y), (mid + half, y)],
+                colour,
+                1.0 / p.px(1.0),
+                LineDash::Solid,
+            )?;
+        }
+    }
+    let fg = p.theme.foreground;
+    p.polyline(
+        &[(left, base), (mid, apex), (right, base), (left, base)],
+        fg,
+        p.theme.axis_width_pt,
+        LineDash::Solid,
+    )
+}
+
 fn draw_map<DB: DrawingBackend>(
     area: &DrawingArea<DB, Shift>,
     data: &MapData,
@@ -1107,7 +1240,15 @@ pub fn draw_chi2_map<DB: DrawingBackend>(
     let x = AxisTransform::new(re[0], re[nr], Scale::Log10, data.x_label.clone());
     let y = AxisTransform::new(se[0], se[ns], Scale::Log10, data.y_label.clone());
     let bar = AxisTransform::new(0.0, top, Scale::Linear, "\u{0394}\u{03c7}\u{00b2}");
-    let (main, bar) = map_panels(&p, x, y, bar, None)?;
+    let (main, mut bar) = map_panels(&p, x, y, bar, None)?;
+    // Cells above the bar's range take its top colour; a triangle over the bar
+    // (the usual "extended colour bar" mark) says so. It takes the bar's top.
+    let over_range = data.chi2.iter().any(|v| v.is_finite() && v - min > top);
+    let triangle_h = bar.frame.width() * 0.9;
+    if over_range {
+        bar.frame.top += triangle_h + p.px(1.0);
+    }
+    let undefined_cells = data.chi2.iter().any(|v| !v.is_finite());
     let (w, h) = p.size();
     p.fill_rect(
         Frame {
@@ -1179,6 +1320,16 @@ pub fn draw_chi2_map<DB: DrawingBackend>(
     }
     p.axes(&main, AxisOptions::FULL)?;
     colour_bar(&p, &bar, map, None)?;
+    if over_range {
+        over_range_mark(&p, &bar.frame, triangle_h, map.at(1.0))?;
+    }
+    if undefined_cells {
+        // Grey cells: no chi-square, because a fitted model quantity is undefined there.
+        entries.push((
+            "undefined (no solids or no O)".to_string(),
+            SeriesStyle::line(theme.undefined, LineDash::Solid),
+        ));
+    }
     if !entries.is_empty() {
         let inset = p.px(3.0);
         p.legend_at(
@@ -1193,4 +1344,49 @@ pub fn draw_chi2_map<DB: DrawingBackend>(
     Ok(ChartLayout {
         panels: vec![main.to_layout(base), bar.to_layout(base)],
     })
+}
+
+#[cfg(test)]
+mod label_tests {
+    use super::label_positions;
+
+    fn check(wanted: &[f64], slot: f64, low: f64, high: f64) -> Vec<f64> {
+        let out = label_positions(wanted, slot, low, high);
+        assert_eq!(out.len(), wanted.len());
+        for pair in out.windows(2) {
+            assert!(pair[1] - pair[0] >= slot - 1e-9, "labels overlap: {out:?}");
+        }
+        out
+    }
+
+    #[test]
+    fn labels_far_apart_stay_where_they_want() {
+        assert_eq!(
+            check(&[10.0, 50.0, 90.0], 10.0, 0.0, 100.0),
+            vec![10.0, 50.0, 90.0]
+        );
+    }
+
+    #[test]
+    fn crowded_labels_spread_around_their_mean_without_overlap() {
+        // Nine labels wanting one spot: centred on it, one slot apart.
+        let out = check(&[50.0; 9], 10.0, 0.0, 200.0);
+        assert_eq!(
+            out,
+            vec![10.0, 20.0, 30.0, 40.0, 50.0, 60.0, 70.0, 80.0, 90.0]
+        );
+        // Two pairs: each pair spreads about its own mean.
+        assert_eq!(
+            check(&[20.0, 22.0, 80.0, 82.0], 10.0, 0.0, 200.0),
+            vec![16.0, 26.0, 76.0, 86.0]
+        );
+    }
+
+    #[test]
+    fn labels_are_kept_inside_the_frame() {
+        let out = check(&[95.0, 96.0, 97.0], 10.0, 0.0, 100.0);
+        assert_eq!(out, vec![80.0, 90.0, 100.0]);
+        let out = check(&[0.0, 1.0], 10.0, 5.0, 100.0);
+        assert_eq!(out, vec![5.0, 15.0]);
+    }
 }

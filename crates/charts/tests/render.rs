@@ -273,18 +273,26 @@ fn layout_maps_pixels_back_to_data() {
         draw_c_to_o_profile(&area, &data, &Theme::light(), 1.5).unwrap()
     };
     let p = layout.main();
-    // The left edge is the innermost radius, the right edge the outermost; the bottom is C/O = 0.
+    // The left edge is the grid's inner edge, the right edge its outer edge
+    // (half a log-spaced cell beyond the first and last centres, so the edge
+    // radius gets its tick label); the bottom is C/O = 0.
+    let r = &data.radius_au;
+    let n = r.len();
+    let sqrt = nivalis_physics::math::sqrt;
+    let (inner, outer) = (
+        r[0] * sqrt(r[0] / r[1]),
+        r[n - 1] * sqrt(r[n - 1] / r[n - 2]),
+    );
     let (x, y) = layout
         .data_at(p.left as f64, (p.top + p.height as i32) as f64)
         .unwrap();
-    assert!(
-        (x / data.radius_au[0] - 1.0).abs() < 1e-9 && y.abs() < 1e-9,
-        "{x} {y}"
-    );
+    assert!((x / inner - 1.0).abs() < 1e-9 && y.abs() < 1e-9, "{x} {y}");
+    // That is the default disk's inner edge, 0.1 au.
+    assert!((x / 0.1 - 1.0).abs() < 1e-6, "{x}");
     let (x, _) = layout
         .data_at((p.left + p.width as i32) as f64, p.top as f64)
         .unwrap();
-    assert!((x / data.radius_au.last().unwrap() - 1.0).abs() < 1e-9);
+    assert!((x / outer - 1.0).abs() < 1e-9, "{x} vs {outer}");
     assert_eq!(layout.data_at(0.0, 0.0), None);
 }
 
@@ -406,4 +414,78 @@ fn omit_leaves_the_plot_rectangle_to_the_caller() {
     );
     // Outside the plot rectangle the background was painted.
     assert_ne!(rgb[0..3], sentinel);
+}
+
+#[test]
+fn every_snowline_label_is_drawn_once_and_none_overlap() {
+    // The default disk has many desorption fronts crowded in its cold outer
+    // disk (issue 15 item 12: only three of nine labels showed there).
+    let model = default_model();
+    let data = ProfileData::from_model(&model);
+    assert!(
+        data.snowlines.len() >= 9,
+        "{} snowlines",
+        data.snowlines.len()
+    );
+    for (width, height) in [(600, 400), (378, 260)] {
+        let mut svg = String::new();
+        {
+            use plotters::prelude::{IntoDrawingArea, SVGBackend};
+            let area = SVGBackend::with_string(&mut svg, (width, height)).into_drawing_area();
+            draw_c_to_o_profile(&area, &data, &Theme::light(), 1.0).unwrap();
+        }
+        // Every text element: its content and the x, y of its anchor (labels are
+        // rotated, so their horizontal extent is their text height around that x).
+        let mut texts = Vec::new();
+        for piece in svg.split("<text").skip(1) {
+            let (tag, rest) = piece.split_once('>').unwrap();
+            let content = rest.split("</text>").next().unwrap().trim().to_string();
+            let attr = |name: &str| -> f64 {
+                tag.split(&format!(" {name}=\""))
+                    .nth(1)
+                    .unwrap()
+                    .split('"')
+                    .next()
+                    .unwrap()
+                    .parse()
+                    .unwrap()
+            };
+            texts.push((content, attr("x"), attr("y")));
+        }
+        let mut xs = Vec::new();
+        for (label, _) in &data.snowlines {
+            let drawn: Vec<(f64, f64)> = texts
+                .iter()
+                .filter(|t| &t.0 == label)
+                .map(|t| (t.1, t.2))
+                .collect();
+            let same = data.snowlines.iter().filter(|(l, _)| l == label).count();
+            assert_eq!(
+                drawn.len(),
+                same,
+                "label {label} drawn {} times, expected {same} ({width}x{height})",
+                drawn.len()
+            );
+            xs.extend(drawn);
+        }
+        xs.sort_by(|a, b| a.partial_cmp(b).unwrap());
+        xs.dedup();
+        assert_eq!(
+            xs.len(),
+            data.snowlines.len(),
+            "two labels share an anchor ({width}x{height})"
+        );
+        // Labels in one row (same top) sit at least a text height apart.
+        let text_height = 6.0; // the legend font at 1 px per point is about 8 px tall; 6 is a floor
+        for a in &xs {
+            for b in &xs {
+                if a != b && (a.1 - b.1).abs() < 1.0 {
+                    assert!(
+                        (a.0 - b.0).abs() >= text_height,
+                        "labels at {a:?} and {b:?} overlap ({width}x{height})"
+                    );
+                }
+            }
+        }
+    }
 }

@@ -218,6 +218,19 @@ impl Explorer {
         readout(self.data.get(key)?, layout, x, y)
     }
 
+    /// Test hook (tests/browser/survive.test.mjs, docs/page.md): traps the
+    /// WebAssembly instance (the `unreachable` instruction) while this
+    /// Explorer is mutably borrowed, as an out-of-memory abort inside `update`
+    /// does, so the page's restart after a trap can be tested; afterwards the
+    /// old instance answers every call with "recursive use of an object
+    /// detected". Outside wasm32 it does nothing. Not a panic: no Rust code
+    /// runs after the trap.
+    #[wasm_bindgen(js_name = testTrap)]
+    pub fn test_trap(&mut self) {
+        #[cfg(target_arch = "wasm32")]
+        core::arch::wasm32::unreachable();
+    }
+
     /// Whether the view data for `view` (and `species`, for `ice_map`) is at hand;
     /// after a worker result, other species' ice maps must be fetched from the worker first.
     #[wasm_bindgen(js_name = hasView)]

@@ -24,7 +24,7 @@ use std::path::{Path, PathBuf};
 use std::process::{Command, Stdio};
 use std::time::{Duration, SystemTime};
 
-use crate::{cargo, relative, repo_root, run, succeeds, web_crate_exists};
+use crate::{cargo, relative, repo_root, run, web_crate_exists};
 
 /// One criterion benchmark: group, grid label (as in `benches/model.rs`) and what it times.
 struct Case {
@@ -320,10 +320,9 @@ fn key_value<'a>(json: &'a str, key: &str) -> Option<&'a str> {
 fn numpy_baseline() -> Result<Baseline, String> {
     let root = repo_root();
     println!("\nnumpy baseline:");
-    if !succeeds(Command::new("python3").args(["-c", "import numpy"])) {
-        // numpy comes with scipy, one of the reference libraries of the Python checks.
-        crate::test::ensure_python_modules()?;
-    }
+    // numpy comes with scipy, one of the reference libraries of the Python checks: the same
+    // Python the checks use (the system's, or the venv under target/ that setup makes).
+    let python = crate::setup::python_with_modules()?;
     let out_dir = target_dir().join("bench");
     std::fs::create_dir_all(&out_dir)
         .map_err(|e| format!("cannot create {}: {e}", relative(&out_dir)))?;
@@ -354,7 +353,7 @@ fn numpy_baseline() -> Result<Baseline, String> {
         return Err(format!("the CLI failed ({status})"));
     }
     let _ = std::fs::remove_file(&results);
-    let outcome = run(Command::new("python3")
+    let outcome = run(Command::new(&python)
         .current_dir(&root)
         .arg("crates/physics/benches/numpy_baseline.py")
         .args(["--grid", LARGE_GRID, "--reference"])

@@ -17,7 +17,9 @@
 //!    and ONE inline `<script type="module">` holding the glue, the wasm as
 //!    base64 (decoded and compiled with `initSync`) and the app (`web/app.js`
 //!    then `web/planet.js`, the planet panel and figure downloads; CSS likewise
-//!    `web/style.css` then `web/planet.css`),
+//!    `web/style.css` then `web/planet.css`; the wasm is compressed with raw
+//!    DEFLATE by `miniz_oxide` and the page inflates it with the browser's
+//!    `DecompressionStream("deflate-raw")` before compiling it),
 //!    and the Web Worker's script as inert text (`<script type="text/plain">`:
 //!    the no-modules glue and `web/worker.js`), which the page starts from a
 //!    blob: URL for large grids, handing it the compiled module.
@@ -109,9 +111,21 @@ pub fn dist(release: bool) -> Result<PathBuf, String> {
     let worker_source = format!("{worker_glue}\n{worker}");
     let demos = demo_disks_json(&root.join("demo_disks"))?;
 
+    // Raw DEFLATE at the highest level: the page inflates it with
+    // DecompressionStream("deflate-raw") before compiling it.
+    let deflated = miniz_oxide::deflate::compress_to_vec(&wasm, 10);
+    if miniz_oxide::inflate::decompress_to_vec(&deflated)
+        .ok()
+        .as_deref()
+        != Some(wasm.as_slice())
+    {
+        return Err(
+            "the DEFLATE-compressed wasm module does not inflate back to the module".to_string(),
+        );
+    }
     let script = format!(
-        "{glue}\n// The WebAssembly module, base64 (inlined so the page is one file).\nconst NIVALIS_WASM_BASE64 = \"{}\";\n{app}",
-        base64(&wasm)
+        "{glue}\n// The WebAssembly module, raw DEFLATE (RFC 1951) then base64 (inlined so the page is one file).\nconst NIVALIS_WASM_DEFLATE_BASE64 = \"{}\";\n{app}",
+        base64(&deflated)
     );
     for (what, text) in [
         (
@@ -152,11 +166,12 @@ pub fn dist(release: bool) -> Result<PathBuf, String> {
     let page = site.join("nivalis.html");
     std::fs::write(&page, &html).map_err(|e| format!("cannot write {}: {e}", relative(&page)))?;
     println!(
-        "page: {} ({} bytes: wasm {} bytes, {} as base64; glue {} bytes)",
+        "page: {} ({} bytes: wasm {} bytes, {} deflated, {} as base64; glue {} bytes)",
         relative(&page),
         html.len(),
         wasm.len(),
-        wasm.len().div_ceil(3) * 4,
+        deflated.len(),
+        deflated.len().div_ceil(3) * 4,
         glue.len()
     );
     Ok(page)

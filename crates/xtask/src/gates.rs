@@ -43,6 +43,7 @@ pub fn quality_gates() -> Result<Option<String>, String> {
 }
 
 pub fn wasm_core() -> Result<Option<String>, String> {
+    crate::setup::ensure_node()?;
     crate::test::ensure_target(WASI_TARGET)?;
     let root = repo_root();
     let runner = root.join("tests/wasm/run_wasi.mjs");

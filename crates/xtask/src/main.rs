@@ -3,9 +3,10 @@
 //!
 //! The cargo alias in `.cargo/config.toml` maps `cargo xtask ARGS` to
 //! `cargo run --package xtask -- ARGS`. This file parses the arguments by hand
-//! (the only dependency is `wasm-bindgen-cli-support`, which `dist` calls as a
-//! library so no separate CLI install is needed) and dispatches to one module
-//! per command:
+//! (the dependencies are `wasm-bindgen-cli-support`, which `dist` calls as a
+//! library so no separate CLI install is needed, and `miniz_oxide`, which
+//! compresses the page's wasm module) and dispatches to one module per command
+//! (plus [`setup`], what a fresh machine lacks for `test`):
 //!
 //! - [`test`]: the whole test suite (Rust, Python checks, browser tests), fail-fast.
 //! - [`bench`]: the criterion benchmarks of the physics core and a table of medians.
@@ -23,6 +24,7 @@ mod dist;
 mod fuzz;
 mod gates;
 mod open;
+mod setup;
 mod test;
 
 use std::path::{Path, PathBuf};

@@ -7,15 +7,19 @@
 //! 2. Rust: `cargo test --workspace` (unit, integration and doc tests).
 //! 3. The core in WebAssembly: the core's and the integration tests compiled
 //!    to wasm32-wasip1 and run under Node's WASI, and a bit-exact comparison of
-//!    native and WebAssembly numbers ([`crate::gates`]).
-//! 4. Python checks: every `tests/python/*.py` script, run with `python3` from
-//!    the repository root, after making sure the reference libraries they use
-//!    (astropy, scipy, bibtexparser) can be imported.
+//!    native and WebAssembly numbers ([`crate::gates`]); Node.js is installed
+//!    with apt-get when missing ([`crate::setup::ensure_node`]).
+//! 4. Python checks: every `tests/python/*.py` script, run from the repository
+//!    root with a Python that imports the reference libraries they use
+//!    (astropy, scipy, bibtexparser): the system's, else a venv under target/
+//!    that this stage creates ([`crate::setup::python_with_modules`]).
 //! 5. Page build: when `crates/web/Cargo.toml` exists, make sure the
 //!    wasm32-unknown-unknown target is installed and build the page with
 //!    [`crate::dist::dist`], because the browser tests load the built file.
-//! 6. Browser tests: when `tests/browser/package.json` exists, install its npm
-//!    packages if `node_modules` is missing, then `node --test tests/browser/`.
+//! 6. Browser tests: when `tests/browser/package.json` exists, install
+//!    Chromium, Node.js and npm with apt-get when missing
+//!    ([`crate::setup::ensure_browser_tools`]), its npm packages if
+//!    `node_modules` is missing, then `node --test tests/browser/`.
 //!
 //! The first failing stage stops the run. The last line printed is always
 //! `N passed, M failed`, counting stages; CI reads that line.
@@ -23,10 +27,7 @@
 use std::path::{Path, PathBuf};
 use std::process::Command;
 
-use crate::{cargo, relative, repo_root, run, succeeds, web_crate_exists};
-
-/// Python modules the checks in `tests/python` import (the reference libraries).
-const PYTHON_MODULES: [&str; 3] = ["astropy", "scipy", "bibtexparser"];
+use crate::{cargo, relative, repo_root, run, web_crate_exists};
 
 /// The target the page is compiled to.
 const WASM_TARGET: &str = "wasm32-unknown-unknown";
@@ -142,12 +143,12 @@ fn python_checks() -> Result<Option<String>, String> {
     if scripts.is_empty() {
         return Ok(Some("no scripts in tests/python yet".to_string()));
     }
-    ensure_python_modules()?;
+    let python = crate::setup::python_with_modules()?;
     let mut failures = Vec::new();
     // Every script runs even after one fails: they are quick and independent,
     // and seeing all failing checks at once saves round trips.
     for script in &scripts {
-        let outcome = run(Command::new("python3")
+        let outcome = run(Command::new(&python)
             .current_dir(repo_root())
             .env("PYTHONDONTWRITEBYTECODE", "1")
             .arg(relative(script)));
@@ -182,38 +183,6 @@ fn python_scripts(dir: &Path) -> Result<Vec<PathBuf>, String> {
         .collect();
     scripts.sort();
     Ok(scripts)
-}
-
-/// Makes sure the reference libraries import. pip runs only when the import
-/// fails, so repeated local runs stay fast. A Python whose packages the system
-/// manages (Debian's) refuses plain `pip install`; the second attempt passes
-/// `--break-system-packages`, which such a pip needs and other pips accept.
-pub fn ensure_python_modules() -> Result<(), String> {
-    let import = format!("import {}", PYTHON_MODULES.join(", "));
-    if succeeds(Command::new("python3").args(["-c", &import])) {
-        return Ok(());
-    }
-    println!(
-        "python modules missing; installing {}",
-        PYTHON_MODULES.join(" ")
-    );
-    let install = |extra: &[&str]| {
-        run(Command::new("python3")
-            .args(["-m", "pip", "install", "--quiet"])
-            .args(extra)
-            .args(PYTHON_MODULES))
-    };
-    if let Err(first) = install(&[]) {
-        println!("plain pip install failed ({first}); retrying with --break-system-packages");
-        install(&["--break-system-packages"])?;
-    }
-    if succeeds(Command::new("python3").args(["-c", &import])) {
-        Ok(())
-    } else {
-        Err(format!(
-            "`python3 -c \"{import}\"` still fails after pip install"
-        ))
-    }
 }
 
 fn page_build() -> Result<Option<String>, String> {
@@ -271,6 +240,7 @@ fn browser_tests() -> Result<Option<String>, String> {
             "tests/browser/package.json does not exist yet".to_string(),
         ));
     }
+    crate::setup::ensure_browser_tools()?;
     ensure_browser_packages()?;
     // Node's runner quietly passes when it finds no test file, which would make
     // this stage unable to fail; count them first.
@@ -290,6 +260,7 @@ fn browser_tests() -> Result<Option<String>, String> {
 /// Installs the browser tests' npm packages when `node_modules` is missing:
 /// `npm ci` when a lock file pins them, `npm install` otherwise.
 pub fn ensure_browser_packages() -> Result<(), String> {
+    crate::setup::ensure_node()?;
     let dir = repo_root().join("tests/browser");
     if dir.join("node_modules").is_dir() {
         return Ok(());
