@@ -110,7 +110,10 @@ test("raising the luminosity moves the water snowline outward", async () => {
   const [before1] = await waterSnowlines(page);
   await setField(page, "star.luminosity_lsun", 10);
   const [after10] = await waterSnowlines(page);
-  assert.ok(after10 > before1 * 1.5, `water snowline ${before1} au at 1 Lsun, ${after10} au at 10 Lsun`);
+  // With the star-dependent default grazing angle phi = 0.02 (L/Lsun)^(-1/3) (docs/model.md section 4),
+  // T_irr scales as L^(1/6), so an irradiation-set snowline moves as L^(1/3) (x2.15 for 10x L); viscous
+  // heating, which the luminosity does not change, dilutes that near 2 au: well over x1.25 all the same.
+  assert.ok(after10 > before1 * 1.25, `water snowline ${before1} au at 1 Lsun, ${after10} au at 10 Lsun`);
   // The slider follows the typed value (log scale: log10(10) = 1).
   assert.equal(Number(await page.inputValue("#f-star-luminosity_lsun-slider")), 1);
   // And the slider drives the field: a brighter star again moves it further out.
