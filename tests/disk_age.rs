@@ -263,10 +263,9 @@ fn grain_growth_slows_co_equilibration() {
     );
     let i_small = slow - Species::CO.index() * n + Species::CO.index() * small_dark.sample_count();
     assert!(!small_dark.out_of_equilibrium[i_small]);
-    assert!(
-        (small_dark.ice_fraction[i_small] - small_dark.equilibrium_ice_fraction[i_small]).abs()
-            < 1e-6
-    );
+    // 1000x smaller grains relax 1000x faster: at least ten times closer to their equilibrium.
+    let gap = |m: &Model, i: usize| (m.ice_fraction[i] - m.equilibrium_ice_fraction[i]).abs();
+    assert!(gap(&small_dark, i_small) <= 0.1 * gap(&big_dark, slow));
     // Everywhere: a sample whose state differs from its equilibrium by more than 0.01 is flagged.
     let mut differing = 0;
     for idx in 0..big.ice_fraction.len() {

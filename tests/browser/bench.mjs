@@ -18,7 +18,7 @@
 // realistic and prepared before timing: the default disk's sample
 // temperatures from the native CLI (`model` for the midplane, `map --quantity
 // temperature_k` for the cells) and each species' binding energy (the
-// `pure_ices` set) and mass from crates/physics/data. Per cell-species:
+// default `transition_state` set, as the native floor) and mass from crates/physics/data. Per cell-species:
 // exp(-E_b / T) * sqrt(8 k T / (pi m)). The ratio `edit redraw / floor`
 // divides the median of "total (compute + all 5 charts)" at 200 x 80 by the
 // floor's median; issue 9 targets at most 7.
@@ -48,7 +48,9 @@ function floorInputs() {
   const cli = ensureCli();
   const run = (args) => execFileSync(cli, args, { input: "{}", maxBuffer: 1 << 28 }).toString();
   const midplane = JSON.parse(run(["model", "-", "--format", "json"])).data.midplane_temperature_k;
-  const cells = run(["map", "-", "--quantity", "temperature_k"]).trim().split("\n").slice(1)
+  // The CSV opens with "#" provenance lines, then its header.
+  const cells = run(["map", "-", "--quantity", "temperature_k"]).trim().split("\n")
+    .filter((l) => !l.startsWith("#")).slice(1)
     .map((l) => Number(l.split(",")[3]));
   const vertical = cells.length / midplane.length;
   if (!Number.isInteger(vertical)) throw new Error(`${cells.length} map cells for ${midplane.length} radii`);
@@ -57,7 +59,7 @@ function floorInputs() {
   midplane.forEach((t, j) => temperature.push(t, ...cells.slice(j * vertical, (j + 1) * vertical)));
   if (!temperature.every((t) => t > 0 && Number.isFinite(t))) throw new Error("bad sample temperatures");
   const species = Object.fromEntries(dataRows("species.csv").map((r) => [r.species, r]));
-  const binding = Object.fromEntries(dataRows("binding_energies.csv").filter((r) => r.set === "pure_ices")
+  const binding = Object.fromEntries(dataRows("binding_energies.csv").filter((r) => r.set === "transition_state")
     .map((r) => [r.species, Number(r.binding_energy_k)]));
   const minusBinding = SPECIES.map((s) => -binding[s]);
   const thermal = SPECIES.map((s) => 8 * BOLTZMANN_ERG_PER_K / (Math.PI * Number(species[s].mass_amu) * ATOMIC_MASS_UNIT_G));

@@ -267,9 +267,7 @@ impl BalanceConstants {
             binding: props.map(|s| s.binding_energy_k),
             cr_per_zeta: props.map(|s| {
                 if cr_on {
-                    CR_HEATING_DUTY_CYCLE
-                        * s.vibration_frequency_s
-                        * exp(-s.binding_energy_k / CR_PEAK_TEMPERATURE_K)
+                    cosmic_ray_desorption_rate_s(s.vibration_frequency_s, s.binding_energy_k)
                         / REFERENCE_COSMIC_RAY_RATE_S
                 } else {
                     0.0
