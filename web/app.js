@@ -1158,7 +1158,7 @@ const ADDRESS_LIMIT = 64 * 1024;
 
 function writeFragment() {
   const diff = difference(prune(clone(state)), DEFAULTS);
-  const parts = [`disk=${base64urlEncode(JSON.stringify(diff))}`];
+  const parts = [`disk=${Explorer.encodeFragment(diff)}`];
   if (mapSpecies !== "H2O") parts.push(`species=${mapSpecies}`);
   if (theme !== "system") parts.push(`theme=${theme}`);
   parts.push(...pageHooks.fragmentParts());
@@ -1181,18 +1181,15 @@ function readFragment() {
     showBanner("The disk of this address was too large to be kept in it; showing the default disk.");
     return false;
   }
-  try {
-    const text = base64urlDecode(params.get("disk"));
-    const problem = checkJsonBounds(text, "The disk in the address");
-    if (problem) throw new Error(problem);
-    const parsed = JSON.parse(text);
-    if (!parsed || typeof parsed !== "object" || Array.isArray(parsed)) throw new Error("it is not a JSON object");
-    state = merge(DEFAULTS, parsed);
-    return true;
-  } catch (e) {
-    showBanner(`The address holds a disk that cannot be read (${e.message}); showing the default disk.`);
+  // Decoded in Rust (crates/disk_files fragment.rs): size and nesting depth are checked before deserialising.
+  const decoded = Explorer.decodeFragment(params.get("disk"));
+  if (!decoded.ok) {
+    const why = decoded.problems.map((p) => `${p.path}: ${p.message}`).join(" · ");
+    showBanner(`The address holds a disk that cannot be read (${why}); showing the default disk.`);
     return false;
   }
+  state = merge(DEFAULTS, decoded.disk);
+  return true;
 }
 
 function showBanner(text) {

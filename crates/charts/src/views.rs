@@ -1199,11 +1199,44 @@ fn log_edges(nodes: &[f64]) -> Vec<f64> {
     e.into_iter().map(|v| 10f64.powf(v)).collect()
 }
 
+/// Resolution to which the chi-square map's cells are grouped in vector
+/// output [dots per inch]: a 300 dpi print, the usual journal requirement for
+/// figures (common practice, no source).
+pub const CHI2_MAP_DPI: f64 = 300.0;
+
+/// Groups of consecutive cells, `(first, end)` with `end` exclusive, each
+/// spanning at least `min_span` device pixels between `edges[first]` and `edges[end]`
+/// (`to_px` maps an edge to its pixel coordinate); the last group takes any
+/// remainder. With cells wider than a pixel every group is one cell.
+fn pixel_groups(
+    edges: &[f64],
+    min_span: f64,
+    to_px: impl Fn(f64) -> Option<f64>,
+) -> Vec<(usize, usize)> {
+    let n = edges.len().saturating_sub(1);
+    let mut groups = Vec::new();
+    let mut start = 0;
+    let mut start_px = to_px(edges[0]).unwrap_or(0.0);
+    for (end, &edge) in edges.iter().enumerate().take(n + 1).skip(1) {
+        let px = to_px(edge).unwrap_or(start_px);
+        if (px - start_px).abs() >= min_span || end == n {
+            groups.push((start, end));
+            start = end;
+            start_px = px;
+        }
+    }
+    if start < n {
+        // Cannot happen (the loop closes a group at end == n); kept so every cell is covered.
+        groups.push((start, n));
+    }
+    groups
+}
+
 /// (f) The planet chi-square map over formation radius x solid-to-gas ratio
 /// (log-log): colour = delta chi^2 above the minimum (cividis, clamped at twice
 /// the largest threshold), contours at each threshold (solid, dashed, dotted),
 /// the best fit marked by a cross. Plain slices: `chi2[ratio_index * radii.len() + radius_index]`,
-/// NaN where undefined. Cells are always drawn as rectangles (the grids are small).
+/// NaN where undefined. Cells are drawn as rectangles, grouped to at most one per device pixel.
 pub fn draw_chi2_map<DB: DrawingBackend>(
     area: &DrawingArea<DB, Shift>,
     data: &Chi2Data,
@@ -1260,16 +1293,28 @@ pub fn draw_chi2_map<DB: DrawingBackend>(
         theme.background,
     )?;
     let map = ColourMap::Cividis;
-    for k in 0..ns {
-        for i in 0..nr {
-            let v = data.chi2[k * nr + i];
+    // Never more drawn cells than pixels: model cells are grouped into runs at
+    // least one device pixel wide (and high), and each group shows the smallest
+    // chi^2 of the cells it covers, so the best-fit valley never disappears
+    // (a 4096-cell map would otherwise write hundreds of MB of SVG).
+    // The finest useful cell is one device pixel, and in vector output (10 units per point) one
+    // pixel of a 300 dpi print: max(1, ppp x 72 / 300) device units.
+    let min_span = (pixels_per_point * 72.0 / CHI2_MAP_DPI).max(1.0);
+    let columns = pixel_groups(&re, min_span, |r| main.px(r, se[0]).map(|q| q.0));
+    let rows = pixel_groups(&se, min_span, |s| main.px(re[0], s).map(|q| q.1));
+    for &(k0, k1) in &rows {
+        for &(i0, i1) in &columns {
+            let v = (k0..k1)
+                .flat_map(|k| (i0..i1).map(move |i| data.chi2[k * nr + i]))
+                .filter(|v| v.is_finite())
+                .fold(f64::NAN, f64::min);
             let c = if v.is_finite() {
                 map.at((v - min) / top)
             } else {
                 theme.undefined
             };
             if let (Some((xa, ya)), Some((xb, yb))) =
-                (main.px(re[i], se[k]), main.px(re[i + 1], se[k + 1]))
+                (main.px(re[i0], se[k0]), main.px(re[i1], se[k1]))
             {
                 let f = main.frame;
                 p.fill_rect(

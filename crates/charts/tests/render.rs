@@ -489,3 +489,57 @@ fn every_snowline_label_is_drawn_once_and_none_overlap() {
         }
     }
 }
+
+/// Issue 15 item 7: a chi-square map far finer than the figure is drawn with
+/// at most one cell per device pixel (4096 x 1000 model cells used to give a
+/// file of hundreds of MB), and the same paraboloid at coarse and fine
+/// resolution gives the same picture size class.
+#[test]
+fn chi2_map_cells_are_decimated_to_pixels() {
+    let paraboloid = |nr: usize, nq: usize| {
+        let radii: Vec<f64> = (0..nr)
+            .map(|i| 10f64.powf(-1.0 + 3.0 * i as f64 / (nr - 1) as f64))
+            .collect();
+        let ratios: Vec<f64> = (0..nq)
+            .map(|k| 10f64.powf(-3.0 + 3.0 * k as f64 / (nq - 1) as f64))
+            .collect();
+        let mut chi2 = Vec::with_capacity(nr * nq);
+        for s in &ratios {
+            for r in &radii {
+                let (a, b) = (r.log10() - 1.0, s.log10() + 1.0);
+                chi2.push(3.0 + 8.0 * a * a + 5.0 * b * b);
+            }
+        }
+        let thresholds = vec![
+            ("1\u{03c3}".to_string(), 2.30),
+            ("2\u{03c3}".to_string(), 6.18),
+        ];
+        Figure::Chi2(Chi2Data::new(
+            &radii,
+            &ratios,
+            &chi2,
+            &thresholds,
+            Some((10.0, 0.1)),
+        ))
+    };
+    let size = FigureSize::single_column();
+    let fine = render_svg(&paraboloid(4096, 1000), &Theme::light(), size).unwrap();
+    let rects = fine.matches("<rect").count();
+    // Single column (252 x 189 pt) at 300 dpi is 1050 x 788 pixels: the plot area holds fewer cells than that.
+    assert!(
+        rects < 1050 * 788,
+        "{rects} rectangles for a 252 x 189 pt figure"
+    );
+    assert!(
+        rects < 4096 * 1000 / 8,
+        "{rects} rectangles for 4096 x 1000 cells"
+    );
+    // A map coarser than the pixels keeps one rectangle per cell.
+    let coarse = render_svg(&paraboloid(30, 20), &Theme::light(), size).unwrap();
+    assert!(
+        coarse.matches("<rect").count() >= 600,
+        "{}",
+        coarse.matches("<rect").count()
+    );
+    assert!(!fine.contains("NaN"));
+}

@@ -198,19 +198,32 @@ enum Command {
         /// The disk file.
         disk: PathBuf,
         /// Formation radius [au] (the inner end of a migration range with --to-radius-au).
-        #[arg(long = "radius-au", value_name = "AU")]
+        #[arg(long = "radius-au", value_name = "AU", allow_negative_numbers = true)]
         radius_au: f64,
         /// Outer end of a migration range [au]; gas and solids are averaged over 200 midpoints.
-        #[arg(long = "to-radius-au", value_name = "AU")]
+        #[arg(
+            long = "to-radius-au",
+            value_name = "AU",
+            allow_negative_numbers = true
+        )]
         to_radius_au: Option<f64>,
         /// How the migration range is averaged: by accreted mass (default), uniform in radius or in log radius.
         #[arg(long, value_enum, default_value_t = Weighting::AccretedMass)]
         weighting: Weighting,
         /// Accreted solid mass over accreted gas mass, M_solid / M_gas (>= 0).
-        #[arg(long = "solid-to-gas", value_name = "RATIO")]
+        #[arg(
+            long = "solid-to-gas",
+            value_name = "RATIO",
+            allow_negative_numbers = true
+        )]
         solid_to_gas: f64,
         /// Fraction of the solids' atoms that enter the envelope, in [0, 1].
-        #[arg(long, value_name = "F", default_value_t = 1.0)]
+        #[arg(
+            long,
+            value_name = "F",
+            default_value_t = 1.0,
+            allow_negative_numbers = true
+        )]
         mix: f64,
         /// Output format.
         #[arg(long, value_enum, default_value_t = PlanetFormat::Json)]
@@ -274,21 +287,37 @@ enum Command {
         #[arg(long = "relative-to", value_enum, default_value_t = RelativeTo::Star)]
         relative_to: RelativeTo,
         /// Fraction of the solids' atoms that enter the envelope, fixed over the map, in [0, 1].
-        #[arg(long, value_name = "F", default_value_t = 1.0)]
+        #[arg(
+            long,
+            value_name = "F",
+            default_value_t = 1.0,
+            allow_negative_numbers = true
+        )]
         mix: f64,
         /// Number of log-spaced solid-to-gas values (40-1000).
         #[arg(
             long = "ratio-count",
             visible_alias = "ratios",
             value_name = "N",
-            default_value_t = 48
+            default_value_t = 48,
+            allow_negative_numbers = true
         )]
-        ratio_count: usize,
+        ratio_count: i64,
         /// Smallest solid-to-gas ratio of the grid (> 0).
-        #[arg(long = "ratio-min", value_name = "RATIO", default_value_t = 1e-3)]
+        #[arg(
+            long = "ratio-min",
+            value_name = "RATIO",
+            default_value_t = 1e-3,
+            allow_negative_numbers = true
+        )]
         ratio_min: f64,
         /// Largest solid-to-gas ratio of the grid (at most 1000).
-        #[arg(long = "ratio-max", value_name = "RATIO", default_value_t = 1.0)]
+        #[arg(
+            long = "ratio-max",
+            value_name = "RATIO",
+            default_value_t = 1.0,
+            allow_negative_numbers = true
+        )]
         ratio_max: f64,
         /// Flat prior on the formation radius [au]: only places in MIN,MAX are fitted.
         #[arg(long = "radius-prior-au", value_name = "MIN,MAX", value_parser = nivalis_exports::planet::parse_range)]
@@ -301,10 +330,14 @@ enum Command {
         #[arg(long = "oxygen-correction")]
         oxygen_correction: bool,
         /// Planet mass [M_Jup]: places whose feeding zone holds less gas than the envelope are infeasible.
-        #[arg(long = "planet-mass-mjup", value_name = "MJUP")]
+        #[arg(
+            long = "planet-mass-mjup",
+            value_name = "MJUP",
+            allow_negative_numbers = true
+        )]
         planet_mass_mjup: Option<f64>,
         /// Feeding-zone half-width [Hill radii] (default 2 sqrt 3 = 3.46, Lissauer 1993).
-        #[arg(long = "feeding-zone-hill-radii", value_name = "N", default_value_t = nivalis_physics::planet::DEFAULT_FEEDING_ZONE_HILL_RADII)]
+        #[arg(long = "feeding-zone-hill-radii", value_name = "N", default_value_t = nivalis_physics::planet::DEFAULT_FEEDING_ZONE_HILL_RADII, allow_negative_numbers = true)]
         feeding_zone_hill_radii: f64,
         /// Delta chi-square thresholds: for the two mapped parameters (2.30, 6.18; default) or
         /// for the number of fitted quantities (1.00, 4.00 with C/O alone).
@@ -326,10 +359,15 @@ enum Command {
         #[arg(long)]
         species: String,
         /// Observed snowline radius [au].
-        #[arg(long = "radius-au", value_name = "AU")]
+        #[arg(long = "radius-au", value_name = "AU", allow_negative_numbers = true)]
         radius_au: f64,
         /// Its 1-sigma error [au]; the parameter values at radius +- sigma are reported.
-        #[arg(long = "sigma-au", value_name = "AU", default_value_t = 0.0)]
+        #[arg(
+            long = "sigma-au",
+            value_name = "AU",
+            default_value_t = 0.0,
+            allow_negative_numbers = true
+        )]
         sigma_au: f64,
         /// Which parameter to adjust.
         #[arg(long, value_enum, default_value_t = Adjust::FlaringAngle)]
@@ -355,7 +393,7 @@ enum Command {
         #[arg(long, value_enum, default_value_t = FigureWidth::Single)]
         width: FigureWidth,
         /// PNG resolution [dots per inch], 36-1200.
-        #[arg(long, default_value_t = 300.0)]
+        #[arg(long, default_value_t = 300.0, allow_negative_numbers = true)]
         dpi: f64,
         /// Colours: light (paper) or dark.
         #[arg(long, value_enum, default_value_t = FigureTheme::Light)]
@@ -392,21 +430,59 @@ impl Failure {
 }
 
 fn read_disk(path: &PathBuf) -> Result<DiskFile, Failure> {
+    use nivalis_disk_files::MAX_DISK_FILE_BYTES;
     let label = path.display().to_string();
-    let mut text = String::new();
+    // Read at most the size limit (plus a byte order mark and one byte to detect an oversized file),
+    // so a huge input costs no memory or time before it is refused.
+    let limit = (MAX_DISK_FILE_BYTES + 4) as u64;
+    let mut bytes = Vec::new();
     let read = if label == "-" {
-        std::io::stdin().read_to_string(&mut text).map(|_| ())
+        std::io::stdin()
+            .lock()
+            .take(limit)
+            .read_to_end(&mut bytes)
+            .map(|_| ())
     } else {
-        std::fs::read_to_string(path).map(|t| text = t)
+        std::fs::File::open(path)
+            .and_then(|f| f.take(limit).read_to_end(&mut bytes))
+            .map(|_| ())
     };
     if let Err(e) = read {
         return Err(Failure::input(vec![format!(
             "{label}: cannot read the disk file: {e}"
         )]));
     }
+    if bytes.len() as u64 >= limit {
+        return Err(Failure::input(vec![format!(
+            "{label}: (file): is larger than {MAX_DISK_FILE_BYTES} bytes (1 MiB), the most a disk file may hold"
+        )]));
+    }
+    let text = match String::from_utf8(bytes) {
+        Ok(t) => t,
+        Err(e) => {
+            return Err(Failure::input(vec![format!(
+                "{label}: (file): not UTF-8 text (invalid byte at offset {})",
+                e.utf8_error().valid_up_to()
+            )]))
+        }
+    };
     parse_disk_json(&text).map_err(|problems| {
         Failure::input(problems.0.iter().map(|p| format!("{label}: {p}")).collect())
     })
+}
+
+/// A core error about a command-line option, naming the flag instead of the
+/// core's parameter name (`--c-to-o-sigma`, not `c_to_o_sigma`). `flags` maps
+/// the core's names ([`nivalis_physics::PhysicsError::path`]) to flags; an
+/// error about something else keeps its own text.
+fn option_failure(error: &nivalis_physics::PhysicsError, flags: &[(&str, &str)]) -> Failure {
+    match error
+        .path()
+        .and_then(|p| flags.iter().find(|(core, _)| *core == p))
+    {
+        Some((_, flag)) => Failure::input(vec![format!("{flag}: {}", error.detail())]),
+        None => Failure::input(vec![error.to_string()]),
+    }
 }
 
 fn run_model(file: &DiskFile) -> Result<Model, Failure> {
@@ -419,23 +495,60 @@ fn write_output(out: &Option<PathBuf>, text: &str) -> Result<(), Failure> {
 
 fn write_bytes(out: &Option<PathBuf>, bytes: &[u8]) -> Result<(), Failure> {
     match out {
-        Some(path) => std::fs::write(path, bytes).map_err(|e| Failure {
+        Some(path) => write_atomic(path, bytes).map_err(|e| Failure {
             code: 1,
             lines: vec![format!("{}: cannot write: {e}", path.display())],
         }),
         None => {
             let mut stdout = std::io::stdout().lock();
-            match stdout.write_all(bytes).and_then(|_| stdout.flush()) {
-                Ok(()) => Ok(()),
-                // A closed pipe (e.g. `| head`) is not an error of ours.
-                Err(e) if e.kind() == std::io::ErrorKind::BrokenPipe => Ok(()),
-                Err(e) => Err(Failure {
+            // Every error counts, a closed pipe included: output that did not arrive is a failure (exit 1).
+            stdout
+                .write_all(bytes)
+                .and_then(|_| stdout.flush())
+                .map_err(|e| Failure {
                     code: 1,
                     lines: vec![format!("cannot write to standard output: {e}")],
-                }),
-            }
+                })
         }
     }
+}
+
+/// Writes `bytes` to `path` atomically: into a temporary file in the same
+/// folder, flushed to disk (fsync), then renamed over `path`. A reader sees
+/// the old file or the complete new one, never a partial one; on any error
+/// the temporary file is removed and `path` is untouched (so
+/// `anchor disk.json --out disk.json` cannot destroy its input on a full disk).
+fn write_atomic(path: &std::path::Path, bytes: &[u8]) -> std::io::Result<()> {
+    let name = path
+        .file_name()
+        .ok_or_else(|| std::io::Error::new(std::io::ErrorKind::InvalidInput, "not a file name"))?;
+    let dir = match path.parent() {
+        Some(d) if !d.as_os_str().is_empty() => d.to_path_buf(),
+        _ => PathBuf::from("."),
+    };
+    let mut temp_name = std::ffi::OsString::from(".");
+    temp_name.push(name);
+    temp_name.push(format!(".{}.tmp", std::process::id()));
+    let temp = dir.join(temp_name);
+    let result = (|| {
+        let mut f = std::fs::OpenOptions::new()
+            .write(true)
+            .create_new(true)
+            .open(&temp)?;
+        f.write_all(bytes)?;
+        f.sync_all()?;
+        drop(f);
+        std::fs::rename(&temp, path)?;
+        // Make the rename itself durable where the platform allows opening a folder.
+        if let Ok(d) = std::fs::File::open(&dir) {
+            let _ = d.sync_all();
+        }
+        Ok(())
+    })();
+    if result.is_err() {
+        let _ = std::fs::remove_file(&temp);
+    }
+    result
 }
 
 fn render(table: &Table, format: TableFormat, file: &DiskFile) -> String {
@@ -459,12 +572,14 @@ fn execute(args: Args) -> Result<(), Failure> {
             for w in &file.warnings {
                 eprintln!("{}: warning: {w}", disk.display());
             }
-            println!(
-                "{}: valid {} file",
-                disk.display(),
-                nivalis_disk_files::SCHEMA
-            );
-            Ok(())
+            write_output(
+                &None,
+                &format!(
+                    "{}: valid {} file\n",
+                    disk.display(),
+                    nivalis_disk_files::SCHEMA
+                ),
+            )
         }
         Command::Structure { disk, output } => {
             let file = read_disk(&disk)?;
@@ -545,8 +660,14 @@ fn execute(args: Args) -> Result<(), Failure> {
             }
             .request();
             let place = request.place;
-            let result =
-                planet(&model, &request).map_err(|e| Failure::input(vec![e.to_string()]))?;
+            let flags = [
+                ("radius_au", "--radius-au"),
+                ("inner_radius_au", "--radius-au"),
+                ("outer_radius_au", "--to-radius-au"),
+                ("solid_to_gas", "--solid-to-gas"),
+                ("solid_mixing_fraction", "--mix"),
+            ];
+            let result = planet(&model, &request).map_err(|e| option_failure(&e, &flags))?;
             let text = match format {
                 PlanetFormat::Json => json_text(&nivalis_exports::planet::planet_json(
                     &result,
@@ -606,7 +727,13 @@ fn execute(args: Args) -> Result<(), Failure> {
                 mix,
                 ratio_min,
                 ratio_max,
-                ratio_count,
+                ratio_count: usize::try_from(ratio_count).map_err(|_| {
+                    Failure::input(vec![format!(
+                        "--ratio-count: must be in [{}, {}], got {ratio_count}",
+                        nivalis_physics::planet::MIN_MAP_RATIO_COUNT,
+                        nivalis_physics::planet::MAX_MAP_RATIO_COUNT
+                    )])
+                })?,
                 radius_prior_au,
                 solid_to_gas_prior,
                 oxygen_correction,
@@ -626,8 +753,26 @@ fn execute(args: Args) -> Result<(), Failure> {
             })?;
             let file = read_disk(&disk)?;
             let model = run_model(&file)?;
+            // Errors of the core name its fields; the user typed flags.
+            let flags = [
+                ("c_to_o", "--c-to-o"),
+                ("c_to_o_sigma", "--c-to-o-sigma"),
+                ("c_to_h_dex", "--c-to-h-dex"),
+                ("c_to_h_sigma", "--c-to-h-sigma"),
+                ("o_to_h_dex", "--o-to-h-dex"),
+                ("o_to_h_sigma", "--o-to-h-sigma"),
+                ("m_to_h_dex", "--m-to-h-dex"),
+                ("m_to_h_sigma", "--m-to-h-sigma"),
+                ("covariance", "--covariance"),
+                ("ratio_count", "--ratio-count"),
+                ("ratio_min", "--ratio-min"),
+                ("ratio_max", "--ratio-max"),
+                ("solid_mixing_fraction", "--mix"),
+                ("planet_mass_mjup", "--planet-mass-mjup"),
+                ("feeding_zone_hill_radii", "--feeding-zone-hill-radii"),
+            ];
             let map = chi_square_map(&model, &observed, &settings)
-                .map_err(|e| Failure::input(vec![e.to_string()]))?;
+                .map_err(|e| option_failure(&e, &flags))?;
             let prov = Provenance::of(&file);
             let used = methods(&file.parameters);
             let text = match output.format {
@@ -695,7 +840,16 @@ fn execute(args: Args) -> Result<(), Failure> {
                 &file.parameters,
                 &AnchorRequest::new(sp, radius_au, sigma_au, parameter),
             )
-            .map_err(|e| Failure::input(vec![e.to_string()]))?;
+            .map_err(|e| {
+                option_failure(
+                    &e,
+                    &[
+                        ("observed_radius_au", "--radius-au"),
+                        ("sigma_au", "--sigma-au"),
+                        ("species", "--species"),
+                    ],
+                )
+            })?;
             let summary = nivalis_exports::planet::anchor_summary(&anchored);
             for line in &summary {
                 eprintln!("{line}");

@@ -55,8 +55,8 @@ fn bad_disk_file_lists_every_problem_and_exits_2() {
     assert!(out.stdout.is_empty());
     let lines: Vec<String> = stderr(&out).lines().map(String::from).collect();
     let expected_fields = [
-        "star.mass_msun: must be > 0 and finite, got 0",
-        "star.luminosity_lsun: must be > 0 and finite, got -1",
+        "star.mass_msun: must be in [0.01, 150], got 0",
+        "star.luminosity_lsun: must be in [1e-5, 10000000], got -1",
         "disk.gamma: unknown field",
         "disk.surface_density_index: must be in [-2, 2), got 2.5",
         "disk.flaring_angle: must be in (0, 1], got 0",
@@ -74,40 +74,240 @@ fn bad_disk_file_lists_every_problem_and_exits_2() {
     assert_eq!(stderr(&nivalis(&["check", p])), stderr(&out));
 }
 
+/// The tokens a non-finite number prints as (Rust `NaN`/`inf`, JavaScript
+/// `Infinity`, C `nan`), found as whole words in raw output.
+fn non_numbers(text: &str) -> Vec<String> {
+    text.split(|c: char| !(c.is_ascii_alphanumeric() || c == '_'))
+        .filter(|t| {
+            matches!(
+                *t,
+                "NaN" | "nan" | "inf" | "Inf" | "INF" | "infinity" | "Infinity"
+            )
+        })
+        .map(String::from)
+        .collect()
+}
+
+/// Empty CSV cells outside the columns documented as possibly undefined.
+fn undocumented_empty_cells(csv: &str, may_be_empty: &[&str]) -> Vec<String> {
+    // The provenance lines (# ...) come before the header.
+    let mut lines = csv.lines().filter(|l| !l.starts_with('#'));
+    let header: Vec<&str> = lines.next().unwrap_or_default().split(',').collect();
+    let mut bad = Vec::new();
+    for (n, line) in lines.enumerate() {
+        let cells: Vec<&str> = line.split(',').collect();
+        assert_eq!(
+            cells.len(),
+            header.len(),
+            "row {n} has {} cells: {line}",
+            cells.len()
+        );
+        for (h, c) in header.iter().zip(&cells) {
+            if c.is_empty() && !may_be_empty.contains(h) {
+                bad.push(format!("row {n} column {h}"));
+            }
+        }
+    }
+    bad
+}
+
+/// Issue 15 item 11: every command, `fit` included, on every demo disk; the
+/// raw output (not a cleaned copy) must hold no NaN/inf token, and CSV tables
+/// no empty cell outside the columns documented as undefined where no ice or
+/// no solids exist (C/O of an absent phase, the fit's rows without solids).
 #[test]
 fn valid_files_check_and_run_without_nan() {
-    for disk in [
-        "demo_disks/young_sun.json",
-        "demo_disks/luminous_herbig.json",
-        "demo_disks/step_model_comparison.json",
-    ] {
-        assert_eq!(nivalis(&["check", disk]).status.code(), Some(0), "{disk}");
-        for args in [
-            vec!["structure", disk],
-            vec!["structure", disk, "--format", "json"],
-            vec!["model", disk],
-            vec!["model", disk, "--format", "ecsv"],
-            vec!["model", disk, "--format", "json"],
-            vec!["map", disk, "--quantity", "c_to_o_gas"],
-            vec![
-                "map",
-                disk,
-                "--quantity",
-                "equilibration_time_yr:CO",
-                "--format",
-                "json",
-            ],
-            vec!["snowlines", disk],
-        ] {
+    let disks: Vec<String> = std::fs::read_dir(repo_root().join("demo_disks"))
+        .unwrap()
+        .map(|e| format!("demo_disks/{}", e.unwrap().file_name().to_string_lossy()))
+        .filter(|n| n.ends_with(".json"))
+        .collect();
+    assert!(disks.len() >= 6, "{disks:?}");
+    let fit_undefined = [
+        "c_to_o",
+        "c_to_h_dex_rel_star",
+        "o_to_h_dex_rel_star",
+        "m_to_h_dex_rel_star",
+        "chi2",
+        "delta_chi2",
+    ];
+    let dir = fresh_dir("every-command");
+    for disk in &disks {
+        let disk = disk.as_str();
+        let check = nivalis(&["check", disk]);
+        assert_eq!(check.status.code(), Some(0), "{disk}: {}", stderr(&check));
+        let fig = dir.join("chi2.svg");
+        let bib = dir.join("refs.bib");
+        let (fig, bib) = (fig.to_str().unwrap(), bib.to_str().unwrap());
+        let runs: Vec<(Vec<&str>, Option<&[&str]>)> = vec![
+            (vec!["structure", disk], Some(&[])),
+            (vec!["structure", disk, "--format", "json"], None),
+            (vec!["structure", disk, "--format", "ecsv"], None),
+            (
+                vec!["model", disk],
+                Some(&["c_to_o_gas", "c_to_o_ice", "c_to_o_solid"]),
+            ),
+            (vec!["model", disk, "--format", "ecsv"], None),
+            (vec!["model", disk, "--format", "json"], None),
+            (vec!["elements", disk], Some(&[])),
+            (vec!["elements", disk, "--format", "json"], None),
+            (
+                vec!["map", disk, "--quantity", "c_to_o_gas"],
+                Some(&["c_to_o_gas"]),
+            ),
+            (vec!["map", disk, "--quantity", "temperature_k"], Some(&[])),
+            (
+                vec!["map", disk, "--quantity", "ice_fraction:CO"],
+                Some(&[]),
+            ),
+            (
+                vec![
+                    "map",
+                    disk,
+                    "--quantity",
+                    "equilibration_time_yr:CO",
+                    "--format",
+                    "json",
+                ],
+                None,
+            ),
+            (vec!["snowlines", disk], None),
+            (
+                vec!["planet", disk, "--radius-au", "5", "--solid-to-gas", "0.1"],
+                None,
+            ),
+            (
+                vec![
+                    "planet",
+                    disk,
+                    "--radius-au",
+                    "5",
+                    "--solid-to-gas",
+                    "0.1",
+                    "--format",
+                    "csv",
+                ],
+                Some(&[]),
+            ),
+            (
+                vec![
+                    "planet",
+                    disk,
+                    "--radius-au",
+                    "2",
+                    "--to-radius-au",
+                    "20",
+                    "--solid-to-gas",
+                    "0.05",
+                    "--weighting",
+                    "log_radius",
+                ],
+                None,
+            ),
+            (
+                vec![
+                    "fit",
+                    disk,
+                    "--c-to-o",
+                    "0.6",
+                    "--c-to-o-sigma",
+                    "0.05",
+                    "--figure",
+                    fig,
+                ],
+                Some(&fit_undefined),
+            ),
+            (
+                vec![
+                    "fit",
+                    disk,
+                    "--c-to-o",
+                    "0.6",
+                    "--c-to-o-sigma",
+                    "1e-6",
+                    "--format",
+                    "ecsv",
+                ],
+                None,
+            ),
+            (
+                vec![
+                    "fit",
+                    disk,
+                    "--c-to-o",
+                    "0.6",
+                    "--c-to-o-sigma",
+                    "0.05",
+                    "--o-to-h-dex",
+                    "0.2",
+                    "--o-to-h-sigma",
+                    "0.1",
+                    "--format",
+                    "json",
+                ],
+                None,
+            ),
+            (vec!["figure", disk, "--view", "c_to_o"], None),
+            (vec!["figure", disk, "--view", "temperature"], None),
+            (vec!["figure", disk, "--view", "abundances"], None),
+            (vec!["figure", disk, "--view", "c_to_o_map"], None),
+            (vec!["figure", disk, "--view", "ice_map:H2O"], None),
+            (vec!["methods", disk, "--bibtex", bib], None),
+        ];
+        for (args, csv_empty_ok) in runs {
             let out = nivalis(&args);
             assert_eq!(out.status.code(), Some(0), "{args:?}: {}", stderr(&out));
             let text = stdout(&out);
-            assert!(
-                !text.contains("NaN") && !text.contains("inf"),
+            assert!(!text.trim().is_empty(), "{args:?} printed nothing");
+            assert_eq!(
+                non_numbers(&text),
+                Vec::<String>::new(),
                 "{args:?} printed a non-number"
             );
+            assert_eq!(
+                non_numbers(&stderr(&out)),
+                Vec::<String>::new(),
+                "{args:?} noted a non-number"
+            );
+            if let Some(ok) = csv_empty_ok {
+                assert_eq!(
+                    undocumented_empty_cells(&text, ok),
+                    Vec::<String>::new(),
+                    "{args:?}"
+                );
+            }
+        }
+        for file in [fig, bib] {
+            let text = std::fs::read_to_string(file).unwrap();
+            assert!(
+                !text.is_empty() && non_numbers(&text).is_empty(),
+                "{disk}: {file} holds a non-number"
+            );
+            std::fs::remove_file(file).unwrap();
         }
     }
+    // The anchored disk file, written to standard output.
+    let out = nivalis(&[
+        "anchor",
+        "demo_disks/young_sun.json",
+        "--species",
+        "CO",
+        "--radius-au",
+        "30",
+        "--sigma-au",
+        "3",
+    ]);
+    assert_eq!(out.status.code(), Some(0), "{}", stderr(&out));
+    assert!(non_numbers(&stdout(&out)).is_empty() && non_numbers(&stderr(&out)).is_empty());
+    // The check itself can fail: it sees the tokens a non-finite number prints as.
+    assert_eq!(
+        non_numbers("1.0,NaN,inf\n-inf x"),
+        vec!["NaN", "inf", "inf"]
+    );
+    assert_eq!(
+        undocumented_empty_cells("a,b\n1,\n", &[]),
+        vec!["row 0 column b"]
+    );
 }
 
 #[test]
@@ -463,4 +663,368 @@ fn check_warns_when_the_edges_cut_off_most_of_the_profile() {
     // The default disk gives no warning.
     let out = nivalis(&["check", "demo_disks/young_sun.json"]);
     assert_eq!(stderr(&out), "");
+}
+
+/// Issue 15 item 3: the fuzz target's crash inputs and 17-digit numbers. An
+/// exported disk must reproduce its export's hash (and the whole export) to
+/// the byte; with a reader that is not correctly rounded these came back
+/// 1 ulp off and the hash changed.
+#[test]
+fn seventeen_digit_numbers_reproduce_the_same_hash() {
+    for (i, disk) in [
+        r#"{"disk": {"age_myr": 1.3792569329517467e-11}}"#,
+        r#"{"disk": {"age_myr": 8888.88888888888888888881}}"#,
+        r#"{"disk": {"cosmic_ray_rate_s": 1.333e-17, "gas_mass_msun": 0.012345678901234567}}"#,
+        r#"{"star": {"luminosity_lsun": 1.3330000000000001}, "disk": {"flaring_angle": 0.030000000000000002}}"#,
+    ]
+    .iter()
+    .enumerate()
+    {
+        let path = temp_file(&format!("digits{i}.json"), disk);
+        let first = nivalis(&["model", path.to_str().unwrap(), "--format", "json"]);
+        assert_eq!(first.status.code(), Some(0), "{disk}: {}", stderr(&first));
+        let json: serde_json::Value = serde_json::from_str(&stdout(&first)).unwrap();
+        let saved = temp_file(&format!("digits{i}-resolved.json"), &serde_json::to_string_pretty(&json["disk"]).unwrap());
+        let again = nivalis(&["model", saved.to_str().unwrap(), "--format", "json"]);
+        let json_again: serde_json::Value = serde_json::from_str(&stdout(&again)).unwrap();
+        assert_eq!(json_again["disk_hash"], json["disk_hash"], "{disk}: the extracted disk gives another hash");
+        assert_eq!(stdout(&again), stdout(&first), "{disk}: the export differs when remade");
+        let ecsv = nivalis(&["model", path.to_str().unwrap(), "--format", "ecsv"]);
+        let ecsv_again = nivalis(&["model", saved.to_str().unwrap(), "--format", "ecsv"]);
+        assert_eq!(stdout(&ecsv_again), stdout(&ecsv), "{disk}: ECSV differs when remade");
+    }
+}
+
+fn fresh_dir(name: &str) -> PathBuf {
+    let dir = std::env::temp_dir().join(format!("nivalis-cli-test-{}-{name}", std::process::id()));
+    let _ = std::fs::remove_dir_all(&dir);
+    std::fs::create_dir_all(&dir).unwrap();
+    dir
+}
+
+/// Issue 15 item 4: every output file is written atomically (temporary file
+/// in the same folder, fsync, rename): a failed write leaves nothing behind,
+/// and a successful one leaves only the named file.
+#[test]
+fn output_files_are_written_whole_or_not_at_all() {
+    let dir = fresh_dir("atomic");
+    let missing = dir.join("no-such-folder").join("out.csv");
+    let m = missing.to_str().unwrap();
+    for args in [
+        vec!["model", "demo_disks/young_sun.json", "--out", m],
+        vec!["methods", "demo_disks/young_sun.json", "--bibtex", m],
+        vec![
+            "fit",
+            "demo_disks/young_sun.json",
+            "--c-to-o",
+            "0.5",
+            "--c-to-o-sigma",
+            "0.1",
+            "--ratios",
+            "40",
+            "--figure",
+            m,
+        ],
+        vec![
+            "figure",
+            "demo_disks/young_sun.json",
+            "--view",
+            "c_to_o",
+            "--out",
+            m,
+        ],
+        vec![
+            "anchor",
+            "demo_disks/young_sun.json",
+            "--species",
+            "CO",
+            "--radius-au",
+            "30",
+            "--out",
+            m,
+        ],
+    ] {
+        let out = nivalis(&args);
+        assert_eq!(out.status.code(), Some(1), "{args:?}: {}", stderr(&out));
+        assert!(
+            stderr(&out).contains("cannot write"),
+            "{args:?}: {}",
+            stderr(&out)
+        );
+        assert!(
+            !dir.join("no-such-folder").exists(),
+            "{args:?} created something"
+        );
+    }
+    assert_eq!(
+        std::fs::read_dir(&dir).unwrap().count(),
+        0,
+        "a failed write left a file"
+    );
+
+    // A write that fails half-way (the file-size limit stands in for a full disk) leaves the old file
+    // whole and no temporary file (POSIX sh `ulimit -f`, with SIGXFSZ ignored so write() returns EFBIG).
+    #[cfg(unix)]
+    {
+        let good = dir.join("good.csv");
+        std::fs::write(&good, "keep\n").unwrap();
+        let script = format!(
+            "ulimit -f 8; trap '' XFSZ; exec '{}' model demo_disks/young_sun.json --out '{}'",
+            env!("CARGO_BIN_EXE_nivalis"),
+            good.display()
+        );
+        let out = Command::new("sh")
+            .args(["-c", &script])
+            .current_dir(repo_root())
+            .output()
+            .unwrap();
+        assert_eq!(out.status.code(), Some(1), "{}", stderr(&out));
+        assert_eq!(
+            std::fs::read_to_string(&good).unwrap(),
+            "keep\n",
+            "the old file was damaged"
+        );
+        std::fs::remove_file(&good).unwrap();
+        assert_eq!(
+            std::fs::read_dir(&dir).unwrap().count(),
+            0,
+            "a failed write left a temporary file"
+        );
+    }
+
+    // A good write leaves exactly the named file; the anchored disk may replace its own input.
+    let disk = dir.join("disk.json");
+    std::fs::copy(repo_root().join("demo_disks/young_sun.json"), &disk).unwrap();
+    let d = disk.to_str().unwrap();
+    let out = nivalis(&[
+        "anchor",
+        d,
+        "--species",
+        "CO",
+        "--radius-au",
+        "30",
+        "--out",
+        d,
+    ]);
+    assert_eq!(out.status.code(), Some(0), "{}", stderr(&out));
+    assert_eq!(nivalis(&["check", d]).status.code(), Some(0));
+    let names: Vec<String> = std::fs::read_dir(&dir)
+        .unwrap()
+        .map(|e| e.unwrap().file_name().to_string_lossy().into_owned())
+        .collect();
+    assert_eq!(names, vec!["disk.json".to_string()]);
+}
+
+/// Issue 15 item 4: an error writing standard output is exit 1 with a message,
+/// for a full device and for a pipe whose reader has gone.
+#[cfg(target_os = "linux")]
+#[test]
+fn stdout_write_errors_exit_1() {
+    let full = std::fs::OpenOptions::new()
+        .write(true)
+        .open("/dev/full")
+        .expect("/dev/full exists on Linux");
+    let out = Command::new(env!("CARGO_BIN_EXE_nivalis"))
+        .args(["model", "demo_disks/young_sun.json"])
+        .current_dir(repo_root())
+        .stdout(full)
+        .output()
+        .unwrap();
+    assert_eq!(out.status.code(), Some(1), "{}", stderr(&out));
+    assert!(
+        stderr(&out).contains("cannot write to standard output"),
+        "{}",
+        stderr(&out)
+    );
+
+    // A pipe closed before the write: the reader end is dropped at once.
+    let mut child = Command::new(env!("CARGO_BIN_EXE_nivalis"))
+        .args([
+            "map",
+            "demo_disks/young_sun.json",
+            "--quantity",
+            "temperature_k",
+        ])
+        .current_dir(repo_root())
+        .stdout(std::process::Stdio::piped())
+        .stderr(std::process::Stdio::piped())
+        .spawn()
+        .unwrap();
+    drop(child.stdout.take());
+    let out = child.wait_with_output().unwrap();
+    assert_eq!(out.status.code(), Some(1), "{}", stderr(&out));
+    assert!(
+        stderr(&out).contains("cannot write to standard output"),
+        "{}",
+        stderr(&out)
+    );
+}
+
+/// Issue 15 item 10: a negative number is a value (not clap's "use -- -1" tip),
+/// and the range check names the flag and the allowed range.
+#[test]
+fn option_errors_name_flags_and_ranges() {
+    let y = "demo_disks/young_sun.json";
+    for (args, expected) in [
+        (
+            vec!["planet", y, "--radius-au", "-1", "--solid-to-gas", "0.1"],
+            "error: --radius-au: must lie in the disk",
+        ),
+        (
+            vec!["planet", y, "--radius-au", "10", "--solid-to-gas", "-0.5"],
+            "error: --solid-to-gas: must be >= 0 and finite, got -0.5",
+        ),
+        (
+            vec![
+                "planet",
+                y,
+                "--radius-au",
+                "10",
+                "--solid-to-gas",
+                "0.1",
+                "--mix",
+                "-1",
+            ],
+            "error: --mix: must be in [0, 1], got -1",
+        ),
+        (
+            vec!["fit", y, "--c-to-o", "0.5", "--c-to-o-sigma", "-0.1"],
+            "error: --c-to-o-sigma: must be >= 1e-6 and finite, got -0.1",
+        ),
+        (
+            vec!["fit", y, "--c-to-o", "0.5", "--c-to-o-sigma", "1e-320"],
+            "error: --c-to-o-sigma: must be >= 1e-6 and finite, got 1e-320",
+        ),
+        (
+            vec!["fit", y, "--c-to-o", "-2", "--c-to-o-sigma", "0.1"],
+            "error: --c-to-o: must be in [0, 100], got -2",
+        ),
+        (
+            vec![
+                "fit",
+                y,
+                "--c-to-o",
+                "0.5",
+                "--c-to-o-sigma",
+                "0.1",
+                "--ratios",
+                "-5",
+            ],
+            "error: --ratio-count: must be in [40, 1000], got -5",
+        ),
+        (
+            vec![
+                "fit",
+                y,
+                "--c-to-o",
+                "0.5",
+                "--c-to-o-sigma",
+                "0.1",
+                "--ratios",
+                "5",
+            ],
+            "error: --ratio-count: must be in [40, 1000], got 5",
+        ),
+        (
+            vec![
+                "fit",
+                y,
+                "--c-to-o",
+                "0.5",
+                "--c-to-o-sigma",
+                "0.1",
+                "--o-to-h-dex",
+                "0.1",
+                "--o-to-h-sigma",
+                "-1",
+            ],
+            "error: --o-to-h-sigma: must be >= 1e-6 and finite, got -1",
+        ),
+        (
+            vec!["anchor", y, "--species", "CO", "--radius-au", "-3"],
+            "error: --radius-au:",
+        ),
+    ] {
+        let out = nivalis(&args);
+        assert_eq!(out.status.code(), Some(2), "{args:?}: {}", stderr(&out));
+        let err = stderr(&out);
+        assert!(err.starts_with(expected), "{args:?}: {err}");
+        assert!(
+            !err.contains("'--") && !err.contains("c_to_o_sigma") && !err.contains("ratio_count"),
+            "{args:?}: {err}"
+        );
+        assert!(out.stdout.is_empty(), "{args:?} wrote output");
+    }
+}
+
+/// Issue 15 items 6 and 7: duplicate keys, a byte order mark, oversized and
+/// deeply nested input, and a flood of problems, each with a clear message.
+#[test]
+fn bad_text_gets_a_clear_bounded_message() {
+    let dup = temp_file(
+        "dup.json",
+        "{\"disk\": {\"age_myr\": 1},\n \"disk\": {\"age_myr\": 2}}",
+    );
+    let out = nivalis(&["check", dup.to_str().unwrap()]);
+    assert_eq!(out.status.code(), Some(2));
+    assert!(
+        stderr(&out).contains(
+            "disk: duplicate key: disk is given at line 1 column 2 and again at line 2 column 2"
+        ),
+        "{}",
+        stderr(&out)
+    );
+
+    // A UTF-8 byte order mark is accepted and removed (as a browser's text decoding does).
+    let bom = temp_file("bom.json", "\u{feff}{\"star\": {\"mass_msun\": 1.1}}");
+    let out = nivalis(&["check", bom.to_str().unwrap()]);
+    assert_eq!(out.status.code(), Some(0), "{}", stderr(&out));
+
+    // Over 1 MiB: refused without reading it all or echoing it.
+    let big = temp_file("big.json", &format!("{{\"{}\": 1}}", "k".repeat(3 << 20)));
+    let out = nivalis(&["check", big.to_str().unwrap()]);
+    assert_eq!(out.status.code(), Some(2));
+    assert!(
+        stderr(&out).contains("larger than 1048576 bytes") && stderr(&out).len() < 300,
+        "{}",
+        stderr(&out)
+    );
+
+    // A long unknown key is shortened in the message.
+    let long = temp_file(
+        "long.json",
+        &format!("{{\"disk\": {{\"{}\": 1}}}}", "q".repeat(100_000)),
+    );
+    let out = nivalis(&["check", long.to_str().unwrap()]);
+    assert_eq!(out.status.code(), Some(2));
+    assert!(
+        stderr(&out).contains("unknown field") && stderr(&out).len() < 1000,
+        "{} bytes of stderr",
+        stderr(&out).len()
+    );
+
+    // 5000 nested brackets.
+    let deep = temp_file("deep.json", &("[".repeat(5000) + &"]".repeat(5000)));
+    let out = nivalis(&["check", deep.to_str().unwrap()]);
+    assert_eq!(out.status.code(), Some(2));
+    assert!(
+        stderr(&out).contains("deeper than 32 levels"),
+        "{}",
+        stderr(&out)
+    );
+
+    // 20,000 unknown keys: 50 listed and a count.
+    let keys: Vec<String> = (0..20_000)
+        .map(|i| format!("\"unknown_{i}\": {i}"))
+        .collect();
+    let many = temp_file("many.json", &format!("{{{}}}", keys.join(",")));
+    let out = nivalis(&["check", many.to_str().unwrap()]);
+    assert_eq!(out.status.code(), Some(2));
+    let lines: Vec<&str> = std::str::from_utf8(&out.stderr).unwrap().lines().collect();
+    assert_eq!(lines.len(), 51);
+    assert!(
+        lines[50].ends_with("(file): and 19950 more problems"),
+        "{}",
+        lines[50]
+    );
 }

@@ -14,9 +14,14 @@
 //! assert_eq!(bad.to_string(), "disk.gass_mass_msun: unknown field; did you mean gas_mass_msun?");
 //! ```
 
+pub mod fragment;
+mod json;
 mod reader;
 mod writer;
 
+pub use json::{
+    cap_problems, parse_json_text, MAX_DISK_FILE_BYTES, MAX_LISTED_PROBLEMS, MAX_NESTING_DEPTH,
+};
 pub use reader::{from_value, parse_disk_json};
 pub use writer::{to_json_string, to_value};
 
@@ -52,13 +57,85 @@ impl DiskFile {
     }
 }
 
-/// One problem found in a disk file.
+/// One problem found in a disk file (or in a request checked like one), as
+/// data: the field, the offending value, what is allowed, and the sentence
+/// shown to a person. Front ends place a problem beside its field from
+/// `path`; no code needs to parse `message`.
 #[derive(Debug, Clone, PartialEq, Eq)]
 pub struct Problem {
     /// Full dotted path of the field, e.g. `disk.gas_mass_msun` (or `(file)` for syntax errors).
     pub path: String,
+    /// The offending value as short JSON text (at most [`MAX_SHOWN_CHARS`] characters), if there is one.
+    pub value: Option<String>,
+    /// The allowed range or options in words, e.g. `> 0 and finite` or `in [8, 4096]`, if there is one.
+    pub allowed: Option<String>,
     /// What is wrong, naming the value and the allowed range.
     pub message: String,
+}
+
+/// Memory a model takes per sample (radial cell x (vertical cells + 1)), in
+/// bytes: 26 doubles (the structure's per-sample fields and the ice fraction and
+/// equilibration time of each of the nine species); measured as 205 bytes per
+/// sample from the peak resident size of `nivalis structure` at 512 x 255 and
+/// 1024 x 255 (release build). Per-cell exports (`nivalis map`) take up to about
+/// 4x more while they are written.
+pub const MODEL_BYTES_PER_SAMPLE: usize = 26 * 8;
+
+/// Largest model the reader accepts: 1 GiB, so a large grid is refused with a
+/// clear message before the run instead of aborting when memory runs out.
+pub const MAX_MODEL_BYTES: usize = 1 << 30;
+
+/// Longest key or value shown in a problem, in characters; longer text is cut
+/// and ends in `...`, so a huge bad input cannot produce a huge message.
+pub const MAX_SHOWN_CHARS: usize = 80;
+
+/// `text` cut to at most [`MAX_SHOWN_CHARS`] characters (ending in `...` when cut).
+pub fn shorten(text: &str) -> String {
+    if text.chars().count() <= MAX_SHOWN_CHARS {
+        text.to_string()
+    } else {
+        let cut: String = text.chars().take(MAX_SHOWN_CHARS - 3).collect();
+        format!("{cut}...")
+    }
+}
+
+impl Problem {
+    /// A problem with only a path and a message.
+    pub fn new(path: impl Into<String>, message: impl Into<String>) -> Problem {
+        Problem {
+            path: path.into(),
+            value: None,
+            allowed: None,
+            message: message.into(),
+        }
+    }
+
+    /// The same problem recording the offending value (shortened).
+    pub fn with_value(mut self, value: impl AsRef<str>) -> Problem {
+        self.value = Some(shorten(value.as_ref()));
+        self
+    }
+
+    /// The same problem recording what is allowed.
+    pub fn with_allowed(mut self, allowed: impl Into<String>) -> Problem {
+        self.allowed = Some(allowed.into());
+        self
+    }
+
+    /// A core (physics) error as a problem: its field, value and allowed range
+    /// come from the error's own data; an error without a field is attached to `(model)`.
+    pub fn from_physics(error: &nivalis_physics::PhysicsError) -> Problem {
+        Problem {
+            path: error.path().unwrap_or("(model)").to_string(),
+            value: error.value().map(|v| shorten(&v)),
+            allowed: error.allowed(),
+            message: if error.path().is_some() {
+                error.detail()
+            } else {
+                error.to_string()
+            },
+        }
+    }
 }
 
 impl fmt::Display for Problem {

@@ -1,7 +1,8 @@
 //! The validating reader: walks the JSON tree once, collecting every problem.
 
-use crate::{DiskFile, Problem, Problems, SCHEMA};
+use crate::{shorten, DiskFile, Problem, Problems, SCHEMA};
 use nivalis_physics::budget::Carriers;
+use nivalis_physics::error::num;
 use nivalis_physics::params::{
     default_flaring_angle, AbundanceReference, CarbonFractions, DesorptionModel, EarlyPhase,
     Element, GasMassMeaning, InitialIceState, NitrogenFractions, Opacity, SootLine,
@@ -15,16 +16,11 @@ use serde_json::{Map, Value};
 
 /// Parse and validate a disk file from JSON text.
 pub fn parse_disk_json(text: &str) -> Result<DiskFile, Problems> {
-    match serde_json::from_str::<Value>(text) {
-        Ok(v) => from_value(&v),
-        Err(e) => Err(Problems(vec![Problem {
-            path: "(file)".into(),
-            message: format!("not valid JSON: {e}"),
-        }])),
-    }
+    from_value(&crate::parse_json_text(text)?)
 }
 
 /// Validate a disk file already parsed into a JSON value (the page passes its JS object this way).
+/// At most [`crate::MAX_LISTED_PROBLEMS`] problems are listed, then a count of the rest.
 pub fn from_value(value: &Value) -> Result<DiskFile, Problems> {
     let mut r = Reader {
         problems: Vec::new(),
@@ -35,12 +31,13 @@ pub fn from_value(value: &Value) -> Result<DiskFile, Problems> {
     if r.problems.is_empty() {
         Ok(file)
     } else {
-        Err(Problems(r.problems))
+        Err(Problems(crate::cap_problems(r.problems)))
     }
 }
 
 /// An allowed range of a real number.
 #[derive(Clone, Copy)]
+#[allow(dead_code)] // `Positive` and `NonNegative` are for fields without a physical bound; every field has one today.
 enum Range {
     /// x > 0.
     Positive,
@@ -69,9 +66,9 @@ impl Range {
         match self {
             Range::Positive => "> 0 and finite".into(),
             Range::NonNegative => ">= 0 and finite".into(),
-            Range::Closed(a, b) => format!("in [{a}, {b}]"),
-            Range::OpenClosed(a, b) => format!("in ({a}, {b}]"),
-            Range::ClosedOpen(a, b) => format!("in [{a}, {b})"),
+            Range::Closed(a, b) => format!("in [{}, {}]", num(a), num(b)),
+            Range::OpenClosed(a, b) => format!("in ({}, {}]", num(a), num(b)),
+            Range::ClosedOpen(a, b) => format!("in [{}, {})", num(a), num(b)),
         }
     }
 }
@@ -82,6 +79,8 @@ struct Reader {
 }
 
 fn join(path: &str, key: &str) -> String {
+    // An empty key is shown as `""`, so a problem's path is never empty (found by the fuzz smoke test).
+    let key = if key.is_empty() { "\"\"" } else { key };
     if path.is_empty() {
         key.to_string()
     } else {
@@ -106,6 +105,10 @@ fn edit_distance(a: &str, b: &str) -> usize {
 }
 
 fn suggestion(key: &str, known: &[&str]) -> Option<String> {
+    // A key far longer than any field name suggests nothing (and costs no quadratic edit distance).
+    if key.len() > 2 * crate::MAX_SHOWN_CHARS {
+        return None;
+    }
     let lower = key.to_lowercase();
     known
         .iter()
@@ -128,11 +131,25 @@ fn show(v: &Value) -> String {
 }
 
 impl Reader {
+    /// A problem with no single offending value (kept for field checks across several fields).
+    #[allow(dead_code)]
     fn problem(&mut self, path: impl Into<String>, message: impl Into<String>) {
-        self.problems.push(Problem {
-            path: path.into(),
-            message: message.into(),
-        });
+        self.problems.push(Problem::new(path, message));
+    }
+
+    /// A problem recording the offending value and what is allowed as data.
+    fn bad(
+        &mut self,
+        path: impl Into<String>,
+        value: &Value,
+        allowed: impl Into<String>,
+        message: impl Into<String>,
+    ) {
+        self.problems.push(
+            Problem::new(path, message)
+                .with_value(value.to_string())
+                .with_allowed(allowed),
+        );
     }
 
     /// The object at `path` (absent = empty), reporting unknown keys.
@@ -151,14 +168,20 @@ impl Reader {
                             Some(s) => format!("unknown field; did you mean {s}?"),
                             None => format!("unknown field; expected one of {}", known.join(", ")),
                         };
-                        self.problem(join(path, key), msg);
+                        self.problems.push(
+                            Problem::new(join(path, &shorten(key)), msg)
+                                .with_value(shorten(key))
+                                .with_allowed(known.join(", ")),
+                        );
                     }
                 }
                 Some(map)
             }
             Some(other) => {
-                self.problem(
+                self.bad(
                     if path.is_empty() { "(file)" } else { path },
+                    other,
+                    "an object",
                     format!("must be an object, got {}", show(other)),
                 );
                 None
@@ -183,13 +206,20 @@ impl Reader {
                 if range.contains(x) {
                     x
                 } else {
-                    self.problem(p, format!("must be {}, got {}", range.describe(), show(v)));
+                    self.bad(
+                        p,
+                        v,
+                        range.describe(),
+                        format!("must be {}, got {}", range.describe(), show(v)),
+                    );
                     default
                 }
             }
             _ => {
-                self.problem(
+                self.bad(
                     p,
+                    v,
+                    format!("a number {}", range.describe()),
                     format!("must be a number {}, got {}", range.describe(), show(v)),
                 );
                 default
@@ -214,8 +244,10 @@ impl Reader {
         match as_int {
             Some(x) if x >= lo as f64 && x <= hi as f64 => x as usize,
             _ => {
-                self.problem(
+                self.bad(
                     p,
+                    v,
+                    format!("a whole number in [{lo}, {hi}]"),
                     format!("must be a whole number in [{lo}, {hi}], got {}", show(v)),
                 );
                 default
@@ -236,8 +268,10 @@ impl Reader {
         match v {
             Value::Bool(b) => *b,
             other => {
-                self.problem(
+                self.bad(
                     join(path, key),
+                    other,
+                    "true or false",
                     format!("must be true or false, got {}", show(other)),
                 );
                 default
@@ -250,8 +284,10 @@ impl Reader {
         match v {
             Value::String(s) => Some(s.clone()),
             other => {
-                self.problem(
+                self.bad(
                     join(path, key),
+                    other,
+                    "a string",
                     format!("must be a string, got {}", show(other)),
                 );
                 None
@@ -276,8 +312,10 @@ impl Reader {
                     let hint = suggestion(s, choices)
                         .map(|c| format!("; did you mean {c}?"))
                         .unwrap_or_default();
-                    self.problem(
+                    self.bad(
                         p,
+                        v,
+                        format!("one of {}", choices.join(", ")),
                         format!(
                             "must be one of {}, got {}{hint}",
                             choices.join(", "),
@@ -288,8 +326,10 @@ impl Reader {
                 }
             },
             other => {
-                self.problem(
+                self.bad(
                     p,
+                    other,
+                    format!("one of {}", choices.join(", ")),
                     format!("must be one of {}, got {}", choices.join(", "), show(other)),
                 );
                 None
@@ -322,9 +362,13 @@ impl Reader {
                 .map(|(k, v)| format!("{k} {v}"))
                 .collect::<Vec<_>>()
                 .join(" + ");
-            self.problem(
-                p,
-                format!("fractions must sum to 1 (within 1e-6), got {listed} = {sum}"),
+            self.problems.push(
+                Problem::new(
+                    p,
+                    format!("fractions must sum to 1 (within 1e-6), got {listed} = {sum}"),
+                )
+                .with_value(sum.to_string())
+                .with_allowed("a sum of 1 (within 1e-6)"),
             );
             return default;
         }
@@ -349,7 +393,14 @@ impl Reader {
         );
         if let Some(schema) = self.text(top, "", "schema") {
             if schema != SCHEMA {
-                self.problem("schema", format!("must be \"{SCHEMA}\", got \"{schema}\""));
+                self.problems.push(
+                    Problem::new(
+                        "schema",
+                        format!("must be \"{SCHEMA}\", got \"{}\"", shorten(&schema)),
+                    )
+                    .with_value(&schema)
+                    .with_allowed(format!("\"{SCHEMA}\"")),
+                );
             }
         }
         f.name = self.text(top, "", "name").unwrap_or_default();
@@ -370,13 +421,19 @@ impl Reader {
                 "abundances",
             ],
         );
-        p.star.mass_msun = self.real(star, "star", "mass_msun", d.star.mass_msun, Range::Positive);
+        p.star.mass_msun = self.real(
+            star,
+            "star",
+            "mass_msun",
+            d.star.mass_msun,
+            Range::Closed(0.01, 150.0),
+        ); // disks are seen around substellar hosts down to ~0.01 Msun; ~150 Msun is the observed upper stellar mass (M, from memory)
         p.star.luminosity_lsun = self.real(
             star,
             "star",
             "luminosity_lsun",
             d.star.luminosity_lsun,
-            Range::Positive,
+            Range::Closed(1e-5, 1e7), // faintest brown-dwarf hosts (~1e-5 Lsun) to beyond the most luminous stars (~5e6 Lsun) (M)
         );
         p.star.effective_temperature_k = self.real(
             star,
@@ -390,7 +447,7 @@ impl Reader {
             "star",
             "fuv_1au_habing",
             d.star.fuv_1au_habing,
-            Range::NonNegative,
+            Range::Closed(0.0, 1e15), // a 1e6 Lsun O star gives ~4e14 G0 at 1 au (D: half of L in the FUV / (4 pi au^2) / 1.6e-3 erg cm-2 s-1)
         );
         let ab = self.object(
             star.and_then(|m| m.get("abundances")),
@@ -470,7 +527,7 @@ impl Reader {
                 "disk",
                 "gas_mass_profile_total_msun",
                 dd.gas_mass_msun,
-                Range::Positive,
+                Range::OpenClosed(0.0, 150.0), // and <= the star's mass (checked below)
             );
             q.gas_mass_meaning = GasMassMeaning::ProfileTotal;
         } else {
@@ -479,7 +536,7 @@ impl Reader {
                 "disk",
                 "gas_mass_msun",
                 dd.gas_mass_msun,
-                Range::Positive,
+                Range::OpenClosed(0.0, 150.0), // and <= the star's mass (checked below)
             );
             q.gas_mass_meaning = GasMassMeaning::BetweenEdges;
         }
@@ -488,7 +545,7 @@ impl Reader {
             "disk",
             "characteristic_radius_au",
             dd.characteristic_radius_au,
-            Range::Positive,
+            Range::Closed(0.01, 1e4), // observed R_c are 1-300 au (M); 1e4 au (0.05 pc) is the size of a cloud core, not a disk
         );
         q.surface_density_index = self.real(
             disk,
@@ -497,36 +554,59 @@ impl Reader {
             dd.surface_density_index,
             Range::ClosedOpen(-2.0, 2.0),
         );
+        if star_ok && q.gas_mass_msun > p.star.mass_msun {
+            // A disk heavier than its star is gravitationally unstable long before (Toomre Q << 1) and is no longer
+            // a disk around that star; the model's Keplerian, non-self-gravitating structure does not apply.
+            self.problems.push(
+                Problem::new(
+                    "disk.gas_mass_msun",
+                    format!(
+                        "must be <= star.mass_msun ({}), got {}",
+                        p.star.mass_msun, q.gas_mass_msun
+                    ),
+                )
+                .with_value(q.gas_mass_msun.to_string())
+                .with_allowed(format!("<= star.mass_msun ({})", p.star.mass_msun)),
+            );
+        }
         let before_radii = self.problems.len();
         q.inner_radius_au = self.real(
             disk,
             "disk",
             "inner_radius_au",
             dd.inner_radius_au,
-            Range::Positive,
+            Range::OpenClosed(0.0, 1e3), // and > the stellar radius (checked below); transition-disk holes reach ~100 au (M)
         );
         q.outer_radius_au = self.real(
             disk,
             "disk",
             "outer_radius_au",
             dd.outer_radius_au,
-            Range::Positive,
+            Range::OpenClosed(0.0, 1e4), // the largest disks are ~1000 au (M); 1e4 au is a cloud core
         );
         if self.problems.len() == before_radii && q.inner_radius_au >= q.outer_radius_au {
-            self.problem(
-                "disk.inner_radius_au",
-                format!(
-                    "must be < disk.outer_radius_au ({}), got {}",
-                    q.outer_radius_au, q.inner_radius_au
-                ),
+            self.problems.push(
+                Problem::new(
+                    "disk.inner_radius_au",
+                    format!(
+                        "must be < disk.outer_radius_au ({}), got {}",
+                        q.outer_radius_au, q.inner_radius_au
+                    ),
+                )
+                .with_value(q.inner_radius_au.to_string())
+                .with_allowed(format!("< disk.outer_radius_au ({})", q.outer_radius_au)),
             );
         }
         if self.problems.len() == before_radii && star_ok {
             let r_star = stellar_radius_au(p.star.luminosity_lsun, p.star.effective_temperature_k);
             if q.inner_radius_au <= r_star {
-                self.problem(
-                    "disk.inner_radius_au",
-                    format!("must exceed the stellar radius {r_star:.4} au (from luminosity and effective temperature), got {}", q.inner_radius_au),
+                self.problems.push(
+                    Problem::new(
+                        "disk.inner_radius_au",
+                        format!("must exceed the stellar radius {r_star:.4} au (from luminosity and effective temperature), got {}", q.inner_radius_au),
+                    )
+                    .with_value(q.inner_radius_au.to_string())
+                    .with_allowed(format!("> {r_star:.4} au (the stellar radius)")),
                 );
             }
         }
@@ -550,23 +630,23 @@ impl Reader {
                     format!("the edges {rin}-{rout} au hold only {f:.3e} of the surface-density profile (R_c = {rc} au), need at least 1e-9; move the edges or R_c"),
                 );
             } else if f < 0.5 {
-                self.warnings.push(Problem {
-                    path: "disk.inner_radius_au".into(),
-                    message: format!(
+                self.warnings.push(Problem::new(
+                    "disk.inner_radius_au",
+                    format!(
                         "the edges {rin}-{rout} au cut off {:.1} % of the surface-density profile (R_c = {rc} au); the disk is a small part of its profile",
                         100.0 * (1.0 - f)
                     ),
-                });
+                ));
             }
             if mass_between && (MIN_PROFILE_FRACTION_BETWEEN_EDGES..0.99).contains(&f) {
-                self.warnings.push(Problem {
-                    path: "disk.gas_mass_msun".into(),
-                    message: format!(
+                self.warnings.push(Problem::new(
+                    "disk.gas_mass_msun",
+                    format!(
                         "now the gas mass between the edges ({} Msun; the whole profile holds {:.4e} Msun); files written before this change meant the profile total, which is now disk.gas_mass_profile_total_msun",
                         q.gas_mass_msun,
                         q.gas_mass_msun / f
                     ),
-                });
+                ));
             }
         }
         q.accretion_rate_msun_per_yr = self.real(
@@ -574,7 +654,7 @@ impl Reader {
             "disk",
             "accretion_rate_msun_per_yr",
             dd.accretion_rate_msun_per_yr,
-            Range::NonNegative,
+            Range::Closed(0.0, 1e-3), // FU Orionis outbursts peak near 1e-4 Msun/yr (Hartmann & Kenyon 1996, M); at 1e-3 a solar-mass star doubles within 1000 yr
         );
         q.flaring_angle = self.real(
             disk,
@@ -605,7 +685,7 @@ impl Reader {
             "disk.opacity",
             "rosseland_cm2_per_g",
             kappa_default,
-            Range::Positive,
+            Range::Closed(1e-5, 1e5), // dust-free gas ~1e-4-1e-3 to the largest dust opacities ~1e4 cm2/g (M); kappa = 1e300 gave T ~ 1e76 K
         );
         q.opacity = match self.choice(
             opacity,
@@ -707,10 +787,10 @@ impl Reader {
                 atmosphere,
             };
             if q.self_consistent_flaring {
-                self.warnings.push(Problem {
-                    path: "disk.self_consistent_flaring".into(),
-                    message: "ignored: disk.temperature.kind power_law sets the midplane temperature (the fixed flaring angle still sets the starlight's path)".into(),
-                });
+                self.warnings.push(Problem::new(
+                    "disk.self_consistent_flaring",
+                    "ignored: disk.temperature.kind power_law sets the midplane temperature (the fixed flaring angle still sets the starlight's path)",
+                ));
             }
         } else {
             for key in power_keys {
@@ -782,30 +862,36 @@ impl Reader {
             "disk",
             "grain_radius_um",
             dd.grain_radius_um,
-            Range::Positive,
+            Range::Closed(1e-3, 1e5), // 1 nm (the smallest grains) to 10 cm pebbles (C)
         );
         q.grain_density_g_cm3 = self.real(
             disk,
             "disk",
             "grain_density_g_cm3",
             dd.grain_density_g_cm3,
-            Range::Positive,
+            Range::Closed(0.01, 10.0), // fluffy aggregates (~0.01-0.1) to iron (7.87 g/cm3, CRC Handbook) (C)
         );
         q.cosmic_ray_rate_s = self.real(
             disk,
             "disk",
             "cosmic_ray_rate_s",
             dd.cosmic_ray_rate_s,
-            Range::NonNegative,
+            Range::Closed(0.0, 1e-12), // Galactic 1e-17-1e-16 s-1, near strong sources ~1e-14 (M); 1e-12 bounds it
         );
         q.interstellar_fuv_habing = self.real(
             disk,
             "disk",
             "interstellar_fuv_habing",
             dd.interstellar_fuv_habing,
-            Range::NonNegative,
+            Range::Closed(0.0, 1e8), // the strongest cluster fields near O stars are ~1e5-1e7 G0 (M)
         );
-        q.age_myr = self.real(disk, "disk", "age_myr", dd.age_myr, Range::Positive);
+        q.age_myr = self.real(
+            disk,
+            "disk",
+            "age_myr",
+            dd.age_myr,
+            Range::OpenClosed(0.0, 1e4),
+        ); // positive; 10 Gyr is older than any gas disk (C)
         q.midplane_temperature_scale = self.real(
             disk,
             "disk",
@@ -895,13 +981,16 @@ impl Reader {
                 o.contains_key(key)
                     .then(|| r.real(Some(o), &sp, key, f64::NAN, range))
             };
-            slot.binding_energy_k = opt(self, "binding_energy_k", Range::Positive);
+            slot.binding_energy_k = opt(self, "binding_energy_k", Range::OpenClosed(0.0, 1e5)); // physisorption (~100 K) to refractory binding (~7e4 K) (M)
             slot.attempt_frequency_s = opt(self, "attempt_frequency_s", Range::Closed(1e6, 1e22));
             slot.photodesorption_yield =
                 opt(self, "photodesorption_yield", Range::Closed(0.0, 1.0));
-            slot.condensation_temperature_k =
-                opt(self, "condensation_temperature_k", Range::Positive);
-            // A rejected value came back as NaN: drop it (the problem is already recorded).
+            slot.condensation_temperature_k = opt(
+                self,
+                "condensation_temperature_k",
+                Range::OpenClosed(0.0, 5000.0),
+            ); // every solid sublimates below ~2000 K (C)
+               // A rejected value came back as NaN: drop it (the problem is already recorded).
             for v in [
                 &mut slot.binding_energy_k,
                 &mut slot.attempt_frequency_s,
@@ -987,7 +1076,7 @@ impl Reader {
             "composition",
             "soot_line_k",
             dc.soot_line_k,
-            Range::Positive,
+            Range::OpenClosed(0.0, 5000.0), // every solid sublimates below ~2000 K at disk pressures (C)
         );
         if let Some(i) = self.choice(
             comp,
@@ -1002,14 +1091,14 @@ impl Reader {
             "composition",
             "sulfide_release_k",
             dc.sulfide_release_k,
-            Range::Positive,
+            Range::OpenClosed(0.0, 5000.0), // as the soot line
         );
         p.composition.silicate_sublimation_k = self.real(
             comp,
             "composition",
             "silicate_sublimation_k",
             dc.silicate_sublimation_k,
-            Range::Positive,
+            Range::OpenClosed(0.0, 5000.0), // as the soot line
         );
         if star_ok && self.problems.len() == before_comp {
             if let Err(e) = Carriers::new(
@@ -1017,13 +1106,11 @@ impl Reader {
                 &p.composition,
                 &SpeciesTable::built_in(),
             ) {
-                self.problem(
-                    "composition",
-                    e.to_string()
-                        .trim_start_matches("composition: ")
-                        .trim_start_matches("composition.carbon.HCN: ")
-                        .to_string(),
-                );
+                // The carriers' check concerns the composition as a whole; its field, value and range are data of the error.
+                self.problems.push(Problem {
+                    path: "composition".into(),
+                    ..Problem::from_physics(&e)
+                });
             }
         }
 
@@ -1050,6 +1137,25 @@ impl Reader {
             d.grid.max_height_scale_heights,
             Range::Closed(1.0, 20.0),
         );
+        let samples = p.grid.radial_cells * (p.grid.vertical_cells + 1);
+        let bytes = samples * crate::MODEL_BYTES_PER_SAMPLE;
+        if bytes > crate::MAX_MODEL_BYTES {
+            self.problems.push(
+                Problem::new(
+                    "grid.radial_cells",
+                    format!(
+                        "a grid of {} x {} cells ({samples} samples) needs about {} MiB for the model ({} bytes per sample), more than the {} MiB limit; lower grid.radial_cells or grid.vertical_cells",
+                        p.grid.radial_cells,
+                        p.grid.vertical_cells,
+                        bytes >> 20,
+                        crate::MODEL_BYTES_PER_SAMPLE,
+                        crate::MAX_MODEL_BYTES >> 20
+                    ),
+                )
+                .with_value(format!("{} x {}", p.grid.radial_cells, p.grid.vertical_cells))
+                .with_allowed(format!("at most {} samples", crate::MAX_MODEL_BYTES / crate::MODEL_BYTES_PER_SAMPLE)),
+            );
+        }
         f
     }
 }
@@ -1129,7 +1235,7 @@ mod tests {
         assert_eq!(
             p,
             vec![
-                "star.mass_msun: must be > 0 and finite, got -1",
+                "star.mass_msun: must be in [0.01, 150], got -1",
                 "star.effective_temperature_k: must be in [2000, 50000], got 100",
                 "disk.gas_mass_msum: unknown field; did you mean gas_mass_msun?",
                 "disk.surface_density_index: must be in [-2, 2), got 2",
@@ -1156,7 +1262,7 @@ mod tests {
     fn strings_are_not_numbers_and_integers_are_reals() {
         assert_eq!(
             problems(r#"{"star": {"mass_msun": "1"}}"#),
-            vec![r#"star.mass_msun: must be a number > 0 and finite, got "1""#]
+            vec![r#"star.mass_msun: must be a number in [0.01, 150], got "1""#]
         );
         assert_eq!(
             parse_disk_json(r#"{"star": {"mass_msun": 2}}"#)
@@ -1370,5 +1476,74 @@ mod tests {
             problems(r#"{"disk": {"temperature": {"kind": "powerlaw"}}}"#)[0],
             r#"disk.temperature.kind: must be one of energy_balance, power_law, got "powerlaw"; did you mean power_law?"#
         );
+    }
+
+    #[test]
+    fn problems_carry_path_value_and_allowed_as_data() {
+        let p = parse_disk_json(r#"{"star": {"mass_msun": -1}, "grid": {"radial_cells": 4}, "ices": {"desorption": "third"}}"#).unwrap_err().0;
+        assert_eq!(p[0].path, "star.mass_msun");
+        assert_eq!(p[0].value.as_deref(), Some("-1"));
+        assert_eq!(p[0].allowed.as_deref(), Some("in [0.01, 150]"));
+        assert_eq!(
+            p[0].to_string(),
+            "star.mass_msun: must be in [0.01, 150], got -1"
+        );
+        assert_eq!(p[1].path, "ices.desorption");
+        assert_eq!(p[1].value.as_deref(), Some("\"third\""));
+        assert_eq!(
+            p[1].allowed.as_deref(),
+            Some("one of zeroth_order, first_order, fixed_temperature")
+        );
+        assert_eq!(p[2].path, "grid.radial_cells");
+        assert_eq!(p[2].allowed.as_deref(), Some("a whole number in [8, 4096]"));
+        // The carriers' check: the composition as a whole, with the error's own numbers.
+        let c = parse_disk_json(r#"{"star": {"abundances": {"offset_dex": {"C": 0.5}}}}"#)
+            .unwrap_err()
+            .0;
+        assert_eq!(c[0].path, "composition");
+        assert!(
+            c[0].message.starts_with("oxygen runs out before water"),
+            "{}",
+            c[0].message
+        );
+    }
+
+    /// Issue 15 item 5: the reproductions of physically absurd values that
+    /// `check` used to accept, each now refused with its allowed range.
+    #[test]
+    fn physically_absurd_values_are_refused() {
+        for (text, expected) in [
+            (r#"{"disk": {"accretion_rate_msun_per_yr": 1e300}}"#, "disk.accretion_rate_msun_per_yr: must be in [0, 0.001], got 1e+300"),
+            (r#"{"disk": {"gas_mass_msun": 1e278}}"#, "disk.gas_mass_msun: must be in (0, 150], got 1e+278"),
+            (r#"{"disk": {"gas_mass_msun": 1.5}}"#, "disk.gas_mass_msun: must be <= star.mass_msun (1), got 1.5"),
+            (r#"{"disk": {"opacity": {"rosseland_cm2_per_g": 1e300}}}"#, "disk.opacity.rosseland_cm2_per_g: must be in [1e-5, 100000], got 1e+300"),
+            (r#"{"disk": {"outer_radius_au": 1e93}}"#, "disk.outer_radius_au: must be in (0, 10000], got 1e+93"),
+            (r#"{"disk": {"age_myr": 888888888888888888888881.0e-8}}"#, "disk.age_myr: must be in (0, 10000], got 8888888888888889.0"),
+            (r#"{"disk": {"cosmic_ray_rate_s": 1.333e51}}"#, "disk.cosmic_ray_rate_s: must be in [0, 1e-12], got 1.333e+51"),
+            (r#"{"star": {"mass_msun": 1e-300}}"#, "star.mass_msun: must be in [0.01, 150], got 1e-300"),
+            (r#"{"ices": {"species_overrides": {"CO": {"binding_energy_k": 1e9}}}}"#, "ices.species_overrides.CO.binding_energy_k: must be in (0, 100000], got 1000000000.0"),
+        ] {
+            assert_eq!(problems(text), vec![expected.to_string()], "{text}");
+        }
+        // Just inside the bounds is accepted.
+        assert!(parse_disk_json(r#"{"star": {"mass_msun": 2}, "disk": {"gas_mass_msun": 2, "accretion_rate_msun_per_yr": 1e-3}}"#).is_ok());
+    }
+
+    #[test]
+    fn grids_beyond_the_memory_limit_are_refused_with_the_estimate() {
+        let p = problems(r#"{"grid": {"radial_cells": 4096, "vertical_cells": 4096}}"#);
+        assert_eq!(p.len(), 1);
+        assert!(p[0].starts_with("grid.radial_cells: a grid of 4096 x 4096 cells (16781312 samples) needs about 3328 MiB"), "{}", p[0]);
+        // 4096 x 1024 = 4.2 M samples x 208 B = 832 MiB: accepted.
+        assert!(
+            parse_disk_json(r#"{"grid": {"radial_cells": 4096, "vertical_cells": 1024}}"#).is_ok()
+        );
+    }
+
+    #[test]
+    fn an_empty_key_has_a_visible_path() {
+        assert!(problems(r#"{"": 1}"#)[0]
+            .starts_with(r#""": unknown field; expected one of schema, name"#));
+        assert!(problems(r#"{"disk": {"": 1}}"#)[0].starts_with(r#"disk."": unknown field"#));
     }
 }

@@ -189,4 +189,60 @@ mod tests {
             "{d}"
         );
     }
+
+    /// The fuzz target's three crash inputs (issue 15 item 3) and 17-digit
+    /// values: a number read, written and read again keeps every bit. Correct
+    /// rounding is IEEE 754 / the shortest-round-trip rule of Steele & White
+    /// 1990 and Ryu (Adams 2018), which serde_json's `float_roundtrip` implements.
+    #[test]
+    fn numbers_round_trip_to_the_bit() {
+        for (text, expected) in [
+            ("1.333e51", 1.333e51),
+            ("1.3792569329517467e-11", 1.3792569329517467e-11),
+            ("888888888888888888888881.0e-8", 8888888888888889.0),
+            ("0.30000000000000004", 0.30000000000000004),
+            ("2.2250738585072014e-308", 2.2250738585072014e-308),
+            ("1.7976931348623157e308", 1.7976931348623157e308),
+            ("0.1234567890123456789", 0.12345678901234568),
+        ] {
+            let x: f64 = text.parse().unwrap();
+            assert_eq!(
+                x.to_bits(),
+                f64::to_bits(expected),
+                "{text}: Rust's own parser disagrees with the literal"
+            );
+            // The JSON reader itself (what every front end uses).
+            let v: Value = serde_json::from_str(text).unwrap();
+            assert_eq!(
+                v.as_f64().unwrap().to_bits(),
+                x.to_bits(),
+                "{text} read 1 ulp off"
+            );
+            let back: Value = serde_json::from_str(&v.to_string()).unwrap();
+            assert_eq!(back, v, "{text} changed on the round trip");
+        }
+        // Through a disk file, at values the field ranges accept.
+        for text in [
+            "1.3792569329517467",
+            "0.30000000000000004",
+            "1.3330000000000001",
+            "8.88888888888888888888881",
+            "1.333",
+        ] {
+            let x: f64 = text.parse().unwrap();
+            let f = parse_disk_json(&format!(r#"{{"disk": {{"age_myr": {text}}}}}"#)).unwrap();
+            assert_eq!(
+                f.parameters.disk.age_myr.to_bits(),
+                x.to_bits(),
+                "{text} read 1 ulp off"
+            );
+            let again = parse_disk_json(&to_json_string(&f)).unwrap();
+            assert_eq!(
+                again.parameters.disk.age_myr.to_bits(),
+                x.to_bits(),
+                "{text} changed on the round trip"
+            );
+            assert_eq!(to_json_string(&again), to_json_string(&f));
+        }
+    }
 }

@@ -60,9 +60,37 @@ pub fn to_csv(table: &Table, provenance: &Provenance) -> String {
     out
 }
 
-/// A YAML single-quoted scalar ('' escapes a quote).
+/// Whether a character may stand unescaped in a YAML scalar of the ECSV
+/// header: YAML 1.1 section 5.1 "printable" characters (which ECSV's readers
+/// use), minus the characters YAML treats as line breaks (U+0085, U+2028,
+/// U+2029, section 5.4) and the byte order mark U+FEFF.
+fn yaml_printable(c: char) -> bool {
+    matches!(c, ' '..='~' | '\u{a0}'..='\u{d7ff}' | '\u{e000}'..='\u{fffd}' | '\u{10000}'..)
+        && !matches!(c, '\u{2028}' | '\u{2029}' | '\u{feff}')
+}
+
+/// A YAML scalar for the ECSV header: single-quoted ('' escapes a quote) when
+/// every character is printable, otherwise double-quoted with every other
+/// character escaped as `\uXXXX` or `\UXXXXXXXX` (YAML 1.1 section 5.7), so
+/// control characters, C1 controls, U+007F, U+FFFE and the Unicode line and
+/// paragraph separators in a disk's name or notes cannot break the header.
 fn yaml_quoted(s: &str) -> String {
-    format!("'{}'", s.replace('\'', "''"))
+    if s.chars().all(yaml_printable) {
+        return format!("'{}'", s.replace('\'', "''"));
+    }
+    let mut out = String::with_capacity(s.len() + 8);
+    out.push('"');
+    for c in s.chars() {
+        match c {
+            '"' => out.push_str("\\\""),
+            '\\' => out.push_str("\\\\"),
+            c if yaml_printable(c) => out.push(c),
+            c if (c as u32) <= 0xffff => out.push_str(&format!("\\u{:04X}", c as u32)),
+            c => out.push_str(&format!("\\U{:08X}", c as u32)),
+        }
+    }
+    out.push('"');
+    out
 }
 
 /// ECSV 1.0: `# %ECSV 1.0` header with each column's unit and description,
@@ -152,4 +180,26 @@ pub fn json_text(value: &Value) -> String {
     let mut s = serde_json::to_string_pretty(value).expect("JSON serialises");
     s.push('\n');
     s
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn yaml_scalars_escape_every_non_printable_character() {
+        assert_eq!(yaml_quoted("it's"), "'it''s'");
+        assert_eq!(yaml_quoted("a\u{2028}b\"c\\"), "\"a\\u2028b\\\"c\\\\\"");
+        for c in [
+            '\u{2028}', '\u{2029}', '\u{85}', '\u{7f}', '\u{80}', '\u{9f}', '\u{fffe}', '\u{feff}',
+            '\t', '\u{1}',
+        ] {
+            let q = yaml_quoted(&format!("x{c}y"));
+            assert!(
+                q.starts_with('"') && q.chars().all(|ch| ch == ' ' || ch.is_ascii_graphic()),
+                "{c:?}: {q}"
+            );
+        }
+        assert_eq!(yaml_quoted("\u{1F600}é"), "'\u{1F600}é'");
+    }
 }

@@ -1,7 +1,7 @@
 //! Provenance: the program version, the resolved disk file and a short hash of
 //! it, carried by every exported file so a result can be traced and remade.
 
-use nivalis_disk_files::{to_json_string, DiskFile};
+use nivalis_disk_files::{to_json_string, to_value, DiskFile};
 use sha2::{Digest, Sha256};
 
 /// Program name and version, e.g. "nivalis 0.1.0".
@@ -16,6 +16,8 @@ pub struct Provenance {
     pub program: String,
     /// The resolved disk file exactly as `nivalis` would save it.
     pub disk_json: String,
+    /// The resolved disk as a JSON value, built from the typed file (never re-parsed from text).
+    pub disk: serde_json::Value,
     /// The first 12 hex digits of the SHA-256 of `disk_json` (check with `sha256sum` on the saved disk file).
     pub disk_hash: String,
 }
@@ -29,13 +31,13 @@ impl Provenance {
         Provenance {
             program: program_version(),
             disk_json,
+            disk: to_value(file),
             disk_hash,
         }
     }
 
     /// The resolved disk as a JSON value.
     pub fn disk_value(&self) -> serde_json::Value {
-        // Invariant: disk_json was produced by the disk-file writer, so it parses.
-        serde_json::from_str(&self.disk_json).expect("resolved disk JSON parses")
+        self.disk.clone()
     }
 }

@@ -25,6 +25,7 @@ pub mod anchor;
 pub mod balance;
 pub mod budget;
 pub mod error;
+pub mod finite;
 pub mod math;
 pub mod model;
 pub mod opacity;

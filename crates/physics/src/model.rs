@@ -124,7 +124,7 @@ impl Model {
                 out_of_equilibrium[i * n + k] = state.out_of_equilibrium;
             }
         }
-        Ok(Model {
+        let model = Model {
             parameters: parameters.clone(),
             table,
             species,
@@ -135,7 +135,10 @@ impl Model {
             equilibrium_ice_fraction,
             equilibration_time_s,
             out_of_equilibrium,
-        })
+        };
+        // No NaN or infinity leaves a run (issue 15 item 5): a typed error names the likely input instead.
+        crate::finite::check_finite(&model)?;
+        Ok(model)
     }
 
     /// Number of samples (radial cells x (vertical cells + 1)).

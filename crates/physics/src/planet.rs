@@ -60,6 +60,26 @@ pub const DEFAULT_MAP_RATIO_COUNT: usize = 48;
 /// Fewest solid-to-gas values the inverse map accepts (docs/model.md section 9: at least 40).
 pub const MIN_MAP_RATIO_COUNT: usize = 40;
 
+/// Smallest 1-sigma error of an observed envelope C/O the inverse map accepts.
+/// No spectrum measures C/O to better than about 0.01 (common practice, no
+/// source); the floor of 1e-6 lies far below that and keeps chi2 =
+/// (delta / sigma)^2 finite for every C/O in [0, [`MAX_OBSERVED_C_TO_O`]]
+/// (at most (100 / 1e-6)^2 = 1e16), so no `inf` can reach an export.
+pub const MIN_C_TO_O_SIGMA: f64 = 1e-6;
+
+/// Smallest 1-sigma error of an observed [C/H] or [O/H] [dex]; same reasoning
+/// as [`MIN_C_TO_O_SIGMA`] (abundances are measured to about 0.05 dex at best, common practice, no source).
+pub const MIN_METALLICITY_SIGMA_DEX: f64 = 1e-6;
+
+/// Largest observed envelope C/O accepted: C/O of planets and disks lies in
+/// about 0.1-2 (common practice, no source); 100 leaves room for carbon-rich
+/// extremes while bounding chi2.
+pub const MAX_OBSERVED_C_TO_O: f64 = 100.0;
+
+/// Largest |[C/H]| or |[O/H]| accepted [dex]: 10 dex is 10^10 times the star,
+/// beyond any envelope (common practice, no source), and bounds chi2.
+pub const MAX_OBSERVED_METALLICITY_DEX: f64 = 10.0;
+
 /// Most solid-to-gas values the inverse map accepts (a bound on memory, 1000 x N_r rows).
 pub const MAX_MAP_RATIO_COUNT: usize = 1000;
 
@@ -1220,8 +1240,8 @@ pub fn gas_mass_in_annulus_g(model: &Model, inner_cm: f64, outer_cm: f64) -> f64
 /// max(n_obs - 2, 1) degrees of freedom. When p < 0.01 no place is acceptable
 /// and no radius is allowed.
 ///
-/// Errors: `OutOfRange` for observed values (finite; C/O >= 0) and sigmas
-/// (> 0, finite) named `c_to_o`, `c_to_o_sigma`, `c_to_h_dex`, ...;
+/// Errors: `OutOfRange` for observed values (C/O in [0, 100], metallicities
+/// in [-10, 10] dex) and sigmas (>= 1e-6, finite; the floor keeps chi2 finite) named `c_to_o`, `c_to_o_sigma`, `c_to_h_dex`, ...;
 /// `observations` (empty or repeated); `covariance` (size, symmetry, positive
 /// definiteness); `ratio_count` ([40, 1000]); `ratio_min`, `ratio_max`;
 /// `solid_mixing_fraction` ([0, 1]); priors; `oxygen_sequestered_fraction`
@@ -1331,6 +1351,15 @@ pub fn chi_square_map(
             });
             rows.push(row);
         }
+    }
+    // Every chi2 is finite by the bounds above; checked anyway so a non-finite value can never reach an export.
+    if let Some(row) = rows.iter().find(|r| r.chi2.is_some_and(|c| !c.is_finite())) {
+        return Err(PhysicsError::NoSolutionInRange {
+            what: format!(
+                "the chi-square at {:.4} au is not finite; use larger sigmas",
+                row.radius_au
+            ),
+        });
     }
     let thresholds = DeltaChiSquare::new(settings.convention, observed.fitted_quantities());
     let eligible = |r: &MapRow| r.feasible && r.in_prior;
@@ -1512,24 +1541,33 @@ fn validate_map_inputs(
             Observable::OToH => ("o_to_h_dex", "o_to_h_sigma"),
             Observable::MToH => ("m_to_h_dex", "m_to_h_sigma"),
         };
-        let value_ok = ob.value.is_finite() && (ob.quantity.is_metallicity() || ob.value >= 0.0);
+        // Bounds keep every chi2 finite (issue 15 item 5): C/O in [0, 100], metallicities in
+        // [-10, 10] dex, and sigmas of at least 1e-6 (see the constants above).
+        let (value_ok, allowed, sigma_floor) = if ob.quantity.is_metallicity() {
+            (
+                (-MAX_OBSERVED_METALLICITY_DEX..=MAX_OBSERVED_METALLICITY_DEX).contains(&ob.value),
+                "in [-10, 10]",
+                MIN_METALLICITY_SIGMA_DEX,
+            )
+        } else {
+            (
+                (0.0..=MAX_OBSERVED_C_TO_O).contains(&ob.value),
+                "in [0, 100]",
+                MIN_C_TO_O_SIGMA,
+            )
+        };
         if !value_ok {
-            let allowed = if ob.quantity.is_metallicity() {
-                "finite"
-            } else {
-                ">= 0 and finite"
-            };
             return Err(PhysicsError::OutOfRange {
                 name,
                 value: ob.value,
                 allowed,
             });
         }
-        if observed.covariance.is_none() && !(ob.sigma > 0.0 && ob.sigma.is_finite()) {
+        if observed.covariance.is_none() && !(ob.sigma >= sigma_floor && ob.sigma.is_finite()) {
             return Err(PhysicsError::OutOfRange {
                 name: sigma_name,
                 value: ob.sigma,
-                allowed: "> 0 and finite",
+                allowed: ">= 1e-6 and finite",
             });
         }
     }
@@ -2117,8 +2155,25 @@ mod tests {
         let err = chi_square_map(&m, &obs, &MapSettings::defaults()).unwrap_err();
         assert_eq!(
             err.to_string(),
-            "c_to_o_sigma: must be > 0 and finite, got 0"
+            "c_to_o_sigma: must be >= 1e-6 and finite, got 0"
         );
+        // The floor: a sigma of 1e-320 would make chi2 infinite (issue 15 item 5).
+        let tiny = ObservedEnvelope::c_to_o(0.5, 1e-320);
+        assert_eq!(
+            chi_square_map(&m, &tiny, &MapSettings::defaults())
+                .unwrap_err()
+                .to_string(),
+            "c_to_o_sigma: must be >= 1e-6 and finite, got 1e-320"
+        );
+        // At the floor, with the largest accepted C/O and metallicity, every chi2 is finite.
+        let edge = ObservedEnvelope::c_to_o(MAX_OBSERVED_C_TO_O, MIN_C_TO_O_SIGMA).with(
+            Observable::CToH,
+            -MAX_OBSERVED_METALLICITY_DEX,
+            MIN_METALLICITY_SIGMA_DEX,
+        );
+        let map = chi_square_map(&m, &edge, &MapSettings::defaults()).unwrap();
+        assert!(map.rows.iter().filter_map(|r| r.chi2).all(f64::is_finite));
+        assert!(map.rows.iter().any(|r| r.chi2.is_some()));
         let obs = ObservedEnvelope::c_to_o(0.5, 0.1);
         let mut s = MapSettings::defaults();
         s.ratio_count = 39;

@@ -52,12 +52,7 @@ fn to_js(value: &Value) -> JsValue {
 }
 
 fn problems_js(problems: &[Problem]) -> Value {
-    Value::Array(
-        problems
-            .iter()
-            .map(|p| json!({"path": p.path, "message": p.message}))
-            .collect(),
-    )
+    Value::Array(problems.iter().map(|p| json!({"path": p.path, "value": p.value, "allowed": p.allowed, "message": p.message})).collect())
 }
 
 /// The page's session: the last valid disk and its model, the views' data and
@@ -102,6 +97,25 @@ impl Explorer {
         to_js(&to_value(&DiskFile::defaults()))
     }
 
+    /// Decodes the address fragment's `disk=` value (base64url of compact
+    /// JSON) in Rust, with its size and nesting depth checked before
+    /// deserialising. Returns `{ok: true, disk}` or `{ok: false, problems}`.
+    #[wasm_bindgen(js_name = decodeFragment)]
+    pub fn decode_fragment(text: &str) -> JsValue {
+        match nivalis_disk_files::fragment::decode_fragment(text) {
+            Ok(disk) => to_js(&json!({"ok": true, "disk": disk})),
+            Err(problems) => to_js(&json!({"ok": false, "problems": problems_js(&problems.0)})),
+        }
+    }
+
+    /// The fragment's `disk=` value for a disk (a plain JS object): base64url of its compact JSON.
+    #[wasm_bindgen(js_name = encodeFragment)]
+    pub fn encode_fragment(disk: JsValue) -> Result<String, JsError> {
+        let value: Value = serde_wasm_bindgen::from_value(disk)
+            .map_err(|e| JsError::new(&format!("cannot read the disk object: {e}")))?;
+        Ok(nivalis_disk_files::fragment::encode_fragment(&value))
+    }
+
     /// Built-in species data and binding-energy set names, for the controls.
     #[wasm_bindgen(js_name = speciesInfo)]
     pub fn species_info() -> JsValue {
@@ -115,10 +129,7 @@ impl Explorer {
         let value: Value = match serde_wasm_bindgen::from_value(disk) {
             Ok(v) => v,
             Err(e) => {
-                let p = Problem {
-                    path: "(file)".into(),
-                    message: format!("cannot read the disk object: {e}"),
-                };
+                let p = Problem::new("(file)", format!("cannot read the disk object: {e}"));
                 return self.outcome(Err(vec![p]));
             }
         };

@@ -111,9 +111,10 @@ impl PlanetExport {
 /// (what a person typed). Blank or absent is `None`; anything else, or a
 /// non-finite value, is a problem naming the field and what was typed.
 pub fn typed_number(input: &Value, key: &str, path: &str) -> Result<Option<f64>, Problem> {
-    let problem = |got: String| Problem {
-        path: path.to_string(),
-        message: format!("must be a finite number, got {got}"),
+    let problem = |got: String| {
+        Problem::new(path, format!("must be a finite number, got {got}"))
+            .with_value(&got)
+            .with_allowed("a finite number")
     };
     match input.get(key) {
         None | Some(Value::Null) => Ok(None),
@@ -146,10 +147,7 @@ fn required(input: &Value, key: &str, path: &str, problems: &mut Vec<Problem>) -
     match typed_number(input, key, path) {
         Ok(Some(x)) => Some(x),
         Ok(None) => {
-            problems.push(Problem {
-                path: path.to_string(),
-                message: "is required".to_string(),
-            });
+            problems.push(Problem::new(path, "is required".to_string()));
             None
         }
         Err(p) => {
@@ -174,12 +172,9 @@ fn core_problem(error: &PhysicsError, prefix: &str, fields: &[(&str, &str)]) -> 
     match fields.iter().find(|(core, _)| *core == p.path) {
         Some((_, field)) => Problem {
             path: format!("{prefix}.{field}"),
-            message: p.message,
+            ..p
         },
-        None => Problem {
-            path: prefix.to_string(),
-            message: error.to_string(),
-        },
+        None => Problem::new(prefix, error.to_string()),
     }
 }
 
@@ -195,10 +190,10 @@ pub fn planet_request(input: &Value) -> Result<PlanetRequest, Vec<Problem>> {
     let weighting = match input.get("weighting").and_then(Value::as_str) {
         None | Some("") => RadialWeighting::AccretedMass,
         Some(key) => weighting_from_key(key).unwrap_or_else(|| {
-            problems.push(Problem {
-                path: "planet.weighting".into(),
-                message: format!("must be accreted_mass, uniform or log_radius, got {key:?}"),
-            });
+            problems.push(Problem::new(
+                "planet.weighting",
+                format!("must be accreted_mass, uniform or log_radius, got {key:?}"),
+            ));
             RadialWeighting::AccretedMass
         }),
     };
@@ -334,10 +329,10 @@ pub fn fit_options(input: &Value) -> Result<FitOptions, Vec<Problem>> {
         Some("O") => Some(1),
         Some("M") => Some(2),
         Some(other) => {
-            problems.push(Problem {
-                path: "fit.tracer".into(),
-                message: format!("must be none, C, O or M, got {other:?}"),
-            });
+            problems.push(Problem::new(
+                "fit.tracer",
+                format!("must be none, C, O or M, got {other:?}"),
+            ));
             None
         }
     };
@@ -368,10 +363,10 @@ pub fn fit_options(input: &Value) -> Result<FitOptions, Vec<Problem>> {
         if (1.0..=1.0e6).contains(&c) && c.fract() == 0.0 {
             o.ratio_count = c as usize;
         } else {
-            problems.push(Problem {
-                path: "fit.ratio_count".into(),
-                message: format!("must be a whole number in [40, 1000], got {c}"),
-            });
+            problems.push(Problem::new(
+                "fit.ratio_count",
+                format!("must be a whole number in [40, 1000], got {c}"),
+            ));
         }
     }
     let text = |key: &str| {
@@ -384,10 +379,7 @@ pub fn fit_options(input: &Value) -> Result<FitOptions, Vec<Problem>> {
     if let Some(t) = text("covariance") {
         match parse_covariance(t) {
             Ok(c) => o.covariance = Some(c),
-            Err(m) => problems.push(Problem {
-                path: "fit.covariance".into(),
-                message: m,
-            }),
+            Err(m) => problems.push(Problem::new("fit.covariance", m)),
         }
     }
     for (key, slot) in [
@@ -397,10 +389,7 @@ pub fn fit_options(input: &Value) -> Result<FitOptions, Vec<Problem>> {
         if let Some(t) = text(key) {
             match parse_range(t) {
                 Ok(r) => *slot = Some(r),
-                Err(m) => problems.push(Problem {
-                    path: format!("fit.{key}"),
-                    message: m,
-                }),
+                Err(m) => problems.push(Problem::new(format!("fit.{key}"), m)),
             }
         }
     }
@@ -408,10 +397,10 @@ pub fn fit_options(input: &Value) -> Result<FitOptions, Vec<Problem>> {
         None | Some("star") | Some("") => MetallicityReference::Star,
         Some("sun") => MetallicityReference::Sun,
         Some(other) => {
-            problems.push(Problem {
-                path: "fit.relative_to".into(),
-                message: format!("must be star or sun, got {other:?}"),
-            });
+            problems.push(Problem::new(
+                "fit.relative_to",
+                format!("must be star or sun, got {other:?}"),
+            ));
             MetallicityReference::Star
         }
     };
@@ -420,10 +409,10 @@ pub fn fit_options(input: &Value) -> Result<FitOptions, Vec<Problem>> {
         Some(Value::Bool(b)) => *b,
         Some(Value::String(s)) => matches!(s.as_str(), "on" | "true" | "yes" | "1"),
         Some(other) => {
-            problems.push(Problem {
-                path: "fit.oxygen_correction".into(),
-                message: format!("must be true or false, got {other}"),
-            });
+            problems.push(Problem::new(
+                "fit.oxygen_correction",
+                format!("must be true or false, got {other}"),
+            ));
             false
         }
     };
@@ -431,10 +420,10 @@ pub fn fit_options(input: &Value) -> Result<FitOptions, Vec<Problem>> {
         None | Some("mapped_parameters") => ConfidenceConvention::MappedParameters,
         Some("fitted_quantities") => ConfidenceConvention::FittedQuantities,
         Some(other) => {
-            problems.push(Problem {
-                path: "fit.convention".into(),
-                message: format!("must be mapped_parameters or fitted_quantities, got {other:?}"),
-            });
+            problems.push(Problem::new(
+                "fit.convention",
+                format!("must be mapped_parameters or fitted_quantities, got {other:?}"),
+            ));
             ConfidenceConvention::MappedParameters
         }
     };
@@ -451,10 +440,7 @@ pub fn fit_request(input: &Value) -> Result<(ObservedEnvelope, MapSettings), Vec
     let options = fit_options(input)?;
     options.build().map_err(|ps| {
         ps.into_iter()
-            .map(|p| Problem {
-                path: format!("fit.{}", p.option),
-                message: p.message,
-            })
+            .map(|p| Problem::new(format!("fit.{}", p.option), p.message))
             .collect()
     })
 }
@@ -468,10 +454,10 @@ pub fn fit_planet(
     let (observed, settings) = fit_request(input)?;
     let map = chi_square_map(model, &observed, &settings).map_err(|e| {
         let p = physics_problem(&e);
-        vec![Problem {
-            path: format!("fit.{}", FitOptions::option_of(&p.path)),
-            message: p.message,
-        }]
+        vec![Problem::new(
+            format!("fit.{}", FitOptions::option_of(&p.path)),
+            p.message,
+        )]
     })?;
     let allowed_union_au = allowed_union(&map);
     Ok(FittedMap {
@@ -883,13 +869,13 @@ pub fn anchor(file: &DiskFile, input: &Value) -> Result<(DiskFile, Vec<String>),
             let got = input
                 .get("species")
                 .map_or("nothing".to_string(), Value::to_string);
-            problems.push(Problem {
-                path: "anchor.species".into(),
-                message: format!(
+            problems.push(Problem::new(
+                "anchor.species",
+                format!(
                     "must be one of {}, got {got}",
                     Species::ALL.map(|s| s.key()).join(", ")
                 ),
-            });
+            ));
             None
         }
     };
@@ -899,10 +885,10 @@ pub fn anchor(file: &DiskFile, input: &Value) -> Result<(DiskFile, Vec<String>),
         None | Some("flaring_angle") => AnchorParameter::FlaringAngle,
         Some("temperature_scale") => AnchorParameter::MidplaneTemperatureScale,
         Some(other) => {
-            problems.push(Problem {
-                path: "anchor.adjust".into(),
-                message: format!("must be flaring_angle or temperature_scale, got {other:?}"),
-            });
+            problems.push(Problem::new(
+                "anchor.adjust",
+                format!("must be flaring_angle or temperature_scale, got {other:?}"),
+            ));
             AnchorParameter::FlaringAngle
         }
     };
@@ -1188,7 +1174,7 @@ mod tests {
         let p = fit_planet(&model, &file, &json!({"c_to_o": 0.8, "c_to_o_sigma": 0})).unwrap_err();
         assert_eq!(
             p[0].to_string(),
-            "fit.c_to_o_sigma: must be > 0 and finite, got 0"
+            "fit.c_to_o_sigma: must be >= 1e-6 and finite, got 0"
         );
         let p = fit_planet(
             &model,

@@ -36,19 +36,12 @@ fn to_js(value: &Value) -> JsValue {
 }
 
 fn from_js(value: JsValue) -> Result<Value, Problem> {
-    serde_wasm_bindgen::from_value(value).map_err(|e| Problem {
-        path: "(input)".into(),
-        message: format!("cannot read the input: {e}"),
-    })
+    serde_wasm_bindgen::from_value(value)
+        .map_err(|e| Problem::new("(input)", format!("cannot read the input: {e}")))
 }
 
 fn problems_js(problems: &[Problem]) -> Value {
-    Value::Array(
-        problems
-            .iter()
-            .map(|p| json!({"path": p.path, "message": p.message}))
-            .collect(),
-    )
+    Value::Array(problems.iter().map(|p| json!({"path": p.path, "value": p.value, "allowed": p.allowed, "message": p.message})).collect())
 }
 
 fn failed(problems: &[Problem]) -> JsValue {
@@ -77,10 +70,7 @@ impl Explorer {
     pub fn place_planet(&mut self, input: JsValue) -> JsValue {
         self.planet.placed = None;
         let outcome = match (self.has_model(), from_js(input)) {
-            (false, _) => Err(vec![Problem {
-                path: "planet".into(),
-                message: NO_MODEL.into(),
-            }]),
+            (false, _) => Err(vec![Problem::new("planet", NO_MODEL)]),
             (true, Err(p)) => Err(vec![p]),
             (true, Ok(input)) => {
                 // Invariant: has_model checked that a current result exists.
@@ -115,10 +105,7 @@ impl Explorer {
     pub fn fit_planet(&mut self, input: JsValue) -> JsValue {
         self.planet.fitted = None;
         let outcome = match (self.has_model(), from_js(input)) {
-            (false, _) => Err(vec![Problem {
-                path: "fit".into(),
-                message: NO_MODEL.into(),
-            }]),
+            (false, _) => Err(vec![Problem::new("fit", NO_MODEL)]),
             (true, Err(p)) => Err(vec![p]),
             (true, Ok(input)) => {
                 // Invariant: has_model checked that a current result exists.
@@ -278,10 +265,10 @@ impl Explorer {
     #[wasm_bindgen(js_name = anchorDisk)]
     pub fn anchor_disk(&self, input: JsValue) -> JsValue {
         let Some(file) = self.current_file() else {
-            return failed(&[Problem {
-                path: "anchor".into(),
-                message: "no valid disk has been computed yet".into(),
-            }]);
+            return failed(&[Problem::new(
+                "anchor",
+                "no valid disk has been computed yet",
+            )]);
         };
         let input = match from_js(input) {
             Ok(v) => v,

@@ -70,21 +70,11 @@ impl Export {
     }
 }
 
-/// Splits a core error's one-line message `path: message` into a [`Problem`],
-/// so the page can show it beside the field it names. A message without a
-/// field path (a spaced prefix or none) is attached to `(model)`.
+/// A core error as a [`Problem`] on the field it names, so the page can show
+/// it beside that field. The field, value and range are the error's own data
+/// ([`PhysicsError::path`]); an error without a field is attached to `(model)`.
 pub fn physics_problem(error: &PhysicsError) -> Problem {
-    let text = error.to_string();
-    match text.split_once(": ") {
-        Some((path, message)) if !path.is_empty() && !path.contains(' ') => Problem {
-            path: path.to_string(),
-            message: message.to_string(),
-        },
-        _ => Problem {
-            path: "(model)".to_string(),
-            message: text,
-        },
-    }
+    Problem::from_physics(error)
 }
 
 impl Session {
@@ -106,13 +96,9 @@ impl Session {
     /// Like [`Session::update`] for disk-file text, parsed by the same JSON
     /// reader as the CLI (so an opened file gives the CLI's numbers to the bit).
     pub fn update_from_text(&mut self, text: &str) -> Result<(), Vec<Problem>> {
-        match serde_json::from_str::<Value>(text) {
-            Ok(value) => self.update(&value),
-            Err(e) => Err(vec![Problem {
-                path: "(file)".into(),
-                message: format!("not valid JSON: {e}"),
-            }]),
-        }
+        // The CLI's own text layer: size and depth limits, byte order mark, duplicate keys.
+        let value = nivalis_disk_files::parse_json_text(text).map_err(|p| p.0)?;
+        self.update(&value)
     }
 
     /// The current result.
@@ -247,11 +233,15 @@ pub fn grid_too_large(disk: &Value) -> Option<Problem> {
         cells("vertical_cells", defaults.vertical_cells)?,
     );
     let samples = radial * (vertical + 1.0);
-    (samples > MAX_SAMPLES as f64).then(|| Problem {
-        path: "grid.radial_cells".into(),
-        message: format!(
-            "the page holds at most {MAX_SAMPLES} samples (radial cells x (vertical cells + 1)), this grid has {samples}; use the command-line tool for larger grids"
-        ),
+    (samples > MAX_SAMPLES as f64).then(|| {
+        Problem::new(
+            "grid.radial_cells",
+            format!(
+                "the page holds at most {MAX_SAMPLES} samples (radial cells x (vertical cells + 1)), this grid has {samples}; use the command-line tool for larger grids"
+            ),
+        )
+        .with_value(samples.to_string())
+        .with_allowed(format!("at most {MAX_SAMPLES} samples"))
     })
 }
 
@@ -295,7 +285,7 @@ mod tests {
             .unwrap_err();
         assert_eq!(
             problems[0].to_string(),
-            "star.luminosity_lsun: must be > 0 and finite, got -1"
+            "star.luminosity_lsun: must be in [1e-5, 10000000], got -1"
         );
         assert_eq!(s.export(Export::ProfileCsv).unwrap(), before);
     }
@@ -348,7 +338,22 @@ mod tests {
             hcn_per_h: 2e-5,
         });
         assert_eq!(p.path, "composition.carbon.HCN");
+        assert_eq!(
+            p.message,
+            "HCN/H = 2.0000e-5 needs more nitrogen than the star has (N/H = 1.0000e-5)"
+        );
+        assert_eq!(p.value.as_deref(), Some("2.0000e-5"));
         let p = physics_problem(&PhysicsError::NoTemperatureSolution { radius_au: 0.1 });
         assert_eq!(p.path, "(model)");
+        let p = physics_problem(&PhysicsError::OutOfRange {
+            name: "mix",
+            value: 2.0,
+            allowed: "in [0, 1]",
+        });
+        assert_eq!(
+            (p.path.as_str(), p.value.as_deref(), p.allowed.as_deref()),
+            ("mix", Some("2"), Some("in [0, 1]"))
+        );
+        assert_eq!(p.to_string(), "mix: must be in [0, 1], got 2");
     }
 }

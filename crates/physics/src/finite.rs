@@ -1,0 +1,176 @@
+//! The after-run check: every result of a run is a finite number, or the run
+//! is a typed error naming the result, the radius and the input that most
+//! likely caused it (issue 15 item 5). Valid inputs within the disk file's
+//! physical bounds never trip it; it guards the boundary so that no NaN or
+//! infinity can reach a file or the screen as a silently empty cell.
+
+use crate::error::PhysicsError;
+use crate::model::Model;
+use crate::units::AU_CM;
+
+/// The first non-finite value among the run's results, if any: the radial
+/// fields, the per-sample fields and the ice fractions. (Equilibration times
+/// are NaN by definition where no exchange happens, docs/model.md section 6,
+/// and are not checked.)
+pub fn check_finite(model: &Model) -> Result<(), PhysicsError> {
+    let st = &model.structure;
+    let per_column = st.samples_per_column.max(1);
+    let radius_of = |j: usize| st.radius_cm.get(j).map_or(f64::NAN, |r| r / AU_CM);
+    let radial: [(&'static str, &'static str, &[f64]); 7] = [
+        (
+            "radius",
+            "disk.inner_radius_au / disk.outer_radius_au",
+            &st.radius_cm,
+        ),
+        (
+            "surface density",
+            "disk.gas_mass_msun / disk.characteristic_radius_au",
+            &st.surface_density_g_cm2,
+        ),
+        (
+            "midplane temperature",
+            "disk.accretion_rate_msun_per_yr / disk.opacity",
+            &st.midplane_temperature_k,
+        ),
+        (
+            "irradiation temperature",
+            "star.luminosity_lsun / disk.flaring_angle",
+            &st.irradiation_temperature_k,
+        ),
+        (
+            "accretion temperature",
+            "disk.accretion_rate_msun_per_yr / disk.opacity",
+            &st.accretion_temperature_k,
+        ),
+        ("scale height", "star.mass_msun", &st.scale_height_cm),
+        ("flaring angle", "disk.flaring_angle", &st.flaring_angle),
+    ];
+    for (quantity, likely_input, values) in radial {
+        if let Some(j) = values.iter().position(|x| !x.is_finite()) {
+            return Err(PhysicsError::NonFiniteResult {
+                quantity,
+                radius_au: radius_of(j),
+                likely_input,
+            });
+        }
+    }
+    let s = &st.samples;
+    let samples: [(&'static str, &'static str, &[f64]); 8] = [
+        ("height", "star.mass_msun", &s.height_cm),
+        (
+            "temperature",
+            "disk.accretion_rate_msun_per_yr / disk.opacity",
+            &s.temperature_k,
+        ),
+        ("gas density", "disk.gas_mass_msun", &s.density_g_cm3),
+        (
+            "hydrogen density",
+            "disk.gas_mass_msun",
+            &s.hydrogen_density_cm3,
+        ),
+        ("gas column", "disk.gas_mass_msun", &s.column_above_g_cm2),
+        (
+            "visual extinction",
+            "disk.dust_to_gas",
+            &s.visual_extinction_mag,
+        ),
+        (
+            "FUV flux",
+            "star.fuv_1au_habing / disk.interstellar_fuv_habing",
+            &s.fuv_photon_flux_cm2_s,
+        ),
+        (
+            "ionisation rate",
+            "disk.cosmic_ray_rate_s",
+            &s.ionization_rate_s,
+        ),
+    ];
+    for (quantity, likely_input, values) in samples {
+        if let Some(k) = values.iter().position(|x| !x.is_finite()) {
+            return Err(PhysicsError::NonFiniteResult {
+                quantity,
+                radius_au: radius_of(k / per_column),
+                likely_input,
+            });
+        }
+    }
+    let n = s.temperature_k.len().max(1);
+    if let Some(k) = model.ice_fraction.iter().position(|x| !x.is_finite()) {
+        return Err(PhysicsError::NonFiniteResult {
+            quantity: "ice fraction",
+            radius_au: radius_of((k % n) / per_column),
+            likely_input: "ices.species_overrides / ices.sticking",
+        });
+    }
+    Ok(())
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::params::Opacity;
+    use crate::ModelParameters;
+
+    fn small() -> ModelParameters {
+        let mut p = ModelParameters::defaults();
+        p.grid.radial_cells = 16;
+        p.grid.vertical_cells = 8;
+        p
+    }
+
+    /// The reproductions of issue 15 item 5, run past the disk file's bounds
+    /// (as a library user could): each run is an error or wholly finite, never
+    /// a model holding NaN or infinity.
+    #[test]
+    fn absurd_inputs_give_an_error_or_finite_results() {
+        let mut cases: Vec<(&str, ModelParameters)> = Vec::new();
+        let mut p = small();
+        p.disk.accretion_rate_msun_per_yr = 1e300;
+        cases.push(("Mdot 1e300", p));
+        let mut p = small();
+        p.disk.gas_mass_msun = 1e278;
+        cases.push(("disk mass 1e278", p));
+        let mut p = small();
+        p.disk.opacity = Opacity::Constant {
+            rosseland_cm2_per_g: 1e300,
+        };
+        p.disk.accretion_rate_msun_per_yr = 1e-7;
+        cases.push(("kappa 1e300", p));
+        let mut p = small();
+        p.disk.outer_radius_au = 1e93;
+        cases.push(("outer radius 1e93", p));
+        let mut non_finite_errors = 0;
+        for (what, p) in cases {
+            match Model::run(&p) {
+                Ok(m) => {
+                    assert!(check_finite(&m).is_ok(), "{what}");
+                    assert!(
+                        m.structure
+                            .midplane_temperature_k
+                            .iter()
+                            .all(|t| t.is_finite()),
+                        "{what}"
+                    );
+                }
+                Err(e) => {
+                    if matches!(e, PhysicsError::NonFiniteResult { .. }) {
+                        non_finite_errors += 1;
+                        assert!(e.path().is_some_and(|p| p.contains('.')), "{what}: {e}");
+                    }
+                }
+            }
+        }
+        assert!(non_finite_errors > 0, "no case reached the after-run check");
+    }
+
+    #[test]
+    fn a_non_finite_value_is_named_with_its_likely_input() {
+        let mut m = Model::run(&small()).unwrap();
+        assert!(check_finite(&m).is_ok());
+        let k = m.structure.samples_per_column * 3;
+        m.structure.samples.ionization_rate_s[k] = f64::INFINITY;
+        let e = check_finite(&m).unwrap_err();
+        assert_eq!(e.path(), Some("disk.cosmic_ray_rate_s"));
+        assert!(e.to_string().contains("the ionisation rate at r ="), "{e}");
+    }
+}
