@@ -144,25 +144,28 @@ fn old_disk_reproduces_the_equilibrium_model() {
     // to 1e-6 in f_ice, from either initial state, in every cell whose equilibration time is below age/100.
     let mut p = small_default();
     p.disk.age_myr = 1e6;
-    let eq = Model::run(&Model::run(&p).unwrap().parameters).unwrap();
+    let eq = Model::run(Model::run(&p).unwrap().parameters()).unwrap();
     let mut checked = 0usize;
     for state in [InitialIceState::Inherited, InitialIceState::Gas] {
         p.ices.initial_state = state;
         let m = Model::run(&p).unwrap();
         let age_s = p.disk.age_myr * 1e6 * JULIAN_YEAR_S;
-        for (idx, f) in m.ice_fraction.iter().enumerate() {
-            let t_eq = m.equilibration_time_s[idx];
-            assert_eq!(
-                m.equilibrium_ice_fraction[idx],
-                eq.equilibrium_ice_fraction[idx]
-            );
-            if t_eq < age_s / 100.0 {
-                checked += 1;
-                assert!(
-                    (f - m.equilibrium_ice_fraction[idx]).abs() <= 1e-6,
-                    "{state:?} sample {idx}: {f} vs {}",
-                    m.equilibrium_ice_fraction[idx]
+        for sp in Species::ALL {
+            for k in 0..m.sample_count() {
+                let f = m.ice_fraction_at(sp, k);
+                let t_eq = m.equilibration_time_s_at(sp, k);
+                assert_eq!(
+                    m.equilibrium_ice_fraction_at(sp, k),
+                    eq.equilibrium_ice_fraction_at(sp, k)
                 );
+                if t_eq < age_s / 100.0 {
+                    checked += 1;
+                    assert!(
+                        (f - m.equilibrium_ice_fraction_at(sp, k)).abs() <= 1e-6,
+                        "{state:?} {sp:?} sample {k}: {f} vs {}",
+                        m.equilibrium_ice_fraction_at(sp, k)
+                    );
+                }
             }
         }
     }
@@ -183,7 +186,11 @@ fn ice_fractions_stay_in_zero_one() {
                 p.disk.grain_radius_um = grain;
                 let m = Model::run(&p).unwrap();
                 assert!(
-                    m.ice_fraction.iter().all(|f| (0.0..=1.0).contains(f)),
+                    Species::ALL.iter().all(|&sp| m
+                        .ices()
+                        .ice_fraction(sp)
+                        .iter()
+                        .all(|f| (0.0..=1.0).contains(f))),
                     "{state:?}, {age_myr} Myr, {grain} um"
                 );
             }
@@ -193,14 +200,14 @@ fn ice_fractions_stay_in_zero_one() {
 
 /// Midplane CO freeze-out time 1/A [yr] and flat sample index at the grid cell nearest `radius_au`.
 fn co_freeze_out_yr(m: &Model, radius_au: f64) -> (usize, f64) {
-    let st = &m.structure;
+    let st = &m.structure();
     let j = st
         .radius_cm
         .partition_point(|&x| x < radius_au * AU_CM)
         .min(st.radial_cells - 1);
     let k = st.index(j, 0);
     let s = &st.samples;
-    let balance = BalanceConstants::new(&m.parameters, &m.species);
+    let balance = BalanceConstants::new(m.parameters(), m.species_properties());
     let sample = balance.sample(
         s.temperature_k[k],
         s.density_g_cm3[k],
@@ -212,7 +219,7 @@ fn co_freeze_out_yr(m: &Model, radius_au: f64) -> (usize, f64) {
         .rate_equation(
             &sample,
             i,
-            m.carriers.species_per_h[i] * s.hydrogen_density_cm3[k],
+            m.composition().species_per_h(Species::CO, j) * s.hydrogen_density_cm3[k],
         )
         .unwrap();
     (k, 1.0 / eq.adsorption_s / JULIAN_YEAR_S)
@@ -245,37 +252,42 @@ fn grain_growth_slows_co_equilibration() {
     // equilibrium and is flagged, while 0.1 um grains have reached it. (Grown grains also let the
     // starlight deeper, since A_V per H falls as (d/g)/a, so the photodesorbed outer disk starts
     // further in than with small grains; the radius is searched for rather than fixed.)
-    let st = &big_dark.structure;
-    let n = big_dark.sample_count();
+    let st = big_dark.structure();
+    let co = Species::CO;
     let slow = (0..st.radial_cells)
-        .map(|j| Species::CO.index() * n + st.index(j, 0))
-        .find(|&i| {
-            big_dark.out_of_equilibrium[i]
-                && (big_dark.ice_fraction[i] - big_dark.equilibrium_ice_fraction[i]).abs() > 0.01
+        .map(|j| st.index(j, 0))
+        .find(|&k| {
+            big_dark.out_of_equilibrium_at(co, k)
+                && (big_dark.ice_fraction_at(co, k) - big_dark.equilibrium_ice_fraction_at(co, k))
+                    .abs()
+                    > 0.01
         })
         .expect("some midplane cell keeps inherited CO ice at 1 Myr with 100 um grains");
     println!(
         "100 um, {:.1} au, 1 Myr: f_CO = {:.4}, equilibrium {:.4}, t_eq = {:.3e} yr",
-        st.radius_cm[(slow - Species::CO.index() * n) / st.samples_per_column] / AU_CM,
-        big_dark.ice_fraction[slow],
-        big_dark.equilibrium_ice_fraction[slow],
-        big_dark.equilibration_time_s[slow] / JULIAN_YEAR_S
+        st.radius_cm[slow / st.samples_per_column] / AU_CM,
+        big_dark.ice_fraction_at(co, slow),
+        big_dark.equilibrium_ice_fraction_at(co, slow),
+        big_dark.equilibration_time_s_at(co, slow) / JULIAN_YEAR_S
     );
-    let i_small = slow - Species::CO.index() * n + Species::CO.index() * small_dark.sample_count();
-    assert!(!small_dark.out_of_equilibrium[i_small]);
+    assert!(!small_dark.out_of_equilibrium_at(co, slow));
     // 1000x smaller grains relax 1000x faster: at least ten times closer to their equilibrium.
-    let gap = |m: &Model, i: usize| (m.ice_fraction[i] - m.equilibrium_ice_fraction[i]).abs();
-    assert!(gap(&small_dark, i_small) <= 0.1 * gap(&big_dark, slow));
+    let gap = |m: &Model, k: usize| {
+        (m.ice_fraction_at(co, k) - m.equilibrium_ice_fraction_at(co, k)).abs()
+    };
+    assert!(gap(&small_dark, slow) <= 0.1 * gap(&big_dark, slow));
     // Everywhere: a sample whose state differs from its equilibrium by more than 0.01 is flagged.
     let mut differing = 0;
-    for idx in 0..big.ice_fraction.len() {
-        let d = (big.ice_fraction[idx] - big.equilibrium_ice_fraction[idx]).abs();
-        if d > 0.01 {
-            differing += 1;
-            assert!(
-                big.out_of_equilibrium[idx],
-                "sample {idx} differs by {d} but is not flagged"
-            );
+    for sp in Species::ALL {
+        for k in 0..big.sample_count() {
+            let d = (big.ice_fraction_at(sp, k) - big.equilibrium_ice_fraction_at(sp, k)).abs();
+            if d > 0.01 {
+                differing += 1;
+                assert!(
+                    big.out_of_equilibrium_at(sp, k),
+                    "{sp:?} sample {k} differs by {d} but is not flagged"
+                );
+            }
         }
     }
     assert!(differing > 0);

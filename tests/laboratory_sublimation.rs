@@ -151,7 +151,7 @@ fn water_snowline_temperature_matches_the_ice_vapour_pressure() {
     // default set agrees within 3 K with the temperature where its gas partial pressure equals the vapour
     // pressure of hexagonal ice (Murphy & Koop 2005 eq. 7). Tolerance 3 K (the issue's).
     let p = thermal_only(None);
-    let x = Model::run(&p).unwrap().carriers.species_per_h[Species::H2O.index()];
+    let x = Model::run(&p).unwrap().carriers().species_per_h[Species::H2O.index()];
     for n_h in DENSITIES_H_CM3 {
         let ours = half_frozen_k(&p, Species::H2O, x, n_h);
         let lab = laboratory_k(Species::H2O, x, n_h);
@@ -177,7 +177,7 @@ fn legacy_pairing_sublimates_water_too_hot() {
     // Issue 10 item 1: Fraser et al. 2001's 5773 K with the HHL92 frequency puts the n_H = 4e13 line near
     // 181 K, ~27 K above the laboratory value (measured here, not assumed: more than 20 K too hot).
     let p = thermal_only(Some(BindingEnergySet::Hhl92FrequencyLegacy));
-    let x = Model::run(&p).unwrap().carriers.species_per_h[Species::H2O.index()];
+    let x = Model::run(&p).unwrap().carriers().species_per_h[Species::H2O.index()];
     let ours = half_frozen_k(&p, Species::H2O, x, 4e13);
     let lab = laboratory_k(Species::H2O, x, 4e13);
     println!("legacy H2O at 4e13: {ours:.2} K vs laboratory {lab:.2} K");
@@ -192,7 +192,7 @@ fn other_species_match_laboratory_sublimation_pressures() {
     // 3 K also bounds the scatter between laboratory data sets (Fray & Schmitt 2009 quote a few per cent
     // to tens of per cent in p at the lowest pressures, i.e. < 1 K).
     let p = thermal_only(None);
-    let x = Model::run(&p).unwrap().carriers.species_per_h;
+    let x = Model::run(&p).unwrap().carriers().species_per_h;
     for s in [
         Species::CO,
         Species::CO2,

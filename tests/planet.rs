@@ -49,7 +49,7 @@ fn first_freeze_out_au(model: &Model, species: Species) -> f64 {
 
 /// Radii [au] in each step-model zone: (soot line to H2O), (H2O to CO2), (CO2 to CO), (beyond CO), geometric midpoints.
 fn zone_radii(model: &Model) -> [f64; 4] {
-    let st = &model.structure;
+    let st = &model.structure();
     let soot = nivalis_physics::snowlines::crossings(
         &st.radius_cm,
         &st.midplane_temperature_k,
@@ -59,7 +59,7 @@ fn zone_radii(model: &Model) -> [f64; 4] {
     );
     let r_soot = soot
         .first()
-        .map_or(model.parameters.disk.inner_radius_au, |s| {
+        .map_or(model.parameters().disk.inner_radius_au, |s| {
             s.radius_cm / AU_CM
         });
     let (w, d, c) = (
@@ -71,7 +71,7 @@ fn zone_radii(model: &Model) -> [f64; 4] {
         (r_soot * w).sqrt(),
         (w * d).sqrt(),
         (d * c).sqrt(),
-        (c * model.parameters.disk.outer_radius_au).sqrt(),
+        (c * model.parameters().disk.outer_radius_au).sqrt(),
     ]
 }
 
@@ -97,7 +97,7 @@ fn pure_gas_accretion_has_the_local_gas_c_to_o() {
                 // Below 1e-9 of the star's X/H the envelope holds exactly 0 (zero up to rounding,
                 // docs/model.md section 8).
                 let x = local.phases.gas[e as usize];
-                let x = if x < 1e-9 * model.carriers.stellar_per_h[e as usize] {
+                let x = if x < 1e-9 * model.stellar_per_h()[e as usize] {
                     0.0
                 } else {
                     x
@@ -170,7 +170,7 @@ fn mixtures_lie_between_gas_and_solids_and_move_monotonically() {
             let (cs, os) = (ph.solid(Element::C), ph.solid(Element::O));
             // Zero up to rounding (issue 11 item 4): below 1e-9 of the star's abundance a phase's
             // element counts as none, as the envelope does (the solids inside the soot line).
-            let x = &model.carriers.stellar_per_h;
+            let x = model.stellar_per_h();
             let cs = if cs < 1e-9 * x[C] { 0.0 } else { cs };
             let (gas, solid) = (cg / og, cs / os);
             let mut previous = gas;
@@ -213,7 +213,7 @@ fn oberg_2011_step_model_envelopes() {
         (Species::CO, 20.0),
     ] {
         assert_eq!(
-            model.species[s.index()].condensation_temperature_k,
+            model.species_properties()[s.index()].condensation_temperature_k,
             t,
             "Oberg 2011 condensation temperature of {}",
             s.key()
@@ -744,7 +744,7 @@ fn gas_in_an_annulus_is_the_closed_form_integral() {
     // M_tot [1 - exp(-(r/R_c)^(2-gamma))] (Lynden-Bell & Pringle 1974; Andrews et al. 2009), so the
     // annulus [r1, r2] holds M_tot [exp(-(r1/R_c)^(2-g)) - exp(-(r2/R_c)^(2-g))], M_tot = 2 pi Sigma_c R_c^2 / (2 - g).
     let model = Model::run(&small_default()).unwrap();
-    let c = &model.structure.constants;
+    let c = &model.structure().constants;
     let m_tot = 2.0 * std::f64::consts::PI * c.sigma_c_g_cm2 * c.characteristic_radius_cm.powi(2)
         / (2.0 - c.gamma);
     let cum = |r_au: f64| (-(r_au * AU_CM / c.characteristic_radius_cm).powf(2.0 - c.gamma)).exp();
@@ -828,7 +828,7 @@ fn migration_weighted_by_accreted_mass_is_the_hand_integral() {
         .unwrap()
         .gas_atoms_per_g[C];
     assert!(x_in > 1.2 * x_out, "a real step: {x_in:e} vs {x_out:e}");
-    let c = &model.structure.constants;
+    let c = &model.structure().constants;
     let cum = |r_au: f64| (-(r_au * AU_CM / c.characteristic_radius_cm).powf(2.0 - c.gamma)).exp();
     let (m_in, m_out) = (cum(r1) - cum(r_d), cum(r_d) - cum(r2));
     let expected = (m_in * x_in + m_out * x_out) / (m_in + m_out);
@@ -911,10 +911,7 @@ fn several_observables_fit_together_against_the_named_reference() {
         .iter()
         .map(|&e| env.element(e).per_h)
         .sum();
-    let sum_ref: f64 = [0, 1, 2, 3]
-        .iter()
-        .map(|&i| model.carriers.stellar_per_h[i])
-        .sum();
+    let sum_ref: f64 = [0, 1, 2, 3].iter().map(|&i| model.stellar_per_h()[i]).sum();
     assert_abs(
         row.m_to_h_dex.unwrap(),
         (sum / sum_ref).log10(),

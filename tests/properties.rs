@@ -225,7 +225,7 @@ fn temperatures_densities_and_ice_fractions_are_physical() {
     // either vertical model, so rho falls; strictly in isothermal columns); 0 <= f_ice <= 1 for every
     // species and sample (docs/model.md section 7). Exact inequalities: no tolerance.
     run_properties("physical fields", |p, m, tally| {
-        let st = &m.structure;
+        let st = &m.structure();
         for j in 0..st.radial_cells {
             let t_mid = st.midplane_temperature_k[j];
             prop_assert!(
@@ -266,8 +266,13 @@ fn temperatures_densities_and_ice_fractions_are_physical() {
         if p.disk.vertical_temperature == VerticalTemperature::Isothermal {
             tally.count("isothermal disks");
         }
-        for (idx, f) in m.ice_fraction.iter().enumerate() {
-            prop_assert!((0.0..=1.0).contains(f), "f_ice = {f} at flat index {idx}");
+        for sp in Species::ALL {
+            for (k, f) in m.ices().ice_fraction(sp).iter().enumerate() {
+                prop_assert!(
+                    (0.0..=1.0).contains(f),
+                    "f_ice = {f} of {sp:?} at sample {k}"
+                );
+            }
         }
         Ok(())
     });
@@ -279,7 +284,7 @@ fn elements_are_conserved_in_every_cell() {
     // and the stellar abundances are X/H = 10^(log eps - 12 + offset) of the chosen set (docs/model.md section 1).
     run_properties("element conservation", |p, m, _| {
         let log_eps = p.star.abundance_reference.log_eps();
-        let stellar = m.carriers.stellar_per_h;
+        let stellar = *m.stellar_per_h();
         for e in 0..ELEMENT_COUNT {
             let expected = 10f64.powf(log_eps[e] - 12.0 + p.star.offset_dex[e]);
             prop_assert!(
@@ -369,10 +374,10 @@ fn more_heating_never_cools_the_midplane_and_moves_the_water_line_out() {
                 }
             };
             let tol = 1e-12;
-            for j in 0..m.structure.radial_cells {
+            for j in 0..m.structure().radial_cells {
                 let (t0, t1) = (
-                    m.structure.midplane_temperature_k[j],
-                    hot.structure.midplane_temperature_k[j],
+                    m.structure().midplane_temperature_k[j],
+                    hot.structure().midplane_temperature_k[j],
                 );
                 prop_assert!(
                     t1 >= t0 * (1.0 - tol),
@@ -428,13 +433,12 @@ fn gas_between_co2_and_co_lines_is_carbon_rich_relative_to_the_star() {
             tally.count("no CO2 or CO line");
             return Ok(());
         };
-        let st = &m.structure;
-        let total = m.carriers.stellar_per_h[Element::C as usize]
-            / m.carriers.stellar_per_h[Element::O as usize];
+        let st = &m.structure();
+        let total = m.star_c_to_o();
         let profile = m.midplane_profile();
         for j in 0..st.radial_cells {
             let r = st.radius_cm[j];
-            if r <= r_co2 || r >= r_co || st.midplane_temperature_k[j] >= m.carriers.soot_line_k {
+            if r <= r_co2 || r >= r_co || st.midplane_temperature_k[j] >= m.carriers().soot_line_k {
                 continue;
             }
             let gas = profile.c_to_o_gas[j];
@@ -467,12 +471,12 @@ fn step_model_snowlines_sit_at_the_condensation_temperature() {
             return Ok(());
         }
         tally.count("step-model disks");
-        let st = &m.structure;
+        let st = &m.structure();
         for s in Species::ALL {
-            if m.carriers.species_per_h[s.index()] == 0.0 {
+            if !m.composition().is_present(s) {
                 continue;
             }
-            let t_cond = m.species[s.index()].condensation_temperature_k;
+            let t_cond = m.species_properties()[s.index()].condensation_temperature_k;
             let t = &st.midplane_temperature_k;
             let changes = (1..st.radial_cells)
                 .filter(|&j| (t[j - 1] < t_cond) != (t[j] < t_cond))

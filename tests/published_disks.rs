@@ -143,7 +143,7 @@ fn observed_power_law_temperature_sets_the_midplane_and_the_step_snowlines() {
         atmosphere: Some((600.0, 0.45)),
     };
     let model = Model::run(&p).unwrap();
-    let st = &model.structure;
+    let st = &model.structure();
     for j in 0..st.radial_cells {
         let r_au = st.radius_cm[j] / AU_CM;
         let law = (160.0 * r_au.powf(-0.55)).max(p.disk.background_temperature_k);

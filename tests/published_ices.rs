@@ -60,7 +60,7 @@ fn hasegawa_herbst_leung_frequencies() {
         (Species::CH4, 1.31e12),
     ] {
         assert_rel(
-            model.species[s.index()].vibration_frequency_s,
+            model.species_properties()[s.index()].vibration_frequency_s,
             expected,
             4e-3 + 5e-4,
             &format!("model nu0 of {}", s.key()),
@@ -120,14 +120,14 @@ fn step_model_zone_c_to_o() {
         (Species::CO, 20.0),
     ] {
         assert_eq!(
-            model.species[s.index()].condensation_temperature_k,
+            model.species_properties()[s.index()].condensation_temperature_k,
             t_cond,
             "Oberg 2011 T_cond of {}",
             s.key()
         );
     }
     assert_eq!(p.composition.soot_line_k, 500.0);
-    let st = &model.structure;
+    let st = &model.structure();
     let line = |s: Species| {
         let lines = model.snowlines(s);
         assert_eq!(
@@ -278,14 +278,13 @@ fn step_model_zone_c_to_o() {
     assert!(seen.iter().all(|&n| n >= 3), "cells per zone: {seen:?}");
     // Total (gas + solid) C/O = 0.550 in every sample of the grid (printed digits), and the star's
     // C/O to 1e-12.
-    let x = model.carriers.stellar_per_h;
     for k in 0..model.sample_count() {
         let ph = model.phases_at(k);
         let total = (ph.gas[C] + ph.solid(Element::C)) / (ph.gas[O] + ph.solid(Element::O));
         assert_abs(total, 0.550, 5e-4, &format!("total C/O at sample {k}"));
         assert_rel(
             total,
-            x[C] / x[O],
+            model.star_c_to_o(),
             1e-12,
             &format!("total C/O = stellar at sample {k}"),
         );
@@ -342,7 +341,7 @@ fn hollenbach_freeze_out_temperature() {
     p.ices.cosmic_ray_desorption = false;
     let table = SpeciesTable::built_in();
     let props = species_properties(&p, &table);
-    let x = Model::run(&p).unwrap().carriers.species_per_h;
+    let x = Model::run(&p).unwrap().carriers().species_per_h;
     for (species, tol) in [(Species::H2O, 2.0), (Species::CO, 0.5), (Species::N2, 0.5)] {
         let props = props[species.index()];
         // Molecular cloud (n_H = 1e4 cm^-3) and disk midplanes (1e10, 1e12 cm^-3).
@@ -489,7 +488,7 @@ fn solids_per_gas_mass_near_one_percent_outside_the_water_line() {
     let r_w = lines[0].radius_cm / AU_CM;
     let r_end = lines
         .get(1)
-        .map_or(model.parameters.disk.outer_radius_au, |s| {
+        .map_or(model.parameters().disk.outer_radius_au, |s| {
             s.radius_cm / AU_CM
         });
     let (a, b) = (1.2 * r_w, 0.9 * r_end);
@@ -546,7 +545,7 @@ fn binding_energy_ordering_and_overrides() {
         (Species::CO2, 2575.0),
     ] {
         assert_eq!(
-            legacy.species[s.index()].binding_energy_k,
+            legacy.species_properties()[s.index()].binding_energy_k,
             e,
             "{} binding energy",
             s.key()
@@ -556,13 +555,16 @@ fn binding_energy_ordering_and_overrides() {
     // Overriding a binding energy moves the snowline the right way: a more tightly bound ice survives
     // in warmer gas, so its line moves inward; a weaker one moves outward (docs/model.md section 7).
     for s in [Species::CO, Species::H2O, Species::CO2] {
-        let base = model.species[s.index()].binding_energy_k;
+        let base = model.species_properties()[s.index()].binding_energy_k;
         let base_r = first_freeze_out_au(&model, s).unwrap();
         for (factor, inward) in [(1.15, true), (0.85, false)] {
             let mut p = small_default();
             p.ices.overrides[s.index()].binding_energy_k = Some(base * factor);
             let m = Model::run(&p).unwrap();
-            assert_eq!(m.species[s.index()].binding_energy_source, "override");
+            assert_eq!(
+                m.species_properties()[s.index()].binding_energy_source,
+                "override"
+            );
             let r = first_freeze_out_au(&m, s).unwrap();
             assert!(
                 if inward { r < base_r } else { r > base_r },

@@ -92,17 +92,17 @@ fn hayashi_temperature_law_from_irradiation_only_disk() {
         let hayashi = |r_au: f64| 280.0 / r_au.sqrt() * f64::powf(l, 0.25);
         let thin = Model::run(&irradiation_only(l, 0.5)).unwrap();
         let matched = Model::run(&irradiation_only(l, phi_hayashi)).unwrap();
-        for j in (0..thin.structure.radial_cells).step_by(3) {
-            let r_au = thin.structure.radius_cm[j] / AU_CM;
+        for j in (0..thin.structure().radial_cells).step_by(3) {
+            let r_au = thin.structure().radius_cm[j] / AU_CM;
             let what = format!("T_mid at r = {r_au:.3} au, L = {l} Lsun");
             assert_rel(
-                thin.structure.midplane_temperature_k[j],
+                thin.structure().midplane_temperature_k[j],
                 hayashi(r_au),
                 0.01,
                 &format!("{what}, phi = 1/2 (Hayashi 1981, M)"),
             );
             assert_rel(
-                matched.structure.midplane_temperature_k[j],
+                matched.structure().midplane_temperature_k[j],
                 hayashi(r_au),
                 1e-9,
                 &format!("{what}, matched phi"),
@@ -172,7 +172,7 @@ fn grey_midplane_convention_hand_computed() {
     // Tolerance 1e-6 relative: the hand values are printed to 7 digits.
     let p = accreting_constant_opacity();
     let model = Model::run(&p).unwrap();
-    let c = &model.structure.constants;
+    let c = &model.structure().constants;
     assert_rel(
         c.stellar_radius_cm / SOLAR_RADIUS_CM,
         2.08225,
@@ -212,7 +212,7 @@ fn grey_midplane_convention_hand_computed() {
     );
 
     // The same convention at every grid cell, from the formula written out here.
-    let st = &model.structure;
+    let st = &model.structure();
     for j in 0..st.radial_cells {
         let r = st.radius_cm[j];
         let sigma = st.surface_density_g_cm2[j];
@@ -250,7 +250,7 @@ fn grey_midplane_optically_thin_limit_keeps_two_thirds_term() {
         rosseland_cm2_per_g: 0.0,
     };
     let model = Model::run(&p).unwrap();
-    let st = &model.structure;
+    let st = &model.structure();
     let c = &st.constants;
     for j in 0..st.radial_cells {
         let t_eff4 = viscous_effective_temperature4(
@@ -311,7 +311,7 @@ fn isothermal_column_is_gaussian_in_a_thin_disk() {
     p.disk.inner_radius_au = 0.05;
     p.grid.vertical_cells = 60;
     let model = Model::run(&p).unwrap();
-    let st = &model.structure;
+    let st = &model.structure();
     let c = &st.constants;
     let j = 0;
     let h = st.scale_height_cm[j];
@@ -362,7 +362,7 @@ fn vertical_column_normalisation() {
     // Also, for the isothermal thin column, rho_mid = Sigma / (sqrt(2 pi) H) (Gaussian integral,
     // standard): 1 % (the full-gravity correction, about (9/8)(H/r)^2, and the 10 H top).
     let model = Model::run(&irradiation_only(1.0, 0.05)).unwrap();
-    let st = &model.structure;
+    let st = &model.structure();
     for j in 0..st.radial_cells {
         let sigma = st.surface_density_g_cm2[j];
         let k0 = st.index(j, 0);
@@ -429,7 +429,7 @@ fn cosmic_ray_attenuation_umebayashi_nakano() {
     p.disk.gas_mass_msun = 0.05;
     p.grid.radial_cells = 30;
     let model = Model::run(&p).unwrap();
-    let st = &model.structure;
+    let st = &model.structure();
     let zeta0 = p.disk.cosmic_ray_rate_s;
     // (a) The two-sided formula in every sample of every column: 1e-12 (same arithmetic).
     for j in 0..st.radial_cells {
@@ -501,7 +501,7 @@ fn visual_extinction_per_hydrogen_column() {
     p.grid.radial_cells = 20;
     p.grid.vertical_cells = 30;
     let model = Model::run(&p).unwrap();
-    let s = &model.structure.samples;
+    let s = &model.structure().samples;
     for k in 0..s.height_cm.len() {
         let n_h_column = s.column_above_g_cm2[k] / (1.4 * m_h);
         if n_h_column > 0.0 {
@@ -546,7 +546,7 @@ fn mmsn_midplane_density() {
     p.grid.radial_cells = 9;
     p.grid.vertical_cells = 80;
     let model = Model::run(&p).unwrap();
-    let st = &model.structure;
+    let st = &model.structure();
     assert_rel(st.radius_cm[4] / AU_CM, 1.0, 1e-12, "middle cell at 1 au");
     assert_rel(
         st.surface_density_g_cm2[4],

@@ -18,7 +18,7 @@ fuzz_target!(|data: &[u8]| {
             let g = &file.parameters.grid;
             if g.radial_cells * g.vertical_cells <= 4096 {
                 if let Ok(model) = nivalis_physics::Model::run(&file.parameters) {
-                    assert!(model.structure.samples.temperature_k.iter().all(|t| t.is_finite() && *t > 0.0));
+                    assert!(model.structure().samples.temperature_k.iter().all(|t| t.is_finite() && *t > 0.0));
                 }
             }
         }

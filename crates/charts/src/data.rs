@@ -2,7 +2,6 @@
 //! computed `nivalis_physics::Model`. Undefined values are `None`; they break
 //! lines and are never drawn as numbers.
 
-use nivalis_physics::params::Element;
 use nivalis_physics::units::AU_CM;
 use nivalis_physics::{CrossingDirection, Model, Species};
 
@@ -59,8 +58,7 @@ impl ProfileData {
     /// The midplane C/O profile of a model, its star's C/O and its snowlines.
     pub fn from_model(model: &Model) -> ProfileData {
         let p = model.midplane_profile();
-        let x = &model.carriers.stellar_per_h;
-        let star = x[Element::C as usize] / x[Element::O as usize];
+        let star = model.star_c_to_o();
         ProfileData {
             radius_au: p.radius_au,
             c_to_o_gas: p.c_to_o_gas,
@@ -145,7 +143,7 @@ pub struct TemperatureData {
 impl TemperatureData {
     /// The midplane temperatures and surface density of a model.
     pub fn from_model(model: &Model) -> TemperatureData {
-        let s = &model.structure;
+        let s = &model.structure();
         let wrap = |v: &Vec<f64>| v.iter().map(|&t| positive(t)).collect::<Vec<_>>();
         TemperatureData {
             radius_au: s.radius_cm.iter().map(|r| r / AU_CM).collect(),
@@ -226,17 +224,25 @@ impl AbundanceData {
     /// Midplane gas and ice abundances per H of every species present in a model
     /// (x_gas = x (1 - f_ice), x_ice = x f_ice; species with x = 0 are left out).
     pub fn from_model(model: &Model) -> AbundanceData {
-        let s = &model.structure;
+        let s = &model.structure();
         let species = Species::ALL
             .iter()
-            .filter(|sp| model.carriers.species_per_h[sp.index()] > 0.0)
+            .filter(|sp| model.composition().is_present(**sp))
             .map(|&sp| {
-                let x = model.carriers.species_per_h[sp.index()];
+                let x = |j: usize| model.composition().species_per_h(sp, j);
                 let f = model.midplane_ice_fraction(sp);
                 SpeciesAbundance {
                     label: typeset_formula(sp.key()),
-                    gas_per_h: f.iter().map(|&f| positive(x * (1.0 - f))).collect(),
-                    ice_per_h: f.iter().map(|&f| positive(x * f)).collect(),
+                    gas_per_h: f
+                        .iter()
+                        .enumerate()
+                        .map(|(j, &f)| positive(x(j) * (1.0 - f)))
+                        .collect(),
+                    ice_per_h: f
+                        .iter()
+                        .enumerate()
+                        .map(|(j, &f)| positive(x(j) * f))
+                        .collect(),
                 }
             })
             .collect();

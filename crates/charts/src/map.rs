@@ -9,7 +9,6 @@
 //! last + half a spacing; above that top the map is outside the grid
 //! (transparent). Undefined values (NaN) are drawn in the theme's neutral grey.
 
-use nivalis_physics::params::Element;
 use nivalis_physics::units::AU_CM;
 use nivalis_physics::{Model, SnowSurface, Species};
 
@@ -88,12 +87,12 @@ impl MapData {
         value_range: (f64, f64),
         colour_map: ColourMap,
     ) -> MapData {
-        let st = &model.structure;
+        let st = &model.structure();
         let rows = st.samples_per_column;
         let mut z_over_r = Vec::with_capacity(values.len());
         for j in 0..st.radial_cells {
             for s in 0..rows {
-                z_over_r.push(st.samples.height_cm[st.index(j, s)] / st.radius_cm[j]);
+                z_over_r.push(st.sample(j, s).height_cm / st.radius_cm[j]);
             }
         }
         let h_over_r: Vec<f64> = st
@@ -131,7 +130,7 @@ impl MapData {
     /// An absent species gives an all-undefined map.
     pub fn ice_fraction(model: &Model, species: Species) -> MapData {
         let n = model.sample_count();
-        let present = model.carriers.species_per_h[species.index()] > 0.0;
+        let present = model.composition().is_present(species);
         let values = (0..n)
             .map(|k| {
                 if present {
@@ -167,8 +166,7 @@ impl MapData {
             (0.0, 2.0),
             ColourMap::Cividis,
         );
-        let x = &model.carriers.stellar_per_h;
-        let star = x[Element::C as usize] / x[Element::O as usize];
+        let star = model.star_c_to_o();
         if star.is_finite() {
             map.reference_value = Some(("star".to_string(), star));
         }
@@ -178,7 +176,7 @@ impl MapData {
     /// The model's snow surface of a species as (r [au], z/r) polylines: the lowest
     /// height per column where f_ice falls through 0.5, broken where a column has none.
     pub fn model_snow_surface(model: &Model, species: Species) -> Vec<Vec<(f64, f64)>> {
-        let st = &model.structure;
+        let st = &model.structure();
         let mut lines = Vec::new();
         let mut current = Vec::new();
         for j in 0..st.radial_cells {

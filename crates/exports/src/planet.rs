@@ -770,7 +770,7 @@ fn ratio_text(x: Option<f64>) -> String {
 pub fn zone_fronts(model: &Model) -> Vec<(String, f64)> {
     let mut lines: Vec<(String, f64)> = Species::ALL
         .iter()
-        .filter(|s| model.carriers.species_per_h[**s as usize] > 0.0)
+        .filter(|s| model.composition().is_present(**s))
         .flat_map(|&s| {
             model.snowlines(s).into_iter().map(move |l| {
                 let words = match l.direction {
@@ -813,10 +813,7 @@ pub fn ices_at(model: &Model, r_au: f64) -> String {
     };
     let frozen: Vec<String> = Species::ALL
         .iter()
-        .filter(|s| {
-            model.carriers.species_per_h[**s as usize] > 0.0
-                && local.ice_fraction[**s as usize] >= 0.5
-        })
+        .filter(|s| model.composition().is_present(**s) && local.ice_fraction[**s as usize] >= 0.5)
         .map(|s| formula(s.key()))
         .collect();
     match frozen.len() {
@@ -1060,7 +1057,7 @@ mod tests {
         }
         // Beyond the last front every ice is frozen, and the words name that front, whatever it is.
         let last = fronts.last().unwrap();
-        let r = (last.1 * model.parameters.disk.outer_radius_au).sqrt();
+        let r = (last.1 * model.parameters().disk.outer_radius_au).sqrt();
         if r > last.1 {
             assert_eq!(
                 among_fronts(&fronts, r),

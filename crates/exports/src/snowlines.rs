@@ -21,7 +21,7 @@ pub fn snowlines_json(model: &Model, provenance: &Provenance) -> Value {
     let mut directions = Map::new();
     let mut out_of_equilibrium = Map::new();
     let mut surfaces = Map::new();
-    let st = &model.structure;
+    let st = &model.structure();
     for s in Species::ALL {
         let found = model.snowlines(s);
         lines.insert(
@@ -80,12 +80,12 @@ pub fn snowlines_json(model: &Model, provenance: &Provenance) -> Value {
         "snowlines": lines,
         "snowline_directions": directions,
         "snowline_out_of_equilibrium": out_of_equilibrium,
-        "disk_age_myr": model.parameters.disk.age_myr,
-        "initial_state": model.parameters.ices.initial_state.key(),
+        "disk_age_myr": model.parameters().disk.age_myr,
+        "initial_state": model.parameters().ices.initial_state.key(),
         "snow_surfaces": surfaces,
         "soot_line": {
-            "kind": model.parameters.composition.soot_line.key(),
-            "temperature_k": model.parameters.composition.soot_line_k,
+            "kind": model.parameters().composition.soot_line.key(),
+            "temperature_k": model.parameters().composition.soot_line_k,
             "early_phase_radius_au": st.early_soot_line_radius_cm.map(|r| r / AU_CM),
         },
     })

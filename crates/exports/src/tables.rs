@@ -42,7 +42,7 @@ fn finite(x: f64) -> Option<f64> {
 
 /// The radial structure profile (`nivalis structure`).
 pub fn structure_table(model: &Model) -> Table {
-    let st = &model.structure;
+    let st = &model.structure();
     let columns = vec![
         col("radius_au", "AU", "radial cell centre"),
         col("surface_density_g_cm2", "g / cm2", "gas surface density"),
@@ -74,7 +74,7 @@ pub fn structure_table(model: &Model) -> Table {
                 finite(st.midplane_temperature_k[j]),
                 finite(st.irradiation_temperature_k[j]),
                 finite(st.accretion_temperature_k[j]),
-                finite(st.samples.hydrogen_density_cm3[st.index(j, 0)]),
+                finite(st.sample(j, 0).hydrogen_density_cm3),
                 finite(st.scale_height_cm[j] / AU_CM),
                 finite(st.scale_height_cm[j] / r),
             ]
@@ -86,7 +86,7 @@ pub fn structure_table(model: &Model) -> Table {
 /// The radial model profile (`nivalis model`): C/O of gas, ice and solids, gas
 /// C/H and O/H relative to the star, and the midplane ice fraction of each species.
 pub fn model_table(model: &Model) -> Table {
-    let st = &model.structure;
+    let st = &model.structure();
     let profile = model.midplane_profile();
     let mut columns = vec![
         col("radius_au", "AU", "radial cell centre"),
@@ -130,7 +130,7 @@ pub fn model_table(model: &Model) -> Table {
             let mut row = vec![
                 finite(profile.radius_au[j]),
                 finite(st.midplane_temperature_k[j]),
-                finite(st.samples.hydrogen_density_cm3[st.index(j, 0)]),
+                finite(st.sample(j, 0).hydrogen_density_cm3),
                 profile.c_to_o_gas[j],
                 profile.c_to_o_ice[j],
                 profile.c_to_o_solid[j],
@@ -286,7 +286,7 @@ impl MapQuantity {
 
     /// Value at flat sample index `k` (`None` where undefined).
     pub fn value(self, model: &Model, k: usize) -> Option<f64> {
-        let s = &model.structure.samples;
+        let s = &model.structure().samples;
         match self {
             MapQuantity::TemperatureK => finite(s.temperature_k[k]),
             MapQuantity::DensityHCm3 => finite(s.hydrogen_density_cm3[k]),
@@ -299,18 +299,21 @@ impl MapQuantity {
             MapQuantity::CToOGas => {
                 let ph = model.phases_at(k);
                 let (c, o) = (Element::C as usize, Element::O as usize);
-                defined_ratio(ph.gas[c], ph.gas[o], model.carriers.stellar_per_h[o])
+                defined_ratio(ph.gas[c], ph.gas[o], model.stellar_per_h()[o])
             }
-            MapQuantity::EquilibrationTimeYr(sp) => finite(
-                model.equilibration_time_s[sp.index() * model.sample_count() + k] / JULIAN_YEAR_S,
-            ),
+            MapQuantity::EquilibrationTimeYr(sp) => {
+                finite(model.equilibration_time_s_at(sp, k) / JULIAN_YEAR_S)
+            }
             MapQuantity::OutOfEquilibrium(sp) => Some(if model.out_of_equilibrium_at(sp, k) {
                 1.0
             } else {
                 0.0
             }),
             MapQuantity::GasDensityCm3(sp) | MapQuantity::IceDensityCm3(sp) => {
-                let total = model.carriers.species_per_h[sp.index()] * s.hydrogen_density_cm3[k];
+                let total = model
+                    .composition()
+                    .species_per_h(sp, k / model.structure().samples_per_column)
+                    * s.hydrogen_density_cm3[k];
                 let f = model.ice_fraction_at(sp, k);
                 finite(if matches!(self, MapQuantity::IceDensityCm3(_)) {
                     f * total
@@ -326,7 +329,7 @@ impl MapQuantity {
 /// The r-z map of a quantity as long-form rows (radius_au, height_au, z_over_r, value),
 /// one row per cell centre (the z = 0 midplane sample is not a cell and is left out).
 pub fn map_table(model: &Model, quantity: MapQuantity, value_name: &str) -> Table {
-    let st = &model.structure;
+    let st = &model.structure();
     let (unit, description) = quantity.unit_and_description();
     let columns = vec![
         col("radius_au", "AU", "radial cell centre"),
@@ -343,7 +346,7 @@ pub fn map_table(model: &Model, quantity: MapQuantity, value_name: &str) -> Tabl
         let r = st.radius_cm[j];
         for s in 1..st.samples_per_column {
             let k = st.index(j, s);
-            let z = st.samples.height_cm[k];
+            let z = st.sample(j, s).height_cm;
             rows.push(vec![
                 finite(r / AU_CM),
                 finite(z / AU_CM),
@@ -384,7 +387,7 @@ pub fn elements_table(model: &Model) -> Table {
             for p in phases {
                 for e in Element::ALL {
                     // Below 1e-9 of the element's total (the star's X/H) is zero up to rounding (docs/model.md section 8).
-                    let total = model.carriers.stellar_per_h[e as usize];
+                    let total = model.stellar_per_h()[e as usize];
                     row.push(finite(nivalis_physics::budget::zero_below_rounding(
                         p.abundance(ph, e),
                         total,

@@ -20,11 +20,11 @@
 //! - `structure`: `DiskStructure::compute` alone.
 //! - `model`: `Model::run` followed by the midplane profile and the snowlines of
 //!   every species: everything the page and the CLI compute for one disk.
-//! - `ice_edit`: what an edit of an ice parameter costs today. The public API
-//!   cannot yet reuse a computed structure, so this is a full `Model::run`
-//!   whose sticking coefficient alternates between 1.0 and 0.9 from one
-//!   iteration to the next; it becomes the real ice-only path once the core
-//!   has one.
+//! - `ice_edit`: what an edit of an ice parameter costs: `Model::set_ices` on a
+//!   model already computed, whose sticking coefficient alternates between 1.0
+//!   and 0.9 from one iteration to the next. Only the ice balance is re-solved,
+//!   into the model's own buffers (the structure and composition are reused;
+//!   `tests/stages.rs` checks the result equals a full `Model::run` bit for bit).
 //!
 //! Grids: the default one (200 x 80) for every group and, for `structure` and
 //! `model`, one with twice the cells along each axis (400 x 160), against which
@@ -85,14 +85,14 @@ struct FloorInputs {
 impl FloorInputs {
     fn new(parameters: &ModelParameters) -> FloorInputs {
         let model = Model::run(parameters).expect("the default disk must run");
-        let temperature_k = model.structure.samples.temperature_k.clone();
+        let temperature_k = model.structure().samples.temperature_k.clone();
         let inverse_temperature = temperature_k.iter().map(|t| 1.0 / t).collect();
         FloorInputs {
             temperature_k,
             inverse_temperature,
-            minus_binding_energy_k: model.species.map(|s| -s.binding_energy_k),
+            minus_binding_energy_k: model.species_properties().map(|s| -s.binding_energy_k),
             thermal_speed_factor: model
-                .species
+                .species_properties()
                 .map(|s| 8.0 * BOLTZMANN_ERG_PER_K / (std::f64::consts::PI * s.mass_g)),
         }
     }
@@ -180,13 +180,16 @@ fn model_benchmark(c: &mut Criterion) {
 fn ice_edit_benchmark(c: &mut Criterion) {
     let mut group = group(c, "ice_edit", 5);
     let (label, radial, vertical) = DEFAULT_GRID;
-    let mut edited = [parameters(radial, vertical), parameters(radial, vertical)];
-    edited[1].ices.sticking = 0.9;
+    let base = parameters(radial, vertical);
+    let mut edited = [base.ices.clone(), base.ices.clone()];
+    edited[1].sticking = 0.9;
+    let mut model = Model::run(&base).expect("the default disk must run");
     let mut turn = 0usize;
     group.bench_function(BenchmarkId::from_parameter(label), |b| {
         b.iter(|| {
             turn += 1;
-            Model::run(black_box(&edited[turn % 2])).expect("the default disk must run")
+            model.set_ices(black_box(&edited[turn % 2]));
+            black_box(model.ice_fraction_at(Species::CO, 0))
         })
     });
     group.finish();

@@ -29,15 +29,18 @@ fn digest(name: &str, p: &ModelParameters) {
         }
     };
     let mut h = Fnv(0xcbf2_9ce4_8422_2325);
-    let s = &model.structure.samples;
+    let s = &model.structure().samples;
     for v in [
         &s.temperature_k,
         &s.density_g_cm3,
         &s.fuv_photon_flux_cm2_s,
         &s.ionization_rate_s,
-        &model.ice_fraction,
     ] {
         v.iter().for_each(|&x| h.add(x));
+    }
+    // Species-major, as the flat array was laid out.
+    for sp in Species::ALL {
+        model.ices().ice_fraction(sp).iter().for_each(|&x| h.add(x));
     }
     let profile = model.midplane_profile();
     let n = profile.radius_au.len();

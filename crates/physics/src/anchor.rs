@@ -19,6 +19,7 @@
 use crate::balance::{species_properties, BalanceConstants};
 use crate::budget::Carriers;
 use crate::error::PhysicsError;
+use crate::ices::{solve_species_at, Place};
 use crate::math::{exp, ln};
 use crate::params::{DesorptionModel, ModelParameters};
 use crate::snowlines::{crossings, CrossingDirection};
@@ -262,13 +263,12 @@ impl SnowlineProbe {
                     mid[j].temperature_k,
                     phi[j],
                 );
-                let state = self.balance.solve(
+                // The ice stage's own function, as in `Model::run` (ice at the disk's age).
+                let state = solve_species_at(
+                    &self.balance,
+                    &Place::of(&col, 0),
                     self.species_index,
-                    self.molecules_per_h * col.hydrogen_density_cm3[0],
-                    col.temperature_k[0],
-                    col.density_g_cm3[0],
-                    col.fuv_photon_flux_cm2_s[0],
-                    col.ionization_rate_s[0],
+                    self.molecules_per_h,
                 );
                 f.push(state.ice_fraction);
                 if j > 0 {

@@ -148,6 +148,11 @@ impl PhysicsError {
         }
     }
 
+    /// The same as [`PhysicsError::path`], under the name the staged core's callers use.
+    pub fn field(&self) -> Option<&str> {
+        self.path()
+    }
+
     /// The offending value as short text, when the error has one.
     pub fn value(&self) -> Option<String> {
         match self {
@@ -247,3 +252,53 @@ impl fmt::Display for PhysicsError {
 }
 
 impl std::error::Error for PhysicsError {}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn message_is_field_then_detail() {
+        let cases = [
+            (
+                PhysicsError::InnerRadiusInsideStar {
+                    inner_radius_au: 0.001,
+                    stellar_radius_au: 0.0093,
+                },
+                Some("disk.inner_radius_au"),
+                "disk.inner_radius_au: must exceed the stellar radius 0.0093 au (from luminosity and effective temperature), got 0.001",
+            ),
+            (
+                PhysicsError::NitrogenExhausted {
+                    nitrogen_per_h: 6.8e-5,
+                    hcn_per_h: 1e-4,
+                },
+                Some("composition.carbon.HCN"),
+                "composition.carbon.HCN: HCN/H = 1.0000e-4 needs more nitrogen than the star has (N/H = 6.8000e-5)",
+            ),
+            (
+                PhysicsError::OutOfRange {
+                    name: "sigma_au",
+                    value: -1.0,
+                    allowed: ">= 0",
+                },
+                Some("sigma_au"),
+                "sigma_au: must be >= 0, got -1",
+            ),
+            (
+                PhysicsError::NoTemperatureSolution { radius_au: 0.5 },
+                None,
+                "no midplane temperature below 1e6 K balances the heating at r = 0.5000 au; lower the accretion rate or the opacity",
+            ),
+        ];
+        for (e, field, message) in cases {
+            assert_eq!(e.field(), field);
+            assert_eq!(e.to_string(), message);
+            let expected_detail = match field {
+                Some(f) => message.strip_prefix(&format!("{f}: ")).unwrap().to_string(),
+                None => message.to_string(),
+            };
+            assert_eq!(e.detail(), expected_detail);
+        }
+    }
+}

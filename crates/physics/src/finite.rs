@@ -13,7 +13,26 @@ use crate::units::AU_CM;
 /// are NaN by definition where no exchange happens, docs/model.md section 6,
 /// and are not checked.)
 pub fn check_finite(model: &Model) -> Result<(), PhysicsError> {
-    let st = &model.structure;
+    check_structure_finite(model.structure())?;
+    let st = model.structure();
+    let per_column = st.samples_per_column.max(1);
+    let radius_of = |j: usize| st.radius_cm.get(j).map_or(f64::NAN, |r| r / AU_CM);
+    for species in crate::species::Species::ALL {
+        if let Some(k) =
+            (0..model.sample_count()).find(|&k| !model.ice_fraction_at(species, k).is_finite())
+        {
+            return Err(PhysicsError::NonFiniteResult {
+                quantity: "ice fraction",
+                radius_au: radius_of(k / per_column),
+                likely_input: "ices.species_overrides / ices.sticking",
+            });
+        }
+    }
+    Ok(())
+}
+
+/// The structure part of [`check_finite`]: the radial and per-sample fields.
+pub fn check_structure_finite(st: &crate::structure::DiskStructure) -> Result<(), PhysicsError> {
     let per_column = st.samples_per_column.max(1);
     let radius_of = |j: usize| st.radius_cm.get(j).map_or(f64::NAN, |r| r / AU_CM);
     let radial: [(&'static str, &'static str, &[f64]); 7] = [
@@ -94,14 +113,6 @@ pub fn check_finite(model: &Model) -> Result<(), PhysicsError> {
             });
         }
     }
-    let n = s.temperature_k.len().max(1);
-    if let Some(k) = model.ice_fraction.iter().position(|x| !x.is_finite()) {
-        return Err(PhysicsError::NonFiniteResult {
-            quantity: "ice fraction",
-            radius_au: radius_of((k % n) / per_column),
-            likely_input: "ices.species_overrides / ices.sticking",
-        });
-    }
     Ok(())
 }
 
@@ -145,7 +156,7 @@ mod tests {
                 Ok(m) => {
                     assert!(check_finite(&m).is_ok(), "{what}");
                     assert!(
-                        m.structure
+                        m.structure()
                             .midplane_temperature_k
                             .iter()
                             .all(|t| t.is_finite()),
@@ -165,11 +176,12 @@ mod tests {
 
     #[test]
     fn a_non_finite_value_is_named_with_its_likely_input() {
-        let mut m = Model::run(&small()).unwrap();
+        let m = Model::run(&small()).unwrap();
         assert!(check_finite(&m).is_ok());
-        let k = m.structure.samples_per_column * 3;
-        m.structure.samples.ionization_rate_s[k] = f64::INFINITY;
-        let e = check_finite(&m).unwrap_err();
+        let mut st = m.structure().clone();
+        let k = st.samples_per_column * 3;
+        st.samples.ionization_rate_s[k] = f64::INFINITY;
+        let e = check_structure_finite(&st).unwrap_err();
         assert_eq!(e.path(), Some("disk.cosmic_ray_rate_s"));
         assert!(e.to_string().contains("the ionisation rate at r ="), "{e}");
     }

@@ -5,37 +5,30 @@ use crate::balance::{species_properties, BalanceConstants, SpeciesProperties};
 use crate::budget::{
     defined_ratio, one_within_rounding, zero_below_rounding, Carriers, PhaseAbundances,
 };
+use crate::composition::Composition;
 use crate::error::PhysicsError;
-use crate::params::{DesorptionModel, Element, ModelParameters};
+use crate::ices::{solve_place, IceBalance, Place};
+use crate::params::{
+    CompositionParameters, DesorptionModel, Element, IceParameters, ModelParameters, SootLine,
+    ELEMENT_COUNT,
+};
 use crate::snowlines::{crossings, snow_surface, SnowSurface, Snowline};
 use crate::species::{Species, SpeciesTable, SPECIES_COUNT};
-use crate::star::stellar_abundances_per_h;
-use crate::structure::{column, midplane_temperature, surface_density_g_cm2, DiskStructure};
+use crate::structure::{early_soot_line_radius_cm, DiskStructure};
 use crate::units::AU_CM;
 
-/// A computed disk.
+/// A computed disk: the structure, composition and ice-balance stages with the
+/// inputs they came from. The arrays are private; the query methods below are
+/// the interface (docs/model.md sections 3-9).
 #[derive(Debug, Clone, PartialEq)]
 pub struct Model {
-    /// The inputs.
-    pub parameters: ModelParameters,
-    /// Built-in species data.
-    pub table: SpeciesTable,
-    /// Resolved species properties.
-    pub species: [SpeciesProperties; SPECIES_COUNT],
-    /// Element carriers.
-    pub carriers: Carriers,
-    /// Physical structure.
-    pub structure: DiskStructure,
+    parameters: ModelParameters,
+    table: SpeciesTable,
+    species: [SpeciesProperties; SPECIES_COUNT],
+    structure: DiskStructure,
+    composition: Composition,
     balance: BalanceConstants,
-    /// Ice fraction at the disk's age per species and sample: index `species * n_samples + sample`.
-    pub ice_fraction: Vec<f64>,
-    /// Equilibrium ice fraction (the long-time limit), same indexing.
-    pub equilibrium_ice_fraction: Vec<f64>,
-    /// Equilibration time [s] per species and sample (NaN where undefined).
-    pub equilibration_time_s: Vec<f64>,
-    /// Whether the ice is out of equilibrium at the disk's age (equilibration time longer than the
-    /// age, or f_ice still more than 0.01 from its equilibrium), same indexing.
-    pub out_of_equilibrium: Vec<bool>,
+    ices: IceBalance,
 }
 
 /// Midplane state at one radius, for the planet tools.
@@ -47,7 +40,7 @@ pub struct LocalMidplane {
     pub temperature_k: f64,
     /// Ice fraction per species (at the disk's age).
     pub ice_fraction: [f64; SPECIES_COUNT],
-    /// Per species: out of equilibrium at the disk's age (see [`Model::out_of_equilibrium`]).
+    /// Per species: out of equilibrium at the disk's age (see [`Model::out_of_equilibrium_at`]).
     pub out_of_equilibrium: [bool; SPECIES_COUNT],
     /// Element abundances per H in each phase.
     pub phases: PhaseAbundances,
@@ -90,55 +83,156 @@ pub struct Ratios {
 }
 
 impl Model {
-    /// Run the whole model.
+    /// Run the whole model: [`DiskStructure::compute`], [`Composition::uniform`],
+    /// [`IceBalance::solve`].
     pub fn run(parameters: &ModelParameters) -> Result<Model, PhysicsError> {
-        let table = SpeciesTable::built_in();
-        let mut carriers = Carriers::new(
-            stellar_abundances_per_h(&parameters.star),
-            &parameters.composition,
-            &table,
-        )?;
         let structure = DiskStructure::compute(parameters)?;
-        carriers.carbon_released_within_cm = structure.early_soot_line_radius_cm.unwrap_or(0.0);
+        Model::run_on(structure, parameters)
+    }
+
+    /// Run the composition and ice-balance stages of `parameters` on a structure already
+    /// computed (for example by [`DiskStructure::from_surface_density`]); `Model::run(p)` is
+    /// `Model::run_on(DiskStructure::compute(p)?, p)`. The structure is trusted to belong to
+    /// `parameters`' disk (its grid and fields are used as they are).
+    pub fn run_on(
+        structure: DiskStructure,
+        parameters: &ModelParameters,
+    ) -> Result<Model, PhysicsError> {
+        let table = SpeciesTable::built_in();
+        let composition = Composition::uniform(parameters, &table, &structure)?;
         let species = species_properties(parameters, &table);
         let balance = BalanceConstants::new(parameters, &species);
-        let n = structure.samples.temperature_k.len();
-        let mut ice_fraction = vec![0.0; SPECIES_COUNT * n];
-        let mut equilibrium_ice_fraction = vec![0.0; SPECIES_COUNT * n];
-        let mut equilibration_time_s = vec![f64::NAN; SPECIES_COUNT * n];
-        let mut out_of_equilibrium = vec![false; SPECIES_COUNT * n];
-        let s = &structure.samples;
-        for k in 0..n {
-            let sample = balance.sample(
-                s.temperature_k[k],
-                s.density_g_cm3[k],
-                s.fuv_photon_flux_cm2_s[k],
-                s.ionization_rate_s[k],
-            );
-            let n_h = s.hydrogen_density_cm3[k];
-            for i in 0..SPECIES_COUNT {
-                let state = balance.solve_aged(&sample, i, carriers.species_per_h[i] * n_h);
-                ice_fraction[i * n + k] = state.ice_fraction;
-                equilibrium_ice_fraction[i * n + k] = state.equilibrium_ice_fraction;
-                equilibration_time_s[i * n + k] = state.equilibration_time_s;
-                out_of_equilibrium[i * n + k] = state.out_of_equilibrium;
-            }
-        }
+        let ices = IceBalance::solve(&structure, &composition, &balance);
         let model = Model {
             parameters: parameters.clone(),
             table,
             species,
-            carriers,
             structure,
+            composition,
             balance,
-            ice_fraction,
-            equilibrium_ice_fraction,
-            equilibration_time_s,
-            out_of_equilibrium,
+            ices,
         };
         // No NaN or infinity leaves a run (issue 15 item 5): a typed error names the likely input instead.
         crate::finite::check_finite(&model)?;
         Ok(model)
+    }
+
+    /// This disk with other ice parameters: only the ice balance is re-solved (the structure
+    /// and composition do not depend on them), equal bit for bit to
+    /// `Model::run` of the edited parameters.
+    pub fn with_ices(&self, ices: &IceParameters) -> Model {
+        let mut model = self.clone();
+        model.set_ices(ices);
+        model
+    }
+
+    /// Replace the ice parameters in place, re-solving only the ice balance into the buffers
+    /// this model already holds (no allocation): the same numbers as [`Model::with_ices`].
+    pub fn set_ices(&mut self, ices: &IceParameters) {
+        self.parameters.ices = ices.clone();
+        self.species = species_properties(&self.parameters, &self.table);
+        self.balance = BalanceConstants::new(&self.parameters, &self.species);
+        self.ices
+            .solve_into(&self.structure, &self.composition, &self.balance);
+    }
+
+    /// Replace the element carriers (composition parameters) in place: the composition and the
+    /// ice balance are re-solved (into the buffers this model holds), the structure is kept; only
+    /// the early soot line (irreversible soot line, docs/model.md section 8) is recomputed when
+    /// the soot-line kind or temperature changed. Equal bit for bit to `Model::run` of the edited
+    /// parameters. On an error (for example a composition the star's oxygen cannot fill) the
+    /// model is left as it was.
+    pub fn set_composition(
+        &mut self,
+        composition: &CompositionParameters,
+    ) -> Result<(), PhysicsError> {
+        let mut p = self.parameters.clone();
+        p.composition = composition.clone();
+        let old = &self.parameters.composition;
+        let soot_moved =
+            old.soot_line != composition.soot_line || old.soot_line_k != composition.soot_line_k;
+        let early = if soot_moved {
+            match composition.soot_line {
+                SootLine::Irreversible => early_soot_line_radius_cm(
+                    &p,
+                    &self.structure.radius_cm,
+                    composition.soot_line_k,
+                )?,
+                SootLine::Reversible => None,
+            }
+        } else {
+            self.structure.early_soot_line_radius_cm
+        };
+        let previous = self.structure.early_soot_line_radius_cm;
+        self.structure.early_soot_line_radius_cm = early;
+        let new_composition = match Composition::uniform(&p, &self.table, &self.structure) {
+            Ok(c) => c,
+            Err(e) => {
+                self.structure.early_soot_line_radius_cm = previous;
+                return Err(e);
+            }
+        };
+        self.parameters = p;
+        self.composition = new_composition;
+        self.ices
+            .solve_into(&self.structure, &self.composition, &self.balance);
+        Ok(())
+    }
+
+    /// This disk with other composition parameters ([`Model::set_composition`] on a copy).
+    pub fn with_composition(
+        &self,
+        composition: &CompositionParameters,
+    ) -> Result<Model, PhysicsError> {
+        let mut model = self.clone();
+        model.set_composition(composition)?;
+        Ok(model)
+    }
+
+    /// The inputs.
+    pub fn parameters(&self) -> &ModelParameters {
+        &self.parameters
+    }
+
+    /// Built-in species data.
+    pub fn species_table(&self) -> &SpeciesTable {
+        &self.table
+    }
+
+    /// Resolved properties (binding energy, frequency, T_cond, ...) of every species,
+    /// `Species::ALL` order.
+    pub fn species_properties(&self) -> &[SpeciesProperties; SPECIES_COUNT] {
+        &self.species
+    }
+
+    /// The structure stage.
+    pub fn structure(&self) -> &DiskStructure {
+        &self.structure
+    }
+
+    /// The composition stage.
+    pub fn composition(&self) -> &Composition {
+        &self.composition
+    }
+
+    /// The element carriers of the composition (uniform in radius today).
+    pub fn carriers(&self) -> &Carriers {
+        self.composition.carriers()
+    }
+
+    /// The ice-balance stage.
+    pub fn ices(&self) -> &IceBalance {
+        &self.ices
+    }
+
+    /// The star's abundances per H (C, O, N, S, Si, Mg, Fe).
+    pub fn stellar_per_h(&self) -> &[f64; ELEMENT_COUNT] {
+        self.composition.stellar_per_h()
+    }
+
+    /// The star's C/O (number ratio).
+    pub fn star_c_to_o(&self) -> f64 {
+        self.composition.star_c_to_o()
     }
 
     /// Number of samples (radial cells x (vertical cells + 1)).
@@ -146,14 +240,25 @@ impl Model {
         self.structure.samples.temperature_k.len()
     }
 
-    /// Ice fraction of species `species` at flat sample index `k`.
+    /// Ice fraction (at the disk's age) of species `species` at flat sample index `k`.
     pub fn ice_fraction_at(&self, species: Species, k: usize) -> f64 {
-        self.ice_fraction[species.index() * self.sample_count() + k]
+        self.ices.ice_fraction(species)[k]
     }
 
-    /// Whether species `species` at flat sample index `k` is out of equilibrium at the disk's age.
+    /// Equilibrium ice fraction of species `species` at flat sample index `k`.
+    pub fn equilibrium_ice_fraction_at(&self, species: Species, k: usize) -> f64 {
+        self.ices.equilibrium_ice_fraction(species)[k]
+    }
+
+    /// Equilibration time [s] of species `species` at flat sample index `k` (NaN where undefined).
+    pub fn equilibration_time_s_at(&self, species: Species, k: usize) -> f64 {
+        self.ices.equilibration_time_s(species)[k]
+    }
+
+    /// Whether species `species` at flat sample index `k` is out of equilibrium at the disk's age
+    /// (equilibration time longer than the age, or f_ice still more than 0.01 from its equilibrium).
     pub fn out_of_equilibrium_at(&self, species: Species, k: usize) -> bool {
-        self.out_of_equilibrium[species.index() * self.sample_count() + k]
+        self.ices.out_of_equilibrium(species)[k]
     }
 
     /// Whether a snowline is out of equilibrium: either midplane cell bracketing its radius is.
@@ -170,17 +275,17 @@ impl Model {
 
     /// Phase abundances at flat sample index `k`.
     pub fn phases_at(&self, k: usize) -> PhaseAbundances {
-        let n = self.sample_count();
-        let radius_cm = self.structure.radius_cm[k / self.structure.samples_per_column];
-        self.carriers
-            .phases(self.structure.samples.temperature_k[k], radius_cm, |i| {
-                self.ice_fraction[i * n + k]
+        let j = k / self.structure.samples_per_column;
+        let radius_cm = self.structure.radius_cm[j];
+        self.composition
+            .phases(j, self.structure.samples.temperature_k[k], radius_cm, |i| {
+                self.ice_fraction_at(Species::ALL[i], k)
             })
     }
 
     /// Ratios of a set of phase abundances.
     pub fn ratios(&self, ph: &PhaseAbundances) -> Ratios {
-        let x = &self.carriers.stellar_per_h;
+        let x = self.stellar_per_h();
         let (c, o) = (Element::C as usize, Element::O as usize);
         // Carbon below 1e-9 of the star's is zero up to rounding (docs/model.md section 8).
         let carbon = |v: f64| zero_below_rounding(v, x[c]);
@@ -240,7 +345,7 @@ impl Model {
     /// Kinetic models: crossings of midplane f_ice = 0.5, linear in ln r. Step model:
     /// where T_mid = T_cond, ln T interpolated against ln r (docs/model.md section 7).
     pub fn snowlines(&self, species: Species) -> Vec<Snowline> {
-        if self.carriers.species_per_h[species.index()] == 0.0 {
+        if !self.composition.is_present(species) {
             return Vec::new();
         }
         let st = &self.structure;
@@ -269,21 +374,14 @@ impl Model {
         let st = &self.structure;
         let range = st.index(j, 0)..st.index(j, 0) + st.samples_per_column;
         let heights = &st.samples.height_cm[range.clone()];
-        if self.carriers.species_per_h[species.index()] == 0.0 {
+        if !self.composition.is_present(species) {
             return SnowSurface::MidplaneNotFrozen;
         }
         if self.is_step_model() {
             let t_cond = self.species[species.index()].condensation_temperature_k;
             snow_surface(heights, &st.samples.temperature_k[range], t_cond, false)
         } else {
-            let n = self.sample_count();
-            let base = species.index() * n;
-            snow_surface(
-                heights,
-                &self.ice_fraction[base + range.start..base + range.end],
-                0.5,
-                true,
-            )
+            snow_surface(heights, &self.ices.ice_fraction(species)[range], 0.5, true)
         }
     }
 
@@ -300,36 +398,28 @@ impl Model {
                 outer_au: d.outer_radius_au,
             });
         }
-        let c = &self.structure.constants;
         let r = radius_au * AU_CM;
-        let phi = self.structure.flaring_angle_at(r);
-        let sigma = surface_density_g_cm2(c, r);
-        let mid = midplane_temperature(c, phi, r, sigma)?;
         // Only the midplane sample is needed, but its density needs the whole column's normalisation.
-        let col = column(c, r, sigma, mid.temperature_k, phi);
-        let mut ice_fraction = [0.0; SPECIES_COUNT];
-        let mut out_of_equilibrium = [false; SPECIES_COUNT];
-        let sample = self.balance.sample(
-            col.temperature_k[0],
-            col.density_g_cm3[0],
-            col.fuv_photon_flux_cm2_s[0],
-            col.ionization_rate_s[0],
+        let (mid, col) = self.structure.column_at(r)?;
+        // The composition of the radial cell holding r.
+        let j = self
+            .structure
+            .radius_cm
+            .partition_point(|&rc| rc < r)
+            .min(self.structure.radial_cells - 1);
+        let states = solve_place(
+            &self.balance,
+            &Place::of(&col, 0),
+            &self.composition.species_per_h_in_cell(j),
         );
-        for i in 0..SPECIES_COUNT {
-            let state = self.balance.solve_aged(
-                &sample,
-                i,
-                self.carriers.species_per_h[i] * col.hydrogen_density_cm3[0],
-            );
-            ice_fraction[i] = state.ice_fraction;
-            out_of_equilibrium[i] = state.out_of_equilibrium;
-        }
+        let ice_fraction = states.map(|s| s.ice_fraction);
+        let out_of_equilibrium = states.map(|s| s.out_of_equilibrium);
         let phases = self
-            .carriers
-            .phases(mid.temperature_k, r, |i| ice_fraction[i]);
+            .composition
+            .phases(j, mid.temperature_k, r, |i| ice_fraction[i]);
         let solid_mass_per_h_amu = self
-            .carriers
-            .solid_mass_per_h_amu(&phases, |i| ice_fraction[i]);
+            .composition
+            .solid_mass_per_h_amu(j, &phases, |i| ice_fraction[i]);
         Ok(LocalMidplane {
             radius_cm: r,
             temperature_k: mid.temperature_k,
@@ -338,5 +428,23 @@ impl Model {
             phases,
             solid_mass_per_h_amu,
         })
+    }
+}
+
+impl ModelParameters {
+    /// The checks on validated inputs that need the physics, as typed errors carrying the field
+    /// ([`PhysicsError::field`]): the inner edge outside the star and edges that hold some of the
+    /// surface-density profile ([`crate::structure::DiskConstants::new`]), and a composition whose
+    /// carriers the star's elements can fill ([`Carriers::new`], docs/model.md section 8). The
+    /// disk-file reader runs them after mapping JSON onto the parameters; `Model::run` meets the
+    /// same errors.
+    pub fn check_consistency(&self) -> Result<(), PhysicsError> {
+        crate::structure::DiskConstants::new(self)?;
+        Carriers::new(
+            crate::star::stellar_abundances_per_h(&self.star),
+            &self.composition,
+            &SpeciesTable::built_in(),
+        )?;
+        Ok(())
     }
 }

@@ -39,13 +39,13 @@
 //! row in the map.
 
 use crate::budget::{defined_ratio, one_within_rounding, zero_below_rounding};
+use crate::composition::star_c_to_o;
 use crate::error::PhysicsError;
 use crate::math::{exp, exp10, ln};
 use crate::model::{LocalMidplane, Model};
 use crate::params::{Element, ELEMENT_COUNT};
-use crate::species::SPECIES_COUNT;
+use crate::species::{Species, SPECIES_COUNT};
 use crate::statistics::chi_square_survival;
-use crate::structure::surface_density_g_cm2;
 use crate::units::{ATOMIC_MASS_UNIT_G, AU_CM, HYDROGEN_MASS_G, MASS_PER_HYDROGEN_NUCLEUS_AMU_H};
 
 /// Number of midpoint-rule points used to average over a migration range (docs/model.md section 9).
@@ -170,7 +170,7 @@ pub struct AccretedPhases {
 /// reference compilation, without the star's offsets (docs/model.md section 1).
 pub fn solar_per_h(model: &Model) -> [f64; ELEMENT_COUNT] {
     model
-        .parameters
+        .parameters()
         .star
         .abundance_reference
         .log_eps()
@@ -246,8 +246,7 @@ impl Envelope {
     }
     /// The envelope C/O divided by the star's C/O.
     pub fn c_to_o_relative_to_star(&self) -> Option<f64> {
-        let star =
-            self.stellar_per_h[Element::C as usize] / self.stellar_per_h[Element::O as usize];
+        let star = star_c_to_o(&self.stellar_per_h);
         self.c_to_o.map(|r| r / star)
     }
 }
@@ -363,7 +362,7 @@ fn check_envelope_inputs(
 }
 
 fn check_radius(model: &Model, name: &'static str, radius_au: f64) -> Result<(), PhysicsError> {
-    let d = &model.parameters.disk;
+    let d = &model.parameters().disk;
     if !(radius_au >= d.inner_radius_au && radius_au <= d.outer_radius_au) {
         return Err(PhysicsError::RadiusOutsideDisk {
             name,
@@ -386,7 +385,7 @@ struct PointPhases {
 /// Mass of solids per H [amu] if every carrier were solid: the reference below
 /// which a place counts as holding no solids.
 fn fully_condensed_mass_per_h_amu(model: &Model) -> f64 {
-    let c = &model.carriers;
+    let c = &model.carriers();
     let mut m: f64 = c
         .species_per_h
         .iter()
@@ -428,15 +427,14 @@ fn point_phases(local: &LocalMidplane, reference_solid_amu: f64) -> PointPhases 
 /// grid (the same numbers as `Model::midplane_at` at the cell centre, without
 /// recomputing the column).
 fn grid_midplane(model: &Model, j: usize) -> LocalMidplane {
-    let st = &model.structure;
+    let st = &model.structure();
     let k = st.index(j, 0);
-    let n = model.sample_count();
     let phases = model.phases_at(k);
-    let ice_fraction = std::array::from_fn(|i| model.ice_fraction[i * n + k]);
-    let out_of_equilibrium = std::array::from_fn(|i| model.out_of_equilibrium[i * n + k]);
+    let ice_fraction = Species::ALL.map(|s| model.ice_fraction_at(s, k));
+    let out_of_equilibrium = Species::ALL.map(|s| model.out_of_equilibrium_at(s, k));
     let solid_mass_per_h_amu = model
-        .carriers
-        .solid_mass_per_h_amu(&phases, |i| ice_fraction[i]);
+        .composition()
+        .solid_mass_per_h_amu(j, &phases, |i| ice_fraction[i]);
     LocalMidplane {
         radius_cm: st.radius_cm[j],
         temperature_k: st.midplane_temperature_k[j],
@@ -463,7 +461,7 @@ impl AccretedPhases {
             solid_atoms_per_g: p.solid,
             solid_to_gas_available: p.solid_to_gas,
             points: 1,
-            stellar_per_h: model.carriers.stellar_per_h,
+            stellar_per_h: *model.stellar_per_h(),
             out_of_equilibrium: p.out_of_equilibrium,
             solar_per_h: solar_per_h(model),
         }
@@ -482,14 +480,14 @@ impl AccretedPhases {
     /// grid (equal to [`AccretedPhases::at`] at that radius; a test checks it).
     /// `OutOfRange` (name `radial_cell`) for `j` beyond the grid.
     pub fn at_grid_cell(model: &Model, j: usize) -> Result<AccretedPhases, PhysicsError> {
-        if j >= model.structure.radial_cells {
+        if j >= model.structure().radial_cells {
             return Err(PhysicsError::OutOfRange {
                 name: "radial_cell",
                 value: j as f64,
                 allowed: "below the number of radial cells",
             });
         }
-        let r_au = model.structure.radius_cm[j] / AU_CM;
+        let r_au = model.structure().radius_cm[j] / AU_CM;
         let p = point_phases(
             &grid_midplane(model, j),
             fully_condensed_mass_per_h_amu(model),
@@ -542,7 +540,7 @@ impl AccretedPhases {
             // Gas weight: Sigma_gas r (dr is the same at every midpoint), or 1.
             let w = match weighting {
                 RadialWeighting::AccretedMass => {
-                    surface_density_g_cm2(&model.structure.constants, r * AU_CM) * r
+                    model.structure().surface_density_at(r * AU_CM) * r
                 }
                 _ => 1.0,
             };
@@ -582,7 +580,7 @@ impl AccretedPhases {
             solid_to_gas_available: solid_to_gas / n as f64,
             points_with_solids: with_solids,
             points: n,
-            stellar_per_h: model.carriers.stellar_per_h,
+            stellar_per_h: *model.stellar_per_h(),
             out_of_equilibrium,
             solar_per_h: solar_per_h(model),
         })
@@ -1198,7 +1196,7 @@ pub fn hill_radius_cm(radius_cm: f64, planet_mass_g: f64, star_mass_g: f64) -> f
 /// M = integral of Sigma_gas(r) 2 pi r dr (docs/model.md section 2 surface
 /// density), by the midpoint rule on 400 points uniform in ln r.
 pub fn gas_mass_in_annulus_g(model: &Model, inner_cm: f64, outer_cm: f64) -> f64 {
-    let d = &model.parameters.disk;
+    let d = &model.parameters().disk;
     let (lo, hi) = (
         inner_cm.max(d.inner_radius_au * AU_CM),
         outer_cm.min(d.outer_radius_au * AU_CM),
@@ -1212,11 +1210,7 @@ pub fn gas_mass_in_annulus_g(model: &Model, inner_cm: f64, outer_cm: f64) -> f64
     for k in 0..POINTS {
         let r = lo * exp(l * (k as f64 + 0.5) / POINTS as f64);
         // dr = r d(ln r)
-        m += surface_density_g_cm2(&model.structure.constants, r)
-            * 2.0
-            * std::f64::consts::PI
-            * r
-            * r;
+        m += model.structure().surface_density_at(r) * 2.0 * std::f64::consts::PI * r * r;
     }
     m * l / POINTS as f64
 }
@@ -1252,14 +1246,14 @@ pub fn chi_square_map(
     settings: &MapSettings,
 ) -> Result<ChiSquareMap, PhysicsError> {
     let weights = validate_map_inputs(observed, settings)?;
-    let st = &model.structure;
+    let st = &model.structure();
     let n_r = st.radial_cells;
     let ratios = solid_to_gas_values(settings.ratio_min, settings.ratio_max, settings.ratio_count);
     let n_q = ratios.len();
     let radius_au: Vec<f64> = st.radius_cm.iter().map(|r| r / AU_CM).collect();
     let reference = fully_condensed_mass_per_h_amu(model);
     let reference_per_h = match observed.relative_to {
-        MetallicityReference::Star => model.carriers.stellar_per_h,
+        MetallicityReference::Star => *model.stellar_per_h(),
         MetallicityReference::Sun => solar_per_h(model),
     };
     let feeding_zone_gas_g: Vec<f64> = match settings.planet_mass_mjup {
@@ -1317,7 +1311,7 @@ pub fn chi_square_map(
             };
             let (c, o) = (per_h(Element::C), per_h(Element::O));
             let (ci, oi) = (Element::C as usize, Element::O as usize);
-            row.c_to_o = defined_ratio(c, o, model.carriers.stellar_per_h[oi]);
+            row.c_to_o = defined_ratio(c, o, model.stellar_per_h()[oi]);
             row.c_to_h_dex = dex(c, reference_per_h[ci]);
             row.o_to_h_dex = dex(o, reference_per_h[oi]);
             let volatile = [Element::C, Element::O, Element::N, Element::S];
@@ -1417,9 +1411,10 @@ pub fn chi_square_map(
             }
         }
     }
-    let ln_edge = ln(model.parameters.disk.outer_radius_au / model.parameters.disk.inner_radius_au);
+    let ln_edge =
+        ln(model.parameters().disk.outer_radius_au / model.parameters().disk.inner_radius_au);
     let cell_edges_au: Vec<f64> = (0..=n_r)
-        .map(|j| model.parameters.disk.inner_radius_au * exp(ln_edge * j as f64 / n_r as f64))
+        .map(|j| model.parameters().disk.inner_radius_au * exp(ln_edge * j as f64 / n_r as f64))
         .collect();
     let runs_of = |inside: &dyn Fn(usize) -> bool| -> Vec<RadiusInterval> {
         let mut out = Vec::new();
@@ -1923,7 +1918,7 @@ mod tests {
         // Internal consistency (docs/model.md section 9: the local state at r_p is the model at r_p).
         let m = small_model();
         for j in [0, 37, 100, 150, 199] {
-            let r = m.structure.radius_cm[j] / AU_CM;
+            let r = m.structure().radius_cm[j] / AU_CM;
             let a = AccretedPhases::at_grid_cell(&m, j).unwrap();
             let b = AccretedPhases::at(&m, r).unwrap();
             for e in 0..ELEMENT_COUNT {
@@ -2102,7 +2097,7 @@ mod tests {
     fn c_to_o_relative_to_the_star_and_zero_carbon() {
         let m = small_model();
         let env = planet(&m, &PlanetRequest::at(5.0, 0.02)).unwrap().envelope;
-        let star = m.carriers.stellar_per_h[0] / m.carriers.stellar_per_h[1];
+        let star = m.star_c_to_o();
         check_close(
             env.c_to_o_relative_to_star().unwrap(),
             env.c_to_o.unwrap() / star,

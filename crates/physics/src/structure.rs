@@ -604,7 +604,42 @@ pub struct Column {
     pub ionization_rate_s: Vec<f64>,
 }
 
+/// Every field of one sample of a [`Column`] (or of a structure's flat per-sample fields).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Sample {
+    /// Height [cm].
+    pub height_cm: f64,
+    /// Gas (= dust) temperature [K].
+    pub temperature_k: f64,
+    /// Gas mass density [g cm^-3].
+    pub density_g_cm3: f64,
+    /// H nuclei per cm^3.
+    pub hydrogen_density_cm3: f64,
+    /// Gas column above the point, one side [g cm^-2].
+    pub column_above_g_cm2: f64,
+    /// Visual extinction from above [mag].
+    pub visual_extinction_mag: f64,
+    /// FUV photon flux [photons cm^-2 s^-1].
+    pub fuv_photon_flux_cm2_s: f64,
+    /// Cosmic-ray ionisation rate [s^-1].
+    pub ionization_rate_s: f64,
+}
+
 impl Column {
+    /// Every field of sample `k`.
+    pub fn sample(&self, k: usize) -> Sample {
+        Sample {
+            height_cm: self.height_cm[k],
+            temperature_k: self.temperature_k[k],
+            density_g_cm3: self.density_g_cm3[k],
+            hydrogen_density_cm3: self.hydrogen_density_cm3[k],
+            column_above_g_cm2: self.column_above_g_cm2[k],
+            visual_extinction_mag: self.visual_extinction_mag[k],
+            fuv_photon_flux_cm2_s: self.fuv_photon_flux_cm2_s[k],
+            ionization_rate_s: self.ionization_rate_s[k],
+        }
+    }
+
     /// An empty column with room for `n` samples.
     pub fn with_capacity(n: usize) -> Column {
         Column {
@@ -896,10 +931,13 @@ pub struct DiskStructure {
     /// Furthest extent of the soot line in the hot early phase [cm] (irreversible
     /// soot line only; `None` when reversible or never reached).
     pub early_soot_line_radius_cm: Option<f64>,
+    /// Whether the surface density was given ([`DiskStructure::from_surface_density`]).
+    given_surface_density: bool,
 }
 
 impl DiskStructure {
-    /// Compute the structure on the grid of `p`.
+    /// Compute the structure on the grid of `p`, with the surface density of its profile
+    /// ([`surface_density_g_cm2`], docs/model.md section 3).
     pub fn compute(p: &ModelParameters) -> Result<DiskStructure, PhysicsError> {
         let c = DiskConstants::new(p)?;
         let radii =
@@ -908,6 +946,69 @@ impl DiskStructure {
             .iter()
             .map(|&r| surface_density_g_cm2(&c, r))
             .collect();
+        DiskStructure::build(p, c, radii, sigma, false)
+    }
+
+    /// The structure for a GIVEN gas surface density `sigma_g_cm2[j]` at radii `radius_cm[j]`
+    /// (for example an evolved disk), everything else from `p`: the same midplane temperatures,
+    /// grazing angles and hydrostatic columns as [`DiskStructure::compute`] (docs/model.md
+    /// sections 4-6), which is this constructor applied to the profile of section 3.
+    ///
+    /// Errors (`OutOfRange`, field `radius_cm` or `sigma_g_cm2`): fewer than two
+    /// radii, lengths that differ, radii not finite, positive and strictly increasing, or a
+    /// surface density not finite and positive; and those of [`DiskConstants::new`] and
+    /// [`flaring_solution`]. The early soot line (irreversible soot line) is found on these radii
+    /// with the early phase of `p`'s own profile.
+    pub fn from_surface_density(
+        p: &ModelParameters,
+        radius_cm: &[f64],
+        sigma_g_cm2: &[f64],
+    ) -> Result<DiskStructure, PhysicsError> {
+        if radius_cm.len() < 2 {
+            return Err(PhysicsError::OutOfRange {
+                name: "radius_cm",
+                value: radius_cm.len() as f64,
+                allowed: "at least 2 radii",
+            });
+        }
+        if sigma_g_cm2.len() != radius_cm.len() {
+            return Err(PhysicsError::OutOfRange {
+                name: "sigma_g_cm2",
+                value: sigma_g_cm2.len() as f64,
+                allowed: "one value per radius (as many as radius_cm)",
+            });
+        }
+        for (j, &r) in radius_cm.iter().enumerate() {
+            let increasing = j == 0 || r > radius_cm[j - 1];
+            if !(r.is_finite() && r > 0.0 && increasing) {
+                return Err(PhysicsError::OutOfRange {
+                    name: "radius_cm",
+                    value: r,
+                    allowed: "finite, > 0 and strictly increasing",
+                });
+            }
+        }
+        for &s in sigma_g_cm2 {
+            if !(s.is_finite() && s > 0.0) {
+                return Err(PhysicsError::OutOfRange {
+                    name: "sigma_g_cm2",
+                    value: s,
+                    allowed: "finite and > 0",
+                });
+            }
+        }
+        let c = DiskConstants::new(p)?;
+        DiskStructure::build(p, c, radius_cm.to_vec(), sigma_g_cm2.to_vec(), true)
+    }
+
+    /// The shared column code of both constructors.
+    fn build(
+        p: &ModelParameters,
+        c: DiskConstants,
+        radii: Vec<f64>,
+        sigma: Vec<f64>,
+        given_surface_density: bool,
+    ) -> Result<DiskStructure, PhysicsError> {
         let (phi, mid) = flaring_solution(&c, p.disk.self_consistent_flaring, &radii, &sigma)?;
         let samples_per_column = p.grid.vertical_cells + 1;
         let total = radii.len() * samples_per_column;
@@ -929,6 +1030,7 @@ impl DiskStructure {
             SootLine::Reversible => None,
         };
         Ok(DiskStructure {
+            given_surface_density,
             early_soot_line_radius_cm,
             constants: c,
             radial_cells: radii.len(),
@@ -949,10 +1051,51 @@ impl DiskStructure {
         j * self.samples_per_column + s
     }
 
+    /// Every per-sample field of sample `s` (0 = midplane) of radial cell `j`.
+    pub fn sample(&self, j: usize, s: usize) -> Sample {
+        self.samples.sample(self.index(j, s))
+    }
+
     /// Grazing angle at an arbitrary radius, interpolated linearly in ln r
     /// between cell centres (constant beyond the outermost centres).
     pub fn flaring_angle_at(&self, radius_cm: f64) -> f64 {
         interpolate_in_ln_r(&self.radius_cm, &self.flaring_angle, radius_cm)
+    }
+
+    /// Gas surface density [g cm^-2] at an arbitrary radius: the profile of docs/model.md
+    /// section 3 for a computed structure; for one built from a given profile
+    /// ([`DiskStructure::from_surface_density`]) ln Sigma interpolated linearly in ln r between
+    /// the given radii (constant beyond them).
+    pub fn surface_density_at(&self, radius_cm: f64) -> f64 {
+        if !self.given_surface_density {
+            return surface_density_g_cm2(&self.constants, radius_cm);
+        }
+        let n = self.radius_cm.len();
+        let s = &self.surface_density_g_cm2;
+        if radius_cm <= self.radius_cm[0] {
+            return s[0];
+        }
+        if radius_cm >= self.radius_cm[n - 1] {
+            return s[n - 1];
+        }
+        let j = self.radius_cm.partition_point(|&r| r <= radius_cm) - 1;
+        let (r0, r1) = (self.radius_cm[j], self.radius_cm[j + 1]);
+        let t = (ln(radius_cm) - ln(r0)) / (ln(r1) - ln(r0));
+        exp(ln(s[j]) + t * (ln(s[j + 1]) - ln(s[j])))
+    }
+
+    /// One radius through the structure's stage functions: the midplane temperature
+    /// ([`midplane_temperature`], with the grazing angle of [`DiskStructure::flaring_angle_at`])
+    /// and the hydrostatic column ([`column`]) at `radius_cm`, with the surface density of
+    /// [`DiskStructure::surface_density_at`] (docs/model.md sections 3-6). At a cell centre of a
+    /// computed structure this is that cell's column.
+    pub fn column_at(&self, radius_cm: f64) -> Result<(MidplaneTemperature, Column), PhysicsError> {
+        let c = &self.constants;
+        let phi = self.flaring_angle_at(radius_cm);
+        let sigma = self.surface_density_at(radius_cm);
+        let mid = midplane_temperature(c, phi, radius_cm, sigma)?;
+        let col = column(c, radius_cm, sigma, mid.temperature_k, phi);
+        Ok((mid, col))
     }
 }
 

@@ -24,6 +24,7 @@ use nivalis_exports::planet::{
 use nivalis_exports::provenance::program_version;
 use nivalis_exports::{to_csv, Provenance};
 use nivalis_physics::anchor::{anchor_to_snowline, AnchorParameter, AnchorRequest};
+use nivalis_physics::composition::star_c_to_o;
 use nivalis_physics::params::Element;
 use nivalis_physics::planet::{
     chi_square_map, planet, ChiSquareMap, ConfidenceConvention, FormationPlace, MapSettings,
@@ -282,7 +283,7 @@ pub fn planet_view(p: &PlacedPlanet) -> Value {
                 .map(|s| s.key())
                 .collect::<Vec<_>>(),
         },
-        "star_c_to_o": finite(x[Element::C as usize] / x[Element::O as usize]),
+        "star_c_to_o": finite(star_c_to_o(x)),
     })
 }
 

@@ -165,7 +165,7 @@ impl Session {
                         // between the grid cells as the snowline radius itself is (a
                         // fresh column per snowline, `Model::midplane_at`, would cost
                         // several milliseconds per redraw for no visible difference).
-                        let st = &model.structure;
+                        let st = &model.structure();
                         let temperature = Some(interpolate_in_ln_r(&st.radius_cm, &st.midplane_temperature_k, line.radius_cm)).filter(|t| t.is_finite());
                         json!({
                             "radius_au": radius_au,
@@ -175,7 +175,7 @@ impl Session {
                         })
                     })
                     .collect();
-                let absent = model.carriers.species_per_h[s.index()] == 0.0;
+                let absent = !model.composition().is_present(s);
                 let everywhere = if absent {
                     "absent"
                 } else if inner_ice(s) >= 0.5 {
@@ -185,10 +185,10 @@ impl Session {
                 };
                 json!({
                     "species": s.key(),
-                    "formula": model.table.get(s).formula,
-                    "abundance_per_h": model.carriers.species_per_h[s.index()],
-                    "condensation_temperature_k": model.species[s.index()].condensation_temperature_k,
-                    "binding_energy_k": model.species[s.index()].binding_energy_k,
+                    "formula": model.species_table().get(s).formula,
+                    "abundance_per_h": model.carriers().species_per_h[s.index()],
+                    "condensation_temperature_k": model.species_properties()[s.index()].condensation_temperature_k,
+                    "binding_energy_k": model.species_properties()[s.index()].binding_energy_k,
                     "snowlines": lines,
                     "inner_edge": everywhere,
                 })
@@ -200,15 +200,14 @@ impl Session {
     /// A short summary the page shows beside the views.
     pub fn summary(&self) -> Option<Value> {
         let c = self.current.as_ref()?;
-        let st = &c.model.structure;
-        let x = &c.model.carriers.stellar_per_h;
+        let st = &c.model.structure();
         Some(json!({
             "radial_cells": st.radial_cells,
             "vertical_cells": st.samples_per_column - 1,
             "samples": c.model.sample_count(),
             "inner_radius_au": st.radius_cm.first().map(|r| r / AU_CM),
             "outer_radius_au": st.radius_cm.last().map(|r| r / AU_CM),
-            "star_c_to_o": x[0] / x[1],
+            "star_c_to_o": c.model.star_c_to_o(),
             "stellar_radius_au": st.constants.stellar_radius_cm / AU_CM,
             "name": c.file.name,
             "notes": c.file.notes,

@@ -62,7 +62,7 @@ const CASES: [Case; 6] = [
     Case {
         group: "ice_edit",
         grid: DEFAULT_GRID,
-        what: "sticking edit: full Model::run (no structure reuse yet)",
+        what: "sticking edit: Model::set_ices (ice balance only, structure reused)",
     },
 ];
 

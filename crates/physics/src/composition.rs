@@ -1,0 +1,114 @@
+//! The composition stage: the total (gas + ice) abundance per H nucleus of
+//! every volatile species and every refractory carrier, per radial cell
+//! (docs/model.md section 8).
+//!
+//! Today the totals are uniform in radius, built once from the star's elements
+//! by [`Carriers::new`]; the accessors already take the radial cell, so a
+//! radius-dependent composition (transport) changes this type, not its users.
+
+use crate::budget::{Carriers, PhaseAbundances};
+use crate::error::PhysicsError;
+use crate::params::{Element, ModelParameters, ELEMENT_COUNT};
+use crate::species::{Species, SpeciesTable, SPECIES_COUNT};
+use crate::star::stellar_abundances_per_h;
+use crate::structure::DiskStructure;
+
+/// The star's C/O: the number ratio x_C / x_O of its abundances per H (docs/model.md
+/// section 1). The one place it is derived.
+pub fn star_c_to_o(stellar_per_h: &[f64; ELEMENT_COUNT]) -> f64 {
+    stellar_per_h[Element::C as usize] / stellar_per_h[Element::O as usize]
+}
+
+/// Totals per radius of each volatile species and each refractory carrier.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Composition {
+    carriers: Carriers,
+    radial_cells: usize,
+}
+
+impl Composition {
+    /// The uniform composition of `parameters` on the radial grid of `structure`: the star's
+    /// elements divided among carriers ([`Carriers::new`], docs/model.md section 8), with the
+    /// refractory carbon released inside the early soot line of the structure (section 8,
+    /// irreversible soot line). Errors: those of [`Carriers::new`] (for example a star with more
+    /// carbon than the carbon carriers can hold), with the field they concern.
+    pub fn uniform(
+        parameters: &ModelParameters,
+        table: &SpeciesTable,
+        structure: &DiskStructure,
+    ) -> Result<Composition, PhysicsError> {
+        let mut carriers = Carriers::new(
+            stellar_abundances_per_h(&parameters.star),
+            &parameters.composition,
+            table,
+        )?;
+        carriers.carbon_released_within_cm = structure.early_soot_line_radius_cm.unwrap_or(0.0);
+        Ok(Composition {
+            carriers,
+            radial_cells: structure.radial_cells,
+        })
+    }
+
+    /// Number of radial cells the composition is defined on.
+    pub fn radial_cells(&self) -> usize {
+        self.radial_cells
+    }
+
+    /// The element carriers (uniform today: the same in every radial cell).
+    pub fn carriers(&self) -> &Carriers {
+        &self.carriers
+    }
+
+    /// The star's abundances per H (C, O, N, S, Si, Mg, Fe).
+    pub fn stellar_per_h(&self) -> &[f64; ELEMENT_COUNT] {
+        &self.carriers.stellar_per_h
+    }
+
+    /// The star's C/O (number ratio, [`star_c_to_o`]).
+    pub fn star_c_to_o(&self) -> f64 {
+        star_c_to_o(&self.carriers.stellar_per_h)
+    }
+
+    /// Total (gas + ice) abundance per H of `species` in radial cell `j`.
+    pub fn species_per_h(&self, species: Species, j: usize) -> f64 {
+        debug_assert!(j < self.radial_cells.max(1));
+        self.carriers.species_per_h[species.index()]
+    }
+
+    /// Totals per H of every volatile species in radial cell `j`, `Species::ALL` order.
+    pub fn species_per_h_in_cell(&self, j: usize) -> [f64; SPECIES_COUNT] {
+        debug_assert!(j < self.radial_cells.max(1));
+        self.carriers.species_per_h
+    }
+
+    /// Whether `species` is present anywhere in the disk (x > 0).
+    pub fn is_present(&self, species: Species) -> bool {
+        self.carriers.species_per_h[species.index()] > 0.0
+    }
+
+    /// Element abundances per H in each phase in radial cell `j` at radius `radius_cm` and
+    /// temperature `temperature_k`, with the ice fraction of species `i` given by `ice_fraction`
+    /// ([`Carriers::phases`], docs/model.md section 8).
+    pub fn phases(
+        &self,
+        j: usize,
+        temperature_k: f64,
+        radius_cm: f64,
+        ice_fraction: impl Fn(usize) -> f64,
+    ) -> PhaseAbundances {
+        debug_assert!(j < self.radial_cells.max(1));
+        self.carriers.phases(temperature_k, radius_cm, ice_fraction)
+    }
+
+    /// Solid (ice + refractory) mass per H nucleus [amu] in radial cell `j`
+    /// ([`Carriers::solid_mass_per_h_amu`]).
+    pub fn solid_mass_per_h_amu(
+        &self,
+        j: usize,
+        phases: &PhaseAbundances,
+        ice_fraction: impl Fn(usize) -> f64,
+    ) -> f64 {
+        debug_assert!(j < self.radial_cells.max(1));
+        self.carriers.solid_mass_per_h_amu(phases, ice_fraction)
+    }
+}
