@@ -31,7 +31,7 @@ const PA_PER_MMHG: f64 = 101_325.0 / 760.0;
 fn laboratory_pressure_pa(species: Species, t: f64) -> (f64, (f64, f64), &'static str) {
     match species {
         // Murphy & Koop 2005, Q. J. R. Meteorol. Soc. 131, 1539, eq. 7, hexagonal ice, T > 110 K
-        // (docs/check-values.md section 8, M; it reproduces the triple-point pressure 611.657 Pa at 273.16 K, checked below).
+        // (docs/check-values.md section 4c, M; it reproduces the triple-point pressure 611.657 Pa at 273.16 K, checked below).
         Species::H2O => (
             (9.550426 - 5723.265 / t + 3.53068 * t.ln() - 0.00728332 * t).exp(),
             (110.0, 273.16),
@@ -163,7 +163,7 @@ fn water_snowline_temperature_matches_the_ice_vapour_pressure() {
             "H2O at n_H = {n_h:e}: {ours:.2} K vs Murphy & Koop 2005 {lab:.2} K"
         );
     }
-    // docs/check-values.md section 8 (D): about 152 K at n_H = 4e13 cm^-3 with x = 1e-4 (computed with the total water
+    // docs/check-values.md section 4c (D): about 152 K at n_H = 4e13 cm^-3 with x = 1e-4 (computed with the total water
     // pressure x n_H k T); with the half-frozen partial pressure the same fit gives about 2.6 K less.
     // Tolerance 3 K (the row's "~").
     let lab_total = bisect(110.0, 273.0, |t| {

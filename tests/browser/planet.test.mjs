@@ -141,7 +141,7 @@ test("invalid planet input shows a message beside the field and no NaN", async (
   assert.equal(await page.textContent("#pp-planet-mix-problem"), "must be in [0, 1], got 1.5");
   await typePlanet(page, "fit.c_to_o", "0.8");
   await typePlanet(page, "fit.c_to_o_sigma", "-1");
-  assert.equal(await page.textContent("#pp-fit-c_to_o_sigma-problem"), "must be > 0 and finite, got -1");
+  assert.equal(await page.textContent("#pp-fit-c_to_o_sigma-problem"), "must be >= 1e-6 and finite, got -1");
   const text = await page.textContent("#planet-panel");
   assert.ok(!/NaN/.test(text), "the panel shows NaN");
   await typePlanet(page, "planet.mix", "1");
