@@ -65,6 +65,10 @@ enum FigureTheme {
     Dark,
 }
 
+/// Memory a per-cell map export takes per sample while it is written, besides the model
+/// (about 870 bytes per sample measured for `map --format json` at large grids; rounded up).
+const MAP_EXPORT_BYTES_PER_SAMPLE: usize = 900;
+
 /// Parse a figure view name such as `ice_map:CO` (the names live in `nivalis_charts::View`).
 pub fn parse_view(text: &str) -> Result<nivalis_charts::View, String> {
     nivalis_charts::View::from_key(text).map_err(|e| format!("--view: {e}"))
@@ -616,6 +620,23 @@ fn execute(args: Args) -> Result<(), Failure> {
         } => {
             let q = MapQuantity::parse(&quantity).map_err(|e| Failure::input(vec![e]))?;
             let file = read_disk(&disk)?;
+            // A per-cell export holds its rows as text besides the model: up to about 4x the
+            // model's own memory while it is written (measured ~870 B per sample for JSON).
+            // The reader bounds the model alone; refuse here what the export would not fit.
+            let g = &file.parameters.grid;
+            let samples = g.radial_cells * (g.vertical_cells + 1);
+            let per_sample =
+                nivalis_disk_files::MODEL_BYTES_PER_SAMPLE + MAP_EXPORT_BYTES_PER_SAMPLE;
+            if samples.saturating_mul(per_sample) > nivalis_disk_files::MAX_MODEL_BYTES {
+                return Err(Failure::input(vec![format!(
+                    "grid.radial_cells: a map of {} x {} cells ({samples} samples) needs about {} MiB to export, more than the {} MiB allowed; use a coarser grid (at most {} samples)",
+                    g.radial_cells,
+                    g.vertical_cells,
+                    samples.saturating_mul(per_sample) >> 20,
+                    nivalis_disk_files::MAX_MODEL_BYTES >> 20,
+                    nivalis_disk_files::MAX_MODEL_BYTES / per_sample
+                )]));
+            }
             let model = run_model(&file)?;
             let name = quantity.replace(':', "_");
             write_output(

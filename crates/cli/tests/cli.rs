@@ -1028,3 +1028,30 @@ fn bad_text_gets_a_clear_bounded_message() {
         lines[50]
     );
 }
+
+/// Issue 15 item 7: a map export of a grid the model fits but its per-cell text
+/// would not is refused up front, naming the grid and the estimate.
+#[test]
+fn a_map_too_large_to_export_is_refused_with_the_estimate() {
+    let path = temp_file(
+        "big-map.json",
+        r#"{"grid": {"radial_cells": 4096, "vertical_cells": 1024}}"#,
+    );
+    let out = nivalis(&[
+        "map",
+        path.to_str().unwrap(),
+        "--quantity",
+        "temperature_k",
+        "--format",
+        "json",
+    ]);
+    assert_eq!(out.status.code(), Some(2), "{}", stderr(&out));
+    assert!(
+        stderr(&out).contains(
+            "grid.radial_cells: a map of 4096 x 1024 cells (4198400 samples) needs about"
+        ),
+        "{}",
+        stderr(&out)
+    );
+    assert!(out.stdout.is_empty());
+}
