@@ -11,7 +11,6 @@
 use nivalis_charts::{draw_chi2_map, Chi2Data, Figure, Theme};
 use nivalis_disk_files::{from_value, to_value, DiskFile, Problem};
 use nivalis_exports::Provenance;
-use nivalis_physics::Species;
 use plotters::prelude::IntoDrawingArea;
 use serde::Serialize;
 use serde_json::{json, Value};

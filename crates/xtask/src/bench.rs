@@ -198,7 +198,7 @@ pub fn bench() -> Result<(), String> {
         &format!("ice edit / floor at {DEFAULT_GRID}"),
         find("ice_edit", DEFAULT_GRID),
         floor,
-        "full run today; the structure could be reused",
+        "the ice balance only (Model::set_ices, structure reused)",
     );
     let numpy = baseline.as_ref().map(|b| b.spread_ns);
     let native_large = find("model", LARGE_GRID);
