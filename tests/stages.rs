@@ -301,7 +301,7 @@ fn physics_side_checks_are_typed_errors_with_their_field() {
     let mut p = ModelParameters::defaults();
     p.star.offset_dex[0] = 0.5;
     let e = p.check_consistency().unwrap_err();
-    assert_eq!(e.field(), Some("composition"));
+    assert_eq!(e.path(), Some("composition"));
     assert!(e.detail().starts_with("oxygen runs out"), "{e}");
     assert_eq!(e.to_string(), format!("composition: {}", e.detail()));
     // An inner edge inside the star: R* = sqrt(L / (4 pi sigma T^4)) = 0.0093 au for 4 Lsun, 5772 K
@@ -311,7 +311,7 @@ fn physics_side_checks_are_typed_errors_with_their_field() {
     p.star.effective_temperature_k = 5772.0;
     p.disk.inner_radius_au = 0.009;
     let e = p.check_consistency().unwrap_err();
-    assert_eq!(e.field(), Some("disk.inner_radius_au"));
+    assert_eq!(e.path(), Some("disk.inner_radius_au"));
     assert_eq!(Model::run(&p).unwrap_err(), e);
 }
 

@@ -84,38 +84,6 @@ impl ProfileData {
         self
     }
 
-    /// Build from the planet module's inverse map (its rows are radius-major;
-    /// this transposes them), with its 1- and 2-sigma thresholds and best fit.
-    pub fn from_map(map: &nivalis_physics::planet::ChiSquareMap) -> Chi2Data {
-        let (n_r, n_q) = (map.radius_au.len(), map.solid_to_gas.len());
-        let mut chi2 = vec![f64::NAN; n_r * n_q];
-        for j in 0..n_r {
-            for k in 0..n_q {
-                // Infeasible places and places outside the priors are left blank (drawn as no data).
-                let row = &map.rows[j * n_q + k];
-                if let (Some(c), true) = (row.chi2, row.feasible && row.in_prior) {
-                    chi2[k * n_r + j] = c;
-                }
-            }
-        }
-        // No contours when no place is acceptable (docs/model.md section 9, goodness of fit).
-        let thresholds = if map.goodness.acceptable {
-            vec![
-                ("1σ".to_string(), map.thresholds.one_sigma),
-                ("2σ".to_string(), map.thresholds.two_sigma),
-            ]
-        } else {
-            Vec::new()
-        };
-        Chi2Data::new(
-            &map.radius_au,
-            &map.solid_to_gas,
-            &chi2,
-            &thresholds,
-            map.best.map(|b| (b.radius_au, b.solid_to_gas)),
-        )
-    }
-
     pub(crate) fn validate(&self) -> Result<(), ChartError> {
         check_increasing_positive("radius_au", &self.radius_au)?;
         let n = self.radius_au.len();
@@ -152,38 +120,6 @@ impl TemperatureData {
             accretion_temperature_k: wrap(&s.accretion_temperature_k),
             surface_density_g_cm2: wrap(&s.surface_density_g_cm2),
         }
-    }
-
-    /// Build from the planet module's inverse map (its rows are radius-major;
-    /// this transposes them), with its 1- and 2-sigma thresholds and best fit.
-    pub fn from_map(map: &nivalis_physics::planet::ChiSquareMap) -> Chi2Data {
-        let (n_r, n_q) = (map.radius_au.len(), map.solid_to_gas.len());
-        let mut chi2 = vec![f64::NAN; n_r * n_q];
-        for j in 0..n_r {
-            for k in 0..n_q {
-                // Infeasible places and places outside the priors are left blank (drawn as no data).
-                let row = &map.rows[j * n_q + k];
-                if let (Some(c), true) = (row.chi2, row.feasible && row.in_prior) {
-                    chi2[k * n_r + j] = c;
-                }
-            }
-        }
-        // No contours when no place is acceptable (docs/model.md section 9, goodness of fit).
-        let thresholds = if map.goodness.acceptable {
-            vec![
-                ("1σ".to_string(), map.thresholds.one_sigma),
-                ("2σ".to_string(), map.thresholds.two_sigma),
-            ]
-        } else {
-            Vec::new()
-        };
-        Chi2Data::new(
-            &map.radius_au,
-            &map.solid_to_gas,
-            &chi2,
-            &thresholds,
-            map.best.map(|b| (b.radius_au, b.solid_to_gas)),
-        )
     }
 
     pub(crate) fn validate(&self) -> Result<(), ChartError> {
@@ -250,38 +186,6 @@ impl AbundanceData {
             radius_au: s.radius_cm.iter().map(|r| r / AU_CM).collect(),
             species,
         }
-    }
-
-    /// Build from the planet module's inverse map (its rows are radius-major;
-    /// this transposes them), with its 1- and 2-sigma thresholds and best fit.
-    pub fn from_map(map: &nivalis_physics::planet::ChiSquareMap) -> Chi2Data {
-        let (n_r, n_q) = (map.radius_au.len(), map.solid_to_gas.len());
-        let mut chi2 = vec![f64::NAN; n_r * n_q];
-        for j in 0..n_r {
-            for k in 0..n_q {
-                // Infeasible places and places outside the priors are left blank (drawn as no data).
-                let row = &map.rows[j * n_q + k];
-                if let (Some(c), true) = (row.chi2, row.feasible && row.in_prior) {
-                    chi2[k * n_r + j] = c;
-                }
-            }
-        }
-        // No contours when no place is acceptable (docs/model.md section 9, goodness of fit).
-        let thresholds = if map.goodness.acceptable {
-            vec![
-                ("1σ".to_string(), map.thresholds.one_sigma),
-                ("2σ".to_string(), map.thresholds.two_sigma),
-            ]
-        } else {
-            Vec::new()
-        };
-        Chi2Data::new(
-            &map.radius_au,
-            &map.solid_to_gas,
-            &chi2,
-            &thresholds,
-            map.best.map(|b| (b.radius_au, b.solid_to_gas)),
-        )
     }
 
     pub(crate) fn validate(&self) -> Result<(), ChartError> {

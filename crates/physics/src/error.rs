@@ -148,11 +148,6 @@ impl PhysicsError {
         }
     }
 
-    /// The same as [`PhysicsError::path`], under the name the staged core's callers use.
-    pub fn field(&self) -> Option<&str> {
-        self.path()
-    }
-
     /// The offending value as short text, when the error has one.
     pub fn value(&self) -> Option<String> {
         match self {
@@ -292,7 +287,7 @@ mod tests {
             ),
         ];
         for (e, field, message) in cases {
-            assert_eq!(e.field(), field);
+            assert_eq!(e.path(), field);
             assert_eq!(e.to_string(), message);
             let expected_detail = match field {
                 Some(f) => message.strip_prefix(&format!("{f}: ")).unwrap().to_string(),

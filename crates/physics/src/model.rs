@@ -433,7 +433,7 @@ impl Model {
 
 impl ModelParameters {
     /// The checks on validated inputs that need the physics, as typed errors carrying the field
-    /// ([`PhysicsError::field`]): the inner edge outside the star and edges that hold some of the
+    /// ([`PhysicsError::path`]): the inner edge outside the star and edges that hold some of the
     /// surface-density profile ([`crate::structure::DiskConstants::new`]), and a composition whose
     /// carriers the star's elements can fill ([`Carriers::new`], docs/model.md section 8). The
     /// disk-file reader runs them after mapping JSON onto the parameters; `Model::run` meets the
