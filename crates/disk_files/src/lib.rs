@@ -13,12 +13,23 @@
 //! let bad = nivalis_disk_files::parse_disk_json(r#"{"disk": {"gass_mass_msun": 1}}"#).unwrap_err();
 //! assert_eq!(bad.to_string(), "disk.gass_mass_msun: unknown field; did you mean gas_mass_msun?");
 //! ```
+//!
+//! Every field is one entry of the table in [`fields`] (path, unit, range
+//! with its reason, default with its source, label, slider); the reader, the
+//! writer's tests, the page's controls and the docs' tests all use it. Tools
+//! working on dotted paths use [`field_by_path`], [`suggest_path`] and
+//! [`apply_setting`].
 
+pub mod fields;
 pub mod fragment;
 mod json;
 mod reader;
 mod writer;
 
+pub use fields::{
+    apply_setting, field_by_path, fields, fields_json, get_at_path, parse_value_text, set_at_path,
+    suggest_path, unknown_path, Field, Kind, Range, Slider,
+};
 pub use json::{
     cap_problems, parse_json_text, MAX_DISK_FILE_BYTES, MAX_LISTED_PROBLEMS, MAX_NESTING_DEPTH,
 };

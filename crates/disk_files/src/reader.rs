@@ -1,8 +1,8 @@
 //! The validating reader: walks the JSON tree once, collecting every problem.
 
+use crate::fields::{children, closest, field_by_path, fields, Field, Range};
 use crate::{shorten, DiskFile, Problem, Problems, SCHEMA};
 use nivalis_physics::budget::Carriers;
-use nivalis_physics::error::num;
 use nivalis_physics::params::{
     default_flaring_angle, AbundanceReference, CarbonFractions, DesorptionModel, EarlyPhase,
     Element, GasMassMeaning, InitialIceState, NitrogenFractions, Opacity, SootLine,
@@ -35,44 +35,6 @@ pub fn from_value(value: &Value) -> Result<DiskFile, Problems> {
     }
 }
 
-/// An allowed range of a real number.
-#[derive(Clone, Copy)]
-#[allow(dead_code)] // `Positive` and `NonNegative` are for fields without a physical bound; every field has one today.
-enum Range {
-    /// x > 0.
-    Positive,
-    /// x >= 0.
-    NonNegative,
-    /// a <= x <= b.
-    Closed(f64, f64),
-    /// a < x <= b.
-    OpenClosed(f64, f64),
-    /// a <= x < b.
-    ClosedOpen(f64, f64),
-}
-
-impl Range {
-    fn contains(self, x: f64) -> bool {
-        x.is_finite()
-            && match self {
-                Range::Positive => x > 0.0,
-                Range::NonNegative => x >= 0.0,
-                Range::Closed(a, b) => x >= a && x <= b,
-                Range::OpenClosed(a, b) => x > a && x <= b,
-                Range::ClosedOpen(a, b) => x >= a && x < b,
-            }
-    }
-    fn describe(self) -> String {
-        match self {
-            Range::Positive => "> 0 and finite".into(),
-            Range::NonNegative => ">= 0 and finite".into(),
-            Range::Closed(a, b) => format!("in [{}, {}]", num(a), num(b)),
-            Range::OpenClosed(a, b) => format!("in ({}, {}]", num(a), num(b)),
-            Range::ClosedOpen(a, b) => format!("in [{}, {})", num(a), num(b)),
-        }
-    }
-}
-
 struct Reader {
     problems: Vec<Problem>,
     warnings: Vec<Problem>,
@@ -88,34 +50,34 @@ fn join(path: &str, key: &str) -> String {
     }
 }
 
-/// Levenshtein distance, for did-you-mean suggestions.
-fn edit_distance(a: &str, b: &str) -> usize {
-    let b: Vec<char> = b.chars().collect();
-    let mut prev: Vec<usize> = (0..=b.len()).collect();
-    for (i, ca) in a.chars().enumerate() {
-        let mut cur = vec![i + 1; b.len() + 1];
-        for (j, cb) in b.iter().enumerate() {
-            cur[j + 1] = (prev[j] + usize::from(ca != *cb))
-                .min(prev[j + 1] + 1)
-                .min(cur[j] + 1);
-        }
-        prev = cur;
-    }
-    prev[b.len()]
+/// The closest known key (did-you-mean), as [`crate::fields`] finds it.
+fn suggestion(key: &str, known: &[&str]) -> Option<String> {
+    closest(key, known.iter().copied()).map(str::to_string)
 }
 
-fn suggestion(key: &str, known: &[&str]) -> Option<String> {
-    // A key far longer than any field name suggests nothing (and costs no quadratic edit distance).
-    if key.len() > 2 * crate::MAX_SHOWN_CHARS {
-        return None;
-    }
-    let lower = key.to_lowercase();
-    known
-        .iter()
-        .map(|k| (edit_distance(&lower, &k.to_lowercase()), *k))
-        .filter(|(d, k)| *d <= (k.len() / 3).max(2))
-        .min()
-        .map(|(_, k)| k.to_string())
+/// The field of the table at `path`. Every path the reader asks for is in the
+/// table (the reader's tests read every one); an unknown one would be a bug,
+/// caught in debug builds, and falls back to "> 0" rather than panicking.
+fn spec(path: &str) -> &'static Field {
+    static FALLBACK: std::sync::OnceLock<Field> = std::sync::OnceLock::new();
+    field_by_path(path).unwrap_or_else(|| {
+        debug_assert!(false, "{path} is not in the field table");
+        FALLBACK.get_or_init(|| fields()[0].clone())
+    })
+}
+
+fn range_of(path: &str) -> Range {
+    spec(path).range.unwrap_or(Range::Positive)
+}
+
+/// The keys of the object at `path`, from the table, in order.
+fn keys_of(path: &str) -> Vec<&'static str> {
+    children(path).map(Field::key).collect()
+}
+
+/// The choices of the field at `path`, from the table.
+fn options_of(path: &str) -> Vec<&'static str> {
+    spec(path).options.iter().map(|(k, _)| k.as_str()).collect()
 }
 
 fn show(v: &Value) -> String {
@@ -157,11 +119,11 @@ impl Reader {
         &mut self,
         value: Option<&'v Value>,
         path: &str,
-        known: &[&str],
     ) -> Option<&'v Map<String, Value>> {
         match value {
             None => None,
             Some(Value::Object(map)) => {
+                let known = &keys_of(path);
                 for key in map.keys() {
                     if !known.contains(&key.as_str()) {
                         let msg = match suggestion(key, known) {
@@ -195,12 +157,12 @@ impl Reader {
         path: &str,
         key: &str,
         default: f64,
-        range: Range,
     ) -> f64 {
         let Some(v) = map.and_then(|m| m.get(key)) else {
             return default;
         };
         let p = join(path, key);
+        let range = range_of(&p);
         match v.as_f64() {
             Some(x) if v.is_number() => {
                 if range.contains(x) {
@@ -233,13 +195,15 @@ impl Reader {
         path: &str,
         key: &str,
         default: usize,
-        lo: usize,
-        hi: usize,
     ) -> usize {
         let Some(v) = map.and_then(|m| m.get(key)) else {
             return default;
         };
         let p = join(path, key);
+        let (lo, hi) = match range_of(&p) {
+            Range::Closed(a, b) => (a as usize, b as usize),
+            _ => (0, usize::MAX),
+        };
         let as_int = v.as_f64().filter(|x| x.fract() == 0.0 && x.is_finite());
         match as_int {
             Some(x) if x >= lo as f64 && x <= hi as f64 => x as usize,
@@ -296,15 +260,10 @@ impl Reader {
     }
 
     /// A string that must be one of `choices`; returns the index.
-    fn choice(
-        &mut self,
-        map: Option<&Map<String, Value>>,
-        path: &str,
-        key: &str,
-        choices: &[&str],
-    ) -> Option<usize> {
+    fn choice(&mut self, map: Option<&Map<String, Value>>, path: &str, key: &str) -> Option<usize> {
         let v = map.and_then(|m| m.get(key))?;
         let p = join(path, key);
+        let choices = &options_of(&p);
         match v {
             Value::String(s) => match choices.iter().position(|c| c == s) {
                 Some(i) => Some(i),
@@ -343,16 +302,18 @@ impl Reader {
         map: Option<&Map<String, Value>>,
         path: &str,
         key: &str,
-        keys: [&str; N],
         default: [f64; N],
     ) -> [f64; N] {
         let p = join(path, key);
-        let Some(group) = self.object(map.and_then(|m| m.get(key)), &p, &keys) else {
+        // The group's keys, in the table's order (the order of `default`).
+        let keys = keys_of(&p);
+        debug_assert_eq!(keys.len(), N, "{p}");
+        let Some(group) = self.object(map.and_then(|m| m.get(key)), &p) else {
             return default;
         };
         let mut out = [0.0; N];
-        for (i, k) in keys.iter().enumerate() {
-            out[i] = self.real(Some(group), &p, k, 0.0, Range::Closed(0.0, 1.0));
+        for (slot, k) in out.iter_mut().zip(&keys) {
+            *slot = self.real(Some(group), &p, k, 0.0);
         }
         let sum: f64 = out.iter().sum();
         if (sum - 1.0).abs() > 1e-6 {
@@ -377,20 +338,7 @@ impl Reader {
 
     fn file(&mut self, root: &Value) -> DiskFile {
         let mut f = DiskFile::defaults();
-        let top = self.object(
-            Some(root),
-            "",
-            &[
-                "schema",
-                "name",
-                "notes",
-                "star",
-                "disk",
-                "ices",
-                "composition",
-                "grid",
-            ],
-        );
+        let top = self.object(Some(root), "");
         if let Some(schema) = self.text(top, "", "schema") {
             if schema != SCHEMA {
                 self.problems.push(
@@ -410,106 +358,35 @@ impl Reader {
         let errors_before_star = self.problems.len();
 
         // Star.
-        let star = self.object(
-            top.and_then(|m| m.get("star")),
-            "star",
-            &[
-                "mass_msun",
-                "luminosity_lsun",
-                "effective_temperature_k",
-                "fuv_1au_habing",
-                "abundances",
-            ],
-        );
-        p.star.mass_msun = self.real(
-            star,
-            "star",
-            "mass_msun",
-            d.star.mass_msun,
-            Range::Closed(0.01, 150.0),
-        ); // disks are seen around substellar hosts down to ~0.01 Msun; ~150 Msun is the observed upper stellar mass (M, from memory)
-        p.star.luminosity_lsun = self.real(
-            star,
-            "star",
-            "luminosity_lsun",
-            d.star.luminosity_lsun,
-            Range::Closed(1e-5, 1e7), // faintest brown-dwarf hosts (~1e-5 Lsun) to beyond the most luminous stars (~5e6 Lsun) (M)
-        );
+        let star = self.object(top.and_then(|m| m.get("star")), "star");
+        p.star.mass_msun = self.real(star, "star", "mass_msun", d.star.mass_msun);
+        p.star.luminosity_lsun = self.real(star, "star", "luminosity_lsun", d.star.luminosity_lsun);
         p.star.effective_temperature_k = self.real(
             star,
             "star",
             "effective_temperature_k",
             d.star.effective_temperature_k,
-            Range::Closed(2000.0, 50000.0),
         );
-        p.star.fuv_1au_habing = self.real(
-            star,
-            "star",
-            "fuv_1au_habing",
-            d.star.fuv_1au_habing,
-            Range::Closed(0.0, 1e15), // a 1e6 Lsun O star gives ~4e14 G0 at 1 au (D: half of L in the FUV / (4 pi au^2) / 1.6e-3 erg cm-2 s-1)
-        );
-        let ab = self.object(
-            star.and_then(|m| m.get("abundances")),
-            "star.abundances",
-            &["reference", "offset_dex"],
-        );
-        if let Some(i) = self.choice(
-            ab,
-            "star.abundances",
-            "reference",
-            &["asplund2009", "asplund2021"],
-        ) {
+        p.star.fuv_1au_habing = self.real(star, "star", "fuv_1au_habing", d.star.fuv_1au_habing);
+        let ab = self.object(star.and_then(|m| m.get("abundances")), "star.abundances");
+        if let Some(i) = self.choice(ab, "star.abundances", "reference") {
             p.star.abundance_reference = [
                 AbundanceReference::Asplund2009,
                 AbundanceReference::Asplund2021,
             ][i];
         }
-        let symbols: Vec<&str> = Element::ALL.iter().map(|e| e.symbol()).collect();
         let offsets = self.object(
             ab.and_then(|m| m.get("offset_dex")),
             "star.abundances.offset_dex",
-            &symbols,
         );
         for (i, e) in Element::ALL.iter().enumerate() {
-            p.star.offset_dex[i] = self.real(
-                offsets,
-                "star.abundances.offset_dex",
-                e.symbol(),
-                0.0,
-                Range::Closed(-2.0, 2.0),
-            );
+            p.star.offset_dex[i] =
+                self.real(offsets, "star.abundances.offset_dex", e.symbol(), 0.0);
         }
         let star_ok = self.problems.len() == errors_before_star;
 
         // Disk.
-        let disk = self.object(
-            top.and_then(|m| m.get("disk")),
-            "disk",
-            &[
-                "gas_mass_msun",
-                "characteristic_radius_au",
-                "surface_density_index",
-                "inner_radius_au",
-                "outer_radius_au",
-                "accretion_rate_msun_per_yr",
-                "flaring_angle",
-                "self_consistent_flaring",
-                "opacity",
-                "vertical_temperature",
-                "background_temperature_k",
-                "dust_to_gas",
-                "grain_radius_um",
-                "grain_density_g_cm3",
-                "cosmic_ray_rate_s",
-                "interstellar_fuv_habing",
-                "age_myr",
-                "midplane_temperature_scale",
-                "gas_mass_profile_total_msun",
-                "temperature",
-                "early_phase",
-            ],
-        );
+        let disk = self.object(top.and_then(|m| m.get("disk")), "disk");
         let dd = &d.disk;
         let q = &mut p.disk;
         let before_mass = self.problems.len();
@@ -526,8 +403,7 @@ impl Reader {
                 disk,
                 "disk",
                 "gas_mass_profile_total_msun",
-                dd.gas_mass_msun,
-                Range::OpenClosed(0.0, 150.0), // and <= the star's mass (checked below)
+                dd.gas_mass_msun, // and <= the star's mass (checked below)
             );
             q.gas_mass_meaning = GasMassMeaning::ProfileTotal;
         } else {
@@ -535,8 +411,7 @@ impl Reader {
                 disk,
                 "disk",
                 "gas_mass_msun",
-                dd.gas_mass_msun,
-                Range::OpenClosed(0.0, 150.0), // and <= the star's mass (checked below)
+                dd.gas_mass_msun, // and <= the star's mass (checked below)
             );
             q.gas_mass_meaning = GasMassMeaning::BetweenEdges;
         }
@@ -545,14 +420,12 @@ impl Reader {
             "disk",
             "characteristic_radius_au",
             dd.characteristic_radius_au,
-            Range::Closed(0.01, 1e4), // observed R_c are 1-300 au (M); 1e4 au (0.05 pc) is the size of a cloud core, not a disk
         );
         q.surface_density_index = self.real(
             disk,
             "disk",
             "surface_density_index",
             dd.surface_density_index,
-            Range::ClosedOpen(-2.0, 2.0),
         );
         if star_ok && q.gas_mass_msun > p.star.mass_msun {
             // A disk heavier than its star is gravitationally unstable long before (Toomre Q << 1) and is no longer
@@ -570,20 +443,8 @@ impl Reader {
             );
         }
         let before_radii = self.problems.len();
-        q.inner_radius_au = self.real(
-            disk,
-            "disk",
-            "inner_radius_au",
-            dd.inner_radius_au,
-            Range::OpenClosed(0.0, 1e3), // and > the stellar radius (checked below); transition-disk holes reach ~100 au (M)
-        );
-        q.outer_radius_au = self.real(
-            disk,
-            "disk",
-            "outer_radius_au",
-            dd.outer_radius_au,
-            Range::OpenClosed(0.0, 1e4), // the largest disks are ~1000 au (M); 1e4 au is a cloud core
-        );
+        q.inner_radius_au = self.real(disk, "disk", "inner_radius_au", dd.inner_radius_au);
+        q.outer_radius_au = self.real(disk, "disk", "outer_radius_au", dd.outer_radius_au);
         if self.problems.len() == before_radii && q.inner_radius_au >= q.outer_radius_au {
             self.problems.push(
                 Problem::new(
@@ -654,14 +515,12 @@ impl Reader {
             "disk",
             "accretion_rate_msun_per_yr",
             dd.accretion_rate_msun_per_yr,
-            Range::Closed(0.0, 1e-3), // FU Orionis outbursts peak near 1e-4 Msun/yr (Hartmann & Kenyon 1996, M); at 1e-3 a solar-mass star doubles within 1000 yr
         );
         q.flaring_angle = self.real(
             disk,
             "disk",
             "flaring_angle",
             default_flaring_angle(p.star.luminosity_lsun),
-            Range::OpenClosed(0.0, 1.0),
         );
         q.self_consistent_flaring = self.boolean(
             disk,
@@ -669,11 +528,7 @@ impl Reader {
             "self_consistent_flaring",
             dd.self_consistent_flaring,
         );
-        let opacity = self.object(
-            disk.and_then(|m| m.get("opacity")),
-            "disk.opacity",
-            &["kind", "rosseland_cm2_per_g"],
-        );
+        let opacity = self.object(disk.and_then(|m| m.get("opacity")), "disk.opacity");
         let kappa_default = match dd.opacity {
             Opacity::Constant {
                 rosseland_cm2_per_g,
@@ -685,14 +540,8 @@ impl Reader {
             "disk.opacity",
             "rosseland_cm2_per_g",
             kappa_default,
-            Range::Closed(1e-5, 1e5), // dust-free gas ~1e-4-1e-3 to the largest dust opacities ~1e4 cm2/g (M); kappa = 1e300 gave T ~ 1e76 K
         );
-        q.opacity = match self.choice(
-            opacity,
-            "disk.opacity",
-            "kind",
-            &["constant", "bell_lin_1994"],
-        ) {
+        q.opacity = match self.choice(opacity, "disk.opacity", "kind") {
             Some(1) => Opacity::BellLin1994,
             _ => Opacity::Constant {
                 rosseland_cm2_per_g: kappa,
@@ -701,7 +550,6 @@ impl Reader {
         let vt = self.object(
             disk.and_then(|m| m.get("vertical_temperature")),
             "disk.vertical_temperature",
-            &["kind", "superheating", "transition_scale_heights", "delta"],
         );
         let (s0, z0, d0) = match dd.vertical_temperature {
             VerticalTemperature::TwoLayer {
@@ -712,16 +560,10 @@ impl Reader {
             VerticalTemperature::Isothermal => (1.5, 4.0, 2.0),
         };
         let vp = "disk.vertical_temperature";
-        let superheating = self.real(vt, vp, "superheating", s0, Range::Closed(0.1, 10.0));
-        let transition = self.real(
-            vt,
-            vp,
-            "transition_scale_heights",
-            z0,
-            Range::OpenClosed(0.0, 20.0),
-        );
-        let delta = self.real(vt, vp, "delta", d0, Range::OpenClosed(0.0, 10.0));
-        q.vertical_temperature = match self.choice(vt, vp, "kind", &["isothermal", "two_layer"]) {
+        let superheating = self.real(vt, vp, "superheating", s0);
+        let transition = self.real(vt, vp, "transition_scale_heights", z0);
+        let delta = self.real(vt, vp, "delta", d0);
+        q.vertical_temperature = match self.choice(vt, vp, "kind") {
             Some(0) => VerticalTemperature::Isothermal,
             _ => VerticalTemperature::TwoLayer {
                 superheating,
@@ -729,19 +571,9 @@ impl Reader {
                 delta,
             },
         };
-        let tl = self.object(
-            disk.and_then(|m| m.get("temperature")),
-            "disk.temperature",
-            &[
-                "kind",
-                "midplane_1au_k",
-                "midplane_index",
-                "atmosphere_1au_k",
-                "atmosphere_index",
-            ],
-        );
+        let tl = self.object(disk.and_then(|m| m.get("temperature")), "disk.temperature");
         let tp = "disk.temperature";
-        let kind = self.choice(tl, tp, "kind", &["energy_balance", "power_law"]);
+        let kind = self.choice(tl, tp, "kind");
         let power_keys = [
             "midplane_1au_k",
             "midplane_index",
@@ -757,26 +589,14 @@ impl Reader {
                     );
                 }
             }
-            let t1 = self.real(
-                tl,
-                tp,
-                "midplane_1au_k",
-                100.0,
-                Range::OpenClosed(0.0, 1.0e4),
-            );
-            let q1 = self.real(tl, tp, "midplane_index", 0.5, Range::Closed(-1.0, 3.0));
+            let t1 = self.real(tl, tp, "midplane_1au_k", 100.0);
+            let q1 = self.real(tl, tp, "midplane_index", 0.5);
             let has_atm = tl.is_some_and(|m| {
                 m.contains_key("atmosphere_1au_k") || m.contains_key("atmosphere_index")
             });
             let atmosphere = if has_atm {
-                let ta = self.real(
-                    tl,
-                    tp,
-                    "atmosphere_1au_k",
-                    t1,
-                    Range::OpenClosed(0.0, 1.0e4),
-                );
-                let qa = self.real(tl, tp, "atmosphere_index", q1, Range::Closed(-1.0, 3.0));
+                let ta = self.real(tl, tp, "atmosphere_1au_k", t1);
+                let qa = self.real(tl, tp, "atmosphere_index", q1);
                 Some((ta, qa))
             } else {
                 None
@@ -803,15 +623,7 @@ impl Reader {
             }
             q.temperature = TemperatureLaw::EnergyBalance;
         }
-        let ep = self.object(
-            disk.and_then(|m| m.get("early_phase")),
-            "disk.early_phase",
-            &[
-                "accretion_rate_msun_per_yr",
-                "luminosity_lsun",
-                "surface_density_scale",
-            ],
-        );
+        let ep = self.object(disk.and_then(|m| m.get("early_phase")), "disk.early_phase");
         let epp = "disk.early_phase";
         // Up to 1e-3 Msun/yr: above FU Orionis outbursts (about 1e-4, Hartmann & Kenyon 1996; from memory).
         let mdot_early = self.real(
@@ -819,7 +631,6 @@ impl Reader {
             epp,
             "accretion_rate_msun_per_yr",
             dd.early_phase.accretion_rate_msun_per_yr,
-            Range::Closed(0.0, 1.0e-3),
         );
         let early_defaults = EarlyPhase::defaults_for(
             if star_ok { &p.star } else { &d.star },
@@ -828,19 +639,12 @@ impl Reader {
         );
         q.early_phase = EarlyPhase {
             accretion_rate_msun_per_yr: mdot_early,
-            luminosity_lsun: self.real(
-                ep,
-                epp,
-                "luminosity_lsun",
-                early_defaults.luminosity_lsun,
-                Range::Positive,
-            ),
+            luminosity_lsun: self.real(ep, epp, "luminosity_lsun", early_defaults.luminosity_lsun),
             surface_density_scale: self.real(
                 ep,
                 epp,
                 "surface_density_scale",
                 early_defaults.surface_density_scale,
-                Range::Closed(1e-3, 1e4),
             ),
         };
         q.background_temperature_k = self.real(
@@ -848,91 +652,36 @@ impl Reader {
             "disk",
             "background_temperature_k",
             dd.background_temperature_k,
-            Range::Closed(0.0, 1.0e4),
         );
-        q.dust_to_gas = self.real(
-            disk,
-            "disk",
-            "dust_to_gas",
-            dd.dust_to_gas,
-            Range::OpenClosed(0.0, 1.0),
-        );
-        q.grain_radius_um = self.real(
-            disk,
-            "disk",
-            "grain_radius_um",
-            dd.grain_radius_um,
-            Range::Closed(1e-3, 1e5), // 1 nm (the smallest grains) to 10 cm pebbles (C)
-        );
-        q.grain_density_g_cm3 = self.real(
-            disk,
-            "disk",
-            "grain_density_g_cm3",
-            dd.grain_density_g_cm3,
-            Range::Closed(0.01, 10.0), // fluffy aggregates (~0.01-0.1) to iron (7.87 g/cm3, CRC Handbook) (C)
-        );
-        q.cosmic_ray_rate_s = self.real(
-            disk,
-            "disk",
-            "cosmic_ray_rate_s",
-            dd.cosmic_ray_rate_s,
-            Range::Closed(0.0, 1e-12), // Galactic 1e-17-1e-16 s-1, near strong sources ~1e-14 (M); 1e-12 bounds it
-        );
+        q.dust_to_gas = self.real(disk, "disk", "dust_to_gas", dd.dust_to_gas);
+        q.grain_radius_um = self.real(disk, "disk", "grain_radius_um", dd.grain_radius_um);
+        q.grain_density_g_cm3 =
+            self.real(disk, "disk", "grain_density_g_cm3", dd.grain_density_g_cm3);
+        q.cosmic_ray_rate_s = self.real(disk, "disk", "cosmic_ray_rate_s", dd.cosmic_ray_rate_s);
         q.interstellar_fuv_habing = self.real(
             disk,
             "disk",
             "interstellar_fuv_habing",
             dd.interstellar_fuv_habing,
-            Range::Closed(0.0, 1e8), // the strongest cluster fields near O stars are ~1e5-1e7 G0 (M)
         );
-        q.age_myr = self.real(
-            disk,
-            "disk",
-            "age_myr",
-            dd.age_myr,
-            Range::OpenClosed(0.0, 1e4),
-        ); // positive; 10 Gyr is older than any gas disk (C)
+        q.age_myr = self.real(disk, "disk", "age_myr", dd.age_myr);
         q.midplane_temperature_scale = self.real(
             disk,
             "disk",
             "midplane_temperature_scale",
             dd.midplane_temperature_scale,
-            Range::Closed(0.1, 10.0),
         );
 
         // Ices.
-        let ices = self.object(
-            top.and_then(|m| m.get("ices")),
-            "ices",
-            &[
-                "desorption",
-                "sticking",
-                "photodesorption",
-                "cosmic_ray_desorption",
-                "binding_energies",
-                "species_overrides",
-                "initial_state",
-            ],
-        );
-        if let Some(i) = self.choice(
-            ices,
-            "ices",
-            "desorption",
-            &["zeroth_order", "first_order", "fixed_temperature"],
-        ) {
+        let ices = self.object(top.and_then(|m| m.get("ices")), "ices");
+        if let Some(i) = self.choice(ices, "ices", "desorption") {
             p.ices.desorption = [
                 DesorptionModel::ZerothOrder,
                 DesorptionModel::FirstOrder,
                 DesorptionModel::FixedTemperature,
             ][i];
         }
-        p.ices.sticking = self.real(
-            ices,
-            "ices",
-            "sticking",
-            d.ices.sticking,
-            Range::OpenClosed(0.0, 1.0),
-        );
+        p.ices.sticking = self.real(ices, "ices", "sticking", d.ices.sticking);
         p.ices.photodesorption =
             self.boolean(ices, "ices", "photodesorption", d.ices.photodesorption);
         p.ices.cosmic_ray_desorption = self.boolean(
@@ -941,7 +690,6 @@ impl Reader {
             "cosmic_ray_desorption",
             d.ices.cosmic_ray_desorption,
         );
-        let set_keys: Vec<&str> = BindingEnergySet::ALL.iter().map(|s| s.key()).collect();
         // "pure_ices" is the former name of "hhl92_frequency_legacy": files saved before stay readable.
         if ices
             .and_then(|m| m.get("binding_energies"))
@@ -949,48 +697,31 @@ impl Reader {
             == Some("pure_ices")
         {
             p.ices.binding_energy_set = BindingEnergySet::Hhl92FrequencyLegacy;
-        } else if let Some(i) = self.choice(ices, "ices", "binding_energies", &set_keys) {
+        } else if let Some(i) = self.choice(ices, "ices", "binding_energies") {
             p.ices.binding_energy_set = BindingEnergySet::ALL[i];
         }
-        let state_keys: Vec<&str> = InitialIceState::ALL.iter().map(|s| s.key()).collect();
-        if let Some(i) = self.choice(ices, "ices", "initial_state", &state_keys) {
+        if let Some(i) = self.choice(ices, "ices", "initial_state") {
             p.ices.initial_state = InitialIceState::ALL[i];
         }
-        let species_keys: Vec<&str> = Species::ALL.iter().map(|s| s.key()).collect();
         let overrides = self.object(
             ices.and_then(|m| m.get("species_overrides")),
             "ices.species_overrides",
-            &species_keys,
         );
         for s in Species::ALL {
             let sp = join("ices.species_overrides", s.key());
-            let Some(o) = self.object(
-                overrides.and_then(|m| m.get(s.key())),
-                &sp,
-                &[
-                    "binding_energy_k",
-                    "attempt_frequency_s",
-                    "photodesorption_yield",
-                    "condensation_temperature_k",
-                ],
-            ) else {
+            let Some(o) = self.object(overrides.and_then(|m| m.get(s.key())), &sp) else {
                 continue;
             };
             let slot = &mut p.ices.overrides[s.index()];
-            let opt = |r: &mut Reader, key: &str, range: Range| {
+            let opt = |r: &mut Reader, key: &str| {
                 o.contains_key(key)
-                    .then(|| r.real(Some(o), &sp, key, f64::NAN, range))
+                    .then(|| r.real(Some(o), &sp, key, f64::NAN))
             };
-            slot.binding_energy_k = opt(self, "binding_energy_k", Range::OpenClosed(0.0, 1e5)); // physisorption (~100 K) to refractory binding (~7e4 K) (M)
-            slot.attempt_frequency_s = opt(self, "attempt_frequency_s", Range::Closed(1e6, 1e22));
-            slot.photodesorption_yield =
-                opt(self, "photodesorption_yield", Range::Closed(0.0, 1.0));
-            slot.condensation_temperature_k = opt(
-                self,
-                "condensation_temperature_k",
-                Range::OpenClosed(0.0, 5000.0),
-            ); // every solid sublimates below ~2000 K (C)
-               // A rejected value came back as NaN: drop it (the problem is already recorded).
+            slot.binding_energy_k = opt(self, "binding_energy_k");
+            slot.attempt_frequency_s = opt(self, "attempt_frequency_s");
+            slot.photodesorption_yield = opt(self, "photodesorption_yield");
+            slot.condensation_temperature_k = opt(self, "condensation_temperature_k");
+            // A rejected value came back as NaN: drop it (the problem is already recorded).
             for v in [
                 &mut slot.binding_energy_k,
                 &mut slot.attempt_frequency_s,
@@ -1004,27 +735,13 @@ impl Reader {
         }
 
         // Composition.
-        let comp = self.object(
-            top.and_then(|m| m.get("composition")),
-            "composition",
-            &[
-                "carbon",
-                "nitrogen",
-                "sulfur",
-                "oxygen_per_silicon",
-                "soot_line_k",
-                "soot_line",
-                "sulfide_release_k",
-                "silicate_sublimation_k",
-            ],
-        );
+        let comp = self.object(top.and_then(|m| m.get("composition")), "composition");
         let before_comp = self.problems.len();
         let dc = &d.composition;
         let c = self.fractions(
             comp,
             "composition",
             "carbon",
-            ["CO", "CO2", "CH4", "CH3OH", "HCN", "refractory"],
             [
                 dc.carbon.co,
                 dc.carbon.co2,
@@ -1046,7 +763,6 @@ impl Reader {
             comp,
             "composition",
             "nitrogen",
-            ["N2", "NH3"],
             [dc.nitrogen.n2, dc.nitrogen.nh3],
         );
         p.composition.nitrogen = NitrogenFractions {
@@ -1057,7 +773,6 @@ impl Reader {
             comp,
             "composition",
             "sulfur",
-            ["H2S", "refractory"],
             [dc.sulfur.h2s, dc.sulfur.refractory],
         );
         p.composition.sulfur = SulfurFractions {
@@ -1069,21 +784,9 @@ impl Reader {
             "composition",
             "oxygen_per_silicon",
             dc.oxygen_per_silicon,
-            Range::Closed(0.0, 10.0),
         );
-        p.composition.soot_line_k = self.real(
-            comp,
-            "composition",
-            "soot_line_k",
-            dc.soot_line_k,
-            Range::OpenClosed(0.0, 5000.0), // every solid sublimates below ~2000 K at disk pressures (C)
-        );
-        if let Some(i) = self.choice(
-            comp,
-            "composition",
-            "soot_line",
-            &["irreversible", "reversible"],
-        ) {
+        p.composition.soot_line_k = self.real(comp, "composition", "soot_line_k", dc.soot_line_k);
+        if let Some(i) = self.choice(comp, "composition", "soot_line") {
             p.composition.soot_line = [SootLine::Irreversible, SootLine::Reversible][i];
         }
         p.composition.sulfide_release_k = self.real(
@@ -1091,14 +794,12 @@ impl Reader {
             "composition",
             "sulfide_release_k",
             dc.sulfide_release_k,
-            Range::OpenClosed(0.0, 5000.0), // as the soot line
         );
         p.composition.silicate_sublimation_k = self.real(
             comp,
             "composition",
             "silicate_sublimation_k",
             dc.silicate_sublimation_k,
-            Range::OpenClosed(0.0, 5000.0), // as the soot line
         );
         if star_ok && self.problems.len() == before_comp {
             if let Err(e) = Carriers::new(
@@ -1115,27 +816,14 @@ impl Reader {
         }
 
         // Grid.
-        let grid = self.object(
-            top.and_then(|m| m.get("grid")),
-            "grid",
-            &["radial_cells", "vertical_cells", "max_height_scale_heights"],
-        );
-        p.grid.radial_cells =
-            self.integer(grid, "grid", "radial_cells", d.grid.radial_cells, 8, 4096);
-        p.grid.vertical_cells = self.integer(
-            grid,
-            "grid",
-            "vertical_cells",
-            d.grid.vertical_cells,
-            8,
-            4096,
-        );
+        let grid = self.object(top.and_then(|m| m.get("grid")), "grid");
+        p.grid.radial_cells = self.integer(grid, "grid", "radial_cells", d.grid.radial_cells);
+        p.grid.vertical_cells = self.integer(grid, "grid", "vertical_cells", d.grid.vertical_cells);
         p.grid.max_height_scale_heights = self.real(
             grid,
             "grid",
             "max_height_scale_heights",
             d.grid.max_height_scale_heights,
-            Range::Closed(1.0, 20.0),
         );
         let samples = p.grid.radial_cells * (p.grid.vertical_cells + 1);
         let bytes = samples * crate::MODEL_BYTES_PER_SAMPLE;
