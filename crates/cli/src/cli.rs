@@ -232,6 +232,9 @@ enum Command {
         /// Output format.
         #[arg(long, value_enum, default_value_t = PlanetFormat::Json)]
         format: PlanetFormat,
+        /// Also write the planet methods text (the page's planet methods download for this planet).
+        #[arg(long, value_name = "FILE")]
+        methods: Option<PathBuf>,
         /// Write to this file instead of standard output.
         #[arg(long, value_name = "FILE")]
         out: Option<PathBuf>,
@@ -351,6 +354,10 @@ enum Command {
         /// (SVG, or PNG at 300 dpi when the name ends in .png; single-column width).
         #[arg(long, value_name = "FILE")]
         figure: Option<PathBuf>,
+        /// Also write the planet methods text for this map (the page's planet methods download
+        /// when only the map is shown).
+        #[arg(long, value_name = "FILE")]
+        methods: Option<PathBuf>,
         #[command(flatten)]
         output: Output,
     },
@@ -660,6 +667,7 @@ fn execute(args: Args) -> Result<(), Failure> {
             solid_to_gas,
             mix,
             format,
+            methods: methods_file,
             out,
         } => {
             use nivalis_exports::planet::PlanetOptions;
@@ -689,6 +697,14 @@ fn execute(args: Args) -> Result<(), Failure> {
                 ("solid_mixing_fraction", "--mix"),
             ];
             let result = planet(&model, &request).map_err(|e| option_failure(&e, &flags))?;
+            if let Some(path) = &methods_file {
+                let text = nivalis_exports::planet_tools::planet_methods_text(
+                    &file,
+                    Some((&place, &result)),
+                    None,
+                );
+                write_output(&Some(path.clone()), &text)?;
+            }
             let text = match format {
                 PlanetFormat::Json => json_text(&nivalis_exports::planet::planet_json(
                     &result,
@@ -725,6 +741,7 @@ fn execute(args: Args) -> Result<(), Failure> {
             feeding_zone_hill_radii,
             convention,
             figure,
+            methods: methods_file,
             output,
         } => {
             use nivalis_exports::planet::FitOptions;
@@ -803,6 +820,15 @@ fn execute(args: Args) -> Result<(), Failure> {
                     json_text(&nivalis_exports::planet::fit_json(&map, &prov, &used))
                 }
             };
+            if let Some(path) = &methods_file {
+                let union = nivalis_exports::planet_tools::allowed_union(&map);
+                let text = nivalis_exports::planet_tools::planet_methods_text(
+                    &file,
+                    None,
+                    Some((&map, &union)),
+                );
+                write_output(&Some(path.clone()), &text)?;
+            }
             for line in nivalis_exports::planet::fit_warnings(&map) {
                 eprintln!("warning: {line}");
             }

@@ -1055,3 +1055,72 @@ fn a_map_too_large_to_export_is_refused_with_the_estimate() {
     );
     assert!(out.stdout.is_empty());
 }
+
+/// Issue 9 item 4: the planet methods text is built once
+/// (`nivalis_exports::planet_tools`); `nivalis planet --methods` and
+/// `nivalis fit --methods` write what the page's planet methods download
+/// gives for the same planet, or the same map, read from the page's typed fields.
+#[test]
+fn planet_and_fit_methods_equal_the_pages() {
+    use nivalis_exports::planet_tools::{fit_planet, place_planet, planet_methods, PlanetState};
+    let disk = "demo_disks/young_sun.json";
+    let text = std::fs::read_to_string(repo_root().join(disk)).unwrap();
+    let file = nivalis_disk_files::parse_disk_json(&text).unwrap();
+    let model = nivalis_physics::Model::run(&file.parameters).unwrap();
+    let dir = std::env::temp_dir().join(format!("nivalis-cli-methods-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let planet_file = dir.join("planet-methods.txt");
+    let out = nivalis(&[
+        "planet",
+        disk,
+        "--radius-au",
+        "7.5",
+        "--solid-to-gas",
+        "0.03",
+        "--mix",
+        "0.5",
+        "--methods",
+        planet_file.to_str().unwrap(),
+    ]);
+    assert_eq!(out.status.code(), Some(0), "{}", stderr(&out));
+    let page = PlanetState {
+        placed: Some(
+            place_planet(
+                &model,
+                &file,
+                &serde_json::json!({"radius_au": "7.5", "solid_to_gas": "0.03", "mix": "0.5"}),
+            )
+            .unwrap(),
+        ),
+        fitted: None,
+    };
+    let written = std::fs::read_to_string(&planet_file).unwrap();
+    assert_eq!(written, planet_methods(&page).unwrap());
+    assert!(written.contains("f_mix = 0.5"), "{written}");
+    let fit_file = dir.join("fit-methods.txt");
+    let out = nivalis(&[
+        "fit",
+        disk,
+        "--c-to-o",
+        "0.6",
+        "--c-to-o-sigma",
+        "0.05",
+        "--methods",
+        fit_file.to_str().unwrap(),
+    ]);
+    assert_eq!(out.status.code(), Some(0), "{}", stderr(&out));
+    let page = PlanetState {
+        placed: None,
+        fitted: Some(
+            fit_planet(
+                &model,
+                &file,
+                &serde_json::json!({"c_to_o": "0.6", "c_to_o_sigma": "0.05"}),
+            )
+            .unwrap(),
+        ),
+    };
+    let written = std::fs::read_to_string(&fit_file).unwrap();
+    assert_eq!(written, planet_methods(&page).unwrap());
+    assert!(written.contains("C/O = 0.6 ± 0.05"), "{written}");
+}

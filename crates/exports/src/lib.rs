@@ -4,13 +4,15 @@
 //! produce byte-identical files: tables of the radial profile, the structure
 //! and r-z maps ([`tables`]), written as CSV, ECSV or JSON ([`formats`]);
 //! snowline listings ([`snowlines`]); the methods used with their references
-//! ([`methods`]); and the provenance every file carries ([`provenance`]).
+//! ([`methods`]); the provenance every file carries ([`provenance`]); and the
+//! planet tools' requests, views, exports and methods text ([`planet_tools`]).
 
 pub mod bibtex;
 pub mod figures;
 pub mod formats;
 pub mod methods;
 pub mod planet;
+pub mod planet_tools;
 pub mod provenance;
 pub mod snowlines;
 pub mod tables;
