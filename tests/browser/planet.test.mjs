@@ -262,6 +262,10 @@ test("figure downloads equal `nivalis figure`, and methods text and BibTeX equal
   assert.match(planetMethods.text, /f_mix = 0\.4/);
   assert.match(planetMethods.text, /rate equation over the disk's age/);
   assert.ok(planetMethods.text.endsWith(methods), "the planet methods text does not end with `nivalis methods` for the disk");
+  // The same text from the CLI (issue 9 item 4: built once, in nivalis_exports::planet_tools).
+  const planetMethodsFile = join(scratch, "planet-methods.txt");
+  run(["planet", disk, "--radius-au", "3", "--solid-to-gas", "0.01", "--mix", "0.4", "--methods", planetMethodsFile]);
+  assert.ok(planetMethods.text === readFileSync(planetMethodsFile, "utf8"), "page planet methods text differs from `nivalis planet --methods`");
   const planetBib = await downloadText(page, '[data-planet-export="planet_bibtex"]');
   assert.match(planetBib.text, /@article\{oberg2011,/);
   assert.deepEqual(errors, []);

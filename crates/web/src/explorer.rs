@@ -44,7 +44,7 @@ pub(crate) struct Remote {
 /// readable at screen distance.
 pub(crate) const CSS_PX_PER_POINT: f64 = 96.0 / 72.0 * 1.2;
 
-fn to_js(value: &Value) -> JsValue {
+pub(crate) fn to_js(value: &Value) -> JsValue {
     // Invariant: serde_json values always serialise (objects become plain JS objects).
     value
         .serialize(&serde_wasm_bindgen::Serializer::json_compatible())

@@ -15,7 +15,8 @@
 //! forward model, inverse map, anchor and their exports), [`figures`] (plain
 //! Rust: SVG/PNG files identical to `nivalis figure`), and, on wasm32 only,
 //! `canvas` (plotters-canvas drawing and the one `putImageData` per map), the
-//! exported [`Explorer`] and `planet_js` (its planet and figure methods).
+//! exported [`Explorer`], `planet_js` (its planet and figure methods) and
+//! `fields_js` (`fieldTable`, the disk file's field table for the controls).
 //!
 //! JavaScript names are camelCase (`updateFromText`, `snowlineTable`, ...);
 //! DEVELOPERS.md lists the mapping.
@@ -32,6 +33,8 @@ mod canvas;
 mod explorer;
 #[cfg(target_arch = "wasm32")]
 pub use explorer::Explorer;
+#[cfg(target_arch = "wasm32")]
+mod fields_js;
 #[cfg(target_arch = "wasm32")]
 mod planet_js;
 #[cfg(target_arch = "wasm32")]

@@ -15,8 +15,9 @@
 //! 5. fill the template `web/index.html`: the CSS (`web/style.css`), every
 //!    `demo_disks/*.json` as one JSON object in a `<script type="application/json">`,
 //!    and ONE inline `<script type="module">` holding the glue, the wasm as
-//!    base64 (decoded and compiled with `initSync`) and the app (`web/app.js`
-//!    then `web/planet.js`, the planet panel and figure downloads; CSS likewise
+//!    base64 (decoded and compiled with `initSync`) and the app's modules
+//!    (`web/util.js`, `web/core.js`, `web/controls.js`, `web/app.js`, then
+//!    `web/planet.js`, the planet panel and figure downloads; CSS likewise
 //!    `web/style.css` then `web/planet.css`; the wasm is compressed with raw
 //!    DEFLATE by `miniz_oxide` and the page inflates it with the browser's
 //!    `DecompressionStream("deflate-raw")` before compiling it),
@@ -42,8 +43,17 @@ const DEMO_SLOT: &str = "<!-- nivalis:demo-disks -->";
 const SCRIPT_SLOT: &str = "<!-- nivalis:script -->";
 const WORKER_SLOT: &str = "<!-- nivalis:worker -->";
 
-/// The page's scripts, inlined in this order into the one module script.
-const SCRIPTS: [&str; 2] = ["web/app.js", "web/planet.js"];
+/// The page's scripts, inlined in this order into the one module script. Each
+/// is one module: a namespace object built by an immediately invoked function
+/// (`const Util = (() => {...})();`), using only the modules before it, passed
+/// in as arguments or named explicitly (web/util.js explains the pattern).
+const SCRIPTS: [&str; 5] = [
+    "web/util.js",
+    "web/core.js",
+    "web/controls.js",
+    "web/app.js",
+    "web/planet.js",
+];
 /// The page's style sheets, inlined in this order.
 const STYLES: [&str; 2] = ["web/style.css", "web/planet.css"];
 
@@ -94,9 +104,9 @@ pub fn dist(release: bool) -> Result<PathBuf, String> {
         std::fs::read_to_string(path).map_err(|e| format!("cannot read {}: {e}", relative(path)))
     };
     let template = read(&root.join("web/index.html"))?;
-    // Several sources per element, joined in this fixed order: the planet
-    // panel's script runs after app.js in the same module scope (it uses
-    // app.js's functions and the running `explorer`).
+    // Several sources per element, joined in this fixed order: each module
+    // script receives the interfaces of the ones before it (planet.js gets
+    // app.js's `App`), all in the one module scope.
     let join = |paths: &[&str]| -> Result<String, String> {
         let mut out = String::new();
         for p in paths {
@@ -129,7 +139,7 @@ pub fn dist(release: bool) -> Result<PathBuf, String> {
     );
     for (what, text) in [
         (
-            "web/app.js and web/planet.js with the glue",
+            "the page's modules (web/*.js) with the glue",
             script.as_str(),
         ),
         ("web/worker.js with the glue", worker_source.as_str()),

@@ -1,0 +1,66 @@
+// core.js: starts the Rust core (the page's second module). `cargo xtask dist`
+// puts the wasm-bindgen glue (which defines `initSync`, `Explorer` and the
+// module-scope `wasm`) and the constant `NIVALIS_WASM_DEFLATE_BASE64` (the
+// module, compressed) before the page's modules in the same module script;
+// this module is the only one that touches them. It holds no physics.
+
+/* global initSync, Explorer, NIVALIS_WASM_DEFLATE_BASE64, wasm */
+
+const Core = await (async () => {
+  // The module is embedded DEFLATE-compressed (cargo xtask dist): inflated with
+  // the browser's own DecompressionStream, then compiled. Top-level await: the
+  // page's other modules run once it is ready.
+  async function inflateRaw(bytes) {
+    const stream = new Blob([bytes]).stream().pipeThrough(new DecompressionStream("deflate-raw"));
+    return new Uint8Array(await new Response(stream).arrayBuffer());
+  }
+  const wasmBytes = await inflateRaw(Uint8Array.from(atob(NIVALIS_WASM_DEFLATE_BASE64), (c) => c.charCodeAt(0)));
+  // Compiled once: the page instantiates it here, and the worker (large grids) gets the same module.
+  const compiled = new WebAssembly.Module(wasmBytes);
+  initSync({ module: compiled });
+  // Rebuilt after a trap in the core (rebuild below); the other modules read it through `Core.explorer`.
+  let explorer = new Explorer();
+  let restarts = 0;
+
+  // A trap in the core (a WebAssembly RuntimeError: out of memory, a stack
+  // overflow, a Rust panic, which aborts) leaves its instance unusable: any
+  // later call fails with "recursive use of an object detected".
+  function isFailure(error) {
+    if (typeof WebAssembly !== "undefined" && error instanceof WebAssembly.RuntimeError) return true;
+    const text = String(error && error.message ? error.message : error);
+    return /recursive use of an object detected|memory access out of bounds|unreachable|Maximum call stack size exceeded/.test(text);
+  }
+
+  // A new instance of the compiled module and a new Explorer on it. The glue's
+  // module-scope `wasm` (same inline module script) is reset so `initSync`
+  // instantiates again; the old Explorer is freed first so its finaliser cannot
+  // later free a pointer of the new instance.
+  function rebuild() {
+    try { explorer.free(); } catch (_) { /* the trapped instance may refuse; its finaliser is unregistered either way */ }
+    wasm = undefined;
+    initSync({ module: compiled });
+    explorer = new Explorer();
+    restarts += 1;
+  }
+
+  return {
+    /** The running Explorer (a new one after `rebuild`). */
+    get explorer() { return explorer; },
+    /** How often the core was rebuilt after a trap. */
+    get restarts() { return restarts; },
+    /** The compiled module (the worker instantiates the same one). */
+    module: compiled,
+    isFailure,
+    rebuild,
+    /** The default disk, every field resolved (what `{}` means). */
+    defaults: Explorer.defaultDisk(),
+    /** The disk file's field table (crates/disk_files/src/fields.rs): the controls are built from it. */
+    fieldTable: Explorer.fieldTable(),
+    /** Built-in species data and binding-energy sets; `species` lists the species in the core's order. */
+    speciesInfo: Explorer.speciesInfo(),
+    encodeFragment: (disk) => Explorer.encodeFragment(disk),
+    decodeFragment: (text) => Explorer.decodeFragment(text),
+    /** Test hook: makes the allocator abort (a request of 4 GiB - 16 bytes, more than wasm32 can address). */
+    trapAllocator: () => wasm.__wbindgen_malloc(0xfffffff0, 8),
+  };
+})();
