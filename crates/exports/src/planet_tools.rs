@@ -1114,6 +1114,9 @@ mod tests {
             placed: None,
             fitted: Some(fitted),
         };
+        assert!(planet_methods(&state)
+            .unwrap()
+            .contains("no place in the disk is acceptable and no formation radius is allowed"));
         // A 1 M_Jup planet: the outer disk is drawn infeasible; the request equals the CLI's options.
         let input = json!({"c_to_o": "0.5", "c_to_o_sigma": "0.1", "planet_mass_mjup": "1", "relative_to": "sun",
                            "o_to_h_dex": "0.2", "o_to_h_sigma": "0.3", "ratio_count": "60", "oxygen_correction": "on"});
