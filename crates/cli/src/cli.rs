@@ -1,7 +1,9 @@
 //! Argument parsing and the commands.
 
 use clap::{Parser, Subcommand, ValueEnum};
-use nivalis_disk_files::{parse_disk_json, DiskFile};
+use nivalis_disk_files::{
+    apply_assignments, from_value, parse_disk_json, parse_json_text, DiskFile, Problems,
+};
 use nivalis_exports::formats::json_text;
 use nivalis_exports::methods::methods;
 use nivalis_exports::snowlines::snowlines_json;
@@ -25,6 +27,12 @@ use std::process::ExitCode;
 pub struct Args {
     #[command(subcommand)]
     command: Command,
+    /// Set one field of the disk before it is read, e.g. `--set star.luminosity_lsun=3` (repeatable;
+    /// a later one wins). PATH is the field's dotted path (docs/disk-file.md); VALUE is JSON
+    /// (a number, true/false, a quoted string, an object) or plain text taken as a string.
+    /// The changed disk is validated like the file itself.
+    #[arg(long = "set", value_name = "PATH=VALUE", global = true)]
+    set: Vec<String>,
 }
 
 /// Table formats.
@@ -433,7 +441,7 @@ impl Failure {
     }
 }
 
-fn read_disk(path: &PathBuf) -> Result<DiskFile, Failure> {
+fn read_disk(path: &PathBuf, sets: &[String]) -> Result<DiskFile, Failure> {
     use nivalis_disk_files::MAX_DISK_FILE_BYTES;
     let label = path.display().to_string();
     // Read at most the size limit (plus a byte order mark and one byte to detect an oversized file),
@@ -470,9 +478,24 @@ fn read_disk(path: &PathBuf) -> Result<DiskFile, Failure> {
             )]))
         }
     };
-    parse_disk_json(&text).map_err(|problems| {
+    let listed = |problems: Problems| {
         Failure::input(problems.0.iter().map(|p| format!("{label}: {p}")).collect())
-    })
+    };
+    if sets.is_empty() {
+        return parse_disk_json(&text).map_err(listed);
+    }
+    // `--set`: change the JSON value, then validate it with the same reader as the file.
+    let mut value = parse_json_text(&text).map_err(listed)?;
+    apply_assignments(&mut value, sets).map_err(|problems| {
+        Failure::input(
+            problems
+                .0
+                .iter()
+                .map(|p| format!("{}: {}", p.path, p.message))
+                .collect(),
+        )
+    })?;
+    from_value(&value).map_err(listed)
 }
 
 /// A core error about a command-line option, naming the flag instead of the
@@ -568,9 +591,10 @@ fn render(table: &Table, format: TableFormat, file: &DiskFile) -> String {
 }
 
 fn execute(args: Args) -> Result<(), Failure> {
+    let sets = args.set;
     match args.command {
         Command::Check { disk } => {
-            let file = read_disk(&disk)?;
+            let file = read_disk(&disk, &sets)?;
             // Physics-level checks (e.g. a self-consistent flaring solve that cannot converge) need a run.
             run_model(&file)?;
             for w in &file.warnings {
@@ -586,7 +610,7 @@ fn execute(args: Args) -> Result<(), Failure> {
             )
         }
         Command::Structure { disk, output } => {
-            let file = read_disk(&disk)?;
+            let file = read_disk(&disk, &sets)?;
             let model = run_model(&file)?;
             write_output(
                 &output.out,
@@ -594,7 +618,7 @@ fn execute(args: Args) -> Result<(), Failure> {
             )
         }
         Command::Model { disk, output } => {
-            let file = read_disk(&disk)?;
+            let file = read_disk(&disk, &sets)?;
             let model = run_model(&file)?;
             write_output(
                 &output.out,
@@ -602,7 +626,7 @@ fn execute(args: Args) -> Result<(), Failure> {
             )
         }
         Command::Elements { disk, output } => {
-            let file = read_disk(&disk)?;
+            let file = read_disk(&disk, &sets)?;
             let model = run_model(&file)?;
             write_output(
                 &output.out,
@@ -619,7 +643,7 @@ fn execute(args: Args) -> Result<(), Failure> {
             output,
         } => {
             let q = MapQuantity::parse(&quantity).map_err(|e| Failure::input(vec![e]))?;
-            let file = read_disk(&disk)?;
+            let file = read_disk(&disk, &sets)?;
             // A per-cell export holds its rows as text besides the model: up to about 4x the
             // model's own memory while it is written (measured ~870 B per sample for JSON).
             // The reader bounds the model alone; refuse here what the export would not fit.
@@ -645,7 +669,7 @@ fn execute(args: Args) -> Result<(), Failure> {
             )
         }
         Command::Snowlines { disk, out } => {
-            let file = read_disk(&disk)?;
+            let file = read_disk(&disk, &sets)?;
             let model = run_model(&file)?;
             write_output(
                 &out,
@@ -664,7 +688,7 @@ fn execute(args: Args) -> Result<(), Failure> {
         } => {
             use nivalis_exports::planet::PlanetOptions;
             use nivalis_physics::planet::{planet, RadialWeighting};
-            let file = read_disk(&disk)?;
+            let file = read_disk(&disk, &sets)?;
             let model = run_model(&file)?;
             let weighting = match weighting {
                 Weighting::AccretedMass => RadialWeighting::AccretedMass,
@@ -772,7 +796,7 @@ fn execute(args: Args) -> Result<(), Failure> {
                         .collect(),
                 )
             })?;
-            let file = read_disk(&disk)?;
+            let file = read_disk(&disk, &sets)?;
             let model = run_model(&file)?;
             // Errors of the core name its fields; the user typed flags.
             let flags = [
@@ -852,7 +876,7 @@ fn execute(args: Args) -> Result<(), Failure> {
                     nivalis_physics::Species::ALL.map(|s| s.key()).join(", ")
                 )])
             })?;
-            let file = read_disk(&disk)?;
+            let file = read_disk(&disk, &sets)?;
             let parameter = match adjust {
                 Adjust::FlaringAngle => AnchorParameter::FlaringAngle,
                 Adjust::TemperatureScale => AnchorParameter::MidplaneTemperatureScale,
@@ -900,7 +924,7 @@ fn execute(args: Args) -> Result<(), Failure> {
         } => {
             use nivalis_charts::{render_png, render_svg, Figure, FigureSize, Theme};
             let v = parse_view(&view).map_err(|e| Failure::input(vec![e]))?;
-            let file = read_disk(&disk)?;
+            let file = read_disk(&disk, &sets)?;
             let model = run_model(&file)?;
             let figure = Figure::from_model(v, &model);
             let theme = match theme {
@@ -931,7 +955,7 @@ fn execute(args: Args) -> Result<(), Failure> {
             }
         }
         Command::Methods { disk, bibtex, out } => {
-            let file = read_disk(&disk)?;
+            let file = read_disk(&disk, &sets)?;
             run_model(&file)?;
             let used = methods(&file.parameters);
             if let Some(path) = &bibtex {
