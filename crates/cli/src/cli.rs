@@ -414,6 +414,23 @@ enum Command {
         #[arg(long, value_name = "FILE")]
         out: Option<PathBuf>,
     },
+    /// A parameter sweep (docs/sweep.md): every grid point of SWEEP.json (a base disk and axes of
+    /// dotted paths) run into Parquet files under --out, optionally one shard of a job array;
+    /// `nivalis sweep merge DIR` verifies the shards' checksums and joins them into DIR/sweep.parquet.
+    #[command(args_conflicts_with_subcommands = true)]
+    Sweep {
+        #[command(subcommand)]
+        action: Option<SweepAction>,
+        /// The sweep file (`nivalis-sweep/1`, JSON).
+        sweep: Option<PathBuf>,
+        /// Output folder: manifest.json and shards/ (created if missing).
+        #[arg(long, value_name = "DIR")]
+        out: Option<PathBuf>,
+        /// Run only shard I of N (1 <= I <= N): a contiguous block of the grid points, for one task
+        /// of a job array. A shard already complete in DIR is skipped.
+        #[arg(long, value_name = "I/N", value_parser = nivalis_sweep::ShardSpec::parse)]
+        shard: Option<nivalis_sweep::ShardSpec>,
+    },
     /// A plain-text methods paragraph for exactly this configuration (methods, parameter values,
     /// binding-energy set, abundance reference, grid, simplifications) with citations, and
     /// optionally a BibTeX file of exactly the references cited.
@@ -429,14 +446,24 @@ enum Command {
     },
 }
 
+/// What `nivalis sweep` does besides running a sweep.
+#[derive(Subcommand, Debug)]
+pub(crate) enum SweepAction {
+    /// Verify the manifest and every shard's SHA-256, and join the shards into DIR/sweep.parquet.
+    Merge {
+        /// The sweep's output folder.
+        dir: PathBuf,
+    },
+}
+
 /// A failure with its exit code; each line of the message is printed on stderr.
 pub struct Failure {
-    code: u8,
-    lines: Vec<String>,
+    pub(crate) code: u8,
+    pub(crate) lines: Vec<String>,
 }
 
 impl Failure {
-    fn input(lines: Vec<String>) -> Failure {
+    pub(crate) fn input(lines: Vec<String>) -> Failure {
         Failure { code: 2, lines }
     }
 }
@@ -954,6 +981,12 @@ fn execute(args: Args) -> Result<(), Failure> {
                 }
             }
         }
+        Command::Sweep {
+            action,
+            sweep,
+            out,
+            shard,
+        } => crate::sweep_cmd::execute(action, sweep, out, shard, &sets),
         Command::Methods { disk, bibtex, out } => {
             let file = read_disk(&disk, &sets)?;
             run_model(&file)?;
