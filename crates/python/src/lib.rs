@@ -310,19 +310,17 @@ fn fit_options(text: &str) -> PyResult<FitOptions> {
                 .and_then(|a| a.iter().map(Value::as_f64).collect::<Option<Vec<f64>>>())
                 .map(|y| o.covariance = Some(y)),
             "relative_to" => match x.as_str() {
-                Some("star") => Some(o.relative_to = MetallicityReference::Star),
-                Some("sun") => Some(o.relative_to = MetallicityReference::Sun),
+                Some("star") => Some(MetallicityReference::Star),
+                Some("sun") => Some(MetallicityReference::Sun),
                 _ => None,
-            },
+            }
+            .map(|r| o.relative_to = r),
             "convention" => match x.as_str() {
-                Some("mapped_parameters") => {
-                    Some(o.convention = ConfidenceConvention::MappedParameters)
-                }
-                Some("fitted_quantities") => {
-                    Some(o.convention = ConfidenceConvention::FittedQuantities)
-                }
+                Some("mapped_parameters") => Some(ConfidenceConvention::MappedParameters),
+                Some("fitted_quantities") => Some(ConfidenceConvention::FittedQuantities),
                 _ => None,
-            },
+            }
+            .map(|c| o.convention = c),
             _ => {
                 problems.push(Problem::new(key.clone(), "unknown fit option").with_value(key));
                 Some(())
