@@ -1,7 +1,9 @@
 //! Argument parsing and the commands.
 
 use clap::{Parser, Subcommand, ValueEnum};
-use nivalis_disk_files::{parse_disk_json, DiskFile};
+use nivalis_disk_files::{
+    apply_assignments, from_value, parse_disk_json, parse_json_text, DiskFile, Problems,
+};
 use nivalis_exports::formats::json_text;
 use nivalis_exports::methods::methods;
 use nivalis_exports::snowlines::snowlines_json;
@@ -25,6 +27,12 @@ use std::process::ExitCode;
 pub struct Args {
     #[command(subcommand)]
     command: Command,
+    /// Set one field of the disk before it is read, e.g. `--set star.luminosity_lsun=3` (repeatable;
+    /// a later one wins). PATH is the field's dotted path (docs/disk-file.md); VALUE is JSON
+    /// (a number, true/false, a quoted string, an object) or plain text taken as a string.
+    /// The changed disk is validated like the file itself.
+    #[arg(long = "set", value_name = "PATH=VALUE", global = true)]
+    set: Vec<String>,
 }
 
 /// Table formats.
@@ -413,6 +421,23 @@ enum Command {
         #[arg(long, value_name = "FILE")]
         out: Option<PathBuf>,
     },
+    /// A parameter sweep (docs/sweep.md): every grid point of SWEEP.json (a base disk and axes of
+    /// dotted paths) run into Parquet files under --out, optionally one shard of a job array;
+    /// `nivalis sweep merge DIR` verifies the shards' checksums and joins them into DIR/sweep.parquet.
+    #[command(args_conflicts_with_subcommands = true)]
+    Sweep {
+        #[command(subcommand)]
+        action: Option<SweepAction>,
+        /// The sweep file (`nivalis-sweep/1`, JSON).
+        sweep: Option<PathBuf>,
+        /// Output folder: manifest.json and shards/ (created if missing).
+        #[arg(long, value_name = "DIR")]
+        out: Option<PathBuf>,
+        /// Run only shard I of N (1 <= I <= N): a contiguous block of the grid points, for one task
+        /// of a job array. A shard already complete in DIR is skipped.
+        #[arg(long, value_name = "I/N", value_parser = nivalis_sweep::ShardSpec::parse)]
+        shard: Option<nivalis_sweep::ShardSpec>,
+    },
     /// A plain-text methods paragraph for exactly this configuration (methods, parameter values,
     /// binding-energy set, abundance reference, grid, simplifications) with citations, and
     /// optionally a BibTeX file of exactly the references cited.
@@ -428,19 +453,29 @@ enum Command {
     },
 }
 
+/// What `nivalis sweep` does besides running a sweep.
+#[derive(Subcommand, Debug)]
+pub(crate) enum SweepAction {
+    /// Verify the manifest and every shard's SHA-256, and join the shards into DIR/sweep.parquet.
+    Merge {
+        /// The sweep's output folder.
+        dir: PathBuf,
+    },
+}
+
 /// A failure with its exit code; each line of the message is printed on stderr.
 pub struct Failure {
-    code: u8,
-    lines: Vec<String>,
+    pub(crate) code: u8,
+    pub(crate) lines: Vec<String>,
 }
 
 impl Failure {
-    fn input(lines: Vec<String>) -> Failure {
+    pub(crate) fn input(lines: Vec<String>) -> Failure {
         Failure { code: 2, lines }
     }
 }
 
-fn read_disk(path: &PathBuf) -> Result<DiskFile, Failure> {
+fn read_disk(path: &PathBuf, sets: &[String]) -> Result<DiskFile, Failure> {
     use nivalis_disk_files::MAX_DISK_FILE_BYTES;
     let label = path.display().to_string();
     // Read at most the size limit (plus a byte order mark and one byte to detect an oversized file),
@@ -477,9 +512,24 @@ fn read_disk(path: &PathBuf) -> Result<DiskFile, Failure> {
             )]))
         }
     };
-    parse_disk_json(&text).map_err(|problems| {
+    let listed = |problems: Problems| {
         Failure::input(problems.0.iter().map(|p| format!("{label}: {p}")).collect())
-    })
+    };
+    if sets.is_empty() {
+        return parse_disk_json(&text).map_err(listed);
+    }
+    // `--set`: change the JSON value, then validate it with the same reader as the file.
+    let mut value = parse_json_text(&text).map_err(listed)?;
+    apply_assignments(&mut value, sets).map_err(|problems| {
+        Failure::input(
+            problems
+                .0
+                .iter()
+                .map(|p| format!("{}: {}", p.path, p.message))
+                .collect(),
+        )
+    })?;
+    from_value(&value).map_err(listed)
 }
 
 /// A core error about a command-line option, naming the flag instead of the
@@ -575,9 +625,10 @@ fn render(table: &Table, format: TableFormat, file: &DiskFile) -> String {
 }
 
 fn execute(args: Args) -> Result<(), Failure> {
+    let sets = args.set;
     match args.command {
         Command::Check { disk } => {
-            let file = read_disk(&disk)?;
+            let file = read_disk(&disk, &sets)?;
             // Physics-level checks (e.g. a self-consistent flaring solve that cannot converge) need a run.
             run_model(&file)?;
             for w in &file.warnings {
@@ -593,7 +644,7 @@ fn execute(args: Args) -> Result<(), Failure> {
             )
         }
         Command::Structure { disk, output } => {
-            let file = read_disk(&disk)?;
+            let file = read_disk(&disk, &sets)?;
             let model = run_model(&file)?;
             write_output(
                 &output.out,
@@ -601,7 +652,7 @@ fn execute(args: Args) -> Result<(), Failure> {
             )
         }
         Command::Model { disk, output } => {
-            let file = read_disk(&disk)?;
+            let file = read_disk(&disk, &sets)?;
             let model = run_model(&file)?;
             write_output(
                 &output.out,
@@ -609,7 +660,7 @@ fn execute(args: Args) -> Result<(), Failure> {
             )
         }
         Command::Elements { disk, output } => {
-            let file = read_disk(&disk)?;
+            let file = read_disk(&disk, &sets)?;
             let model = run_model(&file)?;
             write_output(
                 &output.out,
@@ -626,7 +677,7 @@ fn execute(args: Args) -> Result<(), Failure> {
             output,
         } => {
             let q = MapQuantity::parse(&quantity).map_err(|e| Failure::input(vec![e]))?;
-            let file = read_disk(&disk)?;
+            let file = read_disk(&disk, &sets)?;
             // A per-cell export holds its rows as text besides the model: up to about 4x the
             // model's own memory while it is written (measured ~870 B per sample for JSON).
             // The reader bounds the model alone; refuse here what the export would not fit.
@@ -652,7 +703,7 @@ fn execute(args: Args) -> Result<(), Failure> {
             )
         }
         Command::Snowlines { disk, out } => {
-            let file = read_disk(&disk)?;
+            let file = read_disk(&disk, &sets)?;
             let model = run_model(&file)?;
             write_output(
                 &out,
@@ -672,7 +723,7 @@ fn execute(args: Args) -> Result<(), Failure> {
         } => {
             use nivalis_exports::planet::PlanetOptions;
             use nivalis_physics::planet::{planet, RadialWeighting};
-            let file = read_disk(&disk)?;
+            let file = read_disk(&disk, &sets)?;
             let model = run_model(&file)?;
             let weighting = match weighting {
                 Weighting::AccretedMass => RadialWeighting::AccretedMass,
@@ -789,7 +840,7 @@ fn execute(args: Args) -> Result<(), Failure> {
                         .collect(),
                 )
             })?;
-            let file = read_disk(&disk)?;
+            let file = read_disk(&disk, &sets)?;
             let model = run_model(&file)?;
             // Errors of the core name its fields; the user typed flags.
             let flags = [
@@ -878,7 +929,7 @@ fn execute(args: Args) -> Result<(), Failure> {
                     nivalis_physics::Species::ALL.map(|s| s.key()).join(", ")
                 )])
             })?;
-            let file = read_disk(&disk)?;
+            let file = read_disk(&disk, &sets)?;
             let parameter = match adjust {
                 Adjust::FlaringAngle => AnchorParameter::FlaringAngle,
                 Adjust::TemperatureScale => AnchorParameter::MidplaneTemperatureScale,
@@ -926,7 +977,7 @@ fn execute(args: Args) -> Result<(), Failure> {
         } => {
             use nivalis_charts::{render_png, render_svg, Figure, FigureSize, Theme};
             let v = parse_view(&view).map_err(|e| Failure::input(vec![e]))?;
-            let file = read_disk(&disk)?;
+            let file = read_disk(&disk, &sets)?;
             let model = run_model(&file)?;
             let figure = Figure::from_model(v, &model);
             let theme = match theme {
@@ -956,8 +1007,14 @@ fn execute(args: Args) -> Result<(), Failure> {
                 }
             }
         }
+        Command::Sweep {
+            action,
+            sweep,
+            out,
+            shard,
+        } => crate::sweep_cmd::execute(action, sweep, out, shard, &sets),
         Command::Methods { disk, bibtex, out } => {
-            let file = read_disk(&disk)?;
+            let file = read_disk(&disk, &sets)?;
             run_model(&file)?;
             let used = methods(&file.parameters);
             if let Some(path) = &bibtex {

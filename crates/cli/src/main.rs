@@ -4,6 +4,7 @@
 //! 1 a file could not be written.
 
 mod cli;
+mod sweep_cmd;
 
 use std::process::ExitCode;
 

@@ -24,6 +24,7 @@ pub mod fields;
 pub mod fragment;
 mod json;
 mod reader;
+mod set_path;
 mod writer;
 
 pub use fields::{
@@ -34,6 +35,9 @@ pub use json::{
     cap_problems, parse_json_text, MAX_DISK_FILE_BYTES, MAX_LISTED_PROBLEMS, MAX_NESTING_DEPTH,
 };
 pub use reader::{from_value, parse_disk_json};
+pub use set_path::{
+    apply_assignments, is_unknown_field, parse_assignment, parse_value_text, set_path,
+};
 pub use writer::{to_json_string, to_value};
 
 use nivalis_physics::ModelParameters;

@@ -9,6 +9,8 @@
 //!    disk, then timed with `timeit.repeat`.
 //! 3. A table of medians, p10 and p90 per benchmark and the ratios
 //!    `model / floor` (target <= 2) and `numpy / native model` (target >= 10).
+//!    Then the sweep throughput natively and through Dask, and the per-model
+//!    overhead of a sweep point over a bare `Model::run` ([`crate::sweep_bench`]).
 //! 4. The in-browser benchmark (`tests/browser/bench.mjs`), which prints its
 //!    own table, including the in-page floor and `edit redraw / floor`.
 //!
@@ -221,6 +223,9 @@ pub fn bench() -> Result<(), String> {
         "4x the samples",
     );
 
+    if let Err(message) = crate::sweep_bench::sweep_section() {
+        problems.push(message);
+    }
     if let Err(message) = browser_bench() {
         problems.push(message);
     }

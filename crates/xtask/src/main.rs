@@ -24,7 +24,9 @@ mod dist;
 mod fuzz;
 mod gates;
 mod open;
+mod python_module;
 mod setup;
+mod sweep_bench;
 mod test;
 
 use std::path::{Path, PathBuf};

@@ -13,6 +13,9 @@
 //!    root with a Python that imports the reference libraries they use
 //!    (astropy, scipy, bibtexparser): the system's, else a venv under target/
 //!    that this stage creates ([`crate::setup::python_with_modules`]).
+//!    Then the Python module: build and install `crates/python` (maturin)
+//!    into a venv under target/ and run its pytest suite
+//!    ([`crate::python_module`]).
 //! 5. Page build: when `crates/web/Cargo.toml` exists, make sure the
 //!    wasm32-unknown-unknown target is installed and build the page with
 //!    [`crate::dist::dist`], because the browser tests load the built file.
@@ -68,6 +71,10 @@ pub fn test() -> Result<(), String> {
         Stage {
             name: "python checks (tests/python/*.py)",
             work: python_checks,
+        },
+        Stage {
+            name: "python module (pip install ./crates/python, pytest crates/python/tests)",
+            work: crate::python_module::python_module,
         },
         Stage {
             name: "page build (cargo xtask dist)",
