@@ -1,4 +1,4 @@
-//! The Monte Carlo of docs/model.md section 15 against exact and analytic answers (issue 12):
+//! The Monte Carlo of docs/model.md section 13 against exact and analytic answers (issue 12):
 //! zero widths give the deterministic model bit for bit; the same seed gives the same numbers
 //! (a fixed digest, checked natively and, in `cargo xtask test`, as WebAssembly); a log-normal
 //! luminosity gives a log-normal snowline radius of half the dex width in the irradiation-only
@@ -185,7 +185,7 @@ fn same_seed_same_numbers_native_and_wasm() {
 /// (T_mid^4 = phi L / (8 pi sigma r^2), no accretion, no background), the water snowline lies at
 /// r = sqrt(phi L / (8 pi sigma)) / T_cond^2, so a luminosity log-normal with width s dex gives
 /// a snowline log-normal with width s/2 dex about the nominal radius (docs/model.md sections 4
-/// and 15). The step model's crossing is interpolated in ln T against ln r, exact for this power
+/// and 13). The step model's crossing is interpolated in ln T against ln r, exact for this power
 /// law. Each percentile is checked within 4 of its Monte Carlo standard errors,
 /// se(x_q) = sqrt(q (1 - q) / N) / pdf(z_q) in units of the distribution's width.
 #[test]

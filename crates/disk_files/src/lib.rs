@@ -17,6 +17,7 @@
 pub mod fragment;
 mod json;
 mod reader;
+pub mod uncertainty;
 mod writer;
 
 pub use json::{

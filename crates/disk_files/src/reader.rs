@@ -29,6 +29,9 @@ pub fn from_value(value: &Value) -> Result<DiskFile, Problems> {
     let mut file = r.file(value);
     file.warnings = r.warnings;
     if r.problems.is_empty() {
+        r.problems = crate::uncertainty::section_problems(value, &file);
+    }
+    if r.problems.is_empty() {
         Ok(file)
     } else {
         Err(Problems(crate::cap_problems(r.problems)))
@@ -104,7 +107,7 @@ fn edit_distance(a: &str, b: &str) -> usize {
     prev[b.len()]
 }
 
-fn suggestion(key: &str, known: &[&str]) -> Option<String> {
+pub(crate) fn suggestion(key: &str, known: &[&str]) -> Option<String> {
     // A key far longer than any field name suggests nothing (and costs no quadratic edit distance).
     if key.len() > 2 * crate::MAX_SHOWN_CHARS {
         return None;
@@ -389,6 +392,7 @@ impl Reader {
                 "ices",
                 "composition",
                 "grid",
+                "uncertainty",
             ],
         );
         if let Some(schema) = self.text(top, "", "schema") {

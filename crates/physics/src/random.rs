@@ -1,5 +1,5 @@
 //! A small, seeded, reproducible pseudo-random generator for the Monte Carlo of
-//! docs/model.md "Uncertainty" (section 15), written here so that the native CLI
+//! docs/model.md "Uncertainty" (section 13), written here so that the native CLI
 //! and the WebAssembly page draw the same numbers bit for bit.
 //!
 //! - Uniform 64-bit words: xoshiro256** (Blackman & Vigna 2021, "Scrambled linear

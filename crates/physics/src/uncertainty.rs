@@ -1,4 +1,4 @@
-//! Monte Carlo over uncertain inputs (docs/model.md section 15): percentile bands of the
+//! Monte Carlo over uncertain inputs (docs/model.md section 13): percentile bands of the
 //! midplane C/O, C/H and O/H of gas, ice and all solids, the distribution of every snowline,
 //! a one-at-a-time sensitivity ranking with a first-order variance index, and the inverse
 //! formation map marginalised over the inputs.
@@ -252,7 +252,7 @@ impl Engine {
         Model::run_on(structure, p)
     }
 
-    /// The midplane values of a sample (docs/model.md section 15): the composition and the ice
+    /// The midplane values of a sample (docs/model.md section 13): the composition and the ice
     /// balance at the midplane of every radial cell, on the sample's structure, through the
     /// same stage functions as [`Model::run`], [`Model::midplane_profile`] and
     /// [`Model::snowlines`]. Errors: those of [`Engine::structure_for`] and
@@ -588,7 +588,7 @@ fn swing(values: impl Iterator<Item = Option<f64>>) -> Option<f64> {
     (n >= 2).then_some(hi - lo)
 }
 
-/// One-at-a-time sensitivity (docs/model.md section 15): each input is set in turn to each of
+/// One-at-a-time sensitivity (docs/model.md section 13): each input is set in turn to each of
 /// its `levels` (for a continuous input its 16th and 84th percentiles, for a choice every
 /// option) with every other input nominal; the swing of an output is its max - min over the
 /// levels. `inputs` is (name, parameters per level). The first-order variance indices are
@@ -701,7 +701,7 @@ pub fn first_order_index(x: &[f64], y: &[f64]) -> Option<f64> {
 
 /// Accumulates the inverse formation map over Monte Carlo samples: the likelihood
 /// exp(-chi2/2) of every (radius, solid-to-gas) cell averaged over the samples (docs/model.md
-/// section 15), kept as a log-sum per cell so no exponential over- or underflows.
+/// section 13), kept as a log-sum per cell so no exponential over- or underflows.
 #[derive(Debug, Clone, PartialEq)]
 pub struct PosteriorAccumulator {
     radius_au: Vec<f64>,
