@@ -4,6 +4,7 @@
 //! 1 a file could not be written.
 
 mod cli;
+mod uncertainty;
 
 use std::process::ExitCode;
 
