@@ -2,7 +2,7 @@
 
 use clap::{Parser, Subcommand, ValueEnum};
 use nivalis_disk_files::{
-    apply_assignments, from_value, parse_disk_json, parse_json_text, DiskFile, Problems,
+    apply_assignments, from_value, parse_json_text, DiskFile, Problems,
 };
 use nivalis_exports::formats::json_text;
 use nivalis_exports::methods::methods;
@@ -366,6 +366,16 @@ enum Command {
         /// when only the map is shown).
         #[arg(long, value_name = "FILE")]
         methods: Option<PathBuf>,
+        /// Marginalise the map over the disk file's `uncertainty` section: the posterior of the
+        /// formation radius (and radius x solid-to-gas) averaged over --samples disks.
+        #[arg(long)]
+        uncertainty: bool,
+        /// Samples of the marginalised fit (1-100000; with --uncertainty).
+        #[arg(long, default_value_t = 1000, allow_negative_numbers = true)]
+        samples: i64,
+        /// Seed of the marginalised fit (with --uncertainty).
+        #[arg(long, default_value_t = 1)]
+        seed: u64,
         #[command(flatten)]
         output: Output,
     },
@@ -394,6 +404,36 @@ enum Command {
         /// Write the anchored disk file here instead of standard output.
         #[arg(long, value_name = "FILE")]
         out: Option<PathBuf>,
+    },
+    /// Monte Carlo over the disk file's `uncertainty` section (docs/disk-file.md "Uncertainty"):
+    /// percentile bands (2.5, 16, 50, 84, 97.5) of the midplane C/O, C/H and O/H of gas, ice and
+    /// solids per radius, each snowline's distribution, and which input moves each most.
+    /// JSON holds everything; CSV/ECSV hold the table chosen with --table. The seed is in every file.
+    Uncertainty {
+        /// The disk file (with an `uncertainty` section).
+        disk: PathBuf,
+        /// Number of samples (1-100000).
+        #[arg(long, default_value_t = 1000, allow_negative_numbers = true)]
+        samples: i64,
+        /// Seed of the random streams (any unsigned 64-bit integer); the same seed gives the same numbers.
+        #[arg(long, default_value_t = 1)]
+        seed: u64,
+        /// Radius [au] at which the sensitivity of the gas C/O is taken.
+        #[arg(
+            long = "at-au",
+            value_name = "AU",
+            default_value_t = 1.0,
+            allow_negative_numbers = true
+        )]
+        at_au: f64,
+        /// The table written as CSV or ECSV: bands, snowlines or sensitivity.
+        #[arg(long, default_value = "bands")]
+        table: String,
+        /// Also write the methods text (sampling, seed, N, distributions, references) here.
+        #[arg(long, value_name = "FILE")]
+        methods: Option<PathBuf>,
+        #[command(flatten)]
+        output: Output,
     },
     /// A journal-ready figure of one view: SVG (true vectors, text as text) or PNG at a chosen DPI,
     /// one- or two-column width, with the program version, disk hash and resolved disk embedded.
@@ -476,6 +516,12 @@ impl Failure {
 }
 
 fn read_disk(path: &PathBuf, sets: &[String]) -> Result<DiskFile, Failure> {
+    read_disk_value(path, sets).map(|(file, _)| file)
+}
+
+/// The disk file and the JSON value it was read from, after the `--set`
+/// assignments (the value keeps its `uncertainty` section).
+fn read_disk_value(path: &PathBuf, sets: &[String]) -> Result<(DiskFile, serde_json::Value), Failure> {
     use nivalis_disk_files::MAX_DISK_FILE_BYTES;
     let label = path.display().to_string();
     // Read at most the size limit (plus a byte order mark and one byte to detect an oversized file),
@@ -515,21 +561,21 @@ fn read_disk(path: &PathBuf, sets: &[String]) -> Result<DiskFile, Failure> {
     let listed = |problems: Problems| {
         Failure::input(problems.0.iter().map(|p| format!("{label}: {p}")).collect())
     };
-    if sets.is_empty() {
-        return parse_disk_json(&text).map_err(listed);
-    }
-    // `--set`: change the JSON value, then validate it with the same reader as the file.
     let mut value = parse_json_text(&text).map_err(listed)?;
-    apply_assignments(&mut value, sets).map_err(|problems| {
-        Failure::input(
-            problems
-                .0
-                .iter()
-                .map(|p| format!("{}: {}", p.path, p.message))
-                .collect(),
-        )
-    })?;
-    from_value(&value).map_err(listed)
+    if !sets.is_empty() {
+        // `--set`: change the JSON value, then validate it with the same reader as the file.
+        apply_assignments(&mut value, sets).map_err(|problems| {
+            Failure::input(
+                problems
+                    .0
+                    .iter()
+                    .map(|p| format!("{}: {}", p.path, p.message))
+                    .collect(),
+            )
+        })?;
+    }
+    let file = from_value(&value).map_err(listed)?;
+    Ok((file, value))
 }
 
 /// A core error about a command-line option, naming the flag instead of the
@@ -622,6 +668,60 @@ fn render(table: &Table, format: TableFormat, file: &DiskFile) -> String {
             &methods(&file.parameters),
         )),
     }
+}
+
+/// `nivalis fit ... --uncertainty`: the posterior marginalised over the disk's uncertain inputs.
+#[allow(clippy::too_many_arguments)]
+fn fit_marginalised(
+    disk: &std::path::Path,
+    file: &DiskFile,
+    root: &serde_json::Value,
+    model: Model,
+    samples: i64,
+    seed: u64,
+    observed: &nivalis_physics::planet::ObservedEnvelope,
+    settings: &nivalis_physics::planet::MapSettings,
+    output: &Output,
+) -> Result<(), Failure> {
+    use nivalis_exports::uncertainty::{posterior_csv, posterior_ecsv, posterior_json};
+    let samples =
+        crate::uncertainty::check_samples(samples).map_err(|e| Failure::input(vec![e]))?;
+    let label = disk.display().to_string();
+    let spec = crate::uncertainty::spec_of(root, file, &label).map_err(Failure::input)?;
+    let (post, failed) =
+        crate::uncertainty::posterior(model, &spec, samples, seed, observed, settings)
+            .map_err(|e| Failure::input(vec![e]))?;
+    if failed > 0 {
+        eprintln!(
+            "warning: {failed} of {samples} samples failed and are left out of the posterior"
+        );
+    }
+    if post.radius_median_au.is_none() {
+        eprintln!("warning: no sample fits anywhere inside the priors; the posterior is empty");
+    }
+    let prov = Provenance::of(file);
+    let text = match output.format {
+        TableFormat::Csv => posterior_csv(&post, seed, failed, &prov),
+        TableFormat::Ecsv => posterior_ecsv(
+            &post,
+            seed,
+            failed,
+            &spec,
+            &prov,
+            &methods(&file.parameters),
+        ),
+        TableFormat::Json => json_text(&posterior_json(&post, seed, failed, &spec, &prov)),
+    };
+    if let (Some(m), Some((a, b))) = (post.radius_median_au, post.radius_interval_95_au) {
+        eprintln!(
+            "note: formation radius {} au (median), 95 % credible interval {}-{} au, marginalised over {} samples",
+            nivalis_exports::formats::number(m),
+            nivalis_exports::formats::number(a),
+            nivalis_exports::formats::number(b),
+            post.samples
+        );
+    }
+    write_output(&output.out, &text)
 }
 
 fn execute(args: Args) -> Result<(), Failure> {
@@ -793,6 +893,9 @@ fn execute(args: Args) -> Result<(), Failure> {
             convention,
             figure,
             methods: methods_file,
+            uncertainty,
+            samples,
+            seed,
             output,
         } => {
             use nivalis_exports::planet::FitOptions;
@@ -840,8 +943,13 @@ fn execute(args: Args) -> Result<(), Failure> {
                         .collect(),
                 )
             })?;
-            let file = read_disk(&disk, &sets)?;
+            let (file, root) = read_disk_value(&disk, &sets)?;
             let model = run_model(&file)?;
+            if uncertainty {
+                return fit_marginalised(
+                    &disk, &file, &root, model, samples, seed, &observed, &settings, &output,
+                );
+            }
             // Errors of the core name its fields; the user typed flags.
             let flags = [
                 ("c_to_o", "--c-to-o"),
@@ -929,7 +1037,7 @@ fn execute(args: Args) -> Result<(), Failure> {
                     nivalis_physics::Species::ALL.map(|s| s.key()).join(", ")
                 )])
             })?;
-            let file = read_disk(&disk, &sets)?;
+            let (file, root) = read_disk_value(&disk, &sets)?;
             let parameter = match adjust {
                 Adjust::FlaringAngle => AnchorParameter::FlaringAngle,
                 Adjust::TemperatureScale => AnchorParameter::MidplaneTemperatureScale,
@@ -964,7 +1072,106 @@ fn execute(args: Args) -> Result<(), Failure> {
             } else {
                 format!("{} {note}", file.notes)
             };
-            write_output(&out, &nivalis_disk_files::to_json_string(&anchored_file))
+            let mut written = nivalis_disk_files::to_value(&anchored_file);
+            // The original uncertainty section is kept; --sigma-au adds the anchored parameter's range.
+            let mut section = root
+                .get("uncertainty")
+                .cloned()
+                .unwrap_or_else(|| serde_json::json!({}));
+            if sigma_au > 0.0 {
+                match nivalis_disk_files::uncertainty::anchor_entry(
+                    anchored.at_minus_sigma.value,
+                    anchored.at_plus_sigma.value,
+                ) {
+                    Some(entry) => {
+                        if let Some(m) = section.as_object_mut() {
+                            m.insert(anchored.parameter.name().to_string(), entry);
+                        }
+                    }
+                    None => eprintln!(
+                        "warning: the range at radius +- sigma has no value at one end, so it is not written into the uncertainty section"
+                    ),
+                }
+            }
+            if section.as_object().is_some_and(|m| !m.is_empty()) {
+                if let Some(m) = written.as_object_mut() {
+                    m.insert("uncertainty".into(), section);
+                }
+            }
+            write_output(&out, &json_text(&written))
+        }
+        Command::Uncertainty {
+            disk,
+            samples,
+            seed,
+            at_au,
+            table,
+            methods: methods_out,
+            output,
+        } => {
+            use nivalis_exports::uncertainty::{self as ux, UncertaintyResult, UncertaintyTable};
+            let samples =
+                crate::uncertainty::check_samples(samples).map_err(|e| Failure::input(vec![e]))?;
+            let which = UncertaintyTable::from_key(&table).ok_or_else(|| {
+                Failure::input(vec![format!(
+                    "--table: must be one of bands, snowlines, sensitivity, got {table:?}"
+                )])
+            })?;
+            let (file, root) = read_disk_value(&disk, &sets)?;
+            let label = disk.display().to_string();
+            let spec = crate::uncertainty::spec_of(&root, &file, &label).map_err(Failure::input)?;
+            let model = run_model(&file)?;
+            let d = &file.parameters.disk;
+            if !(at_au >= d.inner_radius_au && at_au <= d.outer_radius_au) {
+                return Err(Failure::input(vec![format!(
+                    "--at-au: must be inside the disk, in [{}, {}] au, got {at_au}",
+                    d.inner_radius_au, d.outer_radius_au
+                )]));
+            }
+            let run = crate::uncertainty::run(model, &spec, samples, seed, at_au);
+            let mc = &run.monte_carlo;
+            if mc.succeeded == 0 {
+                return Err(Failure::input(
+                    std::iter::once(format!("{label}: no sample ran; the first failures:"))
+                        .chain(
+                            mc.failures
+                                .iter()
+                                .take(5)
+                                .map(|(i, m)| format!("sample {i}: {m}")),
+                        )
+                        .collect(),
+                ));
+            }
+            if mc.succeeded < mc.samples {
+                eprintln!(
+                    "warning: {} of {} samples failed and are left out of the bands; the first: sample {}: {}",
+                    mc.samples - mc.succeeded,
+                    mc.samples,
+                    mc.failures[0].0,
+                    mc.failures[0].1
+                );
+            }
+            let prov = Provenance::of(&file);
+            let used = methods(&file.parameters);
+            let result = UncertaintyResult {
+                monte_carlo: mc,
+                spec: &spec,
+                sensitivity: Some(&run.sensitivity),
+                sensitivity_radius_au: at_au,
+                provenance: &prov,
+                methods: &used,
+            };
+            if let Some(path) = &methods_out {
+                let mut text = ux::methods_text(&spec, mc);
+                text.push('\n');
+                write_output(&Some(path.clone()), &text)?;
+            }
+            let text = match output.format {
+                TableFormat::Csv => ux::table_csv(&result, which),
+                TableFormat::Ecsv => ux::table_ecsv(&result, which),
+                TableFormat::Json => json_text(&ux::uncertainty_json(&result)),
+            };
+            write_output(&output.out, &text)
         }
         Command::Figure {
             disk,

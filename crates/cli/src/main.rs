@@ -5,6 +5,7 @@
 
 mod cli;
 mod sweep_cmd;
+mod uncertainty;
 
 use std::process::ExitCode;
 

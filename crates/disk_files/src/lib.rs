@@ -25,6 +25,7 @@ pub mod fragment;
 mod json;
 mod reader;
 mod set_path;
+pub mod uncertainty;
 mod writer;
 
 pub use fields::{

@@ -29,6 +29,9 @@ pub fn from_value(value: &Value) -> Result<DiskFile, Problems> {
     let mut file = r.file(value);
     file.warnings = r.warnings;
     if r.problems.is_empty() {
+        r.problems = crate::uncertainty::section_problems(value, &file);
+    }
+    if r.problems.is_empty() {
         Ok(file)
     } else {
         Err(Problems(crate::cap_problems(r.problems)))
@@ -51,7 +54,7 @@ fn join(path: &str, key: &str) -> String {
 }
 
 /// The closest known key (did-you-mean), as [`crate::fields`] finds it.
-fn suggestion(key: &str, known: &[&str]) -> Option<String> {
+pub(crate) fn suggestion(key: &str, known: &[&str]) -> Option<String> {
     closest(key, known.iter().copied()).map(str::to_string)
 }
 
@@ -70,10 +73,19 @@ fn range_of(path: &str) -> Range {
     spec(path).range.unwrap_or(Range::Positive)
 }
 
-/// The keys of the object at `path`, from the table, in order.
+/// The keys of the object at `path`, from the table, in order; at the top
+/// level also the sections read by their own modules ([`SECTIONS`]).
 fn keys_of(path: &str) -> Vec<&'static str> {
-    children(path).map(Field::key).collect()
+    let mut keys: Vec<&'static str> = children(path).map(Field::key).collect();
+    if path.is_empty() {
+        keys.extend(SECTIONS);
+    }
+    keys
 }
+
+/// Top-level sections that are not fields of the table but read by modules of
+/// their own after the fields (`uncertainty`: [`crate::uncertainty`]).
+const SECTIONS: [&str; 1] = ["uncertainty"];
 
 /// The choices of the field at `path`, from the table.
 fn options_of(path: &str) -> Vec<&'static str> {

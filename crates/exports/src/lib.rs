@@ -16,6 +16,7 @@ pub mod planet_tools;
 pub mod provenance;
 pub mod snowlines;
 pub mod tables;
+pub mod uncertainty;
 
 pub use formats::{to_csv, to_ecsv, to_json, Format};
 pub use provenance::Provenance;

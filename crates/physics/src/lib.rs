@@ -44,12 +44,14 @@ pub mod model;
 pub mod opacity;
 pub mod params;
 pub mod planet;
+pub mod random;
 pub mod references;
 pub mod snowlines;
 pub mod species;
 pub mod star;
 pub mod statistics;
 pub mod structure;
+pub mod uncertainty;
 pub mod units;
 
 pub use composition::Composition;

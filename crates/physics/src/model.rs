@@ -82,6 +82,29 @@ pub struct Ratios {
     pub o_to_h_gas_rel_star: Option<f64>,
 }
 
+impl Ratios {
+    /// The ratios of phase abundances `ph` for a star with abundances per H `x` (what
+    /// [`Model::ratios`] computes; the Monte Carlo's midplane path calls it without a `Model`).
+    pub fn of(ph: &PhaseAbundances, x: &[f64; ELEMENT_COUNT]) -> Ratios {
+        let (c, o) = (Element::C as usize, Element::O as usize);
+        // Carbon below 1e-9 of the star's is zero up to rounding (docs/model.md section 8).
+        let carbon = |v: f64| zero_below_rounding(v, x[c]);
+        Ratios {
+            c_to_o_gas: defined_ratio(carbon(ph.gas[c]), ph.gas[o], x[o]),
+            c_to_o_ice: defined_ratio(carbon(ph.ice[c]), ph.ice[o], x[o]),
+            c_to_o_solid: defined_ratio(
+                carbon(ph.ice[c] + ph.refractory[c]),
+                ph.ice[o] + ph.refractory[o],
+                x[o],
+            ),
+            c_to_h_gas_rel_star: Some(one_within_rounding(carbon(ph.gas[c]) / x[c])),
+            o_to_h_gas_rel_star: Some(one_within_rounding(
+                zero_below_rounding(ph.gas[o], x[o]) / x[o],
+            )),
+        }
+    }
+}
+
 impl Model {
     /// Run the whole model: [`DiskStructure::compute`], [`Composition::uniform`],
     /// [`IceBalance::solve`].
@@ -285,23 +308,7 @@ impl Model {
 
     /// Ratios of a set of phase abundances.
     pub fn ratios(&self, ph: &PhaseAbundances) -> Ratios {
-        let x = self.stellar_per_h();
-        let (c, o) = (Element::C as usize, Element::O as usize);
-        // Carbon below 1e-9 of the star's is zero up to rounding (docs/model.md section 8).
-        let carbon = |v: f64| zero_below_rounding(v, x[c]);
-        Ratios {
-            c_to_o_gas: defined_ratio(carbon(ph.gas[c]), ph.gas[o], x[o]),
-            c_to_o_ice: defined_ratio(carbon(ph.ice[c]), ph.ice[o], x[o]),
-            c_to_o_solid: defined_ratio(
-                carbon(ph.ice[c] + ph.refractory[c]),
-                ph.ice[o] + ph.refractory[o],
-                x[o],
-            ),
-            c_to_h_gas_rel_star: Some(one_within_rounding(carbon(ph.gas[c]) / x[c])),
-            o_to_h_gas_rel_star: Some(one_within_rounding(
-                zero_below_rounding(ph.gas[o], x[o]) / x[o],
-            )),
-        }
+        Ratios::of(ph, self.stellar_per_h())
     }
 
     /// The midplane (z = 0) radial profile.
