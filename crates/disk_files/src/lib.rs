@@ -14,11 +14,13 @@
 //! assert_eq!(bad.to_string(), "disk.gass_mass_msun: unknown field; did you mean gas_mass_msun?");
 //! ```
 
+mod evolution;
 pub mod fragment;
 mod json;
 mod reader;
 mod writer;
 
+pub use evolution::{evolution_to_value, read_evolution, MAX_STAR_TRACK_ROWS};
 pub use json::{
     cap_problems, parse_json_text, MAX_DISK_FILE_BYTES, MAX_LISTED_PROBLEMS, MAX_NESTING_DEPTH,
 };
@@ -40,6 +42,8 @@ pub struct DiskFile {
     pub notes: String,
     /// The validated model inputs.
     pub parameters: ModelParameters,
+    /// The optional `evolution` section (docs/disk-file.md), `None` when the file has none.
+    pub evolution: Option<nivalis_physics::evolution::EvolutionParameters>,
     /// Things worth knowing that do not stop a run (e.g. edges that cut off most of
     /// the surface-density profile; the new meaning of `disk.gas_mass_msun`).
     pub warnings: Vec<Problem>,
@@ -52,6 +56,7 @@ impl DiskFile {
             name: String::new(),
             notes: String::new(),
             parameters: ModelParameters::defaults(),
+            evolution: None,
             warnings: Vec::new(),
         }
     }

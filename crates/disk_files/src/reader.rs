@@ -389,6 +389,7 @@ impl Reader {
                 "ices",
                 "composition",
                 "grid",
+                "evolution",
             ],
         );
         if let Some(schema) = self.text(top, "", "schema") {
@@ -1137,6 +1138,12 @@ impl Reader {
             d.grid.max_height_scale_heights,
             Range::Closed(1.0, 20.0),
         );
+        // The optional evolution section (its own reader, crate::evolution).
+        let (evolution, problems) =
+            crate::read_evolution(top.and_then(|m| m.get("evolution")), &f.parameters);
+        self.problems.extend(problems);
+        f.evolution = evolution;
+        let p = &mut f.parameters;
         let samples = p.grid.radial_cells * (p.grid.vertical_cells + 1);
         let bytes = samples * crate::MODEL_BYTES_PER_SAMPLE;
         if bytes > crate::MAX_MODEL_BYTES {
