@@ -156,7 +156,10 @@ pub fn read_evolution(
     e.start_myr = s.real(m, path, "start_myr", d.start_myr, 1e-4, 1.0);
     e.until_myr = s.real(m, path, "until_myr", d.until_myr, 1e-4, 20.0);
     if e.until_myr <= e.start_myr {
-        let v = m.and_then(|m| m.get("until_myr")).cloned().unwrap_or(json!(e.until_myr));
+        let v = m
+            .and_then(|m| m.get("until_myr"))
+            .cloned()
+            .unwrap_or(json!(e.until_myr));
         s.bad(
             "evolution.until_myr".into(),
             &v,
@@ -164,9 +167,16 @@ pub fn read_evolution(
         );
     }
     if let Some(v) = m.and_then(|m| m.get("snapshots")) {
-        match v.as_f64().filter(|x| x.fract() == 0.0 && (2.0..=500.0).contains(x)) {
+        match v
+            .as_f64()
+            .filter(|x| x.fract() == 0.0 && (2.0..=500.0).contains(x))
+        {
             Some(x) => e.snapshots = x as usize,
-            None => s.bad("evolution.snapshots".into(), v, "a whole number in [2, 500]"),
+            None => s.bad(
+                "evolution.snapshots".into(),
+                v,
+                "a whole number in [2, 500]",
+            ),
         }
     }
     e.max_step_fraction = s.real(m, path, "max_step_fraction", d.max_step_fraction, 1e-4, 0.5);
@@ -183,8 +193,14 @@ pub fn read_evolution(
             0.1,
             100.0,
         );
-    e.dust.monomer_radius_um =
-        s.real(dust, dp, "monomer_radius_um", d.dust.monomer_radius_um, 0.01, 100.0);
+    e.dust.monomer_radius_um = s.real(
+        dust,
+        dp,
+        "monomer_radius_um",
+        d.dust.monomer_radius_um,
+        0.01,
+        100.0,
+    );
     e.dust.material_density_g_cm3 = s.real(
         dust,
         dp,
@@ -248,7 +264,11 @@ pub fn read_evolution(
     if s.problems.is_empty() {
         let mut ages = vec![e.start_myr, e.until_myr];
         if let StarTrack::Table(rows) = &e.star_track {
-            ages.extend(rows.iter().map(|r| r.age_myr).filter(|a| *a > e.start_myr && *a < e.until_myr));
+            ages.extend(
+                rows.iter()
+                    .map(|r| r.age_myr)
+                    .filter(|a| *a > e.start_myr && *a < e.until_myr),
+            );
         }
         for age in ages {
             let (l, t) = e.star_track.at(
@@ -286,7 +306,9 @@ pub fn read_evolution(
 impl Section {
     fn rows(&mut self, v: &Value) -> Vec<StarTrackPoint> {
         let path = "evolution.star.table";
-        let Some(items) = v.as_array().filter(|a| !a.is_empty() && a.len() <= MAX_STAR_TRACK_ROWS)
+        let Some(items) = v
+            .as_array()
+            .filter(|a| !a.is_empty() && a.len() <= MAX_STAR_TRACK_ROWS)
         else {
             self.bad(path.into(), v, "an array of 1 to 1000 rows");
             return Vec::new();
@@ -297,9 +319,8 @@ impl Section {
             let row = self.object(Some(item), &p, &ROW_KEYS);
             for key in ROW_KEYS {
                 if row.is_some_and(|r| !r.contains_key(key)) {
-                    self.problems.push(
-                        Problem::new(join(&p, key), "is required").with_allowed("a number"),
-                    );
+                    self.problems
+                        .push(Problem::new(join(&p, key), "is required").with_allowed("a number"));
                 }
             }
             let point = StarTrackPoint {
@@ -351,7 +372,9 @@ pub fn evolution_to_value(e: &EvolutionParameters) -> Value {
         );
     }
     let co = match e.co_processing {
-        Some(c) => json!({"enabled": true, "timescale_myr": c.timescale_myr, "max_temperature_k": c.max_temperature_k}),
+        Some(c) => {
+            json!({"enabled": true, "timescale_myr": c.timescale_myr, "max_temperature_k": c.max_temperature_k})
+        }
         None => json!({"enabled": false, "timescale_myr": 1.0, "max_temperature_k": 30.0}),
     };
     json!({
@@ -430,19 +453,30 @@ mod tests {
             "evolution.dust.size: unknown field",
             "evolution.star.table: is required",
         ] {
-            assert!(p.iter().any(|x| x.starts_with(expected)), "{expected} not in {p:?}");
+            assert!(
+                p.iter().any(|x| x.starts_with(expected)),
+                "{expected} not in {p:?}"
+            );
         }
         let p = problems(
             r#"{"evolution": {"star": {"table": [{"age_myr": 1, "luminosity_lsun": 1, "effective_temperature_k": 4000},
                 {"age_myr": 0.5, "luminosity_lsun": 1, "effective_temperature_k": 4000}]}}}"#,
         );
-        assert!(p[0].starts_with("evolution.star.table[1].age_myr: must be above the previous row's age 1 Myr"), "{p:?}");
+        assert!(
+            p[0].starts_with(
+                "evolution.star.table[1].age_myr: must be above the previous row's age 1 Myr"
+            ),
+            "{p:?}"
+        );
     }
 
     #[test]
     fn a_star_larger_than_the_inner_edge_is_refused() {
         // Hayashi contraction from 1 Lsun at 1 Myr: at 1e-4 Myr L = 464 Lsun, R* = 0.21 au at 4000 K.
         let p = problems(r#"{"evolution": {"start_myr": 0.0001}}"#);
-        assert!(p[0].starts_with("evolution.start_myr: at 0.0001 Myr the star"), "{p:?}");
+        assert!(
+            p[0].starts_with("evolution.start_myr: at 0.0001 Myr the star"),
+            "{p:?}"
+        );
     }
 }

@@ -7,6 +7,8 @@
 //! ([`methods`]); and the provenance every file carries ([`provenance`]).
 
 pub mod bibtex;
+pub mod evolution;
+pub mod evolution_methods;
 pub mod figures;
 pub mod formats;
 pub mod methods;

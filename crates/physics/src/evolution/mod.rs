@@ -18,7 +18,7 @@ use crate::budget::{defined_ratio, zero_below_rounding, Carriers, PhaseAbundance
 use crate::error::PhysicsError;
 use crate::ices::Place;
 use crate::math::{exp, ln};
-use crate::model::Ratios;
+use crate::model::{Model, Ratios};
 use crate::params::{Element, InitialIceState, ModelParameters, SootLine, ELEMENT_COUNT};
 use crate::snowlines::{crossings, CrossingDirection};
 use crate::species::{Species, SpeciesTable, SPECIES_COUNT};
@@ -270,9 +270,10 @@ pub struct Snapshot {
     pub phases: Vec<PhaseAbundances>,
     /// The (first freeze-out) snowline of each species [cm], `None` where there is none.
     pub snowline_cm: [Option<f64>; SPECIES_COUNT],
-    /// Inward mass flux of each species' ice through its snowline [g s^-1].
+    /// Inward mass flux of each species' ice through its snowline over the last step [g s^-1]
+    /// (`None` without a snowline, and at the start, before any step).
     pub pebble_flux_g_s: [Option<f64>; SPECIES_COUNT],
-    /// Inward mass flux of each species' vapour through its snowline [g s^-1].
+    /// Inward mass flux of each species' vapour through its snowline over the last step [g s^-1].
     pub vapour_flux_g_s: [Option<f64>; SPECIES_COUNT],
     /// Outermost radius that has been above the soot line so far [cm] (irreversible soot line).
     pub soot_line_history_cm: Option<f64>,
@@ -302,6 +303,18 @@ impl EvolutionRun {
     /// Ages of the snapshots [Myr].
     pub fn times_myr(&self) -> Vec<f64> {
         self.snapshots.iter().map(|s| s.time_myr).collect()
+    }
+
+    /// The static model at snapshot `k`'s age: the same surface density, star and accretion rate
+    /// with no transport (the uniform composition; docs/model.md sections 3-8 and 12.5).
+    pub fn static_model_at(&self, k: usize) -> Result<Model, PhysicsError> {
+        let s = &self.snapshots[k];
+        let st = DiskStructure::from_surface_density(
+            &s.parameters,
+            &self.radius_cm,
+            &s.surface_density_g_cm2,
+        )?;
+        Model::run_on(st, &s.parameters)
     }
 }
 
@@ -908,11 +921,14 @@ impl<'a> Evolver<'a> {
                 .find(|l| l.direction == CrossingDirection::FreezeOut);
             if let Some(l) = line {
                 snowline_cm[i] = Some(l.radius_cm);
-                let e = nearest_face(&self.grid.face_cm, l.radius_cm);
-                let to_g_s = cr.mass_amu[i] * ATOMIC_MASS_UNIT_G
-                    / (MASS_PER_HYDROGEN_NUCLEUS_AMU_H * HYDROGEN_MASS_G);
-                pebble[i] = Some(-self.ice_flux[i][e] * to_g_s);
-                vapour[i] = Some(-self.vapour_flux[i][e] * to_g_s);
+                // The fluxes are those of the last step: none before the first.
+                if self.time_myr > self.e.start_myr {
+                    let e = nearest_face(&self.grid.face_cm, l.radius_cm);
+                    let to_g_s = cr.mass_amu[i] * ATOMIC_MASS_UNIT_G
+                        / (MASS_PER_HYDROGEN_NUCLEUS_AMU_H * HYDROGEN_MASS_G);
+                    pebble[i] = Some((0.0 - self.ice_flux[i][e]) * to_g_s);
+                    vapour[i] = Some((0.0 - self.vapour_flux[i][e]) * to_g_s);
+                }
             }
         }
         Snapshot {
