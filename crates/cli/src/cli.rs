@@ -11,6 +11,7 @@ use nivalis_exports::{
     map_table, model_table, structure_table, to_csv, to_ecsv, to_json, MapQuantity, Provenance,
     Table,
 };
+use nivalis_physics::params::Element;
 use nivalis_physics::Model;
 use std::io::{Read, Write};
 use std::path::PathBuf;
@@ -89,6 +90,17 @@ enum PlanetFormat {
     Json,
     /// `#` provenance lines, one header line and one row.
     Csv,
+}
+
+/// Which table `evolve` writes as CSV or ECSV.
+#[derive(Copy, Clone, Debug, PartialEq, Eq, ValueEnum)]
+enum EvolveTable {
+    /// One row per snapshot and radius: surface densities, grain size, temperature, gas and solid
+    /// C/O, gas [C/H] and [O/H] with the static model's at the same age, and each species' gas per H.
+    Profiles,
+    /// One row per snapshot: the star, the accretion rate, the soot-line history and each species'
+    /// snowline radius with the inward pebble (ice) and vapour mass fluxes through it.
+    Snowlines,
 }
 
 /// Averaging of a migration range.
@@ -478,6 +490,29 @@ enum Command {
         #[arg(long, value_name = "I/N", value_parser = nivalis_sweep::ShardSpec::parse)]
         shard: Option<nivalis_sweep::ShardSpec>,
     },
+    /// Evolve the disk in time (docs/model.md section 12): viscous gas, drifting two-population
+    /// dust, vapour and ice of every volatile carried and exchanged, the star on its track.
+    /// Snapshots log-spaced in age; JSON holds every snapshot (times_myr, radius_au, per-snapshot
+    /// profiles, snowlines.<SPECIES> [au], pebble and vapour fluxes [g/s], conservation per
+    /// element, the static model at each age, methods); CSV and ECSV write one table (--table).
+    /// The disk file's optional `evolution` section sets the parameters (docs/disk-file.md).
+    Evolve {
+        /// The disk file.
+        disk: PathBuf,
+        /// End age [Myr], above evolution.start_myr (default 0.01) and at most 20; default the
+        /// file's evolution.until_myr (5).
+        #[arg(long = "until-myr", value_name = "MYR", allow_negative_numbers = true)]
+        until_myr: Option<f64>,
+        /// Number of snapshots, log-spaced in age from start to end (2-500); default the file's
+        /// evolution.snapshots (20).
+        #[arg(long, value_name = "N", allow_negative_numbers = true)]
+        snapshots: Option<i64>,
+        /// For CSV and ECSV: the radius x time profiles or the snowline tracks.
+        #[arg(long, value_enum, default_value_t = EvolveTable::Profiles)]
+        table: EvolveTable,
+        #[command(flatten)]
+        output: Output,
+    },
     /// A plain-text methods paragraph for exactly this configuration (methods, parameter values,
     /// binding-energy set, abundance reference, grid, simplifications) with citations, and
     /// optionally a BibTeX file of exactly the references cited.
@@ -801,6 +836,78 @@ fn execute(args: Args) -> Result<(), Failure> {
                 &output.out,
                 &render(&map_table(&model, q, &name), output.format, &file),
             )
+        }
+        Command::Evolve {
+            disk,
+            until_myr,
+            snapshots,
+            table,
+            output,
+        } => {
+            use nivalis_exports::evolution::{
+                evolution_json, evolution_table, snowline_tracks_table,
+            };
+            use nivalis_exports::evolution_methods::evolution_methods;
+            let mut file = read_disk(&disk)?;
+            let mut e = file
+                .evolution
+                .clone()
+                .unwrap_or_else(nivalis_physics::evolution::EvolutionParameters::defaults);
+            if let Some(t) = until_myr {
+                e.until_myr = t;
+            }
+            if let Some(n) = snapshots {
+                if !(2..=500).contains(&n) {
+                    return Err(Failure::input(vec![format!(
+                        "--snapshots: must be a whole number in [2, 500], got {n}"
+                    )]));
+                }
+                e.snapshots = n as usize;
+            }
+            let flags = [("evolution.until_myr", "--until-myr")];
+            e.check().map_err(|err| option_failure(&err, &flags))?;
+            let run = nivalis_physics::evolution::evolve(&file.parameters, &e)
+                .map_err(|err| option_failure(&err, &flags))?;
+            let statics = (0..run.snapshots.len())
+                .map(|k| run.static_model_at(k))
+                .collect::<Result<Vec<_>, _>>()
+                .map_err(|err| Failure::input(vec![err.to_string()]))?;
+            file.evolution = Some(e.clone());
+            let provenance = Provenance::of(&file);
+            let t = match table {
+                EvolveTable::Profiles => evolution_table(&run, &statics),
+                EvolveTable::Snowlines => snowline_tracks_table(&run),
+            };
+            let text = match output.format {
+                TableFormat::Csv => to_csv(&t, &provenance),
+                TableFormat::Ecsv => nivalis_exports::formats::to_ecsv_with_meta(
+                    &t,
+                    &provenance,
+                    &evolution_methods(&file.parameters, &e),
+                    &[(
+                        "conservation",
+                        Element::ALL
+                            .iter()
+                            .map(|el| {
+                                format!(
+                                    "{} {:e}",
+                                    el.symbol(),
+                                    run.conservation_relative_error[*el as usize]
+                                )
+                            })
+                            .collect::<Vec<_>>()
+                            .join(", "),
+                    )],
+                ),
+                TableFormat::Json => json_text(&evolution_json(
+                    &run,
+                    &statics,
+                    &file.parameters,
+                    &e,
+                    &provenance,
+                )),
+            };
+            write_output(&output.out, &text)
         }
         Command::Snowlines { disk, out } => {
             let file = read_disk(&disk, &sets)?;

@@ -1124,3 +1124,75 @@ fn planet_and_fit_methods_equal_the_pages() {
     assert_eq!(written, planet_methods(&page).unwrap());
     assert!(written.contains("C/O = 0.6 ± 0.05"), "{written}");
 }
+
+#[test]
+fn evolve_writes_the_issue_json_layout_and_refuses_bad_ages() {
+    // Issue 13 item 3: `nivalis evolve DISK --until-myr T --snapshots N --format json`.
+    let path = temp_file(
+        "evolve.json",
+        r#"{"grid": {"radial_cells": 40, "vertical_cells": 8}, "evolution": {"alpha": 0.003}}"#,
+    );
+    let p = path.to_str().unwrap();
+    let out = nivalis(&[
+        "evolve",
+        p,
+        "--until-myr",
+        "0.5",
+        "--snapshots",
+        "3",
+        "--format",
+        "json",
+    ]);
+    assert_eq!(out.status.code(), Some(0), "{}", stderr(&out));
+    let v: serde_json::Value = serde_json::from_str(&stdout(&out)).unwrap();
+    assert_eq!(v["times_myr"].as_array().unwrap().len(), 3);
+    assert_eq!(v["times_myr"][2].as_f64(), Some(0.5));
+    assert_eq!(v["radius_au"].as_array().unwrap().len(), 40);
+    for key in [
+        "surface_density_g_cm2",
+        "dust_surface_density_g_cm2",
+        "c_to_o_gas",
+        "c_to_o_solid",
+        "c_to_h_gas_dex",
+        "o_to_h_gas_dex",
+    ] {
+        assert_eq!(v[key].as_array().unwrap().len(), 3, "{key}");
+        assert_eq!(v[key][1].as_array().unwrap().len(), 40, "{key}");
+    }
+    assert_eq!(v["snowlines"]["H2O"].as_array().unwrap().len(), 3);
+    for e in ["C", "O", "N", "S", "Si", "Mg", "Fe"] {
+        assert!(v["conservation"][e].as_f64().unwrap() < 1e-10, "{e}");
+    }
+    // The resolved disk records what ran: the file's alpha and the command line's end age.
+    assert_eq!(v["disk"]["evolution"]["alpha"].as_f64(), Some(0.003));
+    assert_eq!(v["disk"]["evolution"]["until_myr"].as_f64(), Some(0.5));
+    assert!(!stdout(&out).contains("NaN"));
+    // CSV of the snowline tracks: one row per snapshot.
+    let out = nivalis(&[
+        "evolve",
+        p,
+        "--until-myr",
+        "0.5",
+        "--snapshots",
+        "3",
+        "--table",
+        "snowlines",
+    ]);
+    assert_eq!(out.status.code(), Some(0));
+    assert_eq!(csv_body(&stdout(&out)).lines().count(), 4);
+    // Bad ages and counts name the flag and exit 2.
+    let out = nivalis(&["evolve", p, "--until-myr", "50"]);
+    assert_eq!(out.status.code(), Some(2));
+    assert!(
+        stderr(&out).contains("--until-myr: must be above"),
+        "{}",
+        stderr(&out)
+    );
+    let out = nivalis(&["evolve", p, "--until-myr", "1", "--snapshots", "1"]);
+    assert_eq!(out.status.code(), Some(2));
+    assert!(
+        stderr(&out).contains("--snapshots: must be a whole number in [2, 500]"),
+        "{}",
+        stderr(&out)
+    );
+}

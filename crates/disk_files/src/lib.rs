@@ -21,6 +21,7 @@
 //! [`apply_setting`].
 
 pub mod fields;
+mod evolution;
 pub mod fragment;
 mod json;
 mod reader;
@@ -32,6 +33,7 @@ pub use fields::{
     apply_setting, field_by_path, fields, fields_json, get_at_path, parse_value_text, set_at_path,
     suggest_path, unknown_path, Field, Kind, Range, Slider,
 };
+pub use evolution::{evolution_to_value, read_evolution, MAX_STAR_TRACK_ROWS};
 pub use json::{
     cap_problems, parse_json_text, MAX_DISK_FILE_BYTES, MAX_LISTED_PROBLEMS, MAX_NESTING_DEPTH,
 };
@@ -56,6 +58,8 @@ pub struct DiskFile {
     pub notes: String,
     /// The validated model inputs.
     pub parameters: ModelParameters,
+    /// The optional `evolution` section (docs/disk-file.md), `None` when the file has none.
+    pub evolution: Option<nivalis_physics::evolution::EvolutionParameters>,
     /// Things worth knowing that do not stop a run (e.g. edges that cut off most of
     /// the surface-density profile; the new meaning of `disk.gas_mass_msun`).
     pub warnings: Vec<Problem>,
@@ -68,6 +72,7 @@ impl DiskFile {
             name: String::new(),
             notes: String::new(),
             parameters: ModelParameters::defaults(),
+            evolution: None,
             warnings: Vec::new(),
         }
     }

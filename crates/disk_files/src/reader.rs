@@ -84,8 +84,9 @@ fn keys_of(path: &str) -> Vec<&'static str> {
 }
 
 /// Top-level sections that are not fields of the table but read by modules of
-/// their own after the fields (`uncertainty`: [`crate::uncertainty`]).
-const SECTIONS: [&str; 1] = ["uncertainty"];
+/// their own after the fields (`uncertainty`: [`crate::uncertainty`];
+/// `evolution`: `crate::evolution`).
+const SECTIONS: [&str; 2] = ["uncertainty", "evolution"];
 
 /// The choices of the field at `path`, from the table.
 fn options_of(path: &str) -> Vec<&'static str> {
@@ -837,6 +838,12 @@ impl Reader {
             "max_height_scale_heights",
             d.grid.max_height_scale_heights,
         );
+        // The optional evolution section (its own reader, crate::evolution).
+        let (evolution, problems) =
+            crate::read_evolution(top.and_then(|m| m.get("evolution")), &f.parameters);
+        self.problems.extend(problems);
+        f.evolution = evolution;
+        let p = &mut f.parameters;
         let samples = p.grid.radial_cells * (p.grid.vertical_cells + 1);
         let bytes = samples * crate::MODEL_BYTES_PER_SAMPLE;
         if bytes > crate::MAX_MODEL_BYTES {

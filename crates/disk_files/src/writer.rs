@@ -148,6 +148,9 @@ pub fn to_value(file: &DiskFile) -> Value {
     if let Some(disk) = value.get_mut("disk").and_then(Value::as_object_mut) {
         disk.shift_remove(other);
     }
+    if let (Some(e), Some(m)) = (&file.evolution, value.as_object_mut()) {
+        m.insert("evolution".into(), crate::evolution_to_value(e));
+    }
     value
 }
 

@@ -134,7 +134,8 @@ pub fn bibtex(methods: &[MethodEntry]) -> String {
         .join("\n")
 }
 
-fn citation_list(keys: &[&'static str]) -> String {
+/// The citations of reference keys in words, joined by "; ".
+pub fn citation_list(keys: &[&'static str]) -> String {
     keys.iter()
         .filter_map(|k| reference(k))
         .map(|r| r.citation)
@@ -142,7 +143,8 @@ fn citation_list(keys: &[&'static str]) -> String {
         .join("; ")
 }
 
-fn capitalised(s: &str) -> String {
+/// `s` with its first letter upper-case.
+pub fn capitalised(s: &str) -> String {
     let mut c = s.chars();
     match c.next() {
         Some(f) => f.to_uppercase().collect::<String>() + c.as_str(),

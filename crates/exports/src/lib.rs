@@ -8,6 +8,8 @@
 //! planet tools' requests, views, exports and methods text ([`planet_tools`]).
 
 pub mod bibtex;
+pub mod evolution;
+pub mod evolution_methods;
 pub mod figures;
 pub mod formats;
 pub mod methods;

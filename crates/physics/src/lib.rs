@@ -37,6 +37,7 @@ pub mod balance;
 pub mod budget;
 pub mod composition;
 pub mod error;
+pub mod evolution;
 pub mod finite;
 pub mod ices;
 pub mod math;

@@ -1,0 +1,340 @@
+//! The evolving disk (issue 13; docs/model.md section 12) against analytic solutions and
+//! published results: the viscous gas against the similarity solution of Lynden-Bell & Pringle
+//! 1974 (Hartmann et al. 1998 form), element conservation, the static model as the limit with no
+//! drift and no diffusion, the vapour enrichment inside snowlines (qualitative, Öberg & Bergin
+//! 2016; Booth et al. 2017) and the pile-up of vapour inside the water snowline against the
+//! estimate of Schoonenberg & Ormel 2017.
+//! Run with `cargo test -p nivalis-tests --test evolution`.
+
+use nivalis_physics::evolution::star_track::StarTrack;
+use nivalis_physics::evolution::viscous::{alpha_viscosity_cm2_s, SimilaritySolution};
+use nivalis_physics::evolution::{evolve, ratios_of, EvolutionParameters, EvolutionRun};
+use nivalis_physics::params::{GasMassMeaning, InitialIceState, SootLine, TemperatureLaw};
+use nivalis_physics::structure::{surface_density_normalisation_g_cm2, DiskStructure};
+use nivalis_physics::units::{AU_CM, JULIAN_YEAR_S, MSUN_PER_YR_TO_G_PER_S, SOLAR_MASS_G};
+
+use nivalis_physics::{Model, ModelParameters, Species};
+
+const MYR_S: f64 = 1.0e6 * JULIAN_YEAR_S;
+
+/// A disk with nu ∝ r exactly: T = 280 K (r/au)^-1/2 (the observed law, floored at 5 K, which no
+/// radius here reaches), gamma = 1, the profile's total mass given.
+fn similarity_disk() -> (ModelParameters, EvolutionParameters) {
+    let mut p = ModelParameters::defaults();
+    p.disk.temperature = TemperatureLaw::PowerLaw {
+        midplane_1au_k: 280.0,
+        midplane_index: 0.5,
+        atmosphere: None,
+    };
+    p.disk.background_temperature_k = 5.0;
+    p.disk.surface_density_index = 1.0;
+    p.disk.characteristic_radius_au = 40.0;
+    p.disk.gas_mass_meaning = GasMassMeaning::ProfileTotal;
+    p.disk.gas_mass_msun = 0.05;
+    p.disk.inner_radius_au = 0.1;
+    p.disk.outer_radius_au = 2000.0;
+    p.grid.radial_cells = 300;
+    p.grid.vertical_cells = 8;
+    let mut e = EvolutionParameters::defaults();
+    e.alpha = 3e-3;
+    e.start_myr = 0.01;
+    e.until_myr = 3.0;
+    e.snapshots = 8;
+    e.star_track = StarTrack::Fixed;
+    (p, e)
+}
+
+#[test]
+fn gas_follows_the_similarity_solution_within_one_percent() {
+    // Lynden-Bell & Pringle 1974; Hartmann et al. 1998 eqs. 33-36: Sigma(r, t) and Mdot(t) of a
+    // disk with nu = nu_c (r/R_c), started from the same profile at t0.
+    let (p, e) = similarity_disk();
+    let run = evolve(&p, &e).unwrap();
+    let rc = p.disk.characteristic_radius_au * AU_CM;
+    let m_star = p.star.mass_msun * SOLAR_MASS_G;
+    let t_rc = 280.0 / (rc / AU_CM).sqrt();
+    let lbp = SimilaritySolution {
+        sigma_c_g_cm2: surface_density_normalisation_g_cm2(
+            p.disk.gas_mass_msun * SOLAR_MASS_G,
+            rc,
+            1.0,
+        ),
+        characteristic_radius_cm: rc,
+        gamma: 1.0,
+        nu_c_cm2_s: alpha_viscosity_cm2_s(e.alpha, t_rc, m_star, rc),
+    };
+    let ts = lbp.viscous_time_s() / MYR_S;
+    assert!(ts > 0.05 && ts < 1.0, "viscous time {ts} Myr");
+    let mut checked = 0;
+    for s in &run.snapshots[1..] {
+        let tau = (s.time_myr - e.start_myr) * MYR_S;
+        let mut worst: f64 = 0.0;
+        for (j, &r) in run.radius_cm.iter().enumerate() {
+            if r < 1.0 * AU_CM || r > 3.0 * rc {
+                continue;
+            }
+            let exact = lbp.surface_density_g_cm2(r, tau);
+            worst = worst.max((s.surface_density_g_cm2[j] / exact - 1.0).abs());
+        }
+        assert!(
+            worst < 0.01,
+            "t = {} Myr: worst Sigma error {worst}",
+            s.time_myr
+        );
+        let mdot = s.accretion_rate_msun_per_yr * MSUN_PER_YR_TO_G_PER_S;
+        let exact = lbp.accretion_rate_g_s(p.disk.inner_radius_au * AU_CM, tau);
+        assert!(
+            (mdot / exact - 1.0).abs() < 0.01,
+            "t = {}: Mdot {mdot:e} vs {exact:e}",
+            s.time_myr
+        );
+        checked += 1;
+    }
+    assert_eq!(checked, 7);
+}
+
+/// The default disk on a coarser grid (the tests run unoptimised).
+fn small_disk() -> ModelParameters {
+    let mut p = ModelParameters::defaults();
+    p.grid.radial_cells = 100;
+    p.grid.vertical_cells = 20;
+    p
+}
+
+fn short_run() -> EvolutionParameters {
+    let mut e = EvolutionParameters::defaults();
+    e.until_myr = 2.0;
+    e.snapshots = 8;
+    e
+}
+
+#[test]
+fn every_element_is_conserved_to_1e_10() {
+    // Issue 13 item 5: M_end + M_out = M_start for every element, M_out what left through the
+    // edges (common practice for conservative schemes; the tolerance is the issue's).
+    for drift in [true, false] {
+        let mut e = short_run();
+        e.dust.drift = drift;
+        e.co_processing = Some(nivalis_physics::evolution::CoProcessing {
+            timescale_myr: 0.5,
+            max_temperature_k: 30.0,
+        });
+        let run = evolve(&small_disk(), &e).unwrap();
+        for (k, err) in run.conservation_relative_error.iter().enumerate() {
+            assert!(*err < 1e-10, "drift {drift}: element {k}: {err:e}");
+        }
+        assert!(run.gas_conservation_relative_error < 1e-10);
+        // Something did leave (the test is not vacuous): the gas mass fell.
+        let first = &run.snapshots[0];
+        let last = run.snapshots.last().unwrap();
+        let mass = |s: &nivalis_physics::evolution::Snapshot| -> f64 {
+            s.surface_density_g_cm2
+                .iter()
+                .zip(&run.radius_cm)
+                .map(|(x, r)| x * r)
+                .sum()
+        };
+        assert!(mass(last) < 0.9 * mass(first));
+    }
+}
+
+/// The static model at a snapshot's age: the same Sigma, star and accretion rate.
+fn static_at(run: &EvolutionRun, k: usize, initial: InitialIceState) -> Model {
+    let s = &run.snapshots[k];
+    let mut q = s.parameters.clone();
+    q.ices.initial_state = initial;
+    let st =
+        DiskStructure::from_surface_density(&q, &run.radius_cm, &s.surface_density_g_cm2).unwrap();
+    Model::run_on(st, &q).unwrap()
+}
+
+#[test]
+fn with_no_drift_and_no_diffusion_the_evolved_disk_is_the_static_model_at_each_age() {
+    // Issue 13 item 5. With the dust moving with the gas and no diffusion, every species' total per
+    // H stays the star's, and the phases are the static model's for the evolved Sigma, L(t) and
+    // Mdot(t). Step model (instant equilibrium): equal to rounding everywhere. Reversible soot line,
+    // whose static form has no history.
+    let mut p = small_disk();
+    p.composition.soot_line = SootLine::Reversible;
+    p.ices.desorption = nivalis_physics::params::DesorptionModel::FixedTemperature;
+    let mut e = short_run();
+    e.dust.drift = false;
+    e.diffusion = false;
+    let run = evolve(&p, &e).unwrap();
+    for k in 0..run.snapshots.len() {
+        let s = &run.snapshots[k];
+        let model = static_at(&run, k, InitialIceState::Equilibrium);
+        let prof = model.midplane_profile();
+        for j in 0..run.radius_cm.len() {
+            for (i, sp) in Species::ALL.iter().enumerate() {
+                let x = model.carriers().species_per_h[i];
+                assert!(
+                    (s.species_per_h[j][i] - x).abs() <= 1e-12 * x,
+                    "{} {j}",
+                    sp.key()
+                );
+            }
+            for el in 0..7 {
+                for (a, b) in [
+                    (s.phases[j].gas[el], prof.phases[j].gas[el]),
+                    (s.phases[j].ice[el], prof.phases[j].ice[el]),
+                    (s.phases[j].refractory[el], prof.phases[j].refractory[el]),
+                ] {
+                    assert!(
+                        (a - b).abs() <= 1e-12 * run.stellar_per_h[el],
+                        "t {} j {j} el {el}: {a:e} {b:e}",
+                        s.time_myr
+                    );
+                }
+            }
+        }
+    }
+    // The kinetic ice balance: where the static equilibration time is below 1e-5 of the age the
+    // rates have kept up with the changing disk, and the evolved ice fractions equal the static
+    // equilibrium (the lag is of order tau/t).
+    let mut p = small_disk();
+    p.composition.soot_line = SootLine::Reversible;
+    let run = evolve(&p, &e).unwrap();
+    let mut compared = 0;
+    for k in 1..run.snapshots.len() {
+        let s = &run.snapshots[k];
+        let model = static_at(&run, k, InitialIceState::Equilibrium);
+        let age_s = s.time_myr * MYR_S;
+        for j in 0..run.radius_cm.len() {
+            let kk = model.structure().index(j, 0);
+            for sp in Species::ALL {
+                let tau = model.equilibration_time_s_at(sp, kk);
+                if tau < 1e-5 * age_s {
+                    let a = s.ice_fraction[j][sp.index()];
+                    let b = model.ice_fraction_at(sp, kk);
+                    assert!(
+                        (a - b).abs() < 1e-6,
+                        "t {} r {} {}: {a} vs {b}",
+                        s.time_myr,
+                        run.radius_cm[j] / AU_CM,
+                        sp.key()
+                    );
+                    compared += 1;
+                }
+            }
+        }
+    }
+    assert!(compared > 1000, "{compared}");
+}
+
+#[test]
+fn drift_enriches_the_gas_inside_the_snowlines() {
+    // Qualitative (Öberg & Bergin 2016; Booth et al. 2017): icy pebbles drifting through the water
+    // snowline raise the water vapour inside it, so the gas there gains oxygen and its C/O falls
+    // below the static value; inside the CO snowline the gas carries more carbon than the star
+    // at early times. "Early" is before 0.5 Myr for this small disk (R_c = 50 au, 0.01 Msun):
+    // by 1 Myr its pebbles have drained and the inner gas is poorer in water than the static
+    // disk, the later phase Booth et al. 2017 also find.
+    let p = small_disk();
+    let run = evolve(&p, &short_run()).unwrap();
+    let stat = Model::run(&p).unwrap();
+    let water = Species::H2O.index();
+    let mut water_checked = false;
+    let mut carbon_rich = false;
+    for s in run
+        .snapshots
+        .iter()
+        .filter(|s| s.time_myr > 0.05 && s.time_myr < 0.5)
+    {
+        let r_w = s.snowline_cm[water].unwrap();
+        let r_co = s.snowline_cm[Species::CO.index()].unwrap();
+        let inside: Vec<usize> = (0..run.radius_cm.len())
+            .filter(|&j| run.radius_cm[j] < 0.7 * r_w && s.midplane_temperature_k[j] < 400.0)
+            .collect();
+        assert!(!inside.is_empty());
+        let static_prof = static_at(
+            &run,
+            run.snapshots
+                .iter()
+                .position(|x| x.time_myr == s.time_myr)
+                .unwrap(),
+            InitialIceState::Equilibrium,
+        )
+        .midplane_profile();
+        for &j in &inside {
+            let x_static = stat.carriers().species_per_h[water];
+            let x_vap = s.species_per_h[j][water] * (1.0 - s.ice_fraction[j][water]);
+            assert!(
+                x_vap > x_static,
+                "t {} r {}: water vapour {x_vap:e} vs {x_static:e}",
+                s.time_myr,
+                run.radius_cm[j] / AU_CM
+            );
+            let co = ratios_of(&run.stellar_per_h, &s.phases[j])
+                .c_to_o_gas
+                .unwrap();
+            let co_static = static_prof.c_to_o_gas[j].unwrap();
+            assert!(
+                co < co_static,
+                "t {} r {}: C/O {co} vs static {co_static}",
+                s.time_myr,
+                run.radius_cm[j] / AU_CM
+            );
+            water_checked = true;
+        }
+        for j in 0..run.radius_cm.len() {
+            if run.radius_cm[j] > r_w && run.radius_cm[j] < r_co {
+                let ch = ratios_of(&run.stellar_per_h, &s.phases[j])
+                    .c_to_h_gas_rel_star
+                    .unwrap();
+                carbon_rich |= ch > 1.0;
+            }
+        }
+    }
+    assert!(water_checked);
+    assert!(
+        carbon_rich,
+        "no gas with C/H above the star's inside the CO snowline before 0.5 Myr"
+    );
+}
+
+#[test]
+fn water_vapour_inside_the_snowline_follows_the_pebble_flux() {
+    // Where the inner disk is in a steady state, the water crossing the snowline inward (pebble ice
+    // plus vapour) is carried on by the gas, so the vapour's mass fraction inside it is the flux
+    // ratio (Mdot_ice + Mdot_vap) / Mdot_gas at the snowline (the steady-state estimate of
+    // Schoonenberg & Ormel 2017, section 3; Ciesla & Cuzzi 2006; from memory). It applies where the
+    // gas crosses the inner disk faster than the pebble flux changes: a large disk (R_c = 200 au,
+    // slowly declining pebble flux) with alpha = 1e-2 (a fast inner disk), after 0.5 Myr. In the
+    // default disk the pebble flux falls on the inner disk's own time scale and the estimate does
+    // not apply. Checked to 10 %.
+    let mut p = small_disk();
+    p.disk.characteristic_radius_au = 200.0;
+    p.disk.gas_mass_msun = 0.1;
+    p.disk.outer_radius_au = 1000.0;
+    let mut e = short_run();
+    e.alpha = 1e-2;
+    e.until_myr = 3.0;
+    let run = evolve(&p, &e).unwrap();
+    let water = Species::H2O;
+    let mass_per_h = 18.015 / 1.4 / 1.007_825;
+    let mut checked = 0;
+    for s in run.snapshots.iter().filter(|s| s.time_myr >= 0.5) {
+        let r_w = s.snowline_cm[water.index()].unwrap();
+        let face = nivalis_physics::evolution::nearest_face(&run.face_cm, r_w);
+        let ratio = (s.pebble_flux_g_s[water.index()].unwrap()
+            + s.vapour_flux_g_s[water.index()].unwrap())
+            / s.gas_inward_flux_g_s[face];
+        for j in 0..run.radius_cm.len() {
+            let r = run.radius_cm[j];
+            if r > 0.3 * r_w && r < 0.6 * r_w {
+                let x = s.species_per_h[j][water.index()]
+                    * (1.0 - s.ice_fraction[j][water.index()])
+                    * mass_per_h;
+                assert!(
+                    (x / ratio - 1.0).abs() < 0.1,
+                    "t {} r {}: {x:e} vs {ratio:e}",
+                    s.time_myr,
+                    r / AU_CM
+                );
+                checked += 1;
+            }
+        }
+    }
+    assert!(checked > 3, "{checked}");
+}
