@@ -2,7 +2,7 @@
 //! the equilibrium and the state after the disk's age, both in closed form, no
 //! iteration and no time stepping.
 
-use crate::math::{exp, exp_m1, ln_1p, sqrt};
+use crate::math::{exp, exp_m1, exp_poly, ln_1p, ln_upper_bound, sqrt};
 use crate::params::{DesorptionModel, InitialIceState, ModelParameters};
 use crate::species::{FrequencyRule, Species, SpeciesTable, SPECIES_COUNT};
 use crate::units::{
@@ -107,9 +107,11 @@ pub struct BalanceConstants {
     photodesorption: bool,
     /// Per species: sqrt(8 k / (pi m)) so that v_th = coef sqrt(T).
     thermal_speed_coefficient: [f64; SPECIES_COUNT],
-    /// Per species: nu and E_b.
+    /// Per species: 1 / (S coef), so that 1/A = that / (n_gr pi a^2 sqrt(T)).
+    inverse_sticking_speed: [f64; SPECIES_COUNT],
+    /// Per species: nu and -E_b.
     nu: [f64; SPECIES_COUNT],
-    binding: [f64; SPECIES_COUNT],
+    minus_binding: [f64; SPECIES_COUNT],
     /// Per species: cosmic-ray desorption rate per unit zeta [s^-1 per s^-1].
     cr_per_zeta: [f64; SPECIES_COUNT],
     yields: [f64; SPECIES_COUNT],
@@ -181,24 +183,31 @@ impl RateEquation {
         a * (self.molecules_cm3 - n) - loss
     }
 
+    /// The two linear branches of this equation (their rates and roots), computed as the grid's
+    /// ice balance computes them (see [`Branches`]).
+    fn branches(&self) -> Branches {
+        let (a, m, big_n) = (self.adsorption_s, self.monolayer_cm3, self.molecules_cm3);
+        Branches::new(
+            a,
+            1.0 / a,
+            self.desorption_s,
+            self.photodesorption_cm3_s / m,
+            m,
+            big_n,
+            self.zeroth_order,
+        )
+    }
+
     /// The one root n_eq of dn/dt = 0 [cm^-3] and the relaxation time there [s]: on the thin
     /// branch (n_eq <= M, or first order) n_eq = A N/(A + B + C/M), time 1/(A + B + C/M); on the
     /// thick branch n_eq = N - (B M + C)/A, time 1/A.
     pub fn equilibrium(&self) -> (f64, f64) {
-        let (a, m) = (self.adsorption_s, self.monolayer_cm3);
-        let thin_rate = a + self.desorption_s + self.photodesorption_cm3_s / m;
-        let thin = a * self.molecules_cm3 / thin_rate;
-        if !self.zeroth_order || thin <= m {
-            (thin, 1.0 / thin_rate)
+        let b = self.branches();
+        if b.thin_branch() {
+            (b.thin_root, b.inverse_thin_rate)
         } else {
-            (self.thick_equilibrium(), 1.0 / a)
+            (b.thick_root, b.inverse_adsorption)
         }
-    }
-
-    fn thick_equilibrium(&self) -> f64 {
-        self.molecules_cm3
-            - (self.desorption_s * self.monolayer_cm3 + self.photodesorption_cm3_s)
-                / self.adsorption_s
     }
 
     /// The exact solution n(t) [cm^-3] from n(0) = `initial_cm3`, closed form.
@@ -209,9 +218,69 @@ impl RateEquation {
     /// crosses n = M at most once, at t_s = ln((n0 - n_root)/(M - n_root))/k, and continues on the
     /// other branch from n = M (docs/model.md section 7). A > 0 and M > 0 are required.
     pub fn evolve(&self, initial_cm3: f64, time_s: f64) -> f64 {
-        let (a, m, big_n) = (self.adsorption_s, self.monolayer_cm3, self.molecules_cm3);
-        let thin_rate = a + self.desorption_s + self.photodesorption_cm3_s / m;
-        let thin_root = a * big_n / thin_rate;
+        self.branches().evolve(initial_cm3, time_s)
+    }
+}
+
+/// The two linear branches of the ice rate equation at one place (docs/model.md section 7), with
+/// the rates and roots in the form the grid computes them: one division (1/(A + B + C/M)) per
+/// species and place; 1/A, 1/N and C/M come from quantities of the place and of the species
+/// computed once ([`BalanceConstants::sample`]).
+#[derive(Debug, Clone, Copy, PartialEq)]
+struct Branches {
+    adsorption: f64,
+    inverse_adsorption: f64,
+    monolayer: f64,
+    /// A + B + C/M and its inverse.
+    thin_rate: f64,
+    inverse_thin_rate: f64,
+    /// A / (A + B + C/M).
+    thin_fraction: f64,
+    /// A N / (A + B + C/M).
+    thin_root: f64,
+    /// N - (B + C/M) M / A.
+    thick_root: f64,
+    zeroth_order: bool,
+}
+
+impl Branches {
+    #[inline(always)]
+    fn new(
+        adsorption: f64,
+        inverse_adsorption: f64,
+        desorption: f64,
+        photodesorption_per_monolayer: f64,
+        monolayer: f64,
+        molecules: f64,
+        zeroth_order: bool,
+    ) -> Branches {
+        let thin_rate = adsorption + desorption + photodesorption_per_monolayer;
+        let inverse_thin_rate = 1.0 / thin_rate;
+        let thin_fraction = adsorption * inverse_thin_rate;
+        Branches {
+            adsorption,
+            inverse_adsorption,
+            monolayer,
+            thin_rate,
+            inverse_thin_rate,
+            thin_fraction,
+            thin_root: thin_fraction * molecules,
+            thick_root: molecules
+                - monolayer * (desorption + photodesorption_per_monolayer) * inverse_adsorption,
+            zeroth_order,
+        }
+    }
+
+    /// Whether the equilibrium lies on the thin branch (first order, or n_eq <= M there).
+    #[inline(always)]
+    fn thin_branch(&self) -> bool {
+        !self.zeroth_order | (self.thin_root <= self.monolayer)
+    }
+
+    /// [`RateEquation::evolve`] on these branches.
+    fn evolve(&self, initial_cm3: f64, time_s: f64) -> f64 {
+        let (a, m) = (self.adsorption, self.monolayer);
+        let (thin_rate, thin_root, thick_root) = (self.thin_rate, self.thin_root, self.thick_root);
         // n0 e^{-k t} + root (1 - e^{-k t}), with 1 - e^{-k t} from expm1 for small k t.
         let relax = |n0: f64, root: f64, k: f64, t: f64| {
             let decay = -exp_m1(-k * t);
@@ -220,7 +289,6 @@ impl RateEquation {
         if !self.zeroth_order {
             return relax(initial_cm3, thin_root, thin_rate, time_s);
         }
-        let thick_root = self.thick_equilibrium();
         if initial_cm3 > m {
             if thick_root >= m {
                 return relax(initial_cm3, thick_root, a, time_s);
@@ -244,6 +312,91 @@ impl RateEquation {
             }
         }
     }
+
+    /// The root [`Branches::evolve`] ends on after `time_s` from `initial_cm3`, and whether it is
+    /// provably reached exactly: the last relaxation has k t > 40, and libm's expm1 returns
+    /// exactly -1 for arguments below -56 ln 2 = -38.8, so `relax` returns the root itself. For a
+    /// path that crosses n = M the crossing time ln(1 + q)/k is bounded from above (without a
+    /// logarithm or a division, [`ln_upper_bound`]) with a relative margin of 1e-9. Branch-free;
+    /// `false` (not proven) sends the place through [`Branches::evolve`].
+    #[inline(always)]
+    fn settled_root(&self, initial_cm3: f64, time_s: f64) -> (f64, bool) {
+        const SETTLED_RATE_TIME: f64 = 40.0;
+        let (a, m) = (self.adsorption, self.monolayer);
+        let (thin_root, thick_root) = (self.thin_root, self.thick_root);
+        let zeroth = self.zeroth_order;
+        let above = initial_cm3 > m;
+        let thick_holds = thick_root >= m;
+        let thin_holds = thin_root <= m;
+        let direct_thick = zeroth & above & thick_holds;
+        let to_thin = zeroth & above & !thick_holds;
+        let to_thick = zeroth & !above & !thin_holds;
+        let root = if direct_thick | to_thick {
+            thick_root
+        } else {
+            thin_root
+        };
+        let direct_rate = if direct_thick { a } else { self.thin_rate };
+        let direct = direct_rate * time_s > SETTLED_RATE_TIME;
+        // Crossing n = M: ln(1 + num/den) = ln(num + den) - ln(den) <= ub(num + den) - ub(den) + ln 2.
+        let (num, den) = if to_thin {
+            (initial_cm3 - m, m - thick_root)
+        } else {
+            (m - initial_cm3, thin_root - m)
+        };
+        let (inverse_first, second) = if to_thin {
+            (self.inverse_adsorption, self.thin_rate)
+        } else {
+            (self.inverse_thin_rate, a)
+        };
+        let sum = num + den;
+        let crossing = (ln_upper_bound(sum) - ln_upper_bound(den) + std::f64::consts::LN_2)
+            * inverse_first
+            * (1.0 + 1e-9);
+        let switched = (den >= f64::MIN_POSITIVE)
+            & (sum < f64::MAX)
+            & (time_s > crossing)
+            & (second * (time_s - crossing) > SETTLED_RATE_TIME);
+        (root, if to_thin | to_thick { switched } else { direct })
+    }
+}
+
+/// f clamped to [0, 1] (NaN stays NaN), written as two selects so that it vectorises.
+#[inline(always)]
+fn clamp_unit(f: f64) -> f64 {
+    let f = if f < 0.0 { 0.0 } else { f };
+    if f > 1.0 {
+        1.0
+    } else {
+        f
+    }
+}
+
+/// How many places one [`SampleBlock`] holds.
+pub(crate) const BLOCK: usize = 64;
+
+/// The species-independent quantities of up to [`BLOCK`] places, one array per quantity, so
+/// that the loop over places for one species is vectorised.
+pub(crate) struct SampleBlock {
+    len: usize,
+    inverse_temperature: [f64; BLOCK],
+    sqrt_temperature: [f64; BLOCK],
+    grain_area: [f64; BLOCK],
+    inverse_area_sqrt_temperature: [f64; BLOCK],
+    monolayer: [f64; BLOCK],
+    fuv_per_site: [f64; BLOCK],
+    ionization_rate: [f64; BLOCK],
+    hydrogen_density: [f64; BLOCK],
+    inverse_hydrogen_density: [f64; BLOCK],
+    states: [SampleState; BLOCK],
+}
+
+/// The output of one species over one block: slices of the grid's species-major arrays.
+pub(crate) struct BlockOutput<'a> {
+    pub(crate) ice_fraction: &'a mut [f64],
+    pub(crate) equilibrium_ice_fraction: &'a mut [f64],
+    pub(crate) equilibration_time_s: &'a mut [f64],
+    pub(crate) out_of_equilibrium: &'a mut [bool],
 }
 
 impl BalanceConstants {
@@ -255,16 +408,19 @@ impl BalanceConstants {
         let a = p.disk.grain_radius_um * MICRON_CM;
         let grain_mass = 4.0 / 3.0 * PI * a * a * a * p.disk.grain_density_g_cm3;
         let cr_on = p.ices.cosmic_ray_desorption;
+        let thermal_speed_coefficient =
+            props.map(|s| sqrt(8.0 * BOLTZMANN_ERG_PER_K / (PI * s.mass_g)));
         BalanceConstants {
             model: p.ices.desorption,
             grains_per_gram: p.disk.dust_to_gas / grain_mass,
             cross_section_cm2: PI * a * a,
             sticking: p.ices.sticking,
             photodesorption: p.ices.photodesorption,
-            thermal_speed_coefficient: props
-                .map(|s| sqrt(8.0 * BOLTZMANN_ERG_PER_K / (PI * s.mass_g))),
+            thermal_speed_coefficient,
+            inverse_sticking_speed: thermal_speed_coefficient
+                .map(|coef| 1.0 / (p.ices.sticking * coef)),
             nu: props.map(|s| s.vibration_frequency_s),
-            binding: props.map(|s| s.binding_energy_k),
+            minus_binding: props.map(|s| -s.binding_energy_k),
             cr_per_zeta: props.map(|s| {
                 if cr_on {
                     cosmic_ray_desorption_rate_s(s.vibration_frequency_s, s.binding_energy_k)
@@ -285,8 +441,8 @@ impl BalanceConstants {
     ///
     /// Adsorption A = S n_gr pi a^2 v_th, v_th = sqrt(8 k T/(pi m)); thermal
     /// desorption B_th = nu exp(-E_b/T) with the (E_b, nu) pair of the chosen set (docs/model.md
-    /// section 7); cosmic-ray desorption B_cr = [`cosmic_ray_desorption_rate_s`] zeta/1.3e-17
-    /// (Hasegawa & Herbst 1993, spike-limited);
+    /// section 7; exp by [`exp_poly`]); cosmic-ray desorption B_cr = [`cosmic_ray_desorption_rate_s`]
+    /// zeta/1.3e-17 (Hasegawa & Herbst 1993, spike-limited);
     /// photodesorption C = F Y pi a^2 n_gr; one monolayer M = 4 pi a^2 N_s n_gr.
     /// Zeroth order: A (N - n) = (B_th + B_cr) min(n, M) + C min(1, n/M), one root:
     /// n = A N/(A + B + C/M) if <= M, else n = N - (B M + C)/A.
@@ -323,63 +479,178 @@ impl BalanceConstants {
         ionization_rate_s: f64,
     ) -> SampleState {
         let grain_area = self.grains_per_gram * density_g_cm3 * self.cross_section_cm2;
+        let sqrt_temperature = sqrt(temperature_k);
+        let fuv = if self.photodesorption {
+            fuv_photons_cm2_s
+        } else {
+            0.0
+        };
         SampleState {
             temperature_k,
             inverse_temperature: 1.0 / temperature_k,
-            sqrt_temperature: sqrt(temperature_k),
+            sqrt_temperature,
             grain_area_cm2_per_cm3: grain_area,
+            inverse_area_sqrt_temperature: 1.0 / (grain_area * sqrt_temperature),
             monolayer_cm3: 4.0 * BINDING_SITES_PER_CM2 * grain_area,
-            fuv_photons_cm2_s: if self.photodesorption {
-                fuv_photons_cm2_s
-            } else {
-                0.0
-            },
+            fuv_photons_cm2_s: fuv,
+            // C/M = F Y pi a^2 n_gr / (4 pi a^2 N_s n_gr) = Y F / (4 N_s).
+            fuv_per_site: fuv / (4.0 * BINDING_SITES_PER_CM2),
             ionization_rate_s,
+        }
+    }
+
+    /// The rates of species `i` at one place, as one lane of the grid's loop computes them:
+    /// A (and 1/A from the place's 1/(n_gr pi a^2 sqrt T)), B = nu [`exp_poly`](-E_b/T) + B_cr,
+    /// C/M = Y F/(4 N_s); with N molecules per cm^3, these give the branches.
+    #[allow(clippy::too_many_arguments)]
+    #[inline(always)]
+    fn branches_at(
+        &self,
+        i: usize,
+        inverse_temperature: f64,
+        sqrt_temperature: f64,
+        grain_area: f64,
+        inverse_area_sqrt_temperature: f64,
+        monolayer: f64,
+        fuv_per_site: f64,
+        ionization_rate: f64,
+        molecules: f64,
+    ) -> (Branches, f64) {
+        let adsorption =
+            self.sticking * grain_area * self.thermal_speed_coefficient[i] * sqrt_temperature;
+        let inverse_adsorption = self.inverse_sticking_speed[i] * inverse_area_sqrt_temperature;
+        let desorption = self.nu[i] * exp_poly(self.minus_binding[i] * inverse_temperature)
+            + self.cr_per_zeta[i] * ionization_rate;
+        let per_monolayer = fuv_per_site * self.yields[i];
+        (
+            Branches::new(
+                adsorption,
+                inverse_adsorption,
+                desorption,
+                per_monolayer,
+                monolayer,
+                molecules,
+                self.model == DesorptionModel::ZerothOrder,
+            ),
+            desorption,
+        )
+    }
+
+    /// One lane of the grid's loop: species `i` at one place with N = `molecules` (and 1/N =
+    /// `inverse_molecules`): the aged state with its equilibrium, and whether it is final (the
+    /// closed form provably reached its root, or no kinetics apply). Kinetic models only.
+    #[allow(clippy::too_many_arguments)]
+    #[inline(always)]
+    fn lane(
+        &self,
+        i: usize,
+        inverse_temperature: f64,
+        sqrt_temperature: f64,
+        grain_area: f64,
+        inverse_area_sqrt_temperature: f64,
+        monolayer: f64,
+        fuv_per_site: f64,
+        ionization_rate: f64,
+        molecules: f64,
+        inverse_molecules: f64,
+    ) -> (AgedIceState, bool) {
+        let (b, _) = self.branches_at(
+            i,
+            inverse_temperature,
+            sqrt_temperature,
+            grain_area,
+            inverse_area_sqrt_temperature,
+            monolayer,
+            fuv_per_site,
+            ionization_rate,
+            molecules,
+        );
+        let valid = (molecules > 0.0) & (grain_area > 0.0);
+        let thin = b.thin_branch();
+        let equilibrium = if !valid {
+            0.0
+        } else if thin {
+            b.thin_fraction
+        } else {
+            clamp_unit(b.thick_root * inverse_molecules)
+        };
+        let time = if !valid {
+            f64::NAN
+        } else if thin {
+            b.inverse_thin_rate
+        } else {
+            b.inverse_adsorption
+        };
+        let kinetic = valid & (self.initial_state != InitialIceState::Equilibrium);
+        let initial = if self.initial_state == InitialIceState::Inherited {
+            molecules
+        } else {
+            0.0
+        };
+        let (root, settled) = b.settled_root(initial, self.age_s);
+        let aged = if kinetic {
+            clamp_unit(root * inverse_molecules)
+        } else {
+            equilibrium
+        };
+        let out = (time > self.age_s)
+            | (kinetic & ((aged - equilibrium).abs() > EQUILIBRIUM_FRACTION_TOLERANCE));
+        (
+            AgedIceState {
+                ice_fraction: aged,
+                equilibrium_ice_fraction: equilibrium,
+                equilibration_time_s: time,
+                out_of_equilibrium: out,
+            },
+            settled | !kinetic,
+        )
+    }
+
+    /// [`BalanceConstants::lane`] at a [`SampleState`].
+    #[inline(always)]
+    fn lane_at(
+        &self,
+        p: &SampleState,
+        i: usize,
+        molecules: f64,
+        inverse_molecules: f64,
+    ) -> (AgedIceState, bool) {
+        self.lane(
+            i,
+            p.inverse_temperature,
+            p.sqrt_temperature,
+            p.grain_area_cm2_per_cm3,
+            p.inverse_area_sqrt_temperature,
+            p.monolayer_cm3,
+            p.fuv_per_site,
+            p.ionization_rate_s,
+            molecules,
+            inverse_molecules,
+        )
+    }
+
+    /// The step model: f = 1 where T < T_cond, else 0; no time, always in equilibrium.
+    fn step(&self, p: &SampleState, i: usize) -> AgedIceState {
+        let f = if p.temperature_k < self.condensation[i] {
+            1.0
+        } else {
+            0.0
+        };
+        AgedIceState {
+            ice_fraction: f,
+            equilibrium_ice_fraction: f,
+            equilibration_time_s: f64::NAN,
+            out_of_equilibrium: false,
         }
     }
 
     /// [`BalanceConstants::solve`] with the per-place quantities precomputed.
     #[inline]
     pub fn solve_at(&self, p: &SampleState, i: usize, molecules_cm3: f64) -> IceState {
-        if self.model == DesorptionModel::FixedTemperature {
-            let f = if p.temperature_k < self.condensation[i] {
-                1.0
-            } else {
-                0.0
-            };
-            return IceState {
-                ice_fraction: f,
-                equilibration_time_s: f64::NAN,
-            };
-        }
-        if !(molecules_cm3 > 0.0) || !(p.grain_area_cm2_per_cm3 > 0.0) {
-            return IceState {
-                ice_fraction: 0.0,
-                equilibration_time_s: f64::NAN,
-            };
-        }
-        let adsorption = self.sticking
-            * p.grain_area_cm2_per_cm3
-            * self.thermal_speed_coefficient[i]
-            * p.sqrt_temperature;
-        let desorption = self.nu[i] * exp(-self.binding[i] * p.inverse_temperature)
-            + self.cr_per_zeta[i] * p.ionization_rate_s;
-        let photo = p.fuv_photons_cm2_s * self.yields[i] * p.grain_area_cm2_per_cm3;
-        let thin_rate = adsorption + desorption + photo / p.monolayer_cm3;
-        let thin_fraction = adsorption / thin_rate;
-        if self.model == DesorptionModel::FirstOrder
-            || thin_fraction * molecules_cm3 <= p.monolayer_cm3
-        {
-            IceState {
-                ice_fraction: thin_fraction,
-                equilibration_time_s: 1.0 / thin_rate,
-            }
-        } else {
-            let f = 1.0 - (desorption * p.monolayer_cm3 + photo) / (adsorption * molecules_cm3);
-            IceState {
-                ice_fraction: f.clamp(0.0, 1.0),
-                equilibration_time_s: 1.0 / adsorption,
-            }
+        let state = self.solve_aged(p, i, molecules_cm3);
+        IceState {
+            ice_fraction: state.equilibrium_ice_fraction,
+            equilibration_time_s: state.equilibration_time_s,
         }
     }
 }
@@ -399,13 +670,20 @@ impl BalanceConstants {
         {
             return None;
         }
+        let (b, desorption) = self.branches_at(
+            i,
+            p.inverse_temperature,
+            p.sqrt_temperature,
+            p.grain_area_cm2_per_cm3,
+            p.inverse_area_sqrt_temperature,
+            p.monolayer_cm3,
+            p.fuv_per_site,
+            p.ionization_rate_s,
+            molecules_cm3,
+        );
         Some(RateEquation {
-            adsorption_s: self.sticking
-                * p.grain_area_cm2_per_cm3
-                * self.thermal_speed_coefficient[i]
-                * p.sqrt_temperature,
-            desorption_s: self.nu[i] * exp(-self.binding[i] * p.inverse_temperature)
-                + self.cr_per_zeta[i] * p.ionization_rate_s,
+            adsorption_s: b.adsorption,
+            desorption_s: desorption,
             photodesorption_cm3_s: p.fuv_photons_cm2_s * self.yields[i] * p.grain_area_cm2_per_cm3,
             monolayer_cm3: p.monolayer_cm3,
             molecules_cm3,
@@ -418,40 +696,198 @@ impl BalanceConstants {
     /// [`BalanceConstants::solve_at`]. The step model has no kinetics: its state is its equilibrium.
     #[inline]
     pub fn solve_aged(&self, p: &SampleState, i: usize, molecules_cm3: f64) -> AgedIceState {
-        let eq = self.solve_at(p, i, molecules_cm3);
-        let equilibrium = AgedIceState {
-            ice_fraction: eq.ice_fraction,
-            equilibrium_ice_fraction: eq.ice_fraction,
-            equilibration_time_s: eq.equilibration_time_s,
-            out_of_equilibrium: eq.equilibration_time_s > self.age_s,
+        self.solve_aged_with_inverse(p, i, molecules_cm3, 1.0 / molecules_cm3)
+    }
+
+    /// [`BalanceConstants::solve_aged`] with 1/N given (the grid forms it as (1/x) (1/n_H)).
+    #[inline]
+    pub(crate) fn solve_aged_with_inverse(
+        &self,
+        p: &SampleState,
+        i: usize,
+        molecules: f64,
+        inverse_molecules: f64,
+    ) -> AgedIceState {
+        if self.model == DesorptionModel::FixedTemperature {
+            return self.step(p, i);
+        }
+        let (state, settled) = self.lane_at(p, i, molecules, inverse_molecules);
+        if settled {
+            state
+        } else {
+            self.unsettled(p, i, molecules, inverse_molecules, state)
+        }
+    }
+
+    /// The aged state of a lane whose closed form is not provably at its root: [`Branches::evolve`].
+    #[cold]
+    #[inline(never)]
+    fn unsettled(
+        &self,
+        p: &SampleState,
+        i: usize,
+        molecules: f64,
+        inverse_molecules: f64,
+        state: AgedIceState,
+    ) -> AgedIceState {
+        let (b, _) = self.branches_at(
+            i,
+            p.inverse_temperature,
+            p.sqrt_temperature,
+            p.grain_area_cm2_per_cm3,
+            p.inverse_area_sqrt_temperature,
+            p.monolayer_cm3,
+            p.fuv_per_site,
+            p.ionization_rate_s,
+            molecules,
+        );
+        let initial = match self.initial_state {
+            InitialIceState::Inherited => molecules,
+            _ => 0.0,
         };
-        let n0 = match self.initial_state {
-            InitialIceState::Equilibrium => return equilibrium,
-            InitialIceState::Inherited => molecules_cm3,
-            InitialIceState::Gas => 0.0,
-        };
-        let Some(eqn) = self.rate_equation(p, i, molecules_cm3) else {
-            return equilibrium;
-        };
-        let f = (eqn.evolve(n0, self.age_s) / molecules_cm3).clamp(0.0, 1.0);
+        let f = clamp_unit(b.evolve(initial, self.age_s) * inverse_molecules);
         AgedIceState {
             ice_fraction: f,
-            out_of_equilibrium: equilibrium.out_of_equilibrium
-                || (f - eq.ice_fraction).abs() > EQUILIBRIUM_FRACTION_TOLERANCE,
-            ..equilibrium
+            out_of_equilibrium: state.equilibration_time_s > self.age_s
+                || (f - state.equilibrium_ice_fraction).abs() > EQUILIBRIUM_FRACTION_TOLERANCE,
+            ..state
+        }
+    }
+
+    /// Fill a block with the places `temperature_k[k]` ... of one column's samples.
+    #[allow(clippy::too_many_arguments)]
+    pub(crate) fn fill_block(
+        &self,
+        block: &mut SampleBlock,
+        temperature_k: &[f64],
+        density_g_cm3: &[f64],
+        fuv_photons_cm2_s: &[f64],
+        ionization_rate_s: &[f64],
+        hydrogen_density_cm3: &[f64],
+    ) {
+        let len = temperature_k.len().min(BLOCK);
+        block.len = len;
+        for q in 0..len {
+            let s = self.sample(
+                temperature_k[q],
+                density_g_cm3[q],
+                fuv_photons_cm2_s[q],
+                ionization_rate_s[q],
+            );
+            block.inverse_temperature[q] = s.inverse_temperature;
+            block.sqrt_temperature[q] = s.sqrt_temperature;
+            block.grain_area[q] = s.grain_area_cm2_per_cm3;
+            block.inverse_area_sqrt_temperature[q] = s.inverse_area_sqrt_temperature;
+            block.monolayer[q] = s.monolayer_cm3;
+            block.fuv_per_site[q] = s.fuv_per_site;
+            block.ionization_rate[q] = s.ionization_rate_s;
+            block.hydrogen_density[q] = hydrogen_density_cm3[q];
+            block.inverse_hydrogen_density[q] = 1.0 / hydrogen_density_cm3[q];
+            block.states[q] = s;
+        }
+    }
+
+    /// Species `i` with `per_h` molecules per H over a block: every lane in one vectorised pass,
+    /// then [`Branches::evolve`] for the lanes not provably settled. The numbers equal
+    /// [`BalanceConstants::solve_aged`] with N = x n_H and 1/N = (1/x)(1/n_H), bit for bit.
+    pub(crate) fn solve_block(
+        &self,
+        i: usize,
+        per_h: f64,
+        block: &SampleBlock,
+        out: BlockOutput<'_>,
+    ) {
+        let len = block.len;
+        let inverse_per_h = 1.0 / per_h;
+        let (ice, equilibrium, time, flag) = (
+            &mut out.ice_fraction[..len],
+            &mut out.equilibrium_ice_fraction[..len],
+            &mut out.equilibration_time_s[..len],
+            &mut out.out_of_equilibrium[..len],
+        );
+        if self.model == DesorptionModel::FixedTemperature {
+            for q in 0..len {
+                let s = self.step(&block.states[q], i);
+                ice[q] = s.ice_fraction;
+                equilibrium[q] = s.equilibrium_ice_fraction;
+                time[q] = s.equilibration_time_s;
+                flag[q] = s.out_of_equilibrium;
+            }
+            return;
+        }
+        let mut settled = [true; BLOCK];
+        for q in 0..len {
+            let (s, done) = self.lane(
+                i,
+                block.inverse_temperature[q],
+                block.sqrt_temperature[q],
+                block.grain_area[q],
+                block.inverse_area_sqrt_temperature[q],
+                block.monolayer[q],
+                block.fuv_per_site[q],
+                block.ionization_rate[q],
+                per_h * block.hydrogen_density[q],
+                inverse_per_h * block.inverse_hydrogen_density[q],
+            );
+            ice[q] = s.ice_fraction;
+            equilibrium[q] = s.equilibrium_ice_fraction;
+            time[q] = s.equilibration_time_s;
+            flag[q] = s.out_of_equilibrium;
+            settled[q] = done;
+        }
+        for q in 0..len {
+            if !settled[q] {
+                let state = AgedIceState {
+                    ice_fraction: ice[q],
+                    equilibrium_ice_fraction: equilibrium[q],
+                    equilibration_time_s: time[q],
+                    out_of_equilibrium: flag[q],
+                };
+                let s = self.unsettled(
+                    &block.states[q],
+                    i,
+                    per_h * block.hydrogen_density[q],
+                    inverse_per_h * block.inverse_hydrogen_density[q],
+                    state,
+                );
+                ice[q] = s.ice_fraction;
+                flag[q] = s.out_of_equilibrium;
+            }
+        }
+    }
+}
+
+impl SampleBlock {
+    /// An empty block.
+    pub(crate) fn new() -> SampleBlock {
+        let zero = [0.0; BLOCK];
+        SampleBlock {
+            len: 0,
+            inverse_temperature: zero,
+            sqrt_temperature: zero,
+            grain_area: zero,
+            inverse_area_sqrt_temperature: zero,
+            monolayer: zero,
+            fuv_per_site: zero,
+            ionization_rate: zero,
+            hydrogen_density: zero,
+            inverse_hydrogen_density: zero,
+            states: [SampleState::default(); BLOCK],
         }
     }
 }
 
 /// Species-independent quantities of one place (see [`BalanceConstants::sample`]).
-#[derive(Debug, Clone, Copy, PartialEq)]
+#[derive(Debug, Clone, Copy, PartialEq, Default)]
 pub struct SampleState {
     temperature_k: f64,
     inverse_temperature: f64,
     sqrt_temperature: f64,
     grain_area_cm2_per_cm3: f64,
+    inverse_area_sqrt_temperature: f64,
     monolayer_cm3: f64,
     fuv_photons_cm2_s: f64,
+    fuv_per_site: f64,
     ionization_rate_s: f64,
 }
 
@@ -472,6 +908,68 @@ mod tests {
             (fast / (CR_HEATING_DUTY_CYCLE / CR_COOLING_TIME_S) - 1.0).abs() < 1e-9,
             "{fast:e}"
         );
+    }
+
+    #[test]
+    fn settled_lanes_equal_the_closed_form_bit_for_bit() {
+        // The shortcut of `Branches::settled_root` is exact: every lane it calls settled gives
+        // the same bits as the full closed form (`unsettled`, i.e. Branches::evolve), over whole
+        // grids of disks that reach every branch and both crossings (derived, D).
+        use crate::params::{DesorptionModel, InitialIceState};
+        use crate::{Model, ModelParameters, Species};
+        let mut configs = Vec::new();
+        for (desorption, initial, grain_um, age_myr) in [
+            (DesorptionModel::ZerothOrder, InitialIceState::Inherited, 0.1, 1.0),
+            (DesorptionModel::ZerothOrder, InitialIceState::Gas, 0.1, 1.0),
+            (DesorptionModel::FirstOrder, InitialIceState::Inherited, 0.1, 1.0),
+            (DesorptionModel::ZerothOrder, InitialIceState::Inherited, 100.0, 0.01),
+            (DesorptionModel::ZerothOrder, InitialIceState::Gas, 1000.0, 0.001),
+        ] {
+            let mut p = ModelParameters::defaults();
+            p.grid.radial_cells = 60;
+            p.grid.vertical_cells = 30;
+            p.ices.desorption = desorption;
+            p.ices.initial_state = initial;
+            p.disk.grain_radius_um = grain_um;
+            p.disk.age_myr = age_myr;
+            configs.push(p);
+        }
+        let (mut settled, mut unsettled) = (0usize, 0usize);
+        for p in &configs {
+            let model = Model::run(p).unwrap();
+            let balance = BalanceConstants::new(p, model.species_properties());
+            let st = model.structure();
+            let s = &st.samples;
+            for k in 0..model.sample_count() {
+                let place = balance.sample(
+                    s.temperature_k[k],
+                    s.density_g_cm3[k],
+                    s.fuv_photon_flux_cm2_s[k],
+                    s.ionization_rate_s[k],
+                );
+                let j = k / st.samples_per_column;
+                for (i, species) in Species::ALL.into_iter().enumerate() {
+                    let x = model.composition().species_per_h(species, j);
+                    let n_h = s.hydrogen_density_cm3[k];
+                    let (n, inv) = (x * n_h, (1.0 / x) * (1.0 / n_h));
+                    let (state, done) = balance.lane_at(&place, i, n, inv);
+                    let full = balance.unsettled(&place, i, n, inv, state);
+                    if done && n > 0.0 {
+                        settled += 1;
+                        assert_eq!(state.ice_fraction.to_bits(), full.ice_fraction.to_bits());
+                        assert_eq!(state.out_of_equilibrium, full.out_of_equilibrium);
+                    } else {
+                        unsettled += 1;
+                    }
+                    // And the grid holds the full closed form's numbers.
+                    assert_eq!(
+                        model.ice_fraction_at(species, k).to_bits(),
+                        full.ice_fraction.to_bits()
+                    );
+                }
+            }
+        }
+        assert!(settled > 0 && unsettled > 0, "{settled} {unsettled}");
     }
 
     #[test]

@@ -18,9 +18,7 @@ pub fn check_finite(model: &Model) -> Result<(), PhysicsError> {
     let per_column = st.samples_per_column.max(1);
     let radius_of = |j: usize| st.radius_cm.get(j).map_or(f64::NAN, |r| r / AU_CM);
     for species in crate::species::Species::ALL {
-        if let Some(k) =
-            (0..model.sample_count()).find(|&k| !model.ice_fraction_at(species, k).is_finite())
-        {
+        if let Some(k) = first_non_finite(model.ices().ice_fraction(species)) {
             return Err(PhysicsError::NonFiniteResult {
                 quantity: "ice fraction",
                 radius_au: radius_of(k / per_column),
@@ -29,6 +27,17 @@ pub fn check_finite(model: &Model) -> Result<(), PhysicsError> {
         }
     }
     Ok(())
+}
+
+/// The index of the first value that is NaN or infinite. The common case, all finite, is one
+/// branch-free (vectorised) pass over blocks of 256 values.
+fn first_non_finite(values: &[f64]) -> Option<usize> {
+    for (b, block) in values.chunks(256).enumerate() {
+        if !block.iter().fold(true, |all, x| all & x.is_finite()) {
+            return block.iter().position(|x| !x.is_finite()).map(|k| b * 256 + k);
+        }
+    }
+    None
 }
 
 /// The structure part of [`check_finite`]: the radial and per-sample fields.
@@ -65,7 +74,7 @@ pub fn check_structure_finite(st: &crate::structure::DiskStructure) -> Result<()
         ("flaring angle", "disk.flaring_angle", &st.flaring_angle),
     ];
     for (quantity, likely_input, values) in radial {
-        if let Some(j) = values.iter().position(|x| !x.is_finite()) {
+        if let Some(j) = first_non_finite(values) {
             return Err(PhysicsError::NonFiniteResult {
                 quantity,
                 radius_au: radius_of(j),
@@ -105,7 +114,7 @@ pub fn check_structure_finite(st: &crate::structure::DiskStructure) -> Result<()
         ),
     ];
     for (quantity, likely_input, values) in samples {
-        if let Some(k) = values.iter().position(|x| !x.is_finite()) {
+        if let Some(k) = first_non_finite(values) {
             return Err(PhysicsError::NonFiniteResult {
                 quantity,
                 radius_au: radius_of(k / per_column),

@@ -7,7 +7,7 @@
 //! parameters allocates nothing. `Model::run`, `Model::midplane_at` and the
 //! anchor's snowline probe all go through these functions.
 
-use crate::balance::{AgedIceState, BalanceConstants};
+use crate::balance::{AgedIceState, BalanceConstants, BlockOutput, SampleBlock, BLOCK};
 use crate::composition::Composition;
 use crate::species::{Species, SPECIES_COUNT};
 use crate::structure::{Column, DiskStructure};
@@ -56,7 +56,11 @@ pub fn solve_place(
         place.ionization_rate_s,
     );
     let n_h = place.hydrogen_density_cm3;
-    std::array::from_fn(|i| balance.solve_aged(&sample, i, totals_per_h[i] * n_h))
+    let inverse_n_h = 1.0 / n_h;
+    std::array::from_fn(|i| {
+        let x = totals_per_h[i];
+        balance.solve_aged_with_inverse(&sample, i, x * n_h, (1.0 / x) * inverse_n_h)
+    })
 }
 
 /// The ice of one species (index `i`) at one place, `molecules_per_h` its total abundance per H:
@@ -74,7 +78,13 @@ pub fn solve_species_at(
         place.fuv_photon_flux_cm2_s,
         place.ionization_rate_s,
     );
-    balance.solve_aged(&sample, i, molecules_per_h * place.hydrogen_density_cm3)
+    let n_h = place.hydrogen_density_cm3;
+    balance.solve_aged_with_inverse(
+        &sample,
+        i,
+        molecules_per_h * n_h,
+        (1.0 / molecules_per_h) * (1.0 / n_h),
+    )
 }
 
 /// The solved ice balance on a grid: per species and sample, the ice fraction at the disk's age,
@@ -111,20 +121,49 @@ impl IceBalance {
         let n = structure.samples.temperature_k.len();
         let total = SPECIES_COUNT * n;
         self.samples = n;
-        self.ice_fraction.resize(total, 0.0);
-        self.equilibrium_ice_fraction.resize(total, 0.0);
-        self.equilibration_time_s.resize(total, f64::NAN);
-        self.out_of_equilibrium.resize(total, false);
+        // Every entry is written below. A new size gets fresh zeroed buffers (not filled first),
+        // the same size keeps the buffers (no allocation).
+        if self.ice_fraction.len() != total {
+            self.ice_fraction = vec![0.0; total];
+            self.equilibrium_ice_fraction = vec![0.0; total];
+            self.equilibration_time_s = vec![0.0; total];
+            self.out_of_equilibrium = vec![false; total];
+        }
         let spc = structure.samples_per_column;
-        for k in 0..n {
-            let totals = composition.species_per_h_in_cell(k / spc);
-            let states = solve_place(balance, &Place::of(&structure.samples, k), &totals);
-            for (i, state) in states.iter().enumerate() {
-                let idx = i * n + k;
-                self.ice_fraction[idx] = state.ice_fraction;
-                self.equilibrium_ice_fraction[idx] = state.equilibrium_ice_fraction;
-                self.equilibration_time_s[idx] = state.equilibration_time_s;
-                self.out_of_equilibrium[idx] = state.out_of_equilibrium;
+        let s = &structure.samples;
+        // Column by column (the composition is per radial cell), in blocks of places: the
+        // species-independent quantities once per place, then one vectorised pass per species.
+        let mut block = SampleBlock::new();
+        for j in 0..n / spc.max(1) {
+            let totals = composition.species_per_h_in_cell(j);
+            let mut start = j * spc;
+            let end = start + spc;
+            while start < end {
+                let stop = (start + BLOCK).min(end);
+                let r = start..stop;
+                balance.fill_block(
+                    &mut block,
+                    &s.temperature_k[r.clone()],
+                    &s.density_g_cm3[r.clone()],
+                    &s.fuv_photon_flux_cm2_s[r.clone()],
+                    &s.ionization_rate_s[r.clone()],
+                    &s.hydrogen_density_cm3[r],
+                );
+                for (i, &per_h) in totals.iter().enumerate() {
+                    let r = i * n + start..i * n + stop;
+                    balance.solve_block(
+                        i,
+                        per_h,
+                        &block,
+                        BlockOutput {
+                            ice_fraction: &mut self.ice_fraction[r.clone()],
+                            equilibrium_ice_fraction: &mut self.equilibrium_ice_fraction[r.clone()],
+                            equilibration_time_s: &mut self.equilibration_time_s[r.clone()],
+                            out_of_equilibrium: &mut self.out_of_equilibrium[r],
+                        },
+                    );
+                }
+                start = stop;
             }
         }
     }

@@ -58,3 +58,162 @@ pub fn ln_1p(x: f64) -> f64 {
 pub fn ln_gamma(x: f64) -> f64 {
     libm::lgamma(x)
 }
+
+/// e^x by a branch-free polynomial that the compiler can vectorise (docs/model.md, "Numerics:
+/// the polynomial exp").
+///
+/// Method (Cody & Waite 1980 reduction, Taylor polynomial): n = round(x / ln 2) by the
+/// 1.5 * 2^52 shift, r = x - n ln2_hi - n ln2_lo with the two-part ln 2 of fdlibm (n ln2_hi is
+/// exact), |r| <= 0.3466 + 1e-16; e^r by its Taylor series to degree 13 in Horner form (the
+/// truncation is below 5e-18 relative; Estrin's scheme for the evaluation); the result p 2^n is formed as (p 2^n1) 2^n2 with
+/// n1 = round(n/2), n2 = n - n1, so that results in the subnormal range are rounded once and
+/// e^x overflows to infinity and underflows to zero where libm's does.
+///
+/// Only additions, multiplications, comparisons and bit moves are used (no fused
+/// multiply-add, no table, no library call), so the result is the same bit for bit natively
+/// and in WebAssembly, and a loop over an array of arguments is vectorised.
+///
+/// Accuracy, measured against libm's `exp` (`tests::exp_poly_is_within_one_ulp_of_libm`, 1.6
+/// million arguments over [-745, 709.7], the whole range of finite non-zero results): at most
+/// 1 ulp from libm's result, and equal to it for about 96.5 % of arguments; NaN gives NaN,
+/// -inf and x < -745.2 give 0, +inf and x > 709.79 give +inf.
+#[inline(always)]
+pub fn exp_poly(x: f64) -> f64 {
+    const LOG2_E: f64 = core::f64::consts::LOG2_E;
+    // fdlibm's split of ln 2: LN2_HI has 32 trailing zero bits, so n * LN2_HI is exact.
+    const LN2_HI: f64 = 6.931_471_803_691_238_164_90e-1;
+    const LN2_LO: f64 = 1.908_214_929_270_587_700_02e-10;
+    // Adding 1.5 * 2^52 rounds to the nearest integer, held in the low bits of the sum.
+    const SHIFT: f64 = 6_755_399_441_055_744.0;
+    // 1/k!, k = 2..=13.
+    const C: [f64; 12] = [
+        1.0 / 2.0,
+        1.0 / 6.0,
+        1.0 / 24.0,
+        1.0 / 120.0,
+        1.0 / 720.0,
+        1.0 / 5_040.0,
+        1.0 / 40_320.0,
+        1.0 / 362_880.0,
+        1.0 / 3_628_800.0,
+        1.0 / 39_916_800.0,
+        1.0 / 479_001_600.0,
+        1.0 / 6_227_020_800.0,
+    ];
+    // Clamp to the range where the result is not yet 0 or infinity (NaN passes both tests).
+    let x = if x < -746.0 { -746.0 } else { x };
+    let x = if x > 710.0 { 710.0 } else { x };
+    let n = (x * LOG2_E + SHIFT) - SHIFT;
+    let r = (x - n * LN2_HI) - n * LN2_LO;
+    // Estrin's scheme: the same polynomial with a dependency chain of 7 operations instead of
+    // Horner's 24, so the loop is not bound by the latency of one lane's chain.
+    let r2 = r * r;
+    let r4 = r2 * r2;
+    let r8 = r4 * r4;
+    let a0 = C[0] + C[1] * r;
+    let a1 = C[2] + C[3] * r;
+    let a2 = C[4] + C[5] * r;
+    let a3 = C[6] + C[7] * r;
+    let a4 = C[8] + C[9] * r;
+    let a5 = C[10] + C[11] * r;
+    let b0 = a0 + a1 * r2;
+    let b1 = a2 + a3 * r2;
+    let b2 = a4 + a5 * r2;
+    let q = (b0 + b1 * r4) + b2 * r8;
+    let p = 1.0 + (r + r2 * q);
+    // 2^n1 and 2^n2 from the exponent bits; n1, n2 in [-538, 513], so both are normal.
+    let k1 = n * 0.5 + SHIFT;
+    let n1 = k1 - SHIFT;
+    let k2 = (n - n1) + SHIFT;
+    let pow2 = |k: f64| f64::from_bits(k.to_bits().wrapping_add(1023) << 52);
+    p * pow2(k1) * pow2(k2)
+}
+
+/// An upper bound of ln(y) for y >= 1 from the binary exponent alone: (e + 1) ln 2 with
+/// 2^e <= y < 2^(e+1), so it is never below ln y and at most ln 2 above it. Branch-free
+/// (vectorised like [`exp_poly`]); y must be finite (infinity and NaN give a finite bound).
+#[inline(always)]
+pub fn ln_upper_bound(y: f64) -> f64 {
+    // The biased exponent as a double: 2^52 + e_biased, minus 2^52.
+    let biased = f64::from_bits(0x4330_0000_0000_0000 | (y.to_bits() >> 52)) - 4_503_599_627_370_496.0;
+    (biased - 1022.0) * core::f64::consts::LN_2
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// Distance in units in the last place between two finite doubles of the same sign (or zero).
+    fn ulps(a: f64, b: f64) -> u64 {
+        let (a, b) = (a.to_bits() as i64, b.to_bits() as i64);
+        (a - b).unsigned_abs()
+    }
+
+    /// A deterministic sequence in [0, 1) (a 64-bit linear congruential generator,
+    /// Knuth's MMIX constants; common practice, no source).
+    fn uniform(n: usize) -> impl Iterator<Item = f64> {
+        let mut s: u64 = 0x2545_f491_4f6c_dd1d;
+        (0..n).map(move |_| {
+            s = s
+                .wrapping_mul(6_364_136_223_846_793_005)
+                .wrapping_add(1_442_695_040_888_963_407);
+            (s >> 11) as f64 / (1u64 << 53) as f64
+        })
+    }
+
+    #[test]
+    fn exp_poly_is_within_one_ulp_of_libm() {
+        // Reference: libm's exp (correct to < 1 ulp, its documentation). The whole range of
+        // finite, non-zero results, plus the small arguments the model's -E_b/T never reaches.
+        let mut worst = (0u64, 0.0f64);
+        let mut count_off = 0usize;
+        let mut total = 0usize;
+        for (lo, hi) in [(-745.0, 709.7), (-40.0, 0.0), (-1.0, 1.0), (-1e-6, 1e-6)] {
+            for u in uniform(400_000) {
+                let x = lo + (hi - lo) * u;
+                let (got, want) = (exp_poly(x), libm::exp(x));
+                let d = ulps(got, want);
+                total += 1;
+                if d > 0 {
+                    count_off += 1;
+                }
+                if d > worst.0 {
+                    worst = (d, x);
+                }
+            }
+        }
+        assert!(worst.0 <= 1, "worst {} ulp at x = {:e}", worst.0, worst.1);
+        // Measured: 56 082 of the 1.6 million differ from libm, each by one ulp.
+        assert!(count_off < total / 10, "{count_off} of {total} differ");
+    }
+
+    #[test]
+    fn exp_poly_limits_and_special_values() {
+        assert_eq!(exp_poly(0.0), 1.0);
+        assert_eq!(exp_poly(-0.0), 1.0);
+        assert_eq!(exp_poly(f64::NEG_INFINITY), 0.0);
+        assert_eq!(exp_poly(-746.0), 0.0);
+        assert_eq!(exp_poly(-1e300), 0.0);
+        assert_eq!(exp_poly(f64::INFINITY), f64::INFINITY);
+        assert_eq!(exp_poly(709.79), f64::INFINITY);
+        assert_eq!(exp_poly(1e300), f64::INFINITY);
+        assert!(exp_poly(f64::NAN).is_nan());
+        // The largest finite result and the subnormal range (libm as the reference).
+        for x in [709.78, 709.782_712_893_384, -708.4, -720.0, -740.0, -745.1] {
+            let (got, want) = (exp_poly(x), libm::exp(x));
+            assert!(ulps(got, want) <= 1, "{x}: {got:e} vs {want:e}");
+        }
+        // e (the constant) to the last bit or one off.
+        assert!(ulps(exp_poly(1.0), core::f64::consts::E) <= 1);
+    }
+
+    #[test]
+    fn ln_upper_bound_bounds_the_logarithm_within_ln2() {
+        for u in uniform(100_000) {
+            let y = libm::exp(700.0 * u);
+            let (bound, ln) = (ln_upper_bound(y), libm::log(y));
+            assert!(bound >= ln && bound <= ln + core::f64::consts::LN_2 + 1e-12, "{y:e}");
+        }
+        assert_eq!(ln_upper_bound(1.0), core::f64::consts::LN_2);
+    }
+}

@@ -3,7 +3,7 @@
 //! per column, and the radiation fields (columns, A_V, FUV, cosmic rays).
 
 use crate::error::PhysicsError;
-use crate::math::{cos, exp, ln, pow, root4, sqrt};
+use crate::math::{cos, exp, exp_poly, ln, pow, root4, sqrt};
 use crate::opacity::bell_lin_1994_cm2_per_g;
 use crate::params::{
     GasMassMeaning, ModelParameters, Opacity, SootLine, TemperatureLaw, VerticalTemperature,
@@ -640,6 +640,20 @@ impl Column {
         }
     }
 
+    /// A column of `n` samples, every field zero.
+    pub fn zeroed(n: usize) -> Column {
+        Column {
+            height_cm: vec![0.0; n],
+            temperature_k: vec![0.0; n],
+            density_g_cm3: vec![0.0; n],
+            hydrogen_density_cm3: vec![0.0; n],
+            column_above_g_cm2: vec![0.0; n],
+            visual_extinction_mag: vec![0.0; n],
+            fuv_photon_flux_cm2_s: vec![0.0; n],
+            ionization_rate_s: vec![0.0; n],
+        }
+    }
+
     /// An empty column with room for `n` samples.
     pub fn with_capacity(n: usize) -> Column {
         Column {
@@ -772,6 +786,7 @@ impl VerticalProfile {
 /// F = 1e8 [G*(r) exp(-2 A_V/phi) + G_ISM exp(-2 A_V)] + 1e4 zeta/1.3e-17
 /// (gamma_UV = 2, common practice; CR photons: Prasad & Tarafdar 1983, Shen et al. 2004);
 /// zeta = zeta0/2 [exp(-Sigma_above/96) + exp(-Sigma_below/96)] (Umebayashi & Nakano 1981).
+/// These exponentials and the density's are computed by [`exp_poly`] (within 1 ulp of libm).
 pub fn column(
     c: &DiskConstants,
     radius_cm: f64,
@@ -779,33 +794,86 @@ pub fn column(
     t_mid: f64,
     flaring_angle: f64,
 ) -> Column {
+    let samples = c.vertical_cells + 1;
+    let mut col = Column::zeroed(samples);
+    fill_column(
+        c,
+        radius_cm,
+        sigma_g_cm2,
+        t_mid,
+        flaring_angle,
+        &mut FineGrid::default(),
+        &mut col,
+        0,
+    );
+    col
+}
+
+/// Scratch arrays of the fine vertical grid, reused from column to column.
+#[derive(Debug, Default)]
+struct FineGrid {
+    temperature: Vec<f64>,
+    integrand: Vec<f64>,
+    rho: Vec<f64>,
+    above: Vec<f64>,
+}
+
+/// [`column`] written into `out` at samples `base..base + N_z + 1`, with scratch `fine`. The
+/// exponentials go through [`exp_poly`]; the loops over fine points and over samples are
+/// written as separate passes so that the compiler vectorises them.
+#[allow(clippy::too_many_arguments)]
+fn fill_column(
+    c: &DiskConstants,
+    radius_cm: f64,
+    sigma_g_cm2: f64,
+    t_mid: f64,
+    flaring_angle: f64,
+    fine: &mut FineGrid,
+    out: &mut Column,
+    base: usize,
+) {
     let n_z = c.vertical_cells;
     let h_mid = scale_height_cm(c.star_mass_g, t_mid, radius_cm);
     let z_max = c.max_height_scale_heights * h_mid;
     let n_fine = 4 * n_z;
+    let points = n_fine + 1;
     let dz = z_max / n_fine as f64;
     let gm = GRAVITATIONAL_CONSTANT_CGS * c.star_mass_g;
     let mu_mh_over_k = MEAN_MOLECULAR_WEIGHT * HYDROGEN_MASS_G / BOLTZMANN_ERG_PER_K;
+    let gravity = mu_mh_over_k * gm;
     let r2 = radius_cm * radius_cm;
 
-    let mut temperature = Vec::with_capacity(n_fine + 1);
-    let mut rho = Vec::with_capacity(n_fine + 1);
-    let mut integral = 0.0;
-    let mut previous_integrand = 0.0;
+    fine.temperature.resize(points, 0.0);
+    fine.integrand.resize(points, 0.0);
+    fine.rho.resize(points, 0.0);
+    fine.above.resize(points, 0.0);
     let profile = VerticalProfile::new(c, radius_cm, t_mid, h_mid);
-    for i in 0..=n_fine {
+    for (i, t) in fine.temperature.iter_mut().enumerate() {
+        *t = profile.temperature_k(i as f64 * dz);
+    }
+    for (i, (g, &t)) in fine
+        .integrand
+        .iter_mut()
+        .zip(&fine.temperature)
+        .enumerate()
+    {
         let z = i as f64 * dz;
-        let t = profile.temperature_k(z);
         let s = r2 + z * z;
-        let integrand = mu_mh_over_k / t * gm * z / (s * sqrt(s));
-        if i > 0 {
-            integral += 0.5 * (previous_integrand + integrand) * dz;
-        }
-        previous_integrand = integrand;
-        rho.push(t_mid / t * exp(-integral));
-        temperature.push(t);
+        // (mu m_H / (k T)) G M z / (r^2 + z^2)^(3/2), with one division.
+        *g = gravity * z / (t * (s * sqrt(s)));
+    }
+    // The trapezoid integral from the midplane, held (negated) in `above` for now.
+    let mut integral = 0.0;
+    fine.above[0] = 0.0;
+    for i in 1..points {
+        integral += 0.5 * (fine.integrand[i - 1] + fine.integrand[i]) * dz;
+        fine.above[i] = -integral;
+    }
+    for ((r, &t), &minus_integral) in fine.rho.iter_mut().zip(&fine.temperature).zip(&fine.above) {
+        *r = t_mid / t * exp_poly(minus_integral);
     }
     // Normalise: 2 * trapz(rho) = Sigma.
+    let rho = &mut fine.rho;
     let mut half = 0.0;
     for i in 0..n_fine {
         half += 0.5 * (rho[i] + rho[i + 1]) * dz;
@@ -815,38 +883,48 @@ pub fn column(
         *r *= scale;
     }
     // Column above each fine point, from the top down.
-    let mut above = vec![0.0; n_fine + 1];
+    let above = &mut fine.above;
+    above[n_fine] = 0.0;
     for i in (0..n_fine).rev() {
         above[i] = above[i + 1] + 0.5 * (rho[i] + rho[i + 1]) * dz;
     }
 
     let samples = n_z + 1;
-    let mut col = Column::with_capacity(samples);
     let g_star = c.fuv_1au_habing * AU_CM * AU_CM / r2;
     let per_h = 1.0 / (MASS_PER_HYDROGEN_NUCLEUS_AMU_H * HYDROGEN_MASS_G);
+    let fine_index = |s: usize| if s == 0 { 0 } else { 4 * (s - 1) + 2 };
+    let range = base..base + samples;
     for s in 0..samples {
-        let i = if s == 0 { 0 } else { 4 * (s - 1) + 2 };
-        let sigma_above = above[i];
-        let sigma_below = (sigma_g_cm2 - sigma_above).max(0.0);
-        let av = sigma_above * per_h * c.extinction_per_hydrogen_mag_cm2;
-        let zeta = c.cosmic_ray_rate_s
-            * 0.5
-            * (exp(-sigma_above / COSMIC_RAY_ATTENUATION_G_PER_CM2)
-                + exp(-sigma_below / COSMIC_RAY_ATTENUATION_G_PER_CM2));
-        let fuv = HABING_PHOTONS_PER_CM2_S
-            * (g_star * exp(-2.0 * av / flaring_angle)
-                + c.interstellar_fuv_habing * exp(-2.0 * av))
-            + 1.0e4 * zeta / REFERENCE_COSMIC_RAY_RATE_S;
-        col.height_cm.push(i as f64 * dz);
-        col.temperature_k.push(temperature[i]);
-        col.density_g_cm3.push(rho[i]);
-        col.hydrogen_density_cm3.push(rho[i] * per_h);
-        col.column_above_g_cm2.push(sigma_above);
-        col.visual_extinction_mag.push(av);
-        col.fuv_photon_flux_cm2_s.push(fuv);
-        col.ionization_rate_s.push(zeta);
+        let i = fine_index(s);
+        out.height_cm[base + s] = i as f64 * dz;
+        out.temperature_k[base + s] = fine.temperature[i];
+        out.density_g_cm3[base + s] = rho[i];
+        out.hydrogen_density_cm3[base + s] = rho[i] * per_h;
+        out.column_above_g_cm2[base + s] = above[i];
     }
-    col
+    let sigma_above = &out.column_above_g_cm2[range.clone()];
+    for ((av, zeta), &sigma_above) in out.visual_extinction_mag[range.clone()]
+        .iter_mut()
+        .zip(&mut out.ionization_rate_s[range.clone()])
+        .zip(sigma_above)
+    {
+        let sigma_below = (sigma_g_cm2 - sigma_above).max(0.0);
+        *av = sigma_above * per_h * c.extinction_per_hydrogen_mag_cm2;
+        *zeta = c.cosmic_ray_rate_s
+            * 0.5
+            * (exp_poly(-sigma_above / COSMIC_RAY_ATTENUATION_G_PER_CM2)
+                + exp_poly(-sigma_below / COSMIC_RAY_ATTENUATION_G_PER_CM2));
+    }
+    for ((fuv, &av), &zeta) in out.fuv_photon_flux_cm2_s[range.clone()]
+        .iter_mut()
+        .zip(&out.visual_extinction_mag[range.clone()])
+        .zip(&out.ionization_rate_s[range])
+    {
+        *fuv = HABING_PHOTONS_PER_CM2_S
+            * (g_star * exp_poly(-2.0 * av / flaring_angle)
+                + c.interstellar_fuv_habing * exp_poly(-2.0 * av))
+            + 1.0e4 * zeta / REFERENCE_COSMIC_RAY_RATE_S;
+    }
 }
 
 /// Outermost radius [cm] where the midplane of the disk's hot early phase
@@ -1012,16 +1090,25 @@ impl DiskStructure {
         let (phi, mid) = flaring_solution(&c, p.disk.self_consistent_flaring, &radii, &sigma)?;
         let samples_per_column = p.grid.vertical_cells + 1;
         let total = radii.len() * samples_per_column;
-        let mut samples = Column::with_capacity(total);
+        let mut samples = Column::zeroed(total);
+        let mut fine = FineGrid::default();
         let mut h = Vec::with_capacity(radii.len());
         for j in 0..radii.len() {
-            let col = column(&c, radii[j], sigma[j], mid[j].temperature_k, phi[j]);
+            fill_column(
+                &c,
+                radii[j],
+                sigma[j],
+                mid[j].temperature_k,
+                phi[j],
+                &mut fine,
+                &mut samples,
+                j * samples_per_column,
+            );
             h.push(scale_height_cm(
                 c.star_mass_g,
                 mid[j].temperature_k,
                 radii[j],
             ));
-            samples.append(&col);
         }
         let early_soot_line_radius_cm = match p.composition.soot_line {
             SootLine::Irreversible => {
