@@ -341,7 +341,7 @@
     try {
       const bytes = app.explorer.figureFile(view, figureOptions(format));
       const name = `${slug(getPath(app.state, "name"))}-${view.replace(":", "-")}.${format}`;
-      downloadBytes(name, bytes, format === "svg" ? "image/svg+xml" : "image/png");
+      download(name, bytes, format === "svg" ? "image/svg+xml" : "image/png");
     } catch (e) {
       const message = String(e.message || e);
       problem.hidden = false;
@@ -350,16 +350,6 @@
     }
   }
 
-  function downloadBytes(name, bytes, type) {
-    const url = URL.createObjectURL(new Blob([bytes], { type }));
-    const a = document.createElement("a");
-    a.href = url;
-    a.download = name;
-    document.body.append(a);
-    a.click();
-    a.remove();
-    setTimeout(() => URL.revokeObjectURL(url), 1000);
-  }
 
   // ---------------------------------------------------------------------------
   // Computing: after an edit of the panel (once per animation frame) and after
@@ -627,7 +617,7 @@
       const format = what.slice(5);
       try {
         const bytes = app.explorer.figureFile("chi2_map", { format, width: "single", dpi: "300", theme: "light" });
-        downloadBytes(`${slug(getPath(app.state, "name"))}-chi2-map.${format}`, bytes, format === "svg" ? "image/svg+xml" : "image/png");
+        download(`${slug(getPath(app.state, "name"))}-chi2-map.${format}`, bytes, format === "svg" ? "image/svg+xml" : "image/png");
       } catch (e) {
         fitMessage.hidden = false;
         fitMessage.textContent = `The figure could not be made: ${e.message || e}`;

@@ -743,8 +743,10 @@ fn formula(key: &str) -> String {
         .collect()
 }
 
-/// A number in about `digits` significant digits for sentences.
-fn sig(x: f64, digits: usize) -> String {
+/// A number in about `digits` significant digits for sentences (no exponent
+/// below 1e-3); log10 through the core's libm routines, so the page and the
+/// native tools agree.
+pub(crate) fn sig(x: f64, digits: usize) -> String {
     if !x.is_finite() {
         return "undefined".into();
     }

@@ -19,7 +19,7 @@ use crate::formats::json_text;
 use crate::methods::{cited_keys, methods};
 use crate::planet::{
     anchor_summary, explain, fit_ecsv, fit_json, fit_summary, fit_table, parse_covariance,
-    parse_range, planet_json, planet_table, weighting_from_key, FitOptions, PlanetOptions,
+    parse_range, planet_json, planet_table, sig, weighting_from_key, FitOptions, PlanetOptions,
 };
 use crate::provenance::program_version;
 use crate::{to_csv, Provenance};
@@ -499,20 +499,6 @@ pub fn allowed_union(map: &ChiSquareMap) -> Vec<(f64, f64)> {
         }
     }
     out
-}
-
-/// A number in about `digits` significant digits for sentences (no exponent below 1e-3).
-fn sig(x: f64, digits: usize) -> String {
-    if !x.is_finite() {
-        return "undefined".into();
-    }
-    if x == 0.0 {
-        return "0".into();
-    }
-    // log10 through the core's libm routines, so the page and native tests agree.
-    let magnitude = (nivalis_physics::math::ln(x.abs()) / std::f64::consts::LN_10).floor() as i32;
-    let decimals = (digits as i32 - 1 - magnitude).max(0) as usize;
-    format!("{x:.decimals$}")
 }
 
 /// What the panel shows of an inverse map: the CLI's summary (observation,
