@@ -848,7 +848,7 @@ fn execute(args: Args) -> Result<(), Failure> {
                 evolution_json, evolution_table, snowline_tracks_table,
             };
             use nivalis_exports::evolution_methods::evolution_methods;
-            let mut file = read_disk(&disk)?;
+            let mut file = read_disk(&disk, &sets)?;
             let mut e = file
                 .evolution
                 .clone()

@@ -39,7 +39,7 @@ pub use json::{
 };
 pub use reader::{from_value, parse_disk_json};
 pub use set_path::{
-    apply_assignments, is_unknown_field, parse_assignment, parse_value_text, set_path,
+    apply_assignments, is_unknown_field, parse_assignment, set_path,
 };
 pub use writer::{to_json_string, to_value};
 
