@@ -134,6 +134,14 @@ pub fn python_module() -> Result<Option<String>, String> {
     if !root.join("crates/python/pyproject.toml").is_file() {
         return Ok(Some("crates/python does not exist".into()));
     }
+    // The crate is its own workspace, so `cargo fmt --all` of the gates does not see it.
+    run(cargo().current_dir(&root).args([
+        "fmt",
+        "--manifest-path",
+        "crates/python/Cargo.toml",
+        "--",
+        "--check",
+    ]))?;
     let python = install_module(Build::Test)?;
     run(cargo()
         .current_dir(&root)
