@@ -214,16 +214,22 @@ fn opt_f64(m: &Map<String, Value>, path: &str, key: &str, out: &mut Vec<Problem>
     }
 }
 
-fn planet_spec(v: &Value, path: &str, i: usize, out: &mut Vec<Problem>) -> Option<PlanetSpec> {
-    let Some(m) = v.as_object() else {
+/// `v` as an object, else a problem at `path`.
+fn object<'v>(v: &'v Value, path: &str, out: &mut Vec<Problem>) -> Option<&'v Map<String, Value>> {
+    let m = v.as_object();
+    if m.is_none() {
         out.push(bad(
             path,
             v,
             "an object",
             format!("must be an object, got {v}"),
         ));
-        return None;
-    };
+    }
+    m
+}
+
+fn planet_spec(v: &Value, path: &str, i: usize, out: &mut Vec<Problem>) -> Option<PlanetSpec> {
+    let m = object(v, path, out)?;
     unknown_keys(
         m,
         path,
@@ -279,15 +285,7 @@ fn planet_spec(v: &Value, path: &str, i: usize, out: &mut Vec<Problem>) -> Optio
 }
 
 fn fit_spec(v: &Value, path: &str, i: usize, out: &mut Vec<Problem>) -> Option<FitSpec> {
-    let Some(m) = v.as_object() else {
-        out.push(bad(
-            path,
-            v,
-            "an object",
-            format!("must be an object, got {v}"),
-        ));
-        return None;
-    };
+    let m = object(v, path, out)?;
     let numbers = [
         "c_to_o",
         "c_to_o_sigma",
@@ -477,13 +475,7 @@ impl Sweep {
             Some(Value::Array(list)) if !list.is_empty() => {
                 for (i, a) in list.iter().enumerate() {
                     let at = format!("axes[{i}]");
-                    let Some(m) = a.as_object() else {
-                        out.push(bad(
-                            &at,
-                            a,
-                            "an object",
-                            format!("must be an object, got {a}"),
-                        ));
+                    let Some(m) = object(a, &at, &mut out) else {
                         continue;
                     };
                     unknown_keys(m, &at, &["path", "values", "linear", "log"], &mut out);

@@ -42,13 +42,8 @@ impl SweepError {
 
 impl std::fmt::Display for SweepError {
     fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
-        for (i, p) in self.0.iter().enumerate() {
-            if i > 0 {
-                writeln!(f)?;
-            }
-            write!(f, "{p}")?;
-        }
-        Ok(())
+        // One line per problem, as a disk file's problems.
+        nivalis_disk_files::Problems(self.0.clone()).fmt(f)
     }
 }
 

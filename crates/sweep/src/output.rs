@@ -63,7 +63,11 @@ pub fn sha256_file(path: &Path) -> Result<String, String> {
 
 /// Write `bytes` to `path` through a temporary file renamed into place.
 fn write_atomic(path: &Path, bytes: &[u8]) -> Result<(), String> {
-    let temp = path.with_extension(format!("tmp{}", std::process::id()));
+    // Unique per writer: the tasks of a job array on different nodes may share a process id.
+    let nanos = std::time::SystemTime::now()
+        .duration_since(std::time::UNIX_EPOCH)
+        .map_or(0, |d| d.as_nanos());
+    let temp = path.with_extension(format!("{}.{nanos}.tmp", std::process::id()));
     std::fs::write(&temp, bytes)
         .and_then(|_| std::fs::rename(&temp, path))
         .map_err(|e| {

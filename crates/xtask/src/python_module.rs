@@ -7,8 +7,9 @@
 //! On a fresh machine: `python3 -m venv` (with `python3-venv` from apt-get
 //! when the module is missing), pip installs maturin, pytest, Dask
 //! distributed, pandas, pyarrow, astropy and numpy, then
-//! `pip install ./crates/python` builds the Rust extension (its cargo build
-//! directory is `<target>/python-module-build`, so later runs are incremental).
+//! `pip install ./crates/python` builds the Rust extension, unoptimised in the
+//! main target directory so the core crates built by the Rust stage are
+//! reused ([`Build::Test`]); `cargo xtask bench` installs an optimised build.
 
 use std::path::PathBuf;
 use std::process::Command;
@@ -85,23 +86,45 @@ pub fn ensure_venv() -> Result<PathBuf, String> {
     }
 }
 
+/// How the module is compiled.
+#[derive(Clone, Copy, PartialEq, Eq, Debug)]
+pub enum Build {
+    /// Unoptimised, in the main target directory, so the core crates compiled
+    /// by the Rust stage are reused (the tests compare texts and bits, which
+    /// do not depend on optimisation: the debug CLI and a release module agree byte for byte).
+    Test,
+    /// Optimised, in `<target>/python-module-build`, for the benchmark.
+    Release,
+}
+
 /// Build and install the module into the stage's venv (no build isolation:
 /// maturin comes from the venv, so no second download). Returns the venv's python.
-pub fn install_module() -> Result<PathBuf, String> {
+pub fn install_module(build: Build) -> Result<PathBuf, String> {
     let python = ensure_venv()?;
-    run(Command::new(&python)
-        .current_dir(repo_root())
-        .env("CARGO_TARGET_DIR", target_dir().join("python-module-build"))
-        .args([
-            "-m",
-            "pip",
-            "install",
-            "--quiet",
-            "--no-build-isolation",
-            "--force-reinstall",
-            "--no-deps",
-            "./crates/python",
-        ]))?;
+    let mut pip = Command::new(&python);
+    // Without build isolation the maturin backend runs the venv's `maturin`
+    // program, found on PATH: put the venv's bin folder first.
+    let bin = venv_dir().join("bin");
+    let path = std::env::var_os("PATH").unwrap_or_default();
+    let path = std::env::join_paths(std::iter::once(bin).chain(std::env::split_paths(&path)))
+        .map_err(|e| format!("cannot build PATH: {e}"))?;
+    pip.current_dir(repo_root()).env("PATH", path);
+    match build {
+        Build::Test => pip
+            .env("CARGO_TARGET_DIR", target_dir())
+            .env("MATURIN_PEP517_ARGS", "--profile dev"),
+        Build::Release => pip.env("CARGO_TARGET_DIR", target_dir().join("python-module-build")),
+    };
+    run(pip.args([
+        "-m",
+        "pip",
+        "install",
+        "--quiet",
+        "--no-build-isolation",
+        "--force-reinstall",
+        "--no-deps",
+        "./crates/python",
+    ]))?;
     Ok(python)
 }
 
@@ -111,7 +134,15 @@ pub fn python_module() -> Result<Option<String>, String> {
     if !root.join("crates/python/pyproject.toml").is_file() {
         return Ok(Some("crates/python does not exist".into()));
     }
-    let python = install_module()?;
+    // The crate is its own workspace, so `cargo fmt --all` of the gates does not see it.
+    run(cargo().current_dir(&root).args([
+        "fmt",
+        "--manifest-path",
+        "crates/python/Cargo.toml",
+        "--",
+        "--check",
+    ]))?;
+    let python = install_module(Build::Test)?;
     run(cargo()
         .current_dir(&root)
         .args(["build", "-p", "nivalis-cli"]))?;
@@ -134,11 +165,9 @@ pub fn python_module() -> Result<Option<String>, String> {
     Ok(None)
 }
 
-/// Whether the module is importable from the stage's venv (for `cargo xtask bench`).
-pub fn installed_python() -> Option<PathBuf> {
-    let python = venv_dir().join("bin").join("python3");
-    succeeds(Command::new(&python).args(["-c", "import nivalis, dask.distributed"]))
-        .then_some(python)
+/// The stage's venv with an optimised build of the module (for `cargo xtask bench`).
+pub fn release_python() -> Result<PathBuf, String> {
+    install_module(Build::Release)
 }
 
 #[cfg(test)]

@@ -66,11 +66,9 @@ pub fn sweep_section() -> Result<(), String> {
          (set the value, read and validate the disk, snowlines, provenance hash)",
         overhead_percent(sweep, bare)
     );
-    match crate::python_module::installed_python() {
-        None => println!(
-            "  dask: not measured (the module is not installed; run the `python module` stage of cargo xtask test first)"
-        ),
-        Some(python) => {
+    match crate::python_module::release_python() {
+        Err(message) => println!("  dask: not measured ({message})"),
+        Ok(python) => {
             let out = Command::new(&python)
                 .current_dir(&root)
                 .arg("crates/python/benches/sweep_dask.py")
