@@ -919,11 +919,31 @@ mod tests {
         use crate::{Model, ModelParameters, Species};
         let mut configs = Vec::new();
         for (desorption, initial, grain_um, age_myr) in [
-            (DesorptionModel::ZerothOrder, InitialIceState::Inherited, 0.1, 1.0),
+            (
+                DesorptionModel::ZerothOrder,
+                InitialIceState::Inherited,
+                0.1,
+                1.0,
+            ),
             (DesorptionModel::ZerothOrder, InitialIceState::Gas, 0.1, 1.0),
-            (DesorptionModel::FirstOrder, InitialIceState::Inherited, 0.1, 1.0),
-            (DesorptionModel::ZerothOrder, InitialIceState::Inherited, 100.0, 0.01),
-            (DesorptionModel::ZerothOrder, InitialIceState::Gas, 1000.0, 0.001),
+            (
+                DesorptionModel::FirstOrder,
+                InitialIceState::Inherited,
+                0.1,
+                1.0,
+            ),
+            (
+                DesorptionModel::ZerothOrder,
+                InitialIceState::Inherited,
+                100.0,
+                0.01,
+            ),
+            (
+                DesorptionModel::ZerothOrder,
+                InitialIceState::Gas,
+                1000.0,
+                0.001,
+            ),
         ] {
             let mut p = ModelParameters::defaults();
             p.grid.radial_cells = 60;

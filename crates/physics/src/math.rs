@@ -81,9 +81,9 @@ pub fn ln_gamma(x: f64) -> f64 {
 pub fn exp_poly(x: f64) -> f64 {
     const LOG2_E: f64 = core::f64::consts::LOG2_E;
     // fdlibm's split of ln 2: LN2_HI has 32 trailing zero bits, so n * LN2_HI is exact.
-    const LN2_HI: f64 = 6.931_471_803_691_238_164_90e-1;
-    const LN2_LO: f64 = 1.908_214_929_270_587_700_02e-10;
-    // Adding 1.5 * 2^52 rounds to the nearest integer, held in the low bits of the sum.
+    const LN2_HI: f64 = 0.693_147_180_369_123_8; // bits 0x3fe62e42fee00000
+    const LN2_LO: f64 = 1.908_214_929_270_587_7e-10; // bits 0x3dea39ef35793c76
+                                                     // Adding 1.5 * 2^52 rounds to the nearest integer, held in the low bits of the sum.
     const SHIFT: f64 = 6_755_399_441_055_744.0;
     // 1/k!, k = 2..=13.
     const C: [f64; 12] = [
@@ -135,7 +135,8 @@ pub fn exp_poly(x: f64) -> f64 {
 #[inline(always)]
 pub fn ln_upper_bound(y: f64) -> f64 {
     // The biased exponent as a double: 2^52 + e_biased, minus 2^52.
-    let biased = f64::from_bits(0x4330_0000_0000_0000 | (y.to_bits() >> 52)) - 4_503_599_627_370_496.0;
+    let biased =
+        f64::from_bits(0x4330_0000_0000_0000 | (y.to_bits() >> 52)) - 4_503_599_627_370_496.0;
     (biased - 1022.0) * core::f64::consts::LN_2
 }
 
@@ -212,7 +213,10 @@ mod tests {
         for u in uniform(100_000) {
             let y = libm::exp(700.0 * u);
             let (bound, ln) = (ln_upper_bound(y), libm::log(y));
-            assert!(bound >= ln && bound <= ln + core::f64::consts::LN_2 + 1e-12, "{y:e}");
+            assert!(
+                bound >= ln && bound <= ln + core::f64::consts::LN_2 + 1e-12,
+                "{y:e}"
+            );
         }
         assert_eq!(ln_upper_bound(1.0), core::f64::consts::LN_2);
     }
