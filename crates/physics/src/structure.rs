@@ -812,6 +812,8 @@ pub fn column(
 /// Scratch arrays of the fine vertical grid, reused from column to column.
 #[derive(Debug, Default)]
 struct FineGrid {
+    /// 0, 1, 2, ... as doubles (z_i = i dz in a loop that vectorises).
+    index: Vec<f64>,
     temperature: Vec<f64>,
     integrand: Vec<f64>,
     rho: Vec<f64>,
@@ -843,6 +845,9 @@ fn fill_column(
     let gravity = mu_mh_over_k * gm;
     let r2 = radius_cm * radius_cm;
 
+    if fine.index.len() != points {
+        fine.index = (0..points).map(|i| i as f64).collect();
+    }
     fine.temperature.resize(points, 0.0);
     fine.integrand.resize(points, 0.0);
     fine.rho.resize(points, 0.0);
@@ -851,8 +856,13 @@ fn fill_column(
     for (i, t) in fine.temperature.iter_mut().enumerate() {
         *t = profile.temperature_k(i as f64 * dz);
     }
-    for (i, (g, &t)) in fine.integrand.iter_mut().zip(&fine.temperature).enumerate() {
-        let z = i as f64 * dz;
+    for ((g, &t), &i) in fine
+        .integrand
+        .iter_mut()
+        .zip(&fine.temperature)
+        .zip(&fine.index)
+    {
+        let z = i * dz;
         let s = r2 + z * z;
         // (mu m_H / (k T)) G M z / (r^2 + z^2)^(3/2), with one division.
         *g = gravity * z / (t * (s * sqrt(s)));
