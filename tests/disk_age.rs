@@ -202,11 +202,11 @@ fn ice_fractions_stay_in_zero_one() {
 fn co_freeze_out_yr(m: &Model, radius_au: f64) -> (usize, f64) {
     let st = &m.structure();
     let j = st
-        .radius_cm
+        .radius_cm()
         .partition_point(|&x| x < radius_au * AU_CM)
-        .min(st.radial_cells - 1);
+        .min(st.radial_cells() - 1);
     let k = st.index(j, 0);
-    let s = &st.samples;
+    let s = &st.samples();
     let balance = BalanceConstants::new(m.parameters(), m.species_properties());
     let sample = balance.sample(
         s.temperature_k[k],
@@ -254,7 +254,7 @@ fn grain_growth_slows_co_equilibration() {
     // further in than with small grains; the radius is searched for rather than fixed.)
     let st = big_dark.structure();
     let co = Species::CO;
-    let slow = (0..st.radial_cells)
+    let slow = (0..st.radial_cells())
         .map(|j| st.index(j, 0))
         .find(|&k| {
             big_dark.out_of_equilibrium_at(co, k)
@@ -265,7 +265,7 @@ fn grain_growth_slows_co_equilibration() {
         .expect("some midplane cell keeps inherited CO ice at 1 Myr with 100 um grains");
     println!(
         "100 um, {:.1} au, 1 Myr: f_CO = {:.4}, equilibrium {:.4}, t_eq = {:.3e} yr",
-        st.radius_cm[slow / st.samples_per_column] / AU_CM,
+        st.radius_cm()[slow / st.samples_per_column()] / AU_CM,
         big_dark.ice_fraction_at(co, slow),
         big_dark.equilibrium_ice_fraction_at(co, slow),
         big_dark.equilibration_time_s_at(co, slow) / JULIAN_YEAR_S

@@ -24,7 +24,7 @@ fn inner_disk_solids_are_carbon_poor_by_default() {
     let model = Model::run(&small_default()).unwrap();
     let r_soot = model
         .structure()
-        .early_soot_line_radius_cm
+        .early_soot_line_radius_cm()
         .expect("the early phase reaches the soot line")
         / AU_CM;
     println!("early soot line at {r_soot:.3} au");
@@ -49,7 +49,7 @@ fn inner_disk_solids_are_carbon_poor_by_default() {
     let mut p = small_default();
     p.composition.soot_line = SootLine::Reversible;
     let reversible = Model::run(&p).unwrap();
-    assert_eq!(reversible.structure().early_soot_line_radius_cm, None);
+    assert_eq!(reversible.structure().early_soot_line_radius_cm(), None);
     let old = reversible
         .ratios(&reversible.midplane_at(1.0).unwrap().phases)
         .c_to_o_solid
@@ -91,9 +91,9 @@ fn elements_are_conserved_with_the_irreversible_soot_line() {
     // gas + ice + refractory = stellar in every cell to 1e-12 (ARCHITECTURE.md invariant, D),
     // including the cells inside the early soot line where refractory carbon is in the gas.
     let model = Model::run(&small_default()).unwrap();
-    let r_soot = model.structure().early_soot_line_radius_cm.unwrap();
+    let r_soot = model.structure().early_soot_line_radius_cm().unwrap();
     let x = model.stellar_per_h();
-    let spc = model.structure().samples_per_column;
+    let spc = model.structure().samples_per_column();
     let mut inside = 0;
     for k in 0..model.sample_count() {
         let ph = model.phases_at(k);
@@ -105,7 +105,7 @@ fn elements_are_conserved_with_the_irreversible_soot_line() {
                 "sample {k}, element {e}"
             );
         }
-        if model.structure().radius_cm[k / spc] <= r_soot {
+        if model.structure().radius_cm()[k / spc] <= r_soot {
             inside += 1;
             assert_eq!(
                 ph.refractory[C], 0.0,
@@ -135,7 +135,7 @@ fn ism_dust_reproduces_bohlin_savage_drake() {
     p.grid.radial_cells = 12;
     p.grid.vertical_cells = 24;
     let model = Model::run(&p).unwrap();
-    let s = &model.structure().samples;
+    let s = &model.structure().samples();
     let m_h = 1.007_825_031_898 * 1.660_539_068_92e-24;
     for k in (0..s.height_cm.len()).filter(|&k| s.column_above_g_cm2[k] > 0.0) {
         let n_h = s.column_above_g_cm2[k] / (1.4 * m_h);
@@ -193,7 +193,7 @@ fn extinction_per_h_scales_as_dust_to_gas_over_grain_radius() {
 
 fn snow_surface_height_over_radius(model: &Model, species: Species, j: usize) -> Option<f64> {
     match model.snow_surface(species, j) {
-        SnowSurface::Height(height_cm) => Some(height_cm / model.structure().radius_cm[j]),
+        SnowSurface::Height(height_cm) => Some(height_cm / model.structure().radius_cm()[j]),
         _ => None,
     }
 }
@@ -209,15 +209,15 @@ fn grown_dust_lets_the_uv_deeper() {
     let grown = Model::run(&p).unwrap();
     let st = &small.structure();
     let mut compared = 0;
-    for j in 0..st.radial_cells {
-        let r_au = st.radius_cm[j] / AU_CM;
+    for j in 0..st.radial_cells() {
+        let r_au = st.radius_cm()[j] / AU_CM;
         // FUV at the same sample (same height over the column) is never lower with grown dust.
-        for s in 1..st.samples_per_column {
+        for s in 1..st.samples_per_column() {
             let k = st.index(j, s);
             assert!(
-                grown.structure().samples.visual_extinction_mag[k]
-                    < small.structure().samples.visual_extinction_mag[k]
-                    || small.structure().samples.visual_extinction_mag[k] == 0.0
+                grown.structure().samples().visual_extinction_mag[k]
+                    < small.structure().samples().visual_extinction_mag[k]
+                    || small.structure().samples().visual_extinction_mag[k] == 0.0
             );
         }
         if let (Some(a), Some(b)) = (

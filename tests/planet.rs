@@ -51,8 +51,8 @@ fn first_freeze_out_au(model: &Model, species: Species) -> f64 {
 fn zone_radii(model: &Model) -> [f64; 4] {
     let st = &model.structure();
     let soot = nivalis_physics::snowlines::crossings(
-        &st.radius_cm,
-        &st.midplane_temperature_k,
+        st.radius_cm(),
+        st.midplane_temperature_k(),
         500.0,
         true,
         false,
@@ -744,7 +744,7 @@ fn gas_in_an_annulus_is_the_closed_form_integral() {
     // M_tot [1 - exp(-(r/R_c)^(2-gamma))] (Lynden-Bell & Pringle 1974; Andrews et al. 2009), so the
     // annulus [r1, r2] holds M_tot [exp(-(r1/R_c)^(2-g)) - exp(-(r2/R_c)^(2-g))], M_tot = 2 pi Sigma_c R_c^2 / (2 - g).
     let model = Model::run(&small_default()).unwrap();
-    let c = &model.structure().constants;
+    let c = &model.structure().constants();
     let m_tot = 2.0 * std::f64::consts::PI * c.sigma_c_g_cm2 * c.characteristic_radius_cm.powi(2)
         / (2.0 - c.gamma);
     let cum = |r_au: f64| (-(r_au * AU_CM / c.characteristic_radius_cm).powf(2.0 - c.gamma)).exp();
@@ -828,7 +828,7 @@ fn migration_weighted_by_accreted_mass_is_the_hand_integral() {
         .unwrap()
         .gas_atoms_per_g[C];
     assert!(x_in > 1.2 * x_out, "a real step: {x_in:e} vs {x_out:e}");
-    let c = &model.structure().constants;
+    let c = &model.structure().constants();
     let cum = |r_au: f64| (-(r_au * AU_CM / c.characteristic_radius_cm).powf(2.0 - c.gamma)).exp();
     let (m_in, m_out) = (cum(r1) - cum(r_d), cum(r_d) - cum(r2));
     let expected = (m_in * x_in + m_out * x_out) / (m_in + m_out);

@@ -226,28 +226,28 @@ fn temperatures_densities_and_ice_fractions_are_physical() {
     // species and sample (docs/model.md section 7). Exact inequalities: no tolerance.
     run_properties("physical fields", |p, m, tally| {
         let st = &m.structure();
-        for j in 0..st.radial_cells {
-            let t_mid = st.midplane_temperature_k[j];
+        for j in 0..st.radial_cells() {
+            let t_mid = st.midplane_temperature_k()[j];
             prop_assert!(
                 t_mid.is_finite() && t_mid > 0.0,
                 "T_mid = {t_mid} at cell {j}"
             );
             prop_assert!(
-                st.accretion_temperature_k[j] >= 0.0 && st.irradiation_temperature_k[j] > 0.0
+                st.accretion_temperature_k()[j] >= 0.0 && st.irradiation_temperature_k()[j] > 0.0
             );
-            for s in 0..st.samples_per_column {
+            for s in 0..st.samples_per_column() {
                 let k = st.index(j, s);
-                let t = st.samples.temperature_k[k];
-                let rho = st.samples.density_g_cm3[k];
+                let t = st.samples().temperature_k[k];
+                let rho = st.samples().density_g_cm3[k];
                 prop_assert!(t.is_finite() && t > 0.0, "T = {t} at cell {j} sample {s}");
                 prop_assert!(
                     rho.is_finite() && rho > 0.0,
                     "rho = {rho} at cell {j} sample {s}"
                 );
                 if s > 0 {
-                    let below = st.samples.density_g_cm3[k - 1];
+                    let below = st.samples().density_g_cm3[k - 1];
                     prop_assert!(
-                        t >= st.samples.temperature_k[k - 1],
+                        t >= st.samples().temperature_k[k - 1],
                         "T falls with height at cell {j} sample {s}"
                     );
                     prop_assert!(
@@ -374,10 +374,10 @@ fn more_heating_never_cools_the_midplane_and_moves_the_water_line_out() {
                 }
             };
             let tol = 1e-12;
-            for j in 0..m.structure().radial_cells {
+            for j in 0..m.structure().radial_cells() {
                 let (t0, t1) = (
-                    m.structure().midplane_temperature_k[j],
-                    hot.structure().midplane_temperature_k[j],
+                    m.structure().midplane_temperature_k()[j],
+                    hot.structure().midplane_temperature_k()[j],
                 );
                 prop_assert!(
                     t1 >= t0 * (1.0 - tol),
@@ -436,9 +436,10 @@ fn gas_between_co2_and_co_lines_is_carbon_rich_relative_to_the_star() {
         let st = &m.structure();
         let total = m.star_c_to_o();
         let profile = m.midplane_profile();
-        for j in 0..st.radial_cells {
-            let r = st.radius_cm[j];
-            if r <= r_co2 || r >= r_co || st.midplane_temperature_k[j] >= m.carriers().soot_line_k {
+        for j in 0..st.radial_cells() {
+            let r = st.radius_cm()[j];
+            if r <= r_co2 || r >= r_co || st.midplane_temperature_k()[j] >= m.carriers().soot_line_k
+            {
                 continue;
             }
             let gas = profile.c_to_o_gas[j];
@@ -477,8 +478,8 @@ fn step_model_snowlines_sit_at_the_condensation_temperature() {
                 continue;
             }
             let t_cond = m.species_properties()[s.index()].condensation_temperature_k;
-            let t = &st.midplane_temperature_k;
-            let changes = (1..st.radial_cells)
+            let t = &st.midplane_temperature_k();
+            let changes = (1..st.radial_cells())
                 .filter(|&j| (t[j - 1] < t_cond) != (t[j] < t_cond))
                 .count();
             let lines = m.snowlines(s);
@@ -490,12 +491,12 @@ fn step_model_snowlines_sit_at_the_condensation_temperature() {
             );
             for a in &lines {
                 // ln T at the line, interpolated between the bracketing cells, is ln T_cond.
-                let j = st.radius_cm.partition_point(|&r| r <= a.radius_cm);
-                prop_assert!(j > 0 && j < st.radial_cells);
-                let (r0, r1) = (st.radius_cm[j - 1].ln(), st.radius_cm[j].ln());
+                let j = st.radius_cm().partition_point(|&r| r <= a.radius_cm);
+                prop_assert!(j > 0 && j < st.radial_cells());
+                let (r0, r1) = (st.radius_cm()[j - 1].ln(), st.radius_cm()[j].ln());
                 let (t0, t1) = (
-                    st.midplane_temperature_k[j - 1].ln(),
-                    st.midplane_temperature_k[j].ln(),
+                    st.midplane_temperature_k()[j - 1].ln(),
+                    st.midplane_temperature_k()[j].ln(),
                 );
                 let ln_t = t0 + (a.radius_cm.ln() - r0) / (r1 - r0) * (t1 - t0);
                 prop_assert!(

@@ -144,17 +144,17 @@ fn observed_power_law_temperature_sets_the_midplane_and_the_step_snowlines() {
     };
     let model = Model::run(&p).unwrap();
     let st = &model.structure();
-    for j in 0..st.radial_cells {
-        let r_au = st.radius_cm[j] / AU_CM;
+    for j in 0..st.radial_cells() {
+        let r_au = st.radius_cm()[j] / AU_CM;
         let law = (160.0 * r_au.powf(-0.55)).max(p.disk.background_temperature_k);
         assert_rel(
-            st.midplane_temperature_k[j],
+            st.midplane_temperature_k()[j],
             law,
             1e-12,
             &format!("T_mid at {r_au:.3} au"),
         );
         // The two-layer atmosphere follows its own law at the top of the column (z >= z_q = 4 H).
-        let top = st.samples.temperature_k[st.index(j, st.samples_per_column - 1)];
+        let top = st.samples().temperature_k[st.index(j, st.samples_per_column() - 1)];
         assert_rel(
             top,
             (600.0 * r_au.powf(-0.45)).max(law),

@@ -141,8 +141,8 @@ fn step_model_zone_c_to_o() {
     let (r_h2o, r_co2, r_co) = (line(Species::H2O), line(Species::CO2), line(Species::CO));
     // The soot line (T_mid = 500 K), found the same way as a step-model snowline.
     let soot = crossings(
-        &st.radius_cm,
-        &st.midplane_temperature_k,
+        st.radius_cm(),
+        st.midplane_temperature_k(),
         500.0,
         true,
         false,
@@ -232,8 +232,8 @@ fn step_model_zone_c_to_o() {
     // ratios; where CO is the only gas-phase carrier the gas C/O is 1 exactly (docs/check-values.md section 5a invariant).
     let profile = model.midplane_profile();
     let mut seen = [0usize; 4];
-    for j in 0..st.radial_cells {
-        let t = st.midplane_temperature_k[j];
+    for j in 0..st.radial_cells() {
+        let t = st.midplane_temperature_k()[j];
         let zone = if t >= 500.0 {
             continue;
         } else if t >= 135.0 {

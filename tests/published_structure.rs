@@ -92,17 +92,17 @@ fn hayashi_temperature_law_from_irradiation_only_disk() {
         let hayashi = |r_au: f64| 280.0 / r_au.sqrt() * f64::powf(l, 0.25);
         let thin = Model::run(&irradiation_only(l, 0.5)).unwrap();
         let matched = Model::run(&irradiation_only(l, phi_hayashi)).unwrap();
-        for j in (0..thin.structure().radial_cells).step_by(3) {
-            let r_au = thin.structure().radius_cm[j] / AU_CM;
+        for j in (0..thin.structure().radial_cells()).step_by(3) {
+            let r_au = thin.structure().radius_cm()[j] / AU_CM;
             let what = format!("T_mid at r = {r_au:.3} au, L = {l} Lsun");
             assert_rel(
-                thin.structure().midplane_temperature_k[j],
+                thin.structure().midplane_temperature_k()[j],
                 hayashi(r_au),
                 0.01,
                 &format!("{what}, phi = 1/2 (Hayashi 1981, M)"),
             );
             assert_rel(
-                matched.structure().midplane_temperature_k[j],
+                matched.structure().midplane_temperature_k()[j],
                 hayashi(r_au),
                 1e-9,
                 &format!("{what}, matched phi"),
@@ -172,7 +172,7 @@ fn grey_midplane_convention_hand_computed() {
     // Tolerance 1e-6 relative: the hand values are printed to 7 digits.
     let p = accreting_constant_opacity();
     let model = Model::run(&p).unwrap();
-    let c = &model.structure().constants;
+    let c = &model.structure().constants();
     assert_rel(
         c.stellar_radius_cm / SOLAR_RADIUS_CM,
         2.08225,
@@ -213,9 +213,9 @@ fn grey_midplane_convention_hand_computed() {
 
     // The same convention at every grid cell, from the formula written out here.
     let st = &model.structure();
-    for j in 0..st.radial_cells {
-        let r = st.radius_cm[j];
-        let sigma = st.surface_density_g_cm2[j];
+    for j in 0..st.radial_cells() {
+        let r = st.radius_cm()[j];
+        let sigma = st.surface_density_g_cm2()[j];
         let tau = 0.3 * sigma / 2.0;
         let t_eff4 = 3.0
             * GRAVITATIONAL_CONSTANT_CGS
@@ -227,13 +227,13 @@ fn grey_midplane_convention_hand_computed() {
         let t_acc4 = 0.75 * (tau + 2.0 / 3.0) * t_eff4;
         let what = format!("r = {:.3} au", r / AU_CM);
         assert_rel(
-            st.accretion_temperature_k[j],
+            st.accretion_temperature_k()[j],
             t_acc4.powf(0.25),
             1e-9,
             &format!("T_acc {what}"),
         );
         assert_rel(
-            st.midplane_temperature_k[j],
+            st.midplane_temperature_k()[j],
             (t_irr4 + t_acc4 + 1e4).powf(0.25),
             1e-12,
             &format!("T_mid {what}"),
@@ -251,16 +251,16 @@ fn grey_midplane_optically_thin_limit_keeps_two_thirds_term() {
     };
     let model = Model::run(&p).unwrap();
     let st = &model.structure();
-    let c = &st.constants;
-    for j in 0..st.radial_cells {
+    let c = &st.constants();
+    for j in 0..st.radial_cells() {
         let t_eff4 = viscous_effective_temperature4(
             c.star_mass_g,
             c.accretion_rate_g_s,
             c.stellar_radius_cm,
-            st.radius_cm[j],
+            st.radius_cm()[j],
         );
         assert_rel(
-            st.accretion_temperature_k[j].powi(4),
+            st.accretion_temperature_k()[j].powi(4),
             0.5 * t_eff4,
             1e-9,
             "T_acc^4 = T_eff^4/2 at tau = 0",
@@ -312,24 +312,24 @@ fn isothermal_column_is_gaussian_in_a_thin_disk() {
     p.grid.vertical_cells = 60;
     let model = Model::run(&p).unwrap();
     let st = &model.structure();
-    let c = &st.constants;
+    let c = &st.constants();
     let j = 0;
-    let h = st.scale_height_cm[j];
-    let r = st.radius_cm[j];
+    let h = st.scale_height_cm()[j];
+    let r = st.radius_cm()[j];
     assert!(h / r < 0.015, "precondition: thin column, H/r = {}", h / r);
-    let t = st.midplane_temperature_k[j];
+    let t = st.midplane_temperature_k()[j];
     assert_rel(
         h,
         sound_speed_cm_s(t) / (GRAVITATIONAL_CONSTANT_CGS * c.star_mass_g / r.powi(3)).sqrt(),
         1e-12,
         "H = c_s/Omega",
     );
-    let rho0 = st.samples.density_g_cm3[st.index(j, 0)];
+    let rho0 = st.samples().density_g_cm3[st.index(j, 0)];
     let mut checked = 0;
-    for s in 0..st.samples_per_column {
+    for s in 0..st.samples_per_column() {
         let k = st.index(j, s);
-        let z = st.samples.height_cm[k];
-        let shape = st.samples.density_g_cm3[k] / rho0;
+        let z = st.samples().height_cm[k];
+        let shape = st.samples().density_g_cm3[k] / rho0;
         if z < 3.0 * h {
             assert_rel(
                 shape,
@@ -363,28 +363,29 @@ fn vertical_column_normalisation() {
     // standard): 1 % (the full-gravity correction, about (9/8)(H/r)^2, and the 10 H top).
     let model = Model::run(&irradiation_only(1.0, 0.05)).unwrap();
     let st = &model.structure();
-    for j in 0..st.radial_cells {
-        let sigma = st.surface_density_g_cm2[j];
+    for j in 0..st.radial_cells() {
+        let sigma = st.surface_density_g_cm2()[j];
         let k0 = st.index(j, 0);
         assert_rel(
-            st.samples.column_above_g_cm2[k0],
+            st.samples().column_above_g_cm2[k0],
             sigma / 2.0,
             1e-12,
             &format!("Sigma_above(z=0) at cell {j}"),
         );
-        let h = st.scale_height_cm[j];
-        if h / st.radius_cm[j] < 0.05 {
+        let h = st.scale_height_cm()[j];
+        if h / st.radius_cm()[j] < 0.05 {
             assert_rel(
-                st.samples.density_g_cm3[k0],
+                st.samples().density_g_cm3[k0],
                 sigma / ((2.0 * PI).sqrt() * h),
                 0.01,
                 &format!("rho_mid at cell {j}"),
             );
         }
         // The column above falls with height (it is an integral of a positive density).
-        for s in 1..st.samples_per_column {
+        for s in 1..st.samples_per_column() {
             assert!(
-                st.samples.column_above_g_cm2[k0 + s] < st.samples.column_above_g_cm2[k0 + s - 1]
+                st.samples().column_above_g_cm2[k0 + s]
+                    < st.samples().column_above_g_cm2[k0 + s - 1]
             );
         }
     }
@@ -432,14 +433,14 @@ fn cosmic_ray_attenuation_umebayashi_nakano() {
     let st = &model.structure();
     let zeta0 = p.disk.cosmic_ray_rate_s;
     // (a) The two-sided formula in every sample of every column: 1e-12 (same arithmetic).
-    for j in 0..st.radial_cells {
-        let sigma = st.surface_density_g_cm2[j];
-        for s in 0..st.samples_per_column {
+    for j in 0..st.radial_cells() {
+        let sigma = st.surface_density_g_cm2()[j];
+        for s in 0..st.samples_per_column() {
             let k = st.index(j, s);
-            let above = st.samples.column_above_g_cm2[k];
+            let above = st.samples().column_above_g_cm2[k];
             let expected = 0.5 * zeta0 * ((-above / 96.0).exp() + (-(sigma - above) / 96.0).exp());
             assert_rel(
-                st.samples.ionization_rate_s[k],
+                st.samples().ionization_rate_s[k],
                 expected,
                 1e-12,
                 &format!("zeta, cell {j}, sample {s}"),
@@ -451,14 +452,14 @@ fn cosmic_ray_attenuation_umebayashi_nakano() {
     // two samples falls as exp(-(difference of columns)/96): tolerance 1e-12 absolute in ln zeta
     // (rounding of exp; near the top the column differences are tiny, so a relative test would not fit).
     let j = 0;
-    let sigma = st.surface_density_g_cm2[j];
+    let sigma = st.surface_density_g_cm2()[j];
     assert!(sigma > 5000.0, "precondition: Sigma = {sigma}");
-    let upper: Vec<(f64, f64)> = (0..st.samples_per_column)
+    let upper: Vec<(f64, f64)> = (0..st.samples_per_column())
         .map(|s| st.index(j, s))
         .map(|k| {
             (
-                st.samples.column_above_g_cm2[k],
-                st.samples.ionization_rate_s[k],
+                st.samples().column_above_g_cm2[k],
+                st.samples().ionization_rate_s[k],
             )
         })
         .filter(|(above, _)| *above < 600.0)
@@ -501,7 +502,7 @@ fn visual_extinction_per_hydrogen_column() {
     p.grid.radial_cells = 20;
     p.grid.vertical_cells = 30;
     let model = Model::run(&p).unwrap();
-    let s = &model.structure().samples;
+    let s = &model.structure().samples();
     for k in 0..s.height_cm.len() {
         let n_h_column = s.column_above_g_cm2[k] / (1.4 * m_h);
         if n_h_column > 0.0 {
@@ -547,20 +548,20 @@ fn mmsn_midplane_density() {
     p.grid.vertical_cells = 80;
     let model = Model::run(&p).unwrap();
     let st = &model.structure();
-    assert_rel(st.radius_cm[4] / AU_CM, 1.0, 1e-12, "middle cell at 1 au");
+    assert_rel(st.radius_cm()[4] / AU_CM, 1.0, 1e-12, "middle cell at 1 au");
     assert_rel(
-        st.surface_density_g_cm2[4],
+        st.surface_density_g_cm2()[4],
         1700.0,
         2e-4,
         "Sigma(1 au) = 1700 g/cm^2 (Hayashi 1981, M)",
     );
     assert_rel(
-        st.midplane_temperature_k[4],
+        st.midplane_temperature_k()[4],
         280.0,
         1e-9,
         "T(1 au) = 280 K (Hayashi 1981, M)",
     );
-    let rho_1au = st.samples.density_g_cm3[st.index(4, 0)];
+    let rho_1au = st.samples().density_g_cm3[st.index(4, 0)];
     assert_rel(
         rho_1au,
         1.36e-9 * (2.37f64 / 2.34).sqrt(),
@@ -574,9 +575,9 @@ fn mmsn_midplane_density() {
         "MMSN rho0(1 au) (Hayashi 1981, M, 5 %)",
     );
     // The r^-11/4 slope across 0.5-2 au: tolerance 5e-3 (taper and the full-gravity correction vary with r).
-    for j in 0..st.radial_cells {
-        let r_au = st.radius_cm[j] / AU_CM;
-        let rho = st.samples.density_g_cm3[st.index(j, 0)];
+    for j in 0..st.radial_cells() {
+        let r_au = st.radius_cm()[j] / AU_CM;
+        let rho = st.samples().density_g_cm3[st.index(j, 0)];
         assert_rel(
             rho / rho_1au,
             f64::powf(r_au, -11.0 / 4.0),

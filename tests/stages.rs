@@ -152,25 +152,25 @@ fn given_profile_equal_to_the_computed_one_reproduces_the_structure() {
         let computed = DiskStructure::compute(&p).unwrap();
         let given = DiskStructure::from_surface_density(
             &p,
-            &computed.radius_cm,
-            &computed.surface_density_g_cm2,
+            computed.radius_cm(),
+            computed.surface_density_g_cm2(),
         )
         .unwrap();
         let what = format!("self-consistent flaring {self_consistent}");
         same_bits(
-            &given.midplane_temperature_k,
-            &computed.midplane_temperature_k,
+            given.midplane_temperature_k(),
+            computed.midplane_temperature_k(),
             &format!("{what}: T_mid"),
         );
         same_bits(
-            &given.flaring_angle,
-            &computed.flaring_angle,
+            given.flaring_angle(),
+            computed.flaring_angle(),
             &format!("{what}: phi"),
         );
-        same_columns(&given.samples, &computed.samples, &what);
+        same_columns(given.samples(), computed.samples(), &what);
         assert_eq!(
-            given.early_soot_line_radius_cm,
-            computed.early_soot_line_radius_cm
+            given.early_soot_line_radius_cm(),
+            computed.early_soot_line_radius_cm()
         );
         // The whole model on it.
         same_model(
@@ -192,29 +192,29 @@ fn given_profile_sets_the_midplane_density() {
     p.disk.vertical_temperature = VerticalTemperature::Isothermal;
     let computed = DiskStructure::compute(&p).unwrap();
     let sigma: Vec<f64> = computed
-        .radius_cm
+        .radius_cm()
         .iter()
         .map(|r| 1700.0 * (r / AU_CM).powf(-1.5))
         .collect();
-    let st = DiskStructure::from_surface_density(&p, &computed.radius_cm, &sigma).unwrap();
-    for j in (0..st.radial_cells).step_by(7) {
-        let rho0 = st.samples.density_g_cm3[st.index(j, 0)];
-        let gaussian = sigma[j] / ((2.0 * PI).sqrt() * st.scale_height_cm[j]);
+    let st = DiskStructure::from_surface_density(&p, computed.radius_cm(), &sigma).unwrap();
+    for j in (0..st.radial_cells()).step_by(7) {
+        let rho0 = st.samples().density_g_cm3[st.index(j, 0)];
+        let gaussian = sigma[j] / ((2.0 * PI).sqrt() * st.scale_height_cm()[j]);
         assert_rel(
             rho0,
             gaussian,
             0.02,
-            &format!("rho_0 at {:.2} au", st.radius_cm[j] / AU_CM),
+            &format!("rho_0 at {:.2} au", st.radius_cm()[j] / AU_CM),
         );
         // And a column at an arbitrary radius interpolates the given profile, not the default one.
         assert_rel(
-            st.surface_density_at(st.radius_cm[j]),
+            st.surface_density_at(st.radius_cm()[j]),
             sigma[j],
             1e-12,
             "Sigma at a given radius",
         );
     }
-    let r = (st.radius_cm[10] * st.radius_cm[11]).sqrt();
+    let r = (st.radius_cm()[10] * st.radius_cm()[11]).sqrt();
     assert_rel(
         st.surface_density_at(r),
         1700.0 * (r / AU_CM).powf(-1.5),
@@ -256,12 +256,12 @@ fn one_radius_runs_through_the_grid_stages() {
     }] {
         let model = Model::run(&p).unwrap();
         let st = model.structure();
-        for j in [0, 7, 23, 41, st.radial_cells - 1] {
-            let local = model.midplane_at(st.radius_cm[j] / AU_CM).unwrap();
+        for j in [0, 7, 23, 41, st.radial_cells() - 1] {
+            let local = model.midplane_at(st.radius_cm()[j] / AU_CM).unwrap();
             let k = st.index(j, 0);
             assert_eq!(
                 local.temperature_k.to_bits(),
-                st.midplane_temperature_k[j].to_bits()
+                st.midplane_temperature_k()[j].to_bits()
             );
             for sp in Species::ALL {
                 assert_eq!(
@@ -388,8 +388,8 @@ fn composition_only_rerun_equals_a_full_run_bit_for_bit() {
         let edited = base.with_composition(&p.composition).unwrap();
         same_model(&edited, &full, what);
         assert_eq!(
-            edited.structure().early_soot_line_radius_cm,
-            full.structure().early_soot_line_radius_cm,
+            edited.structure().early_soot_line_radius_cm(),
+            full.structure().early_soot_line_radius_cm(),
             "{what}: early soot line"
         );
         assert_eq!(edited.carriers(), full.carriers(), "{what}: carriers");
@@ -407,7 +407,7 @@ fn composition_only_rerun_equals_a_full_run_bit_for_bit() {
     assert_eq!(reused.parameters(), before.parameters());
     assert_eq!(reused.carriers(), before.carriers());
     assert_eq!(
-        reused.structure().early_soot_line_radius_cm,
-        before.structure().early_soot_line_radius_cm
+        reused.structure().early_soot_line_radius_cm(),
+        before.structure().early_soot_line_radius_cm()
     );
 }

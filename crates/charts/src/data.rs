@@ -112,13 +112,13 @@ impl TemperatureData {
     /// The midplane temperatures and surface density of a model.
     pub fn from_model(model: &Model) -> TemperatureData {
         let s = &model.structure();
-        let wrap = |v: &Vec<f64>| v.iter().map(|&t| positive(t)).collect::<Vec<_>>();
+        let wrap = |v: &[f64]| v.iter().map(|&t| positive(t)).collect::<Vec<_>>();
         TemperatureData {
-            radius_au: s.radius_cm.iter().map(|r| r / AU_CM).collect(),
-            midplane_temperature_k: wrap(&s.midplane_temperature_k),
-            irradiation_temperature_k: wrap(&s.irradiation_temperature_k),
-            accretion_temperature_k: wrap(&s.accretion_temperature_k),
-            surface_density_g_cm2: wrap(&s.surface_density_g_cm2),
+            radius_au: s.radius_cm().iter().map(|r| r / AU_CM).collect(),
+            midplane_temperature_k: wrap(s.midplane_temperature_k()),
+            irradiation_temperature_k: wrap(s.irradiation_temperature_k()),
+            accretion_temperature_k: wrap(s.accretion_temperature_k()),
+            surface_density_g_cm2: wrap(s.surface_density_g_cm2()),
         }
     }
 
@@ -183,7 +183,7 @@ impl AbundanceData {
             })
             .collect();
         AbundanceData {
-            radius_au: s.radius_cm.iter().map(|r| r / AU_CM).collect(),
+            radius_au: s.radius_cm().iter().map(|r| r / AU_CM).collect(),
             species,
         }
     }

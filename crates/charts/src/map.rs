@@ -88,17 +88,17 @@ impl MapData {
         colour_map: ColourMap,
     ) -> MapData {
         let st = &model.structure();
-        let rows = st.samples_per_column;
+        let rows = st.samples_per_column();
         let mut z_over_r = Vec::with_capacity(values.len());
-        for j in 0..st.radial_cells {
+        for j in 0..st.radial_cells() {
             for s in 0..rows {
-                z_over_r.push(st.sample(j, s).height_cm / st.radius_cm[j]);
+                z_over_r.push(st.sample(j, s).height_cm / st.radius_cm()[j]);
             }
         }
         let h_over_r: Vec<f64> = st
-            .scale_height_cm
+            .scale_height_cm()
             .iter()
-            .zip(&st.radius_cm)
+            .zip(st.radius_cm())
             .map(|(h, r)| h / r)
             .collect();
         // Show up to four scale heights of the thickest column: the snow surfaces and the
@@ -109,7 +109,7 @@ impl MapData {
             .min(grid_top)
             .max(1e-3);
         MapData {
-            radius_au: st.radius_cm.iter().map(|r| r / AU_CM).collect(),
+            radius_au: st.radius_cm().iter().map(|r| r / AU_CM).collect(),
             rows,
             z_over_r,
             values,
@@ -179,10 +179,10 @@ impl MapData {
         let st = &model.structure();
         let mut lines = Vec::new();
         let mut current = Vec::new();
-        for j in 0..st.radial_cells {
+        for j in 0..st.radial_cells() {
             match model.snow_surface(species, j) {
                 SnowSurface::Height(h) => {
-                    current.push((st.radius_cm[j] / AU_CM, h / st.radius_cm[j]))
+                    current.push((st.radius_cm()[j] / AU_CM, h / st.radius_cm()[j]))
                 }
                 SnowSurface::MidplaneNotFrozen | SnowSurface::AboveGrid => {
                     if current.len() > 1 {

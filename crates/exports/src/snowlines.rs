@@ -42,14 +42,14 @@ pub fn snowlines_json(model: &Model, provenance: &Provenance) -> Value {
                 .map(|l| model.snowline_out_of_equilibrium(s, l))
                 .collect::<Vec<_>>()),
         );
-        let mut height = Vec::with_capacity(st.radial_cells);
-        let mut z_over_r = Vec::with_capacity(st.radial_cells);
-        let mut status = Vec::with_capacity(st.radial_cells);
-        for j in 0..st.radial_cells {
+        let mut height = Vec::with_capacity(st.radial_cells());
+        let mut z_over_r = Vec::with_capacity(st.radial_cells());
+        let mut status = Vec::with_capacity(st.radial_cells());
+        for j in 0..st.radial_cells() {
             match model.snow_surface(s, j) {
                 SnowSurface::Height(z) => {
                     height.push(json!(z / AU_CM));
-                    z_over_r.push(json!(z / st.radius_cm[j]));
+                    z_over_r.push(json!(z / st.radius_cm()[j]));
                     status.push("surface");
                 }
                 SnowSurface::MidplaneNotFrozen => {
@@ -67,7 +67,7 @@ pub fn snowlines_json(model: &Model, provenance: &Provenance) -> Value {
         surfaces.insert(
             s.key().into(),
             json!({
-                "radius_au": st.radius_cm.iter().map(|r| r / AU_CM).collect::<Vec<_>>(),
+                "radius_au": st.radius_cm().iter().map(|r| r / AU_CM).collect::<Vec<_>>(),
                 "height_au": height,
                 "z_over_r": z_over_r,
                 "status": status,
@@ -86,7 +86,7 @@ pub fn snowlines_json(model: &Model, provenance: &Provenance) -> Value {
         "soot_line": {
             "kind": model.parameters().composition.soot_line.key(),
             "temperature_k": model.parameters().composition.soot_line_k,
-            "early_phase_radius_au": st.early_soot_line_radius_cm.map(|r| r / AU_CM),
+            "early_phase_radius_au": st.early_soot_line_radius_cm().map(|r| r / AU_CM),
         },
     })
 }

@@ -65,18 +65,18 @@ pub fn structure_table(model: &Model) -> Table {
         col("scale_height_au", "AU", "midplane pressure scale height"),
         col("aspect_ratio", "", "scale height over radius"),
     ];
-    let rows = (0..st.radial_cells)
+    let rows = (0..st.radial_cells())
         .map(|j| {
-            let r = st.radius_cm[j];
+            let r = st.radius_cm()[j];
             vec![
                 finite(r / AU_CM),
-                finite(st.surface_density_g_cm2[j]),
-                finite(st.midplane_temperature_k[j]),
-                finite(st.irradiation_temperature_k[j]),
-                finite(st.accretion_temperature_k[j]),
+                finite(st.surface_density_g_cm2()[j]),
+                finite(st.midplane_temperature_k()[j]),
+                finite(st.irradiation_temperature_k()[j]),
+                finite(st.accretion_temperature_k()[j]),
                 finite(st.sample(j, 0).hydrogen_density_cm3),
-                finite(st.scale_height_cm[j] / AU_CM),
-                finite(st.scale_height_cm[j] / r),
+                finite(st.scale_height_cm()[j] / AU_CM),
+                finite(st.scale_height_cm()[j] / r),
             ]
         })
         .collect();
@@ -125,11 +125,11 @@ pub fn model_table(model: &Model) -> Table {
         .iter()
         .map(|&s| model.midplane_ice_fraction(s))
         .collect();
-    let rows = (0..st.radial_cells)
+    let rows = (0..st.radial_cells())
         .map(|j| {
             let mut row = vec![
                 finite(profile.radius_au[j]),
-                finite(st.midplane_temperature_k[j]),
+                finite(st.midplane_temperature_k()[j]),
                 finite(st.sample(j, 0).hydrogen_density_cm3),
                 profile.c_to_o_gas[j],
                 profile.c_to_o_ice[j],
@@ -286,7 +286,7 @@ impl MapQuantity {
 
     /// Value at flat sample index `k` (`None` where undefined).
     pub fn value(self, model: &Model, k: usize) -> Option<f64> {
-        let s = &model.structure().samples;
+        let s = &model.structure().samples();
         match self {
             MapQuantity::TemperatureK => finite(s.temperature_k[k]),
             MapQuantity::DensityHCm3 => finite(s.hydrogen_density_cm3[k]),
@@ -312,7 +312,7 @@ impl MapQuantity {
             MapQuantity::GasDensityCm3(sp) | MapQuantity::IceDensityCm3(sp) => {
                 let total = model
                     .composition()
-                    .species_per_h(sp, k / model.structure().samples_per_column)
+                    .species_per_h(sp, k / model.structure().samples_per_column())
                     * s.hydrogen_density_cm3[k];
                 let f = model.ice_fraction_at(sp, k);
                 finite(if matches!(self, MapQuantity::IceDensityCm3(_)) {
@@ -341,10 +341,10 @@ pub fn map_table(model: &Model, quantity: MapQuantity, value_name: &str) -> Tabl
         col("z_over_r", "", "height over radius"),
         col(value_name, unit, description),
     ];
-    let mut rows = Vec::with_capacity(st.radial_cells * (st.samples_per_column - 1));
-    for j in 0..st.radial_cells {
-        let r = st.radius_cm[j];
-        for s in 1..st.samples_per_column {
+    let mut rows = Vec::with_capacity(st.radial_cells() * (st.samples_per_column() - 1));
+    for j in 0..st.radial_cells() {
+        let r = st.radius_cm()[j];
+        for s in 1..st.samples_per_column() {
             let k = st.index(j, s);
             let z = st.sample(j, s).height_cm;
             rows.push(vec![

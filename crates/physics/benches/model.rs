@@ -16,7 +16,8 @@
 //!   inverses, and each species' binding energy and thermal-speed factor
 //!   8 k / (pi m). Per cell-species the timed loop computes
 //!   `exp(-E_b / T) * sqrt(8 k T / (pi m))`, the two transcendentals of the
-//!   balance (docs/model.md section 7).
+//!   balance (docs/model.md section 7). The floor keeps libm's `exp` as the
+//!   reference cost; the model itself uses `math::exp_poly`, which vectorises.
 //! - `structure`: `DiskStructure::compute` alone.
 //! - `model`: `Model::run` followed by the midplane profile and the snowlines of
 //!   every species: everything the page and the CLI compute for one disk.
@@ -85,7 +86,7 @@ struct FloorInputs {
 impl FloorInputs {
     fn new(parameters: &ModelParameters) -> FloorInputs {
         let model = Model::run(parameters).expect("the default disk must run");
-        let temperature_k = model.structure().samples.temperature_k.clone();
+        let temperature_k = model.structure().samples().temperature_k.clone();
         let inverse_temperature = temperature_k.iter().map(|t| 1.0 / t).collect();
         FloorInputs {
             temperature_k,

@@ -29,7 +29,7 @@ fn digest(name: &str, p: &ModelParameters) {
         }
     };
     let mut h = Fnv(0xcbf2_9ce4_8422_2325);
-    let s = &model.structure().samples;
+    let s = &model.structure().samples();
     for v in [
         &s.temperature_k,
         &s.density_g_cm3,

@@ -18,7 +18,7 @@ fn main() {
             t1,
             t2,
             t3.elapsed(),
-            prof.radius_au.len() + s.radial_cells
+            prof.radius_au.len() + s.radial_cells()
         );
     }
 }

@@ -536,6 +536,22 @@ impl BalanceConstants {
         )
     }
 
+    /// [`BalanceConstants::branches_at`] at a [`SampleState`].
+    #[inline(always)]
+    fn branches_of(&self, p: &SampleState, i: usize, molecules: f64) -> (Branches, f64) {
+        self.branches_at(
+            i,
+            p.inverse_temperature,
+            p.sqrt_temperature,
+            p.grain_area_cm2_per_cm3,
+            p.inverse_area_sqrt_temperature,
+            p.monolayer_cm3,
+            p.fuv_per_site,
+            p.ionization_rate_s,
+            molecules,
+        )
+    }
+
     /// One lane of the grid's loop: species `i` at one place with N = `molecules` (and 1/N =
     /// `inverse_molecules`): the aged state with its equilibrium, and whether it is final (the
     /// closed form provably reached its root, or no kinetics apply). Kinetic models only.
@@ -670,17 +686,7 @@ impl BalanceConstants {
         {
             return None;
         }
-        let (b, desorption) = self.branches_at(
-            i,
-            p.inverse_temperature,
-            p.sqrt_temperature,
-            p.grain_area_cm2_per_cm3,
-            p.inverse_area_sqrt_temperature,
-            p.monolayer_cm3,
-            p.fuv_per_site,
-            p.ionization_rate_s,
-            molecules_cm3,
-        );
+        let (b, desorption) = self.branches_of(p, i, molecules_cm3);
         Some(RateEquation {
             adsorption_s: b.adsorption,
             desorption_s: desorption,
@@ -730,17 +736,7 @@ impl BalanceConstants {
         inverse_molecules: f64,
         state: AgedIceState,
     ) -> AgedIceState {
-        let (b, _) = self.branches_at(
-            i,
-            p.inverse_temperature,
-            p.sqrt_temperature,
-            p.grain_area_cm2_per_cm3,
-            p.inverse_area_sqrt_temperature,
-            p.monolayer_cm3,
-            p.fuv_per_site,
-            p.ionization_rate_s,
-            molecules,
-        );
+        let (b, _) = self.branches_of(p, i, molecules);
         let initial = match self.initial_state {
             InitialIceState::Inherited => molecules,
             _ => 0.0,
@@ -919,11 +915,31 @@ mod tests {
         use crate::{Model, ModelParameters, Species};
         let mut configs = Vec::new();
         for (desorption, initial, grain_um, age_myr) in [
-            (DesorptionModel::ZerothOrder, InitialIceState::Inherited, 0.1, 1.0),
+            (
+                DesorptionModel::ZerothOrder,
+                InitialIceState::Inherited,
+                0.1,
+                1.0,
+            ),
             (DesorptionModel::ZerothOrder, InitialIceState::Gas, 0.1, 1.0),
-            (DesorptionModel::FirstOrder, InitialIceState::Inherited, 0.1, 1.0),
-            (DesorptionModel::ZerothOrder, InitialIceState::Inherited, 100.0, 0.01),
-            (DesorptionModel::ZerothOrder, InitialIceState::Gas, 1000.0, 0.001),
+            (
+                DesorptionModel::FirstOrder,
+                InitialIceState::Inherited,
+                0.1,
+                1.0,
+            ),
+            (
+                DesorptionModel::ZerothOrder,
+                InitialIceState::Inherited,
+                100.0,
+                0.01,
+            ),
+            (
+                DesorptionModel::ZerothOrder,
+                InitialIceState::Gas,
+                1000.0,
+                0.001,
+            ),
         ] {
             let mut p = ModelParameters::defaults();
             p.grid.radial_cells = 60;

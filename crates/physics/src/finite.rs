@@ -34,7 +34,10 @@ pub fn check_finite(model: &Model) -> Result<(), PhysicsError> {
 fn first_non_finite(values: &[f64]) -> Option<usize> {
     for (b, block) in values.chunks(256).enumerate() {
         if !block.iter().fold(true, |all, x| all & x.is_finite()) {
-            return block.iter().position(|x| !x.is_finite()).map(|k| b * 256 + k);
+            return block
+                .iter()
+                .position(|x| !x.is_finite())
+                .map(|k| b * 256 + k);
         }
     }
     None

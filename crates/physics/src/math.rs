@@ -20,10 +20,12 @@ pub fn ln(x: f64) -> f64 {
 pub fn pow(x: f64, y: f64) -> f64 {
     libm::pow(x, y)
 }
-/// Square root (IEEE-exact on every platform; kept here for uniformity).
+/// Square root. IEEE 754 requires it correctly rounded, so every platform gives the same
+/// bits; the standard library's (the `sqrtsd`/`f64.sqrt` instruction) is used rather than
+/// libm's, whose x86 version is an explicit scalar intrinsic that stops loops from vectorising.
 #[inline]
 pub fn sqrt(x: f64) -> f64 {
-    libm::sqrt(x)
+    x.sqrt()
 }
 /// Cosine.
 #[inline]
@@ -38,7 +40,7 @@ pub fn exp10(x: f64) -> f64 {
 /// Fourth root.
 #[inline]
 pub fn root4(x: f64) -> f64 {
-    libm::sqrt(libm::sqrt(x))
+    sqrt(sqrt(x))
 }
 
 /// exp(x) - 1, accurate for small |x| (libm `expm1`).
@@ -81,9 +83,9 @@ pub fn ln_gamma(x: f64) -> f64 {
 pub fn exp_poly(x: f64) -> f64 {
     const LOG2_E: f64 = core::f64::consts::LOG2_E;
     // fdlibm's split of ln 2: LN2_HI has 32 trailing zero bits, so n * LN2_HI is exact.
-    const LN2_HI: f64 = 6.931_471_803_691_238_164_90e-1;
-    const LN2_LO: f64 = 1.908_214_929_270_587_700_02e-10;
-    // Adding 1.5 * 2^52 rounds to the nearest integer, held in the low bits of the sum.
+    const LN2_HI: f64 = 0.693_147_180_369_123_8; // bits 0x3fe62e42fee00000
+    const LN2_LO: f64 = 1.908_214_929_270_587_7e-10; // bits 0x3dea39ef35793c76
+                                                     // Adding 1.5 * 2^52 rounds to the nearest integer, held in the low bits of the sum.
     const SHIFT: f64 = 6_755_399_441_055_744.0;
     // 1/k!, k = 2..=13.
     const C: [f64; 12] = [
@@ -100,9 +102,12 @@ pub fn exp_poly(x: f64) -> f64 {
         1.0 / 479_001_600.0,
         1.0 / 6_227_020_800.0,
     ];
-    // Clamp to the range where the result is not yet 0 or infinity (NaN passes both tests).
-    let x = if x < -746.0 { -746.0 } else { x };
-    let x = if x > 710.0 { 710.0 } else { x };
+    // Outside [-745.2, 709.8] the result is 0 or infinity (e^x < 2^-1075 rounds to 0, e^x >
+    // f64::MAX is infinite): selected at the end, while the arithmetic works on x = 0 there, so
+    // no lane underflows (an underflowing multiplication costs a microcode assist on x86).
+    // NaN fails both tests and propagates.
+    let (zero, infinite) = (x < -745.2, x > 709.8);
+    let x = if zero | infinite { 0.0 } else { x };
     let n = (x * LOG2_E + SHIFT) - SHIFT;
     let r = (x - n * LN2_HI) - n * LN2_LO;
     // Estrin's scheme: the same polynomial with a dependency chain of 7 operations instead of
@@ -126,7 +131,13 @@ pub fn exp_poly(x: f64) -> f64 {
     let n1 = k1 - SHIFT;
     let k2 = (n - n1) + SHIFT;
     let pow2 = |k: f64| f64::from_bits(k.to_bits().wrapping_add(1023) << 52);
-    p * pow2(k1) * pow2(k2)
+    let y = p * pow2(k1) * pow2(k2);
+    let y = if zero { 0.0 } else { y };
+    if infinite {
+        f64::INFINITY
+    } else {
+        y
+    }
 }
 
 /// An upper bound of ln(y) for y >= 1 from the binary exponent alone: (e + 1) ln 2 with
@@ -135,7 +146,8 @@ pub fn exp_poly(x: f64) -> f64 {
 #[inline(always)]
 pub fn ln_upper_bound(y: f64) -> f64 {
     // The biased exponent as a double: 2^52 + e_biased, minus 2^52.
-    let biased = f64::from_bits(0x4330_0000_0000_0000 | (y.to_bits() >> 52)) - 4_503_599_627_370_496.0;
+    let biased =
+        f64::from_bits(0x4330_0000_0000_0000 | (y.to_bits() >> 52)) - 4_503_599_627_370_496.0;
     (biased - 1022.0) * core::f64::consts::LN_2
 }
 
@@ -212,7 +224,10 @@ mod tests {
         for u in uniform(100_000) {
             let y = libm::exp(700.0 * u);
             let (bound, ln) = (ln_upper_bound(y), libm::log(y));
-            assert!(bound >= ln && bound <= ln + core::f64::consts::LN_2 + 1e-12, "{y:e}");
+            assert!(
+                bound >= ln && bound <= ln + core::f64::consts::LN_2 + 1e-12,
+                "{y:e}"
+            );
         }
         assert_eq!(ln_upper_bound(1.0), core::f64::consts::LN_2);
     }

@@ -812,6 +812,8 @@ pub fn column(
 /// Scratch arrays of the fine vertical grid, reused from column to column.
 #[derive(Debug, Default)]
 struct FineGrid {
+    /// 0, 1, 2, ... as doubles (z_i = i dz in a loop that vectorises).
+    index: Vec<f64>,
     temperature: Vec<f64>,
     integrand: Vec<f64>,
     rho: Vec<f64>,
@@ -843,6 +845,9 @@ fn fill_column(
     let gravity = mu_mh_over_k * gm;
     let r2 = radius_cm * radius_cm;
 
+    if fine.index.len() != points {
+        fine.index = (0..points).map(|i| i as f64).collect();
+    }
     fine.temperature.resize(points, 0.0);
     fine.integrand.resize(points, 0.0);
     fine.rho.resize(points, 0.0);
@@ -851,13 +856,13 @@ fn fill_column(
     for (i, t) in fine.temperature.iter_mut().enumerate() {
         *t = profile.temperature_k(i as f64 * dz);
     }
-    for (i, (g, &t)) in fine
+    for ((g, &t), &i) in fine
         .integrand
         .iter_mut()
         .zip(&fine.temperature)
-        .enumerate()
+        .zip(&fine.index)
     {
-        let z = i as f64 * dz;
+        let z = i * dz;
         let s = r2 + z * z;
         // (mu m_H / (k T)) G M z / (r^2 + z^2)^(3/2), with one division.
         *g = gravity * z / (t * (s * sqrt(s)));
@@ -985,30 +990,30 @@ pub fn early_soot_line_radius_cm(
 #[derive(Debug, Clone, PartialEq)]
 pub struct DiskStructure {
     /// Derived constants.
-    pub constants: DiskConstants,
+    pub(crate) constants: DiskConstants,
     /// N_r.
-    pub radial_cells: usize,
+    pub(crate) radial_cells: usize,
     /// N_z + 1.
-    pub samples_per_column: usize,
+    pub(crate) samples_per_column: usize,
     /// Radial cell centres [cm].
-    pub radius_cm: Vec<f64>,
+    pub(crate) radius_cm: Vec<f64>,
     /// Sigma_gas [g cm^-2].
-    pub surface_density_g_cm2: Vec<f64>,
+    pub(crate) surface_density_g_cm2: Vec<f64>,
     /// Midplane temperature [K].
-    pub midplane_temperature_k: Vec<f64>,
+    pub(crate) midplane_temperature_k: Vec<f64>,
     /// Irradiation temperature [K].
-    pub irradiation_temperature_k: Vec<f64>,
+    pub(crate) irradiation_temperature_k: Vec<f64>,
     /// Accretion temperature [K].
-    pub accretion_temperature_k: Vec<f64>,
+    pub(crate) accretion_temperature_k: Vec<f64>,
     /// H_mid [cm].
-    pub scale_height_cm: Vec<f64>,
+    pub(crate) scale_height_cm: Vec<f64>,
     /// Grazing angle used at each radius.
-    pub flaring_angle: Vec<f64>,
+    pub(crate) flaring_angle: Vec<f64>,
     /// Per-sample fields (flat, stride `samples_per_column`).
-    pub samples: Column,
+    pub(crate) samples: Column,
     /// Furthest extent of the soot line in the hot early phase [cm] (irreversible
     /// soot line only; `None` when reversible or never reached).
-    pub early_soot_line_radius_cm: Option<f64>,
+    pub(crate) early_soot_line_radius_cm: Option<f64>,
     /// Whether the surface density was given ([`DiskStructure::from_surface_density`]).
     given_surface_density: bool,
 }
@@ -1131,6 +1136,73 @@ impl DiskStructure {
             flaring_angle: phi,
             samples,
         })
+    }
+
+    /// Derived constants of the disk (cgs).
+    pub fn constants(&self) -> &DiskConstants {
+        &self.constants
+    }
+
+    /// N_r, the number of radial cells.
+    pub fn radial_cells(&self) -> usize {
+        self.radial_cells
+    }
+
+    /// N_z + 1, the samples of one column (the midplane and one per vertical cell).
+    pub fn samples_per_column(&self) -> usize {
+        self.samples_per_column
+    }
+
+    /// Number of samples, N_r (N_z + 1).
+    pub fn sample_count(&self) -> usize {
+        self.samples.temperature_k.len()
+    }
+
+    /// Radial cell centres [cm].
+    pub fn radius_cm(&self) -> &[f64] {
+        &self.radius_cm
+    }
+
+    /// Gas surface density per radial cell [g cm^-2].
+    pub fn surface_density_g_cm2(&self) -> &[f64] {
+        &self.surface_density_g_cm2
+    }
+
+    /// Midplane temperature per radial cell [K].
+    pub fn midplane_temperature_k(&self) -> &[f64] {
+        &self.midplane_temperature_k
+    }
+
+    /// Irradiation temperature per radial cell [K].
+    pub fn irradiation_temperature_k(&self) -> &[f64] {
+        &self.irradiation_temperature_k
+    }
+
+    /// Accretion temperature per radial cell [K].
+    pub fn accretion_temperature_k(&self) -> &[f64] {
+        &self.accretion_temperature_k
+    }
+
+    /// Midplane pressure scale height per radial cell [cm].
+    pub fn scale_height_cm(&self) -> &[f64] {
+        &self.scale_height_cm
+    }
+
+    /// Grazing angle used at each radial cell.
+    pub fn flaring_angle(&self) -> &[f64] {
+        &self.flaring_angle
+    }
+
+    /// The per-sample fields, flat with stride [`DiskStructure::samples_per_column`]
+    /// ([`DiskStructure::index`] gives the flat index).
+    pub fn samples(&self) -> &Column {
+        &self.samples
+    }
+
+    /// Furthest extent of the soot line in the hot early phase [cm] (irreversible soot line only;
+    /// `None` when reversible or never reached).
+    pub fn early_soot_line_radius_cm(&self) -> Option<f64> {
+        self.early_soot_line_radius_cm
     }
 
     /// Flat index of sample `s` (0 = midplane) of radial cell `j`.

@@ -166,7 +166,7 @@ impl Session {
                         // fresh column per snowline, `Model::midplane_at`, would cost
                         // several milliseconds per redraw for no visible difference).
                         let st = &model.structure();
-                        let temperature = Some(interpolate_in_ln_r(&st.radius_cm, &st.midplane_temperature_k, line.radius_cm)).filter(|t| t.is_finite());
+                        let temperature = Some(interpolate_in_ln_r(st.radius_cm(), st.midplane_temperature_k(), line.radius_cm)).filter(|t| t.is_finite());
                         json!({
                             "radius_au": radius_au,
                             "direction": line.direction.key(),
@@ -202,13 +202,13 @@ impl Session {
         let c = self.current.as_ref()?;
         let st = &c.model.structure();
         Some(json!({
-            "radial_cells": st.radial_cells,
-            "vertical_cells": st.samples_per_column - 1,
+            "radial_cells": st.radial_cells(),
+            "vertical_cells": st.samples_per_column() - 1,
             "samples": c.model.sample_count(),
-            "inner_radius_au": st.radius_cm.first().map(|r| r / AU_CM),
-            "outer_radius_au": st.radius_cm.last().map(|r| r / AU_CM),
+            "inner_radius_au": st.radius_cm().first().map(|r| r / AU_CM),
+            "outer_radius_au": st.radius_cm().last().map(|r| r / AU_CM),
             "star_c_to_o": c.model.star_c_to_o(),
-            "stellar_radius_au": st.constants.stellar_radius_cm / AU_CM,
+            "stellar_radius_au": st.constants().stellar_radius_cm / AU_CM,
             "name": c.file.name,
             "notes": c.file.notes,
         }))
