@@ -43,7 +43,7 @@ const SCRIPT_SLOT: &str = "<!-- nivalis:script -->";
 const WORKER_SLOT: &str = "<!-- nivalis:worker -->";
 
 /// The page's scripts, inlined in this order into the one module script.
-const SCRIPTS: [&str; 2] = ["web/app.js", "web/planet.js"];
+const SCRIPTS: [&str; 3] = ["web/app.js", "web/planet.js", "web/uncertainty.js"];
 /// The page's style sheets, inlined in this order.
 const STYLES: [&str; 2] = ["web/style.css", "web/planet.css"];
 
@@ -107,7 +107,8 @@ pub fn dist(release: bool) -> Result<PathBuf, String> {
     };
     let style = join(&STYLES)?;
     let app = join(&SCRIPTS)?;
-    let worker = read(&root.join("web/worker.js"))?;
+    // worker.js, then the uncertainty panel's handler, which wraps worker.js's.
+    let worker = join(&["web/worker.js", "web/uncertainty-worker.js"])?;
     let worker_source = format!("{worker_glue}\n{worker}");
     let demos = demo_disks_json(&root.join("demo_disks"))?;
 
