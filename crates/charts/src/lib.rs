@@ -37,6 +37,7 @@ mod paint;
 pub mod render;
 pub mod text;
 pub mod theme;
+pub mod uncertainty;
 pub mod views;
 
 pub use colour::{ColourMap, Rgba};

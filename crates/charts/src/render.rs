@@ -61,7 +61,7 @@ impl FigureSize {
         )
     }
 
-    fn validate(&self) -> Result<(), ChartError> {
+    pub(crate) fn validate(&self) -> Result<(), ChartError> {
         for (field, v) in [("width_pt", self.width_pt), ("height_pt", self.height_pt)] {
             if !(v.is_finite() && (72.0..=2880.0).contains(&v)) {
                 return Err(ChartError::InvalidValue {

@@ -26,6 +26,7 @@ pub mod planet;
 pub mod readout;
 pub mod session;
 pub mod transfer;
+pub mod uncertainty_js;
 
 #[cfg(target_arch = "wasm32")]
 mod canvas;

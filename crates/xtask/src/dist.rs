@@ -47,12 +47,13 @@ const WORKER_SLOT: &str = "<!-- nivalis:worker -->";
 /// is one module: a namespace object built by an immediately invoked function
 /// (`const Util = (() => {...})();`), using only the modules before it, passed
 /// in as arguments or named explicitly (web/util.js explains the pattern).
-const SCRIPTS: [&str; 5] = [
+const SCRIPTS: [&str; 6] = [
     "web/util.js",
     "web/core.js",
     "web/controls.js",
     "web/app.js",
     "web/planet.js",
+    "web/uncertainty.js",
 ];
 /// The page's style sheets, inlined in this order.
 const STYLES: [&str; 2] = ["web/style.css", "web/planet.css"];
@@ -117,7 +118,8 @@ pub fn dist(release: bool) -> Result<PathBuf, String> {
     };
     let style = join(&STYLES)?;
     let app = join(&SCRIPTS)?;
-    let worker = read(&root.join("web/worker.js"))?;
+    // worker.js, then the uncertainty panel's handler, which wraps worker.js's.
+    let worker = join(&["web/worker.js", "web/uncertainty-worker.js"])?;
     let worker_source = format!("{worker_glue}\n{worker}");
     let demos = demo_disks_json(&root.join("demo_disks"))?;
 

@@ -1,0 +1,391 @@
+//! The page's uncertainty panel (docs/model.md section 13), run in a Web Worker: a session
+//! holds the nominal model and the samples so far, runs them in chunks (so the worker can report
+//! progress and partial bands between chunks), and builds the summary, the figures (SVG, from
+//! `nivalis_charts::uncertainty`) and the exports (from `nivalis_exports::uncertainty`, the
+//! CLI's own functions, so the files are byte-identical for the same seed and samples).
+//! [`UncertaintySession`] is plain Rust (tested natively); `UncertaintyRunner` is its wasm
+//! binding.
+
+use nivalis_charts::uncertainty::{
+    uncertainty_svg, BandsData, BarsData, HistogramData, PosteriorData, UncertaintyFigure,
+};
+use nivalis_charts::{FigureSize, Theme};
+use nivalis_disk_files::uncertainty::{read_uncertainty, UncertaintySpec};
+use nivalis_disk_files::{from_value, DiskFile, Problem};
+use nivalis_exports::uncertainty::{
+    methods_text, table_csv, table_ecsv, uncertainty_json, UncertaintyResult, UncertaintyTable,
+};
+use nivalis_exports::Provenance;
+use nivalis_physics::planet::{chi_square_map, MapSettings, ObservedEnvelope};
+use nivalis_physics::random::Rng;
+use nivalis_physics::uncertainty::{
+    one_at_a_time, summarise, Engine, InputSensitivity, MonteCarlo, PosteriorAccumulator, Quantity,
+    SampleResult,
+};
+use nivalis_physics::{Model, Species};
+use serde_json::{json, Value};
+
+/// A running Monte Carlo of the page.
+pub struct UncertaintySession {
+    file: DiskFile,
+    spec: UncertaintySpec,
+    engine: Engine,
+    results: Vec<SampleResult>,
+    sensitivity: Option<Vec<InputSensitivity>>,
+    seed: u64,
+    at_au: f64,
+}
+
+impl UncertaintySession {
+    /// A session for a disk (a JSON value with an `uncertainty` section).
+    pub fn new(disk: &Value, seed: u64, at_au: f64) -> Result<UncertaintySession, Vec<Problem>> {
+        let file = from_value(disk).map_err(|p| p.0)?;
+        let spec = match read_uncertainty(disk, &file) {
+            Ok(Some(s)) => s,
+            Ok(None) => {
+                return Err(vec![Problem::new(
+                    "uncertainty",
+                    "the disk has no uncertainty section; give one (docs/disk-file.md, \"Uncertainty\")",
+                )])
+            }
+            Err(p) => return Err(p.0),
+        };
+        let d = &file.parameters.disk;
+        if !(at_au >= d.inner_radius_au && at_au <= d.outer_radius_au) {
+            return Err(vec![Problem::new(
+                "at_au",
+                format!(
+                    "must be inside the disk, in [{}, {}] au, got {at_au}",
+                    d.inner_radius_au, d.outer_radius_au
+                ),
+            )]);
+        }
+        let model = Model::run(&file.parameters).map_err(|e| vec![Problem::from_physics(&e)])?;
+        Ok(UncertaintySession {
+            file,
+            spec,
+            engine: Engine::new(model),
+            results: Vec::new(),
+            sensitivity: None,
+            seed,
+            at_au,
+        })
+    }
+
+    /// Run samples `start..start + count` (appended in order).
+    pub fn run_chunk(&mut self, start: u64, count: u64) {
+        let spec = &self.spec;
+        let draw = |rng: &mut Rng| spec.draw(rng);
+        for i in start..start + count {
+            let r = self.engine.run_sample(self.seed, i, &draw);
+            self.results.push(r);
+        }
+    }
+
+    /// Samples run so far.
+    pub fn done(&self) -> usize {
+        self.results.len()
+    }
+
+    /// The one-at-a-time sensitivity and the first-order indices over the samples so far.
+    pub fn finish(&mut self) {
+        let levels = self.spec.one_at_a_time_levels();
+        self.sensitivity = Some(one_at_a_time(
+            &self.engine,
+            self.at_au,
+            &levels,
+            Some(&self.results),
+        ));
+    }
+
+    fn monte_carlo(&self) -> MonteCarlo {
+        summarise(self.engine.radius_au(), self.seed, &self.results)
+    }
+
+    fn with_result<T>(&self, f: impl FnOnce(&UncertaintyResult) -> T) -> T {
+        let mc = self.monte_carlo();
+        let prov = Provenance::of(&self.file);
+        let used = nivalis_exports::methods::methods(&self.file.parameters);
+        let r = UncertaintyResult {
+            monte_carlo: &mc,
+            spec: &self.spec,
+            sensitivity: self.sensitivity.as_deref(),
+            sensitivity_radius_au: self.at_au,
+            provenance: &prov,
+            methods: &used,
+        };
+        f(&r)
+    }
+
+    /// The JSON export (the CLI's `--format json` for the same seed and samples).
+    pub fn summary(&self) -> Value {
+        self.with_result(uncertainty_json)
+    }
+
+    /// An export file's text: `json`, or `csv`/`ecsv` of `bands`, `snowlines`, `sensitivity`,
+    /// or `methods` (the methods text).
+    pub fn export(&self, format: &str, table: &str) -> Result<String, String> {
+        let which = UncertaintyTable::from_key(table)
+            .ok_or_else(|| format!("unknown table {table:?}; bands, snowlines or sensitivity"))?;
+        self.with_result(|r| match format {
+            "json" => Ok(nivalis_exports::formats::json_text(&uncertainty_json(r))),
+            "csv" => Ok(table_csv(r, which)),
+            "ecsv" => Ok(table_ecsv(r, which)),
+            "methods" => Ok(format!("{}\n", methods_text(r.spec, r.monte_carlo))),
+            _ => Err(format!(
+                "unknown format {format:?}; csv, ecsv, json or methods"
+            )),
+        })
+    }
+
+    /// The three figures as SVG: the bands of `quantity` (a [`Quantity`] key) with the nominal
+    /// model, the histogram of `species`' snowline, the sensitivity of the gas C/O (or of the
+    /// species' snowline with `by_snowline`).
+    pub fn figures(&self, quantity: &str, species: &str, dark: bool) -> Result<Value, String> {
+        let theme = if dark { Theme::dark() } else { Theme::light() };
+        let size = FigureSize::single_column();
+        let mc = self.monte_carlo();
+        let q = Quantity::ALL
+            .into_iter()
+            .find(|q| q.key() == quantity)
+            .ok_or_else(|| format!("unknown quantity {quantity:?}"))?;
+        let sp =
+            Species::from_key(species).ok_or_else(|| format!("unknown species {species:?}"))?;
+        let nominal = self
+            .engine
+            .sample(self.engine.base().parameters())
+            .map(|v| v.values.iter().map(|row| row[q.index()]).collect())
+            .unwrap_or_default();
+        let bands = UncertaintyFigure::Bands(BandsData {
+            radius_au: mc.radius_au.clone(),
+            percentiles: mc.bands[q.index()].percentiles.clone(),
+            nominal,
+            label: q
+                .key()
+                .replace("c_to_o", "C/O")
+                .replace("c_to_h", "C/H")
+                .replace("o_to_h", "O/H")
+                .replace('_', " "),
+            log_y: !q.key().starts_with("c_to_o"),
+        });
+        let s = &mc.snowlines[sp.index()];
+        let hist = UncertaintyFigure::Histogram(HistogramData {
+            radii_au: s.radii_au.clone(),
+            marks_au: [1, 2, 3].iter().filter_map(|&k| s.percentiles[k]).collect(),
+            label: format!("{} snowline radius (au)", sp.key()),
+        });
+        let svg = |f: &UncertaintyFigure| uncertainty_svg(f, &theme, size).ok();
+        let sens = self.sensitivity.as_ref().map(|s| {
+            let c = UncertaintyFigure::Bars(BarsData {
+                labels: s.iter().map(|i| i.name.clone()).collect(),
+                values: s
+                    .iter()
+                    .map(|i| i.swing_gas_c_to_o.unwrap_or(0.0))
+                    .collect(),
+                label: format!("swing of the gas C/O at {} au", self.at_au),
+            });
+            let k = sp.index();
+            let l = UncertaintyFigure::Bars(BarsData {
+                labels: s.iter().map(|i| i.name.clone()).collect(),
+                values: s
+                    .iter()
+                    .map(|i| i.swing_snowline_au[k].unwrap_or(0.0))
+                    .collect(),
+                label: format!("swing of the {} snowline (au)", sp.key()),
+            });
+            (svg(&c), svg(&l))
+        });
+        Ok(json!({
+            "bands": svg(&bands),
+            "histogram": svg(&hist),
+            "sensitivity_c_to_o": sens.as_ref().and_then(|s| s.0.clone()),
+            "sensitivity_snowline": sens.as_ref().and_then(|s| s.1.clone()),
+        }))
+    }
+
+    /// The formation-radius posterior of a planet with envelope C/O `c_to_o` +- `sigma`,
+    /// marginalised over the first `samples` samples' disks (each a full model; slower than the
+    /// bands), with its figure.
+    pub fn posterior(
+        &self,
+        c_to_o: f64,
+        sigma: f64,
+        samples: u64,
+        dark: bool,
+    ) -> Result<Value, String> {
+        let observed = ObservedEnvelope::c_to_o(c_to_o, sigma);
+        let settings = MapSettings::defaults();
+        let base =
+            chi_square_map(self.engine.base(), &observed, &settings).map_err(|e| e.to_string())?;
+        let mut acc = PosteriorAccumulator::new(&base);
+        let mut failed = 0usize;
+        for i in 0..samples {
+            let map = self
+                .spec
+                .draw(&mut Rng::for_sample(self.seed, i))
+                .and_then(|d| self.engine.model(&d.parameters).map_err(|e| e.to_string()))
+                .and_then(|m| chi_square_map(&m, &observed, &settings).map_err(|e| e.to_string()));
+            match map {
+                Ok(m) => acc.add(&m).map_err(|e| e.to_string())?,
+                Err(_) => failed += 1,
+            }
+        }
+        let post = acc.finish();
+        let theme = if dark { Theme::dark() } else { Theme::light() };
+        let fig = UncertaintyFigure::Posterior(PosteriorData {
+            radius_au: post.radius_au.clone(),
+            probability: post.radius_probability.clone(),
+            intervals_au: [post.radius_interval_68_au, post.radius_interval_95_au]
+                .into_iter()
+                .flatten()
+                .collect(),
+        });
+        let prov = Provenance::of(&self.file);
+        let mut j = nivalis_exports::uncertainty::posterior_json(
+            &post, self.seed, failed, &self.spec, &prov,
+        );
+        j["svg"] = json!(uncertainty_svg(&fig, &theme, FigureSize::single_column()).ok());
+        Ok(j)
+    }
+}
+
+#[cfg(target_arch = "wasm32")]
+mod binding {
+    use super::UncertaintySession;
+    use serde::Serialize;
+    use serde_json::{json, Value};
+    use wasm_bindgen::prelude::*;
+
+    fn to_js(value: &Value) -> JsValue {
+        // Invariant: serde_json values always serialise.
+        value
+            .serialize(&serde_wasm_bindgen::Serializer::json_compatible())
+            .expect("JSON value converts to JS")
+    }
+
+    /// The uncertainty panel's Monte Carlo, driven by the page's Web Worker.
+    #[wasm_bindgen]
+    pub struct UncertaintyRunner {
+        session: UncertaintySession,
+    }
+
+    #[wasm_bindgen]
+    impl UncertaintyRunner {
+        /// Start a session for `disk` (a JS object with an `uncertainty` section); `seed` is a
+        /// whole number below 2^53 (JS numbers). Problems are thrown as `{problems: [...]}`.
+        #[wasm_bindgen(constructor)]
+        pub fn new(disk: JsValue, seed: f64, at_au: f64) -> Result<UncertaintyRunner, JsValue> {
+            let value: Value = serde_wasm_bindgen::from_value(disk).map_err(|e| {
+                to_js(&json!({"problems": [{"path": "(input)", "message": e.to_string()}]}))
+            })?;
+            if !(seed.is_finite()
+                && seed >= 0.0
+                && seed.fract() == 0.0
+                && seed < 9.007_199_254_740_992e15)
+            {
+                return Err(to_js(
+                    &json!({"problems": [{"path": "seed", "message": format!("must be a whole number in [0, 2^53), got {seed}")}]}),
+                ));
+            }
+            UncertaintySession::new(&value, seed as u64, at_au)
+                .map(|session| UncertaintyRunner { session })
+                .map_err(|ps| {
+                    to_js(&json!({"problems": ps.iter().map(|p| json!({"path": p.path, "message": p.message})).collect::<Vec<_>>()}))
+                })
+        }
+
+        /// Run samples start..start + count.
+        #[wasm_bindgen(js_name = runChunk)]
+        pub fn run_chunk(&mut self, start: f64, count: f64) {
+            self.session.run_chunk(start as u64, count as u64);
+        }
+
+        /// Samples run so far.
+        pub fn done(&self) -> f64 {
+            self.session.done() as f64
+        }
+
+        /// Compute the sensitivity (after the last chunk).
+        pub fn finish(&mut self) {
+            self.session.finish();
+        }
+
+        /// The JSON summary (bands, snowlines, sensitivity, seed, samples).
+        pub fn summary(&self) -> JsValue {
+            to_js(&self.session.summary())
+        }
+
+        /// The figures as SVG text.
+        pub fn figures(
+            &self,
+            quantity: &str,
+            species: &str,
+            dark: bool,
+        ) -> Result<JsValue, JsValue> {
+            self.session
+                .figures(quantity, species, dark)
+                .map(|v| to_js(&v))
+                .map_err(|e| JsValue::from_str(&e))
+        }
+
+        /// An export file's text.
+        pub fn export(&self, format: &str, table: &str) -> Result<String, JsValue> {
+            self.session
+                .export(format, table)
+                .map_err(|e| JsValue::from_str(&e))
+        }
+
+        /// The marginalised posterior for an envelope C/O.
+        pub fn posterior(
+            &self,
+            c_to_o: f64,
+            sigma: f64,
+            samples: f64,
+            dark: bool,
+        ) -> Result<JsValue, JsValue> {
+            self.session
+                .posterior(c_to_o, sigma, samples.max(1.0) as u64, dark)
+                .map(|v| to_js(&v))
+                .map_err(|e| JsValue::from_str(&e))
+        }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn the_page_session_matches_the_cli_numbers() {
+        let disk: Value = serde_json::from_str(
+            r#"{"grid": {"radial_cells": 30, "vertical_cells": 10}, "uncertainty": {
+                "star.abundances.offset_dex.C": {"distribution": "normal", "sigma": 0.05},
+                "composition.carbon": {"distribution": "dirichlet", "concentration": 30}}}"#,
+        )
+        .unwrap();
+        // Chunks of any size give the same samples as one run.
+        let mut a = UncertaintySession::new(&disk, 11, 1.0).unwrap();
+        a.run_chunk(0, 3);
+        a.run_chunk(3, 5);
+        let mut b = UncertaintySession::new(&disk, 11, 1.0).unwrap();
+        b.run_chunk(0, 8);
+        a.finish();
+        b.finish();
+        assert_eq!(
+            a.export("json", "bands").unwrap(),
+            b.export("json", "bands").unwrap()
+        );
+        let f = a.figures("c_to_o_gas", "H2O", false).unwrap();
+        assert!(f["bands"].as_str().unwrap().starts_with("<svg"));
+        assert!(f["sensitivity_c_to_o"]
+            .as_str()
+            .unwrap()
+            .starts_with("<svg"));
+        let p = a.posterior(0.6, 0.05, 4, false).unwrap();
+        assert!(p["svg"].as_str().unwrap().starts_with("<svg"));
+        assert!(a
+            .export("csv", "snowlines")
+            .unwrap()
+            .contains("# monte carlo: seed 11, 8 samples"));
+    }
+}

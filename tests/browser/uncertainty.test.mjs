@@ -1,0 +1,106 @@
+// uncertainty.test.mjs: the uncertainty panel of target/site/nivalis.html in headless
+// Chromium (issue 12 item 5), checked against the native CLI:
+//
+// - a run in the panel's Web Worker reports progress with partial bands before it ends,
+//   then shows the bands, histogram and sensitivity figures;
+// - its JSON, bands CSV and methods exports equal `nivalis uncertainty DISK --samples N
+//   --seed S` for the page's own saved disk plus the same section, byte for byte (the same
+//   seed gives the same numbers natively and in WebAssembly);
+// - Cancel stops a long run and keeps the partial bands;
+// - a bad section shows the reader's problem (with its did-you-mean), never NaN;
+// - the marginalised posterior is drawn.
+
+import { after, before, test } from "node:test";
+import assert from "node:assert/strict";
+import { mkdtempSync, rmSync, writeFileSync } from "node:fs";
+import { tmpdir } from "node:os";
+import { downloadText, ensureCli, ensurePage, execFileSync, join, launch, newPage } from "./helpers.mjs";
+
+let browser;
+let cli;
+let scratch;
+
+// Inputs that leave the structure alone, so the samples are quick in the page.
+const SECTION = {
+  "star.abundances.offset_dex.C": { distribution: "normal", sigma: 0.05 },
+  "ices.sticking": { distribution: "uniform", low: 0.8, high: 1 },
+  "composition.carbon": { distribution: "dirichlet", concentration: 30 },
+};
+
+before(async () => {
+  ensurePage();
+  cli = ensureCli();
+  scratch = mkdtempSync(join(tmpdir(), "nivalis-unc-test-"));
+  browser = await launch();
+});
+
+after(async () => {
+  await browser?.close();
+  if (scratch) rmSync(scratch, { recursive: true, force: true });
+});
+
+async function startRun(page, section, samples, seed) {
+  await page.fill("#unc-section", JSON.stringify(section, null, 2));
+  await page.fill("#unc-samples", String(samples));
+  await page.fill("#unc-seed", String(seed));
+  await page.click("#unc-run");
+}
+
+test("a run shows partial bands, then figures and exports equal to the CLI's", async () => {
+  const { page, errors } = await newPage(browser.context);
+  await startRun(page, SECTION, 60, 5);
+  // Progress with partial bands before the end (chunks of 25 samples).
+  await page.waitForFunction(() => /Running (25|50) of 60/.test(document.getElementById("unc-status").textContent), null, { timeout: 300000, polling: 20 });
+  assert.ok(await page.$eval("#unc-fig-bands", (img) => img.src.startsWith("blob:")), "partial bands drawn");
+  await page.waitForSelector("body[data-uncertainty-done='60']", { timeout: 300000 });
+  for (const id of ["unc-fig-bands", "unc-fig-histogram", "unc-fig-sensitivity", "unc-fig-sensitivity-snowline"]) {
+    const ok = await page.$eval(`#${id}`, (img) => img.complete && img.naturalWidth > 0);
+    assert.ok(ok, `${id} shows an image`);
+  }
+  const status = await page.textContent("#unc-status");
+  assert.match(status, /60 samples \(seed 5\)/);
+  assert.doesNotMatch(status, /NaN/);
+
+  // The CLI on the page's saved disk plus the same section.
+  const [saved] = await Promise.all([page.waitForEvent("download"), page.click("#save-button")]);
+  const disk = JSON.parse(await (await import("node:fs")).promises.readFile(await saved.path(), "utf8"));
+  disk.uncertainty = SECTION;
+  const file = join(scratch, "disk.json");
+  writeFileSync(file, JSON.stringify(disk, null, 2));
+  const run = (...args) => execFileSync(cli, ["uncertainty", file, "--samples", "60", "--seed", "5", ...args], { encoding: "utf8" });
+  const json = await downloadText(page, "[data-unc-export='json']");
+  assert.equal(json.name, "uncertainty-json-seed5.json");
+  assert.equal(json.text, run("--format", "json"), "JSON equals the CLI's");
+  const csv = await downloadText(page, "[data-unc-export='csv:bands']");
+  assert.equal(csv.text, run("--format", "csv"), "bands CSV equals the CLI's");
+  const methods = await downloadText(page, "[data-unc-export='methods']");
+  const methodsFile = join(scratch, "methods.txt");
+  run("--format", "json", "--methods", methodsFile);
+  assert.equal(methods.text, (await import("node:fs")).readFileSync(methodsFile, "utf8"), "methods text equals the CLI's");
+  assert.match(methods.text, /seed 5/);
+
+  // The marginalised posterior.
+  await page.fill("#unc-post-samples", "8");
+  await page.click("#unc-posterior");
+  await page.waitForFunction(() => /median .* au, 95 % interval/.test(document.getElementById("unc-post-status").textContent), null, { timeout: 300000 });
+  assert.ok(await page.$eval("#unc-fig-posterior", (img) => img.src.startsWith("blob:")));
+  assert.deepEqual(errors, []);
+  await page.close();
+});
+
+test("cancel keeps the partial bands; a bad section is named", async () => {
+  const { page, errors } = await newPage(browser.context);
+  await startRun(page, SECTION, 5000, 1);
+  await page.waitForFunction(() => /Running \d+ of 5000/.test(document.getElementById("unc-status").textContent), null, { timeout: 300000, polling: 20 });
+  await page.click("#unc-cancel");
+  assert.match(await page.textContent("#unc-status"), /Cancelled after \d+ of 5000 samples/);
+  assert.ok(await page.$eval("#unc-fig-bands", (img) => img.src.startsWith("blob:")), "partial bands stay");
+  assert.equal(await page.$eval("#unc-run", (b) => b.disabled), false);
+
+  await startRun(page, { "star.luminosity_lsn": { distribution: "lognormal", sigma_dex: 0.1 } }, 10, 1);
+  await page.waitForFunction(() => document.getElementById("unc-problems").textContent.length > 0, null, { timeout: 300000 });
+  const problems = await page.textContent("#unc-problems");
+  assert.match(problems, /uncertainty\.star\.luminosity_lsn: unknown disk-file path .*did you mean luminosity_lsun\?/);
+  assert.deepEqual(errors, []);
+  await page.close();
+});
