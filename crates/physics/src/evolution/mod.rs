@@ -83,9 +83,14 @@ pub struct EvolutionParameters {
     pub until_myr: f64,
     /// Number of snapshots, log-spaced in age from start to end inclusive. Default 20.
     pub snapshots: usize,
-    /// Largest step as a fraction of the age, dt <= f t. Default 0.02 (keeps the viscous solution
-    /// within 1 % of the similarity solution; any step is stable).
+    /// Largest step as a fraction of the age, dt <= f t. Default 0.05 (the viscous solution stays
+    /// within 1 % of the similarity solution, tests/evolution.rs; any step is stable).
     pub max_step_fraction: f64,
+    /// Vertical cells of the columns that give each step's midplane conditions (temperature,
+    /// density, FUV flux and ionisation rate at z = 0). Default 16: the midplane values need no
+    /// finer columns, and the structure is most of a step's cost. The snapshots' static models
+    /// use the same.
+    pub vertical_cells: usize,
     /// The dust.
     pub dust: DustParameters,
     /// The star's track.
@@ -105,7 +110,8 @@ impl EvolutionParameters {
             start_myr: 0.01,
             until_myr: 5.0,
             snapshots: 20,
-            max_step_fraction: 0.02,
+            max_step_fraction: 0.05,
+            vertical_cells: 16,
             dust: DustParameters {
                 drift: true,
                 fragmentation_velocity_cm_s: 1000.0,
@@ -565,6 +571,7 @@ impl<'a> Evolver<'a> {
         q.star.effective_temperature_k = t;
         q.disk.accretion_rate_msun_per_yr = self.accretion_g_s / MSUN_PER_YR_TO_G_PER_S;
         q.disk.age_myr = self.time_myr;
+        q.grid.vertical_cells = self.e.vertical_cells;
         q
     }
 
