@@ -4,24 +4,12 @@
 
 use crate::evolution_methods::{evolution_methods, evolution_methods_paragraph};
 use crate::provenance::Provenance;
-use crate::tables::{ColumnSpec, Table};
+use crate::tables::{col, finite, Table};
 use nivalis_physics::evolution::{dex, ratios_of, EvolutionParameters, EvolutionRun};
 use nivalis_physics::params::Element;
 use nivalis_physics::units::AU_CM;
 use nivalis_physics::{Model, ModelParameters, Species};
 use serde_json::{json, Map, Value};
-
-fn col(name: impl Into<String>, unit: &'static str, description: impl Into<String>) -> ColumnSpec {
-    ColumnSpec {
-        name: name.into(),
-        unit,
-        description: description.into(),
-    }
-}
-
-fn finite(x: f64) -> Option<f64> {
-    x.is_finite().then_some(x)
-}
 
 fn opt(x: Option<f64>) -> Value {
     x.filter(|v| v.is_finite())
