@@ -338,3 +338,54 @@ fn water_vapour_inside_the_snowline_follows_the_pebble_flux() {
     }
     assert!(checked > 3, "{checked}");
 }
+
+#[test]
+fn the_transported_composition_plugs_into_the_ice_stage() {
+    // Composition::with_species_per_h_per_cell: the uniform totals given per cell give the same
+    // ice balance bit for bit; the transported totals change the ices where they differ.
+    let p = small_disk();
+    let mut e = short_run();
+    e.until_myr = 0.2;
+    e.snapshots = 3;
+    let run = evolve(&p, &e).unwrap();
+    let k = 2;
+    let model = run.static_model_at(k).unwrap();
+    let uniform = vec![model.carriers().species_per_h; run.radius_cm.len()];
+    let table = nivalis_physics::species::SpeciesTable::built_in();
+    let q = &run.snapshots[k].parameters;
+    let c = nivalis_physics::Composition::with_species_per_h_per_cell(
+        q,
+        &table,
+        model.structure(),
+        &uniform,
+    )
+    .unwrap();
+    let balance = nivalis_physics::balance::BalanceConstants::new(
+        q,
+        &nivalis_physics::balance::species_properties(q, &table),
+    );
+    let same = nivalis_physics::IceBalance::solve(model.structure(), &c, &balance);
+    assert_eq!(&same, model.ices());
+    let (st, comp, ices) = run.ice_balance_at(k).unwrap();
+    let w = Species::H2O;
+    let mut differs = 0;
+    for j in 0..st.radial_cells {
+        assert_eq!(
+            comp.species_per_h(w, j),
+            run.snapshots[k].species_per_h[j][w.index()]
+        );
+        if ices.ice_fraction(w)[st.index(j, 0)] != model.ices().ice_fraction(w)[st.index(j, 0)] {
+            differs += 1;
+        }
+    }
+    assert!(differs > 0);
+    // A row count that does not match the grid is refused with the field named.
+    let err = nivalis_physics::Composition::with_species_per_h_per_cell(
+        q,
+        &table,
+        model.structure(),
+        &uniform[1..],
+    )
+    .unwrap_err();
+    assert_eq!(err.path(), Some("species_per_h"));
+}

@@ -15,8 +15,9 @@ pub mod viscous;
 
 use crate::balance::{species_properties, BalanceConstants};
 use crate::budget::{defined_ratio, zero_below_rounding, Carriers, PhaseAbundances};
+use crate::composition::Composition;
 use crate::error::PhysicsError;
-use crate::ices::Place;
+use crate::ices::{IceBalance, Place};
 use crate::math::{exp, ln};
 use crate::model::{Model, Ratios};
 use crate::params::{Element, InitialIceState, ModelParameters, SootLine, ELEMENT_COUNT};
@@ -309,6 +310,26 @@ impl EvolutionRun {
     /// Ages of the snapshots [Myr].
     pub fn times_myr(&self) -> Vec<f64> {
         self.snapshots.iter().map(|s| s.time_myr).collect()
+    }
+
+    /// The ice balance in every sample of the columns at snapshot `k`'s age with the transported
+    /// totals per H of every species ([`Composition::with_species_per_h_per_cell`]): the plug-in
+    /// of the evolved composition into the static stages (docs/model.md sections 7 and 12.5),
+    /// with the structure and composition it was solved on. The ice there is the balance at the
+    /// snapshot's age from the file's initial state, as in the static model.
+    pub fn ice_balance_at(
+        &self,
+        k: usize,
+    ) -> Result<(DiskStructure, Composition, IceBalance), PhysicsError> {
+        let s = &self.snapshots[k];
+        let p = &s.parameters;
+        let st = DiskStructure::from_surface_density(p, &self.radius_cm, &s.surface_density_g_cm2)?;
+        let table = SpeciesTable::built_in();
+        let composition =
+            Composition::with_species_per_h_per_cell(p, &table, &st, &s.species_per_h)?;
+        let balance = BalanceConstants::new(p, &species_properties(p, &table));
+        let ices = IceBalance::solve(&st, &composition, &balance);
+        Ok((st, composition, ices))
     }
 
     /// The static model at snapshot `k`'s age: the same surface density, star and accretion rate
