@@ -29,6 +29,8 @@ pub mod transfer;
 #[cfg(target_arch = "wasm32")]
 mod canvas;
 #[cfg(target_arch = "wasm32")]
+mod evolution_js;
+#[cfg(target_arch = "wasm32")]
 mod explorer;
 #[cfg(target_arch = "wasm32")]
 pub use explorer::Explorer;

@@ -43,7 +43,7 @@ const SCRIPT_SLOT: &str = "<!-- nivalis:script -->";
 const WORKER_SLOT: &str = "<!-- nivalis:worker -->";
 
 /// The page's scripts, inlined in this order into the one module script.
-const SCRIPTS: [&str; 2] = ["web/app.js", "web/planet.js"];
+const SCRIPTS: [&str; 3] = ["web/app.js", "web/planet.js", "web/evolution.js"];
 /// The page's style sheets, inlined in this order.
 const STYLES: [&str; 2] = ["web/style.css", "web/planet.css"];
 
