@@ -244,6 +244,20 @@ pub fn draw_evolved_c_to_o<DB: DrawingBackend>(
     })
 }
 
+/// Cell edges of increasing positive centres: geometric midpoints between neighbours, half a
+/// step (in ln) beyond the ends; a single centre gets edges a factor 1.5 either side.
+fn log_edges(c: &[f64]) -> Vec<f64> {
+    let n = c.len();
+    if n == 1 {
+        return vec![c[0] / 1.5, c[0] * 1.5];
+    }
+    let mut out = Vec::with_capacity(n + 1);
+    out.push(c[0] * (c[0] / c[1]).sqrt());
+    out.extend(c.windows(2).map(|w| (w[0] * w[1]).sqrt()));
+    out.push(c[n - 1] * (c[n - 1] / c[n - 2]).sqrt());
+    out
+}
+
 /// An age to three significant digits, without trailing zeros.
 pub fn format_age(age_myr: f64) -> String {
     if age_myr == 0.0 || !age_myr.is_finite() {
@@ -280,23 +294,10 @@ pub fn draw_radius_time_map<DB: DrawingBackend>(
     let size = background(&p)?;
     let x = radius_axis(&data.radius_au);
     let nt = data.times_myr.len();
-    // Row edges: geometric midpoints between ages, extended half a step at the ends.
-    let t = &data.times_myr;
-    let edge = |k: usize| -> f64 {
-        if nt == 1 {
-            return if k == 0 { t[0] / 1.5 } else { t[0] * 1.5 };
-        }
-        if k == 0 {
-            t[0] * (t[0] / t[1]).sqrt()
-        } else if k == nt {
-            t[nt - 1] * (t[nt - 1] / t[nt - 2]).sqrt()
-        } else {
-            (t[k - 1] * t[k]).sqrt()
-        }
-    };
+    let t_edges = log_edges(&data.times_myr);
     let y = AxisTransform::new(
-        edge(0),
-        edge(nt),
+        t_edges[0],
+        t_edges[nt],
         Scale::Log10,
         format!(
             "age [Myr]; colour: {} {} to {}",
@@ -312,20 +313,8 @@ pub fn draw_radius_time_map<DB: DrawingBackend>(
         x,
         y,
     };
-    let r = &data.radius_au;
-    let nr = r.len();
-    let r_edge = |j: usize| -> f64 {
-        if nr == 1 {
-            return if j == 0 { r[0] / 1.5 } else { r[0] * 1.5 };
-        }
-        if j == 0 {
-            r[0] * (r[0] / r[1]).sqrt()
-        } else if j == nr {
-            r[nr - 1] * (r[nr - 1] / r[nr - 2]).sqrt()
-        } else {
-            (r[j - 1] * r[j]).sqrt()
-        }
-    };
+    let nr = data.radius_au.len();
+    let r_edges = log_edges(&data.radius_au);
     let (lo, hi) = data.range;
     for (k, row) in data.values.iter().enumerate() {
         if row.len() != nr {
@@ -335,11 +324,11 @@ pub fn draw_radius_time_map<DB: DrawingBackend>(
                 got: row.len(),
             });
         }
-        let (Some(top), Some(bottom)) = (panel.px_y(edge(k + 1)), panel.px_y(edge(k))) else {
+        let (Some(top), Some(bottom)) = (panel.px_y(t_edges[k + 1]), panel.px_y(t_edges[k])) else {
             continue;
         };
         for (j, v) in row.iter().enumerate() {
-            let (Some(left), Some(right)) = (panel.px_x(r_edge(j)), panel.px_x(r_edge(j + 1)))
+            let (Some(left), Some(right)) = (panel.px_x(r_edges[j]), panel.px_x(r_edges[j + 1]))
             else {
                 continue;
             };
