@@ -389,3 +389,37 @@ fn the_transported_composition_plugs_into_the_ice_stage() {
     .unwrap_err();
     assert_eq!(err.path(), Some("species_per_h"));
 }
+
+#[test]
+fn a_planet_in_a_formation_window_takes_the_evolved_gas() {
+    // The planet tool on the evolved disk (docs/model.md sections 9 and 12.8): for one cell and
+    // one snapshot, an envelope of gas alone has the gas C/O of that place; and gas accreted
+    // inside the water snowline early, while the pebbles' water vapour is there, is richer in
+    // oxygen than the star (qualitative: Öberg & Bergin 2016; Booth et al. 2017).
+    let p = small_disk();
+    let run = evolve(&p, &short_run()).unwrap();
+    let k = run
+        .snapshots
+        .iter()
+        .position(|s| s.time_myr > 0.09)
+        .unwrap();
+    let s = &run.snapshots[k];
+    let j = run.radius_cm.iter().position(|&r| r > 0.5 * AU_CM).unwrap();
+    let r_au = run.radius_cm[j] / AU_CM;
+    let phases = run
+        .accreted_phases(r_au, r_au, s.time_myr, s.time_myr)
+        .unwrap();
+    assert_eq!(phases.points, 1);
+    let envelope = phases.envelope(1.0, 0.0, 1.0).unwrap();
+    let local = ratios_of(&run.stellar_per_h, &s.phases[j])
+        .c_to_o_gas
+        .unwrap();
+    let c_to_o = envelope.c_to_o.unwrap();
+    assert!((c_to_o / local - 1.0).abs() < 1e-12, "{c_to_o} vs {local}");
+    assert!(envelope.o_to_h_dex().unwrap() > 0.0);
+    // A window over ages and radii averages several places; bad windows are refused.
+    let window = run.accreted_phases(0.3, 1.0, 0.02, 0.3).unwrap();
+    assert!(window.points > 4);
+    assert!(run.accreted_phases(0.3, 1.0, 0.5, 0.1).is_err());
+    assert!(run.accreted_phases(0.01, 1.0, 0.1, 0.2).is_err());
+}
