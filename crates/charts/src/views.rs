@@ -21,6 +21,13 @@ use crate::paint::{
 };
 use crate::theme::{LineDash, Marker, SeriesStyle, Theme};
 
+#[path = "evolution_views.rs"]
+mod evolution_views;
+pub use evolution_views::{
+    draw_evolved_c_to_o, draw_radius_time_map, draw_snowline_tracks, format_age,
+    EvolvedProfileData, RadiusTimeMapData, SnowlineTrackData,
+};
+
 /// Outer padding [pt].
 const PAD_PT: f64 = 4.0;
 /// The smallest area the axes fit in [px].

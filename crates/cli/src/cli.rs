@@ -231,6 +231,14 @@ enum Command {
             allow_negative_numbers = true
         )]
         to_radius_au: Option<f64>,
+        /// Formation age [Myr]: the planet accretes from the evolved disk at this age (docs/model.md
+        /// section 12.8; the disk file's evolution section, run to this age) instead of the static disk.
+        #[arg(long = "age-myr", value_name = "MYR", allow_negative_numbers = true)]
+        age_myr: Option<f64>,
+        /// End of a formation window [Myr] with --age-myr as its start: gas and solids are averaged
+        /// over the snapshots in the window and the cells in the radius range, by gas mass.
+        #[arg(long = "to-age-myr", value_name = "MYR", allow_negative_numbers = true)]
+        to_age_myr: Option<f64>,
         /// How the migration range is averaged: by accreted mass (default), uniform in radius or in log radius.
         #[arg(long, value_enum, default_value_t = Weighting::AccretedMass)]
         weighting: Weighting,
@@ -759,6 +767,76 @@ fn fit_marginalised(
     write_output(&output.out, &text)
 }
 
+/// `nivalis planet ... --age-myr T [--to-age-myr T2]`: the envelope of a planet accreting from
+/// the evolved disk in a formation window (docs/model.md section 12.8).
+fn planet_in_window(
+    mut file: DiskFile,
+    (inner_au, outer_au): (f64, f64),
+    (from_myr, to_age_myr): (f64, Option<f64>),
+    (solid_to_gas, mix): (f64, f64),
+    format: PlanetFormat,
+    out: &Option<PathBuf>,
+) -> Result<(), Failure> {
+    use nivalis_physics::planet::{FormationPlace, Planet, RadialWeighting};
+    let mut e = file
+        .evolution
+        .clone()
+        .unwrap_or_else(nivalis_physics::evolution::EvolutionParameters::defaults);
+    let to_myr = to_age_myr.unwrap_or(from_myr);
+    e.until_myr = to_myr;
+    let flags = [
+        (
+            "evolution.until_myr",
+            if to_age_myr.is_some() {
+                "--to-age-myr"
+            } else {
+                "--age-myr"
+            },
+        ),
+        ("from_myr", "--age-myr"),
+        ("inner_radius_au", "--radius-au"),
+        ("solid_to_gas", "--solid-to-gas"),
+        ("solid_mixing_fraction", "--mix"),
+    ];
+    e.check().map_err(|err| option_failure(&err, &flags))?;
+    let run = nivalis_physics::evolution::evolve(&file.parameters, &e)
+        .map_err(|err| option_failure(&err, &flags))?;
+    let phases = run
+        .accreted_phases(inner_au, outer_au, from_myr, to_myr)
+        .map_err(|err| option_failure(&err, &flags))?;
+    let envelope = phases
+        .envelope(1.0, solid_to_gas, mix)
+        .map_err(|err| option_failure(&err, &flags))?;
+    let result = Planet { phases, envelope };
+    file.evolution = Some(e);
+    let provenance = Provenance::of(&file);
+    let place = if outer_au > inner_au {
+        FormationPlace::Migration {
+            inner_radius_au: inner_au,
+            outer_radius_au: outer_au,
+            weighting: RadialWeighting::AccretedMass,
+        }
+    } else {
+        FormationPlace::Radius {
+            radius_au: inner_au,
+        }
+    };
+    let text = match format {
+        PlanetFormat::Json => {
+            let mut v = nivalis_exports::planet::planet_json(&result, &place, &provenance);
+            if let Some(m) = v.as_object_mut() {
+                m.insert(
+                    "formation_window_myr".into(),
+                    serde_json::json!([from_myr, to_myr]),
+                );
+            }
+            json_text(&v)
+        }
+        PlanetFormat::Csv => to_csv(&nivalis_exports::planet::planet_table(&result), &provenance),
+    };
+    write_output(out, &text)
+}
+
 fn execute(args: Args) -> Result<(), Failure> {
     let sets = args.set;
     match args.command {
@@ -921,6 +999,8 @@ fn execute(args: Args) -> Result<(), Failure> {
             disk,
             radius_au,
             to_radius_au,
+            age_myr,
+            to_age_myr,
             weighting,
             solid_to_gas,
             mix,
@@ -931,6 +1011,24 @@ fn execute(args: Args) -> Result<(), Failure> {
             use nivalis_exports::planet::PlanetOptions;
             use nivalis_physics::planet::{planet, RadialWeighting};
             let file = read_disk(&disk, &sets)?;
+}
+
+            let file = read_disk(&disk)?;
+            if let Some(from) = age_myr {
+                return planet_in_window(
+                    file,
+                    (radius_au, to_radius_au.unwrap_or(radius_au)),
+                    (from, to_age_myr),
+                    (solid_to_gas, mix),
+                    format,
+                    &out,
+                );
+            }
+            if to_age_myr.is_some() {
+                return Err(Failure::input(vec![
+                    "--to-age-myr: needs --age-myr, the start of the formation window".to_string(),
+                ]));
+            }
             let model = run_model(&file)?;
             let weighting = match weighting {
                 Weighting::AccretedMass => RadialWeighting::AccretedMass,

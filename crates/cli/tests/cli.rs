@@ -1196,3 +1196,75 @@ fn evolve_writes_the_issue_json_layout_and_refuses_bad_ages() {
         stderr(&out)
     );
 }
+
+#[test]
+fn planet_takes_an_age_or_a_formation_window() {
+    // Issue 13 item 3: `nivalis planet ... --age-myr T [--to-age-myr T2]` accretes from the evolved disk.
+    let path = temp_file(
+        "window.json",
+        r#"{"grid": {"radial_cells": 40, "vertical_cells": 8}}"#,
+    );
+    let p = path.to_str().unwrap();
+    let out = nivalis(&[
+        "planet",
+        p,
+        "--radius-au",
+        "0.5",
+        "--solid-to-gas",
+        "0",
+        "--age-myr",
+        "0.1",
+    ]);
+    assert_eq!(out.status.code(), Some(0), "{}", stderr(&out));
+    let v: serde_json::Value = serde_json::from_str(&stdout(&out)).unwrap();
+    assert_eq!(v["formation_window_myr"], serde_json::json!([0.1, 0.1]));
+    assert!(v["envelope"].is_object(), "{v}");
+    let out = nivalis(&[
+        "planet",
+        p,
+        "--radius-au",
+        "0.5",
+        "--to-radius-au",
+        "2",
+        "--solid-to-gas",
+        "0.01",
+        "--age-myr",
+        "0.05",
+        "--to-age-myr",
+        "0.3",
+    ]);
+    assert_eq!(out.status.code(), Some(0), "{}", stderr(&out));
+    assert!(!stdout(&out).contains("NaN"));
+    let out = nivalis(&[
+        "planet",
+        p,
+        "--radius-au",
+        "0.5",
+        "--solid-to-gas",
+        "0",
+        "--age-myr",
+        "30",
+    ]);
+    assert_eq!(out.status.code(), Some(2));
+    assert!(
+        stderr(&out).contains("--age-myr: must be above"),
+        "{}",
+        stderr(&out)
+    );
+    let out = nivalis(&[
+        "planet",
+        p,
+        "--radius-au",
+        "0.5",
+        "--solid-to-gas",
+        "0",
+        "--to-age-myr",
+        "1",
+    ]);
+    assert_eq!(out.status.code(), Some(2));
+    assert!(
+        stderr(&out).contains("--to-age-myr: needs --age-myr"),
+        "{}",
+        stderr(&out)
+    );
+}

@@ -13,7 +13,7 @@ use serde_json::{json, Map, Value};
 /// Most rows a star-track table may have.
 pub const MAX_STAR_TRACK_ROWS: usize = 1000;
 
-const KEYS: [&str; 9] = [
+const KEYS: [&str; 10] = [
     "alpha",
     "schmidt_number",
     "diffusion",
@@ -21,6 +21,7 @@ const KEYS: [&str; 9] = [
     "until_myr",
     "snapshots",
     "max_step_fraction",
+    "vertical_cells",
     "dust",
     "star",
 ];
@@ -180,6 +181,19 @@ pub fn read_evolution(
         }
     }
     e.max_step_fraction = s.real(m, path, "max_step_fraction", d.max_step_fraction, 1e-4, 0.5);
+    if let Some(v) = m.and_then(|m| m.get("vertical_cells")) {
+        match v
+            .as_f64()
+            .filter(|x| x.fract() == 0.0 && (8.0..=4096.0).contains(x))
+        {
+            Some(x) => e.vertical_cells = x as usize,
+            None => s.bad(
+                "evolution.vertical_cells".into(),
+                v,
+                "a whole number in [8, 4096]",
+            ),
+        }
+    }
     // Dust.
     let dp = "evolution.dust";
     let dust = s.object(m.and_then(|m| m.get("dust")), dp, &DUST_KEYS);
@@ -385,6 +399,7 @@ pub fn evolution_to_value(e: &EvolutionParameters) -> Value {
         "until_myr": e.until_myr,
         "snapshots": e.snapshots,
         "max_step_fraction": e.max_step_fraction,
+        "vertical_cells": e.vertical_cells,
         "dust": {
             "drift": e.dust.drift,
             "fragmentation_velocity_m_s": e.dust.fragmentation_velocity_cm_s / 100.0,

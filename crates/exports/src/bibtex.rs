@@ -134,8 +134,7 @@ pub fn bibtex(methods: &[MethodEntry]) -> String {
         .join("\n")
 }
 
-/// The citations of reference keys in words, joined by "; ".
-pub fn citation_list(keys: &[&'static str]) -> String {
+fn citation_list(keys: &[&'static str]) -> String {
     keys.iter()
         .filter_map(|k| reference(k))
         .map(|r| r.citation)
@@ -143,12 +142,23 @@ pub fn citation_list(keys: &[&'static str]) -> String {
         .join("; ")
 }
 
-/// `s` with its first letter upper-case.
-pub fn capitalised(s: &str) -> String {
+fn capitalised(s: &str) -> String {
     let mut c = s.chars();
     match c.next() {
         Some(f) => f.to_uppercase().collect::<String>() + c.as_str(),
         None => String::new(),
+    }
+}
+
+/// Each method as a sentence with its citations in words, appended to `text`.
+pub fn push_methods(text: &mut String, methods: &[MethodEntry]) {
+    for m in methods {
+        let citations = citation_list(&m.references);
+        if citations.is_empty() {
+            text.push_str(&format!(" {}.", capitalised(&m.text)));
+        } else {
+            text.push_str(&format!(" {} ({citations}).", capitalised(&m.text)));
+        }
     }
 }
 
@@ -176,14 +186,7 @@ pub fn methods_paragraph(
         " The star has a mass of {} M☉, a luminosity of {} L☉ and an effective temperature of {} K.",
         parameters.star.mass_msun, parameters.star.luminosity_lsun, parameters.star.effective_temperature_k
     ));
-    for m in methods {
-        let citations = citation_list(&m.references);
-        if citations.is_empty() {
-            text.push_str(&format!(" {}.", capitalised(&m.text)));
-        } else {
-            text.push_str(&format!(" {} ({citations}).", capitalised(&m.text)));
-        }
-    }
+    push_methods(&mut text, methods);
     text.push_str(
         " The model simplifies in four ways: the volatiles are treated as independent pure ices, with no entrapment and no binding in mixed ices; radiation is treated in 1+1D, in vertical columns with starlight entering at the grazing angle; gas and dust share one temperature; and the disk is static: the ices of each cell follow the freeze-out/desorption rate equation over the disk's age, whose long-time limit is the equilibrium, with no radial drift, vapour transport, structural evolution or gas-phase chemistry.",
     );

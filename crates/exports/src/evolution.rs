@@ -4,24 +4,12 @@
 
 use crate::evolution_methods::{evolution_methods, evolution_methods_paragraph};
 use crate::provenance::Provenance;
-use crate::tables::{ColumnSpec, Table};
+use crate::tables::{col, finite, Table};
 use nivalis_physics::evolution::{dex, ratios_of, EvolutionParameters, EvolutionRun};
 use nivalis_physics::params::Element;
 use nivalis_physics::units::AU_CM;
 use nivalis_physics::{Model, ModelParameters, Species};
 use serde_json::{json, Map, Value};
-
-fn col(name: impl Into<String>, unit: &'static str, description: impl Into<String>) -> ColumnSpec {
-    ColumnSpec {
-        name: name.into(),
-        unit,
-        description: description.into(),
-    }
-}
-
-fn finite(x: f64) -> Option<f64> {
-    x.is_finite().then_some(x)
-}
 
 fn opt(x: Option<f64>) -> Value {
     x.filter(|v| v.is_finite())
@@ -70,7 +58,8 @@ fn static_profiles(model: &Model) -> Profiles {
 /// `pebble_flux_g_s.<SPECIES>` and `vapour_flux_g_s.<SPECIES>` (inward through the snowline),
 /// per snapshot `accretion_rate_msun_per_yr`, `luminosity_lsun`, `effective_temperature_k`,
 /// `soot_line_history_au`; `conservation` (relative error per element and of the gas), the
-/// resolved disk with its evolution section, the methods and the methods paragraph.
+/// `star_c_to_o`, the resolved disk with its evolution section, the methods and the methods
+/// paragraph.
 pub fn evolution_json(
     run: &EvolutionRun,
     statics: &[Model],
@@ -135,6 +124,10 @@ pub fn evolution_json(
         m.insert(k.clone(), v.clone());
     }
     m.insert("static".into(), four(&statics));
+    m.insert(
+        "star_c_to_o".into(),
+        json!(run.stellar_per_h[Element::C as usize] / run.stellar_per_h[Element::O as usize]),
+    );
     m.insert("snowlines".into(), Value::Object(snowlines));
     m.insert("pebble_flux_g_s".into(), Value::Object(pebbles));
     m.insert("vapour_flux_g_s".into(), Value::Object(vapour));

@@ -3,7 +3,7 @@
 //! paragraph with the run's own simplifications (the static paragraph says "no radial drift,
 //! vapour transport or evolution", which an evolving run does not share).
 
-use crate::bibtex::{capitalised, citation_list, software_citation};
+use crate::bibtex::{push_methods, software_citation};
 use crate::methods::{methods, MethodEntry};
 use crate::provenance::Provenance;
 use nivalis_physics::evolution::star_track::StarTrack;
@@ -119,14 +119,7 @@ pub fn evolution_methods_paragraph(
         g.vertical_cells,
         g.max_height_scale_heights
     );
-    for m in evolution_methods(p, e) {
-        let citations = citation_list(&m.references);
-        if citations.is_empty() {
-            text.push_str(&format!(" {}.", capitalised(&m.text)));
-        } else {
-            text.push_str(&format!(" {} ({citations}).", capitalised(&m.text)));
-        }
-    }
+    push_methods(&mut text, &evolution_methods(p, e));
     text.push_str(
         " The evolving model simplifies in five ways: transport is one-dimensional in radius, and the ices exchange with the gas at the midplane; the volatiles are independent pure ices; the ices ride on the dust in proportion to its mass, and the adsorption uses the small grains of the static model; the silicates and sulfides move with the dust even where they would sublimate; and there is no gas-phase chemistry besides the optional CO processing.",
     );

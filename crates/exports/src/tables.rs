@@ -27,7 +27,11 @@ pub struct Table {
     pub rows: Vec<Vec<Option<f64>>>,
 }
 
-fn col(name: impl Into<String>, unit: &'static str, description: impl Into<String>) -> ColumnSpec {
+pub(crate) fn col(
+    name: impl Into<String>,
+    unit: &'static str,
+    description: impl Into<String>,
+) -> ColumnSpec {
     ColumnSpec {
         name: name.into(),
         unit,
@@ -36,7 +40,7 @@ fn col(name: impl Into<String>, unit: &'static str, description: impl Into<Strin
 }
 
 /// A number only if finite (NaN and infinities are undefined).
-fn finite(x: f64) -> Option<f64> {
+pub(crate) fn finite(x: f64) -> Option<f64> {
     x.is_finite().then_some(x)
 }
 

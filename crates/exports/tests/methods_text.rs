@@ -231,3 +231,39 @@ fn citation_cff_names_this_version() {
     );
     assert!(cff.contains("- name: \"The Nivalis developers\""), "{cff}");
 }
+
+#[test]
+fn evolution_methods_paragraph_has_no_internal_keys_or_substitutes() {
+    // The evolving run's paragraph (issue 13) passes the same prose checks, with every switch.
+    use nivalis_exports::evolution_methods::evolution_methods_paragraph;
+    use nivalis_physics::evolution::star_track::{StarTrack, StarTrackPoint};
+    use nivalis_physics::evolution::{CoProcessing, EvolutionParameters};
+    let mut variants = vec![EvolutionParameters::defaults()];
+    let mut e = EvolutionParameters::defaults();
+    e.dust.drift = false;
+    e.diffusion = false;
+    e.star_track = StarTrack::Fixed;
+    variants.push(e);
+    let mut e = EvolutionParameters::defaults();
+    e.co_processing = Some(CoProcessing {
+        timescale_myr: 2.0,
+        max_temperature_k: 25.0,
+    });
+    e.star_track = StarTrack::Table(vec![StarTrackPoint {
+        age_myr: 1.0,
+        luminosity_lsun: 1.0,
+        effective_temperature_k: 4000.0,
+    }]);
+    variants.push(e);
+    for (name, file) in configurations() {
+        for e in &variants {
+            let text = evolution_methods_paragraph(&file.parameters, e, &Provenance::of(&file));
+            let problems = prose_problems(&text);
+            assert!(problems.is_empty(), "{name}: {problems:?}\n{text}");
+            assert!(
+                !text.contains("no radial drift, vapour transport"),
+                "{name}"
+            );
+        }
+    }
+}

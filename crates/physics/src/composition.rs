@@ -24,6 +24,9 @@ pub fn star_c_to_o(stellar_per_h: &[f64; ELEMENT_COUNT]) -> f64 {
 pub struct Composition {
     carriers: Carriers,
     radial_cells: usize,
+    /// Per radial cell, the totals per H of every species when they vary in radius
+    /// ([`Composition::with_species_per_h_per_cell`]); `None` for the uniform composition.
+    per_cell: Option<Vec<[f64; SPECIES_COUNT]>>,
 }
 
 impl Composition {
@@ -46,7 +49,54 @@ impl Composition {
         Ok(Composition {
             carriers,
             radial_cells: structure.radial_cells,
+            per_cell: None,
         })
+    }
+
+    /// The composition of `parameters` with the totals per H of every volatile species given per
+    /// radial cell (`totals[j]`, `Species::ALL` order), for example transported by the evolving
+    /// disk (docs/model.md section 12); the refractory carriers stay those of
+    /// [`Composition::uniform`]. Errors (`OutOfRange`, field `species_per_h`): not one row per
+    /// radial cell of `structure`, or a value not finite and >= 0.
+    pub fn with_species_per_h_per_cell(
+        parameters: &ModelParameters,
+        table: &SpeciesTable,
+        structure: &DiskStructure,
+        totals: &[[f64; SPECIES_COUNT]],
+    ) -> Result<Composition, PhysicsError> {
+        if totals.len() != structure.radial_cells {
+            return Err(PhysicsError::OutOfRange {
+                name: "species_per_h",
+                value: totals.len() as f64,
+                allowed: "one row per radial cell",
+            });
+        }
+        if let Some(&bad) = totals
+            .iter()
+            .flatten()
+            .find(|x| !(x.is_finite() && **x >= 0.0))
+        {
+            return Err(PhysicsError::OutOfRange {
+                name: "species_per_h",
+                value: bad,
+                allowed: "finite and >= 0",
+            });
+        }
+        let mut c = Composition::uniform(parameters, table, structure)?;
+        c.per_cell = Some(totals.to_vec());
+        Ok(c)
+    }
+
+    /// The carriers of cell `j` (the per-cell totals in place of the uniform ones).
+    fn carriers_in_cell(&self, j: usize) -> std::borrow::Cow<'_, Carriers> {
+        match &self.per_cell {
+            None => std::borrow::Cow::Borrowed(&self.carriers),
+            Some(cells) => {
+                let mut c = self.carriers.clone();
+                c.species_per_h = cells[j];
+                std::borrow::Cow::Owned(c)
+            }
+        }
     }
 
     /// Number of radial cells the composition is defined on.
@@ -72,18 +122,27 @@ impl Composition {
     /// Total (gas + ice) abundance per H of `species` in radial cell `j`.
     pub fn species_per_h(&self, species: Species, j: usize) -> f64 {
         debug_assert!(j < self.radial_cells.max(1));
-        self.carriers.species_per_h[species.index()]
+        match &self.per_cell {
+            None => self.carriers.species_per_h[species.index()],
+            Some(cells) => cells[j][species.index()],
+        }
     }
 
     /// Totals per H of every volatile species in radial cell `j`, `Species::ALL` order.
     pub fn species_per_h_in_cell(&self, j: usize) -> [f64; SPECIES_COUNT] {
         debug_assert!(j < self.radial_cells.max(1));
-        self.carriers.species_per_h
+        match &self.per_cell {
+            None => self.carriers.species_per_h,
+            Some(cells) => cells[j],
+        }
     }
 
     /// Whether `species` is present anywhere in the disk (x > 0).
     pub fn is_present(&self, species: Species) -> bool {
-        self.carriers.species_per_h[species.index()] > 0.0
+        match &self.per_cell {
+            None => self.carriers.species_per_h[species.index()] > 0.0,
+            Some(cells) => cells.iter().any(|c| c[species.index()] > 0.0),
+        }
     }
 
     /// Element abundances per H in each phase in radial cell `j` at radius `radius_cm` and
@@ -97,7 +156,8 @@ impl Composition {
         ice_fraction: impl Fn(usize) -> f64,
     ) -> PhaseAbundances {
         debug_assert!(j < self.radial_cells.max(1));
-        self.carriers.phases(temperature_k, radius_cm, ice_fraction)
+        self.carriers_in_cell(j)
+            .phases(temperature_k, radius_cm, ice_fraction)
     }
 
     /// Solid (ice + refractory) mass per H nucleus [amu] in radial cell `j`
@@ -109,6 +169,7 @@ impl Composition {
         ice_fraction: impl Fn(usize) -> f64,
     ) -> f64 {
         debug_assert!(j < self.radial_cells.max(1));
-        self.carriers.solid_mass_per_h_amu(phases, ice_fraction)
+        self.carriers_in_cell(j)
+            .solid_mass_per_h_amu(phases, ice_fraction)
     }
 }

@@ -31,6 +31,8 @@ pub mod uncertainty_js;
 #[cfg(target_arch = "wasm32")]
 mod canvas;
 #[cfg(target_arch = "wasm32")]
+mod evolution_js;
+#[cfg(target_arch = "wasm32")]
 mod explorer;
 #[cfg(target_arch = "wasm32")]
 pub use explorer::Explorer;

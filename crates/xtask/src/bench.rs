@@ -35,7 +35,7 @@ struct Case {
     what: &'static str,
 }
 
-const CASES: [Case; 6] = [
+const CASES: [Case; 7] = [
     Case {
         group: "floor",
         grid: DEFAULT_GRID,
@@ -65,6 +65,11 @@ const CASES: [Case; 6] = [
         group: "ice_edit",
         grid: DEFAULT_GRID,
         what: "sticking edit: Model::set_ices (ice balance only, structure reused)",
+    },
+    Case {
+        group: "evolution",
+        grid: DEFAULT_GRID,
+        what: "evolution::evolve, default disk, 0.01 to 5 Myr (benches/evolution.rs)",
     },
 ];
 
@@ -127,6 +132,13 @@ pub fn bench() -> Result<(), String> {
     run(cargo()
         .current_dir(&root)
         .args(["bench", "-p", "nivalis-physics", "--bench", "model"]))?;
+    run(cargo().current_dir(&root).args([
+        "bench",
+        "-p",
+        "nivalis-physics",
+        "--bench",
+        "evolution",
+    ]))?;
     let criterion = target_dir().join("criterion");
     let mut native = Vec::new();
     for case in &CASES {

@@ -47,13 +47,14 @@ const WORKER_SLOT: &str = "<!-- nivalis:worker -->";
 /// is one module: a namespace object built by an immediately invoked function
 /// (`const Util = (() => {...})();`), using only the modules before it, passed
 /// in as arguments or named explicitly (web/util.js explains the pattern).
-const SCRIPTS: [&str; 6] = [
+const SCRIPTS: [&str; 7] = [
     "web/util.js",
     "web/core.js",
     "web/controls.js",
     "web/app.js",
     "web/planet.js",
     "web/uncertainty.js",
+    "web/evolution.js",
 ];
 /// The page's style sheets, inlined in this order.
 const STYLES: [&str; 2] = ["web/style.css", "web/planet.css"];

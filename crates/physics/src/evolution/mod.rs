@@ -15,8 +15,9 @@ pub mod viscous;
 
 use crate::balance::{species_properties, BalanceConstants};
 use crate::budget::{defined_ratio, zero_below_rounding, Carriers, PhaseAbundances};
+use crate::composition::Composition;
 use crate::error::PhysicsError;
-use crate::ices::Place;
+use crate::ices::{IceBalance, Place};
 use crate::math::{exp, ln};
 use crate::model::{Model, Ratios};
 use crate::params::{Element, InitialIceState, ModelParameters, SootLine, ELEMENT_COUNT};
@@ -27,8 +28,8 @@ use crate::structure::{
     keplerian_frequency_s, sound_speed_cm_s, surface_density_g_cm2, DiskConstants, DiskStructure,
 };
 use crate::units::{
-    ATOMIC_MASS_UNIT_G, HYDROGEN_MASS_G, JULIAN_YEAR_S, MASS_PER_HYDROGEN_NUCLEUS_AMU_H, MICRON_CM,
-    MSUN_PER_YR_TO_G_PER_S,
+    ATOMIC_MASS_UNIT_G, AU_CM, HYDROGEN_MASS_G, JULIAN_YEAR_S, MASS_PER_HYDROGEN_NUCLEUS_AMU_H,
+    MICRON_CM, MSUN_PER_YR_TO_G_PER_S,
 };
 use dust::{kepler_speed_cm_s, radial_speed_cm_s, stokes_number, DustModel, DustPlace};
 use star_track::StarTrack;
@@ -83,9 +84,14 @@ pub struct EvolutionParameters {
     pub until_myr: f64,
     /// Number of snapshots, log-spaced in age from start to end inclusive. Default 20.
     pub snapshots: usize,
-    /// Largest step as a fraction of the age, dt <= f t. Default 0.02 (keeps the viscous solution
-    /// within 1 % of the similarity solution; any step is stable).
+    /// Largest step as a fraction of the age, dt <= f t. Default 0.05 (the viscous solution stays
+    /// within 1 % of the similarity solution, tests/evolution.rs; any step is stable).
     pub max_step_fraction: f64,
+    /// Vertical cells of the columns that give each step's midplane conditions (temperature,
+    /// density, FUV flux and ionisation rate at z = 0). Default 16: the midplane values need no
+    /// finer columns, and the structure is most of a step's cost. The snapshots' static models
+    /// use the same.
+    pub vertical_cells: usize,
     /// The dust.
     pub dust: DustParameters,
     /// The star's track.
@@ -105,7 +111,8 @@ impl EvolutionParameters {
             start_myr: 0.01,
             until_myr: 5.0,
             snapshots: 20,
-            max_step_fraction: 0.02,
+            max_step_fraction: 0.05,
+            vertical_cells: 16,
             dust: DustParameters {
                 drift: true,
                 fragmentation_velocity_cm_s: 1000.0,
@@ -303,6 +310,145 @@ impl EvolutionRun {
     /// Ages of the snapshots [Myr].
     pub fn times_myr(&self) -> Vec<f64> {
         self.snapshots.iter().map(|s| s.time_myr).collect()
+    }
+
+    /// The ice balance in every sample of the columns at snapshot `k`'s age with the transported
+    /// totals per H of every species ([`Composition::with_species_per_h_per_cell`]): the plug-in
+    /// of the evolved composition into the static stages (docs/model.md sections 7 and 12.5),
+    /// with the structure and composition it was solved on. The ice there is the balance at the
+    /// snapshot's age from the file's initial state, as in the static model.
+    pub fn ice_balance_at(
+        &self,
+        k: usize,
+    ) -> Result<(DiskStructure, Composition, IceBalance), PhysicsError> {
+        let s = &self.snapshots[k];
+        let p = &s.parameters;
+        let st = DiskStructure::from_surface_density(p, &self.radius_cm, &s.surface_density_g_cm2)?;
+        let table = SpeciesTable::built_in();
+        let composition =
+            Composition::with_species_per_h_per_cell(p, &table, &st, &s.species_per_h)?;
+        let balance = BalanceConstants::new(p, &species_properties(p, &table));
+        let ices = IceBalance::solve(&st, &composition, &balance);
+        Ok((st, composition, ices))
+    }
+
+    /// What a planet accretes in a formation window (docs/model.md section 12.8): the atoms per
+    /// gram of the midplane gas and solids of the evolved disk, averaged over the snapshots with
+    /// ages in [`from_myr`, `to_myr`] and the radial cells with centres in [`inner_au`,
+    /// `outer_au`] (the nearest snapshot or cell where none lies inside), each cell weighted by
+    /// its gas mass Sigma A (solids by their own mass), as `AccretedPhases::averaged` weights by
+    /// accreted mass. The result feeds `AccretedPhases::envelope`. Errors (`OutOfRange`): radii
+    /// outside the grid or not inner <= outer (`inner_radius_au`), ages outside the run or not
+    /// from <= to (`from_myr`).
+    pub fn accreted_phases(
+        &self,
+        inner_au: f64,
+        outer_au: f64,
+        from_myr: f64,
+        to_myr: f64,
+    ) -> Result<crate::planet::AccretedPhases, PhysicsError> {
+        let r = &self.radius_cm;
+        let n = r.len();
+        let (r_lo, r_hi) = (self.face_cm[0] / AU_CM, self.face_cm[n] / AU_CM);
+        if !(inner_au >= r_lo && outer_au <= r_hi && inner_au <= outer_au) {
+            return Err(PhysicsError::OutOfRange {
+                name: "inner_radius_au",
+                value: inner_au,
+                allowed: "radii inside the disk's grid, inner <= outer",
+            });
+        }
+        let times = self.times_myr();
+        let (t_lo, t_hi) = (times[0], times[times.len() - 1]);
+        if !(from_myr >= t_lo * (1.0 - 1e-12)
+            && to_myr <= t_hi * (1.0 + 1e-12)
+            && from_myr <= to_myr)
+        {
+            return Err(PhysicsError::OutOfRange {
+                name: "from_myr",
+                value: from_myr,
+                allowed: "ages inside the run (evolution.start_myr to the end age), from <= to",
+            });
+        }
+        let nearest = |v: &[f64], x: f64| -> usize {
+            (0..v.len())
+                .min_by(|&a, &b| {
+                    (ln(v[a]) - ln(x))
+                        .abs()
+                        .total_cmp(&(ln(v[b]) - ln(x)).abs())
+                })
+                .unwrap_or(0)
+        };
+        let mut cells: Vec<usize> = (0..n)
+            .filter(|&j| r[j] >= inner_au * AU_CM && r[j] <= outer_au * AU_CM)
+            .collect();
+        if cells.is_empty() {
+            cells.push(nearest(r, (inner_au * outer_au).sqrt() * AU_CM));
+        }
+        let mut snaps: Vec<usize> = (0..times.len())
+            .filter(|&k| times[k] >= from_myr * (1.0 - 1e-12) && times[k] <= to_myr * (1.0 + 1e-12))
+            .collect();
+        if snaps.is_empty() {
+            snaps.push(nearest(&times, (from_myr * to_myr).sqrt()));
+        }
+        let table = SpeciesTable::built_in();
+        let mass_amu: [f64; SPECIES_COUNT] = Species::ALL.map(|s| table.get(s).mass_amu);
+        let h_per_g = 1.0 / (MASS_PER_HYDROGEN_NUCLEUS_AMU_H * HYDROGEN_MASS_G);
+        // Every heavy atom condensed [amu per H]: solids below 1e-9 of it count as none
+        // (docs/model.md section 8, the rounding rule).
+        let all_heavy_amu: f64 = Element::ALL
+            .iter()
+            .map(|e| self.stellar_per_h[*e as usize] * e.atomic_mass_amu())
+            .sum();
+        let (mut gas, mut solid) = ([0.0; ELEMENT_COUNT], [0.0; ELEMENT_COUNT]);
+        let (mut gas_w, mut solid_w, mut solid_to_gas) = (0.0, 0.0, 0.0);
+        let mut with_solids = 0;
+        for &k in &snaps {
+            let s = &self.snapshots[k];
+            for &j in &cells {
+                let area = PI * (self.face_cm[j + 1].powi(2) - self.face_cm[j].powi(2));
+                let w = s.surface_density_g_cm2[j] * area;
+                let ph = &s.phases[j];
+                for (sum, x) in gas.iter_mut().zip(ph.gas) {
+                    *sum += w * x * h_per_g;
+                }
+                gas_w += w;
+                // Solid mass per H [amu]: the ices' molecules and the refractory atoms.
+                let ice_mass: f64 = (0..SPECIES_COUNT)
+                    .map(|i| s.species_per_h[j][i] * s.ice_fraction[j][i] * mass_amu[i])
+                    .sum();
+                let refractory_mass: f64 = Element::ALL
+                    .iter()
+                    .map(|e| ph.refractory[*e as usize] * e.atomic_mass_amu())
+                    .sum();
+                let m_solid = ice_mass + refractory_mass;
+                let ratio = m_solid * ATOMIC_MASS_UNIT_G * h_per_g;
+                solid_to_gas += w * ratio;
+                if m_solid > 1e-9 * all_heavy_amu {
+                    with_solids += 1;
+                    let per_g = 1.0 / (m_solid * ATOMIC_MASS_UNIT_G);
+                    for (e, sum) in solid.iter_mut().enumerate() {
+                        *sum += w * ratio * (ph.ice[e] + ph.refractory[e]) * per_g;
+                    }
+                    solid_w += w * ratio;
+                }
+            }
+        }
+        let star = &self.snapshots[0].parameters.star;
+        let mut solar = star.clone();
+        solar.offset_dex = [0.0; ELEMENT_COUNT];
+        Ok(crate::planet::AccretedPhases {
+            inner_radius_au: inner_au,
+            outer_radius_au: outer_au,
+            hydrogen_per_gram_of_gas: h_per_g,
+            gas_atoms_per_g: gas.map(|v| v / gas_w),
+            solid_atoms_per_g: (solid_w > 0.0).then(|| solid.map(|v| v / solid_w)),
+            solid_to_gas_available: solid_to_gas / gas_w,
+            points_with_solids: with_solids,
+            points: cells.len() * snaps.len(),
+            stellar_per_h: self.stellar_per_h,
+            out_of_equilibrium: [false; SPECIES_COUNT],
+            solar_per_h: stellar_abundances_per_h(&solar),
+        })
     }
 
     /// The static model at snapshot `k`'s age: the same surface density, star and accretion rate
@@ -565,6 +711,7 @@ impl<'a> Evolver<'a> {
         q.star.effective_temperature_k = t;
         q.disk.accretion_rate_msun_per_yr = self.accretion_g_s / MSUN_PER_YR_TO_G_PER_S;
         q.disk.age_myr = self.time_myr;
+        q.grid.vertical_cells = self.e.vertical_cells;
         q
     }
 

@@ -1,0 +1,167 @@
+//! The evolving disk on the page (issue 13; docs/model.md section 12). `evolveDisk` runs
+//! `nivalis_physics::evolution::evolve` and returns the same JSON text as
+//! `nivalis evolve DISK --format json` (the page runs it in a Web Worker, web/evolution.js, with
+//! a progress callback; cancelling terminates the worker). `drawEvolution` draws the three
+//! views of one snapshot from that JSON into canvases through `nivalis-charts`.
+
+use nivalis_charts::{
+    draw_evolved_c_to_o, draw_radius_time_map, draw_snowline_tracks, EvolvedProfileData,
+    RadiusTimeMapData, SnowlineTrackData, Theme,
+};
+use nivalis_disk_files::{from_value, Problem};
+use nivalis_exports::evolution::evolution_json;
+use nivalis_exports::formats::json_text;
+use nivalis_exports::Provenance;
+use nivalis_physics::evolution::{evolve_with_progress, EvolutionParameters};
+use plotters::prelude::IntoDrawingArea;
+use serde::Serialize;
+use serde_json::{json, Value};
+use wasm_bindgen::prelude::*;
+
+use crate::canvas::{canvas_by_id, MeasuredCanvas};
+
+fn to_js(value: &Value) -> JsValue {
+    // Invariant: serde_json values always serialise (objects become plain JS objects).
+    value
+        .serialize(&serde_wasm_bindgen::Serializer::json_compatible())
+        .expect("JSON value converts to JS")
+}
+
+fn run(
+    disk: JsValue,
+    until_myr: f64,
+    snapshots: u32,
+    progress: &js_sys::Function,
+) -> Result<String, Vec<Problem>> {
+    let value: Value = serde_wasm_bindgen::from_value(disk).map_err(|e| {
+        vec![Problem::new(
+            "(input)",
+            format!("cannot read the disk: {e}"),
+        )]
+    })?;
+    let mut file = from_value(&value).map_err(|p| p.0)?;
+    let mut e = file
+        .evolution
+        .clone()
+        .unwrap_or_else(EvolutionParameters::defaults);
+    e.until_myr = until_myr;
+    e.snapshots = snapshots as usize;
+    let physics = |err: nivalis_physics::PhysicsError| vec![Problem::from_physics(&err)];
+    e.check().map_err(physics)?;
+    let mut report = |fraction: f64| {
+        let _ = progress.call1(&JsValue::NULL, &JsValue::from_f64(fraction));
+        true
+    };
+    let run = evolve_with_progress(&file.parameters, &e, &mut report)
+        .map_err(physics)?
+        .ok_or_else(|| vec![Problem::new("(run)", "cancelled")])?;
+    let statics = (0..run.snapshots.len())
+        .map(|k| run.static_model_at(k))
+        .collect::<Result<Vec<_>, _>>()
+        .map_err(physics)?;
+    file.evolution = Some(e.clone());
+    Ok(json_text(&evolution_json(
+        &run,
+        &statics,
+        &file.parameters,
+        &e,
+        &Provenance::of(&file),
+    )))
+}
+
+/// Evolve `disk` (the page's disk object) to `untilMyr` with `snapshots` snapshots, calling
+/// `progress(fraction)` after every step. Returns `{ok: true, text}` with the JSON of
+/// `nivalis evolve`, or `{ok: false, problems: [{path, value, allowed, message}]}`.
+#[wasm_bindgen(js_name = evolveDisk)]
+pub fn evolve_disk(
+    disk: JsValue,
+    until_myr: f64,
+    snapshots: u32,
+    progress: &js_sys::Function,
+) -> JsValue {
+    to_js(&match run(disk, until_myr, snapshots, progress) {
+        Ok(text) => json!({"ok": true, "text": text}),
+        Err(problems) => json!({
+            "ok": false,
+            "problems": problems
+                .iter()
+                .map(|p| json!({"path": p.path, "value": p.value, "allowed": p.allowed, "message": p.message}))
+                .collect::<Vec<_>>()
+        }),
+    })
+}
+
+fn numbers(v: &Value) -> Vec<f64> {
+    v.as_array()
+        .map(|a| a.iter().filter_map(Value::as_f64).collect())
+        .unwrap_or_default()
+}
+
+fn optional(v: &Value) -> Vec<Option<f64>> {
+    v.as_array()
+        .map(|a| a.iter().map(Value::as_f64).collect())
+        .unwrap_or_default()
+}
+
+/// Draw snapshot `snapshot` of an evolution JSON (`evolveDisk`'s text) into the canvases with
+/// ids `tracksId` (snowline tracks), `profileId` (gas C/O with the static model's) and `mapId`
+/// (radius x age map of gas C/O), in the light or dark theme, at `pixelsPerPoint`.
+#[wasm_bindgen(js_name = drawEvolution)]
+pub fn draw_evolution(
+    text: &str,
+    snapshot: usize,
+    tracks_id: &str,
+    profile_id: &str,
+    map_id: &str,
+    dark: bool,
+    pixels_per_point: f64,
+) -> Result<(), JsValue> {
+    let fail = |e: String| JsValue::from_str(&e);
+    let v: Value = serde_json::from_str(text).map_err(|e| fail(e.to_string()))?;
+    let times = numbers(&v["times_myr"]);
+    let k = snapshot.min(times.len().saturating_sub(1));
+    let current = times.get(k).copied();
+    let theme = if dark { Theme::dark() } else { Theme::light() };
+    let tracks = SnowlineTrackData {
+        times_myr: times.clone(),
+        tracks: v["snowlines"]
+            .as_object()
+            .map(|m| m.iter().map(|(s, r)| (s.clone(), optional(r))).collect())
+            .unwrap_or_default(),
+        current_myr: current,
+    };
+    let radius = numbers(&v["radius_au"]);
+    let profile = EvolvedProfileData {
+        radius_au: radius.clone(),
+        evolved: optional(&v["c_to_o_gas"][k]),
+        static_profile: optional(&v["static"]["c_to_o_gas"][k]),
+        star_c_to_o: v["star_c_to_o"].as_f64(),
+        age_myr: current.unwrap_or(0.0),
+    };
+    let map = RadiusTimeMapData {
+        radius_au: radius,
+        times_myr: times.clone(),
+        values: (0..times.len())
+            .map(|i| optional(&v["c_to_o_gas"][i]))
+            .collect(),
+        range: (0.0, 2.0),
+        label: "gas C/O".into(),
+        current_myr: current,
+    };
+    for id in [tracks_id, profile_id, map_id] {
+        let canvas = canvas_by_id(id).map_err(fail)?;
+        let area = MeasuredCanvas::new(&canvas)
+            .map_err(fail)?
+            .into_drawing_area();
+        let drawn = if id == tracks_id {
+            draw_snowline_tracks(&area, &tracks, &theme, pixels_per_point)
+        } else if id == profile_id {
+            draw_evolved_c_to_o(&area, &profile, &theme, pixels_per_point)
+        } else {
+            draw_radius_time_map(&area, &map, &theme, pixels_per_point)
+        };
+        drawn.map_err(|e| fail(e.to_string()))?;
+        area.present().map_err(|e| fail(e.to_string()))?;
+    }
+    Ok(())
+}

@@ -1,0 +1,136 @@
+// evolution.js: the page's evolving-disk panel (issue 13; docs/model.md section 12).
+// `cargo xtask dist` inlines it after web/planet.js in the same module scope: it uses
+// app.js's `$`, `state` (the current disk object), `nivalisModule` (the compiled core),
+// `download`, `slug`, `themeName` and `sizeCanvas`, and the glue's `drawEvolution`.
+// The run happens in its own Web Worker (the page's worker script with the handler
+// below in place of the views' one), which reports progress; Cancel terminates it.
+// The result is the JSON text of `nivalis evolve DISK --format json`, drawn per
+// snapshot (age slider, Play) into three canvases and downloadable as is.
+// Test hook: the panel's data-evo-state is "idle" | "running" | "ready" | "cancelled" | "failed".
+
+const evoPanel = $("evolution");
+let evoWorker = null;
+let evoText = null;
+let evoTimes = [];
+let evoPlaying = null;
+
+const EVOLUTION_WORKER_TAIL = `
+self.onmessage = (event) => {
+  const m = event.data;
+  try {
+    if (m.type === "init") {
+      wasm_bindgen.initSync({ module: m.module });
+      self.postMessage({ type: "ready" });
+    } else if (m.type === "evolve") {
+      let last = 0;
+      const out = wasm_bindgen.evolveDisk(m.disk, m.until, m.snapshots, (f) => {
+        const now = performance.now();
+        if (now - last > 40) { last = now; self.postMessage({ type: "progress", value: f }); }
+      });
+      self.postMessage({ type: "result", result: out });
+    }
+  } catch (error) {
+    self.postMessage({ type: "error", message: String(error && error.message ? error.message : error) });
+  }
+};`;
+
+function evoSetState(name, message = "") {
+  evoPanel.dataset.evoState = name;
+  $("evo-status").textContent = message;
+  const running = name === "running";
+  $("evo-run").disabled = running;
+  $("evo-cancel").disabled = !running;
+  $("evo-progress").hidden = !running;
+  const ready = evoText !== null;
+  for (const id of ["evo-age", "evo-play", "evo-export-json"]) $(id).disabled = running || !ready;
+}
+
+function evoStop() {
+  if (evoWorker) evoWorker.terminate();
+  evoWorker = null;
+}
+
+function evoRun() {
+  evoStop();
+  const until = Number($("evo-until").value);
+  const snapshots = Math.round(Number($("evo-snapshots").value));
+  if (!(until > 0 && until <= 20) || !(snapshots >= 2 && snapshots <= 500)) {
+    evoSetState("failed", "Until must be in (0, 20] Myr and the snapshots a whole number in [2, 500].");
+    return;
+  }
+  const source = $("worker-source").textContent + "\n" + EVOLUTION_WORKER_TAIL;
+  const url = URL.createObjectURL(new Blob([source], { type: "text/javascript" }));
+  evoWorker = new Worker(url);
+  URL.revokeObjectURL(url);
+  $("evo-progress").value = 0;
+  evoSetState("running", "Evolving…");
+  evoWorker.onmessage = (event) => {
+    const m = event.data;
+    if (m.type === "ready") {
+      evoWorker.postMessage({ type: "evolve", disk: prune(clone(state)), until, snapshots });
+    } else if (m.type === "progress") {
+      $("evo-progress").value = m.value;
+      $("evo-status").textContent = `Evolving… ${Math.round(100 * m.value)} %`;
+    } else if (m.type === "result") {
+      evoStop();
+      if (m.result.ok) {
+        evoText = m.result.text;
+        evoTimes = JSON.parse(evoText).times_myr;
+        const age = $("evo-age");
+        age.max = String(evoTimes.length - 1);
+        age.value = String(evoTimes.length - 1);
+        evoSetState("ready", `${evoTimes.length} snapshots from ${evoTimes[0]} to ${evoTimes[evoTimes.length - 1]} Myr.`);
+        evoDraw();
+      } else {
+        evoSetState("failed", m.result.problems.map((p) => `${p.path}: ${p.message}`).join("; "));
+      }
+    } else if (m.type === "error") {
+      evoStop();
+      evoSetState("failed", `The run failed: ${m.message}`);
+    }
+  };
+  evoWorker.onerror = (e) => { evoStop(); evoSetState("failed", `The run failed: ${e.message}`); };
+  evoWorker.postMessage({ type: "init", module: nivalisModule });
+}
+
+function evoDraw() {
+  if (evoText === null) return;
+  const k = Number($("evo-age").value);
+  const t = evoTimes[k];
+  $("evo-age-value").textContent = t === undefined ? "" : `${Number(t.toPrecision(3))} Myr`;
+  let ratio = 1;
+  for (const id of ["evo-tracks", "evo-profile", "evo-map"]) ratio = sizeCanvas($(id));
+  try {
+    drawEvolution(evoText, k, "evo-tracks", "evo-profile", "evo-map", themeName() === "dark", ratio * 96 / 72 * 1.2);
+  } catch (error) {
+    evoSetState("failed", `Cannot draw: ${error && error.message ? error.message : error}`);
+  }
+}
+
+function evoPlay() {
+  if (evoPlaying) {
+    clearInterval(evoPlaying);
+    evoPlaying = null;
+    $("evo-play").textContent = "Play";
+    return;
+  }
+  const age = $("evo-age");
+  if (Number(age.value) >= evoTimes.length - 1) age.value = "0";
+  $("evo-play").textContent = "Pause";
+  evoPlaying = setInterval(() => {
+    const next = Number(age.value) + 1;
+    if (next > evoTimes.length - 1) { evoPlay(); return; }
+    age.value = String(next);
+    evoDraw();
+  }, 400);
+}
+
+$("evo-run").addEventListener("click", evoRun);
+$("evo-cancel").addEventListener("click", () => { evoStop(); evoSetState("cancelled", "Cancelled."); });
+$("evo-age").addEventListener("input", evoDraw);
+$("evo-play").addEventListener("click", evoPlay);
+$("evo-export-json").addEventListener("click", () => {
+  if (evoText !== null) download(`${slug(state.name)}-evolution.json`, evoText, "application/json");
+});
+matchMedia("(prefers-color-scheme: dark)").addEventListener("change", evoDraw);
+evoSetState("idle");
