@@ -1111,10 +1111,18 @@ function cell(text, attrs = {}) {
 
 const sig = (x, n = 3) => (x == null ? "–" : Number(x.toPrecision(n)).toString());
 
+// The table's rows as last filled in (JSON): an edit that leaves them as they
+// were (the name, a field of no effect) does not rebuild the table.
+let shownTable = "";
+
 function fillSnowlineTable() {
+  const rows = explorer.snowlineTable();
+  const text = JSON.stringify(rows);
+  if (text === shownTable) return;
+  shownTable = text;
   const body = $("snowline-table").tBodies[0];
   body.replaceChildren();
-  for (const row of explorer.snowlineTable()) {
+  for (const row of rows) {
     const lines = row.snowlines.length ? row.snowlines : [null];
     lines.forEach((line, i) => {
       const tr = document.createElement("tr");
