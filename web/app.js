@@ -1006,9 +1006,12 @@ function findSlot(path) {
   return null;
 }
 
+// The system's colour scheme, asked once (a new query per drawn view cost time on every edit).
+const darkScheme = matchMedia("(prefers-color-scheme: dark)");
+
 function themeName() {
   if (theme !== "system") return theme;
-  return matchMedia("(prefers-color-scheme: dark)").matches ? "dark" : "light";
+  return darkScheme.matches ? "dark" : "light";
 }
 
 // Canvas sizes in CSS pixels, kept by a ResizeObserver: asking the layout

@@ -80,7 +80,7 @@ pub fn rerun(model: &mut Model, parameters: &ModelParameters) -> Result<Rerun, P
         Rerun::Ices => {
             let previous = model.parameters().ices.clone();
             model.set_ices(&parameters.ices);
-            if let Err(e) = check_finite(model) {
+            if let Err(e) = check_ices_finite(model) {
                 model.set_ices(&previous);
                 return Err(e);
             }
@@ -92,7 +92,7 @@ pub fn rerun(model: &mut Model, parameters: &ModelParameters) -> Result<Rerun, P
             if previous.ices != parameters.ices {
                 model.set_ices(&parameters.ices);
             }
-            if let Err(e) = check_finite(model) {
+            if let Err(e) = check_ices_finite(model) {
                 model.set_ices(&previous.ices);
                 // Restoring the composition that ran before cannot fail.
                 let _ = model.set_composition(&previous.composition);
@@ -101,6 +101,21 @@ pub fn rerun(model: &mut Model, parameters: &ModelParameters) -> Result<Rerun, P
         }
     }
     Ok(stages)
+}
+
+/// [`check_finite`] after a staged edit: the structure it checks is the one the
+/// model already passed with, so only the re-solved ice fractions are looked at
+/// (a pass over plain slices); on a non-finite value the full check names it.
+fn check_ices_finite(model: &Model) -> Result<(), PhysicsError> {
+    let ices = model.ices();
+    let all_finite = crate::species::Species::ALL
+        .iter()
+        .all(|&s| ices.ice_fraction(s).iter().all(|v| v.is_finite()));
+    if all_finite {
+        Ok(())
+    } else {
+        check_finite(model)
+    }
 }
 
 #[cfg(test)]

@@ -14,7 +14,7 @@
 
 use nivalis_charts::{
     draw_abundance_profiles, draw_c_to_o_map, draw_c_to_o_profile, draw_ice_map,
-    draw_temperature_profile, map_layout, rasterise_map, CellDrawing, ChartLayout, Theme,
+    draw_temperature_profile, map_layout, rasterise_map_over, CellDrawing, ChartLayout, Theme,
 };
 use std::cell::RefCell;
 use std::collections::HashMap;
@@ -74,22 +74,10 @@ pub fn record(
             let layout =
                 map_layout(&area, d, theme, pixels_per_point).map_err(|e| e.to_string())?;
             let main = layout.main();
-            let mut image =
-                rasterise_map(d, theme, main.width, main.height).map_err(|e| e.to_string())?;
-            // Pixels above a column's top are transparent; putImageData copies
-            // alpha rather than blending, so composite them over the background here.
-            for p in image.rgba.chunks_exact_mut(4) {
-                if p[3] != 255 {
-                    let c = nivalis_charts::Rgba {
-                        r: p[0],
-                        g: p[1],
-                        b: p[2],
-                        a: p[3],
-                    }
-                    .over(theme.background);
-                    p.copy_from_slice(&[c.r, c.g, c.b, 255]);
-                }
-            }
+            // Pixels above a column's top are composited over the background
+            // (putImageData copies alpha rather than blending).
+            let image = rasterise_map_over(d, theme, theme.background, main.width, main.height)
+                .map_err(|e| e.to_string())?;
             ops.borrow_mut().push(Op::Image {
                 at: (main.left, main.top),
                 width: image.width,
@@ -343,12 +331,15 @@ impl<'a> CanvasMeasure<'a> {
 
 impl MeasureText for CanvasMeasure<'_> {
     fn measure(&self, font: &str, size: f64, text: &str) -> (u32, u32) {
-        let key = (font.to_string(), text.to_string());
-        if let Some(size) = self.sizes.borrow().get(&key) {
+        if let Some(size) = self.sizes.borrow().get(font).and_then(|m| m.get(text)) {
             return *size;
         }
         let measured = measure_with(&self.context, font, size, text);
-        self.sizes.borrow_mut().insert(key, measured);
+        self.sizes
+            .borrow_mut()
+            .entry(font.to_string())
+            .or_default()
+            .insert(text.to_string(), measured);
         measured
     }
 }

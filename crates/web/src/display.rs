@@ -11,6 +11,7 @@
 //! so a replayed chart looks as the plotters-canvas back end drew it.
 
 use std::cell::RefCell;
+use std::collections::HashMap;
 
 use plotters_backend::text_anchor::{HPos, VPos};
 use plotters_backend::{
@@ -130,8 +131,9 @@ impl Op {
     }
 }
 
-/// Measured text sizes [px] by (CSS font, text), kept across draws.
-pub type TextSizes = RefCell<std::collections::HashMap<(String, String), (u32, u32)>>;
+/// Measured text sizes [px] by CSS font, then text, kept across draws (two
+/// levels, so a lookup borrows both strings and allocates nothing).
+pub type TextSizes = RefCell<HashMap<String, HashMap<String, (u32, u32)>>>;
 
 /// Text measuring for the recorder: width and height [px] of `text` in the CSS `font`
 /// of `size` px (the page asks the canvas; tests use a fixed rule).
