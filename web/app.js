@@ -512,9 +512,12 @@ const App = ((util, core, controls) => {
       + (unplaced.length ? unplaced.join(" · ") : `${problems.length} problem${problems.length > 1 ? "s" : ""}, shown beside the field${problems.length > 1 ? "s" : ""}.`);
   }
 
+  // The system's colour scheme, asked once (a new query per drawn view cost time on every edit).
+  const darkScheme = matchMedia("(prefers-color-scheme: dark)");
+
   function themeName() {
     if (theme !== "system") return theme;
-    return matchMedia("(prefers-color-scheme: dark)").matches ? "dark" : "light";
+    return darkScheme.matches ? "dark" : "light";
   }
 
   // Canvas sizes in CSS pixels, kept by a ResizeObserver: asking the layout
@@ -617,10 +620,18 @@ const App = ((util, core, controls) => {
 
   const sig = (x, n = 3) => (x == null ? "–" : Number(x.toPrecision(n)).toString());
 
+  // The table's rows as last filled in (JSON): an edit that leaves them as they
+  // were (the name, a field of no effect) does not rebuild the table.
+  let shownTable = "";
+
   function fillSnowlineTable() {
+    const rows = Core.explorer.snowlineTable();
+    const text = JSON.stringify(rows);
+    if (text === shownTable) return;
+    shownTable = text;
     const body = $("snowline-table").tBodies[0];
     body.replaceChildren();
-    for (const row of Core.explorer.snowlineTable()) {
+    for (const row of rows) {
       const lines = row.snowlines.length ? row.snowlines : [null];
       lines.forEach((line, i) => {
         const tr = document.createElement("tr");

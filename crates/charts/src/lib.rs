@@ -46,7 +46,7 @@ pub use data::{
 };
 pub use error::ChartError;
 pub use layout::{AxisTransform, ChartLayout, PanelLayout, Scale};
-pub use map::{rasterise_map, MapData, RasterImage};
+pub use map::{rasterise_map, rasterise_map_over, MapData, RasterImage};
 #[cfg(feature = "png")]
 pub use render::render_png;
 pub use render::{

@@ -385,20 +385,81 @@ pub fn rasterise_map(
     height: u32,
 ) -> Result<RasterImage, ChartError> {
     data.validate()?;
+    let colours = data.cell_colours(theme.undefined);
+    Ok(raster_from_colours(
+        data,
+        &colours,
+        [0, 0, 0, 0],
+        width,
+        height,
+    ))
+}
+
+/// Like [`rasterise_map`], with every pixel composited over the opaque
+/// `background` ([`Rgba::over`]): the same pixels as compositing the result of
+/// `rasterise_map` pixel by pixel, in one pass (the page puts this image on a
+/// canvas, which copies alpha rather than blending it).
+pub fn rasterise_map_over(
+    data: &MapData,
+    theme: &Theme,
+    background: Rgba,
+    width: u32,
+    height: u32,
+) -> Result<RasterImage, ChartError> {
+    data.validate()?;
+    let over = |c: [u8; 4]| {
+        if c[3] == 255 {
+            return c;
+        }
+        let o = Rgba {
+            r: c[0],
+            g: c[1],
+            b: c[2],
+            a: c[3],
+        }
+        .over(background);
+        [o.r, o.g, o.b, 255]
+    };
+    let colours: Vec<[u8; 4]> = data
+        .cell_colours(theme.undefined)
+        .into_iter()
+        .map(over)
+        .collect();
+    Ok(raster_from_colours(
+        data,
+        &colours,
+        over([0, 0, 0, 0]),
+        width,
+        height,
+    ))
+}
+
+/// The raster of cells of the given colours (one per sample), `empty` above a
+/// column's top. Per pixel column, the row pointer only moves up while the
+/// column's pixels are found, so the cost is O(width x (height + rows)); the
+/// pixels are then written row by row.
+fn raster_from_colours(
+    data: &MapData,
+    colours: &[[u8; 4]],
+    empty: [u8; 4],
+    width: u32,
+    height: u32,
+) -> RasterImage {
     let (w, h) = (width as usize, height as usize);
     let mut rgba = vec![0u8; w * h * 4];
     if w == 0 || h == 0 {
-        return Ok(RasterImage {
+        return RasterImage {
             width,
             height,
             rgba,
-        });
+        };
     }
-    let colours = data.cell_colours(theme.undefined);
     let edges = data.column_edges_log();
     let (lx0, lx1) = (edges[0], edges[edges.len() - 1]);
     let mut tops = Vec::with_capacity(data.rows);
-    let mut column_pixels = vec![[0u8; 4]; h];
+    // The distinct pixel columns (h pixels each, top row first) and which one each x shows.
+    let mut columns: Vec<[u8; 4]> = Vec::new();
+    let mut column_of_x = Vec::with_capacity(w);
     let mut last_column = usize::MAX;
     for i in 0..w {
         let lx = lx0 + (i as f64 + 0.5) / w as f64 * (lx1 - lx0);
@@ -407,30 +468,34 @@ pub fn rasterise_map(
             (edges[1..edges.len() - 1].partition_point(|&e| e <= lx)).min(data.radius_au.len() - 1);
         if j != last_column {
             let bottom = data.row_edges(j, &mut tops);
+            let start = columns.len();
+            columns.resize(start + h, empty);
             let mut k = 0;
             for p in (0..h).rev() {
                 let zr = data.z_over_r_max * (1.0 - (p as f64 + 0.5) / h as f64);
                 while k < data.rows && zr > tops[k] {
                     k += 1;
                 }
-                column_pixels[p] = if k >= data.rows || zr < bottom {
-                    [0, 0, 0, 0]
+                columns[start + p] = if k >= data.rows || zr < bottom {
+                    empty
                 } else {
                     colours[j * data.rows + k]
                 };
             }
             last_column = j;
         }
-        for (p, c) in column_pixels.iter().enumerate() {
-            let o = (p * w + i) * 4;
-            rgba[o..o + 4].copy_from_slice(c);
+        column_of_x.push(columns.len() - h);
+    }
+    for (p, row) in rgba.chunks_exact_mut(w * 4).enumerate() {
+        for (pixel, &start) in row.chunks_exact_mut(4).zip(&column_of_x) {
+            pixel.copy_from_slice(&columns[start + p]);
         }
     }
-    Ok(RasterImage {
+    RasterImage {
         width,
         height,
         rgba,
-    })
+    }
 }
 
 #[cfg(test)]
@@ -454,6 +519,26 @@ mod tests {
             curves: vec![],
             reference_value: None,
             z_over_r_max: 0.3,
+        }
+    }
+
+    #[test]
+    fn the_opaque_raster_is_the_raster_composited_pixel_by_pixel() {
+        let theme = Theme::dark();
+        let data = small_map();
+        for (w, h) in [(1, 1), (7, 5), (64, 33), (300, 120)] {
+            let plain = rasterise_map(&data, &theme, w, h).unwrap();
+            let opaque = rasterise_map_over(&data, &theme, theme.background, w, h).unwrap();
+            let composited: Vec<u8> = plain
+                .to_rgb_over(theme.background)
+                .chunks_exact(3)
+                .flat_map(|p| [p[0], p[1], p[2], 255])
+                .collect();
+            assert_eq!(opaque.rgba, composited, "{w} x {h}");
+            if h >= 5 {
+                let above = plain.rgba.chunks_exact(4).any(|p| p[3] == 0);
+                assert!(above, "{w} x {h}: no pixel above a column");
+            }
         }
     }
 

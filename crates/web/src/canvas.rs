@@ -1,8 +1,11 @@
-//! Drawing on the page's canvases: a `plotters-canvas` back end over the
-//! canvas found by id, the charts crate's `draw_*` functions on it, and for
-//! r-z maps the cells as ONE `putImageData` of the RGBA buffer the charts
-//! crate rasterised (per-cell canvas calls would be far too slow), with the
-//! axes, lines and colour bar drawn by plotters on top.
+//! Drawing on the page's canvases: the charts crate's `draw_*` functions are
+//! recorded into a display list ([`record`], `crate::display`), which the
+//! page compares with what the canvas already shows and otherwise replays in
+//! few canvas calls ([`replay`]). For r-z maps the cells are ONE
+//! `putImageData` of the RGBA buffer the charts crate rasterised (per-cell
+//! canvas calls would be far too slow), with the axes, lines and colour bar on
+//! top. The chi-square map still draws through the `plotters-canvas` back end
+//! ([`MeasuredCanvas`], with `crate::raster` for its cells).
 //!
 //! Text is measured with the canvas's own `measureText` ([`MeasuredCanvas`]):
 //! plotters' default for the web measures each label by adding a `<span>` to
@@ -11,7 +14,7 @@
 
 use nivalis_charts::{
     draw_abundance_profiles, draw_c_to_o_map, draw_c_to_o_profile, draw_ice_map,
-    draw_temperature_profile, map_layout, rasterise_map, CellDrawing, ChartLayout, Theme,
+    draw_temperature_profile, map_layout, rasterise_map_over, CellDrawing, ChartLayout, Theme,
 };
 use std::cell::RefCell;
 use std::collections::HashMap;
@@ -24,6 +27,7 @@ use plotters_canvas::CanvasBackend;
 use wasm_bindgen::{Clamped, JsCast};
 use web_sys::{CanvasRenderingContext2d, HtmlCanvasElement, ImageData};
 
+use crate::display::{css_font, run_length, Colour, MeasureText, Op, Recorder, TextSizes};
 use crate::readout::ViewData;
 
 /// The canvas element with this id.
@@ -48,15 +52,20 @@ fn context(canvas: &HtmlCanvasElement) -> Result<CanvasRenderingContext2d, Strin
         .ok_or_else(|| "the canvas has no 2d context".to_string())
 }
 
-/// Draws `data` on `canvas` (its backing-store size) and returns where it drew.
-pub fn draw(
-    canvas: &HtmlCanvasElement,
+/// Records what the chart of `data` draws on a canvas of `size` pixels (no
+/// canvas call except measuring text not measured before) and returns the
+/// display list with the chart's layout. A map's cells come first, as ONE image
+/// rasterised by the charts crate; its axes, lines and colour bar follow.
+pub fn record(
+    size: (u32, u32),
     data: &ViewData,
     theme: &Theme,
     pixels_per_point: f64,
-) -> Result<ChartLayout, String> {
-    let backend = MeasuredCanvas::new(canvas)?;
-    let area = backend.into_drawing_area();
+    measure: &dyn MeasureText,
+) -> Result<(Vec<Op>, ChartLayout), String> {
+    let ops = RefCell::new(Vec::new());
+    let recorder = Recorder::new(size, &ops, measure);
+    let area = recorder.into_drawing_area();
     let layout = match data {
         ViewData::Profile(d) => draw_c_to_o_profile(&area, d, theme, pixels_per_point),
         ViewData::Temperature(d) => draw_temperature_profile(&area, d, theme, pixels_per_point),
@@ -65,31 +74,16 @@ pub fn draw(
             let layout =
                 map_layout(&area, d, theme, pixels_per_point).map_err(|e| e.to_string())?;
             let main = layout.main();
-            let mut image =
-                rasterise_map(d, theme, main.width, main.height).map_err(|e| e.to_string())?;
-            // Pixels above a column's top are transparent; putImageData copies
-            // alpha rather than blending, so composite them over the background here.
-            for p in image.rgba.chunks_exact_mut(4) {
-                if p[3] != 255 {
-                    let c = nivalis_charts::Rgba {
-                        r: p[0],
-                        g: p[1],
-                        b: p[2],
-                        a: p[3],
-                    }
-                    .over(theme.background);
-                    p.copy_from_slice(&[c.r, c.g, c.b, 255]);
-                }
-            }
-            let pixels = ImageData::new_with_u8_clamped_array_and_sh(
-                Clamped(&image.rgba),
-                image.width,
-                image.height,
-            )
-            .map_err(|e| format!("cannot make the map image: {e:?}"))?;
-            context(canvas)?
-                .put_image_data(&pixels, f64::from(main.left), f64::from(main.top))
-                .map_err(|e| format!("cannot put the map image: {e:?}"))?;
+            // Pixels above a column's top are composited over the background
+            // (putImageData copies alpha rather than blending).
+            let image = rasterise_map_over(d, theme, theme.background, main.width, main.height)
+                .map_err(|e| e.to_string())?;
+            ops.borrow_mut().push(Op::Image {
+                at: (main.left, main.top),
+                width: image.width,
+                height: image.height,
+                rgba: image.rgba,
+            });
             if matches!(data, ViewData::CToOMap(_)) {
                 draw_c_to_o_map(&area, d, theme, pixels_per_point, CellDrawing::Omit)
             } else {
@@ -99,7 +93,281 @@ pub fn draw(
     }
     .map_err(|e| e.to_string())?;
     area.present().map_err(|e| e.to_string())?;
-    Ok(layout)
+    drop(area);
+    Ok((ops.into_inner(), layout))
+}
+
+/// The canvas's 2D context, for [`replay`].
+pub fn context_of(canvas: &HtmlCanvasElement) -> Result<CanvasRenderingContext2d, String> {
+    context(canvas)
+}
+
+/// The styles last set on a context, so each is set only when it changes.
+#[derive(Default)]
+struct Styles {
+    stroke: Option<Colour>,
+    fill: Option<Colour>,
+    width: Option<u32>,
+    font: Option<String>,
+    align: Option<&'static str>,
+    baseline: Option<&'static str>,
+}
+
+impl Styles {
+    fn stroke(&mut self, c: &CanvasRenderingContext2d, colour: Colour, width: u32) {
+        if self.stroke != Some(colour) {
+            c.set_stroke_style_str(&colour.css());
+            self.stroke = Some(colour);
+        }
+        if self.width != Some(width) {
+            c.set_line_width(f64::from(width));
+            self.width = Some(width);
+        }
+    }
+
+    fn fill(&mut self, c: &CanvasRenderingContext2d, colour: Colour) {
+        if self.fill != Some(colour) {
+            c.set_fill_style_str(&colour.css());
+            self.fill = Some(colour);
+        }
+    }
+}
+
+/// Draws a display list on the canvas in few calls: each run of strokes of one
+/// pen (a dashed series' dashes, the grid, the ticks) as one path stroked once,
+/// each run of markers as one path, styles set only when they change. An image
+/// (a map's cells) is put on `scratch`, a canvas of its own that is never shown,
+/// and drawn from there with one `drawImage`: a `putImageData` on the shown
+/// canvas would first make the browser rasterise everything still queued on it.
+/// The canvas is not cleared first: every chart paints its own background.
+pub fn replay(
+    context: &CanvasRenderingContext2d,
+    ops: &[Op],
+    scratch: &HtmlCanvasElement,
+) -> Result<(), String> {
+    let c = context;
+    let mut styles = Styles::default();
+    fn fail(what: &'static str) -> impl Fn(wasm_bindgen::JsValue) -> String {
+        move |e| format!("cannot draw {what}: {e:?}")
+    }
+    let mut i = 0;
+    while i < ops.len() {
+        let n = run_length(ops, i);
+        let run = &ops[i..i + n];
+        match &ops[i] {
+            Op::Stroke { colour, width, .. } => {
+                styles.stroke(c, *colour, *width);
+                c.begin_path();
+                for op in run {
+                    if let Op::Stroke { points, .. } = op {
+                        if let Some((first, rest)) = points.split_first() {
+                            c.move_to(first.0, first.1);
+                            for p in rest {
+                                c.line_to(p.0, p.1);
+                            }
+                        }
+                    }
+                }
+                c.stroke();
+            }
+            Op::StrokeRect {
+                colour,
+                width,
+                corners: [a, b],
+            } => {
+                styles.stroke(c, *colour, *width);
+                c.stroke_rect(
+                    f64::from(a.0),
+                    f64::from(a.1),
+                    f64::from(b.0 - a.0),
+                    f64::from(b.1 - a.1),
+                );
+            }
+            Op::FillRect {
+                colour,
+                corners: [a, b],
+            } => {
+                styles.fill(c, *colour);
+                c.fill_rect(
+                    f64::from(a.0),
+                    f64::from(a.1),
+                    f64::from(b.0 - a.0),
+                    f64::from(b.1 - a.1),
+                );
+            }
+            Op::FillPolygon { colour, .. } => {
+                styles.fill(c, *colour);
+                c.begin_path();
+                for op in run {
+                    if let Op::FillPolygon { points, .. } = op {
+                        if let Some((first, rest)) = points.split_first() {
+                            c.move_to(f64::from(first.0), f64::from(first.1));
+                            for p in rest {
+                                c.line_to(f64::from(p.0), f64::from(p.1));
+                            }
+                            c.close_path();
+                        }
+                    }
+                }
+                c.fill();
+            }
+            Op::Circle {
+                colour,
+                width,
+                fill,
+                ..
+            } => {
+                c.begin_path();
+                for op in run {
+                    if let Op::Circle { centre, radius, .. } = op {
+                        let (x, y, r) =
+                            (f64::from(centre.0), f64::from(centre.1), f64::from(*radius));
+                        c.move_to(x + r, y);
+                        c.arc(x, y, r, 0.0, std::f64::consts::TAU)
+                            .map_err(fail("a marker"))?;
+                    }
+                }
+                if *fill {
+                    styles.fill(c, *colour);
+                    c.fill();
+                } else {
+                    styles.stroke(c, *colour, *width);
+                    c.stroke();
+                }
+            }
+            Op::Text {
+                text,
+                font,
+                colour,
+                align,
+                baseline,
+                rotation,
+                at,
+            } => {
+                styles.fill(c, *colour);
+                if styles.font.as_deref() != Some(font.as_str()) {
+                    c.set_font(font);
+                    styles.font = Some(font.clone());
+                }
+                if styles.align != Some(*align) {
+                    c.set_text_align(align);
+                    styles.align = Some(*align);
+                }
+                if styles.baseline != Some(*baseline) {
+                    c.set_text_baseline(baseline);
+                    styles.baseline = Some(*baseline);
+                }
+                if *rotation == 0 {
+                    c.fill_text(text, f64::from(at.0), f64::from(at.1))
+                        .map_err(fail("a text"))?;
+                } else {
+                    // As plotters-canvas: rotate about the anchor. save/restore
+                    // keep the styles set above, so the cache stays true.
+                    c.save();
+                    c.translate(f64::from(at.0), f64::from(at.1))
+                        .map_err(fail("a text"))?;
+                    c.rotate(f64::from(*rotation).to_radians())
+                        .map_err(fail("a text"))?;
+                    let drawn = c.fill_text(text, 0.0, 0.0);
+                    c.restore();
+                    drawn.map_err(fail("a text"))?;
+                }
+            }
+            Op::Image {
+                at,
+                width,
+                height,
+                rgba,
+            } => {
+                let pixels =
+                    ImageData::new_with_u8_clamped_array_and_sh(Clamped(rgba), *width, *height)
+                        .map_err(fail("the map image"))?;
+                if scratch.width() != *width || scratch.height() != *height {
+                    scratch.set_width(*width);
+                    scratch.set_height(*height);
+                }
+                context_of(scratch)?
+                    .put_image_data(&pixels, 0.0, 0.0)
+                    .map_err(fail("the map image"))?;
+                c.draw_image_with_html_canvas_element(scratch, f64::from(at.0), f64::from(at.1))
+                    .map_err(fail("the map image"))?;
+            }
+        }
+        i += n;
+    }
+    Ok(())
+}
+
+/// A new canvas that is never shown, for [`replay`]'s images.
+pub fn scratch_canvas() -> Result<HtmlCanvasElement, String> {
+    web_sys::window()
+        .and_then(|w| w.document())
+        .ok_or("no document")?
+        .create_element("canvas")
+        .map_err(|e| format!("cannot make a canvas: {e:?}"))?
+        .dyn_into::<HtmlCanvasElement>()
+        .map_err(|_| "not a canvas".to_string())
+}
+
+/// Text measured with a canvas's `measureText`, remembered by (CSS font, text)
+/// across draws and canvases: the charts measure the same labels on every redraw.
+pub struct CanvasMeasure<'a> {
+    context: CanvasRenderingContext2d,
+    sizes: &'a TextSizes,
+}
+
+impl<'a> CanvasMeasure<'a> {
+    /// Measures on `canvas`'s context, remembering sizes in `sizes`.
+    pub fn new(
+        canvas: &HtmlCanvasElement,
+        sizes: &'a TextSizes,
+    ) -> Result<CanvasMeasure<'a>, String> {
+        Ok(CanvasMeasure {
+            context: context(canvas)?,
+            sizes,
+        })
+    }
+}
+
+impl MeasureText for CanvasMeasure<'_> {
+    fn measure(&self, font: &str, size: f64, text: &str) -> (u32, u32) {
+        if let Some(size) = self.sizes.borrow().get(font).and_then(|m| m.get(text)) {
+            return *size;
+        }
+        let measured = measure_with(&self.context, font, size, text);
+        self.sizes
+            .borrow_mut()
+            .entry(font.to_string())
+            .or_default()
+            .insert(text.to_string(), measured);
+        measured
+    }
+}
+
+/// Width from `measureText`; height from the font's ascent and descent (the
+/// line box plotters' own estimate reports), falling back to 1.2 em.
+fn measure_with(
+    context: &CanvasRenderingContext2d,
+    font: &str,
+    size: f64,
+    text: &str,
+) -> (u32, u32) {
+    context.set_font(font);
+    match context.measure_text(text) {
+        Ok(m) => {
+            let height = m.font_bounding_box_ascent() + m.font_bounding_box_descent();
+            let height = if height.is_finite() && height > 0.0 {
+                height
+            } else {
+                1.2 * size
+            };
+            (m.width().ceil().max(0.0) as u32, height.ceil() as u32)
+        }
+        Err(_) => (
+            (0.6 * size * text.chars().count() as f64) as u32,
+            (1.2 * size) as u32,
+        ),
+    }
 }
 
 /// The plotters-canvas back end with text measured by the canvas itself.
@@ -202,40 +470,18 @@ impl DrawingBackend for MeasuredCanvas {
         self.inner.draw_text(text, style, pos)
     }
 
-    /// Width from `measureText`; height from the font's ascent and descent
-    /// (the line box plotters' own estimate reports), falling back to 1.2 em.
+    /// Measured as [`CanvasMeasure`] does.
     fn estimate_text_size<S: BackendTextStyle>(
         &self,
         text: &str,
         style: &S,
     ) -> Result<(u32, u32), DrawingErrorKind<CanvasError>> {
         // The same font string plotters-canvas sets when it draws the text.
-        let font = format!(
-            "{} {}px {}",
-            style.style().as_str(),
-            style.size(),
-            style.family().as_str()
-        );
-        let key = (font, text.to_string());
+        let key = (css_font(style), text.to_string());
         if let Some(size) = self.sizes.borrow().get(&key) {
             return Ok(*size);
         }
-        self.context.set_font(&key.0);
-        let size = match self.context.measure_text(text) {
-            Ok(m) => {
-                let height = m.font_bounding_box_ascent() + m.font_bounding_box_descent();
-                let height = if height.is_finite() && height > 0.0 {
-                    height
-                } else {
-                    1.2 * style.size()
-                };
-                (m.width().ceil().max(0.0) as u32, height.ceil() as u32)
-            }
-            Err(_) => (
-                (0.6 * style.size() * text.chars().count() as f64) as u32,
-                (1.2 * style.size()) as u32,
-            ),
-        };
+        let size = measure_with(&self.context, &key.0, style.size(), text);
         self.sizes.borrow_mut().insert(key, size);
         Ok(size)
     }

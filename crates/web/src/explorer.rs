@@ -3,17 +3,19 @@
 //! [`crate::readout`]. Values cross as plain JS objects (serde-wasm-bindgen in
 //! its JSON-compatible mode), errors as `JsError` with the one-line message.
 
+use std::cell::RefCell;
 use std::collections::HashMap;
 
 use nivalis_charts::{AbundanceData, ChartLayout, MapData, ProfileData, TemperatureData, Theme};
 use nivalis_disk_files::{to_value, DiskFile, Problem};
-use nivalis_physics::Species;
+use nivalis_physics::{Rerun, Species};
 use serde::Serialize;
 use serde_json::{json, Value};
 use wasm_bindgen::prelude::*;
 use wasm_bindgen::JsCast;
 
 use crate::canvas;
+use crate::display::Op;
 use crate::readout::{readout, ViewData};
 use crate::session::{grid_too_large, species_info, Export, Session};
 use crate::transfer::{from_parts, to_parts, ViewParts};
@@ -69,6 +71,44 @@ pub struct Explorer {
     pub(crate) remote: Option<Remote>,
     /// The planet panel's placed planet and inverse map (see `planet_js`).
     pub(crate) planet: crate::planet::PlanetState,
+    /// Per canvas id: what it shows now, so an unchanged view is not drawn again.
+    drawn: HashMap<String, Drawn>,
+    /// Text sizes by (CSS font, text), measured once for all canvases and draws.
+    text_sizes: crate::display::TextSizes,
+    /// Per canvas id: how many times it was actually drawn (`drawCount`).
+    draw_counts: HashMap<String, u32>,
+    /// Per canvas id: the milliseconds of the last `draw`'s steps (`drawTimings`, for the benchmark).
+    draw_timings: HashMap<String, [f64; 3]>,
+    /// Per canvas id: a canvas never shown, which a map's cells are put on before one
+    /// `drawImage` onto the shown canvas (see `canvas::replay`).
+    scratch: HashMap<String, web_sys::HtmlCanvasElement>,
+}
+
+/// `performance.now()` [ms], or 0 where there is none.
+fn now_ms() -> f64 {
+    let global = js_sys::global();
+    js_sys::Reflect::get(&global, &JsValue::from_str("performance"))
+        .ok()
+        .and_then(|perf| {
+            let now = js_sys::Reflect::get(&perf, &JsValue::from_str("now")).ok()?;
+            now.dyn_ref::<js_sys::Function>()?
+                .call0(&perf)
+                .ok()?
+                .as_f64()
+        })
+        .unwrap_or(0.0)
+}
+
+/// What a canvas shows: the view's data and options it was drawn from, its
+/// display list and its layout.
+pub(crate) struct Drawn {
+    key: String,
+    data: ViewData,
+    theme: Theme,
+    pixels_per_point: f64,
+    size: (u32, u32),
+    ops: Vec<Op>,
+    layout: ChartLayout,
 }
 
 impl Default for Explorer {
@@ -88,6 +128,11 @@ impl Explorer {
             layouts: HashMap::new(),
             remote: None,
             planet: Default::default(),
+            drawn: HashMap::new(),
+            text_sizes: RefCell::new(HashMap::new()),
+            draw_counts: HashMap::new(),
+            draw_timings: HashMap::new(),
+            scratch: HashMap::new(),
         }
     }
 
@@ -151,13 +196,30 @@ impl Explorer {
         self.outcome(result)
     }
 
-    fn outcome(&mut self, result: Result<(), Vec<Problem>>) -> JsValue {
+    fn outcome(&mut self, result: Result<Rerun, Vec<Problem>>) -> JsValue {
         match result {
-            Ok(()) => {
-                self.data.clear();
-                self.layouts.clear();
+            Ok(stages) => {
+                // Only the views whose inputs changed are rebuilt (and so redrawn):
+                // the temperature view reads only the structure. After a worker
+                // result the session's model is not what the views show: rebuild all.
+                let keep: &[&str] = match stages {
+                    _ if self.remote.is_some() => &[],
+                    Rerun::Nothing => &["c_to_o", "temperature", "abundances", "c_to_o_map"],
+                    Rerun::Ices | Rerun::Composition => &["temperature"],
+                    Rerun::Everything => &[],
+                };
+                let keep_key = |key: &str| {
+                    keep.contains(&key)
+                        || (stages == Rerun::Nothing
+                            && self.remote.is_none()
+                            && key.starts_with("ice_map:"))
+                };
+                self.data.retain(|key, _| keep_key(key));
+                self.layouts.retain(|_, (key, _)| keep_key(key));
                 self.remote = None;
-                to_js(&json!({"ok": true, "problems": [], "summary": self.session.summary()}))
+                to_js(
+                    &json!({"ok": true, "problems": [], "summary": self.session.summary(), "recomputed": stages.key()}),
+                )
             }
             Err(problems) => to_js(
                 &json!({"ok": false, "problems": problems_js(&problems), "summary": self.session.summary()}),
@@ -203,7 +265,12 @@ impl Explorer {
     /// Draws a view into the canvas with id `canvas_id` at its current backing size.
     /// `view`: `c_to_o`, `temperature`, `ice_map`, `c_to_o_map`, `abundances`.
     /// `options`: `{theme: "light"|"dark", species: "CO" (ice_map), pixelRatio: devicePixelRatio}`.
-    pub fn draw(&mut self, view: &str, canvas_id: &str, options: JsValue) -> Result<(), JsError> {
+    ///
+    /// Only what changed is drawn: a view whose data, options and canvas size are
+    /// those it was last drawn with is left as it is, and so is one whose display
+    /// list comes out the same; otherwise the list is replayed in few canvas calls
+    /// (`canvas::replay`). Returns whether the canvas was drawn.
+    pub fn draw(&mut self, view: &str, canvas_id: &str, options: JsValue) -> Result<bool, JsError> {
         let get = |key: &str| js_sys::Reflect::get(&options, &JsValue::from_str(key)).ok();
         let theme = match get("theme").and_then(|v| v.as_string()).as_deref() {
             Some("dark") => Theme::dark(),
@@ -214,12 +281,78 @@ impl Explorer {
             .filter(|r| r.is_finite() && *r > 0.0)
             .unwrap_or(1.0);
         let key = view_key(view, get("species").and_then(|v| v.as_string()).as_deref())?;
-        let data = self.view_data(&key)?;
+        let t0 = now_ms();
+        self.view_data(&key)?;
+        // Invariant: built just above.
+        let data = self.data.get(&key).expect("view data present");
         let canvas = canvas::canvas_by_id(canvas_id).map_err(|e| JsError::new(&e))?;
-        let layout = canvas::draw(&canvas, data, &theme, CSS_PX_PER_POINT * ratio)
+        let size = (canvas.width(), canvas.height());
+        let pixels_per_point = CSS_PX_PER_POINT * ratio;
+        let previous = self
+            .drawn
+            .get(canvas_id)
+            .filter(|d| d.key == key && d.size == size);
+        let same_options =
+            previous.is_some_and(|d| d.theme == theme && d.pixels_per_point == pixels_per_point);
+        if same_options && previous.is_some_and(|d| d.data == *data) {
+            let layout = previous.map(|d| d.layout.clone()).expect("checked above");
+            self.layouts.insert(canvas_id.to_string(), (key, layout));
+            self.draw_timings
+                .insert(canvas_id.to_string(), [now_ms() - t0, 0.0, 0.0]);
+            return Ok(false);
+        }
+        let t1 = now_ms();
+        let measure =
+            canvas::CanvasMeasure::new(&canvas, &self.text_sizes).map_err(|e| JsError::new(&e))?;
+        let (ops, layout) = canvas::record(size, data, &theme, pixels_per_point, &measure)
             .map_err(|e| JsError::new(&e))?;
-        self.layouts.insert(canvas_id.to_string(), (key, layout));
-        Ok(())
+        let unchanged = previous.is_some_and(|d| d.ops == ops);
+        let t2 = now_ms();
+        if !unchanged {
+            let context = canvas::context_of(&canvas).map_err(|e| JsError::new(&e))?;
+            if !self.scratch.contains_key(canvas_id) {
+                let scratch = canvas::scratch_canvas().map_err(|e| JsError::new(&e))?;
+                self.scratch.insert(canvas_id.to_string(), scratch);
+            }
+            // Invariant: inserted just above when missing.
+            let scratch = &self.scratch[canvas_id];
+            canvas::replay(&context, &ops, scratch).map_err(|e| JsError::new(&e))?;
+            *self.draw_counts.entry(canvas_id.to_string()).or_default() += 1;
+        }
+        self.draw_timings
+            .insert(canvas_id.to_string(), [t1 - t0, t2 - t1, now_ms() - t2]);
+        self.layouts
+            .insert(canvas_id.to_string(), (key.clone(), layout.clone()));
+        self.drawn.insert(
+            canvas_id.to_string(),
+            Drawn {
+                key,
+                data: data.clone(),
+                theme,
+                pixels_per_point,
+                size,
+                ops,
+                layout,
+            },
+        );
+        Ok(!unchanged)
+    }
+
+    /// How many times the canvas with id `canvas_id` was actually drawn by `draw`
+    /// (a view left as it was does not count), for the browser tests.
+    #[wasm_bindgen(js_name = drawCount)]
+    pub fn draw_count(&self, canvas_id: &str) -> u32 {
+        self.draw_counts.get(canvas_id).copied().unwrap_or(0)
+    }
+
+    /// The last `draw` of the canvas `canvas_id`, in milliseconds, for the benchmark:
+    /// `[data, record, replay]` = building the view's data (and comparing it with what
+    /// the canvas shows), recording the chart's display list, drawing it on the canvas.
+    #[wasm_bindgen(js_name = drawTimings)]
+    pub fn draw_timings(&self, canvas_id: &str) -> Vec<f64> {
+        self.draw_timings
+            .get(canvas_id)
+            .map_or_else(Vec::new, |t| t.to_vec())
     }
 
     /// The value under backend pixel (`x`, `y`) of a drawn canvas, as one line;

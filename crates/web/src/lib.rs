@@ -21,6 +21,7 @@
 //! JavaScript names are camelCase (`updateFromText`, `snowlineTable`, ...);
 //! DEVELOPERS.md lists the mapping.
 
+pub mod display;
 pub mod figures;
 pub mod planet;
 pub mod readout;

@@ -6,6 +6,7 @@
 use nivalis_charts::{AbundanceData, ChartLayout, MapData, ProfileData, TemperatureData};
 
 /// The views' input data, built once per model and shared by drawing and readouts.
+#[derive(Debug, Clone, PartialEq)]
 pub enum ViewData {
     /// (a) C/O profile.
     Profile(ProfileData),

@@ -15,7 +15,7 @@ use nivalis_exports::{model_table, structure_table, to_csv, to_ecsv, to_json, Pr
 use nivalis_physics::species::SpeciesTable;
 use nivalis_physics::structure::interpolate_in_ln_r;
 use nivalis_physics::units::AU_CM;
-use nivalis_physics::{BindingEnergySet, Model, PhysicsError, Species};
+use nivalis_physics::{rerun, BindingEnergySet, Model, PhysicsError, Rerun, Species};
 use serde_json::{json, Value};
 
 /// A validated disk with its computed model.
@@ -86,16 +86,33 @@ impl Session {
     /// Validates a disk (as a JSON value, exactly what the CLI reads from a
     /// file) and runs the model. On success the result replaces the current
     /// one; on failure every problem is returned and the current result stays.
-    pub fn update(&mut self, disk: &Value) -> Result<(), Vec<Problem>> {
+    ///
+    /// Only what the edit changes is recomputed ([`nivalis_physics::rerun`]):
+    /// an edit of the ice parameters re-solves only the ice balance, one of the
+    /// composition keeps the structure, an edit of the name or notes computes
+    /// nothing; the result equals a fresh `Model::run` bit for bit. Returns
+    /// what was re-run, so the page redraws only the views that depend on it.
+    pub fn update(&mut self, disk: &Value) -> Result<Rerun, Vec<Problem>> {
         let file = from_value(disk).map_err(|problems| problems.0)?;
-        let model = Model::run(&file.parameters).map_err(|e| vec![physics_problem(&e)])?;
-        self.current = Some(Current { file, model });
-        Ok(())
+        match self.current.as_mut() {
+            Some(current) => {
+                // On an error the model is left as it was (the last valid result stays).
+                let stages = rerun(&mut current.model, &file.parameters)
+                    .map_err(|e| vec![physics_problem(&e)])?;
+                current.file = file;
+                Ok(stages)
+            }
+            None => {
+                let model = Model::run(&file.parameters).map_err(|e| vec![physics_problem(&e)])?;
+                self.current = Some(Current { file, model });
+                Ok(Rerun::Everything)
+            }
+        }
     }
 
     /// Like [`Session::update`] for disk-file text, parsed by the same JSON
     /// reader as the CLI (so an opened file gives the CLI's numbers to the bit).
-    pub fn update_from_text(&mut self, text: &str) -> Result<(), Vec<Problem>> {
+    pub fn update_from_text(&mut self, text: &str) -> Result<Rerun, Vec<Problem>> {
         // The CLI's own text layer: size and depth limits, byte order mark, duplicate keys.
         let value = nivalis_disk_files::parse_json_text(text).map_err(|p| p.0)?;
         self.update(&value)
@@ -287,6 +304,38 @@ mod tests {
             "star.luminosity_lsun: must be in [1e-5, 10000000], got -1"
         );
         assert_eq!(s.export(Export::ProfileCsv).unwrap(), before);
+    }
+
+    #[test]
+    fn an_edit_recomputes_only_its_stages_with_a_fresh_run_s_exports() {
+        let mut s = Session::new();
+        assert_eq!(s.update(&json!({})).unwrap(), Rerun::Everything);
+        assert_eq!(
+            s.update(&json!({"name": "renamed"})).unwrap(),
+            Rerun::Nothing
+        );
+        let edits = [
+            (json!({"ices": {"sticking": 0.5}}), Rerun::Ices),
+            (
+                json!({"ices": {"sticking": 0.5}, "composition": {"sulfur": {"H2S": 0.2, "refractory": 0.8}}}),
+                Rerun::Composition,
+            ),
+            (json!({"star": {"luminosity_lsun": 2}}), Rerun::Everything),
+        ];
+        for (disk, stages) in edits {
+            assert_eq!(s.update(&disk).unwrap(), stages, "{disk}");
+            let mut fresh = Session::new();
+            fresh.update(&disk).unwrap();
+            assert_eq!(s.current().unwrap().model, fresh.current().unwrap().model);
+            for what in [
+                Export::ProfileCsv,
+                Export::StructureCsv,
+                Export::SnowlinesJson,
+                Export::DiskFile,
+            ] {
+                assert_eq!(s.export(what), fresh.export(what), "{disk} {what:?}");
+            }
+        }
     }
 
     #[test]

@@ -1,0 +1,545 @@
+//! A display list: a plotters back end that records what a chart draws as a
+//! list of [`Op`]s instead of drawing it. The page records a view, compares the
+//! list with the one already on that canvas (an unchanged view is not drawn
+//! again) and otherwise replays it on the canvas in few calls (`canvas::replay`:
+//! consecutive strokes of one pen as one path, style changes only when the
+//! style changes). Plain Rust, so it is tested natively; the figures (SVG, PNG)
+//! never pass through here.
+//!
+//! Coordinates are the canvas back end's: integer pixels, with plotters-canvas's
+//! half-pixel shift of horizontal and vertical `draw_line`s applied when recording,
+//! so a replayed chart looks as the plotters-canvas back end drew it.
+
+use std::cell::RefCell;
+use std::collections::HashMap;
+
+use plotters_backend::text_anchor::{HPos, VPos};
+use plotters_backend::{
+    BackendColor, BackendCoord, BackendStyle, BackendTextStyle, DrawingBackend, DrawingErrorKind,
+    FontTransform,
+};
+
+/// A colour with straight alpha in [0, 1], as plotters hands it over.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Colour {
+    /// Red, green, blue.
+    pub rgb: (u8, u8, u8),
+    /// Opacity.
+    pub alpha: f64,
+}
+
+impl Colour {
+    fn of(c: BackendColor) -> Colour {
+        Colour {
+            rgb: c.rgb,
+            alpha: c.alpha,
+        }
+    }
+
+    /// The CSS colour text plotters-canvas sets (`rgba(r,g,b,a)`).
+    pub fn css(&self) -> String {
+        let (r, g, b) = self.rgb;
+        format!("rgba({},{},{},{})", r, g, b, self.alpha)
+    }
+}
+
+/// One drawing operation, in canvas pixels.
+#[derive(Debug, Clone, PartialEq)]
+pub enum Op {
+    /// An open polyline stroked `width` px wide.
+    Stroke {
+        /// Colour.
+        colour: Colour,
+        /// Line width [px].
+        width: u32,
+        /// Vertices.
+        points: Vec<(f64, f64)>,
+    },
+    /// A rectangle's outline.
+    StrokeRect {
+        /// Colour.
+        colour: Colour,
+        /// Line width [px].
+        width: u32,
+        /// Upper left and lower right corners.
+        corners: [(i32, i32); 2],
+    },
+    /// A filled rectangle.
+    FillRect {
+        /// Colour.
+        colour: Colour,
+        /// Upper left and lower right corners.
+        corners: [(i32, i32); 2],
+    },
+    /// A filled closed polygon.
+    FillPolygon {
+        /// Colour.
+        colour: Colour,
+        /// Vertices.
+        points: Vec<(i32, i32)>,
+    },
+    /// A circle, filled or stroked `width` px wide.
+    Circle {
+        /// Colour.
+        colour: Colour,
+        /// Line width [px] (stroked circles).
+        width: u32,
+        /// Filled rather than stroked.
+        fill: bool,
+        /// Centre.
+        centre: (i32, i32),
+        /// Radius [px].
+        radius: u32,
+    },
+    /// A text.
+    Text {
+        /// The text.
+        text: String,
+        /// CSS font (`style size px family`), as plotters-canvas sets it.
+        font: String,
+        /// Colour.
+        colour: Colour,
+        /// CSS `textAlign`.
+        align: &'static str,
+        /// CSS `textBaseline`.
+        baseline: &'static str,
+        /// Clockwise rotation [degrees]: 0, 90, 180 or 270.
+        rotation: u16,
+        /// Anchor.
+        at: (i32, i32),
+    },
+    /// RGBA pixels put on the canvas as they are (`putImageData`).
+    Image {
+        /// Upper left corner.
+        at: (i32, i32),
+        /// Width [px].
+        width: u32,
+        /// Height [px].
+        height: u32,
+        /// Row-major RGBA, `width x height x 4` bytes.
+        rgba: Vec<u8>,
+    },
+}
+
+impl Op {
+    /// The pen of a stroke (colour, width); `None` for other operations.
+    pub fn stroke_pen(&self) -> Option<(Colour, u32)> {
+        match self {
+            Op::Stroke { colour, width, .. } => Some((*colour, *width)),
+            _ => None,
+        }
+    }
+}
+
+/// Measured text sizes [px] by CSS font, then text, kept across draws (two
+/// levels, so a lookup borrows both strings and allocates nothing).
+pub type TextSizes = RefCell<HashMap<String, HashMap<String, (u32, u32)>>>;
+
+/// Text measuring for the recorder: width and height [px] of `text` in the CSS `font`
+/// of `size` px (the page asks the canvas; tests use a fixed rule).
+pub trait MeasureText {
+    /// The text's size [px].
+    fn measure(&self, font: &str, size: f64, text: &str) -> (u32, u32);
+}
+
+/// The error type of the recorder (recording cannot fail).
+#[derive(Debug)]
+pub struct RecordError;
+
+impl std::fmt::Display for RecordError {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        f.write_str("recording failed")
+    }
+}
+
+impl std::error::Error for RecordError {}
+
+/// The recording back end: a canvas of `size` whose operations land in `ops`.
+pub struct Recorder<'a> {
+    size: (u32, u32),
+    ops: &'a RefCell<Vec<Op>>,
+    measure: &'a dyn MeasureText,
+}
+
+impl<'a> Recorder<'a> {
+    /// A recorder for a canvas of `size` pixels.
+    pub fn new(size: (u32, u32), ops: &'a RefCell<Vec<Op>>, measure: &'a dyn MeasureText) -> Self {
+        Recorder { size, ops, measure }
+    }
+
+    /// Appends an operation drawn before the chart's (a map's cells).
+    pub fn push(&self, op: Op) {
+        self.ops.borrow_mut().push(op);
+    }
+}
+
+type Result2 = Result<(), DrawingErrorKind<RecordError>>;
+
+/// The CSS font plotters-canvas sets for a text style.
+pub fn css_font<S: BackendTextStyle>(style: &S) -> String {
+    format!(
+        "{} {}px {}",
+        style.style().as_str(),
+        style.size(),
+        style.family().as_str()
+    )
+}
+
+/// plotters-canvas's shift of horizontal and vertical lines to pixel centres.
+fn fine_line(from: BackendCoord, to: BackendCoord) -> [(f64, f64); 2] {
+    let mut a = (f64::from(from.0), f64::from(from.1));
+    let mut b = (f64::from(to.0), f64::from(to.1));
+    if a.0 == b.0 {
+        a.0 -= 0.5;
+        b.0 -= 0.5;
+    }
+    if a.1 == b.1 {
+        a.1 -= 0.5;
+        b.1 -= 0.5;
+    }
+    [a, b]
+}
+
+impl DrawingBackend for Recorder<'_> {
+    type ErrorType = RecordError;
+
+    fn get_size(&self) -> (u32, u32) {
+        self.size
+    }
+
+    fn ensure_prepared(&mut self) -> Result2 {
+        Ok(())
+    }
+
+    fn present(&mut self) -> Result2 {
+        Ok(())
+    }
+
+    fn draw_pixel(&mut self, point: BackendCoord, color: BackendColor) -> Result2 {
+        if color.alpha > 0.0 {
+            self.push(Op::FillRect {
+                colour: Colour::of(color),
+                corners: [point, (point.0 + 1, point.1 + 1)],
+            });
+        }
+        Ok(())
+    }
+
+    fn draw_line<S: BackendStyle>(
+        &mut self,
+        from: BackendCoord,
+        to: BackendCoord,
+        style: &S,
+    ) -> Result2 {
+        if style.color().alpha > 0.0 {
+            self.push(Op::Stroke {
+                colour: Colour::of(style.color()),
+                width: style.stroke_width(),
+                points: fine_line(from, to).to_vec(),
+            });
+        }
+        Ok(())
+    }
+
+    fn draw_rect<S: BackendStyle>(
+        &mut self,
+        upper_left: BackendCoord,
+        bottom_right: BackendCoord,
+        style: &S,
+        fill: bool,
+    ) -> Result2 {
+        if style.color().alpha > 0.0 {
+            let colour = Colour::of(style.color());
+            let corners = [upper_left, bottom_right];
+            self.push(if fill {
+                Op::FillRect { colour, corners }
+            } else {
+                Op::StrokeRect {
+                    colour,
+                    width: style.stroke_width(),
+                    corners,
+                }
+            });
+        }
+        Ok(())
+    }
+
+    fn draw_path<S: BackendStyle, I: IntoIterator<Item = BackendCoord>>(
+        &mut self,
+        path: I,
+        style: &S,
+    ) -> Result2 {
+        if style.color().alpha > 0.0 {
+            let points: Vec<(f64, f64)> = path
+                .into_iter()
+                .map(|p| (f64::from(p.0), f64::from(p.1)))
+                .collect();
+            if !points.is_empty() {
+                self.push(Op::Stroke {
+                    colour: Colour::of(style.color()),
+                    width: style.stroke_width(),
+                    points,
+                });
+            }
+        }
+        Ok(())
+    }
+
+    fn draw_circle<S: BackendStyle>(
+        &mut self,
+        center: BackendCoord,
+        radius: u32,
+        style: &S,
+        fill: bool,
+    ) -> Result2 {
+        if style.color().alpha > 0.0 {
+            self.push(Op::Circle {
+                colour: Colour::of(style.color()),
+                width: style.stroke_width(),
+                fill,
+                centre: center,
+                radius,
+            });
+        }
+        Ok(())
+    }
+
+    fn fill_polygon<S: BackendStyle, I: IntoIterator<Item = BackendCoord>>(
+        &mut self,
+        vert: I,
+        style: &S,
+    ) -> Result2 {
+        if style.color().alpha > 0.0 {
+            let points: Vec<(i32, i32)> = vert.into_iter().collect();
+            if !points.is_empty() {
+                self.push(Op::FillPolygon {
+                    colour: Colour::of(style.color()),
+                    points,
+                });
+            }
+        }
+        Ok(())
+    }
+
+    fn draw_text<S: BackendTextStyle>(
+        &mut self,
+        text: &str,
+        style: &S,
+        pos: BackendCoord,
+    ) -> Result2 {
+        let colour = style.color();
+        if colour.alpha == 0.0 {
+            return Ok(());
+        }
+        let rotation = match style.transform() {
+            FontTransform::None => 0,
+            FontTransform::Rotate90 => 90,
+            FontTransform::Rotate180 => 180,
+            FontTransform::Rotate270 => 270,
+        };
+        let anchor = style.anchor();
+        self.push(Op::Text {
+            text: text.to_string(),
+            font: css_font(style),
+            colour: Colour::of(colour),
+            align: match anchor.h_pos {
+                HPos::Left => "start",
+                HPos::Right => "end",
+                HPos::Center => "center",
+            },
+            baseline: match anchor.v_pos {
+                VPos::Top => "top",
+                VPos::Center => "middle",
+                VPos::Bottom => "bottom",
+            },
+            rotation,
+            at: pos,
+        });
+        Ok(())
+    }
+
+    fn estimate_text_size<S: BackendTextStyle>(
+        &self,
+        text: &str,
+        style: &S,
+    ) -> Result<(u32, u32), DrawingErrorKind<RecordError>> {
+        Ok(self.measure.measure(&css_font(style), style.size(), text))
+    }
+
+    fn blit_bitmap(&mut self, pos: BackendCoord, size: (u32, u32), src: &[u8]) -> Result2 {
+        // plotters hands RGB rows; the canvas wants RGBA.
+        let rgba = src
+            .chunks_exact(3)
+            .flat_map(|p| [p[0], p[1], p[2], 255])
+            .collect();
+        self.push(Op::Image {
+            at: pos,
+            width: size.0,
+            height: size.1,
+            rgba,
+        });
+        Ok(())
+    }
+}
+
+/// The length of the run of operations from `start` that can be drawn as one
+/// canvas call: strokes of one pen, filled circles (or stroked ones of one pen),
+/// or filled polygons of one colour. Other operations are runs of one.
+pub fn run_length(ops: &[Op], start: usize) -> usize {
+    let Some(first) = ops.get(start) else {
+        return 0;
+    };
+    let same = |other: &Op| match (first, other) {
+        (
+            Op::Stroke {
+                colour: a,
+                width: w,
+                ..
+            },
+            Op::Stroke {
+                colour: b,
+                width: v,
+                ..
+            },
+        ) => a == b && w == v,
+        (
+            Op::Circle {
+                colour: a,
+                width: w,
+                fill: f,
+                ..
+            },
+            Op::Circle {
+                colour: b,
+                width: v,
+                fill: g,
+                ..
+            },
+        ) => a == b && f == g && (*f || w == v),
+        (Op::FillPolygon { colour: a, .. }, Op::FillPolygon { colour: b, .. }) => a == b,
+        _ => false,
+    };
+    1 + ops[start + 1..].iter().take_while(|op| same(op)).count()
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use nivalis_charts::{
+        draw_abundance_profiles, draw_c_to_o_profile, draw_temperature_profile, AbundanceData,
+        ProfileData, TemperatureData, Theme,
+    };
+    use nivalis_physics::{Model, ModelParameters};
+    use plotters::prelude::IntoDrawingArea;
+
+    /// 0.6 em per character, 1.2 em high (a fixed rule for tests).
+    struct Fixed;
+    impl MeasureText for Fixed {
+        fn measure(&self, _font: &str, size: f64, text: &str) -> (u32, u32) {
+            (
+                (0.6 * size * text.chars().count() as f64) as u32,
+                (1.2 * size) as u32,
+            )
+        }
+    }
+
+    fn record<F>(draw: F) -> Vec<Op>
+    where
+        F: FnOnce(&plotters::drawing::DrawingArea<Recorder<'_>, plotters::coord::Shift>),
+    {
+        let ops = RefCell::new(Vec::new());
+        let area = Recorder::new((900, 500), &ops, &Fixed).into_drawing_area();
+        draw(&area);
+        drop(area);
+        ops.into_inner()
+    }
+
+    #[test]
+    fn the_same_data_records_the_same_list_and_an_edit_changes_it() {
+        let mut p = ModelParameters::defaults();
+        p.grid.radial_cells = 60;
+        p.grid.vertical_cells = 20;
+        let model = Model::run(&p).unwrap();
+        let theme = Theme::light();
+        let profile = ProfileData::from_model(&model);
+        let a = record(|area| {
+            draw_c_to_o_profile(area, &profile, &theme, 1.6).unwrap();
+        });
+        let b = record(|area| {
+            draw_c_to_o_profile(area, &profile, &theme, 1.6).unwrap();
+        });
+        assert!(a.len() > 20, "{} operations", a.len());
+        assert_eq!(a, b);
+        let mut ices = p.ices.clone();
+        ices.sticking = 0.3;
+        ices.photodesorption = false;
+        let edited = model.with_ices(&ices);
+        let c = record(|area| {
+            draw_c_to_o_profile(area, &ProfileData::from_model(&edited), &theme, 1.6).unwrap();
+        });
+        assert_ne!(a, c);
+        // The temperature view does not depend on the ice parameters: same list.
+        let t = |m: &Model| {
+            let data = TemperatureData::from_model(m);
+            record(|area| {
+                draw_temperature_profile(area, &data, &theme, 1.6).unwrap();
+            })
+        };
+        assert_eq!(t(&model), t(&edited));
+    }
+
+    #[test]
+    fn dashed_series_collapse_into_few_runs() {
+        let mut p = ModelParameters::defaults();
+        p.grid.radial_cells = 60;
+        p.grid.vertical_cells = 20;
+        let model = Model::run(&p).unwrap();
+        let data = AbundanceData::from_model(&model);
+        let ops = record(|area| {
+            draw_abundance_profiles(area, &data, &Theme::light(), 1.6).unwrap();
+        });
+        let strokes = ops.iter().filter(|o| o.stroke_pen().is_some()).count();
+        let mut runs = 0;
+        let mut i = 0;
+        while i < ops.len() {
+            if ops[i].stroke_pen().is_some() {
+                runs += 1;
+            }
+            i += run_length(&ops, i);
+        }
+        assert!(
+            runs * 3 < strokes,
+            "{runs} stroke calls for {strokes} strokes"
+        );
+    }
+
+    #[test]
+    fn runs_join_strokes_of_one_pen_only() {
+        let red = Colour {
+            rgb: (255, 0, 0),
+            alpha: 1.0,
+        };
+        let stroke = |width, points: Vec<(f64, f64)>| Op::Stroke {
+            colour: red,
+            width,
+            points,
+        };
+        let ops = vec![
+            stroke(1, vec![(0.0, 0.5), (10.0, 0.5)]),
+            stroke(1, vec![(1.0, 2.0), (3.0, 4.0), (5.0, 6.0)]),
+            stroke(2, vec![(1.0, 2.0), (3.0, 4.0)]),
+            Op::FillRect {
+                colour: red,
+                corners: [(0, 0), (1, 1)],
+            },
+            stroke(2, vec![(1.0, 2.0), (3.0, 4.0)]),
+        ];
+        assert_eq!(run_length(&ops, 0), 2);
+        assert_eq!(run_length(&ops, 2), 1);
+        assert_eq!(run_length(&ops, 3), 1);
+        assert_eq!(run_length(&ops, 4), 1);
+        assert_eq!(run_length(&ops, 5), 0);
+        assert_eq!(red.css(), "rgba(255,0,0,1)");
+        assert_eq!(fine_line((5, 0), (5, 10)), [(4.5, 0.0), (4.5, 10.0)]);
+    }
+}

@@ -1,0 +1,107 @@
+// redraw.test.mjs: an edit recomputes and redraws only what it changes (issue 9
+// item 7), and the results of the staged path are the CLI's to the byte.
+//
+// The page's update re-runs only the stages an edit touches
+// (nivalis_physics::rerun: an ice-parameter edit re-solves the ice balance and
+// keeps the structure, a name edit computes nothing) and reports it as
+// `recomputed`; a view whose data did not change is not drawn again
+// (Explorer.draw compares the data and the display list with what the canvas
+// shows; Explorer.drawCount counts the canvases actually drawn). Counts and
+// states only, never a timing.
+
+import { after, before, test } from "node:test";
+import assert from "node:assert/strict";
+import { mkdtempSync, rmSync, writeFileSync } from "node:fs";
+import { tmpdir } from "node:os";
+import {
+  canvasStats, downloadText, ensureCli, ensurePage, execFileSync, join, launch, newPage, settle,
+} from "./helpers.mjs";
+
+const CANVASES = ["canvas-c-to-o", "canvas-temperature", "canvas-ice-map", "canvas-c-to-o-map", "canvas-abundances"];
+
+let browser;
+let cli;
+let scratch;
+
+before(async () => {
+  ensurePage();
+  cli = ensureCli();
+  scratch = mkdtempSync(join(tmpdir(), "nivalis-redraw-test-"));
+  browser = await launch();
+});
+
+after(async () => {
+  await browser?.close();
+  if (scratch) rmSync(scratch, { recursive: true, force: true });
+});
+
+// How many times each view's canvas has been drawn (not counting views left as they were).
+function drawCounts(page) {
+  return page.evaluate((ids) => Object.fromEntries(ids.map((id) => [id, window.nivalis.explorer.drawCount(id)])), CANVASES);
+}
+
+// Types into a field like a person and waits until every view shows the result.
+async function setField(page, path, value) {
+  await page.fill("#f-" + path.replace(/[^A-Za-z0-9_]/g, "-"), String(value));
+  await settle(page);
+}
+
+// The stages the page's core re-ran for the current input (a fresh update of the same disk reports "nothing").
+function recomputedAgain(page) {
+  return page.evaluate(() => window.nivalis.computeOnce().recomputed);
+}
+
+test("an ice edit skips the structure and leaves the temperature view as it was; a name edit redraws nothing", async () => {
+  const { page, errors } = await newPage(browser.context);
+  const first = await drawCounts(page);
+  for (const id of CANVASES) assert.ok(first[id] >= 1, `${id} was never drawn`);
+  const temperaturePixels = await canvasStats(page, "canvas-temperature");
+
+  // The sticking coefficient changes the ice balance only.
+  await setField(page, "ices.sticking", 0.5);
+  assert.equal(await page.evaluate(() => window.nivalis.state.ices.sticking), 0.5);
+  const afterIce = await drawCounts(page);
+  assert.equal(afterIce["canvas-temperature"], first["canvas-temperature"], "the temperature view was redrawn after an ice edit");
+  for (const id of CANVASES.filter((c) => c !== "canvas-temperature")) {
+    assert.equal(afterIce[id], first[id] + 1, `${id} was not redrawn exactly once after the ice edit`);
+  }
+  assert.deepEqual(await canvasStats(page, "canvas-temperature"), temperaturePixels);
+  // The temperature view left as it was still answers the pointer.
+  const box = await page.locator("#canvas-temperature").boundingBox();
+  await page.mouse.move(box.x + box.width * 0.5, box.y + box.height * 0.3);
+  assert.match(await page.textContent("#readout-temperature"), /au/);
+  assert.equal(await recomputedAgain(page), "nothing");
+
+  // The name is not a model input: nothing is recomputed or redrawn.
+  await setField(page, "name", "Renamed disk");
+  assert.deepEqual(await drawCounts(page), afterIce);
+
+  // The luminosity changes the structure: every view is redrawn.
+  await setField(page, "star.luminosity_lsun", 2);
+  const afterStar = await drawCounts(page);
+  for (const id of CANVASES) assert.equal(afterStar[id], afterIce[id] + 1, `${id} was not redrawn after a structure edit`);
+  assert.deepEqual(errors, []);
+  await page.close();
+});
+
+test("after staged edits (ices, composition) the exports equal the CLI's for the saved disk, byte for byte", async () => {
+  const { page, errors } = await newPage(browser.context);
+  await setField(page, "star.luminosity_lsun", 1.7);
+  await setField(page, "ices.sticking", 0.3);
+  await setField(page, "composition.oxygen_per_silicon", 3.5);
+  const csv = await downloadText(page, '[data-export="profile_csv"]');
+  const structure = await downloadText(page, '[data-export="structure_csv"]');
+  const snowlines = await downloadText(page, '[data-export="snowlines_json"]');
+  const disk = await downloadText(page, "#save-button");
+  const saved = JSON.parse(disk.text);
+  assert.equal(saved.ices.sticking, 0.3);
+  assert.equal(saved.composition.oxygen_per_silicon, 3.5);
+  const diskFile = join(scratch, "staged-disk.json");
+  writeFileSync(diskFile, disk.text);
+  const run = (args) => execFileSync(cli, args, { encoding: "utf8" });
+  assert.ok(csv.text === run(["model", diskFile, "--format", "csv"]), "page CSV differs from `nivalis model --format csv` after staged edits");
+  assert.ok(structure.text === run(["structure", diskFile]), "page structure CSV differs from `nivalis structure`");
+  assert.ok(snowlines.text === run(["snowlines", diskFile]), "page snowlines differ from `nivalis snowlines`");
+  assert.deepEqual(errors, []);
+  await page.close();
+});
