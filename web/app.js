@@ -931,6 +931,7 @@ const App = ((util, core, controls) => {
     drawView,
     loadDisk,
     themeName,
+    sizeCanvas,
     writeFragment,
     pushUndo,
     $, download, slug, getPath, formula, base64urlEncode, base64urlDecode, roundSlider, checkJsonBounds,

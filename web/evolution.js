@@ -1,12 +1,19 @@
 // evolution.js: the page's evolving-disk panel (issue 13; docs/model.md section 12).
-// `cargo xtask dist` inlines it after web/planet.js in the same module scope: it uses
-// app.js's `$`, `state` (the current disk object), `nivalisModule` (the compiled core),
-// `download`, `slug`, `themeName` and `sizeCanvas`, and the glue's `drawEvolution`.
+// A module (web/util.js explains the pattern), inlined by `cargo xtask dist` after the
+// uncertainty panel: it receives App (`$`, the live disk `App.state`, `download`, `slug`,
+// `themeName`, `sizeCanvas`), Util and Core (the compiled module), and calls the glue's
+// `drawEvolution`.
 // The run happens in its own Web Worker (the page's worker script with the handler
 // below in place of the views' one), which reports progress; Cancel terminates it.
 // The result is the JSON text of `nivalis evolve DISK --format json`, drawn per
 // snapshot (age slider, Play) into three canvases and downloadable as is.
 // Test hook: the panel's data-evo-state is "idle" | "running" | "ready" | "cancelled" | "failed".
+const EvolutionPanel = ((App, Core, Util) => {
+// The module interface it uses (see web/util.js for the pattern): App's helpers and live disk,
+// Util's JSON helpers, and the compiled core the workers instantiate.
+const { $, download, slug, themeName, sizeCanvas } = App;
+const { clone, prune } = Util;
+const nivalisModule = Core.module;
 
 const evoPanel = $("evolution");
 let evoWorker = null;
@@ -67,7 +74,7 @@ function evoRun() {
   evoWorker.onmessage = (event) => {
     const m = event.data;
     if (m.type === "ready") {
-      evoWorker.postMessage({ type: "evolve", disk: prune(clone(state)), until, snapshots });
+      evoWorker.postMessage({ type: "evolve", disk: prune(clone(App.state)), until, snapshots });
     } else if (m.type === "progress") {
       $("evo-progress").value = m.value;
       $("evo-status").textContent = `Evolving… ${Math.round(100 * m.value)} %`;
@@ -130,7 +137,10 @@ $("evo-cancel").addEventListener("click", () => { evoStop(); evoSetState("cancel
 $("evo-age").addEventListener("input", evoDraw);
 $("evo-play").addEventListener("click", evoPlay);
 $("evo-export-json").addEventListener("click", () => {
-  if (evoText !== null) download(`${slug(state.name)}-evolution.json`, evoText, "application/json");
+  if (evoText !== null) download(`${slug(App.state.name)}-evolution.json`, evoText, "application/json");
 });
 matchMedia("(prefers-color-scheme: dark)").addEventListener("change", evoDraw);
 evoSetState("idle");
+
+return {};
+})(App, Core, Util);

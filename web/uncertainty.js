@@ -1,11 +1,18 @@
 // ---------------------------------------------------------------------------
 // The uncertainty panel (docs/model.md section 13; docs/page.md "Uncertainty").
-// Runs after app.js in the same module scope and uses its `$`, `state`, `clone`,
-// `prune`, `download` and `nivalisModule`. The Monte Carlo runs in its own Web
+// A module (web/util.js explains the pattern) run after planet.js; it receives
+// App (`$`, the live disk `App.state`, `download`), Util (`clone`, `prune`) and
+// Core (the compiled module its worker instantiates). The Monte Carlo runs in its own Web
 // Worker (the page's worker script: glue + worker.js + uncertainty-worker.js),
 // with progress, partial bands as chunks arrive, and Cancel (which ends the
 // worker). Figures come back as SVG text; exports are the CLI's files.
 // ---------------------------------------------------------------------------
+const UncertaintyPanel = ((App, Core, Util) => {
+// The module interface it uses (see web/util.js for the pattern): App's helpers and live disk,
+// Util's JSON helpers, and the compiled core the workers instantiate.
+const { $, download, slug, themeName, sizeCanvas } = App;
+const { clone, prune } = Util;
+const nivalisModule = Core.module;
 
 const UNC_EXAMPLE = {
   "star.luminosity_lsun": { distribution: "lognormal", sigma_dex: 0.1 },
@@ -15,14 +22,15 @@ const UNC_EXAMPLE = {
   "composition.carbon": { distribution: "dirichlet", concentration: 30 },
 };
 const UNC_QUANTITIES = ["c_to_o_gas", "c_to_o_ice", "c_to_o_solid", "c_to_h_gas", "c_to_h_ice", "c_to_h_solid", "o_to_h_gas", "o_to_h_ice", "o_to_h_solid"];
-const UNC_SPECIES = ["H2O", "CO", "CO2", "CH4", "N2", "NH3", "CH3OH", "H2S", "HCN"];
+// The species in the core's order, from the core (no second copy of the list here).
+const UNC_SPECIES = App.SPECIES;
 
 const unc = { worker: null, id: 0, running: false, finished: false, figures: {}, lastRun: null, posteriorSvg: null };
 
 function uncBuildPanel() {
   const host = $("uncertainty-panel");
   if (!host) return;
-  const section = (typeof state !== "undefined" && state && state.uncertainty) || UNC_EXAMPLE;
+  const section = (App.state && App.state.uncertainty) || UNC_EXAMPLE;
   host.innerHTML = `
     <h2 id="uncertainty-title">How sure? Uncertainty bands</h2>
     <p>Monte Carlo over the uncertain inputs below (dotted disk-file paths and distributions, docs/disk-file.md “Uncertainty”): bands of the midplane C/O, C/H and O/H, snowline histograms, which input moves the results most, and the formation-radius posterior. Same seed, same numbers as <code>nivalis uncertainty DISK --samples N --seed S</code>.</p>
@@ -127,7 +135,7 @@ function uncRun() {
   if (samples === null) bad.push({ path: "samples", message: `must be a whole number in [1, 100000], got ${$("unc-samples").value}` });
   if (seed === null) bad.push({ path: "seed", message: `must be a whole number in [0, 2^53), got ${$("unc-seed").value}` });
   if (bad.length) return uncShowProblems(bad);
-  const disk = prune(clone(state));
+  const disk = prune(clone(App.state));
   disk.uncertainty = section;
   if (!unc.worker) uncStartWorker();
   unc.running = true;
@@ -227,3 +235,6 @@ function uncDownloadSvg(which) {
 }
 
 uncBuildPanel();
+
+return {};
+})(App, Core, Util);
