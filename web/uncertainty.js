@@ -48,10 +48,10 @@ function uncBuildPanel() {
     <div><progress id="unc-progress" max="1" value="0" style="width:16em"></progress> <span id="unc-status" role="status" aria-live="polite">Not run yet.</span></div>
     <div id="unc-problems" class="problems" role="alert"></div>
     <div class="unc-figures" style="display:grid;grid-template-columns:repeat(auto-fit,minmax(320px,1fr));gap:0.6em">
-      <figure><img id="unc-fig-bands" alt="Percentile bands against radius"><figcaption>Median, 68 % and 95 % bands; dashed: the nominal disk.</figcaption></figure>
-      <figure><img id="unc-fig-histogram" alt="Snowline radius histogram"><figcaption>Snowline radius over the samples; dashed: 16th, 50th, 84th percentiles.</figcaption></figure>
-      <figure><img id="unc-fig-sensitivity" alt="Sensitivity of the gas C/O"><figcaption>Which input moves the gas C/O most (one at a time, 16th–84th percentile).</figcaption></figure>
-      <figure><img id="unc-fig-sensitivity-snowline" alt="Sensitivity of the snowline"><figcaption>Which input moves the chosen snowline most.</figcaption></figure>
+      <figure><img style="width:100%;height:auto;max-width:36em" id="unc-fig-bands" alt="Percentile bands against radius"><figcaption>Median, 68 % and 95 % bands; dashed: the nominal disk.</figcaption></figure>
+      <figure><img style="width:100%;height:auto;max-width:36em" id="unc-fig-histogram" alt="Snowline radius histogram"><figcaption>Snowline radius over the samples; dashed: 16th, 50th, 84th percentiles.</figcaption></figure>
+      <figure><img style="width:100%;height:auto;max-width:36em" id="unc-fig-sensitivity" alt="Sensitivity of the gas C/O"><figcaption>Which input moves the gas C/O most (one at a time, 16th–84th percentile).</figcaption></figure>
+      <figure><img style="width:100%;height:auto;max-width:36em" id="unc-fig-sensitivity-snowline" alt="Sensitivity of the snowline"><figcaption>Which input moves the chosen snowline most.</figcaption></figure>
     </div>
     <div class="unc-posterior" style="margin:0.4em 0">
       <strong>Formation radius of a planet</strong>:
@@ -60,7 +60,7 @@ function uncBuildPanel() {
       <label>over <input id="unc-post-samples" type="number" min="1" max="100000" step="1" value="100" style="width:5em"> samples</label>
       <button type="button" id="unc-posterior" disabled>Marginalised posterior</button>
       <span id="unc-post-status"></span>
-      <figure><img id="unc-fig-posterior" alt="Formation-radius posterior"><figcaption>Posterior per radial cell, marginalised over the uncertain inputs and the solid-to-gas ratio; shaded: 68 % and 95 % credible intervals.</figcaption></figure>
+      <figure><img style="width:100%;height:auto;max-width:36em" id="unc-fig-posterior" alt="Formation-radius posterior"><figcaption>Posterior per radial cell, marginalised over the uncertain inputs and the solid-to-gas ratio; shaded: 68 % and 95 % credible intervals.</figcaption></figure>
     </div>
     <div class="export-buttons">
       <button type="button" data-unc-export="json">All results (JSON)</button> <code>nivalis uncertainty DISK --format json</code><br>

@@ -219,7 +219,7 @@ pub fn render_svg(figure: &Figure, theme: &Theme, size: FigureSize) -> Result<St
     Ok(out.replacen(&header, &physical, 1))
 }
 
-fn fmt_pt(v: f64) -> String {
+pub(crate) fn fmt_pt(v: f64) -> String {
     let s = format!("{v:.2}");
     s.trim_end_matches('0').trim_end_matches('.').to_string()
 }

@@ -435,7 +435,14 @@ pub fn uncertainty_svg(
         draw_uncertainty(&area, figure, theme, units)?;
         area.present().map_err(drawing_error)?;
     }
-    Ok(out)
+    // The physical size in pt, as render_svg declares it (plotters writes user units).
+    let header = format!("<svg width=\"{w}\" height=\"{h}\"");
+    let physical = format!(
+        "<svg width=\"{}pt\" height=\"{}pt\"",
+        crate::render::fmt_pt(size.width_pt),
+        crate::render::fmt_pt(size.height_pt)
+    );
+    Ok(out.replacen(&header, &physical, 1))
 }
 
 #[cfg(test)]
@@ -479,7 +486,11 @@ mod tests {
         ];
         for f in &figures {
             let svg = uncertainty_svg(f, &Theme::light(), FigureSize::single_column()).unwrap();
-            assert!(svg.starts_with("<svg") && svg.len() > 1000);
+            assert!(
+                svg.starts_with("<svg width=\"252pt\"") && svg.len() > 1000,
+                "{}",
+                &svg[..80]
+            );
         }
     }
 }

@@ -731,6 +731,8 @@ fn fit_marginalised(
         crate::uncertainty::check_samples(samples).map_err(|e| Failure::input(vec![e]))?;
     let label = disk.display().to_string();
     let spec = crate::uncertainty::spec_of(root, file, &label).map_err(Failure::input)?;
+    let swings = crate::uncertainty::posterior_median_swings(&model, &spec, observed, settings)
+        .map_err(|e| Failure::input(vec![e]))?;
     let (post, failed) =
         crate::uncertainty::posterior(model, &spec, samples, seed, observed, settings)
             .map_err(|e| Failure::input(vec![e]))?;
@@ -753,7 +755,16 @@ fn fit_marginalised(
             &prov,
             &methods(&file.parameters),
         ),
-        TableFormat::Json => json_text(&posterior_json(&post, seed, failed, &spec, &prov)),
+        TableFormat::Json => {
+            let mut j = posterior_json(&post, seed, failed, &spec, &prov);
+            j["sensitivity_median_radius_au"] = serde_json::Value::Array(
+                swings
+                    .iter()
+                    .map(|(name, swing)| serde_json::json!({"input": name, "swing_au": swing}))
+                    .collect(),
+            );
+            json_text(&j)
+        }
     };
     if let (Some(m), Some((a, b))) = (post.radius_median_au, post.radius_interval_95_au) {
         eprintln!(

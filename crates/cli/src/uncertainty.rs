@@ -96,3 +96,37 @@ pub fn posterior(
     }
     Ok((acc.finish(), failed))
 }
+
+/// The one-at-a-time swing of the posterior's median formation radius [au] per input: each
+/// input at each of its levels (others nominal), the median of that one disk's posterior
+/// (docs/model.md section 13); `None` where fewer than two levels give a median.
+pub fn posterior_median_swings(
+    model: &Model,
+    spec: &UncertaintySpec,
+    observed: &ObservedEnvelope,
+    settings: &MapSettings,
+) -> Result<Vec<(String, Option<f64>)>, String> {
+    let base_map = chi_square_map(model, observed, settings).map_err(|e| e.to_string())?;
+    let engine = Engine::new(model.clone());
+    let levels = spec.one_at_a_time_levels();
+    Ok(levels
+        .par_iter()
+        .map(|(name, ps)| {
+            let medians: Vec<f64> = ps
+                .iter()
+                .filter_map(|p| {
+                    let m = engine.model(p).ok()?;
+                    let map = chi_square_map(&m, observed, settings).ok()?;
+                    let mut acc = PosteriorAccumulator::new(&base_map);
+                    acc.add(&map).ok()?;
+                    acc.finish().radius_median_au
+                })
+                .collect();
+            let swing = (medians.len() >= 2).then(|| {
+                medians.iter().copied().fold(f64::NEG_INFINITY, f64::max)
+                    - medians.iter().copied().fold(f64::INFINITY, f64::min)
+            });
+            (name.clone(), swing)
+        })
+        .collect())
+}

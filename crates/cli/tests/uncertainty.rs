@@ -149,6 +149,10 @@ fn fit_marginalised_over_the_inputs() {
     assert!((p - 1.0).abs() < 1e-9, "{p}");
     let i = j["radius_interval_95_au"].as_array().unwrap();
     assert!(i[0].as_f64().unwrap() < i[1].as_f64().unwrap());
+    // The one-at-a-time swing of the posterior median, one entry per input.
+    let s = j["sensitivity_median_radius_au"].as_array().unwrap();
+    assert_eq!(s.len(), 4);
+    assert_eq!(s[0]["input"], "star.luminosity_lsun");
 }
 
 #[test]

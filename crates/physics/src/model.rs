@@ -12,7 +12,7 @@ use crate::params::{
     CompositionParameters, DesorptionModel, Element, IceParameters, ModelParameters, SootLine,
     ELEMENT_COUNT,
 };
-use crate::snowlines::{crossings, snow_surface, SnowSurface, Snowline};
+use crate::snowlines::{snow_surface, SnowSurface, Snowline};
 use crate::species::{Species, SpeciesTable, SPECIES_COUNT};
 use crate::structure::{early_soot_line_radius_cm, DiskStructure};
 use crate::units::AU_CM;
@@ -356,24 +356,13 @@ impl Model {
             return Vec::new();
         }
         let st = &self.structure;
-        if self.is_step_model() {
-            let t_cond = self.species[species.index()].condensation_temperature_k;
-            crossings(
-                &st.radius_cm,
-                &st.midplane_temperature_k,
-                t_cond,
-                true,
-                false,
-            )
-        } else {
-            crossings(
-                &st.radius_cm,
-                &self.midplane_ice_fraction(species),
-                0.5,
-                false,
-                true,
-            )
-        }
+        crate::snowlines::midplane_snowlines(
+            &st.radius_cm,
+            &st.midplane_temperature_k,
+            self.is_step_model()
+                .then(|| self.species[species.index()].condensation_temperature_k),
+            || self.midplane_ice_fraction(species),
+        )
     }
 
     /// The snow surface of a species in radial cell `j`.

@@ -42,6 +42,21 @@ pub enum SnowSurface {
     AboveGrid,
 }
 
+/// The snowlines along the midplane (docs/model.md section 7 and Numerics): with a condensation
+/// temperature (the step model) where T_mid crosses it, ln T against ln r; otherwise where the
+/// midplane ice fraction (from `ice_fraction`, asked only then) crosses 0.5, linear in ln r.
+pub fn midplane_snowlines(
+    radius_cm: &[f64],
+    midplane_temperature_k: &[f64],
+    step_condensation_k: Option<f64>,
+    ice_fraction: impl FnOnce() -> Vec<f64>,
+) -> Vec<Snowline> {
+    match step_condensation_k {
+        Some(t_cond) => crossings(radius_cm, midplane_temperature_k, t_cond, true, false),
+        None => crossings(radius_cm, &ice_fraction(), 0.5, false, true),
+    }
+}
+
 /// Every crossing of `threshold` by `values` (indexed by radius), inner first,
 /// interpolated linearly in ln r of `values` (or, with `log_values`, of ln values
 /// against ln r). "Frozen" means value >= threshold when `frozen_above`, else value < threshold.

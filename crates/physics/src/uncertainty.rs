@@ -13,7 +13,7 @@
 //! disk's runs on the base's structure; only the composition and the ice balance are solved,
 //! and only at the midplane (the bands, snowlines and the fit need no other height). The
 //! midplane path calls the same stage functions as [`Model::run`] ([`Composition::uniform`],
-//! [`solve_place`], [`Ratios::of`], [`crossings`]), so a sample equal to the base disk gives
+//! [`solve_place`], [`Ratios::of`], [`crate::snowlines::midplane_snowlines`]), so a sample equal to the base disk gives
 //! the deterministic model's numbers bit for bit.
 
 use std::borrow::Cow;
@@ -26,7 +26,7 @@ use crate::math::{exp, ln, ln_1p};
 use crate::model::{Model, Ratios};
 use crate::params::{DesorptionModel, Element, ModelParameters, SootLine};
 use crate::planet::ChiSquareMap;
-use crate::snowlines::{crossings, CrossingDirection, Snowline};
+use crate::snowlines::{CrossingDirection, Snowline};
 use crate::species::{Species, SpeciesTable, SPECIES_COUNT};
 use crate::structure::{early_soot_line_radius_cm, DiskStructure};
 use crate::units::AU_CM;
@@ -304,22 +304,16 @@ impl Engine {
             if !composition.is_present(sp) {
                 return None;
             }
-            let lines = if step {
-                let t_cond = species[sp.index()].condensation_temperature_k;
-                crossings(
-                    &st.radius_cm,
-                    &st.midplane_temperature_k,
-                    t_cond,
-                    true,
-                    false,
-                )
-            } else {
-                let f: Vec<f64> = ice
-                    .iter()
-                    .map(|row: &[f64; SPECIES_COUNT]| row[sp.index()])
-                    .collect();
-                crossings(&st.radius_cm, &f, 0.5, false, true)
-            };
+            let lines = crate::snowlines::midplane_snowlines(
+                &st.radius_cm,
+                &st.midplane_temperature_k,
+                step.then(|| species[sp.index()].condensation_temperature_k),
+                || {
+                    ice.iter()
+                        .map(|row: &[f64; SPECIES_COUNT]| row[sp.index()])
+                        .collect()
+                },
+            );
             first_freeze_out_au(&lines)
         });
         Ok(SampleValues {
