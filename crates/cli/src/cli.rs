@@ -1,9 +1,7 @@
 //! Argument parsing and the commands.
 
 use clap::{Parser, Subcommand, ValueEnum};
-use nivalis_disk_files::{
-    apply_assignments, from_value, parse_json_text, DiskFile, Problems,
-};
+use nivalis_disk_files::{apply_assignments, from_value, parse_json_text, DiskFile, Problems};
 use nivalis_exports::formats::json_text;
 use nivalis_exports::methods::methods;
 use nivalis_exports::snowlines::snowlines_json;
@@ -564,7 +562,10 @@ fn read_disk(path: &PathBuf, sets: &[String]) -> Result<DiskFile, Failure> {
 
 /// The disk file and the JSON value it was read from, after the `--set`
 /// assignments (the value keeps its `uncertainty` section).
-fn read_disk_value(path: &PathBuf, sets: &[String]) -> Result<(DiskFile, serde_json::Value), Failure> {
+fn read_disk_value(
+    path: &PathBuf,
+    sets: &[String],
+) -> Result<(DiskFile, serde_json::Value), Failure> {
     use nivalis_disk_files::MAX_DISK_FILE_BYTES;
     let label = path.display().to_string();
     // Read at most the size limit (plus a byte order mark and one byte to detect an oversized file),
