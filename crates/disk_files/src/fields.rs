@@ -839,30 +839,8 @@ pub fn set_at_path(disk: &mut Value, path: &str, value: Value) -> Result<(), Pro
     if field_by_path(path).is_none() {
         return Err(unknown_path(path));
     }
-    let mut here = disk;
-    let keys: Vec<&str> = path.split('.').collect();
-    for (i, key) in keys.iter().enumerate() {
-        let Value::Object(map) = here else {
-            let at = keys[..i].join(".");
-            return Err(Problem::new(
-                if at.is_empty() {
-                    "(file)".to_string()
-                } else {
-                    at
-                },
-                "must be an object to set a field inside it",
-            )
-            .with_allowed("an object"));
-        };
-        if i + 1 == keys.len() {
-            map.insert((*key).to_string(), value);
-            return Ok(());
-        }
-        here = map
-            .entry((*key).to_string())
-            .or_insert_with(|| Value::Object(Map::new()));
-    }
-    Ok(())
+    // The walk itself is the one of `--set`, the sweep and the Python module.
+    crate::set_path(disk, path, value)
 }
 
 /// Reads typed text (a command line's `PATH=VALUE`, a sweep's value) as the
@@ -1114,12 +1092,10 @@ mod tests {
         );
         // Setting inside a value that is not an object is a problem, not a panic.
         let mut odd = json!({"star": 3});
-        assert_eq!(
-            set_at_path(&mut odd, "star.mass_msun", json!(1))
-                .unwrap_err()
-                .path,
-            "star"
-        );
+        assert!(set_at_path(&mut odd, "star.mass_msun", json!(1))
+            .unwrap_err()
+            .message
+            .contains("star is 3, not an object"));
     }
 
     #[test]

@@ -219,29 +219,14 @@ fn number(
     }
 }
 
-/// The value at a dotted path of a JSON tree.
-pub fn get_path<'v>(root: &'v Value, path: &str) -> Option<&'v Value> {
-    path.split('.').try_fold(root, |v, k| v.get(k))
-}
-
-/// Set the value at a dotted path, creating objects on the way (a non-object on the way is
-/// replaced by an object).
-pub fn set_path(root: &mut Value, path: &str, value: Value) {
-    let mut v = root;
-    let mut keys = path.split('.').peekable();
-    while let Some(k) = keys.next() {
-        if !v.is_object() {
-            *v = Value::Object(Map::new());
-        }
-        let Value::Object(m) = v else { return };
-        if keys.peek().is_none() {
-            m.insert(k.to_string(), value);
-            return;
-        }
-        v = m
-            .entry(k.to_string())
-            .or_insert_with(|| Value::Object(Map::new()));
-    }
+/// Sets a sampled value at its dotted path through the one setter of the crate
+/// ([`crate::set_path`]). The section's paths were checked against the field
+/// table and the base disk was read, so the walk meets only objects; were it
+/// ever refused, the unchanged disk is kept and the reader's check of the
+/// sample (which follows every set) still stands.
+fn set_path(root: &mut Value, path: &str, value: Value) {
+    let outcome = crate::set_path(root, path, value);
+    debug_assert!(outcome.is_ok(), "{path}: {outcome:?}");
 }
 
 /// The problems the reader finds in `base` with `value` at `path` (empty when it reads).
@@ -348,7 +333,7 @@ fn read_input(
         }
     }
     // The nominal value, and the path checked against the reader.
-    let nominal = get_path(resolved, path)
+    let nominal = crate::get_at_path(resolved, path)
         .cloned()
         .or_else(|| override_nominal(path, file));
     let nominal = match nominal {
