@@ -13,13 +13,13 @@
 //!    root with a Python that imports the reference libraries they use
 //!    (astropy, scipy, bibtexparser): the system's, else a venv under target/
 //!    that this stage creates ([`crate::setup::python_with_modules`]).
-//!    Then the Python module: build and install `crates/python` (maturin)
+//! 5. The Python module: build and install `crates/python` (maturin)
 //!    into a venv under target/ and run its pytest suite
 //!    ([`crate::python_module`]).
-//! 5. Page build: when `crates/web/Cargo.toml` exists, make sure the
+//! 6. Page build: when `crates/web/Cargo.toml` exists, make sure the
 //!    wasm32-unknown-unknown target is installed and build the page with
 //!    [`crate::dist::dist`], because the browser tests load the built file.
-//! 6. Browser tests: when `tests/browser/package.json` exists, install
+//! 7. Browser tests: when `tests/browser/package.json` exists, install
 //!    Chromium, Node.js and npm with apt-get when missing
 //!    ([`crate::setup::ensure_browser_tools`]), its npm packages if
 //!    `node_modules` is missing, then `node --test tests/browser/`.
