@@ -1011,9 +1011,6 @@ fn execute(args: Args) -> Result<(), Failure> {
             use nivalis_exports::planet::PlanetOptions;
             use nivalis_physics::planet::{planet, RadialWeighting};
             let file = read_disk(&disk, &sets)?;
-}
-
-            let file = read_disk(&disk)?;
             if let Some(from) = age_myr {
                 return planet_in_window(
                     file,
