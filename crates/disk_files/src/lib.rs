@@ -20,8 +20,8 @@
 //! working on dotted paths use [`field_by_path`], [`suggest_path`] and
 //! [`apply_setting`].
 
-pub mod fields;
 mod evolution;
+pub mod fields;
 pub mod fragment;
 mod json;
 mod reader;
@@ -29,18 +29,16 @@ mod set_path;
 pub mod uncertainty;
 mod writer;
 
+pub use evolution::{evolution_to_value, read_evolution, MAX_STAR_TRACK_ROWS};
 pub use fields::{
     apply_setting, field_by_path, fields, fields_json, get_at_path, parse_value_text, set_at_path,
     suggest_path, unknown_path, Field, Kind, Range, Slider,
 };
-pub use evolution::{evolution_to_value, read_evolution, MAX_STAR_TRACK_ROWS};
 pub use json::{
     cap_problems, parse_json_text, MAX_DISK_FILE_BYTES, MAX_LISTED_PROBLEMS, MAX_NESTING_DEPTH,
 };
 pub use reader::{from_value, parse_disk_json};
-pub use set_path::{
-    apply_assignments, is_unknown_field, parse_assignment, set_path,
-};
+pub use set_path::{apply_assignments, is_unknown_field, parse_assignment, set_path};
 pub use writer::{to_json_string, to_value};
 
 use nivalis_physics::ModelParameters;
