@@ -369,7 +369,7 @@ fn the_transported_composition_plugs_into_the_ice_stage() {
     let (st, comp, ices) = run.ice_balance_at(k).unwrap();
     let w = Species::H2O;
     let mut differs = 0;
-    for j in 0..st.radial_cells {
+    for j in 0..st.radial_cells() {
         assert_eq!(
             comp.species_per_h(w, j),
             run.snapshots[k].species_per_h[j][w.index()]
