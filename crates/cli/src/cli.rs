@@ -1337,13 +1337,8 @@ fn execute(args: Args) -> Result<(), Failure> {
             let label = disk.display().to_string();
             let spec = crate::uncertainty::spec_of(&root, &file, &label).map_err(Failure::input)?;
             let model = run_model(&file)?;
-            let d = &file.parameters.disk;
-            if !(at_au >= d.inner_radius_au && at_au <= d.outer_radius_au) {
-                return Err(Failure::input(vec![format!(
-                    "--at-au: must be inside the disk, in [{}, {}] au, got {at_au}",
-                    d.inner_radius_au, d.outer_radius_au
-                )]));
-            }
+            ux::check_sensitivity_radius(&file.parameters, at_au)
+                .map_err(|e| Failure::input(vec![format!("--at-au: {e}")]))?;
             let run = crate::uncertainty::run(model, &spec, samples, seed, at_au);
             let mc = &run.monte_carlo;
             if mc.succeeded == 0 {
@@ -1378,15 +1373,9 @@ fn execute(args: Args) -> Result<(), Failure> {
                 methods: &used,
             };
             if let Some(path) = &methods_out {
-                let mut text = ux::methods_text(&spec, mc);
-                text.push('\n');
-                write_output(&Some(path.clone()), &text)?;
+                write_output(&Some(path.clone()), &ux::methods_file(&spec, mc))?;
             }
-            let text = match output.format {
-                TableFormat::Csv => ux::table_csv(&result, which),
-                TableFormat::Ecsv => ux::table_ecsv(&result, which),
-                TableFormat::Json => json_text(&ux::uncertainty_json(&result)),
-            };
+            let text = ux::uncertainty_text(&result, output.format.shared(), which);
             write_output(&output.out, &text)
         }
         Command::Figure {
