@@ -12,7 +12,8 @@
 //! (f) [`draw_chi2_map`]. Data structs ([`ProfileData`], [`TemperatureData`],
 //! [`MapData`], [`AbundanceData`], [`Chi2Data`]) are built from a
 //! `nivalis_physics::Model` by their `from_model`-style functions or
-//! [`Figure::from_model`]. [`render_svg`] and [`render_png`] give paper-ready files.
+//! [`Figure::from_model`]. [`render_svg`] and [`render_png`] give paper-ready files;
+//! [`FigureOptions`] reads and checks their options for every front end.
 //!
 //! ```
 //! use nivalis_charts::{render_svg, Figure, FigureSize, Theme, View};
@@ -33,6 +34,7 @@ pub mod data;
 pub mod error;
 pub mod layout;
 pub mod map;
+pub mod options;
 mod paint;
 pub mod render;
 pub mod text;
@@ -47,6 +49,7 @@ pub use data::{
 pub use error::ChartError;
 pub use layout::{AxisTransform, ChartLayout, PanelLayout, Scale};
 pub use map::{rasterise_map, rasterise_map_over, MapData, RasterImage};
+pub use options::{FigureFormat, FigureOptions, RenderedFigure};
 #[cfg(feature = "png")]
 pub use render::render_png;
 pub use render::{

@@ -4,10 +4,9 @@ use clap::{Parser, Subcommand, ValueEnum};
 use nivalis_disk_files::{apply_assignments, from_value, parse_json_text, DiskFile, Problems};
 use nivalis_exports::formats::json_text;
 use nivalis_exports::methods::methods;
-use nivalis_exports::snowlines::snowlines_json;
 use nivalis_exports::{
-    map_table, model_table, structure_table, to_csv, to_ecsv, to_json, MapQuantity, Provenance,
-    Table,
+    export_text, map_table, model_table, structure_table, to_csv, ExportKind, MapQuantity,
+    Provenance, Table,
 };
 use nivalis_physics::params::Element;
 use nivalis_physics::Model;
@@ -640,6 +639,27 @@ fn run_model(file: &DiskFile) -> Result<Model, Failure> {
     Model::run(&file.parameters).map_err(|e| Failure::input(vec![e.to_string()]))
 }
 
+/// Draws a figure in `options` and writes it with its provenance (`view` as recorded there).
+fn write_figure(
+    out: &Option<PathBuf>,
+    figure: &nivalis_charts::Figure,
+    options: &nivalis_charts::FigureOptions,
+    provenance: &Provenance,
+    view: &str,
+) -> Result<(), Failure> {
+    use nivalis_charts::RenderedFigure;
+    use nivalis_exports::figures::{embed_png_provenance, embed_svg_provenance};
+    let rendered = options
+        .render(figure)
+        .map_err(|e| Failure::input(vec![e.to_string()]))?;
+    match rendered {
+        RenderedFigure::Svg(svg) => {
+            write_output(out, &embed_svg_provenance(&svg, provenance, view))
+        }
+        RenderedFigure::Png(png) => write_bytes(out, &embed_png_provenance(&png, provenance, view)),
+    }
+}
+
 fn write_output(out: &Option<PathBuf>, text: &str) -> Result<(), Failure> {
     write_bytes(out, text.as_bytes())
 }
@@ -703,14 +723,17 @@ fn write_atomic(path: &std::path::Path, bytes: &[u8]) -> std::io::Result<()> {
 }
 
 fn render(table: &Table, format: TableFormat, file: &DiskFile) -> String {
-    match format {
-        TableFormat::Csv => to_csv(table, &Provenance::of(file)),
-        TableFormat::Ecsv => to_ecsv(table, &Provenance::of(file), &methods(&file.parameters)),
-        TableFormat::Json => json_text(&to_json(
-            table,
-            &Provenance::of(file),
-            &methods(&file.parameters),
-        )),
+    nivalis_exports::table_text(table, format.shared(), file)
+}
+
+impl TableFormat {
+    /// The shared crate's format of the same name (`nivalis_exports::Format`).
+    fn shared(self) -> nivalis_exports::Format {
+        match self {
+            TableFormat::Csv => nivalis_exports::Format::Csv,
+            TableFormat::Ecsv => nivalis_exports::Format::Ecsv,
+            TableFormat::Json => nivalis_exports::Format::Json,
+        }
     }
 }
 
@@ -1002,10 +1025,7 @@ fn execute(args: Args) -> Result<(), Failure> {
         Command::Snowlines { disk, out } => {
             let file = read_disk(&disk, &sets)?;
             let model = run_model(&file)?;
-            write_output(
-                &out,
-                &json_text(&snowlines_json(&model, &Provenance::of(&file))),
-            )
+            write_output(&out, &export_text(ExportKind::SnowlinesJson, &file, &model))
         }
         Command::Planet {
             disk,
@@ -1211,28 +1231,21 @@ fn execute(args: Args) -> Result<(), Failure> {
                 }
             }
             if let Some(path) = &figure {
-                use nivalis_charts::{render_png, render_svg, Chi2Data, Figure, FigureSize, Theme};
+                use nivalis_charts::{Chi2Data, Figure, FigureFormat, FigureOptions};
                 let fig = Figure::Chi2(Chi2Data::from_map(&map));
-                let chart_failure =
-                    |e: nivalis_charts::ChartError| Failure::input(vec![e.to_string()]);
-                if path
+                // Single column, light, 300 dpi; PNG when the name ends in .png.
+                let png = path
                     .extension()
-                    .is_some_and(|e| e.eq_ignore_ascii_case("png"))
-                {
-                    let png = render_png(&fig, &Theme::light(), FigureSize::single_column(), 300.0)
-                        .map_err(chart_failure)?;
-                    write_bytes(
-                        &Some(path.clone()),
-                        &nivalis_exports::figures::embed_png_provenance(&png, &prov, "chi2_map"),
-                    )?;
-                } else {
-                    let svg = render_svg(&fig, &Theme::light(), FigureSize::single_column())
-                        .map_err(chart_failure)?;
-                    write_output(
-                        &Some(path.clone()),
-                        &nivalis_exports::figures::embed_svg_provenance(&svg, &prov, "chi2_map"),
-                    )?;
-                }
+                    .is_some_and(|e| e.eq_ignore_ascii_case("png"));
+                let options = FigureOptions {
+                    format: if png {
+                        FigureFormat::Png
+                    } else {
+                        FigureFormat::Svg
+                    },
+                    ..FigureOptions::default()
+                };
+                write_figure(&Some(path.clone()), &fig, &options, &prov, "chi2_map")?;
             }
             write_output(&output.out, &text)
         }
@@ -1335,13 +1348,8 @@ fn execute(args: Args) -> Result<(), Failure> {
             let label = disk.display().to_string();
             let spec = crate::uncertainty::spec_of(&root, &file, &label).map_err(Failure::input)?;
             let model = run_model(&file)?;
-            let d = &file.parameters.disk;
-            if !(at_au >= d.inner_radius_au && at_au <= d.outer_radius_au) {
-                return Err(Failure::input(vec![format!(
-                    "--at-au: must be inside the disk, in [{}, {}] au, got {at_au}",
-                    d.inner_radius_au, d.outer_radius_au
-                )]));
-            }
+            ux::check_sensitivity_radius(&file.parameters, at_au)
+                .map_err(|e| Failure::input(vec![format!("--at-au: {e}")]))?;
             let run = crate::uncertainty::run(model, &spec, samples, seed, at_au);
             let mc = &run.monte_carlo;
             if mc.succeeded == 0 {
@@ -1376,15 +1384,9 @@ fn execute(args: Args) -> Result<(), Failure> {
                 methods: &used,
             };
             if let Some(path) = &methods_out {
-                let mut text = ux::methods_text(&spec, mc);
-                text.push('\n');
-                write_output(&Some(path.clone()), &text)?;
+                write_output(&Some(path.clone()), &ux::methods_file(&spec, mc))?;
             }
-            let text = match output.format {
-                TableFormat::Csv => ux::table_csv(&result, which),
-                TableFormat::Ecsv => ux::table_ecsv(&result, which),
-                TableFormat::Json => json_text(&ux::uncertainty_json(&result)),
-            };
+            let text = ux::uncertainty_text(&result, output.format.shared(), which);
             write_output(&output.out, &text)
         }
         Command::Figure {
@@ -1396,37 +1398,25 @@ fn execute(args: Args) -> Result<(), Failure> {
             theme,
             out,
         } => {
-            use nivalis_charts::{render_png, render_svg, Figure, FigureSize, Theme};
+            use nivalis_charts::{Figure, FigureOptions};
+            // The page's figure downloads read the same options (nivalis_charts::options).
+            let options = FigureOptions {
+                format: match format {
+                    FigureFormat::Svg => nivalis_charts::FigureFormat::Svg,
+                    FigureFormat::Png => nivalis_charts::FigureFormat::Png,
+                },
+                double_column: width == FigureWidth::Double,
+                dpi,
+                dark: theme == FigureTheme::Dark,
+            };
+            options
+                .check()
+                .map_err(|e| Failure::input(vec![format!("--{e}")]))?;
             let v = parse_view(&view).map_err(|e| Failure::input(vec![e]))?;
             let file = read_disk(&disk, &sets)?;
             let model = run_model(&file)?;
             let figure = Figure::from_model(v, &model);
-            let theme = match theme {
-                FigureTheme::Light => Theme::light(),
-                FigureTheme::Dark => Theme::dark(),
-            };
-            let size = match width {
-                FigureWidth::Single => FigureSize::single_column(),
-                FigureWidth::Double => FigureSize::double_column(),
-            };
-            let prov = Provenance::of(&file);
-            let chart_failure = |e: nivalis_charts::ChartError| Failure::input(vec![e.to_string()]);
-            match format {
-                FigureFormat::Svg => {
-                    let svg = render_svg(&figure, &theme, size).map_err(chart_failure)?;
-                    write_output(
-                        &out,
-                        &nivalis_exports::figures::embed_svg_provenance(&svg, &prov, &view),
-                    )
-                }
-                FigureFormat::Png => {
-                    let png = render_png(&figure, &theme, size, dpi).map_err(chart_failure)?;
-                    write_bytes(
-                        &out,
-                        &nivalis_exports::figures::embed_png_provenance(&png, &prov, &view),
-                    )
-                }
-            }
+            write_figure(&out, &figure, &options, &Provenance::of(&file), &view)
         }
         Command::Sweep {
             action,
@@ -1436,19 +1426,14 @@ fn execute(args: Args) -> Result<(), Failure> {
         } => crate::sweep_cmd::execute(action, sweep, out, shard, &sets),
         Command::Methods { disk, bibtex, out } => {
             let file = read_disk(&disk, &sets)?;
-            run_model(&file)?;
-            let used = methods(&file.parameters);
+            let model = run_model(&file)?;
             if let Some(path) = &bibtex {
-                write_output(&Some(path.clone()), &nivalis_exports::bibtex::bibtex(&used))?;
+                write_output(
+                    &Some(path.clone()),
+                    &export_text(ExportKind::Bibtex, &file, &model),
+                )?;
             }
-            write_output(
-                &out,
-                &nivalis_exports::bibtex::methods_paragraph(
-                    &file.parameters,
-                    &used,
-                    &Provenance::of(&file),
-                ),
-            )
+            write_output(&out, &export_text(ExportKind::MethodsText, &file, &model))
         }
     }
 }

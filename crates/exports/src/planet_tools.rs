@@ -96,18 +96,38 @@ pub enum PlanetExport {
 }
 
 impl PlanetExport {
-    /// Parses the page's name of an export.
+    /// Every planet export, in the page's order.
+    pub const ALL: [PlanetExport; 7] = [
+        PlanetExport::PlanetJson,
+        PlanetExport::PlanetCsv,
+        PlanetExport::FitCsv,
+        PlanetExport::FitEcsv,
+        PlanetExport::FitJson,
+        PlanetExport::PlanetMethods,
+        PlanetExport::PlanetBibtex,
+    ];
+
+    /// The export's name, as the page's `planetExport(what)` takes it.
+    pub fn key(self) -> &'static str {
+        match self {
+            PlanetExport::PlanetJson => "planet_json",
+            PlanetExport::PlanetCsv => "planet_csv",
+            PlanetExport::FitCsv => "fit_csv",
+            PlanetExport::FitEcsv => "fit_ecsv",
+            PlanetExport::FitJson => "fit_json",
+            PlanetExport::PlanetMethods => "planet_methods",
+            PlanetExport::PlanetBibtex => "planet_bibtex",
+        }
+    }
+
+    /// The export of a name; `None` for any other text.
+    pub fn from_key(key: &str) -> Option<PlanetExport> {
+        PlanetExport::ALL.into_iter().find(|k| k.key() == key)
+    }
+
+    /// Parses the page's name of an export (the same as [`PlanetExport::from_key`]).
     pub fn from_name(name: &str) -> Option<PlanetExport> {
-        Some(match name {
-            "planet_json" => PlanetExport::PlanetJson,
-            "planet_csv" => PlanetExport::PlanetCsv,
-            "fit_csv" => PlanetExport::FitCsv,
-            "fit_ecsv" => PlanetExport::FitEcsv,
-            "fit_json" => PlanetExport::FitJson,
-            "planet_methods" => PlanetExport::PlanetMethods,
-            "planet_bibtex" => PlanetExport::PlanetBibtex,
-            _ => return None,
-        })
+        PlanetExport::from_key(name)
     }
 }
 

@@ -598,6 +598,46 @@ pub fn posterior_ecsv(
     )
 }
 
+/// Checks the radius [au] the sensitivity is taken at: inside the disk. The
+/// message has no field name; the CLI puts `--at-au: ` before it, the page
+/// files it under `at_au`.
+pub fn check_sensitivity_radius(
+    p: &nivalis_physics::ModelParameters,
+    at_au: f64,
+) -> Result<(), String> {
+    let d = &p.disk;
+    if at_au >= d.inner_radius_au && at_au <= d.outer_radius_au {
+        Ok(())
+    } else {
+        Err(format!(
+            "must be inside the disk, in [{}, {}] au, got {at_au}",
+            d.inner_radius_au, d.outer_radius_au
+        ))
+    }
+}
+
+/// A table of a Monte Carlo as `nivalis uncertainty --format F --table T`
+/// writes it (JSON holds every table, so `which` only matters for CSV and ECSV).
+pub fn uncertainty_text(
+    r: &UncertaintyResult,
+    format: crate::Format,
+    which: UncertaintyTable,
+) -> String {
+    match format {
+        crate::Format::Csv => table_csv(r, which),
+        crate::Format::Ecsv => table_ecsv(r, which),
+        crate::Format::Json => crate::formats::json_text(&uncertainty_json(r)),
+    }
+}
+
+/// The methods file of a Monte Carlo (`nivalis uncertainty --methods FILE`): the
+/// methods text and a final newline.
+pub fn methods_file(spec: &UncertaintySpec, mc: &MonteCarlo) -> String {
+    let mut text = methods_text(spec, mc);
+    text.push('\n');
+    text
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -671,5 +711,26 @@ mod tests {
         let ecsv = table_ecsv(&r, UncertaintyTable::Sensitivity);
         assert!(ecsv.contains("\ninput,gas_c_to_o_swing,"), "{ecsv}");
         assert!(ecsv.contains("\nstar.abundances.offset_dex.C,"), "{ecsv}");
+    }
+}
+
+#[cfg(test)]
+mod front_end_tests {
+    use super::*;
+
+    #[test]
+    fn the_sensitivity_radius_must_lie_in_the_disk() {
+        let p = nivalis_physics::ModelParameters::defaults();
+        let (inner, outer) = (p.disk.inner_radius_au, p.disk.outer_radius_au);
+        assert_eq!(check_sensitivity_radius(&p, inner), Ok(()));
+        assert_eq!(check_sensitivity_radius(&p, outer), Ok(()));
+        assert_eq!(
+            check_sensitivity_radius(&p, outer * 2.0).unwrap_err(),
+            format!(
+                "must be inside the disk, in [{inner}, {outer}] au, got {}",
+                outer * 2.0
+            )
+        );
+        assert!(check_sensitivity_radius(&p, f64::NAN).is_err());
     }
 }

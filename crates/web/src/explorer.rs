@@ -20,18 +20,6 @@ use crate::readout::{readout, ViewData};
 use crate::session::{grid_too_large, species_info, Export, Session};
 use crate::transfer::{from_parts, to_parts, ViewParts};
 
-/// The names of the exports, as `exportText` takes them.
-const EXPORTS: [&str; 8] = [
-    "profile_csv",
-    "profile_ecsv",
-    "profile_json",
-    "structure_csv",
-    "snowlines_json",
-    "disk",
-    "methods_text",
-    "bibtex",
-];
-
 /// A result computed in the page's worker: everything the page shows or
 /// exports, without the model itself.
 pub(crate) struct Remote {
@@ -254,7 +242,7 @@ impl Explorer {
     /// `undefined` before any result.
     #[wasm_bindgen(js_name = exportText)]
     pub fn export_text(&self, what: &str) -> Result<Option<String>, JsError> {
-        let kind = Export::from_name(what)
+        let kind = Export::from_key(what)
             .ok_or_else(|| JsError::new(&format!("unknown export {what:?}")))?;
         if let Some(r) = &self.remote {
             return Ok(r.exports.get(what).cloned());
@@ -431,15 +419,12 @@ impl Explorer {
         )
         .map_err(fail)?;
         let exports = js_sys::Object::new();
-        for name in EXPORTS {
-            // Invariant: every name in EXPORTS parses, and a result exists (checked above).
-            let text = self
-                .session
-                .export(Export::from_name(name).expect("known export"))
-                .unwrap_or_default();
+        for kind in Export::ALL {
+            // Invariant: a result exists (checked above).
+            let text = self.session.export(kind).unwrap_or_default();
             js_sys::Reflect::set(
                 &exports,
-                &JsValue::from_str(name),
+                &JsValue::from_str(kind.key()),
                 &JsValue::from_str(&text),
             )
             .map_err(fail)?;
@@ -483,7 +468,7 @@ impl Explorer {
         };
         let mut exports = HashMap::new();
         let texts = get("exports")?;
-        for name in EXPORTS {
+        for name in Export::ALL.map(Export::key) {
             if let Some(text) = js_sys::Reflect::get(&texts, &JsValue::from_str(name))
                 .ok()
                 .and_then(|v| v.as_string())

@@ -138,7 +138,7 @@ impl Explorer {
     /// `undefined` when the tool has no result.
     #[wasm_bindgen(js_name = planetExport)]
     pub fn planet_export(&self, what: &str) -> Result<Option<String>, JsError> {
-        let kind = PlanetExport::from_name(what)
+        let kind = PlanetExport::from_key(what)
             .ok_or_else(|| JsError::new(&format!("unknown planet export {what:?}")))?;
         Ok(planet::export(&self.planet, kind))
     }

@@ -6,12 +6,7 @@
 //! Invariant: a disk that fails validation or the run never replaces the
 //! current result, so the page keeps showing the last valid one.
 
-use nivalis_disk_files::{from_value, to_json_string, to_value, DiskFile, Problem};
-use nivalis_exports::bibtex::{bibtex, methods_paragraph};
-use nivalis_exports::formats::json_text;
-use nivalis_exports::methods::methods;
-use nivalis_exports::snowlines::snowlines_json;
-use nivalis_exports::{model_table, structure_table, to_csv, to_ecsv, to_json, Provenance};
+use nivalis_disk_files::{from_value, to_value, DiskFile, Problem};
 use nivalis_physics::species::SpeciesTable;
 use nivalis_physics::structure::interpolate_in_ln_r;
 use nivalis_physics::units::AU_CM;
@@ -32,43 +27,9 @@ pub struct Session {
     current: Option<Current>,
 }
 
-/// What the page may export; each is byte-identical to a CLI command's output.
-#[derive(Debug, Clone, Copy, PartialEq, Eq)]
-pub enum Export {
-    /// `nivalis model DISK --format csv`.
-    ProfileCsv,
-    /// `nivalis model DISK --format ecsv`.
-    ProfileEcsv,
-    /// `nivalis model DISK --format json`.
-    ProfileJson,
-    /// `nivalis structure DISK --format csv`.
-    StructureCsv,
-    /// `nivalis snowlines DISK`.
-    SnowlinesJson,
-    /// The resolved disk file, as `nivalis` writes it (the page's Save).
-    DiskFile,
-    /// `nivalis methods DISK`: the methods paragraph.
-    MethodsText,
-    /// `nivalis methods DISK --bibtex FILE`: the BibTeX of exactly the cited references.
-    Bibtex,
-}
-
-impl Export {
-    /// Parse the page's name of an export.
-    pub fn from_name(name: &str) -> Option<Export> {
-        Some(match name {
-            "profile_csv" => Export::ProfileCsv,
-            "profile_ecsv" => Export::ProfileEcsv,
-            "profile_json" => Export::ProfileJson,
-            "structure_csv" => Export::StructureCsv,
-            "snowlines_json" => Export::SnowlinesJson,
-            "disk" => Export::DiskFile,
-            "methods_text" => Export::MethodsText,
-            "bibtex" => Export::Bibtex,
-            _ => return None,
-        })
-    }
-}
+/// What the page may export: the names and texts live in
+/// `nivalis_exports::kinds`, shared with the CLI.
+pub use nivalis_exports::ExportKind as Export;
 
 /// A core error as a [`Problem`] on the field it names, so the page can show
 /// it beside that field. The field, value and range are the error's own data
@@ -131,29 +92,7 @@ impl Session {
     /// One export of the current result as text; `None` before any valid disk.
     pub fn export(&self, what: Export) -> Option<String> {
         let c = self.current.as_ref()?;
-        let (file, model) = (&c.file, &c.model);
-        Some(match what {
-            Export::ProfileCsv => to_csv(&model_table(model), &Provenance::of(file)),
-            Export::ProfileEcsv => to_ecsv(
-                &model_table(model),
-                &Provenance::of(file),
-                &methods(&file.parameters),
-            ),
-            Export::ProfileJson => json_text(&to_json(
-                &model_table(model),
-                &Provenance::of(file),
-                &methods(&file.parameters),
-            )),
-            Export::StructureCsv => to_csv(&structure_table(model), &Provenance::of(file)),
-            Export::SnowlinesJson => json_text(&snowlines_json(model, &Provenance::of(file))),
-            Export::DiskFile => to_json_string(file),
-            Export::MethodsText => methods_paragraph(
-                &file.parameters,
-                &methods(&file.parameters),
-                &Provenance::of(file),
-            ),
-            Export::Bibtex => bibtex(&methods(&file.parameters)),
-        })
+        Some(nivalis_exports::export_text(what, &c.file, &c.model))
     }
 
     /// The snowline table: per species, every midplane snowline (radius, direction
@@ -290,6 +229,8 @@ pub fn species_info() -> Value {
 #[cfg(test)]
 mod tests {
     use super::*;
+    use nivalis_disk_files::to_json_string;
+    use nivalis_exports::{model_table, to_csv, Provenance};
 
     #[test]
     fn invalid_disk_keeps_the_previous_result() {

@@ -13,9 +13,10 @@ use nivalis_charts::{FigureSize, Theme};
 use nivalis_disk_files::uncertainty::{read_uncertainty, UncertaintySpec};
 use nivalis_disk_files::{from_value, DiskFile, Problem};
 use nivalis_exports::uncertainty::{
-    methods_text, table_csv, table_ecsv, uncertainty_json, UncertaintyResult, UncertaintyTable,
+    check_sensitivity_radius, methods_file, uncertainty_json, uncertainty_text, UncertaintyResult,
+    UncertaintyTable,
 };
-use nivalis_exports::Provenance;
+use nivalis_exports::{Format, Provenance};
 use nivalis_physics::planet::{chi_square_map, MapSettings, ObservedEnvelope};
 use nivalis_physics::random::Rng;
 use nivalis_physics::uncertainty::{
@@ -50,16 +51,8 @@ impl UncertaintySession {
             }
             Err(p) => return Err(p.0),
         };
-        let d = &file.parameters.disk;
-        if !(at_au >= d.inner_radius_au && at_au <= d.outer_radius_au) {
-            return Err(vec![Problem::new(
-                "at_au",
-                format!(
-                    "must be inside the disk, in [{}, {}] au, got {at_au}",
-                    d.inner_radius_au, d.outer_radius_au
-                ),
-            )]);
-        }
+        check_sensitivity_radius(&file.parameters, at_au)
+            .map_err(|e| vec![Problem::new("at_au", e)])?;
         let model = Model::run(&file.parameters).map_err(|e| vec![Problem::from_physics(&e)])?;
         Ok(UncertaintySession {
             file,
@@ -127,11 +120,9 @@ impl UncertaintySession {
     pub fn export(&self, format: &str, table: &str) -> Result<String, String> {
         let which = UncertaintyTable::from_key(table)
             .ok_or_else(|| format!("unknown table {table:?}; bands, snowlines or sensitivity"))?;
-        self.with_result(|r| match format {
-            "json" => Ok(nivalis_exports::formats::json_text(&uncertainty_json(r))),
-            "csv" => Ok(table_csv(r, which)),
-            "ecsv" => Ok(table_ecsv(r, which)),
-            "methods" => Ok(format!("{}\n", methods_text(r.spec, r.monte_carlo))),
+        self.with_result(|r| match (format, Format::from_key(format)) {
+            ("methods", _) => Ok(methods_file(r.spec, r.monte_carlo)),
+            (_, Some(f)) => Ok(uncertainty_text(r, f, which)),
             _ => Err(format!(
                 "unknown format {format:?}; csv, ecsv, json or methods"
             )),
