@@ -388,6 +388,11 @@ enum Command {
         /// formation radius (and radius x solid-to-gas) averaged over --samples disks.
         #[arg(long)]
         uncertainty: bool,
+        /// Fit over formation radius x formation age on the evolving disk (the file's
+        /// `evolution` section or its defaults): T1,T2[,N] ages in Myr and at least N snapshots
+        /// in the window (default 6); the solid-to-gas ratio is profiled (best per cell).
+        #[arg(long = "over-age-myr", value_name = "T1,T2[,N]", value_parser = nivalis_exports::evolution_fit::parse_age_window)]
+        over_age_myr: Option<(f64, f64, usize)>,
         /// Samples of the marginalised fit (1-100000; with --uncertainty).
         #[arg(long, default_value_t = 1000, allow_negative_numbers = true)]
         samples: i64,
@@ -849,6 +854,68 @@ fn planet_in_window(
     write_output(out, &text)
 }
 
+/// `nivalis fit ... --over-age-myr T1,T2[,N]`: the chi-square map over formation radius x
+/// formation age on the evolving disk (docs/model.md section 12.9).
+fn fit_over_age(
+    mut file: DiskFile,
+    (t1, t2, count): (f64, f64, usize),
+    observed: &nivalis_physics::planet::ObservedEnvelope,
+    settings: &nivalis_physics::planet::MapSettings,
+    output: &Output,
+) -> Result<(), Failure> {
+    use nivalis_exports::evolution_fit::{
+        age_fit_ecsv, age_fit_json, age_fit_table, snapshots_for_window,
+    };
+    let mut e = file
+        .evolution
+        .clone()
+        .unwrap_or_else(nivalis_physics::evolution::EvolutionParameters::defaults);
+    e.until_myr = t2;
+    e.snapshots = snapshots_for_window(e.start_myr, t1, t2, count).ok_or_else(|| {
+        Failure::input(vec![format!(
+            "--over-age-myr: the window must start at or after evolution.start_myr = {} Myr and end after it, with at most 500 snapshots; got {t1},{t2},{count}",
+            e.start_myr
+        )])
+    })?;
+    let flags = [
+        ("evolution.until_myr", "--over-age-myr"),
+        ("from_myr", "--over-age-myr"),
+        ("c_to_o", "--c-to-o"),
+        ("c_to_o_sigma", "--c-to-o-sigma"),
+        ("c_to_h_dex", "--c-to-h-dex"),
+        ("c_to_h_sigma", "--c-to-h-sigma"),
+        ("o_to_h_dex", "--o-to-h-dex"),
+        ("o_to_h_sigma", "--o-to-h-sigma"),
+        ("m_to_h_dex", "--m-to-h-dex"),
+        ("m_to_h_sigma", "--m-to-h-sigma"),
+        ("covariance", "--covariance"),
+        ("ratio_count", "--ratio-count"),
+        ("ratio_min", "--ratio-min"),
+        ("ratio_max", "--ratio-max"),
+        ("solid_mixing_fraction", "--mix"),
+        ("planet_mass_mjup", "--planet-mass-mjup"),
+        ("feeding_zone_hill_radii", "--feeding-zone-hill-radii"),
+    ];
+    e.check().map_err(|err| option_failure(&err, &flags))?;
+    let run = nivalis_physics::evolution::evolve(&file.parameters, &e)
+        .map_err(|err| option_failure(&err, &flags))?;
+    let map =
+        nivalis_physics::evolution::fit::chi_square_over_age(&run, t1, t2, observed, settings)
+            .map_err(|err| option_failure(&err, &flags))?;
+    file.evolution = Some(e);
+    let prov = Provenance::of(&file);
+    let used = methods(&file.parameters);
+    let text = match output.format {
+        TableFormat::Csv => to_csv(&age_fit_table(&map), &prov),
+        TableFormat::Ecsv => age_fit_ecsv(&map, &prov, &used),
+        TableFormat::Json => json_text(&age_fit_json(&map, &prov, &used)),
+    };
+    if let Some(r) = &map.goodness.reason {
+        eprintln!("warning: {r}; no formation place is allowed");
+    }
+    write_output(&output.out, &text)
+}
+
 fn execute(args: Args) -> Result<(), Failure> {
     let sets = args.set;
     match args.command {
@@ -1108,6 +1175,7 @@ fn execute(args: Args) -> Result<(), Failure> {
             figure,
             methods: methods_file,
             uncertainty,
+            over_age_myr,
             samples,
             seed,
             output,
@@ -1158,6 +1226,15 @@ fn execute(args: Args) -> Result<(), Failure> {
                 )
             })?;
             let (file, root) = read_disk_value(&disk, &sets)?;
+            if let Some(window) = over_age_myr {
+                if uncertainty || figure.is_some() || methods_file.is_some() {
+                    return Err(Failure::input(vec![
+                        "--over-age-myr: not combined with --uncertainty, --figure or --methods"
+                            .to_string(),
+                    ]));
+                }
+                return fit_over_age(file, window, &observed, &settings, &output);
+            }
             let model = run_model(&file)?;
             if uncertainty {
                 return fit_marginalised(

@@ -136,7 +136,7 @@ pub fn chi_square_over_age(
     let n_q = first.solid_to_gas.len();
     let mut rows = Vec::with_capacity(snaps.len() * n_r);
     for (map, &k) in maps.iter().zip(&snaps) {
-        for j in 0..n_r {
+        for (j, &r_au) in radius_au.iter().enumerate() {
             let cell = &map.rows[j * n_q..(j + 1) * n_q];
             let best_q = (0..n_q)
                 .filter(|&q| cell[q].feasible && cell[q].in_prior)
@@ -151,7 +151,7 @@ pub fn chi_square_over_age(
             let q = best_q.map_or(0, |(q, _)| q);
             rows.push(AgeRadiusRow {
                 time_myr: times[k],
-                radius_au: radius_au[j],
+                radius_au: r_au,
                 solid_to_gas: cell[q].solid_to_gas,
                 ratio_index: q,
                 row: cell[q],
