@@ -77,8 +77,59 @@ enum FigureTheme {
 const MAP_EXPORT_BYTES_PER_SAMPLE: usize = 900;
 
 /// Parse a figure view name such as `ice_map:CO` (the names live in `nivalis_charts::View`).
-pub fn parse_view(text: &str) -> Result<nivalis_charts::View, String> {
-    nivalis_charts::View::from_key(text).map_err(|e| format!("--view: {e}"))
+pub fn parse_view(text: &str) -> Result<nivalis_charts::AnyView, String> {
+    nivalis_charts::AnyView::from_key(text).map_err(|e| format!("--view: {e}"))
+}
+
+/// The figure of an evolution view (docs/model.md section 12): the disk evolved with its file's
+/// `evolution` section (or the defaults), drawn from the JSON of `nivalis evolve` at the snapshot
+/// nearest `age_myr` in log age (the last without it), as the page draws it. Returns the figure
+/// and the provenance of the resolved file with its evolution section.
+fn evolution_figure(
+    mut file: DiskFile,
+    view: nivalis_charts::EvolutionView,
+    age_myr: Option<f64>,
+) -> Result<(nivalis_charts::Figure, Provenance), Failure> {
+    let e = file
+        .evolution
+        .clone()
+        .unwrap_or_else(nivalis_physics::evolution::EvolutionParameters::defaults);
+    let flags = [("evolution.until_myr", "--set evolution.until_myr")];
+    e.check().map_err(|err| option_failure(&err, &flags))?;
+    let run = nivalis_physics::evolution::evolve(&file.parameters, &e)
+        .map_err(|err| option_failure(&err, &flags))?;
+    let statics = (0..run.snapshots.len())
+        .map(|k| run.static_model_at(k))
+        .collect::<Result<Vec<_>, _>>()
+        .map_err(|err| option_failure(&err, &flags))?;
+    file.evolution = Some(e.clone());
+    let provenance = Provenance::of(&file);
+    // Through the JSON text, as the page holds it, so both draw the very same numbers.
+    let text = json_text(&nivalis_exports::evolution::evolution_json(
+        &run,
+        &statics,
+        &file.parameters,
+        &e,
+        &provenance,
+    ));
+    let v: serde_json::Value =
+        serde_json::from_str(&text).map_err(|err| Failure::input(vec![err.to_string()]))?;
+    let times = run.times_myr();
+    let k = match age_myr {
+        None => times.len() - 1,
+        Some(t) if t > 0.0 && t.is_finite() => (0..times.len())
+            .min_by(|&a, &b| {
+                let ln = nivalis_physics::math::ln;
+                ln(times[a] / t).abs().total_cmp(&ln(times[b] / t).abs())
+            })
+            .unwrap_or(0),
+        Some(t) => {
+            return Err(Failure::input(vec![format!(
+                "--age-myr: must be a positive age in Myr, got {t}"
+            )]))
+        }
+    };
+    Ok((nivalis_charts::evolution_figure(view, &v, k), provenance))
 }
 
 /// Planet output formats.
@@ -465,7 +516,10 @@ enum Command {
         disk: PathBuf,
         /// The view: c_to_o (C/O of gas, ice and solids vs radius, snowlines marked),
         /// temperature (midplane temperature and surface density), abundances (gas and ice per species),
-        /// ice_map:<SPECIES> (r-z ice fraction with the snow surface), c_to_o_map (r-z gas C/O).
+        /// ice_map:<SPECIES> (r-z ice fraction with the snow surface), c_to_o_map (r-z gas C/O);
+        /// of the evolving disk (docs/model.md section 12): snowline_tracks (snowline radius vs
+        /// age), evolved_c_to_o (gas C/O vs radius at one age with the static model's),
+        /// c_to_o_time_map (gas C/O over radius x age).
         #[arg(long)]
         view: String,
         /// File format.
@@ -480,6 +534,10 @@ enum Command {
         /// Colours: light (paper) or dark.
         #[arg(long, value_enum, default_value_t = FigureTheme::Light)]
         theme: FigureTheme,
+        /// For the evolution views: the age [Myr] whose nearest snapshot is drawn (default the
+        /// last; the run follows the file's `evolution` section).
+        #[arg(long = "age-myr", value_name = "MYR", allow_negative_numbers = true)]
+        age_myr: Option<f64>,
         /// Write to this file instead of standard output.
         #[arg(long, value_name = "FILE")]
         out: Option<PathBuf>,
@@ -1471,13 +1529,24 @@ fn execute(args: Args) -> Result<(), Failure> {
             width,
             dpi,
             theme,
+            age_myr,
             out,
         } => {
-            use nivalis_charts::{render_png, render_svg, Figure, FigureSize, Theme};
+            use nivalis_charts::{render_png, render_svg, AnyView, Figure, FigureSize, Theme};
             let v = parse_view(&view).map_err(|e| Failure::input(vec![e]))?;
             let file = read_disk(&disk, &sets)?;
-            let model = run_model(&file)?;
-            let figure = Figure::from_model(v, &model);
+            let (figure, prov) = match v {
+                AnyView::Model(v) => {
+                    if age_myr.is_some() {
+                        return Err(Failure::input(vec![
+                            "--age-myr: only for the evolution views".to_string(),
+                        ]));
+                    }
+                    let model = run_model(&file)?;
+                    (Figure::from_model(v, &model), Provenance::of(&file))
+                }
+                AnyView::Evolution(v) => evolution_figure(file, v, age_myr)?,
+            };
             let theme = match theme {
                 FigureTheme::Light => Theme::light(),
                 FigureTheme::Dark => Theme::dark(),
@@ -1486,7 +1555,6 @@ fn execute(args: Args) -> Result<(), Failure> {
                 FigureWidth::Single => FigureSize::single_column(),
                 FigureWidth::Double => FigureSize::double_column(),
             };
-            let prov = Provenance::of(&file);
             let chart_failure = |e: nivalis_charts::ChartError| Failure::input(vec![e.to_string()]);
             match format {
                 FigureFormat::Svg => {

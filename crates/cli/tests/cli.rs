@@ -1323,3 +1323,36 @@ fn fit_maps_formation_radius_by_age_on_the_evolving_disk() {
     assert_eq!(out.status.code(), Some(2));
     assert!(stderr(&out).contains("--over-age-myr"), "{}", stderr(&out));
 }
+
+#[test]
+fn figure_draws_the_evolution_views() {
+    // Issue 13 item 4 exports: `nivalis figure DISK --view <evolution view>` through the same key
+    // table as the static views (docs/model.md section 12), SVG and PNG.
+    let path = temp_file(
+        "evolution_figure.json",
+        r#"{"grid": {"radial_cells": 30, "vertical_cells": 8}, "evolution": {"until_myr": 0.2, "snapshots": 3}}"#,
+    );
+    let p = path.to_str().unwrap();
+    for view in ["snowline_tracks", "evolved_c_to_o", "c_to_o_time_map"] {
+        let out = nivalis(&["figure", p, "--view", view]);
+        assert_eq!(out.status.code(), Some(0), "{view}: {}", stderr(&out));
+        let svg = stdout(&out);
+        assert!(svg.starts_with("<svg") || svg.contains("<svg"), "{view}");
+        assert!(svg.contains(view), "{view}: the provenance names the view");
+    }
+    let out = nivalis(&[
+        "figure",
+        p,
+        "--view",
+        "evolved_c_to_o",
+        "--age-myr",
+        "0.05",
+        "--format",
+        "png",
+    ]);
+    assert_eq!(out.status.code(), Some(0), "{}", stderr(&out));
+    assert!(out.stdout.starts_with(b"\x89PNG"));
+    let out = nivalis(&["figure", p, "--view", "snowline_track"]);
+    assert_eq!(out.status.code(), Some(2));
+    assert!(stderr(&out).contains("c_to_o_time_map"), "{}", stderr(&out));
+}

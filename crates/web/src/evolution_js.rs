@@ -5,8 +5,7 @@
 //! views of one snapshot from that JSON into canvases through `nivalis-charts`.
 
 use nivalis_charts::{
-    draw_evolved_c_to_o, draw_radius_time_map, draw_snowline_tracks, EvolvedProfileData,
-    RadiusTimeMapData, SnowlineTrackData, Theme,
+    draw_evolved_c_to_o, draw_radius_time_map, draw_snowline_tracks, evolution_view_data, Theme,
 };
 use nivalis_disk_files::{from_value, Problem};
 use nivalis_exports::evolution::evolution_json;
@@ -91,18 +90,6 @@ pub fn evolve_disk(
     })
 }
 
-fn numbers(v: &Value) -> Vec<f64> {
-    v.as_array()
-        .map(|a| a.iter().filter_map(Value::as_f64).collect())
-        .unwrap_or_default()
-}
-
-fn optional(v: &Value) -> Vec<Option<f64>> {
-    v.as_array()
-        .map(|a| a.iter().map(Value::as_f64).collect())
-        .unwrap_or_default()
-}
-
 /// Draw snapshot `snapshot` of an evolution JSON (`evolveDisk`'s text) into the canvases with
 /// ids `tracksId` (snowline tracks), `profileId` (gas C/O with the static model's) and `mapId`
 /// (radius x age map of gas C/O), in the light or dark theme, at `pixelsPerPoint`.
@@ -118,36 +105,9 @@ pub fn draw_evolution(
 ) -> Result<(), JsValue> {
     let fail = |e: String| JsValue::from_str(&e);
     let v: Value = serde_json::from_str(text).map_err(|e| fail(e.to_string()))?;
-    let times = numbers(&v["times_myr"]);
-    let k = snapshot.min(times.len().saturating_sub(1));
-    let current = times.get(k).copied();
     let theme = if dark { Theme::dark() } else { Theme::light() };
-    let tracks = SnowlineTrackData {
-        times_myr: times.clone(),
-        tracks: v["snowlines"]
-            .as_object()
-            .map(|m| m.iter().map(|(s, r)| (s.clone(), optional(r))).collect())
-            .unwrap_or_default(),
-        current_myr: current,
-    };
-    let radius = numbers(&v["radius_au"]);
-    let profile = EvolvedProfileData {
-        radius_au: radius.clone(),
-        evolved: optional(&v["c_to_o_gas"][k]),
-        static_profile: optional(&v["static"]["c_to_o_gas"][k]),
-        star_c_to_o: v["star_c_to_o"].as_f64(),
-        age_myr: current.unwrap_or(0.0),
-    };
-    let map = RadiusTimeMapData {
-        radius_au: radius,
-        times_myr: times.clone(),
-        values: (0..times.len())
-            .map(|i| optional(&v["c_to_o_gas"][i]))
-            .collect(),
-        range: (0.0, 2.0),
-        label: "gas C/O".into(),
-        current_myr: current,
-    };
+    // The same data the CLI's `nivalis figure --view <evolution view>` draws.
+    let (tracks, profile, map) = evolution_view_data(&v, snapshot);
     for id in [tracks_id, profile_id, map_id] {
         let canvas = canvas_by_id(id).map_err(fail)?;
         let area = MeasuredCanvas::new(&canvas)
