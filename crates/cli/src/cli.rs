@@ -579,6 +579,10 @@ enum Command {
         /// For CSV and ECSV: the radius x time profiles or the snowline tracks.
         #[arg(long, value_enum, default_value_t = EvolveTable::Profiles)]
         table: EvolveTable,
+        /// Also write the methods text of this run (with its citations) into this file: the
+        /// page's evolution methods download.
+        #[arg(long, value_name = "FILE")]
+        methods: Option<PathBuf>,
         #[command(flatten)]
         output: Output,
     },
@@ -1057,6 +1061,7 @@ fn execute(args: Args) -> Result<(), Failure> {
             until_myr,
             snapshots,
             table,
+            methods: methods_file,
             output,
         } => {
             use nivalis_exports::evolution::{
@@ -1089,6 +1094,14 @@ fn execute(args: Args) -> Result<(), Failure> {
                 .map_err(|err| Failure::input(vec![err.to_string()]))?;
             file.evolution = Some(e.clone());
             let provenance = Provenance::of(&file);
+            if let Some(path) = &methods_file {
+                let text = nivalis_exports::evolution_methods::evolution_methods_paragraph(
+                    &file.parameters,
+                    &e,
+                    &provenance,
+                );
+                write_output(&Some(path.clone()), &text)?;
+            }
             let t = match table {
                 EvolveTable::Profiles => evolution_table(&run, &statics),
                 EvolveTable::Snowlines => snowline_tracks_table(&run),

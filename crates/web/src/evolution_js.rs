@@ -125,3 +125,47 @@ pub fn draw_evolution(
     }
     Ok(())
 }
+
+/// The paper figure of an evolution view (`snowline_tracks`, `evolved_c_to_o`,
+/// `c_to_o_time_map`) at snapshot `snapshot` of an evolution JSON (`evolveDisk`'s text), with
+/// the provenance of the run's resolved disk (its `disk` field): the same bytes as
+/// `nivalis figure DISK --view <view> [--age-myr T]` for that disk. `options`:
+/// `{format, width, dpi, theme}` as the page's other figure downloads.
+#[wasm_bindgen(js_name = evolutionFigure)]
+pub fn evolution_figure_file(
+    text: &str,
+    snapshot: usize,
+    view: &str,
+    options: JsValue,
+) -> Result<Vec<u8>, JsError> {
+    let options: Value =
+        serde_wasm_bindgen::from_value(options).map_err(|e| JsError::new(&e.to_string()))?;
+    let options =
+        crate::figures::FigureOptions::from_value(&options).map_err(|e| JsError::new(&e))?;
+    let (figure, provenance) =
+        evolution_figure_of(text, snapshot, view).map_err(|e| JsError::new(&e))?;
+    crate::figures::figure_file(&figure, &options, &provenance, view)
+        .map_err(|e| JsError::new(&e.to_string()))
+}
+
+/// The figure and provenance behind [`evolution_figure_file`].
+pub fn evolution_figure_of(
+    text: &str,
+    snapshot: usize,
+    view: &str,
+) -> Result<(nivalis_charts::Figure, Provenance), String> {
+    let which = nivalis_charts::EvolutionView::from_key(view).ok_or_else(|| {
+        format!("unknown evolution view {view:?}; expected snowline_tracks, evolved_c_to_o or c_to_o_time_map")
+    })?;
+    let v: Value = serde_json::from_str(text).map_err(|e| e.to_string())?;
+    let file = from_value(&v["disk"]).map_err(|p| {
+        p.0.iter()
+            .map(|p| format!("{}: {}", p.path, p.message))
+            .collect::<Vec<_>>()
+            .join("; ")
+    })?;
+    Ok((
+        nivalis_charts::evolution_figure(which, &v, snapshot),
+        Provenance::of(&file),
+    ))
+}
