@@ -916,6 +916,25 @@ fn planet_in_window(
     write_output(out, &text)
 }
 
+/// The fit's core field names and the flags the user typed for them.
+const FIT_FLAGS: [(&str, &str); 15] = [
+    ("c_to_o", "--c-to-o"),
+    ("c_to_o_sigma", "--c-to-o-sigma"),
+    ("c_to_h_dex", "--c-to-h-dex"),
+    ("c_to_h_sigma", "--c-to-h-sigma"),
+    ("o_to_h_dex", "--o-to-h-dex"),
+    ("o_to_h_sigma", "--o-to-h-sigma"),
+    ("m_to_h_dex", "--m-to-h-dex"),
+    ("m_to_h_sigma", "--m-to-h-sigma"),
+    ("covariance", "--covariance"),
+    ("ratio_count", "--ratio-count"),
+    ("ratio_min", "--ratio-min"),
+    ("ratio_max", "--ratio-max"),
+    ("solid_mixing_fraction", "--mix"),
+    ("planet_mass_mjup", "--planet-mass-mjup"),
+    ("feeding_zone_hill_radii", "--feeding-zone-hill-radii"),
+];
+
 /// `nivalis fit ... --over-age-myr T1,T2[,N]`: the chi-square map over formation radius x
 /// formation age on the evolving disk (docs/model.md section 12.9).
 fn fit_over_age(
@@ -939,25 +958,11 @@ fn fit_over_age(
             e.start_myr
         )])
     })?;
-    let flags = [
+    let mut flags = vec![
         ("evolution.until_myr", "--over-age-myr"),
         ("from_myr", "--over-age-myr"),
-        ("c_to_o", "--c-to-o"),
-        ("c_to_o_sigma", "--c-to-o-sigma"),
-        ("c_to_h_dex", "--c-to-h-dex"),
-        ("c_to_h_sigma", "--c-to-h-sigma"),
-        ("o_to_h_dex", "--o-to-h-dex"),
-        ("o_to_h_sigma", "--o-to-h-sigma"),
-        ("m_to_h_dex", "--m-to-h-dex"),
-        ("m_to_h_sigma", "--m-to-h-sigma"),
-        ("covariance", "--covariance"),
-        ("ratio_count", "--ratio-count"),
-        ("ratio_min", "--ratio-min"),
-        ("ratio_max", "--ratio-max"),
-        ("solid_mixing_fraction", "--mix"),
-        ("planet_mass_mjup", "--planet-mass-mjup"),
-        ("feeding_zone_hill_radii", "--feeding-zone-hill-radii"),
     ];
+    flags.extend(FIT_FLAGS);
     e.check().map_err(|err| option_failure(&err, &flags))?;
     let run = nivalis_physics::evolution::evolve(&file.parameters, &e)
         .map_err(|err| option_failure(&err, &flags))?;
@@ -1313,23 +1318,7 @@ fn execute(args: Args) -> Result<(), Failure> {
                 );
             }
             // Errors of the core name its fields; the user typed flags.
-            let flags = [
-                ("c_to_o", "--c-to-o"),
-                ("c_to_o_sigma", "--c-to-o-sigma"),
-                ("c_to_h_dex", "--c-to-h-dex"),
-                ("c_to_h_sigma", "--c-to-h-sigma"),
-                ("o_to_h_dex", "--o-to-h-dex"),
-                ("o_to_h_sigma", "--o-to-h-sigma"),
-                ("m_to_h_dex", "--m-to-h-dex"),
-                ("m_to_h_sigma", "--m-to-h-sigma"),
-                ("covariance", "--covariance"),
-                ("ratio_count", "--ratio-count"),
-                ("ratio_min", "--ratio-min"),
-                ("ratio_max", "--ratio-max"),
-                ("solid_mixing_fraction", "--mix"),
-                ("planet_mass_mjup", "--planet-mass-mjup"),
-                ("feeding_zone_hill_radii", "--feeding-zone-hill-radii"),
-            ];
+            let flags = FIT_FLAGS;
             let map = chi_square_map(&model, &observed, &settings)
                 .map_err(|e| option_failure(&e, &flags))?;
             let prov = Provenance::of(&file);
