@@ -423,3 +423,56 @@ fn a_planet_in_a_formation_window_takes_the_evolved_gas() {
     assert!(run.accreted_phases(0.3, 1.0, 0.5, 0.1).is_err());
     assert!(run.accreted_phases(0.01, 1.0, 0.1, 0.2).is_err());
 }
+
+#[test]
+fn self_consistency_the_age_radius_fit_recovers_a_planet_made_from_the_evolved_disk() {
+    // Self-consistency check, not an outside reference (docs/model.md section 12.9): an envelope
+    // built from the evolved disk's own gas and solids at a known (radius, age, solid-to-gas)
+    // is fitted over radius x age; the best fit must come back within one radial cell and at the
+    // same snapshot, with a chi-square of zero up to rounding and an acceptable fit.
+    use nivalis_physics::evolution::fit::chi_square_over_age;
+    use nivalis_physics::planet::{MapSettings, Observable, ObservedEnvelope};
+    let p = small_disk();
+    let run = evolve(&p, &short_run()).unwrap();
+    let times = run.times_myr();
+    let k = times.iter().position(|&t| t > 0.09).unwrap();
+    let j = run.radius_cm.iter().position(|&r| r > 0.5 * AU_CM).unwrap();
+    let r_au = run.radius_cm[j] / AU_CM;
+    let settings = MapSettings::defaults();
+    let ratios = nivalis_physics::planet::solid_to_gas_values(
+        settings.ratio_min,
+        settings.ratio_max,
+        settings.ratio_count,
+    );
+    let q = ratios[20];
+    let envelope = run
+        .accreted_phases(r_au, r_au, times[k], times[k])
+        .unwrap()
+        .envelope(1.0, q, settings.solid_mixing_fraction)
+        .unwrap();
+    let observed = ObservedEnvelope::c_to_o(envelope.c_to_o.unwrap(), 0.005)
+        .with(Observable::CToH, envelope.c_to_h_dex().unwrap(), 0.01)
+        .with(Observable::OToH, envelope.o_to_h_dex().unwrap(), 0.01);
+    let map = chi_square_over_age(&run, 0.04, 1.0, &observed, &settings).unwrap();
+    assert_eq!(map.times_myr.len(), 5, "{:?}", map.times_myr);
+    assert_eq!(map.rows.len(), 5 * run.radius_cm.len());
+    let best = map.best.unwrap();
+    assert_eq!(map.snapshot_index[best.time_index], k, "{best:?}");
+    assert!(
+        best.radial_cell.abs_diff(j) <= 1,
+        "{} vs {j}",
+        best.radial_cell
+    );
+    assert!(best.row.chi2.unwrap() < 1e-6, "{best:?}");
+    assert!(map.goodness.acceptable);
+    assert_eq!(map.goodness.degrees_of_freedom, 1);
+    // The allowed region holds the true place at its age.
+    let at_k = &map.allowed[best.time_index];
+    assert!(at_k
+        .one_sigma
+        .iter()
+        .any(|i| i.first_cell <= j && j <= i.last_cell));
+    // A window with no snapshot is refused with the field named.
+    let err = chi_square_over_age(&run, 0.05, 0.06, &observed, &settings).unwrap_err();
+    assert_eq!(err.path(), Some("from_myr"));
+}

@@ -49,7 +49,7 @@ function evoSetState(name, message = "") {
   $("evo-cancel").disabled = !running;
   $("evo-progress").hidden = !running;
   const ready = evoText !== null;
-  for (const id of ["evo-age", "evo-play", "evo-export-json"]) $(id).disabled = running || !ready;
+  for (const id of ["evo-age", "evo-play", "evo-export-json", "evo-export-methods", "evo-figure-svg", "evo-figure-png"]) $(id).disabled = running || !ready;
 }
 
 function evoStop() {
@@ -139,6 +139,28 @@ $("evo-play").addEventListener("click", evoPlay);
 $("evo-export-json").addEventListener("click", () => {
   if (evoText !== null) download(`${slug(App.state.name)}-evolution.json`, evoText, "application/json");
 });
+$("evo-export-methods").addEventListener("click", () => {
+  // The run's methods text, as `nivalis evolve DISK --methods FILE` writes it.
+  if (evoText !== null) download(`${slug(App.state.name)}-evolution-methods.txt`, JSON.parse(evoText).methods_text, "text/plain");
+});
+function evoSaveFigure(format) {
+  if (evoText === null) return;
+  const problem = $("evo-figure-problem");
+  problem.hidden = true;
+  const view = $("evo-figure-view").value;
+  // The page's figure options (width, dpi, theme), as the other figure downloads use them.
+  const value = (id, fallback) => { const e = document.getElementById(id); return e ? e.value : fallback; };
+  const options = { format, width: value("figure-width", "single"), dpi: value("figure-dpi", "300"), theme: value("figure-theme", "light") };
+  try {
+    const bytes = evolutionFigure(evoText, Number($("evo-age").value), view, options);
+    download(`${slug(App.state.name)}-${view}.${format}`, bytes, format === "svg" ? "image/svg+xml" : "image/png");
+  } catch (error) {
+    problem.hidden = false;
+    problem.textContent = `The figure could not be made: ${error && error.message ? error.message : error}`;
+  }
+}
+$("evo-figure-svg").addEventListener("click", () => evoSaveFigure("svg"));
+$("evo-figure-png").addEventListener("click", () => evoSaveFigure("png"));
 matchMedia("(prefers-color-scheme: dark)").addEventListener("change", evoDraw);
 evoSetState("idle");
 

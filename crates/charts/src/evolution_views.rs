@@ -421,3 +421,108 @@ mod tests {
         assert_eq!(format_age(0.0), "0");
     }
 }
+
+/// The views of an evolving run, by the keys the CLI (`nivalis figure --view`), the page and the
+/// provenance use: `snowline_tracks` (g), `evolved_c_to_o` (h), `c_to_o_time_map` (i).
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum EvolutionView {
+    /// (g) Snowline radius against age.
+    SnowlineTracks,
+    /// (h) Gas C/O against radius at one age, with the static model's.
+    EvolvedCToO,
+    /// (i) Gas C/O over radius x age.
+    CToOTimeMap,
+}
+
+impl EvolutionView {
+    /// Every evolution view.
+    pub const ALL: [EvolutionView; 3] = [
+        EvolutionView::SnowlineTracks,
+        EvolutionView::EvolvedCToO,
+        EvolutionView::CToOTimeMap,
+    ];
+
+    /// The view's key.
+    pub fn key(self) -> &'static str {
+        match self {
+            EvolutionView::SnowlineTracks => "snowline_tracks",
+            EvolutionView::EvolvedCToO => "evolved_c_to_o",
+            EvolutionView::CToOTimeMap => "c_to_o_time_map",
+        }
+    }
+
+    /// The view of a key, if it is an evolution view.
+    pub fn from_key(text: &str) -> Option<EvolutionView> {
+        EvolutionView::ALL.into_iter().find(|v| v.key() == text)
+    }
+}
+
+fn json_numbers(v: &serde_json::Value) -> Vec<f64> {
+    v.as_array()
+        .map(|a| a.iter().filter_map(serde_json::Value::as_f64).collect())
+        .unwrap_or_default()
+}
+
+fn json_optional(v: &serde_json::Value) -> Vec<Option<f64>> {
+    v.as_array()
+        .map(|a| a.iter().map(serde_json::Value::as_f64).collect())
+        .unwrap_or_default()
+}
+
+/// The three evolution views' data at snapshot `snapshot` (clamped to the last) of an evolving
+/// run's JSON (the layout of `nivalis evolve --format json`, which the page's run returns too),
+/// so the page and the CLI draw the same numbers.
+pub fn evolution_view_data(
+    v: &serde_json::Value,
+    snapshot: usize,
+) -> (SnowlineTrackData, EvolvedProfileData, RadiusTimeMapData) {
+    let times = json_numbers(&v["times_myr"]);
+    let k = snapshot.min(times.len().saturating_sub(1));
+    let current = times.get(k).copied();
+    let tracks = SnowlineTrackData {
+        times_myr: times.clone(),
+        tracks: v["snowlines"]
+            .as_object()
+            .map(|m| {
+                m.iter()
+                    .map(|(s, r)| (s.clone(), json_optional(r)))
+                    .collect()
+            })
+            .unwrap_or_default(),
+        current_myr: current,
+    };
+    let radius = json_numbers(&v["radius_au"]);
+    let profile = EvolvedProfileData {
+        radius_au: radius.clone(),
+        evolved: json_optional(&v["c_to_o_gas"][k]),
+        static_profile: json_optional(&v["static"]["c_to_o_gas"][k]),
+        star_c_to_o: v["star_c_to_o"].as_f64(),
+        age_myr: current.unwrap_or(0.0),
+    };
+    let map = RadiusTimeMapData {
+        radius_au: radius,
+        times_myr: times.clone(),
+        values: (0..times.len())
+            .map(|i| json_optional(&v["c_to_o_gas"][i]))
+            .collect(),
+        range: (0.0, 2.0),
+        label: "gas C/O".into(),
+        current_myr: current,
+    };
+    (tracks, profile, map)
+}
+
+/// One evolution view of an evolving run's JSON at snapshot `snapshot`, as a [`crate::Figure`]
+/// for `render_svg` / `render_png`.
+pub fn evolution_figure(
+    view: EvolutionView,
+    v: &serde_json::Value,
+    snapshot: usize,
+) -> crate::Figure {
+    let (tracks, profile, map) = evolution_view_data(v, snapshot);
+    match view {
+        EvolutionView::SnowlineTracks => crate::Figure::SnowlineTracks(tracks),
+        EvolutionView::EvolvedCToO => crate::Figure::EvolvedCToO(profile),
+        EvolutionView::CToOTimeMap => crate::Figure::RadiusTimeMap(map),
+    }
+}

@@ -52,6 +52,7 @@ pub use map::{rasterise_map, rasterise_map_over, MapData, RasterImage};
 pub use options::{FigureFormat, FigureOptions, RenderedFigure};
 #[cfg(feature = "png")]
 pub use render::render_png;
+pub use render::AnyView;
 pub use render::{
     draw_figure, render_svg, Figure, FigureSize, View, DEFAULT_ASPECT, DOUBLE_COLUMN_WIDTH_PT,
     SINGLE_COLUMN_WIDTH_PT,
@@ -63,6 +64,6 @@ pub use views::{
     draw_temperature_profile, map_layout, CellDrawing,
 };
 pub use views::{
-    draw_evolved_c_to_o, draw_radius_time_map, draw_snowline_tracks, EvolvedProfileData,
-    RadiusTimeMapData, SnowlineTrackData,
+    draw_evolved_c_to_o, draw_radius_time_map, draw_snowline_tracks, evolution_figure,
+    evolution_view_data, EvolutionView, EvolvedProfileData, RadiusTimeMapData, SnowlineTrackData,
 };

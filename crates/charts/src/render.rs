@@ -132,6 +132,44 @@ impl View {
     }
 }
 
+/// Any view key of the figure table: a view of one model ([`View`]) or of an evolving run
+/// ([`crate::EvolutionView`], docs/model.md section 12).
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum AnyView {
+    /// A view of the static model.
+    Model(View),
+    /// A view of an evolving run.
+    Evolution(crate::EvolutionView),
+}
+
+impl AnyView {
+    /// Every key the figure table accepts, for messages and help texts.
+    pub const NAMES: &'static str = "c_to_o, temperature, abundances, ice_map:<SPECIES>, c_to_o_map, snowline_tracks, evolved_c_to_o, c_to_o_time_map";
+
+    /// Parses a view key: the evolution views' keys, then [`View::from_key`]; the error names
+    /// every allowed key.
+    pub fn from_key(text: &str) -> Result<AnyView, String> {
+        if let Some(v) = crate::EvolutionView::from_key(text) {
+            return Ok(AnyView::Evolution(v));
+        }
+        View::from_key(text).map(AnyView::Model).map_err(|e| {
+            if e.starts_with("unknown view") {
+                format!("unknown view {text:?}; expected one of {}", AnyView::NAMES)
+            } else {
+                e
+            }
+        })
+    }
+
+    /// The view's key.
+    pub fn key(&self) -> String {
+        match self {
+            AnyView::Model(v) => v.key(),
+            AnyView::Evolution(v) => v.key().to_string(),
+        }
+    }
+}
+
 /// A view together with its data: what [`render_svg`] and [`render_png`] draw.
 #[derive(Debug, Clone, PartialEq)]
 pub enum Figure {
@@ -147,6 +185,12 @@ pub enum Figure {
     Abundances(AbundanceData),
     /// (f)
     Chi2(Chi2Data),
+    /// (g) Snowline tracks of an evolving run.
+    SnowlineTracks(crate::SnowlineTrackData),
+    /// (h) Gas C/O at one age of an evolving run, with the static model's.
+    EvolvedCToO(crate::EvolvedProfileData),
+    /// (i) Gas C/O over radius x age.
+    RadiusTimeMap(crate::RadiusTimeMapData),
 }
 
 impl Figure {
@@ -179,6 +223,9 @@ pub fn draw_figure<DB: DrawingBackend>(
         Figure::CToOMap(d) => draw_c_to_o_map(area, d, theme, pixels_per_point, cells),
         Figure::Abundances(d) => draw_abundance_profiles(area, d, theme, pixels_per_point),
         Figure::Chi2(d) => draw_chi2_map(area, d, theme, pixels_per_point),
+        Figure::SnowlineTracks(d) => crate::draw_snowline_tracks(area, d, theme, pixels_per_point),
+        Figure::EvolvedCToO(d) => crate::draw_evolved_c_to_o(area, d, theme, pixels_per_point),
+        Figure::RadiusTimeMap(d) => crate::draw_radius_time_map(area, d, theme, pixels_per_point),
     }
 }
 

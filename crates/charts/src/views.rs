@@ -24,8 +24,9 @@ use crate::theme::{LineDash, Marker, SeriesStyle, Theme};
 #[path = "evolution_views.rs"]
 mod evolution_views;
 pub use evolution_views::{
-    draw_evolved_c_to_o, draw_radius_time_map, draw_snowline_tracks, format_age,
-    EvolvedProfileData, RadiusTimeMapData, SnowlineTrackData,
+    draw_evolved_c_to_o, draw_radius_time_map, draw_snowline_tracks, evolution_figure,
+    evolution_view_data, format_age, EvolutionView, EvolvedProfileData, RadiusTimeMapData,
+    SnowlineTrackData,
 };
 
 /// Outer padding [pt].

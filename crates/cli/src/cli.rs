@@ -76,8 +76,59 @@ enum FigureTheme {
 const MAP_EXPORT_BYTES_PER_SAMPLE: usize = 900;
 
 /// Parse a figure view name such as `ice_map:CO` (the names live in `nivalis_charts::View`).
-pub fn parse_view(text: &str) -> Result<nivalis_charts::View, String> {
-    nivalis_charts::View::from_key(text).map_err(|e| format!("--view: {e}"))
+pub fn parse_view(text: &str) -> Result<nivalis_charts::AnyView, String> {
+    nivalis_charts::AnyView::from_key(text).map_err(|e| format!("--view: {e}"))
+}
+
+/// The figure of an evolution view (docs/model.md section 12): the disk evolved with its file's
+/// `evolution` section (or the defaults), drawn from the JSON of `nivalis evolve` at the snapshot
+/// nearest `age_myr` in log age (the last without it), as the page draws it. Returns the figure
+/// and the provenance of the resolved file with its evolution section.
+fn evolution_figure(
+    mut file: DiskFile,
+    view: nivalis_charts::EvolutionView,
+    age_myr: Option<f64>,
+) -> Result<(nivalis_charts::Figure, Provenance), Failure> {
+    let e = file
+        .evolution
+        .clone()
+        .unwrap_or_else(nivalis_physics::evolution::EvolutionParameters::defaults);
+    let flags = [("evolution.until_myr", "--set evolution.until_myr")];
+    e.check().map_err(|err| option_failure(&err, &flags))?;
+    let run = nivalis_physics::evolution::evolve(&file.parameters, &e)
+        .map_err(|err| option_failure(&err, &flags))?;
+    let statics = (0..run.snapshots.len())
+        .map(|k| run.static_model_at(k))
+        .collect::<Result<Vec<_>, _>>()
+        .map_err(|err| option_failure(&err, &flags))?;
+    file.evolution = Some(e.clone());
+    let provenance = Provenance::of(&file);
+    // Through the JSON text, as the page holds it, so both draw the very same numbers.
+    let text = json_text(&nivalis_exports::evolution::evolution_json(
+        &run,
+        &statics,
+        &file.parameters,
+        &e,
+        &provenance,
+    ));
+    let v: serde_json::Value =
+        serde_json::from_str(&text).map_err(|err| Failure::input(vec![err.to_string()]))?;
+    let times = run.times_myr();
+    let k = match age_myr {
+        None => times.len() - 1,
+        Some(t) if t > 0.0 && t.is_finite() => (0..times.len())
+            .min_by(|&a, &b| {
+                let ln = nivalis_physics::math::ln;
+                ln(times[a] / t).abs().total_cmp(&ln(times[b] / t).abs())
+            })
+            .unwrap_or(0),
+        Some(t) => {
+            return Err(Failure::input(vec![format!(
+                "--age-myr: must be a positive age in Myr, got {t}"
+            )]))
+        }
+    };
+    Ok((nivalis_charts::evolution_figure(view, &v, k), provenance))
 }
 
 /// Planet output formats.
@@ -387,6 +438,11 @@ enum Command {
         /// formation radius (and radius x solid-to-gas) averaged over --samples disks.
         #[arg(long)]
         uncertainty: bool,
+        /// Fit over formation radius x formation age on the evolving disk (the file's
+        /// `evolution` section or its defaults): T1,T2[,N] ages in Myr and at least N snapshots
+        /// in the window (default 6); the solid-to-gas ratio is profiled (best per cell).
+        #[arg(long = "over-age-myr", value_name = "T1,T2[,N]", value_parser = nivalis_exports::evolution_fit::parse_age_window)]
+        over_age_myr: Option<(f64, f64, usize)>,
         /// Samples of the marginalised fit (1-100000; with --uncertainty).
         #[arg(long, default_value_t = 1000, allow_negative_numbers = true)]
         samples: i64,
@@ -459,7 +515,10 @@ enum Command {
         disk: PathBuf,
         /// The view: c_to_o (C/O of gas, ice and solids vs radius, snowlines marked),
         /// temperature (midplane temperature and surface density), abundances (gas and ice per species),
-        /// ice_map:<SPECIES> (r-z ice fraction with the snow surface), c_to_o_map (r-z gas C/O).
+        /// ice_map:<SPECIES> (r-z ice fraction with the snow surface), c_to_o_map (r-z gas C/O);
+        /// of the evolving disk (docs/model.md section 12): snowline_tracks (snowline radius vs
+        /// age), evolved_c_to_o (gas C/O vs radius at one age with the static model's),
+        /// c_to_o_time_map (gas C/O over radius x age).
         #[arg(long)]
         view: String,
         /// File format.
@@ -474,6 +533,10 @@ enum Command {
         /// Colours: light (paper) or dark.
         #[arg(long, value_enum, default_value_t = FigureTheme::Light)]
         theme: FigureTheme,
+        /// For the evolution views: the age [Myr] whose nearest snapshot is drawn (default the
+        /// last; the run follows the file's `evolution` section).
+        #[arg(long = "age-myr", value_name = "MYR", allow_negative_numbers = true)]
+        age_myr: Option<f64>,
         /// Write to this file instead of standard output.
         #[arg(long, value_name = "FILE")]
         out: Option<PathBuf>,
@@ -515,6 +578,10 @@ enum Command {
         /// For CSV and ECSV: the radius x time profiles or the snowline tracks.
         #[arg(long, value_enum, default_value_t = EvolveTable::Profiles)]
         table: EvolveTable,
+        /// Also write the methods text of this run (with its citations) into this file: the
+        /// page's evolution methods download.
+        #[arg(long, value_name = "FILE")]
+        methods: Option<PathBuf>,
         #[command(flatten)]
         output: Output,
     },
@@ -872,6 +939,73 @@ fn planet_in_window(
     write_output(out, &text)
 }
 
+/// The fit's core field names and the flags the user typed for them.
+const FIT_FLAGS: [(&str, &str); 15] = [
+    ("c_to_o", "--c-to-o"),
+    ("c_to_o_sigma", "--c-to-o-sigma"),
+    ("c_to_h_dex", "--c-to-h-dex"),
+    ("c_to_h_sigma", "--c-to-h-sigma"),
+    ("o_to_h_dex", "--o-to-h-dex"),
+    ("o_to_h_sigma", "--o-to-h-sigma"),
+    ("m_to_h_dex", "--m-to-h-dex"),
+    ("m_to_h_sigma", "--m-to-h-sigma"),
+    ("covariance", "--covariance"),
+    ("ratio_count", "--ratio-count"),
+    ("ratio_min", "--ratio-min"),
+    ("ratio_max", "--ratio-max"),
+    ("solid_mixing_fraction", "--mix"),
+    ("planet_mass_mjup", "--planet-mass-mjup"),
+    ("feeding_zone_hill_radii", "--feeding-zone-hill-radii"),
+];
+
+/// `nivalis fit ... --over-age-myr T1,T2[,N]`: the chi-square map over formation radius x
+/// formation age on the evolving disk (docs/model.md section 12.9).
+fn fit_over_age(
+    mut file: DiskFile,
+    (t1, t2, count): (f64, f64, usize),
+    observed: &nivalis_physics::planet::ObservedEnvelope,
+    settings: &nivalis_physics::planet::MapSettings,
+    output: &Output,
+) -> Result<(), Failure> {
+    use nivalis_exports::evolution_fit::{
+        age_fit_ecsv, age_fit_json, age_fit_table, snapshots_for_window,
+    };
+    let mut e = file
+        .evolution
+        .clone()
+        .unwrap_or_else(nivalis_physics::evolution::EvolutionParameters::defaults);
+    e.until_myr = t2;
+    e.snapshots = snapshots_for_window(e.start_myr, t1, t2, count).ok_or_else(|| {
+        Failure::input(vec![format!(
+            "--over-age-myr: the window must start at or after evolution.start_myr = {} Myr and end after it, with at most 500 snapshots; got {t1},{t2},{count}",
+            e.start_myr
+        )])
+    })?;
+    let mut flags = vec![
+        ("evolution.until_myr", "--over-age-myr"),
+        ("from_myr", "--over-age-myr"),
+    ];
+    flags.extend(FIT_FLAGS);
+    e.check().map_err(|err| option_failure(&err, &flags))?;
+    let run = nivalis_physics::evolution::evolve(&file.parameters, &e)
+        .map_err(|err| option_failure(&err, &flags))?;
+    let map =
+        nivalis_physics::evolution::fit::chi_square_over_age(&run, t1, t2, observed, settings)
+            .map_err(|err| option_failure(&err, &flags))?;
+    file.evolution = Some(e);
+    let prov = Provenance::of(&file);
+    let used = methods(&file.parameters);
+    let text = match output.format {
+        TableFormat::Csv => to_csv(&age_fit_table(&map), &prov),
+        TableFormat::Ecsv => age_fit_ecsv(&map, &prov, &used),
+        TableFormat::Json => json_text(&age_fit_json(&map, &prov, &used)),
+    };
+    if let Some(r) = &map.goodness.reason {
+        eprintln!("warning: {r}; no formation place is allowed");
+    }
+    write_output(&output.out, &text)
+}
+
 fn execute(args: Args) -> Result<(), Failure> {
     let sets = args.set;
     match args.command {
@@ -955,6 +1089,7 @@ fn execute(args: Args) -> Result<(), Failure> {
             until_myr,
             snapshots,
             table,
+            methods: methods_file,
             output,
         } => {
             use nivalis_exports::evolution::{
@@ -987,6 +1122,14 @@ fn execute(args: Args) -> Result<(), Failure> {
                 .map_err(|err| Failure::input(vec![err.to_string()]))?;
             file.evolution = Some(e.clone());
             let provenance = Provenance::of(&file);
+            if let Some(path) = &methods_file {
+                let text = nivalis_exports::evolution_methods::evolution_methods_paragraph(
+                    &file.parameters,
+                    &e,
+                    &provenance,
+                );
+                write_output(&Some(path.clone()), &text)?;
+            }
             let t = match table {
                 EvolveTable::Profiles => evolution_table(&run, &statics),
                 EvolveTable::Snowlines => snowline_tracks_table(&run),
@@ -1128,6 +1271,7 @@ fn execute(args: Args) -> Result<(), Failure> {
             figure,
             methods: methods_file,
             uncertainty,
+            over_age_myr,
             samples,
             seed,
             output,
@@ -1178,6 +1322,15 @@ fn execute(args: Args) -> Result<(), Failure> {
                 )
             })?;
             let (file, root) = read_disk_value(&disk, &sets)?;
+            if let Some(window) = over_age_myr {
+                if uncertainty || figure.is_some() || methods_file.is_some() {
+                    return Err(Failure::input(vec![
+                        "--over-age-myr: not combined with --uncertainty, --figure or --methods"
+                            .to_string(),
+                    ]));
+                }
+                return fit_over_age(file, window, &observed, &settings, &output);
+            }
             let model = run_model(&file)?;
             if uncertainty {
                 return fit_marginalised(
@@ -1185,23 +1338,7 @@ fn execute(args: Args) -> Result<(), Failure> {
                 );
             }
             // Errors of the core name its fields; the user typed flags.
-            let flags = [
-                ("c_to_o", "--c-to-o"),
-                ("c_to_o_sigma", "--c-to-o-sigma"),
-                ("c_to_h_dex", "--c-to-h-dex"),
-                ("c_to_h_sigma", "--c-to-h-sigma"),
-                ("o_to_h_dex", "--o-to-h-dex"),
-                ("o_to_h_sigma", "--o-to-h-sigma"),
-                ("m_to_h_dex", "--m-to-h-dex"),
-                ("m_to_h_sigma", "--m-to-h-sigma"),
-                ("covariance", "--covariance"),
-                ("ratio_count", "--ratio-count"),
-                ("ratio_min", "--ratio-min"),
-                ("ratio_max", "--ratio-max"),
-                ("solid_mixing_fraction", "--mix"),
-                ("planet_mass_mjup", "--planet-mass-mjup"),
-                ("feeding_zone_hill_radii", "--feeding-zone-hill-radii"),
-            ];
+            let flags = FIT_FLAGS;
             let map = chi_square_map(&model, &observed, &settings)
                 .map_err(|e| option_failure(&e, &flags))?;
             let prov = Provenance::of(&file);
@@ -1396,9 +1533,10 @@ fn execute(args: Args) -> Result<(), Failure> {
             width,
             dpi,
             theme,
+            age_myr,
             out,
         } => {
-            use nivalis_charts::{Figure, FigureOptions};
+            use nivalis_charts::{AnyView, Figure, FigureOptions};
             // The page's figure downloads read the same options (nivalis_charts::options).
             let options = FigureOptions {
                 format: match format {
@@ -1414,9 +1552,19 @@ fn execute(args: Args) -> Result<(), Failure> {
                 .map_err(|e| Failure::input(vec![format!("--{e}")]))?;
             let v = parse_view(&view).map_err(|e| Failure::input(vec![e]))?;
             let file = read_disk(&disk, &sets)?;
-            let model = run_model(&file)?;
-            let figure = Figure::from_model(v, &model);
-            write_figure(&out, &figure, &options, &Provenance::of(&file), &view)
+            let (figure, prov) = match v {
+                AnyView::Model(v) => {
+                    if age_myr.is_some() {
+                        return Err(Failure::input(vec![
+                            "--age-myr: only for the evolution views".to_string(),
+                        ]));
+                    }
+                    let model = run_model(&file)?;
+                    (Figure::from_model(v, &model), Provenance::of(&file))
+                }
+                AnyView::Evolution(v) => evolution_figure(file, v, age_myr)?,
+            };
+            write_figure(&out, &figure, &options, &prov, &view)
         }
         Command::Sweep {
             action,

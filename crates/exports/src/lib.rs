@@ -10,6 +10,7 @@
 
 pub mod bibtex;
 pub mod evolution;
+pub mod evolution_fit;
 pub mod evolution_methods;
 pub mod figures;
 pub mod formats;

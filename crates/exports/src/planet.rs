@@ -170,12 +170,12 @@ pub fn weighting_key(place: &FormationPlace) -> Option<&'static str> {
     }
 }
 
-fn flag(b: bool) -> Option<f64> {
+pub(crate) fn flag(b: bool) -> Option<f64> {
     Some(if b { 1.0 } else { 0.0 })
 }
 
 /// The suffix naming what a metallicity is relative to: "rel_star" or "rel_sun".
-fn rel_suffix(r: MetallicityReference) -> &'static str {
+pub(crate) fn rel_suffix(r: MetallicityReference) -> &'static str {
     match r {
         MetallicityReference::Star => "rel_star",
         MetallicityReference::Sun => "rel_sun",
@@ -227,7 +227,7 @@ pub fn fit_table(map: &ChiSquareMap) -> Table {
     Table { columns, rows }
 }
 
-fn interval_json(i: &RadiusInterval) -> Value {
+pub(crate) fn interval_json(i: &RadiusInterval) -> Value {
     json!({"inner_edge_au": i.inner_edge_au, "outer_edge_au": i.outer_edge_au, "inner_centre_au": i.inner_centre_au, "outer_centre_au": i.outer_centre_au})
 }
 
@@ -299,8 +299,44 @@ pub fn fit_summary(map: &ChiSquareMap) -> Value {
             })
         })
         .collect();
-    let o = &map.observed;
+    let mut v = fit_inputs_json(&map.observed, &map.settings);
     let s = &map.settings;
+    v.extend(
+        json!({
+            "feasibility": {
+                "planet_mass_mjup": s.planet_mass_mjup,
+                "feeding_zone_hill_radii": s.feeding_zone_hill_radii,
+                "infeasible_radii": map.infeasible.iter().map(interval_json).collect::<Vec<_>>(),
+            },
+            "goodness": goodness_json(&map.goodness),
+            "warnings": fit_warnings(map),
+            "thresholds": thresholds_json(&map.thresholds),
+            "best_fit": best,
+            "allowed_radii": allowed,
+            "degeneracies": map.degeneracy_summary(),
+            "degeneracies_2sigma": map.degeneracies(SigmaLevel::Two).iter().map(|d| d.text()).collect::<Vec<_>>(),
+        })
+        .as_object()
+        .cloned()
+        .unwrap_or_default(),
+    );
+    Value::Object(v)
+}
+
+/// The Delta chi-square thresholds as JSON.
+pub(crate) fn thresholds_json(t: &nivalis_physics::planet::DeltaChiSquare) -> Value {
+    json!({
+        "convention": t.convention.key(),
+        "degrees_of_freedom": t.degrees_of_freedom,
+        "one_sigma": t.one_sigma,
+        "two_sigma": t.two_sigma,
+    })
+}
+
+/// What was fitted and how, as JSON: the observation, the ratio grid, the priors, the mixing
+/// and the oxygen correction (shared by the static map and the radius x age map).
+pub(crate) fn fit_inputs_json(o: &ObservedEnvelope, s: &MapSettings) -> Map<String, Value> {
+    let rel = rel_suffix(o.relative_to);
     let observations: Vec<Value> = o
         .observations
         .iter()
@@ -320,24 +356,10 @@ pub fn fit_summary(map: &ChiSquareMap) -> Value {
         "solid_to_gas_grid": {"min": s.ratio_min, "max": s.ratio_max, "count": s.ratio_count, "spacing": "logarithmic"},
         "priors": {"radius_au": range(s.radius_prior_au), "solid_to_gas": range(s.solid_to_gas_prior)},
         "oxygen_sequestered_fraction": s.oxygen_sequestered_fraction,
-        "feasibility": {
-            "planet_mass_mjup": s.planet_mass_mjup,
-            "feeding_zone_hill_radii": s.feeding_zone_hill_radii,
-            "infeasible_radii": map.infeasible.iter().map(interval_json).collect::<Vec<_>>(),
-        },
-        "goodness": goodness_json(&map.goodness),
-        "warnings": fit_warnings(map),
-        "thresholds": {
-            "convention": map.thresholds.convention.key(),
-            "degrees_of_freedom": map.thresholds.degrees_of_freedom,
-            "one_sigma": map.thresholds.one_sigma,
-            "two_sigma": map.thresholds.two_sigma,
-        },
-        "best_fit": best,
-        "allowed_radii": allowed,
-        "degeneracies": map.degeneracy_summary(),
-        "degeneracies_2sigma": map.degeneracies(SigmaLevel::Two).iter().map(|d| d.text()).collect::<Vec<_>>(),
     })
+    .as_object()
+    .cloned()
+    .unwrap_or_default()
 }
 
 /// The map as JSON: the table plus the summary.

@@ -1245,13 +1245,30 @@ pub fn chi_square_map(
     observed: &ObservedEnvelope,
     settings: &MapSettings,
 ) -> Result<ChiSquareMap, PhysicsError> {
+    let reference = fully_condensed_mass_per_h_amu(model);
+    chi_square_map_with(model, observed, settings, &|j, r_au| {
+        let p = point_phases(&grid_midplane(model, j), reference);
+        AccretedPhases::from_point(model, r_au, r_au, p)
+    })
+}
+
+/// [`chi_square_map`] with the accreted phases of radial cell `j` (centre `r_au`) given by
+/// `phases_at` instead of the model's own midplane: the evolving disk's fit over formation radius
+/// x age (docs/model.md section 12.9) passes each snapshot's transported composition here, on
+/// the snapshot's own structure `model`, so the chi-square, priors, feasibility, thresholds and
+/// goodness are the static map's.
+pub fn chi_square_map_with(
+    model: &Model,
+    observed: &ObservedEnvelope,
+    settings: &MapSettings,
+    phases_at: &dyn Fn(usize, f64) -> AccretedPhases,
+) -> Result<ChiSquareMap, PhysicsError> {
     let weights = validate_map_inputs(observed, settings)?;
     let st = &model.structure();
     let n_r = st.radial_cells;
     let ratios = solid_to_gas_values(settings.ratio_min, settings.ratio_max, settings.ratio_count);
     let n_q = ratios.len();
     let radius_au: Vec<f64> = st.radius_cm.iter().map(|r| r / AU_CM).collect();
-    let reference = fully_condensed_mass_per_h_amu(model);
     let reference_per_h = match observed.relative_to {
         MetallicityReference::Star => *model.stellar_per_h(),
         MetallicityReference::Sun => solar_per_h(model),
@@ -1271,8 +1288,7 @@ pub fn chi_square_map(
     let keep_o = 1.0 - settings.oxygen_sequestered_fraction;
     let mut rows = Vec::with_capacity(n_r * n_q);
     for (j, &r_au) in radius_au.iter().enumerate() {
-        let p = point_phases(&grid_midplane(model, j), reference);
-        let phases = AccretedPhases::from_point(model, r_au, r_au, p);
+        let phases = phases_at(j, r_au);
         let in_radius_prior = settings
             .radius_prior_au
             .is_none_or(|(a, b)| r_au >= a && r_au <= b);
@@ -1390,14 +1406,11 @@ pub fn chi_square_map(
         }
     } else {
         let (_, c) = best.unwrap_or((0, f64::NAN));
-        Some(format!(
-            "no place in the disk reproduces the observed {}: the smallest chi-square is {} for {} degree{} of freedom, p = {} < {}",
-            observed.fitted_label(),
-            significant(c, 3),
+        Some(unacceptable_reason(
+            observed,
+            c,
             degrees_of_freedom,
-            if degrees_of_freedom == 1 { "" } else { "s" },
-            p_text(p_value.unwrap_or(0.0)),
-            ACCEPTABLE_P_VALUE
+            p_value,
         ))
     };
     if let Some((_, min)) = best {
@@ -1416,29 +1429,7 @@ pub fn chi_square_map(
     let cell_edges_au: Vec<f64> = (0..=n_r)
         .map(|j| model.parameters().disk.inner_radius_au * exp(ln_edge * j as f64 / n_r as f64))
         .collect();
-    let runs_of = |inside: &dyn Fn(usize) -> bool| -> Vec<RadiusInterval> {
-        let mut out = Vec::new();
-        let mut start: Option<usize> = None;
-        for j in 0..=n_r {
-            let ok = j < n_r && inside(j);
-            match (ok, start) {
-                (true, None) => start = Some(j),
-                (false, Some(s)) => {
-                    out.push(RadiusInterval {
-                        first_cell: s,
-                        last_cell: j - 1,
-                        inner_centre_au: radius_au[s],
-                        outer_centre_au: radius_au[j - 1],
-                        inner_edge_au: cell_edges_au[s],
-                        outer_edge_au: cell_edges_au[j],
-                    });
-                    start = None;
-                }
-                _ => {}
-            }
-        }
-        out
-    };
+    let runs_of = |inside: &dyn Fn(usize) -> bool| radius_runs(&radius_au, &cell_edges_au, inside);
     let allowed = (0..n_q)
         .map(|k| AllowedRadii {
             solid_to_gas: ratios[k],
@@ -1483,6 +1474,55 @@ pub fn chi_square_map(
         feeding_zone_gas_g,
         infeasible,
     })
+}
+
+/// Why a best fit with chi-square `chi2_min` is not acceptable, in words.
+pub(crate) fn unacceptable_reason(
+    observed: &ObservedEnvelope,
+    chi2_min: f64,
+    degrees_of_freedom: usize,
+    p_value: Option<f64>,
+) -> String {
+    format!(
+        "no place in the disk reproduces the observed {}: the smallest chi-square is {} for {} degree{} of freedom, p = {} < {}",
+        observed.fitted_label(),
+        significant(chi2_min, 3),
+        degrees_of_freedom,
+        if degrees_of_freedom == 1 { "" } else { "s" },
+        p_text(p_value.unwrap_or(0.0)),
+        ACCEPTABLE_P_VALUE
+    )
+}
+
+/// The runs of consecutive radial cells where `inside(j)` holds, inner first, with their cell
+/// centres and edges.
+pub(crate) fn radius_runs(
+    radius_au: &[f64],
+    cell_edges_au: &[f64],
+    inside: &dyn Fn(usize) -> bool,
+) -> Vec<RadiusInterval> {
+    let n_r = radius_au.len();
+    let mut out = Vec::new();
+    let mut start: Option<usize> = None;
+    for j in 0..=n_r {
+        let ok = j < n_r && inside(j);
+        match (ok, start) {
+            (true, None) => start = Some(j),
+            (false, Some(s)) => {
+                out.push(RadiusInterval {
+                    first_cell: s,
+                    last_cell: j - 1,
+                    inner_centre_au: radius_au[s],
+                    outer_centre_au: radius_au[j - 1],
+                    inner_edge_au: cell_edges_au[s],
+                    outer_edge_au: cell_edges_au[j],
+                });
+                start = None;
+            }
+            _ => {}
+        }
+    }
+    out
 }
 
 /// A p-value in words: "1.2e-20", "0.0034".

@@ -5,8 +5,7 @@
 //! views of one snapshot from that JSON into canvases through `nivalis-charts`.
 
 use nivalis_charts::{
-    draw_evolved_c_to_o, draw_radius_time_map, draw_snowline_tracks, EvolvedProfileData,
-    RadiusTimeMapData, SnowlineTrackData, Theme,
+    draw_evolved_c_to_o, draw_radius_time_map, draw_snowline_tracks, evolution_view_data, Theme,
 };
 use nivalis_disk_files::{from_value, Problem};
 use nivalis_exports::evolution::evolution_json;
@@ -91,18 +90,6 @@ pub fn evolve_disk(
     })
 }
 
-fn numbers(v: &Value) -> Vec<f64> {
-    v.as_array()
-        .map(|a| a.iter().filter_map(Value::as_f64).collect())
-        .unwrap_or_default()
-}
-
-fn optional(v: &Value) -> Vec<Option<f64>> {
-    v.as_array()
-        .map(|a| a.iter().map(Value::as_f64).collect())
-        .unwrap_or_default()
-}
-
 /// Draw snapshot `snapshot` of an evolution JSON (`evolveDisk`'s text) into the canvases with
 /// ids `tracksId` (snowline tracks), `profileId` (gas C/O with the static model's) and `mapId`
 /// (radius x age map of gas C/O), in the light or dark theme, at `pixelsPerPoint`.
@@ -118,36 +105,9 @@ pub fn draw_evolution(
 ) -> Result<(), JsValue> {
     let fail = |e: String| JsValue::from_str(&e);
     let v: Value = serde_json::from_str(text).map_err(|e| fail(e.to_string()))?;
-    let times = numbers(&v["times_myr"]);
-    let k = snapshot.min(times.len().saturating_sub(1));
-    let current = times.get(k).copied();
     let theme = if dark { Theme::dark() } else { Theme::light() };
-    let tracks = SnowlineTrackData {
-        times_myr: times.clone(),
-        tracks: v["snowlines"]
-            .as_object()
-            .map(|m| m.iter().map(|(s, r)| (s.clone(), optional(r))).collect())
-            .unwrap_or_default(),
-        current_myr: current,
-    };
-    let radius = numbers(&v["radius_au"]);
-    let profile = EvolvedProfileData {
-        radius_au: radius.clone(),
-        evolved: optional(&v["c_to_o_gas"][k]),
-        static_profile: optional(&v["static"]["c_to_o_gas"][k]),
-        star_c_to_o: v["star_c_to_o"].as_f64(),
-        age_myr: current.unwrap_or(0.0),
-    };
-    let map = RadiusTimeMapData {
-        radius_au: radius,
-        times_myr: times.clone(),
-        values: (0..times.len())
-            .map(|i| optional(&v["c_to_o_gas"][i]))
-            .collect(),
-        range: (0.0, 2.0),
-        label: "gas C/O".into(),
-        current_myr: current,
-    };
+    // The same data the CLI's `nivalis figure --view <evolution view>` draws.
+    let (tracks, profile, map) = evolution_view_data(&v, snapshot);
     for id in [tracks_id, profile_id, map_id] {
         let canvas = canvas_by_id(id).map_err(fail)?;
         let area = MeasuredCanvas::new(&canvas)
@@ -164,4 +124,48 @@ pub fn draw_evolution(
         area.present().map_err(|e| fail(e.to_string()))?;
     }
     Ok(())
+}
+
+/// The paper figure of an evolution view (`snowline_tracks`, `evolved_c_to_o`,
+/// `c_to_o_time_map`) at snapshot `snapshot` of an evolution JSON (`evolveDisk`'s text), with
+/// the provenance of the run's resolved disk (its `disk` field): the same bytes as
+/// `nivalis figure DISK --view <view> [--age-myr T]` for that disk. `options`:
+/// `{format, width, dpi, theme}` as the page's other figure downloads.
+#[wasm_bindgen(js_name = evolutionFigure)]
+pub fn evolution_figure_file(
+    text: &str,
+    snapshot: usize,
+    view: &str,
+    options: JsValue,
+) -> Result<Vec<u8>, JsError> {
+    let options: Value =
+        serde_wasm_bindgen::from_value(options).map_err(|e| JsError::new(&e.to_string()))?;
+    let options =
+        crate::figures::FigureOptions::from_value(&options).map_err(|e| JsError::new(&e))?;
+    let (figure, provenance) =
+        evolution_figure_of(text, snapshot, view).map_err(|e| JsError::new(&e))?;
+    crate::figures::figure_file(&figure, &options, &provenance, view)
+        .map_err(|e| JsError::new(&e.to_string()))
+}
+
+/// The figure and provenance behind [`evolution_figure_file`].
+pub fn evolution_figure_of(
+    text: &str,
+    snapshot: usize,
+    view: &str,
+) -> Result<(nivalis_charts::Figure, Provenance), String> {
+    let which = nivalis_charts::EvolutionView::from_key(view).ok_or_else(|| {
+        format!("unknown evolution view {view:?}; expected snowline_tracks, evolved_c_to_o or c_to_o_time_map")
+    })?;
+    let v: Value = serde_json::from_str(text).map_err(|e| e.to_string())?;
+    let file = from_value(&v["disk"]).map_err(|p| {
+        p.0.iter()
+            .map(|p| format!("{}: {}", p.path, p.message))
+            .collect::<Vec<_>>()
+            .join("; ")
+    })?;
+    Ok((
+        nivalis_charts::evolution_figure(which, &v, snapshot),
+        Provenance::of(&file),
+    ))
 }

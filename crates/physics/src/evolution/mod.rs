@@ -9,6 +9,7 @@
 //! with the relative error of every element's budget (boundary fluxes accounted).
 
 pub mod dust;
+pub mod fit;
 pub mod star_track;
 pub mod transport;
 pub mod viscous;
@@ -390,6 +391,19 @@ impl EvolutionRun {
         if snaps.is_empty() {
             snaps.push(nearest(&times, (from_myr * to_myr).sqrt()));
         }
+        Ok(self.phases_over(&cells, &snaps, inner_au, outer_au))
+    }
+
+    /// The accreted phases averaged over the radial cells `cells` of the snapshots `snaps` (both
+    /// non-empty, in range), weighted as [`EvolutionRun::accreted_phases`] says; the radii are the
+    /// labels of the result.
+    pub(crate) fn phases_over(
+        &self,
+        cells: &[usize],
+        snaps: &[usize],
+        inner_au: f64,
+        outer_au: f64,
+    ) -> crate::planet::AccretedPhases {
         let table = SpeciesTable::built_in();
         let mass_amu: [f64; SPECIES_COUNT] = Species::ALL.map(|s| table.get(s).mass_amu);
         let h_per_g = 1.0 / (MASS_PER_HYDROGEN_NUCLEUS_AMU_H * HYDROGEN_MASS_G);
@@ -402,9 +416,9 @@ impl EvolutionRun {
         let (mut gas, mut solid) = ([0.0; ELEMENT_COUNT], [0.0; ELEMENT_COUNT]);
         let (mut gas_w, mut solid_w, mut solid_to_gas) = (0.0, 0.0, 0.0);
         let mut with_solids = 0;
-        for &k in &snaps {
+        for &k in snaps {
             let s = &self.snapshots[k];
-            for &j in &cells {
+            for &j in cells {
                 let area = PI * (self.face_cm[j + 1].powi(2) - self.face_cm[j].powi(2));
                 let w = s.surface_density_g_cm2[j] * area;
                 let ph = &s.phases[j];
@@ -436,7 +450,7 @@ impl EvolutionRun {
         let star = &self.snapshots[0].parameters.star;
         let mut solar = star.clone();
         solar.offset_dex = [0.0; ELEMENT_COUNT];
-        Ok(crate::planet::AccretedPhases {
+        crate::planet::AccretedPhases {
             inner_radius_au: inner_au,
             outer_radius_au: outer_au,
             hydrogen_per_gram_of_gas: h_per_g,
@@ -448,7 +462,7 @@ impl EvolutionRun {
             stellar_per_h: self.stellar_per_h,
             out_of_equilibrium: [false; SPECIES_COUNT],
             solar_per_h: stellar_abundances_per_h(&solar),
-        })
+        }
     }
 
     /// The static model at snapshot `k`'s age: the same surface density, star and accretion rate
