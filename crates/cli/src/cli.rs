@@ -1401,7 +1401,7 @@ fn execute(args: Args) -> Result<(), Failure> {
                     nivalis_physics::Species::ALL.map(|s| s.key()).join(", ")
                 )])
             })?;
-            let (file, root) = read_disk_value(&disk, &sets)?;
+            let file = read_disk(&disk, &sets)?;
             let parameter = match adjust {
                 Adjust::FlaringAngle => AnchorParameter::FlaringAngle,
                 Adjust::TemperatureScale => AnchorParameter::MidplaneTemperatureScale,
@@ -1436,32 +1436,20 @@ fn execute(args: Args) -> Result<(), Failure> {
             } else {
                 format!("{} {note}", file.notes)
             };
-            let mut written = nivalis_disk_files::to_value(&anchored_file);
             // The original uncertainty section is kept; --sigma-au adds the anchored parameter's range.
-            let mut section = root
-                .get("uncertainty")
-                .cloned()
-                .unwrap_or_else(|| serde_json::json!({}));
-            if sigma_au > 0.0 {
-                match nivalis_disk_files::uncertainty::anchor_entry(
+            if sigma_au > 0.0
+                && !nivalis_disk_files::uncertainty::add_anchor_entry(
+                    &mut anchored_file,
+                    anchored.parameter.name(),
                     anchored.at_minus_sigma.value,
                     anchored.at_plus_sigma.value,
-                ) {
-                    Some(entry) => {
-                        if let Some(m) = section.as_object_mut() {
-                            m.insert(anchored.parameter.name().to_string(), entry);
-                        }
-                    }
-                    None => eprintln!(
-                        "warning: the range at radius +- sigma has no value at one end, so it is not written into the uncertainty section"
-                    ),
-                }
+                )
+            {
+                eprintln!(
+                    "warning: the range at radius +- sigma has no value at one end, so it is not written into the uncertainty section"
+                );
             }
-            if section.as_object().is_some_and(|m| !m.is_empty()) {
-                if let Some(m) = written.as_object_mut() {
-                    m.insert("uncertainty".into(), section);
-                }
-            }
+            let written = nivalis_disk_files::to_value(&anchored_file);
             write_output(&out, &json_text(&written))
         }
         Command::Uncertainty {

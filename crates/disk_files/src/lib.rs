@@ -58,6 +58,11 @@ pub struct DiskFile {
     pub parameters: ModelParameters,
     /// The optional `evolution` section (docs/disk-file.md), `None` when the file has none.
     pub evolution: Option<nivalis_physics::evolution::EvolutionParameters>,
+    /// The optional `uncertainty` section (docs/disk-file.md, "Uncertainty") as
+    /// written, after [`crate::uncertainty`] checked it; `None` when the file has
+    /// none or an empty one. Kept so that a disk saved or anchored by any front
+    /// end keeps its uncertain inputs (the writer writes it back last).
+    pub uncertainty: Option<serde_json::Value>,
     /// Things worth knowing that do not stop a run (e.g. edges that cut off most of
     /// the surface-density profile; the new meaning of `disk.gas_mass_msun`).
     pub warnings: Vec<Problem>,
@@ -71,6 +76,7 @@ impl DiskFile {
             notes: String::new(),
             parameters: ModelParameters::defaults(),
             evolution: None,
+            uncertainty: None,
             warnings: Vec::new(),
         }
     }

@@ -32,6 +32,10 @@ pub fn from_value(value: &Value) -> Result<DiskFile, Problems> {
         r.problems = crate::uncertainty::section_problems(value, &file);
     }
     if r.problems.is_empty() {
+        file.uncertainty = value
+            .get("uncertainty")
+            .filter(|v| v.as_object().is_some_and(|m| !m.is_empty()))
+            .cloned();
         Ok(file)
     } else {
         Err(Problems(crate::cap_problems(r.problems)))

@@ -711,10 +711,73 @@ pub fn anchor_entry(low: Option<f64>, high: Option<f64>) -> Option<Value> {
     Some(serde_json::json!({"distribution": "lognormal", "sigma_dex": sigma_dex}))
 }
 
+/// Writes the range an anchor found into the disk's `uncertainty` section, keeping the
+/// section's other entries: the entry of [`anchor_entry`] under the anchored parameter's
+/// disk-file path. Returns `false` (and leaves the disk as it was) when the range has no
+/// value at one end. The CLI's `anchor --sigma-au` and the page's anchoring both call it.
+pub fn add_anchor_entry(
+    file: &mut crate::DiskFile,
+    parameter_path: &str,
+    low: Option<f64>,
+    high: Option<f64>,
+) -> bool {
+    let Some(entry) = anchor_entry(low, high) else {
+        return false;
+    };
+    let mut section = file
+        .uncertainty
+        .take()
+        .filter(Value::is_object)
+        .unwrap_or_else(|| Value::Object(Map::new()));
+    if let Some(m) = section.as_object_mut() {
+        m.insert(parameter_path.to_string(), entry);
+    }
+    file.uncertainty = Some(section);
+    true
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
     use crate::json::parse_json_text;
+
+    /// A disk's section survives reading and writing (a saved or anchored disk keeps its
+    /// uncertain inputs), and an anchor's range is added beside the other entries.
+    #[test]
+    fn the_section_is_kept_and_an_anchor_range_added() {
+        let text = r#"{"uncertainty": {"star.luminosity_lsun": {"distribution": "lognormal", "sigma_dex": 0.1}}}"#;
+        let mut file = crate::parse_disk_json(text).unwrap();
+        let written = crate::to_value(&file);
+        assert_eq!(
+            written["uncertainty"]["star.luminosity_lsun"]["sigma_dex"],
+            serde_json::json!(0.1)
+        );
+        assert!(add_anchor_entry(
+            &mut file,
+            "disk.flaring_angle",
+            Some(0.01),
+            Some(0.04)
+        ));
+        let section = crate::to_value(&file)["uncertainty"].clone();
+        assert!(section.get("star.luminosity_lsun").is_some());
+        // log10(0.04 / 0.01) / 2 = 0.30103
+        let s = section["disk.flaring_angle"]["sigma_dex"].as_f64().unwrap();
+        assert!((s - 0.301_029_995_663_981_2).abs() < 1e-12, "{s}");
+        // No value at one end: nothing written.
+        assert!(!add_anchor_entry(
+            &mut file,
+            "disk.flaring_angle",
+            None,
+            Some(0.04)
+        ));
+        // The written disk reads again, section and all.
+        let again = crate::from_value(&crate::to_value(&file)).unwrap();
+        assert_eq!(again.uncertainty, file.uncertainty);
+        // A disk without a section writes none.
+        assert!(crate::to_value(&crate::DiskFile::defaults())
+            .get("uncertainty")
+            .is_none());
+    }
 
     fn spec(text: &str) -> Result<Option<UncertaintySpec>, Vec<String>> {
         let root = parse_json_text(text)

@@ -151,6 +151,9 @@ pub fn to_value(file: &DiskFile) -> Value {
     if let (Some(e), Some(m)) = (&file.evolution, value.as_object_mut()) {
         m.insert("evolution".into(), crate::evolution_to_value(e));
     }
+    if let (Some(u), Some(m)) = (&file.uncertainty, value.as_object_mut()) {
+        m.insert("uncertainty".into(), u.clone());
+    }
     value
 }
 

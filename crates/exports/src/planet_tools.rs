@@ -924,6 +924,15 @@ pub fn anchor(file: &DiskFile, input: &Value) -> Result<(DiskFile, Vec<String>),
     } else {
         format!("{} {note}", file.notes)
     };
+    // As the CLI: a range (sigma_au > 0) goes into the disk's uncertainty section.
+    if sigma_au > 0.0 {
+        nivalis_disk_files::uncertainty::add_anchor_entry(
+            &mut out,
+            anchored.parameter.name(),
+            anchored.at_minus_sigma.value,
+            anchored.at_plus_sigma.value,
+        );
+    }
     Ok((out, summary))
 }
 
