@@ -37,7 +37,7 @@
       } else if (m.type === "uncertainty-export") {
         if (runner) post({ type: "uncertainty-export", id: m.id, name: m.name, mime: m.mime, text: runner.export(m.format, m.table) });
       } else if (m.type === "uncertainty-posterior") {
-        if (runner) post({ type: "uncertainty-posterior", id: m.id, result: runner.posterior(m.cToO, m.sigma, m.samples, m.dark) });
+        if (runner) post({ type: "uncertainty-posterior", id: m.id, result: runner.posterior(m.request, m.samples, m.dark) });
       }
     } catch (error) {
       post({ type: "uncertainty-error", id: m.id, problems: problemsOf(error) });
