@@ -602,6 +602,70 @@ pub fn posterior_ecsv(
     )
 }
 
+/// One sample's inverse map for the marginalised posterior (docs/model.md section 13): the
+/// sample's inputs drawn from `(seed, index)`, its disk (structure reused where it can be) and
+/// the chi-square map of the observed planet over it. Shared by `nivalis fit --uncertainty`
+/// (in parallel) and the page's worker (in order); both add the maps in index order.
+pub fn posterior_sample_map(
+    engine: &Engine,
+    spec: &UncertaintySpec,
+    seed: u64,
+    index: u64,
+    observed: &ObservedEnvelope,
+    settings: &MapSettings,
+) -> Result<ChiSquareMap, String> {
+    let d = spec.draw(&mut Rng::for_sample(seed, index))?;
+    let m = engine.model(&d.parameters).map_err(|e| e.to_string())?;
+    chi_square_map(&m, observed, settings).map_err(|e| e.to_string())
+}
+
+/// The one-at-a-time swing of the posterior's median formation radius [au] for one input: the
+/// input at each of its `levels` (others nominal), the median of that one disk's posterior on the
+/// nominal map's grid; `None` where fewer than two levels give a median (docs/model.md
+/// section 13).
+pub fn posterior_median_swing(
+    engine: &Engine,
+    base_map: &ChiSquareMap,
+    levels: &[ModelParameters],
+    observed: &ObservedEnvelope,
+    settings: &MapSettings,
+) -> Option<f64> {
+    let medians: Vec<f64> = levels
+        .iter()
+        .filter_map(|p| {
+            let m = engine.model(p).ok()?;
+            let map = chi_square_map(&m, observed, settings).ok()?;
+            let mut acc = PosteriorAccumulator::new(base_map);
+            acc.add(&map).ok()?;
+            acc.finish().radius_median_au
+        })
+        .collect();
+    (medians.len() >= 2).then(|| {
+        medians.iter().copied().fold(f64::NEG_INFINITY, f64::max)
+            - medians.iter().copied().fold(f64::INFINITY, f64::min)
+    })
+}
+
+/// The JSON of `nivalis fit ... --uncertainty --format json` (and of the page's marginalised
+/// posterior): [`posterior_json`] plus `sensitivity_median_radius_au`, each input's swing.
+pub fn marginal_fit_json(
+    post: &MarginalPosterior,
+    seed: u64,
+    failures: usize,
+    spec: &UncertaintySpec,
+    provenance: &Provenance,
+    swings: &[(String, Option<f64>)],
+) -> Value {
+    let mut j = posterior_json(post, seed, failures, spec, provenance);
+    j["sensitivity_median_radius_au"] = Value::Array(
+        swings
+            .iter()
+            .map(|(name, swing)| json!({"input": name, "swing_au": swing}))
+            .collect(),
+    );
+    j
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -676,68 +740,4 @@ mod tests {
         assert!(ecsv.contains("\ninput,gas_c_to_o_swing,"), "{ecsv}");
         assert!(ecsv.contains("\nstar.abundances.offset_dex.C,"), "{ecsv}");
     }
-}
-
-/// One sample's inverse map for the marginalised posterior (docs/model.md section 13): the
-/// sample's inputs drawn from `(seed, index)`, its disk (structure reused where it can be) and
-/// the chi-square map of the observed planet over it. Shared by `nivalis fit --uncertainty`
-/// (in parallel) and the page's worker (in order); both add the maps in index order.
-pub fn posterior_sample_map(
-    engine: &Engine,
-    spec: &UncertaintySpec,
-    seed: u64,
-    index: u64,
-    observed: &ObservedEnvelope,
-    settings: &MapSettings,
-) -> Result<ChiSquareMap, String> {
-    let d = spec.draw(&mut Rng::for_sample(seed, index))?;
-    let m = engine.model(&d.parameters).map_err(|e| e.to_string())?;
-    chi_square_map(&m, observed, settings).map_err(|e| e.to_string())
-}
-
-/// The one-at-a-time swing of the posterior's median formation radius [au] for one input: the
-/// input at each of its `levels` (others nominal), the median of that one disk's posterior on the
-/// nominal map's grid; `None` where fewer than two levels give a median (docs/model.md
-/// section 13).
-pub fn posterior_median_swing(
-    engine: &Engine,
-    base_map: &ChiSquareMap,
-    levels: &[ModelParameters],
-    observed: &ObservedEnvelope,
-    settings: &MapSettings,
-) -> Option<f64> {
-    let medians: Vec<f64> = levels
-        .iter()
-        .filter_map(|p| {
-            let m = engine.model(p).ok()?;
-            let map = chi_square_map(&m, observed, settings).ok()?;
-            let mut acc = PosteriorAccumulator::new(base_map);
-            acc.add(&map).ok()?;
-            acc.finish().radius_median_au
-        })
-        .collect();
-    (medians.len() >= 2).then(|| {
-        medians.iter().copied().fold(f64::NEG_INFINITY, f64::max)
-            - medians.iter().copied().fold(f64::INFINITY, f64::min)
-    })
-}
-
-/// The JSON of `nivalis fit ... --uncertainty --format json` (and of the page's marginalised
-/// posterior): [`posterior_json`] plus `sensitivity_median_radius_au`, each input's swing.
-pub fn marginal_fit_json(
-    post: &MarginalPosterior,
-    seed: u64,
-    failures: usize,
-    spec: &UncertaintySpec,
-    provenance: &Provenance,
-    swings: &[(String, Option<f64>)],
-) -> Value {
-    let mut j = posterior_json(post, seed, failures, spec, provenance);
-    j["sensitivity_median_radius_au"] = Value::Array(
-        swings
-            .iter()
-            .map(|(name, swing)| json!({"input": name, "swing_au": swing}))
-            .collect(),
-    );
-    j
 }
