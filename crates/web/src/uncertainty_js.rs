@@ -133,8 +133,9 @@ impl UncertaintySession {
             "csv" => Ok(table_csv(r, which)),
             "ecsv" => Ok(table_ecsv(r, which)),
             "methods" => Ok(format!("{}\n", methods_text(r.spec, r.monte_carlo))),
+            "bibtex" => Ok(nivalis_exports::uncertainty::uncertainty_bibtex()),
             _ => Err(format!(
-                "unknown format {format:?}; csv, ecsv, json or methods"
+                "unknown format {format:?}; csv, ecsv, json, methods or bibtex"
             )),
         })
     }
