@@ -68,6 +68,7 @@ function uncBuildPanel() {
       <button type="button" data-unc-export="csv:snowlines">Snowlines (CSV)</button>
       <button type="button" data-unc-export="csv:sensitivity">Sensitivity (CSV)</button>
       <button type="button" data-unc-export="methods">Methods text</button>
+      <button type="button" data-unc-export="bibtex">References (BibTeX)</button>
       <button type="button" data-unc-svg="bands">Bands (SVG)</button>
       <button type="button" data-unc-svg="histogram">Histogram (SVG)</button>
       <button type="button" data-unc-svg="sensitivity_c_to_o">Sensitivity (SVG)</button>
@@ -182,7 +183,7 @@ function uncOnMessage(event) {
   if (m.type === "uncertainty-progress") {
     $("unc-progress").value = m.done;
     $("unc-status").textContent = `Running ${m.done} of ${m.total} samples (${(m.ms / 1000).toFixed(1)} s); partial bands shown.`;
-    uncShowFigures(m.figures);
+    if (m.figures) uncShowFigures(m.figures);
   } else if (m.type === "uncertainty-done") {
     $("unc-progress").value = m.done;
     unc.finished = true;
@@ -239,9 +240,9 @@ function uncPosterior() {
 function uncExport(what) {
   if (!unc.worker || !unc.finished) return;
   const [format, table] = what.includes(":") ? what.split(":") : [what, "bands"];
-  const ext = { json: "json", csv: "csv", ecsv: "ecsv", methods: "txt" }[format];
-  const mime = { json: "application/json", csv: "text/csv", ecsv: "text/plain", methods: "text/plain" }[format];
-  const name = `uncertainty-${format === "json" || format === "methods" ? format : table}-seed${unc.lastRun.seed}.${ext}`;
+  const ext = { json: "json", csv: "csv", ecsv: "ecsv", methods: "txt", bibtex: "bib" }[format];
+  const mime = { json: "application/json", csv: "text/csv", ecsv: "text/plain", methods: "text/plain", bibtex: "application/x-bibtex" }[format];
+  const name = `uncertainty-${format === "json" || format === "methods" || format === "bibtex" ? format : table}-seed${unc.lastRun.seed}.${ext}`;
   unc.worker.postMessage({ type: "uncertainty-export", id: unc.id, format, table, name, mime });
 }
 

@@ -78,6 +78,11 @@ test("a run shows partial bands, then figures and exports equal to the CLI's", a
   run("--format", "json", "--methods", methodsFile);
   assert.equal(methods.text, (await import("node:fs")).readFileSync(methodsFile, "utf8"), "methods text equals the CLI's");
   assert.match(methods.text, /seed 5/);
+  // The references of the methods text as BibTeX, each once (the same function as the Rust test).
+  const bib = await downloadText(page, "[data-unc-export='bibtex']");
+  for (const key of ["blackman2021", "steele2014", "marsaglia1964", "marsaglia2000", "hyndman1996", "sobol1993", "saltelli2008"]) {
+    assert.equal(bib.text.split(`{${key},`).length, 2, `${key} once in the BibTeX`);
+  }
 
   // The marginalised posterior of the planet typed in the planet panel's fit (C/O and [C/H]
   // relative to the Sun), equal to `nivalis fit ... --uncertainty --format json`.
