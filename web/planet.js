@@ -236,6 +236,9 @@
   }
   const planetGroup = makeGroup(PLANET_FIELDS, (field) => planetEdited("planet", field));
   const fitGroup = makeGroup(FIT_FIELDS, (field) => planetEdited("fit", field));
+  // The observed planet as typed (the fields `nivalis fit` reads), for the uncertainty panel's
+  // marginalised posterior, which forwards it to the same request builder.
+  app.fitRequest = () => fitGroup.values();
   const anchorGroup = makeGroup(ANCHOR_FIELDS, () => {});
   const anchorSpecies = anchorGroup.inputs.get("species").input;
   for (const sp of SPECIES) anchorSpecies.add(new Option(formula(sp), sp));

@@ -21,12 +21,20 @@
         runner = new wasm_bindgen.UncertaintyRunner(m.disk, m.seed, m.atAu);
         const chunk = Math.max(1, m.chunk || 25);
         const started = performance.now();
+        // Partial figures summarise every sample so far (percentiles per radius), so they are
+        // drawn after the first chunk and then at most every FIGURE_MS; progress is posted after
+        // every chunk. The samples, and so the results, do not depend on this.
+        const FIGURE_MS = 500;
+        let figuresAt = -Infinity;
         for (let start = 0; start < m.samples; start += chunk) {
           const count = Math.min(chunk, m.samples - start);
           runner.runChunk(start, count);
           const done = start + count;
           if (done < m.samples) {
-            post({ type: "uncertainty-progress", id: m.id, done, total: m.samples, ms: performance.now() - started, figures: runner.figures(m.quantity, m.species, m.dark) });
+            const now = performance.now();
+            const draw = now - figuresAt >= FIGURE_MS;
+            if (draw) figuresAt = now;
+            post({ type: "uncertainty-progress", id: m.id, done, total: m.samples, ms: now - started, figures: draw ? runner.figures(m.quantity, m.species, m.dark) : null });
           }
         }
         const sampleMs = performance.now() - started;
@@ -37,7 +45,7 @@
       } else if (m.type === "uncertainty-export") {
         if (runner) post({ type: "uncertainty-export", id: m.id, name: m.name, mime: m.mime, text: runner.export(m.format, m.table) });
       } else if (m.type === "uncertainty-posterior") {
-        if (runner) post({ type: "uncertainty-posterior", id: m.id, result: runner.posterior(m.cToO, m.sigma, m.samples, m.dark) });
+        if (runner) post({ type: "uncertainty-posterior", id: m.id, result: runner.posterior(m.request, m.samples, m.dark) });
       }
     } catch (error) {
       post({ type: "uncertainty-error", id: m.id, problems: problemsOf(error) });

@@ -25,7 +25,7 @@ const UNC_QUANTITIES = ["c_to_o_gas", "c_to_o_ice", "c_to_o_solid", "c_to_h_gas"
 // The species in the core's order, from the core (no second copy of the list here).
 const UNC_SPECIES = App.SPECIES;
 
-const unc = { worker: null, id: 0, running: false, finished: false, figures: {}, lastRun: null, posteriorSvg: null };
+const unc = { worker: null, id: 0, running: false, finished: false, figures: {}, lastRun: null, posteriorSvg: null, posterior: null };
 
 function uncBuildPanel() {
   const host = $("uncertainty-panel");
@@ -54,12 +54,11 @@ function uncBuildPanel() {
       <figure><img style="width:100%;height:auto;max-width:36em" id="unc-fig-sensitivity-snowline" alt="Sensitivity of the snowline"><figcaption>Which input moves the chosen snowline most.</figcaption></figure>
     </div>
     <div class="unc-posterior" style="margin:0.4em 0">
-      <strong>Formation radius of a planet</strong>:
-      <label>envelope C/O <input id="unc-cto" type="number" step="any" value="0.6" style="width:5em"></label>
-      <label>± <input id="unc-cto-sigma" type="number" step="any" min="0" value="0.05" style="width:5em"></label>
+      <strong>Formation radius of the observed planet</strong> (its C/O, [C/H], [O/H], [M/H] with errors, relative to the star or the Sun, as typed in the planet panel's fit; the same request as <code>nivalis fit DISK … --uncertainty</code>):
       <label>over <input id="unc-post-samples" type="number" min="1" max="100000" step="1" value="100" style="width:5em"> samples</label>
       <button type="button" id="unc-posterior" disabled>Marginalised posterior</button>
       <span id="unc-post-status"></span>
+      <button type="button" id="unc-post-json" disabled>Posterior (JSON)</button>
       <figure><img style="width:100%;height:auto;max-width:36em" id="unc-fig-posterior" alt="Formation-radius posterior"><figcaption>Posterior per radial cell, marginalised over the uncertain inputs and the solid-to-gas ratio; shaded: 68 % and 95 % credible intervals.</figcaption></figure>
     </div>
     <div class="export-buttons">
@@ -69,6 +68,7 @@ function uncBuildPanel() {
       <button type="button" data-unc-export="csv:snowlines">Snowlines (CSV)</button>
       <button type="button" data-unc-export="csv:sensitivity">Sensitivity (CSV)</button>
       <button type="button" data-unc-export="methods">Methods text</button>
+      <button type="button" data-unc-export="bibtex">References (BibTeX)</button>
       <button type="button" data-unc-svg="bands">Bands (SVG)</button>
       <button type="button" data-unc-svg="histogram">Histogram (SVG)</button>
       <button type="button" data-unc-svg="sensitivity_c_to_o">Sensitivity (SVG)</button>
@@ -79,6 +79,9 @@ function uncBuildPanel() {
   $("unc-quantity").addEventListener("change", uncRefreshFigures);
   $("unc-species").addEventListener("change", uncRefreshFigures);
   $("unc-posterior").addEventListener("click", uncPosterior);
+  $("unc-post-json").addEventListener("click", () => {
+    if (unc.posterior) download(`uncertainty-posterior-seed${unc.posterior.seed}.json`, unc.posterior.text, "application/json");
+  });
   for (const b of host.querySelectorAll("[data-unc-export]")) b.addEventListener("click", () => uncExport(b.dataset.uncExport));
   for (const b of host.querySelectorAll("[data-unc-svg]")) b.addEventListener("click", () => uncDownloadSvg(b.dataset.uncSvg));
   uncButtons();
@@ -88,6 +91,7 @@ function uncButtons() {
   $("unc-run").disabled = unc.running;
   $("unc-cancel").disabled = !unc.running;
   $("unc-posterior").disabled = unc.running || !unc.finished;
+  $("unc-post-json").disabled = unc.running || !unc.posterior;
   for (const b of document.querySelectorAll("[data-unc-export],[data-unc-svg]")) b.disabled = unc.running || !unc.finished;
 }
 
@@ -179,7 +183,7 @@ function uncOnMessage(event) {
   if (m.type === "uncertainty-progress") {
     $("unc-progress").value = m.done;
     $("unc-status").textContent = `Running ${m.done} of ${m.total} samples (${(m.ms / 1000).toFixed(1)} s); partial bands shown.`;
-    uncShowFigures(m.figures);
+    if (m.figures) uncShowFigures(m.figures);
   } else if (m.type === "uncertainty-done") {
     $("unc-progress").value = m.done;
     unc.finished = true;
@@ -187,6 +191,7 @@ function uncOnMessage(event) {
     const s = m.summary;
     const failed = s.samples - s.samples_succeeded;
     uncStopped(`${s.samples} samples (seed ${s.seed}) in ${(m.ms / 1000).toFixed(1)} s${failed ? `, ${failed} failed` : ""}${s.redraws ? `, ${s.redraws} redraws` : ""}.`);
+    document.body.dataset.uncertaintyMs = String(m.ms);
     document.body.dataset.uncertaintyDone = String(s.samples);
   } else if (m.type === "uncertainty-figures") {
     uncShowFigures(m.figures);
@@ -194,10 +199,17 @@ function uncOnMessage(event) {
     download(m.name, m.text, m.mime);
   } else if (m.type === "uncertainty-posterior") {
     const r = m.result;
+    unc.posteriorPending = false;
+    unc.posterior = r;
     unc.posteriorSvg = r.svg;
     uncSetImage("unc-fig-posterior", r.svg);
     const i95 = r.radius_interval_95_au;
     $("unc-post-status").textContent = r.radius_median_au == null ? "No sample fits anywhere." : `median ${r.radius_median_au.toPrecision(3)} au, 95 % interval ${i95[0].toPrecision(3)}–${i95[1].toPrecision(3)} au over ${r.samples_succeeded} samples.`;
+    uncButtons();
+  } else if (m.type === "uncertainty-error" && unc.posteriorPending) {
+    unc.posteriorPending = false;
+    uncShowProblems(m.problems);
+    $("unc-post-status").textContent = "Not fitted: fix the problems above (the planet panel's fit fields).";
     uncButtons();
   } else if (m.type === "uncertainty-error") {
     uncShowProblems(m.problems);
@@ -217,15 +229,20 @@ function uncPosterior() {
   if (samples === null) return uncShowProblems([{ path: "posterior samples", message: "must be a whole number in [1, 100000]" }]);
   $("unc-post-status").textContent = `Fitting over ${samples} samples…`;
   $("unc-posterior").disabled = true;
-  unc.worker.postMessage({ type: "uncertainty-posterior", id: unc.id, cToO: Number($("unc-cto").value), sigma: Number($("unc-cto-sigma").value), samples, dark: uncDark() });
+  const request = App.fitRequest ? App.fitRequest() : {};
+  unc.posterior = null;
+  unc.posteriorPending = true;
+  uncShowProblems([]);
+  uncButtons();
+  unc.worker.postMessage({ type: "uncertainty-posterior", id: unc.id, request, samples, dark: uncDark() });
 }
 
 function uncExport(what) {
   if (!unc.worker || !unc.finished) return;
   const [format, table] = what.includes(":") ? what.split(":") : [what, "bands"];
-  const ext = { json: "json", csv: "csv", ecsv: "ecsv", methods: "txt" }[format];
-  const mime = { json: "application/json", csv: "text/csv", ecsv: "text/plain", methods: "text/plain" }[format];
-  const name = `uncertainty-${format === "json" || format === "methods" ? format : table}-seed${unc.lastRun.seed}.${ext}`;
+  const ext = { json: "json", csv: "csv", ecsv: "ecsv", methods: "txt", bibtex: "bib" }[format];
+  const mime = { json: "application/json", csv: "text/csv", ecsv: "text/plain", methods: "text/plain", bibtex: "application/x-bibtex" }[format];
+  const name = `uncertainty-${format === "json" || format === "methods" || format === "bibtex" ? format : table}-seed${unc.lastRun.seed}.${ext}`;
   unc.worker.postMessage({ type: "uncertainty-export", id: unc.id, format, table, name, mime });
 }
 

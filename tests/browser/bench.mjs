@@ -33,7 +33,7 @@
 import { execFileSync } from "node:child_process";
 import { readFileSync } from "node:fs";
 import { join } from "node:path";
-import { ensureCli, ensurePage, launch, openPage, repoRoot } from "./helpers.mjs";
+import { ensureCli, ensurePage, launch, newPage, openPage, repoRoot } from "./helpers.mjs";
 
 const REPEATS = 50;
 const GRIDS = [[200, 80], [400, 160]];
@@ -88,7 +88,58 @@ function percentile(values, q) {
   return s[lo] + (s[hi] - s[lo]) * (i - lo);
 }
 
+// The uncertainty panel (issue 12 item 6): 1000 samples of the default disk at the default
+// grid, with the inputs that leave the structure alone (as tests/browser/uncertainty.test.mjs
+// and crates/xtask/src/uncertainty_bench.rs), run as a user would (Run, wait for the end).
+// Timed: the samples in the worker (as the panel reports them) and click to "done" (samples,
+// progress figures, sensitivity, summary and final figures). Target: 1000 samples within 2 s.
+const UNC_SAMPLES = 1000;
+const UNC_REPEATS = 3;
+const UNC_SECTION = {
+  "star.abundances.offset_dex.C": { distribution: "normal", sigma: 0.05 },
+  "ices.sticking": { distribution: "uniform", low: 0.8, high: 1 },
+  "composition.carbon": { distribution: "dirichlet", concentration: 30 },
+};
+
+async function uncertaintyBench(context) {
+  const { page, errors } = await newPage(context);
+  const samplesMs = [];
+  const roundTrip = [];
+  for (let r = 0; r < UNC_REPEATS; r++) {
+    await page.fill("#unc-section", JSON.stringify(UNC_SECTION, null, 2));
+    await page.fill("#unc-samples", String(UNC_SAMPLES));
+    await page.fill("#unc-seed", String(r + 1));
+    await page.evaluate(() => { delete document.body.dataset.uncertaintyDone; });
+    const t0 = await page.evaluate(() => performance.now());
+    await page.click("#unc-run");
+    await page.waitForSelector(`body[data-uncertainty-done='${UNC_SAMPLES}']`, { timeout: 600000, polling: 5 });
+    const { t1, ms } = await page.evaluate(() => ({ t1: performance.now(), ms: Number(document.body.dataset.uncertaintyMs) }));
+    if (!Number.isFinite(ms)) throw new Error("the panel reported no sampling time");
+    samplesMs.push(ms);
+    roundTrip.push(t1 - t0);
+  }
+  if (errors.length) throw new Error(`page errors: ${errors.join("; ")}`);
+  const f = (x) => x.toFixed(0).padStart(7);
+  const row = (name, v) => console.log(`  ${name.padEnd(48)} ${f(percentile(v, 0.5))} ${f(percentile(v, 0.1))} ${f(percentile(v, 0.9))}`);
+  console.log(`uncertainty panel (headless Chromium, ${UNC_SAMPLES} samples, default disk 200 x 80, ${UNC_REPEATS} runs, milliseconds; target 2000):`);
+  console.log(`  ${"step".padEnd(48)}  median     p10     p90`);
+  row(`${UNC_SAMPLES} samples in the worker (chunks of 25)`, samplesMs);
+  row("Run clicked to results shown (+ sensitivity)", roundTrip);
+  await page.close();
+}
+
+const only = process.argv.includes("--only") ? process.argv[process.argv.indexOf("--only") + 1] : null;
+if (only !== null && only !== "uncertainty") throw new Error(`bench.mjs: --only takes "uncertainty", got ${only}`);
 ensurePage();
+if (only === "uncertainty") {
+  const { context, close } = await launch();
+  try {
+    await uncertaintyBench(context);
+  } finally {
+    await close();
+  }
+  process.exit(0);
+}
 const inputs = floorInputs();
 const { context, close } = await launch();
 try {
@@ -221,6 +272,7 @@ try {
     const total = r.compute.map((c, i) => c + r.draw[i]);
     console.log(`    ${r.kind.padEnd(15)} edit redraw (compute + all 5 charts) / floor ${ratio(total)}   compute / floor ${ratio(r.compute)}   draw / floor ${ratio(r.draw)}`);
   }
+  await uncertaintyBench(context);
 } finally {
   await close();
 }

@@ -78,12 +78,33 @@ test("a run shows partial bands, then figures and exports equal to the CLI's", a
   run("--format", "json", "--methods", methodsFile);
   assert.equal(methods.text, (await import("node:fs")).readFileSync(methodsFile, "utf8"), "methods text equals the CLI's");
   assert.match(methods.text, /seed 5/);
+  // The references of the methods text as BibTeX, each once (the same function as the Rust test).
+  const bib = await downloadText(page, "[data-unc-export='bibtex']");
+  for (const key of ["blackman2021", "steele2014", "marsaglia1964", "marsaglia2000", "hyndman1996", "sobol1993", "saltelli2008"]) {
+    assert.equal(bib.text.split(`{${key},`).length, 2, `${key} once in the BibTeX`);
+  }
 
-  // The marginalised posterior.
+  // The marginalised posterior of the planet typed in the planet panel's fit (C/O and [C/H]
+  // relative to the Sun), equal to `nivalis fit ... --uncertainty --format json`.
+  for (const [key, value] of [["c_to_o", "0.6"], ["c_to_o_sigma", "0.05"], ["c_to_h_dex", "0.1"], ["c_to_h_sigma", "0.2"]]) {
+    await page.fill(`#pp-fit-${key}`, value);
+  }
+  await page.selectOption("#pp-fit-relative_to", "sun");
   await page.fill("#unc-post-samples", "8");
   await page.click("#unc-posterior");
   await page.waitForFunction(() => /median .* au, 95 % interval/.test(document.getElementById("unc-post-status").textContent), null, { timeout: 300000 });
   assert.ok(await page.$eval("#unc-fig-posterior", (img) => img.src.startsWith("blob:")));
+  const posterior = await downloadText(page, "#unc-post-json");
+  const fit = execFileSync(cli, ["fit", file, "--c-to-o", "0.6", "--c-to-o-sigma", "0.05", "--c-to-h-dex", "0.1", "--c-to-h-sigma", "0.2",
+    "--relative-to", "sun", "--uncertainty", "--samples", "8", "--seed", "5", "--format", "json"], { encoding: "utf8" });
+  assert.equal(posterior.text, fit, "page posterior JSON equals `nivalis fit --uncertainty --format json`");
+  assert.equal(JSON.parse(posterior.text).samples, 8);
+  // A bad fit field is named, never fitted.
+  await page.fill("#pp-fit-c_to_o_sigma", "-1");
+  await page.click("#unc-posterior");
+  await page.waitForFunction(() => /Not fitted/.test(document.getElementById("unc-post-status").textContent), null, { timeout: 300000 });
+  assert.match(await page.textContent("#unc-problems"), /fit\.c_to_o_sigma: must be >= 1e-6/);
+  await page.fill("#pp-fit-c_to_o_sigma", "0.05");
   assert.deepEqual(errors, []);
   await page.close();
 });

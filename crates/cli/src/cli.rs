@@ -817,7 +817,7 @@ fn fit_marginalised(
     settings: &nivalis_physics::planet::MapSettings,
     output: &Output,
 ) -> Result<(), Failure> {
-    use nivalis_exports::uncertainty::{posterior_csv, posterior_ecsv, posterior_json};
+    use nivalis_exports::uncertainty::{marginal_fit_json, posterior_csv, posterior_ecsv};
     let samples =
         crate::uncertainty::check_samples(samples).map_err(|e| Failure::input(vec![e]))?;
     let label = disk.display().to_string();
@@ -847,13 +847,7 @@ fn fit_marginalised(
             &methods(&file.parameters),
         ),
         TableFormat::Json => {
-            let mut j = posterior_json(&post, seed, failed, &spec, &prov);
-            j["sensitivity_median_radius_au"] = serde_json::Value::Array(
-                swings
-                    .iter()
-                    .map(|(name, swing)| serde_json::json!({"input": name, "swing_au": swing}))
-                    .collect(),
-            );
+            let j = marginal_fit_json(&post, seed, failed, &spec, &prov, &swings);
             json_text(&j)
         }
     };

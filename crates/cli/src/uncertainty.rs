@@ -5,6 +5,7 @@
 
 use nivalis_disk_files::uncertainty::{read_uncertainty, UncertaintySpec};
 use nivalis_disk_files::DiskFile;
+use nivalis_exports::uncertainty::{posterior_median_swing, posterior_sample_map};
 use nivalis_physics::planet::{chi_square_map, MapSettings, ObservedEnvelope};
 use nivalis_physics::random::Rng;
 use nivalis_physics::uncertainty::{
@@ -81,11 +82,7 @@ pub fn posterior(
     for chunk in indices.chunks(32) {
         let maps: Vec<Result<_, String>> = chunk
             .par_iter()
-            .map(|&i| {
-                let d = spec.draw(&mut Rng::for_sample(seed, i))?;
-                let m = engine.model(&d.parameters).map_err(|e| e.to_string())?;
-                chi_square_map(&m, observed, settings).map_err(|e| e.to_string())
-            })
+            .map(|&i| posterior_sample_map(&engine, spec, seed, i, observed, settings))
             .collect();
         for m in maps {
             match m {
@@ -97,9 +94,8 @@ pub fn posterior(
     Ok((acc.finish(), failed))
 }
 
-/// The one-at-a-time swing of the posterior's median formation radius [au] per input: each
-/// input at each of its levels (others nominal), the median of that one disk's posterior
-/// (docs/model.md section 13); `None` where fewer than two levels give a median.
+/// The one-at-a-time swing of the posterior's median formation radius [au] per input
+/// ([`posterior_median_swing`], the inputs in parallel).
 pub fn posterior_median_swings(
     model: &Model,
     spec: &UncertaintySpec,
@@ -112,20 +108,7 @@ pub fn posterior_median_swings(
     Ok(levels
         .par_iter()
         .map(|(name, ps)| {
-            let medians: Vec<f64> = ps
-                .iter()
-                .filter_map(|p| {
-                    let m = engine.model(p).ok()?;
-                    let map = chi_square_map(&m, observed, settings).ok()?;
-                    let mut acc = PosteriorAccumulator::new(&base_map);
-                    acc.add(&map).ok()?;
-                    acc.finish().radius_median_au
-                })
-                .collect();
-            let swing = (medians.len() >= 2).then(|| {
-                medians.iter().copied().fold(f64::NEG_INFINITY, f64::max)
-                    - medians.iter().copied().fold(f64::INFINITY, f64::min)
-            });
+            let swing = posterior_median_swing(&engine, &base_map, ps, observed, settings);
             (name.clone(), swing)
         })
         .collect())

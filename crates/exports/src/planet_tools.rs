@@ -469,6 +469,12 @@ pub fn fit_request(input: &Value) -> Result<(ObservedEnvelope, MapSettings), Vec
     })
 }
 
+/// A core error of the inverse map as a problem naming the fit panel's field (`fit.<option>`).
+pub fn fit_problem(error: &PhysicsError) -> Problem {
+    let p = physics_problem(error);
+    Problem::new(format!("fit.{}", FitOptions::option_of(&p.path)), p.message)
+}
+
 /// Runs the inverse map as `nivalis fit` does; problems name the panel's fields.
 pub fn fit_planet(
     model: &Model,
@@ -476,13 +482,7 @@ pub fn fit_planet(
     input: &Value,
 ) -> Result<FittedMap, Vec<Problem>> {
     let (observed, settings) = fit_request(input)?;
-    let map = chi_square_map(model, &observed, &settings).map_err(|e| {
-        let p = physics_problem(&e);
-        vec![Problem::new(
-            format!("fit.{}", FitOptions::option_of(&p.path)),
-            p.message,
-        )]
-    })?;
+    let map = chi_square_map(model, &observed, &settings).map_err(|e| vec![fit_problem(&e)])?;
     let allowed_union_au = allowed_union(&map);
     Ok(FittedMap {
         map,

@@ -9,9 +9,13 @@ use crate::methods::MethodEntry;
 use crate::provenance::Provenance;
 use crate::tables::{ColumnSpec, Table};
 use nivalis_disk_files::uncertainty::UncertaintySpec;
+use nivalis_physics::planet::{chi_square_map, ChiSquareMap, MapSettings, ObservedEnvelope};
+use nivalis_physics::random::Rng;
 use nivalis_physics::uncertainty::{
-    InputSensitivity, MarginalPosterior, MonteCarlo, Quantity, PERCENTILES, PERCENTILE_KEYS,
+    Engine, InputSensitivity, MarginalPosterior, MonteCarlo, PosteriorAccumulator, Quantity,
+    PERCENTILES, PERCENTILE_KEYS,
 };
+use nivalis_physics::ModelParameters;
 use nivalis_physics::Species;
 use serde_json::{json, Map, Value};
 
@@ -491,7 +495,7 @@ pub fn methods_text(spec: &UncertaintySpec, mc: &MonteCarlo) -> String {
         mc.seed,
         if inputs.is_empty() { "none".to_string() } else { inputs.join("; ") }
     );
-    t.push_str(" Random numbers came from xoshiro256** (Blackman & Vigna 2021) seeded through SplitMix64 (Steele, Lea & Flood 2014), one independent stream per sample; normal deviates from Marsaglia's polar method (Marsaglia & Bray 1964), gamma and Dirichlet deviates from Marsaglia & Tsang (2000).");
+    t.push_str(" Random numbers came from xoshiro256** (Blackman & Vigna 2021) seeded through SplitMix64 (Steele, Lea & Flood 2014), one independent stream per sample; normal deviates from Marsaglia's polar method (Marsaglia & Bray 1964), gamma and Dirichlet deviates from the method of Marsaglia & Tsang 2000.");
     t.push_str(" Each sampled disk was validated like an input file; draws outside a field's allowed range were drawn again (truncated distributions).");
     t.push_str(&format!(
         " {} of {} samples ran ({} redraws); the bands are the 2.5, 16, 50, 84 and 97.5 percentiles over them at each radius of the nominal grid (Hyndman & Fan 1996, definition 7), and snowline percentiles are over the samples that have the snowline.",
@@ -499,6 +503,32 @@ pub fn methods_text(spec: &UncertaintySpec, mc: &MonteCarlo) -> String {
     ));
     t.push_str(" The sensitivity is a one-at-a-time swing over each input's 16th and 84th percentiles (or its options) and a first-order variance index (Sobol 1993) estimated from the same samples by binning (Saltelli et al. 2008).");
     t
+}
+
+/// The references the uncertainty methods text ([`methods_text`]) cites, in order of first
+/// citation (records in `nivalis_physics::references`).
+pub const UNCERTAINTY_REFERENCES: [&str; 7] = [
+    "blackman2021",
+    "steele2014",
+    "marsaglia1964",
+    "marsaglia2000",
+    "hyndman1996",
+    "sobol1993",
+    "saltelli2008",
+];
+
+/// The BibTeX file of the uncertainty methods text: the software first, then each reference it
+/// cites once.
+pub fn uncertainty_bibtex() -> String {
+    std::iter::once(crate::bibtex::software_entry())
+        .chain(
+            UNCERTAINTY_REFERENCES
+                .iter()
+                .filter_map(|k| nivalis_physics::references::reference(k))
+                .map(crate::bibtex::bibtex_entry),
+        )
+        .collect::<Vec<_>>()
+        .join("\n")
 }
 
 /// The marginalised posterior as JSON.
@@ -638,8 +668,104 @@ pub fn methods_file(spec: &UncertaintySpec, mc: &MonteCarlo) -> String {
     text
 }
 
+/// One sample's inverse map for the marginalised posterior (docs/model.md section 13): the
+/// sample's inputs drawn from `(seed, index)`, its disk (structure reused where it can be) and
+/// the chi-square map of the observed planet over it. Shared by `nivalis fit --uncertainty`
+/// (in parallel) and the page's worker (in order); both add the maps in index order.
+pub fn posterior_sample_map(
+    engine: &Engine,
+    spec: &UncertaintySpec,
+    seed: u64,
+    index: u64,
+    observed: &ObservedEnvelope,
+    settings: &MapSettings,
+) -> Result<ChiSquareMap, String> {
+    let d = spec.draw(&mut Rng::for_sample(seed, index))?;
+    let m = engine.model(&d.parameters).map_err(|e| e.to_string())?;
+    chi_square_map(&m, observed, settings).map_err(|e| e.to_string())
+}
+
+/// The one-at-a-time swing of the posterior's median formation radius [au] for one input: the
+/// input at each of its `levels` (others nominal), the median of that one disk's posterior on the
+/// nominal map's grid; `None` where fewer than two levels give a median (docs/model.md
+/// section 13).
+pub fn posterior_median_swing(
+    engine: &Engine,
+    base_map: &ChiSquareMap,
+    levels: &[ModelParameters],
+    observed: &ObservedEnvelope,
+    settings: &MapSettings,
+) -> Option<f64> {
+    let medians: Vec<f64> = levels
+        .iter()
+        .filter_map(|p| {
+            let m = engine.model(p).ok()?;
+            let map = chi_square_map(&m, observed, settings).ok()?;
+            let mut acc = PosteriorAccumulator::new(base_map);
+            acc.add(&map).ok()?;
+            acc.finish().radius_median_au
+        })
+        .collect();
+    (medians.len() >= 2).then(|| {
+        medians.iter().copied().fold(f64::NEG_INFINITY, f64::max)
+            - medians.iter().copied().fold(f64::INFINITY, f64::min)
+    })
+}
+
+/// The JSON of `nivalis fit ... --uncertainty --format json` (and of the page's marginalised
+/// posterior): [`posterior_json`] plus `sensitivity_median_radius_au`, each input's swing.
+pub fn marginal_fit_json(
+    post: &MarginalPosterior,
+    seed: u64,
+    failures: usize,
+    spec: &UncertaintySpec,
+    provenance: &Provenance,
+    swings: &[(String, Option<f64>)],
+) -> Value {
+    let mut j = posterior_json(post, seed, failures, spec, provenance);
+    j["sensitivity_median_radius_au"] = Value::Array(
+        swings
+            .iter()
+            .map(|(name, swing)| json!({"input": name, "swing_au": swing}))
+            .collect(),
+    );
+    j
+}
+
 #[cfg(test)]
 mod tests {
+    /// The BibTeX entries are exactly the references the methods text cites (each once), plus
+    /// the software's own entry; no other reference's citation appears in the text.
+    #[test]
+    fn uncertainty_bibtex_entries_equal_the_citations() {
+        let text = r#"{"uncertainty": {"ices.sticking": {"distribution": "uniform", "low": 0.8, "high": 1}}}"#;
+        let root = nivalis_disk_files::parse_json_text(text).unwrap();
+        let file = nivalis_disk_files::from_value(&root).unwrap();
+        let spec = nivalis_disk_files::uncertainty::read_uncertainty(&root, &file)
+            .unwrap()
+            .unwrap();
+        let mc = nivalis_physics::uncertainty::summarise(&[1.0], 1, &[]);
+        let text = super::methods_text(&spec, &mc);
+        for r in nivalis_physics::references::REFERENCES {
+            let listed = super::UNCERTAINTY_REFERENCES.contains(&r.key);
+            assert_eq!(
+                text.contains(r.citation),
+                listed,
+                "{}: {}",
+                r.key,
+                r.citation
+            );
+        }
+        let bib = super::uncertainty_bibtex();
+        for key in super::UNCERTAINTY_REFERENCES {
+            assert_eq!(bib.matches(&format!("{{{key},")).count(), 1, "{key}");
+        }
+        assert_eq!(
+            bib.matches("\n@").count(),
+            super::UNCERTAINTY_REFERENCES.len()
+        );
+    }
+
     use super::*;
     use nivalis_disk_files::uncertainty::read_uncertainty;
     use nivalis_physics::uncertainty::{one_at_a_time, Engine};

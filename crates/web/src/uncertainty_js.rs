@@ -13,11 +13,11 @@ use nivalis_charts::{FigureSize, Theme};
 use nivalis_disk_files::uncertainty::{read_uncertainty, UncertaintySpec};
 use nivalis_disk_files::{from_value, DiskFile, Problem};
 use nivalis_exports::uncertainty::{
-    check_sensitivity_radius, methods_file, uncertainty_json, uncertainty_text, UncertaintyResult,
-    UncertaintyTable,
+    check_sensitivity_radius, marginal_fit_json, methods_file, posterior_median_swing,
+    posterior_sample_map, uncertainty_json, uncertainty_text, UncertaintyResult, UncertaintyTable,
 };
 use nivalis_exports::{Format, Provenance};
-use nivalis_physics::planet::{chi_square_map, MapSettings, ObservedEnvelope};
+use nivalis_physics::planet::chi_square_map;
 use nivalis_physics::random::Rng;
 use nivalis_physics::uncertainty::{
     one_at_a_time, summarise, Engine, InputSensitivity, MonteCarlo, PosteriorAccumulator, Quantity,
@@ -122,9 +122,10 @@ impl UncertaintySession {
             .ok_or_else(|| format!("unknown table {table:?}; bands, snowlines or sensitivity"))?;
         self.with_result(|r| match (format, Format::from_key(format)) {
             ("methods", _) => Ok(methods_file(r.spec, r.monte_carlo)),
+            ("bibtex", _) => Ok(nivalis_exports::uncertainty::uncertainty_bibtex()),
             (_, Some(f)) => Ok(uncertainty_text(r, f, which)),
             _ => Err(format!(
-                "unknown format {format:?}; csv, ecsv, json or methods"
+                "unknown format {format:?}; csv, ecsv, json, methods or bibtex"
             )),
         })
     }
@@ -194,30 +195,37 @@ impl UncertaintySession {
         }))
     }
 
-    /// The formation-radius posterior of a planet with envelope C/O `c_to_o` +- `sigma`,
-    /// marginalised over the first `samples` samples' disks (each a full model; slower than the
-    /// bands), with its figure.
+    /// The formation-radius posterior of an observed planet marginalised over the first
+    /// `samples` samples' disks (each a full model; slower than the bands), as
+    /// `nivalis fit ... --uncertainty --samples N --seed S`. `request` holds the fit panel's
+    /// fields (C/O, [C/H], [O/H], [M/H] with their errors, relative to star or Sun, priors),
+    /// read by the CLI's own request builder (`nivalis_exports::planet_tools::fit_request`).
+    /// The result is the CLI's JSON plus `text` (its file, byte for byte) and `svg` (the figure).
     pub fn posterior(
         &self,
-        c_to_o: f64,
-        sigma: f64,
+        request: &Value,
         samples: u64,
         dark: bool,
-    ) -> Result<Value, String> {
-        let observed = ObservedEnvelope::c_to_o(c_to_o, sigma);
-        let settings = MapSettings::defaults();
-        let base =
-            chi_square_map(self.engine.base(), &observed, &settings).map_err(|e| e.to_string())?;
+    ) -> Result<Value, Vec<Problem>> {
+        let (observed, settings) = nivalis_exports::planet_tools::fit_request(request)?;
+        let failure = |e: String| vec![Problem::new("fit", e)];
+        let base = chi_square_map(self.engine.base(), &observed, &settings)
+            .map_err(|e| vec![nivalis_exports::planet_tools::fit_problem(&e)])?;
+        let swings: Vec<(String, Option<f64>)> = self
+            .spec
+            .one_at_a_time_levels()
+            .iter()
+            .map(|(name, ps)| {
+                let swing = posterior_median_swing(&self.engine, &base, ps, &observed, &settings);
+                (name.clone(), swing)
+            })
+            .collect();
         let mut acc = PosteriorAccumulator::new(&base);
         let mut failed = 0usize;
         for i in 0..samples {
-            let map = self
-                .spec
-                .draw(&mut Rng::for_sample(self.seed, i))
-                .and_then(|d| self.engine.model(&d.parameters).map_err(|e| e.to_string()))
-                .and_then(|m| chi_square_map(&m, &observed, &settings).map_err(|e| e.to_string()));
-            match map {
-                Ok(m) => acc.add(&m).map_err(|e| e.to_string())?,
+            match posterior_sample_map(&self.engine, &self.spec, self.seed, i, &observed, &settings)
+            {
+                Ok(m) => acc.add(&m).map_err(|e| failure(e.to_string()))?,
                 Err(_) => failed += 1,
             }
         }
@@ -232,9 +240,8 @@ impl UncertaintySession {
                 .collect(),
         });
         let prov = Provenance::of(&self.file);
-        let mut j = nivalis_exports::uncertainty::posterior_json(
-            &post, self.seed, failed, &self.spec, &prov,
-        );
+        let mut j = marginal_fit_json(&post, self.seed, failed, &self.spec, &prov, &swings);
+        j["text"] = json!(nivalis_exports::formats::json_text(&j));
         j["svg"] = json!(uncertainty_svg(&fig, &theme, FigureSize::single_column()).ok());
         Ok(j)
     }
@@ -326,18 +333,26 @@ mod binding {
                 .map_err(|e| JsValue::from_str(&e))
         }
 
-        /// The marginalised posterior for an envelope C/O.
+        /// The marginalised posterior of the observed planet in `request` (the fit panel's
+        /// fields); problems are thrown as `{problems: [...]}`.
         pub fn posterior(
             &self,
-            c_to_o: f64,
-            sigma: f64,
+            request: JsValue,
             samples: f64,
             dark: bool,
         ) -> Result<JsValue, JsValue> {
+            let problems = |ps: Vec<nivalis_disk_files::Problem>| {
+                to_js(
+                    &json!({"problems": ps.iter().map(|p| json!({"path": p.path, "message": p.message})).collect::<Vec<_>>()}),
+                )
+            };
+            let request: Value = serde_wasm_bindgen::from_value(request).map_err(|e| {
+                to_js(&json!({"problems": [{"path": "fit", "message": e.to_string()}]}))
+            })?;
             self.session
-                .posterior(c_to_o, sigma, samples.max(1.0) as u64, dark)
+                .posterior(&request, samples.max(1.0) as u64, dark)
                 .map(|v| to_js(&v))
-                .map_err(|e| JsValue::from_str(&e))
+                .map_err(problems)
         }
     }
 }
@@ -372,8 +387,23 @@ mod tests {
             .as_str()
             .unwrap()
             .starts_with("<svg"));
-        let p = a.posterior(0.6, 0.05, 4, false).unwrap();
+        let request = json!({"c_to_o": "0.6", "c_to_o_sigma": "0.05", "c_to_h_dex": "0.1", "c_to_h_sigma": "0.2"});
+        let p = a.posterior(&request, 4, false).unwrap();
         assert!(p["svg"].as_str().unwrap().starts_with("<svg"));
+        assert_eq!(p["samples"], json!(4));
+        // The same text as `nivalis fit --uncertainty --format json` writes (json_text of the
+        // CLI's value, without the page's own `text` and `svg`).
+        let mut plain = p.clone();
+        let text = plain["text"].take();
+        plain.as_object_mut().unwrap().remove("text");
+        plain.as_object_mut().unwrap().remove("svg");
+        assert_eq!(text, json!(nivalis_exports::formats::json_text(&plain)));
+        // A bad field is named as the fit panel names it.
+        let bad = a.posterior(&json!({"c_to_o": "0.6", "c_to_o_sigma": "-1"}), 4, false);
+        assert!(bad
+            .unwrap_err()
+            .iter()
+            .any(|p| p.path == "fit.c_to_o_sigma"));
         assert!(a
             .export("csv", "snowlines")
             .unwrap()

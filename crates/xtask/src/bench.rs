@@ -11,7 +11,9 @@
 //!    `model / floor` (target <= 2) and `numpy / native model` (target >= 10).
 //!    Then the sweep throughput natively and through Dask, and the per-model
 //!    overhead of a sweep point over a bare `Model::run` ([`crate::sweep_bench`]).
-//! 4. The in-browser benchmark (`tests/browser/bench.mjs`), which prints its
+//! 4. The uncertainty Monte Carlo ([`crate::uncertainty_bench`]): 1000 samples against one
+//!    deterministic run, and the CLI at 1 and 2 rayon threads.
+//! 5. The in-browser benchmark (`tests/browser/bench.mjs`), which prints its
 //!    own table, including the in-page floor and `edit redraw / floor`.
 //!
 //! The native numbers come from criterion's record of the raw samples,
@@ -124,7 +126,23 @@ struct Baseline {
     agrees: bool,
 }
 
-pub fn bench() -> Result<(), String> {
+/// `cargo xtask bench`; with `only_uncertainty` (`cargo xtask bench uncertainty`) only the
+/// uncertainty section ([`crate::uncertainty_bench`]) and the page's uncertainty timing.
+pub fn bench(only_uncertainty: bool) -> Result<(), String> {
+    if only_uncertainty {
+        let mut problems = Vec::new();
+        if let Err(message) = crate::uncertainty_bench::uncertainty_section() {
+            problems.push(message);
+        }
+        if let Err(message) = browser_bench(&["--only", "uncertainty"]) {
+            problems.push(message);
+        }
+        return if problems.is_empty() {
+            Ok(())
+        } else {
+            Err(problems.join("; "))
+        };
+    }
     let root = repo_root();
     // Some file systems keep modification times to the second only; the slack
     // keeps a record written in this run from looking older than the run.
@@ -238,7 +256,10 @@ pub fn bench() -> Result<(), String> {
     if let Err(message) = crate::sweep_bench::sweep_section() {
         problems.push(message);
     }
-    if let Err(message) = browser_bench() {
+    if let Err(message) = crate::uncertainty_bench::uncertainty_section() {
+        problems.push(message);
+    }
+    if let Err(message) = browser_bench(&[]) {
         problems.push(message);
     }
     if problems.is_empty() {
@@ -262,7 +283,7 @@ fn numpy_ratio_note(numpy: Option<Spread>, native: Option<Spread>) -> String {
 }
 
 /// The workspace's target directory (CARGO_TARGET_DIR when set, as cargo does).
-fn target_dir() -> PathBuf {
+pub(crate) fn target_dir() -> PathBuf {
     std::env::var_os("CARGO_TARGET_DIR")
         .map(PathBuf::from)
         .unwrap_or_else(|| repo_root().join("target"))
@@ -443,7 +464,7 @@ fn format_duration(nanoseconds: f64) -> String {
 }
 
 /// The in-browser benchmark `tests/browser/bench.mjs`, run with Node after the page is built.
-fn browser_bench() -> Result<(), String> {
+fn browser_bench(args: &[&str]) -> Result<(), String> {
     let root = repo_root();
     let script = root.join("tests/browser/bench.mjs");
     if !script.is_file() {
@@ -459,7 +480,8 @@ fn browser_bench() -> Result<(), String> {
     crate::test::ensure_browser_packages()?;
     run(Command::new("node")
         .current_dir(&root)
-        .arg("tests/browser/bench.mjs"))
+        .arg("tests/browser/bench.mjs")
+        .args(args))
 }
 
 #[cfg(test)]

@@ -28,6 +28,7 @@ mod python_module;
 mod setup;
 mod sweep_bench;
 mod test;
+mod uncertainty_bench;
 
 use std::path::{Path, PathBuf};
 use std::process::{Command, ExitCode};
@@ -38,7 +39,9 @@ usage: cargo xtask <command> [options]
 commands:
   test            run every test stage (Rust, Python checks, browser tests), fail-fast;
                   ends with the line `N passed, M failed`
-  bench           run the physics benchmarks and print a table of medians
+  bench [uncertainty]
+                  run the physics benchmarks and print a table of medians
+                  (uncertainty: only the uncertainty Monte Carlo's timings)
   open [--dev]    build the page and open target/site/nivalis.html
                   (shows the CLI's output instead while the page does not exist)
   dist [--dev]    build the single-file page into target/site/ (--dev: unoptimised, faster)
@@ -56,7 +59,14 @@ fn main() -> ExitCode {
     };
     let outcome = match command {
         "test" => no_options(command, rest).and_then(|()| test::test()),
-        "bench" => no_options(command, rest).and_then(|()| bench::bench()),
+        "bench" => match rest {
+            [] => bench::bench(false),
+            [only] if only == "uncertainty" => bench::bench(true),
+            _ => Err(format!(
+                "bench: the only option is `uncertainty` (that section alone), got `{}`",
+                rest.join(" ")
+            )),
+        },
         "open" => dev_flag(command, rest).and_then(|dev| open::open(!dev)),
         "dist" => dev_flag(command, rest)
             .and_then(|dev| dist::dist(!dev).map(|path| println!("built {}", path.display()))),
