@@ -9,7 +9,7 @@
 //! [`ChartLayout`] (pixel rectangles and axis transforms, for hover readouts):
 //! (a) [`draw_c_to_o_profile`], (b) [`draw_temperature_profile`],
 //! (c) [`draw_ice_map`], (d) [`draw_c_to_o_map`], (e) [`draw_abundance_profiles`],
-//! (f) [`draw_chi2_map`]. Data structs ([`ProfileData`], [`TemperatureData`],
+//! (f) [`draw_chi2_map`], (j) [`age_fit::draw_chi2_age_map`] (the fit over formation radius x age). Data structs ([`ProfileData`], [`TemperatureData`],
 //! [`MapData`], [`AbundanceData`], [`Chi2Data`]) are built from a
 //! `nivalis_physics::Model` by their `from_model`-style functions or
 //! [`Figure::from_model`]. [`render_svg`] and [`render_png`] give paper-ready files;
@@ -28,6 +28,7 @@
 //! never reach the output as numbers. Lines differ by dash and marker as well as
 //! colour, so every figure reads in greyscale; maps use viridis or cividis.
 
+pub mod age_fit;
 pub mod colour;
 pub mod contour;
 pub mod data;

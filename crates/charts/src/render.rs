@@ -191,6 +191,9 @@ pub enum Figure {
     EvolvedCToO(crate::EvolvedProfileData),
     /// (i) Gas C/O over radius x age.
     RadiusTimeMap(crate::RadiusTimeMapData),
+    /// (j) Delta chi-square of the planet fit over formation radius x formation age
+    /// ([`crate::age_fit`]).
+    Chi2Age(Chi2Data),
 }
 
 impl Figure {
@@ -226,6 +229,7 @@ pub fn draw_figure<DB: DrawingBackend>(
         Figure::SnowlineTracks(d) => crate::draw_snowline_tracks(area, d, theme, pixels_per_point),
         Figure::EvolvedCToO(d) => crate::draw_evolved_c_to_o(area, d, theme, pixels_per_point),
         Figure::RadiusTimeMap(d) => crate::draw_radius_time_map(area, d, theme, pixels_per_point),
+        Figure::Chi2Age(d) => crate::age_fit::draw_chi2_age_map(area, d, theme, pixels_per_point),
     }
 }
 

@@ -427,9 +427,19 @@ enum Command {
         #[arg(long, value_enum, default_value_t = Convention::MappedParameters)]
         convention: Convention,
         /// Also draw the map with its 1- and 2-sigma contours and the best fit into this file
-        /// (SVG, or PNG at 300 dpi when the name ends in .png; single-column width).
+        /// (SVG, or PNG when the name ends in .png); with --over-age-myr the radius x age map
+        /// (view chi2_age_map). --width, --dpi and --theme as `nivalis figure` takes them.
         #[arg(long, value_name = "FILE")]
         figure: Option<PathBuf>,
+        /// Figure width (with --figure): single column (252 pt) or double column (511 pt).
+        #[arg(long, value_enum, default_value_t = FigureWidth::Single)]
+        width: FigureWidth,
+        /// PNG resolution of --figure [dots per inch], 36-1200.
+        #[arg(long, default_value_t = 300.0, allow_negative_numbers = true)]
+        dpi: f64,
+        /// Colours of --figure: light (paper) or dark.
+        #[arg(long, value_enum, default_value_t = FigureTheme::Light)]
+        theme: FigureTheme,
         /// Also write the planet methods text for this map (the page's planet methods download
         /// when only the map is shown).
         #[arg(long, value_name = "FILE")]
@@ -952,50 +962,50 @@ const FIT_FLAGS: [(&str, &str); 15] = [
     ("feeding_zone_hill_radii", "--feeding-zone-hill-radii"),
 ];
 
-/// `nivalis fit ... --over-age-myr T1,T2[,N]`: the chi-square map over formation radius x
-/// formation age on the evolving disk (docs/model.md section 12.9).
+/// `nivalis fit ... --over-age-myr T1,T2[,N] [--figure FILE]`: the chi-square map over
+/// formation radius x formation age on the evolving disk (docs/model.md section 12.9), run by
+/// the function the page runs (`nivalis_exports::evolution_fit::run_age_fit`).
 fn fit_over_age(
-    mut file: DiskFile,
-    (t1, t2, count): (f64, f64, usize),
+    file: DiskFile,
+    window: (f64, f64, usize),
     observed: &nivalis_physics::planet::ObservedEnvelope,
     settings: &nivalis_physics::planet::MapSettings,
     output: &Output,
+    figure: Option<(&PathBuf, &nivalis_charts::FigureOptions)>,
 ) -> Result<(), Failure> {
-    use nivalis_exports::evolution_fit::{
-        age_fit_ecsv, age_fit_json, age_fit_table, snapshots_for_window,
+    use nivalis_exports::evolution_fit::{run_age_fit, AgeFitError, AgeFitRequest};
+    let request = AgeFitRequest {
+        window,
+        observed: observed.clone(),
+        settings: settings.clone(),
     };
-    let mut e = file
-        .evolution
-        .clone()
-        .unwrap_or_else(nivalis_physics::evolution::EvolutionParameters::defaults);
-    e.until_myr = t2;
-    e.snapshots = snapshots_for_window(e.start_myr, t1, t2, count).ok_or_else(|| {
-        Failure::input(vec![format!(
-            "--over-age-myr: the window must start at or after evolution.start_myr = {} Myr and end after it, with at most 500 snapshots; got {t1},{t2},{count}",
-            e.start_myr
-        )])
-    })?;
     let mut flags = vec![
         ("evolution.until_myr", "--over-age-myr"),
         ("from_myr", "--over-age-myr"),
     ];
     flags.extend(FIT_FLAGS);
-    e.check().map_err(|err| option_failure(&err, &flags))?;
-    let run = nivalis_physics::evolution::evolve(&file.parameters, &e)
-        .map_err(|err| option_failure(&err, &flags))?;
-    let map =
-        nivalis_physics::evolution::fit::chi_square_over_age(&run, t1, t2, observed, settings)
-            .map_err(|err| option_failure(&err, &flags))?;
-    file.evolution = Some(e);
-    let prov = Provenance::of(&file);
-    let used = methods(&file.parameters);
-    let text = match output.format {
-        TableFormat::Csv => to_csv(&age_fit_table(&map), &prov),
-        TableFormat::Ecsv => age_fit_ecsv(&map, &prov, &used),
-        TableFormat::Json => json_text(&age_fit_json(&map, &prov, &used)),
-    };
-    if let Some(r) = &map.goodness.reason {
-        eprintln!("warning: {r}; no formation place is allowed");
+    let fit = run_age_fit(&file, &request, &mut |_| true).map_err(|e| match e {
+        AgeFitError::Window(m) => Failure::input(vec![format!("--over-age-myr: {m}")]),
+        AgeFitError::Physics(err) => option_failure(&err, &flags),
+        AgeFitError::Cancelled => Failure::input(vec!["cancelled".to_string()]),
+    })?;
+    let text = fit.text(match output.format {
+        TableFormat::Csv => nivalis_exports::Format::Csv,
+        TableFormat::Ecsv => nivalis_exports::Format::Ecsv,
+        TableFormat::Json => nivalis_exports::Format::Json,
+    });
+    if let Some(w) = fit.warning() {
+        eprintln!("warning: {w}");
+    }
+    if let Some((path, options)) = figure {
+        let fig = nivalis_charts::age_fit::age_fit_figure(&fit.map);
+        write_figure(
+            &Some(path.clone()),
+            &fig,
+            options,
+            &fit.provenance(),
+            nivalis_charts::age_fit::CHI2_AGE_MAP_VIEW,
+        )?;
     }
     write_output(&output.out, &text)
 }
@@ -1263,6 +1273,9 @@ fn execute(args: Args) -> Result<(), Failure> {
             feeding_zone_hill_radii,
             convention,
             figure,
+            width,
+            dpi,
+            theme,
             methods: methods_file,
             uncertainty,
             over_age_myr,
@@ -1315,15 +1328,39 @@ fn execute(args: Args) -> Result<(), Failure> {
                         .collect(),
                 )
             })?;
+            // The figure's options, read as `nivalis figure` reads them (nivalis_charts::options);
+            // the format follows the file name (.png, else SVG).
+            let figure_options = nivalis_charts::FigureOptions {
+                format: if figure
+                    .as_ref()
+                    .is_some_and(|p| p.extension().is_some_and(|e| e.eq_ignore_ascii_case("png")))
+                {
+                    nivalis_charts::FigureFormat::Png
+                } else {
+                    nivalis_charts::FigureFormat::Svg
+                },
+                double_column: width == FigureWidth::Double,
+                dpi,
+                dark: theme == FigureTheme::Dark,
+            };
+            figure_options
+                .check()
+                .map_err(|e| Failure::input(vec![format!("--{e}")]))?;
             let (file, root) = read_disk_value(&disk, &sets)?;
             if let Some(window) = over_age_myr {
-                if uncertainty || figure.is_some() || methods_file.is_some() {
+                if uncertainty || methods_file.is_some() {
                     return Err(Failure::input(vec![
-                        "--over-age-myr: not combined with --uncertainty, --figure or --methods"
-                            .to_string(),
+                        "--over-age-myr: not combined with --uncertainty or --methods".to_string(),
                     ]));
                 }
-                return fit_over_age(file, window, &observed, &settings, &output);
+                return fit_over_age(
+                    file,
+                    window,
+                    &observed,
+                    &settings,
+                    &output,
+                    figure.as_ref().map(|p| (p, &figure_options)),
+                );
             }
             let model = run_model(&file)?;
             if uncertainty {
@@ -1362,21 +1399,15 @@ fn execute(args: Args) -> Result<(), Failure> {
                 }
             }
             if let Some(path) = &figure {
-                use nivalis_charts::{Chi2Data, Figure, FigureFormat, FigureOptions};
+                use nivalis_charts::{Chi2Data, Figure};
                 let fig = Figure::Chi2(Chi2Data::from_map(&map));
-                // Single column, light, 300 dpi; PNG when the name ends in .png.
-                let png = path
-                    .extension()
-                    .is_some_and(|e| e.eq_ignore_ascii_case("png"));
-                let options = FigureOptions {
-                    format: if png {
-                        FigureFormat::Png
-                    } else {
-                        FigureFormat::Svg
-                    },
-                    ..FigureOptions::default()
-                };
-                write_figure(&Some(path.clone()), &fig, &options, &prov, "chi2_map")?;
+                write_figure(
+                    &Some(path.clone()),
+                    &fig,
+                    &figure_options,
+                    &prov,
+                    "chi2_map",
+                )?;
             }
             write_output(&output.out, &text)
         }

@@ -1325,6 +1325,91 @@ fn fit_maps_formation_radius_by_age_on_the_evolving_disk() {
 }
 
 #[test]
+fn fit_over_age_figure_equals_the_shared_function() {
+    // Issue 13: `nivalis fit ... --over-age-myr T1,T2,N --figure FILE [--width --dpi --theme]`
+    // writes what the shared run (`nivalis_exports::evolution_fit::run_age_fit`, which the page
+    // also calls) and the shared figure (`nivalis_charts::age_fit`) give, with the provenance of
+    // the run's disk, byte for byte; the table is the shared function's text.
+    use nivalis_exports::evolution_fit::{run_age_fit, AgeFitRequest};
+    use nivalis_exports::figures::{embed_png_provenance, embed_svg_provenance};
+    let text = r#"{"grid": {"radial_cells": 30, "vertical_cells": 8}}"#;
+    let path = temp_file("fit_over_age_figure.json", text);
+    let p = path.to_str().unwrap();
+    let svg_path = temp_file("age_fit.svg", "");
+    let png_path = temp_file("age_fit.png", "");
+    let base = [
+        "fit",
+        p,
+        "--c-to-o",
+        "0.5",
+        "--c-to-o-sigma",
+        "0.05",
+        "--over-age-myr",
+        "0.05,0.3,3",
+        "--format",
+        "csv",
+    ];
+    let mut svg_args = base.to_vec();
+    svg_args.extend(["--figure", svg_path.to_str().unwrap()]);
+    let out = nivalis(&svg_args);
+    assert_eq!(out.status.code(), Some(0), "{}", stderr(&out));
+    let mut png_args = base.to_vec();
+    png_args.extend([
+        "--figure",
+        png_path.to_str().unwrap(),
+        "--width",
+        "double",
+        "--dpi",
+        "72",
+        "--theme",
+        "dark",
+    ]);
+    let out_png = nivalis(&png_args);
+    assert_eq!(out_png.status.code(), Some(0), "{}", stderr(&out_png));
+    // The same run through the shared functions.
+    let file = nivalis_disk_files::from_value(&serde_json::from_str(text).unwrap()).unwrap();
+    let (observed, settings) = nivalis_exports::planet_tools::fit_request(
+        &serde_json::json!({"c_to_o": "0.5", "c_to_o_sigma": "0.05"}),
+    )
+    .unwrap();
+    let request = AgeFitRequest {
+        window: (0.05, 0.3, 3),
+        observed,
+        settings,
+    };
+    let fit = run_age_fit(&file, &request, &mut |_| true).unwrap();
+    assert_eq!(stdout(&out), fit.text(nivalis_exports::Format::Csv));
+    let figure = nivalis_charts::age_fit::age_fit_figure(&fit.map);
+    let view = nivalis_charts::age_fit::CHI2_AGE_MAP_VIEW;
+    let svg = nivalis_charts::render_svg(
+        &figure,
+        &nivalis_charts::Theme::light(),
+        nivalis_charts::FigureSize::single_column(),
+    )
+    .unwrap();
+    let want_svg = embed_svg_provenance(&svg, &fit.provenance(), view);
+    let got_svg = std::fs::read_to_string(&svg_path).unwrap();
+    assert!(got_svg.contains("formation age t [Myr]"));
+    assert!(got_svg.contains(view), "the provenance names the view");
+    assert_eq!(got_svg, want_svg);
+    let png = nivalis_charts::render_png(
+        &figure,
+        &nivalis_charts::Theme::dark(),
+        nivalis_charts::FigureSize::double_column(),
+        72.0,
+    )
+    .unwrap();
+    let got_png = std::fs::read(&png_path).unwrap();
+    assert_eq!(got_png, embed_png_provenance(&png, &fit.provenance(), view));
+    // A resolution out of range is refused by flag before anything runs.
+    let mut bad = base.to_vec();
+    bad.extend(["--figure", png_path.to_str().unwrap(), "--dpi", "5"]);
+    let out = nivalis(&bad);
+    assert_eq!(out.status.code(), Some(2));
+    assert!(stderr(&out).contains("--dpi: must be"), "{}", stderr(&out));
+}
+
+#[test]
 fn figure_draws_the_evolution_views() {
     // Issue 13 item 4 exports: `nivalis figure DISK --view <evolution view>` through the same key
     // table as the static views (docs/model.md section 12), SVG and PNG.

@@ -3,15 +3,18 @@
 //! age x radius table (at the best solid-to-gas ratio of each cell) with the best fit, the
 //! goodness of fit and the allowed radius ranges per age, as the static fit reports them.
 
-use crate::formats::{to_ecsv_with_meta, to_json};
+use crate::formats::{json_text, to_csv, to_ecsv_with_meta, to_json, Format};
 use crate::methods::MethodEntry;
 use crate::planet::{
     fit_inputs_json, flag, goodness_json, interval_json, rel_suffix, thresholds_json,
 };
 use crate::provenance::Provenance;
 use crate::tables::{col, Table};
-use nivalis_physics::evolution::fit::AgeRadiusMap;
-use nivalis_physics::planet::MetallicityReference;
+use nivalis_disk_files::DiskFile;
+use nivalis_physics::evolution::fit::{chi_square_over_age, AgeRadiusMap};
+use nivalis_physics::evolution::{evolve_with_progress, EvolutionParameters};
+use nivalis_physics::planet::{MapSettings, MetallicityReference, ObservedEnvelope};
+use nivalis_physics::PhysicsError;
 use serde_json::{json, Value};
 
 /// The radius x age map as a long-form table, age-major.
@@ -224,6 +227,105 @@ pub fn snapshots_for_window(start_myr: f64, t1: f64, t2: f64, count: usize) -> O
         let inside = (0..m).filter(|&k| k as f64 / last >= f - 1e-12).count();
         inside >= count
     })
+}
+
+/// What the radius x age fit is asked: the age window `(T1, T2, N)` [Myr] as
+/// [`parse_age_window`] reads it, and the observation and settings of the static fit
+/// (`FitOptions::build`, `planet_tools::fit_request`).
+#[derive(Debug, Clone, PartialEq)]
+pub struct AgeFitRequest {
+    /// `(T1, T2, N)`: ages in Myr and at least N snapshots in the window.
+    pub window: (f64, f64, usize),
+    /// The observed envelope.
+    pub observed: ObservedEnvelope,
+    /// The map's grid, priors and conventions.
+    pub settings: MapSettings,
+}
+
+/// Why the radius x age fit was not made.
+#[derive(Debug, Clone, PartialEq)]
+pub enum AgeFitError {
+    /// The age window does not fit the run (message without the flag or field name).
+    Window(String),
+    /// The core's error (its field path names a fit option, an evolution field or `from_myr`).
+    Physics(PhysicsError),
+    /// The progress callback asked to stop.
+    Cancelled,
+}
+
+/// A finished radius x age fit: the map and the disk file whose `evolution` section is the
+/// run's (its provenance is the exports' and the figure's).
+#[derive(Debug, Clone)]
+pub struct AgeFit {
+    /// The chi-square map over formation radius x formation age.
+    pub map: AgeRadiusMap,
+    /// The disk with the run's evolution parameters.
+    pub file: DiskFile,
+}
+
+impl AgeFit {
+    /// The provenance of every file of this fit.
+    pub fn provenance(&self) -> Provenance {
+        Provenance::of(&self.file)
+    }
+
+    /// The table as `nivalis fit ... --over-age-myr T1,T2[,N] --format F` writes it.
+    pub fn text(&self, format: Format) -> String {
+        let prov = self.provenance();
+        let used = crate::methods::methods(&self.file.parameters);
+        match format {
+            Format::Csv => to_csv(&age_fit_table(&self.map), &prov),
+            Format::Ecsv => age_fit_ecsv(&self.map, &prov, &used),
+            Format::Json => json_text(&age_fit_json(&self.map, &prov, &used)),
+        }
+    }
+
+    /// The warning the CLI prints on standard error (no place allowed), if any.
+    pub fn warning(&self) -> Option<String> {
+        self.map
+            .goodness
+            .reason
+            .as_ref()
+            .map(|r| format!("{r}; no formation place is allowed"))
+    }
+}
+
+/// Share of the progress that the evolution takes; the map over the snapshots takes the rest.
+const EVOLVE_SHARE: f64 = 0.8;
+
+/// The radius x age fit of `file` (docs/model.md section 12.9), as the CLI
+/// (`nivalis fit DISK ... --over-age-myr T1,T2[,N]`) and the page's evolution panel run it:
+/// the file's `evolution` section (or its defaults) run to T2 with enough log-spaced snapshots
+/// to put N in [T1, T2] ([`snapshots_for_window`]), then
+/// `evolution::fit::chi_square_over_age` over that window. `progress(fraction)` is called
+/// during the run; a `false` from it cancels ([`AgeFitError::Cancelled`]).
+pub fn run_age_fit(
+    file: &DiskFile,
+    request: &AgeFitRequest,
+    progress: &mut dyn FnMut(f64) -> bool,
+) -> Result<AgeFit, AgeFitError> {
+    let (t1, t2, count) = request.window;
+    let mut e = file
+        .evolution
+        .clone()
+        .unwrap_or_else(EvolutionParameters::defaults);
+    e.until_myr = t2;
+    e.snapshots = snapshots_for_window(e.start_myr, t1, t2, count).ok_or_else(|| {
+        AgeFitError::Window(format!(
+            "the window must start at or after evolution.start_myr = {} Myr and end after it, with at most 500 snapshots; got {t1},{t2},{count}",
+            e.start_myr
+        ))
+    })?;
+    e.check().map_err(AgeFitError::Physics)?;
+    let run = evolve_with_progress(&file.parameters, &e, &mut |f| progress(EVOLVE_SHARE * f))
+        .map_err(AgeFitError::Physics)?
+        .ok_or(AgeFitError::Cancelled)?;
+    let map = chi_square_over_age(&run, t1, t2, &request.observed, &request.settings)
+        .map_err(AgeFitError::Physics)?;
+    progress(1.0);
+    let mut file = file.clone();
+    file.evolution = Some(e);
+    Ok(AgeFit { map, file })
 }
 
 #[cfg(test)]

@@ -22,6 +22,7 @@
 //! DEVELOPERS.md lists the mapping.
 
 pub mod display;
+pub mod evolution_fit_js;
 pub mod figures;
 pub mod planet;
 pub mod readout;

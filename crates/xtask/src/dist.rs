@@ -47,7 +47,7 @@ const WORKER_SLOT: &str = "<!-- nivalis:worker -->";
 /// is one module: a namespace object built by an immediately invoked function
 /// (`const Util = (() => {...})();`), using only the modules before it, passed
 /// in as arguments or named explicitly (web/util.js explains the pattern).
-const SCRIPTS: [&str; 7] = [
+const SCRIPTS: [&str; 8] = [
     "web/util.js",
     "web/core.js",
     "web/controls.js",
@@ -55,6 +55,7 @@ const SCRIPTS: [&str; 7] = [
     "web/planet.js",
     "web/uncertainty.js",
     "web/evolution.js",
+    "web/evolution_fit.js",
 ];
 /// The page's style sheets, inlined in this order.
 const STYLES: [&str; 2] = ["web/style.css", "web/planet.css"];
