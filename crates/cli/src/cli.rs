@@ -977,7 +977,7 @@ fn fit_over_age(
     let request = AgeFitRequest {
         window,
         observed: observed.clone(),
-        settings: settings.clone(),
+        settings: *settings,
     };
     let mut flags = vec![
         ("evolution.until_myr", "--over-age-myr"),
