@@ -30,8 +30,15 @@ self.onmessage = (event) => {
         const now = performance.now();
         if (now - last > 40) { last = now; self.postMessage({ type: "progress", value: f }); }
       });
-      const svg = new TextDecoder().decode(ageFit.figure({ format: "svg", theme: m.theme }));
-      self.postMessage({ type: "result", summary: ageFit.summary(), svg });
+      // No map when no cell has a defined chi-square (the figure says why); the tables still exist.
+      let svg = null;
+      let figureProblem = null;
+      try {
+        svg = new TextDecoder().decode(ageFit.figure({ format: "svg", theme: m.theme }));
+      } catch (error) {
+        figureProblem = String(error && error.message ? error.message : error);
+      }
+      self.postMessage({ type: "result", summary: ageFit.summary(), svg, figureProblem });
     } else if (m.type === "text") {
       self.postMessage({ type: "file", name: m.name, mime: m.mime, content: ageFit.text(m.format) });
     } else if (m.type === "figure") {
@@ -127,6 +134,7 @@ function fitRun() {
     } else if (m.type === "result") {
       fit.ready = true;
       fitShow(m.svg);
+      if (m.figureProblem) fitProblems([{ path: "figure", message: m.figureProblem }]);
       const s = m.summary;
       const b = s.best_fit;
       const best = b ? `best fit ${Number(b.radius_au.toPrecision(3))} au at ${Number(b.time_myr.toPrecision(3))} Myr (χ² ${Number(b.chi2.toPrecision(3))})` : "no cell gives defined values";
