@@ -57,9 +57,9 @@ host.innerHTML = `
   <h3 id="evo-fit-title">Where and when did the planet form?</h3>
   <p>The observed envelope typed in the planet panel's fit (C/O, [C/H], [O/H], [M/H] with errors) fitted over formation radius and formation age on this evolving disk, the solid-to-gas ratio profiled out per cell: the same run as <code>nivalis fit DISK … --over-age-myr T1,T2,N</code>.</p>
   <div class="evolution-controls">
-    <label>Ages from <input id="evo-fit-from" type="number" min="0.01" max="20" step="any" value="0.1"></label>
-    <label>to <input id="evo-fit-to" type="number" min="0.01" max="20" step="any" value="3"> Myr</label>
-    <label>at least <input id="evo-fit-count" type="number" min="1" max="100" step="1" value="6"> ages</label>
+    <label>Ages from <input id="evo-fit-from" type="number" min="0.01" max="20" step="any" value="0.1" style="width:5em"></label>
+    <label>to <input id="evo-fit-to" type="number" min="0.01" max="20" step="any" value="3" style="width:5em"> Myr</label>
+    <label>at least <input id="evo-fit-count" type="number" min="1" max="100" step="1" value="6" style="width:4em"> ages</label>
     <button type="button" id="evo-fit-run">Fit over radius × age</button>
     <button type="button" id="evo-fit-cancel" disabled>Cancel</button>
     <progress id="evo-fit-progress" max="1" value="0" hidden></progress>
