@@ -191,6 +191,8 @@ pub enum Figure {
     EvolvedCToO(crate::EvolvedProfileData),
     /// (i) Gas C/O over radius x age.
     RadiusTimeMap(crate::RadiusTimeMapData),
+    /// (j) A figure of the Monte Carlo over uncertain inputs (docs/model.md section 13).
+    Uncertainty(crate::uncertainty::UncertaintyFigure),
 }
 
 impl Figure {
@@ -226,6 +228,9 @@ pub fn draw_figure<DB: DrawingBackend>(
         Figure::SnowlineTracks(d) => crate::draw_snowline_tracks(area, d, theme, pixels_per_point),
         Figure::EvolvedCToO(d) => crate::draw_evolved_c_to_o(area, d, theme, pixels_per_point),
         Figure::RadiusTimeMap(d) => crate::draw_radius_time_map(area, d, theme, pixels_per_point),
+        Figure::Uncertainty(d) => {
+            crate::uncertainty::draw_uncertainty(area, d, theme, pixels_per_point)
+        }
     }
 }
 
