@@ -4,7 +4,8 @@
 // worker.js's message handler and answers the "uncertainty-*" messages: it runs
 // the Monte Carlo in chunks, posting progress and partial figures after each
 // chunk (the page cancels by terminating the worker), then the sensitivity, the
-// summary, the figures as SVG and the export files (the CLI's own functions).
+// summary, the figures as SVG, the figure files (SVG or PNG bytes with provenance) and the
+// export files (the CLI's own functions).
 
 /* global wasm_bindgen */
 
@@ -44,6 +45,17 @@
         if (runner) post({ type: "uncertainty-figures", id: m.id, figures: runner.figures(m.quantity, m.species, m.dark) });
       } else if (m.type === "uncertainty-export") {
         if (runner) post({ type: "uncertainty-export", id: m.id, name: m.name, mime: m.mime, text: runner.export(m.format, m.table) });
+      } else if (m.type === "uncertainty-figure-file") {
+        if (runner) {
+          let bytes = null;
+          let problem = null;
+          try {
+            bytes = runner.figureFile(m.view, m.options);
+          } catch (error) {
+            problem = String(error && error.message ? error.message : error);
+          }
+          post({ type: "uncertainty-figure-file", id: m.id, name: m.name, mime: m.mime, bytes, problem });
+        }
       } else if (m.type === "uncertainty-posterior") {
         if (runner) post({ type: "uncertainty-posterior", id: m.id, result: runner.posterior(m.request, m.samples, m.dark) });
       }

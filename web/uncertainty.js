@@ -5,7 +5,8 @@
 // Core (the compiled module its worker instantiates). The Monte Carlo runs in its own Web
 // Worker (the page's worker script: glue + worker.js + uncertainty-worker.js),
 // with progress, partial bands as chunks arrive, and Cancel (which ends the
-// worker). Figures come back as SVG text; exports are the CLI's files.
+// worker). Figures come back as SVG text for the screen; the figure downloads (SVG, PNG, the
+// CLI's bytes) and the exports are the CLI's files.
 // ---------------------------------------------------------------------------
 const UncertaintyPanel = ((App, Core, Util) => {
 // The module interface it uses (see web/util.js for the pattern): App's helpers and live disk,
@@ -48,10 +49,10 @@ function uncBuildPanel() {
     <div><progress id="unc-progress" max="1" value="0" style="width:16em"></progress> <span id="unc-status" role="status" aria-live="polite">Not run yet.</span></div>
     <div id="unc-problems" class="problems" role="alert"></div>
     <div class="unc-figures" style="display:grid;grid-template-columns:repeat(auto-fit,minmax(320px,1fr));gap:0.6em">
-      <figure><img style="width:100%;height:auto;max-width:36em" id="unc-fig-bands" alt="Percentile bands against radius"><figcaption>Median, 68 % and 95 % bands; dashed: the nominal disk.</figcaption></figure>
-      <figure><img style="width:100%;height:auto;max-width:36em" id="unc-fig-histogram" alt="Snowline radius histogram"><figcaption>Snowline radius over the samples; dashed: 16th, 50th, 84th percentiles.</figcaption></figure>
-      <figure><img style="width:100%;height:auto;max-width:36em" id="unc-fig-sensitivity" alt="Sensitivity of the gas C/O"><figcaption>Which input moves the gas C/O most (one at a time, 16th–84th percentile).</figcaption></figure>
-      <figure><img style="width:100%;height:auto;max-width:36em" id="unc-fig-sensitivity-snowline" alt="Sensitivity of the snowline"><figcaption>Which input moves the chosen snowline most.</figcaption></figure>
+      <figure><img style="width:100%;height:auto;max-width:36em" id="unc-fig-bands" alt="Percentile bands against radius"><figcaption>Median, 68 % and 95 % bands; dashed: the nominal disk. <span class="figure-downloads">Figure for a paper: <button type="button" data-unc-figure="bands" data-format="svg">SVG</button> <button type="button" data-unc-figure="bands" data-format="png">PNG</button></span></figcaption></figure>
+      <figure><img style="width:100%;height:auto;max-width:36em" id="unc-fig-histogram" alt="Snowline radius histogram"><figcaption>Snowline radius over the samples; dashed: 16th, 50th, 84th percentiles. <span class="figure-downloads">Figure for a paper: <button type="button" data-unc-figure="histogram" data-format="svg">SVG</button> <button type="button" data-unc-figure="histogram" data-format="png">PNG</button></span></figcaption></figure>
+      <figure><img style="width:100%;height:auto;max-width:36em" id="unc-fig-sensitivity" alt="Sensitivity of the gas C/O"><figcaption>Which input moves the gas C/O most (one at a time, 16th–84th percentile). <span class="figure-downloads">Figure for a paper: <button type="button" data-unc-figure="sensitivity" data-format="svg">SVG</button> <button type="button" data-unc-figure="sensitivity" data-format="png">PNG</button></span></figcaption></figure>
+      <figure><img style="width:100%;height:auto;max-width:36em" id="unc-fig-sensitivity-snowline" alt="Sensitivity of the snowline"><figcaption>Which input moves the chosen snowline most. <span class="figure-downloads">Figure for a paper: <button type="button" data-unc-figure="sensitivity-snowline" data-format="svg">SVG</button> <button type="button" data-unc-figure="sensitivity-snowline" data-format="png">PNG</button></span></figcaption></figure>
     </div>
     <div class="unc-posterior" style="margin:0.4em 0">
       <strong>Formation radius of the observed planet</strong> (its C/O, [C/H], [O/H], [M/H] with errors, relative to the star or the Sun, as typed in the planet panel's fit; the same request as <code>nivalis fit DISK … --uncertainty</code>):
@@ -59,7 +60,7 @@ function uncBuildPanel() {
       <button type="button" id="unc-posterior" disabled>Marginalised posterior</button>
       <span id="unc-post-status"></span>
       <button type="button" id="unc-post-json" disabled>Posterior (JSON)</button>
-      <figure><img style="width:100%;height:auto;max-width:36em" id="unc-fig-posterior" alt="Formation-radius posterior"><figcaption>Posterior per radial cell, marginalised over the uncertain inputs and the solid-to-gas ratio; shaded: 68 % and 95 % credible intervals.</figcaption></figure>
+      <figure><img style="width:100%;height:auto;max-width:36em" id="unc-fig-posterior" alt="Formation-radius posterior"><figcaption>Posterior per radial cell, marginalised over the uncertain inputs and the solid-to-gas ratio; shaded: 68 % and 95 % credible intervals. <span class="figure-downloads">Figure for a paper: <button type="button" data-unc-figure="posterior" data-format="svg">SVG</button> <button type="button" data-unc-figure="posterior" data-format="png">PNG</button></span></figcaption></figure>
     </div>
     <div class="export-buttons">
       <button type="button" data-unc-export="json">All results (JSON)</button> <code>nivalis uncertainty DISK --format json</code><br>
@@ -69,10 +70,9 @@ function uncBuildPanel() {
       <button type="button" data-unc-export="csv:sensitivity">Sensitivity (CSV)</button>
       <button type="button" data-unc-export="methods">Methods text</button>
       <button type="button" data-unc-export="bibtex">References (BibTeX)</button>
-      <button type="button" data-unc-svg="bands">Bands (SVG)</button>
-      <button type="button" data-unc-svg="histogram">Histogram (SVG)</button>
-      <button type="button" data-unc-svg="sensitivity_c_to_o">Sensitivity (SVG)</button>
-    </div>`;
+    </div>
+    <p class="unc-figure-note">The SVG and PNG buttons under each figure write the same file as <code>nivalis uncertainty DISK --samples N --seed S --figure VIEW --format svg|png</code> (the posterior: <code>nivalis fit DISK … --uncertainty --figure FILE</code>) with the figure options of “Figures, methods and references for a paper” (width, PNG resolution, colours); each file carries the disk, its hash, the seed and the number of samples.</p>
+    <p class="problem" id="unc-figure-problem" hidden></p>`;
   $("unc-section").value = JSON.stringify(section, null, 2);
   $("unc-run").addEventListener("click", uncRun);
   $("unc-cancel").addEventListener("click", uncCancel);
@@ -83,7 +83,7 @@ function uncBuildPanel() {
     if (unc.posterior) download(`uncertainty-posterior-seed${unc.posterior.seed}.json`, unc.posterior.text, "application/json");
   });
   for (const b of host.querySelectorAll("[data-unc-export]")) b.addEventListener("click", () => uncExport(b.dataset.uncExport));
-  for (const b of host.querySelectorAll("[data-unc-svg]")) b.addEventListener("click", () => uncDownloadSvg(b.dataset.uncSvg));
+  for (const b of host.querySelectorAll("[data-unc-figure]")) b.addEventListener("click", () => uncSaveFigure(b.dataset.uncFigure, b.dataset.format));
   uncButtons();
 }
 
@@ -92,7 +92,9 @@ function uncButtons() {
   $("unc-cancel").disabled = !unc.running;
   $("unc-posterior").disabled = unc.running || !unc.finished;
   $("unc-post-json").disabled = unc.running || !unc.posterior;
-  for (const b of document.querySelectorAll("[data-unc-export],[data-unc-svg]")) b.disabled = unc.running || !unc.finished;
+  for (const b of document.querySelectorAll("[data-unc-export],[data-unc-figure]")) {
+    b.disabled = unc.running || !unc.finished || (b.dataset.uncFigure === "posterior" && !unc.posterior);
+  }
 }
 
 function uncDark() {
@@ -197,6 +199,13 @@ function uncOnMessage(event) {
     uncShowFigures(m.figures);
   } else if (m.type === "uncertainty-export") {
     download(m.name, m.text, m.mime);
+  } else if (m.type === "uncertainty-figure-file") {
+    if (m.problem) {
+      $("unc-figure-problem").hidden = false;
+      $("unc-figure-problem").textContent = `The figure could not be made: ${m.problem}`;
+    } else {
+      download(m.name, m.bytes, m.mime);
+    }
   } else if (m.type === "uncertainty-posterior") {
     const r = m.result;
     unc.posteriorPending = false;
@@ -246,9 +255,23 @@ function uncExport(what) {
   unc.worker.postMessage({ type: "uncertainty-export", id: unc.id, format, table, name, mime });
 }
 
-function uncDownloadSvg(which) {
-  const svg = unc.figures[which];
-  if (svg) download(`uncertainty-${which}-seed${unc.lastRun.seed}.svg`, svg, "image/svg+xml");
+// The view names of nivalis_charts::UncertaintyView (`nivalis uncertainty --figure VIEW`) of
+// each figure on the panel, for the current quantity and snowline.
+function uncFigureView(which) {
+  const q = $("unc-quantity").value;
+  const s = $("unc-species").value;
+  return { bands: `bands:${q}`, histogram: `snowlines:${s}`, sensitivity: "sensitivity", "sensitivity-snowline": `sensitivity:${s}`, posterior: "posterior" }[which];
+}
+
+function uncSaveFigure(which, format) {
+  if (!unc.worker || !unc.finished) return;
+  $("unc-figure-problem").hidden = true;
+  // The page's figure options (width, dpi, theme), as the other figure downloads use them.
+  const value = (id, fallback) => { const e = document.getElementById(id); return e ? e.value : fallback; };
+  const options = { format, width: value("figure-width", "single"), dpi: value("figure-dpi", "300"), theme: value("figure-theme", "light") };
+  const view = uncFigureView(which);
+  const name = `uncertainty-${view.replace(":", "-")}-seed${unc.lastRun.seed}.${format}`;
+  unc.worker.postMessage({ type: "uncertainty-figure-file", id: unc.id, view, options, name, mime: format === "svg" ? "image/svg+xml" : "image/png" });
 }
 
 uncBuildPanel();

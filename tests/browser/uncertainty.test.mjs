@@ -8,11 +8,14 @@
 //   seed gives the same numbers natively and in WebAssembly);
 // - Cancel stops a long run and keeps the partial bands;
 // - a bad section shows the reader's problem (with its did-you-mean), never NaN;
-// - the marginalised posterior is drawn.
+// - the marginalised posterior is drawn;
+// - the figure downloads (SVG and PNG, with the page's figure options) equal `nivalis uncertainty
+//   DISK --figure VIEW --format svg|png` and, for the posterior, `nivalis fit ... --uncertainty
+//   --figure FILE`, byte for byte (and differ from the CLI's file at another dpi).
 
 import { after, before, test } from "node:test";
 import assert from "node:assert/strict";
-import { mkdtempSync, rmSync, writeFileSync } from "node:fs";
+import { mkdtempSync, readFileSync, rmSync, writeFileSync } from "node:fs";
 import { tmpdir } from "node:os";
 import { downloadText, ensureCli, ensurePage, execFileSync, join, launch, newPage } from "./helpers.mjs";
 
@@ -38,6 +41,11 @@ after(async () => {
   await browser?.close();
   if (scratch) rmSync(scratch, { recursive: true, force: true });
 });
+
+async function downloadBytes(page, selector) {
+  const [download] = await Promise.all([page.waitForEvent("download"), page.click(selector)]);
+  return { name: download.suggestedFilename(), bytes: readFileSync(await download.path()) };
+}
 
 async function startRun(page, section, samples, seed) {
   await page.fill("#unc-section", JSON.stringify(section, null, 2));
@@ -84,6 +92,39 @@ test("a run shows partial bands, then figures and exports equal to the CLI's", a
     assert.equal(bib.text.split(`{${key},`).length, 2, `${key} once in the BibTeX`);
   }
 
+  // Figure downloads: the CLI's bytes for the same disk, samples, seed, view and options.
+  const figure = (...args) => execFileSync(cli, ["uncertainty", file, "--samples", "60", "--seed", "5", ...args]);
+  const bandsSvg = await downloadBytes(page, '[data-unc-figure="bands"][data-format="svg"]');
+  assert.equal(bandsSvg.name, "uncertainty-bands-c_to_o_gas-seed5.svg");
+  assert.ok(bandsSvg.bytes.equals(figure("--figure", "bands:c_to_o_gas")), "page bands SVG differs from `nivalis uncertainty --figure bands:c_to_o_gas`");
+  assert.match(bandsSvg.bytes.toString("utf8"), / seed="5" samples="60">/);
+  // PNG in the page's figure options: two columns at 150 dpi, dark.
+  await page.selectOption("#figure-width", "double");
+  await page.fill("#figure-dpi", "150");
+  await page.selectOption("#figure-theme", "dark");
+  await page.selectOption("#unc-species", "CO");
+  const histPng = await downloadBytes(page, '[data-unc-figure="histogram"][data-format="png"]');
+  assert.equal(histPng.name, "uncertainty-snowlines-CO-seed5.png");
+  const nativeHist = figure("--figure", "snowlines:CO", "--format", "png", "--width", "double", "--dpi", "150", "--theme", "dark");
+  assert.ok(histPng.bytes.equals(nativeHist), "page histogram PNG differs from `nivalis uncertainty --figure snowlines:CO --format png --width double --dpi 150 --theme dark`");
+  // 511 pt at 150 dpi: 1065 px wide (7.1 in x 150); another dpi gives another file.
+  assert.equal(histPng.bytes.readUInt32BE(16), 1065);
+  assert.ok(!histPng.bytes.equals(figure("--figure", "snowlines:CO", "--format", "png", "--width", "double", "--dpi", "300", "--theme", "dark")), "the dpi reaches the page's PNG");
+  const sensPng = await downloadBytes(page, '[data-unc-figure="sensitivity-snowline"][data-format="png"]');
+  assert.ok(sensPng.bytes.equals(figure("--figure", "sensitivity:CO", "--format", "png", "--width", "double", "--dpi", "150", "--theme", "dark")), "page sensitivity PNG differs");
+  const sensSvg = await downloadBytes(page, '[data-unc-figure="sensitivity"][data-format="svg"]');
+  assert.ok(sensSvg.bytes.equals(figure("--figure", "sensitivity", "--width", "double", "--theme", "dark")), "page sensitivity SVG differs");
+  // A resolution out of range is named, as in the other figure downloads.
+  await page.fill("#figure-dpi", "20");
+  await page.click('[data-unc-figure="bands"][data-format="png"]');
+  await page.waitForFunction(() => !document.getElementById("unc-figure-problem").hidden, null, { timeout: 300000 });
+  assert.match(await page.textContent("#unc-figure-problem"), /dpi: must be a number between 36 and 1200, got "20"/);
+  // Back to the defaults of `nivalis fit --figure` (one column, 300 dpi, light).
+  await page.selectOption("#figure-width", "single");
+  await page.fill("#figure-dpi", "300");
+  await page.selectOption("#figure-theme", "light");
+  assert.equal(await page.$eval('[data-unc-figure="posterior"][data-format="png"]', (b) => b.disabled), true, "no posterior yet");
+
   // The marginalised posterior of the planet typed in the planet panel's fit (C/O and [C/H]
   // relative to the Sun), equal to `nivalis fit ... --uncertainty --format json`.
   for (const [key, value] of [["c_to_o", "0.6"], ["c_to_o_sigma", "0.05"], ["c_to_h_dex", "0.1"], ["c_to_h_sigma", "0.2"]]) {
@@ -99,6 +140,14 @@ test("a run shows partial bands, then figures and exports equal to the CLI's", a
     "--relative-to", "sun", "--uncertainty", "--samples", "8", "--seed", "5", "--format", "json"], { encoding: "utf8" });
   assert.equal(posterior.text, fit, "page posterior JSON equals `nivalis fit --uncertainty --format json`");
   assert.equal(JSON.parse(posterior.text).samples, 8);
+  // Its figure equals `nivalis fit ... --uncertainty --figure FILE` (PNG and SVG).
+  for (const format of ["png", "svg"]) {
+    const got = await downloadBytes(page, `[data-unc-figure="posterior"][data-format="${format}"]`);
+    const out = join(scratch, `posterior.${format}`);
+    execFileSync(cli, ["fit", file, "--c-to-o", "0.6", "--c-to-o-sigma", "0.05", "--c-to-h-dex", "0.1", "--c-to-h-sigma", "0.2",
+      "--relative-to", "sun", "--uncertainty", "--samples", "8", "--seed", "5", "--format", "json", "--figure", out]);
+    assert.ok(got.bytes.equals(readFileSync(out)), `page posterior ${format} differs from \`nivalis fit --uncertainty --figure\``);
+  }
   // A bad fit field is named, never fitted.
   await page.fill("#pp-fit-c_to_o_sigma", "-1");
   await page.click("#unc-posterior");

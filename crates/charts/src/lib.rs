@@ -9,7 +9,9 @@
 //! [`ChartLayout`] (pixel rectangles and axis transforms, for hover readouts):
 //! (a) [`draw_c_to_o_profile`], (b) [`draw_temperature_profile`],
 //! (c) [`draw_ice_map`], (d) [`draw_c_to_o_map`], (e) [`draw_abundance_profiles`],
-//! (f) [`draw_chi2_map`], (j) [`age_fit::draw_chi2_age_map`] (the fit over formation radius x age). Data structs ([`ProfileData`], [`TemperatureData`],
+//! (f) [`draw_chi2_map`], (j) [`age_fit::draw_chi2_age_map`] (the fit over formation radius x age),
+//! and the uncertainty panel's figures ([`UncertaintyView`], drawn by
+//! `uncertainty::draw_uncertainty`). Data structs ([`ProfileData`], [`TemperatureData`],
 //! [`MapData`], [`AbundanceData`], [`Chi2Data`]) are built from a
 //! `nivalis_physics::Model` by their `from_model`-style functions or
 //! [`Figure::from_model`]. [`render_svg`] and [`render_png`] give paper-ready files;
@@ -60,6 +62,12 @@ pub use render::{
 };
 pub use text::typeset_formula;
 pub use theme::{LineDash, Marker, SeriesStyle, Theme};
+#[cfg(feature = "png")]
+pub use uncertainty::uncertainty_png;
+pub use uncertainty::{
+    posterior_figure, uncertainty_figure, uncertainty_svg, UncertaintyFigure, UncertaintySource,
+    UncertaintyView,
+};
 pub use views::{
     draw_abundance_profiles, draw_c_to_o_map, draw_c_to_o_profile, draw_chi2_map, draw_ice_map,
     draw_temperature_profile, map_layout, CellDrawing,

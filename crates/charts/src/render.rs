@@ -194,6 +194,8 @@ pub enum Figure {
     /// (j) Delta chi-square of the planet fit over formation radius x formation age
     /// ([`crate::age_fit`]).
     Chi2Age(Chi2Data),
+    /// (k) A figure of the Monte Carlo over uncertain inputs (docs/model.md section 13).
+    Uncertainty(crate::uncertainty::UncertaintyFigure),
 }
 
 impl Figure {
@@ -230,6 +232,9 @@ pub fn draw_figure<DB: DrawingBackend>(
         Figure::EvolvedCToO(d) => crate::draw_evolved_c_to_o(area, d, theme, pixels_per_point),
         Figure::RadiusTimeMap(d) => crate::draw_radius_time_map(area, d, theme, pixels_per_point),
         Figure::Chi2Age(d) => crate::age_fit::draw_chi2_age_map(area, d, theme, pixels_per_point),
+        Figure::Uncertainty(d) => {
+            crate::uncertainty::draw_uncertainty(area, d, theme, pixels_per_point)
+        }
     }
 }
 

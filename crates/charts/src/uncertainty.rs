@@ -1,22 +1,30 @@
 //! Figures of the Monte Carlo over uncertain inputs (docs/model.md section 13): percentile
 //! bands of a midplane quantity against radius, the histogram of a snowline's radius, the
 //! ranked sensitivity bars and the marginalised formation-radius posterior. Drawn with the same
-//! painter as every other view, generic over the plotters back end; [`uncertainty_svg`] writes
-//! one as an SVG file (text as text, the bundled font's metrics, as `render_svg`).
+//! painter as every other view, generic over the plotters back end, and rendered as paper
+//! figures through the same path as every other view ([`Figure::Uncertainty`] with
+//! `render_svg` / `render_png`, or [`uncertainty_svg`] / [`uncertainty_png`]). The views have
+//! names ([`UncertaintyView`]) and are built from a Monte Carlo by [`uncertainty_figure`] or
+//! from a marginalised fit by [`posterior_figure`], so the CLI and the page draw the same data.
 
 use plotters::coord::Shift;
 use plotters::element::Polygon;
-use plotters::prelude::{DrawingArea, DrawingBackend, IntoDrawingArea, SVGBackend};
+use plotters::prelude::{DrawingArea, DrawingBackend};
 use plotters::style::text_anchor::{HPos, VPos};
 use plotters::style::ShapeStyle;
 
 use crate::colour::Rgba;
 use crate::error::ChartError;
+use crate::layout::ChartLayout;
 use crate::layout::{AxisTransform, Scale};
 use crate::paint::{AxisOptions, Frame, Orientation, Painter, Panel};
-use crate::render::FigureSize;
+use crate::render::{Figure, FigureSize};
 use crate::theme::{LineDash, SeriesStyle, Theme};
 use nivalis_physics::math::{exp, ln};
+use nivalis_physics::uncertainty::{
+    InputSensitivity, MarginalPosterior, MonteCarlo, Quantity, SampleValues,
+};
+use nivalis_physics::Species;
 
 const PAD_PT: f64 = 4.0;
 
@@ -187,7 +195,7 @@ pub fn draw_uncertainty<DB: DrawingBackend>(
     figure: &UncertaintyFigure,
     theme: &Theme,
     pixels_per_point: f64,
-) -> Result<(), ChartError> {
+) -> Result<ChartLayout, ChartError> {
     let p = Painter::new(area, theme, pixels_per_point);
     let size = p.size();
     p.fill_rect(
@@ -200,7 +208,7 @@ pub fn draw_uncertainty<DB: DrawingBackend>(
         theme.background,
     )?;
     let colour = theme.series_colour(0);
-    match figure {
+    let pan = match figure {
         UncertaintyFigure::Bands(d) => {
             let x = log_axis(d.radius_au.iter().copied(), "Radius (au)")
                 .ok_or_else(|| drawing_error("no radii"))?;
@@ -283,6 +291,7 @@ pub fn draw_uncertainty<DB: DrawingBackend>(
                 (HPos::Right, VPos::Top),
                 Orientation::Horizontal,
             )?;
+            pan
         }
         UncertaintyFigure::Histogram(d) => {
             let x = log_axis(d.radii_au.iter().copied(), &d.label)
@@ -327,6 +336,7 @@ pub fn draw_uncertainty<DB: DrawingBackend>(
                 }
             }
             p.axes(&pan, AxisOptions::FULL)?;
+            pan
         }
         UncertaintyFigure::Bars(d) => {
             let mut order: Vec<usize> = (0..d.values.len()).collect();
@@ -377,6 +387,7 @@ pub fn draw_uncertainty<DB: DrawingBackend>(
                     skip_y_end_labels: (true, true),
                 },
             )?;
+            pan
         }
         UncertaintyFigure::Posterior(d) => {
             let x = log_axis(d.radius_au.iter().copied(), "Formation radius (au)")
@@ -410,39 +421,208 @@ pub fn draw_uncertainty<DB: DrawingBackend>(
                 &SeriesStyle::line(colour, LineDash::Solid),
             )?;
             p.axes(&pan, AxisOptions::FULL)?;
+            pan
         }
-    }
-    Ok(())
+    };
+    Ok(ChartLayout {
+        panels: vec![pan.to_layout(area.get_base_pixel())],
+    })
 }
 
-/// One uncertainty figure as an SVG file of `size` (pt).
+/// One uncertainty figure as an SVG file of `size` (pt): [`crate::render_svg`] of
+/// [`Figure::Uncertainty`], the paper-figure path every view takes.
 pub fn uncertainty_svg(
     figure: &UncertaintyFigure,
     theme: &Theme,
     size: FigureSize,
 ) -> Result<String, ChartError> {
-    size.validate()?;
-    let units = crate::render::SVG_UNITS_PER_POINT;
-    let w = (size.width_pt * units).round() as u32;
-    let h = (size.height_pt * units).round() as u32;
-    let mut out = String::new();
-    {
-        #[cfg(feature = "png")]
-        let area =
-            crate::text::MeasuredSvg(SVGBackend::with_string(&mut out, (w, h))).into_drawing_area();
-        #[cfg(not(feature = "png"))]
-        let area = SVGBackend::with_string(&mut out, (w, h)).into_drawing_area();
-        draw_uncertainty(&area, figure, theme, units)?;
-        area.present().map_err(drawing_error)?;
+    crate::render_svg(&Figure::Uncertainty(figure.clone()), theme, size)
+}
+
+/// One uncertainty figure as PNG bytes of `size` (pt) at `dpi`: [`crate::render_png`] of
+/// [`Figure::Uncertainty`].
+#[cfg(feature = "png")]
+pub fn uncertainty_png(
+    figure: &UncertaintyFigure,
+    theme: &Theme,
+    size: FigureSize,
+    dpi: f64,
+) -> Result<Vec<u8>, ChartError> {
+    crate::render_png(&Figure::Uncertainty(figure.clone()), theme, size, dpi)
+}
+
+/// A figure of the uncertainty panel, by name: what `nivalis uncertainty --figure VIEW`,
+/// `nivalis fit --uncertainty --figure FILE` and the page's downloads draw.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum UncertaintyView {
+    /// `bands:<QUANTITY>`: percentile bands of a midplane quantity (a [`Quantity`] key) with
+    /// the nominal model.
+    Bands(Quantity),
+    /// `snowlines:<SPECIES>`: the histogram of a species' snowline radius.
+    Snowlines(Species),
+    /// `sensitivity`: the one-at-a-time swing of the gas C/O per input;
+    /// `sensitivity:<SPECIES>`: the swing of that species' snowline radius.
+    Sensitivity(Option<Species>),
+    /// `posterior`: the marginalised formation-radius posterior (`nivalis fit --uncertainty`).
+    Posterior,
+}
+
+impl UncertaintyView {
+    /// The names every front end accepts, for messages and help texts.
+    pub const NAMES: &'static str =
+        "bands:<QUANTITY>, snowlines:<SPECIES>, sensitivity, sensitivity:<SPECIES>, posterior";
+
+    /// The view's name (see [`UncertaintyView::from_key`]).
+    pub fn key(&self) -> String {
+        match self {
+            UncertaintyView::Bands(q) => format!("bands:{}", q.key()),
+            UncertaintyView::Snowlines(s) => format!("snowlines:{}", s.key()),
+            UncertaintyView::Sensitivity(None) => "sensitivity".to_string(),
+            UncertaintyView::Sensitivity(Some(s)) => format!("sensitivity:{}", s.key()),
+            UncertaintyView::Posterior => "posterior".to_string(),
+        }
     }
-    // The physical size in pt, as render_svg declares it (plotters writes user units).
-    let header = format!("<svg width=\"{w}\" height=\"{h}\"");
-    let physical = format!(
-        "<svg width=\"{}pt\" height=\"{}pt\"",
-        crate::render::fmt_pt(size.width_pt),
-        crate::render::fmt_pt(size.height_pt)
-    );
-    Ok(out.replacen(&header, &physical, 1))
+
+    /// Parses a view name; the error names every allowed name (and the quantities or species
+    /// after a known prefix).
+    pub fn from_key(text: &str) -> Result<UncertaintyView, String> {
+        let species = |s: &str| {
+            Species::from_key(s).ok_or_else(|| {
+                format!(
+                    "unknown species {s:?}; expected one of {}",
+                    Species::ALL.map(|s| s.key()).join(", ")
+                )
+            })
+        };
+        if text == "posterior" {
+            return Ok(UncertaintyView::Posterior);
+        }
+        if text == "sensitivity" {
+            return Ok(UncertaintyView::Sensitivity(None));
+        }
+        if let Some(q) = text.strip_prefix("bands:") {
+            return Quantity::ALL
+                .into_iter()
+                .find(|x| x.key() == q)
+                .map(UncertaintyView::Bands)
+                .ok_or_else(|| {
+                    format!(
+                        "unknown quantity {q:?}; expected one of {}",
+                        Quantity::ALL.map(|q| q.key()).join(", ")
+                    )
+                });
+        }
+        if let Some(s) = text.strip_prefix("snowlines:") {
+            return species(s).map(UncertaintyView::Snowlines);
+        }
+        if let Some(s) = text.strip_prefix("sensitivity:") {
+            return species(s).map(|s| UncertaintyView::Sensitivity(Some(s)));
+        }
+        Err(format!(
+            "unknown view {text:?}; expected one of {}",
+            UncertaintyView::NAMES
+        ))
+    }
+}
+
+/// What the figures of one Monte Carlo are drawn from.
+#[derive(Clone, Copy)]
+pub struct UncertaintySource<'a> {
+    /// The summary of the samples.
+    pub monte_carlo: &'a MonteCarlo,
+    /// The nominal (deterministic) model's values, drawn dashed over the bands.
+    pub nominal: Option<&'a SampleValues>,
+    /// The one-at-a-time sensitivity, once computed.
+    pub sensitivity: Option<&'a [InputSensitivity]>,
+    /// The radius [au] of the gas C/O's sensitivity.
+    pub sensitivity_radius_au: f64,
+}
+
+/// The y-axis label of a band quantity, e.g. "C/O gas".
+fn quantity_label(q: Quantity) -> String {
+    q.key()
+        .replace("c_to_o", "C/O")
+        .replace("c_to_h", "C/H")
+        .replace("o_to_h", "O/H")
+        .replace('_', " ")
+}
+
+/// The figure of `view` from a Monte Carlo. The posterior is not drawn from it (see
+/// [`posterior_figure`]); the sensitivity needs `source.sensitivity`.
+pub fn uncertainty_figure(
+    view: UncertaintyView,
+    source: &UncertaintySource,
+) -> Result<UncertaintyFigure, String> {
+    let mc = source.monte_carlo;
+    Ok(match view {
+        UncertaintyView::Bands(q) => UncertaintyFigure::Bands(BandsData {
+            radius_au: mc.radius_au.clone(),
+            percentiles: mc.bands[q.index()].percentiles.clone(),
+            nominal: source
+                .nominal
+                .map(|v| v.values.iter().map(|row| row[q.index()]).collect())
+                .unwrap_or_default(),
+            label: quantity_label(q),
+            log_y: !q.key().starts_with("c_to_o"),
+        }),
+        UncertaintyView::Snowlines(sp) => {
+            let s = &mc.snowlines[sp.index()];
+            UncertaintyFigure::Histogram(HistogramData {
+                radii_au: s.radii_au.clone(),
+                marks_au: [1, 2, 3].iter().filter_map(|&k| s.percentiles[k]).collect(),
+                label: format!("{} snowline radius (au)", sp.key()),
+            })
+        }
+        UncertaintyView::Sensitivity(which) => {
+            let s = source
+                .sensitivity
+                .ok_or_else(|| "the sensitivity is not computed yet".to_string())?;
+            let labels = s.iter().map(|i| i.name.clone()).collect();
+            match which {
+                None => UncertaintyFigure::Bars(BarsData {
+                    labels,
+                    values: s
+                        .iter()
+                        .map(|i| i.swing_gas_c_to_o.unwrap_or(0.0))
+                        .collect(),
+                    label: format!(
+                        "swing of the gas C/O at {} au",
+                        source.sensitivity_radius_au
+                    ),
+                }),
+                Some(sp) => UncertaintyFigure::Bars(BarsData {
+                    labels,
+                    values: s
+                        .iter()
+                        .map(|i| i.swing_snowline_au[sp.index()].unwrap_or(0.0))
+                        .collect(),
+                    label: format!("swing of the {} snowline (au)", sp.key()),
+                }),
+            }
+        }
+        UncertaintyView::Posterior => {
+            return Err(
+                "posterior: drawn from a marginalised fit (nivalis fit ... --uncertainty --figure FILE)"
+                    .to_string(),
+            )
+        }
+    })
+}
+
+/// The figure of a marginalised formation-radius posterior: the probability per radial cell
+/// with the 68 % and 95 % credible intervals shaded.
+pub fn posterior_figure(posterior: &MarginalPosterior) -> UncertaintyFigure {
+    UncertaintyFigure::Posterior(PosteriorData {
+        radius_au: posterior.radius_au.clone(),
+        probability: posterior.radius_probability.clone(),
+        intervals_au: [
+            posterior.radius_interval_68_au,
+            posterior.radius_interval_95_au,
+        ]
+        .into_iter()
+        .flatten()
+        .collect(),
+    })
 }
 
 #[cfg(test)]
@@ -485,12 +665,60 @@ mod tests {
             }),
         ];
         for f in &figures {
+            // The same SVG as the shared paper-figure path draws for Figure::Uncertainty.
             let svg = uncertainty_svg(f, &Theme::light(), FigureSize::single_column()).unwrap();
+            assert_eq!(
+                svg,
+                crate::render_svg(
+                    &Figure::Uncertainty(f.clone()),
+                    &Theme::light(),
+                    FigureSize::single_column()
+                )
+                .unwrap()
+            );
+            #[cfg(feature = "png")]
+            {
+                // 252 pt x 189 pt at 144 dpi = 3.5 in x 144 = 504 px, 2.625 in x 144 = 378 px.
+                let png =
+                    uncertainty_png(f, &Theme::dark(), FigureSize::single_column(), 144.0).unwrap();
+                let width = u32::from_be_bytes(png[16..20].try_into().unwrap());
+                let height = u32::from_be_bytes(png[20..24].try_into().unwrap());
+                assert_eq!((width, height), (504, 378));
+            }
             assert!(
                 svg.starts_with("<svg width=\"252pt\"") && svg.len() > 1000,
                 "{}",
                 &svg[..80]
             );
         }
+    }
+
+    #[test]
+    fn view_names_round_trip_and_unknown_names_list_the_allowed() {
+        let views = Quantity::ALL
+            .map(UncertaintyView::Bands)
+            .into_iter()
+            .chain(Species::ALL.map(UncertaintyView::Snowlines))
+            .chain(Species::ALL.map(|s| UncertaintyView::Sensitivity(Some(s))))
+            .chain([
+                UncertaintyView::Sensitivity(None),
+                UncertaintyView::Posterior,
+            ]);
+        for v in views {
+            assert_eq!(UncertaintyView::from_key(&v.key()), Ok(v));
+        }
+        assert_eq!(
+            UncertaintyView::from_key("band").unwrap_err(),
+            format!(
+                "unknown view \"band\"; expected one of {}",
+                UncertaintyView::NAMES
+            )
+        );
+        assert!(UncertaintyView::from_key("bands:c_to_o")
+            .unwrap_err()
+            .starts_with("unknown quantity \"c_to_o\"; expected one of c_to_o_gas, "));
+        assert!(UncertaintyView::from_key("sensitivity:XY")
+            .unwrap_err()
+            .starts_with("unknown species \"XY\""));
     }
 }

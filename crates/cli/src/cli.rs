@@ -515,8 +515,30 @@ enum Command {
         /// Also write the methods text (sampling, seed, N, distributions, references) here.
         #[arg(long, value_name = "FILE")]
         methods: Option<PathBuf>,
-        #[command(flatten)]
-        output: Output,
+        /// Write a figure instead of a table: bands:<QUANTITY> (percentile bands of c_to_o_gas,
+        /// c_to_o_ice, c_to_o_solid, c_to_h_*, o_to_h_* with the nominal disk), snowlines:<SPECIES>
+        /// (histogram of a snowline's radius), sensitivity (swing of the gas C/O at --at-au per
+        /// input), sensitivity:<SPECIES> (swing of that snowline). The seed and sample count are
+        /// embedded with the disk. The posterior is `nivalis fit ... --uncertainty --figure FILE`.
+        #[arg(long, value_name = "VIEW")]
+        figure: Option<String>,
+        /// Output format: csv (default), ecsv or json for the tables; with --figure svg (default)
+        /// or png.
+        #[arg(long, value_name = "FORMAT")]
+        format: Option<String>,
+        /// With --figure: journal width, single column (252 pt, 3.5 in; default) or double column
+        /// (511 pt, 7.1 in); height 0.75 x width.
+        #[arg(long, value_enum)]
+        width: Option<FigureWidth>,
+        /// With --figure: PNG resolution [dots per inch], 36-1200 (default 300).
+        #[arg(long, allow_negative_numbers = true)]
+        dpi: Option<f64>,
+        /// With --figure: colours, light (paper; default) or dark.
+        #[arg(long, value_enum)]
+        theme: Option<FigureTheme>,
+        /// Write to this file instead of standard output.
+        #[arg(long, value_name = "FILE")]
+        out: Option<PathBuf>,
     },
     /// A journal-ready figure of one view: SVG (true vectors, text as text) or PNG at a chosen DPI,
     /// one- or two-column width, with the program version, disk hash and resolved disk embedded.
@@ -717,24 +739,53 @@ fn run_model(file: &DiskFile) -> Result<Model, Failure> {
 }
 
 /// Draws a figure in `options` and writes it with its provenance (`view` as recorded there).
+/// `extra` are further provenance pairs (a Monte Carlo's seed and samples).
 fn write_figure(
     out: &Option<PathBuf>,
     figure: &nivalis_charts::Figure,
     options: &nivalis_charts::FigureOptions,
     provenance: &Provenance,
     view: &str,
+    extra: &[(&str, String)],
 ) -> Result<(), Failure> {
     use nivalis_charts::RenderedFigure;
-    use nivalis_exports::figures::{embed_png_provenance, embed_svg_provenance};
+    use nivalis_exports::figures::{embed_png_provenance_with, embed_svg_provenance_with};
     let rendered = options
         .render(figure)
         .map_err(|e| Failure::input(vec![e.to_string()]))?;
     match rendered {
-        RenderedFigure::Svg(svg) => {
-            write_output(out, &embed_svg_provenance(&svg, provenance, view))
-        }
-        RenderedFigure::Png(png) => write_bytes(out, &embed_png_provenance(&png, provenance, view)),
+        RenderedFigure::Svg(svg) => write_output(
+            out,
+            &embed_svg_provenance_with(&svg, provenance, view, extra),
+        ),
+        RenderedFigure::Png(png) => write_bytes(
+            out,
+            &embed_png_provenance_with(&png, provenance, view, extra),
+        ),
     }
+}
+
+/// The figure options of `--format --width --dpi --theme` (`nivalis figure`'s flags, also
+/// `nivalis uncertainty --figure`), checked as the page checks them (`nivalis_charts::options`).
+fn figure_options(
+    format: FigureFormat,
+    width: FigureWidth,
+    dpi: f64,
+    theme: FigureTheme,
+) -> Result<nivalis_charts::FigureOptions, Failure> {
+    let options = nivalis_charts::FigureOptions {
+        format: match format {
+            FigureFormat::Svg => nivalis_charts::FigureFormat::Svg,
+            FigureFormat::Png => nivalis_charts::FigureFormat::Png,
+        },
+        double_column: width == FigureWidth::Double,
+        dpi,
+        dark: theme == FigureTheme::Dark,
+    };
+    options
+        .check()
+        .map_err(|e| Failure::input(vec![format!("--{e}")]))?;
+    Ok(options)
 }
 
 fn write_output(out: &Option<PathBuf>, text: &str) -> Result<(), Failure> {
@@ -821,11 +872,11 @@ fn fit_marginalised(
     file: &DiskFile,
     root: &serde_json::Value,
     model: Model,
-    samples: i64,
-    seed: u64,
+    (samples, seed): (i64, u64),
     observed: &nivalis_physics::planet::ObservedEnvelope,
     settings: &nivalis_physics::planet::MapSettings,
     output: &Output,
+    figure: Option<(&std::path::Path, &nivalis_charts::FigureOptions)>,
 ) -> Result<(), Failure> {
     use nivalis_exports::uncertainty::{marginal_fit_json, posterior_csv, posterior_ecsv};
     let samples =
@@ -869,6 +920,18 @@ fn fit_marginalised(
             nivalis_exports::formats::number(b),
             post.samples
         );
+    }
+    if let Some((path, options)) = figure {
+        // The posterior figure, as the page's uncertainty panel downloads it.
+        let fig = nivalis_charts::Figure::Uncertainty(nivalis_charts::posterior_figure(&post));
+        write_figure(
+            &Some(path.to_path_buf()),
+            &fig,
+            options,
+            &prov,
+            "posterior",
+            &nivalis_exports::figures::monte_carlo_provenance(seed, samples),
+        )?;
     }
     write_output(&output.out, &text)
 }
@@ -1005,6 +1068,7 @@ fn fit_over_age(
             options,
             &fit.provenance(),
             nivalis_charts::age_fit::CHI2_AGE_MAP_VIEW,
+            &[],
         )?;
     }
     write_output(&output.out, &text)
@@ -1365,7 +1429,15 @@ fn execute(args: Args) -> Result<(), Failure> {
             let model = run_model(&file)?;
             if uncertainty {
                 return fit_marginalised(
-                    &disk, &file, &root, model, samples, seed, &observed, &settings, &output,
+                    &disk,
+                    &file,
+                    &root,
+                    model,
+                    (samples, seed),
+                    &observed,
+                    &settings,
+                    &output,
+                    figure.as_deref().map(|p| (p, &figure_options)),
                 );
             }
             // Errors of the core name its fields; the user typed flags.
@@ -1407,6 +1479,7 @@ fn execute(args: Args) -> Result<(), Failure> {
                     &figure_options,
                     &prov,
                     "chi2_map",
+                    &[],
                 )?;
             }
             write_output(&output.out, &text)
@@ -1484,11 +1557,63 @@ fn execute(args: Args) -> Result<(), Failure> {
             at_au,
             table,
             methods: methods_out,
-            output,
+            figure,
+            format,
+            width,
+            dpi,
+            theme,
+            out,
         } => {
+            use nivalis_charts::UncertaintyView;
             use nivalis_exports::uncertainty::{self as ux, UncertaintyResult, UncertaintyTable};
             let samples =
                 crate::uncertainty::check_samples(samples).map_err(|e| Failure::input(vec![e]))?;
+            // A figure (with its options) or a table format, checked before any sample runs.
+            let drawing = match &figure {
+                Some(view) => {
+                    let v = UncertaintyView::from_key(view)
+                        .map_err(|e| Failure::input(vec![format!("--figure: {e}")]))?;
+                    if v == UncertaintyView::Posterior {
+                        return Err(Failure::input(vec![
+                            "--figure: posterior is drawn by `nivalis fit DISK ... --uncertainty --figure FILE`".to_string(),
+                        ]));
+                    }
+                    let f = match format.as_deref() {
+                        None | Some("svg") => FigureFormat::Svg,
+                        Some("png") => FigureFormat::Png,
+                        Some(other) => {
+                            return Err(Failure::input(vec![format!(
+                                "--format: must be svg or png with --figure, got {other:?}"
+                            )]))
+                        }
+                    };
+                    let options = figure_options(
+                        f,
+                        width.unwrap_or(FigureWidth::Single),
+                        dpi.unwrap_or(nivalis_charts::options::DEFAULT_DPI),
+                        theme.unwrap_or(FigureTheme::Light),
+                    )?;
+                    Some((v, options))
+                }
+                None => {
+                    if width.is_some() || dpi.is_some() || theme.is_some() {
+                        return Err(Failure::input(vec![
+                            "--width, --dpi, --theme: only with --figure".to_string(),
+                        ]));
+                    }
+                    None
+                }
+            };
+            let table_format = match (&drawing, format.as_deref()) {
+                (Some(_), _) | (None, None | Some("csv")) => TableFormat::Csv,
+                (None, Some("ecsv")) => TableFormat::Ecsv,
+                (None, Some("json")) => TableFormat::Json,
+                (None, Some(other)) => {
+                    return Err(Failure::input(vec![format!(
+                    "--format: must be csv, ecsv or json (svg or png with --figure), got {other:?}"
+                )]))
+                }
+            };
             let which = UncertaintyTable::from_key(&table).ok_or_else(|| {
                 Failure::input(vec![format!(
                     "--table: must be one of bands, snowlines, sensitivity, got {table:?}"
@@ -1536,8 +1661,26 @@ fn execute(args: Args) -> Result<(), Failure> {
             if let Some(path) = &methods_out {
                 write_output(&Some(path.clone()), &ux::methods_file(&spec, mc))?;
             }
-            let text = ux::uncertainty_text(&result, output.format.shared(), which);
-            write_output(&output.out, &text)
+            if let (Some((v, options)), Some(view)) = (drawing, &figure) {
+                let source = nivalis_charts::UncertaintySource {
+                    monte_carlo: mc,
+                    nominal: run.nominal.as_ref(),
+                    sensitivity: Some(&run.sensitivity),
+                    sensitivity_radius_au: at_au,
+                };
+                let fig = nivalis_charts::uncertainty_figure(v, &source)
+                    .map_err(|e| Failure::input(vec![format!("--figure: {e}")]))?;
+                return write_figure(
+                    &out,
+                    &nivalis_charts::Figure::Uncertainty(fig),
+                    &options,
+                    &prov,
+                    view,
+                    &nivalis_exports::figures::monte_carlo_provenance(seed, mc.samples),
+                );
+            }
+            let text = ux::uncertainty_text(&result, table_format.shared(), which);
+            write_output(&out, &text)
         }
         Command::Figure {
             disk,
@@ -1549,20 +1692,9 @@ fn execute(args: Args) -> Result<(), Failure> {
             age_myr,
             out,
         } => {
-            use nivalis_charts::{AnyView, Figure, FigureOptions};
+            use nivalis_charts::{AnyView, Figure};
             // The page's figure downloads read the same options (nivalis_charts::options).
-            let options = FigureOptions {
-                format: match format {
-                    FigureFormat::Svg => nivalis_charts::FigureFormat::Svg,
-                    FigureFormat::Png => nivalis_charts::FigureFormat::Png,
-                },
-                double_column: width == FigureWidth::Double,
-                dpi,
-                dark: theme == FigureTheme::Dark,
-            };
-            options
-                .check()
-                .map_err(|e| Failure::input(vec![format!("--{e}")]))?;
+            let options = figure_options(format, width, dpi, theme)?;
             let v = parse_view(&view).map_err(|e| Failure::input(vec![e]))?;
             let file = read_disk(&disk, &sets)?;
             let (figure, prov) = match v {
@@ -1577,7 +1709,7 @@ fn execute(args: Args) -> Result<(), Failure> {
                 }
                 AnyView::Evolution(v) => evolution_figure(file, v, age_myr)?,
             };
-            write_figure(&out, &figure, &options, &prov, &view)
+            write_figure(&out, &figure, &options, &prov, &view, &[])
         }
         Command::Sweep {
             action,

@@ -45,6 +45,8 @@ pub struct Run {
     pub monte_carlo: MonteCarlo,
     /// Sensitivity per input.
     pub sensitivity: Vec<nivalis_physics::uncertainty::InputSensitivity>,
+    /// The nominal (deterministic) model's values, drawn dashed over the bands (as the page).
+    pub nominal: Option<nivalis_physics::uncertainty::SampleValues>,
 }
 
 /// Run `samples` samples in parallel and the one-at-a-time sensitivity at `at_au`.
@@ -58,9 +60,11 @@ pub fn run(model: Model, spec: &UncertaintySpec, samples: usize, seed: u64, at_a
     let monte_carlo = summarise(engine.radius_au(), seed, &results);
     let levels = spec.one_at_a_time_levels();
     let sensitivity = one_at_a_time(&engine, at_au, &levels, Some(&results));
+    let nominal = engine.sample(engine.base().parameters()).ok();
     Run {
         monte_carlo,
         sensitivity,
+        nominal,
     }
 }
 

@@ -221,3 +221,217 @@ fn anchor_sigma_is_written_into_the_section() {
         String::from_utf8_lossy(&check.stderr)
     );
 }
+
+/// Decodes a PNG with the `png` crate: (width, height, pixels per metre from pHYs, text chunks
+/// as `keyword=text`).
+fn decode_png(bytes: &[u8]) -> (u32, u32, Option<(u32, u32)>, Vec<String>) {
+    let mut decoder = png::Decoder::new(bytes);
+    decoder.set_ignore_text_chunk(false);
+    let mut reader = decoder.read_info().expect("a PNG");
+    let mut buf = vec![0; reader.output_buffer_size()];
+    reader.next_frame(&mut buf).expect("image data decodes");
+    reader.finish().expect("chunks after the image decode");
+    let info = reader.info();
+    let phys = info.pixel_dims.map(|d| {
+        assert_eq!(d.unit, png::Unit::Meter);
+        (d.xppu, d.yppu)
+    });
+    let texts = info
+        .utf8_text
+        .iter()
+        .map(|t| format!("{}={}", t.keyword, t.get_text().unwrap()))
+        .collect();
+    (info.width, info.height, phys, texts)
+}
+
+#[test]
+fn figure_png_size_resolution_and_provenance() {
+    let d = disk("fig.json", DISK);
+    let p = d.to_str().unwrap();
+    let run = |extra: &[&str], threads: &str| {
+        let mut args = vec![
+            "uncertainty",
+            p,
+            "--samples",
+            "12",
+            "--seed",
+            "42",
+            "--figure",
+            "bands:c_to_o_gas",
+        ];
+        args.extend_from_slice(extra);
+        let out = nivalis(&args, threads);
+        assert!(
+            out.status.success(),
+            "{}",
+            String::from_utf8_lossy(&out.stderr)
+        );
+        out.stdout
+    };
+    let png150 = run(
+        &["--format", "png", "--dpi", "150", "--width", "double"],
+        "1",
+    );
+    // Two columns = 511 pt = 7.097 in; at 150 dpi 1064.6 -> 1065 px wide, the height 0.75 x
+    // 511 pt = 383.25 pt = 798.4 -> 798 px (1 in = 72 pt, FigureSize::pixels_at_dpi rounds).
+    let (w, h, phys, texts) = decode_png(&png150);
+    assert_eq!((w, h), (1065, 798));
+    // pHYs in pixels per metre: 150 / 0.0254 = 5905.5 -> 5906 (1 in = 0.0254 m exactly).
+    assert_eq!(phys, Some((5906, 5906)));
+    for want in [
+        "nivalis:view=bands:c_to_o_gas",
+        "nivalis:seed=42",
+        "nivalis:samples=12",
+    ] {
+        assert!(texts.iter().any(|t| t == want), "{want} not in {texts:?}");
+    }
+    assert!(texts.iter().any(|t| t.starts_with("nivalis:disk_hash=")));
+    // The same bytes with any number of threads; another resolution, another file.
+    assert_eq!(
+        png150,
+        run(
+            &["--format", "png", "--dpi", "150", "--width", "double"],
+            "2"
+        )
+    );
+    let (w300, h300, phys300, _) = decode_png(&run(&["--format", "png"], "2"));
+    // One column, 300 dpi (the defaults): 3.5 in x 300 = 1050 px, 189 pt = 787.5 -> 788 px.
+    assert_eq!((w300, h300), (1050, 788));
+    assert_eq!(phys300, Some((11811, 11811)));
+}
+
+#[test]
+fn figure_svg_of_every_view_carries_seed_and_samples() {
+    let d = disk("figsvg.json", DISK);
+    let p = d.to_str().unwrap();
+    for view in [
+        "bands:o_to_h_solid",
+        "snowlines:CO",
+        "sensitivity",
+        "sensitivity:H2O",
+    ] {
+        let out = nivalis(
+            &[
+                "uncertainty",
+                p,
+                "--samples",
+                "10",
+                "--seed",
+                "3",
+                "--figure",
+                view,
+            ],
+            "2",
+        );
+        assert!(
+            out.status.success(),
+            "{view}: {}",
+            String::from_utf8_lossy(&out.stderr)
+        );
+        let svg = String::from_utf8(out.stdout).unwrap();
+        assert!(
+            svg.contains("<svg width=\"252pt\" height=\"189pt\""),
+            "{view}"
+        );
+        assert!(
+            svg.contains(&format!("view=\"{view}\""))
+                && svg.contains(" seed=\"3\" samples=\"10\">"),
+            "{view}: {}",
+            &svg[..svg.len().min(600)]
+        );
+    }
+}
+
+#[test]
+fn figure_options_are_checked_like_nivalis_figure() {
+    let d = disk("figbad.json", DISK);
+    let p = d.to_str().unwrap();
+    let err = |args: &[&str]| {
+        let mut all = vec!["uncertainty", p, "--samples", "2"];
+        all.extend_from_slice(args);
+        let out = nivalis(&all, "1");
+        assert_eq!(out.status.code(), Some(2), "{args:?}");
+        String::from_utf8_lossy(&out.stderr).to_string()
+    };
+    let e = err(&["--figure", "bandz"]);
+    assert!(
+        e.contains("--figure: unknown view \"bandz\"; expected one of bands:<QUANTITY>, snowlines:<SPECIES>, sensitivity, sensitivity:<SPECIES>, posterior"),
+        "{e}"
+    );
+    let e = err(&["--figure", "bands:c_to_o"]);
+    assert!(
+        e.contains("unknown quantity \"c_to_o\"; expected one of c_to_o_gas"),
+        "{e}"
+    );
+    assert!(err(&["--figure", "snowlines:XY"]).contains("unknown species \"XY\""));
+    assert!(err(&["--figure", "posterior"])
+        .contains("nivalis fit DISK ... --uncertainty --figure FILE"));
+    assert!(err(&["--figure", "sensitivity", "--format", "csv"])
+        .contains("--format: must be svg or png with --figure, got \"csv\""));
+    assert!(err(&["--format", "png"]).contains("--format: must be csv, ecsv or json"));
+    assert!(err(&["--dpi", "150"]).contains("only with --figure"));
+    // The message `nivalis figure --dpi 20` gives (nivalis_charts::options).
+    let e = err(&["--figure", "sensitivity", "--format", "png", "--dpi", "20"]);
+    assert!(
+        e.contains("--dpi: must be a number between 36 and 1200, got 20"),
+        "{e}"
+    );
+    let figure = nivalis(&["figure", p, "--view", "c_to_o", "--dpi", "20"], "1");
+    assert!(String::from_utf8_lossy(&figure.stderr)
+        .contains("--dpi: must be a number between 36 and 1200, got 20"));
+}
+
+#[test]
+fn fit_uncertainty_writes_the_posterior_figure() {
+    let d = disk("figpost.json", DISK);
+    let p = d.to_str().unwrap();
+    let dir = d.parent().unwrap();
+    let png_path = dir.join("posterior.png");
+    let svg_path = dir.join("posterior.svg");
+    for path in [&png_path, &svg_path] {
+        let out = nivalis(
+            &[
+                "fit",
+                p,
+                "--c-to-o",
+                "0.6",
+                "--c-to-o-sigma",
+                "0.05",
+                "--c-to-h-dex",
+                "0.1",
+                "--c-to-h-sigma",
+                "0.2",
+                "--relative-to",
+                "sun",
+                "--uncertainty",
+                "--samples",
+                "4",
+                "--seed",
+                "8",
+                "--format",
+                "json",
+                "--figure",
+                path.to_str().unwrap(),
+            ],
+            "2",
+        );
+        assert!(
+            out.status.success(),
+            "{}",
+            String::from_utf8_lossy(&out.stderr)
+        );
+    }
+    let (w, h, phys, texts) = decode_png(&std::fs::read(&png_path).unwrap());
+    // `fit --figure`: one column at 300 dpi (1050 x 788 px, as above).
+    assert_eq!((w, h, phys), (1050, 788, Some((11811, 11811))));
+    for want in [
+        "nivalis:view=posterior",
+        "nivalis:seed=8",
+        "nivalis:samples=4",
+    ] {
+        assert!(texts.iter().any(|t| t == want), "{want} not in {texts:?}");
+    }
+    let svg = std::fs::read_to_string(&svg_path).unwrap();
+    assert!(svg.contains("view=\"posterior\"") && svg.contains(" seed=\"8\" samples=\"4\">"));
+    assert!(svg.contains("Formation radius (au)"));
+}

@@ -16,6 +16,18 @@ fn xml_escape(s: &str) -> String {
 /// Insert a `<metadata>` element right after the opening `<svg ...>` tag.
 /// `view` names the view drawn (e.g. "c_to_o").
 pub fn embed_svg_provenance(svg: &str, provenance: &Provenance, view: &str) -> String {
+    embed_svg_provenance_with(svg, provenance, view, &[])
+}
+
+/// [`embed_svg_provenance`] with further key/value pairs as attributes of the `provenance`
+/// element, after `disk_hash` and in the order given (e.g. the Monte Carlo's `seed` and
+/// `samples`). Keys must be XML names; values are escaped.
+pub fn embed_svg_provenance_with(
+    svg: &str,
+    provenance: &Provenance,
+    view: &str,
+    extra: &[(&str, String)],
+) -> String {
     let Some(start) = svg.find("<svg") else {
         return svg.to_string();
     };
@@ -23,14 +35,26 @@ pub fn embed_svg_provenance(svg: &str, provenance: &Provenance, view: &str) -> S
         return svg.to_string();
     };
     let at = start + end + 1;
+    let attributes: String = extra
+        .iter()
+        .map(|(k, v)| format!(" {k}=\"{}\"", xml_escape(v)))
+        .collect();
     let metadata = format!(
-        "\n<metadata><provenance xmlns=\"urn:nivalis:provenance\" program=\"{}\" view=\"{}\" disk_hash=\"{}\">{}</provenance></metadata>",
+        "\n<metadata><provenance xmlns=\"urn:nivalis:provenance\" program=\"{}\" view=\"{}\" disk_hash=\"{}\"{attributes}>{}</provenance></metadata>",
         xml_escape(&provenance.program),
         xml_escape(view),
         xml_escape(&provenance.disk_hash),
         xml_escape(&provenance.disk_value().to_string())
     );
     format!("{}{}{}", &svg[..at], metadata, &svg[at..])
+}
+
+/// The pairs a figure of a Monte Carlo (docs/model.md section 13) carries besides the disk:
+/// its seed and sample count, for [`embed_svg_provenance_with`] / [`embed_png_provenance_with`].
+/// The CLI (`nivalis uncertainty --figure`, `nivalis fit --uncertainty --figure`) and the page
+/// both take them from here.
+pub fn monte_carlo_provenance(seed: u64, samples: usize) -> [(&'static str, String); 2] {
+    [("seed", seed.to_string()), ("samples", samples.to_string())]
 }
 
 /// CRC-32 (ISO 3309, as PNG uses) of `bytes`.
@@ -72,6 +96,17 @@ fn itxt(keyword: &str, text: &str) -> Vec<u8> {
 /// Insert text chunks (Software, nivalis view, disk hash, disk file) before IEND.
 /// Returns the input unchanged if it is not a PNG.
 pub fn embed_png_provenance(png: &[u8], provenance: &Provenance, view: &str) -> Vec<u8> {
+    embed_png_provenance_with(png, provenance, view, &[])
+}
+
+/// [`embed_png_provenance`] with one more text chunk `nivalis:KEY` per key/value pair, after
+/// the disk hash and in the order given (e.g. the Monte Carlo's `seed` and `samples`).
+pub fn embed_png_provenance_with(
+    png: &[u8],
+    provenance: &Provenance,
+    view: &str,
+    extra: &[(&str, String)],
+) -> Vec<u8> {
     const SIGNATURE: [u8; 8] = [0x89, b'P', b'N', b'G', 0x0d, 0x0a, 0x1a, 0x0a];
     if png.len() < 20 || png[..8] != SIGNATURE || &png[png.len() - 8..png.len() - 4] != b"IEND" {
         return png.to_vec();
@@ -81,6 +116,9 @@ pub fn embed_png_provenance(png: &[u8], provenance: &Provenance, view: &str) -> 
     out.extend(itxt("Software", &provenance.program));
     out.extend(itxt("nivalis:view", view));
     out.extend(itxt("nivalis:disk_hash", &provenance.disk_hash));
+    for (k, v) in extra {
+        out.extend(itxt(&format!("nivalis:{k}"), v));
+    }
     out.extend(itxt(
         "nivalis:disk_file",
         &provenance.disk_value().to_string(),
@@ -109,5 +147,33 @@ mod tests {
         );
         assert!(svg.starts_with("<?xml version=\"1.0\"?><svg width=\"1\">\n<metadata><provenance"));
         assert!(svg.ends_with("</metadata><rect/></svg>"));
+        // Without extra pairs the element is exactly the plain one; with them, attributes.
+        let plain = embed_svg_provenance_with("<svg width=\"1\"></svg>", &p, "c_to_o", &[]);
+        assert_eq!(
+            plain,
+            embed_svg_provenance("<svg width=\"1\"></svg>", &p, "c_to_o")
+        );
+        let with = embed_svg_provenance_with(
+            "<svg width=\"1\"></svg>",
+            &p,
+            "bands:c_to_o_gas",
+            &[("seed", "5".into()), ("samples", "60".into())],
+        );
+        assert!(with.contains("\" seed=\"5\" samples=\"60\">"), "{with}");
+    }
+
+    #[test]
+    fn png_extra_pairs_are_text_chunks_before_iend() {
+        // The smallest PNG frame: signature, then an IEND chunk (length 0, "IEND", CRC ae426082,
+        // PNG specification); what is between does not matter to the embedding.
+        let mut png = vec![0x89, b'P', b'N', b'G', 0x0d, 0x0a, 0x1a, 0x0a];
+        png.extend_from_slice(&[0; 12]);
+        png.extend_from_slice(&[0, 0, 0, 0, b'I', b'E', b'N', b'D', 0xae, 0x42, 0x60, 0x82]);
+        let p = Provenance::of(&nivalis_disk_files::DiskFile::defaults());
+        let out = embed_png_provenance_with(&png, &p, "posterior", &[("seed", "7".into())]);
+        let text = String::from_utf8_lossy(&out);
+        let seed = text.find("nivalis:seed\0\0\0\0\x007").expect("seed chunk");
+        assert!(text.find("nivalis:disk_hash").unwrap() < seed);
+        assert!(out.ends_with(&[0, 0, 0, 0, b'I', b'E', b'N', b'D', 0xae, 0x42, 0x60, 0x82]));
     }
 }

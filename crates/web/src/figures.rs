@@ -8,7 +8,7 @@
 //! Plain Rust (no JavaScript types), so it is tested natively.
 
 use nivalis_charts::{ChartError, Figure, RenderedFigure};
-use nivalis_exports::figures::{embed_png_provenance, embed_svg_provenance};
+use nivalis_exports::figures::{embed_png_provenance_with, embed_svg_provenance_with};
 use nivalis_exports::Provenance;
 
 use crate::readout::ViewData;
@@ -45,9 +45,22 @@ pub fn figure_file(
     provenance: &Provenance,
     view: &str,
 ) -> Result<Vec<u8>, ChartError> {
+    figure_file_with(figure, options, provenance, view, &[])
+}
+
+/// [`figure_file`] with further provenance pairs (the uncertainty figures' seed and samples).
+pub fn figure_file_with(
+    figure: &Figure,
+    options: &FigureOptions,
+    provenance: &Provenance,
+    view: &str,
+    extra: &[(&str, String)],
+) -> Result<Vec<u8>, ChartError> {
     Ok(match options.render(figure)? {
-        RenderedFigure::Svg(svg) => embed_svg_provenance(&svg, provenance, view).into_bytes(),
-        RenderedFigure::Png(png) => embed_png_provenance(&png, provenance, view),
+        RenderedFigure::Svg(svg) => {
+            embed_svg_provenance_with(&svg, provenance, view, extra).into_bytes()
+        }
+        RenderedFigure::Png(png) => embed_png_provenance_with(&png, provenance, view, extra),
     })
 }
 

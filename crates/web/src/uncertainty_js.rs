@@ -6,10 +6,10 @@
 //! [`UncertaintySession`] is plain Rust (tested natively); `UncertaintyRunner` is its wasm
 //! binding.
 
-use nivalis_charts::uncertainty::{
-    uncertainty_svg, BandsData, BarsData, HistogramData, PosteriorData, UncertaintyFigure,
+use nivalis_charts::{
+    posterior_figure, uncertainty_figure, uncertainty_svg, Figure, FigureSize, Theme,
+    UncertaintyFigure, UncertaintySource, UncertaintyView,
 };
-use nivalis_charts::{FigureSize, Theme};
 use nivalis_disk_files::uncertainty::{read_uncertainty, UncertaintySpec};
 use nivalis_disk_files::{from_value, DiskFile, Problem};
 use nivalis_exports::uncertainty::{
@@ -20,10 +20,10 @@ use nivalis_exports::{Format, Provenance};
 use nivalis_physics::planet::chi_square_map;
 use nivalis_physics::random::Rng;
 use nivalis_physics::uncertainty::{
-    one_at_a_time, summarise, Engine, InputSensitivity, MonteCarlo, PosteriorAccumulator, Quantity,
-    SampleResult,
+    one_at_a_time, summarise, Engine, InputSensitivity, MarginalPosterior, MonteCarlo,
+    PosteriorAccumulator, SampleResult, SampleValues,
 };
-use nivalis_physics::{Model, Species};
+use nivalis_physics::Model;
 use serde_json::{json, Value};
 
 /// A running Monte Carlo of the page.
@@ -35,6 +35,8 @@ pub struct UncertaintySession {
     sensitivity: Option<Vec<InputSensitivity>>,
     seed: u64,
     at_au: f64,
+    /// The last marginalised posterior and the samples it was asked over.
+    posterior: Option<(MarginalPosterior, u64)>,
 }
 
 impl UncertaintySession {
@@ -62,6 +64,7 @@ impl UncertaintySession {
             sensitivity: None,
             seed,
             at_au,
+            posterior: None,
         })
     }
 
@@ -130,69 +133,85 @@ impl UncertaintySession {
         })
     }
 
-    /// The three figures as SVG: the bands of `quantity` (a [`Quantity`] key) with the nominal
-    /// model, the histogram of `species`' snowline, the sensitivity of the gas C/O (or of the
-    /// species' snowline with `by_snowline`).
+    /// The nominal (deterministic) model's values, drawn dashed over the bands.
+    fn nominal(&self) -> Option<SampleValues> {
+        self.engine.sample(self.engine.base().parameters()).ok()
+    }
+
+    /// The figure of a view (`nivalis_charts::UncertaintyView`) from the samples so far.
+    fn figure(&self, view: UncertaintyView) -> Result<UncertaintyFigure, String> {
+        if view == UncertaintyView::Posterior {
+            return self
+                .posterior
+                .as_ref()
+                .map(|(p, _)| posterior_figure(p))
+                .ok_or_else(|| "posterior: no marginalised posterior yet".to_string());
+        }
+        let mc = self.monte_carlo();
+        let nominal = self.nominal();
+        let source = UncertaintySource {
+            monte_carlo: &mc,
+            nominal: nominal.as_ref(),
+            sensitivity: self.sensitivity.as_deref(),
+            sensitivity_radius_au: self.at_au,
+        };
+        uncertainty_figure(view, &source)
+    }
+
+    /// The four panel figures as SVG for the screen: the bands of `quantity` (a [`Quantity`]
+    /// key) with the nominal model, the histogram of `species`' snowline, the sensitivity of the
+    /// gas C/O and of the species' snowline (once computed).
     pub fn figures(&self, quantity: &str, species: &str, dark: bool) -> Result<Value, String> {
         let theme = if dark { Theme::dark() } else { Theme::light() };
         let size = FigureSize::single_column();
+        let bands = UncertaintyView::from_key(&format!("bands:{quantity}"))?;
+        let hist = UncertaintyView::from_key(&format!("snowlines:{species}"))?;
+        let UncertaintyView::Snowlines(sp) = hist else {
+            return Err(format!("unknown species {species:?}"));
+        };
         let mc = self.monte_carlo();
-        let q = Quantity::ALL
-            .into_iter()
-            .find(|q| q.key() == quantity)
-            .ok_or_else(|| format!("unknown quantity {quantity:?}"))?;
-        let sp =
-            Species::from_key(species).ok_or_else(|| format!("unknown species {species:?}"))?;
-        let nominal = self
-            .engine
-            .sample(self.engine.base().parameters())
-            .map(|v| v.values.iter().map(|row| row[q.index()]).collect())
-            .unwrap_or_default();
-        let bands = UncertaintyFigure::Bands(BandsData {
-            radius_au: mc.radius_au.clone(),
-            percentiles: mc.bands[q.index()].percentiles.clone(),
-            nominal,
-            label: q
-                .key()
-                .replace("c_to_o", "C/O")
-                .replace("c_to_h", "C/H")
-                .replace("o_to_h", "O/H")
-                .replace('_', " "),
-            log_y: !q.key().starts_with("c_to_o"),
-        });
-        let s = &mc.snowlines[sp.index()];
-        let hist = UncertaintyFigure::Histogram(HistogramData {
-            radii_au: s.radii_au.clone(),
-            marks_au: [1, 2, 3].iter().filter_map(|&k| s.percentiles[k]).collect(),
-            label: format!("{} snowline radius (au)", sp.key()),
-        });
-        let svg = |f: &UncertaintyFigure| uncertainty_svg(f, &theme, size).ok();
-        let sens = self.sensitivity.as_ref().map(|s| {
-            let c = UncertaintyFigure::Bars(BarsData {
-                labels: s.iter().map(|i| i.name.clone()).collect(),
-                values: s
-                    .iter()
-                    .map(|i| i.swing_gas_c_to_o.unwrap_or(0.0))
-                    .collect(),
-                label: format!("swing of the gas C/O at {} au", self.at_au),
-            });
-            let k = sp.index();
-            let l = UncertaintyFigure::Bars(BarsData {
-                labels: s.iter().map(|i| i.name.clone()).collect(),
-                values: s
-                    .iter()
-                    .map(|i| i.swing_snowline_au[k].unwrap_or(0.0))
-                    .collect(),
-                label: format!("swing of the {} snowline (au)", sp.key()),
-            });
-            (svg(&c), svg(&l))
-        });
+        let nominal = self.nominal();
+        let source = UncertaintySource {
+            monte_carlo: &mc,
+            nominal: nominal.as_ref(),
+            sensitivity: self.sensitivity.as_deref(),
+            sensitivity_radius_au: self.at_au,
+        };
+        let svg = |v: UncertaintyView| {
+            uncertainty_figure(v, &source)
+                .ok()
+                .and_then(|f| uncertainty_svg(&f, &theme, size).ok())
+        };
         Ok(json!({
-            "bands": svg(&bands),
-            "histogram": svg(&hist),
-            "sensitivity_c_to_o": sens.as_ref().and_then(|s| s.0.clone()),
-            "sensitivity_snowline": sens.as_ref().and_then(|s| s.1.clone()),
+            "bands": svg(bands),
+            "histogram": svg(hist),
+            "sensitivity_c_to_o": svg(UncertaintyView::Sensitivity(None)),
+            "sensitivity_snowline": svg(UncertaintyView::Sensitivity(Some(sp))),
         }))
+    }
+
+    /// A figure file of `view` (`bands:<QUANTITY>`, `snowlines:<SPECIES>`,
+    /// `sensitivity[:<SPECIES>]`, `posterior`) in the shared figure `options` (`{format, width,
+    /// dpi, theme}`, read by `nivalis_charts::FigureOptions`), with the provenance, seed and
+    /// sample count embedded: the bytes `nivalis uncertainty DISK --figure VIEW` (or, for the
+    /// posterior, `nivalis fit ... --uncertainty --figure FILE`) writes.
+    pub fn figure_file(&self, view: &str, options: &Value) -> Result<Vec<u8>, String> {
+        let options = crate::figures::FigureOptions::from_value(options)?;
+        let v = UncertaintyView::from_key(view)?;
+        let figure = self.figure(v)?;
+        let samples = match (&v, &self.posterior) {
+            (UncertaintyView::Posterior, Some((_, n))) => *n as usize,
+            _ => self.results.len(),
+        };
+        let prov = Provenance::of(&self.file);
+        crate::figures::figure_file_with(
+            &Figure::Uncertainty(figure),
+            &options,
+            &prov,
+            view,
+            &nivalis_exports::figures::monte_carlo_provenance(self.seed, samples),
+        )
+        .map_err(|e| e.to_string())
     }
 
     /// The formation-radius posterior of an observed planet marginalised over the first
@@ -202,7 +221,7 @@ impl UncertaintySession {
     /// read by the CLI's own request builder (`nivalis_exports::planet_tools::fit_request`).
     /// The result is the CLI's JSON plus `text` (its file, byte for byte) and `svg` (the figure).
     pub fn posterior(
-        &self,
+        &mut self,
         request: &Value,
         samples: u64,
         dark: bool,
@@ -231,18 +250,12 @@ impl UncertaintySession {
         }
         let post = acc.finish();
         let theme = if dark { Theme::dark() } else { Theme::light() };
-        let fig = UncertaintyFigure::Posterior(PosteriorData {
-            radius_au: post.radius_au.clone(),
-            probability: post.radius_probability.clone(),
-            intervals_au: [post.radius_interval_68_au, post.radius_interval_95_au]
-                .into_iter()
-                .flatten()
-                .collect(),
-        });
+        let fig = posterior_figure(&post);
         let prov = Provenance::of(&self.file);
         let mut j = marginal_fit_json(&post, self.seed, failed, &self.spec, &prov, &swings);
         j["text"] = json!(nivalis_exports::formats::json_text(&j));
         j["svg"] = json!(uncertainty_svg(&fig, &theme, FigureSize::single_column()).ok());
+        self.posterior = Some((post, samples));
         Ok(j)
     }
 }
@@ -326,6 +339,17 @@ mod binding {
                 .map_err(|e| JsValue::from_str(&e))
         }
 
+        /// A figure file (SVG or PNG bytes) of `view` in the shared figure `options`
+        /// (`{format, width, dpi, theme}`), as `nivalis uncertainty DISK --figure VIEW` writes it.
+        #[wasm_bindgen(js_name = figureFile)]
+        pub fn figure_file(&self, view: &str, options: JsValue) -> Result<Vec<u8>, JsValue> {
+            let options: Value = serde_wasm_bindgen::from_value(options)
+                .map_err(|e| JsValue::from_str(&e.to_string()))?;
+            self.session
+                .figure_file(view, &options)
+                .map_err(|e| JsValue::from_str(&e))
+        }
+
         /// An export file's text.
         pub fn export(&self, format: &str, table: &str) -> Result<String, JsValue> {
             self.session
@@ -336,7 +360,7 @@ mod binding {
         /// The marginalised posterior of the observed planet in `request` (the fit panel's
         /// fields); problems are thrown as `{problems: [...]}`.
         pub fn posterior(
-            &self,
+            &mut self,
             request: JsValue,
             samples: f64,
             dark: bool,
@@ -408,5 +432,28 @@ mod tests {
             .export("csv", "snowlines")
             .unwrap()
             .contains("# monte carlo: seed 11, 8 samples"));
+        // Figure files through the shared path, with the seed and samples embedded; the
+        // posterior's samples are those it was fitted over.
+        let png = a
+            .figure_file("bands:c_to_o_gas", &json!({"format": "png", "dpi": 72}))
+            .unwrap();
+        // 252 pt x 189 pt at 72 dpi: 252 x 189 px (1 pt = 1/72 in).
+        assert_eq!(&png[12..24], b"IHDR\0\0\0\xfc\0\0\0\xbd");
+        let text = String::from_utf8_lossy(&png);
+        assert!(
+            text.contains("nivalis:seed\0\0\0\0\x0011")
+                && text.contains("nivalis:samples\0\0\0\0\x008")
+        );
+        let svg = String::from_utf8(a.figure_file("posterior", &json!({})).unwrap()).unwrap();
+        assert!(svg.contains("view=\"posterior\"") && svg.contains(" seed=\"11\" samples=\"4\">"));
+        assert!(a
+            .figure_file("bands:nothing", &json!({}))
+            .unwrap_err()
+            .contains("unknown quantity"));
+        assert_eq!(
+            a.figure_file("sensitivity", &json!({"dpi": 10}))
+                .unwrap_err(),
+            "dpi: must be a number between 36 and 1200, got 10"
+        );
     }
 }
