@@ -11,7 +11,7 @@ use nivalis_disk_files::{from_value, Problem};
 use nivalis_exports::evolution::evolution_json;
 use nivalis_exports::formats::json_text;
 use nivalis_exports::Provenance;
-use nivalis_physics::evolution::{evolve_with_progress, EvolutionParameters};
+use nivalis_physics::evolution::{evolve_with_statics, EvolutionParameters};
 use plotters::prelude::IntoDrawingArea;
 use serde::Serialize;
 use serde_json::{json, Value};
@@ -51,13 +51,10 @@ fn run(
         let _ = progress.call1(&JsValue::NULL, &JsValue::from_f64(fraction));
         true
     };
-    let run = evolve_with_progress(&file.parameters, &e, &mut report)
+    // The static models on the run's own structures (the same bits as `static_model_at`).
+    let (run, statics) = evolve_with_statics(&file.parameters, &e, &mut report)
         .map_err(physics)?
         .ok_or_else(|| vec![Problem::new("(run)", "cancelled")])?;
-    let statics = (0..run.snapshots.len())
-        .map(|k| run.static_model_at(k))
-        .collect::<Result<Vec<_>, _>>()
-        .map_err(physics)?;
     file.evolution = Some(e.clone());
     Ok(json_text(&evolution_json(
         &run,
