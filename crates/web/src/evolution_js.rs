@@ -31,7 +31,7 @@ fn run(
     until_myr: f64,
     snapshots: u32,
     progress: &js_sys::Function,
-) -> Result<String, Vec<Problem>> {
+) -> Result<(String, Vec<f64>), Vec<Problem>> {
     let value: Value = serde_wasm_bindgen::from_value(disk).map_err(|e| {
         vec![Problem::new(
             "(input)",
@@ -56,18 +56,19 @@ fn run(
         .map_err(physics)?
         .ok_or_else(|| vec![Problem::new("(run)", "cancelled")])?;
     file.evolution = Some(e.clone());
-    Ok(json_text(&evolution_json(
+    let text = json_text(&evolution_json(
         &run,
         &statics,
         &file.parameters,
         &e,
         &Provenance::of(&file),
-    )))
+    ));
+    Ok((text, run.times_myr()))
 }
 
 /// Evolve `disk` (the page's disk object) to `untilMyr` with `snapshots` snapshots, calling
-/// `progress(fraction)` after every step. Returns `{ok: true, text}` with the JSON of
-/// `nivalis evolve`, or `{ok: false, problems: [{path, value, allowed, message}]}`.
+/// `progress(fraction)` after every step. Returns `{ok: true, text, times_myr}` with the JSON of
+/// `nivalis evolve` and its snapshot ages (so the page need not parse the text), or `{ok: false, problems: [{path, value, allowed, message}]}`.
 #[wasm_bindgen(js_name = evolveDisk)]
 pub fn evolve_disk(
     disk: JsValue,
@@ -76,7 +77,7 @@ pub fn evolve_disk(
     progress: &js_sys::Function,
 ) -> JsValue {
     to_js(&match run(disk, until_myr, snapshots, progress) {
-        Ok(text) => json!({"ok": true, "text": text}),
+        Ok((text, times)) => json!({"ok": true, "text": text, "times_myr": times}),
         Err(problems) => json!({
             "ok": false,
             "problems": problems
