@@ -1109,13 +1109,12 @@ fn execute(args: Args) -> Result<(), Failure> {
             e.check().map_err(|err| option_failure(&err, &flags))?;
             // The static models on the run's own structures (the same bits as
             // `static_model_at`, tests/evolution.rs).
-            let (run, statics) = nivalis_physics::evolution::evolve_with_statics(
-                &file.parameters,
-                &e,
-                &mut |_| true,
-            )
-            .map_err(|err| option_failure(&err, &flags))?
-            .expect("never cancelled");
+            let (run, statics) =
+                nivalis_physics::evolution::evolve_with_statics(&file.parameters, &e, &mut |_| {
+                    true
+                })
+                .map_err(|err| option_failure(&err, &flags))?
+                .expect("never cancelled");
             file.evolution = Some(e.clone());
             let provenance = Provenance::of(&file);
             if let Some(path) = &methods_file {

@@ -375,10 +375,9 @@ mod tests {
         e.snapshots = 4;
         let run = evolve(&p, &e).unwrap();
         let fresh: Vec<Model> = (0..4).map(|k| run.static_model_at(k).unwrap()).collect();
-        let (run2, reused) =
-            nivalis_physics::evolution::evolve_with_statics(&p, &e, &mut |_| true)
-                .unwrap()
-                .unwrap();
+        let (run2, reused) = nivalis_physics::evolution::evolve_with_statics(&p, &e, &mut |_| true)
+            .unwrap()
+            .unwrap();
         assert_eq!(run, run2);
         assert_eq!(reused.len(), 4);
         let file = nivalis_disk_files::DiskFile {

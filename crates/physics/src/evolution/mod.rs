@@ -1120,7 +1120,8 @@ impl<'a> Evolver<'a> {
         let mut vapour = [None; SPECIES_COUNT];
         // Grams per unit of a tracer's flux (abundance per H x Sigma x area / time).
         let to_g_s: [f64; SPECIES_COUNT] = std::array::from_fn(|i| {
-            cr.mass_amu[i] * ATOMIC_MASS_UNIT_G / (MASS_PER_HYDROGEN_NUCLEUS_AMU_H * HYDROGEN_MASS_G)
+            cr.mass_amu[i] * ATOMIC_MASS_UNIT_G
+                / (MASS_PER_HYDROGEN_NUCLEUS_AMU_H * HYDROGEN_MASS_G)
         });
         let inward = |flux: &[Vec<f64>]| -> Vec<[f64; SPECIES_COUNT]> {
             (0..=n)
