@@ -568,8 +568,8 @@ fn the_ice_piles_up_outside_the_water_snowline_as_the_flux_balance_says() {
         // the cell-to-cell steps of the discrete profile, about the vapour's change over one
         // cell inside the front, and St^2; model.md).
         let inside = (0..r.len())
-            .filter(|&j| r[j] < r_s && s.ice_fraction[j][w] < 0.01)
-            .last()
+            .rev()
+            .find(|&j| r[j] < r_s && s.ice_fraction[j][w] < 0.01)
             .unwrap();
         let vapour_in = s.species_per_h[inside][w] * (1.0 - s.ice_fraction[inside][w]);
         // Known limit (model.md): the model's peak does not follow D/D_d when D_d is changed
