@@ -28,6 +28,10 @@
 // divides the median of "total (compute + all 5 charts)" at 200 x 80 by the
 // floor's median, per kind of edit, with compute and draw apart; issue 9
 // targets at most 7.
+// After it, the uncertainty panel (1000 samples) and the evolution panel (the default disk
+// evolved to 5 Myr with 20 snapshots: Evolve clicked to the three views drawn, 7 runs; see
+// evolutionBench). `--only uncertainty` or `--only evolution` runs one of those alone;
+// `--only evolution --page FILE` times another build of the page (a before/after comparison).
 // Percentiles: linear interpolation between order statistics (numpy's default).
 
 import { execFileSync } from "node:child_process";
