@@ -95,12 +95,11 @@ fn evolution_figure(
         .unwrap_or_else(nivalis_physics::evolution::EvolutionParameters::defaults);
     let flags = [("evolution.until_myr", "--set evolution.until_myr")];
     e.check().map_err(|err| option_failure(&err, &flags))?;
-    let run = nivalis_physics::evolution::evolve(&file.parameters, &e)
-        .map_err(|err| option_failure(&err, &flags))?;
-    let statics = (0..run.snapshots.len())
-        .map(|k| run.static_model_at(k))
-        .collect::<Result<Vec<_>, _>>()
-        .map_err(|err| option_failure(&err, &flags))?;
+    // The static models on the run's own structures (the same bits as `static_model_at`).
+    let (run, statics) =
+        nivalis_physics::evolution::evolve_with_statics(&file.parameters, &e, &mut |_| true)
+            .map_err(|err| option_failure(&err, &flags))?
+            .expect("never cancelled");
     file.evolution = Some(e.clone());
     let provenance = Provenance::of(&file);
     // Through the JSON text, as the page holds it, so both draw the very same numbers.
@@ -1182,12 +1181,14 @@ fn execute(args: Args) -> Result<(), Failure> {
             }
             let flags = [("evolution.until_myr", "--until-myr")];
             e.check().map_err(|err| option_failure(&err, &flags))?;
-            let run = nivalis_physics::evolution::evolve(&file.parameters, &e)
-                .map_err(|err| option_failure(&err, &flags))?;
-            let statics = (0..run.snapshots.len())
-                .map(|k| run.static_model_at(k))
-                .collect::<Result<Vec<_>, _>>()
-                .map_err(|err| Failure::input(vec![err.to_string()]))?;
+            // The static models on the run's own structures (the same bits as
+            // `static_model_at`, tests/evolution.rs).
+            let (run, statics) =
+                nivalis_physics::evolution::evolve_with_statics(&file.parameters, &e, &mut |_| {
+                    true
+                })
+                .map_err(|err| option_failure(&err, &flags))?
+                .expect("never cancelled");
             file.evolution = Some(e.clone());
             let provenance = Provenance::of(&file);
             if let Some(path) = &methods_file {

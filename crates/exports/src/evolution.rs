@@ -361,4 +361,43 @@ mod tests {
         let s = snowline_tracks_table(&run);
         assert_eq!(s.rows.len(), 3);
     }
+
+    #[test]
+    fn statics_on_the_runs_own_structures_give_the_same_json_text() {
+        // `nivalis evolve` and the page take the static models from `evolve_with_statics` (on the
+        // structures the run built); the JSON must be byte for byte what the static models built
+        // afresh by `static_model_at` give. The default disk at a reduced grid, with the kinetic
+        // ices (their balance depends on every input of the structure).
+        let mut p = ModelParameters::defaults();
+        p.grid.radial_cells = 60;
+        let mut e = EvolutionParameters::defaults();
+        e.until_myr = 1.0;
+        e.snapshots = 4;
+        let run = evolve(&p, &e).unwrap();
+        let fresh: Vec<Model> = (0..4).map(|k| run.static_model_at(k).unwrap()).collect();
+        let (run2, reused) = nivalis_physics::evolution::evolve_with_statics(&p, &e, &mut |_| true)
+            .unwrap()
+            .unwrap();
+        assert_eq!(run, run2);
+        assert_eq!(reused.len(), 4);
+        let file = nivalis_disk_files::DiskFile {
+            evolution: Some(e.clone()),
+            ..nivalis_disk_files::DiskFile::defaults()
+        };
+        let text = |statics: &[Model]| {
+            crate::formats::json_text(&evolution_json(
+                &run,
+                statics,
+                &p,
+                &e,
+                &Provenance::of(&file),
+            ))
+        };
+        assert_eq!(text(&reused), text(&fresh));
+        // Every number of the static models, not only the exported profiles (Debug prints each
+        // f64 so that it reads back to the same bits).
+        for (a, b) in reused.iter().zip(&fresh) {
+            assert!(format!("{a:?}") == format!("{b:?}"), "static models differ");
+        }
+    }
 }

@@ -11,7 +11,7 @@ use nivalis_disk_files::{from_value, Problem};
 use nivalis_exports::evolution::evolution_json;
 use nivalis_exports::formats::json_text;
 use nivalis_exports::Provenance;
-use nivalis_physics::evolution::{evolve_with_progress, EvolutionParameters};
+use nivalis_physics::evolution::{evolve_with_statics, EvolutionParameters};
 use plotters::prelude::IntoDrawingArea;
 use serde::Serialize;
 use serde_json::{json, Value};
@@ -31,7 +31,7 @@ fn run(
     until_myr: f64,
     snapshots: u32,
     progress: &js_sys::Function,
-) -> Result<String, Vec<Problem>> {
+) -> Result<(String, Vec<f64>), Vec<Problem>> {
     let value: Value = serde_wasm_bindgen::from_value(disk).map_err(|e| {
         vec![Problem::new(
             "(input)",
@@ -51,26 +51,24 @@ fn run(
         let _ = progress.call1(&JsValue::NULL, &JsValue::from_f64(fraction));
         true
     };
-    let run = evolve_with_progress(&file.parameters, &e, &mut report)
+    // The static models on the run's own structures (the same bits as `static_model_at`).
+    let (run, statics) = evolve_with_statics(&file.parameters, &e, &mut report)
         .map_err(physics)?
         .ok_or_else(|| vec![Problem::new("(run)", "cancelled")])?;
-    let statics = (0..run.snapshots.len())
-        .map(|k| run.static_model_at(k))
-        .collect::<Result<Vec<_>, _>>()
-        .map_err(physics)?;
     file.evolution = Some(e.clone());
-    Ok(json_text(&evolution_json(
+    let text = json_text(&evolution_json(
         &run,
         &statics,
         &file.parameters,
         &e,
         &Provenance::of(&file),
-    )))
+    ));
+    Ok((text, run.times_myr()))
 }
 
 /// Evolve `disk` (the page's disk object) to `untilMyr` with `snapshots` snapshots, calling
-/// `progress(fraction)` after every step. Returns `{ok: true, text}` with the JSON of
-/// `nivalis evolve`, or `{ok: false, problems: [{path, value, allowed, message}]}`.
+/// `progress(fraction)` after every step. Returns `{ok: true, text, times_myr}` with the JSON of
+/// `nivalis evolve` and its snapshot ages (so the page need not parse the text), or `{ok: false, problems: [{path, value, allowed, message}]}`.
 #[wasm_bindgen(js_name = evolveDisk)]
 pub fn evolve_disk(
     disk: JsValue,
@@ -79,7 +77,7 @@ pub fn evolve_disk(
     progress: &js_sys::Function,
 ) -> JsValue {
     to_js(&match run(disk, until_myr, snapshots, progress) {
-        Ok(text) => json!({"ok": true, "text": text}),
+        Ok((text, times)) => json!({"ok": true, "text": text, "times_myr": times}),
         Err(problems) => json!({
             "ok": false,
             "problems": problems

@@ -1,6 +1,9 @@
 //! The two-population dust model of Birnstiel, Klahr & Ercolano 2012 (BKE12): the size of the
 //! large grains set by growth, fragmentation and drift, their Stokes numbers and the
-//! mass-weighted radial speed of the dust (docs/model.md section 12.3).
+//! mass-weighted radial speed of the dust (docs/model.md section 12.3). The equation and section
+//! numbers of BKE12 and the other papers cited here, and BKE12's calibration constants, are from
+//! memory, not re-checked against the papers (docs/model.md section 12.11, which also lists the
+//! choices, e.g. the dust diffusivity factor 1/(1 + St^2)).
 
 use crate::math::{exp, sqrt};
 use std::f64::consts::PI;

@@ -283,6 +283,12 @@ pub struct Snapshot {
     pub pebble_flux_g_s: [Option<f64>; SPECIES_COUNT],
     /// Inward mass flux of each species' vapour through its snowline over the last step [g s^-1].
     pub vapour_flux_g_s: [Option<f64>; SPECIES_COUNT],
+    /// Inward mass flux of each species' ice (on the pebbles) through each of the N + 1 cell
+    /// faces over the last step [g s^-1] (zero at the start).
+    pub ice_inward_flux_g_s: Vec<[f64; SPECIES_COUNT]>,
+    /// Inward mass flux of each species' vapour through each of the N + 1 cell faces over the
+    /// last step [g s^-1] (zero at the start).
+    pub vapour_inward_flux_g_s: Vec<[f64; SPECIES_COUNT]>,
     /// Outermost radius that has been above the soot line so far [cm] (irreversible soot line).
     pub soot_line_history_cm: Option<f64>,
 }
@@ -547,6 +553,29 @@ pub fn evolve_with_progress(
     e: &EvolutionParameters,
     progress: &mut dyn FnMut(f64) -> bool,
 ) -> Result<Option<EvolutionRun>, PhysicsError> {
+    run_evolution(p, e, progress, false).map(|run| run.map(|(run, _)| run))
+}
+
+/// [`evolve_with_progress`] that also returns the static model at every snapshot's age, equal
+/// bit for bit to [`EvolutionRun::static_model_at`] (tests/evolution.rs checks it) but computed
+/// on the structure the run already built for that age (docs/model.md section 12.7): the run's
+/// structure at a snapshot is `DiskStructure::from_surface_density` of the snapshot's own
+/// parameters and surface density, so building it again only repeats the same arithmetic.
+/// This is what the CLI's `nivalis evolve` and the page use.
+pub fn evolve_with_statics(
+    p: &ModelParameters,
+    e: &EvolutionParameters,
+    progress: &mut dyn FnMut(f64) -> bool,
+) -> Result<Option<(EvolutionRun, Vec<Model>)>, PhysicsError> {
+    run_evolution(p, e, progress, true)
+}
+
+fn run_evolution(
+    p: &ModelParameters,
+    e: &EvolutionParameters,
+    progress: &mut dyn FnMut(f64) -> bool,
+    with_statics: bool,
+) -> Result<Option<(EvolutionRun, Vec<Model>)>, PhysicsError> {
     e.check()?;
     if !(p.disk.dust_to_gas > 0.0) {
         return Err(PhysicsError::OutOfRange {
@@ -569,6 +598,10 @@ pub fn evolve_with_progress(
         })
         .collect();
     let mut snapshots = vec![ev.snapshot()];
+    let mut statics = Vec::new();
+    if with_statics {
+        statics.push(ev.static_model()?);
+    }
     let mut steps = 0;
     for &target in &times[1..] {
         while ev.time_myr < target {
@@ -586,6 +619,9 @@ pub fn evolve_with_progress(
             }
         }
         snapshots.push(ev.snapshot());
+        if with_statics {
+            statics.push(ev.static_model()?);
+        }
     }
     let totals = ev.element_totals();
     let conservation = std::array::from_fn(|k| {
@@ -595,7 +631,7 @@ pub fn evolve_with_progress(
             0.0
         }
     });
-    Ok(Some(EvolutionRun {
+    let run = EvolutionRun {
         radius_cm: ev.grid.centre_cm.clone(),
         face_cm: ev.grid.face_cm.clone(),
         snapshots,
@@ -603,7 +639,8 @@ pub fn evolve_with_progress(
         conservation_relative_error: conservation,
         gas_conservation_relative_error: ((ev.gas_mass() + ev.gas_lost) - gas0).abs() / gas0,
         steps,
-    }))
+    };
+    Ok(Some((run, statics)))
 }
 
 impl<'a> Evolver<'a> {
@@ -1012,6 +1049,15 @@ impl<'a> Evolver<'a> {
         }
     }
 
+    /// The static model at the current age on the current structure: what
+    /// [`EvolutionRun::static_model_at`] gives for a snapshot taken now, without building the
+    /// structure again (it is `DiskStructure::from_surface_density` of `parameters_now` and the
+    /// surface density, which the snapshot stores; the run keeps Sigma >= 1e-200, so the floor
+    /// of `refresh_structure` changes nothing).
+    fn static_model(&self) -> Result<Model, PhysicsError> {
+        Model::run_on(self.structure.clone(), &self.parameters_now)
+    }
+
     fn snapshot(&self) -> Snapshot {
         let n = self.grid.cells();
         let st = &self.structure;
@@ -1072,6 +1118,18 @@ impl<'a> Evolver<'a> {
         let mut snowline_cm = [None; SPECIES_COUNT];
         let mut pebble = [None; SPECIES_COUNT];
         let mut vapour = [None; SPECIES_COUNT];
+        // Grams per unit of a tracer's flux (abundance per H x Sigma x area / time).
+        let to_g_s: [f64; SPECIES_COUNT] = std::array::from_fn(|i| {
+            cr.mass_amu[i] * ATOMIC_MASS_UNIT_G
+                / (MASS_PER_HYDROGEN_NUCLEUS_AMU_H * HYDROGEN_MASS_G)
+        });
+        let inward = |flux: &[Vec<f64>]| -> Vec<[f64; SPECIES_COUNT]> {
+            (0..=n)
+                .map(|e| std::array::from_fn(|i| (0.0 - flux[i][e]) * to_g_s[i]))
+                .collect()
+        };
+        let ice_inward = inward(&self.ice_flux);
+        let vapour_inward = inward(&self.vapour_flux);
         for i in 0..SPECIES_COUNT {
             if cr.species_per_h[i] == 0.0 {
                 continue;
@@ -1085,10 +1143,8 @@ impl<'a> Evolver<'a> {
                 // The fluxes are those of the last step: none before the first.
                 if self.time_myr > self.e.start_myr {
                     let e = nearest_face(&self.grid.face_cm, l.radius_cm);
-                    let to_g_s = cr.mass_amu[i] * ATOMIC_MASS_UNIT_G
-                        / (MASS_PER_HYDROGEN_NUCLEUS_AMU_H * HYDROGEN_MASS_G);
-                    pebble[i] = Some((0.0 - self.ice_flux[i][e]) * to_g_s);
-                    vapour[i] = Some((0.0 - self.vapour_flux[i][e]) * to_g_s);
+                    pebble[i] = Some(ice_inward[e][i]);
+                    vapour[i] = Some(vapour_inward[e][i]);
                 }
             }
         }
@@ -1107,6 +1163,8 @@ impl<'a> Evolver<'a> {
             snowline_cm,
             pebble_flux_g_s: pebble,
             vapour_flux_g_s: vapour,
+            ice_inward_flux_g_s: ice_inward,
+            vapour_inward_flux_g_s: vapour_inward,
             soot_line_history_cm: self.soot_history_cm,
         }
     }

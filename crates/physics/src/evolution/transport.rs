@@ -1,5 +1,6 @@
 //! Advection and diffusion of a trace quantity (dust, vapour or ice of one species, released
-//! carbon) on the radial grid, implicit in time (docs/model.md section 12.4).
+//! carbon) on the radial grid, implicit in time (docs/model.md section 12.4). Equation numbers are
+//! from memory (docs/model.md section 12.11).
 
 use super::viscous::{solve_tridiagonal, RadialGrid, StepBuffers};
 

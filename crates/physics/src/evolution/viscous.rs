@@ -1,5 +1,7 @@
 //! Viscous evolution of the gas surface density on the log radial grid, implicit in time, and
-//! the similarity solution it is checked against (docs/model.md section 12.1).
+//! the similarity solution it is checked against (docs/model.md section 12.1). Equation numbers
+//! (Pringle 1981, Hartmann et al. 1998) are from memory (docs/model.md section 12.11); the
+//! similarity solution itself is checked by tests/python/check_evolution.py.
 
 use crate::math::{exp, ln, pow, sqrt};
 use crate::structure::{keplerian_frequency_s, sound_speed_cm_s};
