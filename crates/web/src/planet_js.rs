@@ -21,7 +21,6 @@ use crate::explorer::{Explorer, CSS_PX_PER_POINT};
 use crate::figures::{figure_file, figure_of, FigureOptions};
 use crate::planet::{self, PlanetExport};
 use crate::raster::LeadingRects;
-use crate::readout::format_sig;
 use wasm_bindgen::JsCast;
 
 /// The message when the planet tools have no model on the page.
@@ -216,36 +215,7 @@ impl Explorer {
     pub fn chi2_readout(&self, canvas_id: &str, x: f64, y: f64) -> Option<String> {
         let (key, layout) = self.layouts.get(canvas_id)?;
         let f = self.planet.fitted.as_ref().filter(|_| key == "chi2_map")?;
-        let (panel, r, q) = layout.panel_at(x, y)?;
-        if panel.name == "colour_bar" {
-            return Some(format!(
-                "colour bar: {} {}",
-                panel.y.label,
-                format_sig(q, 3)
-            ));
-        }
-        let m = &f.map;
-        let j = crate::readout::nearest_radius(&m.radius_au, r)?;
-        let k = crate::readout::nearest_radius(&m.solid_to_gas, q)?;
-        let row = &m.rows[j * m.solid_to_gas.len() + k];
-        let value =
-            |v: Option<f64>| v.map_or_else(|| "undefined".to_string(), |v| format_sig(v, 3));
-        let region = if row.within_1sigma {
-            "inside 1σ"
-        } else if row.within_2sigma {
-            "inside 2σ"
-        } else {
-            "outside 2σ"
-        };
-        Some(format!(
-            "r = {} au, solid-to-gas {}: envelope C/O {}, [C/H] {}, [O/H] {}; Δχ² {} ({region})",
-            format_sig(row.radius_au, 3),
-            format_sig(row.solid_to_gas, 2),
-            value(row.c_to_o),
-            value(row.c_to_h_dex),
-            value(row.o_to_h_dex),
-            value(row.delta_chi2)
-        ))
+        nivalis_charts::readout::chi2_readout(&f.map, layout, x, y)
     }
 
     /// The radius [au] under backend pixel (`x`, `y`) of a drawn profile
