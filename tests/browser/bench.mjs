@@ -32,7 +32,7 @@
 //
 // Options: `--only edits` times only the two edits at the default grid (and the
 // floor), with each view's draw split into its steps (Explorer.drawTimings:
-// data, record, replay); `--only uncertainty` only the uncertainty panel;
+// data, record (of which rasterising a map), replay); `--only uncertainty` only the uncertainty panel;
 // `--page PATH` opens another built page (e.g. a copy of target/site from an
 // earlier commit), so two builds can be timed alternately in the same conditions.
 
@@ -193,8 +193,8 @@ try {
         n.drawOnce();
         const compute = [];
         const draw = [];
-        // Per canvas and step (data, record, replay) [ms], from Explorer.drawTimings.
-        const steps = Object.fromEntries(canvases.map((c) => [c, [[], [], []]]));
+        // Per canvas and step (data, record, replay, raster within record) [ms], from Explorer.drawTimings.
+        const steps = Object.fromEntries(canvases.map((c) => [c, [[], [], [], []]]));
         for (let i = 0; i < repeats; i++) {
           n.setQuietly(edit.path, edit.values[i % 2]);
           const t0 = performance.now();
@@ -273,8 +273,8 @@ try {
     line(r.grid, "  total (compute + all 5 charts)", r.compute.map((c, i) => c + r.draw[i]));
     if (only === "edits") {
       for (const c of CANVASES) {
-        const [data, record, replay] = r.steps[c].map((v) => percentile(v, 0.5).toFixed(2));
-        console.log(`  ${r.grid.padEnd(10)}     ${c.padEnd(20)} data ${data}  record ${record}  replay ${replay} (medians)`);
+        const [data, record, replay, raster] = r.steps[c].map((v) => percentile(v, 0.5).toFixed(2));
+        console.log(`  ${r.grid.padEnd(10)}     ${c.padEnd(20)} data ${data}  record ${record} (raster ${raster})  replay ${replay} (medians)`);
       }
     }
   }

@@ -56,13 +56,17 @@ fn context(canvas: &HtmlCanvasElement) -> Result<CanvasRenderingContext2d, Strin
 /// canvas call except measuring text not measured before) and returns the
 /// display list with the chart's layout. A map's cells come first, as ONE image
 /// rasterised by the charts crate; its axes, lines and colour bar follow.
+/// `raster_ms` receives the milliseconds spent rasterising a map's cells (0 for
+/// other views), for `Explorer.drawTimings`.
 pub fn record(
     size: (u32, u32),
     data: &ViewData,
     theme: &Theme,
     pixels_per_point: f64,
     measure: &dyn MeasureText,
+    raster_ms: &mut f64,
 ) -> Result<(Vec<Op>, ChartLayout), String> {
+    *raster_ms = 0.0;
     let ops = RefCell::new(Vec::new());
     let recorder = Recorder::new(size, &ops, measure);
     let area = recorder.into_drawing_area();
@@ -76,8 +80,10 @@ pub fn record(
             let main = layout.main();
             // Pixels above a column's top are composited over the background
             // (putImageData copies alpha rather than blending).
+            let t0 = crate::explorer::now_ms();
             let image = rasterise_map_over(d, theme, theme.background, main.width, main.height)
                 .map_err(|e| e.to_string())?;
+            *raster_ms = crate::explorer::now_ms() - t0;
             ops.borrow_mut().push(Op::Image {
                 at: (main.left, main.top),
                 width: image.width,
