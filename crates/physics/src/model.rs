@@ -326,9 +326,9 @@ impl Model {
         for j in 0..st.radial_cells {
             let carriers = self.composition.carriers_in_cell(j);
             let radius_cm = st.radius_cm[j];
-            for k in j * rows..(j + 1) * rows {
-                let ph =
-                    carriers.phases(st.samples.temperature_k[k], radius_cm, |i| fractions[i][k]);
+            let column = st.samples.temperature_k.iter().enumerate();
+            for (k, &temperature_k) in column.skip(j * rows).take(rows) {
+                let ph = carriers.phases(temperature_k, radius_cm, |i| fractions[i][k]);
                 out.push(Ratios::of(&ph, stellar).c_to_o_gas.unwrap_or(f64::NAN));
             }
         }

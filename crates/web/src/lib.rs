@@ -41,5 +41,3 @@ pub use explorer::Explorer;
 mod fields_js;
 #[cfg(target_arch = "wasm32")]
 mod planet_js;
-#[cfg(target_arch = "wasm32")]
-mod raster;

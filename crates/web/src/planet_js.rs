@@ -8,10 +8,12 @@
 //! on the page; a result computed in the page's Web Worker (very large grids)
 //! only has the views' data here, and the tools say so.
 
-use nivalis_charts::{draw_chi2_map, Chi2Data, Figure, Theme};
+use std::cell::RefCell;
+use std::collections::HashMap;
+
+use nivalis_charts::{Chi2Data, Figure, Theme};
 use nivalis_disk_files::{from_value, to_value, DiskFile, Problem};
 use nivalis_exports::Provenance;
-use plotters::prelude::IntoDrawingArea;
 use serde::Serialize;
 use serde_json::{json, Value};
 use wasm_bindgen::prelude::*;
@@ -20,8 +22,6 @@ use crate::canvas;
 use crate::explorer::{Explorer, CSS_PX_PER_POINT};
 use crate::figures::{figure_file, figure_of, FigureOptions};
 use crate::planet::{self, PlanetExport};
-use crate::raster::LeadingRects;
-use wasm_bindgen::JsCast;
 
 /// The message when the planet tools have no model on the page.
 const NO_MODEL: &str = "the planet tools need the model on this page, but this grid was computed in the background; use a grid of at most about twice the default size, or the command-line tool (nivalis planet / fit)";
@@ -192,19 +192,17 @@ impl Explorer {
             .filter(|r| r.is_finite() && *r > 0.0)
             .unwrap_or(1.0);
         let canvas = canvas::canvas_by_id(canvas_id).map_err(|e| JsError::new(&e))?;
-        let context = canvas
-            .get_context("2d")
-            .ok()
-            .flatten()
-            .and_then(|c| c.dyn_into::<web_sys::CanvasRenderingContext2d>().ok())
-            .ok_or_else(|| JsError::new("the canvas has no 2d context"))?;
-        // The map's cells as one image (see raster.rs), the rest drawn as usual.
-        let measured = canvas::MeasuredCanvas::new(&canvas).map_err(|e| JsError::new(&e))?;
-        let area = LeadingRects::new(measured, context).into_drawing_area();
+        let size = (canvas.width(), canvas.height());
+        // Recorded and replayed as the views are: the background and cells as one image.
+        let sizes = RefCell::new(HashMap::new());
+        let measure = canvas::CanvasMeasure::new(&canvas, &sizes).map_err(|e| JsError::new(&e))?;
         let data = Chi2Data::from_map(&f.map);
-        let layout = draw_chi2_map(&area, &data, &theme, CSS_PX_PER_POINT * ratio)
-            .map_err(|e| JsError::new(&e.to_string()))?;
-        area.present().map_err(|e| JsError::new(&e.to_string()))?;
+        let (ops, layout) =
+            canvas::record_chi2(size, &data, &theme, CSS_PX_PER_POINT * ratio, &measure)
+                .map_err(|e| JsError::new(&e))?;
+        let context = canvas::context_of(&canvas).map_err(|e| JsError::new(&e))?;
+        let scratch = canvas::scratch_canvas().map_err(|e| JsError::new(&e))?;
+        canvas::replay(&context, &ops, &scratch).map_err(|e| JsError::new(&e))?;
         self.layouts
             .insert(canvas_id.to_string(), ("chi2_map".to_string(), layout));
         Ok(())
