@@ -272,6 +272,9 @@ try {
     }
     line(r.grid, "  total (compute + all 5 charts)", r.compute.map((c, i) => c + r.draw[i]));
     if (only === "edits") {
+      // What the draw spends outside the five views' own steps: the snowline table, the page's glue.
+      const rest = r.draw.map((d, i) => d - CANVASES.reduce((sum, c) => sum + r.steps[c][0][i] + r.steps[c][1][i] + r.steps[c][2][i], 0));
+      console.log(`  ${r.grid.padEnd(10)}     ${"table and page glue".padEnd(20)} ${percentile(rest, 0.5).toFixed(2)} (median)`);
       for (const c of CANVASES) {
         const [data, record, replay, raster] = r.steps[c].map((v) => percentile(v, 0.5).toFixed(2));
         console.log(`  ${r.grid.padEnd(10)}     ${c.padEnd(20)} data ${data}  record ${record} (raster ${raster})  replay ${replay} (medians)`);
