@@ -30,8 +30,7 @@ use wasm_bindgen::{Clamped, JsCast};
 use web_sys::{CanvasRenderingContext2d, HtmlCanvasElement, ImageData};
 
 use crate::display::{
-    css_font, leading_rects_as_image, rect_runs_as_images, run_length, Colour, MeasureText, Op,
-    Recorder, TextSizes,
+    css_font, leading_rects_as_image, run_length, Colour, MeasureText, Op, Recorder, TextSizes,
 };
 use crate::readout::ViewData;
 
@@ -105,8 +104,7 @@ pub fn record(
     .map_err(|e| e.to_string())?;
     area.present().map_err(|e| e.to_string())?;
     drop(area);
-    // A colour bar's bands as one image (`display::rect_runs_as_images`).
-    Ok((rect_runs_as_images(ops.into_inner()), layout))
+    Ok((ops.into_inner(), layout))
 }
 
 /// Records the chi-square map of `data` as [`record`] records a view: its
@@ -125,8 +123,7 @@ pub fn record_chi2(
     let layout = draw_chi2_map(&area, data, theme, pixels_per_point).map_err(|e| e.to_string())?;
     area.present().map_err(|e| e.to_string())?;
     drop(area);
-    let ops = leading_rects_as_image(ops.into_inner(), size);
-    Ok((rect_runs_as_images(ops), layout))
+    Ok((leading_rects_as_image(ops.into_inner(), size), layout))
 }
 
 /// The canvas's 2D context, for [`replay`].
@@ -314,28 +311,15 @@ pub fn replay(
                 let pixels =
                     ImageData::new_with_u8_clamped_array_and_sh(Clamped(rgba), *width, *height)
                         .map_err(fail("the map image"))?;
-                // The scratch canvas only grows (resizing clears and reallocates it), and
-                // the image is drawn from its upper left corner at its own size.
-                if scratch.width() < *width || scratch.height() < *height {
-                    scratch.set_width(scratch.width().max(*width));
-                    scratch.set_height(scratch.height().max(*height));
+                if scratch.width() != *width || scratch.height() != *height {
+                    scratch.set_width(*width);
+                    scratch.set_height(*height);
                 }
                 context_of(scratch)?
                     .put_image_data(&pixels, 0.0, 0.0)
                     .map_err(fail("the map image"))?;
-                let (w, h) = (f64::from(*width), f64::from(*height));
-                c.draw_image_with_html_canvas_element_and_sw_and_sh_and_dx_and_dy_and_dw_and_dh(
-                    scratch,
-                    0.0,
-                    0.0,
-                    w,
-                    h,
-                    f64::from(at.0),
-                    f64::from(at.1),
-                    w,
-                    h,
-                )
-                .map_err(fail("the map image"))?;
+                c.draw_image_with_html_canvas_element(scratch, f64::from(at.0), f64::from(at.1))
+                    .map_err(fail("the map image"))?;
             }
         }
         i += n;

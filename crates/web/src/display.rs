@@ -108,8 +108,7 @@ pub enum Op {
         /// Anchor.
         at: (i32, i32),
     },
-    /// RGBA pixels (straight alpha) drawn over the canvas, source-over: opaque
-    /// pixels replace the canvas's, transparent ones leave it as it is.
+    /// RGBA pixels put on the canvas as they are (`putImageData`).
     Image {
         /// Upper left corner.
         at: (i32, i32),
@@ -426,79 +425,6 @@ pub fn leading_rects_as_image(ops: Vec<Op>, size: (u32, u32)) -> Vec<Op> {
     out
 }
 
-/// The shortest run of opaque filled rectangles [`rect_runs_as_images`] turns into an image.
-pub const RECT_RUN_AS_IMAGE: usize = 16;
-
-/// Replaces every run of at least [`RECT_RUN_AS_IMAGE`] consecutive opaque
-/// filled rectangles (a colour bar's bands: up to 128 `fillRect` calls, each
-/// with its own colour to parse) by ONE image of their bounding box, in which
-/// pixels no rectangle covers are transparent. Replayed with `drawImage`
-/// (source-over), transparent pixels leave the canvas as it is and opaque ones
-/// replace it, so the canvas ends with the pixels the rectangles gave
-/// (integer, half-open extents, opaque colours: no anti-aliasing is involved).
-pub fn rect_runs_as_images(ops: Vec<Op>) -> Vec<Op> {
-    let opaque_rect = |op: &Op| matches!(op, Op::FillRect { colour, .. } if colour.alpha >= 1.0);
-    if !ops.iter().any(opaque_rect) {
-        return ops;
-    }
-    let mut out = Vec::with_capacity(ops.len());
-    let mut run: Vec<Op> = Vec::new();
-    let flush = |run: &mut Vec<Op>, out: &mut Vec<Op>| {
-        if run.len() < RECT_RUN_AS_IMAGE {
-            out.append(run);
-            return;
-        }
-        let corners = run.iter().filter_map(|op| match op {
-            Op::FillRect { corners, .. } => Some(*corners),
-            _ => None,
-        });
-        let (mut x0, mut y0, mut x1, mut y1) = (i32::MAX, i32::MAX, i32::MIN, i32::MIN);
-        for [a, b] in corners {
-            x0 = x0.min(a.0.min(b.0));
-            y0 = y0.min(a.1.min(b.1));
-            x1 = x1.max(a.0.max(b.0));
-            y1 = y1.max(a.1.max(b.1));
-        }
-        let (w, h) = (x1 - x0, y1 - y0);
-        if w <= 0 || h <= 0 || i64::from(w) * i64::from(h) > 1 << 24 {
-            out.append(run);
-            return;
-        }
-        let mut rgba = vec![0u8; w as usize * h as usize * 4];
-        for op in run.drain(..) {
-            if let Op::FillRect {
-                colour,
-                corners: [a, b],
-            } = op
-            {
-                paint(
-                    &mut rgba,
-                    (w, h),
-                    (a.0 - x0, a.1 - y0),
-                    (b.0 - x0, b.1 - y0),
-                    colour,
-                );
-            }
-        }
-        out.push(Op::Image {
-            at: (x0, y0),
-            width: w as u32,
-            height: h as u32,
-            rgba,
-        });
-    };
-    for op in ops {
-        if opaque_rect(&op) {
-            run.push(op);
-        } else {
-            flush(&mut run, &mut out);
-            out.push(op);
-        }
-    }
-    flush(&mut run, &mut out);
-    out
-}
-
 /// Blends a filled rectangle [x0, x1) x [y0, y1) (clipped to the buffer) into
 /// `buffer`, source over destination with straight alpha.
 fn paint(
@@ -727,82 +653,6 @@ mod tests {
         });
         let shifted: Vec<Op> = profile.iter().skip(1).cloned().collect();
         assert_eq!(leading_rects_as_image(shifted.clone(), (900, 500)), shifted);
-    }
-
-    #[test]
-    fn a_colour_bar_s_bands_become_one_image_with_their_pixels() {
-        let mut p = ModelParameters::defaults();
-        p.grid.radial_cells = 60;
-        p.grid.vertical_cells = 20;
-        let model = Model::run(&p).unwrap();
-        let data = nivalis_charts::MapData::ice_fraction(&model, nivalis_physics::Species::CO);
-        let ops = record(|area| {
-            nivalis_charts::draw_ice_map(
-                area,
-                &data,
-                &Theme::light(),
-                1.6,
-                nivalis_charts::CellDrawing::Omit,
-            )
-            .unwrap();
-        });
-        let converted = rect_runs_as_images(ops.clone());
-        assert!(
-            converted.len() + 50 < ops.len(),
-            "{} -> {}",
-            ops.len(),
-            converted.len()
-        );
-        // Paint both lists' rectangles and images into one canvas-sized buffer: the same pixels.
-        let paint_all = |list: &[Op]| {
-            let mut rgba = vec![0u8; 900 * 500 * 4];
-            for op in list {
-                match op {
-                    Op::FillRect { colour, corners } => {
-                        paint(&mut rgba, (900, 500), corners[0], corners[1], *colour)
-                    }
-                    Op::Image {
-                        at,
-                        width,
-                        height,
-                        rgba: image,
-                    } => {
-                        for (k, px) in image.chunks_exact(4).enumerate() {
-                            let (x, y) = (
-                                at.0 + (k % *width as usize) as i32,
-                                at.1 + (k / *width as usize) as i32,
-                            );
-                            assert!(k / (*width as usize) < *height as usize);
-                            if px[3] == 255 && (0..900).contains(&x) && (0..500).contains(&y) {
-                                let p = (y as usize * 900 + x as usize) * 4;
-                                rgba[p..p + 4].copy_from_slice(px);
-                            } else {
-                                assert_eq!(px[3], 0, "a partly transparent pixel");
-                            }
-                        }
-                    }
-                    _ => {}
-                }
-            }
-            rgba
-        };
-        assert!(paint_all(&ops) == paint_all(&converted));
-        // The other operations keep their order.
-        let others = |list: &[Op]| -> Vec<Op> {
-            list.iter()
-                .filter(|op| !matches!(op, Op::FillRect { .. } | Op::Image { .. }))
-                .cloned()
-                .collect()
-        };
-        assert_eq!(others(&ops), others(&converted));
-        // A short run is left as it is.
-        let short: Vec<Op> = ops
-            .iter()
-            .filter(|op| matches!(op, Op::FillRect { .. }))
-            .take(3)
-            .cloned()
-            .collect();
-        assert_eq!(rect_runs_as_images(short.clone()), short);
     }
 
     #[test]
