@@ -30,15 +30,20 @@
 // targets at most 7.
 // After it, the uncertainty panel (1000 samples) and the evolution panel (the default disk
 // evolved to 5 Myr with 20 snapshots: Evolve clicked to the three views drawn, 7 runs; see
-// evolutionBench). `--only uncertainty` or `--only evolution` runs one of those alone;
-// `--only evolution --page FILE` times another build of the page (a before/after comparison).
+// evolutionBench). `--only uncertainty` or `--only evolution` runs one of those alone.
 // Percentiles: linear interpolation between order statistics (numpy's default).
+//
+// Options: `--only edits` times only the two edits at the default grid (and the
+// floor), with each view's draw split into its steps (Explorer.drawTimings:
+// data, record (of which rasterising a map), replay); `--only uncertainty` / `--only evolution` only that panel;
+// `--page PATH` opens another built page (e.g. a copy of target/site from an
+// earlier commit), so two builds can be timed alternately in the same conditions.
 
 import { execFileSync } from "node:child_process";
 import { readFileSync } from "node:fs";
 import { join, resolve } from "node:path";
 import { pathToFileURL } from "node:url";
-import { ensureCli, ensurePage, launch, newPage, openPage, repoRoot } from "./helpers.mjs";
+import { ensureCli, ensurePage, launch, newPage, openPage, pageUrl, repoRoot } from "./helpers.mjs";
 
 const REPEATS = 50;
 const GRIDS = [[200, 80], [400, 160]];
@@ -49,6 +54,8 @@ const EDITS = [
   { kind: "structure edit", path: "star.luminosity_lsun", values: [1.5, 1.0], recomputed: "everything" },
   { kind: "ice edit", path: "ices.sticking", values: [0.5, 1.0], recomputed: "ices" },
 ];
+// The page's five view canvases (web/app.js VIEWS).
+const CANVASES = ["canvas-c-to-o", "canvas-temperature", "canvas-ice-map", "canvas-c-to-o-map", "canvas-abundances"];
 const SPECIES = ["H2O", "CO", "CO2", "CH4", "N2", "NH3", "CH3OH", "H2S", "HCN"];
 const BOLTZMANN_ERG_PER_K = 1.380649e-16; // exact (SI 2019), as crates/physics/src/units.rs
 const ATOMIC_MASS_UNIT_G = 1.66053906892e-24; // CODATA 2022, as crates/physics/src/units.rs
@@ -106,8 +113,8 @@ const UNC_SECTION = {
   "composition.carbon": { distribution: "dirichlet", concentration: 30 },
 };
 
-async function uncertaintyBench(context) {
-  const { page, errors } = await newPage(context);
+async function uncertaintyBench(context, url) {
+  const { page, errors } = await newPage(context, url);
   const samplesMs = [];
   const roundTrip = [];
   for (let r = 0; r < UNC_REPEATS; r++) {
@@ -184,21 +191,21 @@ async function evolutionBench(context, url) {
   await page.close();
 }
 
-const argument = (name) => (process.argv.includes(name) ? process.argv[process.argv.indexOf(name) + 1] : null);
-const only = argument("--only");
-// --page FILE: time another build of the page (e.g. one from an earlier commit, for a
-// before/after comparison in the same conditions). Only with --only evolution.
-const otherPage = argument("--page");
-if (only !== null && only !== "uncertainty" && only !== "evolution") {
-  throw new Error(`bench.mjs: --only takes "uncertainty" or "evolution", got ${only}`);
+const option = (name) => (process.argv.includes(name) ? process.argv[process.argv.indexOf(name) + 1] : null);
+const only = option("--only");
+if (only !== null && !["uncertainty", "evolution", "edits"].includes(only)) {
+  throw new Error(`bench.mjs: --only takes "edits", "uncertainty" or "evolution", got ${only}`);
 }
-if (otherPage !== null && only !== "evolution") throw new Error("bench.mjs: --page goes with --only evolution");
-if (otherPage === null) ensurePage();
-if (only !== null) {
+// --page FILE: time another build of the page (e.g. one from an earlier commit, for a
+// before/after comparison in the same conditions).
+const otherPage = option("--page");
+const url = otherPage ? pathToFileURL(resolve(otherPage)).href : pageUrl;
+if (!otherPage) ensurePage();
+if (only === "uncertainty" || only === "evolution") {
   const { context, close } = await launch();
   try {
-    if (only === "uncertainty") await uncertaintyBench(context);
-    else await evolutionBench(context, otherPage === null ? undefined : pathToFileURL(resolve(otherPage)).href);
+    if (only === "uncertainty") await uncertaintyBench(context, url);
+    else await evolutionBench(context, url);
   } finally {
     await close();
   }
@@ -207,7 +214,7 @@ if (only !== null) {
 const inputs = floorInputs();
 const { context, close } = await launch();
 try {
-  const { page, errors } = await openPage(context);
+  const { page, errors } = await openPage(context, url);
   // The floor first, in the same page, before the page's own work below.
   const floor = await page.evaluate(({ temperature, minusBinding, thermal, repeats }) => {
     const n = temperature.length;
@@ -232,9 +239,9 @@ try {
     return { times, count: out.length };
   }, { ...inputs, repeats: REPEATS });
   const rows = [];
-  for (const [radial, vertical] of GRIDS) {
+  for (const [radial, vertical] of only === "edits" ? GRIDS.slice(0, 1) : GRIDS) {
     for (const edit of EDITS) {
-      const result = await page.evaluate(({ radial, vertical, repeats, edit }) => {
+      const result = await page.evaluate(({ radial, vertical, repeats, edit, canvases }) => {
         const n = window.nivalis;
         n.setQuietly("grid.radial_cells", radial);
         n.setQuietly("grid.vertical_cells", vertical);
@@ -245,6 +252,8 @@ try {
         n.drawOnce();
         const compute = [];
         const draw = [];
+        // Per canvas and step (data, record, replay, raster within record) [ms], from Explorer.drawTimings.
+        const steps = Object.fromEntries(canvases.map((c) => [c, [[], [], [], []]]));
         for (let i = 0; i < repeats; i++) {
           n.setQuietly(edit.path, edit.values[i % 2]);
           const t0 = performance.now();
@@ -256,6 +265,7 @@ try {
           }
           n.drawOnce();
           const t2 = performance.now();
+          for (const c of canvases) n.explorer.drawTimings(c).forEach((ms, k) => steps[c][k].push(ms));
           compute.push(t1 - t0);
           draw.push(t2 - t1);
         }
@@ -274,8 +284,8 @@ try {
           }
           visible.push(n.timings.drawMs);
         }
-        return { compute, draw, visible };
-      }, { radial, vertical, repeats: REPEATS, edit });
+        return { compute, draw, visible, steps };
+      }, { radial, vertical, repeats: REPEATS, edit, canvases: CANVASES });
       rows.push({ grid: `${radial}x${vertical}`, kind: edit.kind, field: edit.path, ...result });
     }
   }
@@ -284,7 +294,7 @@ try {
   // (with packing) inside the worker.
   const WORKER_GRID = [800, 320];
   const WORKER_REPEATS = 10;
-  const background = await page.evaluate(async ({ radial, vertical, repeats }) => {
+  const background = only === "edits" ? null : await page.evaluate(async ({ radial, vertical, repeats }) => {
     const n = window.nivalis;
     n.setQuietly("grid.radial_cells", radial);
     n.setQuietly("grid.vertical_cells", vertical);
@@ -320,24 +330,37 @@ try {
       line(r.grid, name, values);
     }
     line(r.grid, "  total (compute + all 5 charts)", r.compute.map((c, i) => c + r.draw[i]));
+    if (only === "edits") {
+      // What the draw spends outside the five views' own steps: the snowline table, the page's glue.
+      const rest = r.draw.map((d, i) => d - CANVASES.reduce((sum, c) => sum + r.steps[c][0][i] + r.steps[c][1][i] + r.steps[c][2][i], 0));
+      console.log(`  ${r.grid.padEnd(10)}     ${"table and page glue".padEnd(20)} ${percentile(rest, 0.5).toFixed(2)} (median)`);
+      for (const c of CANVASES) {
+        const [data, record, replay, raster] = r.steps[c].map((v) => percentile(v, 0.5).toFixed(2));
+        console.log(`  ${r.grid.padEnd(10)}     ${c.padEnd(20)} data ${data}  record ${record} (raster ${raster})  replay ${replay} (medians)`);
+      }
+    }
   }
   const floorGrid = `${inputs.radial}x${inputs.vertical}`;
+  const floorMedian = percentile(floor.times, 0.5);
   console.log(`  ${floorGrid.padEnd(10)} ${"floor: exp + sqrt per cell-species".padEnd(33)} ${f(percentile(floor.times, 0.5))} ${f(percentile(floor.times, 0.1))} ${f(percentile(floor.times, 0.9))}`);
   console.log(`             (${floor.count} = ${inputs.radial} x ${inputs.vertical + 1} samples x ${SPECIES.length} species, plain JS, ${REPEATS} repeats after 5 warm-up runs)`);
-  const grid = `${WORKER_GRID[0]}x${WORKER_GRID[1]}`;
-  console.log(`  worker path (${WORKER_REPEATS} repeats; the page keeps responding meanwhile):`);
-  console.log(`  ${grid.padEnd(10)} ${"compute (validate + run), worker".padEnd(33)} ${f(percentile(background.inWorker, 0.5))} ${f(percentile(background.inWorker, 0.1))} ${f(percentile(background.inWorker, 0.9))}`);
-  console.log(`  ${grid.padEnd(10)} ${"pack the result for the page".padEnd(33)} ${f(percentile(background.packing, 0.5))} ${f(percentile(background.packing, 0.1))} ${f(percentile(background.packing, 0.9))}`);
-  console.log(`  ${grid.padEnd(10)} ${"edit to result on screen".padEnd(33)} ${f(percentile(background.roundTrip, 0.5))} ${f(percentile(background.roundTrip, 0.1))} ${f(percentile(background.roundTrip, 0.9))}`);
-  const floorMedian = percentile(floor.times, 0.5);
+  if (background) {
+    const grid = `${WORKER_GRID[0]}x${WORKER_GRID[1]}`;
+    console.log(`  worker path (${WORKER_REPEATS} repeats; the page keeps responding meanwhile):`);
+    console.log(`  ${grid.padEnd(10)} ${"compute (validate + run), worker".padEnd(33)} ${f(percentile(background.inWorker, 0.5))} ${f(percentile(background.inWorker, 0.1))} ${f(percentile(background.inWorker, 0.9))}`);
+    console.log(`  ${grid.padEnd(10)} ${"pack the result for the page".padEnd(33)} ${f(percentile(background.packing, 0.5))} ${f(percentile(background.packing, 0.1))} ${f(percentile(background.packing, 0.9))}`);
+    console.log(`  ${grid.padEnd(10)} ${"edit to result on screen".padEnd(33)} ${f(percentile(background.roundTrip, 0.5))} ${f(percentile(background.roundTrip, 0.1))} ${f(percentile(background.roundTrip, 0.9))}`);
+  }
   console.log(`  ratios of medians to the in-page floor at ${floorGrid} (this page, this run; target: edit redraw <= 7, issue 9):`);
   for (const r of rows.filter((row) => row.grid === floorGrid)) {
     const ratio = (values) => (percentile(values, 0.5) / floorMedian).toFixed(2).padStart(7);
     const total = r.compute.map((c, i) => c + r.draw[i]);
     console.log(`    ${r.kind.padEnd(15)} edit redraw (compute + all 5 charts) / floor ${ratio(total)}   compute / floor ${ratio(r.compute)}   draw / floor ${ratio(r.draw)}`);
   }
-  await uncertaintyBench(context);
-  await evolutionBench(context);
+  if (only !== "edits") {
+    await uncertaintyBench(context, url);
+    await evolutionBench(context, url);
+  }
 } finally {
   await close();
 }

@@ -15,7 +15,8 @@
 //! [`MapData`], [`AbundanceData`], [`Chi2Data`]) are built from a
 //! `nivalis_physics::Model` by their `from_model`-style functions or
 //! [`Figure::from_model`]. [`render_svg`] and [`render_png`] give paper-ready files;
-//! [`FigureOptions`] reads and checks their options for every front end.
+//! [`FigureOptions`] reads and checks their options for every front end;
+//! [`readout`] gives the one-line text of the data under a pixel of a drawn view.
 //!
 //! ```
 //! use nivalis_charts::{render_svg, Figure, FigureSize, Theme, View};
@@ -39,6 +40,7 @@ pub mod layout;
 pub mod map;
 pub mod options;
 mod paint;
+pub mod readout;
 pub mod render;
 pub mod text;
 pub mod theme;

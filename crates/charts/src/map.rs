@@ -150,15 +150,8 @@ impl MapData {
 
     /// Gas C/O in every sample on a 0..2 scale, the star's C/O marked on the colour bar.
     pub fn gas_c_to_o(model: &Model) -> MapData {
-        let n = model.sample_count();
-        let values = (0..n)
-            .map(|k| {
-                model
-                    .ratios(&model.phases_at(k))
-                    .c_to_o_gas
-                    .unwrap_or(f64::NAN)
-            })
-            .collect();
+        // The core's bulk query: the same values as `ratios(&phases_at(k))` per sample.
+        let values = model.gas_c_to_o_samples();
         let mut map = MapData::from_model_values(
             model,
             values,
@@ -435,9 +428,12 @@ pub fn rasterise_map_over(
 }
 
 /// The raster of cells of the given colours (one per sample), `empty` above a
-/// column's top. Per pixel column, the row pointer only moves up while the
-/// column's pixels are found, so the cost is O(width x (height + rows)); the
-/// pixels are then written row by row.
+/// column's top. Each run of pixel columns that shows one model column is
+/// found once, and its pixels once, top to bottom (the row pointer only moves
+/// up, so the cost is O(width + runs x (height + rows))). The image is then
+/// written row by row, each row a copy of the one above with only the runs
+/// whose colour changes between the two rewritten: most rows differ from the
+/// one above in a few runs, so the per-pixel work is one bulk copy.
 fn raster_from_colours(
     data: &MapData,
     colours: &[[u8; 4]],
@@ -456,39 +452,66 @@ fn raster_from_colours(
     }
     let edges = data.column_edges_log();
     let (lx0, lx1) = (edges[0], edges[edges.len() - 1]);
+    let inner_edges = &edges[1..edges.len() - 1];
+    // z/r at the centre of each pixel row, top row first.
+    let z_of_row: Vec<f64> = (0..h)
+        .map(|p| data.z_over_r_max * (1.0 - (p as f64 + 0.5) / h as f64))
+        .collect();
+    let empty = u32::from_ne_bytes(empty);
     let mut tops = Vec::with_capacity(data.rows);
-    // The distinct pixel columns (h pixels each, top row first) and which one each x shows.
-    let mut columns: Vec<[u8; 4]> = Vec::new();
-    let mut column_of_x = Vec::with_capacity(w);
+    // The distinct pixel columns (h pixels each, top row first, as packed RGBA)
+    // and the runs of x showing each: (first x, end x, start in `columns`).
+    let mut columns: Vec<u32> = Vec::new();
+    let mut runs: Vec<(usize, usize, usize)> = Vec::new();
     let mut last_column = usize::MAX;
     for i in 0..w {
         let lx = lx0 + (i as f64 + 0.5) / w as f64 * (lx1 - lx0);
         // Edges are increasing: the column is the number of inner edges at or below lx.
-        let j =
-            (edges[1..edges.len() - 1].partition_point(|&e| e <= lx)).min(data.radius_au.len() - 1);
-        if j != last_column {
-            let bottom = data.row_edges(j, &mut tops);
-            let start = columns.len();
-            columns.resize(start + h, empty);
-            let mut k = 0;
-            for p in (0..h).rev() {
-                let zr = data.z_over_r_max * (1.0 - (p as f64 + 0.5) / h as f64);
-                while k < data.rows && zr > tops[k] {
-                    k += 1;
-                }
-                columns[start + p] = if k >= data.rows || zr < bottom {
-                    empty
-                } else {
-                    colours[j * data.rows + k]
-                };
+        let j = inner_edges
+            .partition_point(|&e| e <= lx)
+            .min(data.radius_au.len() - 1);
+        if j == last_column {
+            if let Some(run) = runs.last_mut() {
+                run.1 = i + 1;
             }
-            last_column = j;
+            continue;
         }
-        column_of_x.push(columns.len() - h);
+        let bottom = data.row_edges(j, &mut tops);
+        let start = columns.len();
+        columns.resize(start + h, empty);
+        let cells = &colours[j * data.rows..(j + 1) * data.rows];
+        let pixels = &mut columns[start..];
+        let mut k = 0;
+        for (pixel, &zr) in pixels.iter_mut().zip(&z_of_row).rev() {
+            while k < data.rows && zr > tops[k] {
+                k += 1;
+            }
+            if k < data.rows && zr >= bottom {
+                *pixel = u32::from_ne_bytes(cells[k]);
+            }
+        }
+        runs.push((i, i + 1, start));
+        last_column = j;
     }
-    for (p, row) in rgba.chunks_exact_mut(w * 4).enumerate() {
-        for (pixel, &start) in row.chunks_exact_mut(4).zip(&column_of_x) {
-            pixel.copy_from_slice(&columns[start + p]);
+    let fill = |px: &mut [u8], c: u32| {
+        let bytes = c.to_ne_bytes();
+        for q in px.chunks_exact_mut(4) {
+            q.copy_from_slice(&bytes);
+        }
+    };
+    let stride = w * 4;
+    for &(x0, x1, start) in &runs {
+        fill(&mut rgba[x0 * 4..x1 * 4], columns[start]);
+    }
+    for p in 1..h {
+        let (above, rest) = rgba.split_at_mut(p * stride);
+        let row = &mut rest[..stride];
+        row.copy_from_slice(&above[(p - 1) * stride..]);
+        for &(x0, x1, start) in &runs {
+            let c = columns[start + p];
+            if c != columns[start + p - 1] {
+                fill(&mut row[x0 * 4..x1 * 4], c);
+            }
         }
     }
     RasterImage {
@@ -501,6 +524,96 @@ fn raster_from_colours(
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    /// The map's values come from the core's bulk query (`Model::gas_c_to_o_samples`):
+    /// bit for bit what the per-sample path `ratios(&phases_at(k))` gives, NaN where undefined,
+    /// for the default disk and a brighter star with other ice parameters.
+    #[test]
+    fn the_gas_c_to_o_map_equals_the_per_sample_ratios() {
+        let mut p = nivalis_physics::ModelParameters::defaults();
+        p.grid.radial_cells = 60;
+        p.grid.vertical_cells = 20;
+        let mut other = p.clone();
+        other.star.luminosity_lsun = 5.0;
+        other.ices.sticking = 0.3;
+        other.ices.photodesorption = false;
+        for params in [p, other] {
+            let model = Model::run(&params).unwrap();
+            let map = MapData::gas_c_to_o(&model);
+            assert_eq!(map.values.len(), model.sample_count());
+            let mut undefined = 0;
+            for (k, v) in map.values.iter().enumerate() {
+                let expected = model
+                    .ratios(&model.phases_at(k))
+                    .c_to_o_gas
+                    .unwrap_or(f64::NAN);
+                assert_eq!(v.to_bits(), expected.to_bits(), "sample {k}");
+                undefined += usize::from(v.is_nan());
+            }
+            assert!(undefined < map.values.len());
+        }
+    }
+
+    /// The raster as first written (per pixel, each pixel looked up in its
+    /// column): the reference the faster `raster_from_colours` must equal.
+    fn reference_raster(
+        data: &MapData,
+        colours: &[[u8; 4]],
+        empty: [u8; 4],
+        width: u32,
+        height: u32,
+    ) -> Vec<u8> {
+        let (w, h) = (width as usize, height as usize);
+        let mut rgba = vec![0u8; w * h * 4];
+        let edges = data.column_edges_log();
+        let (lx0, lx1) = (edges[0], edges[edges.len() - 1]);
+        let mut tops = Vec::new();
+        for i in 0..w {
+            let lx = lx0 + (i as f64 + 0.5) / w as f64 * (lx1 - lx0);
+            let j = (edges[1..edges.len() - 1].partition_point(|&e| e <= lx))
+                .min(data.radius_au.len() - 1);
+            let bottom = data.row_edges(j, &mut tops);
+            for p in 0..h {
+                let zr = data.z_over_r_max * (1.0 - (p as f64 + 0.5) / h as f64);
+                let k = tops.iter().take_while(|&&t| zr > t).count();
+                let c = if k >= data.rows || zr < bottom {
+                    empty
+                } else {
+                    colours[j * data.rows + k]
+                };
+                let at = (p * w + i) * 4;
+                rgba[at..at + 4].copy_from_slice(&c);
+            }
+        }
+        rgba
+    }
+
+    /// The run-and-row raster equals the per-pixel reference for the model's maps at
+    /// several sizes (fewer and more pixels than cells) and for the small test map.
+    #[test]
+    fn the_raster_equals_the_per_pixel_reference() {
+        let mut p = nivalis_physics::ModelParameters::defaults();
+        p.grid.radial_cells = 60;
+        p.grid.vertical_cells = 20;
+        let model = Model::run(&p).unwrap();
+        let theme = Theme::light();
+        for data in [
+            small_map(),
+            MapData::ice_fraction(&model, Species::CO),
+            MapData::gas_c_to_o(&model),
+        ] {
+            let colours = data.cell_colours(theme.undefined);
+            for (w, h) in [(1, 1), (7, 300), (45, 33), (560, 330), (1000, 90)] {
+                let fast = raster_from_colours(&data, &colours, [1, 2, 3, 4], w, h);
+                assert_eq!(
+                    fast.rgba,
+                    reference_raster(&data, &colours, [1, 2, 3, 4], w, h),
+                    "{} at {w} x {h}",
+                    data.value_label
+                );
+            }
+        }
+    }
 
     fn small_map() -> MapData {
         // Two columns at 1 and 10 au, three samples each at z/r = 0, 0.1, 0.2;

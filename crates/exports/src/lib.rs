@@ -6,7 +6,8 @@
 //! snowline listings ([`snowlines`]); the methods used with their references
 //! ([`methods`]); the provenance every file carries ([`provenance`]); and the
 //! planet tools' requests, views, exports and methods text ([`planet_tools`]);
-//! the names of the exports and what each writes ([`kinds`]).
+//! the names of the exports and what each writes ([`kinds`]); the page's
+//! snowline table and result summary ([`page_tables`]).
 
 pub mod bibtex;
 pub mod evolution;
@@ -16,6 +17,7 @@ pub mod figures;
 pub mod formats;
 pub mod kinds;
 pub mod methods;
+pub mod page_tables;
 pub mod planet;
 pub mod planet_tools;
 pub mod provenance;

@@ -88,7 +88,7 @@ impl Composition {
     }
 
     /// The carriers of cell `j` (the per-cell totals in place of the uniform ones).
-    fn carriers_in_cell(&self, j: usize) -> std::borrow::Cow<'_, Carriers> {
+    pub(crate) fn carriers_in_cell(&self, j: usize) -> std::borrow::Cow<'_, Carriers> {
         match &self.per_cell {
             None => std::borrow::Cow::Borrowed(&self.carriers),
             Some(cells) => {

@@ -311,6 +311,30 @@ impl Model {
         Ratios::of(ph, self.stellar_per_h())
     }
 
+    /// Gas C/O (number ratio) in every sample, flat sample index as
+    /// [`Model::phases_at`], NaN where it is undefined (docs/model.md section 8):
+    /// `self.ratios(&self.phases_at(k)).c_to_o_gas` for every `k`, bit for bit,
+    /// in one pass that reads each species' ice fractions as one slice and looks
+    /// the carriers up once per column (the page's gas C/O map).
+    pub fn gas_c_to_o_samples(&self) -> Vec<f64> {
+        let st = &self.structure;
+        let rows = st.samples_per_column;
+        let fractions: [&[f64]; SPECIES_COUNT] =
+            std::array::from_fn(|i| self.ices.ice_fraction(Species::ALL[i]));
+        let stellar = self.stellar_per_h();
+        let mut out = Vec::with_capacity(self.sample_count());
+        for j in 0..st.radial_cells {
+            let carriers = self.composition.carriers_in_cell(j);
+            let radius_cm = st.radius_cm[j];
+            let column = st.samples.temperature_k.iter().enumerate();
+            for (k, &temperature_k) in column.skip(j * rows).take(rows) {
+                let ph = carriers.phases(temperature_k, radius_cm, |i| fractions[i][k]);
+                out.push(Ratios::of(&ph, stellar).c_to_o_gas.unwrap_or(f64::NAN));
+            }
+        }
+        out
+    }
+
     /// The midplane (z = 0) radial profile.
     pub fn midplane_profile(&self) -> MidplaneProfile {
         let st = &self.structure;

@@ -4,8 +4,9 @@
 //! few canvas calls ([`replay`]). For r-z maps the cells are ONE
 //! `putImageData` of the RGBA buffer the charts crate rasterised (per-cell
 //! canvas calls would be far too slow), with the axes, lines and colour bar on
-//! top. The chi-square map still draws through the `plotters-canvas` back end
-//! ([`MeasuredCanvas`], with `crate::raster` for its cells).
+//! top. The chi-square map is recorded and replayed the same way
+//! ([`record_chi2`]: its background and cells as one image). The evolution
+//! views draw through the `plotters-canvas` back end ([`MeasuredCanvas`]).
 //!
 //! Text is measured with the canvas's own `measureText` ([`MeasuredCanvas`]):
 //! plotters' default for the web measures each label by adding a `<span>` to
@@ -13,8 +14,9 @@
 //! per label and made drawing about ten times slower than everything else.
 
 use nivalis_charts::{
-    draw_abundance_profiles, draw_c_to_o_map, draw_c_to_o_profile, draw_ice_map,
-    draw_temperature_profile, map_layout, rasterise_map_over, CellDrawing, ChartLayout, Theme,
+    draw_abundance_profiles, draw_c_to_o_map, draw_c_to_o_profile, draw_chi2_map, draw_ice_map,
+    draw_temperature_profile, map_layout, rasterise_map_over, CellDrawing, ChartLayout, Chi2Data,
+    Theme,
 };
 use std::cell::RefCell;
 use std::collections::HashMap;
@@ -27,7 +29,9 @@ use plotters_canvas::CanvasBackend;
 use wasm_bindgen::{Clamped, JsCast};
 use web_sys::{CanvasRenderingContext2d, HtmlCanvasElement, ImageData};
 
-use crate::display::{css_font, run_length, Colour, MeasureText, Op, Recorder, TextSizes};
+use crate::display::{
+    css_font, leading_rects_as_image, run_length, Colour, MeasureText, Op, Recorder, TextSizes,
+};
 use crate::readout::ViewData;
 
 /// The canvas element with this id.
@@ -56,13 +60,17 @@ fn context(canvas: &HtmlCanvasElement) -> Result<CanvasRenderingContext2d, Strin
 /// canvas call except measuring text not measured before) and returns the
 /// display list with the chart's layout. A map's cells come first, as ONE image
 /// rasterised by the charts crate; its axes, lines and colour bar follow.
+/// `raster_ms` receives the milliseconds spent rasterising a map's cells (0 for
+/// other views), for `Explorer.drawTimings`.
 pub fn record(
     size: (u32, u32),
     data: &ViewData,
     theme: &Theme,
     pixels_per_point: f64,
     measure: &dyn MeasureText,
+    raster_ms: &mut f64,
 ) -> Result<(Vec<Op>, ChartLayout), String> {
+    *raster_ms = 0.0;
     let ops = RefCell::new(Vec::new());
     let recorder = Recorder::new(size, &ops, measure);
     let area = recorder.into_drawing_area();
@@ -76,8 +84,10 @@ pub fn record(
             let main = layout.main();
             // Pixels above a column's top are composited over the background
             // (putImageData copies alpha rather than blending).
+            let t0 = crate::explorer::now_ms();
             let image = rasterise_map_over(d, theme, theme.background, main.width, main.height)
                 .map_err(|e| e.to_string())?;
+            *raster_ms = crate::explorer::now_ms() - t0;
             ops.borrow_mut().push(Op::Image {
                 at: (main.left, main.top),
                 width: image.width,
@@ -95,6 +105,25 @@ pub fn record(
     area.present().map_err(|e| e.to_string())?;
     drop(area);
     Ok((ops.into_inner(), layout))
+}
+
+/// Records the chi-square map of `data` as [`record`] records a view: its
+/// background and cells become ONE image ([`leading_rects_as_image`]), its
+/// lines, axes, colour bar and legend follow.
+pub fn record_chi2(
+    size: (u32, u32),
+    data: &Chi2Data,
+    theme: &Theme,
+    pixels_per_point: f64,
+    measure: &dyn MeasureText,
+) -> Result<(Vec<Op>, ChartLayout), String> {
+    let ops = RefCell::new(Vec::new());
+    let recorder = Recorder::new(size, &ops, measure);
+    let area = recorder.into_drawing_area();
+    let layout = draw_chi2_map(&area, data, theme, pixels_per_point).map_err(|e| e.to_string())?;
+    area.present().map_err(|e| e.to_string())?;
+    drop(area);
+    Ok((leading_rects_as_image(ops.into_inner(), size), layout))
 }
 
 /// The canvas's 2D context, for [`replay`].

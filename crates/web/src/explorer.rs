@@ -66,14 +66,14 @@ pub struct Explorer {
     /// Per canvas id: how many times it was actually drawn (`drawCount`).
     draw_counts: HashMap<String, u32>,
     /// Per canvas id: the milliseconds of the last `draw`'s steps (`drawTimings`, for the benchmark).
-    draw_timings: HashMap<String, [f64; 3]>,
+    draw_timings: HashMap<String, [f64; 4]>,
     /// Per canvas id: a canvas never shown, which a map's cells are put on before one
     /// `drawImage` onto the shown canvas (see `canvas::replay`).
     scratch: HashMap<String, web_sys::HtmlCanvasElement>,
 }
 
 /// `performance.now()` [ms], or 0 where there is none.
-fn now_ms() -> f64 {
+pub(crate) fn now_ms() -> f64 {
     let global = js_sys::global();
     js_sys::Reflect::get(&global, &JsValue::from_str("performance"))
         .ok()
@@ -286,14 +286,22 @@ impl Explorer {
             let layout = previous.map(|d| d.layout.clone()).expect("checked above");
             self.layouts.insert(canvas_id.to_string(), (key, layout));
             self.draw_timings
-                .insert(canvas_id.to_string(), [now_ms() - t0, 0.0, 0.0]);
+                .insert(canvas_id.to_string(), [now_ms() - t0, 0.0, 0.0, 0.0]);
             return Ok(false);
         }
         let t1 = now_ms();
         let measure =
             canvas::CanvasMeasure::new(&canvas, &self.text_sizes).map_err(|e| JsError::new(&e))?;
-        let (ops, layout) = canvas::record(size, data, &theme, pixels_per_point, &measure)
-            .map_err(|e| JsError::new(&e))?;
+        let mut raster_ms = 0.0;
+        let (ops, layout) = canvas::record(
+            size,
+            data,
+            &theme,
+            pixels_per_point,
+            &measure,
+            &mut raster_ms,
+        )
+        .map_err(|e| JsError::new(&e))?;
         let unchanged = previous.is_some_and(|d| d.ops == ops);
         let t2 = now_ms();
         if !unchanged {
@@ -307,8 +315,10 @@ impl Explorer {
             canvas::replay(&context, &ops, scratch).map_err(|e| JsError::new(&e))?;
             *self.draw_counts.entry(canvas_id.to_string()).or_default() += 1;
         }
-        self.draw_timings
-            .insert(canvas_id.to_string(), [t1 - t0, t2 - t1, now_ms() - t2]);
+        self.draw_timings.insert(
+            canvas_id.to_string(),
+            [t1 - t0, t2 - t1, now_ms() - t2, raster_ms],
+        );
         self.layouts
             .insert(canvas_id.to_string(), (key.clone(), layout.clone()));
         self.drawn.insert(
@@ -334,8 +344,9 @@ impl Explorer {
     }
 
     /// The last `draw` of the canvas `canvas_id`, in milliseconds, for the benchmark:
-    /// `[data, record, replay]` = building the view's data (and comparing it with what
-    /// the canvas shows), recording the chart's display list, drawing it on the canvas.
+    /// `[data, record, replay, raster]` = building the view's data (and comparing it with
+    /// what the canvas shows), recording the chart's display list, drawing it on the
+    /// canvas, and the part of `record` spent rasterising a map's cells.
     #[wasm_bindgen(js_name = drawTimings)]
     pub fn draw_timings(&self, canvas_id: &str) -> Vec<f64> {
         self.draw_timings

@@ -9,9 +9,9 @@
 //! builds the exports with `nivalis-exports` (byte-identical to the CLI's).
 //! It does no physics of its own.
 //!
-//! Modules: [`session`] (plain Rust, tested natively: state, snowline table,
-//! exports), [`readout`] (plain Rust: the value under the pointer, looked up
-//! in the charts' input data), [`planet`] (plain Rust: the planet panel's
+//! Modules: [`session`] (plain Rust, tested natively: state; the snowline
+//! table, summary and exports come from `nivalis-exports`), [`readout`]
+//! (re-exports `nivalis_charts::readout`: the value under the pointer), [`planet`] (plain Rust: the planet panel's
 //! forward model, inverse map, anchor and their exports), [`figures`] (plain
 //! Rust: SVG/PNG files identical to `nivalis figure`), and, on wasm32 only,
 //! `canvas` (plotters-canvas drawing and the one `putImageData` per map), the
@@ -42,5 +42,3 @@ pub use explorer::Explorer;
 mod fields_js;
 #[cfg(target_arch = "wasm32")]
 mod planet_js;
-#[cfg(target_arch = "wasm32")]
-mod raster;

@@ -8,10 +8,12 @@
 //! on the page; a result computed in the page's Web Worker (very large grids)
 //! only has the views' data here, and the tools say so.
 
-use nivalis_charts::{draw_chi2_map, Chi2Data, Figure, Theme};
+use std::cell::RefCell;
+use std::collections::HashMap;
+
+use nivalis_charts::{Chi2Data, Figure, Theme};
 use nivalis_disk_files::{from_value, to_value, DiskFile, Problem};
 use nivalis_exports::Provenance;
-use plotters::prelude::IntoDrawingArea;
 use serde::Serialize;
 use serde_json::{json, Value};
 use wasm_bindgen::prelude::*;
@@ -20,9 +22,6 @@ use crate::canvas;
 use crate::explorer::{Explorer, CSS_PX_PER_POINT};
 use crate::figures::{figure_file, figure_of, FigureOptions};
 use crate::planet::{self, PlanetExport};
-use crate::raster::LeadingRects;
-use crate::readout::format_sig;
-use wasm_bindgen::JsCast;
 
 /// The message when the planet tools have no model on the page.
 const NO_MODEL: &str = "the planet tools need the model on this page, but this grid was computed in the background; use a grid of at most about twice the default size, or the command-line tool (nivalis planet / fit)";
@@ -193,19 +192,17 @@ impl Explorer {
             .filter(|r| r.is_finite() && *r > 0.0)
             .unwrap_or(1.0);
         let canvas = canvas::canvas_by_id(canvas_id).map_err(|e| JsError::new(&e))?;
-        let context = canvas
-            .get_context("2d")
-            .ok()
-            .flatten()
-            .and_then(|c| c.dyn_into::<web_sys::CanvasRenderingContext2d>().ok())
-            .ok_or_else(|| JsError::new("the canvas has no 2d context"))?;
-        // The map's cells as one image (see raster.rs), the rest drawn as usual.
-        let measured = canvas::MeasuredCanvas::new(&canvas).map_err(|e| JsError::new(&e))?;
-        let area = LeadingRects::new(measured, context).into_drawing_area();
+        let size = (canvas.width(), canvas.height());
+        // Recorded and replayed as the views are: the background and cells as one image.
+        let sizes = RefCell::new(HashMap::new());
+        let measure = canvas::CanvasMeasure::new(&canvas, &sizes).map_err(|e| JsError::new(&e))?;
         let data = Chi2Data::from_map(&f.map);
-        let layout = draw_chi2_map(&area, &data, &theme, CSS_PX_PER_POINT * ratio)
-            .map_err(|e| JsError::new(&e.to_string()))?;
-        area.present().map_err(|e| JsError::new(&e.to_string()))?;
+        let (ops, layout) =
+            canvas::record_chi2(size, &data, &theme, CSS_PX_PER_POINT * ratio, &measure)
+                .map_err(|e| JsError::new(&e))?;
+        let context = canvas::context_of(&canvas).map_err(|e| JsError::new(&e))?;
+        let scratch = canvas::scratch_canvas().map_err(|e| JsError::new(&e))?;
+        canvas::replay(&context, &ops, &scratch).map_err(|e| JsError::new(&e))?;
         self.layouts
             .insert(canvas_id.to_string(), ("chi2_map".to_string(), layout));
         Ok(())
@@ -216,36 +213,7 @@ impl Explorer {
     pub fn chi2_readout(&self, canvas_id: &str, x: f64, y: f64) -> Option<String> {
         let (key, layout) = self.layouts.get(canvas_id)?;
         let f = self.planet.fitted.as_ref().filter(|_| key == "chi2_map")?;
-        let (panel, r, q) = layout.panel_at(x, y)?;
-        if panel.name == "colour_bar" {
-            return Some(format!(
-                "colour bar: {} {}",
-                panel.y.label,
-                format_sig(q, 3)
-            ));
-        }
-        let m = &f.map;
-        let j = crate::readout::nearest_radius(&m.radius_au, r)?;
-        let k = crate::readout::nearest_radius(&m.solid_to_gas, q)?;
-        let row = &m.rows[j * m.solid_to_gas.len() + k];
-        let value =
-            |v: Option<f64>| v.map_or_else(|| "undefined".to_string(), |v| format_sig(v, 3));
-        let region = if row.within_1sigma {
-            "inside 1σ"
-        } else if row.within_2sigma {
-            "inside 2σ"
-        } else {
-            "outside 2σ"
-        };
-        Some(format!(
-            "r = {} au, solid-to-gas {}: envelope C/O {}, [C/H] {}, [O/H] {}; Δχ² {} ({region})",
-            format_sig(row.radius_au, 3),
-            format_sig(row.solid_to_gas, 2),
-            value(row.c_to_o),
-            value(row.c_to_h_dex),
-            value(row.o_to_h_dex),
-            value(row.delta_chi2)
-        ))
+        nivalis_charts::readout::chi2_readout(&f.map, layout, x, y)
     }
 
     /// The radius [au] under backend pixel (`x`, `y`) of a drawn profile

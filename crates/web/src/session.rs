@@ -8,9 +8,7 @@
 
 use nivalis_disk_files::{from_value, to_value, DiskFile, Problem};
 use nivalis_physics::species::SpeciesTable;
-use nivalis_physics::structure::interpolate_in_ln_r;
-use nivalis_physics::units::AU_CM;
-use nivalis_physics::{rerun, BindingEnergySet, Model, PhysicsError, Rerun, Species};
+use nivalis_physics::{rerun, BindingEnergySet, Model, PhysicsError, Rerun};
 use serde_json::{json, Value};
 
 /// A validated disk with its computed model.
@@ -95,79 +93,18 @@ impl Session {
         Some(nivalis_exports::export_text(what, &c.file, &c.model))
     }
 
-    /// The snowline table: per species, every midplane snowline (radius, direction
-    /// and the model's midplane temperature there) and the condensation
-    /// temperature of the step model (the resolved value, override or built-in).
-    /// A species without any crossing says whether its midplane is all ice or all gas.
+    /// The snowline table (`nivalis_exports::page_tables::snowline_table`): per
+    /// species, every midplane snowline with its direction and midplane temperature.
     pub fn snowline_table(&self) -> Option<Value> {
         let c = self.current.as_ref()?;
-        let model = &c.model;
-        let inner_ice = |s: Species| {
-            model
-                .midplane_ice_fraction(s)
-                .first()
-                .copied()
-                .unwrap_or(0.0)
-        };
-        let rows: Vec<Value> = Species::ALL
-            .iter()
-            .map(|&s| {
-                let lines: Vec<Value> = model
-                    .snowlines(s)
-                    .iter()
-                    .map(|line| {
-                        let radius_au = line.radius_cm / AU_CM;
-                        // The midplane temperature at the snowline, interpolated in ln r
-                        // between the grid cells as the snowline radius itself is (a
-                        // fresh column per snowline, `Model::midplane_at`, would cost
-                        // several milliseconds per redraw for no visible difference).
-                        let st = &model.structure();
-                        let temperature = Some(interpolate_in_ln_r(st.radius_cm(), st.midplane_temperature_k(), line.radius_cm)).filter(|t| t.is_finite());
-                        json!({
-                            "radius_au": radius_au,
-                            "direction": line.direction.key(),
-                            "midplane_temperature_k": temperature,
-                            "out_of_equilibrium": model.snowline_out_of_equilibrium(s, line),
-                        })
-                    })
-                    .collect();
-                let absent = !model.composition().is_present(s);
-                let everywhere = if absent {
-                    "absent"
-                } else if inner_ice(s) >= 0.5 {
-                    "ice_at_inner_edge"
-                } else {
-                    "gas_at_inner_edge"
-                };
-                json!({
-                    "species": s.key(),
-                    "formula": model.species_table().get(s).formula,
-                    "abundance_per_h": model.carriers().species_per_h[s.index()],
-                    "condensation_temperature_k": model.species_properties()[s.index()].condensation_temperature_k,
-                    "binding_energy_k": model.species_properties()[s.index()].binding_energy_k,
-                    "snowlines": lines,
-                    "inner_edge": everywhere,
-                })
-            })
-            .collect();
-        Some(Value::Array(rows))
+        Some(nivalis_exports::page_tables::snowline_table(&c.model))
     }
 
-    /// A short summary the page shows beside the views.
+    /// A short summary the page shows beside the views
+    /// (`nivalis_exports::page_tables::summary`).
     pub fn summary(&self) -> Option<Value> {
         let c = self.current.as_ref()?;
-        let st = &c.model.structure();
-        Some(json!({
-            "radial_cells": st.radial_cells(),
-            "vertical_cells": st.samples_per_column() - 1,
-            "samples": c.model.sample_count(),
-            "inner_radius_au": st.radius_cm().first().map(|r| r / AU_CM),
-            "outer_radius_au": st.radius_cm().last().map(|r| r / AU_CM),
-            "star_c_to_o": c.model.star_c_to_o(),
-            "stellar_radius_au": st.constants().stellar_radius_cm / AU_CM,
-            "name": c.file.name,
-            "notes": c.file.notes,
-        }))
+        Some(nivalis_exports::page_tables::summary(&c.file, &c.model))
     }
 }
 
