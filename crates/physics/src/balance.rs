@@ -372,8 +372,9 @@ fn clamp_unit(f: f64) -> f64 {
     }
 }
 
-/// How many places one [`SampleBlock`] holds.
-pub(crate) const BLOCK: usize = 64;
+/// How many places one [`SampleBlock`] holds: a multiple of [`LANE_GROUP`], large enough for a
+/// whole column of the default grid (81 samples) in one block.
+pub(crate) const BLOCK: usize = 96;
 
 /// The species-independent quantities of up to [`BLOCK`] places, one array per quantity, so
 /// that the loop over places for one species is vectorised.
@@ -786,7 +787,50 @@ impl BalanceConstants {
     /// Species `i` with `per_h` molecules per H over a block: every lane in one vectorised pass,
     /// then [`Branches::evolve`] for the lanes not provably settled. The numbers equal
     /// [`BalanceConstants::solve_aged`] with N = x n_H and 1/N = (1/x)(1/n_H), bit for bit.
+    ///
+    /// On x86-64 the same code is compiled a second and third time for AVX2 and AVX-512F (wider
+    /// vectors of the same IEEE operations, no fused multiply-add), chosen at run time by what
+    /// the processor has; every version gives the same bits (`tests/stages.rs`, the model
+    /// digest). WebAssembly and other targets use the portable version.
+    #[allow(unsafe_code)]
     pub(crate) fn solve_block(
+        &self,
+        i: usize,
+        per_h: f64,
+        block: &SampleBlock,
+        out: BlockOutput<'_>,
+    ) {
+        #[cfg(target_arch = "x86_64")]
+        {
+            if std::arch::is_x86_feature_detected!("avx512f") {
+                // SAFETY: the processor has AVX-512F, checked on the line above.
+                return unsafe { self.solve_block_avx512(i, per_h, block, out) };
+            }
+            if std::arch::is_x86_feature_detected!("avx2") {
+                // SAFETY: the processor has AVX2, checked on the line above.
+                return unsafe { self.solve_block_avx2(i, per_h, block, out) };
+            }
+        }
+        self.solve_block_portable(i, per_h, block, out)
+    }
+
+    /// [`BalanceConstants::solve_block`] compiled for AVX-512F.
+    #[cfg(target_arch = "x86_64")]
+    #[target_feature(enable = "avx512f")]
+    fn solve_block_avx512(&self, i: usize, per_h: f64, block: &SampleBlock, out: BlockOutput<'_>) {
+        self.solve_block_portable(i, per_h, block, out)
+    }
+
+    /// [`BalanceConstants::solve_block`] compiled for AVX2.
+    #[cfg(target_arch = "x86_64")]
+    #[target_feature(enable = "avx2")]
+    fn solve_block_avx2(&self, i: usize, per_h: f64, block: &SampleBlock, out: BlockOutput<'_>) {
+        self.solve_block_portable(i, per_h, block, out)
+    }
+
+    /// The body of [`BalanceConstants::solve_block`], inlined into each version.
+    #[inline(always)]
+    fn solve_block_portable(
         &self,
         i: usize,
         per_h: f64,
@@ -801,54 +845,88 @@ impl BalanceConstants {
             &mut out.equilibration_time_s[..len],
             &mut out.out_of_equilibrium[..len],
         );
-        if self.model == DesorptionModel::FixedTemperature {
+        if self.model != DesorptionModel::FixedTemperature {
+            // Every lane in whole vectors: the lanes past `len` (up to the next multiple of
+            // LANE_GROUP) hold another place of the block or zeros, are computed and dropped,
+            // so no lane of a place falls to a scalar remainder loop.
+            let padded = len.div_ceil(LANE_GROUP) * LANE_GROUP;
+            let mut lanes = LaneResults::new();
+            for q in 0..padded {
+                let (s, done) = self.lane(
+                    i,
+                    block.inverse_temperature[q],
+                    block.sqrt_temperature[q],
+                    block.grain_area[q],
+                    block.inverse_area_sqrt_temperature[q],
+                    block.monolayer[q],
+                    block.fuv_per_site[q],
+                    block.ionization_rate[q],
+                    per_h * block.hydrogen_density[q],
+                    inverse_per_h * block.inverse_hydrogen_density[q],
+                );
+                lanes.ice[q] = s.ice_fraction;
+                lanes.equilibrium[q] = s.equilibrium_ice_fraction;
+                lanes.time[q] = s.equilibration_time_s;
+                lanes.flag[q] = s.out_of_equilibrium;
+                lanes.settled[q] = done;
+            }
+            ice.copy_from_slice(&lanes.ice[..len]);
+            equilibrium.copy_from_slice(&lanes.equilibrium[..len]);
+            time.copy_from_slice(&lanes.time[..len]);
+            flag.copy_from_slice(&lanes.flag[..len]);
             for q in 0..len {
-                let s = self.step(&block.states[q], i);
-                ice[q] = s.ice_fraction;
-                equilibrium[q] = s.equilibrium_ice_fraction;
-                time[q] = s.equilibration_time_s;
-                flag[q] = s.out_of_equilibrium;
+                if !lanes.settled[q] {
+                    let state = AgedIceState {
+                        ice_fraction: ice[q],
+                        equilibrium_ice_fraction: equilibrium[q],
+                        equilibration_time_s: time[q],
+                        out_of_equilibrium: flag[q],
+                    };
+                    let s = self.unsettled(
+                        &block.states[q],
+                        i,
+                        per_h * block.hydrogen_density[q],
+                        inverse_per_h * block.inverse_hydrogen_density[q],
+                        state,
+                    );
+                    ice[q] = s.ice_fraction;
+                    flag[q] = s.out_of_equilibrium;
+                }
             }
             return;
         }
-        let mut settled = [true; BLOCK];
+        // The step model: no kinetics.
         for q in 0..len {
-            let (s, done) = self.lane(
-                i,
-                block.inverse_temperature[q],
-                block.sqrt_temperature[q],
-                block.grain_area[q],
-                block.inverse_area_sqrt_temperature[q],
-                block.monolayer[q],
-                block.fuv_per_site[q],
-                block.ionization_rate[q],
-                per_h * block.hydrogen_density[q],
-                inverse_per_h * block.inverse_hydrogen_density[q],
-            );
+            let s = self.step(&block.states[q], i);
             ice[q] = s.ice_fraction;
             equilibrium[q] = s.equilibrium_ice_fraction;
             time[q] = s.equilibration_time_s;
             flag[q] = s.out_of_equilibrium;
-            settled[q] = done;
         }
-        for q in 0..len {
-            if !settled[q] {
-                let state = AgedIceState {
-                    ice_fraction: ice[q],
-                    equilibrium_ice_fraction: equilibrium[q],
-                    equilibration_time_s: time[q],
-                    out_of_equilibrium: flag[q],
-                };
-                let s = self.unsettled(
-                    &block.states[q],
-                    i,
-                    per_h * block.hydrogen_density[q],
-                    inverse_per_h * block.inverse_hydrogen_density[q],
-                    state,
-                );
-                ice[q] = s.ice_fraction;
-                flag[q] = s.out_of_equilibrium;
-            }
+    }
+}
+
+/// How many lanes the block loop computes at once at most (8 doubles: one AVX-512 vector).
+const LANE_GROUP: usize = 8;
+
+/// The results of one species over a block, padded to whole lane groups.
+struct LaneResults {
+    ice: [f64; BLOCK],
+    equilibrium: [f64; BLOCK],
+    time: [f64; BLOCK],
+    flag: [bool; BLOCK],
+    settled: [bool; BLOCK],
+}
+
+impl LaneResults {
+    #[inline(always)]
+    fn new() -> LaneResults {
+        LaneResults {
+            ice: [0.0; BLOCK],
+            equilibrium: [0.0; BLOCK],
+            time: [0.0; BLOCK],
+            flag: [false; BLOCK],
+            settled: [true; BLOCK],
         }
     }
 }
