@@ -846,36 +846,73 @@ impl BalanceConstants {
             &mut out.out_of_equilibrium[..len],
         );
         if self.model != DesorptionModel::FixedTemperature {
-            // Every lane in whole vectors: the lanes past `len` (up to the next multiple of
-            // LANE_GROUP) hold another place of the block or zeros, are computed and dropped,
-            // so no lane of a place falls to a scalar remainder loop.
-            let padded = len.div_ceil(LANE_GROUP) * LANE_GROUP;
-            let mut lanes = LaneResults::new();
-            for q in 0..padded {
-                let (s, done) = self.lane(
-                    i,
-                    block.inverse_temperature[q],
-                    block.sqrt_temperature[q],
-                    block.grain_area[q],
-                    block.inverse_area_sqrt_temperature[q],
-                    block.monolayer[q],
-                    block.fuv_per_site[q],
-                    block.ionization_rate[q],
-                    per_h * block.hydrogen_density[q],
-                    inverse_per_h * block.inverse_hydrogen_density[q],
+            // Every lane in whole vectors: the whole groups of LANE_GROUP lanes straight into
+            // the output, then the last partial group computed whole (its lanes past `len` hold
+            // another place of the block or zeros, and are dropped), so no lane of a place falls
+            // to a scalar remainder loop.
+            let full = len / LANE_GROUP * LANE_GROUP;
+            let mut settled = [true; BLOCK];
+            {
+                let (ice, equilibrium, time, flag, settled) = (
+                    &mut ice[..full],
+                    &mut equilibrium[..full],
+                    &mut time[..full],
+                    &mut flag[..full],
+                    &mut settled[..full],
                 );
-                lanes.ice[q] = s.ice_fraction;
-                lanes.equilibrium[q] = s.equilibrium_ice_fraction;
-                lanes.time[q] = s.equilibration_time_s;
-                lanes.flag[q] = s.out_of_equilibrium;
-                lanes.settled[q] = done;
+                for q in 0..full {
+                    let (s, done) = self.lane(
+                        i,
+                        block.inverse_temperature[q],
+                        block.sqrt_temperature[q],
+                        block.grain_area[q],
+                        block.inverse_area_sqrt_temperature[q],
+                        block.monolayer[q],
+                        block.fuv_per_site[q],
+                        block.ionization_rate[q],
+                        per_h * block.hydrogen_density[q],
+                        inverse_per_h * block.inverse_hydrogen_density[q],
+                    );
+                    ice[q] = s.ice_fraction;
+                    equilibrium[q] = s.equilibrium_ice_fraction;
+                    time[q] = s.equilibration_time_s;
+                    flag[q] = s.out_of_equilibrium;
+                    settled[q] = done;
+                }
             }
-            ice.copy_from_slice(&lanes.ice[..len]);
-            equilibrium.copy_from_slice(&lanes.equilibrium[..len]);
-            time.copy_from_slice(&lanes.time[..len]);
-            flag.copy_from_slice(&lanes.flag[..len]);
+            if full < len {
+                let mut lanes = LaneGroup::new();
+                for k in 0..LANE_GROUP {
+                    // full + k < BLOCK: BLOCK is a multiple of LANE_GROUP.
+                    let q = full + k;
+                    let (s, done) = self.lane(
+                        i,
+                        block.inverse_temperature[q],
+                        block.sqrt_temperature[q],
+                        block.grain_area[q],
+                        block.inverse_area_sqrt_temperature[q],
+                        block.monolayer[q],
+                        block.fuv_per_site[q],
+                        block.ionization_rate[q],
+                        per_h * block.hydrogen_density[q],
+                        inverse_per_h * block.inverse_hydrogen_density[q],
+                    );
+                    lanes.ice[k] = s.ice_fraction;
+                    lanes.equilibrium[k] = s.equilibrium_ice_fraction;
+                    lanes.time[k] = s.equilibration_time_s;
+                    lanes.flag[k] = s.out_of_equilibrium;
+                    lanes.settled[k] = done;
+                }
+                for k in 0..len - full {
+                    ice[full + k] = lanes.ice[k];
+                    equilibrium[full + k] = lanes.equilibrium[k];
+                    time[full + k] = lanes.time[k];
+                    flag[full + k] = lanes.flag[k];
+                    settled[full + k] = lanes.settled[k];
+                }
+            }
             for q in 0..len {
-                if !lanes.settled[q] {
+                if !settled[q] {
                     let state = AgedIceState {
                         ice_fraction: ice[q],
                         equilibrium_ice_fraction: equilibrium[q],
@@ -909,24 +946,24 @@ impl BalanceConstants {
 /// How many lanes the block loop computes at once at most (8 doubles: one AVX-512 vector).
 const LANE_GROUP: usize = 8;
 
-/// The results of one species over a block, padded to whole lane groups.
-struct LaneResults {
-    ice: [f64; BLOCK],
-    equilibrium: [f64; BLOCK],
-    time: [f64; BLOCK],
-    flag: [bool; BLOCK],
-    settled: [bool; BLOCK],
+/// The results of one group of lanes.
+struct LaneGroup {
+    ice: [f64; LANE_GROUP],
+    equilibrium: [f64; LANE_GROUP],
+    time: [f64; LANE_GROUP],
+    flag: [bool; LANE_GROUP],
+    settled: [bool; LANE_GROUP],
 }
 
-impl LaneResults {
+impl LaneGroup {
     #[inline(always)]
-    fn new() -> LaneResults {
-        LaneResults {
-            ice: [0.0; BLOCK],
-            equilibrium: [0.0; BLOCK],
-            time: [0.0; BLOCK],
-            flag: [false; BLOCK],
-            settled: [true; BLOCK],
+    fn new() -> LaneGroup {
+        LaneGroup {
+            ice: [0.0; LANE_GROUP],
+            equilibrium: [0.0; LANE_GROUP],
+            time: [0.0; LANE_GROUP],
+            flag: [false; LANE_GROUP],
+            settled: [true; LANE_GROUP],
         }
     }
 }
