@@ -903,6 +903,8 @@ impl BalanceConstants {
                     lanes.flag[k] = s.out_of_equilibrium;
                     lanes.settled[k] = done;
                 }
+                // At most 7 values each: a loop, not a call to memcpy.
+                #[allow(clippy::manual_memcpy)]
                 for k in 0..len - full {
                     ice[full + k] = lanes.ice[k];
                     equilibrium[full + k] = lanes.equilibrium[k];
