@@ -882,9 +882,11 @@ impl BalanceConstants {
             }
             if full < len {
                 let mut lanes = LaneGroup::new();
+                // full <= BLOCK - LANE_GROUP (BLOCK is a multiple of LANE_GROUP and full < len <=
+                // BLOCK): the `min` changes nothing but lets the compiler drop the bounds checks.
+                let base = full.min(BLOCK - LANE_GROUP);
                 for k in 0..LANE_GROUP {
-                    // full + k < BLOCK: BLOCK is a multiple of LANE_GROUP.
-                    let q = full + k;
+                    let q = base + k;
                     let (s, done) = self.lane(
                         i,
                         block.inverse_temperature[q],
