@@ -882,6 +882,8 @@ struct FineGrid {
     integrand: Vec<f64>,
     rho: Vec<f64>,
     above: Vec<f64>,
+    /// The trapezoid terms 0.5 (y_i + y_(i+1)) dz of the quantity being integrated.
+    term: Vec<f64>,
 }
 
 /// [`column`] written into `out` at samples `base..base + N_z + 1`, with scratch `fine`. The
@@ -969,31 +971,39 @@ fn fill_column_portable(args: ColumnArgs<'_>, fine: &mut FineGrid, out: &mut Col
         // (mu m_H / (k T)) G M z / (r^2 + z^2)^(3/2), with one division.
         *g = gravity * z / (t * (s * sqrt(s)));
     }
-    // The trapezoid integral from the midplane, held (negated) in `above` for now.
+    // The trapezoid integral from the midplane, held (negated) in `above` for now. Each
+    // running sum below first forms its terms 0.5 (y_i + y_(i+1)) dz in a pass that vectorises,
+    // then adds them in order with the sum held in a register: the same additions in the same
+    // order as summing term by term.
+    trapezoid_terms(&mut fine.term, &fine.integrand, dz);
     let mut integral = 0.0;
     fine.above[0] = 0.0;
-    for i in 1..points {
-        integral += 0.5 * (fine.integrand[i - 1] + fine.integrand[i]) * dz;
-        fine.above[i] = -integral;
+    for (a, &t) in fine.above[1..].iter_mut().zip(&fine.term) {
+        integral += t;
+        *a = -integral;
     }
     for ((r, &t), &minus_integral) in fine.rho.iter_mut().zip(&fine.temperature).zip(&fine.above) {
         *r = t_mid / t * exp_poly(minus_integral);
     }
     // Normalise: 2 * trapz(rho) = Sigma.
-    let rho = &mut fine.rho;
+    trapezoid_terms(&mut fine.term, &fine.rho, dz);
     let mut half = 0.0;
-    for i in 0..n_fine {
-        half += 0.5 * (rho[i] + rho[i + 1]) * dz;
+    for &t in &fine.term {
+        half += t;
     }
     let scale = sigma_g_cm2 / (2.0 * half);
-    for r in rho.iter_mut() {
+    for r in fine.rho.iter_mut() {
         *r *= scale;
     }
     // Column above each fine point, from the top down.
+    trapezoid_terms(&mut fine.term, &fine.rho, dz);
+    let rho = &fine.rho;
     let above = &mut fine.above;
     above[n_fine] = 0.0;
-    for i in (0..n_fine).rev() {
-        above[i] = above[i + 1] + 0.5 * (rho[i] + rho[i + 1]) * dz;
+    let mut sum = 0.0;
+    for (a, &t) in above[..n_fine].iter_mut().zip(&fine.term).rev() {
+        sum += t;
+        *a = sum;
     }
 
     let samples = n_z + 1;
@@ -1031,6 +1041,16 @@ fn fill_column_portable(args: ColumnArgs<'_>, fine: &mut FineGrid, out: &mut Col
             * (g_star * exp_poly(-2.0 * av / flaring_angle)
                 + c.interstellar_fuv_habing * exp_poly(-2.0 * av))
             + 1.0e4 * zeta / REFERENCE_COSMIC_RAY_RATE_S;
+    }
+}
+
+/// The trapezoid terms 0.5 (y_i + y_(i+1)) dz, i = 0 .. len(y) - 2, into `term`.
+#[inline(always)]
+fn trapezoid_terms(term: &mut Vec<f64>, y: &[f64], dz: f64) {
+    let n = y.len().saturating_sub(1);
+    term.resize(n, 0.0);
+    for ((t, &a), &b) in term.iter_mut().zip(&y[..n]).zip(&y[1..]) {
+        *t = 0.5 * (a + b) * dz;
     }
 }
 
