@@ -1124,4 +1124,102 @@ mod tests {
             );
         }
     }
+
+    /// The AVX2 and AVX-512F versions of the block loop give the portable version's bits, over
+    /// whole grids of disks that reach every branch (derived, D). Versions the processor lacks
+    /// are skipped; the portable one is what WebAssembly runs.
+    #[cfg(target_arch = "x86_64")]
+    #[test]
+    #[allow(unsafe_code)]
+    fn vector_versions_of_the_block_loop_give_the_same_bits() {
+        use crate::params::{DesorptionModel, InitialIceState};
+        use crate::{Model, ModelParameters};
+        let avx2 = std::arch::is_x86_feature_detected!("avx2");
+        let avx512 = std::arch::is_x86_feature_detected!("avx512f");
+        let mut configs = Vec::new();
+        for (desorption, initial, age_myr) in [
+            (
+                DesorptionModel::ZerothOrder,
+                InitialIceState::Inherited,
+                1.0,
+            ),
+            (DesorptionModel::ZerothOrder, InitialIceState::Gas, 0.01),
+            (
+                DesorptionModel::FirstOrder,
+                InitialIceState::Equilibrium,
+                1.0,
+            ),
+            (
+                DesorptionModel::FixedTemperature,
+                InitialIceState::Inherited,
+                1.0,
+            ),
+        ] {
+            let mut p = ModelParameters::defaults();
+            p.grid.radial_cells = 40;
+            p.grid.vertical_cells = 45;
+            p.ices.desorption = desorption;
+            p.ices.initial_state = initial;
+            p.disk.age_myr = age_myr;
+            configs.push(p);
+        }
+        let mut compared = 0usize;
+        for p in &configs {
+            let model = Model::run(p).unwrap();
+            let balance = BalanceConstants::new(p, model.species_properties());
+            let (st, s) = (model.structure(), model.structure().samples());
+            let spc = st.samples_per_column;
+            let mut block = SampleBlock::new();
+            for j in 0..st.radial_cells {
+                let totals = model.composition().species_per_h_in_cell(j);
+                let mut start = j * spc;
+                while start < (j + 1) * spc {
+                    let stop = (start + BLOCK).min((j + 1) * spc);
+                    let r = start..stop;
+                    balance.fill_block(
+                        &mut block,
+                        &s.temperature_k[r.clone()],
+                        &s.density_g_cm3[r.clone()],
+                        &s.fuv_photon_flux_cm2_s[r.clone()],
+                        &s.ionization_rate_s[r.clone()],
+                        &s.hydrogen_density_cm3[r],
+                    );
+                    let n = stop - start;
+                    for (i, &per_h) in totals.iter().enumerate() {
+                        let run = |version: u8| {
+                            let (mut f, mut e, mut t) = (vec![0.0; n], vec![0.0; n], vec![0.0; n]);
+                            let mut o = vec![false; n];
+                            let out = BlockOutput {
+                                ice_fraction: &mut f,
+                                equilibrium_ice_fraction: &mut e,
+                                equilibration_time_s: &mut t,
+                                out_of_equilibrium: &mut o,
+                            };
+                            match version {
+                                // SAFETY: called only when the processor has AVX2 (checked above).
+                                1 => unsafe { balance.solve_block_avx2(i, per_h, &block, out) },
+                                // SAFETY: called only when the processor has AVX-512F.
+                                2 => unsafe { balance.solve_block_avx512(i, per_h, &block, out) },
+                                _ => balance.solve_block_portable(i, per_h, &block, out),
+                            }
+                            let bits =
+                                |v: &[f64]| v.iter().map(|x| x.to_bits()).collect::<Vec<_>>();
+                            (bits(&f), bits(&e), bits(&t), o)
+                        };
+                        let portable = run(0);
+                        if avx2 {
+                            assert_eq!(run(1), portable, "AVX2, column {j}, species {i}");
+                            compared += 1;
+                        }
+                        if avx512 {
+                            assert_eq!(run(2), portable, "AVX-512F, column {j}, species {i}");
+                            compared += 1;
+                        }
+                    }
+                    start = stop;
+                }
+            }
+        }
+        eprintln!("{compared} blocks compared (AVX2: {avx2}, AVX-512F: {avx512})");
+    }
 }

@@ -1609,4 +1609,87 @@ mod tests {
         let a2 = visual_extinction_per_hydrogen_mag_cm2(0.01, 0.05 * MICRON_CM, 3.0);
         assert!((a1 / a2 - 1.0).abs() < 1e-12, "{a1} {a2}");
     }
+
+    /// The AVX2 and AVX-512F versions of the column fill give the portable version's bits, for
+    /// the vertical laws that take each path (isothermal, whole and fractional 2 delta, a
+    /// transition above the grid) (derived, D). Versions the processor lacks are skipped.
+    #[cfg(target_arch = "x86_64")]
+    #[test]
+    #[allow(unsafe_code)]
+    fn vector_versions_of_the_column_fill_give_the_same_bits() {
+        let avx2 = std::arch::is_x86_feature_detected!("avx2");
+        let avx512 = std::arch::is_x86_feature_detected!("avx512f");
+        let mut laws = vec![VerticalTemperature::Isothermal];
+        for (zq, delta) in [
+            (4.0, 2.0),
+            (3.0, 1.25),
+            (12.0, 3.0),
+            (0.7, 0.5),
+            (4.0, -1.0),
+        ] {
+            laws.push(VerticalTemperature::TwoLayer {
+                superheating: 1.5,
+                transition_scale_heights: zq,
+                delta,
+            });
+        }
+        let mut compared = 0usize;
+        for law in laws {
+            let mut p = ModelParameters::defaults();
+            p.grid.radial_cells = 30;
+            p.grid.vertical_cells = 37;
+            p.disk.vertical_temperature = law;
+            let st = DiskStructure::compute(&p).unwrap();
+            let spc = st.samples_per_column;
+            for j in 0..st.radial_cells {
+                let args = (
+                    &st.constants,
+                    st.radius_cm[j],
+                    st.surface_density_g_cm2[j],
+                    st.midplane_temperature_k[j],
+                    st.flaring_angle[j],
+                );
+                let run = |version: u8| {
+                    let mut out = Column::zeroed(spc);
+                    let mut fine = FineGrid::default();
+                    match version {
+                        // SAFETY: called only when the processor has AVX2 (checked above).
+                        1 => unsafe { fill_column_avx2(args, &mut fine, &mut out, 0) },
+                        // SAFETY: called only when the processor has AVX-512F.
+                        2 => unsafe { fill_column_avx512(args, &mut fine, &mut out, 0) },
+                        _ => fill_column_portable(args, &mut fine, &mut out, 0),
+                    }
+                    let bits = |v: &[f64]| v.iter().map(|x| x.to_bits()).collect::<Vec<_>>();
+                    [
+                        bits(&out.height_cm),
+                        bits(&out.temperature_k),
+                        bits(&out.density_g_cm3),
+                        bits(&out.hydrogen_density_cm3),
+                        bits(&out.column_above_g_cm2),
+                        bits(&out.visual_extinction_mag),
+                        bits(&out.fuv_photon_flux_cm2_s),
+                        bits(&out.ionization_rate_s),
+                    ]
+                };
+                let portable = run(0);
+                // The structure itself went through the dispatching fill_column.
+                assert_eq!(
+                    portable[1],
+                    st.samples.temperature_k[j * spc..(j + 1) * spc]
+                        .iter()
+                        .map(|x| x.to_bits())
+                        .collect::<Vec<_>>()
+                );
+                if avx2 {
+                    assert_eq!(run(1), portable, "AVX2, column {j}");
+                    compared += 1;
+                }
+                if avx512 {
+                    assert_eq!(run(2), portable, "AVX-512F, column {j}");
+                    compared += 1;
+                }
+            }
+        }
+        eprintln!("{compared} columns compared (AVX2: {avx2}, AVX-512F: {avx512})");
+    }
 }
