@@ -136,10 +136,22 @@ struct Baseline {
     agrees: bool,
 }
 
-/// `cargo xtask bench`; with `only_uncertainty` (`cargo xtask bench uncertainty`) only the
-/// uncertainty section ([`crate::uncertainty_bench`]) and the page's uncertainty timing.
-pub fn bench(only_uncertainty: bool) -> Result<(), String> {
-    if only_uncertainty {
+/// Which parts of the bench run.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Sections {
+    /// Everything (`cargo xtask bench`).
+    All,
+    /// The uncertainty section ([`crate::uncertainty_bench`]) and the page's uncertainty
+    /// timing (`cargo xtask bench uncertainty`).
+    Uncertainty,
+    /// The core's criterion benchmarks, the numpy baseline, the table and the ratios; no
+    /// sweep, uncertainty or browser part (`cargo xtask bench native`).
+    Native,
+}
+
+/// `cargo xtask bench`, or the sections chosen.
+pub fn bench(sections: Sections) -> Result<(), String> {
+    if sections == Sections::Uncertainty {
         let mut problems = Vec::new();
         if let Err(message) = crate::uncertainty_bench::uncertainty_section() {
             problems.push(message);
@@ -276,6 +288,13 @@ pub fn bench(only_uncertainty: bool) -> Result<(), String> {
         "4x the samples",
     );
 
+    if sections == Sections::Native {
+        return if problems.is_empty() {
+            Ok(())
+        } else {
+            Err(problems.join("; "))
+        };
+    }
     if let Err(message) = crate::sweep_bench::sweep_section() {
         problems.push(message);
     }
