@@ -517,23 +517,49 @@ impl BalanceConstants {
         ionization_rate: f64,
         molecules: f64,
     ) -> (Branches, f64) {
+        let desorption = self.nu[i] * exp_poly(self.minus_binding[i] * inverse_temperature)
+            + self.cr_per_zeta[i] * ionization_rate;
+        (
+            self.branches_given(
+                i,
+                sqrt_temperature,
+                grain_area,
+                inverse_area_sqrt_temperature,
+                monolayer,
+                fuv_per_site,
+                molecules,
+                desorption,
+            ),
+            desorption,
+        )
+    }
+
+    /// [`BalanceConstants::branches_at`] with the desorption rate B already computed.
+    #[allow(clippy::too_many_arguments)]
+    #[inline(always)]
+    fn branches_given(
+        &self,
+        i: usize,
+        sqrt_temperature: f64,
+        grain_area: f64,
+        inverse_area_sqrt_temperature: f64,
+        monolayer: f64,
+        fuv_per_site: f64,
+        molecules: f64,
+        desorption: f64,
+    ) -> Branches {
         let adsorption =
             self.sticking * grain_area * self.thermal_speed_coefficient[i] * sqrt_temperature;
         let inverse_adsorption = self.inverse_sticking_speed[i] * inverse_area_sqrt_temperature;
-        let desorption = self.nu[i] * exp_poly(self.minus_binding[i] * inverse_temperature)
-            + self.cr_per_zeta[i] * ionization_rate;
         let per_monolayer = fuv_per_site * self.yields[i];
-        (
-            Branches::new(
-                adsorption,
-                inverse_adsorption,
-                desorption,
-                per_monolayer,
-                monolayer,
-                molecules,
-                self.model == DesorptionModel::ZerothOrder,
-            ),
+        Branches::new(
+            adsorption,
+            inverse_adsorption,
             desorption,
+            per_monolayer,
+            monolayer,
+            molecules,
+            self.model == DesorptionModel::ZerothOrder,
         )
     }
 
@@ -570,8 +596,8 @@ impl BalanceConstants {
         ionization_rate: f64,
         molecules: f64,
         inverse_molecules: f64,
-    ) -> (AgedIceState, bool) {
-        let (b, _) = self.branches_at(
+    ) -> (AgedIceState, bool, f64) {
+        let (b, desorption) = self.branches_at(
             i,
             inverse_temperature,
             sqrt_temperature,
@@ -620,6 +646,7 @@ impl BalanceConstants {
                 out_of_equilibrium: out,
             },
             settled | !kinetic,
+            desorption,
         )
     }
 
@@ -631,7 +658,7 @@ impl BalanceConstants {
         i: usize,
         molecules: f64,
         inverse_molecules: f64,
-    ) -> (AgedIceState, bool) {
+    ) -> (AgedIceState, bool, f64) {
         self.lane(
             i,
             p.inverse_temperature,
@@ -718,11 +745,11 @@ impl BalanceConstants {
         if self.model == DesorptionModel::FixedTemperature {
             return self.step(p, i);
         }
-        let (state, settled) = self.lane_at(p, i, molecules, inverse_molecules);
+        let (state, settled, desorption) = self.lane_at(p, i, molecules, inverse_molecules);
         if settled {
             state
         } else {
-            self.unsettled(p, i, molecules, inverse_molecules, state)
+            self.unsettled(p, i, molecules, inverse_molecules, state, desorption)
         }
     }
 
@@ -736,8 +763,19 @@ impl BalanceConstants {
         molecules: f64,
         inverse_molecules: f64,
         state: AgedIceState,
+        desorption: f64,
     ) -> AgedIceState {
-        let (b, _) = self.branches_of(p, i, molecules);
+        // B as the lane computed it (the same number; its exp is not evaluated twice).
+        let b = self.branches_given(
+            i,
+            p.sqrt_temperature,
+            p.grain_area_cm2_per_cm3,
+            p.inverse_area_sqrt_temperature,
+            p.monolayer_cm3,
+            p.fuv_per_site,
+            molecules,
+            desorption,
+        );
         let initial = match self.initial_state {
             InitialIceState::Inherited => molecules,
             _ => 0.0,
@@ -852,16 +890,18 @@ impl BalanceConstants {
             // to a scalar remainder loop.
             let full = len / LANE_GROUP * LANE_GROUP;
             let mut settled = [true; BLOCK];
+            let mut desorption = [0.0; BLOCK];
             {
-                let (ice, equilibrium, time, flag, settled) = (
+                let (ice, equilibrium, time, flag, settled, desorption) = (
                     &mut ice[..full],
                     &mut equilibrium[..full],
                     &mut time[..full],
                     &mut flag[..full],
                     &mut settled[..full],
+                    &mut desorption[..full],
                 );
                 for q in 0..full {
-                    let (s, done) = self.lane(
+                    let (s, done, b) = self.lane(
                         i,
                         block.inverse_temperature[q],
                         block.sqrt_temperature[q],
@@ -878,6 +918,7 @@ impl BalanceConstants {
                     time[q] = s.equilibration_time_s;
                     flag[q] = s.out_of_equilibrium;
                     settled[q] = done;
+                    desorption[q] = b;
                 }
             }
             if full < len {
@@ -887,7 +928,7 @@ impl BalanceConstants {
                 let base = full.min(BLOCK - LANE_GROUP);
                 for k in 0..LANE_GROUP {
                     let q = base + k;
-                    let (s, done) = self.lane(
+                    let (s, done, b) = self.lane(
                         i,
                         block.inverse_temperature[q],
                         block.sqrt_temperature[q],
@@ -904,6 +945,7 @@ impl BalanceConstants {
                     lanes.time[k] = s.equilibration_time_s;
                     lanes.flag[k] = s.out_of_equilibrium;
                     lanes.settled[k] = done;
+                    lanes.desorption[k] = b;
                 }
                 // At most 7 values each: a loop, not a call to memcpy.
                 #[allow(clippy::manual_memcpy)]
@@ -913,6 +955,7 @@ impl BalanceConstants {
                     time[full + k] = lanes.time[k];
                     flag[full + k] = lanes.flag[k];
                     settled[full + k] = lanes.settled[k];
+                    desorption[full + k] = lanes.desorption[k];
                 }
             }
             for q in 0..len {
@@ -929,6 +972,7 @@ impl BalanceConstants {
                         per_h * block.hydrogen_density[q],
                         inverse_per_h * block.inverse_hydrogen_density[q],
                         state,
+                        desorption[q],
                     );
                     ice[q] = s.ice_fraction;
                     flag[q] = s.out_of_equilibrium;
@@ -957,6 +1001,7 @@ struct LaneGroup {
     time: [f64; LANE_GROUP],
     flag: [bool; LANE_GROUP],
     settled: [bool; LANE_GROUP],
+    desorption: [f64; LANE_GROUP],
 }
 
 impl LaneGroup {
@@ -968,6 +1013,7 @@ impl LaneGroup {
             time: [0.0; LANE_GROUP],
             flag: [false; LANE_GROUP],
             settled: [true; LANE_GROUP],
+            desorption: [0.0; LANE_GROUP],
         }
     }
 }
@@ -1087,8 +1133,8 @@ mod tests {
                     let x = model.composition().species_per_h(species, j);
                     let n_h = s.hydrogen_density_cm3[k];
                     let (n, inv) = (x * n_h, (1.0 / x) * (1.0 / n_h));
-                    let (state, done) = balance.lane_at(&place, i, n, inv);
-                    let full = balance.unsettled(&place, i, n, inv, state);
+                    let (state, done, desorption) = balance.lane_at(&place, i, n, inv);
+                    let full = balance.unsettled(&place, i, n, inv, state, desorption);
                     if done && n > 0.0 {
                         settled += 1;
                         assert_eq!(state.ice_fraction.to_bits(), full.ice_fraction.to_bits());
