@@ -92,10 +92,11 @@ pub fn solve_species_at(
 #[derive(Debug, Clone, PartialEq, Default)]
 pub struct IceBalance {
     samples: usize,
-    // Flat, species-major: index species * samples + sample.
-    ice_fraction: Vec<f64>,
-    equilibrium_ice_fraction: Vec<f64>,
-    equilibration_time_s: Vec<f64>,
+    // Flat, species-major: index species * samples + sample. The three per-sample numbers are
+    // one allocation, the ice fractions, the equilibrium fractions and the equilibration times
+    // one after another (each SPECIES_COUNT * samples long): a fresh run maps one block instead
+    // of three, which the system allocator then keeps for the next run rather than returning it.
+    values: Vec<f64>,
     out_of_equilibrium: Vec<bool>,
 }
 
@@ -123,12 +124,12 @@ impl IceBalance {
         self.samples = n;
         // Every entry is written below. A new size gets fresh zeroed buffers (not filled first),
         // the same size keeps the buffers (no allocation).
-        if self.ice_fraction.len() != total {
-            self.ice_fraction = vec![0.0; total];
-            self.equilibrium_ice_fraction = vec![0.0; total];
-            self.equilibration_time_s = vec![0.0; total];
+        if self.out_of_equilibrium.len() != total {
+            self.values = vec![0.0; 3 * total];
             self.out_of_equilibrium = vec![false; total];
         }
+        let (ice_fraction, rest) = self.values.split_at_mut(total);
+        let (equilibrium_ice_fraction, equilibration_time_s) = rest.split_at_mut(total);
         let spc = structure.samples_per_column;
         let s = &structure.samples;
         // Column by column (the composition is per radial cell), in blocks of places: the
@@ -156,9 +157,9 @@ impl IceBalance {
                         per_h,
                         &block,
                         BlockOutput {
-                            ice_fraction: &mut self.ice_fraction[r.clone()],
-                            equilibrium_ice_fraction: &mut self.equilibrium_ice_fraction[r.clone()],
-                            equilibration_time_s: &mut self.equilibration_time_s[r.clone()],
+                            ice_fraction: &mut ice_fraction[r.clone()],
+                            equilibrium_ice_fraction: &mut equilibrium_ice_fraction[r.clone()],
+                            equilibration_time_s: &mut equilibration_time_s[r.clone()],
                             out_of_equilibrium: &mut self.out_of_equilibrium[r],
                         },
                     );
@@ -180,18 +181,22 @@ impl IceBalance {
 
     /// Ice fraction at the disk's age of `species` in every sample (flat sample index).
     pub fn ice_fraction(&self, species: Species) -> &[f64] {
-        &self.ice_fraction[self.range(species)]
+        &self.values[self.range(species)]
     }
 
     /// Equilibrium ice fraction (the long-time limit) of `species` in every sample.
     pub fn equilibrium_ice_fraction(&self, species: Species) -> &[f64] {
-        &self.equilibrium_ice_fraction[self.range(species)]
+        let r = self.range(species);
+        let total = SPECIES_COUNT * self.samples;
+        &self.values[total + r.start..total + r.end]
     }
 
     /// Equilibration time [s] of `species` in every sample (NaN where undefined: step model, no
     /// grains or no molecules).
     pub fn equilibration_time_s(&self, species: Species) -> &[f64] {
-        &self.equilibration_time_s[self.range(species)]
+        let r = self.range(species);
+        let total = SPECIES_COUNT * self.samples;
+        &self.values[2 * total + r.start..2 * total + r.end]
     }
 
     /// Whether `species` is out of equilibrium at the disk's age in every sample (equilibration
