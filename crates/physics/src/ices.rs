@@ -94,8 +94,10 @@ pub struct IceBalance {
     samples: usize,
     // Flat, species-major: index species * samples + sample. The three per-sample numbers are
     // one allocation, the ice fractions, the equilibrium fractions and the equilibration times
-    // one after another (each SPECIES_COUNT * samples long): a fresh run maps one block instead
-    // of three, which the system allocator then keeps for the next run rather than returning it.
+    // one after another (each SPECIES_COUNT * samples long). With glibc's malloc, whose mmap and
+    // trim thresholds grow with the largest block freed, one block of 3 x 4.6 MB (400 x 160)
+    // stays in the heap from one fresh run to the next, where three of 4.6 MB were unmapped and
+    // faulted in again each run (`model_fresh/400x160` in `cargo xtask bench`).
     values: Vec<f64>,
     out_of_equilibrium: Vec<bool>,
 }
