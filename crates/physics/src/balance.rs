@@ -791,6 +791,7 @@ impl BalanceConstants {
 
     /// Fill a block with the places `temperature_k[k]` ... of one column's samples.
     #[allow(clippy::too_many_arguments)]
+    #[inline(always)]
     pub(crate) fn fill_block(
         &self,
         block: &mut SampleBlock,
@@ -826,49 +827,10 @@ impl BalanceConstants {
     /// then [`Branches::evolve`] for the lanes not provably settled. The numbers equal
     /// [`BalanceConstants::solve_aged`] with N = x n_H and 1/N = (1/x)(1/n_H), bit for bit.
     ///
-    /// On x86-64 the same code is compiled a second and third time for AVX2 and AVX-512F (wider
-    /// vectors of the same IEEE operations, no fused multiply-add), chosen at run time by what
-    /// the processor has; every version gives the same bits (`tests/stages.rs`, the model
-    /// digest). WebAssembly and other targets use the portable version.
-    #[allow(unsafe_code)]
-    pub(crate) fn solve_block(
-        &self,
-        i: usize,
-        per_h: f64,
-        block: &SampleBlock,
-        out: BlockOutput<'_>,
-    ) {
-        #[cfg(target_arch = "x86_64")]
-        {
-            if std::arch::is_x86_feature_detected!("avx512f") {
-                // SAFETY: the processor has AVX-512F, checked on the line above.
-                return unsafe { self.solve_block_avx512(i, per_h, block, out) };
-            }
-            if std::arch::is_x86_feature_detected!("avx2") {
-                // SAFETY: the processor has AVX2, checked on the line above.
-                return unsafe { self.solve_block_avx2(i, per_h, block, out) };
-            }
-        }
-        self.solve_block_portable(i, per_h, block, out)
-    }
-
-    /// [`BalanceConstants::solve_block`] compiled for AVX-512F.
-    #[cfg(target_arch = "x86_64")]
-    #[target_feature(enable = "avx512f")]
-    fn solve_block_avx512(&self, i: usize, per_h: f64, block: &SampleBlock, out: BlockOutput<'_>) {
-        self.solve_block_portable(i, per_h, block, out)
-    }
-
-    /// [`BalanceConstants::solve_block`] compiled for AVX2.
-    #[cfg(target_arch = "x86_64")]
-    #[target_feature(enable = "avx2")]
-    fn solve_block_avx2(&self, i: usize, per_h: f64, block: &SampleBlock, out: BlockOutput<'_>) {
-        self.solve_block_portable(i, per_h, block, out)
-    }
-
-    /// The body of [`BalanceConstants::solve_block`], inlined into each version.
+    /// Inlined into each version of the grid loop ([`crate::ices::IceBalance::solve_into`]:
+    /// portable, and on x86-64 AVX2 and AVX-512F).
     #[inline(always)]
-    fn solve_block_portable(
+    pub(crate) fn solve_block(
         &self,
         i: usize,
         per_h: f64,
@@ -1169,103 +1131,5 @@ mod tests {
                 "E={e}: {nu:e} vs {expected:e}"
             );
         }
-    }
-
-    /// The AVX2 and AVX-512F versions of the block loop give the portable version's bits, over
-    /// whole grids of disks that reach every branch (derived, D). Versions the processor lacks
-    /// are skipped; the portable one is what WebAssembly runs.
-    #[cfg(target_arch = "x86_64")]
-    #[test]
-    #[allow(unsafe_code)]
-    fn vector_versions_of_the_block_loop_give_the_same_bits() {
-        use crate::params::{DesorptionModel, InitialIceState};
-        use crate::{Model, ModelParameters};
-        let avx2 = std::arch::is_x86_feature_detected!("avx2");
-        let avx512 = std::arch::is_x86_feature_detected!("avx512f");
-        let mut configs = Vec::new();
-        for (desorption, initial, age_myr) in [
-            (
-                DesorptionModel::ZerothOrder,
-                InitialIceState::Inherited,
-                1.0,
-            ),
-            (DesorptionModel::ZerothOrder, InitialIceState::Gas, 0.01),
-            (
-                DesorptionModel::FirstOrder,
-                InitialIceState::Equilibrium,
-                1.0,
-            ),
-            (
-                DesorptionModel::FixedTemperature,
-                InitialIceState::Inherited,
-                1.0,
-            ),
-        ] {
-            let mut p = ModelParameters::defaults();
-            p.grid.radial_cells = 40;
-            p.grid.vertical_cells = 45;
-            p.ices.desorption = desorption;
-            p.ices.initial_state = initial;
-            p.disk.age_myr = age_myr;
-            configs.push(p);
-        }
-        let mut compared = 0usize;
-        for p in &configs {
-            let model = Model::run(p).unwrap();
-            let balance = BalanceConstants::new(p, model.species_properties());
-            let (st, s) = (model.structure(), model.structure().samples());
-            let spc = st.samples_per_column;
-            let mut block = SampleBlock::new();
-            for j in 0..st.radial_cells {
-                let totals = model.composition().species_per_h_in_cell(j);
-                let mut start = j * spc;
-                while start < (j + 1) * spc {
-                    let stop = (start + BLOCK).min((j + 1) * spc);
-                    let r = start..stop;
-                    balance.fill_block(
-                        &mut block,
-                        &s.temperature_k[r.clone()],
-                        &s.density_g_cm3[r.clone()],
-                        &s.fuv_photon_flux_cm2_s[r.clone()],
-                        &s.ionization_rate_s[r.clone()],
-                        &s.hydrogen_density_cm3[r],
-                    );
-                    let n = stop - start;
-                    for (i, &per_h) in totals.iter().enumerate() {
-                        let run = |version: u8| {
-                            let (mut f, mut e, mut t) = (vec![0.0; n], vec![0.0; n], vec![0.0; n]);
-                            let mut o = vec![false; n];
-                            let out = BlockOutput {
-                                ice_fraction: &mut f,
-                                equilibrium_ice_fraction: &mut e,
-                                equilibration_time_s: &mut t,
-                                out_of_equilibrium: &mut o,
-                            };
-                            match version {
-                                // SAFETY: called only when the processor has AVX2 (checked above).
-                                1 => unsafe { balance.solve_block_avx2(i, per_h, &block, out) },
-                                // SAFETY: called only when the processor has AVX-512F.
-                                2 => unsafe { balance.solve_block_avx512(i, per_h, &block, out) },
-                                _ => balance.solve_block_portable(i, per_h, &block, out),
-                            }
-                            let bits =
-                                |v: &[f64]| v.iter().map(|x| x.to_bits()).collect::<Vec<_>>();
-                            (bits(&f), bits(&e), bits(&t), o)
-                        };
-                        let portable = run(0);
-                        if avx2 {
-                            assert_eq!(run(1), portable, "AVX2, column {j}, species {i}");
-                            compared += 1;
-                        }
-                        if avx512 {
-                            assert_eq!(run(2), portable, "AVX-512F, column {j}, species {i}");
-                            compared += 1;
-                        }
-                    }
-                    start = stop;
-                }
-            }
-        }
-        eprintln!("{compared} blocks compared (AVX2: {avx2}, AVX-512F: {avx512})");
     }
 }
