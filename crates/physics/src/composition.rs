@@ -103,6 +103,11 @@ impl Composition {
         Ok(c)
     }
 
+    /// Whether this is the uniform composition of [`Composition::uniform`] (no per-cell totals).
+    pub(crate) fn is_uniform(&self) -> bool {
+        self.per_cell.is_none()
+    }
+
     /// The carriers of cell `j` (the per-cell totals in place of the uniform ones).
     fn carriers_in_cell(&self, j: usize) -> std::borrow::Cow<'_, Carriers> {
         match &self.per_cell {

@@ -145,9 +145,10 @@ impl Model {
     /// when an edit changes the star, the disk or the grid; [`crate::rerun`]'s full branch).
     /// On an error the model is left as it was.
     pub fn run_into(&mut self, parameters: &ModelParameters) -> Result<(), PhysicsError> {
-        if self.structure.has_given_surface_density() {
-            // The structure was given, not computed from the parameters: it cannot be rebuilt
-            // after a failed finite check, so the run goes to fresh buffers.
+        if self.structure.has_given_surface_density() || !self.composition.is_uniform() {
+            // The structure or the composition was given, not computed from the parameters:
+            // this model could not be rebuilt after a failed finite check, so the run goes to
+            // fresh buffers.
             *self = Model::run(parameters)?;
             return Ok(());
         }
