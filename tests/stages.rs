@@ -503,3 +503,28 @@ fn run_into_existing_buffers_equals_a_fresh_run_bit_for_bit() {
         "after the errors",
     );
 }
+
+#[test]
+fn run_into_a_model_of_a_given_profile_equals_a_fresh_run() {
+    // A model on a given surface-density profile (here half the computed one) cannot be
+    // rebuilt from its parameters; `run_into` gives the fresh run's numbers all the same.
+    let p = small();
+    let computed = DiskStructure::compute(&p).unwrap();
+    let halved: Vec<f64> = computed
+        .surface_density_g_cm2()
+        .iter()
+        .map(|s| 0.5 * s)
+        .collect();
+    let given = DiskStructure::from_surface_density(&p, computed.radius_cm(), &halved).unwrap();
+    let mut model = Model::run_on(given, &p).unwrap();
+    let mut edited = small();
+    edited.star.luminosity_lsun = 2.0;
+    let fresh = Model::run(&edited).unwrap();
+    model.run_into(&edited).unwrap();
+    same_model(&model, &fresh, "given profile, then run_into");
+    same_columns(
+        model.structure().samples(),
+        fresh.structure().samples(),
+        "given profile, then run_into",
+    );
+}
