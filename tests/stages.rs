@@ -411,3 +411,120 @@ fn composition_only_rerun_equals_a_full_run_bit_for_bit() {
         before.structure().early_soot_line_radius_cm()
     );
 }
+
+#[test]
+fn run_into_existing_buffers_equals_a_fresh_run_bit_for_bit() {
+    // The page's structure edit path (`Model::run_into`, `rerun`'s full branch): one edit
+    // after another into the same model, each compared with a fresh `Model::run`, including
+    // grids that grow and shrink and vertical laws that take the scalar paths.
+    let mut edits = Vec::new();
+    let mut p = small();
+    p.disk.gas_mass_msun *= 1.01;
+    edits.push(("heavier disk", p));
+    let mut p = small();
+    p.star.luminosity_lsun = 3.0;
+    edits.push(("brighter star", p));
+    let mut p = small();
+    p.grid.radial_cells = 90;
+    p.grid.vertical_cells = 31;
+    edits.push(("larger grid", p));
+    let mut p = small();
+    p.grid.radial_cells = 7;
+    p.grid.vertical_cells = 3;
+    edits.push(("smaller grid", p));
+    let mut p = small();
+    p.disk.self_consistent_flaring = true;
+    edits.push(("self-consistent flaring", p));
+    let mut p = small();
+    p.disk.vertical_temperature = VerticalTemperature::Isothermal;
+    edits.push(("isothermal", p));
+    let mut p = small();
+    p.disk.vertical_temperature = VerticalTemperature::TwoLayer {
+        superheating: 1.5,
+        transition_scale_heights: 3.0,
+        delta: 1.25,
+    };
+    edits.push(("non-integer delta", p));
+    let mut p = small();
+    p.disk.vertical_temperature = VerticalTemperature::TwoLayer {
+        superheating: 1.5,
+        transition_scale_heights: 12.0,
+        delta: 3.0,
+    };
+    edits.push(("transition above the grid", p));
+    let mut p = small();
+    p.ices.desorption = DesorptionModel::FirstOrder;
+    p.disk.age_myr = 0.01;
+    edits.push(("first order, young", p));
+    edits.push(("back to the start", small()));
+    let mut model = Model::run(&small()).unwrap();
+    for (what, p) in edits {
+        let fresh = Model::run(&p).unwrap();
+        model.run_into(&p).unwrap();
+        same_model(&model, &fresh, what);
+        same_columns(
+            model.structure().samples(),
+            fresh.structure().samples(),
+            what,
+        );
+        same_bits(
+            model.structure().scale_height_cm(),
+            fresh.structure().scale_height_cm(),
+            &format!("{what} H"),
+        );
+        same_bits(
+            model.structure().flaring_angle(),
+            fresh.structure().flaring_angle(),
+            &format!("{what} phi"),
+        );
+        assert_eq!(
+            model.structure().early_soot_line_radius_cm(),
+            fresh.structure().early_soot_line_radius_cm(),
+            "{what}: early soot line"
+        );
+    }
+    // Errors before and after the structure leave the model as it was: an inner edge inside
+    // the star (the structure's constants) and a composition the star cannot fill.
+    let before = model.clone();
+    let mut bad = model.parameters().clone();
+    bad.disk.inner_radius_au = 1e-4;
+    assert!(Model::run(&bad).is_err());
+    assert!(model.run_into(&bad).is_err());
+    let mut bad = model.parameters().clone();
+    bad.composition.carbon.co = 0.80;
+    bad.composition.carbon.refractory = 0.0;
+    bad.composition.oxygen_per_silicon = 10.0;
+    assert!(Model::run(&bad).is_err());
+    assert!(model.run_into(&bad).is_err());
+    same_model(&model, &before, "after the errors");
+    same_columns(
+        model.structure().samples(),
+        before.structure().samples(),
+        "after the errors",
+    );
+}
+
+#[test]
+fn run_into_a_model_of_a_given_profile_equals_a_fresh_run() {
+    // A model on a given surface-density profile (here half the computed one) cannot be
+    // rebuilt from its parameters; `run_into` gives the fresh run's numbers all the same.
+    let p = small();
+    let computed = DiskStructure::compute(&p).unwrap();
+    let halved: Vec<f64> = computed
+        .surface_density_g_cm2()
+        .iter()
+        .map(|s| 0.5 * s)
+        .collect();
+    let given = DiskStructure::from_surface_density(&p, computed.radius_cm(), &halved).unwrap();
+    let mut model = Model::run_on(given, &p).unwrap();
+    let mut edited = small();
+    edited.star.luminosity_lsun = 2.0;
+    let fresh = Model::run(&edited).unwrap();
+    model.run_into(&edited).unwrap();
+    same_model(&model, &fresh, "given profile, then run_into");
+    same_columns(
+        model.structure().samples(),
+        fresh.structure().samples(),
+        "given profile, then run_into",
+    );
+}

@@ -19,17 +19,23 @@
 //!   balance (docs/model.md section 7). The floor keeps libm's `exp` as the
 //!   reference cost; the model itself uses `math::exp_poly`, which vectorises.
 //! - `structure`: `DiskStructure::compute` alone.
-//! - `model`: `Model::run` followed by the midplane profile and the snowlines of
-//!   every species: everything the page and the CLI compute for one disk.
+//! - `model`: what the page computes after an edit of the star, the disk or the
+//!   grid: `Model::run_into` a model already computed (its buffers reused; the
+//!   disk's gas mass alternates between the default and 1.01 times it from one
+//!   iteration to the next), followed by the midplane profile and the snowlines
+//!   of every species.
+//! - `model_fresh`: the same with `Model::run` (every result array freshly
+//!   allocated): what the CLI computes for one disk.
 //! - `ice_edit`: what an edit of an ice parameter costs: `Model::set_ices` on a
 //!   model already computed, whose sticking coefficient alternates between 1.0
 //!   and 0.9 from one iteration to the next. Only the ice balance is re-solved,
 //!   into the model's own buffers (the structure and composition are reused;
 //!   `tests/stages.rs` checks the result equals a full `Model::run` bit for bit).
 //!
-//! Grids: the default one (200 x 80) for every group and, for `structure` and
-//! `model`, one with twice the cells along each axis (400 x 160), against which
-//! the numpy baseline (`benches/numpy_baseline.py`) is compared.
+//! Grids: the default one (200 x 80) for every group and, for `structure`,
+//! `model` and `model_fresh`, one with twice the cells along each axis
+//! (400 x 160), against which the numpy baseline (`benches/numpy_baseline.py`)
+//! is compared.
 //!
 //! Every group uses flat sampling: 20 samples with the same iteration count,
 //! so each sample gives one per-iteration time (`times[i] / iters[i]` in
@@ -66,6 +72,19 @@ fn full_model(parameters: &ModelParameters) -> (usize, usize) {
     // The default disk is valid by construction, so a failure here is a bug in
     // the core that the benchmark should surface loudly rather than time.
     let model = Model::run(parameters).expect("the default disk must run");
+    summary(&model)
+}
+
+/// [`full_model`] into the buffers of a model already computed.
+fn full_model_into(model: &mut Model, parameters: &ModelParameters) -> (usize, usize) {
+    model
+        .run_into(parameters)
+        .expect("the default disk must run");
+    summary(model)
+}
+
+/// The midplane profile and the snowlines of every species, summarised.
+fn summary(model: &Model) -> (usize, usize) {
     let profile = model.midplane_profile();
     let snowline_count: usize = Species::ALL
         .iter()
@@ -170,6 +189,25 @@ fn structure_benchmark(c: &mut Criterion) {
 fn model_benchmark(c: &mut Criterion) {
     let mut group = group(c, "model", 5);
     for (label, radial, vertical) in [DEFAULT_GRID, LARGE_GRID] {
+        let base = parameters(radial, vertical);
+        let mut heavier = base.clone();
+        heavier.disk.gas_mass_msun *= 1.01;
+        let edited = [base.clone(), heavier];
+        let mut model = Model::run(&base).expect("the default disk must run");
+        let mut turn = 0usize;
+        group.bench_function(BenchmarkId::from_parameter(label), |b| {
+            b.iter(|| {
+                turn += 1;
+                full_model_into(&mut model, black_box(&edited[turn % 2]))
+            })
+        });
+    }
+    group.finish();
+}
+
+fn model_fresh_benchmark(c: &mut Criterion) {
+    let mut group = group(c, "model_fresh", 5);
+    for (label, radial, vertical) in [DEFAULT_GRID, LARGE_GRID] {
         let p = parameters(radial, vertical);
         group.bench_with_input(BenchmarkId::from_parameter(label), &p, |b, p| {
             b.iter(|| full_model(black_box(p)))
@@ -204,6 +242,7 @@ fn main() {
     floor_benchmark(&mut criterion);
     structure_benchmark(&mut criterion);
     model_benchmark(&mut criterion);
+    model_fresh_benchmark(&mut criterion);
     ice_edit_benchmark(&mut criterion);
     criterion.final_summary();
 }

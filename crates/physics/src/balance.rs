@@ -372,8 +372,9 @@ fn clamp_unit(f: f64) -> f64 {
     }
 }
 
-/// How many places one [`SampleBlock`] holds.
-pub(crate) const BLOCK: usize = 64;
+/// How many places one [`SampleBlock`] holds: a multiple of [`LANE_GROUP`], large enough for a
+/// whole column of the default grid (81 samples) in one block.
+pub(crate) const BLOCK: usize = 96;
 
 /// The species-independent quantities of up to [`BLOCK`] places, one array per quantity, so
 /// that the loop over places for one species is vectorised.
@@ -516,23 +517,49 @@ impl BalanceConstants {
         ionization_rate: f64,
         molecules: f64,
     ) -> (Branches, f64) {
+        let desorption = self.nu[i] * exp_poly(self.minus_binding[i] * inverse_temperature)
+            + self.cr_per_zeta[i] * ionization_rate;
+        (
+            self.branches_given(
+                i,
+                sqrt_temperature,
+                grain_area,
+                inverse_area_sqrt_temperature,
+                monolayer,
+                fuv_per_site,
+                molecules,
+                desorption,
+            ),
+            desorption,
+        )
+    }
+
+    /// [`BalanceConstants::branches_at`] with the desorption rate B already computed.
+    #[allow(clippy::too_many_arguments)]
+    #[inline(always)]
+    fn branches_given(
+        &self,
+        i: usize,
+        sqrt_temperature: f64,
+        grain_area: f64,
+        inverse_area_sqrt_temperature: f64,
+        monolayer: f64,
+        fuv_per_site: f64,
+        molecules: f64,
+        desorption: f64,
+    ) -> Branches {
         let adsorption =
             self.sticking * grain_area * self.thermal_speed_coefficient[i] * sqrt_temperature;
         let inverse_adsorption = self.inverse_sticking_speed[i] * inverse_area_sqrt_temperature;
-        let desorption = self.nu[i] * exp_poly(self.minus_binding[i] * inverse_temperature)
-            + self.cr_per_zeta[i] * ionization_rate;
         let per_monolayer = fuv_per_site * self.yields[i];
-        (
-            Branches::new(
-                adsorption,
-                inverse_adsorption,
-                desorption,
-                per_monolayer,
-                monolayer,
-                molecules,
-                self.model == DesorptionModel::ZerothOrder,
-            ),
+        Branches::new(
+            adsorption,
+            inverse_adsorption,
             desorption,
+            per_monolayer,
+            monolayer,
+            molecules,
+            self.model == DesorptionModel::ZerothOrder,
         )
     }
 
@@ -569,8 +596,8 @@ impl BalanceConstants {
         ionization_rate: f64,
         molecules: f64,
         inverse_molecules: f64,
-    ) -> (AgedIceState, bool) {
-        let (b, _) = self.branches_at(
+    ) -> (AgedIceState, bool, f64) {
+        let (b, desorption) = self.branches_at(
             i,
             inverse_temperature,
             sqrt_temperature,
@@ -619,6 +646,7 @@ impl BalanceConstants {
                 out_of_equilibrium: out,
             },
             settled | !kinetic,
+            desorption,
         )
     }
 
@@ -630,7 +658,7 @@ impl BalanceConstants {
         i: usize,
         molecules: f64,
         inverse_molecules: f64,
-    ) -> (AgedIceState, bool) {
+    ) -> (AgedIceState, bool, f64) {
         self.lane(
             i,
             p.inverse_temperature,
@@ -717,11 +745,11 @@ impl BalanceConstants {
         if self.model == DesorptionModel::FixedTemperature {
             return self.step(p, i);
         }
-        let (state, settled) = self.lane_at(p, i, molecules, inverse_molecules);
+        let (state, settled, desorption) = self.lane_at(p, i, molecules, inverse_molecules);
         if settled {
             state
         } else {
-            self.unsettled(p, i, molecules, inverse_molecules, state)
+            self.unsettled(p, i, molecules, inverse_molecules, state, desorption)
         }
     }
 
@@ -735,8 +763,19 @@ impl BalanceConstants {
         molecules: f64,
         inverse_molecules: f64,
         state: AgedIceState,
+        desorption: f64,
     ) -> AgedIceState {
-        let (b, _) = self.branches_of(p, i, molecules);
+        // B as the lane computed it (the same number; its exp is not evaluated twice).
+        let b = self.branches_given(
+            i,
+            p.sqrt_temperature,
+            p.grain_area_cm2_per_cm3,
+            p.inverse_area_sqrt_temperature,
+            p.monolayer_cm3,
+            p.fuv_per_site,
+            molecules,
+            desorption,
+        );
         let initial = match self.initial_state {
             InitialIceState::Inherited => molecules,
             _ => 0.0,
@@ -752,6 +791,7 @@ impl BalanceConstants {
 
     /// Fill a block with the places `temperature_k[k]` ... of one column's samples.
     #[allow(clippy::too_many_arguments)]
+    #[inline(always)]
     pub(crate) fn fill_block(
         &self,
         block: &mut SampleBlock,
@@ -786,6 +826,10 @@ impl BalanceConstants {
     /// Species `i` with `per_h` molecules per H over a block: every lane in one vectorised pass,
     /// then [`Branches::evolve`] for the lanes not provably settled. The numbers equal
     /// [`BalanceConstants::solve_aged`] with N = x n_H and 1/N = (1/x)(1/n_H), bit for bit.
+    ///
+    /// Inlined into each version of the grid loop ([`crate::ices::IceBalance::solve_into`]:
+    /// portable, and on x86-64 AVX2 and AVX-512F).
+    #[inline(always)]
     pub(crate) fn solve_block(
         &self,
         i: usize,
@@ -801,54 +845,137 @@ impl BalanceConstants {
             &mut out.equilibration_time_s[..len],
             &mut out.out_of_equilibrium[..len],
         );
-        if self.model == DesorptionModel::FixedTemperature {
+        if self.model != DesorptionModel::FixedTemperature {
+            // Every lane in whole vectors: the whole groups of LANE_GROUP lanes straight into
+            // the output, then the last partial group computed whole (its lanes past `len` hold
+            // another place of the block or zeros, and are dropped), so no lane of a place falls
+            // to a scalar remainder loop.
+            let full = len / LANE_GROUP * LANE_GROUP;
+            let mut settled = [true; BLOCK];
+            let mut desorption = [0.0; BLOCK];
+            {
+                let (ice, equilibrium, time, flag, settled, desorption) = (
+                    &mut ice[..full],
+                    &mut equilibrium[..full],
+                    &mut time[..full],
+                    &mut flag[..full],
+                    &mut settled[..full],
+                    &mut desorption[..full],
+                );
+                for q in 0..full {
+                    let (s, done, b) = self.lane(
+                        i,
+                        block.inverse_temperature[q],
+                        block.sqrt_temperature[q],
+                        block.grain_area[q],
+                        block.inverse_area_sqrt_temperature[q],
+                        block.monolayer[q],
+                        block.fuv_per_site[q],
+                        block.ionization_rate[q],
+                        per_h * block.hydrogen_density[q],
+                        inverse_per_h * block.inverse_hydrogen_density[q],
+                    );
+                    ice[q] = s.ice_fraction;
+                    equilibrium[q] = s.equilibrium_ice_fraction;
+                    time[q] = s.equilibration_time_s;
+                    flag[q] = s.out_of_equilibrium;
+                    settled[q] = done;
+                    desorption[q] = b;
+                }
+            }
+            if full < len {
+                let mut lanes = LaneGroup::new();
+                // full <= BLOCK - LANE_GROUP (BLOCK is a multiple of LANE_GROUP and full < len <=
+                // BLOCK): the `min` changes nothing but lets the compiler drop the bounds checks.
+                let base = full.min(BLOCK - LANE_GROUP);
+                for k in 0..LANE_GROUP {
+                    let q = base + k;
+                    let (s, done, b) = self.lane(
+                        i,
+                        block.inverse_temperature[q],
+                        block.sqrt_temperature[q],
+                        block.grain_area[q],
+                        block.inverse_area_sqrt_temperature[q],
+                        block.monolayer[q],
+                        block.fuv_per_site[q],
+                        block.ionization_rate[q],
+                        per_h * block.hydrogen_density[q],
+                        inverse_per_h * block.inverse_hydrogen_density[q],
+                    );
+                    lanes.ice[k] = s.ice_fraction;
+                    lanes.equilibrium[k] = s.equilibrium_ice_fraction;
+                    lanes.time[k] = s.equilibration_time_s;
+                    lanes.flag[k] = s.out_of_equilibrium;
+                    lanes.settled[k] = done;
+                    lanes.desorption[k] = b;
+                }
+                // At most 7 values each: a loop, not a call to memcpy.
+                #[allow(clippy::manual_memcpy)]
+                for k in 0..len - full {
+                    ice[full + k] = lanes.ice[k];
+                    equilibrium[full + k] = lanes.equilibrium[k];
+                    time[full + k] = lanes.time[k];
+                    flag[full + k] = lanes.flag[k];
+                    settled[full + k] = lanes.settled[k];
+                    desorption[full + k] = lanes.desorption[k];
+                }
+            }
             for q in 0..len {
-                let s = self.step(&block.states[q], i);
-                ice[q] = s.ice_fraction;
-                equilibrium[q] = s.equilibrium_ice_fraction;
-                time[q] = s.equilibration_time_s;
-                flag[q] = s.out_of_equilibrium;
+                if !settled[q] {
+                    let state = AgedIceState {
+                        ice_fraction: ice[q],
+                        equilibrium_ice_fraction: equilibrium[q],
+                        equilibration_time_s: time[q],
+                        out_of_equilibrium: flag[q],
+                    };
+                    let s = self.unsettled(
+                        &block.states[q],
+                        i,
+                        per_h * block.hydrogen_density[q],
+                        inverse_per_h * block.inverse_hydrogen_density[q],
+                        state,
+                        desorption[q],
+                    );
+                    ice[q] = s.ice_fraction;
+                    flag[q] = s.out_of_equilibrium;
+                }
             }
             return;
         }
-        let mut settled = [true; BLOCK];
+        // The step model: no kinetics.
         for q in 0..len {
-            let (s, done) = self.lane(
-                i,
-                block.inverse_temperature[q],
-                block.sqrt_temperature[q],
-                block.grain_area[q],
-                block.inverse_area_sqrt_temperature[q],
-                block.monolayer[q],
-                block.fuv_per_site[q],
-                block.ionization_rate[q],
-                per_h * block.hydrogen_density[q],
-                inverse_per_h * block.inverse_hydrogen_density[q],
-            );
+            let s = self.step(&block.states[q], i);
             ice[q] = s.ice_fraction;
             equilibrium[q] = s.equilibrium_ice_fraction;
             time[q] = s.equilibration_time_s;
             flag[q] = s.out_of_equilibrium;
-            settled[q] = done;
         }
-        for q in 0..len {
-            if !settled[q] {
-                let state = AgedIceState {
-                    ice_fraction: ice[q],
-                    equilibrium_ice_fraction: equilibrium[q],
-                    equilibration_time_s: time[q],
-                    out_of_equilibrium: flag[q],
-                };
-                let s = self.unsettled(
-                    &block.states[q],
-                    i,
-                    per_h * block.hydrogen_density[q],
-                    inverse_per_h * block.inverse_hydrogen_density[q],
-                    state,
-                );
-                ice[q] = s.ice_fraction;
-                flag[q] = s.out_of_equilibrium;
-            }
+    }
+}
+
+/// How many lanes the block loop computes at once at most (8 doubles: one AVX-512 vector).
+const LANE_GROUP: usize = 8;
+
+/// The results of one group of lanes.
+struct LaneGroup {
+    ice: [f64; LANE_GROUP],
+    equilibrium: [f64; LANE_GROUP],
+    time: [f64; LANE_GROUP],
+    flag: [bool; LANE_GROUP],
+    settled: [bool; LANE_GROUP],
+    desorption: [f64; LANE_GROUP],
+}
+
+impl LaneGroup {
+    #[inline(always)]
+    fn new() -> LaneGroup {
+        LaneGroup {
+            ice: [0.0; LANE_GROUP],
+            equilibrium: [0.0; LANE_GROUP],
+            time: [0.0; LANE_GROUP],
+            flag: [false; LANE_GROUP],
+            settled: [true; LANE_GROUP],
+            desorption: [0.0; LANE_GROUP],
         }
     }
 }
@@ -968,8 +1095,8 @@ mod tests {
                     let x = model.composition().species_per_h(species, j);
                     let n_h = s.hydrogen_density_cm3[k];
                     let (n, inv) = (x * n_h, (1.0 / x) * (1.0 / n_h));
-                    let (state, done) = balance.lane_at(&place, i, n, inv);
-                    let full = balance.unsettled(&place, i, n, inv, state);
+                    let (state, done, desorption) = balance.lane_at(&place, i, n, inv);
+                    let full = balance.unsettled(&place, i, n, inv, state, desorption);
                     if done && n > 0.0 {
                         settled += 1;
                         assert_eq!(state.ice_fraction.to_bits(), full.ice_fraction.to_bits());

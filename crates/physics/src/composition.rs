@@ -40,15 +40,31 @@ impl Composition {
         table: &SpeciesTable,
         structure: &DiskStructure,
     ) -> Result<Composition, PhysicsError> {
+        Composition::uniform_on(
+            parameters,
+            table,
+            structure.radial_cells,
+            structure.early_soot_line_radius_cm,
+        )
+    }
+
+    /// [`Composition::uniform`] from the two things it reads of the structure: the number of
+    /// radial cells and the early soot line.
+    pub(crate) fn uniform_on(
+        parameters: &ModelParameters,
+        table: &SpeciesTable,
+        radial_cells: usize,
+        early_soot_line_radius_cm: Option<f64>,
+    ) -> Result<Composition, PhysicsError> {
         let mut carriers = Carriers::new(
             stellar_abundances_per_h(&parameters.star),
             &parameters.composition,
             table,
         )?;
-        carriers.carbon_released_within_cm = structure.early_soot_line_radius_cm.unwrap_or(0.0);
+        carriers.carbon_released_within_cm = early_soot_line_radius_cm.unwrap_or(0.0);
         Ok(Composition {
             carriers,
-            radial_cells: structure.radial_cells,
+            radial_cells,
             per_cell: None,
         })
     }
@@ -85,6 +101,11 @@ impl Composition {
         let mut c = Composition::uniform(parameters, table, structure)?;
         c.per_cell = Some(totals.to_vec());
         Ok(c)
+    }
+
+    /// Whether this is the uniform composition of [`Composition::uniform`] (no per-cell totals).
+    pub(crate) fn is_uniform(&self) -> bool {
+        self.per_cell.is_none()
     }
 
     /// The carriers of cell `j` (the per-cell totals in place of the uniform ones).

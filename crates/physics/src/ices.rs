@@ -87,15 +87,123 @@ pub fn solve_species_at(
     )
 }
 
+/// The species-major output arrays of a whole grid.
+struct GridOutput<'a> {
+    ice_fraction: &'a mut [f64],
+    equilibrium_ice_fraction: &'a mut [f64],
+    equilibration_time_s: &'a mut [f64],
+    out_of_equilibrium: &'a mut [bool],
+}
+
+/// The grid loop of [`IceBalance::solve_into`]. On x86-64 the same code is compiled again for
+/// AVX2 and for AVX-512F (wider vectors of the same IEEE operations, no fused multiply-add) and
+/// chosen at run time; every version gives the same bits (`tests::vector_versions_give_the_same_bits`,
+/// the model digest). WebAssembly and other targets use the portable version.
+#[allow(unsafe_code)]
+fn solve_grid(
+    balance: &BalanceConstants,
+    structure: &DiskStructure,
+    composition: &Composition,
+    out: GridOutput<'_>,
+) {
+    #[cfg(target_arch = "x86_64")]
+    {
+        if std::arch::is_x86_feature_detected!("avx512f") {
+            // SAFETY: the processor has AVX-512F, checked on the line above.
+            return unsafe { solve_grid_avx512(balance, structure, composition, out) };
+        }
+        if std::arch::is_x86_feature_detected!("avx2") {
+            // SAFETY: the processor has AVX2, checked on the line above.
+            return unsafe { solve_grid_avx2(balance, structure, composition, out) };
+        }
+    }
+    solve_grid_portable(balance, structure, composition, out)
+}
+
+/// [`solve_grid`] compiled for AVX-512F.
+#[cfg(target_arch = "x86_64")]
+#[target_feature(enable = "avx512f")]
+fn solve_grid_avx512(
+    balance: &BalanceConstants,
+    structure: &DiskStructure,
+    composition: &Composition,
+    out: GridOutput<'_>,
+) {
+    solve_grid_portable(balance, structure, composition, out)
+}
+
+/// [`solve_grid`] compiled for AVX2.
+#[cfg(target_arch = "x86_64")]
+#[target_feature(enable = "avx2")]
+fn solve_grid_avx2(
+    balance: &BalanceConstants,
+    structure: &DiskStructure,
+    composition: &Composition,
+    out: GridOutput<'_>,
+) {
+    solve_grid_portable(balance, structure, composition, out)
+}
+
+/// The body of [`solve_grid`], inlined into each version: column by column (the composition
+/// is per radial cell), in blocks of places, the species-independent quantities once per place,
+/// then one vectorised pass per species.
+#[inline(always)]
+fn solve_grid_portable(
+    balance: &BalanceConstants,
+    structure: &DiskStructure,
+    composition: &Composition,
+    out: GridOutput<'_>,
+) {
+    let n = structure.samples.temperature_k.len();
+    let spc = structure.samples_per_column;
+    let s = &structure.samples;
+    let mut block = SampleBlock::new();
+    for j in 0..n / spc.max(1) {
+        let totals = composition.species_per_h_in_cell(j);
+        let mut start = j * spc;
+        let end = start + spc;
+        while start < end {
+            let stop = (start + BLOCK).min(end);
+            let r = start..stop;
+            balance.fill_block(
+                &mut block,
+                &s.temperature_k[r.clone()],
+                &s.density_g_cm3[r.clone()],
+                &s.fuv_photon_flux_cm2_s[r.clone()],
+                &s.ionization_rate_s[r.clone()],
+                &s.hydrogen_density_cm3[r],
+            );
+            for (i, &per_h) in totals.iter().enumerate() {
+                let r = i * n + start..i * n + stop;
+                balance.solve_block(
+                    i,
+                    per_h,
+                    &block,
+                    BlockOutput {
+                        ice_fraction: &mut out.ice_fraction[r.clone()],
+                        equilibrium_ice_fraction: &mut out.equilibrium_ice_fraction[r.clone()],
+                        equilibration_time_s: &mut out.equilibration_time_s[r.clone()],
+                        out_of_equilibrium: &mut out.out_of_equilibrium[r],
+                    },
+                );
+            }
+            start = stop;
+        }
+    }
+}
+
 /// The solved ice balance on a grid: per species and sample, the ice fraction at the disk's age,
 /// its equilibrium, the equilibration time and whether the ice is out of equilibrium.
 #[derive(Debug, Clone, PartialEq, Default)]
 pub struct IceBalance {
     samples: usize,
-    // Flat, species-major: index species * samples + sample.
-    ice_fraction: Vec<f64>,
-    equilibrium_ice_fraction: Vec<f64>,
-    equilibration_time_s: Vec<f64>,
+    // Flat, species-major: index species * samples + sample. The three per-sample numbers are
+    // one allocation, the ice fractions, the equilibrium fractions and the equilibration times
+    // one after another (each SPECIES_COUNT * samples long). With glibc's malloc, whose mmap and
+    // trim thresholds grow with the largest block freed, one block of 3 x 4.6 MB (400 x 160)
+    // stays in the heap from one fresh run to the next, where three of 4.6 MB were unmapped and
+    // faulted in again each run (`model_fresh/400x160` in `cargo xtask bench`).
+    values: Vec<f64>,
     out_of_equilibrium: Vec<bool>,
 }
 
@@ -123,49 +231,19 @@ impl IceBalance {
         self.samples = n;
         // Every entry is written below. A new size gets fresh zeroed buffers (not filled first),
         // the same size keeps the buffers (no allocation).
-        if self.ice_fraction.len() != total {
-            self.ice_fraction = vec![0.0; total];
-            self.equilibrium_ice_fraction = vec![0.0; total];
-            self.equilibration_time_s = vec![0.0; total];
+        if self.out_of_equilibrium.len() != total {
+            self.values = vec![0.0; 3 * total];
             self.out_of_equilibrium = vec![false; total];
         }
-        let spc = structure.samples_per_column;
-        let s = &structure.samples;
-        // Column by column (the composition is per radial cell), in blocks of places: the
-        // species-independent quantities once per place, then one vectorised pass per species.
-        let mut block = SampleBlock::new();
-        for j in 0..n / spc.max(1) {
-            let totals = composition.species_per_h_in_cell(j);
-            let mut start = j * spc;
-            let end = start + spc;
-            while start < end {
-                let stop = (start + BLOCK).min(end);
-                let r = start..stop;
-                balance.fill_block(
-                    &mut block,
-                    &s.temperature_k[r.clone()],
-                    &s.density_g_cm3[r.clone()],
-                    &s.fuv_photon_flux_cm2_s[r.clone()],
-                    &s.ionization_rate_s[r.clone()],
-                    &s.hydrogen_density_cm3[r],
-                );
-                for (i, &per_h) in totals.iter().enumerate() {
-                    let r = i * n + start..i * n + stop;
-                    balance.solve_block(
-                        i,
-                        per_h,
-                        &block,
-                        BlockOutput {
-                            ice_fraction: &mut self.ice_fraction[r.clone()],
-                            equilibrium_ice_fraction: &mut self.equilibrium_ice_fraction[r.clone()],
-                            equilibration_time_s: &mut self.equilibration_time_s[r.clone()],
-                            out_of_equilibrium: &mut self.out_of_equilibrium[r],
-                        },
-                    );
-                }
-                start = stop;
-            }
-        }
+        let (ice_fraction, rest) = self.values.split_at_mut(total);
+        let (equilibrium_ice_fraction, equilibration_time_s) = rest.split_at_mut(total);
+        let out = GridOutput {
+            ice_fraction,
+            equilibrium_ice_fraction,
+            equilibration_time_s,
+            out_of_equilibrium: &mut self.out_of_equilibrium,
+        };
+        solve_grid(balance, structure, composition, out);
     }
 
     /// Number of samples per species.
@@ -180,23 +258,107 @@ impl IceBalance {
 
     /// Ice fraction at the disk's age of `species` in every sample (flat sample index).
     pub fn ice_fraction(&self, species: Species) -> &[f64] {
-        &self.ice_fraction[self.range(species)]
+        &self.values[self.range(species)]
     }
 
     /// Equilibrium ice fraction (the long-time limit) of `species` in every sample.
     pub fn equilibrium_ice_fraction(&self, species: Species) -> &[f64] {
-        &self.equilibrium_ice_fraction[self.range(species)]
+        let r = self.range(species);
+        let total = SPECIES_COUNT * self.samples;
+        &self.values[total + r.start..total + r.end]
     }
 
     /// Equilibration time [s] of `species` in every sample (NaN where undefined: step model, no
     /// grains or no molecules).
     pub fn equilibration_time_s(&self, species: Species) -> &[f64] {
-        &self.equilibration_time_s[self.range(species)]
+        let r = self.range(species);
+        let total = SPECIES_COUNT * self.samples;
+        &self.values[2 * total + r.start..2 * total + r.end]
     }
 
     /// Whether `species` is out of equilibrium at the disk's age in every sample (equilibration
     /// time longer than the age, or f_ice still more than 0.01 from its equilibrium).
     pub fn out_of_equilibrium(&self, species: Species) -> &[bool] {
         &self.out_of_equilibrium[self.range(species)]
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// The AVX2 and AVX-512F versions of the grid loop give the portable version's bits, over
+    /// whole grids of disks that reach every branch of the ice balance (derived, D). Versions the
+    /// processor lacks are skipped; the portable one is what WebAssembly runs. Meaningful in an
+    /// optimised build (`cargo test --release`), where the versions are vectorised differently.
+    #[cfg(target_arch = "x86_64")]
+    #[test]
+    #[allow(unsafe_code)]
+    fn vector_versions_give_the_same_bits() {
+        use crate::params::{DesorptionModel, InitialIceState};
+        use crate::{Model, ModelParameters};
+        let avx2 = std::arch::is_x86_feature_detected!("avx2");
+        let avx512 = std::arch::is_x86_feature_detected!("avx512f");
+        let mut compared = 0usize;
+        for (desorption, initial, age_myr) in [
+            (
+                DesorptionModel::ZerothOrder,
+                InitialIceState::Inherited,
+                1.0,
+            ),
+            (DesorptionModel::ZerothOrder, InitialIceState::Gas, 0.01),
+            (
+                DesorptionModel::FirstOrder,
+                InitialIceState::Equilibrium,
+                1.0,
+            ),
+            (
+                DesorptionModel::FixedTemperature,
+                InitialIceState::Inherited,
+                1.0,
+            ),
+        ] {
+            let mut p = ModelParameters::defaults();
+            p.grid.radial_cells = 40;
+            p.grid.vertical_cells = 45;
+            p.ices.desorption = desorption;
+            p.ices.initial_state = initial;
+            p.disk.age_myr = age_myr;
+            let model = Model::run(&p).unwrap();
+            let balance = BalanceConstants::new(&p, model.species_properties());
+            let total = SPECIES_COUNT * model.sample_count();
+            let run = |version: u8| {
+                let mut values = vec![0.0; 3 * total];
+                let mut flags = vec![false; total];
+                let (ice_fraction, rest) = values.split_at_mut(total);
+                let (equilibrium_ice_fraction, equilibration_time_s) = rest.split_at_mut(total);
+                let out = GridOutput {
+                    ice_fraction,
+                    equilibrium_ice_fraction,
+                    equilibration_time_s,
+                    out_of_equilibrium: &mut flags,
+                };
+                let (st, c) = (model.structure(), model.composition());
+                match version {
+                    // SAFETY: called only when the processor has AVX2 (checked above).
+                    1 => unsafe { solve_grid_avx2(&balance, st, c, out) },
+                    // SAFETY: called only when the processor has AVX-512F (checked above).
+                    2 => unsafe { solve_grid_avx512(&balance, st, c, out) },
+                    _ => solve_grid_portable(&balance, st, c, out),
+                }
+                let bits: Vec<u64> = values.iter().map(|x| x.to_bits()).collect();
+                (bits, flags)
+            };
+            let portable = run(0);
+            if avx2 {
+                assert!(run(1) == portable, "AVX2, {desorption:?} {initial:?}");
+                compared += 1;
+            }
+            if avx512 {
+                assert!(run(2) == portable, "AVX-512F, {desorption:?} {initial:?}");
+                compared += 1;
+            }
+        }
+        eprintln!("{compared} grids compared (AVX2: {avx2}, AVX-512F: {avx512})");
     }
 }

@@ -140,6 +140,100 @@ pub fn exp_poly(x: f64) -> f64 {
     }
 }
 
+/// cos(x) by the same operations as libm's `cos` (fdlibm's `__cos`/`__sin` kernels and its
+/// one-step reduction by pi/2), written branch-free so that a loop over arguments vectorises,
+/// for |x| <= pi/4 and for 0 < x <= 3 pi/4 except the few arguments whose high word is that of
+/// pi/2 (there libm reduces more precisely). Returns the value and whether x is in that range;
+/// outside it the value is meaningless and the caller must use [`cos`]. Where it returns
+/// `true` the value equals libm's `cos(x)` bit for bit (the same operations in the same order;
+/// `tests::cos_reduced_equals_libm_bit_for_bit`).
+#[inline(always)]
+pub fn cos_reduced(x: f64) -> (f64, bool) {
+    // fdlibm's kernel coefficients (k_cos.c, k_sin.c) and pi/2 split (e_rem_pio2.c), by their bits.
+    const C1: f64 = f64::from_bits(0x3fa5_5555_5555_554c);
+    const C2: f64 = f64::from_bits(0xbf56_c16c_16c1_5177);
+    const C3: f64 = f64::from_bits(0x3efa_01a0_19cb_1590);
+    const C4: f64 = f64::from_bits(0xbe92_7e4f_809c_52ad);
+    const C5: f64 = f64::from_bits(0x3e21_ee9e_bdb4_b1c4);
+    const C6: f64 = f64::from_bits(0xbda8_fae9_be88_38d4);
+    const S1: f64 = f64::from_bits(0xbfc5_5555_5555_5549);
+    const S2: f64 = f64::from_bits(0x3f81_1111_1110_f8a6);
+    const S3: f64 = f64::from_bits(0xbf2a_01a0_19c1_61d5);
+    const S4: f64 = f64::from_bits(0x3ec7_1de3_57b1_fe7d);
+    const S5: f64 = f64::from_bits(0xbe5a_e5e6_8a2b_9ceb);
+    const S6: f64 = f64::from_bits(0x3de5_d93a_5acf_d57c);
+    const PIO2_1: f64 = f64::from_bits(0x3ff9_21fb_5440_0000);
+    const PIO2_1T: f64 = f64::from_bits(0x3dd0_b461_1a62_6331);
+    let bits = x.to_bits();
+    let high = ((bits >> 32) as u32) & 0x7fff_ffff;
+    let positive = (bits >> 63) == 0;
+    // |x| <= pi/4: __cos(x, 0), or exactly 1 below 2^-27 sqrt(2).
+    let small = high <= 0x3fe9_21fb;
+    let tiny = high < 0x3e46_a09e;
+    let k_cos = |x: f64, y: f64| {
+        let z = x * x;
+        let w = z * z;
+        let r = z * (C1 + z * (C2 + z * C3)) + w * w * (C4 + z * (C5 + z * C6));
+        let hz = 0.5 * z;
+        let w = 1.0 - hz;
+        w + (((1.0 - w) - hz) + (z * r - x * y))
+    };
+    let near = k_cos(x, 0.0);
+    // pi/4 < x <= 3 pi/4: n = 1, y = x - pi/2 in two parts, cos x = -__sin(y0, y1, 1).
+    let z = x - PIO2_1;
+    let y0 = z - PIO2_1T;
+    let y1 = (z - y0) - PIO2_1T;
+    let zz = y0 * y0;
+    let w = zz * zz;
+    let r = S2 + zz * (S3 + zz * S4) + zz * w * (S5 + zz * S6);
+    let v = zz * y0;
+    let far = -(y0 - ((zz * (0.5 * y1 - v * r) - y1) - v * S1));
+    let value = if tiny {
+        1.0
+    } else if small {
+        near
+    } else {
+        far
+    };
+    let reduced = positive & (high <= 0x4002_d97c) & ((high & 0x000f_ffff) != 0x0009_21fb);
+    (value, small | reduced)
+}
+
+/// x^n by binary powering, the same multiplications in the same order as the runtime routine
+/// `f64::powi` calls for an exponent not known at compile time (`__powidf2` of LLVM's
+/// compiler-rt and of Rust's `compiler_builtins`: multiply the result by x for each set bit of
+/// |n| from the lowest, squaring x between bits; 1/result for n < 0), applied to a whole slice
+/// so that the loops vectorise. `scratch` must be as long as `values`; on return `values[i]` is
+/// `values[i].powi(n)` bit for bit (`tests::powi_slice_equals_powi`).
+#[inline(always)]
+pub fn powi_slice(values: &mut [f64], scratch: &mut [f64], n: i32) {
+    let scratch = &mut scratch[..values.len()];
+    // scratch holds the result so far, values the running square.
+    scratch.fill(1.0);
+    let mut bits = n.unsigned_abs();
+    loop {
+        if bits & 1 != 0 {
+            for (m, &a) in scratch.iter_mut().zip(values.iter()) {
+                *m *= a;
+            }
+        }
+        bits >>= 1;
+        if bits == 0 {
+            break;
+        }
+        for a in values.iter_mut() {
+            *a *= *a;
+        }
+    }
+    if n < 0 {
+        for (v, &m) in values.iter_mut().zip(scratch.iter()) {
+            *v = 1.0 / m;
+        }
+    } else {
+        values.copy_from_slice(scratch);
+    }
+}
+
 /// An upper bound of ln(y) for y >= 1 from the binary exponent alone: (e + 1) ln 2 with
 /// 2^e <= y < 2^(e+1), so it is never below ln y and at most ln 2 above it. Branch-free
 /// (vectorised like [`exp_poly`]); y must be finite (infinity and NaN give a finite bound).
@@ -230,5 +324,69 @@ mod tests {
             );
         }
         assert_eq!(ln_upper_bound(1.0), core::f64::consts::LN_2);
+    }
+
+    #[test]
+    fn cos_reduced_equals_libm_bit_for_bit() {
+        // Reference: libm's cos. Wide uniform samples over the range the fast path covers and
+        // beyond it (where it must say so), plus the edges of its branches.
+        let mut covered = 0usize;
+        let mut samples: Vec<f64> = uniform(400_000).map(|u| u * 2.5).collect();
+        samples.extend(uniform(200_000).map(|u| (u - 0.5) * 2.0 * core::f64::consts::FRAC_PI_4));
+        samples.extend(uniform(100_000).map(|u| u * 1e-6));
+        samples.extend(uniform(100_000).map(|u| core::f64::consts::FRAC_PI_2 + (u - 0.5) * 1e-5));
+        for high in [
+            0x3fe9_21fbu64,
+            0x3fe9_21fc,
+            0x3e46_a09e,
+            0x3e46_a09d,
+            0x4002_d97c,
+            0x4002_d97d,
+            0x3ff9_21fb,
+            0x3ff9_21fa,
+        ] {
+            for low in [0u64, 1, 0x5444_2d18, 0xffff_ffff] {
+                samples.push(f64::from_bits((high << 32) | low));
+            }
+        }
+        samples.extend([
+            0.0,
+            -0.0,
+            1e-300,
+            5e-324,
+            -1.0,
+            -3.0,
+            4.0,
+            f64::NAN,
+            f64::INFINITY,
+        ]);
+        for x in samples {
+            let (got, ok) = cos_reduced(x);
+            if ok {
+                covered += 1;
+                assert_eq!(got.to_bits(), libm::cos(x).to_bits(), "x = {x:e}");
+            } else {
+                // Only NaN, infinities, negative arguments beyond pi/4, arguments beyond 3 pi/4
+                // and those with pi/2's high word go to libm.
+                let high = (x.to_bits() >> 32) & 0x7fff_ffff;
+                let elsewhere = !(-core::f64::consts::FRAC_PI_4..=2.35).contains(&x);
+                assert!(elsewhere || high == 0x3ff9_21fb, "{x:e} should be covered");
+            }
+        }
+        assert!(covered > 700_000, "{covered}");
+    }
+
+    #[test]
+    fn powi_slice_equals_powi() {
+        let xs: Vec<f64> = uniform(10_000).map(|u| (u - 0.3) * 3.0).collect();
+        for n in -9..=40 {
+            let n = std::hint::black_box(n);
+            let mut values = xs.clone();
+            let mut scratch = vec![0.0; xs.len()];
+            powi_slice(&mut values, &mut scratch, n);
+            for (&x, &v) in xs.iter().zip(&values) {
+                assert_eq!(v.to_bits(), x.powi(n).to_bits(), "{x}^{n}");
+            }
+        }
     }
 }

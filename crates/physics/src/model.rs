@@ -140,6 +140,51 @@ impl Model {
         Ok(model)
     }
 
+    /// [`Model::run`] into this model's own buffers: the same result bit for bit, without
+    /// allocating the per-sample arrays again when the grid keeps its size (what the page does
+    /// when an edit changes the star, the disk or the grid; [`crate::rerun`]'s full branch).
+    /// On an error the model is left as it was.
+    pub fn run_into(&mut self, parameters: &ModelParameters) -> Result<(), PhysicsError> {
+        if self.structure.has_given_surface_density() || !self.composition.is_uniform() {
+            // The structure or the composition was given, not computed from the parameters:
+            // this model could not be rebuilt after a failed finite check, so the run goes to
+            // fresh buffers.
+            *self = Model::run(parameters)?;
+            return Ok(());
+        }
+        let previous = self.parameters.clone();
+        let result = self.overwrite(parameters);
+        if result.is_err() && self.parameters != previous {
+            // Only the finite check fails after the buffers were written. The previous
+            // parameters ran to this model (every model of a computed structure equals
+            // `Model::run` of its parameters bit for bit), so running them again restores it;
+            // that run cannot fail where it succeeded before.
+            let _ = self.overwrite(&previous);
+        }
+        result
+    }
+
+    /// The stages of [`Model::run`] written into this model's buffers: every fallible step
+    /// before any buffer is written, then the finite check.
+    fn overwrite(&mut self, parameters: &ModelParameters) -> Result<(), PhysicsError> {
+        let plan = DiskStructure::plan(parameters)?;
+        let composition = Composition::uniform_on(
+            parameters,
+            &self.table,
+            plan.radial_cells(),
+            plan.early_soot_line_radius_cm,
+        )?;
+        self.structure.fill(parameters, plan);
+        self.parameters = parameters.clone();
+        self.table = SpeciesTable::built_in();
+        self.species = species_properties(parameters, &self.table);
+        self.balance = BalanceConstants::new(parameters, &self.species);
+        self.composition = composition;
+        self.ices
+            .solve_into(&self.structure, &self.composition, &self.balance);
+        crate::finite::check_finite(self)
+    }
+
     /// This disk with other ice parameters: only the ice balance is re-solved (the structure
     /// and composition do not depend on them), equal bit for bit to
     /// `Model::run` of the edited parameters.

@@ -76,7 +76,7 @@ pub fn rerun(model: &mut Model, parameters: &ModelParameters) -> Result<Rerun, P
     let stages = stages_to_rerun(model.parameters(), parameters);
     match stages {
         Rerun::Nothing => {}
-        Rerun::Everything => *model = Model::run(parameters)?,
+        Rerun::Everything => model.run_into(parameters)?,
         Rerun::Ices => {
             let previous = model.parameters().ices.clone();
             model.set_ices(&parameters.ices);

@@ -3,7 +3,7 @@
 //! per column, and the radiation fields (columns, A_V, FUV, cosmic rays).
 
 use crate::error::PhysicsError;
-use crate::math::{cos, exp, exp_poly, ln, pow, root4, sqrt};
+use crate::math::{cos, cos_reduced, exp, exp_poly, ln, pow, powi_slice, root4, sqrt};
 use crate::opacity::bell_lin_1994_cm2_per_g;
 use crate::params::{
     GasMassMeaning, ModelParameters, Opacity, SootLine, TemperatureLaw, VerticalTemperature,
@@ -668,6 +668,23 @@ impl Column {
         }
     }
 
+    /// Give every field `n` samples, keeping the buffers (and their values) when the length is
+    /// already `n`; new entries are zero.
+    pub(crate) fn resize(&mut self, n: usize) {
+        for v in [
+            &mut self.height_cm,
+            &mut self.temperature_k,
+            &mut self.density_g_cm3,
+            &mut self.hydrogen_density_cm3,
+            &mut self.column_above_g_cm2,
+            &mut self.visual_extinction_mag,
+            &mut self.fuv_photon_flux_cm2_s,
+            &mut self.ionization_rate_s,
+        ] {
+            v.resize(n, 0.0);
+        }
+    }
+
     /// Append another column's samples (the grid stores all columns one after another).
     pub fn append(&mut self, other: &Column) {
         self.height_cm.extend_from_slice(&other.height_cm);
@@ -773,6 +790,53 @@ impl VerticalProfile {
         };
         self.t_atm + (self.t_mid - self.t_atm) * shape
     }
+
+    /// `out[i] = self.temperature_k(index[i] * dz)` for every fine point, bit for bit, in
+    /// passes that vectorise when 2 delta is a whole number: the cosines by
+    /// [`cos_reduced`] (libm's operations; the rare argument outside its range by libm's
+    /// [`cos`] itself), the power by [`powi_slice`] (`powi`'s multiplications), then the blend.
+    /// `scratch` (as long as `out`) is overwritten.
+    #[inline(always)]
+    fn fill(&self, index: &[f64], dz: f64, out: &mut [f64], scratch: &mut [f64]) {
+        let out = &mut out[..index.len()];
+        let n = match self.integer_exponent {
+            Some(n) if !self.t_atm.is_nan() => n,
+            _ => {
+                for (t, &i) in out.iter_mut().zip(index) {
+                    *t = self.temperature_k(i * dz);
+                }
+                return;
+            }
+        };
+        let z_q = self.z_q;
+        // The cosines (above z_q they are not used; any value will do there).
+        let mut covered = true;
+        for (c, &i) in out.iter_mut().zip(index) {
+            let z = i * dz;
+            let (value, ok) = cos_reduced(PI * z / (2.0 * z_q));
+            *c = value;
+            covered &= ok | (z >= z_q);
+        }
+        if !covered {
+            for (c, &i) in out.iter_mut().zip(index) {
+                let z = i * dz;
+                let x = PI * z / (2.0 * z_q);
+                if z < z_q && !cos_reduced(x).1 {
+                    *c = cos(x);
+                }
+            }
+        }
+        powi_slice(out, scratch, n);
+        let (t_mid, t_atm) = (self.t_mid, self.t_atm);
+        for (t, &i) in out.iter_mut().zip(index) {
+            let shape = *t;
+            *t = if i * dz >= z_q {
+                t_atm
+            } else {
+                t_atm + (t_mid - t_atm) * shape
+            };
+        }
+    }
 }
 
 /// Build one column in hydrostatic equilibrium (docs/model.md sections 5-6).
@@ -818,12 +882,18 @@ struct FineGrid {
     integrand: Vec<f64>,
     rho: Vec<f64>,
     above: Vec<f64>,
+    /// The trapezoid terms 0.5 (y_i + y_(i+1)) dz of the quantity being integrated.
+    term: Vec<f64>,
 }
 
 /// [`column`] written into `out` at samples `base..base + N_z + 1`, with scratch `fine`. The
 /// exponentials go through [`exp_poly`]; the loops over fine points and over samples are
 /// written as separate passes so that the compiler vectorises them.
-#[allow(clippy::too_many_arguments)]
+///
+/// On x86-64 the same code is compiled again for AVX2 and for AVX-512F (wider vectors of the
+/// same IEEE operations, no fused multiply-add) and chosen at run time; every version gives
+/// the same bits. WebAssembly and other targets use the portable version.
+#[allow(clippy::too_many_arguments, unsafe_code)]
 fn fill_column(
     c: &DiskConstants,
     radius_cm: f64,
@@ -834,6 +904,42 @@ fn fill_column(
     out: &mut Column,
     base: usize,
 ) {
+    let args = (c, radius_cm, sigma_g_cm2, t_mid, flaring_angle);
+    #[cfg(target_arch = "x86_64")]
+    {
+        if std::arch::is_x86_feature_detected!("avx512f") {
+            // SAFETY: the processor has AVX-512F, checked on the line above.
+            return unsafe { fill_column_avx512(args, fine, out, base) };
+        }
+        if std::arch::is_x86_feature_detected!("avx2") {
+            // SAFETY: the processor has AVX2, checked on the line above.
+            return unsafe { fill_column_avx2(args, fine, out, base) };
+        }
+    }
+    fill_column_portable(args, fine, out, base)
+}
+
+/// The scalar arguments of [`fill_column`]: constants, radius, Sigma, T_mid, grazing angle.
+type ColumnArgs<'a> = (&'a DiskConstants, f64, f64, f64, f64);
+
+/// [`fill_column`] compiled for AVX-512F.
+#[cfg(target_arch = "x86_64")]
+#[target_feature(enable = "avx512f")]
+fn fill_column_avx512(args: ColumnArgs<'_>, fine: &mut FineGrid, out: &mut Column, base: usize) {
+    fill_column_portable(args, fine, out, base)
+}
+
+/// [`fill_column`] compiled for AVX2.
+#[cfg(target_arch = "x86_64")]
+#[target_feature(enable = "avx2")]
+fn fill_column_avx2(args: ColumnArgs<'_>, fine: &mut FineGrid, out: &mut Column, base: usize) {
+    fill_column_portable(args, fine, out, base)
+}
+
+/// The body of [`fill_column`], inlined into each version.
+#[inline(always)]
+fn fill_column_portable(args: ColumnArgs<'_>, fine: &mut FineGrid, out: &mut Column, base: usize) {
+    let (c, radius_cm, sigma_g_cm2, t_mid, flaring_angle) = args;
     let n_z = c.vertical_cells;
     let h_mid = scale_height_cm(c.star_mass_g, t_mid, radius_cm);
     let z_max = c.max_height_scale_heights * h_mid;
@@ -853,9 +959,7 @@ fn fill_column(
     fine.rho.resize(points, 0.0);
     fine.above.resize(points, 0.0);
     let profile = VerticalProfile::new(c, radius_cm, t_mid, h_mid);
-    for (i, t) in fine.temperature.iter_mut().enumerate() {
-        *t = profile.temperature_k(i as f64 * dz);
-    }
+    profile.fill(&fine.index, dz, &mut fine.temperature, &mut fine.integrand);
     for ((g, &t), &i) in fine
         .integrand
         .iter_mut()
@@ -867,31 +971,39 @@ fn fill_column(
         // (mu m_H / (k T)) G M z / (r^2 + z^2)^(3/2), with one division.
         *g = gravity * z / (t * (s * sqrt(s)));
     }
-    // The trapezoid integral from the midplane, held (negated) in `above` for now.
+    // The trapezoid integral from the midplane, held (negated) in `above` for now. Each
+    // running sum below first forms its terms 0.5 (y_i + y_(i+1)) dz in a pass that vectorises,
+    // then adds them in order with the sum held in a register: the same additions in the same
+    // order as summing term by term.
+    trapezoid_terms(&mut fine.term, &fine.integrand, dz);
     let mut integral = 0.0;
     fine.above[0] = 0.0;
-    for i in 1..points {
-        integral += 0.5 * (fine.integrand[i - 1] + fine.integrand[i]) * dz;
-        fine.above[i] = -integral;
+    for (a, &t) in fine.above[1..].iter_mut().zip(&fine.term) {
+        integral += t;
+        *a = -integral;
     }
     for ((r, &t), &minus_integral) in fine.rho.iter_mut().zip(&fine.temperature).zip(&fine.above) {
         *r = t_mid / t * exp_poly(minus_integral);
     }
     // Normalise: 2 * trapz(rho) = Sigma.
-    let rho = &mut fine.rho;
+    trapezoid_terms(&mut fine.term, &fine.rho, dz);
     let mut half = 0.0;
-    for i in 0..n_fine {
-        half += 0.5 * (rho[i] + rho[i + 1]) * dz;
+    for &t in &fine.term {
+        half += t;
     }
     let scale = sigma_g_cm2 / (2.0 * half);
-    for r in rho.iter_mut() {
+    for r in fine.rho.iter_mut() {
         *r *= scale;
     }
     // Column above each fine point, from the top down.
+    trapezoid_terms(&mut fine.term, &fine.rho, dz);
+    let rho = &fine.rho;
     let above = &mut fine.above;
     above[n_fine] = 0.0;
-    for i in (0..n_fine).rev() {
-        above[i] = above[i + 1] + 0.5 * (rho[i] + rho[i + 1]) * dz;
+    let mut sum = 0.0;
+    for (a, &t) in above[..n_fine].iter_mut().zip(&fine.term).rev() {
+        sum += t;
+        *a = sum;
     }
 
     let samples = n_z + 1;
@@ -929,6 +1041,16 @@ fn fill_column(
             * (g_star * exp_poly(-2.0 * av / flaring_angle)
                 + c.interstellar_fuv_habing * exp_poly(-2.0 * av))
             + 1.0e4 * zeta / REFERENCE_COSMIC_RAY_RATE_S;
+    }
+}
+
+/// The trapezoid terms 0.5 (y_i + y_(i+1)) dz, i = 0 .. len(y) - 2, into `term`.
+#[inline(always)]
+fn trapezoid_terms(term: &mut Vec<f64>, y: &[f64], dz: f64) {
+    let n = y.len().saturating_sub(1);
+    term.resize(n, 0.0);
+    for ((t, &a), &b) in term.iter_mut().zip(&y[..n]).zip(&y[1..]) {
+        *t = 0.5 * (a + b) * dz;
     }
 }
 
@@ -984,6 +1106,63 @@ pub fn early_soot_line_radius_cm(
     Ok(None)
 }
 
+/// The radial part of a structure, everything that can fail, computed before any per-sample
+/// array is written ([`DiskStructure::compute_into`] leaves the structure as it was on an error).
+#[derive(Debug)]
+pub(crate) struct Plan {
+    constants: DiskConstants,
+    radii: Vec<f64>,
+    sigma: Vec<f64>,
+    phi: Vec<f64>,
+    mid: Vec<MidplaneTemperature>,
+    pub(crate) early_soot_line_radius_cm: Option<f64>,
+    given_surface_density: bool,
+}
+
+impl Plan {
+    /// The plan of [`DiskStructure::compute`].
+    fn compute(p: &ModelParameters) -> Result<Plan, PhysicsError> {
+        let c = DiskConstants::new(p)?;
+        let radii =
+            radial_cell_centres_cm(c.inner_radius_cm, c.outer_radius_cm, p.grid.radial_cells);
+        let sigma: Vec<f64> = radii
+            .iter()
+            .map(|&r| surface_density_g_cm2(&c, r))
+            .collect();
+        Plan::new(p, c, radii, sigma, false)
+    }
+
+    fn new(
+        p: &ModelParameters,
+        c: DiskConstants,
+        radii: Vec<f64>,
+        sigma: Vec<f64>,
+        given_surface_density: bool,
+    ) -> Result<Plan, PhysicsError> {
+        let (phi, mid) = flaring_solution(&c, p.disk.self_consistent_flaring, &radii, &sigma)?;
+        let early_soot_line_radius_cm = match p.composition.soot_line {
+            SootLine::Irreversible => {
+                early_soot_line_radius_cm(p, &radii, p.composition.soot_line_k)?
+            }
+            SootLine::Reversible => None,
+        };
+        Ok(Plan {
+            constants: c,
+            radii,
+            sigma,
+            phi,
+            mid,
+            early_soot_line_radius_cm,
+            given_surface_density,
+        })
+    }
+
+    /// Number of radial cells.
+    pub(crate) fn radial_cells(&self) -> usize {
+        self.radii.len()
+    }
+}
+
 /// The disk structure on the grid. Per-radius arrays have N_r entries;
 /// per-sample arrays are flat with stride N_z + 1 (sample 0 is the midplane z = 0,
 /// sample k + 1 the centre of vertical cell k).
@@ -1030,6 +1209,12 @@ impl DiskStructure {
             .map(|&r| surface_density_g_cm2(&c, r))
             .collect();
         DiskStructure::build(p, c, radii, sigma, false)
+    }
+
+    /// Whether the surface density was given ([`DiskStructure::from_surface_density`]) rather
+    /// than computed from the parameters' profile.
+    pub(crate) fn has_given_surface_density(&self) -> bool {
+        self.given_surface_density
     }
 
     /// The structure for a GIVEN gas surface density `sigma_g_cm2[j]` at radii `radius_cm[j]`
@@ -1092,12 +1277,58 @@ impl DiskStructure {
         sigma: Vec<f64>,
         given_surface_density: bool,
     ) -> Result<DiskStructure, PhysicsError> {
-        let (phi, mid) = flaring_solution(&c, p.disk.self_consistent_flaring, &radii, &sigma)?;
+        let plan = Plan::new(p, c, radii, sigma, given_surface_density)?;
+        let mut structure = DiskStructure {
+            given_surface_density,
+            early_soot_line_radius_cm: None,
+            constants: plan.constants.clone(),
+            radial_cells: 0,
+            samples_per_column: 0,
+            midplane_temperature_k: Vec::new(),
+            irradiation_temperature_k: Vec::new(),
+            accretion_temperature_k: Vec::new(),
+            radius_cm: Vec::new(),
+            surface_density_g_cm2: Vec::new(),
+            scale_height_cm: Vec::new(),
+            flaring_angle: Vec::new(),
+            samples: Column::with_capacity(0),
+        };
+        structure.fill(p, plan);
+        Ok(structure)
+    }
+
+    /// [`DiskStructure::compute`] into this structure's own buffers: the same numbers bit for
+    /// bit, without allocating the per-sample arrays again when the grid keeps its size (what
+    /// the page does when an edit changes the star, the disk or the grid). On an error the
+    /// structure is left as it was.
+    pub fn compute_into(&mut self, p: &ModelParameters) -> Result<(), PhysicsError> {
+        let plan = Plan::compute(p)?;
+        self.fill(p, plan);
+        Ok(())
+    }
+
+    /// Every fallible step of [`DiskStructure::compute`] with nothing written yet.
+    pub(crate) fn plan(p: &ModelParameters) -> Result<Plan, PhysicsError> {
+        Plan::compute(p)
+    }
+
+    /// Write the columns and radial fields of `plan` into this structure's buffers (cannot fail).
+    pub(crate) fn fill(&mut self, p: &ModelParameters, plan: Plan) {
+        let Plan {
+            constants: c,
+            radii,
+            sigma,
+            phi,
+            mid,
+            early_soot_line_radius_cm,
+            given_surface_density,
+        } = plan;
         let samples_per_column = p.grid.vertical_cells + 1;
         let total = radii.len() * samples_per_column;
-        let mut samples = Column::zeroed(total);
+        // Every entry is written below; the same size keeps the buffers.
+        self.samples.resize(total);
         let mut fine = FineGrid::default();
-        let mut h = Vec::with_capacity(radii.len());
+        self.scale_height_cm.clear();
         for j in 0..radii.len() {
             fill_column(
                 &c,
@@ -1106,36 +1337,34 @@ impl DiskStructure {
                 mid[j].temperature_k,
                 phi[j],
                 &mut fine,
-                &mut samples,
+                &mut self.samples,
                 j * samples_per_column,
             );
-            h.push(scale_height_cm(
+            self.scale_height_cm.push(scale_height_cm(
                 c.star_mass_g,
                 mid[j].temperature_k,
                 radii[j],
             ));
         }
-        let early_soot_line_radius_cm = match p.composition.soot_line {
-            SootLine::Irreversible => {
-                early_soot_line_radius_cm(p, &radii, p.composition.soot_line_k)?
-            }
-            SootLine::Reversible => None,
+        let refill = |v: &mut Vec<f64>, f: &dyn Fn(&MidplaneTemperature) -> f64| {
+            v.clear();
+            v.extend(mid.iter().map(f));
         };
-        Ok(DiskStructure {
-            given_surface_density,
-            early_soot_line_radius_cm,
-            constants: c,
-            radial_cells: radii.len(),
-            samples_per_column,
-            midplane_temperature_k: mid.iter().map(|m| m.temperature_k).collect(),
-            irradiation_temperature_k: mid.iter().map(|m| m.irradiation_temperature_k).collect(),
-            accretion_temperature_k: mid.iter().map(|m| m.accretion_temperature_k).collect(),
-            radius_cm: radii,
-            surface_density_g_cm2: sigma,
-            scale_height_cm: h,
-            flaring_angle: phi,
-            samples,
-        })
+        refill(&mut self.midplane_temperature_k, &|m| m.temperature_k);
+        refill(&mut self.irradiation_temperature_k, &|m| {
+            m.irradiation_temperature_k
+        });
+        refill(&mut self.accretion_temperature_k, &|m| {
+            m.accretion_temperature_k
+        });
+        self.given_surface_density = given_surface_density;
+        self.early_soot_line_radius_cm = early_soot_line_radius_cm;
+        self.constants = c;
+        self.radial_cells = radii.len();
+        self.samples_per_column = samples_per_column;
+        self.radius_cm = radii;
+        self.surface_density_g_cm2 = sigma;
+        self.flaring_angle = phi;
     }
 
     /// Derived constants of the disk (cgs).
@@ -1379,5 +1608,88 @@ mod tests {
         let a1 = visual_extinction_per_hydrogen_mag_cm2(0.01, 0.01 * MICRON_CM, 3.0);
         let a2 = visual_extinction_per_hydrogen_mag_cm2(0.01, 0.05 * MICRON_CM, 3.0);
         assert!((a1 / a2 - 1.0).abs() < 1e-12, "{a1} {a2}");
+    }
+
+    /// The AVX2 and AVX-512F versions of the column fill give the portable version's bits, for
+    /// the vertical laws that take each path (isothermal, whole and fractional 2 delta, a
+    /// transition above the grid) (derived, D). Versions the processor lacks are skipped.
+    #[cfg(target_arch = "x86_64")]
+    #[test]
+    #[allow(unsafe_code)]
+    fn vector_versions_of_the_column_fill_give_the_same_bits() {
+        let avx2 = std::arch::is_x86_feature_detected!("avx2");
+        let avx512 = std::arch::is_x86_feature_detected!("avx512f");
+        let mut laws = vec![VerticalTemperature::Isothermal];
+        for (zq, delta) in [
+            (4.0, 2.0),
+            (3.0, 1.25),
+            (12.0, 3.0),
+            (0.7, 0.5),
+            (4.0, -1.0),
+        ] {
+            laws.push(VerticalTemperature::TwoLayer {
+                superheating: 1.5,
+                transition_scale_heights: zq,
+                delta,
+            });
+        }
+        let mut compared = 0usize;
+        for law in laws {
+            let mut p = ModelParameters::defaults();
+            p.grid.radial_cells = 30;
+            p.grid.vertical_cells = 37;
+            p.disk.vertical_temperature = law;
+            let st = DiskStructure::compute(&p).unwrap();
+            let spc = st.samples_per_column;
+            for j in 0..st.radial_cells {
+                let args = (
+                    &st.constants,
+                    st.radius_cm[j],
+                    st.surface_density_g_cm2[j],
+                    st.midplane_temperature_k[j],
+                    st.flaring_angle[j],
+                );
+                let run = |version: u8| {
+                    let mut out = Column::zeroed(spc);
+                    let mut fine = FineGrid::default();
+                    match version {
+                        // SAFETY: called only when the processor has AVX2 (checked above).
+                        1 => unsafe { fill_column_avx2(args, &mut fine, &mut out, 0) },
+                        // SAFETY: called only when the processor has AVX-512F.
+                        2 => unsafe { fill_column_avx512(args, &mut fine, &mut out, 0) },
+                        _ => fill_column_portable(args, &mut fine, &mut out, 0),
+                    }
+                    let bits = |v: &[f64]| v.iter().map(|x| x.to_bits()).collect::<Vec<_>>();
+                    [
+                        bits(&out.height_cm),
+                        bits(&out.temperature_k),
+                        bits(&out.density_g_cm3),
+                        bits(&out.hydrogen_density_cm3),
+                        bits(&out.column_above_g_cm2),
+                        bits(&out.visual_extinction_mag),
+                        bits(&out.fuv_photon_flux_cm2_s),
+                        bits(&out.ionization_rate_s),
+                    ]
+                };
+                let portable = run(0);
+                // The structure itself went through the dispatching fill_column.
+                assert_eq!(
+                    portable[1],
+                    st.samples.temperature_k[j * spc..(j + 1) * spc]
+                        .iter()
+                        .map(|x| x.to_bits())
+                        .collect::<Vec<_>>()
+                );
+                if avx2 {
+                    assert_eq!(run(1), portable, "AVX2, column {j}");
+                    compared += 1;
+                }
+                if avx512 {
+                    assert_eq!(run(2), portable, "AVX-512F, column {j}");
+                    compared += 1;
+                }
+            }
+        }
+        eprintln!("{compared} columns compared (AVX2: {avx2}, AVX-512F: {avx512})");
     }
 }

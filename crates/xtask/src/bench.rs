@@ -8,7 +8,7 @@
 //!    400 x 160, first checked against the native CLI's output for the same
 //!    disk, then timed with `timeit.repeat`.
 //! 3. A table of medians, p10 and p90 per benchmark and the ratios
-//!    `model / floor` (target <= 2) and `numpy / native model` (target >= 10).
+//!    `model / floor` (target <= 2) and `numpy / native` at 400 x 160, fresh and edit (target >= 10).
 //!    Then the sweep throughput natively and through Dask, and the per-model
 //!    overhead of a sweep point over a bare `Model::run` ([`crate::sweep_bench`]).
 //! 4. The uncertainty Monte Carlo ([`crate::uncertainty_bench`]): 1000 samples against one
@@ -37,7 +37,7 @@ struct Case {
     what: &'static str,
 }
 
-const CASES: [Case; 7] = [
+const CASES: [Case; 9] = [
     Case {
         group: "floor",
         grid: DEFAULT_GRID,
@@ -56,12 +56,22 @@ const CASES: [Case; 7] = [
     Case {
         group: "model",
         grid: DEFAULT_GRID,
-        what: "Model::run + midplane profile + snowlines",
+        what: "disk edit: Model::run_into existing buffers + midplane profile + snowlines",
     },
     Case {
         group: "model",
         grid: LARGE_GRID,
-        what: "Model::run + midplane profile + snowlines",
+        what: "disk edit: Model::run_into existing buffers + midplane profile + snowlines",
+    },
+    Case {
+        group: "model_fresh",
+        grid: DEFAULT_GRID,
+        what: "Model::run (fresh buffers) + midplane profile + snowlines",
+    },
+    Case {
+        group: "model_fresh",
+        grid: LARGE_GRID,
+        what: "Model::run (fresh buffers) + midplane profile + snowlines",
     },
     Case {
         group: "ice_edit",
@@ -126,10 +136,22 @@ struct Baseline {
     agrees: bool,
 }
 
-/// `cargo xtask bench`; with `only_uncertainty` (`cargo xtask bench uncertainty`) only the
-/// uncertainty section ([`crate::uncertainty_bench`]) and the page's uncertainty timing.
-pub fn bench(only_uncertainty: bool) -> Result<(), String> {
-    if only_uncertainty {
+/// Which parts of the bench run.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Sections {
+    /// Everything (`cargo xtask bench`).
+    All,
+    /// The uncertainty section ([`crate::uncertainty_bench`]) and the page's uncertainty
+    /// timing (`cargo xtask bench uncertainty`).
+    Uncertainty,
+    /// The core's criterion benchmarks, the numpy baseline, the table and the ratios; no
+    /// sweep, uncertainty or browser part (`cargo xtask bench native`).
+    Native,
+}
+
+/// `cargo xtask bench`, or the sections chosen.
+pub fn bench(sections: Sections) -> Result<(), String> {
+    if sections == Sections::Uncertainty {
         let mut problems = Vec::new();
         if let Err(message) = crate::uncertainty_bench::uncertainty_section() {
             problems.push(message);
@@ -227,18 +249,31 @@ pub fn bench(only_uncertainty: bool) -> Result<(), String> {
         "target <= 2 (issue 9)",
     );
     ratio(
+        &format!("model fresh / floor at {DEFAULT_GRID}"),
+        find("model_fresh", DEFAULT_GRID),
+        floor,
+        "Model::run, every result array freshly allocated",
+    );
+    ratio(
         &format!("ice edit / floor at {DEFAULT_GRID}"),
         find("ice_edit", DEFAULT_GRID),
         floor,
         "the ice balance only (Model::set_ices, structure reused)",
     );
     let numpy = baseline.as_ref().map(|b| b.spread_ns);
-    let native_large = find("model", LARGE_GRID);
+    let fresh_large = find("model_fresh", LARGE_GRID);
     ratio(
-        &format!("numpy / native model at {LARGE_GRID}"),
+        &format!("numpy / native fresh at {LARGE_GRID}"),
         numpy,
-        native_large,
-        &numpy_ratio_note(numpy, native_large),
+        fresh_large,
+        &numpy_ratio_note(numpy, fresh_large),
+    );
+    let edit_large = find("model", LARGE_GRID);
+    ratio(
+        &format!("numpy / native edit at {LARGE_GRID}"),
+        numpy,
+        edit_large,
+        &numpy_ratio_note(numpy, edit_large),
     );
     ratio(
         "model 400x160 / 200x80",
@@ -253,6 +288,13 @@ pub fn bench(only_uncertainty: bool) -> Result<(), String> {
         "4x the samples",
     );
 
+    if sections == Sections::Native {
+        return if problems.is_empty() {
+            Ok(())
+        } else {
+            Err(problems.join("; "))
+        };
+    }
     if let Err(message) = crate::sweep_bench::sweep_section() {
         problems.push(message);
     }

@@ -39,9 +39,10 @@ usage: cargo xtask <command> [options]
 commands:
   test            run every test stage (Rust, Python checks, browser tests), fail-fast;
                   ends with the line `N passed, M failed`
-  bench [uncertainty]
+  bench [uncertainty|native]
                   run the physics benchmarks and print a table of medians
-                  (uncertainty: only the uncertainty Monte Carlo's timings)
+                  (uncertainty: only the uncertainty Monte Carlo's timings;
+                  native: only the core's benchmarks and the numpy baseline)
   open [--dev]    build the page and open target/site/nivalis.html
                   (shows the CLI's output instead while the page does not exist)
   dist [--dev]    build the single-file page into target/site/ (--dev: unoptimised, faster)
@@ -60,10 +61,11 @@ fn main() -> ExitCode {
     let outcome = match command {
         "test" => no_options(command, rest).and_then(|()| test::test()),
         "bench" => match rest {
-            [] => bench::bench(false),
-            [only] if only == "uncertainty" => bench::bench(true),
+            [] => bench::bench(bench::Sections::All),
+            [only] if only == "uncertainty" => bench::bench(bench::Sections::Uncertainty),
+            [only] if only == "native" => bench::bench(bench::Sections::Native),
             _ => Err(format!(
-                "bench: the only option is `uncertainty` (that section alone), got `{}`",
+                "bench: the options are `uncertainty` or `native` (that section alone), got `{}`",
                 rest.join(" ")
             )),
         },
