@@ -569,10 +569,11 @@ fn the_ice_piles_up_outside_the_water_snowline_as_the_flux_balance_says() {
             .find(|&j| r[j] < r_s && s.ice_fraction[j][w] < 0.01)
             .unwrap();
         let vapour_in = s.species_per_h[inside][w] * (1.0 - s.ice_fraction[inside][w]);
-        // Known limits (model.md): the model's peak does not follow D/D_d when D_d is changed
-        // alone (halving the dust diffusivity in the code left it within 1 %), so this checks the
-        // estimate only at D_d = D to 1e-3, the physical case here. The front is converged in
-        // the time step (`the_pile_up_is_converged_in_the_time_step`).
+        // Known limits (model.md): the model's peak follows D/D_d only in part when D_d is
+        // changed alone (halving the dust diffusivity in the code raised it x1.55 where the
+        // estimate says x2), so this checks the estimate only at D_d = D to 1e-3, the physical
+        // case here. The front is converged in the time step
+        // (`the_pile_up_is_converged_in_the_time_step`).
         let eps = 1.5 * e.schmidt_number * (r[peak_at] - r[inside]) / r_s * (pile_up - 1.0);
         let height = peak / vapour_in;
         assert!(
