@@ -121,6 +121,10 @@ fn every_element_is_conserved_to_1e_10() {
             max_temperature_k: 30.0,
         });
         let run = evolve(&small_disk(), &e).unwrap();
+        println!(
+            "drift {drift}: {:?}, gas {:e}",
+            run.conservation_relative_error, run.gas_conservation_relative_error
+        );
         for (k, err) in run.conservation_relative_error.iter().enumerate() {
             assert!(*err < 1e-10, "drift {drift}: element {k}: {err:e}");
         }
