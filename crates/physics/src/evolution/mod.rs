@@ -825,8 +825,8 @@ impl<'a> Evolver<'a> {
     /// section 12.4). The rate equation's loss R(n) is piecewise linear (section 7): each cell
     /// takes the branch of its ice before the step, and the step is solved again with the
     /// branches of its result until they agree (at most four solves). Where the ice balance has
-    /// no kinetics (the step model, or no grains), the species is carried without exchange and
-    /// then set to its equilibrium, as before.
+    /// no kinetics (the step model, or no grains) or the cell held none of the species before
+    /// the step, the species is carried without exchange and then set to its equilibrium.
     fn carry_and_exchange(&mut self, gas: &FaceCoefficients, dust: &FaceCoefficients, dt: f64) {
         let n = self.grid.cells();
         let st = &self.structure;
