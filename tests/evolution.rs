@@ -633,7 +633,20 @@ fn pile_up_numbers(run: &EvolutionRun, from_myr: f64) -> Vec<(f64, f64, f64, f64
         let outside: Vec<usize> = (0..r.len())
             .filter(|&j| r[j] > r_s && r[j] < 2.0 * r_s)
             .collect();
-        let peak = outside.iter().map(|&j| ice(j)).fold(0.0, f64::max);
+        let (peak_at, peak) =
+            outside
+                .iter()
+                .map(|&j| (j, ice(j)))
+                .fold((0, 0.0), |a, b| if b.1 > a.1 { b } else { a });
+        if std::env::var("NIVALIS_PEAK").is_ok() {
+            println!(
+                "t {:.2}: r_s {:.3} au, peak in cell {peak_at} at {:.3} au, 2 r_s cell {}",
+                s.time_myr,
+                r_s / AU_CM,
+                r[peak_at] / AU_CM,
+                outside.last().unwrap()
+            );
+        }
         let far = ice(*outside.last().unwrap());
         let inside = (0..r.len())
             .rev()
