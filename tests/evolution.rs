@@ -121,6 +121,10 @@ fn every_element_is_conserved_to_1e_10() {
             max_temperature_k: 30.0,
         });
         let run = evolve(&small_disk(), &e).unwrap();
+        println!(
+            "drift {drift}: {:?}, gas {:e}",
+            run.conservation_relative_error, run.gas_conservation_relative_error
+        );
         for (k, err) in run.conservation_relative_error.iter().enumerate() {
             assert!(*err < 1e-10, "drift {drift}: element {k}: {err:e}");
         }
@@ -190,9 +194,10 @@ fn with_no_drift_and_no_diffusion_the_evolved_disk_is_the_static_model_at_each_a
             }
         }
     }
-    // The kinetic ice balance: where the static equilibration time is below 1e-5 of the age the
+    // The kinetic ice balance: where the static equilibration time is below 1e-7 of the age the
     // rates have kept up with the changing disk, and the evolved ice fractions equal the static
-    // equilibrium (the lag is of order tau/t).
+    // equilibrium (the lag is tau df/dt, of order (tau/t) |df/dln t| <= 1e-7; the implicit step
+    // of section 12.4 has the same lag, to first order in dt).
     let mut p = small_disk();
     p.composition.soot_line = SootLine::Reversible;
     let run = evolve(&p, &e).unwrap();
@@ -205,21 +210,23 @@ fn with_no_drift_and_no_diffusion_the_evolved_disk_is_the_static_model_at_each_a
             let kk = model.structure().index(j, 0);
             for sp in Species::ALL {
                 let tau = model.equilibration_time_s_at(sp, kk);
-                if tau < 1e-5 * age_s {
+                if tau < 1e-7 * age_s {
                     let a = s.ice_fraction[j][sp.index()];
                     let b = model.ice_fraction_at(sp, kk);
                     assert!(
                         (a - b).abs() < 1e-6,
-                        "t {} r {} {}: {a} vs {b}",
+                        "t {} r {} {}: {a} vs {b} (tau/t {:e})",
                         s.time_myr,
                         run.radius_cm[j] / AU_CM,
-                        sp.key()
+                        sp.key(),
+                        tau / age_s
                     );
                     compared += 1;
                 }
             }
         }
     }
+    println!("compared {compared}");
     assert!(compared > 1000, "{compared}");
 }
 
@@ -488,22 +495,14 @@ fn the_ice_piles_up_outside_the_water_snowline_as_the_flux_balance_says() {
     // recondensation mechanism of Stevenson & Lunine 1988 and Schoonenberg & Ormel 2017, the
     // estimate derived in model.md from flux balance, not taken from their equations). The regime
     // of Schoonenberg & Ormel 2017: alpha = 1e-2 and a slowly changing pebble flux (R_c = 200 au,
-    // after 0.5 Myr), with pebbles that drift faster than the gas (u_f = 30 m/s, St ~ 1e-2), so
+    // after 1 Myr), with pebbles that drift faster than the gas (u_f = 30 m/s, St ~ 1e-2), so
     // the ice outside the line without recondensation would be well below the vapour inside.
-    let mut p = small_disk();
-    p.grid.radial_cells = 200;
-    p.disk.characteristic_radius_au = 200.0;
-    p.disk.gas_mass_msun = 0.1;
-    p.disk.outer_radius_au = 1000.0;
-    let mut e = short_run();
-    e.alpha = 1e-2;
-    e.until_myr = 3.0;
-    e.dust.fragmentation_velocity_cm_s = 3000.0;
+    let (p, e) = pile_up_disk(200);
     let run = evolve(&p, &e).unwrap();
     let w = Species::H2O.index();
     let r = &run.radius_cm;
     let mut checked = 0;
-    for s in run.snapshots.iter().filter(|s| s.time_myr >= 0.5) {
+    for s in run.snapshots.iter().filter(|s| s.time_myr >= 1.0) {
         let r_s = s.snowline_cm[w].unwrap();
         let e_s = nivalis_physics::evolution::nearest_face(&run.face_cm, r_s);
         let supply = s.ice_inward_flux_g_s[e_s][w] + s.vapour_inward_flux_g_s[e_s][w];
@@ -541,7 +540,9 @@ fn the_ice_piles_up_outside_the_water_snowline_as_the_flux_balance_says() {
         }
         // (c) It is a pile-up: the peak stands above the ice at 2 r_s, where the pebbles carry
         // the supply alone, by the factor P = (v_d/v_g)(D/D_d) of the estimate (model.md; v_d the
-        // pebbles' inward speed, v_g the gas's): above 1 when the pebbles outrun the gas.
+        // pebbles' inward speed, v_g the gas's): above 1 when the pebbles outrun the gas. Required:
+        // above 2.5 (seen 3.5 here; 2.9-3.8 over 100-400 cells and step fractions 0.05-0.0005,
+        // converged in the step, model.md section 12.11; the split scheme before gave 1.5-1.7).
         let ice = |j: usize| s.species_per_h[j][w] * s.ice_fraction[j][w];
         let outside: Vec<usize> = (0..r.len())
             .filter(|&j| r[j] > r_s && r[j] < 2.0 * r_s)
@@ -554,7 +555,7 @@ fn the_ice_piles_up_outside_the_water_snowline_as_the_flux_balance_says() {
         let far = ice(*outside.last().unwrap());
         let pile_up = peak / far;
         assert!(
-            pile_up > 1.3,
+            pile_up > 2.5,
             "t {}: no pile-up ({peak:e} vs {far:e} at 2 r_s)",
             s.time_myr
         );
@@ -572,11 +573,11 @@ fn the_ice_piles_up_outside_the_water_snowline_as_the_flux_balance_says() {
             .find(|&j| r[j] < r_s && s.ice_fraction[j][w] < 0.01)
             .unwrap();
         let vapour_in = s.species_per_h[inside][w] * (1.0 - s.ice_fraction[inside][w]);
-        // Known limits (model.md): the model's peak does not follow D/D_d when D_d is changed
-        // alone (halving the dust diffusivity in the code left it within 1 %), so this checks the
-        // estimate only at D_d = D to 1e-3, the physical case here; and the front is not
-        // converged in the time step (smaller steps give a larger pile-up, still within the
-        // bound), so this runs at the default step.
+        // Known limits (model.md): the model's peak follows D/D_d only in part when D_d is
+        // changed alone (halving the dust diffusivity in the code raised it x1.55 where the
+        // estimate says x2), so this checks the estimate only at D_d = D to 1e-3, the physical
+        // case here. The front is converged in the time step
+        // (`the_pile_up_is_converged_in_the_time_step`).
         let eps = 1.5 * e.schmidt_number * (r[peak_at] - r[inside]) / r_s * (pile_up - 1.0);
         let height = peak / vapour_in;
         assert!(
@@ -596,4 +597,154 @@ fn the_ice_piles_up_outside_the_water_snowline_as_the_flux_balance_says() {
         checked += 1;
     }
     assert!(checked >= 3, "{checked}");
+}
+
+/// The pile-up check's numbers at one snapshot: (age, pile-up factor, height ratio, largest
+/// |flux / flux at the snowline - 1| over the faces in [r_s/2, 2 r_s], its tolerance).
+fn pile_up_numbers(run: &EvolutionRun, from_myr: f64) -> Vec<(f64, f64, f64, f64, f64)> {
+    let w = Species::H2O.index();
+    let r = &run.radius_cm;
+    let grams_per_h = 18.015 * 1.660_539e-24 / (1.4 * 1.007_825 * 1.660_539e-24);
+    let mut out = Vec::new();
+    for s in run.snapshots.iter().filter(|s| s.time_myr >= from_myr) {
+        let r_s = s.snowline_cm[w].unwrap();
+        let e_s = nivalis_physics::evolution::nearest_face(&run.face_cm, r_s);
+        let supply = s.ice_inward_flux_g_s[e_s][w] + s.vapour_inward_flux_g_s[e_s][w];
+        let held_g: f64 = (0..r.len())
+            .filter(|&j| r[j] > 0.5 * r_s && r[j] < 2.0 * r_s)
+            .map(|j| {
+                let area =
+                    std::f64::consts::PI * (run.face_cm[j + 1].powi(2) - run.face_cm[j].powi(2));
+                s.species_per_h[j][w] * s.surface_density_g_cm2[j] * area * grams_per_h
+            })
+            .sum();
+        let tolerance = 3.0 * held_g / supply / (s.time_myr * MYR_S);
+        let continuity = run
+            .face_cm
+            .iter()
+            .enumerate()
+            .filter(|(_, f)| **f > 0.5 * r_s && **f < 2.0 * r_s)
+            .map(|(e, _)| {
+                let total = s.ice_inward_flux_g_s[e][w] + s.vapour_inward_flux_g_s[e][w];
+                (total / supply - 1.0).abs()
+            })
+            .fold(0.0, f64::max);
+        let ice = |j: usize| s.species_per_h[j][w] * s.ice_fraction[j][w];
+        let outside: Vec<usize> = (0..r.len())
+            .filter(|&j| r[j] > r_s && r[j] < 2.0 * r_s)
+            .collect();
+        let (peak_at, peak) =
+            outside
+                .iter()
+                .map(|&j| (j, ice(j)))
+                .fold((0, 0.0), |a, b| if b.1 > a.1 { b } else { a });
+        if std::env::var("NIVALIS_PEAK").is_ok() {
+            println!(
+                "t {:.2}: r_s {:.3} au, peak in cell {peak_at} at {:.3} au, 2 r_s cell {}",
+                s.time_myr,
+                r_s / AU_CM,
+                r[peak_at] / AU_CM,
+                outside.last().unwrap()
+            );
+        }
+        let far = ice(*outside.last().unwrap());
+        let inside = (0..r.len())
+            .rev()
+            .find(|&j| r[j] < r_s && s.ice_fraction[j][w] < 0.01)
+            .unwrap();
+        let vapour_in = s.species_per_h[inside][w] * (1.0 - s.ice_fraction[inside][w]);
+        out.push((
+            s.time_myr,
+            peak / far,
+            peak / vapour_in,
+            continuity,
+            tolerance,
+        ));
+    }
+    out
+}
+
+/// Measurement, not a check (issue 13): the pile-up numbers against the step fraction and the
+/// radial cells of the pile-up run. `NIVALIS_STEPS` and `NIVALIS_CELLS` (comma-separated) choose
+/// them. Run with `cargo test --release -p nivalis-tests --test evolution -- --ignored
+/// --nocapture measure_`.
+#[test]
+#[ignore]
+fn measure_the_pile_up_against_step_and_cells() {
+    let list = |name: &str, default: &str| -> Vec<f64> {
+        std::env::var(name)
+            .unwrap_or_else(|_| default.to_string())
+            .split(',')
+            .map(|v| v.trim().parse().unwrap())
+            .collect()
+    };
+    for cells in list("NIVALIS_CELLS", "200") {
+        for f in list("NIVALIS_STEPS", "0.05") {
+            let (p, mut e) = pile_up_disk(cells as usize);
+            e.snapshots = 8;
+            e.max_step_fraction = f;
+            let run = evolve(&p, &e).unwrap();
+            for (t, pile, height, cont, tol) in pile_up_numbers(&run, 0.5) {
+                println!(
+                    "cells {cells} step {f}: t {t:.2} pile-up {pile:.3} height {height:.3} continuity {cont:.3} (tol {tol:.3}) steps {}",
+                    run.steps
+                );
+            }
+        }
+    }
+}
+
+/// The pile-up run of `the_ice_piles_up_outside_the_water_snowline_as_the_flux_balance_says`
+/// on `cells` radial cells.
+fn pile_up_disk(cells: usize) -> (ModelParameters, EvolutionParameters) {
+    let mut p = small_disk();
+    p.grid.radial_cells = cells;
+    p.disk.characteristic_radius_au = 200.0;
+    p.disk.gas_mass_msun = 0.1;
+    p.disk.outer_radius_au = 1000.0;
+    let mut e = short_run();
+    e.alpha = 1e-2;
+    e.until_myr = 3.0;
+    e.dust.fragmentation_velocity_cm_s = 3000.0;
+    e.snapshots = 12;
+    (p, e)
+}
+
+#[test]
+fn the_pile_up_is_converged_in_the_time_step() {
+    // Issue 13 (docs/model.md sections 12.5, 12.8, 12.11): vapour and ice are carried and
+    // exchanged in one implicit step, so the recondensation front is a fixed point of the step
+    // and the pile-up check's numbers do not depend on the step. At the default step fraction
+    // (0.05) and at a 10x smaller one (0.005), on 100 cells: the pile-up factor within 3 % and
+    // the peak over the vapour inside within 2 % (seen under 1.5 % and 1 %; the earlier split
+    // scheme gave 1.67 against 2.36, 40 % apart, and 0.86 against 0.78).
+    let (p, mut e) = pile_up_disk(100);
+    let coarse = pile_up_numbers(&evolve(&p, &e).unwrap(), 1.0);
+    e.max_step_fraction = 0.005;
+    let fine = pile_up_numbers(&evolve(&p, &e).unwrap(), 1.0);
+    assert_eq!(coarse.len(), 3);
+    assert_eq!(fine.len(), 3);
+    for (c, f) in coarse.iter().zip(&fine) {
+        println!(
+            "t {:.2} Myr: pile-up {:.3} vs {:.3}, height {:.3} vs {:.3}",
+            c.0, c.1, f.1, c.2, f.2
+        );
+        assert!((c.0 - f.0).abs() < 1e-9 * c.0);
+        assert!(
+            (c.1 / f.1 - 1.0).abs() < 0.03,
+            "t {}: pile-up {} vs {}",
+            c.0,
+            c.1,
+            f.1
+        );
+        assert!(
+            (c.2 / f.2 - 1.0).abs() < 0.02,
+            "t {}: height {} vs {}",
+            c.0,
+            c.2,
+            f.2
+        );
+        // Continuity holds at both steps.
+        assert!(c.3 < c.4 && f.3 < f.4, "t {}: {c:?} {f:?}", c.0);
+    }
 }

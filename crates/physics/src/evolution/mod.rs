@@ -14,7 +14,7 @@ pub mod star_track;
 pub mod transport;
 pub mod viscous;
 
-use crate::balance::{species_properties, BalanceConstants};
+use crate::balance::{species_properties, BalanceConstants, RateEquation};
 use crate::budget::{defined_ratio, zero_below_rounding, Carriers, PhaseAbundances};
 use crate::composition::Composition;
 use crate::error::PhysicsError;
@@ -35,7 +35,7 @@ use crate::units::{
 use dust::{kepler_speed_cm_s, radial_speed_cm_s, stokes_number, DustModel, DustPlace};
 use star_track::StarTrack;
 use std::f64::consts::PI;
-use transport::{advect_diffuse, FaceCoefficients};
+use transport::{advect_diffuse, advect_diffuse_exchange, FaceCoefficients, LinearExchange};
 use viscous::{alpha_viscosity_cm2_s, viscous_step, RadialGrid, StepBuffers};
 
 /// Seconds per Myr (Julian years).
@@ -809,25 +809,134 @@ impl<'a> Evolver<'a> {
         let out = self.carry(&gas_faces, &mut c, dt);
         self.account(out, Tracer::Carbon);
         self.carbon_gas = c;
-        for i in 0..SPECIES_COUNT {
-            let mut x = std::mem::take(&mut self.ice[i]);
-            let out = self.carry(&dust_faces, &mut x, dt);
-            self.ice_flux[i].copy_from_slice(&self.scratch_flux);
-            self.account(out, Tracer::Species(i));
-            self.ice[i] = x;
-            let mut x = std::mem::take(&mut self.vapour[i]);
-            let out = self.carry(&gas_faces, &mut x, dt);
-            self.vapour_flux[i].copy_from_slice(&self.scratch_flux);
-            self.account(out, Tracer::Species(i));
-            self.vapour[i] = x;
-        }
         // 4. The new age's structure; then the local processes over the step.
         self.time_myr = next_myr;
         self.refresh_structure()?;
         self.release_soot();
         self.process_co(dt);
-        self.exchange(dt);
+        // 5. Every species' vapour and ice, carried and exchanged together.
+        self.carry_and_exchange(&gas_faces, &dust_faces, dt);
         Ok(())
+    }
+
+    /// Transport of every species' vapour (with the gas) and ice (with the pebbles) together with
+    /// sublimation and freezing at the rates of the ice balance at the new age's midplane
+    /// conditions, in one implicit step ([`transport::advect_diffuse_exchange`], docs/model.md
+    /// section 12.4). The rate equation's loss R(n) is piecewise linear (section 7): each cell
+    /// takes the branch of its ice before the step, and the step is solved again with the
+    /// branches of its result until they agree (at most four solves). Where the ice balance has
+    /// no kinetics (the step model, or no grains) or the cell held none of the species before
+    /// the step, the species is carried without exchange and then set to its equilibrium.
+    fn carry_and_exchange(&mut self, gas: &FaceCoefficients, dust: &FaceCoefficients, dt: f64) {
+        let n = self.grid.cells();
+        let st = &self.structure;
+        let places: Vec<_> = (0..n)
+            .map(|j| {
+                let place = Place::of(&st.samples, st.index(j, 0));
+                let sample = self.balance.sample(
+                    place.temperature_k,
+                    place.density_g_cm3,
+                    place.fuv_photon_flux_cm2_s,
+                    place.ionization_rate_s,
+                );
+                (sample, place.hydrogen_density_cm3)
+            })
+            .collect();
+        let mut exchange = vec![LinearExchange::default(); n];
+        let mut thick = vec![false; n];
+        let mut equations = vec![None; n];
+        for i in 0..SPECIES_COUNT {
+            let (v0, i0) = (self.vapour[i].clone(), self.ice[i].clone());
+            for j in 0..n {
+                let total = v0[j] + i0[j];
+                let per_x = places[j].1 / self.sigma[j];
+                equations[j] = if total > 0.0 {
+                    self.balance.rate_equation(&places[j].0, i, total * per_x)
+                } else {
+                    None
+                };
+                thick[j] = equations[j].is_some_and(|q: RateEquation| {
+                    q.zeroth_order && i0[j] * per_x > q.monolayer_cm3
+                });
+            }
+            let (mut v, mut x) = (v0.clone(), i0.clone());
+            for _ in 0..4 {
+                for j in 0..n {
+                    exchange[j] = match equations[j] {
+                        None => LinearExchange::default(),
+                        Some(q) if thick[j] => LinearExchange {
+                            freezing_s: q.adsorption_s,
+                            sublimation_s: 0.0,
+                            constant_sublimation: (q.desorption_s * q.monolayer_cm3
+                                + q.photodesorption_cm3_s)
+                                * self.sigma[j]
+                                / places[j].1,
+                        },
+                        Some(q) => LinearExchange {
+                            freezing_s: q.adsorption_s,
+                            sublimation_s: q.desorption_s
+                                + q.photodesorption_cm3_s / q.monolayer_cm3,
+                            constant_sublimation: 0.0,
+                        },
+                    };
+                }
+                v.copy_from_slice(&v0);
+                x.copy_from_slice(&i0);
+                advect_diffuse_exchange(
+                    &self.grid,
+                    gas,
+                    dust,
+                    &self.sigma,
+                    &exchange,
+                    &mut v,
+                    &mut x,
+                    dt,
+                    &mut self.vapour_flux[i],
+                    &mut self.ice_flux[i],
+                );
+                let mut changed = false;
+                for j in 0..n {
+                    let now = equations[j].is_some_and(|q: RateEquation| {
+                        q.zeroth_order && x[j] * places[j].1 / self.sigma[j] > q.monolayer_cm3
+                    });
+                    changed |= now != thick[j];
+                    thick[j] = now;
+                }
+                if !changed {
+                    break;
+                }
+            }
+            for j in 0..n {
+                let total = v[j] + x[j];
+                if equations[j].is_none() && total > 0.0 {
+                    // No kinetics here: the equilibrium of the carried total.
+                    let molecules = total / self.sigma[j] * places[j].1;
+                    let f = self
+                        .balance
+                        .solve_at(&places[j].0, i, molecules)
+                        .ice_fraction
+                        .clamp(0.0, 1.0);
+                    x[j] = f * total;
+                    v[j] = total - x[j];
+                } else if x[j] < 0.0 {
+                    // Rounding (or a branch left unresolved): the total is kept.
+                    v[j] += x[j];
+                    x[j] = 0.0;
+                } else if v[j] < 0.0 {
+                    x[j] += v[j];
+                    v[j] = 0.0;
+                }
+            }
+            self.vapour[i] = v;
+            self.ice[i] = x;
+            for flux in [&self.vapour_flux[i], &self.ice_flux[i]] {
+                let out = (-flux[0] * dt, flux[n] * dt);
+                let w = self.element_weights(Tracer::Species(i));
+                for (lost, w) in self.lost.iter_mut().zip(w) {
+                    *lost += w * (out.0 + out.1);
+                }
+            }
+        }
     }
 
     /// Outward edge flux of one quantity over the step: (inner, outer) [X cm^2].
