@@ -17,7 +17,7 @@ const EvolutionPanel = ((App, Core, Util) => {
 // The module interface it uses (see web/util.js for the pattern): App's helpers and live disk,
 // Util's JSON helpers, and the compiled core the workers instantiate.
 const { $, download, slug, themeName, sizeCanvas } = App;
-const { clone, prune } = Util;
+const { clone, prune, startWorker } = Util;
 const nivalisModule = Core.module;
 
 const evoPanel = $("evolution");
@@ -34,15 +34,10 @@ self.onmessage = (event) => {
   const m = event.data;
   try {
     if (m.type === "init") {
-      wasm_bindgen.initSync({ module: m.module });
-      self.postMessage({ type: "ready" });
+      initCore(m);
     } else if (m.type === "evolve") {
-      let last = 0;
       const t0 = performance.now();
-      const out = wasm_bindgen.evolveDisk(m.disk, m.until, m.snapshots, (f) => {
-        const now = performance.now();
-        if (now - last > 40) { last = now; self.postMessage({ type: "progress", value: f }); }
-      });
+      const out = wasm_bindgen.evolveDisk(m.disk, m.until, m.snapshots, progressReporter());
       self.postMessage({ type: "result", result: out, ms: performance.now() - t0 });
     }
   } catch (error) {
@@ -70,10 +65,7 @@ function evoStop() {
 
 // Start the worker and instantiate the module in it; a run asked for meanwhile waits in evoPending.
 function evoSpawn() {
-  const source = $("worker-source").textContent + "\n" + EVOLUTION_WORKER_TAIL;
-  const url = URL.createObjectURL(new Blob([source], { type: "text/javascript" }));
-  evoWorker = new Worker(url);
-  URL.revokeObjectURL(url);
+  evoWorker = startWorker(EVOLUTION_WORKER_TAIL);
   evoWorker.onmessage = evoMessage;
   evoWorker.onerror = (e) => {
     const running = evoPanel.dataset.evoState === "running";

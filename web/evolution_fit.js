@@ -13,7 +13,7 @@
 // Test hook: the block's data-fit-state is "idle" | "running" | "ready" | "cancelled" | "failed".
 const EvolutionFitBlock = ((App, Core, Util) => {
 const { $, download, slug, themeName } = App;
-const { clone, prune } = Util;
+const { clone, prune, startWorker } = Util;
 const nivalisModule = Core.module;
 
 const AGE_FIT_WORKER_TAIL = `
@@ -22,14 +22,9 @@ self.onmessage = (event) => {
   const m = event.data;
   try {
     if (m.type === "init") {
-      wasm_bindgen.initSync({ module: m.module });
-      self.postMessage({ type: "ready" });
+      initCore(m);
     } else if (m.type === "run") {
-      let last = 0;
-      ageFit = new wasm_bindgen.AgeFitRunner(m.disk, m.request, m.window, (f) => {
-        const now = performance.now();
-        if (now - last > 40) { last = now; self.postMessage({ type: "progress", value: f }); }
-      });
+      ageFit = new wasm_bindgen.AgeFitRunner(m.disk, m.request, m.window, progressReporter());
       // No map when no cell has a defined chi-square (the figure says why); the tables still exist.
       let svg = null;
       let figureProblem = null;
@@ -118,10 +113,7 @@ function fitRun() {
   fitShow(null);
   const request = App.fitRequest ? App.fitRequest() : {};
   const ages = fitWindow();
-  const source = $("worker-source").textContent + "\n" + AGE_FIT_WORKER_TAIL;
-  const url = URL.createObjectURL(new Blob([source], { type: "text/javascript" }));
-  fit.worker = new Worker(url);
-  URL.revokeObjectURL(url);
+  fit.worker = startWorker(AGE_FIT_WORKER_TAIL);
   $("evo-fit-progress").value = 0;
   fitSetState("running", "Evolving and fitting…");
   fit.worker.onmessage = (event) => {

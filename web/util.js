@@ -152,8 +152,35 @@ const Util = (() => {
   const SUBSCRIPT = { 0: "₀", 1: "₁", 2: "₂", 3: "₃", 4: "₄", 5: "₅", 6: "₆", 7: "₇", 8: "₈", 9: "₉" };
   const formula = (key) => key.replace(/\d/g, (d) => SUBSCRIPT[d]);
 
+  // The panels' own Web Workers (evolution, evolution fit): the page's worker
+  // script (#worker-source) with TAIL after it, where TAIL sets a
+  // `self.onmessage` in place of the views' one. Before TAIL come two helpers
+  // the tails share: `initCore(m)` answers the "init" message (instantiates the
+  // compiled module, replies "ready") and `progressReporter()` gives a callback
+  // that posts {type: "progress", value} at most every 40 ms.
+  const WORKER_SHARED = `
+function initCore(m) {
+  wasm_bindgen.initSync({ module: m.module });
+  self.postMessage({ type: "ready" });
+}
+function progressReporter() {
+  let last = 0;
+  return (f) => {
+    const now = performance.now();
+    if (now - last > 40) { last = now; self.postMessage({ type: "progress", value: f }); }
+  };
+}`;
+
+  function startWorker(tail) {
+    const source = $("worker-source").textContent + "\n" + WORKER_SHARED + "\n" + tail;
+    const url = URL.createObjectURL(new Blob([source], { type: "text/javascript" }));
+    const worker = new Worker(url);
+    URL.revokeObjectURL(url);
+    return worker;
+  }
+
   return {
     $, clone, pathId, getPath, setPath, prune, roundSlider, parseTyped, showNumber, base64urlEncode, base64urlDecode,
-    difference, merge, download, INPUT_LIMITS, checkJsonBounds, tooLarge, slug, formula,
+    difference, merge, download, INPUT_LIMITS, checkJsonBounds, tooLarge, slug, formula, startWorker,
   };
 })();

@@ -3,27 +3,16 @@
 // chosen age, the age slider and Play, a run cancelled, and the JSON download equal to
 // `nivalis evolve DISK --format json` for the page's own saved disk (same core, same exports).
 
-import { after, before, test } from "node:test";
+import { test } from "node:test";
 import assert from "node:assert/strict";
-import { mkdtempSync, readFileSync, rmSync, writeFileSync } from "node:fs";
-import { tmpdir } from "node:os";
-import { canvasStats, downloadText, ensureCli, ensurePage, execFileSync, join, launch, newPage } from "./helpers.mjs";
+import { readFileSync, writeFileSync } from "node:fs";
+import { canvasStats, downloadText, execFileSync, join, newPage, withBrowserAndCli } from "./helpers.mjs";
 
 let browser;
 let cli;
 let scratch;
 
-before(async () => {
-  ensurePage();
-  cli = ensureCli();
-  scratch = mkdtempSync(join(tmpdir(), "nivalis-evolution-test-"));
-  browser = await launch();
-});
-
-after(async () => {
-  await browser?.close();
-  if (scratch) rmSync(scratch, { recursive: true, force: true });
-});
+withBrowserAndCli("evolution", (s) => ({ browser, cli, scratch } = s));
 
 const state = (page) => page.$eval("#evolution", (e) => e.dataset.evoState);
 

@@ -3,27 +3,16 @@
 // --age-myr T` (SVG and PNG) and `nivalis evolve DISK --methods FILE`, byte for byte, the disk
 // being the run's resolved disk from the page's JSON download (same core, same exports).
 
-import { after, before, test } from "node:test";
+import { test } from "node:test";
 import assert from "node:assert/strict";
-import { mkdtempSync, readFileSync, rmSync, writeFileSync } from "node:fs";
-import { tmpdir } from "node:os";
-import { downloadText, ensureCli, ensurePage, execFileSync, join, launch, newPage } from "./helpers.mjs";
+import { readFileSync, writeFileSync } from "node:fs";
+import { downloadText, execFileSync, join, newPage, withBrowserAndCli } from "./helpers.mjs";
 
 let browser;
 let cli;
 let scratch;
 
-before(async () => {
-  ensurePage();
-  cli = ensureCli();
-  scratch = mkdtempSync(join(tmpdir(), "nivalis-evolution-exports-test-"));
-  browser = await launch();
-});
-
-after(async () => {
-  await browser?.close();
-  if (scratch) rmSync(scratch, { recursive: true, force: true });
-});
+withBrowserAndCli("evolution-exports", (s) => ({ browser, cli, scratch } = s));
 
 async function downloadBytes(page, selector) {
   const [download] = await Promise.all([page.waitForEvent("download"), page.click(selector)]);

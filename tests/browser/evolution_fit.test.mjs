@@ -5,27 +5,16 @@
 // downloads equal to `nivalis fit DISK ... --over-age-myr T1,T2,N [--figure FILE]` for the
 // page's own saved disk, byte for byte.
 
-import { after, before, test } from "node:test";
+import { test } from "node:test";
 import assert from "node:assert/strict";
-import { mkdtempSync, readFileSync, rmSync, writeFileSync } from "node:fs";
-import { tmpdir } from "node:os";
-import { downloadText, ensureCli, ensurePage, execFileSync, join, launch, newPage } from "./helpers.mjs";
+import { readFileSync, writeFileSync } from "node:fs";
+import { downloadText, execFileSync, join, newPage, withBrowserAndCli } from "./helpers.mjs";
 
 let browser;
 let cli;
 let scratch;
 
-before(async () => {
-  ensurePage();
-  cli = ensureCli();
-  scratch = mkdtempSync(join(tmpdir(), "nivalis-evolution-fit-test-"));
-  browser = await launch();
-});
-
-after(async () => {
-  await browser?.close();
-  if (scratch) rmSync(scratch, { recursive: true, force: true });
-});
+withBrowserAndCli("evolution-fit", (s) => ({ browser, cli, scratch } = s));
 
 const state = (page) => page.$eval("#evo-fit", (e) => e.dataset.fitState);
 const settled = (page) => page.waitForFunction(() => ["ready", "failed", "cancelled"].includes(document.querySelector("#evo-fit").dataset.fitState), null, { timeout: 300000 });

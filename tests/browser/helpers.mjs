@@ -8,6 +8,7 @@
 
 import { execFileSync } from "node:child_process";
 import { existsSync, mkdtempSync, rmSync } from "node:fs";
+import { after, before } from "node:test";
 import { tmpdir } from "node:os";
 import { dirname, join, resolve } from "node:path";
 import { fileURLToPath, pathToFileURL } from "node:url";
@@ -53,6 +54,27 @@ export async function launch(options = {}) {
     rmSync(profile, { recursive: true, force: true });
   };
   return { context, close };
+}
+
+/// The set-up most test files share, as node:test hooks of the calling file:
+/// before all tests the page is built (if missing), the CLI built, a scratch
+/// directory `nivalis-NAME-test-XXXXXX` made and a browser launched; after
+/// them the browser is closed and the scratch directory removed. `set` gets
+/// `{ browser, cli, scratch }` once they exist, e.g.
+/// `withBrowserAndCli("page", (s) => ({ browser, cli, scratch } = s));`.
+export function withBrowserAndCli(name, set) {
+  const env = {};
+  before(async () => {
+    ensurePage();
+    env.cli = ensureCli();
+    env.scratch = mkdtempSync(join(tmpdir(), `nivalis-${name}-test-`));
+    env.browser = await launch();
+    set(env);
+  });
+  after(async () => {
+    await env.browser?.close();
+    if (env.scratch) rmSync(env.scratch, { recursive: true, force: true });
+  });
 }
 
 /// Opens the page and waits until its first result is on screen. Errors in the

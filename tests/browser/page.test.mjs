@@ -10,13 +10,12 @@
 // same disk; show the reader's message beside an invalid field while keeping
 // the previous result; restore the state from the URL; leave a screenshot.
 
-import { after, before, test } from "node:test";
+import { test } from "node:test";
 import assert from "node:assert/strict";
-import { mkdtempSync, rmSync, writeFileSync } from "node:fs";
-import { tmpdir } from "node:os";
+import { writeFileSync } from "node:fs";
 import {
-  canvasStats, downloadText, ensureCli, ensurePage, execFileSync, generation, join, launch, nextResult, openPage, pageUrl, repoRoot, settle,
-  waterSnowlines,
+  canvasStats, downloadText, execFileSync, generation, join, nextResult, openPage, pageUrl, repoRoot, settle,
+  waterSnowlines, withBrowserAndCli,
 } from "./helpers.mjs";
 import { newPage } from "./helpers.mjs";
 
@@ -26,17 +25,7 @@ let browser;
 let cli;
 let scratch;
 
-before(async () => {
-  ensurePage();
-  cli = ensureCli();
-  scratch = mkdtempSync(join(tmpdir(), "nivalis-page-test-"));
-  browser = await launch();
-});
-
-after(async () => {
-  await browser?.close();
-  if (scratch) rmSync(scratch, { recursive: true, force: true });
-});
+withBrowserAndCli("page", (s) => ({ browser, cli, scratch } = s));
 
 // A new tab with the page loaded and drawn (helpers.mjs newPage).
 function freshPage(url) {

@@ -15,28 +15,17 @@
 //
 // The disk file given to the CLI is the page's own Save (the resolved disk).
 
-import { after, before, test } from "node:test";
+import { test } from "node:test";
 import assert from "node:assert/strict";
-import { mkdtempSync, readFileSync, rmSync, writeFileSync } from "node:fs";
-import { tmpdir } from "node:os";
-import { canvasStats, ensureCli, ensurePage, execFileSync, generation, join, launch, nextResult, pageUrl, repoRoot, settle } from "./helpers.mjs";
+import { readFileSync, writeFileSync } from "node:fs";
+import { canvasStats, execFileSync, generation, join, nextResult, pageUrl, repoRoot, settle, withBrowserAndCli } from "./helpers.mjs";
 import { newPage } from "./helpers.mjs";
 
 let browser;
 let cli;
 let scratch;
 
-before(async () => {
-  ensurePage();
-  cli = ensureCli();
-  scratch = mkdtempSync(join(tmpdir(), "nivalis-planet-test-"));
-  browser = await launch();
-});
-
-after(async () => {
-  await browser?.close();
-  if (scratch) rmSync(scratch, { recursive: true, force: true });
-});
+withBrowserAndCli("planet", (s) => ({ browser, cli, scratch } = s));
 
 // A new tab with the page loaded and drawn (helpers.mjs newPage).
 function freshPage(url) {

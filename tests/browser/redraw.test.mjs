@@ -9,12 +9,11 @@
 // shows; Explorer.drawCount counts the canvases actually drawn). Counts and
 // states only, never a timing.
 
-import { after, before, test } from "node:test";
+import { test } from "node:test";
 import assert from "node:assert/strict";
-import { mkdtempSync, rmSync, writeFileSync } from "node:fs";
-import { tmpdir } from "node:os";
+import { writeFileSync } from "node:fs";
 import {
-  canvasStats, downloadText, ensureCli, ensurePage, execFileSync, join, launch, newPage, settle,
+  canvasStats, downloadText, execFileSync, join, newPage, settle, withBrowserAndCli,
 } from "./helpers.mjs";
 
 const CANVASES = ["canvas-c-to-o", "canvas-temperature", "canvas-ice-map", "canvas-c-to-o-map", "canvas-abundances"];
@@ -23,17 +22,7 @@ let browser;
 let cli;
 let scratch;
 
-before(async () => {
-  ensurePage();
-  cli = ensureCli();
-  scratch = mkdtempSync(join(tmpdir(), "nivalis-redraw-test-"));
-  browser = await launch();
-});
-
-after(async () => {
-  await browser?.close();
-  if (scratch) rmSync(scratch, { recursive: true, force: true });
-});
+withBrowserAndCli("redraw", (s) => ({ browser, cli, scratch } = s));
 
 // How many times each view's canvas has been drawn (not counting views left as they were).
 function drawCounts(page) {

@@ -6,27 +6,16 @@
 // float_roundtrip), 1.3792569329517467e-11 came back 1 ulp off and the page's ECSV
 // differed from the CLI's.
 
-import { after, before, test } from "node:test";
+import { test } from "node:test";
 import assert from "node:assert/strict";
-import { mkdtempSync, rmSync, writeFileSync } from "node:fs";
-import { tmpdir } from "node:os";
-import { downloadText, ensureCli, ensurePage, execFileSync, join, launch, newPage, pageUrl, settle } from "./helpers.mjs";
+import { writeFileSync } from "node:fs";
+import { downloadText, execFileSync, join, newPage, pageUrl, settle, withBrowserAndCli } from "./helpers.mjs";
 
 let browser;
 let cli;
 let scratch;
 
-before(async () => {
-  ensurePage();
-  cli = ensureCli();
-  scratch = mkdtempSync(join(tmpdir(), "nivalis-roundtrip-test-"));
-  browser = await launch();
-});
-
-after(async () => {
-  await browser?.close();
-  if (scratch) rmSync(scratch, { recursive: true, force: true });
-});
+withBrowserAndCli("roundtrip", (s) => ({ browser, cli, scratch } = s));
 
 async function setField(page, path, value) {
   const id = "#f-" + path.replace(/[^A-Za-z0-9_]/g, "-");

@@ -15,29 +15,18 @@
 // Every wait is on the page's explicit state (body[data-state],
 // body[data-generation]), never on a timing.
 
-import { after, before, test } from "node:test";
+import { test } from "node:test";
 import assert from "node:assert/strict";
-import { mkdtempSync, rmSync, writeFileSync } from "node:fs";
-import { tmpdir } from "node:os";
+import { writeFileSync } from "node:fs";
 import {
-  downloadText, ensureCli, ensurePage, execFileSync, generation, join, launch, newPage, nextResult, pageUrl, waterSnowlines,
+  downloadText, execFileSync, generation, join, newPage, nextResult, pageUrl, waterSnowlines, withBrowserAndCli,
 } from "./helpers.mjs";
 
 let browser;
 let cli;
 let scratch;
 
-before(async () => {
-  ensurePage();
-  cli = ensureCli();
-  scratch = mkdtempSync(join(tmpdir(), "nivalis-survive-test-"));
-  browser = await launch();
-});
-
-after(async () => {
-  await browser?.close();
-  if (scratch) rmSync(scratch, { recursive: true, force: true });
-});
+withBrowserAndCli("survive", (s) => ({ browser, cli, scratch } = s));
 
 // A guard against a hang only (no check depends on it): waits are on page state.
 const WAIT = 300000;

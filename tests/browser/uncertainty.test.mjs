@@ -13,11 +13,10 @@
 //   DISK --figure VIEW --format svg|png` and, for the posterior, `nivalis fit ... --uncertainty
 //   --figure FILE`, byte for byte (and differ from the CLI's file at another dpi).
 
-import { after, before, test } from "node:test";
+import { test } from "node:test";
 import assert from "node:assert/strict";
-import { mkdtempSync, readFileSync, rmSync, writeFileSync } from "node:fs";
-import { tmpdir } from "node:os";
-import { downloadText, ensureCli, ensurePage, execFileSync, join, launch, newPage } from "./helpers.mjs";
+import { readFileSync, writeFileSync } from "node:fs";
+import { downloadText, execFileSync, join, newPage, withBrowserAndCli } from "./helpers.mjs";
 
 let browser;
 let cli;
@@ -30,17 +29,7 @@ const SECTION = {
   "composition.carbon": { distribution: "dirichlet", concentration: 30 },
 };
 
-before(async () => {
-  ensurePage();
-  cli = ensureCli();
-  scratch = mkdtempSync(join(tmpdir(), "nivalis-unc-test-"));
-  browser = await launch();
-});
-
-after(async () => {
-  await browser?.close();
-  if (scratch) rmSync(scratch, { recursive: true, force: true });
-});
+withBrowserAndCli("unc", (s) => ({ browser, cli, scratch } = s));
 
 async function downloadBytes(page, selector) {
   const [download] = await Promise.all([page.waitForEvent("download"), page.click(selector)]);

@@ -1269,6 +1269,21 @@ fn planet_takes_an_age_or_a_formation_window() {
     );
 }
 
+/// The arguments of `nivalis fit DISK --c-to-o 0.5 --c-to-o-sigma 0.05 --over-age-myr WINDOW`
+/// (the observed C/O of the over-age tests, invented for the test).
+fn fit_over_age<'a>(disk: &'a str, window: &'a str) -> Vec<&'a str> {
+    vec![
+        "fit",
+        disk,
+        "--c-to-o",
+        "0.5",
+        "--c-to-o-sigma",
+        "0.05",
+        "--over-age-myr",
+        window,
+    ]
+}
+
 #[test]
 fn fit_maps_formation_radius_by_age_on_the_evolving_disk() {
     // Issue 13 item 3: `nivalis fit ... --over-age-myr T1,T2[,N]` (docs/model.md section 12.9).
@@ -1277,17 +1292,8 @@ fn fit_maps_formation_radius_by_age_on_the_evolving_disk() {
         r#"{"grid": {"radial_cells": 40, "vertical_cells": 8}}"#,
     );
     let p = path.to_str().unwrap();
-    let args = [
-        "fit",
-        p,
-        "--c-to-o",
-        "0.5",
-        "--c-to-o-sigma",
-        "0.05",
-        "--over-age-myr",
-        "0.05,0.5,3",
-    ];
-    let mut json_args = args.to_vec();
+    let args = fit_over_age(p, "0.05,0.5,3");
+    let mut json_args = args.clone();
     json_args.extend(["--format", "json"]);
     let out = nivalis(&json_args);
     assert_eq!(out.status.code(), Some(0), "{}", stderr(&out));
@@ -1305,21 +1311,12 @@ fn fit_maps_formation_radius_by_age_on_the_evolving_disk() {
     assert!(v["fit"]["goodness"]["p_value"].is_number(), "{v}");
     assert!(v["fit"]["best_fit"]["time_myr"].is_number(), "{v}");
     // CSV names the age column first; a window before the run's start is refused by flag.
-    let mut csv = args.to_vec();
+    let mut csv = args;
     csv.extend(["--format", "csv"]);
     let out = nivalis(&csv);
     assert_eq!(out.status.code(), Some(0), "{}", stderr(&out));
     assert!(csv_body(&stdout(&out)).starts_with("time_myr,radius_au,solid_to_gas"));
-    let out = nivalis(&[
-        "fit",
-        p,
-        "--c-to-o",
-        "0.5",
-        "--c-to-o-sigma",
-        "0.05",
-        "--over-age-myr",
-        "0.001,0.5",
-    ]);
+    let out = nivalis(&fit_over_age(p, "0.001,0.5"));
     assert_eq!(out.status.code(), Some(2));
     assert!(stderr(&out).contains("--over-age-myr"), "{}", stderr(&out));
 }
@@ -1337,23 +1334,13 @@ fn fit_over_age_figure_equals_the_shared_function() {
     let p = path.to_str().unwrap();
     let svg_path = temp_file("age_fit.svg", "");
     let png_path = temp_file("age_fit.png", "");
-    let base = [
-        "fit",
-        p,
-        "--c-to-o",
-        "0.5",
-        "--c-to-o-sigma",
-        "0.05",
-        "--over-age-myr",
-        "0.05,0.3,3",
-        "--format",
-        "csv",
-    ];
-    let mut svg_args = base.to_vec();
+    let mut base = fit_over_age(p, "0.05,0.3,3");
+    base.extend(["--format", "csv"]);
+    let mut svg_args = base.clone();
     svg_args.extend(["--figure", svg_path.to_str().unwrap()]);
     let out = nivalis(&svg_args);
     assert_eq!(out.status.code(), Some(0), "{}", stderr(&out));
-    let mut png_args = base.to_vec();
+    let mut png_args = base.clone();
     png_args.extend([
         "--figure",
         png_path.to_str().unwrap(),
@@ -1402,7 +1389,7 @@ fn fit_over_age_figure_equals_the_shared_function() {
     let got_png = std::fs::read(&png_path).unwrap();
     assert_eq!(got_png, embed_png_provenance(&png, &fit.provenance(), view));
     // A resolution out of range is refused by flag before anything runs.
-    let mut bad = base.to_vec();
+    let mut bad = base;
     bad.extend(["--figure", png_path.to_str().unwrap(), "--dpi", "5"]);
     let out = nivalis(&bad);
     assert_eq!(out.status.code(), Some(2));

@@ -110,16 +110,9 @@ impl AgeFitSession {
 #[cfg(target_arch = "wasm32")]
 mod binding {
     use super::AgeFitSession;
-    use serde::Serialize;
+    use crate::explorer::to_js;
     use serde_json::{json, Value};
     use wasm_bindgen::prelude::*;
-
-    fn to_js(value: &Value) -> JsValue {
-        // Invariant: serde_json values always serialise.
-        value
-            .serialize(&serde_wasm_bindgen::Serializer::json_compatible())
-            .expect("JSON value converts to JS")
-    }
 
     fn problems(ps: &[nivalis_disk_files::Problem]) -> JsValue {
         to_js(

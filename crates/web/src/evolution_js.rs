@@ -13,18 +13,11 @@ use nivalis_exports::formats::json_text;
 use nivalis_exports::Provenance;
 use nivalis_physics::evolution::{evolve_with_statics, EvolutionParameters};
 use plotters::prelude::IntoDrawingArea;
-use serde::Serialize;
 use serde_json::{json, Value};
 use wasm_bindgen::prelude::*;
 
 use crate::canvas::{canvas_by_id, MeasuredCanvas};
-
-fn to_js(value: &Value) -> JsValue {
-    // Invariant: serde_json values always serialise (objects become plain JS objects).
-    value
-        .serialize(&serde_wasm_bindgen::Serializer::json_compatible())
-        .expect("JSON value converts to JS")
-}
+use crate::explorer::to_js;
 
 fn run(
     disk: JsValue,

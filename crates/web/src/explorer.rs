@@ -41,7 +41,7 @@ pub(crate) fn to_js(value: &Value) -> JsValue {
         .expect("JSON value converts to JS")
 }
 
-fn problems_js(problems: &[Problem]) -> Value {
+pub(crate) fn problems_js(problems: &[Problem]) -> Value {
     Value::Array(problems.iter().map(|p| json!({"path": p.path, "value": p.value, "allowed": p.allowed, "message": p.message})).collect())
 }
 

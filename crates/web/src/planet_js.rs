@@ -14,32 +14,20 @@ use std::collections::HashMap;
 use nivalis_charts::{Chi2Data, Figure, Theme};
 use nivalis_disk_files::{from_value, to_value, DiskFile, Problem};
 use nivalis_exports::Provenance;
-use serde::Serialize;
 use serde_json::{json, Value};
 use wasm_bindgen::prelude::*;
 
 use crate::canvas;
-use crate::explorer::{Explorer, CSS_PX_PER_POINT};
+use crate::explorer::{problems_js, to_js, Explorer, CSS_PX_PER_POINT};
 use crate::figures::{figure_file, figure_of, FigureOptions};
 use crate::planet::{self, PlanetExport};
 
 /// The message when the planet tools have no model on the page.
 const NO_MODEL: &str = "the planet tools need the model on this page, but this grid was computed in the background; use a grid of at most about twice the default size, or the command-line tool (nivalis planet / fit)";
 
-fn to_js(value: &Value) -> JsValue {
-    // Invariant: serde_json values always serialise (objects become plain JS objects).
-    value
-        .serialize(&serde_wasm_bindgen::Serializer::json_compatible())
-        .expect("JSON value converts to JS")
-}
-
 fn from_js(value: JsValue) -> Result<Value, Problem> {
     serde_wasm_bindgen::from_value(value)
         .map_err(|e| Problem::new("(input)", format!("cannot read the input: {e}")))
-}
-
-fn problems_js(problems: &[Problem]) -> Value {
-    Value::Array(problems.iter().map(|p| json!({"path": p.path, "value": p.value, "allowed": p.allowed, "message": p.message})).collect())
 }
 
 fn failed(problems: &[Problem]) -> JsValue {

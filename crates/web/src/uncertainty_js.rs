@@ -147,15 +147,20 @@ impl UncertaintySession {
                 .map(|(p, _)| posterior_figure(p))
                 .ok_or_else(|| "posterior: no marginalised posterior yet".to_string());
         }
+        self.with_source(|source| uncertainty_figure(view, source))
+    }
+
+    /// Calls `f` with the samples so far, the nominal model and the sensitivity (once
+    /// computed) as the charts' [`UncertaintySource`].
+    fn with_source<T>(&self, f: impl FnOnce(&UncertaintySource) -> T) -> T {
         let mc = self.monte_carlo();
         let nominal = self.nominal();
-        let source = UncertaintySource {
+        f(&UncertaintySource {
             monte_carlo: &mc,
             nominal: nominal.as_ref(),
             sensitivity: self.sensitivity.as_deref(),
             sensitivity_radius_au: self.at_au,
-        };
-        uncertainty_figure(view, &source)
+        })
     }
 
     /// The four panel figures as SVG for the screen: the bands of `quantity` (a [`Quantity`]
@@ -169,24 +174,18 @@ impl UncertaintySession {
         let UncertaintyView::Snowlines(sp) = hist else {
             return Err(format!("unknown species {species:?}"));
         };
-        let mc = self.monte_carlo();
-        let nominal = self.nominal();
-        let source = UncertaintySource {
-            monte_carlo: &mc,
-            nominal: nominal.as_ref(),
-            sensitivity: self.sensitivity.as_deref(),
-            sensitivity_radius_au: self.at_au,
-        };
-        let svg = |v: UncertaintyView| {
-            uncertainty_figure(v, &source)
-                .ok()
-                .and_then(|f| uncertainty_svg(&f, &theme, size).ok())
-        };
-        Ok(json!({
-            "bands": svg(bands),
-            "histogram": svg(hist),
-            "sensitivity_c_to_o": svg(UncertaintyView::Sensitivity(None)),
-            "sensitivity_snowline": svg(UncertaintyView::Sensitivity(Some(sp))),
+        Ok(self.with_source(|source| {
+            let svg = |v: UncertaintyView| {
+                uncertainty_figure(v, source)
+                    .ok()
+                    .and_then(|f| uncertainty_svg(&f, &theme, size).ok())
+            };
+            json!({
+                "bands": svg(bands),
+                "histogram": svg(hist),
+                "sensitivity_c_to_o": svg(UncertaintyView::Sensitivity(None)),
+                "sensitivity_snowline": svg(UncertaintyView::Sensitivity(Some(sp))),
+            })
         }))
     }
 
@@ -263,16 +262,9 @@ impl UncertaintySession {
 #[cfg(target_arch = "wasm32")]
 mod binding {
     use super::UncertaintySession;
-    use serde::Serialize;
+    use crate::explorer::to_js;
     use serde_json::{json, Value};
     use wasm_bindgen::prelude::*;
-
-    fn to_js(value: &Value) -> JsValue {
-        // Invariant: serde_json values always serialise.
-        value
-            .serialize(&serde_wasm_bindgen::Serializer::json_compatible())
-            .expect("JSON value converts to JS")
-    }
 
     /// The uncertainty panel's Monte Carlo, driven by the page's Web Worker.
     #[wasm_bindgen]
