@@ -47,53 +47,23 @@ pub fn advect_diffuse(
 ) {
     let n = grid.cells();
     let (lower, diag, upper, rhs, scratch) = buffers.parts(n);
-    let u = &faces.advective;
-    let d = &faces.diffusive;
+    let storage = |j: usize| grid.area_cm2[j] / dt_s;
+    transport_rows(faces, sigma_gas, storage, lower, diag, upper);
     for j in 0..n {
-        let a = grid.area_cm2[j] / dt_s;
-        let (inner, outer) = (j, j + 1);
-        // Outer face of cell j.
-        let (uo_plus, uo_minus) = if outer == n {
-            (u[n].max(0.0), 0.0)
-        } else {
-            (u[outer].max(0.0), u[outer].min(0.0))
-        };
-        // Inner face of cell j.
-        let (ui_plus, ui_minus) = if inner == 0 {
-            (0.0, u[0].min(0.0))
-        } else {
-            (u[inner].max(0.0), u[inner].min(0.0))
-        };
-        let d_out = if outer == n { 0.0 } else { d[outer] };
-        let d_in = if inner == 0 { 0.0 } else { d[inner] };
-        diag[j] = a + uo_plus + d_out / sigma_gas[j] - ui_minus + d_in / sigma_gas[j];
-        upper[j] = if outer < n {
-            uo_minus - d_out / sigma_gas[j + 1]
-        } else {
-            0.0
-        };
-        lower[j] = if inner > 0 {
-            -(ui_plus + d_in / sigma_gas[j - 1])
-        } else {
-            0.0
-        };
-        rhs[j] = a * x[j];
+        rhs[j] = storage(j) * x[j];
     }
     solve_tridiagonal(lower, diag, upper, rhs, scratch, x);
-    face_flux[0] = u[0].min(0.0) * x[0];
-    for e in 1..n {
-        face_flux[e] = u[e].max(0.0) * x[e - 1] + u[e].min(0.0) * x[e]
-            - d[e] * (x[e] / sigma_gas[e] - x[e - 1] / sigma_gas[e - 1]);
-    }
-    face_flux[n] = u[n].max(0.0) * x[n - 1];
+    face_fluxes(faces, sigma_gas, x, face_flux);
 }
 
-/// The transport-only rows of one carrier's implicit step (what [`advect_diffuse`] solves, less
-/// the A_j / dt of the time derivative): `lower[j] X_{j-1} + diag[j] X_j + upper[j] X_{j+1}` is
-/// the net outward flux of cell j [X cm^2 s^-1].
+/// The rows of one carrier's implicit step: `lower[j] X_{j-1} + diag[j] X_j + upper[j] X_{j+1}` is
+/// `storage(j) X_j` plus the net outward flux of cell j [X cm^2 s^-1]. [`advect_diffuse`] passes
+/// the A_j / dt of the time derivative as `storage`; the coupled vapour-ice step passes 0 and adds
+/// its own terms (0 + t is exactly t, so both keep the bits of a separate loop).
 fn transport_rows(
     faces: &FaceCoefficients,
     sigma_gas: &[f64],
+    storage: impl Fn(usize) -> f64,
     lower: &mut [f64],
     diag: &mut [f64],
     upper: &mut [f64],
@@ -115,7 +85,7 @@ fn transport_rows(
         };
         let d_out = if outer == n { 0.0 } else { d[outer] };
         let d_in = if inner == 0 { 0.0 } else { d[inner] };
-        diag[j] = uo_plus + d_out / sigma_gas[j] - ui_minus + d_in / sigma_gas[j];
+        diag[j] = storage(j) + uo_plus + d_out / sigma_gas[j] - ui_minus + d_in / sigma_gas[j];
         upper[j] = if outer < n {
             uo_minus - d_out / sigma_gas[j + 1]
         } else {
@@ -183,8 +153,8 @@ pub fn advect_diffuse_exchange(
     let n = grid.cells();
     let (mut lv, mut dv, mut uv) = (vec![0.0; n], vec![0.0; n], vec![0.0; n]);
     let (mut li, mut di, mut ui) = (vec![0.0; n], vec![0.0; n], vec![0.0; n]);
-    transport_rows(gas, sigma_gas, &mut lv, &mut dv, &mut uv);
-    transport_rows(dust, sigma_gas, &mut li, &mut di, &mut ui);
+    transport_rows(gas, sigma_gas, |_| 0.0, &mut lv, &mut dv, &mut uv);
+    transport_rows(dust, sigma_gas, |_| 0.0, &mut li, &mut di, &mut ui);
     // Block rows j: L_j x_{j-1} + D_j x_j + U_j x_{j+1} = b_j, x = (V, I); row 0 the sum, row 1
     // the ice. L_j = [[lv, li], [0, li]], U_j = [[uv, ui], [0, ui]].
     type M2 = [[f64; 2]; 2];
