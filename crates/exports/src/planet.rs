@@ -669,31 +669,43 @@ impl FitOptions {
         Ok((observed, settings))
     }
 
-    /// The option a core error of [`chi_square_map`](nivalis_physics::planet::chi_square_map) concerns.
+    /// The option a core error of [`chi_square_map`](nivalis_physics::planet::chi_square_map)
+    /// concerns (`c_to_o` for a name that is none of the fit's, see [`FitOptions::known_option_of`]).
     pub fn option_of(core_name: &str) -> &'static str {
-        match core_name {
-            "c_to_o" => "c_to_o",
-            "c_to_o_sigma" => "c_to_o_sigma",
-            "c_to_h_dex" => "c_to_h_dex",
-            "c_to_h_sigma" => "c_to_h_sigma",
-            "o_to_h_dex" => "o_to_h_dex",
-            "o_to_h_sigma" => "o_to_h_sigma",
-            "m_to_h_dex" => "m_to_h_dex",
-            "m_to_h_sigma" => "m_to_h_sigma",
-            "covariance" => "covariance",
-            "ratio_count" => "ratio_count",
-            "ratio_min" => "ratio_min",
-            "ratio_max" => "ratio_max",
-            "solid_mixing_fraction" => "mix",
-            "radius_prior_au" => "radius_prior_au",
-            "solid_to_gas_prior" => "solid_to_gas_prior",
-            "oxygen_sequestered_fraction" => "oxygen_correction",
-            "planet_mass_mjup" => "planet_mass_mjup",
-            "feeding_zone_hill_radii" => "feeding_zone_hill_radii",
-            _ => "c_to_o",
-        }
+        Self::known_option_of(core_name).unwrap_or("c_to_o")
+    }
+
+    /// The option of a core field name of the fit (`solid_mixing_fraction` is `mix`), or `None`
+    /// where the name is not one of the fit's (for example a disk field).
+    pub fn known_option_of(core_name: &str) -> Option<&'static str> {
+        FIT_CORE_FIELDS
+            .iter()
+            .find(|(core, _)| *core == core_name)
+            .map(|(_, option)| *option)
     }
 }
+
+/// The fit's core field names (`nivalis_physics::planet` errors) and the options they come from.
+const FIT_CORE_FIELDS: [(&str, &str); 18] = [
+    ("c_to_o", "c_to_o"),
+    ("c_to_o_sigma", "c_to_o_sigma"),
+    ("c_to_h_dex", "c_to_h_dex"),
+    ("c_to_h_sigma", "c_to_h_sigma"),
+    ("o_to_h_dex", "o_to_h_dex"),
+    ("o_to_h_sigma", "o_to_h_sigma"),
+    ("m_to_h_dex", "m_to_h_dex"),
+    ("m_to_h_sigma", "m_to_h_sigma"),
+    ("covariance", "covariance"),
+    ("ratio_count", "ratio_count"),
+    ("ratio_min", "ratio_min"),
+    ("ratio_max", "ratio_max"),
+    ("solid_mixing_fraction", "mix"),
+    ("radius_prior_au", "radius_prior_au"),
+    ("solid_to_gas_prior", "solid_to_gas_prior"),
+    ("oxygen_sequestered_fraction", "oxygen_correction"),
+    ("planet_mass_mjup", "planet_mass_mjup"),
+    ("feeding_zone_hill_radii", "feeding_zone_hill_radii"),
+];
 
 /// Reads a range "MIN,MAX" (or "MIN..MAX"): two finite numbers, MIN < MAX.
 pub fn parse_range(text: &str) -> Result<(f64, f64), String> {

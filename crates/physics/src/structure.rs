@@ -1201,14 +1201,7 @@ impl DiskStructure {
     /// Compute the structure on the grid of `p`, with the surface density of its profile
     /// ([`surface_density_g_cm2`], docs/model.md section 3).
     pub fn compute(p: &ModelParameters) -> Result<DiskStructure, PhysicsError> {
-        let c = DiskConstants::new(p)?;
-        let radii =
-            radial_cell_centres_cm(c.inner_radius_cm, c.outer_radius_cm, p.grid.radial_cells);
-        let sigma: Vec<f64> = radii
-            .iter()
-            .map(|&r| surface_density_g_cm2(&c, r))
-            .collect();
-        DiskStructure::build(p, c, radii, sigma, false)
+        Ok(DiskStructure::build(p, Plan::compute(p)?))
     }
 
     /// Whether the surface density was given ([`DiskStructure::from_surface_density`]) rather
@@ -1266,20 +1259,15 @@ impl DiskStructure {
             }
         }
         let c = DiskConstants::new(p)?;
-        DiskStructure::build(p, c, radius_cm.to_vec(), sigma_g_cm2.to_vec(), true)
+        let plan = Plan::new(p, c, radius_cm.to_vec(), sigma_g_cm2.to_vec(), true)?;
+        Ok(DiskStructure::build(p, plan))
     }
 
-    /// The shared column code of both constructors.
-    fn build(
-        p: &ModelParameters,
-        c: DiskConstants,
-        radii: Vec<f64>,
-        sigma: Vec<f64>,
-        given_surface_density: bool,
-    ) -> Result<DiskStructure, PhysicsError> {
-        let plan = Plan::new(p, c, radii, sigma, given_surface_density)?;
+    /// The shared column code of both constructors: a structure with `plan`'s columns written
+    /// into fresh buffers.
+    fn build(p: &ModelParameters, plan: Plan) -> DiskStructure {
         let mut structure = DiskStructure {
-            given_surface_density,
+            given_surface_density: plan.given_surface_density,
             early_soot_line_radius_cm: None,
             constants: plan.constants.clone(),
             radial_cells: 0,
@@ -1294,7 +1282,7 @@ impl DiskStructure {
             samples: Column::with_capacity(0),
         };
         structure.fill(p, plan);
-        Ok(structure)
+        structure
     }
 
     /// [`DiskStructure::compute`] into this structure's own buffers: the same numbers bit for

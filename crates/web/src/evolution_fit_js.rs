@@ -13,33 +13,12 @@ use nivalis_disk_files::{from_value, Problem};
 use nivalis_exports::evolution_fit::{
     age_fit_summary, parse_age_window, run_age_fit, AgeFit, AgeFitError, AgeFitRequest,
 };
+use nivalis_exports::planet::FitOptions;
 use nivalis_exports::planet_tools::{fit_problem, fit_request};
 use nivalis_exports::Format;
 use serde_json::Value;
 
 use crate::figures::{figure_file, FigureOptions};
-
-/// Core field names of the fit's options (their errors name the fit panel's fields).
-const FIT_FIELDS: [&str; 18] = [
-    "c_to_o",
-    "c_to_o_sigma",
-    "c_to_h_dex",
-    "c_to_h_sigma",
-    "o_to_h_dex",
-    "o_to_h_sigma",
-    "m_to_h_dex",
-    "m_to_h_sigma",
-    "covariance",
-    "ratio_count",
-    "ratio_min",
-    "ratio_max",
-    "solid_mixing_fraction",
-    "radius_prior_au",
-    "solid_to_gas_prior",
-    "oxygen_sequestered_fraction",
-    "planet_mass_mjup",
-    "feeding_zone_hill_radii",
-];
 
 /// A finished radius x age fit of the page.
 #[derive(Debug, Clone)]
@@ -69,7 +48,7 @@ impl AgeFitSession {
         let fit = run_age_fit(&file, &request, progress).map_err(|e| match e {
             AgeFitError::Window(m) => vec![Problem::new("age_window", m)],
             AgeFitError::Physics(err) => match err.path() {
-                Some(p) if FIT_FIELDS.contains(&p) => vec![fit_problem(&err)],
+                Some(p) if FitOptions::known_option_of(p).is_some() => vec![fit_problem(&err)],
                 Some("from_myr") | Some("evolution.until_myr") => {
                     vec![Problem::new("age_window", err.detail())]
                 }
