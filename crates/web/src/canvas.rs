@@ -186,25 +186,18 @@ pub fn replay(
         match &ops[i] {
             Op::Stroke { colour, width, .. } => {
                 styles.stroke(c, *colour, *width);
-                let lines = run.iter().filter_map(|op| match op {
-                    Op::Stroke { points, .. } => Some(points.as_slice()),
-                    _ => None,
-                });
-                match svg_path(lines.clone(), false) {
-                    Some(path) => c.stroke_with_path(&path),
-                    None => {
-                        c.begin_path();
-                        for points in lines {
-                            if let Some((first, rest)) = points.split_first() {
-                                c.move_to(first.0, first.1);
-                                for p in rest {
-                                    c.line_to(p.0, p.1);
-                                }
+                c.begin_path();
+                for op in run {
+                    if let Op::Stroke { points, .. } = op {
+                        if let Some((first, rest)) = points.split_first() {
+                            c.move_to(first.0, first.1);
+                            for p in rest {
+                                c.line_to(p.0, p.1);
                             }
                         }
-                        c.stroke();
                     }
                 }
+                c.stroke();
             }
             Op::StrokeRect {
                 colour,
@@ -233,34 +226,19 @@ pub fn replay(
             }
             Op::FillPolygon { colour, .. } => {
                 styles.fill(c, *colour);
-                let polygons: Vec<Vec<(f64, f64)>> = run
-                    .iter()
-                    .filter_map(|op| match op {
-                        Op::FillPolygon { points, .. } => Some(
-                            points
-                                .iter()
-                                .map(|p| (f64::from(p.0), f64::from(p.1)))
-                                .collect(),
-                        ),
-                        _ => None,
-                    })
-                    .collect();
-                match svg_path(polygons.iter().map(Vec::as_slice), true) {
-                    Some(path) => c.fill_with_path_2d(&path),
-                    None => {
-                        c.begin_path();
-                        for points in &polygons {
-                            if let Some((first, rest)) = points.split_first() {
-                                c.move_to(first.0, first.1);
-                                for p in rest {
-                                    c.line_to(p.0, p.1);
-                                }
-                                c.close_path();
+                c.begin_path();
+                for op in run {
+                    if let Op::FillPolygon { points, .. } = op {
+                        if let Some((first, rest)) = points.split_first() {
+                            c.move_to(f64::from(first.0), f64::from(first.1));
+                            for p in rest {
+                                c.line_to(f64::from(p.0), f64::from(p.1));
                             }
+                            c.close_path();
                         }
-                        c.fill();
                     }
                 }
+                c.fill();
             }
             Op::Circle {
                 colour,
@@ -347,59 +325,6 @@ pub fn replay(
         i += n;
     }
     Ok(())
-}
-
-/// The polylines (closed with `closed`) as ONE `Path2D` built from SVG path
-/// text (`M x y L x y ...`), so a run of thousands of vertices crosses from
-/// WebAssembly to the browser as one string instead of one `lineTo` call per
-/// vertex. The path is the same the `moveTo`/`lineTo` calls build: every
-/// coordinate is a whole or half pixel (the recorder's integer pixels, some
-/// shifted by half a pixel), written exactly and read back exactly. `None`
-/// when a coordinate is not such a number (never from the recorder) or the
-/// browser refuses the text: the caller then draws with `lineTo`.
-fn svg_path<'a>(
-    lines: impl Iterator<Item = &'a [(f64, f64)]>,
-    closed: bool,
-) -> Option<web_sys::Path2d> {
-    use std::fmt::Write;
-    thread_local! {
-        static TEXT: RefCell<String> = const { RefCell::new(String::new()) };
-    }
-    TEXT.with(|text| {
-        let mut text = text.borrow_mut();
-        text.clear();
-        for points in lines {
-            for (k, &(x, y)) in points.iter().enumerate() {
-                text.push(if k == 0 { 'M' } else { 'L' });
-                for (i, v) in [x, y].into_iter().enumerate() {
-                    if i == 1 {
-                        text.push(' ');
-                    }
-                    let twice = v * 2.0;
-                    // Whole or half pixels within +-2^22: exact as f32 too.
-                    if !(twice.fract() == 0.0 && twice.abs() <= 8_388_608.0) {
-                        return None;
-                    }
-                    let twice = twice as i64;
-                    if twice % 2 == 0 {
-                        let _ = write!(text, "{}", twice / 2);
-                    } else {
-                        // v = whole + 0.5 * sign: -0.5 -> "-0.5", 4.5 -> "4.5", -4.5 -> "-4.5".
-                        let _ = write!(
-                            text,
-                            "{}{}.5",
-                            if twice < 0 { "-" } else { "" },
-                            twice.unsigned_abs() / 2
-                        );
-                    }
-                }
-            }
-            if closed && !points.is_empty() {
-                text.push('Z');
-            }
-        }
-        web_sys::Path2d::new_with_path_string(&text).ok()
-    })
 }
 
 /// A new canvas that is never shown, for [`replay`]'s images.
