@@ -165,12 +165,10 @@ impl Styles {
 
 /// Draws a display list on the canvas in few calls: each run of strokes of one
 /// pen (a dashed series' dashes, the grid, the ticks) as one path stroked once,
-/// each run of markers as one path, styles set only when they change. An opaque
-/// image (a map's cells, composited over the background) is put on the canvas
-/// with one `putImageData`, which gives the pixels `drawImage` would: the maps
-/// put it right after their background, so the browser has little queued to
-/// rasterise first. Any other image is put on `scratch`, a canvas of its own
-/// that is never shown, and drawn from there with one `drawImage` (blended).
+/// each run of markers as one path, styles set only when they change. An image
+/// (a map's cells) is put on `scratch`, a canvas of its own that is never shown,
+/// and drawn from there with one `drawImage`: a `putImageData` on the shown
+/// canvas would first make the browser rasterise everything still queued on it.
 /// The canvas is not cleared first: every chart paints its own background.
 pub fn replay(
     context: &CanvasRenderingContext2d,
@@ -323,18 +321,6 @@ pub fn replay(
                 let pixels =
                     ImageData::new_with_u8_clamped_array_and_sh(Clamped(rgba), *width, *height)
                         .map_err(fail("the map image"))?;
-                if rgba.chunks_exact(4).all(|px| px[3] == 255) {
-                    // Opaque: drawn source-over at whole pixels, the image's pixels
-                    // replace the canvas's as `putImageData` replaces them. Put
-                    // directly, the browser first rasterises only what is queued
-                    // (a chart's background), while a `putImageData` on the scratch
-                    // canvas that the last draw took a snapshot of copies it
-                    // (measured about twice as slow).
-                    c.put_image_data(&pixels, f64::from(at.0), f64::from(at.1))
-                        .map_err(fail("the map image"))?;
-                    i += n;
-                    continue;
-                }
                 if scratch.width() != *width || scratch.height() != *height {
                     scratch.set_width(*width);
                     scratch.set_height(*height);
