@@ -30,8 +30,7 @@ use wasm_bindgen::{Clamped, JsCast};
 use web_sys::{CanvasRenderingContext2d, HtmlCanvasElement, ImageData};
 
 use crate::display::{
-    css_font, leading_rects_as_image, opaque_cover, run_length, Colour, MeasureText, Op, Recorder,
-    TextSizes,
+    css_font, leading_rects_as_image, run_length, Colour, MeasureText, Op, Recorder, TextSizes,
 };
 use crate::readout::ViewData;
 
@@ -177,15 +176,6 @@ pub fn replay(
 ) -> Result<(), String> {
     let c = context;
     let mut styles = Styles::default();
-    let size = c.canvas().map_or((0, 0), |k| (k.width(), k.height()));
-    if let Some(colour) = opaque_cover(ops, size) {
-        // Every pixel is painted opaquely by the list, so what the canvas showed
-        // before does not show through: one opaque fill of the whole canvas
-        // first changes no pixel, and lets the browser drop what it still had
-        // queued for the canvas (the last draw) instead of rasterising it.
-        styles.fill(c, colour);
-        c.fill_rect(0.0, 0.0, f64::from(size.0), f64::from(size.1));
-    }
     fn fail(what: &'static str) -> impl Fn(wasm_bindgen::JsValue) -> String {
         move |e| format!("cannot draw {what}: {e:?}")
     }

@@ -467,60 +467,6 @@ fn paint(
     }
 }
 
-/// When a list does not open with an opaque fill of the whole canvas (`size`)
-/// but its opaque rectangles and opaque images together cover every pixel
-/// (a map: background strips around its cells' image), the colour of its first
-/// opaque rectangle (for [`replay`]'s leading fill); otherwise `None`.
-pub fn opaque_cover(ops: &[Op], size: (u32, u32)) -> Option<Colour> {
-    let (w, h) = (size.0 as usize, size.1 as usize);
-    if w == 0 || h == 0 {
-        return None;
-    }
-    let opaque_rect = |op: &Op| match op {
-        Op::FillRect { colour, corners } if colour.alpha >= 1.0 => Some((*colour, *corners)),
-        _ => None,
-    };
-    let clip = |v: i32, n: usize| v.clamp(0, n as i32) as usize;
-    let whole =
-        |[a, b]: [(i32, i32); 2]| a.0 <= 0 && a.1 <= 0 && b.0 >= w as i32 && b.1 >= h as i32;
-    if ops
-        .first()
-        .and_then(opaque_rect)
-        .is_some_and(|(_, c)| whole(c))
-    {
-        return None;
-    }
-    let colour = ops.iter().find_map(opaque_rect)?.0;
-    let mut covered = vec![false; w * h];
-    let mut mark = |[a, b]: [(i32, i32); 2]| {
-        let (x0, x1) = (clip(a.0, w), clip(b.0, w));
-        for y in clip(a.1, h)..clip(b.1, h) {
-            if x1 > x0 {
-                covered[y * w + x0..y * w + x1].fill(true);
-            }
-        }
-    };
-    for op in ops {
-        match op {
-            Op::FillRect { .. } => {
-                if let Some((_, corners)) = opaque_rect(op) {
-                    mark(corners);
-                }
-            }
-            Op::Image {
-                at,
-                width,
-                height,
-                rgba,
-            } if rgba.chunks_exact(4).all(|px| px[3] == 255) => {
-                mark([*at, (at.0 + *width as i32, at.1 + *height as i32)]);
-            }
-            _ => {}
-        }
-    }
-    covered.iter().all(|&c| c).then_some(colour)
-}
-
 /// The length of the run of operations from `start` that can be drawn as one
 /// canvas call: strokes of one pen, filled circles (or stroked ones of one pen),
 /// or filled polygons of one colour. Other operations are runs of one.
@@ -737,57 +683,5 @@ mod tests {
         assert_eq!(run_length(&ops, 5), 0);
         assert_eq!(red.css(), "rgba(255,0,0,1)");
         assert_eq!(fine_line((5, 0), (5, 10)), [(4.5, 0.0), (4.5, 10.0)]);
-    }
-}
-#[cfg(test)]
-mod cover_debug {
-    use super::*;
-    use nivalis_charts::{
-        draw_ice_map, map_layout, rasterise_map_over, CellDrawing, MapData, Theme,
-    };
-    use nivalis_physics::{Model, ModelParameters, Species};
-    use plotters::prelude::IntoDrawingArea;
-    struct Fixed;
-    impl MeasureText for Fixed {
-        fn measure(&self, _font: &str, size: f64, text: &str) -> (u32, u32) {
-            (
-                (0.6 * size * text.chars().count() as f64) as u32,
-                (1.2 * size) as u32,
-            )
-        }
-    }
-    #[test]
-    fn debug_cover() {
-        let model = Model::run(&ModelParameters::defaults()).unwrap();
-        let d = MapData::ice_fraction(&model, Species::from_key("H2O").unwrap());
-        let theme = Theme::light();
-        let ops = RefCell::new(Vec::new());
-        let size = (982, 358);
-        let area = Recorder::new(size, &ops, &Fixed).into_drawing_area();
-        let layout = map_layout(&area, &d, &theme, 1.6).unwrap();
-        let main = layout.main();
-        let image =
-            rasterise_map_over(&d, &theme, theme.background, main.width, main.height).unwrap();
-        ops.borrow_mut().push(Op::Image {
-            at: (main.left, main.top),
-            width: image.width,
-            height: image.height,
-            rgba: image.rgba,
-        });
-        draw_ice_map(&area, &d, &theme, 1.6, CellDrawing::Omit).unwrap();
-        drop(area);
-        let ops = ops.into_inner();
-        for op in &ops {
-            if let Op::FillRect { corners, colour } = op {
-                eprintln!("rect {corners:?} {:?}", colour.alpha);
-            }
-            if let Op::Image {
-                at, width, height, ..
-            } = op
-            {
-                eprintln!("image {at:?} {width}x{height}");
-            }
-        }
-        eprintln!("{:?}", opaque_cover(&ops, size));
     }
 }
