@@ -11,7 +11,7 @@ pub enum Scale {
 }
 
 /// One axis: its range, scale and label.
-#[derive(Debug, Clone, PartialEq)]
+#[derive(Clone)]
 pub struct AxisTransform {
     /// Data value at the left (x) or bottom (y) edge of the plotting area.
     pub min: f64,
@@ -21,6 +21,32 @@ pub struct AxisTransform {
     pub scale: Scale,
     /// Axis label as drawn, e.g. "r [au]".
     pub label: String,
+    /// `(min, max, scale)` and their images under `forward`, computed once:
+    /// `fraction` runs per drawn point, and on a log axis it took three
+    /// `log10`s where one is new. Used only while `min`, `max` and `scale` are
+    /// still these (the fields are public), so it never changes a result.
+    ends: (f64, f64, Scale, Option<f64>, Option<f64>),
+}
+
+// By the axis's own fields, as the derived traits were: the cache is not part of the value.
+impl PartialEq for AxisTransform {
+    fn eq(&self, other: &Self) -> bool {
+        self.min == other.min
+            && self.max == other.max
+            && self.scale == other.scale
+            && self.label == other.label
+    }
+}
+
+impl std::fmt::Debug for AxisTransform {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        f.debug_struct("AxisTransform")
+            .field("min", &self.min)
+            .field("max", &self.max)
+            .field("scale", &self.scale)
+            .field("label", &self.label)
+            .finish()
+    }
 }
 
 impl AxisTransform {
@@ -31,20 +57,38 @@ impl AxisTransform {
             max,
             scale,
             label: label.into(),
+            ends: (
+                min,
+                max,
+                scale,
+                forward(scale, min),
+                forward(scale, max),
+            ),
         }
     }
 
     fn forward(&self, v: f64) -> Option<f64> {
-        match self.scale {
-            Scale::Linear => v.is_finite().then_some(v),
-            Scale::Log10 => (v.is_finite() && v > 0.0).then(|| v.log10()),
+        forward(self.scale, v)
+    }
+
+    /// `forward(min)` and `forward(max)`: from the cache while it is current.
+    fn forward_ends(&self) -> (Option<f64>, Option<f64>) {
+        let (min, max, scale, a, b) = self.ends;
+        if min.to_bits() == self.min.to_bits()
+            && max.to_bits() == self.max.to_bits()
+            && scale == self.scale
+        {
+            (a, b)
+        } else {
+            (self.forward(self.min), self.forward(self.max))
         }
     }
 
     /// Fraction 0..1 of the way from `min` to `max` (outside 0..1 beyond the range);
     /// `None` for values the scale cannot show (NaN, infinite, non-positive on a log axis).
     pub fn fraction(&self, v: f64) -> Option<f64> {
-        let (a, b) = (self.forward(self.min)?, self.forward(self.max)?);
+        let (a, b) = self.forward_ends();
+        let (a, b) = (a?, b?);
         Some((self.forward(v)? - a) / (b - a))
     }
 
@@ -56,6 +100,14 @@ impl AxisTransform {
                 10f64.powf(self.min.log10() + t * (self.max.log10() - self.min.log10()))
             }
         }
+    }
+}
+
+/// The value on a scale's linear axis: itself, or its log10; `None` where the scale cannot show it.
+fn forward(scale: Scale, v: f64) -> Option<f64> {
+    match scale {
+        Scale::Linear => v.is_finite().then_some(v),
+        Scale::Log10 => (v.is_finite() && v > 0.0).then(|| v.log10()),
     }
 }
 
