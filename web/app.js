@@ -611,55 +611,80 @@ const App = ((util, core, controls) => {
     }
   }
 
-  function cell(text, attrs = {}) {
-    const td = document.createElement("td");
-    td.textContent = text;
-    for (const [k, v] of Object.entries(attrs)) td.setAttribute(k, v);
-    return td;
-  }
-
   const sig = (x, n = 3) => (x == null ? "–" : Number(x.toPrecision(n)).toString());
 
-  // The table's rows as last filled in (JSON): an edit that leaves them as they
-  // were (the name, a field of no effect) does not rebuild the table.
+  // The snowline table as rows of cells, each `{tag, text, attrs: [[name, value], ...]}`.
+  function snowlineRowsSpec(rows) {
+    const out = [];
+    for (const row of rows) {
+      const lines = row.snowlines.length ? row.snowlines : [null];
+      const span = String(lines.length);
+      lines.forEach((line, i) => {
+        const cells = [];
+        if (i === 0) cells.push({ tag: "th", text: formula(row.species), attrs: [["scope", "row"], ["rowspan", span]] });
+        if (line) {
+          cells.push({ tag: "td", text: sig(line.radius_au), attrs: [["data-radius-au", String(line.radius_au)]] },
+            { tag: "td", text: (line.direction === "freeze_out" ? "freezes out (ice outside)" : "desorbs (gas outside)")
+              + (line.out_of_equilibrium ? "; not in equilibrium at the disk's age" : ""), attrs: [] },
+            { tag: "td", text: sig(line.midplane_temperature_k), attrs: [] });
+        } else {
+          const why = row.inner_edge === "absent" ? "species absent (no carrier)"
+            : row.inner_edge === "ice_at_inner_edge" ? "none: ice everywhere on the grid" : "none: gas everywhere on the grid";
+          cells.push({ tag: "td", text: why, attrs: [["colspan", "3"]] });
+        }
+        if (i === 0) {
+          cells.push({ tag: "td", text: sig(row.condensation_temperature_k), attrs: [["rowspan", span]] },
+            { tag: "td", text: sig(row.binding_energy_k, 4), attrs: [["rowspan", span]] },
+            { tag: "td", text: row.abundance_per_h > 0 ? row.abundance_per_h.toExponential(2) : "0", attrs: [["rowspan", span]] });
+        }
+        out.push({ species: row.species, cells });
+      });
+    }
+    return out;
+  }
+
+  // What the table shows: its rows as last filled in (JSON), its shape (rows,
+  // cells and their attribute names and spans) and per cell its element and
+  // spec. An edit that leaves the rows as they were (the name, a field of no
+  // effect) touches nothing; one that keeps the shape (most: the radii and
+  // temperatures move) rewrites only the cells whose text or attributes changed;
+  // any other rebuilds the table. Either way the table's HTML is the same.
   let shownTable = "";
+  let shownShape = "";
+  let shownCells = [];
 
   function fillSnowlineTable() {
     const rows = Core.explorer.snowlineTable();
     const text = JSON.stringify(rows);
     if (text === shownTable) return;
     shownTable = text;
+    const spec = snowlineRowsSpec(rows);
+    const shape = JSON.stringify(spec.map((r) => [r.species, r.cells.map((c) => [c.tag, c.attrs.map(([k, v]) => (k === "data-radius-au" ? k : k + "=" + v))])]));
+    const flat = spec.flatMap((r) => r.cells);
+    if (shape === shownShape && shownCells.length === flat.length) {
+      flat.forEach((c, i) => {
+        const shown = shownCells[i];
+        if (shown.spec.text !== c.text) shown.el.textContent = c.text;
+        c.attrs.forEach(([k, v], j) => { if (shown.spec.attrs[j][1] !== v) shown.el.setAttribute(k, v); });
+        shown.spec = c;
+      });
+      return;
+    }
+    shownShape = shape;
+    shownCells = [];
     const body = $("snowline-table").tBodies[0];
     body.replaceChildren();
-    for (const row of rows) {
-      const lines = row.snowlines.length ? row.snowlines : [null];
-      lines.forEach((line, i) => {
-        const tr = document.createElement("tr");
-        tr.dataset.species = row.species;
-        if (i === 0) {
-          const th = document.createElement("th");
-          th.scope = "row";
-          th.rowSpan = lines.length;
-          th.textContent = formula(row.species);
-          tr.append(th);
-        }
-        if (line) {
-          tr.append(cell(sig(line.radius_au), { "data-radius-au": String(line.radius_au) }),
-            cell((line.direction === "freeze_out" ? "freezes out (ice outside)" : "desorbs (gas outside)")
-              + (line.out_of_equilibrium ? "; not in equilibrium at the disk's age" : "")),
-            cell(sig(line.midplane_temperature_k)));
-        } else {
-          const why = row.inner_edge === "absent" ? "species absent (no carrier)"
-            : row.inner_edge === "ice_at_inner_edge" ? "none: ice everywhere on the grid" : "none: gas everywhere on the grid";
-          tr.append(cell(why, { colspan: "3" }));
-        }
-        if (i === 0) {
-          tr.append(cell(sig(row.condensation_temperature_k), { rowspan: String(lines.length) }),
-            cell(sig(row.binding_energy_k, 4), { rowspan: String(lines.length) }),
-            cell(row.abundance_per_h > 0 ? row.abundance_per_h.toExponential(2) : "0", { rowspan: String(lines.length) }));
-        }
-        body.append(tr);
-      });
+    for (const row of spec) {
+      const tr = document.createElement("tr");
+      tr.dataset.species = row.species;
+      for (const c of row.cells) {
+        const el = document.createElement(c.tag);
+        for (const [k, v] of c.attrs) el.setAttribute(k, v);
+        el.textContent = c.text;
+        tr.append(el);
+        shownCells.push({ el, spec: c });
+      }
+      body.append(tr);
     }
   }
 
