@@ -94,3 +94,28 @@ test("after staged edits (ices, composition) the exports equal the CLI's for the
   assert.deepEqual(errors, []);
   await page.close();
 });
+
+test("the snowline table rewritten in place after edits is the table built afresh for the same disk", async () => {
+  const { page, errors } = await newPage(browser.context);
+  const html = () => page.innerHTML("#snowline-table tbody");
+  const before = await html();
+  // A mark on the first radius cell: it survives only if the table is rewritten in place.
+  await page.evaluate(() => { document.querySelector("#snowline-table td[data-radius-au]").dataset.mark = "kept"; });
+  const marked = await html();
+  await setField(page, "star.luminosity_lsun", 1.7);
+  await setField(page, "ices.sticking", 0.4);
+  const edited = await html();
+  assert.notEqual(edited, marked, "the edits did not change the table");
+  assert.equal(await page.locator('#snowline-table td[data-mark="kept"]').count(), 1,
+    "the table was rebuilt rather than rewritten in place (same rows and spans)");
+  // The same disk opened afresh (from the address) builds the table from scratch: same HTML, less the mark.
+  const { page: again } = await newPage(browser.context, page.url());
+  assert.equal(await again.innerHTML("#snowline-table tbody"), edited.replace(' data-mark="kept"', ""));
+  // Back to the first disk: the first table again.
+  await setField(page, "star.luminosity_lsun", 1);
+  await setField(page, "ices.sticking", 1);
+  assert.equal((await html()).replace(' data-mark="kept"', ""), before);
+  assert.deepEqual(errors, []);
+  await again.close();
+  await page.close();
+});
