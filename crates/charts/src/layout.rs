@@ -57,13 +57,7 @@ impl AxisTransform {
             max,
             scale,
             label: label.into(),
-            ends: (
-                min,
-                max,
-                scale,
-                forward(scale, min),
-                forward(scale, max),
-            ),
+            ends: (min, max, scale, forward(scale, min), forward(scale, max)),
         }
     }
 

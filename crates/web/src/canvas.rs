@@ -26,7 +26,7 @@ use plotters_backend::{
     BackendColor, BackendCoord, BackendStyle, BackendTextStyle, DrawingBackend, DrawingErrorKind,
 };
 use plotters_canvas::CanvasBackend;
-use wasm_bindgen::{Clamped, JsCast};
+use wasm_bindgen::{Clamped, JsCast, JsValue};
 use web_sys::{CanvasRenderingContext2d, HtmlCanvasElement, ImageData};
 
 use crate::display::{
@@ -131,6 +131,70 @@ pub fn context_of(canvas: &HtmlCanvasElement) -> Result<CanvasRenderingContext2d
     context(canvas)
 }
 
+// The canvas calls of `replay` that take text, with the text as a JS string
+// already made (see `JsText`).
+#[wasm_bindgen::prelude::wasm_bindgen]
+extern "C" {
+    /// A `CanvasRenderingContext2D`, with the calls `replay` makes with JS strings.
+    #[wasm_bindgen(js_name = CanvasRenderingContext2D)]
+    type Context2d;
+    #[wasm_bindgen(method, setter = fillStyle)]
+    fn set_fill_style(this: &Context2d, value: &JsValue);
+    #[wasm_bindgen(method, setter = strokeStyle)]
+    fn set_stroke_style(this: &Context2d, value: &JsValue);
+    #[wasm_bindgen(method, setter = font)]
+    fn set_font(this: &Context2d, value: &JsValue);
+    #[wasm_bindgen(method, catch, js_name = fillText)]
+    fn fill_text(this: &Context2d, text: &JsValue, x: f64, y: f64) -> Result<(), JsValue>;
+}
+
+/// The context as [`Context2d`] (the same JS object).
+fn js_context(c: &CanvasRenderingContext2d) -> &Context2d {
+    c.unchecked_ref()
+}
+
+/// JS strings of the CSS colours, fonts and texts `replay` hands to the
+/// canvas, made once and kept across draws: a chart draws the same labels,
+/// fonts and colours (a colour bar's 128 bands) on every redraw, and making a
+/// JS string from WebAssembly memory (a UTF-8 decode per call) cost more than
+/// the canvas calls themselves. The same strings reach the canvas, so the
+/// pixels are the same. Emptied when it holds more than `JsText::LIMIT`
+/// entries (texts that change with the data, e.g. a marked value).
+#[derive(Default)]
+struct JsText {
+    colours: HashMap<(u8, u8, u8, u64), JsValue>,
+    texts: HashMap<String, JsValue>,
+}
+
+impl JsText {
+    const LIMIT: usize = 4096;
+
+    fn colour(&mut self, colour: Colour) -> &JsValue {
+        if self.colours.len() > Self::LIMIT {
+            self.colours.clear();
+        }
+        let (r, g, b) = colour.rgb;
+        self.colours
+            .entry((r, g, b, colour.alpha.to_bits()))
+            .or_insert_with(|| JsValue::from_str(&colour.css()))
+    }
+
+    fn text(&mut self, text: &str) -> &JsValue {
+        if self.texts.len() > Self::LIMIT {
+            self.texts.clear();
+        }
+        if !self.texts.contains_key(text) {
+            self.texts.insert(text.to_string(), JsValue::from_str(text));
+        }
+        // Invariant: inserted just above when missing.
+        &self.texts[text]
+    }
+}
+
+thread_local! {
+    static JS_TEXT: RefCell<JsText> = RefCell::new(JsText::default());
+}
+
 /// The styles last set on a context, so each is set only when it changes.
 #[derive(Default)]
 struct Styles {
@@ -145,7 +209,7 @@ struct Styles {
 impl Styles {
     fn stroke(&mut self, c: &CanvasRenderingContext2d, colour: Colour, width: u32) {
         if self.stroke != Some(colour) {
-            c.set_stroke_style_str(&colour.css());
+            JS_TEXT.with(|t| js_context(c).set_stroke_style(t.borrow_mut().colour(colour)));
             self.stroke = Some(colour);
         }
         if self.width != Some(width) {
@@ -156,7 +220,7 @@ impl Styles {
 
     fn fill(&mut self, c: &CanvasRenderingContext2d, colour: Colour) {
         if self.fill != Some(colour) {
-            c.set_fill_style_str(&colour.css());
+            JS_TEXT.with(|t| js_context(c).set_fill_style(t.borrow_mut().colour(colour)));
             self.fill = Some(colour);
         }
     }
@@ -275,7 +339,7 @@ pub fn replay(
             } => {
                 styles.fill(c, *colour);
                 if styles.font.as_deref() != Some(font.as_str()) {
-                    c.set_font(font);
+                    JS_TEXT.with(|t| js_context(c).set_font(t.borrow_mut().text(font)));
                     styles.font = Some(font.clone());
                 }
                 if styles.align != Some(*align) {
@@ -287,7 +351,14 @@ pub fn replay(
                     styles.baseline = Some(*baseline);
                 }
                 if *rotation == 0 {
-                    c.fill_text(text, f64::from(at.0), f64::from(at.1))
+                    JS_TEXT
+                        .with(|t| {
+                            js_context(c).fill_text(
+                                t.borrow_mut().text(text),
+                                f64::from(at.0),
+                                f64::from(at.1),
+                            )
+                        })
                         .map_err(fail("a text"))?;
                 } else {
                     // As plotters-canvas: rotate about the anchor. save/restore
@@ -297,7 +368,8 @@ pub fn replay(
                         .map_err(fail("a text"))?;
                     c.rotate(f64::from(*rotation).to_radians())
                         .map_err(fail("a text"))?;
-                    let drawn = c.fill_text(text, 0.0, 0.0);
+                    let drawn = JS_TEXT
+                        .with(|t| js_context(c).fill_text(t.borrow_mut().text(text), 0.0, 0.0));
                     c.restore();
                     drawn.map_err(fail("a text"))?;
                 }
