@@ -119,3 +119,42 @@ test("the snowline table rewritten in place after edits is the table built afres
   await again.close();
   await page.close();
 });
+
+// SHA-256 of each view canvas's pixels, once every view shows the current result.
+async function canvasDigests(page) {
+  await page.evaluate(() => window.nivalis.whenDrawn());
+  return page.evaluate(async (ids) => {
+    const out = {};
+    for (const id of ids) {
+      const c = document.getElementById(id);
+      const pixels = c.getContext("2d").getImageData(0, 0, c.width, c.height).data;
+      const digest = new Uint8Array(await crypto.subtle.digest("SHA-256", pixels));
+      out[id] = `${c.width}x${c.height}:` + Array.from(digest, (b) => b.toString(16).padStart(2, "0")).join("");
+    }
+    return out;
+  }, CANVASES);
+}
+
+test("after edits, a theme switch and a grid change, every view shows the pixels a fresh page draws for the same address", async () => {
+  const { page, errors } = await newPage(browser.context);
+  const first = await canvasDigests(page);
+  await setField(page, "star.luminosity_lsun", 1.5);
+  await setField(page, "ices.sticking", 0.5);
+  const edited = await canvasDigests(page);
+  for (const id of CANVASES.filter((c) => c !== "canvas-temperature")) assert.notEqual(edited[id], first[id], `${id} did not change`);
+  // system -> light -> dark: the address then names the theme.
+  await page.click("#theme-button");
+  await page.click("#theme-button");
+  await settle(page);
+  await setField(page, "grid.radial_cells", 90);
+  await setField(page, "ices.sticking", 0.8);
+  await page.selectOption("#map-species", "CO");
+  await settle(page);
+  const shown = await canvasDigests(page);
+  assert.match(page.url(), /theme=dark/);
+  const { page: fresh } = await newPage(browser.context, page.url());
+  assert.deepEqual(await canvasDigests(fresh), shown);
+  assert.deepEqual(errors, []);
+  await fresh.close();
+  await page.close();
+});
