@@ -4,7 +4,9 @@
 //! Steps:
 //! 1. make sure the wasm target is installed (`rustup target add` when missing);
 //! 2. `cargo build -p nivalis-web --target wasm32-unknown-unknown` with the
-//!    size-optimised `wasm-release` profile (or the dev profile for `--dev`);
+//!    size-optimised `wasm-release` profile (or the dev profile for `--dev`;
+//!    `nivalis-physics` at opt-level 3, see the workspace's Cargo.toml) and
+//!    WebAssembly SIMD (`+simd128`) for this build only;
 //! 3. generate the JavaScript glue with the `wasm-bindgen-cli-support` library
 //!    (target `web`, no TypeScript, name and producers sections removed), so no
 //!    separately installed `wasm-bindgen` CLI is needed and the glue always
@@ -15,11 +17,12 @@
 //! 5. fill the template `web/index.html`: the CSS (`web/style.css`), every
 //!    `demo_disks/*.json` as one JSON object in a `<script type="application/json">`,
 //!    and ONE inline `<script type="module">` holding the glue, the wasm as
-//!    base64 (decoded and compiled with `initSync`) and the app's modules
+//!    base85 text (decoded and compiled with `initSync`) and the app's modules
 //!    (`web/util.js`, `web/core.js`, `web/controls.js`, `web/app.js`, then
 //!    `web/planet.js`, the planet panel and figure downloads; CSS likewise
 //!    `web/style.css` then `web/planet.css`; the wasm is compressed with raw
-//!    DEFLATE by `miniz_oxide` and the page inflates it with the browser's
+//!    DEFLATE by `zopfli`, written as [`base85`] text, and the page decodes it
+//!    (`decodeBase85` in web/core.js) and inflates it with the browser's
 //!    `DecompressionStream("deflate-raw")` before compiling it),
 //!    and the Web Worker's script as inert text (`<script type="text/plain">`:
 //!    the no-modules glue and `web/worker.js`), which the page starts from a
@@ -71,26 +74,23 @@ pub fn dist(release: bool) -> Result<PathBuf, String> {
     // also drops the `target_features` section wasm-bindgen reads to know which
     // wasm features the module uses. The name section (symbols) is removed by
     // wasm-bindgen below, so the module is as small either way.
-    run(cargo()
-        .current_dir(&root)
-        .args([
-            "build",
-            "-p",
-            "nivalis-web",
-            "--lib",
-            "--target",
-            WASM_TARGET,
-            "--profile",
-            profile,
-            "--config",
-            "profile.wasm-release.strip=\"debuginfo\"",
-            // WebAssembly SIMD (128-bit) for the page's module only: LLVM vectorises
-            // the core's loops with it (no FMA, no relaxed SIMD: the same IEEE
-            // operations, so the same bits as native; the browser tests compare).
-            "--config",
-            "target.wasm32-unknown-unknown.rustflags=[\"-C\",\"target-feature=+simd128\"]",
-        ])
-        .args(experiment_args()))?;
+    run(cargo().current_dir(&root).args([
+        "build",
+        "-p",
+        "nivalis-web",
+        "--lib",
+        "--target",
+        WASM_TARGET,
+        "--profile",
+        profile,
+        "--config",
+        "profile.wasm-release.strip=\"debuginfo\"",
+        // WebAssembly SIMD (128-bit) for the page's module only: LLVM vectorises
+        // the core's loops with it (no FMA, no relaxed SIMD: the same IEEE
+        // operations, so the same bits as native; the browser tests compare).
+        "--config",
+        "target.wasm32-unknown-unknown.rustflags=[\"-C\",\"target-feature=+simd128\"]",
+    ]))?;
     let target_dir = std::env::var_os("CARGO_TARGET_DIR")
         .map(PathBuf::from)
         .unwrap_or_else(|| root.join("target"));
@@ -257,9 +257,10 @@ fn optimise(root: &Path, wasm: Vec<u8>) -> Result<Vec<u8>, String> {
     std::fs::create_dir_all(&dir).map_err(|e| format!("cannot create {}: {e}", dir.display()))?;
     let (input, output) = (dir.join("in.wasm"), dir.join("out.wasm"));
     std::fs::write(&input, &wasm).map_err(|e| format!("cannot write {}: {e}", input.display()))?;
-    // The features match what rustc's wasm32 target emits by default.
+    // The features match what rustc's wasm32 target emits by default, plus
+    // SIMD, which the page's build enables (`+simd128` above).
     let outcome = run(Command::new(&tool)
-        .arg(std::env::var("NIVALIS_WASM_OPT").unwrap_or_else(|_| "-Oz".to_string()))
+        .arg("-Oz")
         .args([
             "--enable-simd",
             "--enable-bulk-memory",
@@ -285,9 +286,9 @@ fn optimise(root: &Path, wasm: Vec<u8>) -> Result<Vec<u8>, String> {
     result
 }
 
-/// Zopfli's iterations per block for the page's module: 4 % smaller than
-/// miniz_oxide's best level (10) already at one iteration; more iterations
-/// gain little more for their time (docs/page.md has the measurements).
+/// Zopfli's iterations per block for the page's module. One iteration is
+/// already about 4 % smaller than miniz_oxide's best level (10); the count is
+/// a trade of build time against bytes (docs/page.md "Size" has the numbers).
 const ZOPFLI_ITERATIONS: u64 = 5;
 
 /// Raw DEFLATE (RFC 1951) of `bytes` by Zopfli (the `zopfli` crate, an
@@ -312,13 +313,6 @@ fn deflate(bytes: &[u8]) -> Result<Vec<u8>, String> {
         );
     }
     Ok(deflated)
-}
-
-/// Extra cargo arguments for build experiments (temporary).
-fn experiment_args() -> Vec<String> {
-    std::env::var("NIVALIS_CARGO_EXTRA")
-        .map(|v| v.split_whitespace().map(str::to_string).collect())
-        .unwrap_or_default()
 }
 
 /// Replaces the one occurrence of `slot` in `template`.
