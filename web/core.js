@@ -1,10 +1,11 @@
 // core.js: starts the Rust core (the page's second module). `cargo xtask dist`
 // puts the wasm-bindgen glue (which defines `initSync`, `Explorer` and the
-// module-scope `wasm`) and the constant `NIVALIS_WASM_DEFLATE_BASE64` (the
-// module, compressed) before the page's modules in the same module script;
+// module-scope `wasm`) and the constants `NIVALIS_WASM_DEFLATE_BASE85` (the
+// module, compressed, as text) and `NIVALIS_WASM_BASE85_ALPHABET` before the
+// page's modules in the same module script;
 // this module is the only one that touches them. It holds no physics.
 
-/* global initSync, Explorer, NIVALIS_WASM_DEFLATE_BASE64, wasm */
+/* global initSync, Explorer, NIVALIS_WASM_DEFLATE_BASE85, NIVALIS_WASM_BASE85_ALPHABET, wasm */
 
 const Core = await (async () => {
   // The module is embedded DEFLATE-compressed (cargo xtask dist): inflated with
@@ -14,7 +15,36 @@ const Core = await (async () => {
     const stream = new Blob([bytes]).stream().pipeThrough(new DecompressionStream("deflate-raw"));
     return new Uint8Array(await new Response(stream).arrayBuffer());
   }
-  const wasmBytes = await inflateRaw(Uint8Array.from(atob(NIVALIS_WASM_DEFLATE_BASE64), (c) => c.charCodeAt(0)));
+  // The compressed module is base85 text (crates/xtask/src/dist.rs `base85`):
+  // each 5 characters, digits 0..84 in `alphabet`'s order, most significant
+  // first, are 4 bytes (a big-endian 32-bit number); a last group of k + 1 < 5
+  // characters is k bytes, read as if padded with the highest digit (Ascii85's
+  // rule). A few ms for the module (docs/page.md); tests/browser/base85.test.mjs.
+  function decodeBase85(text, alphabet) {
+    const digit = new Uint8Array(128);
+    for (let i = 0; i < 85; i++) digit[alphabet.charCodeAt(i)] = i;
+    const groups = Math.floor(text.length / 5);
+    const rest = text.length % 5;
+    if (rest === 1) throw new Error("base85 text cannot end with a single character");
+    const out = new Uint8Array(groups * 4 + (rest > 0 ? rest - 1 : 0));
+    let o = 0;
+    for (let i = 0; i < groups * 5; i += 5) {
+      const n = (((digit[text.charCodeAt(i)] * 85 + digit[text.charCodeAt(i + 1)]) * 85
+        + digit[text.charCodeAt(i + 2)]) * 85 + digit[text.charCodeAt(i + 3)]) * 85 + digit[text.charCodeAt(i + 4)];
+      out[o] = n >>> 24;
+      out[o + 1] = n >>> 16;
+      out[o + 2] = n >>> 8;
+      out[o + 3] = n;
+      o += 4;
+    }
+    if (rest > 0) {
+      let n = 0;
+      for (let j = 0; j < 5; j++) n = n * 85 + (j < rest ? digit[text.charCodeAt(groups * 5 + j)] : 84);
+      for (let j = 0; j < rest - 1; j++) out[o + j] = n >>> (24 - 8 * j);
+    }
+    return out;
+  }
+  const wasmBytes = await inflateRaw(decodeBase85(NIVALIS_WASM_DEFLATE_BASE85, NIVALIS_WASM_BASE85_ALPHABET));
   // Compiled once: the page instantiates it here, and the worker (large grids) gets the same module.
   const compiled = new WebAssembly.Module(wasmBytes);
   initSync({ module: compiled });
