@@ -850,74 +850,103 @@ impl BalanceConstants {
             // the output, then the last partial group computed whole (its lanes past `len` hold
             // another place of the block or zeros, and are dropped), so no lane of a place falls
             // to a scalar remainder loop.
-            let full = len / LANE_GROUP * LANE_GROUP;
             let mut settled = [true; BLOCK];
             let mut desorption = [0.0; BLOCK];
+            // WebAssembly with simd128: two places per vector, explicitly (module `simd128`).
+            #[cfg(all(target_arch = "wasm32", target_feature = "simd128"))]
             {
-                let (ice, equilibrium, time, flag, settled, desorption) = (
-                    &mut ice[..full],
-                    &mut equilibrium[..full],
-                    &mut time[..full],
-                    &mut flag[..full],
-                    &mut settled[..full],
-                    &mut desorption[..full],
-                );
-                for q in 0..full {
-                    let (s, done, b) = self.lane(
-                        i,
-                        block.inverse_temperature[q],
-                        block.sqrt_temperature[q],
-                        block.grain_area[q],
-                        block.inverse_area_sqrt_temperature[q],
-                        block.monolayer[q],
-                        block.fuv_per_site[q],
-                        block.ionization_rate[q],
-                        per_h * block.hydrogen_density[q],
-                        inverse_per_h * block.inverse_hydrogen_density[q],
-                    );
-                    ice[q] = s.ice_fraction;
-                    equilibrium[q] = s.equilibrium_ice_fraction;
-                    time[q] = s.equilibration_time_s;
-                    flag[q] = s.out_of_equilibrium;
-                    settled[q] = done;
-                    desorption[q] = b;
+                use core::arch::wasm32::{f64x2_extract_lane, v128};
+                let mut q = 0;
+                while q < len {
+                    let pair = self.lane_pair(i, per_h, inverse_per_h, block, q);
+                    let lanes = if q + 1 < len { 2 } else { 1 };
+                    let lane = |v: v128, k: usize| {
+                        if k == 0 {
+                            f64x2_extract_lane::<0>(v)
+                        } else {
+                            f64x2_extract_lane::<1>(v)
+                        }
+                    };
+                    for k in 0..lanes {
+                        ice[q + k] = lane(pair.ice, k);
+                        equilibrium[q + k] = lane(pair.equilibrium, k);
+                        time[q + k] = lane(pair.time, k);
+                        desorption[q + k] = lane(pair.desorption, k);
+                        flag[q + k] = (pair.flag >> k) & 1 != 0;
+                        settled[q + k] = (pair.settled >> k) & 1 != 0;
+                    }
+                    q += 2;
                 }
             }
-            if full < len {
-                let mut lanes = LaneGroup::new();
-                // full <= BLOCK - LANE_GROUP (BLOCK is a multiple of LANE_GROUP and full < len <=
-                // BLOCK): the `min` changes nothing but lets the compiler drop the bounds checks.
-                let base = full.min(BLOCK - LANE_GROUP);
-                for k in 0..LANE_GROUP {
-                    let q = base + k;
-                    let (s, done, b) = self.lane(
-                        i,
-                        block.inverse_temperature[q],
-                        block.sqrt_temperature[q],
-                        block.grain_area[q],
-                        block.inverse_area_sqrt_temperature[q],
-                        block.monolayer[q],
-                        block.fuv_per_site[q],
-                        block.ionization_rate[q],
-                        per_h * block.hydrogen_density[q],
-                        inverse_per_h * block.inverse_hydrogen_density[q],
+            #[cfg(not(all(target_arch = "wasm32", target_feature = "simd128")))]
+            {
+                let full = len / LANE_GROUP * LANE_GROUP;
+                {
+                    let (ice, equilibrium, time, flag, settled, desorption) = (
+                        &mut ice[..full],
+                        &mut equilibrium[..full],
+                        &mut time[..full],
+                        &mut flag[..full],
+                        &mut settled[..full],
+                        &mut desorption[..full],
                     );
-                    lanes.ice[k] = s.ice_fraction;
-                    lanes.equilibrium[k] = s.equilibrium_ice_fraction;
-                    lanes.time[k] = s.equilibration_time_s;
-                    lanes.flag[k] = s.out_of_equilibrium;
-                    lanes.settled[k] = done;
-                    lanes.desorption[k] = b;
+                    for q in 0..full {
+                        let (s, done, b) = self.lane(
+                            i,
+                            block.inverse_temperature[q],
+                            block.sqrt_temperature[q],
+                            block.grain_area[q],
+                            block.inverse_area_sqrt_temperature[q],
+                            block.monolayer[q],
+                            block.fuv_per_site[q],
+                            block.ionization_rate[q],
+                            per_h * block.hydrogen_density[q],
+                            inverse_per_h * block.inverse_hydrogen_density[q],
+                        );
+                        ice[q] = s.ice_fraction;
+                        equilibrium[q] = s.equilibrium_ice_fraction;
+                        time[q] = s.equilibration_time_s;
+                        flag[q] = s.out_of_equilibrium;
+                        settled[q] = done;
+                        desorption[q] = b;
+                    }
                 }
-                // At most 7 values each: a loop, not a call to memcpy.
-                #[allow(clippy::manual_memcpy)]
-                for k in 0..len - full {
-                    ice[full + k] = lanes.ice[k];
-                    equilibrium[full + k] = lanes.equilibrium[k];
-                    time[full + k] = lanes.time[k];
-                    flag[full + k] = lanes.flag[k];
-                    settled[full + k] = lanes.settled[k];
-                    desorption[full + k] = lanes.desorption[k];
+                if full < len {
+                    let mut lanes = LaneGroup::new();
+                    // full <= BLOCK - LANE_GROUP (BLOCK is a multiple of LANE_GROUP and full < len <=
+                    // BLOCK): the `min` changes nothing but lets the compiler drop the bounds checks.
+                    let base = full.min(BLOCK - LANE_GROUP);
+                    for k in 0..LANE_GROUP {
+                        let q = base + k;
+                        let (s, done, b) = self.lane(
+                            i,
+                            block.inverse_temperature[q],
+                            block.sqrt_temperature[q],
+                            block.grain_area[q],
+                            block.inverse_area_sqrt_temperature[q],
+                            block.monolayer[q],
+                            block.fuv_per_site[q],
+                            block.ionization_rate[q],
+                            per_h * block.hydrogen_density[q],
+                            inverse_per_h * block.inverse_hydrogen_density[q],
+                        );
+                        lanes.ice[k] = s.ice_fraction;
+                        lanes.equilibrium[k] = s.equilibrium_ice_fraction;
+                        lanes.time[k] = s.equilibration_time_s;
+                        lanes.flag[k] = s.out_of_equilibrium;
+                        lanes.settled[k] = done;
+                        lanes.desorption[k] = b;
+                    }
+                    // At most 7 values each: a loop, not a call to memcpy.
+                    #[allow(clippy::manual_memcpy)]
+                    for k in 0..len - full {
+                        ice[full + k] = lanes.ice[k];
+                        equilibrium[full + k] = lanes.equilibrium[k];
+                        time[full + k] = lanes.time[k];
+                        flag[full + k] = lanes.flag[k];
+                        settled[full + k] = lanes.settled[k];
+                        desorption[full + k] = lanes.desorption[k];
+                    }
                 }
             }
             for q in 0..len {
@@ -954,9 +983,11 @@ impl BalanceConstants {
 }
 
 /// How many lanes the block loop computes at once at most (8 doubles: one AVX-512 vector).
+#[cfg(not(all(target_arch = "wasm32", target_feature = "simd128")))]
 const LANE_GROUP: usize = 8;
 
 /// The results of one group of lanes.
+#[cfg(not(all(target_arch = "wasm32", target_feature = "simd128")))]
 struct LaneGroup {
     ice: [f64; LANE_GROUP],
     equilibrium: [f64; LANE_GROUP],
@@ -966,6 +997,7 @@ struct LaneGroup {
     desorption: [f64; LANE_GROUP],
 }
 
+#[cfg(not(all(target_arch = "wasm32", target_feature = "simd128")))]
 impl LaneGroup {
     #[inline(always)]
     fn new() -> LaneGroup {
@@ -1012,6 +1044,268 @@ pub struct SampleState {
     fuv_photons_cm2_s: f64,
     fuv_per_site: f64,
     ionization_rate_s: f64,
+}
+
+/// The lane loop of [`BalanceConstants::solve_block`] in explicit WebAssembly SIMD (simd128,
+/// two places per vector): the same IEEE operations in the same order as
+/// [`BalanceConstants::lane`] (with [`exp_poly`] and [`ln_upper_bound`] written out), selects
+/// as bit masks, no fused multiply-add, so every lane gives the scalar lane's bits
+/// (`tests::grid_equals_the_scalar_lanes_bit_for_bit`, run as WebAssembly with simd128). Built
+/// only when the target has simd128 (a page built with `-C target-feature=+simd128`); the
+/// size-optimised build does not vectorise the scalar loop itself.
+#[cfg(all(target_arch = "wasm32", target_feature = "simd128"))]
+mod simd128 {
+    use super::{BalanceConstants, SampleBlock, BLOCK, EQUILIBRIUM_FRACTION_TOLERANCE};
+    use crate::params::{DesorptionModel, InitialIceState};
+    use core::arch::wasm32::*;
+
+    /// Two places of a block array, from index `q` (q + 1 < BLOCK).
+    #[inline(always)]
+    #[allow(unsafe_code)]
+    fn load(values: &[f64; BLOCK], q: usize) -> v128 {
+        assert!(q + 1 < BLOCK);
+        // SAFETY: q + 1 < BLOCK (checked above), so both doubles lie inside the array;
+        // v128_load has no alignment requirement.
+        unsafe { v128_load(values.as_ptr().add(q).cast::<v128>()) }
+    }
+
+    #[inline(always)]
+    fn splat(x: f64) -> v128 {
+        f64x2_splat(x)
+    }
+
+    /// `if mask { a } else { b }` per lane.
+    #[inline(always)]
+    fn select(mask: v128, a: v128, b: v128) -> v128 {
+        v128_bitselect(a, b, mask)
+    }
+
+    /// [`crate::math::exp_poly`], two lanes.
+    #[inline(always)]
+    fn exp_poly(x: v128) -> v128 {
+        const LOG2_E: f64 = core::f64::consts::LOG2_E;
+        const LN2_HI: f64 = 0.693_147_180_369_123_8;
+        const LN2_LO: f64 = 1.908_214_929_270_587_7e-10;
+        const SHIFT: f64 = 6_755_399_441_055_744.0;
+        let zero = f64x2_lt(x, splat(-745.2));
+        let infinite = f64x2_gt(x, splat(709.8));
+        let x = select(v128_or(zero, infinite), splat(0.0), x);
+        let n = f64x2_sub(
+            f64x2_add(f64x2_mul(x, splat(LOG2_E)), splat(SHIFT)),
+            splat(SHIFT),
+        );
+        let r = f64x2_sub(
+            f64x2_sub(x, f64x2_mul(n, splat(LN2_HI))),
+            f64x2_mul(n, splat(LN2_LO)),
+        );
+        let r2 = f64x2_mul(r, r);
+        let r4 = f64x2_mul(r2, r2);
+        let r8 = f64x2_mul(r4, r4);
+        let pair = |c0: f64, c1: f64| f64x2_add(splat(c0), f64x2_mul(splat(c1), r));
+        let a0 = pair(1.0 / 2.0, 1.0 / 6.0);
+        let a1 = pair(1.0 / 24.0, 1.0 / 120.0);
+        let a2 = pair(1.0 / 720.0, 1.0 / 5_040.0);
+        let a3 = pair(1.0 / 40_320.0, 1.0 / 362_880.0);
+        let a4 = pair(1.0 / 3_628_800.0, 1.0 / 39_916_800.0);
+        let a5 = pair(1.0 / 479_001_600.0, 1.0 / 6_227_020_800.0);
+        let b0 = f64x2_add(a0, f64x2_mul(a1, r2));
+        let b1 = f64x2_add(a2, f64x2_mul(a3, r2));
+        let b2 = f64x2_add(a4, f64x2_mul(a5, r2));
+        let q = f64x2_add(f64x2_add(b0, f64x2_mul(b1, r4)), f64x2_mul(b2, r8));
+        let p = f64x2_add(splat(1.0), f64x2_add(r, f64x2_mul(r2, q)));
+        let k1 = f64x2_add(f64x2_mul(n, splat(0.5)), splat(SHIFT));
+        let n1 = f64x2_sub(k1, splat(SHIFT));
+        let k2 = f64x2_add(f64x2_sub(n, n1), splat(SHIFT));
+        let pow2 = |k: v128| i64x2_shl(i64x2_add(k, i64x2_splat(1023)), 52);
+        let y = f64x2_mul(f64x2_mul(p, pow2(k1)), pow2(k2));
+        let y = select(zero, splat(0.0), y);
+        select(infinite, splat(f64::INFINITY), y)
+    }
+
+    /// [`crate::math::ln_upper_bound`], two lanes.
+    #[inline(always)]
+    fn ln_upper_bound(y: v128) -> v128 {
+        let bits = v128_or(i64x2_splat(0x4330_0000_0000_0000), u64x2_shr(y, 52));
+        let biased = f64x2_sub(bits, splat(4_503_599_627_370_496.0));
+        f64x2_mul(
+            f64x2_sub(biased, splat(1022.0)),
+            splat(core::f64::consts::LN_2),
+        )
+    }
+
+    /// `clamp_unit`, two lanes.
+    #[inline(always)]
+    fn clamp_unit(f: v128) -> v128 {
+        let f = select(f64x2_lt(f, splat(0.0)), splat(0.0), f);
+        select(f64x2_gt(f, splat(1.0)), splat(1.0), f)
+    }
+
+    /// The outputs of places `q` and `q + 1`.
+    pub(super) struct Pair {
+        pub(super) ice: v128,
+        pub(super) equilibrium: v128,
+        pub(super) time: v128,
+        pub(super) desorption: v128,
+        /// Bit 0: place q, bit 1: place q + 1.
+        pub(super) flag: u8,
+        pub(super) settled: u8,
+    }
+
+    impl BalanceConstants {
+        /// [`BalanceConstants::lane`] for places `q` and `q + 1` of a block, species `i`.
+        #[inline(always)]
+        pub(super) fn lane_pair(
+            &self,
+            i: usize,
+            per_h: f64,
+            inverse_per_h: f64,
+            block: &SampleBlock,
+            q: usize,
+        ) -> Pair {
+            let age = splat(self.age_s);
+            let inverse_temperature = load(&block.inverse_temperature, q);
+            let sqrt_temperature = load(&block.sqrt_temperature, q);
+            let grain_area = load(&block.grain_area, q);
+            let inverse_area_sqrt_temperature = load(&block.inverse_area_sqrt_temperature, q);
+            let monolayer = load(&block.monolayer, q);
+            let fuv_per_site = load(&block.fuv_per_site, q);
+            let ionization_rate = load(&block.ionization_rate, q);
+            let molecules = f64x2_mul(splat(per_h), load(&block.hydrogen_density, q));
+            let inverse_molecules = f64x2_mul(
+                splat(inverse_per_h),
+                load(&block.inverse_hydrogen_density, q),
+            );
+            // branches_at / branches_given.
+            let desorption = f64x2_add(
+                f64x2_mul(
+                    splat(self.nu[i]),
+                    exp_poly(f64x2_mul(splat(self.minus_binding[i]), inverse_temperature)),
+                ),
+                f64x2_mul(splat(self.cr_per_zeta[i]), ionization_rate),
+            );
+            let adsorption = f64x2_mul(
+                f64x2_mul(
+                    f64x2_mul(splat(self.sticking), grain_area),
+                    splat(self.thermal_speed_coefficient[i]),
+                ),
+                sqrt_temperature,
+            );
+            let inverse_adsorption = f64x2_mul(
+                splat(self.inverse_sticking_speed[i]),
+                inverse_area_sqrt_temperature,
+            );
+            let per_monolayer = f64x2_mul(fuv_per_site, splat(self.yields[i]));
+            // Branches::new.
+            let thin_rate = f64x2_add(f64x2_add(adsorption, desorption), per_monolayer);
+            let inverse_thin_rate = f64x2_div(splat(1.0), thin_rate);
+            let thin_fraction = f64x2_mul(adsorption, inverse_thin_rate);
+            let thin_root = f64x2_mul(thin_fraction, molecules);
+            let thick_root = f64x2_sub(
+                molecules,
+                f64x2_mul(
+                    f64x2_mul(monolayer, f64x2_add(desorption, per_monolayer)),
+                    inverse_adsorption,
+                ),
+            );
+            let zeroth = if self.model == DesorptionModel::ZerothOrder {
+                u64x2_splat(u64::MAX)
+            } else {
+                u64x2_splat(0)
+            };
+            // lane.
+            let valid = v128_and(
+                f64x2_gt(molecules, splat(0.0)),
+                f64x2_gt(grain_area, splat(0.0)),
+            );
+            let thin = v128_or(v128_not(zeroth), f64x2_le(thin_root, monolayer));
+            let equilibrium = select(
+                valid,
+                select(
+                    thin,
+                    thin_fraction,
+                    clamp_unit(f64x2_mul(thick_root, inverse_molecules)),
+                ),
+                splat(0.0),
+            );
+            let time = select(
+                valid,
+                select(thin, inverse_thin_rate, inverse_adsorption),
+                splat(f64::NAN),
+            );
+            let kinetic = if self.initial_state != InitialIceState::Equilibrium {
+                valid
+            } else {
+                u64x2_splat(0)
+            };
+            let initial = if self.initial_state == InitialIceState::Inherited {
+                molecules
+            } else {
+                splat(0.0)
+            };
+            // Branches::settled_root(initial, age).
+            let (a, m) = (adsorption, monolayer);
+            let above = f64x2_gt(initial, m);
+            let thick_holds = f64x2_ge(thick_root, m);
+            let thin_holds = f64x2_le(thin_root, m);
+            let direct_thick = v128_and(v128_and(zeroth, above), thick_holds);
+            let to_thin = v128_and(v128_and(zeroth, above), v128_not(thick_holds));
+            let to_thick = v128_and(v128_andnot(zeroth, above), v128_not(thin_holds));
+            let root = select(v128_or(direct_thick, to_thick), thick_root, thin_root);
+            let direct_rate = select(direct_thick, a, thin_rate);
+            let direct = f64x2_gt(f64x2_mul(direct_rate, age), splat(40.0));
+            let num = select(to_thin, f64x2_sub(initial, m), f64x2_sub(m, initial));
+            let den = select(to_thin, f64x2_sub(m, thick_root), f64x2_sub(thin_root, m));
+            let inverse_first = select(to_thin, inverse_adsorption, inverse_thin_rate);
+            let second = select(to_thin, thin_rate, a);
+            let sum = f64x2_add(num, den);
+            let crossing = f64x2_mul(
+                f64x2_mul(
+                    f64x2_add(
+                        f64x2_sub(ln_upper_bound(sum), ln_upper_bound(den)),
+                        splat(core::f64::consts::LN_2),
+                    ),
+                    inverse_first,
+                ),
+                splat(1.0 + 1e-9),
+            );
+            let switched = v128_and(
+                v128_and(
+                    f64x2_ge(den, splat(f64::MIN_POSITIVE)),
+                    f64x2_lt(sum, splat(f64::MAX)),
+                ),
+                v128_and(
+                    f64x2_gt(age, crossing),
+                    f64x2_gt(f64x2_mul(second, f64x2_sub(age, crossing)), splat(40.0)),
+                ),
+            );
+            let settled = select(v128_or(to_thin, to_thick), switched, direct);
+            // Back in lane.
+            let aged = select(
+                kinetic,
+                clamp_unit(f64x2_mul(root, inverse_molecules)),
+                equilibrium,
+            );
+            let out = v128_or(
+                f64x2_gt(time, age),
+                v128_and(
+                    kinetic,
+                    f64x2_gt(
+                        f64x2_abs(f64x2_sub(aged, equilibrium)),
+                        splat(EQUILIBRIUM_FRACTION_TOLERANCE),
+                    ),
+                ),
+            );
+            let done = v128_or(settled, v128_not(kinetic));
+            Pair {
+                ice: aged,
+                equilibrium,
+                time,
+                desorption,
+                flag: i64x2_bitmask(out),
+                settled: i64x2_bitmask(done),
+            }
+        }
+    }
 }
 
 #[cfg(test)]
