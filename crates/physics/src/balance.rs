@@ -1048,7 +1048,7 @@ pub struct SampleState {
 
 /// The lane loop of [`BalanceConstants::solve_block`] in explicit WebAssembly SIMD (simd128,
 /// two places per vector): the same IEEE operations in the same order as
-/// [`BalanceConstants::lane`] (with [`exp_poly`] and [`ln_upper_bound`] written out), selects
+/// [`BalanceConstants::lane`] (with `math::simd128`'s [`exp_poly`] and [`ln_upper_bound`]), selects
 /// as bit masks, no fused multiply-add, so every lane gives the scalar lane's bits
 /// (`tests::grid_equals_the_scalar_lanes_bit_for_bit`, run as WebAssembly with simd128). Built
 /// only when the target has simd128 (a page built with `-C target-feature=+simd128`); the
@@ -1056,6 +1056,7 @@ pub struct SampleState {
 #[cfg(all(target_arch = "wasm32", target_feature = "simd128"))]
 mod simd128 {
     use super::{BalanceConstants, SampleBlock, BLOCK, EQUILIBRIUM_FRACTION_TOLERANCE};
+    use crate::math::simd128::{exp_poly, ln_upper_bound, select, splat};
     use crate::params::{DesorptionModel, InitialIceState};
     use core::arch::wasm32::*;
 
@@ -1067,70 +1068,6 @@ mod simd128 {
         // SAFETY: q + 1 < BLOCK (checked above), so both doubles lie inside the array;
         // v128_load has no alignment requirement.
         unsafe { v128_load(values.as_ptr().add(q).cast::<v128>()) }
-    }
-
-    #[inline(always)]
-    fn splat(x: f64) -> v128 {
-        f64x2_splat(x)
-    }
-
-    /// `if mask { a } else { b }` per lane.
-    #[inline(always)]
-    fn select(mask: v128, a: v128, b: v128) -> v128 {
-        v128_bitselect(a, b, mask)
-    }
-
-    /// [`crate::math::exp_poly`], two lanes.
-    #[inline(always)]
-    fn exp_poly(x: v128) -> v128 {
-        const LOG2_E: f64 = core::f64::consts::LOG2_E;
-        const LN2_HI: f64 = 0.693_147_180_369_123_8;
-        const LN2_LO: f64 = 1.908_214_929_270_587_7e-10;
-        const SHIFT: f64 = 6_755_399_441_055_744.0;
-        let zero = f64x2_lt(x, splat(-745.2));
-        let infinite = f64x2_gt(x, splat(709.8));
-        let x = select(v128_or(zero, infinite), splat(0.0), x);
-        let n = f64x2_sub(
-            f64x2_add(f64x2_mul(x, splat(LOG2_E)), splat(SHIFT)),
-            splat(SHIFT),
-        );
-        let r = f64x2_sub(
-            f64x2_sub(x, f64x2_mul(n, splat(LN2_HI))),
-            f64x2_mul(n, splat(LN2_LO)),
-        );
-        let r2 = f64x2_mul(r, r);
-        let r4 = f64x2_mul(r2, r2);
-        let r8 = f64x2_mul(r4, r4);
-        let pair = |c0: f64, c1: f64| f64x2_add(splat(c0), f64x2_mul(splat(c1), r));
-        let a0 = pair(1.0 / 2.0, 1.0 / 6.0);
-        let a1 = pair(1.0 / 24.0, 1.0 / 120.0);
-        let a2 = pair(1.0 / 720.0, 1.0 / 5_040.0);
-        let a3 = pair(1.0 / 40_320.0, 1.0 / 362_880.0);
-        let a4 = pair(1.0 / 3_628_800.0, 1.0 / 39_916_800.0);
-        let a5 = pair(1.0 / 479_001_600.0, 1.0 / 6_227_020_800.0);
-        let b0 = f64x2_add(a0, f64x2_mul(a1, r2));
-        let b1 = f64x2_add(a2, f64x2_mul(a3, r2));
-        let b2 = f64x2_add(a4, f64x2_mul(a5, r2));
-        let q = f64x2_add(f64x2_add(b0, f64x2_mul(b1, r4)), f64x2_mul(b2, r8));
-        let p = f64x2_add(splat(1.0), f64x2_add(r, f64x2_mul(r2, q)));
-        let k1 = f64x2_add(f64x2_mul(n, splat(0.5)), splat(SHIFT));
-        let n1 = f64x2_sub(k1, splat(SHIFT));
-        let k2 = f64x2_add(f64x2_sub(n, n1), splat(SHIFT));
-        let pow2 = |k: v128| i64x2_shl(i64x2_add(k, i64x2_splat(1023)), 52);
-        let y = f64x2_mul(f64x2_mul(p, pow2(k1)), pow2(k2));
-        let y = select(zero, splat(0.0), y);
-        select(infinite, splat(f64::INFINITY), y)
-    }
-
-    /// [`crate::math::ln_upper_bound`], two lanes.
-    #[inline(always)]
-    fn ln_upper_bound(y: v128) -> v128 {
-        let bits = v128_or(i64x2_splat(0x4330_0000_0000_0000), u64x2_shr(y, 52));
-        let biased = f64x2_sub(bits, splat(4_503_599_627_370_496.0));
-        f64x2_mul(
-            f64x2_sub(biased, splat(1022.0)),
-            splat(core::f64::consts::LN_2),
-        )
     }
 
     /// `clamp_unit`, two lanes.

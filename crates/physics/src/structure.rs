@@ -3,7 +3,7 @@
 //! per column, and the radiation fields (columns, A_V, FUV, cosmic rays).
 
 use crate::error::PhysicsError;
-use crate::math::{cos, cos_reduced, exp, exp_poly, ln, pow, powi_slice, root4, sqrt};
+use crate::math::{cos, cos_reduced, exp, exp_poly_slice, ln, pow, powi_slice, root4, sqrt};
 use crate::opacity::bell_lin_1994_cm2_per_g;
 use crate::params::{
     GasMassMeaning, ModelParameters, Opacity, SootLine, TemperatureLaw, VerticalTemperature,
@@ -850,7 +850,7 @@ impl VerticalProfile {
 /// F = 1e8 [G*(r) exp(-2 A_V/phi) + G_ISM exp(-2 A_V)] + 1e4 zeta/1.3e-17
 /// (gamma_UV = 2, common practice; CR photons: Prasad & Tarafdar 1983, Shen et al. 2004);
 /// zeta = zeta0/2 [exp(-Sigma_above/96) + exp(-Sigma_below/96)] (Umebayashi & Nakano 1981).
-/// These exponentials and the density's are computed by [`exp_poly`] (within 1 ulp of libm).
+/// These exponentials and the density's are computed by [`crate::math::exp_poly`] (within 1 ulp of libm).
 pub fn column(
     c: &DiskConstants,
     radius_cm: f64,
@@ -884,10 +884,13 @@ struct FineGrid {
     above: Vec<f64>,
     /// The trapezoid terms 0.5 (y_i + y_(i+1)) dz of the quantity being integrated.
     term: Vec<f64>,
+    /// The four exponentials of each sample (cosmic rays from above and below, stellar and
+    /// interstellar FUV): arguments, then values ([`exp_poly_slice`]).
+    exps: Vec<f64>,
 }
 
 /// [`column`] written into `out` at samples `base..base + N_z + 1`, with scratch `fine`. The
-/// exponentials go through [`exp_poly`]; the loops over fine points and over samples are
+/// exponentials go through [`crate::math::exp_poly`] (a slice at a time, [`exp_poly_slice`]); the loops over fine points and over samples are
 /// written as separate passes so that the compiler vectorises them.
 ///
 /// On x86-64 the same code is compiled again for AVX2 and for AVX-512F (wider vectors of the
@@ -982,8 +985,11 @@ fn fill_column_portable(args: ColumnArgs<'_>, fine: &mut FineGrid, out: &mut Col
         integral += t;
         *a = -integral;
     }
-    for ((r, &t), &minus_integral) in fine.rho.iter_mut().zip(&fine.temperature).zip(&fine.above) {
-        *r = t_mid / t * exp_poly(minus_integral);
+    // rho = (T_mid / T) exp(-integral), the exponentials in one pass over the slice.
+    fine.rho.copy_from_slice(&fine.above);
+    exp_poly_slice(&mut fine.rho);
+    for (r, &t) in fine.rho.iter_mut().zip(&fine.temperature) {
+        *r = t_mid / t * *r;
     }
     // Normalise: 2 * trapz(rho) = Sigma.
     trapezoid_terms(&mut fine.term, &fine.rho, dz);
@@ -1019,28 +1025,37 @@ fn fill_column_portable(args: ColumnArgs<'_>, fine: &mut FineGrid, out: &mut Col
         out.hydrogen_density_cm3[base + s] = rho[i] * per_h;
         out.column_above_g_cm2[base + s] = above[i];
     }
+    // The four exponentials of every sample: their arguments, then one pass of exp_poly.
+    fine.exps.resize(4 * samples, 0.0);
+    let (above_cr, rest) = fine.exps.split_at_mut(samples);
+    let (below_cr, rest) = rest.split_at_mut(samples);
+    let (star_fuv, ism_fuv) = rest.split_at_mut(samples);
     let sigma_above = &out.column_above_g_cm2[range.clone()];
-    for ((av, zeta), &sigma_above) in out.visual_extinction_mag[range.clone()]
+    for (k, (av, &sigma_above)) in out.visual_extinction_mag[range.clone()]
         .iter_mut()
-        .zip(&mut out.ionization_rate_s[range.clone()])
         .zip(sigma_above)
+        .enumerate()
     {
         let sigma_below = (sigma_g_cm2 - sigma_above).max(0.0);
         *av = sigma_above * per_h * c.extinction_per_hydrogen_mag_cm2;
-        *zeta = c.cosmic_ray_rate_s
-            * 0.5
-            * (exp_poly(-sigma_above / COSMIC_RAY_ATTENUATION_G_PER_CM2)
-                + exp_poly(-sigma_below / COSMIC_RAY_ATTENUATION_G_PER_CM2));
+        above_cr[k] = -sigma_above / COSMIC_RAY_ATTENUATION_G_PER_CM2;
+        below_cr[k] = -sigma_below / COSMIC_RAY_ATTENUATION_G_PER_CM2;
+        star_fuv[k] = -2.0 * *av / flaring_angle;
+        ism_fuv[k] = -2.0 * *av;
     }
-    for ((fuv, &av), &zeta) in out.fuv_photon_flux_cm2_s[range.clone()]
+    exp_poly_slice(&mut fine.exps);
+    let (above_cr, rest) = fine.exps.split_at(samples);
+    let (below_cr, rest) = rest.split_at(samples);
+    let (star_fuv, ism_fuv) = rest.split_at(samples);
+    for (k, (zeta, fuv)) in out.ionization_rate_s[range.clone()]
         .iter_mut()
-        .zip(&out.visual_extinction_mag[range.clone()])
-        .zip(&out.ionization_rate_s[range])
+        .zip(&mut out.fuv_photon_flux_cm2_s[range])
+        .enumerate()
     {
+        *zeta = c.cosmic_ray_rate_s * 0.5 * (above_cr[k] + below_cr[k]);
         *fuv = HABING_PHOTONS_PER_CM2_S
-            * (g_star * exp_poly(-2.0 * av / flaring_angle)
-                + c.interstellar_fuv_habing * exp_poly(-2.0 * av))
-            + 1.0e4 * zeta / REFERENCE_COSMIC_RAY_RATE_S;
+            * (g_star * star_fuv[k] + c.interstellar_fuv_habing * ism_fuv[k])
+            + 1.0e4 * *zeta / REFERENCE_COSMIC_RAY_RATE_S;
     }
 }
 
