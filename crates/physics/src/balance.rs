@@ -880,7 +880,13 @@ impl BalanceConstants {
             }
             #[cfg(not(all(target_arch = "wasm32", target_feature = "simd128")))]
             {
-                let full = len / LANE_GROUP * LANE_GROUP;
+                // WebAssembly without simd128 has no vectors: every lane in one scalar loop (one
+                // copy of the lane's code instead of two).
+                let full = if cfg!(target_arch = "wasm32") {
+                    len
+                } else {
+                    len / LANE_GROUP * LANE_GROUP
+                };
                 {
                     let (ice, equilibrium, time, flag, settled, desorption) = (
                         &mut ice[..full],
