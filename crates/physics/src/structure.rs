@@ -989,7 +989,8 @@ fn fill_column_portable(args: ColumnArgs<'_>, fine: &mut FineGrid, out: &mut Col
     fine.rho.copy_from_slice(&fine.above);
     exp_poly_slice(&mut fine.rho);
     for (r, &t) in fine.rho.iter_mut().zip(&fine.temperature) {
-        *r = t_mid / t * *r;
+        // (T_mid / T) e, as a product of two numbers (the same bits either order).
+        *r *= t_mid / t;
     }
     // Normalise: 2 * trapz(rho) = Sigma.
     trapezoid_terms(&mut fine.term, &fine.rho, dz);
