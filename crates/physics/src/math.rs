@@ -252,14 +252,12 @@ pub fn ln_upper_bound(y: f64) -> f64 {
 pub fn exp_poly_slice(values: &mut [f64]) {
     #[cfg(all(target_arch = "wasm32", target_feature = "simd128"))]
     {
-        use core::arch::wasm32::{f64x2, f64x2_extract_lane};
-        let mut pairs = values.chunks_exact_mut(2);
-        for pair in &mut pairs {
-            let y = simd128::exp_poly(f64x2(pair[0], pair[1]));
-            pair[0] = f64x2_extract_lane::<0>(y);
-            pair[1] = f64x2_extract_lane::<1>(y);
+        let pairs = values.len() / 2 * 2;
+        for q in (0..pairs).step_by(2) {
+            let y = simd128::exp_poly(simd128::load2(values, q));
+            simd128::store2(values, q, y);
         }
-        for v in pairs.into_remainder() {
+        for v in &mut values[pairs..] {
             *v = exp_poly(*v);
         }
     }
@@ -328,6 +326,96 @@ pub(crate) mod simd128 {
         let y = f64x2_mul(f64x2_mul(p, pow2(k1)), pow2(k2));
         let y = select(zero, splat(0.0), y);
         select(infinite, splat(f64::INFINITY), y)
+    }
+
+    /// `values[i]` and `values[i + 1]` as one vector.
+    #[inline(always)]
+    #[allow(unsafe_code)]
+    pub(crate) fn load2(values: &[f64], i: usize) -> v128 {
+        assert!(i + 1 < values.len());
+        // SAFETY: i + 1 < len (checked above): both doubles lie inside the slice; v128_load
+        // has no alignment requirement.
+        unsafe { v128_load(values.as_ptr().add(i).cast::<v128>()) }
+    }
+
+    /// Writes both lanes of `v` to `values[i]` and `values[i + 1]`.
+    #[inline(always)]
+    #[allow(unsafe_code)]
+    pub(crate) fn store2(values: &mut [f64], i: usize, v: v128) {
+        assert!(i + 1 < values.len());
+        // SAFETY: i + 1 < len (checked above): both doubles lie inside the slice; v128_store
+        // has no alignment requirement.
+        unsafe { v128_store(values.as_mut_ptr().add(i).cast::<v128>(), v) }
+    }
+
+    /// [`super::cos_reduced`], two lanes: the value and, as a lane mask, whether it holds.
+    #[inline(always)]
+    pub(crate) fn cos_reduced(x: v128) -> (v128, v128) {
+        const C1: f64 = f64::from_bits(0x3fa5_5555_5555_554c);
+        const C2: f64 = f64::from_bits(0xbf56_c16c_16c1_5177);
+        const C3: f64 = f64::from_bits(0x3efa_01a0_19cb_1590);
+        const C4: f64 = f64::from_bits(0xbe92_7e4f_809c_52ad);
+        const C5: f64 = f64::from_bits(0x3e21_ee9e_bdb4_b1c4);
+        const C6: f64 = f64::from_bits(0xbda8_fae9_be88_38d4);
+        const S1: f64 = f64::from_bits(0xbfc5_5555_5555_5549);
+        const S2: f64 = f64::from_bits(0x3f81_1111_1110_f8a6);
+        const S3: f64 = f64::from_bits(0xbf2a_01a0_19c1_61d5);
+        const S4: f64 = f64::from_bits(0x3ec7_1de3_57b1_fe7d);
+        const S5: f64 = f64::from_bits(0xbe5a_e5e6_8a2b_9ceb);
+        const S6: f64 = f64::from_bits(0x3de5_d93a_5acf_d57c);
+        const PIO2_1: f64 = f64::from_bits(0x3ff9_21fb_5440_0000);
+        const PIO2_1T: f64 = f64::from_bits(0x3dd0_b461_1a62_6331);
+        let (add, sub, mul) = (f64x2_add, f64x2_sub, f64x2_mul);
+        let high = v128_and(u64x2_shr(x, 32), i64x2_splat(0x7fff_ffff));
+        let positive = i64x2_ge(x, i64x2_splat(0));
+        let small = i64x2_le(high, i64x2_splat(0x3fe9_21fb));
+        let tiny = i64x2_lt(high, i64x2_splat(0x3e46_a09e));
+        // k_cos(x, 0.0).
+        let z = mul(x, x);
+        let w = mul(z, z);
+        let r = add(
+            mul(z, add(splat(C1), mul(z, add(splat(C2), mul(z, splat(C3)))))),
+            mul(
+                mul(w, w),
+                add(splat(C4), mul(z, add(splat(C5), mul(z, splat(C6))))),
+            ),
+        );
+        let hz = mul(splat(0.5), z);
+        let w = sub(splat(1.0), hz);
+        let near = add(
+            w,
+            add(
+                sub(sub(splat(1.0), w), hz),
+                sub(mul(z, r), mul(x, splat(0.0))),
+            ),
+        );
+        // -__sin(y0, y1, 1) of y = x - pi/2.
+        let z = sub(x, splat(PIO2_1));
+        let y0 = sub(z, splat(PIO2_1T));
+        let y1 = sub(sub(z, y0), splat(PIO2_1T));
+        let zz = mul(y0, y0);
+        let w = mul(zz, zz);
+        let r = add(
+            add(splat(S2), mul(zz, add(splat(S3), mul(zz, splat(S4))))),
+            mul(mul(zz, w), add(splat(S5), mul(zz, splat(S6)))),
+        );
+        let v = mul(zz, y0);
+        let far = f64x2_neg(sub(
+            y0,
+            sub(
+                sub(mul(zz, sub(mul(splat(0.5), y1), mul(v, r))), y1),
+                mul(v, splat(S1)),
+            ),
+        ));
+        let value = select(tiny, splat(1.0), select(small, near, far));
+        let reduced = v128_and(
+            v128_and(positive, i64x2_le(high, i64x2_splat(0x4002_d97c))),
+            v128_not(i64x2_eq(
+                v128_and(high, i64x2_splat(0x000f_ffff)),
+                i64x2_splat(0x0009_21fb),
+            )),
+        );
+        (value, v128_or(small, reduced))
     }
 
     /// [`super::ln_upper_bound`], two lanes.
@@ -407,6 +495,45 @@ mod tests {
         exp_poly_slice(&mut values);
         for (&x, &v) in xs.iter().zip(&values) {
             assert_eq!(v.to_bits(), exp_poly(x).to_bits(), "{x:e}");
+        }
+    }
+
+    /// The simd128 forms equal the scalar functions bit for bit (WebAssembly with simd128 only).
+    #[cfg(all(target_arch = "wasm32", target_feature = "simd128"))]
+    #[test]
+    fn simd128_forms_equal_the_scalar_functions() {
+        use core::arch::wasm32::{f64x2, f64x2_extract_lane, i64x2_extract_lane};
+        let mut xs: Vec<f64> = uniform(200_000).map(|u| (u - 0.2) * 3.0).collect();
+        xs.extend(uniform(20_000).map(|u| core::f64::consts::FRAC_PI_2 + (u - 0.5) * 1e-5));
+        xs.extend(uniform(20_000).map(|u| u * 1e-7));
+        xs.extend([0.0, -0.0, f64::NAN, f64::INFINITY, -1.0, 2.4, 5e-324]);
+        for pair in xs.chunks_exact(2) {
+            let (value, ok) = simd128::cos_reduced(f64x2(pair[0], pair[1]));
+            let e = simd128::exp_poly(f64x2(pair[0] * 200.0, pair[1] * 200.0));
+            for (k, &x) in pair.iter().enumerate() {
+                let (v, o) = if k == 0 {
+                    (
+                        f64x2_extract_lane::<0>(value),
+                        i64x2_extract_lane::<0>(ok) != 0,
+                    )
+                } else {
+                    (
+                        f64x2_extract_lane::<1>(value),
+                        i64x2_extract_lane::<1>(ok) != 0,
+                    )
+                };
+                let (want, want_ok) = cos_reduced(x);
+                assert_eq!(o, want_ok, "{x:e}");
+                if want_ok {
+                    assert_eq!(v.to_bits(), want.to_bits(), "{x:e}");
+                }
+                let ek = if k == 0 {
+                    f64x2_extract_lane::<0>(e)
+                } else {
+                    f64x2_extract_lane::<1>(e)
+                };
+                assert_eq!(ek.to_bits(), exp_poly(x * 200.0).to_bits(), "{x:e}");
+            }
         }
     }
 

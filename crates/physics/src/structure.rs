@@ -810,8 +810,25 @@ impl VerticalProfile {
         };
         let z_q = self.z_q;
         // The cosines (above z_q they are not used; any value will do there).
-        let mut covered = true;
-        for (c, &i) in out.iter_mut().zip(index) {
+        // WebAssembly simd128: two points per vector (the same operations), the rest below.
+        #[cfg(all(target_arch = "wasm32", target_feature = "simd128"))]
+        let (start, mut covered) = {
+            use crate::math::simd128::{cos_reduced, load2, splat, store2};
+            use core::arch::wasm32::*;
+            let pairs = out.len() / 2 * 2;
+            let mut all = i64x2_splat(-1);
+            for q in (0..pairs).step_by(2) {
+                let z = f64x2_mul(load2(index, q), splat(dz));
+                let x = f64x2_div(f64x2_mul(splat(PI), z), splat(2.0 * z_q));
+                let (value, ok) = cos_reduced(x);
+                store2(out, q, value);
+                all = v128_and(all, v128_or(ok, f64x2_ge(z, splat(z_q))));
+            }
+            (pairs, i64x2_all_true(all))
+        };
+        #[cfg(not(all(target_arch = "wasm32", target_feature = "simd128")))]
+        let (start, mut covered) = (0, true);
+        for (c, &i) in out[start..].iter_mut().zip(&index[start..]) {
             let z = i * dz;
             let (value, ok) = cos_reduced(PI * z / (2.0 * z_q));
             *c = value;
@@ -963,11 +980,30 @@ fn fill_column_portable(args: ColumnArgs<'_>, fine: &mut FineGrid, out: &mut Col
     fine.above.resize(points, 0.0);
     let profile = VerticalProfile::new(c, radius_cm, t_mid, h_mid);
     profile.fill(&fine.index, dz, &mut fine.temperature, &mut fine.integrand);
-    for ((g, &t), &i) in fine
-        .integrand
+    // WebAssembly simd128: two points per vector (the same operations), the rest below.
+    #[cfg(all(target_arch = "wasm32", target_feature = "simd128"))]
+    let start = {
+        use crate::math::simd128::{load2, splat, store2};
+        use core::arch::wasm32::*;
+        let pairs = points / 2 * 2;
+        for q in (0..pairs).step_by(2) {
+            let t = load2(&fine.temperature, q);
+            let z = f64x2_mul(load2(&fine.index, q), splat(dz));
+            let s = f64x2_add(splat(r2), f64x2_mul(z, z));
+            let g = f64x2_div(
+                f64x2_mul(splat(gravity), z),
+                f64x2_mul(t, f64x2_mul(s, f64x2_sqrt(s))),
+            );
+            store2(&mut fine.integrand, q, g);
+        }
+        pairs
+    };
+    #[cfg(not(all(target_arch = "wasm32", target_feature = "simd128")))]
+    let start = 0;
+    for ((g, &t), &i) in fine.integrand[start..]
         .iter_mut()
-        .zip(&fine.temperature)
-        .zip(&fine.index)
+        .zip(&fine.temperature[start..])
+        .zip(&fine.index[start..])
     {
         let z = i * dz;
         let s = r2 + z * z;
