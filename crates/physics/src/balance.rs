@@ -856,9 +856,11 @@ impl BalanceConstants {
             #[cfg(all(target_arch = "wasm32", target_feature = "simd128"))]
             {
                 use core::arch::wasm32::{f64x2_extract_lane, v128};
+                // The exponential's constants once, read in the loop (see ExpVectors).
+                let constants = core::hint::black_box(crate::math::simd128::ExpVectors::new());
                 let mut q = 0;
                 while q < len {
-                    let pair = self.lane_pair(i, per_h, inverse_per_h, block, q);
+                    let pair = self.lane_pair(i, per_h, inverse_per_h, block, q, &constants);
                     let lanes = if q + 1 < len { 2 } else { 1 };
                     let lane = |v: v128, k: usize| {
                         if k == 0 {
@@ -1062,7 +1064,7 @@ pub struct SampleState {
 #[cfg(all(target_arch = "wasm32", target_feature = "simd128"))]
 mod simd128 {
     use super::{BalanceConstants, SampleBlock, BLOCK, EQUILIBRIUM_FRACTION_TOLERANCE};
-    use crate::math::simd128::{exp_poly, ln_upper_bound, select, splat};
+    use crate::math::simd128::{exp_poly_with, ln_upper_bound, select, splat, ExpVectors};
     use crate::params::{DesorptionModel, InitialIceState};
     use core::arch::wasm32::*;
 
@@ -1104,6 +1106,7 @@ mod simd128 {
             inverse_per_h: f64,
             block: &SampleBlock,
             q: usize,
+            k: &ExpVectors,
         ) -> Pair {
             let age = splat(self.age_s);
             let inverse_temperature = load(&block.inverse_temperature, q);
@@ -1122,7 +1125,10 @@ mod simd128 {
             let desorption = f64x2_add(
                 f64x2_mul(
                     splat(self.nu[i]),
-                    exp_poly(f64x2_mul(splat(self.minus_binding[i]), inverse_temperature)),
+                    exp_poly_with(
+                        f64x2_mul(splat(self.minus_binding[i]), inverse_temperature),
+                        k,
+                    ),
                 ),
                 f64x2_mul(splat(self.cr_per_zeta[i]), ionization_rate),
             );

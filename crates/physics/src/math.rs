@@ -286,46 +286,92 @@ pub(crate) mod simd128 {
         v128_bitselect(a, b, mask)
     }
 
+    /// The constants of [`exp_poly`] as vectors. A hot loop builds them once outside the loop
+    /// (through `core::hint::black_box`) and reads them from there, rather than have each
+    /// materialised in every iteration from its immediate bits.
+    #[derive(Clone, Copy)]
+    pub(crate) struct ExpVectors {
+        low: v128,
+        high: v128,
+        zero: v128,
+        log2_e: v128,
+        shift: v128,
+        ln2_hi: v128,
+        ln2_lo: v128,
+        c: [v128; 12],
+        one: v128,
+        half: v128,
+        bias: v128,
+        infinity: v128,
+    }
+
+    impl ExpVectors {
+        /// The constants.
+        #[inline(always)]
+        pub(crate) fn new() -> ExpVectors {
+            ExpVectors {
+                low: splat(-745.2),
+                high: splat(709.8),
+                zero: splat(0.0),
+                log2_e: splat(core::f64::consts::LOG2_E),
+                shift: splat(6_755_399_441_055_744.0),
+                ln2_hi: splat(0.693_147_180_369_123_8),
+                ln2_lo: splat(1.908_214_929_270_587_7e-10),
+                c: [
+                    1.0 / 2.0,
+                    1.0 / 6.0,
+                    1.0 / 24.0,
+                    1.0 / 120.0,
+                    1.0 / 720.0,
+                    1.0 / 5_040.0,
+                    1.0 / 40_320.0,
+                    1.0 / 362_880.0,
+                    1.0 / 3_628_800.0,
+                    1.0 / 39_916_800.0,
+                    1.0 / 479_001_600.0,
+                    1.0 / 6_227_020_800.0,
+                ]
+                .map(splat),
+                one: splat(1.0),
+                half: splat(0.5),
+                bias: i64x2_splat(1023),
+                infinity: splat(f64::INFINITY),
+            }
+        }
+    }
+
     /// [`super::exp_poly`], two lanes.
     #[inline(always)]
     pub(crate) fn exp_poly(x: v128) -> v128 {
-        const LOG2_E: f64 = core::f64::consts::LOG2_E;
-        const LN2_HI: f64 = 0.693_147_180_369_123_8;
-        const LN2_LO: f64 = 1.908_214_929_270_587_7e-10;
-        const SHIFT: f64 = 6_755_399_441_055_744.0;
-        let zero = f64x2_lt(x, splat(-745.2));
-        let infinite = f64x2_gt(x, splat(709.8));
-        let x = select(v128_or(zero, infinite), splat(0.0), x);
-        let n = f64x2_sub(
-            f64x2_add(f64x2_mul(x, splat(LOG2_E)), splat(SHIFT)),
-            splat(SHIFT),
-        );
-        let r = f64x2_sub(
-            f64x2_sub(x, f64x2_mul(n, splat(LN2_HI))),
-            f64x2_mul(n, splat(LN2_LO)),
-        );
+        exp_poly_with(x, &ExpVectors::new())
+    }
+
+    /// [`exp_poly`] with its constants from `k`.
+    #[inline(always)]
+    pub(crate) fn exp_poly_with(x: v128, k: &ExpVectors) -> v128 {
+        let zero = f64x2_lt(x, k.low);
+        let infinite = f64x2_gt(x, k.high);
+        let x = select(v128_or(zero, infinite), k.zero, x);
+        let n = f64x2_sub(f64x2_add(f64x2_mul(x, k.log2_e), k.shift), k.shift);
+        let r = f64x2_sub(f64x2_sub(x, f64x2_mul(n, k.ln2_hi)), f64x2_mul(n, k.ln2_lo));
         let r2 = f64x2_mul(r, r);
         let r4 = f64x2_mul(r2, r2);
         let r8 = f64x2_mul(r4, r4);
-        let pair = |c0: f64, c1: f64| f64x2_add(splat(c0), f64x2_mul(splat(c1), r));
-        let a0 = pair(1.0 / 2.0, 1.0 / 6.0);
-        let a1 = pair(1.0 / 24.0, 1.0 / 120.0);
-        let a2 = pair(1.0 / 720.0, 1.0 / 5_040.0);
-        let a3 = pair(1.0 / 40_320.0, 1.0 / 362_880.0);
-        let a4 = pair(1.0 / 3_628_800.0, 1.0 / 39_916_800.0);
-        let a5 = pair(1.0 / 479_001_600.0, 1.0 / 6_227_020_800.0);
+        let c = &k.c;
+        let pair = |j: usize| f64x2_add(c[j], f64x2_mul(c[j + 1], r));
+        let (a0, a1, a2, a3, a4, a5) = (pair(0), pair(2), pair(4), pair(6), pair(8), pair(10));
         let b0 = f64x2_add(a0, f64x2_mul(a1, r2));
         let b1 = f64x2_add(a2, f64x2_mul(a3, r2));
         let b2 = f64x2_add(a4, f64x2_mul(a5, r2));
         let q = f64x2_add(f64x2_add(b0, f64x2_mul(b1, r4)), f64x2_mul(b2, r8));
-        let p = f64x2_add(splat(1.0), f64x2_add(r, f64x2_mul(r2, q)));
-        let k1 = f64x2_add(f64x2_mul(n, splat(0.5)), splat(SHIFT));
-        let n1 = f64x2_sub(k1, splat(SHIFT));
-        let k2 = f64x2_add(f64x2_sub(n, n1), splat(SHIFT));
-        let pow2 = |k: v128| i64x2_shl(i64x2_add(k, i64x2_splat(1023)), 52);
+        let p = f64x2_add(k.one, f64x2_add(r, f64x2_mul(r2, q)));
+        let k1 = f64x2_add(f64x2_mul(n, k.half), k.shift);
+        let n1 = f64x2_sub(k1, k.shift);
+        let k2 = f64x2_add(f64x2_sub(n, n1), k.shift);
+        let pow2 = |e: v128| i64x2_shl(i64x2_add(e, k.bias), 52);
         let y = f64x2_mul(f64x2_mul(p, pow2(k1)), pow2(k2));
-        let y = select(zero, splat(0.0), y);
-        select(infinite, splat(f64::INFINITY), y)
+        let y = select(zero, k.zero, y);
+        select(infinite, k.infinity, y)
     }
 
     /// `values[i]` and `values[i + 1]` as one vector.
