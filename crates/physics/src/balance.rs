@@ -855,27 +855,30 @@ impl BalanceConstants {
             // WebAssembly with simd128: two places per vector, explicitly (module `simd128`).
             #[cfg(all(target_arch = "wasm32", target_feature = "simd128"))]
             {
-                use core::arch::wasm32::{f64x2_extract_lane, v128};
+                use core::arch::wasm32::f64x2_extract_lane;
                 // The exponential's constants once, read in the loop (see ExpVectors).
                 let constants = core::hint::black_box(crate::math::simd128::ExpVectors::new());
                 let mut q = 0;
                 while q < len {
                     let pair = self.lane_pair(i, per_h, inverse_per_h, block, q, &constants);
-                    let lanes = if q + 1 < len { 2 } else { 1 };
-                    let lane = |v: v128, k: usize| {
-                        if k == 0 {
-                            f64x2_extract_lane::<0>(v)
-                        } else {
-                            f64x2_extract_lane::<1>(v)
-                        }
-                    };
-                    for k in 0..lanes {
-                        ice[q + k] = lane(pair.ice, k);
-                        equilibrium[q + k] = lane(pair.equilibrium, k);
-                        time[q + k] = lane(pair.time, k);
-                        desorption[q + k] = lane(pair.desorption, k);
-                        flag[q + k] = (pair.flag >> k) & 1 != 0;
-                        settled[q + k] = (pair.settled >> k) & 1 != 0;
+                    if q + 1 < len {
+                        use crate::math::simd128::store2;
+                        store2(ice, q, pair.ice);
+                        store2(equilibrium, q, pair.equilibrium);
+                        store2(time, q, pair.time);
+                        store2(&mut desorption, q, pair.desorption);
+                        flag[q] = pair.flag & 1 != 0;
+                        flag[q + 1] = pair.flag & 2 != 0;
+                        settled[q] = pair.settled & 1 != 0;
+                        settled[q + 1] = pair.settled & 2 != 0;
+                    } else {
+                        // The last place of an odd block.
+                        ice[q] = f64x2_extract_lane::<0>(pair.ice);
+                        equilibrium[q] = f64x2_extract_lane::<0>(pair.equilibrium);
+                        time[q] = f64x2_extract_lane::<0>(pair.time);
+                        desorption[q] = f64x2_extract_lane::<0>(pair.desorption);
+                        flag[q] = pair.flag & 1 != 0;
+                        settled[q] = pair.settled & 1 != 0;
                     }
                     q += 2;
                 }
