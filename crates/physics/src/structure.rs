@@ -809,33 +809,40 @@ impl VerticalProfile {
             }
         };
         let z_q = self.z_q;
-        // The cosines (above z_q they are not used; any value will do there).
+        // The cosines and their powers only below z_q: z = i dz grows with i, so those points
+        // are the ones before the first with z >= z_q (above it the blend below takes T_atm
+        // and never reads the shape, so those entries keep whatever they hold).
+        let below = index
+            .iter()
+            .position(|&i| i * dz >= z_q)
+            .unwrap_or(index.len());
+        let (cosines, points) = (&mut out[..below], &index[..below]);
         // WebAssembly simd128: two points per vector (the same operations), the rest below.
         #[cfg(all(target_arch = "wasm32", target_feature = "simd128"))]
         let (start, mut covered) = {
             use crate::math::simd128::{cos_reduced, load2, splat, store2};
             use core::arch::wasm32::*;
-            let pairs = out.len() / 2 * 2;
+            let pairs = cosines.len() / 2 * 2;
             let mut all = i64x2_splat(-1);
             for q in (0..pairs).step_by(2) {
-                let z = f64x2_mul(load2(index, q), splat(dz));
+                let z = f64x2_mul(load2(points, q), splat(dz));
                 let x = f64x2_div(f64x2_mul(splat(PI), z), splat(2.0 * z_q));
                 let (value, ok) = cos_reduced(x);
-                store2(out, q, value);
+                store2(cosines, q, value);
                 all = v128_and(all, v128_or(ok, f64x2_ge(z, splat(z_q))));
             }
             (pairs, i64x2_all_true(all))
         };
         #[cfg(not(all(target_arch = "wasm32", target_feature = "simd128")))]
         let (start, mut covered) = (0, true);
-        for (c, &i) in out[start..].iter_mut().zip(&index[start..]) {
+        for (c, &i) in cosines[start..].iter_mut().zip(&points[start..]) {
             let z = i * dz;
             let (value, ok) = cos_reduced(PI * z / (2.0 * z_q));
             *c = value;
             covered &= ok | (z >= z_q);
         }
         if !covered {
-            for (c, &i) in out.iter_mut().zip(index) {
+            for (c, &i) in cosines.iter_mut().zip(points) {
                 let z = i * dz;
                 let x = PI * z / (2.0 * z_q);
                 if z < z_q && !cos_reduced(x).1 {
@@ -843,7 +850,7 @@ impl VerticalProfile {
                 }
             }
         }
-        powi_slice(out, scratch, n);
+        powi_slice(cosines, scratch, n);
         let (t_mid, t_atm) = (self.t_mid, self.t_atm);
         for (t, &i) in out.iter_mut().zip(index) {
             let shape = *t;
@@ -1544,6 +1551,56 @@ pub fn interpolate_in_ln_r(radii_cm: &[f64], values: &[f64], radius_cm: f64) -> 
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    /// The fine grid's temperatures by `VerticalProfile::fill` (vectorised cosines and powers,
+    /// only below z_q; simd128 pairs in WebAssembly) equal `temperature_k` point by point, bit
+    /// for bit: whole-number and fractional 2 delta, z_q inside, at the edge of and beyond the
+    /// grid, an isothermal column, odd and even lengths (derived, D).
+    #[test]
+    fn vertical_profile_fill_equals_the_pointwise_law() {
+        let mut checked = 0usize;
+        for points in [1usize, 2, 321, 322] {
+            let index: Vec<f64> = (0..points).map(|i| i as f64).collect();
+            for (z_q, dz) in [
+                (4.0e12, 3.1e10),
+                (1.0e12, 3.1e10),
+                (3.1e10 * 7.0, 3.1e10),
+                (1e20, 3.1e10),
+                (0.0, 3.1e10),
+            ] {
+                for (exponent, t_atm) in [
+                    (4.0, 180.0),
+                    (2.0, 95.5),
+                    (3.0, 300.0),
+                    (1.5, 120.0),
+                    (0.0, f64::NAN),
+                ] {
+                    let profile = VerticalProfile {
+                        t_mid: 42.5,
+                        t_atm,
+                        z_q,
+                        exponent,
+                        integer_exponent: (exponent.fract() == 0.0 && exponent > 0.0)
+                            .then_some(exponent as i32),
+                    };
+                    // Stale values in the buffers, as from the previous column.
+                    let mut out = vec![1234.5; points];
+                    let mut scratch = vec![-7.0; points];
+                    profile.fill(&index, dz, &mut out, &mut scratch);
+                    for (k, &t) in out.iter().enumerate() {
+                        let want = profile.temperature_k(k as f64 * dz);
+                        assert_eq!(
+                            t.to_bits(),
+                            want.to_bits(),
+                            "point {k} z_q {z_q:e} 2delta {exponent}"
+                        );
+                        checked += 1;
+                    }
+                }
+            }
+        }
+        assert!(checked > 10_000, "{checked}");
+    }
 
     #[test]
     fn tridiagonal_solver_matches_dense_solution() {
