@@ -850,74 +850,114 @@ impl BalanceConstants {
             // the output, then the last partial group computed whole (its lanes past `len` hold
             // another place of the block or zeros, and are dropped), so no lane of a place falls
             // to a scalar remainder loop.
-            let full = len / LANE_GROUP * LANE_GROUP;
             let mut settled = [true; BLOCK];
             let mut desorption = [0.0; BLOCK];
+            // WebAssembly with simd128: two places per vector, explicitly (module `simd128`).
+            #[cfg(all(target_arch = "wasm32", target_feature = "simd128"))]
             {
-                let (ice, equilibrium, time, flag, settled, desorption) = (
-                    &mut ice[..full],
-                    &mut equilibrium[..full],
-                    &mut time[..full],
-                    &mut flag[..full],
-                    &mut settled[..full],
-                    &mut desorption[..full],
-                );
-                for q in 0..full {
-                    let (s, done, b) = self.lane(
-                        i,
-                        block.inverse_temperature[q],
-                        block.sqrt_temperature[q],
-                        block.grain_area[q],
-                        block.inverse_area_sqrt_temperature[q],
-                        block.monolayer[q],
-                        block.fuv_per_site[q],
-                        block.ionization_rate[q],
-                        per_h * block.hydrogen_density[q],
-                        inverse_per_h * block.inverse_hydrogen_density[q],
-                    );
-                    ice[q] = s.ice_fraction;
-                    equilibrium[q] = s.equilibrium_ice_fraction;
-                    time[q] = s.equilibration_time_s;
-                    flag[q] = s.out_of_equilibrium;
-                    settled[q] = done;
-                    desorption[q] = b;
+                use core::arch::wasm32::f64x2_extract_lane;
+                // The exponential's constants once, read in the loop (see ExpVectors).
+                let constants = core::hint::black_box(crate::math::simd128::ExpVectors::new());
+                let mut q = 0;
+                while q < len {
+                    let pair = self.lane_pair(i, per_h, inverse_per_h, block, q, &constants);
+                    if q + 1 < len {
+                        use crate::math::simd128::store2;
+                        store2(ice, q, pair.ice);
+                        store2(equilibrium, q, pair.equilibrium);
+                        store2(time, q, pair.time);
+                        store2(&mut desorption, q, pair.desorption);
+                        flag[q] = pair.flag & 1 != 0;
+                        flag[q + 1] = pair.flag & 2 != 0;
+                        settled[q] = pair.settled & 1 != 0;
+                        settled[q + 1] = pair.settled & 2 != 0;
+                    } else {
+                        // The last place of an odd block.
+                        ice[q] = f64x2_extract_lane::<0>(pair.ice);
+                        equilibrium[q] = f64x2_extract_lane::<0>(pair.equilibrium);
+                        time[q] = f64x2_extract_lane::<0>(pair.time);
+                        desorption[q] = f64x2_extract_lane::<0>(pair.desorption);
+                        flag[q] = pair.flag & 1 != 0;
+                        settled[q] = pair.settled & 1 != 0;
+                    }
+                    q += 2;
                 }
             }
-            if full < len {
-                let mut lanes = LaneGroup::new();
-                // full <= BLOCK - LANE_GROUP (BLOCK is a multiple of LANE_GROUP and full < len <=
-                // BLOCK): the `min` changes nothing but lets the compiler drop the bounds checks.
-                let base = full.min(BLOCK - LANE_GROUP);
-                for k in 0..LANE_GROUP {
-                    let q = base + k;
-                    let (s, done, b) = self.lane(
-                        i,
-                        block.inverse_temperature[q],
-                        block.sqrt_temperature[q],
-                        block.grain_area[q],
-                        block.inverse_area_sqrt_temperature[q],
-                        block.monolayer[q],
-                        block.fuv_per_site[q],
-                        block.ionization_rate[q],
-                        per_h * block.hydrogen_density[q],
-                        inverse_per_h * block.inverse_hydrogen_density[q],
+            #[cfg(not(all(target_arch = "wasm32", target_feature = "simd128")))]
+            {
+                // WebAssembly without simd128 has no vectors: every lane in one scalar loop (one
+                // copy of the lane's code instead of two).
+                let full = if cfg!(target_arch = "wasm32") {
+                    len
+                } else {
+                    len / LANE_GROUP * LANE_GROUP
+                };
+                {
+                    let (ice, equilibrium, time, flag, settled, desorption) = (
+                        &mut ice[..full],
+                        &mut equilibrium[..full],
+                        &mut time[..full],
+                        &mut flag[..full],
+                        &mut settled[..full],
+                        &mut desorption[..full],
                     );
-                    lanes.ice[k] = s.ice_fraction;
-                    lanes.equilibrium[k] = s.equilibrium_ice_fraction;
-                    lanes.time[k] = s.equilibration_time_s;
-                    lanes.flag[k] = s.out_of_equilibrium;
-                    lanes.settled[k] = done;
-                    lanes.desorption[k] = b;
+                    for q in 0..full {
+                        let (s, done, b) = self.lane(
+                            i,
+                            block.inverse_temperature[q],
+                            block.sqrt_temperature[q],
+                            block.grain_area[q],
+                            block.inverse_area_sqrt_temperature[q],
+                            block.monolayer[q],
+                            block.fuv_per_site[q],
+                            block.ionization_rate[q],
+                            per_h * block.hydrogen_density[q],
+                            inverse_per_h * block.inverse_hydrogen_density[q],
+                        );
+                        ice[q] = s.ice_fraction;
+                        equilibrium[q] = s.equilibrium_ice_fraction;
+                        time[q] = s.equilibration_time_s;
+                        flag[q] = s.out_of_equilibrium;
+                        settled[q] = done;
+                        desorption[q] = b;
+                    }
                 }
-                // At most 7 values each: a loop, not a call to memcpy.
-                #[allow(clippy::manual_memcpy)]
-                for k in 0..len - full {
-                    ice[full + k] = lanes.ice[k];
-                    equilibrium[full + k] = lanes.equilibrium[k];
-                    time[full + k] = lanes.time[k];
-                    flag[full + k] = lanes.flag[k];
-                    settled[full + k] = lanes.settled[k];
-                    desorption[full + k] = lanes.desorption[k];
+                if full < len {
+                    let mut lanes = LaneGroup::new();
+                    // full <= BLOCK - LANE_GROUP (BLOCK is a multiple of LANE_GROUP and full < len <=
+                    // BLOCK): the `min` changes nothing but lets the compiler drop the bounds checks.
+                    let base = full.min(BLOCK - LANE_GROUP);
+                    for k in 0..LANE_GROUP {
+                        let q = base + k;
+                        let (s, done, b) = self.lane(
+                            i,
+                            block.inverse_temperature[q],
+                            block.sqrt_temperature[q],
+                            block.grain_area[q],
+                            block.inverse_area_sqrt_temperature[q],
+                            block.monolayer[q],
+                            block.fuv_per_site[q],
+                            block.ionization_rate[q],
+                            per_h * block.hydrogen_density[q],
+                            inverse_per_h * block.inverse_hydrogen_density[q],
+                        );
+                        lanes.ice[k] = s.ice_fraction;
+                        lanes.equilibrium[k] = s.equilibrium_ice_fraction;
+                        lanes.time[k] = s.equilibration_time_s;
+                        lanes.flag[k] = s.out_of_equilibrium;
+                        lanes.settled[k] = done;
+                        lanes.desorption[k] = b;
+                    }
+                    // At most 7 values each: a loop, not a call to memcpy.
+                    #[allow(clippy::manual_memcpy)]
+                    for k in 0..len - full {
+                        ice[full + k] = lanes.ice[k];
+                        equilibrium[full + k] = lanes.equilibrium[k];
+                        time[full + k] = lanes.time[k];
+                        flag[full + k] = lanes.flag[k];
+                        settled[full + k] = lanes.settled[k];
+                        desorption[full + k] = lanes.desorption[k];
+                    }
                 }
             }
             for q in 0..len {
@@ -954,9 +994,11 @@ impl BalanceConstants {
 }
 
 /// How many lanes the block loop computes at once at most (8 doubles: one AVX-512 vector).
+#[cfg(not(all(target_arch = "wasm32", target_feature = "simd128")))]
 const LANE_GROUP: usize = 8;
 
 /// The results of one group of lanes.
+#[cfg(not(all(target_arch = "wasm32", target_feature = "simd128")))]
 struct LaneGroup {
     ice: [f64; LANE_GROUP],
     equilibrium: [f64; LANE_GROUP],
@@ -966,6 +1008,7 @@ struct LaneGroup {
     desorption: [f64; LANE_GROUP],
 }
 
+#[cfg(not(all(target_arch = "wasm32", target_feature = "simd128")))]
 impl LaneGroup {
     #[inline(always)]
     fn new() -> LaneGroup {
@@ -1012,6 +1055,209 @@ pub struct SampleState {
     fuv_photons_cm2_s: f64,
     fuv_per_site: f64,
     ionization_rate_s: f64,
+}
+
+/// The lane loop of [`BalanceConstants::solve_block`] in explicit WebAssembly SIMD (simd128,
+/// two places per vector): the same IEEE operations in the same order as
+/// [`BalanceConstants::lane`] (with `math::simd128`'s [`exp_poly`] and [`ln_upper_bound`]), selects
+/// as bit masks, no fused multiply-add, so every lane gives the scalar lane's bits
+/// (`tests::grid_equals_the_scalar_lanes_bit_for_bit`, run as WebAssembly with simd128). Built
+/// only when the target has simd128 (a page built with `-C target-feature=+simd128`); the
+/// size-optimised build does not vectorise the scalar loop itself.
+#[cfg(all(target_arch = "wasm32", target_feature = "simd128"))]
+mod simd128 {
+    use super::{BalanceConstants, SampleBlock, BLOCK, EQUILIBRIUM_FRACTION_TOLERANCE};
+    use crate::math::simd128::{exp_poly_with, ln_upper_bound, select, splat, ExpVectors};
+    use crate::params::{DesorptionModel, InitialIceState};
+    use core::arch::wasm32::*;
+
+    /// Two places of a block array, from index `q` (q + 1 < BLOCK).
+    #[inline(always)]
+    #[allow(unsafe_code)]
+    fn load(values: &[f64; BLOCK], q: usize) -> v128 {
+        assert!(q + 1 < BLOCK);
+        // SAFETY: q + 1 < BLOCK (checked above), so both doubles lie inside the array;
+        // v128_load has no alignment requirement.
+        unsafe { v128_load(values.as_ptr().add(q).cast::<v128>()) }
+    }
+
+    /// `clamp_unit`, two lanes.
+    #[inline(always)]
+    fn clamp_unit(f: v128) -> v128 {
+        let f = select(f64x2_lt(f, splat(0.0)), splat(0.0), f);
+        select(f64x2_gt(f, splat(1.0)), splat(1.0), f)
+    }
+
+    /// The outputs of places `q` and `q + 1`.
+    pub(super) struct Pair {
+        pub(super) ice: v128,
+        pub(super) equilibrium: v128,
+        pub(super) time: v128,
+        pub(super) desorption: v128,
+        /// Bit 0: place q, bit 1: place q + 1.
+        pub(super) flag: u8,
+        pub(super) settled: u8,
+    }
+
+    impl BalanceConstants {
+        /// [`BalanceConstants::lane`] for places `q` and `q + 1` of a block, species `i`.
+        #[inline(always)]
+        pub(super) fn lane_pair(
+            &self,
+            i: usize,
+            per_h: f64,
+            inverse_per_h: f64,
+            block: &SampleBlock,
+            q: usize,
+            k: &ExpVectors,
+        ) -> Pair {
+            let age = splat(self.age_s);
+            let inverse_temperature = load(&block.inverse_temperature, q);
+            let sqrt_temperature = load(&block.sqrt_temperature, q);
+            let grain_area = load(&block.grain_area, q);
+            let inverse_area_sqrt_temperature = load(&block.inverse_area_sqrt_temperature, q);
+            let monolayer = load(&block.monolayer, q);
+            let fuv_per_site = load(&block.fuv_per_site, q);
+            let ionization_rate = load(&block.ionization_rate, q);
+            let molecules = f64x2_mul(splat(per_h), load(&block.hydrogen_density, q));
+            let inverse_molecules = f64x2_mul(
+                splat(inverse_per_h),
+                load(&block.inverse_hydrogen_density, q),
+            );
+            // branches_at / branches_given.
+            let desorption = f64x2_add(
+                f64x2_mul(
+                    splat(self.nu[i]),
+                    exp_poly_with(
+                        f64x2_mul(splat(self.minus_binding[i]), inverse_temperature),
+                        k,
+                    ),
+                ),
+                f64x2_mul(splat(self.cr_per_zeta[i]), ionization_rate),
+            );
+            let adsorption = f64x2_mul(
+                f64x2_mul(
+                    f64x2_mul(splat(self.sticking), grain_area),
+                    splat(self.thermal_speed_coefficient[i]),
+                ),
+                sqrt_temperature,
+            );
+            let inverse_adsorption = f64x2_mul(
+                splat(self.inverse_sticking_speed[i]),
+                inverse_area_sqrt_temperature,
+            );
+            let per_monolayer = f64x2_mul(fuv_per_site, splat(self.yields[i]));
+            // Branches::new.
+            let thin_rate = f64x2_add(f64x2_add(adsorption, desorption), per_monolayer);
+            let inverse_thin_rate = f64x2_div(splat(1.0), thin_rate);
+            let thin_fraction = f64x2_mul(adsorption, inverse_thin_rate);
+            let thin_root = f64x2_mul(thin_fraction, molecules);
+            let thick_root = f64x2_sub(
+                molecules,
+                f64x2_mul(
+                    f64x2_mul(monolayer, f64x2_add(desorption, per_monolayer)),
+                    inverse_adsorption,
+                ),
+            );
+            let zeroth = if self.model == DesorptionModel::ZerothOrder {
+                u64x2_splat(u64::MAX)
+            } else {
+                u64x2_splat(0)
+            };
+            // lane.
+            let valid = v128_and(
+                f64x2_gt(molecules, splat(0.0)),
+                f64x2_gt(grain_area, splat(0.0)),
+            );
+            let thin = v128_or(v128_not(zeroth), f64x2_le(thin_root, monolayer));
+            let equilibrium = select(
+                valid,
+                select(
+                    thin,
+                    thin_fraction,
+                    clamp_unit(f64x2_mul(thick_root, inverse_molecules)),
+                ),
+                splat(0.0),
+            );
+            let time = select(
+                valid,
+                select(thin, inverse_thin_rate, inverse_adsorption),
+                splat(f64::NAN),
+            );
+            let kinetic = if self.initial_state != InitialIceState::Equilibrium {
+                valid
+            } else {
+                u64x2_splat(0)
+            };
+            let initial = if self.initial_state == InitialIceState::Inherited {
+                molecules
+            } else {
+                splat(0.0)
+            };
+            // Branches::settled_root(initial, age).
+            let (a, m) = (adsorption, monolayer);
+            let above = f64x2_gt(initial, m);
+            let thick_holds = f64x2_ge(thick_root, m);
+            let thin_holds = f64x2_le(thin_root, m);
+            let direct_thick = v128_and(v128_and(zeroth, above), thick_holds);
+            let to_thin = v128_and(v128_and(zeroth, above), v128_not(thick_holds));
+            let to_thick = v128_and(v128_andnot(zeroth, above), v128_not(thin_holds));
+            let root = select(v128_or(direct_thick, to_thick), thick_root, thin_root);
+            let direct_rate = select(direct_thick, a, thin_rate);
+            let direct = f64x2_gt(f64x2_mul(direct_rate, age), splat(40.0));
+            let num = select(to_thin, f64x2_sub(initial, m), f64x2_sub(m, initial));
+            let den = select(to_thin, f64x2_sub(m, thick_root), f64x2_sub(thin_root, m));
+            let inverse_first = select(to_thin, inverse_adsorption, inverse_thin_rate);
+            let second = select(to_thin, thin_rate, a);
+            let sum = f64x2_add(num, den);
+            let crossing = f64x2_mul(
+                f64x2_mul(
+                    f64x2_add(
+                        f64x2_sub(ln_upper_bound(sum), ln_upper_bound(den)),
+                        splat(core::f64::consts::LN_2),
+                    ),
+                    inverse_first,
+                ),
+                splat(1.0 + 1e-9),
+            );
+            let switched = v128_and(
+                v128_and(
+                    f64x2_ge(den, splat(f64::MIN_POSITIVE)),
+                    f64x2_lt(sum, splat(f64::MAX)),
+                ),
+                v128_and(
+                    f64x2_gt(age, crossing),
+                    f64x2_gt(f64x2_mul(second, f64x2_sub(age, crossing)), splat(40.0)),
+                ),
+            );
+            let settled = select(v128_or(to_thin, to_thick), switched, direct);
+            // Back in lane.
+            let aged = select(
+                kinetic,
+                clamp_unit(f64x2_mul(root, inverse_molecules)),
+                equilibrium,
+            );
+            let out = v128_or(
+                f64x2_gt(time, age),
+                v128_and(
+                    kinetic,
+                    f64x2_gt(
+                        f64x2_abs(f64x2_sub(aged, equilibrium)),
+                        splat(EQUILIBRIUM_FRACTION_TOLERANCE),
+                    ),
+                ),
+            );
+            let done = v128_or(settled, v128_not(kinetic));
+            Pair {
+                ice: aged,
+                equilibrium,
+                time,
+                desorption,
+                flag: i64x2_bitmask(out),
+                settled: i64x2_bitmask(done),
+            }
+        }
+    }
 }
 
 #[cfg(test)]

@@ -287,6 +287,124 @@ impl IceBalance {
 mod tests {
     use super::*;
 
+    /// The grid loop (whichever version this build runs: portable, AVX2/AVX-512F, or WebAssembly
+    /// simd128) gives, in every sample and species, the numbers of the scalar per-place path
+    /// [`solve_place`], bit for bit: the ice fraction, its equilibrium, the equilibration time and
+    /// the out-of-equilibrium flag. Disks that reach every branch of the ice balance (both
+    /// orders, the three initial states, the step model, large grains and short ages); columns
+    /// of odd length and longer than one block (derived, D). Run natively and as WebAssembly
+    /// (`cargo xtask test` stage 3; with simd128 when built with `+simd128`).
+    #[test]
+    fn grid_equals_the_scalar_lanes_bit_for_bit() {
+        use crate::params::{DesorptionModel, InitialIceState};
+        use crate::{Model, ModelParameters};
+        let mut compared = 0usize;
+        for (desorption, initial, grain_um, age_myr, vertical) in [
+            (
+                DesorptionModel::ZerothOrder,
+                InitialIceState::Inherited,
+                0.1,
+                1.0,
+                44,
+            ),
+            (
+                DesorptionModel::ZerothOrder,
+                InitialIceState::Gas,
+                0.1,
+                0.01,
+                120,
+            ),
+            (
+                DesorptionModel::ZerothOrder,
+                InitialIceState::Equilibrium,
+                0.1,
+                1.0,
+                45,
+            ),
+            (
+                DesorptionModel::FirstOrder,
+                InitialIceState::Inherited,
+                0.1,
+                1.0,
+                44,
+            ),
+            (
+                DesorptionModel::FirstOrder,
+                InitialIceState::Gas,
+                1.0,
+                0.1,
+                30,
+            ),
+            (
+                DesorptionModel::ZerothOrder,
+                InitialIceState::Inherited,
+                100.0,
+                0.01,
+                44,
+            ),
+            (
+                DesorptionModel::ZerothOrder,
+                InitialIceState::Gas,
+                1000.0,
+                0.001,
+                31,
+            ),
+            (
+                DesorptionModel::FixedTemperature,
+                InitialIceState::Inherited,
+                0.1,
+                1.0,
+                20,
+            ),
+        ] {
+            let mut p = ModelParameters::defaults();
+            p.grid.radial_cells = 30;
+            p.grid.vertical_cells = vertical;
+            p.ices.desorption = desorption;
+            p.ices.initial_state = initial;
+            p.disk.grain_radius_um = grain_um;
+            p.disk.age_myr = age_myr;
+            let model = Model::run(&p).unwrap();
+            let balance = BalanceConstants::new(&p, model.species_properties());
+            let (st, c) = (model.structure(), model.composition());
+            let grid = IceBalance::solve(st, c, &balance);
+            for k in 0..model.sample_count() {
+                let j = k / st.samples_per_column;
+                let states = solve_place(
+                    &balance,
+                    &Place::of(&st.samples, k),
+                    &c.species_per_h_in_cell(j),
+                );
+                for (i, species) in Species::ALL.into_iter().enumerate() {
+                    let s = states[i];
+                    let at = (desorption, initial, k, species);
+                    assert_eq!(
+                        grid.ice_fraction(species)[k].to_bits(),
+                        s.ice_fraction.to_bits(),
+                        "{at:?}"
+                    );
+                    assert_eq!(
+                        grid.equilibrium_ice_fraction(species)[k].to_bits(),
+                        s.equilibrium_ice_fraction.to_bits(),
+                        "{at:?}"
+                    );
+                    assert_eq!(
+                        grid.equilibration_time_s(species)[k].to_bits(),
+                        s.equilibration_time_s.to_bits(),
+                        "{at:?}"
+                    );
+                    assert_eq!(
+                        grid.out_of_equilibrium(species)[k],
+                        s.out_of_equilibrium,
+                        "{at:?}"
+                    );
+                    compared += 1;
+                }
+            }
+        }
+        assert!(compared > 100_000, "{compared}");
+    }
+
     /// The AVX2 and AVX-512F versions of the grid loop give the portable version's bits, over
     /// whole grids of disks that reach every branch of the ice balance (derived, D). Versions the
     /// processor lacks are skipped; the portable one is what WebAssembly runs. Meaningful in an

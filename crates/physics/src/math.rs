@@ -245,6 +245,237 @@ pub fn ln_upper_bound(y: f64) -> f64 {
     (biased - 1022.0) * core::f64::consts::LN_2
 }
 
+/// [`exp_poly`] of every value of a slice, in place, bit for bit. With WebAssembly simd128 two
+/// values per vector ([`simd128::exp_poly`]); elsewhere the scalar loop (which the compiler
+/// vectorises where it vectorises loops).
+#[inline(always)]
+pub fn exp_poly_slice(values: &mut [f64]) {
+    #[cfg(all(target_arch = "wasm32", target_feature = "simd128"))]
+    {
+        let pairs = values.len() / 2 * 2;
+        for q in (0..pairs).step_by(2) {
+            let y = simd128::exp_poly(simd128::load2(values, q));
+            simd128::store2(values, q, y);
+        }
+        for v in &mut values[pairs..] {
+            *v = exp_poly(*v);
+        }
+    }
+    #[cfg(not(all(target_arch = "wasm32", target_feature = "simd128")))]
+    for v in values.iter_mut() {
+        *v = exp_poly(*v);
+    }
+}
+
+/// WebAssembly simd128 forms (two doubles per vector) of the branch-free functions above: the
+/// same IEEE operations in the same order, selects as bit masks, no fused multiply-add, so each
+/// lane equals the scalar function bit for bit. Built only when the target has simd128.
+#[cfg(all(target_arch = "wasm32", target_feature = "simd128"))]
+pub(crate) mod simd128 {
+    use core::arch::wasm32::*;
+
+    /// Both lanes `x`.
+    #[inline(always)]
+    pub(crate) fn splat(x: f64) -> v128 {
+        f64x2_splat(x)
+    }
+
+    /// `if mask { a } else { b }` per lane.
+    #[inline(always)]
+    pub(crate) fn select(mask: v128, a: v128, b: v128) -> v128 {
+        v128_bitselect(a, b, mask)
+    }
+
+    /// The constants of [`exp_poly`] as vectors. A hot loop builds them once outside the loop
+    /// (through `core::hint::black_box`) and reads them from there, rather than have each
+    /// materialised in every iteration from its immediate bits.
+    #[derive(Clone, Copy)]
+    pub(crate) struct ExpVectors {
+        low: v128,
+        high: v128,
+        zero: v128,
+        log2_e: v128,
+        shift: v128,
+        ln2_hi: v128,
+        ln2_lo: v128,
+        c: [v128; 12],
+        one: v128,
+        half: v128,
+        bias: v128,
+        infinity: v128,
+    }
+
+    impl ExpVectors {
+        /// The constants.
+        #[inline(always)]
+        pub(crate) fn new() -> ExpVectors {
+            ExpVectors {
+                low: splat(-745.2),
+                high: splat(709.8),
+                zero: splat(0.0),
+                log2_e: splat(core::f64::consts::LOG2_E),
+                shift: splat(6_755_399_441_055_744.0),
+                ln2_hi: splat(0.693_147_180_369_123_8),
+                ln2_lo: splat(1.908_214_929_270_587_7e-10),
+                c: [
+                    1.0 / 2.0,
+                    1.0 / 6.0,
+                    1.0 / 24.0,
+                    1.0 / 120.0,
+                    1.0 / 720.0,
+                    1.0 / 5_040.0,
+                    1.0 / 40_320.0,
+                    1.0 / 362_880.0,
+                    1.0 / 3_628_800.0,
+                    1.0 / 39_916_800.0,
+                    1.0 / 479_001_600.0,
+                    1.0 / 6_227_020_800.0,
+                ]
+                .map(splat),
+                one: splat(1.0),
+                half: splat(0.5),
+                bias: i64x2_splat(1023),
+                infinity: splat(f64::INFINITY),
+            }
+        }
+    }
+
+    /// [`super::exp_poly`], two lanes.
+    #[inline(always)]
+    pub(crate) fn exp_poly(x: v128) -> v128 {
+        exp_poly_with(x, &ExpVectors::new())
+    }
+
+    /// [`exp_poly`] with its constants from `k`.
+    #[inline(always)]
+    pub(crate) fn exp_poly_with(x: v128, k: &ExpVectors) -> v128 {
+        let zero = f64x2_lt(x, k.low);
+        let infinite = f64x2_gt(x, k.high);
+        let x = select(v128_or(zero, infinite), k.zero, x);
+        let n = f64x2_sub(f64x2_add(f64x2_mul(x, k.log2_e), k.shift), k.shift);
+        let r = f64x2_sub(f64x2_sub(x, f64x2_mul(n, k.ln2_hi)), f64x2_mul(n, k.ln2_lo));
+        let r2 = f64x2_mul(r, r);
+        let r4 = f64x2_mul(r2, r2);
+        let r8 = f64x2_mul(r4, r4);
+        let c = &k.c;
+        let pair = |j: usize| f64x2_add(c[j], f64x2_mul(c[j + 1], r));
+        let (a0, a1, a2, a3, a4, a5) = (pair(0), pair(2), pair(4), pair(6), pair(8), pair(10));
+        let b0 = f64x2_add(a0, f64x2_mul(a1, r2));
+        let b1 = f64x2_add(a2, f64x2_mul(a3, r2));
+        let b2 = f64x2_add(a4, f64x2_mul(a5, r2));
+        let q = f64x2_add(f64x2_add(b0, f64x2_mul(b1, r4)), f64x2_mul(b2, r8));
+        let p = f64x2_add(k.one, f64x2_add(r, f64x2_mul(r2, q)));
+        let k1 = f64x2_add(f64x2_mul(n, k.half), k.shift);
+        let n1 = f64x2_sub(k1, k.shift);
+        let k2 = f64x2_add(f64x2_sub(n, n1), k.shift);
+        let pow2 = |e: v128| i64x2_shl(i64x2_add(e, k.bias), 52);
+        let y = f64x2_mul(f64x2_mul(p, pow2(k1)), pow2(k2));
+        let y = select(zero, k.zero, y);
+        select(infinite, k.infinity, y)
+    }
+
+    /// `values[i]` and `values[i + 1]` as one vector.
+    #[inline(always)]
+    #[allow(unsafe_code)]
+    pub(crate) fn load2(values: &[f64], i: usize) -> v128 {
+        assert!(i + 1 < values.len());
+        // SAFETY: i + 1 < len (checked above): both doubles lie inside the slice; v128_load
+        // has no alignment requirement.
+        unsafe { v128_load(values.as_ptr().add(i).cast::<v128>()) }
+    }
+
+    /// Writes both lanes of `v` to `values[i]` and `values[i + 1]`.
+    #[inline(always)]
+    #[allow(unsafe_code)]
+    pub(crate) fn store2(values: &mut [f64], i: usize, v: v128) {
+        assert!(i + 1 < values.len());
+        // SAFETY: i + 1 < len (checked above): both doubles lie inside the slice; v128_store
+        // has no alignment requirement.
+        unsafe { v128_store(values.as_mut_ptr().add(i).cast::<v128>(), v) }
+    }
+
+    /// [`super::cos_reduced`], two lanes: the value and, as a lane mask, whether it holds.
+    #[inline(always)]
+    pub(crate) fn cos_reduced(x: v128) -> (v128, v128) {
+        const C1: f64 = f64::from_bits(0x3fa5_5555_5555_554c);
+        const C2: f64 = f64::from_bits(0xbf56_c16c_16c1_5177);
+        const C3: f64 = f64::from_bits(0x3efa_01a0_19cb_1590);
+        const C4: f64 = f64::from_bits(0xbe92_7e4f_809c_52ad);
+        const C5: f64 = f64::from_bits(0x3e21_ee9e_bdb4_b1c4);
+        const C6: f64 = f64::from_bits(0xbda8_fae9_be88_38d4);
+        const S1: f64 = f64::from_bits(0xbfc5_5555_5555_5549);
+        const S2: f64 = f64::from_bits(0x3f81_1111_1110_f8a6);
+        const S3: f64 = f64::from_bits(0xbf2a_01a0_19c1_61d5);
+        const S4: f64 = f64::from_bits(0x3ec7_1de3_57b1_fe7d);
+        const S5: f64 = f64::from_bits(0xbe5a_e5e6_8a2b_9ceb);
+        const S6: f64 = f64::from_bits(0x3de5_d93a_5acf_d57c);
+        const PIO2_1: f64 = f64::from_bits(0x3ff9_21fb_5440_0000);
+        const PIO2_1T: f64 = f64::from_bits(0x3dd0_b461_1a62_6331);
+        let (add, sub, mul) = (f64x2_add, f64x2_sub, f64x2_mul);
+        let high = v128_and(u64x2_shr(x, 32), i64x2_splat(0x7fff_ffff));
+        let positive = i64x2_ge(x, i64x2_splat(0));
+        let small = i64x2_le(high, i64x2_splat(0x3fe9_21fb));
+        let tiny = i64x2_lt(high, i64x2_splat(0x3e46_a09e));
+        // k_cos(x, 0.0).
+        let z = mul(x, x);
+        let w = mul(z, z);
+        let r = add(
+            mul(z, add(splat(C1), mul(z, add(splat(C2), mul(z, splat(C3)))))),
+            mul(
+                mul(w, w),
+                add(splat(C4), mul(z, add(splat(C5), mul(z, splat(C6))))),
+            ),
+        );
+        let hz = mul(splat(0.5), z);
+        let w = sub(splat(1.0), hz);
+        let near = add(
+            w,
+            add(
+                sub(sub(splat(1.0), w), hz),
+                sub(mul(z, r), mul(x, splat(0.0))),
+            ),
+        );
+        // -__sin(y0, y1, 1) of y = x - pi/2.
+        let z = sub(x, splat(PIO2_1));
+        let y0 = sub(z, splat(PIO2_1T));
+        let y1 = sub(sub(z, y0), splat(PIO2_1T));
+        let zz = mul(y0, y0);
+        let w = mul(zz, zz);
+        let r = add(
+            add(splat(S2), mul(zz, add(splat(S3), mul(zz, splat(S4))))),
+            mul(mul(zz, w), add(splat(S5), mul(zz, splat(S6)))),
+        );
+        let v = mul(zz, y0);
+        let far = f64x2_neg(sub(
+            y0,
+            sub(
+                sub(mul(zz, sub(mul(splat(0.5), y1), mul(v, r))), y1),
+                mul(v, splat(S1)),
+            ),
+        ));
+        let value = select(tiny, splat(1.0), select(small, near, far));
+        let reduced = v128_and(
+            v128_and(positive, i64x2_le(high, i64x2_splat(0x4002_d97c))),
+            v128_not(i64x2_eq(
+                v128_and(high, i64x2_splat(0x000f_ffff)),
+                i64x2_splat(0x0009_21fb),
+            )),
+        );
+        (value, v128_or(small, reduced))
+    }
+
+    /// [`super::ln_upper_bound`], two lanes.
+    #[inline(always)]
+    pub(crate) fn ln_upper_bound(y: v128) -> v128 {
+        let bits = v128_or(i64x2_splat(0x4330_0000_0000_0000), u64x2_shr(y, 52));
+        let biased = f64x2_sub(bits, splat(4_503_599_627_370_496.0));
+        f64x2_mul(
+            f64x2_sub(biased, splat(1022.0)),
+            splat(core::f64::consts::LN_2),
+        )
+    }
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -291,6 +522,65 @@ mod tests {
         assert!(worst.0 <= 1, "worst {} ulp at x = {:e}", worst.0, worst.1);
         // Measured: 56 082 of the 1.6 million differ from libm, each by one ulp.
         assert!(count_off < total / 10, "{count_off} of {total} differ");
+    }
+
+    #[test]
+    fn exp_poly_slice_equals_exp_poly() {
+        // Odd length (a remainder after the pairs) and the special values.
+        let mut xs: Vec<f64> = uniform(10_001).map(|u| -760.0 + 1480.0 * u).collect();
+        xs.extend([
+            0.0,
+            -0.0,
+            f64::NAN,
+            f64::INFINITY,
+            f64::NEG_INFINITY,
+            -745.1,
+            709.78,
+        ]);
+        let mut values = xs.clone();
+        exp_poly_slice(&mut values);
+        for (&x, &v) in xs.iter().zip(&values) {
+            assert_eq!(v.to_bits(), exp_poly(x).to_bits(), "{x:e}");
+        }
+    }
+
+    /// The simd128 forms equal the scalar functions bit for bit (WebAssembly with simd128 only).
+    #[cfg(all(target_arch = "wasm32", target_feature = "simd128"))]
+    #[test]
+    fn simd128_forms_equal_the_scalar_functions() {
+        use core::arch::wasm32::{f64x2, f64x2_extract_lane, i64x2_extract_lane};
+        let mut xs: Vec<f64> = uniform(200_000).map(|u| (u - 0.2) * 3.0).collect();
+        xs.extend(uniform(20_000).map(|u| core::f64::consts::FRAC_PI_2 + (u - 0.5) * 1e-5));
+        xs.extend(uniform(20_000).map(|u| u * 1e-7));
+        xs.extend([0.0, -0.0, f64::NAN, f64::INFINITY, -1.0, 2.4, 5e-324]);
+        for pair in xs.chunks_exact(2) {
+            let (value, ok) = simd128::cos_reduced(f64x2(pair[0], pair[1]));
+            let e = simd128::exp_poly(f64x2(pair[0] * 200.0, pair[1] * 200.0));
+            for (k, &x) in pair.iter().enumerate() {
+                let (v, o) = if k == 0 {
+                    (
+                        f64x2_extract_lane::<0>(value),
+                        i64x2_extract_lane::<0>(ok) != 0,
+                    )
+                } else {
+                    (
+                        f64x2_extract_lane::<1>(value),
+                        i64x2_extract_lane::<1>(ok) != 0,
+                    )
+                };
+                let (want, want_ok) = cos_reduced(x);
+                assert_eq!(o, want_ok, "{x:e}");
+                if want_ok {
+                    assert_eq!(v.to_bits(), want.to_bits(), "{x:e}");
+                }
+                let ek = if k == 0 {
+                    f64x2_extract_lane::<0>(e)
+                } else {
+                    f64x2_extract_lane::<1>(e)
+                };
+                assert_eq!(ek.to_bits(), exp_poly(x * 200.0).to_bits(), "{x:e}");
+            }
+        }
     }
 
     #[test]

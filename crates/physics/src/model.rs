@@ -358,23 +358,60 @@ impl Model {
 
     /// Gas C/O (number ratio) in every sample, flat sample index as
     /// [`Model::phases_at`], NaN where it is undefined (docs/model.md section 8):
-    /// `self.ratios(&self.phases_at(k)).c_to_o_gas` for every `k`, bit for bit,
-    /// in one pass that reads each species' ice fractions as one slice and looks
-    /// the carriers up once per column (the page's gas C/O map).
+    /// `self.ratios(&self.phases_at(k)).c_to_o_gas` for every `k`, bit for bit
+    /// (the page's gas C/O map).
+    ///
+    /// Only the gas carbon and gas oxygen of [`Carriers::phases`] are formed, with the same
+    /// operations in the same order (per species with x != 0 and a != 0: gas += a (x - f x);
+    /// then the refractory carbon and the silicate oxygen where released), a column at a time
+    /// and a species at a time over the column's samples (loops that vectorise), instead of
+    /// all seven elements of all three phases per sample.
     pub fn gas_c_to_o_samples(&self) -> Vec<f64> {
         let st = &self.structure;
         let rows = st.samples_per_column;
-        let fractions: [&[f64]; SPECIES_COUNT] =
-            std::array::from_fn(|i| self.ices.ice_fraction(Species::ALL[i]));
         let stellar = self.stellar_per_h();
-        let mut out = Vec::with_capacity(self.sample_count());
+        let (c, o) = (Element::C as usize, Element::O as usize);
+        let n = rows * st.radial_cells;
+        // Holds the gas carbon of each sample, then its C/O.
+        let mut out = vec![0.0; n];
+        let mut gas_o = vec![0.0; rows];
         for j in 0..st.radial_cells {
             let carriers = self.composition.carriers_in_cell(j);
             let radius_cm = st.radius_cm[j];
-            let column = st.samples.temperature_k.iter().enumerate();
-            for (k, &temperature_k) in column.skip(j * rows).take(rows) {
-                let ph = carriers.phases(temperature_k, radius_cm, |i| fractions[i][k]);
-                out.push(Ratios::of(&ph, stellar).c_to_o_gas.unwrap_or(f64::NAN));
+            let r = j * rows..(j + 1) * rows;
+            let gas_c = &mut out[r.clone()];
+            gas_o.fill(0.0);
+            for (i, species) in Species::ALL.into_iter().enumerate() {
+                let x = carriers.species_per_h[i];
+                if x == 0.0 {
+                    continue;
+                }
+                let fractions = &self.ices.ice_fraction(species)[r.clone()];
+                for (gas, a) in [
+                    (&mut *gas_c, carriers.atoms[i][c]),
+                    (&mut gas_o[..], carriers.atoms[i][o]),
+                ] {
+                    if a != 0.0 {
+                        for (g, &f) in gas.iter_mut().zip(fractions) {
+                            let x_ice = f * x;
+                            *g += a * (x - x_ice);
+                        }
+                    }
+                }
+            }
+            let carbon_released = radius_cm <= carriers.carbon_released_within_cm;
+            let temperatures = &st.samples.temperature_k[r];
+            for ((g, &go), &t) in gas_c.iter_mut().zip(&gas_o).zip(temperatures) {
+                let mut gc = *g;
+                if t >= carriers.soot_line_k || carbon_released {
+                    gc += carriers.refractory_carbon_per_h;
+                }
+                let mut go = go;
+                if t >= carriers.silicate_sublimation_k {
+                    go += carriers.silicate_oxygen_per_h;
+                }
+                *g = defined_ratio(zero_below_rounding(gc, stellar[c]), go, stellar[o])
+                    .unwrap_or(f64::NAN);
             }
         }
         out
@@ -511,5 +548,80 @@ impl ModelParameters {
             &SpeciesTable::built_in(),
         )?;
         Ok(())
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// `gas_c_to_o_samples` gives `ratios(&phases_at(k)).c_to_o_gas` bit for bit (NaN where
+    /// undefined): the default disk (irreversible soot line), a hot disk with the reversible
+    /// soot line and no photodesorption, a first-order disk, and a per-cell composition with
+    /// species absent from some cells (derived, D).
+    #[test]
+    fn gas_c_to_o_samples_equal_the_per_sample_ratios() {
+        let mut base = ModelParameters::defaults();
+        base.grid.radial_cells = 50;
+        base.grid.vertical_cells = 24;
+        let mut hot = base.clone();
+        hot.star.luminosity_lsun = 8.0;
+        hot.composition.soot_line = SootLine::Reversible;
+        hot.ices.photodesorption = false;
+        let mut first = base.clone();
+        first.ices.desorption = DesorptionModel::FirstOrder;
+        first.disk.inner_radius_au = 0.02;
+        let mut models: Vec<Model> = [base, hot, first]
+            .iter()
+            .map(|p| Model::run(p).unwrap())
+            .collect();
+        // Per cell: CO absent in every third cell, methanol doubled in every other one.
+        let mut per_cell = models[0].clone();
+        let uniform = per_cell.carriers().species_per_h;
+        let totals: Vec<[f64; SPECIES_COUNT]> = (0..per_cell.structure.radial_cells)
+            .map(|j| {
+                let mut t = uniform;
+                if j % 3 == 0 {
+                    t[Species::CO.index()] = 0.0;
+                }
+                if j % 2 == 0 {
+                    t[Species::CH3OH.index()] *= 2.0;
+                }
+                t
+            })
+            .collect();
+        per_cell.composition = Composition::with_species_per_h_per_cell(
+            &per_cell.parameters,
+            &per_cell.table,
+            &per_cell.structure,
+            &totals,
+        )
+        .unwrap();
+        per_cell.ices = IceBalance::solve(
+            &per_cell.structure,
+            &per_cell.composition,
+            &per_cell.balance,
+        );
+        models.push(per_cell);
+        let mut released = 0;
+        for model in &models {
+            released += usize::from(model.carriers().carbon_released_within_cm > 0.0);
+            let values = model.gas_c_to_o_samples();
+            assert_eq!(values.len(), model.sample_count());
+            let mut undefined = 0;
+            for (k, v) in values.iter().enumerate() {
+                let expected = model
+                    .ratios(&model.phases_at(k))
+                    .c_to_o_gas
+                    .unwrap_or(f64::NAN);
+                assert_eq!(v.to_bits(), expected.to_bits(), "sample {k}");
+                undefined += usize::from(v.is_nan());
+            }
+            assert!(undefined < values.len());
+        }
+        assert!(
+            released > 0,
+            "no disk with carbon released by the early phase"
+        );
     }
 }

@@ -3,7 +3,7 @@
 //! per column, and the radiation fields (columns, A_V, FUV, cosmic rays).
 
 use crate::error::PhysicsError;
-use crate::math::{cos, cos_reduced, exp, exp_poly, ln, pow, powi_slice, root4, sqrt};
+use crate::math::{cos, cos_reduced, exp, exp_poly_slice, ln, pow, powi_slice, root4, sqrt};
 use crate::opacity::bell_lin_1994_cm2_per_g;
 use crate::params::{
     GasMassMeaning, ModelParameters, Opacity, SootLine, TemperatureLaw, VerticalTemperature,
@@ -809,16 +809,40 @@ impl VerticalProfile {
             }
         };
         let z_q = self.z_q;
-        // The cosines (above z_q they are not used; any value will do there).
-        let mut covered = true;
-        for (c, &i) in out.iter_mut().zip(index) {
+        // The cosines and their powers only below z_q: z = i dz grows with i, so those points
+        // are the ones before the first with z >= z_q (above it the blend below takes T_atm
+        // and never reads the shape, so those entries keep whatever they hold).
+        let below = index
+            .iter()
+            .position(|&i| i * dz >= z_q)
+            .unwrap_or(index.len());
+        let (cosines, points) = (&mut out[..below], &index[..below]);
+        // WebAssembly simd128: two points per vector (the same operations), the rest below.
+        #[cfg(all(target_arch = "wasm32", target_feature = "simd128"))]
+        let (start, mut covered) = {
+            use crate::math::simd128::{cos_reduced, load2, splat, store2};
+            use core::arch::wasm32::*;
+            let pairs = cosines.len() / 2 * 2;
+            let mut all = i64x2_splat(-1);
+            for q in (0..pairs).step_by(2) {
+                let z = f64x2_mul(load2(points, q), splat(dz));
+                let x = f64x2_div(f64x2_mul(splat(PI), z), splat(2.0 * z_q));
+                let (value, ok) = cos_reduced(x);
+                store2(cosines, q, value);
+                all = v128_and(all, v128_or(ok, f64x2_ge(z, splat(z_q))));
+            }
+            (pairs, i64x2_all_true(all))
+        };
+        #[cfg(not(all(target_arch = "wasm32", target_feature = "simd128")))]
+        let (start, mut covered) = (0, true);
+        for (c, &i) in cosines[start..].iter_mut().zip(&points[start..]) {
             let z = i * dz;
             let (value, ok) = cos_reduced(PI * z / (2.0 * z_q));
             *c = value;
             covered &= ok | (z >= z_q);
         }
         if !covered {
-            for (c, &i) in out.iter_mut().zip(index) {
+            for (c, &i) in cosines.iter_mut().zip(points) {
                 let z = i * dz;
                 let x = PI * z / (2.0 * z_q);
                 if z < z_q && !cos_reduced(x).1 {
@@ -826,7 +850,7 @@ impl VerticalProfile {
                 }
             }
         }
-        powi_slice(out, scratch, n);
+        powi_slice(cosines, scratch, n);
         let (t_mid, t_atm) = (self.t_mid, self.t_atm);
         for (t, &i) in out.iter_mut().zip(index) {
             let shape = *t;
@@ -850,7 +874,7 @@ impl VerticalProfile {
 /// F = 1e8 [G*(r) exp(-2 A_V/phi) + G_ISM exp(-2 A_V)] + 1e4 zeta/1.3e-17
 /// (gamma_UV = 2, common practice; CR photons: Prasad & Tarafdar 1983, Shen et al. 2004);
 /// zeta = zeta0/2 [exp(-Sigma_above/96) + exp(-Sigma_below/96)] (Umebayashi & Nakano 1981).
-/// These exponentials and the density's are computed by [`exp_poly`] (within 1 ulp of libm).
+/// These exponentials and the density's are computed by [`crate::math::exp_poly`] (within 1 ulp of libm).
 pub fn column(
     c: &DiskConstants,
     radius_cm: f64,
@@ -884,10 +908,13 @@ struct FineGrid {
     above: Vec<f64>,
     /// The trapezoid terms 0.5 (y_i + y_(i+1)) dz of the quantity being integrated.
     term: Vec<f64>,
+    /// The four exponentials of each sample (cosmic rays from above and below, stellar and
+    /// interstellar FUV): arguments, then values ([`exp_poly_slice`]).
+    exps: Vec<f64>,
 }
 
 /// [`column`] written into `out` at samples `base..base + N_z + 1`, with scratch `fine`. The
-/// exponentials go through [`exp_poly`]; the loops over fine points and over samples are
+/// exponentials go through [`crate::math::exp_poly`] (a slice at a time, [`exp_poly_slice`]); the loops over fine points and over samples are
 /// written as separate passes so that the compiler vectorises them.
 ///
 /// On x86-64 the same code is compiled again for AVX2 and for AVX-512F (wider vectors of the
@@ -960,11 +987,30 @@ fn fill_column_portable(args: ColumnArgs<'_>, fine: &mut FineGrid, out: &mut Col
     fine.above.resize(points, 0.0);
     let profile = VerticalProfile::new(c, radius_cm, t_mid, h_mid);
     profile.fill(&fine.index, dz, &mut fine.temperature, &mut fine.integrand);
-    for ((g, &t), &i) in fine
-        .integrand
+    // WebAssembly simd128: two points per vector (the same operations), the rest below.
+    #[cfg(all(target_arch = "wasm32", target_feature = "simd128"))]
+    let start = {
+        use crate::math::simd128::{load2, splat, store2};
+        use core::arch::wasm32::*;
+        let pairs = points / 2 * 2;
+        for q in (0..pairs).step_by(2) {
+            let t = load2(&fine.temperature, q);
+            let z = f64x2_mul(load2(&fine.index, q), splat(dz));
+            let s = f64x2_add(splat(r2), f64x2_mul(z, z));
+            let g = f64x2_div(
+                f64x2_mul(splat(gravity), z),
+                f64x2_mul(t, f64x2_mul(s, f64x2_sqrt(s))),
+            );
+            store2(&mut fine.integrand, q, g);
+        }
+        pairs
+    };
+    #[cfg(not(all(target_arch = "wasm32", target_feature = "simd128")))]
+    let start = 0;
+    for ((g, &t), &i) in fine.integrand[start..]
         .iter_mut()
-        .zip(&fine.temperature)
-        .zip(&fine.index)
+        .zip(&fine.temperature[start..])
+        .zip(&fine.index[start..])
     {
         let z = i * dz;
         let s = r2 + z * z;
@@ -982,8 +1028,12 @@ fn fill_column_portable(args: ColumnArgs<'_>, fine: &mut FineGrid, out: &mut Col
         integral += t;
         *a = -integral;
     }
-    for ((r, &t), &minus_integral) in fine.rho.iter_mut().zip(&fine.temperature).zip(&fine.above) {
-        *r = t_mid / t * exp_poly(minus_integral);
+    // rho = (T_mid / T) exp(-integral), the exponentials in one pass over the slice.
+    fine.rho.copy_from_slice(&fine.above);
+    exp_poly_slice(&mut fine.rho);
+    for (r, &t) in fine.rho.iter_mut().zip(&fine.temperature) {
+        // (T_mid / T) e, as a product of two numbers (the same bits either order).
+        *r *= t_mid / t;
     }
     // Normalise: 2 * trapz(rho) = Sigma.
     trapezoid_terms(&mut fine.term, &fine.rho, dz);
@@ -1019,28 +1069,37 @@ fn fill_column_portable(args: ColumnArgs<'_>, fine: &mut FineGrid, out: &mut Col
         out.hydrogen_density_cm3[base + s] = rho[i] * per_h;
         out.column_above_g_cm2[base + s] = above[i];
     }
+    // The four exponentials of every sample: their arguments, then one pass of exp_poly.
+    fine.exps.resize(4 * samples, 0.0);
+    let (above_cr, rest) = fine.exps.split_at_mut(samples);
+    let (below_cr, rest) = rest.split_at_mut(samples);
+    let (star_fuv, ism_fuv) = rest.split_at_mut(samples);
     let sigma_above = &out.column_above_g_cm2[range.clone()];
-    for ((av, zeta), &sigma_above) in out.visual_extinction_mag[range.clone()]
+    for (k, (av, &sigma_above)) in out.visual_extinction_mag[range.clone()]
         .iter_mut()
-        .zip(&mut out.ionization_rate_s[range.clone()])
         .zip(sigma_above)
+        .enumerate()
     {
         let sigma_below = (sigma_g_cm2 - sigma_above).max(0.0);
         *av = sigma_above * per_h * c.extinction_per_hydrogen_mag_cm2;
-        *zeta = c.cosmic_ray_rate_s
-            * 0.5
-            * (exp_poly(-sigma_above / COSMIC_RAY_ATTENUATION_G_PER_CM2)
-                + exp_poly(-sigma_below / COSMIC_RAY_ATTENUATION_G_PER_CM2));
+        above_cr[k] = -sigma_above / COSMIC_RAY_ATTENUATION_G_PER_CM2;
+        below_cr[k] = -sigma_below / COSMIC_RAY_ATTENUATION_G_PER_CM2;
+        star_fuv[k] = -2.0 * *av / flaring_angle;
+        ism_fuv[k] = -2.0 * *av;
     }
-    for ((fuv, &av), &zeta) in out.fuv_photon_flux_cm2_s[range.clone()]
+    exp_poly_slice(&mut fine.exps);
+    let (above_cr, rest) = fine.exps.split_at(samples);
+    let (below_cr, rest) = rest.split_at(samples);
+    let (star_fuv, ism_fuv) = rest.split_at(samples);
+    for (k, (zeta, fuv)) in out.ionization_rate_s[range.clone()]
         .iter_mut()
-        .zip(&out.visual_extinction_mag[range.clone()])
-        .zip(&out.ionization_rate_s[range])
+        .zip(&mut out.fuv_photon_flux_cm2_s[range])
+        .enumerate()
     {
+        *zeta = c.cosmic_ray_rate_s * 0.5 * (above_cr[k] + below_cr[k]);
         *fuv = HABING_PHOTONS_PER_CM2_S
-            * (g_star * exp_poly(-2.0 * av / flaring_angle)
-                + c.interstellar_fuv_habing * exp_poly(-2.0 * av))
-            + 1.0e4 * zeta / REFERENCE_COSMIC_RAY_RATE_S;
+            * (g_star * star_fuv[k] + c.interstellar_fuv_habing * ism_fuv[k])
+            + 1.0e4 * *zeta / REFERENCE_COSMIC_RAY_RATE_S;
     }
 }
 
@@ -1492,6 +1551,56 @@ pub fn interpolate_in_ln_r(radii_cm: &[f64], values: &[f64], radius_cm: f64) -> 
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    /// The fine grid's temperatures by `VerticalProfile::fill` (vectorised cosines and powers,
+    /// only below z_q; simd128 pairs in WebAssembly) equal `temperature_k` point by point, bit
+    /// for bit: whole-number and fractional 2 delta, z_q inside, at the edge of and beyond the
+    /// grid, an isothermal column, odd and even lengths (derived, D).
+    #[test]
+    fn vertical_profile_fill_equals_the_pointwise_law() {
+        let mut checked = 0usize;
+        for points in [1usize, 2, 321, 322] {
+            let index: Vec<f64> = (0..points).map(|i| i as f64).collect();
+            for (z_q, dz) in [
+                (4.0e12, 3.1e10),
+                (1.0e12, 3.1e10),
+                (3.1e10 * 7.0, 3.1e10),
+                (1e20, 3.1e10),
+                (0.0, 3.1e10),
+            ] {
+                for (exponent, t_atm) in [
+                    (4.0, 180.0),
+                    (2.0, 95.5),
+                    (3.0, 300.0),
+                    (1.5, 120.0),
+                    (0.0, f64::NAN),
+                ] {
+                    let profile = VerticalProfile {
+                        t_mid: 42.5,
+                        t_atm,
+                        z_q,
+                        exponent,
+                        integer_exponent: (exponent.fract() == 0.0 && exponent > 0.0)
+                            .then_some(exponent as i32),
+                    };
+                    // Stale values in the buffers, as from the previous column.
+                    let mut out = vec![1234.5; points];
+                    let mut scratch = vec![-7.0; points];
+                    profile.fill(&index, dz, &mut out, &mut scratch);
+                    for (k, &t) in out.iter().enumerate() {
+                        let want = profile.temperature_k(k as f64 * dz);
+                        assert_eq!(
+                            t.to_bits(),
+                            want.to_bits(),
+                            "point {k} z_q {z_q:e} 2delta {exponent}"
+                        );
+                        checked += 1;
+                    }
+                }
+            }
+        }
+        assert!(checked > 10_000, "{checked}");
+    }
 
     #[test]
     fn tridiagonal_solver_matches_dense_solution() {

@@ -8,7 +8,9 @@
 //!   tests (`nivalis-tests`) compiled to `wasm32-wasip1` and run under Node's
 //!   WASI (`tests/wasm/run_wasi.mjs`), and the `model_digest` example run
 //!   natively and as WebAssembly, whose outputs (hashes over the exact bits of
-//!   every sample, shortest round-trip numbers) must be byte-identical. The
+//!   every sample, shortest round-trip numbers) must be byte-identical; the core's
+//!   unit tests and the digest once more compiled with WebAssembly SIMD (simd128),
+//!   which builds the core's explicit simd128 loops. The
 //!   page is compiled to `wasm32-unknown-unknown` from the same Rust with the
 //!   same libm, so this shows native and WebAssembly numbers are equal.
 
@@ -123,6 +125,68 @@ pub fn wasm_core() -> Result<Option<String>, String> {
         "native and WebAssembly model digests are identical ({} configurations)",
         native.lines().count()
     );
+
+    // Again with WebAssembly SIMD (simd128): the core's explicit simd128 loops
+    // (crates/physics: math::simd128, the ice balance's lane pairs) are compiled only then.
+    // Own target directory, so the two sets of flags do not rebuild each other's artifacts.
+    let simd_dir = root.join("target").join("wasm-simd128");
+    let simd_flags = format!("target.{WASI_TARGET}.rustflags=[\"-C\",\"target-feature=+simd128\"]");
+    let output = cargo()
+        .current_dir(&root)
+        .arg("test")
+        .args(["-p", "nivalis-physics", "--lib", "--target", WASI_TARGET])
+        .args(["--no-run", "--message-format=json", "--config", &simd_flags])
+        .arg("--target-dir")
+        .arg(&simd_dir)
+        .stderr(std::process::Stdio::inherit())
+        .output()
+        .map_err(|e| format!("could not start cargo: {e}"))?;
+    if !output.status.success() {
+        return Err(format!(
+            "building the core's tests for {WASI_TARGET} with simd128 failed"
+        ));
+    }
+    let simd_programs = executables(&String::from_utf8_lossy(&output.stdout));
+    if simd_programs.is_empty() {
+        return Err(format!(
+            "no test programs were built for {WASI_TARGET} with simd128"
+        ));
+    }
+    for program in &simd_programs {
+        run(Command::new("node")
+            .current_dir(&root)
+            .arg(&runner)
+            .arg(program))?;
+    }
+    run(cargo()
+        .current_dir(&root)
+        .args([
+            "build",
+            "-q",
+            "-p",
+            "nivalis-physics",
+            "--example",
+            "model_digest",
+        ])
+        .args(["--target", WASI_TARGET, "--config", &simd_flags])
+        .arg("--target-dir")
+        .arg(&simd_dir))?;
+    let simd_program = simd_dir
+        .join(WASI_TARGET)
+        .join("debug/examples/model_digest.wasm");
+    let simd = capture(
+        Command::new("node")
+            .current_dir(&root)
+            .arg(&runner)
+            .arg(&simd_program),
+    )?;
+    if native != simd {
+        return Err(format!(
+            "native and WebAssembly (simd128) numbers differ:\n--- native\n{native}--- {}\n{simd}",
+            relative(&simd_program)
+        ));
+    }
+    println!("the core's tests pass and the model digest is identical with simd128 too");
     Ok(None)
 }
 
