@@ -140,6 +140,25 @@ pub fn exp_poly(x: f64) -> f64 {
     }
 }
 
+/// fdlibm's kernel coefficients (k_cos.c, k_sin.c) and pi/2 split (e_rem_pio2.c), by their
+/// bits: shared by [`cos_reduced`] and its simd128 form.
+mod cos_kernel {
+    pub(super) const C1: f64 = f64::from_bits(0x3fa5_5555_5555_554c);
+    pub(super) const C2: f64 = f64::from_bits(0xbf56_c16c_16c1_5177);
+    pub(super) const C3: f64 = f64::from_bits(0x3efa_01a0_19cb_1590);
+    pub(super) const C4: f64 = f64::from_bits(0xbe92_7e4f_809c_52ad);
+    pub(super) const C5: f64 = f64::from_bits(0x3e21_ee9e_bdb4_b1c4);
+    pub(super) const C6: f64 = f64::from_bits(0xbda8_fae9_be88_38d4);
+    pub(super) const S1: f64 = f64::from_bits(0xbfc5_5555_5555_5549);
+    pub(super) const S2: f64 = f64::from_bits(0x3f81_1111_1110_f8a6);
+    pub(super) const S3: f64 = f64::from_bits(0xbf2a_01a0_19c1_61d5);
+    pub(super) const S4: f64 = f64::from_bits(0x3ec7_1de3_57b1_fe7d);
+    pub(super) const S5: f64 = f64::from_bits(0xbe5a_e5e6_8a2b_9ceb);
+    pub(super) const S6: f64 = f64::from_bits(0x3de5_d93a_5acf_d57c);
+    pub(super) const PIO2_1: f64 = f64::from_bits(0x3ff9_21fb_5440_0000);
+    pub(super) const PIO2_1T: f64 = f64::from_bits(0x3dd0_b461_1a62_6331);
+}
+
 /// cos(x) by the same operations as libm's `cos` (fdlibm's `__cos`/`__sin` kernels and its
 /// one-step reduction by pi/2), written branch-free so that a loop over arguments vectorises,
 /// for |x| <= pi/4 and for 0 < x <= 3 pi/4 except the few arguments whose high word is that of
@@ -149,21 +168,7 @@ pub fn exp_poly(x: f64) -> f64 {
 /// `tests::cos_reduced_equals_libm_bit_for_bit`).
 #[inline(always)]
 pub fn cos_reduced(x: f64) -> (f64, bool) {
-    // fdlibm's kernel coefficients (k_cos.c, k_sin.c) and pi/2 split (e_rem_pio2.c), by their bits.
-    const C1: f64 = f64::from_bits(0x3fa5_5555_5555_554c);
-    const C2: f64 = f64::from_bits(0xbf56_c16c_16c1_5177);
-    const C3: f64 = f64::from_bits(0x3efa_01a0_19cb_1590);
-    const C4: f64 = f64::from_bits(0xbe92_7e4f_809c_52ad);
-    const C5: f64 = f64::from_bits(0x3e21_ee9e_bdb4_b1c4);
-    const C6: f64 = f64::from_bits(0xbda8_fae9_be88_38d4);
-    const S1: f64 = f64::from_bits(0xbfc5_5555_5555_5549);
-    const S2: f64 = f64::from_bits(0x3f81_1111_1110_f8a6);
-    const S3: f64 = f64::from_bits(0xbf2a_01a0_19c1_61d5);
-    const S4: f64 = f64::from_bits(0x3ec7_1de3_57b1_fe7d);
-    const S5: f64 = f64::from_bits(0xbe5a_e5e6_8a2b_9ceb);
-    const S6: f64 = f64::from_bits(0x3de5_d93a_5acf_d57c);
-    const PIO2_1: f64 = f64::from_bits(0x3ff9_21fb_5440_0000);
-    const PIO2_1T: f64 = f64::from_bits(0x3dd0_b461_1a62_6331);
+    use cos_kernel::*;
     let bits = x.to_bits();
     let high = ((bits >> 32) as u32) & 0x7fff_ffff;
     let positive = (bits >> 63) == 0;
@@ -397,20 +402,7 @@ pub(crate) mod simd128 {
     /// [`super::cos_reduced`], two lanes: the value and, as a lane mask, whether it holds.
     #[inline(always)]
     pub(crate) fn cos_reduced(x: v128) -> (v128, v128) {
-        const C1: f64 = f64::from_bits(0x3fa5_5555_5555_554c);
-        const C2: f64 = f64::from_bits(0xbf56_c16c_16c1_5177);
-        const C3: f64 = f64::from_bits(0x3efa_01a0_19cb_1590);
-        const C4: f64 = f64::from_bits(0xbe92_7e4f_809c_52ad);
-        const C5: f64 = f64::from_bits(0x3e21_ee9e_bdb4_b1c4);
-        const C6: f64 = f64::from_bits(0xbda8_fae9_be88_38d4);
-        const S1: f64 = f64::from_bits(0xbfc5_5555_5555_5549);
-        const S2: f64 = f64::from_bits(0x3f81_1111_1110_f8a6);
-        const S3: f64 = f64::from_bits(0xbf2a_01a0_19c1_61d5);
-        const S4: f64 = f64::from_bits(0x3ec7_1de3_57b1_fe7d);
-        const S5: f64 = f64::from_bits(0xbe5a_e5e6_8a2b_9ceb);
-        const S6: f64 = f64::from_bits(0x3de5_d93a_5acf_d57c);
-        const PIO2_1: f64 = f64::from_bits(0x3ff9_21fb_5440_0000);
-        const PIO2_1T: f64 = f64::from_bits(0x3dd0_b461_1a62_6331);
+        use super::cos_kernel::*;
         let (add, sub, mul) = (f64x2_add, f64x2_sub, f64x2_mul);
         let high = v128_and(u64x2_shr(x, 32), i64x2_splat(0x7fff_ffff));
         let positive = i64x2_ge(x, i64x2_splat(0));

@@ -14,6 +14,7 @@
 //!   page is compiled to `wasm32-unknown-unknown` from the same Rust with the
 //!   same libm, so this shows native and WebAssembly numbers are equal.
 
+use std::path::Path;
 use std::process::Command;
 
 use crate::{cargo, relative, repo_root, run};
@@ -51,36 +52,13 @@ pub fn wasm_core() -> Result<Option<String>, String> {
     let runner = root.join("tests/wasm/run_wasi.mjs");
     let mut programs = Vec::new();
     for package in WASM_TEST_PACKAGES {
-        let output = cargo()
-            .current_dir(&root)
-            .args([
-                "test",
-                "-p",
-                package,
-                "--target",
-                WASI_TARGET,
-                "--no-run",
-                "--message-format=json",
-            ])
-            .stderr(std::process::Stdio::inherit())
-            .output()
-            .map_err(|e| format!("could not start cargo: {e}"))?;
-        if !output.status.success() {
-            return Err(format!(
-                "building the {package} tests for {WASI_TARGET} failed"
-            ));
-        }
-        programs.extend(executables(&String::from_utf8_lossy(&output.stdout)));
+        programs.extend(wasi_test_programs(
+            &root,
+            &["-p", package],
+            &format!("the {package} tests for {WASI_TARGET}"),
+        )?);
     }
-    if programs.is_empty() {
-        return Err(format!("no test programs were built for {WASI_TARGET}"));
-    }
-    for program in &programs {
-        run(Command::new("node")
-            .current_dir(&root)
-            .arg(&runner)
-            .arg(program))?;
-    }
+    run_wasi(&root, &runner, &programs, &format!("for {WASI_TARGET}"))?;
     println!("{} test programs passed as WebAssembly", programs.len());
 
     // The same numbers, bit for bit.
@@ -131,33 +109,26 @@ pub fn wasm_core() -> Result<Option<String>, String> {
     // Own target directory, so the two sets of flags do not rebuild each other's artifacts.
     let simd_dir = root.join("target").join("wasm-simd128");
     let simd_flags = format!("target.{WASI_TARGET}.rustflags=[\"-C\",\"target-feature=+simd128\"]");
-    let output = cargo()
-        .current_dir(&root)
-        .arg("test")
-        .args(["-p", "nivalis-physics", "--lib", "--target", WASI_TARGET])
-        .args(["--no-run", "--message-format=json", "--config", &simd_flags])
-        .arg("--target-dir")
-        .arg(&simd_dir)
-        .stderr(std::process::Stdio::inherit())
-        .output()
-        .map_err(|e| format!("could not start cargo: {e}"))?;
-    if !output.status.success() {
-        return Err(format!(
-            "building the core's tests for {WASI_TARGET} with simd128 failed"
-        ));
-    }
-    let simd_programs = executables(&String::from_utf8_lossy(&output.stdout));
-    if simd_programs.is_empty() {
-        return Err(format!(
-            "no test programs were built for {WASI_TARGET} with simd128"
-        ));
-    }
-    for program in &simd_programs {
-        run(Command::new("node")
-            .current_dir(&root)
-            .arg(&runner)
-            .arg(program))?;
-    }
+    let simd_dir_arg = simd_dir.to_string_lossy();
+    let simd_programs = wasi_test_programs(
+        &root,
+        &[
+            "-p",
+            "nivalis-physics",
+            "--lib",
+            "--config",
+            &simd_flags,
+            "--target-dir",
+            &simd_dir_arg,
+        ],
+        &format!("the core's tests for {WASI_TARGET} with simd128"),
+    )?;
+    run_wasi(
+        &root,
+        &runner,
+        &simd_programs,
+        &format!("for {WASI_TARGET} with simd128"),
+    )?;
     run(cargo()
         .current_dir(&root)
         .args([
@@ -188,6 +159,38 @@ pub fn wasm_core() -> Result<Option<String>, String> {
     }
     println!("the core's tests pass and the model digest is identical with simd128 too");
     Ok(None)
+}
+
+/// Builds test programs for [`WASI_TARGET`] (`cargo test --no-run` with `args`) and returns
+/// their paths; `what` names them in errors.
+fn wasi_test_programs(root: &Path, args: &[&str], what: &str) -> Result<Vec<String>, String> {
+    let output = cargo()
+        .current_dir(root)
+        .arg("test")
+        .args(args)
+        .args(["--target", WASI_TARGET, "--no-run", "--message-format=json"])
+        .stderr(std::process::Stdio::inherit())
+        .output()
+        .map_err(|e| format!("could not start cargo: {e}"))?;
+    if !output.status.success() {
+        return Err(format!("building {what} failed"));
+    }
+    Ok(executables(&String::from_utf8_lossy(&output.stdout)))
+}
+
+/// Runs each WebAssembly test program with the WASI runner; an empty list is an error
+/// (nothing was built `what`).
+fn run_wasi(root: &Path, runner: &Path, programs: &[String], what: &str) -> Result<(), String> {
+    if programs.is_empty() {
+        return Err(format!("no test programs were built {what}"));
+    }
+    for program in programs {
+        run(Command::new("node")
+            .current_dir(root)
+            .arg(runner)
+            .arg(program))?;
+    }
+    Ok(())
 }
 
 /// The `"executable":"..."` paths of cargo's JSON messages (test programs).
