@@ -1,4 +1,4 @@
-// app.js: the page's behaviour (its fourth module; see web/util.js for the
+// app.js: the page's behaviour (its fifth module; see web/util.js for the
 // order). It holds no physics and no schema: every number comes from the Rust
 // core through `Core.explorer`, the controls from the field table
 // (web/controls.js); this module keeps the state (URL fragment, undo),
@@ -918,6 +918,8 @@ const App = ((util, core, controls) => {
     edit,
     // Sets a field without scheduling a recompute (the benchmark times `recompute` itself).
     setQuietly: (path, value) => setPath(state, path, value),
+    // The pixels a view's canvas shows (ImageData): a map's chart composited over its cells' layer.
+    viewPixels: (id) => Replay.pixels($(id)),
   };
 
   // Test hooks (tests/browser): `trapCore` makes the core trap inside an

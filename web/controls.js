@@ -1,4 +1,4 @@
-// controls.js: the disk inputs (the page's third module), built from the disk
+// controls.js: the disk inputs (the page's fourth module), built from the disk
 // file's field table that the core hands over (`Core.fieldTable`, from
 // crates/disk_files/src/fields.rs). This file holds no schema, no defaults and
 // no species list: paths, labels, units, allowed ranges, choices, sliders and

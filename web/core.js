@@ -1,11 +1,11 @@
-// core.js: starts the Rust core (the page's second module). `cargo xtask dist`
+// core.js: starts the Rust core (the page's third module, after web/replay.js). `cargo xtask dist`
 // puts the wasm-bindgen glue (which defines `initSync`, `Explorer` and the
 // module-scope `wasm`) and the constants `NIVALIS_WASM_DEFLATE_BASE85` (the
 // module, compressed, as text) and `NIVALIS_WASM_BASE85_ALPHABET` before the
 // page's modules in the same module script;
 // this module is the only one that touches them. It holds no physics.
 
-/* global initSync, Explorer, NIVALIS_WASM_DEFLATE_BASE85, NIVALIS_WASM_BASE85_ALPHABET, wasm */
+/* global initSync, setCanvasReplay, Replay, Explorer, NIVALIS_WASM_DEFLATE_BASE85, NIVALIS_WASM_BASE85_ALPHABET, wasm */
 
 const Core = await (async () => {
   // The module is embedded DEFLATE-compressed (cargo xtask dist): inflated with
@@ -48,6 +48,8 @@ const Core = await (async () => {
   // Compiled once: the page instantiates it here, and the worker (large grids) gets the same module.
   const compiled = new WebAssembly.Module(wasmBytes);
   initSync({ module: compiled });
+  // The charts' display lists are drawn by web/replay.js (one call per chart).
+  setCanvasReplay(Replay);
   // Rebuilt after a trap in the core (rebuild below); the other modules read it through `Core.explorer`.
   let explorer = new Explorer();
   let restarts = 0;
@@ -69,6 +71,7 @@ const Core = await (async () => {
     try { explorer.free(); } catch (_) { /* the trapped instance may refuse; its finaliser is unregistered either way */ }
     wasm = undefined;
     initSync({ module: compiled });
+    setCanvasReplay(Replay);
     explorer = new Explorer();
     restarts += 1;
   }

@@ -1,5 +1,5 @@
 // util.js: the page's small helpers, no state and no core: the first of the
-// page's modules (`cargo xtask dist` inlines web/util.js, web/core.js,
+// page's modules (`cargo xtask dist` inlines web/util.js, web/replay.js, web/core.js,
 // web/controls.js, web/app.js and web/planet.js, in this order, into one
 // module script). Each module is one namespace object built by an immediately
 // invoked function; a module uses only the namespaces of the modules before

@@ -1,12 +1,15 @@
 //! Drawing on the page's canvases: the charts crate's `draw_*` functions are
 //! recorded into a display list ([`record`], `crate::display`), which the
-//! page compares with what the canvas already shows and otherwise replays in
-//! few canvas calls ([`replay`]). For r-z maps the cells are ONE
+//! page compares with what the canvas already shows and otherwise encodes as a
+//! command buffer (`crate::commands`) that the page's JavaScript (web/replay.js)
+//! draws in ONE call ([`replay`]). For r-z maps the cells are ONE
 //! `putImageData` of the RGBA buffer the charts crate rasterised (per-cell
-//! canvas calls would be far too slow), with the axes, lines and colour bar on
-//! top. The chi-square map is recorded and replayed the same way
-//! ([`record_chi2`]: its background and cells as one image). The evolution
-//! views draw through the `plotters-canvas` back end ([`MeasuredCanvas`]).
+//! canvas calls would be far too slow), on a canvas of its own under the
+//! chart's, with the axes, lines and colour bar on the chart canvas on top.
+//! The chi-square map is recorded and replayed the same way
+//! ([`record_chi2`]: its background and cells as one image, on the one
+//! canvas). The evolution views draw through the `plotters-canvas` back end
+//! ([`MeasuredCanvas`]).
 //!
 //! Text is measured with the canvas's own `measureText` ([`MeasuredCanvas`]):
 //! plotters' default for the web measures each label by adding a `<span>` to
@@ -26,12 +29,11 @@ use plotters_backend::{
     BackendColor, BackendCoord, BackendStyle, BackendTextStyle, DrawingBackend, DrawingErrorKind,
 };
 use plotters_canvas::CanvasBackend;
-use wasm_bindgen::{Clamped, JsCast, JsValue};
-use web_sys::{CanvasRenderingContext2d, HtmlCanvasElement, ImageData};
+use wasm_bindgen::{JsCast, JsValue};
+use web_sys::{CanvasRenderingContext2d, HtmlCanvasElement};
 
-use crate::display::{
-    css_font, leading_rects_as_image, run_length, Colour, MeasureText, Op, Recorder, TextSizes,
-};
+use crate::commands::Commands;
+use crate::display::{css_font, leading_rects_as_image, MeasureText, Op, Recorder, TextSizes};
 use crate::readout::ViewData;
 
 /// The canvas element with this id.
@@ -126,288 +128,77 @@ pub fn record_chi2(
     Ok((leading_rects_as_image(ops.into_inner(), size), layout))
 }
 
-/// The canvas's 2D context, for [`replay`].
-pub fn context_of(canvas: &HtmlCanvasElement) -> Result<CanvasRenderingContext2d, String> {
-    context(canvas)
-}
-
-// The canvas calls of `replay` that take text, with the text as a JS string
-// already made (see `JsText`).
 #[wasm_bindgen::prelude::wasm_bindgen]
 extern "C" {
-    /// A `CanvasRenderingContext2D`, with the calls `replay` makes with JS strings.
-    #[wasm_bindgen(js_name = CanvasRenderingContext2D)]
-    type Context2d;
-    #[wasm_bindgen(method, setter = fillStyle)]
-    fn set_fill_style(this: &Context2d, value: &JsValue);
-    #[wasm_bindgen(method, setter = strokeStyle)]
-    fn set_stroke_style(this: &Context2d, value: &JsValue);
-    #[wasm_bindgen(method, setter = font)]
-    fn set_font(this: &Context2d, value: &JsValue);
-    #[wasm_bindgen(method, catch, js_name = fillText)]
-    fn fill_text(this: &Context2d, text: &JsValue, x: f64, y: f64) -> Result<(), JsValue>;
-}
-
-/// The context as [`Context2d`] (the same JS object).
-fn js_context(c: &CanvasRenderingContext2d) -> &Context2d {
-    c.unchecked_ref()
-}
-
-/// JS strings of the CSS colours, fonts and texts `replay` hands to the
-/// canvas, made once and kept across draws: a chart draws the same labels,
-/// fonts and colours (a colour bar's 128 bands) on every redraw, and making a
-/// JS string from WebAssembly memory (a UTF-8 decode per call) cost more than
-/// the canvas calls themselves. The same strings reach the canvas, so the
-/// pixels are the same. Emptied when it holds more than `JsText::LIMIT`
-/// entries (texts that change with the data, e.g. a marked value).
-#[derive(Default)]
-struct JsText {
-    colours: HashMap<(u8, u8, u8, u64), JsValue>,
-    texts: HashMap<String, JsValue>,
-}
-
-impl JsText {
-    const LIMIT: usize = 4096;
-
-    fn colour(&mut self, colour: Colour) -> &JsValue {
-        if self.colours.len() > Self::LIMIT {
-            self.colours.clear();
-        }
-        let (r, g, b) = colour.rgb;
-        self.colours
-            .entry((r, g, b, colour.alpha.to_bits()))
-            .or_insert_with(|| JsValue::from_str(&colour.css()))
-    }
-
-    fn text(&mut self, text: &str) -> &JsValue {
-        if self.texts.len() > Self::LIMIT {
-            self.texts.clear();
-        }
-        if !self.texts.contains_key(text) {
-            self.texts.insert(text.to_string(), JsValue::from_str(text));
-        }
-        // Invariant: inserted just above when missing.
-        &self.texts[text]
-    }
+    /// The page's replay (web/replay.js `Replay`), handed over by web/core.js
+    /// with [`set_canvas_replay`].
+    pub type Replayer;
+    /// Draws one encoded display list (crate::commands) on `canvas`.
+    #[wasm_bindgen(method, catch)]
+    #[allow(clippy::too_many_arguments)]
+    fn replay(
+        this: &Replayer,
+        canvas: &HtmlCanvasElement,
+        layered: bool,
+        words: &[u32],
+        numbers: &[f64],
+        lengths: &[u32],
+        text: &str,
+        first: u32,
+        reset: bool,
+        memory: &JsValue,
+    ) -> Result<(), JsValue>;
 }
 
 thread_local! {
-    static JS_TEXT: RefCell<JsText> = RefCell::new(JsText::default());
+    static REPLAYER: RefCell<Option<Replayer>> = const { RefCell::new(None) };
+    /// The command buffer, reused across draws, and the ids of the strings
+    /// the page's replay holds.
+    static COMMANDS: RefCell<Commands> = RefCell::new(Commands::default());
 }
 
-/// The styles last set on a context, so each is set only when it changes.
-#[derive(Default)]
-struct Styles {
-    stroke: Option<Colour>,
-    fill: Option<Colour>,
-    width: Option<u32>,
-    font: Option<String>,
-    align: Option<&'static str>,
-    baseline: Option<&'static str>,
+/// Sets the page's replay (web/replay.js `Replay`, whose `replay` method
+/// draws an encoded display list); web/core.js calls it after starting the core.
+#[wasm_bindgen::prelude::wasm_bindgen(js_name = setCanvasReplay)]
+pub fn set_canvas_replay(replayer: Replayer) {
+    REPLAYER.with(|r| *r.borrow_mut() = Some(replayer));
 }
 
-impl Styles {
-    fn stroke(&mut self, c: &CanvasRenderingContext2d, colour: Colour, width: u32) {
-        if self.stroke != Some(colour) {
-            JS_TEXT.with(|t| js_context(c).set_stroke_style(t.borrow_mut().colour(colour)));
-            self.stroke = Some(colour);
-        }
-        if self.width != Some(width) {
-            c.set_line_width(f64::from(width));
-            self.width = Some(width);
-        }
-    }
-
-    fn fill(&mut self, c: &CanvasRenderingContext2d, colour: Colour) {
-        if self.fill != Some(colour) {
-            JS_TEXT.with(|t| js_context(c).set_fill_style(t.borrow_mut().colour(colour)));
-            self.fill = Some(colour);
-        }
-    }
-}
-
-/// Draws a display list on the canvas in few calls: each run of strokes of one
-/// pen (a dashed series' dashes, the grid, the ticks) as one path stroked once,
-/// each run of markers as one path, styles set only when they change. An image
-/// (a map's cells) is put on `scratch`, a canvas of its own that is never shown,
-/// and drawn from there with one `drawImage`: a `putImageData` on the shown
-/// canvas would first make the browser rasterise everything still queued on it.
-/// The canvas is not cleared first: every chart paints its own background.
-pub fn replay(
-    context: &CanvasRenderingContext2d,
-    ops: &[Op],
-    scratch: &HtmlCanvasElement,
-) -> Result<(), String> {
-    let c = context;
-    let mut styles = Styles::default();
-    fn fail(what: &'static str) -> impl Fn(wasm_bindgen::JsValue) -> String {
-        move |e| format!("cannot draw {what}: {e:?}")
-    }
-    let mut i = 0;
-    while i < ops.len() {
-        let n = run_length(ops, i);
-        let run = &ops[i..i + n];
-        match &ops[i] {
-            Op::Stroke { colour, width, .. } => {
-                styles.stroke(c, *colour, *width);
-                c.begin_path();
-                for op in run {
-                    if let Op::Stroke { points, .. } = op {
-                        if let Some((first, rest)) = points.split_first() {
-                            c.move_to(first.0, first.1);
-                            for p in rest {
-                                c.line_to(p.0, p.1);
-                            }
-                        }
-                    }
-                }
-                c.stroke();
-            }
-            Op::StrokeRect {
-                colour,
-                width,
-                corners: [a, b],
-            } => {
-                styles.stroke(c, *colour, *width);
-                c.stroke_rect(
-                    f64::from(a.0),
-                    f64::from(a.1),
-                    f64::from(b.0 - a.0),
-                    f64::from(b.1 - a.1),
-                );
-            }
-            Op::FillRect {
-                colour,
-                corners: [a, b],
-            } => {
-                styles.fill(c, *colour);
-                c.fill_rect(
-                    f64::from(a.0),
-                    f64::from(a.1),
-                    f64::from(b.0 - a.0),
-                    f64::from(b.1 - a.1),
-                );
-            }
-            Op::FillPolygon { colour, .. } => {
-                styles.fill(c, *colour);
-                c.begin_path();
-                for op in run {
-                    if let Op::FillPolygon { points, .. } = op {
-                        if let Some((first, rest)) = points.split_first() {
-                            c.move_to(f64::from(first.0), f64::from(first.1));
-                            for p in rest {
-                                c.line_to(f64::from(p.0), f64::from(p.1));
-                            }
-                            c.close_path();
-                        }
-                    }
-                }
-                c.fill();
-            }
-            Op::Circle {
-                colour,
-                width,
-                fill,
-                ..
-            } => {
-                c.begin_path();
-                for op in run {
-                    if let Op::Circle { centre, radius, .. } = op {
-                        let (x, y, r) =
-                            (f64::from(centre.0), f64::from(centre.1), f64::from(*radius));
-                        c.move_to(x + r, y);
-                        c.arc(x, y, r, 0.0, std::f64::consts::TAU)
-                            .map_err(fail("a marker"))?;
-                    }
-                }
-                if *fill {
-                    styles.fill(c, *colour);
-                    c.fill();
-                } else {
-                    styles.stroke(c, *colour, *width);
-                    c.stroke();
-                }
-            }
-            Op::Text {
-                text,
-                font,
-                colour,
-                align,
-                baseline,
-                rotation,
-                at,
-            } => {
-                styles.fill(c, *colour);
-                if styles.font.as_deref() != Some(font.as_str()) {
-                    JS_TEXT.with(|t| js_context(c).set_font(t.borrow_mut().text(font)));
-                    styles.font = Some(font.clone());
-                }
-                if styles.align != Some(*align) {
-                    c.set_text_align(align);
-                    styles.align = Some(*align);
-                }
-                if styles.baseline != Some(*baseline) {
-                    c.set_text_baseline(baseline);
-                    styles.baseline = Some(*baseline);
-                }
-                if *rotation == 0 {
-                    JS_TEXT
-                        .with(|t| {
-                            js_context(c).fill_text(
-                                t.borrow_mut().text(text),
-                                f64::from(at.0),
-                                f64::from(at.1),
-                            )
-                        })
-                        .map_err(fail("a text"))?;
-                } else {
-                    // As plotters-canvas: rotate about the anchor. save/restore
-                    // keep the styles set above, so the cache stays true.
-                    c.save();
-                    c.translate(f64::from(at.0), f64::from(at.1))
-                        .map_err(fail("a text"))?;
-                    c.rotate(f64::from(*rotation).to_radians())
-                        .map_err(fail("a text"))?;
-                    let drawn = JS_TEXT
-                        .with(|t| js_context(c).fill_text(t.borrow_mut().text(text), 0.0, 0.0));
-                    c.restore();
-                    drawn.map_err(fail("a text"))?;
-                }
-            }
-            Op::Image {
-                at,
-                width,
-                height,
-                rgba,
-            } => {
-                let pixels =
-                    ImageData::new_with_u8_clamped_array_and_sh(Clamped(rgba), *width, *height)
-                        .map_err(fail("the map image"))?;
-                if scratch.width() != *width || scratch.height() != *height {
-                    scratch.set_width(*width);
-                    scratch.set_height(*height);
-                }
-                context_of(scratch)?
-                    .put_image_data(&pixels, 0.0, 0.0)
-                    .map_err(fail("the map image"))?;
-                c.draw_image_with_html_canvas_element(scratch, f64::from(at.0), f64::from(at.1))
-                    .map_err(fail("the map image"))?;
-            }
-        }
-        i += n;
-    }
-    Ok(())
-}
-
-/// A new canvas that is never shown, for [`replay`]'s images.
-pub fn scratch_canvas() -> Result<HtmlCanvasElement, String> {
-    web_sys::window()
-        .and_then(|w| w.document())
-        .ok_or("no document")?
-        .create_element("canvas")
-        .map_err(|e| format!("cannot make a canvas: {e:?}"))?
-        .dyn_into::<HtmlCanvasElement>()
-        .map_err(|_| "not a canvas".to_string())
+/// Draws a display list on the canvas: encodes it ([`Commands`]) and hands it
+/// to the page's JavaScript replay in ONE call, which makes the canvas calls
+/// (each run of strokes of one pen as one path stroked once, each run of
+/// markers as one path, styles set only when they change). An image (a map's
+/// cells) goes, when `layered` and the canvas has a layer under it
+/// (`<canvas id="ID-under">`), on that layer with one `putImageData`, the
+/// chart canvas getting a transparent hole there; otherwise on a scratch
+/// canvas drawn onto the chart with one `drawImage` (a `putImageData` on the
+/// shown canvas would first make the browser rasterise everything still
+/// queued on it). The canvas is not cleared first: every chart paints its own
+/// background.
+pub fn replay(canvas: &HtmlCanvasElement, ops: &[Op], layered: bool) -> Result<(), String> {
+    REPLAYER.with(|r| {
+        let replayer = r.borrow();
+        let replayer = replayer
+            .as_ref()
+            .ok_or("the page's canvas replay (web/replay.js) was not handed to the core")?;
+        COMMANDS.with(|c| {
+            let mut c = c.borrow_mut();
+            c.encode(ops, &|rgba| rgba.as_ptr() as usize as u32);
+            replayer
+                .replay(
+                    canvas,
+                    layered,
+                    &c.words,
+                    &c.numbers,
+                    &c.new_lengths,
+                    &c.new_strings,
+                    c.first_new,
+                    c.reset,
+                    &wasm_bindgen::memory(),
+                )
+                .map_err(|e| format!("cannot draw the chart: {e:?}"))
+        })
+    })
 }
 
 /// Text measured with a canvas's `measureText`, remembered by (CSS font, text)

@@ -67,9 +67,6 @@ pub struct Explorer {
     draw_counts: HashMap<String, u32>,
     /// Per canvas id: the milliseconds of the last `draw`'s steps (`drawTimings`, for the benchmark).
     draw_timings: HashMap<String, [f64; 4]>,
-    /// Per canvas id: a canvas never shown, which a map's cells are put on before one
-    /// `drawImage` onto the shown canvas (see `canvas::replay`).
-    scratch: HashMap<String, web_sys::HtmlCanvasElement>,
 }
 
 /// `performance.now()` [ms], or 0 where there is none.
@@ -94,6 +91,8 @@ pub(crate) struct Drawn {
     data: ViewData,
     theme: Theme,
     pixels_per_point: f64,
+    /// A map's cells on the layer under the canvas (see `canvas::replay`).
+    layered: bool,
     size: (u32, u32),
     ops: Vec<Op>,
     layout: ChartLayout,
@@ -120,7 +119,6 @@ impl Explorer {
             text_sizes: RefCell::new(HashMap::new()),
             draw_counts: HashMap::new(),
             draw_timings: HashMap::new(),
-            scratch: HashMap::new(),
         }
     }
 
@@ -268,6 +266,9 @@ impl Explorer {
             .and_then(|v| v.as_f64())
             .filter(|r| r.is_finite() && *r > 0.0)
             .unwrap_or(1.0);
+        // Test hook (tests/browser/redraw.test.mjs): `oneCanvas: true` draws a map's cells on
+        // the chart canvas itself rather than on the layer under it.
+        let layered = get("oneCanvas").and_then(|v| v.as_bool()) != Some(true);
         let key = view_key(view, get("species").and_then(|v| v.as_string()).as_deref())?;
         let t0 = now_ms();
         self.view_data(&key)?;
@@ -280,8 +281,9 @@ impl Explorer {
             .drawn
             .get(canvas_id)
             .filter(|d| d.key == key && d.size == size);
-        let same_options =
-            previous.is_some_and(|d| d.theme == theme && d.pixels_per_point == pixels_per_point);
+        let same_options = previous.is_some_and(|d| {
+            d.theme == theme && d.pixels_per_point == pixels_per_point && d.layered == layered
+        });
         if same_options && previous.is_some_and(|d| d.data == *data) {
             let layout = previous.map(|d| d.layout.clone()).expect("checked above");
             self.layouts.insert(canvas_id.to_string(), (key, layout));
@@ -302,17 +304,10 @@ impl Explorer {
             &mut raster_ms,
         )
         .map_err(|e| JsError::new(&e))?;
-        let unchanged = previous.is_some_and(|d| d.ops == ops);
+        let unchanged = same_options && previous.is_some_and(|d| d.ops == ops);
         let t2 = now_ms();
         if !unchanged {
-            let context = canvas::context_of(&canvas).map_err(|e| JsError::new(&e))?;
-            if !self.scratch.contains_key(canvas_id) {
-                let scratch = canvas::scratch_canvas().map_err(|e| JsError::new(&e))?;
-                self.scratch.insert(canvas_id.to_string(), scratch);
-            }
-            // Invariant: inserted just above when missing.
-            let scratch = &self.scratch[canvas_id];
-            canvas::replay(&context, &ops, scratch).map_err(|e| JsError::new(&e))?;
+            canvas::replay(&canvas, &ops, layered).map_err(|e| JsError::new(&e))?;
             *self.draw_counts.entry(canvas_id.to_string()).or_default() += 1;
         }
         self.draw_timings.insert(
@@ -328,6 +323,7 @@ impl Explorer {
                 data: data.clone(),
                 theme,
                 pixels_per_point,
+                layered,
                 size,
                 ops,
                 layout,

@@ -21,6 +21,7 @@
 //! JavaScript names are camelCase (`updateFromText`, `snowlineTable`, ...);
 //! DEVELOPERS.md lists the mapping.
 
+pub mod commands;
 pub mod display;
 pub mod evolution_fit_js;
 pub mod figures;

@@ -18,7 +18,7 @@
 //!    `demo_disks/*.json` as one JSON object in a `<script type="application/json">`,
 //!    and ONE inline `<script type="module">` holding the glue, the wasm as
 //!    base85 text (decoded and compiled with `initSync`) and the app's modules
-//!    (`web/util.js`, `web/core.js`, `web/controls.js`, `web/app.js`, then
+//!    (`web/util.js`, `web/replay.js`, `web/core.js`, `web/controls.js`, `web/app.js`, then
 //!    `web/planet.js`, the planet panel and figure downloads; CSS likewise
 //!    `web/style.css` then `web/planet.css`; the wasm is compressed with raw
 //!    DEFLATE by `zopfli`, written as [`base85`] text, and the page decodes it
@@ -50,8 +50,9 @@ const WORKER_SLOT: &str = "<!-- nivalis:worker -->";
 /// is one module: a namespace object built by an immediately invoked function
 /// (`const Util = (() => {...})();`), using only the modules before it, passed
 /// in as arguments or named explicitly (web/util.js explains the pattern).
-const SCRIPTS: [&str; 8] = [
+const SCRIPTS: [&str; 9] = [
     "web/util.js",
+    "web/replay.js",
     "web/core.js",
     "web/controls.js",
     "web/app.js",
