@@ -137,11 +137,12 @@ export async function settle(page) {
 }
 
 /// Statistics of a canvas: the number of distinct colours and the fraction of
-/// pixels that differ from the top-left (background) pixel.
+/// pixels that differ from the top-left (background) pixel. The pixels are what
+/// the view shows (`window.nivalis.viewPixels`: a map's chart canvas composited
+/// over the layer under it that holds its cells, web/replay.js).
 export async function canvasStats(page, id) {
   return page.$eval(`#${id}`, (canvas) => {
-    const ctx = canvas.getContext("2d");
-    const { data } = ctx.getImageData(0, 0, canvas.width, canvas.height);
+    const { data } = window.nivalis.viewPixels(canvas.id);
     const bg = [data[0], data[1], data[2], data[3]];
     const colours = new Set();
     let different = 0;

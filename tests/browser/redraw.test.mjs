@@ -13,8 +13,10 @@ import { test } from "node:test";
 import assert from "node:assert/strict";
 import { writeFileSync } from "node:fs";
 import {
-  canvasStats, downloadText, execFileSync, join, newPage, settle, withBrowserAndCli,
+  canvasStats, downloadText, execFileSync, join, newPage, pageUrl, settle, withBrowserAndCli,
 } from "./helpers.mjs";
+
+const pageUrlWith = (fragment) => `${pageUrl}#${fragment}`;
 
 const CANVASES = ["canvas-c-to-o", "canvas-temperature", "canvas-ice-map", "canvas-c-to-o-map", "canvas-abundances"];
 
@@ -127,7 +129,8 @@ async function canvasDigests(page) {
     const out = {};
     for (const id of ids) {
       const c = document.getElementById(id);
-      const pixels = c.getContext("2d").getImageData(0, 0, c.width, c.height).data;
+      // What the view shows: a map's chart composited over its cells' layer.
+      const pixels = window.nivalis.viewPixels(id).data;
       const digest = new Uint8Array(await crypto.subtle.digest("SHA-256", pixels));
       out[id] = `${c.width}x${c.height}:` + Array.from(digest, (b) => b.toString(16).padStart(2, "0")).join("");
     }
@@ -157,4 +160,77 @@ test("after edits, a theme switch and a grid change, every view shows the pixels
   assert.deepEqual(errors, []);
   await fresh.close();
   await page.close();
+});
+
+// A map's cells are on a canvas of their own under the chart canvas (web/replay.js): the
+// composite must be the picture the same display list gives drawn on ONE canvas (the
+// `oneCanvas` test hook of Explorer.draw: the image put on a scratch canvas and drawn onto
+// the chart with drawImage, as the page did before the layer). Outside the cells' rectangle
+// the pixels are equal; inside it, lines and labels drawn over the cells are blended once in
+// 8-bit premultiplied RGBA on one canvas but twice (onto the transparent chart canvas, then
+// the composite) with the layer, which rounds their anti-aliased edge pixels differently: at
+// most 2 of 255 per channel on at most 2 % of the rectangle's pixels (bounds measured here,
+// at most 2 and about 0.3 %; common practice for 8-bit compositing, no source). A missing or
+// misplaced layer, an uncleared hole or a background over the cells breaks far more pixels.
+async function layeredAgainstOneCanvas(page, id, view, theme) {
+  return page.evaluate(({ id, view, theme }) => {
+    const chart = document.getElementById(id);
+    const under = document.getElementById(id + "-under");
+    const flat = document.createElement("canvas");
+    flat.id = "one-canvas-" + id;
+    flat.width = chart.width;
+    flat.height = chart.height;
+    document.body.append(flat);
+    window.nivalis.explorer.draw(view, flat.id, { theme, species: chart.dataset.species, pixelRatio: window.devicePixelRatio, oneCanvas: true });
+    const one = flat.getContext("2d").getImageData(0, 0, flat.width, flat.height).data;
+    flat.remove();
+    const shown = window.nivalis.viewPixels(id).data;
+    // The cells' rectangle: the layer's opaque pixels.
+    const layer = under.getContext("2d").getImageData(0, 0, under.width, under.height).data;
+    let [x0, y0, x1, y1] = [Infinity, Infinity, -1, -1];
+    for (let y = 0; y < under.height; y++) {
+      for (let x = 0; x < under.width; x++) {
+        if (layer[(y * under.width + x) * 4 + 3] === 255) {
+          x0 = Math.min(x0, x); y0 = Math.min(y0, y); x1 = Math.max(x1, x); y1 = Math.max(y1, y);
+        }
+      }
+    }
+    const top = chart.getContext("2d").getImageData(0, 0, chart.width, chart.height).data;
+    let outside = 0, inside = 0, maxDiff = 0, holes = 0;
+    for (let y = 0; y < chart.height; y++) {
+      for (let x = 0; x < chart.width; x++) {
+        const p = (y * chart.width + x) * 4;
+        const inRect = x >= x0 && x <= x1 && y >= y0 && y <= y1;
+        if (inRect && top[p + 3] === 0) holes += 1;
+        let differs = false;
+        for (let k = 0; k < 4; k++) {
+          const d = Math.abs(shown[p + k] - one[p + k]);
+          if (d) { differs = true; maxDiff = Math.max(maxDiff, d); }
+        }
+        if (differs) { if (inRect) inside += 1; else outside += 1; }
+      }
+    }
+    const area = (x1 - x0 + 1) * (y1 - y0 + 1);
+    return { size: [chart.width, chart.height], layerSize: [under.width, under.height], rect: [x0, y0, x1, y1], area, holes, outside, inside, maxDiff };
+  }, { id, view, theme });
+}
+
+test("a map's cells on the layer under its chart give the picture of the one-canvas drawing", async () => {
+  for (const theme of ["light", "dark"]) {
+    const { page, errors } = await newPage(browser.context, theme === "dark" ? pageUrlWith("theme=dark") : undefined);
+    await setField(page, "ices.sticking", 0.6);
+    for (const [id, view] of [["canvas-ice-map", "ice_map"], ["canvas-c-to-o-map", "c_to_o_map"]]) {
+      const r = await layeredAgainstOneCanvas(page, id, view, theme);
+      const what = `${theme} ${id}: ${JSON.stringify(r)}`;
+      assert.deepEqual(r.layerSize, r.size, what);
+      // The cells cover most of the map's plotting rectangle, and the chart canvas is transparent there.
+      assert.ok(r.area > 0.3 * r.size[0] * r.size[1], what);
+      assert.ok(r.holes > 0.5 * r.area, what);
+      assert.equal(r.outside, 0, what);
+      assert.ok(r.maxDiff <= 2, what);
+      assert.ok(r.inside <= 0.02 * r.area, what);
+    }
+    assert.deepEqual(errors, []);
+    await page.close();
+  }
 });
