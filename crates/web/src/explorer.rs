@@ -69,19 +69,29 @@ pub struct Explorer {
     draw_timings: HashMap<String, [f64; 4]>,
 }
 
+#[wasm_bindgen]
+extern "C" {
+    /// `performance.now()`, read without naming it from Rust (a JS string made
+    /// from WebAssembly memory is a UTF-8 decode per call).
+    #[wasm_bindgen(catch, js_namespace = performance, js_name = now)]
+    fn performance_now() -> Result<f64, JsValue>;
+
+    /// The options object of `Explorer.draw`, read through getters (no property
+    /// name crosses from WebAssembly memory).
+    type DrawOptions;
+    #[wasm_bindgen(method, getter)]
+    fn theme(this: &DrawOptions) -> JsValue;
+    #[wasm_bindgen(method, getter)]
+    fn species(this: &DrawOptions) -> JsValue;
+    #[wasm_bindgen(method, getter = pixelRatio)]
+    fn pixel_ratio(this: &DrawOptions) -> JsValue;
+    #[wasm_bindgen(method, getter = oneCanvas)]
+    fn one_canvas(this: &DrawOptions) -> JsValue;
+}
+
 /// `performance.now()` [ms], or 0 where there is none.
 pub(crate) fn now_ms() -> f64 {
-    let global = js_sys::global();
-    js_sys::Reflect::get(&global, &JsValue::from_str("performance"))
-        .ok()
-        .and_then(|perf| {
-            let now = js_sys::Reflect::get(&perf, &JsValue::from_str("now")).ok()?;
-            now.dyn_ref::<js_sys::Function>()?
-                .call0(&perf)
-                .ok()?
-                .as_f64()
-        })
-        .unwrap_or(0.0)
+    performance_now().unwrap_or(0.0)
 }
 
 /// What a canvas shows: the view's data and options it was drawn from, its
@@ -257,19 +267,31 @@ impl Explorer {
     /// list comes out the same; otherwise the list is replayed in few canvas calls
     /// (`canvas::replay`). Returns whether the canvas was drawn.
     pub fn draw(&mut self, view: &str, canvas_id: &str, options: JsValue) -> Result<bool, JsError> {
-        let get = |key: &str| js_sys::Reflect::get(&options, &JsValue::from_str(key)).ok();
-        let theme = match get("theme").and_then(|v| v.as_string()).as_deref() {
+        // Getters on anything but an object would throw: no options, the defaults.
+        let options = options
+            .is_object()
+            .then(|| options.unchecked_into::<DrawOptions>());
+        let get = |read: fn(&DrawOptions) -> JsValue| options.as_ref().map(read);
+        let theme = match get(DrawOptions::theme)
+            .and_then(|v| v.as_string())
+            .as_deref()
+        {
             Some("dark") => Theme::dark(),
             _ => Theme::light(),
         };
-        let ratio = get("pixelRatio")
+        let ratio = get(DrawOptions::pixel_ratio)
             .and_then(|v| v.as_f64())
             .filter(|r| r.is_finite() && *r > 0.0)
             .unwrap_or(1.0);
         // Test hook (tests/browser/redraw.test.mjs): `oneCanvas: true` draws a map's cells on
         // the chart canvas itself rather than on the layer under it.
-        let layered = get("oneCanvas").and_then(|v| v.as_bool()) != Some(true);
-        let key = view_key(view, get("species").and_then(|v| v.as_string()).as_deref())?;
+        let layered = get(DrawOptions::one_canvas).and_then(|v| v.as_bool()) != Some(true);
+        let key = view_key(
+            view,
+            get(DrawOptions::species)
+                .and_then(|v| v.as_string())
+                .as_deref(),
+        )?;
         let t0 = now_ms();
         self.view_data(&key)?;
         // Invariant: built just above.
