@@ -12,7 +12,8 @@
 // the chart's (`<canvas id="ID-under">`, web/index.html, style.css `.layered`)
 // with one putImageData; the chart canvas gets a transparent hole there
 // (clearRect) and draws its frame, lines and labels on top, so the screen
-// shows the two composited. Without such a canvas (the chi-square map, or
+// shows the two composited. Only opaque images go there (a transparent pixel
+// would show the layer's background, not what the chart drew below it). Without such a canvas (the chi-square map, or
 // `layered` false) the image is put on a scratch canvas and drawn onto the
 // chart with drawImage, as one canvas. `Replay.pixels(canvas)` returns the
 // composited pixels of a chart either way (tests, pictures).
@@ -30,7 +31,7 @@ const Replay = (() => {
   const strings = [];
   // Per chart canvas: a canvas never shown, for images drawn onto one canvas.
   const scratch = new WeakMap();
-  // Per layer under a chart: the rectangle its image was last put at.
+  // Per layer under a chart: the rectangles of the images it holds.
   const placed = new WeakMap();
 
   function layerUnder(canvas) {
@@ -38,19 +39,19 @@ const Replay = (() => {
     return under instanceof HTMLCanvasElement ? under : null;
   }
 
-  function putImage(c, canvas, layered, memory, ptr, len, w, h, x, y) {
+  // Puts an image: on the layer under the chart canvas (`under`, when the image is opaque),
+  // leaving a transparent hole in the chart canvas, or else on a scratch canvas drawn onto
+  // the chart. `onLayer` collects what went on the layer in this replay.
+  function putImage(c, canvas, under, onLayer, memory, ptr, len, w, h, opaque, x, y) {
     const pixels = new ImageData(new Uint8ClampedArray(memory.buffer, ptr, len), w, h);
-    const under = layered ? layerUnder(canvas) : null;
-    if (under) {
-      const key = `${canvas.width}x${canvas.height}:${x},${y},${w},${h}`;
+    if (under && opaque) {
       if (under.width !== canvas.width || under.height !== canvas.height) {
         under.width = canvas.width;
         under.height = canvas.height;
-      } else if (placed.get(under) !== key) {
-        under.getContext("2d").clearRect(0, 0, under.width, under.height);
+        placed.delete(under);
       }
-      placed.set(under, key);
       under.getContext("2d").putImageData(pixels, x, y);
+      onLayer.push({ pixels, x, y, w, h });
       c.clearRect(x, y, w, h);
       return;
     }
@@ -59,6 +60,21 @@ const Replay = (() => {
     if (s.width !== w || s.height !== h) { s.width = w; s.height = h; }
     s.getContext("2d").putImageData(pixels, 0, 0);
     c.drawImage(s, x, y);
+  }
+
+  // After a replay: the layer holds exactly this replay's images. When they are not where the
+  // last replay put its images (a new layout, or fewer images), the layer is cleared and they
+  // are put again (the image data are still valid views of the core's memory here).
+  function settleLayer(under, onLayer) {
+    const key = onLayer.map((r) => `${r.x},${r.y},${r.w},${r.h}`).join(";");
+    const last = placed.get(under);
+    if (last === key) return;
+    if (last !== undefined && last !== "") {
+      const u = under.getContext("2d");
+      u.clearRect(0, 0, under.width, under.height);
+      for (const r of onLayer) u.putImageData(r.pixels, r.x, r.y);
+    }
+    placed.set(under, key);
   }
 
   /**
@@ -75,6 +91,8 @@ const Replay = (() => {
       at += lengths[k];
     }
     const c = canvas.getContext("2d");
+    const under = layered ? layerUnder(canvas) : null;
+    const onLayer = [];
     const n = words.length;
     let i = 0;
     let j = 0;
@@ -128,14 +146,15 @@ const Replay = (() => {
           break;
         }
         case IMAGE: {
-          putImage(c, canvas, layered, memory, words[i], words[i + 1], words[i + 2], words[i + 3], numbers[j], numbers[j + 1]);
-          i += 4;
+          putImage(c, canvas, under, onLayer, memory, words[i], words[i + 1], words[i + 2], words[i + 3], words[i + 4] === 1, numbers[j], numbers[j + 1]);
+          i += 5;
           j += 2;
           break;
         }
         default: throw new Error(`unknown canvas command ${words[i - 1]} at word ${i - 1}`);
       }
     }
+    if (under) settleLayer(under, onLayer);
   }
 
   /**

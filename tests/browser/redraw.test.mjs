@@ -230,6 +230,26 @@ test("a map's cells on the layer under its chart give the picture of the one-can
       assert.ok(r.maxDiff <= 2, what);
       assert.ok(r.inside <= 0.02 * r.area, what);
     }
+    if (theme === "light") {
+      // Another list on a layered canvas whose cells' rectangle differs (the gas C/O map's
+      // colour bar labels are narrower than the ice map's): the layer holds only the new
+      // cells, and the view shows what the gas C/O map's own canvas shows, pixel for pixel.
+      const same = await page.evaluate(async () => {
+        const [a, b] = ["canvas-ice-map", "canvas-c-to-o-map"].map((id) => document.getElementById(id));
+        const options = { theme: "light", pixelRatio: window.devicePixelRatio };
+        window.nivalis.explorer.draw("c_to_o_map", a.id, options);
+        const digest = async (id) => Array.from(new Uint8Array(await crypto.subtle.digest("SHA-256", window.nivalis.viewPixels(id).data))).join(",");
+        const layerDigest = async (id) => {
+          const u = document.getElementById(id + "-under");
+          return Array.from(new Uint8Array(await crypto.subtle.digest("SHA-256", u.getContext("2d").getImageData(0, 0, u.width, u.height).data))).join(",");
+        };
+        return { sizes: [a.width, a.height, b.width, b.height], view: (await digest(a.id)) === (await digest(b.id)), layer: (await layerDigest(a.id)) === (await layerDigest(b.id)) };
+      });
+      assert.equal(same.sizes[0], same.sizes[2]);
+      assert.equal(same.sizes[1], same.sizes[3]);
+      assert.ok(same.layer, "the layer keeps cells of the list drawn before");
+      assert.ok(same.view, "the redrawn canvas differs from the gas C/O map's");
+    }
     assert.deepEqual(errors, []);
     await page.close();
   }

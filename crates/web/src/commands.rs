@@ -67,8 +67,28 @@ pub mod op {
     /// `restore`. Words: id. Numbers: x, y, a [rad].
     pub const TEXT_ROTATED: u32 = 15;
     /// RGBA pixels `width x height` at WebAssembly memory address `ptr`
-    /// (`len` bytes), put at (x, y). Words: ptr, len, width, height. Numbers: x, y.
+    /// (`len` bytes), put at (x, y); `opaque` (1 or 0): every pixel's alpha
+    /// is 255, so the image may go on the layer under the chart canvas.
+    /// Words: ptr, len, width, height, opaque. Numbers: x, y.
     pub const IMAGE: u32 = 16;
+}
+
+/// Whether every pixel of an RGBA buffer has alpha 255 (a map's cells are
+/// composited over the background, so they are; checked, not assumed).
+fn opaque(rgba: &[u8]) -> bool {
+    // 16 bytes (4 pixels) at a time, so the check vectorises.
+    let mut chunks = rgba.chunks_exact(16);
+    let whole = chunks
+        .by_ref()
+        .fold(255u8, |acc, c| acc & c[3] & c[7] & c[11] & c[15]);
+    whole == 255
+        && chunks.remainder().len() % 4 == 0
+        && chunks
+            .remainder()
+            .iter()
+            .skip(3)
+            .step_by(4)
+            .all(|a| *a == 255)
 }
 
 /// The ids of the strings the JavaScript side holds, by content.
@@ -337,6 +357,7 @@ impl Commands {
                     rgba.len() as u32,
                     *width,
                     *height,
+                    u32::from(opaque(rgba)),
                 ]);
                 self.numbers.extend([f64::from(at.0), f64::from(at.1)]);
             }
@@ -436,8 +457,8 @@ mod tests {
                     i += 1;
                 }
                 op::IMAGE => {
-                    out.push(format!("image {:?} {:?}", &w[i..i + 4], num(2)));
-                    i += 4;
+                    out.push(format!("image {:?} {:?}", &w[i..i + 5], num(2)));
+                    i += 5;
                 }
                 _ => panic!("unknown opcode {code}"),
             }
@@ -514,7 +535,7 @@ mod tests {
                 "6 0",
                 "text a [10.0, 20.0]",
                 "rotated b [10.0, 20.0, 1.5707963267948966]",
-                "image [77, 8, 1, 2] [3.0, 4.0]",
+                "image [77, 8, 1, 2, 0] [3.0, 4.0]",
             ]
         );
         // The strings went out once each, with their UTF-16 lengths.
@@ -535,6 +556,19 @@ mod tests {
         assert_eq!(c.first_new, 5);
         assert_eq!(c.new_lengths, ["χ² ≥ 𝑥".encode_utf16().count() as u32]);
         assert_eq!(c.new_lengths, [7]);
+    }
+
+    #[test]
+    fn images_are_opaque_only_when_every_alpha_is_255() {
+        assert!(opaque(&[]));
+        assert!(opaque(&[1, 2, 3, 255].repeat(9)));
+        for k in 0..9 {
+            let mut rgba = [1, 2, 3, 255].repeat(9);
+            rgba[4 * k + 3] = 254;
+            assert!(!opaque(&rgba), "pixel {k}");
+        }
+        // A colour byte of 0 does not matter.
+        assert!(opaque(&[0, 0, 0, 255].repeat(5)));
     }
 
     #[test]
