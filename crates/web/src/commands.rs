@@ -82,7 +82,7 @@ fn opaque(rgba: &[u8]) -> bool {
         .by_ref()
         .fold(255u8, |acc, c| acc & c[3] & c[7] & c[11] & c[15]);
     whole == 255
-        && chunks.remainder().len() % 4 == 0
+        && chunks.remainder().len().is_multiple_of(4)
         && chunks
             .remainder()
             .iter()
