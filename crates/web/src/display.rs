@@ -13,6 +13,12 @@
 use std::cell::RefCell;
 use std::collections::HashMap;
 
+use nivalis_charts::readout::ViewData;
+use nivalis_charts::{
+    draw_abundance_profiles, draw_c_to_o_map, draw_c_to_o_profile, draw_ice_map,
+    draw_temperature_profile, map_layout, rasterise_map_over, CellDrawing, ChartLayout, Theme,
+};
+use plotters::prelude::IntoDrawingArea;
 use plotters_backend::text_anchor::{HPos, VPos};
 use plotters_backend::{
     BackendColor, BackendCoord, BackendStyle, BackendTextStyle, DrawingBackend, DrawingErrorKind,
@@ -380,6 +386,59 @@ impl DrawingBackend for Recorder<'_> {
         });
         Ok(())
     }
+}
+
+/// Records what the chart of `data` draws on a canvas of `size` pixels (no
+/// canvas call except measuring text not measured before) and returns the
+/// display list with the chart's layout. A map's cells come first, as ONE image
+/// rasterised by the charts crate; its axes, lines and colour bar follow.
+/// `raster_ms` receives the milliseconds (by `now`, a clock in ms) spent
+/// rasterising a map's cells (0 for other views). Plain Rust: the page calls it
+/// through `canvas::record`, the native benchmark `benches/record.rs` directly.
+pub fn record_view(
+    size: (u32, u32),
+    data: &ViewData,
+    theme: &Theme,
+    pixels_per_point: f64,
+    measure: &dyn MeasureText,
+    now: &dyn Fn() -> f64,
+    raster_ms: &mut f64,
+) -> Result<(Vec<Op>, ChartLayout), String> {
+    *raster_ms = 0.0;
+    let ops = RefCell::new(Vec::new());
+    let recorder = Recorder::new(size, &ops, measure);
+    let area = recorder.into_drawing_area();
+    let layout = match data {
+        ViewData::Profile(d) => draw_c_to_o_profile(&area, d, theme, pixels_per_point),
+        ViewData::Temperature(d) => draw_temperature_profile(&area, d, theme, pixels_per_point),
+        ViewData::Abundances(d) => draw_abundance_profiles(&area, d, theme, pixels_per_point),
+        ViewData::IceMap(d) | ViewData::CToOMap(d) => {
+            let layout =
+                map_layout(&area, d, theme, pixels_per_point).map_err(|e| e.to_string())?;
+            let main = layout.main();
+            // Pixels above a column's top are composited over the background
+            // (putImageData copies alpha rather than blending).
+            let t0 = now();
+            let image = rasterise_map_over(d, theme, theme.background, main.width, main.height)
+                .map_err(|e| e.to_string())?;
+            *raster_ms = now() - t0;
+            ops.borrow_mut().push(Op::Image {
+                at: (main.left, main.top),
+                width: image.width,
+                height: image.height,
+                rgba: image.rgba,
+            });
+            if matches!(data, ViewData::CToOMap(_)) {
+                draw_c_to_o_map(&area, d, theme, pixels_per_point, CellDrawing::Omit)
+            } else {
+                draw_ice_map(&area, d, theme, pixels_per_point, CellDrawing::Omit)
+            }
+        }
+    }
+    .map_err(|e| e.to_string())?;
+    area.present().map_err(|e| e.to_string())?;
+    drop(area);
+    Ok((ops.into_inner(), layout))
 }
 
 /// Replaces a chart's leading filled rectangles by ONE image of the whole
