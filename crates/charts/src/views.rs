@@ -16,9 +16,7 @@ use crate::data::{AbundanceData, Chi2Data, ProfileData, TemperatureData};
 use crate::error::ChartError;
 use crate::layout::{AxisTransform, ChartLayout, Scale};
 use crate::map::{rasterise_map, MapData};
-use crate::paint::{
-    clip_polyline, defined_runs, ticks, AxisOptions, Frame, Orientation, Painter, Panel,
-};
+use crate::paint::{clip_polyline, ticks, AxisOptions, Frame, Orientation, Painter, Panel};
 use crate::theme::{LineDash, Marker, SeriesStyle, Theme};
 
 #[path = "evolution_views.rs"]
@@ -130,13 +128,15 @@ fn radius_axis(radius_au: &[f64]) -> AxisTransform {
     AxisTransform::new(a, b, Scale::Log10, "r [au]")
 }
 
-fn occupied_points(panel: &Panel, xs: &[f64], series: &[&[Option<f64>]]) -> Vec<(f64, f64)> {
+/// Every defined point [px] of the series, for placing the legend.
+fn occupied_points<DB: DrawingBackend>(
+    p: &Painter<DB>,
+    panel: &Panel,
+    xs: &[f64],
+    series: &[&[Option<f64>]],
+) -> Vec<(f64, f64)> {
     let mut out = Vec::new();
-    for ys in series {
-        for run in defined_runs(panel, xs, ys) {
-            out.extend(run);
-        }
-    }
+    p.extend_defined_points(panel, xs, series, &mut out);
     out
 }
 
@@ -385,6 +385,7 @@ pub fn draw_c_to_o_profile<DB: DrawingBackend>(
         p.series(&panel, &data.radius_au, ys, style)?;
     }
     occupied.extend(occupied_points(
+        &p,
         &panel,
         &data.radius_au,
         &[&data.c_to_o_gas, &data.c_to_o_ice, &data.c_to_o_solid],
@@ -550,6 +551,7 @@ pub fn draw_temperature_profile<DB: DrawingBackend>(
         },
     )?;
     let occupied = occupied_points(
+        &p,
         &tp,
         &data.radius_au,
         &[

@@ -165,12 +165,45 @@ pub struct Recorder<'a> {
     size: (u32, u32),
     ops: &'a RefCell<Vec<Op>>,
     measure: &'a dyn MeasureText,
+    /// The CSS fonts made so far by (size bits, family, style): a chart uses a
+    /// few fonts for many texts, and formatting the size each time cost more
+    /// than recording the text.
+    fonts: RefCell<Vec<(u64, String, String, String)>>,
 }
 
 impl<'a> Recorder<'a> {
     /// A recorder for a canvas of `size` pixels.
     pub fn new(size: (u32, u32), ops: &'a RefCell<Vec<Op>>, measure: &'a dyn MeasureText) -> Self {
-        Recorder { size, ops, measure }
+        Recorder {
+            size,
+            ops,
+            measure,
+            fonts: RefCell::new(Vec::new()),
+        }
+    }
+
+    /// [`css_font`] of `style`, made once per font and handed to `with`.
+    fn with_css_font<S: BackendTextStyle, R>(&self, style: &S, with: impl FnOnce(&str) -> R) -> R {
+        let size = style.size().to_bits();
+        let (family, font_style) = (style.family(), style.style());
+        let (family, font_style) = (family.as_str(), font_style.as_str());
+        let mut fonts = self.fonts.borrow_mut();
+        let at = match fonts
+            .iter()
+            .position(|f| f.0 == size && f.1 == family && f.2 == font_style)
+        {
+            Some(at) => at,
+            None => {
+                fonts.push((
+                    size,
+                    family.to_string(),
+                    font_style.to_string(),
+                    css_font(style),
+                ));
+                fonts.len() - 1
+            }
+        };
+        with(&fonts[at].3)
     }
 
     /// Appends an operation drawn before the chart's (a map's cells).
@@ -346,7 +379,7 @@ impl DrawingBackend for Recorder<'_> {
         let anchor = style.anchor();
         self.push(Op::Text {
             text: text.to_string(),
-            font: css_font(style),
+            font: self.with_css_font(style, str::to_string),
             colour: Colour::of(colour),
             align: match anchor.h_pos {
                 HPos::Left => "start",
@@ -369,7 +402,7 @@ impl DrawingBackend for Recorder<'_> {
         text: &str,
         style: &S,
     ) -> Result<(u32, u32), DrawingErrorKind<RecordError>> {
-        Ok(self.measure.measure(&css_font(style), style.size(), text))
+        Ok(self.with_css_font(style, |font| self.measure.measure(font, style.size(), text)))
     }
 
     fn blit_bitmap(&mut self, pos: BackendCoord, size: (u32, u32), src: &[u8]) -> Result2 {
@@ -405,7 +438,9 @@ pub fn record_view(
     raster_ms: &mut f64,
 ) -> Result<(Vec<Op>, ChartLayout), String> {
     *raster_ms = 0.0;
-    let ops = RefCell::new(Vec::new());
+    // Room for a profile's operations (a dashed series is one per dash), so the
+    // list is not moved as it grows.
+    let ops = RefCell::new(Vec::with_capacity(2048));
     let recorder = Recorder::new(size, &ops, measure);
     let area = recorder.into_drawing_area();
     let layout = match data {
