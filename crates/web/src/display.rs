@@ -15,8 +15,8 @@ use std::collections::HashMap;
 
 use nivalis_charts::readout::ViewData;
 use nivalis_charts::{
-    draw_abundance_profiles, draw_c_to_o_map, draw_c_to_o_profile, draw_ice_map,
-    draw_temperature_profile, map_layout, rasterise_map_over, CellDrawing, ChartLayout, Theme,
+    draw_abundance_profiles, draw_c_to_o_profile, draw_temperature_profile, prepare_map,
+    CellDrawing, ChartLayout, Theme,
 };
 use plotters::prelude::IntoDrawingArea;
 use plotters_backend::text_anchor::{HPos, VPos};
@@ -448,14 +448,16 @@ pub fn record_view(
         ViewData::Temperature(d) => draw_temperature_profile(&area, d, theme, pixels_per_point),
         ViewData::Abundances(d) => draw_abundance_profiles(&area, d, theme, pixels_per_point),
         ViewData::IceMap(d) | ViewData::CToOMap(d) => {
-            let layout =
-                map_layout(&area, d, theme, pixels_per_point).map_err(|e| e.to_string())?;
+            // As `map_layout`, `rasterise_map_over` at the main panel's size and
+            // `draw_ice_map` / `draw_c_to_o_map` with the cells omitted, with the
+            // data checked and the map laid out once.
+            let map = prepare_map(&area, d, theme, pixels_per_point).map_err(|e| e.to_string())?;
+            let layout = map.layout();
             let main = layout.main();
             // Pixels above a column's top are composited over the background
             // (putImageData copies alpha rather than blending).
             let t0 = now();
-            let image = rasterise_map_over(d, theme, theme.background, main.width, main.height)
-                .map_err(|e| e.to_string())?;
+            let image = map.raster_over(theme.background);
             *raster_ms = now() - t0;
             ops.borrow_mut().push(Op::Image {
                 at: (main.left, main.top),
@@ -463,11 +465,7 @@ pub fn record_view(
                 height: image.height,
                 rgba: image.rgba,
             });
-            if matches!(data, ViewData::CToOMap(_)) {
-                draw_c_to_o_map(&area, d, theme, pixels_per_point, CellDrawing::Omit)
-            } else {
-                draw_ice_map(&area, d, theme, pixels_per_point, CellDrawing::Omit)
-            }
+            map.draw(CellDrawing::Omit)
         }
     }
     .map_err(|e| e.to_string())?;
