@@ -52,20 +52,44 @@ pub fn marching_squares(
     if ni < 2 || nk < 2 || !level.is_finite() {
         return Vec::new();
     }
+    // Each node once: at or above the level, below it, or undefined. Most
+    // cells lie wholly on one side and are passed over on these alone.
+    const BELOW: u8 = 0;
+    const ABOVE: u8 = 1;
+    const UNDEFINED: u8 = 2;
+    let mut state = Vec::with_capacity(ni * nk);
+    for i in 0..ni {
+        for k in 0..nk {
+            let x = value(i, k);
+            state.push(if x.is_nan() {
+                UNDEFINED
+            } else if x >= level {
+                ABOVE
+            } else {
+                BELOW
+            });
+        }
+    }
     for i in 0..ni - 1 {
         for k in 0..nk - 1 {
-            let c = [(i, k), (i + 1, k), (i + 1, k + 1), (i, k + 1)];
-            let v = c.map(|(a, b)| value(a, b));
-            if v.iter().any(|x| x.is_nan()) {
+            let corners = [
+                state[i * nk + k],
+                state[(i + 1) * nk + k],
+                state[(i + 1) * nk + k + 1],
+                state[i * nk + k + 1],
+            ];
+            if corners.contains(&UNDEFINED)
+                || corners.iter().all(|&c| c == BELOW)
+                || corners.iter().all(|&c| c == ABOVE)
+            {
                 continue;
             }
+            let c = [(i, k), (i + 1, k), (i + 1, k + 1), (i, k + 1)];
+            let v = c.map(|(a, b)| value(a, b));
             let case = v
                 .iter()
                 .enumerate()
                 .fold(0usize, |acc, (n, &x)| acc | (usize::from(x >= level) << n));
-            if case == 0 || case == 15 {
-                continue;
-            }
             // Edge e joins corner e and corner (e + 1) % 4.
             let mut edge = |e: usize| -> EdgeKey {
                 let (a, b) = (c[e], c[(e + 1) % 4]);
