@@ -90,11 +90,13 @@ impl MapData {
     ) -> MapData {
         let st = &model.structure();
         let rows = st.samples_per_column();
+        // Each sample's height straight from the structure's flat array (the
+        // `height_cm` of `st.sample(j, s)`, without building the whole sample).
+        let heights = &st.samples().height_cm;
         let mut z_over_r = Vec::with_capacity(values.len());
-        for j in 0..st.radial_cells() {
-            for s in 0..rows {
-                z_over_r.push(st.sample(j, s).height_cm / st.radius_cm()[j]);
-            }
+        for (j, &r) in st.radius_cm().iter().enumerate() {
+            let column = &heights[st.index(j, 0)..st.index(j, 0) + rows];
+            z_over_r.extend(column.iter().map(|h| h / r));
         }
         let h_over_r: Vec<f64> = st
             .scale_height_cm()
@@ -132,15 +134,12 @@ impl MapData {
     pub fn ice_fraction(model: &Model, species: Species) -> MapData {
         let n = model.sample_count();
         let present = model.composition().is_present(species);
-        let values = (0..n)
-            .map(|k| {
-                if present {
-                    model.ice_fraction_at(species, k)
-                } else {
-                    f64::NAN
-                }
-            })
-            .collect();
+        // `model.ice_fraction_at(species, k)` for every k, as one slice.
+        let values = if present {
+            model.ices().ice_fraction(species)[..n].to_vec()
+        } else {
+            vec![f64::NAN; n]
+        };
         let label = format!("{} ice fraction", typeset_formula(species.key()));
         let mut map =
             MapData::from_model_values(model, values, label, (0.0, 1.0), ColourMap::Viridis);
