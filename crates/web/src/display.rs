@@ -665,6 +665,72 @@ mod tests {
         assert_eq!(t(&model), t(&edited));
     }
 
+    /// A map recorded by `record_view` (checked and laid out once through
+    /// `prepare_map`) gives the list the three separate calls gave: the layout
+    /// from `map_layout`, the cells from `rasterise_map_over` at the main
+    /// panel's size, then `draw_ice_map` / `draw_c_to_o_map` with the cells omitted.
+    #[test]
+    fn a_map_records_as_layout_raster_and_drawing_did() {
+        use nivalis_charts::{
+            draw_c_to_o_map, draw_ice_map, map_layout, rasterise_map_over, CellDrawing, MapData,
+        };
+        use nivalis_physics::Species;
+        let mut p = ModelParameters::defaults();
+        p.grid.radial_cells = 90;
+        p.grid.vertical_cells = 30;
+        let model = Model::run(&p).unwrap();
+        for theme in [Theme::light(), Theme::dark()] {
+            for (data, ice) in [
+                (MapData::ice_fraction(&model, Species::CO), true),
+                (MapData::gas_c_to_o(&model), false),
+            ] {
+                for (size, ppp) in [((900, 500), 1.6), ((333, 251), 1.0)] {
+                    let expected = {
+                        let ops = RefCell::new(Vec::new());
+                        let area = Recorder::new(size, &ops, &Fixed).into_drawing_area();
+                        let layout = map_layout(&area, &data, &theme, ppp).unwrap();
+                        let main = layout.main().clone();
+                        let image = rasterise_map_over(
+                            &data,
+                            &theme,
+                            theme.background,
+                            main.width,
+                            main.height,
+                        )
+                        .unwrap();
+                        ops.borrow_mut().push(Op::Image {
+                            at: (main.left, main.top),
+                            width: image.width,
+                            height: image.height,
+                            rgba: image.rgba,
+                        });
+                        let drawn = if ice {
+                            draw_ice_map(&area, &data, &theme, ppp, CellDrawing::Omit)
+                        } else {
+                            draw_c_to_o_map(&area, &data, &theme, ppp, CellDrawing::Omit)
+                        }
+                        .unwrap();
+                        assert_eq!(drawn, layout);
+                        drop(area);
+                        (ops.into_inner(), layout)
+                    };
+                    let view = if ice {
+                        ViewData::IceMap(data.clone())
+                    } else {
+                        ViewData::CToOMap(data.clone())
+                    };
+                    let mut raster_ms = -1.0;
+                    let got =
+                        record_view(size, &view, &theme, ppp, &Fixed, &|| 0.0, &mut raster_ms)
+                            .unwrap();
+                    assert_eq!(raster_ms, 0.0);
+                    assert!(matches!(got.0[0], Op::Image { .. }));
+                    assert_eq!(got, expected, "{} at {size:?}", data.value_label);
+                }
+            }
+        }
+    }
+
     #[test]
     fn dashed_series_collapse_into_few_runs() {
         let mut p = ModelParameters::defaults();
