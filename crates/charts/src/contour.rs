@@ -6,17 +6,38 @@
 //! contours stop at undefined regions instead of inventing values there.
 
 use std::collections::HashMap;
+use std::hash::{BuildHasherDefault, Hasher};
 
-/// An edge between two grid nodes, low node first.
-type EdgeKey = ((usize, usize), (usize, usize));
+/// An edge between two neighbouring grid nodes as one number that sorts as the
+/// pair (low node, high node) does: `2 (i nk + k)` for the edge from the low
+/// node (i, k) to (i, k + 1), one more for the edge to (i + 1, k).
+type EdgeKey = usize;
 
-fn key(a: (usize, usize), b: (usize, usize)) -> EdgeKey {
-    if a <= b {
-        (a, b)
-    } else {
-        (b, a)
+fn key(a: (usize, usize), b: (usize, usize), nk: usize) -> EdgeKey {
+    let (low, high) = if a <= b { (a, b) } else { (b, a) };
+    2 * (low.0 * nk + low.1) + usize::from(high.0 != low.0)
+}
+
+/// A hasher for edge keys (small distinct integers): one multiplication, not
+/// SipHash (the contour of a map looked up hundreds of edges per draw).
+#[derive(Default)]
+struct KeyHasher(u64);
+
+impl Hasher for KeyHasher {
+    fn finish(&self) -> u64 {
+        self.0
+    }
+    fn write(&mut self, bytes: &[u8]) {
+        for &b in bytes {
+            self.0 = (self.0.rotate_left(8) ^ u64::from(b)).wrapping_mul(0x9e37_79b9_7f4a_7c15);
+        }
+    }
+    fn write_usize(&mut self, n: usize) {
+        self.0 = (n as u64).wrapping_mul(0x9e37_79b9_7f4a_7c15);
     }
 }
+
+type KeyMap<V> = HashMap<EdgeKey, V, BuildHasherDefault<KeyHasher>>;
 
 /// The polylines where the field crosses `level`, in the grid's coordinates.
 pub fn marching_squares(
@@ -26,29 +47,53 @@ pub fn marching_squares(
     value: impl Fn(usize, usize) -> f64,
     level: f64,
 ) -> Vec<Vec<(f64, f64)>> {
-    let mut points: HashMap<EdgeKey, (f64, f64)> = HashMap::new();
+    let mut points: KeyMap<(f64, f64)> = KeyMap::default();
     let mut segments: Vec<(EdgeKey, EdgeKey)> = Vec::new();
     if ni < 2 || nk < 2 || !level.is_finite() {
         return Vec::new();
     }
+    // Each node once: at or above the level, below it, or undefined. Most
+    // cells lie wholly on one side and are passed over on these alone.
+    const BELOW: u8 = 0;
+    const ABOVE: u8 = 1;
+    const UNDEFINED: u8 = 2;
+    let mut state = Vec::with_capacity(ni * nk);
+    for i in 0..ni {
+        for k in 0..nk {
+            let x = value(i, k);
+            state.push(if x.is_nan() {
+                UNDEFINED
+            } else if x >= level {
+                ABOVE
+            } else {
+                BELOW
+            });
+        }
+    }
     for i in 0..ni - 1 {
         for k in 0..nk - 1 {
-            let c = [(i, k), (i + 1, k), (i + 1, k + 1), (i, k + 1)];
-            let v = c.map(|(a, b)| value(a, b));
-            if v.iter().any(|x| x.is_nan()) {
+            let corners = [
+                state[i * nk + k],
+                state[(i + 1) * nk + k],
+                state[(i + 1) * nk + k + 1],
+                state[i * nk + k + 1],
+            ];
+            if corners.contains(&UNDEFINED)
+                || corners.iter().all(|&c| c == BELOW)
+                || corners.iter().all(|&c| c == ABOVE)
+            {
                 continue;
             }
+            let c = [(i, k), (i + 1, k), (i + 1, k + 1), (i, k + 1)];
+            let v = c.map(|(a, b)| value(a, b));
             let case = v
                 .iter()
                 .enumerate()
                 .fold(0usize, |acc, (n, &x)| acc | (usize::from(x >= level) << n));
-            if case == 0 || case == 15 {
-                continue;
-            }
             // Edge e joins corner e and corner (e + 1) % 4.
             let mut edge = |e: usize| -> EdgeKey {
                 let (a, b) = (c[e], c[(e + 1) % 4]);
-                let k = key(a, b);
+                let k = key(a, b, nk);
                 points.entry(k).or_insert_with(|| {
                     let (va, vb) = (v[e], v[(e + 1) % 4]);
                     let t = ((level - va) / (vb - va)).clamp(0.0, 1.0);
@@ -93,11 +138,8 @@ pub fn marching_squares(
 
 /// Join segments sharing edge points into polylines: open chains first (from
 /// their loose ends), then closed loops.
-fn join(
-    segments: &[(EdgeKey, EdgeKey)],
-    points: &HashMap<EdgeKey, (f64, f64)>,
-) -> Vec<Vec<(f64, f64)>> {
-    let mut at: HashMap<EdgeKey, Vec<usize>> = HashMap::new();
+fn join(segments: &[(EdgeKey, EdgeKey)], points: &KeyMap<(f64, f64)>) -> Vec<Vec<(f64, f64)>> {
+    let mut at: KeyMap<Vec<usize>> = KeyMap::default();
     for (n, (a, b)) in segments.iter().enumerate() {
         at.entry(*a).or_default().push(n);
         at.entry(*b).or_default().push(n);
@@ -131,6 +173,34 @@ fn join(
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    /// Edge keys sort as the (low node, high node) pairs they stand for, so the
+    /// contour's lines start and join in the order they always did.
+    #[test]
+    fn edge_keys_sort_as_node_pairs() {
+        let (ni, nk) = (6, 5);
+        let mut edges = Vec::new();
+        for i in 0..ni {
+            for k in 0..nk {
+                if k + 1 < nk {
+                    edges.push(((i, k), (i, k + 1)));
+                }
+                if i + 1 < ni {
+                    edges.push(((i + 1, k), (i, k)));
+                }
+            }
+        }
+        let pair = |(a, b): ((usize, usize), (usize, usize))| if a <= b { (a, b) } else { (b, a) };
+        for &e in &edges {
+            for &f in &edges {
+                assert_eq!(
+                    key(e.0, e.1, nk).cmp(&key(f.0, f.1, nk)),
+                    pair(e).cmp(&pair(f)),
+                    "{e:?} {f:?}"
+                );
+            }
+        }
+    }
 
     #[test]
     fn circle_contour_is_closed_and_round() {

@@ -72,7 +72,7 @@ pub use uncertainty::{
 };
 pub use views::{
     draw_abundance_profiles, draw_c_to_o_map, draw_c_to_o_profile, draw_chi2_map, draw_ice_map,
-    draw_temperature_profile, map_layout, CellDrawing,
+    draw_temperature_profile, map_layout, prepare_map, CellDrawing, MapDrawing,
 };
 pub use views::{
     draw_evolved_c_to_o, draw_radius_time_map, draw_snowline_tracks, evolution_figure,

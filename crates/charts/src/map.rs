@@ -15,6 +15,7 @@ use nivalis_physics::{Model, SnowSurface, Species};
 use crate::colour::{ColourMap, Rgba};
 use crate::contour::marching_squares;
 use crate::error::{check_increasing_positive, check_length, ChartError};
+use crate::paint::round_to_byte_index;
 use crate::text::typeset_formula;
 use crate::theme::Theme;
 
@@ -89,11 +90,13 @@ impl MapData {
     ) -> MapData {
         let st = &model.structure();
         let rows = st.samples_per_column();
+        // Each sample's height straight from the structure's flat array (the
+        // `height_cm` of `st.sample(j, s)`, without building the whole sample).
+        let heights = &st.samples().height_cm;
         let mut z_over_r = Vec::with_capacity(values.len());
-        for j in 0..st.radial_cells() {
-            for s in 0..rows {
-                z_over_r.push(st.sample(j, s).height_cm / st.radius_cm()[j]);
-            }
+        for (j, &r) in st.radius_cm().iter().enumerate() {
+            let column = &heights[st.index(j, 0)..st.index(j, 0) + rows];
+            z_over_r.extend(column.iter().map(|h| h / r));
         }
         let h_over_r: Vec<f64> = st
             .scale_height_cm()
@@ -131,15 +134,12 @@ impl MapData {
     pub fn ice_fraction(model: &Model, species: Species) -> MapData {
         let n = model.sample_count();
         let present = model.composition().is_present(species);
-        let values = (0..n)
-            .map(|k| {
-                if present {
-                    model.ice_fraction_at(species, k)
-                } else {
-                    f64::NAN
-                }
-            })
-            .collect();
+        // `model.ice_fraction_at(species, k)` for every k, as one slice.
+        let values = if present {
+            model.ices().ice_fraction(species)[..n].to_vec()
+        } else {
+            vec![f64::NAN; n]
+        };
         let label = format!("{} ice fraction", typeset_formula(species.key()));
         let mut map =
             MapData::from_model_values(model, values, label, (0.0, 1.0), ColourMap::Viridis);
@@ -378,14 +378,7 @@ pub fn rasterise_map(
     height: u32,
 ) -> Result<RasterImage, ChartError> {
     data.validate()?;
-    let colours = data.cell_colours(theme.undefined);
-    Ok(raster_from_colours(
-        data,
-        &colours,
-        [0, 0, 0, 0],
-        width,
-        height,
-    ))
+    Ok(raster_checked(data, theme, None, width, height))
 }
 
 /// Like [`rasterise_map`], with every pixel composited over the opaque
@@ -400,54 +393,79 @@ pub fn rasterise_map_over(
     height: u32,
 ) -> Result<RasterImage, ChartError> {
     data.validate()?;
-    let over = |c: [u8; 4]| {
-        if c[3] == 255 {
-            return c;
-        }
-        let o = Rgba {
-            r: c[0],
-            g: c[1],
-            b: c[2],
-            a: c[3],
-        }
-        .over(background);
-        [o.r, o.g, o.b, 255]
-    };
-    let colours: Vec<[u8; 4]> = data
-        .cell_colours(theme.undefined)
-        .into_iter()
-        .map(over)
-        .collect();
-    Ok(raster_from_colours(
-        data,
-        &colours,
-        over([0, 0, 0, 0]),
-        width,
-        height,
-    ))
+    Ok(raster_checked(data, theme, Some(background), width, height))
 }
 
-/// The raster of cells of the given colours (one per sample), `empty` above a
-/// column's top. Each run of pixel columns that shows one model column is
-/// found once, and its pixels once, top to bottom (the row pointer only moves
-/// up, so the cost is O(width + runs x (height + rows))). The image is then
-/// written row by row, each row a copy of the one above with only the runs
-/// whose colour changes between the two rewritten: most rows differ from the
-/// one above in a few runs, so the per-pixel work is one bulk copy.
-fn raster_from_colours(
+/// [`rasterise_map`] (`over` `None`) or [`rasterise_map_over`] of data already
+/// validated. A cell's colour is looked up only when a pixel shows it, from a
+/// table of the colour map's 256 colours and the undefined grey (each
+/// composited over the background once, not once per cell): the colours
+/// `cell_colours` gives, composited as before.
+pub(crate) fn raster_checked(
     data: &MapData,
-    colours: &[[u8; 4]],
-    empty: [u8; 4],
+    theme: &Theme,
+    over: Option<Rgba>,
+    width: u32,
+    height: u32,
+) -> RasterImage {
+    let composite = |c: [u8; 4]| match over {
+        Some(background) if c[3] != 255 => {
+            let o = Rgba {
+                r: c[0],
+                g: c[1],
+                b: c[2],
+                a: c[3],
+            }
+            .over(background);
+            [o.r, o.g, o.b, 255]
+        }
+        _ => c,
+    };
+    let lut = data.colour_map.lookup_256();
+    let u = theme.undefined;
+    // Entries 0-255: the colour map; 256: undefined.
+    let mut table = [0u32; 257];
+    for (t, c) in table.iter_mut().zip(lut.iter()) {
+        *t = u32::from_ne_bytes(composite(*c));
+    }
+    table[256] = u32::from_ne_bytes(composite([u.r, u.g, u.b, u.a]));
+    let (a, b) = data.value_range;
+    let scale = 255.0 / (b - a);
+    let colour_of = |sample: usize| {
+        let v = data.values[sample];
+        table[if v.is_nan() {
+            256
+        } else {
+            round_to_byte_index((v - a) * scale)
+        }]
+    };
+    let empty = u32::from_ne_bytes(composite([0, 0, 0, 0]));
+    raster_cells(data, colour_of, empty, width, height)
+}
+
+/// The raster of cells of the given colours (`colour_of(sample)`, packed
+/// RGBA, asked once per shown cell and pixel-column run), `empty` above a
+/// column's top. Each run of pixel columns that shows one model column is
+/// found once, and its pixels once, bottom to top (the row pointer only moves
+/// up, so the cost is O(width + runs x (height + rows))), noting only the rows
+/// where its colour changes. The image is then written row by row, each row a
+/// copy of the one above with only the runs whose colour changes at that row
+/// rewritten: most rows differ from the one above in a few runs, so the
+/// per-pixel work is one bulk copy, and no pixel is written twice except
+/// where a colour changes.
+fn raster_cells(
+    data: &MapData,
+    colour_of: impl Fn(usize) -> u32,
+    empty: u32,
     width: u32,
     height: u32,
 ) -> RasterImage {
     let (w, h) = (width as usize, height as usize);
-    let mut rgba = vec![0u8; w * h * 4];
     if w == 0 || h == 0 {
         return RasterImage {
             width,
             height,
-            rgba,
+            rgba: Vec::new(),
         };
     }
     let edges = data.column_edges_log();
@@ -457,60 +475,99 @@ fn raster_from_colours(
     let z_of_row: Vec<f64> = (0..h)
         .map(|p| data.z_over_r_max * (1.0 - (p as f64 + 0.5) / h as f64))
         .collect();
-    let empty = u32::from_ne_bytes(empty);
-    let mut tops = Vec::with_capacity(data.rows);
-    // The distinct pixel columns (h pixels each, top row first, as packed RGBA)
-    // and the runs of x showing each: (first x, end x, start in `columns`).
-    let mut columns: Vec<u32> = Vec::new();
+    // The runs of x showing one model column: (first x, end x, model column).
     let mut runs: Vec<(usize, usize, usize)> = Vec::new();
-    let mut last_column = usize::MAX;
     for i in 0..w {
         let lx = lx0 + (i as f64 + 0.5) / w as f64 * (lx1 - lx0);
         // Edges are increasing: the column is the number of inner edges at or below lx.
         let j = inner_edges
             .partition_point(|&e| e <= lx)
             .min(data.radius_au.len() - 1);
-        if j == last_column {
-            if let Some(run) = runs.last_mut() {
-                run.1 = i + 1;
-            }
-            continue;
+        match runs.last_mut() {
+            Some(run) if run.2 == j => run.1 = i + 1,
+            _ => runs.push((i, i + 1, j)),
         }
+    }
+    // Per run: the colour of the top row, and every (row, run, colour) where
+    // the run's colour differs from the row above's.
+    let mut top_colour = vec![empty; runs.len()];
+    let mut changes: Vec<(u32, u32, u32)> = Vec::new();
+    let mut tops = Vec::with_capacity(data.rows);
+    for (r, &(_, _, j)) in runs.iter().enumerate() {
         let bottom = data.row_edges(j, &mut tops);
-        let start = columns.len();
-        columns.resize(start + h, empty);
-        let cells = &colours[j * data.rows..(j + 1) * data.rows];
-        let pixels = &mut columns[start..];
+        // Walking up from the bottom row in segments of rows of one colour. A
+        // pixel row with z/r `zr` shows cell k, the first cell from the one
+        // below's with `zr <= tops[k]` (k only moves up, as z/r rises), if
+        // k < rows and `zr >= bottom`; otherwise nothing (`empty`). Rows
+        // [q, p) are left to walk; `below` is the segment just walked
+        // (its top row and colour).
         let mut k = 0;
-        for (pixel, &zr) in pixels.iter_mut().zip(&z_of_row).rev() {
+        let mut p = h;
+        let mut below: Option<(usize, u32)> = None;
+        while p > 0 {
+            let zr = z_of_row[p - 1];
             while k < data.rows && zr > tops[k] {
                 k += 1;
             }
-            if k < data.rows && zr >= bottom {
-                *pixel = u32::from_ne_bytes(cells[k]);
+            // The segment's colour, and how far up it reaches: while z/r stays
+            // at or under the cell's top (in a cell), under the column's
+            // bottom (below it), or to the top row (above the column's cells).
+            let mut q = p - 1;
+            let c = if k >= data.rows {
+                q = 0;
+                empty
+            } else if zr >= bottom {
+                let top = tops[k];
+                while q > 0 && z_of_row[q - 1] <= top {
+                    q -= 1;
+                }
+                colour_of(j * data.rows + k)
+            } else {
+                while q > 0 && z_of_row[q - 1] < bottom {
+                    q -= 1;
+                }
+                empty
+            };
+            if let Some((row, colour)) = below {
+                if colour != c {
+                    changes.push((row as u32, r as u32, colour));
+                }
             }
+            below = Some((q, c));
+            p = q;
         }
-        runs.push((i, i + 1, start));
-        last_column = j;
+        top_colour[r] = below.map_or(empty, |(_, c)| c);
     }
-    let fill = |px: &mut [u8], c: u32| {
-        let bytes = c.to_ne_bytes();
-        for q in px.chunks_exact_mut(4) {
-            q.copy_from_slice(&bytes);
-        }
-    };
+    // The changes by row (a counting sort: rows are few, changes many).
+    let mut first = vec![0usize; h + 1];
+    for &(row, _, _) in &changes {
+        first[row as usize + 1] += 1;
+    }
+    for p in 0..h {
+        first[p + 1] += first[p];
+    }
+    let mut by_row = vec![(0u32, 0u32); changes.len()];
+    let mut next = first.clone();
+    for &(row, run, colour) in &changes {
+        by_row[next[row as usize]] = (run, colour);
+        next[row as usize] += 1;
+    }
     let stride = w * 4;
-    for &(x0, x1, start) in &runs {
-        fill(&mut rgba[x0 * 4..x1 * 4], columns[start]);
+    let mut rgba = Vec::with_capacity(stride * h);
+    for (&(x0, x1, _), &c) in runs.iter().zip(&top_colour) {
+        let bytes = c.to_ne_bytes();
+        for _ in x0..x1 {
+            rgba.extend_from_slice(&bytes);
+        }
     }
     for p in 1..h {
-        let (above, rest) = rgba.split_at_mut(p * stride);
-        let row = &mut rest[..stride];
-        row.copy_from_slice(&above[(p - 1) * stride..]);
-        for &(x0, x1, start) in &runs {
-            let c = columns[start + p];
-            if c != columns[start + p - 1] {
-                fill(&mut row[x0 * 4..x1 * 4], c);
+        rgba.extend_from_within((p - 1) * stride..p * stride);
+        let row = &mut rgba[p * stride..];
+        for &(run, colour) in &by_row[first[p]..first[p + 1]] {
+            let (x0, x1, _) = runs[run as usize];
+            let bytes = colour.to_ne_bytes();
+            for q in row[x0 * 4..x1 * 4].chunks_exact_mut(4) {
+                q.copy_from_slice(&bytes);
             }
         }
     }
@@ -524,6 +581,23 @@ fn raster_from_colours(
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    /// The raster of cells of the given colours (one per sample).
+    fn raster_from_colours(
+        data: &MapData,
+        colours: &[[u8; 4]],
+        empty: [u8; 4],
+        width: u32,
+        height: u32,
+    ) -> RasterImage {
+        raster_cells(
+            data,
+            |i| u32::from_ne_bytes(colours[i]),
+            u32::from_ne_bytes(empty),
+            width,
+            height,
+        )
+    }
 
     /// The map's values come from the core's bulk query (`Model::gas_c_to_o_samples`):
     /// bit for bit what the per-sample path `ratios(&phases_at(k))` gives, NaN where undefined,
@@ -608,6 +682,14 @@ mod tests {
                 assert_eq!(
                     fast.rgba,
                     reference_raster(&data, &colours, [1, 2, 3, 4], w, h),
+                    "{} at {w} x {h}",
+                    data.value_label
+                );
+                // The public raster (colours looked up per shown cell from the
+                // colour table) equals the reference over every sample's colour.
+                assert_eq!(
+                    rasterise_map(&data, &theme, w, h).unwrap().rgba,
+                    reference_raster(&data, &colours, [0, 0, 0, 0], w, h),
                     "{} at {w} x {h}",
                     data.value_label
                 );

@@ -4,12 +4,15 @@
 //! are pixels relative to the area, as `f64`; they are rounded only when handed
 //! to plotters, whose elements take integer pixels.
 
+use std::cell::RefCell;
+
 use crate::text::superscript;
 use plotters::coord::Shift;
-use plotters::element::{Circle, PathElement, Polygon, Rectangle, Text};
+use plotters::element::{Circle, Drawable, PointCollection, Polygon, Rectangle, Text};
 use plotters::prelude::{DrawingArea, DrawingBackend};
 use plotters::style::text_anchor::{HPos, Pos, VPos};
 use plotters::style::{FontDesc, FontTransform, ShapeStyle, TextStyle};
+use plotters_backend::{BackendCoord, DrawingErrorKind};
 
 use crate::colour::Rgba;
 use crate::error::ChartError;
@@ -94,6 +97,98 @@ pub(crate) struct Painter<'a, DB: DrawingBackend> {
     pub area: &'a DrawingArea<DB, Shift>,
     pub theme: &'a Theme,
     pub ppp: f64,
+    /// Buffers reused by every line drawn with this painter (a chart draws
+    /// thousands of dashes and segments; each used to allocate its own vectors).
+    scratch: Scratch,
+    /// Text styles made so far, by (size, colour, anchor, orientation): making one
+    /// looks the font up, and a chart asks for the same few styles many times.
+    text_styles: RefCell<Vec<(TextKey, TextStyle<'a>)>>,
+}
+
+/// The key of a cached text style: size [pt] bits, colour, anchor and orientation.
+type TextKey = (u64, Rgba, u8, u8, Orientation);
+
+/// Scratch buffers of a [`Painter`], one per nesting level of the line drawing
+/// (series -> runs -> clipped pieces -> dashes -> integer pixels).
+#[derive(Default)]
+struct Scratch {
+    /// A run of defined points of a series [px].
+    run: RefCell<Vec<(f64, f64)>>,
+    /// A clipped piece of a run [px].
+    clipped: RefCell<Vec<(f64, f64)>>,
+    /// A dash of a dashed line [px].
+    dash: RefCell<Vec<(f64, f64)>>,
+    /// A path rounded to integer pixels.
+    ints: RefCell<Vec<(i32, i32)>>,
+    /// The x pixels of the last radii a series was drawn at ([`XPixels`]).
+    x_pixels: RefCell<XPixels>,
+}
+
+/// The x pixel of each x of a series on a panel, kept for the next series
+/// drawn at the same x values on a panel with the same x axis and frame (every
+/// series of a profile shares the radii): the same `Panel::px_x` values,
+/// computed once instead of one `log10` per point per series.
+#[derive(Default)]
+struct XPixels {
+    /// The x values, axis (min, max, scale) and frame (left, right) they were computed for.
+    xs: Vec<f64>,
+    axis: Option<(u64, u64, Scale)>,
+    frame: (u64, u64),
+    /// `panel.px_x(x)` for each x.
+    pixels: Vec<Option<f64>>,
+}
+
+impl XPixels {
+    /// `panel.px_x(x)` for every x of `xs`, from the kept values when they were
+    /// computed for the same x values, axis and frame (compared bit for bit).
+    fn of(&mut self, panel: &Panel, xs: &[f64]) -> &[Option<f64>] {
+        let axis = Some((panel.x.min.to_bits(), panel.x.max.to_bits(), panel.x.scale));
+        let frame = (panel.frame.left.to_bits(), panel.frame.right.to_bits());
+        let same = self.axis == axis
+            && self.frame == frame
+            && self.xs.len() == xs.len()
+            && self
+                .xs
+                .iter()
+                .zip(xs)
+                .all(|(a, b)| a.to_bits() == b.to_bits());
+        if !same {
+            self.xs.clear();
+            self.xs.extend_from_slice(xs);
+            self.axis = axis;
+            self.frame = frame;
+            self.pixels.clear();
+            self.pixels.extend(xs.iter().map(|&x| panel.px_x(x)));
+        }
+        &self.pixels
+    }
+}
+
+/// A path of integer pixels borrowed from the painter's buffer: drawn exactly
+/// as plotters' `PathElement` draws (one `draw_path` of the translated points),
+/// without moving the points into a vector of its own.
+struct BorrowedPath<'p> {
+    points: &'p [(i32, i32)],
+    style: ShapeStyle,
+}
+
+impl<'b, 'p> PointCollection<'b, (i32, i32)> for &'b BorrowedPath<'p> {
+    type Point = &'b (i32, i32);
+    type IntoIter = &'b [(i32, i32)];
+    fn point_iter(self) -> &'b [(i32, i32)] {
+        self.points
+    }
+}
+
+impl<DB: DrawingBackend> Drawable<DB> for BorrowedPath<'_> {
+    fn draw<I: Iterator<Item = BackendCoord>>(
+        &self,
+        points: I,
+        backend: &mut DB,
+        _: (u32, u32),
+    ) -> Result<(), DrawingErrorKind<DB::ErrorType>> {
+        backend.draw_path(points, &self.style)
+    }
 }
 
 fn drawing_error<E: std::error::Error + Send + Sync>(
@@ -105,13 +200,59 @@ fn drawing_error<E: std::error::Error + Send + Sync>(
 }
 
 fn pt(p: (f64, f64)) -> (i32, i32) {
-    (p.0.round() as i32, p.1.round() as i32)
+    (round_to_i32(p.0), round_to_i32(p.1))
+}
+
+/// `x.round() as i32` (half away from zero, saturating, NaN to 0), without
+/// `round`'s library call (no instruction rounds half away from zero on
+/// x86-64 or in WebAssembly): below 2^52 in magnitude, truncation and the
+/// difference to it are exact, so comparing that difference with 1/2 decides
+/// as `round` does; larger values (and infinities, NaN) are integers already.
+pub(crate) fn round_to_i32(x: f64) -> i32 {
+    const EXACT: f64 = 4_503_599_627_370_496.0; // 2^52
+    if !(x.abs() < EXACT) {
+        return x as i32;
+    }
+    let t = x as i64;
+    let f = x - t as f64;
+    let r = if f >= 0.5 {
+        t + 1
+    } else if f <= -0.5 {
+        t - 1
+    } else {
+        t
+    };
+    r.clamp(i64::from(i32::MIN), i64::from(i32::MAX)) as i32
+}
+
+/// `x.round().clamp(0.0, 255.0) as usize` (a colour-table index), without
+/// `round`'s library call: below 255 a positive `x` truncates exactly and its
+/// fraction decides the rounding as `round` does; NaN gives 0 as before.
+pub(crate) fn round_to_byte_index(x: f64) -> usize {
+    if x >= 255.0 {
+        255
+    } else if x > 0.0 {
+        let i = x as usize;
+        if x - i as f64 >= 0.5 {
+            i + 1
+        } else {
+            i
+        }
+    } else {
+        0
+    }
 }
 
 impl<'a, DB: DrawingBackend> Painter<'a, DB> {
     pub fn new(area: &'a DrawingArea<DB, Shift>, theme: &'a Theme, ppp: f64) -> Self {
         crate::render::ensure_font(theme);
-        Painter { area, theme, ppp }
+        Painter {
+            area,
+            theme,
+            ppp,
+            scratch: Scratch::default(),
+            text_styles: RefCell::new(Vec::new()),
+        }
     }
 
     pub fn size(&self) -> (f64, f64) {
@@ -147,17 +288,50 @@ impl<'a, DB: DrawingBackend> Painter<'a, DB> {
         font.color(&colour.to_plotters()).pos(pos)
     }
 
+    /// [`Self::text_style`] with the anchor `anchor`, made once per painter and
+    /// handed to `with` (the same style every time, so the same text).
+    fn with_text_style<R>(
+        &self,
+        size_pt: f64,
+        colour: Rgba,
+        anchor: (HPos, VPos),
+        orientation: Orientation,
+        with: impl FnOnce(&TextStyle<'a>) -> R,
+    ) -> R {
+        let h = match anchor.0 {
+            HPos::Left => 0,
+            HPos::Right => 1,
+            HPos::Center => 2,
+        };
+        let v = match anchor.1 {
+            VPos::Top => 0,
+            VPos::Center => 1,
+            VPos::Bottom => 2,
+        };
+        let key: TextKey = (size_pt.to_bits(), colour, h, v, orientation);
+        let mut styles = self.text_styles.borrow_mut();
+        let at = match styles.iter().position(|(k, _)| *k == key) {
+            Some(at) => at,
+            None => {
+                let style =
+                    self.text_style(size_pt, colour, Pos::new(anchor.0, anchor.1), orientation);
+                styles.push((key, style));
+                styles.len() - 1
+            }
+        };
+        with(&styles[at].1)
+    }
+
     /// Width and height [px] of a horizontal text.
     pub fn text_size(&self, text: &str, size_pt: f64) -> Result<(f64, f64), ChartError> {
-        let style = self.text_style(
-            size_pt,
-            self.theme.foreground,
-            Pos::new(HPos::Left, VPos::Top),
-            Orientation::Horizontal,
-        );
         let (w, h) = self
-            .area
-            .estimate_text_size(text, &style)
+            .with_text_style(
+                size_pt,
+                self.theme.foreground,
+                (HPos::Left, VPos::Top),
+                Orientation::Horizontal,
+                |style| self.area.estimate_text_size(text, style),
+            )
             .map_err(drawing_error)?;
         // Some font back ends report a zero height; the em size is the floor.
         Ok((w as f64, (h as f64).max(size_pt * self.ppp)))
@@ -175,9 +349,9 @@ impl<'a, DB: DrawingBackend> Painter<'a, DB> {
         if text.is_empty() {
             return Ok(());
         }
-        let style = self.text_style(size_pt, colour, Pos::new(anchor.0, anchor.1), orientation);
+        let style = self.with_text_style(size_pt, colour, anchor, orientation, Clone::clone);
         self.area
-            .draw(&Text::new(text.to_string(), pt(at), style))
+            .draw(&Text::new(text, pt(at), style))
             .map_err(drawing_error)
     }
 
@@ -218,24 +392,121 @@ impl<'a, DB: DrawingBackend> Painter<'a, DB> {
             None => self.draw_path(points, style),
             Some(pattern) => {
                 let unit = (width_pt * self.ppp).max(1.0);
-                for piece in dashes(points, &pattern.map(|p| p * unit)) {
-                    self.draw_path(&piece, style)?;
-                }
-                Ok(())
+                let mut dash = self.scratch.dash.borrow_mut();
+                for_each_dash(points, &pattern.map(|p| p * unit), &mut dash, |piece| {
+                    self.draw_path(piece, style)
+                })
             }
         }
     }
 
+    /// A path through `points` rounded to integer pixels, repeated pixels
+    /// dropped, drawn with one `draw_path` (through the painter's buffer).
     fn draw_path(&self, points: &[(f64, f64)], style: ShapeStyle) -> Result<(), ChartError> {
-        let mut ints: Vec<(i32, i32)> = points.iter().map(|&p| pt(p)).collect();
+        let mut ints = self.scratch.ints.borrow_mut();
+        ints.clear();
+        ints.extend(points.iter().map(|&p| pt(p)));
         ints.dedup();
         if ints.len() == 1 {
             // A dot shorter than a pixel still shows as one pixel-long dash.
-            ints.push((ints[0].0 + 1, ints[0].1));
+            let only = ints[0];
+            ints.push((only.0 + 1, only.1));
         }
         self.area
-            .draw(&PathElement::new(ints, style))
+            .draw(&BorrowedPath {
+                points: &ints,
+                style,
+            })
             .map_err(drawing_error)
+    }
+
+    /// Each defined point of a series on `panel` [px], in order (undefined
+    /// points: `None`, NaN, non-positive on log axes); `run_end` after the last
+    /// point of each run of consecutive defined points. The x pixels come from
+    /// the painter's [`XPixels`].
+    fn defined_points<E>(
+        &self,
+        panel: &Panel,
+        xs: &[f64],
+        ys: &[Option<f64>],
+        mut point: impl FnMut((f64, f64)) -> Result<(), E>,
+        mut run_end: impl FnMut() -> Result<(), E>,
+    ) -> Result<(), E> {
+        let mut cache = self.scratch.x_pixels.borrow_mut();
+        let x_pixels = cache.of(panel, xs);
+        let mut open = false;
+        for (x, y) in x_pixels.iter().zip(ys) {
+            // As `panel.px(x, y)`: both coordinates defined.
+            match x.zip(y.and_then(|y| panel.px_y(y))) {
+                Some(p) => {
+                    point(p)?;
+                    open = true;
+                }
+                None => {
+                    if open {
+                        run_end()?;
+                        open = false;
+                    }
+                }
+            }
+        }
+        if open {
+            run_end()?;
+        }
+        Ok(())
+    }
+
+    /// The pieces of line a series on `panel` draws [px], in order: each run of
+    /// defined points clipped to the frame (`defined_runs`, then
+    /// `clip_polyline` of each run), through the painter's buffers.
+    fn series_pieces<E>(
+        &self,
+        panel: &Panel,
+        xs: &[f64],
+        ys: &[Option<f64>],
+        mut piece: impl FnMut(&[(f64, f64)]) -> Result<(), E>,
+    ) -> Result<(), E> {
+        let run = RefCell::new(self.scratch.run.borrow_mut());
+        let mut clipped = self.scratch.clipped.borrow_mut();
+        run.borrow_mut().clear();
+        self.defined_points(
+            panel,
+            xs,
+            ys,
+            |p| {
+                run.borrow_mut().push(p);
+                Ok(())
+            },
+            || {
+                let mut run = run.borrow_mut();
+                let drawn = for_each_clipped(&run, &panel.frame, &mut clipped, &mut piece);
+                run.clear();
+                drawn
+            },
+        )
+    }
+
+    /// Every defined point of each series on `panel` [px] (`defined_runs`
+    /// flattened), appended to `out`.
+    pub fn extend_defined_points(
+        &self,
+        panel: &Panel,
+        xs: &[f64],
+        series: &[&[Option<f64>]],
+        out: &mut Vec<(f64, f64)>,
+    ) {
+        for ys in series {
+            let _ = self.defined_points::<()>(
+                panel,
+                xs,
+                ys,
+                |p| {
+                    out.push(p);
+                    Ok(())
+                },
+                || Ok(()),
+            );
+        }
     }
 
     /// A data series on a panel: undefined points (`None`, NaN, non-positive on
@@ -248,12 +519,9 @@ impl<'a, DB: DrawingBackend> Painter<'a, DB> {
         style: &SeriesStyle,
     ) -> Result<(), ChartError> {
         let width = self.theme.line_width_pt * style.width_scale;
-        let runs = defined_runs(panel, xs, ys);
-        for run in &runs {
-            for piece in clip_polyline(run, &panel.frame) {
-                self.polyline(&piece, style.colour, width, style.dash)?;
-            }
-        }
+        self.series_pieces(panel, xs, ys, |piece| {
+            self.polyline(piece, style.colour, width, style.dash)
+        })?;
         if style.marker != Marker::None {
             // About ten markers along the whole radial range, whatever the grid resolution.
             let every = (xs.len() / 10).max(1);
@@ -346,7 +614,9 @@ fn inside(frame: &Frame, p: (f64, f64)) -> bool {
         && p.1 <= frame.bottom + 0.5
 }
 
-/// Runs of consecutive defined points, in pixels.
+/// Runs of consecutive defined points, in pixels (the reference the painter's
+/// streaming `defined_points` is tested against).
+#[cfg(test)]
 pub(crate) fn defined_runs(panel: &Panel, xs: &[f64], ys: &[Option<f64>]) -> Vec<Vec<(f64, f64)>> {
     let mut runs = Vec::new();
     let mut current: Vec<(f64, f64)> = Vec::new();
@@ -368,10 +638,25 @@ pub(crate) fn defined_runs(panel: &Panel, xs: &[f64], ys: &[Option<f64>]) -> Vec
 
 /// Clip a polyline to a rectangle (Liang-Barsky per segment); pieces outside are dropped.
 pub(crate) fn clip_polyline(points: &[(f64, f64)], frame: &Frame) -> Vec<Vec<(f64, f64)>> {
-    let mut out: Vec<Vec<(f64, f64)>> = Vec::new();
-    let mut current: Vec<(f64, f64)> = Vec::new();
+    let mut out = Vec::new();
+    let _ = for_each_clipped::<()>(points, frame, &mut Vec::new(), |piece| {
+        out.push(piece.to_vec());
+        Ok(())
+    });
+    out
+}
+
+/// [`clip_polyline`] without collecting: each piece is built in `current` (a
+/// reused buffer) and handed to `piece` in order.
+pub(crate) fn for_each_clipped<E>(
+    points: &[(f64, f64)],
+    frame: &Frame,
+    current: &mut Vec<(f64, f64)>,
+    mut piece: impl FnMut(&[(f64, f64)]) -> Result<(), E>,
+) -> Result<(), E> {
+    current.clear();
     if points.len() == 1 && inside(frame, points[0]) {
-        return vec![points.to_vec()];
+        return piece(points);
     }
     for w in points.windows(2) {
         match clip_segment(w[0], w[1], frame) {
@@ -381,7 +666,7 @@ pub(crate) fn clip_polyline(points: &[(f64, f64)], frame: &Frame) -> Vec<Vec<(f6
                     .is_some_and(|&l| (l.0 - a.0).abs() < 1e-9 && (l.1 - a.1).abs() < 1e-9);
                 if !continues {
                     if current.len() > 1 {
-                        out.push(std::mem::take(&mut current));
+                        piece(current)?;
                     }
                     current.clear();
                     current.push(a);
@@ -390,16 +675,16 @@ pub(crate) fn clip_polyline(points: &[(f64, f64)], frame: &Frame) -> Vec<Vec<(f6
             }
             None => {
                 if current.len() > 1 {
-                    out.push(std::mem::take(&mut current));
+                    piece(current)?;
                 }
                 current.clear();
             }
         }
     }
     if current.len() > 1 {
-        out.push(current);
+        piece(current)?;
     }
-    out
+    Ok(())
 }
 
 fn clip_segment(a: (f64, f64), b: (f64, f64), f: &Frame) -> Option<((f64, f64), (f64, f64))> {
@@ -436,12 +721,29 @@ fn clip_segment(a: (f64, f64), b: (f64, f64), f: &Frame) -> Option<((f64, f64), 
 
 /// Split a polyline into the "on" pieces of a dash pattern (lengths in px),
 /// the pattern running on across vertices so dashes turn corners.
+#[cfg(test)]
 pub(crate) fn dashes(points: &[(f64, f64)], pattern: &[f64; 4]) -> Vec<Vec<(f64, f64)>> {
     let mut out = Vec::new();
+    let _ = for_each_dash::<()>(points, pattern, &mut Vec::new(), |piece| {
+        out.push(piece.to_vec());
+        Ok(())
+    });
+    out
+}
+
+/// [`dashes`] without collecting: each dash is built in `current` (a reused
+/// buffer) and handed to `dash` in order. `points` is not empty.
+pub(crate) fn for_each_dash<E>(
+    points: &[(f64, f64)],
+    pattern: &[f64; 4],
+    current: &mut Vec<(f64, f64)>,
+    mut dash: impl FnMut(&[(f64, f64)]) -> Result<(), E>,
+) -> Result<(), E> {
     let mut index = 0usize;
     let mut left = pattern[0];
     let mut on = true;
-    let mut current: Vec<(f64, f64)> = vec![points[0]];
+    current.clear();
+    current.push(points[0]);
     for w in points.windows(2) {
         let (a, b) = (w[0], w[1]);
         let length = ((b.0 - a.0).powi(2) + (b.1 - a.1).powi(2)).sqrt();
@@ -454,9 +756,11 @@ pub(crate) fn dashes(points: &[(f64, f64)], pattern: &[f64; 4]) -> Vec<Vec<(f64,
             );
             if on {
                 current.push(p);
-                out.push(std::mem::take(&mut current));
+                dash(current)?;
+                current.clear();
             } else {
-                current = vec![p];
+                current.clear();
+                current.push(p);
             }
             on = !on;
             index = (index + 1) % 4;
@@ -468,9 +772,9 @@ pub(crate) fn dashes(points: &[(f64, f64)], pattern: &[f64; 4]) -> Vec<Vec<(f64,
         }
     }
     if on && current.len() > 1 {
-        out.push(current);
+        dash(current)?;
     }
-    out
+    Ok(())
 }
 
 /// Tick positions of an axis: labelled majors and unlabelled minors.
@@ -971,6 +1275,246 @@ mod tests {
         let pieces = clip_polyline(&[(-5.0, 5.0), (5.0, 5.0), (15.0, 5.0)], &f);
         assert_eq!(pieces, vec![vec![(0.0, 5.0), (5.0, 5.0), (10.0, 5.0)]]);
         assert!(clip_polyline(&[(-5.0, -5.0), (-1.0, -1.0)], &f).is_empty());
+    }
+
+    /// The collecting versions as first written (before the painter's buffers):
+    /// the references the streaming ones must equal.
+    fn reference_clip(points: &[(f64, f64)], frame: &Frame) -> Vec<Vec<(f64, f64)>> {
+        let mut out: Vec<Vec<(f64, f64)>> = Vec::new();
+        let mut current: Vec<(f64, f64)> = Vec::new();
+        if points.len() == 1 && inside(frame, points[0]) {
+            return vec![points.to_vec()];
+        }
+        for w in points.windows(2) {
+            match clip_segment(w[0], w[1], frame) {
+                Some((a, b)) => {
+                    let continues = current
+                        .last()
+                        .is_some_and(|&l| (l.0 - a.0).abs() < 1e-9 && (l.1 - a.1).abs() < 1e-9);
+                    if !continues {
+                        if current.len() > 1 {
+                            out.push(std::mem::take(&mut current));
+                        }
+                        current.clear();
+                        current.push(a);
+                    }
+                    current.push(b);
+                }
+                None => {
+                    if current.len() > 1 {
+                        out.push(std::mem::take(&mut current));
+                    }
+                    current.clear();
+                }
+            }
+        }
+        if current.len() > 1 {
+            out.push(current);
+        }
+        out
+    }
+
+    fn reference_dashes(points: &[(f64, f64)], pattern: &[f64; 4]) -> Vec<Vec<(f64, f64)>> {
+        let mut out = Vec::new();
+        let mut index = 0usize;
+        let mut left = pattern[0];
+        let mut on = true;
+        let mut current: Vec<(f64, f64)> = vec![points[0]];
+        for w in points.windows(2) {
+            let (a, b) = (w[0], w[1]);
+            let length = ((b.0 - a.0).powi(2) + (b.1 - a.1).powi(2)).sqrt();
+            let mut s = 0.0;
+            while length - s > left {
+                s += left;
+                let p = (
+                    a.0 + (b.0 - a.0) * s / length,
+                    a.1 + (b.1 - a.1) * s / length,
+                );
+                if on {
+                    current.push(p);
+                    out.push(std::mem::take(&mut current));
+                } else {
+                    current = vec![p];
+                }
+                on = !on;
+                index = (index + 1) % 4;
+                left = pattern[index];
+            }
+            left -= length - s;
+            if on {
+                current.push(b);
+            }
+        }
+        if on && current.len() > 1 {
+            out.push(current);
+        }
+        out
+    }
+
+    /// A wiggly polyline of `n` points partly outside the 10..290 x 10..190 frame.
+    fn wiggle(n: usize, phase: f64) -> Vec<(f64, f64)> {
+        (0..n)
+            .map(|i| {
+                let t = i as f64 / n as f64;
+                (
+                    -20.0 + 340.0 * t,
+                    100.0 + 120.0 * (17.0 * t + phase).sin() * (3.0 * t).cos(),
+                )
+            })
+            .collect()
+    }
+
+    fn frame() -> Frame {
+        Frame {
+            left: 10.0,
+            top: 10.0,
+            right: 290.0,
+            bottom: 190.0,
+        }
+    }
+
+    #[test]
+    fn streamed_dashes_and_clipping_equal_the_collected_ones() {
+        let mut buffer = Vec::new();
+        for (n, phase) in [(1, 0.0), (2, 0.3), (7, 1.0), (60, 2.0), (2500, 0.5)] {
+            let points = wiggle(n, phase);
+            let mut clipped = Vec::new();
+            for_each_clipped::<()>(&points, &frame(), &mut buffer, |p| {
+                clipped.push(p.to_vec());
+                Ok(())
+            })
+            .unwrap();
+            assert_eq!(clipped, reference_clip(&points, &frame()), "{n} points");
+            for pattern in [
+                [5.0, 5.0, 5.0, 5.0],
+                [0.8, 2.4, 0.8, 2.4],
+                [9.6, 3.2, 1.6, 3.2],
+            ] {
+                let mut pieces = Vec::new();
+                for_each_dash::<()>(&points, &pattern, &mut buffer, |p| {
+                    pieces.push(p.to_vec());
+                    Ok(())
+                })
+                .unwrap();
+                assert_eq!(pieces, reference_dashes(&points, &pattern), "{n} points");
+            }
+        }
+    }
+
+    /// The painter's series pieces (its kept x pixels, streamed runs and
+    /// clipping) equal `defined_runs` then the reference clipping, for series
+    /// drawn one after another on panels with other axes, frames and radii
+    /// (each change must drop the kept x pixels).
+    #[test]
+    fn series_pieces_equal_runs_then_clipping() {
+        use plotters::prelude::{IntoDrawingArea, SVGBackend};
+        let mut svg = String::new();
+        let area = SVGBackend::with_string(&mut svg, (300, 200)).into_drawing_area();
+        let theme = Theme::light();
+        let painter = Painter::new(&area, &theme, 1.6);
+        let radii: Vec<f64> = (0..200).map(|i| 0.1 * 1.04f64.powi(i)).collect();
+        let other_radii: Vec<f64> = radii.iter().map(|r| r * 1.5).collect();
+        let log_x = AxisTransform::new(0.09, 300.0, Scale::Log10, "r");
+        let linear_x = AxisTransform::new(-5.0, 250.0, Scale::Linear, "r");
+        let y = AxisTransform::new(1e-3, 10.0, Scale::Log10, "y");
+        let values: Vec<Option<f64>> = (0..200)
+            .map(|i| match i % 37 {
+                0 => None,
+                5 => Some(f64::NAN),
+                9 => Some(-1.0),
+                _ => Some(0.01 * (1.0 + (i as f64 * 0.3).sin()) * 10f64.powi(i % 4)),
+            })
+            .collect();
+        let mut narrow = frame();
+        narrow.right = 150.0;
+        let cases = [
+            (&log_x, frame(), &radii),
+            (&log_x, frame(), &radii),
+            (&log_x, narrow, &radii),
+            (&linear_x, narrow, &radii),
+            (&linear_x, narrow, &other_radii),
+            (&log_x, frame(), &other_radii),
+        ];
+        for (n, (x, frame, xs)) in cases.into_iter().enumerate() {
+            let panel = Panel {
+                name: "test",
+                frame,
+                x: x.clone(),
+                y: y.clone(),
+            };
+            let mut pieces = Vec::new();
+            painter
+                .series_pieces::<()>(&panel, xs, &values, |p| {
+                    pieces.push(p.to_vec());
+                    Ok(())
+                })
+                .unwrap();
+            let expected: Vec<Vec<(f64, f64)>> = defined_runs(&panel, xs, &values)
+                .iter()
+                .flat_map(|run| reference_clip(run, &panel.frame))
+                .collect();
+            assert!(!expected.is_empty());
+            assert_eq!(pieces, expected, "case {n}");
+            let mut points = Vec::new();
+            painter.extend_defined_points(&panel, xs, &[&values], &mut points);
+            let flat: Vec<(f64, f64)> = defined_runs(&panel, xs, &values).concat();
+            assert_eq!(points, flat, "case {n}");
+        }
+    }
+
+    /// The rounding helpers give what `round` gives, on edge cases and on a
+    /// million values spread over many magnitudes.
+    #[test]
+    fn fast_rounding_equals_round() {
+        let mut values = vec![
+            0.0,
+            -0.0,
+            0.5,
+            -0.5,
+            1.5,
+            -1.5,
+            2.5,
+            0.49999999999999994,
+            -0.49999999999999994,
+            254.5,
+            254.49999999999997,
+            255.0,
+            255.5,
+            -1e-300,
+            1e-300,
+            2147483647.4,
+            2147483647.5,
+            -2147483648.5,
+            -2147483649.0,
+            4503599627370495.5,
+            4503599627370497.0,
+            1e19,
+            -1e19,
+            1e300,
+            f64::MAX,
+            f64::INFINITY,
+            f64::NEG_INFINITY,
+            f64::NAN,
+        ];
+        let mut state: u64 = 0x2545_f491_4f6c_dd1d;
+        for _ in 0..1_000_000 {
+            // xorshift64*: uniform bits, so every exponent and fraction occurs.
+            state ^= state >> 12;
+            state ^= state << 25;
+            state ^= state >> 27;
+            let bits = state.wrapping_mul(0x2545_f491_4f6c_dd1d);
+            let scale = 10f64.powi((bits % 23) as i32 - 8);
+            values.push(((bits >> 11) as f64 / (1u64 << 53) as f64 - 0.3) * 300.0 * scale);
+            values.push(f64::from_bits(bits));
+        }
+        for x in values {
+            assert_eq!(round_to_i32(x), x.round() as i32, "{x:e}");
+            assert_eq!(
+                round_to_byte_index(x),
+                x.round().clamp(0.0, 255.0) as usize,
+                "{x:e}"
+            );
+        }
     }
 
     #[test]

@@ -15,10 +15,8 @@ use crate::contour::marching_squares;
 use crate::data::{AbundanceData, Chi2Data, ProfileData, TemperatureData};
 use crate::error::ChartError;
 use crate::layout::{AxisTransform, ChartLayout, Scale};
-use crate::map::{rasterise_map, MapData};
-use crate::paint::{
-    clip_polyline, defined_runs, ticks, AxisOptions, Frame, Orientation, Painter, Panel,
-};
+use crate::map::{raster_checked, MapData, RasterImage};
+use crate::paint::{clip_polyline, ticks, AxisOptions, Frame, Orientation, Painter, Panel};
 use crate::theme::{LineDash, Marker, SeriesStyle, Theme};
 
 #[path = "evolution_views.rs"]
@@ -130,13 +128,15 @@ fn radius_axis(radius_au: &[f64]) -> AxisTransform {
     AxisTransform::new(a, b, Scale::Log10, "r [au]")
 }
 
-fn occupied_points(panel: &Panel, xs: &[f64], series: &[&[Option<f64>]]) -> Vec<(f64, f64)> {
+/// Every defined point [px] of the series, for placing the legend.
+fn occupied_points<DB: DrawingBackend>(
+    p: &Painter<DB>,
+    panel: &Panel,
+    xs: &[f64],
+    series: &[&[Option<f64>]],
+) -> Vec<(f64, f64)> {
     let mut out = Vec::new();
-    for ys in series {
-        for run in defined_runs(panel, xs, ys) {
-            out.extend(run);
-        }
-    }
+    p.extend_defined_points(panel, xs, series, &mut out);
     out
 }
 
@@ -385,6 +385,7 @@ pub fn draw_c_to_o_profile<DB: DrawingBackend>(
         p.series(&panel, &data.radius_au, ys, style)?;
     }
     occupied.extend(occupied_points(
+        &p,
         &panel,
         &data.radius_au,
         &[&data.c_to_o_gas, &data.c_to_o_ice, &data.c_to_o_solid],
@@ -550,6 +551,7 @@ pub fn draw_temperature_profile<DB: DrawingBackend>(
         },
     )?;
     let occupied = occupied_points(
+        &p,
         &tp,
         &data.radius_au,
         &[
@@ -757,21 +759,73 @@ pub fn map_layout<DB: DrawingBackend>(
     theme: &Theme,
     pixels_per_point: f64,
 ) -> Result<ChartLayout, ChartError> {
+    Ok(prepare_map(area, data, theme, pixels_per_point)?.layout())
+}
+
+/// A map checked and laid out on its area, to rasterise and draw without
+/// doing either again: [`map_layout`], [`rasterise_map_over`] at the main
+/// panel's size and [`draw_ice_map`] / [`draw_c_to_o_map`] in one (the page
+/// records a map this way: the same layout, pixels and drawing as those three
+/// calls, with the data checked and the axes measured once).
+pub struct MapDrawing<'d, DB: DrawingBackend> {
+    painter: Painter<'d, DB>,
+    data: &'d MapData,
+    main: Panel,
+    bar: Panel,
+}
+
+/// Checks `data` and lays the map out on `area` ([`MapDrawing`]).
+pub fn prepare_map<'d, DB: DrawingBackend>(
+    area: &'d DrawingArea<DB, Shift>,
+    data: &'d MapData,
+    theme: &'d Theme,
+    pixels_per_point: f64,
+) -> Result<MapDrawing<'d, DB>, ChartError> {
     data.validate()?;
     area_size(area)?;
-    let p = Painter::new(area, theme, pixels_per_point);
+    let painter = Painter::new(area, theme, pixels_per_point);
     let (x, y, bar) = map_axes(data);
     let (main, bar) = map_panels(
-        &p,
+        &painter,
         x,
         y,
         bar,
         data.reference_value.as_ref().map(|r| r.0.as_str()),
     )?;
-    let base = area.get_base_pixel();
-    Ok(ChartLayout {
-        panels: vec![main.to_layout(base), bar.to_layout(base)],
+    Ok(MapDrawing {
+        painter,
+        data,
+        main,
+        bar,
     })
+}
+
+impl<DB: DrawingBackend> MapDrawing<'_, DB> {
+    /// Where the map goes ([`map_layout`]).
+    pub fn layout(&self) -> ChartLayout {
+        let base = self.painter.area.get_base_pixel();
+        ChartLayout {
+            panels: vec![self.main.to_layout(base), self.bar.to_layout(base)],
+        }
+    }
+
+    /// The cells at the main panel's size composited over `background`
+    /// ([`rasterise_map_over`]; the data was checked by [`prepare_map`]).
+    pub fn raster_over(&self, background: Rgba) -> RasterImage {
+        let main = self.main.to_layout((0, 0));
+        raster_checked(
+            self.data,
+            self.painter.theme,
+            Some(background),
+            main.width,
+            main.height,
+        )
+    }
+
+    /// Draws the map ([`draw_ice_map`] / [`draw_c_to_o_map`] with `cells`).
+    pub fn draw(&self, cells: CellDrawing) -> Result<ChartLayout, ChartError> {
+        draw_prepared_map(self, cells)
+    }
 }
 
 /// White line over a dark halo: visible on every part of both colour maps.
@@ -985,21 +1039,24 @@ fn draw_map<DB: DrawingBackend>(
     pixels_per_point: f64,
     cells: CellDrawing,
 ) -> Result<ChartLayout, ChartError> {
-    data.validate()?;
-    area_size(area)?;
-    let p = Painter::new(area, theme, pixels_per_point);
-    let (x, y, bar) = map_axes(data);
-    let (main, bar) = map_panels(
-        &p,
-        x,
-        y,
+    prepare_map(area, data, theme, pixels_per_point)?.draw(cells)
+}
+
+fn draw_prepared_map<DB: DrawingBackend>(
+    prepared: &MapDrawing<'_, DB>,
+    cells: CellDrawing,
+) -> Result<ChartLayout, ChartError> {
+    let MapDrawing {
+        painter: p,
+        data,
+        main,
         bar,
-        data.reference_value.as_ref().map(|r| r.0.as_str()),
-    )?;
+    } = prepared;
+    let (area, theme) = (p.area, p.theme);
     let f = main.frame;
     let (w, h) = p.size();
     match cells {
-        CellDrawing::Omit => fill_around(&p, &f, theme.background)?,
+        CellDrawing::Omit => fill_around(p, &f, theme.background)?,
         _ => p.fill_rect(
             Frame {
                 left: 0.0,
@@ -1013,7 +1070,7 @@ fn draw_map<DB: DrawingBackend>(
     match cells {
         CellDrawing::Raster => {
             let layout = main.to_layout((0, 0));
-            let image = rasterise_map(data, theme, layout.width, layout.height)?;
+            let image = raster_checked(data, theme, None, layout.width, layout.height);
             let rgb = image.to_rgb_over(theme.background);
             if let Some(element) = BitMapElement::with_owned_buffer(
                 (layout.left, layout.top),
@@ -1067,7 +1124,7 @@ fn draw_map<DB: DrawingBackend>(
                 .zip(&data.scale_height_over_r)
                 .filter_map(|(&r, &h)| main.px(r, n * h))
                 .collect();
-            halo_line(&p, &main, &points, theme.line_width_pt * 0.7, dash)?;
+            halo_line(p, main, &points, theme.line_width_pt * 0.7, dash)?;
             // Label each line where it leaves the frame or at its outer end.
             if let Some(&(xe, ye)) = points
                 .iter()
@@ -1107,13 +1164,7 @@ fn draw_map<DB: DrawingBackend>(
     if let Some(level) = data.contour_level {
         for line in data.contour(level) {
             let points: Vec<(f64, f64)> = line.iter().filter_map(|&(r, z)| main.px(r, z)).collect();
-            halo_line(
-                &p,
-                &main,
-                &points,
-                theme.line_width_pt * 1.2,
-                LineDash::Solid,
-            )?;
+            halo_line(p, main, &points, theme.line_width_pt * 1.2, LineDash::Solid)?;
         }
         entries.push((
             data.contour_label.clone(),
@@ -1123,8 +1174,8 @@ fn draw_map<DB: DrawingBackend>(
     for line in &data.curves {
         let points: Vec<(f64, f64)> = line.iter().filter_map(|&(r, z)| main.px(r, z)).collect();
         halo_line(
-            &p,
-            &main,
+            p,
+            main,
             &points,
             theme.line_width_pt * 1.2,
             LineDash::Dashed,
@@ -1136,8 +1187,8 @@ fn draw_map<DB: DrawingBackend>(
             SeriesStyle::line(white, LineDash::Dashed),
         ));
     }
-    p.axes(&main, AxisOptions::FULL)?;
-    colour_bar(&p, &bar, data.colour_map, data.reference_value.as_ref())?;
+    p.axes(main, AxisOptions::FULL)?;
+    colour_bar(p, bar, data.colour_map, data.reference_value.as_ref())?;
     if !entries.is_empty() {
         let (_, lh) = p.legend_size(&entries)?;
         let inset = p.px(3.0);

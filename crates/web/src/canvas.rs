@@ -16,11 +16,7 @@
 //! the document and reading its size, which forces a layout of the whole page
 //! per label and made drawing about ten times slower than everything else.
 
-use nivalis_charts::{
-    draw_abundance_profiles, draw_c_to_o_map, draw_c_to_o_profile, draw_chi2_map, draw_ice_map,
-    draw_temperature_profile, map_layout, rasterise_map_over, CellDrawing, ChartLayout, Chi2Data,
-    Theme,
-};
+use nivalis_charts::{draw_chi2_map, ChartLayout, Chi2Data, Theme};
 use std::cell::RefCell;
 use std::collections::HashMap;
 
@@ -58,10 +54,8 @@ fn context(canvas: &HtmlCanvasElement) -> Result<CanvasRenderingContext2d, Strin
         .ok_or_else(|| "the canvas has no 2d context".to_string())
 }
 
-/// Records what the chart of `data` draws on a canvas of `size` pixels (no
-/// canvas call except measuring text not measured before) and returns the
-/// display list with the chart's layout. A map's cells come first, as ONE image
-/// rasterised by the charts crate; its axes, lines and colour bar follow.
+/// Records what the chart of `data` draws on a canvas of `size` pixels
+/// ([`crate::display::record_view`], timed with `performance.now()`).
 /// `raster_ms` receives the milliseconds spent rasterising a map's cells (0 for
 /// other views), for `Explorer.drawTimings`.
 pub fn record(
@@ -72,41 +66,15 @@ pub fn record(
     measure: &dyn MeasureText,
     raster_ms: &mut f64,
 ) -> Result<(Vec<Op>, ChartLayout), String> {
-    *raster_ms = 0.0;
-    let ops = RefCell::new(Vec::new());
-    let recorder = Recorder::new(size, &ops, measure);
-    let area = recorder.into_drawing_area();
-    let layout = match data {
-        ViewData::Profile(d) => draw_c_to_o_profile(&area, d, theme, pixels_per_point),
-        ViewData::Temperature(d) => draw_temperature_profile(&area, d, theme, pixels_per_point),
-        ViewData::Abundances(d) => draw_abundance_profiles(&area, d, theme, pixels_per_point),
-        ViewData::IceMap(d) | ViewData::CToOMap(d) => {
-            let layout =
-                map_layout(&area, d, theme, pixels_per_point).map_err(|e| e.to_string())?;
-            let main = layout.main();
-            // Pixels above a column's top are composited over the background
-            // (putImageData copies alpha rather than blending).
-            let t0 = crate::explorer::now_ms();
-            let image = rasterise_map_over(d, theme, theme.background, main.width, main.height)
-                .map_err(|e| e.to_string())?;
-            *raster_ms = crate::explorer::now_ms() - t0;
-            ops.borrow_mut().push(Op::Image {
-                at: (main.left, main.top),
-                width: image.width,
-                height: image.height,
-                rgba: image.rgba,
-            });
-            if matches!(data, ViewData::CToOMap(_)) {
-                draw_c_to_o_map(&area, d, theme, pixels_per_point, CellDrawing::Omit)
-            } else {
-                draw_ice_map(&area, d, theme, pixels_per_point, CellDrawing::Omit)
-            }
-        }
-    }
-    .map_err(|e| e.to_string())?;
-    area.present().map_err(|e| e.to_string())?;
-    drop(area);
-    Ok((ops.into_inner(), layout))
+    crate::display::record_view(
+        size,
+        data,
+        theme,
+        pixels_per_point,
+        measure,
+        &crate::explorer::now_ms,
+        raster_ms,
+    )
 }
 
 /// Records the chi-square map of `data` as [`record`] records a view: its

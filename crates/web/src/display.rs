@@ -13,6 +13,12 @@
 use std::cell::RefCell;
 use std::collections::HashMap;
 
+use nivalis_charts::readout::ViewData;
+use nivalis_charts::{
+    draw_abundance_profiles, draw_c_to_o_profile, draw_temperature_profile, prepare_map,
+    CellDrawing, ChartLayout, Theme,
+};
+use plotters::prelude::IntoDrawingArea;
 use plotters_backend::text_anchor::{HPos, VPos};
 use plotters_backend::{
     BackendColor, BackendCoord, BackendStyle, BackendTextStyle, DrawingBackend, DrawingErrorKind,
@@ -159,12 +165,45 @@ pub struct Recorder<'a> {
     size: (u32, u32),
     ops: &'a RefCell<Vec<Op>>,
     measure: &'a dyn MeasureText,
+    /// The CSS fonts made so far by (size bits, family, style): a chart uses a
+    /// few fonts for many texts, and formatting the size each time cost more
+    /// than recording the text.
+    fonts: RefCell<Vec<(u64, String, String, String)>>,
 }
 
 impl<'a> Recorder<'a> {
     /// A recorder for a canvas of `size` pixels.
     pub fn new(size: (u32, u32), ops: &'a RefCell<Vec<Op>>, measure: &'a dyn MeasureText) -> Self {
-        Recorder { size, ops, measure }
+        Recorder {
+            size,
+            ops,
+            measure,
+            fonts: RefCell::new(Vec::new()),
+        }
+    }
+
+    /// [`css_font`] of `style`, made once per font and handed to `with`.
+    fn with_css_font<S: BackendTextStyle, R>(&self, style: &S, with: impl FnOnce(&str) -> R) -> R {
+        let size = style.size().to_bits();
+        let (family, font_style) = (style.family(), style.style());
+        let (family, font_style) = (family.as_str(), font_style.as_str());
+        let mut fonts = self.fonts.borrow_mut();
+        let at = match fonts
+            .iter()
+            .position(|f| f.0 == size && f.1 == family && f.2 == font_style)
+        {
+            Some(at) => at,
+            None => {
+                fonts.push((
+                    size,
+                    family.to_string(),
+                    font_style.to_string(),
+                    css_font(style),
+                ));
+                fonts.len() - 1
+            }
+        };
+        with(&fonts[at].3)
     }
 
     /// Appends an operation drawn before the chart's (a map's cells).
@@ -340,7 +379,7 @@ impl DrawingBackend for Recorder<'_> {
         let anchor = style.anchor();
         self.push(Op::Text {
             text: text.to_string(),
-            font: css_font(style),
+            font: self.with_css_font(style, str::to_string),
             colour: Colour::of(colour),
             align: match anchor.h_pos {
                 HPos::Left => "start",
@@ -363,7 +402,7 @@ impl DrawingBackend for Recorder<'_> {
         text: &str,
         style: &S,
     ) -> Result<(u32, u32), DrawingErrorKind<RecordError>> {
-        Ok(self.measure.measure(&css_font(style), style.size(), text))
+        Ok(self.with_css_font(style, |font| self.measure.measure(font, style.size(), text)))
     }
 
     fn blit_bitmap(&mut self, pos: BackendCoord, size: (u32, u32), src: &[u8]) -> Result2 {
@@ -380,6 +419,59 @@ impl DrawingBackend for Recorder<'_> {
         });
         Ok(())
     }
+}
+
+/// Records what the chart of `data` draws on a canvas of `size` pixels (no
+/// canvas call except measuring text not measured before) and returns the
+/// display list with the chart's layout. A map's cells come first, as ONE image
+/// rasterised by the charts crate; its axes, lines and colour bar follow.
+/// `raster_ms` receives the milliseconds (by `now`, a clock in ms) spent
+/// rasterising a map's cells (0 for other views). Plain Rust: the page calls it
+/// through `canvas::record`, the native benchmark `benches/record.rs` directly.
+pub fn record_view(
+    size: (u32, u32),
+    data: &ViewData,
+    theme: &Theme,
+    pixels_per_point: f64,
+    measure: &dyn MeasureText,
+    now: &dyn Fn() -> f64,
+    raster_ms: &mut f64,
+) -> Result<(Vec<Op>, ChartLayout), String> {
+    *raster_ms = 0.0;
+    // Room for a profile's operations (a dashed series is one per dash), so the
+    // list is not moved as it grows.
+    let ops = RefCell::new(Vec::with_capacity(2048));
+    let recorder = Recorder::new(size, &ops, measure);
+    let area = recorder.into_drawing_area();
+    let layout = match data {
+        ViewData::Profile(d) => draw_c_to_o_profile(&area, d, theme, pixels_per_point),
+        ViewData::Temperature(d) => draw_temperature_profile(&area, d, theme, pixels_per_point),
+        ViewData::Abundances(d) => draw_abundance_profiles(&area, d, theme, pixels_per_point),
+        ViewData::IceMap(d) | ViewData::CToOMap(d) => {
+            // As `map_layout`, `rasterise_map_over` at the main panel's size and
+            // `draw_ice_map` / `draw_c_to_o_map` with the cells omitted, with the
+            // data checked and the map laid out once.
+            let map = prepare_map(&area, d, theme, pixels_per_point).map_err(|e| e.to_string())?;
+            let layout = map.layout();
+            let main = layout.main();
+            // Pixels above a column's top are composited over the background
+            // (putImageData copies alpha rather than blending).
+            let t0 = now();
+            let image = map.raster_over(theme.background);
+            *raster_ms = now() - t0;
+            ops.borrow_mut().push(Op::Image {
+                at: (main.left, main.top),
+                width: image.width,
+                height: image.height,
+                rgba: image.rgba,
+            });
+            map.draw(CellDrawing::Omit)
+        }
+    }
+    .map_err(|e| e.to_string())?;
+    area.present().map_err(|e| e.to_string())?;
+    drop(area);
+    Ok((ops.into_inner(), layout))
 }
 
 /// Replaces a chart's leading filled rectangles by ONE image of the whole
@@ -571,6 +663,72 @@ mod tests {
             })
         };
         assert_eq!(t(&model), t(&edited));
+    }
+
+    /// A map recorded by `record_view` (checked and laid out once through
+    /// `prepare_map`) gives the list the three separate calls gave: the layout
+    /// from `map_layout`, the cells from `rasterise_map_over` at the main
+    /// panel's size, then `draw_ice_map` / `draw_c_to_o_map` with the cells omitted.
+    #[test]
+    fn a_map_records_as_layout_raster_and_drawing_did() {
+        use nivalis_charts::{
+            draw_c_to_o_map, draw_ice_map, map_layout, rasterise_map_over, CellDrawing, MapData,
+        };
+        use nivalis_physics::Species;
+        let mut p = ModelParameters::defaults();
+        p.grid.radial_cells = 90;
+        p.grid.vertical_cells = 30;
+        let model = Model::run(&p).unwrap();
+        for theme in [Theme::light(), Theme::dark()] {
+            for (data, ice) in [
+                (MapData::ice_fraction(&model, Species::CO), true),
+                (MapData::gas_c_to_o(&model), false),
+            ] {
+                for (size, ppp) in [((900, 500), 1.6), ((333, 251), 1.0)] {
+                    let expected = {
+                        let ops = RefCell::new(Vec::new());
+                        let area = Recorder::new(size, &ops, &Fixed).into_drawing_area();
+                        let layout = map_layout(&area, &data, &theme, ppp).unwrap();
+                        let main = layout.main().clone();
+                        let image = rasterise_map_over(
+                            &data,
+                            &theme,
+                            theme.background,
+                            main.width,
+                            main.height,
+                        )
+                        .unwrap();
+                        ops.borrow_mut().push(Op::Image {
+                            at: (main.left, main.top),
+                            width: image.width,
+                            height: image.height,
+                            rgba: image.rgba,
+                        });
+                        let drawn = if ice {
+                            draw_ice_map(&area, &data, &theme, ppp, CellDrawing::Omit)
+                        } else {
+                            draw_c_to_o_map(&area, &data, &theme, ppp, CellDrawing::Omit)
+                        }
+                        .unwrap();
+                        assert_eq!(drawn, layout);
+                        drop(area);
+                        (ops.into_inner(), layout)
+                    };
+                    let view = if ice {
+                        ViewData::IceMap(data.clone())
+                    } else {
+                        ViewData::CToOMap(data.clone())
+                    };
+                    let mut raster_ms = -1.0;
+                    let got =
+                        record_view(size, &view, &theme, ppp, &Fixed, &|| 0.0, &mut raster_ms)
+                            .unwrap();
+                    assert_eq!(raster_ms, 0.0);
+                    assert!(matches!(got.0[0], Op::Image { .. }));
+                    assert_eq!(got, expected, "{} at {size:?}", data.value_label);
+                }
+            }
+        }
     }
 
     #[test]

@@ -9,7 +9,10 @@
 //!    disk, then timed with `timeit.repeat`.
 //! 3. A table of medians, p10 and p90 per benchmark and the ratios
 //!    `model / floor` (target <= 2) and `numpy / native` at 400 x 160, fresh and edit (target >= 10).
-//!    Then the sweep throughput natively and through Dask, and the per-model
+//!    Then the Rust side of the page's draw natively ([`record_section`],
+//!    `crates/web/benches/record.rs`): each of the five views' data built
+//!    from the default disk's model and its display list recorded, medians per
+//!    view and their sums. Then the sweep throughput natively and through Dask, and the per-model
 //!    overhead of a sweep point over a bare `Model::run` ([`crate::sweep_bench`]).
 //! 4. The uncertainty Monte Carlo ([`crate::uncertainty_bench`]): 1000 samples against one
 //!    deterministic run, and the CLI at 1 and 2 rayon threads.
@@ -288,6 +291,10 @@ pub fn bench(sections: Sections) -> Result<(), String> {
         "4x the samples",
     );
 
+    if let Err(message) = record_section() {
+        problems.push(message);
+    }
+
     if sections == Sections::Native {
         return if problems.is_empty() {
             Ok(())
@@ -329,6 +336,59 @@ pub(crate) fn target_dir() -> PathBuf {
     std::env::var_os("CARGO_TARGET_DIR")
         .map(PathBuf::from)
         .unwrap_or_else(|| repo_root().join("target"))
+}
+
+/// The page's five views as in `crates/web/benches/record.rs` (criterion ids `data/<view>`
+/// and `record/<view>`).
+const RECORD_VIEWS: [&str; 5] = [
+    "c_to_o",
+    "temperature",
+    "ice_map",
+    "c_to_o_map",
+    "abundances",
+];
+
+/// The Rust side of the page's draw, natively: `cargo bench -p nivalis-web --bench record`
+/// (each view's data built from the default disk's model, and its display list recorded),
+/// with the medians, p10 and p90 of every view and their sums.
+fn record_section() -> Result<(), String> {
+    let started = SystemTime::now() - Duration::from_secs(2);
+    run(cargo().current_dir(repo_root()).args([
+        "bench",
+        "-p",
+        "nivalis-web",
+        "--bench",
+        "record",
+    ]))?;
+    let criterion = target_dir().join("criterion");
+    println!(
+        "\nrecording the page's views natively (default disk, crates/web/benches/record.rs; \
+         per-iteration times of criterion's 20 samples):"
+    );
+    println!(
+        "  {:<22} {:>10} {:>10} {:>10}",
+        "benchmark", "median", "p10", "p90"
+    );
+    for group in ["data", "record"] {
+        let mut sum = 0.0;
+        for view in RECORD_VIEWS {
+            let s = per_iteration_spread(&criterion.join(group).join(view), started)?;
+            sum += s.median;
+            println!(
+                "  {:<22} {:>10} {:>10} {:>10}",
+                format!("{group}/{view}"),
+                format_duration(s.median),
+                format_duration(s.p10),
+                format_duration(s.p90)
+            );
+        }
+        println!(
+            "  {:<22} {:>10}   sum of the five medians",
+            format!("{group}/all"),
+            format_duration(sum)
+        );
+    }
+    Ok(())
 }
 
 /// Median, p10 and p90 [ns] of the per-iteration times of one benchmark,
