@@ -387,6 +387,15 @@ impl Commands {
 mod tests {
     use super::*;
 
+    /// See [`the_five_views_encode_to_the_reference_calls`].
+    const REFERENCE: [(usize, u64); 5] = [
+        (97, 6090975608769960693),
+        (68, 14747292027336714795),
+        (354, 14241411238712506958),
+        (348, 7988665566778458400),
+        (174, 10319424167815263078),
+    ];
+
     fn red(alpha: f64) -> Colour {
         Colour {
             rgb: (255, 0, 0),
@@ -556,6 +565,79 @@ mod tests {
         assert_eq!(c.first_new, 5);
         assert_eq!(c.new_lengths, ["χ² ≥ 𝑥".encode_utf16().count() as u32]);
         assert_eq!(c.new_lengths, [7]);
+    }
+
+    /// The decoded calls of the five views of the default disk (60 x 20 cells),
+    /// recorded at 640 x 360 with a fixed text rule, as one text per call.
+    fn five_views_calls() -> Vec<Vec<String>> {
+        use nivalis_charts::readout::ViewData;
+        use nivalis_charts::{AbundanceData, MapData, ProfileData, TemperatureData, Theme};
+        use nivalis_physics::{Model, ModelParameters, Species};
+        struct Fixed;
+        impl crate::display::MeasureText for Fixed {
+            fn measure(&self, _font: &str, size: f64, text: &str) -> (u32, u32) {
+                (
+                    (0.6 * size * text.chars().count() as f64) as u32,
+                    (1.2 * size) as u32,
+                )
+            }
+        }
+        let mut p = ModelParameters::defaults();
+        p.grid.radial_cells = 60;
+        p.grid.vertical_cells = 20;
+        let model = Model::run(&p).unwrap();
+        let views = [
+            ViewData::Profile(ProfileData::from_model(&model)),
+            ViewData::Temperature(TemperatureData::from_model(&model)),
+            ViewData::IceMap(MapData::ice_fraction(&model, Species::CO)),
+            ViewData::CToOMap(MapData::gas_c_to_o(&model)),
+            ViewData::Abundances(AbundanceData::from_model(&model)),
+        ];
+        let mut c = Commands::default();
+        let mut raster_ms = 0.0;
+        views
+            .iter()
+            .map(|view| {
+                let (ops, _) = crate::display::record_view(
+                    (640, 360),
+                    view,
+                    &Theme::light(),
+                    1.6,
+                    &Fixed,
+                    &|| 0.0,
+                    &mut raster_ms,
+                )
+                .unwrap();
+                c.encode(&ops, &|rgba| rgba.len() as u32);
+                decode(&c, &c.table())
+            })
+            .collect()
+    }
+
+    /// FNV-1a (64 bits) of the calls, each followed by a newline.
+    fn fnv1a(calls: &[String]) -> u64 {
+        let mut h: u64 = 0xcbf2_9ce4_8422_2325;
+        for call in calls {
+            for b in call.bytes().chain([b'\n']) {
+                h ^= u64::from(b);
+                h = h.wrapping_mul(0x0100_0000_01b3);
+            }
+        }
+        h
+    }
+
+    /// The calls of the five views are those encoded from the display lists
+    /// before strokes of one pen were merged at record time (reference: the
+    /// number of calls and their FNV-1a hash, printed by this test, from the
+    /// encoder of main 36de5ad, one `Op::Stroke` per line or dash). If a chart
+    /// or the model changes on purpose, the reference changes with it.
+    #[test]
+    fn the_five_views_encode_to_the_reference_calls() {
+        let calls = five_views_calls();
+        let got: Vec<(usize, u64)> = calls.iter().map(|c| (c.len(), fnv1a(c))).collect();
+        println!("{got:?}");
+        let reference: [(usize, u64); 5] = REFERENCE;
+        assert_eq!(got, reference);
     }
 
     #[test]
