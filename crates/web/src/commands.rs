@@ -245,11 +245,27 @@ impl Commands {
         match &run[0] {
             Op::Stroke { colour, width, .. } => {
                 self.stroke_style(styles, *colour, *width);
-                self.words.extend([op::STROKE_PATHS, run.len() as u32]);
+                // A stroke holds the polylines recorded with one pen; the
+                // recorder merges consecutive ones, so a run is usually one op.
+                let paths: usize = run
+                    .iter()
+                    .map(|o| match o {
+                        Op::Stroke { lengths, .. } => lengths.len(),
+                        _ => 0,
+                    })
+                    .sum();
+                self.words.extend([op::STROKE_PATHS, paths as u32]);
                 for o in run {
-                    if let Op::Stroke { points, .. } = o {
-                        self.words.push(points.len() as u32);
-                        self.numbers.extend(points.iter().flat_map(|p| [p.0, p.1]));
+                    if let Op::Stroke {
+                        points, lengths, ..
+                    } = o
+                    {
+                        self.words.extend_from_slice(lengths);
+                        self.numbers.reserve(2 * points.len());
+                        for p in points {
+                            self.numbers.push(p.0);
+                            self.numbers.push(p.1);
+                        }
                     }
                 }
             }
@@ -483,16 +499,19 @@ mod tests {
                 colour: red(1.0),
                 width: 1,
                 points: vec![(0.5, 0.5), (10.5, 0.5)],
+                lengths: vec![2],
             },
             Op::Stroke {
                 colour: red(1.0),
                 width: 1,
                 points: vec![(1.0, 2.0), (3.0, 4.0), (5.0, 6.0)],
+                lengths: vec![3],
             },
             Op::Stroke {
                 colour: red(1.0),
                 width: 2,
-                points: vec![(1.0, 2.0), (3.0, 4.0)],
+                points: vec![(1.0, 2.0), (3.0, 4.0), (7.0, 8.0)],
+                lengths: vec![2, 1],
             },
             Op::FillRect {
                 colour: red(0.5),
@@ -533,7 +552,7 @@ mod tests {
                 "width [1.0]",
                 "7 [[0.5, 0.5, 10.5, 0.5], [1.0, 2.0, 3.0, 4.0, 5.0, 6.0]]",
                 "width [2.0]",
-                "7 [[1.0, 2.0, 3.0, 4.0]]",
+                "7 [[1.0, 2.0, 3.0, 4.0], [7.0, 8.0]]",
                 "3 rgba(255,0,0,0.5)",
                 "9 [1.0, 2.0, 3.0, 6.0]",
                 "circles [5.0, 6.0, 3.0, 7.0, 8.0, 3.0]",
@@ -567,9 +586,9 @@ mod tests {
         assert_eq!(c.new_lengths, [7]);
     }
 
-    /// The decoded calls of the five views of the default disk (60 x 20 cells),
-    /// recorded at 640 x 360 with a fixed text rule, as one text per call.
-    fn five_views_calls() -> Vec<Vec<String>> {
+    /// The display lists of the five views of the default disk (60 x 20
+    /// cells), recorded at 640 x 360 with a fixed text rule.
+    fn five_views() -> Vec<Vec<Op>> {
         use nivalis_charts::readout::ViewData;
         use nivalis_charts::{AbundanceData, MapData, ProfileData, TemperatureData, Theme};
         use nivalis_physics::{Model, ModelParameters, Species};
@@ -593,12 +612,11 @@ mod tests {
             ViewData::CToOMap(MapData::gas_c_to_o(&model)),
             ViewData::Abundances(AbundanceData::from_model(&model)),
         ];
-        let mut c = Commands::default();
         let mut raster_ms = 0.0;
         views
             .iter()
             .map(|view| {
-                let (ops, _) = crate::display::record_view(
+                crate::display::record_view(
                     (640, 360),
                     view,
                     &Theme::light(),
@@ -607,11 +625,73 @@ mod tests {
                     &|| 0.0,
                     &mut raster_ms,
                 )
-                .unwrap();
-                c.encode(&ops, &|rgba| rgba.len() as u32);
+                .unwrap()
+                .0
+            })
+            .collect()
+    }
+
+    /// The decoded calls of [`five_views`], one text per call.
+    fn five_views_calls() -> Vec<Vec<String>> {
+        let mut c = Commands::default();
+        five_views()
+            .iter()
+            .map(|ops| {
+                c.encode(ops, &|rgba| rgba.len() as u32);
                 decode(&c, &c.table())
             })
             .collect()
+    }
+
+    /// Each polyline of a stroke as a stroke of its own (what the recorder
+    /// recorded before it merged the strokes of one pen).
+    fn split_strokes(ops: &[Op]) -> Vec<Op> {
+        let mut out = Vec::new();
+        for o in ops {
+            match o {
+                Op::Stroke {
+                    colour,
+                    width,
+                    points,
+                    lengths,
+                } => {
+                    let mut at = 0;
+                    for n in lengths {
+                        let n = *n as usize;
+                        out.push(Op::Stroke {
+                            colour: *colour,
+                            width: *width,
+                            points: points[at..at + n].to_vec(),
+                            lengths: vec![n as u32],
+                        });
+                        at += n;
+                    }
+                    assert_eq!(at, points.len(), "lengths do not add up");
+                }
+                other => out.push(other.clone()),
+            }
+        }
+        out
+    }
+
+    /// A list whose strokes are merged and the same list with one stroke per
+    /// polyline give the same buffer (the replay joins a run of one pen either
+    /// way); the views hold dashed lines, so merging did happen.
+    #[test]
+    fn merged_strokes_encode_as_one_stroke_per_polyline_did() {
+        let mut merged_any = false;
+        for ops in five_views() {
+            let split = split_strokes(&ops);
+            merged_any |= split.len() > ops.len();
+            let (mut a, mut b) = (Commands::default(), Commands::default());
+            a.encode(&ops, &|rgba| rgba.len() as u32);
+            b.encode(&split, &|rgba| rgba.len() as u32);
+            assert_eq!(a.words, b.words);
+            assert_eq!(a.numbers, b.numbers);
+            assert_eq!(a.new_strings, b.new_strings);
+            assert_eq!(a.new_lengths, b.new_lengths);
+        }
+        assert!(merged_any);
     }
 
     /// FNV-1a (64 bits) of the calls, each followed by a newline.

@@ -52,14 +52,19 @@ impl Colour {
 /// One drawing operation, in canvas pixels.
 #[derive(Debug, Clone, PartialEq)]
 pub enum Op {
-    /// An open polyline stroked `width` px wide.
+    /// Open polylines stroked `width` px wide, as one path stroked once: the
+    /// lines and dashes a chart draws one after another with one pen are
+    /// recorded into one operation (no vector per dash).
     Stroke {
         /// Colour.
         colour: Colour,
         /// Line width [px].
         width: u32,
-        /// Vertices.
+        /// The vertices of all polylines, one polyline after another.
         points: Vec<(f64, f64)>,
+        /// The number of vertices of each polyline, in order (each at least
+        /// one; they add up to `points.len()`).
+        lengths: Vec<u32>,
     },
     /// A rectangle's outline.
     StrokeRect {
@@ -210,6 +215,44 @@ impl<'a> Recorder<'a> {
     pub fn push(&self, op: Op) {
         self.ops.borrow_mut().push(op);
     }
+
+    /// Appends the polyline `points` stroked with the pen (`colour`, `width`):
+    /// to the last operation when that is a stroke of the same pen (the canvas
+    /// then strokes both in one path, as it did when each was an operation of
+    /// its own and the replay joined the run), else as a new stroke. An empty
+    /// polyline adds nothing.
+    fn stroke(&self, colour: Colour, width: u32, points: impl IntoIterator<Item = (f64, f64)>) {
+        let mut ops = self.ops.borrow_mut();
+        let same_pen = matches!(
+            ops.last(),
+            Some(Op::Stroke { colour: c, width: w, .. }) if *c == colour && *w == width
+        );
+        if !same_pen {
+            ops.push(Op::Stroke {
+                colour,
+                width,
+                points: Vec::new(),
+                lengths: Vec::new(),
+            });
+        }
+        let mut added = 0;
+        if let Some(Op::Stroke {
+            points: all,
+            lengths,
+            ..
+        }) = ops.last_mut()
+        {
+            let before = all.len();
+            all.extend(points);
+            added = all.len() - before;
+            if added > 0 {
+                lengths.push(added as u32);
+            }
+        }
+        if added == 0 && !same_pen {
+            ops.pop();
+        }
+    }
 }
 
 type Result2 = Result<(), DrawingErrorKind<RecordError>>;
@@ -271,11 +314,11 @@ impl DrawingBackend for Recorder<'_> {
         style: &S,
     ) -> Result2 {
         if style.color().alpha > 0.0 {
-            self.push(Op::Stroke {
-                colour: Colour::of(style.color()),
-                width: style.stroke_width(),
-                points: fine_line(from, to).to_vec(),
-            });
+            self.stroke(
+                Colour::of(style.color()),
+                style.stroke_width(),
+                fine_line(from, to),
+            );
         }
         Ok(())
     }
@@ -309,17 +352,11 @@ impl DrawingBackend for Recorder<'_> {
         style: &S,
     ) -> Result2 {
         if style.color().alpha > 0.0 {
-            let points: Vec<(f64, f64)> = path
-                .into_iter()
-                .map(|p| (f64::from(p.0), f64::from(p.1)))
-                .collect();
-            if !points.is_empty() {
-                self.push(Op::Stroke {
-                    colour: Colour::of(style.color()),
-                    width: style.stroke_width(),
-                    points,
-                });
-            }
+            self.stroke(
+                Colour::of(style.color()),
+                style.stroke_width(),
+                path.into_iter().map(|p| (f64::from(p.0), f64::from(p.1))),
+            );
         }
         Ok(())
     }
@@ -438,9 +475,9 @@ pub fn record_view(
     raster_ms: &mut f64,
 ) -> Result<(Vec<Op>, ChartLayout), String> {
     *raster_ms = 0.0;
-    // Room for a profile's operations (a dashed series is one per dash), so the
-    // list is not moved as it grows.
-    let ops = RefCell::new(Vec::with_capacity(2048));
+    // Room for a view's operations (strokes of one pen are merged, so a
+    // profile has a few hundred), so the list is rarely moved as it grows.
+    let ops = RefCell::new(Vec::with_capacity(512));
     let recorder = Recorder::new(size, &ops, measure);
     let area = recorder.into_drawing_area();
     let layout = match data {
@@ -732,6 +769,60 @@ mod tests {
     }
 
     #[test]
+    fn the_recorder_merges_consecutive_strokes_of_one_pen() {
+        use plotters::style::{Color, RED};
+        let ops = RefCell::new(Vec::new());
+        let mut r = Recorder::new((100, 100), &ops, &Fixed);
+        let (thin, thick) = (Color::stroke_width(&RED, 1), Color::stroke_width(&RED, 2));
+        r.draw_line((0, 0), (10, 0), &thin).unwrap();
+        r.draw_path(vec![(1, 2), (3, 4), (5, 6)], &thin).unwrap();
+        r.draw_path(Vec::new(), &thin).unwrap();
+        r.draw_path(Vec::new(), &thick).unwrap();
+        r.draw_path(vec![(1, 1), (2, 2)], &thick).unwrap();
+        r.draw_rect((0, 0), (5, 5), &thin, false).unwrap();
+        r.draw_line((3, 3), (4, 4), &thin).unwrap();
+        drop(r);
+        let red = Colour {
+            rgb: (255, 0, 0),
+            alpha: 1.0,
+        };
+        assert_eq!(
+            ops.into_inner(),
+            [
+                Op::Stroke {
+                    colour: red,
+                    width: 1,
+                    points: vec![
+                        (0.0, -0.5),
+                        (10.0, -0.5),
+                        (1.0, 2.0),
+                        (3.0, 4.0),
+                        (5.0, 6.0)
+                    ],
+                    lengths: vec![2, 3],
+                },
+                Op::Stroke {
+                    colour: red,
+                    width: 2,
+                    points: vec![(1.0, 1.0), (2.0, 2.0)],
+                    lengths: vec![2],
+                },
+                Op::StrokeRect {
+                    colour: red,
+                    width: 1,
+                    corners: [(0, 0), (5, 5)],
+                },
+                Op::Stroke {
+                    colour: red,
+                    width: 1,
+                    points: vec![(3.0, 3.0), (4.0, 4.0)],
+                    lengths: vec![2],
+                },
+            ]
+        );
+    }
+
+    #[test]
     fn dashed_series_collapse_into_few_runs() {
         let mut p = ModelParameters::defaults();
         p.grid.radial_cells = 60;
@@ -741,7 +832,14 @@ mod tests {
         let ops = record(|area| {
             draw_abundance_profiles(area, &data, &Theme::light(), 1.6).unwrap();
         });
-        let strokes = ops.iter().filter(|o| o.stroke_pen().is_some()).count();
+        // Polylines (a dash each in a dashed series).
+        let strokes: usize = ops
+            .iter()
+            .map(|o| match o {
+                Op::Stroke { lengths, .. } => lengths.len(),
+                _ => 0,
+            })
+            .sum();
         let mut runs = 0;
         let mut i = 0;
         while i < ops.len() {
@@ -753,6 +851,11 @@ mod tests {
         assert!(
             runs * 3 < strokes,
             "{runs} stroke calls for {strokes} strokes"
+        );
+        // Merged when recorded: every run is one operation.
+        assert_eq!(
+            runs,
+            ops.iter().filter(|o| o.stroke_pen().is_some()).count()
         );
     }
 
@@ -822,6 +925,7 @@ mod tests {
         let stroke = |width, points: Vec<(f64, f64)>| Op::Stroke {
             colour: red,
             width,
+            lengths: vec![points.len() as u32],
             points,
         };
         let ops = vec![
