@@ -3,7 +3,9 @@
 //! list with the one already on that canvas (an unchanged view is not drawn
 //! again) and otherwise replays it on the canvas in few calls (`canvas::replay`:
 //! consecutive strokes of one pen as one path, style changes only when the
-//! style changes). Plain Rust, so it is tested natively; the figures (SVG, PNG)
+//! style changes). Those strokes are merged already when recorded (one
+//! [`Op::Stroke`] with several polylines), so a dashed line is one operation,
+//! not one per dash. Plain Rust, so it is tested natively; the figures (SVG, PNG)
 //! never pass through here.
 //!
 //! Coordinates are the canvas back end's: integer pixels, with plotters-canvas's
