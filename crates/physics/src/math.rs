@@ -258,8 +258,10 @@ pub fn exp_poly_slice(values: &mut [f64]) {
     #[cfg(all(target_arch = "wasm32", target_feature = "simd128"))]
     {
         let pairs = values.len() / 2 * 2;
+        // The constants once, read in the loop (see simd128::ExpVectors).
+        let constants = core::hint::black_box(simd128::ExpVectors::new());
         for q in (0..pairs).step_by(2) {
-            let y = simd128::exp_poly(simd128::load2(values, q));
+            let y = simd128::exp_poly_with(simd128::load2(values, q), &constants);
             simd128::store2(values, q, y);
         }
         for v in &mut values[pairs..] {
@@ -347,6 +349,7 @@ pub(crate) mod simd128 {
 
     /// [`super::exp_poly`], two lanes.
     #[inline(always)]
+    #[cfg_attr(not(test), allow(dead_code))]
     pub(crate) fn exp_poly(x: v128) -> v128 {
         exp_poly_with(x, &ExpVectors::new())
     }
@@ -399,72 +402,107 @@ pub(crate) mod simd128 {
         unsafe { v128_store(values.as_mut_ptr().add(i).cast::<v128>(), v) }
     }
 
+    /// The constants of [`cos_reduced`] as vectors, built once outside a hot loop (through
+    /// `core::hint::black_box`) like [`ExpVectors`].
+    #[derive(Clone, Copy)]
+    pub(crate) struct CosVectors {
+        sign_off: v128,
+        zero: v128,
+        small: v128,
+        tiny: v128,
+        c: [v128; 6],
+        s: [v128; 6],
+        half: v128,
+        one: v128,
+        zero_f: v128,
+        pio2_1: v128,
+        pio2_1t: v128,
+        reduced_high: v128,
+        mantissa_high: v128,
+        pio2_mantissa_high: v128,
+    }
+
+    impl CosVectors {
+        /// The constants.
+        #[inline(always)]
+        pub(crate) fn new() -> CosVectors {
+            use super::cos_kernel::*;
+            CosVectors {
+                sign_off: i64x2_splat(0x7fff_ffff),
+                zero: i64x2_splat(0),
+                small: i64x2_splat(0x3fe9_21fb),
+                tiny: i64x2_splat(0x3e46_a09e),
+                c: [C1, C2, C3, C4, C5, C6].map(splat),
+                s: [S1, S2, S3, S4, S5, S6].map(splat),
+                half: splat(0.5),
+                one: splat(1.0),
+                zero_f: splat(0.0),
+                pio2_1: splat(PIO2_1),
+                pio2_1t: splat(PIO2_1T),
+                reduced_high: i64x2_splat(0x4002_d97c),
+                mantissa_high: i64x2_splat(0x000f_ffff),
+                pio2_mantissa_high: i64x2_splat(0x0009_21fb),
+            }
+        }
+    }
+
     /// [`super::cos_reduced`], two lanes: the value and, as a lane mask, whether it holds.
     #[inline(always)]
+    #[cfg_attr(not(test), allow(dead_code))]
     pub(crate) fn cos_reduced(x: v128) -> (v128, v128) {
-        use super::cos_kernel::*;
+        cos_reduced_with(x, &CosVectors::new())
+    }
+
+    /// [`cos_reduced`] with its constants from `k`.
+    #[inline(always)]
+    pub(crate) fn cos_reduced_with(x: v128, k: &CosVectors) -> (v128, v128) {
         let (add, sub, mul) = (f64x2_add, f64x2_sub, f64x2_mul);
-        let high = v128_and(u64x2_shr(x, 32), i64x2_splat(0x7fff_ffff));
-        let positive = i64x2_ge(x, i64x2_splat(0));
-        let small = i64x2_le(high, i64x2_splat(0x3fe9_21fb));
-        let tiny = i64x2_lt(high, i64x2_splat(0x3e46_a09e));
+        let [c1, c2, c3, c4, c5, c6] = k.c;
+        let [s1, s2, s3, s4, s5, s6] = k.s;
+        let high = v128_and(u64x2_shr(x, 32), k.sign_off);
+        let positive = i64x2_ge(x, k.zero);
+        let small = i64x2_le(high, k.small);
+        let tiny = i64x2_lt(high, k.tiny);
         // k_cos(x, 0.0).
         let z = mul(x, x);
         let w = mul(z, z);
         let r = add(
-            mul(z, add(splat(C1), mul(z, add(splat(C2), mul(z, splat(C3)))))),
-            mul(
-                mul(w, w),
-                add(splat(C4), mul(z, add(splat(C5), mul(z, splat(C6))))),
-            ),
+            mul(z, add(c1, mul(z, add(c2, mul(z, c3))))),
+            mul(mul(w, w), add(c4, mul(z, add(c5, mul(z, c6))))),
         );
-        let hz = mul(splat(0.5), z);
-        let w = sub(splat(1.0), hz);
+        let hz = mul(k.half, z);
+        let w = sub(k.one, hz);
         let near = add(
             w,
-            add(
-                sub(sub(splat(1.0), w), hz),
-                sub(mul(z, r), mul(x, splat(0.0))),
-            ),
+            add(sub(sub(k.one, w), hz), sub(mul(z, r), mul(x, k.zero_f))),
         );
         // -__sin(y0, y1, 1) of y = x - pi/2.
-        let z = sub(x, splat(PIO2_1));
-        let y0 = sub(z, splat(PIO2_1T));
-        let y1 = sub(sub(z, y0), splat(PIO2_1T));
+        let z = sub(x, k.pio2_1);
+        let y0 = sub(z, k.pio2_1t);
+        let y1 = sub(sub(z, y0), k.pio2_1t);
         let zz = mul(y0, y0);
         let w = mul(zz, zz);
         let r = add(
-            add(splat(S2), mul(zz, add(splat(S3), mul(zz, splat(S4))))),
-            mul(mul(zz, w), add(splat(S5), mul(zz, splat(S6)))),
+            add(s2, mul(zz, add(s3, mul(zz, s4)))),
+            mul(mul(zz, w), add(s5, mul(zz, s6))),
         );
         let v = mul(zz, y0);
         let far = f64x2_neg(sub(
             y0,
             sub(
-                sub(mul(zz, sub(mul(splat(0.5), y1), mul(v, r))), y1),
-                mul(v, splat(S1)),
+                sub(mul(zz, sub(mul(k.half, y1), mul(v, r))), y1),
+                mul(v, s1),
             ),
         ));
-        let value = select(tiny, splat(1.0), select(small, near, far));
+        let value = select(tiny, k.one, select(small, near, far));
         let reduced = v128_and(
-            v128_and(positive, i64x2_le(high, i64x2_splat(0x4002_d97c))),
+            v128_and(positive, i64x2_le(high, k.reduced_high)),
             v128_not(i64x2_eq(
-                v128_and(high, i64x2_splat(0x000f_ffff)),
-                i64x2_splat(0x0009_21fb),
+                v128_and(high, k.mantissa_high),
+                k.pio2_mantissa_high,
             )),
         );
         (value, v128_or(small, reduced))
-    }
-
-    /// [`super::ln_upper_bound`], two lanes.
-    #[inline(always)]
-    pub(crate) fn ln_upper_bound(y: v128) -> v128 {
-        let bits = v128_or(i64x2_splat(0x4330_0000_0000_0000), u64x2_shr(y, 52));
-        let biased = f64x2_sub(bits, splat(4_503_599_627_370_496.0));
-        f64x2_mul(
-            f64x2_sub(biased, splat(1022.0)),
-            splat(core::f64::consts::LN_2),
-        )
     }
 }
 

@@ -820,14 +820,16 @@ impl VerticalProfile {
         // WebAssembly simd128: two points per vector (the same operations), the rest below.
         #[cfg(all(target_arch = "wasm32", target_feature = "simd128"))]
         let (start, mut covered) = {
-            use crate::math::simd128::{cos_reduced, load2, splat, store2};
+            use crate::math::simd128::{cos_reduced_with, load2, splat, store2, CosVectors};
             use core::arch::wasm32::*;
             let pairs = cosines.len() / 2 * 2;
             let mut all = i64x2_splat(-1);
+            // The kernel's constants once, read in the loop (see math::simd128::ExpVectors).
+            let constants = core::hint::black_box(CosVectors::new());
             for q in (0..pairs).step_by(2) {
                 let z = f64x2_mul(load2(points, q), splat(dz));
                 let x = f64x2_div(f64x2_mul(splat(PI), z), splat(2.0 * z_q));
-                let (value, ok) = cos_reduced(x);
+                let (value, ok) = cos_reduced_with(x, &constants);
                 store2(cosines, q, value);
                 all = v128_and(all, v128_or(ok, f64x2_ge(z, splat(z_q))));
             }
