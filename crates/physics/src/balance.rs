@@ -1078,7 +1078,7 @@ pub struct SampleState {
 #[cfg(all(target_arch = "wasm32", target_feature = "simd128"))]
 mod simd128 {
     use super::{BalanceConstants, SampleBlock, BLOCK, EQUILIBRIUM_FRACTION_TOLERANCE};
-    use crate::math::simd128::{exp_poly_with, select, splat, ExpVectors};
+    use crate::math::simd128::{exp_poly_pair, select, splat, ExpVectors};
     use crate::params::{DesorptionModel, InitialIceState};
     use core::arch::wasm32::*;
 
@@ -1184,7 +1184,7 @@ mod simd128 {
             f64x2_add(
                 f64x2_mul(
                     l.nu,
-                    exp_poly_with(
+                    exp_poly_pair(
                         f64x2_mul(l.minus_binding, load(&block.inverse_temperature, q)),
                         k,
                     ),

@@ -140,6 +140,15 @@ pub fn exp_poly(x: f64) -> f64 {
     }
 }
 
+/// Where [`exp_poly`]'s result is a normal number and neither of its range tests applies:
+/// x in [-708, 709] gives n = round(x / ln 2) in [-1021, 1023] and p in [0.70, 1.42], so
+/// p 2^n lies in [2^-1022, 2^1024). The simd128 form takes a shorter, equal path there.
+#[cfg(all(target_arch = "wasm32", target_feature = "simd128"))]
+const EXP_NORMAL_LOW: f64 = -708.0;
+/// See [`EXP_NORMAL_LOW`].
+#[cfg(all(target_arch = "wasm32", target_feature = "simd128"))]
+const EXP_NORMAL_HIGH: f64 = 709.0;
+
 /// fdlibm's kernel coefficients (k_cos.c, k_sin.c) and pi/2 split (e_rem_pio2.c), by their
 /// bits: shared by [`cos_reduced`] and its simd128 form.
 mod cos_kernel {
@@ -261,7 +270,7 @@ pub fn exp_poly_slice(values: &mut [f64]) {
         // The constants once, read in the loop (see simd128::ExpVectors).
         let constants = core::hint::black_box(simd128::ExpVectors::new());
         for q in (0..pairs).step_by(2) {
-            let y = simd128::exp_poly_with(simd128::load2(values, q), &constants);
+            let y = simd128::exp_poly_pair(simd128::load2(values, q), &constants);
             simd128::store2(values, q, y);
         }
         for v in &mut values[pairs..] {
@@ -279,6 +288,7 @@ pub fn exp_poly_slice(values: &mut [f64]) {
 /// lane equals the scalar function bit for bit. Built only when the target has simd128.
 #[cfg(all(target_arch = "wasm32", target_feature = "simd128"))]
 pub(crate) mod simd128 {
+    use super::{EXP_NORMAL_HIGH, EXP_NORMAL_LOW};
     use core::arch::wasm32::*;
 
     /// Both lanes `x`.
@@ -310,6 +320,8 @@ pub(crate) mod simd128 {
         half: v128,
         bias: v128,
         infinity: v128,
+        normal_low: v128,
+        normal_high: v128,
     }
 
     impl ExpVectors {
@@ -343,6 +355,8 @@ pub(crate) mod simd128 {
                 half: splat(0.5),
                 bias: i64x2_splat(1023),
                 infinity: splat(f64::INFINITY),
+                normal_low: splat(EXP_NORMAL_LOW),
+                normal_high: splat(EXP_NORMAL_HIGH),
             }
         }
     }
@@ -360,7 +374,22 @@ pub(crate) mod simd128 {
         let zero = f64x2_lt(x, k.low);
         let infinite = f64x2_gt(x, k.high);
         let x = select(v128_or(zero, infinite), k.zero, x);
-        let n = f64x2_sub(f64x2_add(f64x2_mul(x, k.log2_e), k.shift), k.shift);
+        let (_, n, p) = exp_poly_reduced(x, k);
+        let k1 = f64x2_add(f64x2_mul(n, k.half), k.shift);
+        let n1 = f64x2_sub(k1, k.shift);
+        let k2 = f64x2_add(f64x2_sub(n, n1), k.shift);
+        let pow2 = |e: v128| i64x2_shl(i64x2_add(e, k.bias), 52);
+        let y = f64x2_mul(f64x2_mul(p, pow2(k1)), pow2(k2));
+        let y = select(zero, k.zero, y);
+        select(infinite, k.infinity, y)
+    }
+
+    /// The reduction and the polynomial of [`super::exp_poly`]: (x log2 e + 1.5 2^52, whose
+    /// low bits hold n; n; p = e^r).
+    #[inline(always)]
+    fn exp_poly_reduced(x: v128, k: &ExpVectors) -> (v128, v128, v128) {
+        let shifted = f64x2_add(f64x2_mul(x, k.log2_e), k.shift);
+        let n = f64x2_sub(shifted, k.shift);
         let r = f64x2_sub(f64x2_sub(x, f64x2_mul(n, k.ln2_hi)), f64x2_mul(n, k.ln2_lo));
         let r2 = f64x2_mul(r, r);
         let r4 = f64x2_mul(r2, r2);
@@ -373,13 +402,23 @@ pub(crate) mod simd128 {
         let b2 = f64x2_add(a4, f64x2_mul(a5, r2));
         let q = f64x2_add(f64x2_add(b0, f64x2_mul(b1, r4)), f64x2_mul(b2, r8));
         let p = f64x2_add(k.one, f64x2_add(r, f64x2_mul(r2, q)));
-        let k1 = f64x2_add(f64x2_mul(n, k.half), k.shift);
-        let n1 = f64x2_sub(k1, k.shift);
-        let k2 = f64x2_add(f64x2_sub(n, n1), k.shift);
-        let pow2 = |e: v128| i64x2_shl(i64x2_add(e, k.bias), 52);
-        let y = f64x2_mul(f64x2_mul(p, pow2(k1)), pow2(k2));
-        let y = select(zero, k.zero, y);
-        select(infinite, k.infinity, y)
+        (shifted, n, p)
+    }
+
+    /// [`exp_poly_with`], bit for bit, taking a shorter path when both lanes lie in
+    /// [`EXP_NORMAL_LOW`, `EXP_NORMAL_HIGH`] (what the model's exponentials nearly always are):
+    /// there no lane is out of range, and the result p 2^n is a normal number, so p 2^n1 2^n2
+    /// (two exact scalings) equals p 2^n (one exact scaling), formed from the reduction's own
+    /// shifted sum. Otherwise (a lane outside, or NaN) the general form.
+    #[inline(always)]
+    pub(crate) fn exp_poly_pair(x: v128, k: &ExpVectors) -> v128 {
+        let normal = v128_and(f64x2_ge(x, k.normal_low), f64x2_le(x, k.normal_high));
+        if i64x2_all_true(normal) {
+            let (shifted, _, p) = exp_poly_reduced(x, k);
+            f64x2_mul(p, i64x2_shl(i64x2_add(shifted, k.bias), 52))
+        } else {
+            exp_poly_with(x, k)
+        }
     }
 
     /// `values[i]` and `values[i + 1]` as one vector.
@@ -609,6 +648,39 @@ mod tests {
                     f64x2_extract_lane::<1>(e)
                 };
                 assert_eq!(ek.to_bits(), exp_poly(x * 200.0).to_bits(), "{x:e}");
+            }
+        }
+        // exp_poly_pair equals exp_poly in each lane: over the whole range, with pairs mixing a
+        // normal-range lane and one outside, and at the edges of the normal range.
+        let k = simd128::ExpVectors::new();
+        let mut args: Vec<f64> = uniform(400_000).map(|u| (u - 0.5) * 1600.0).collect();
+        args.extend(uniform(100_000).map(|u| -708.0 - u * 40.0));
+        args.extend(uniform(100_000).map(|u| 708.5 + u * 2.0));
+        for edge in [EXP_NORMAL_LOW, EXP_NORMAL_HIGH] {
+            let mut below = edge;
+            let mut above = edge;
+            for _ in 0..64 {
+                args.extend([below, above]);
+                below = f64::from_bits(below.to_bits() - 1);
+                above = f64::from_bits(above.to_bits() + 1);
+            }
+        }
+        args.extend([
+            0.0,
+            -0.0,
+            f64::NAN,
+            f64::INFINITY,
+            f64::NEG_INFINITY,
+            -745.2,
+            709.8,
+        ]);
+        let n = args.len();
+        for (a, b) in args.iter().zip(args.iter().rev().take(n)) {
+            for (x0, x1) in [(*a, *b), (*a, *a)] {
+                let e = simd128::exp_poly_pair(f64x2(x0, x1), &k);
+                let (e0, e1) = (f64x2_extract_lane::<0>(e), f64x2_extract_lane::<1>(e));
+                assert_eq!(e0.to_bits(), exp_poly(x0).to_bits(), "{x0:e}");
+                assert_eq!(e1.to_bits(), exp_poly(x1).to_bits(), "{x1:e}");
             }
         }
     }
