@@ -1061,15 +1061,29 @@ fn fill_column_portable(args: ColumnArgs<'_>, fine: &mut FineGrid, out: &mut Col
     let samples = n_z + 1;
     let g_star = c.fuv_1au_habing * AU_CM * AU_CM / r2;
     let per_h = 1.0 / (MASS_PER_HYDROGEN_NUCLEUS_AMU_H * HYDROGEN_MASS_G);
-    let fine_index = |s: usize| if s == 0 { 0 } else { 4 * (s - 1) + 2 };
     let range = base..base + samples;
-    for s in 0..samples {
-        let i = fine_index(s);
-        out.height_cm[base + s] = i as f64 * dz;
-        out.temperature_k[base + s] = fine.temperature[i];
-        out.density_g_cm3[base + s] = rho[i];
-        out.hydrogen_density_cm3[base + s] = rho[i] * per_h;
-        out.column_above_g_cm2[base + s] = above[i];
+    // Sample 0 is the midplane (fine point 0), sample s >= 1 the centre of vertical cell s - 1
+    // (fine point 4 (s - 1) + 2): the fine points 0, 2, 6, 10, ... (loops over slices, so no
+    // index is checked per sample).
+    fn pick(out: &mut [f64], fine: &[f64]) {
+        out[0] = fine[0];
+        for (o, &v) in out[1..].iter_mut().zip(fine[2..].iter().step_by(4)) {
+            *o = v;
+        }
+    }
+    pick(&mut out.temperature_k[range.clone()], &fine.temperature);
+    pick(&mut out.density_g_cm3[range.clone()], rho);
+    pick(&mut out.column_above_g_cm2[range.clone()], above);
+    pick(&mut out.height_cm[range.clone()], &fine.index);
+    for h in out.height_cm[range.clone()].iter_mut() {
+        // z = i dz of fine point i (the index is held as a double).
+        *h *= dz;
+    }
+    for (n, &d) in out.hydrogen_density_cm3[range.clone()]
+        .iter_mut()
+        .zip(&out.density_g_cm3[range.clone()])
+    {
+        *n = d * per_h;
     }
     // The four exponentials of every sample: their arguments, then one pass of exp_poly.
     fine.exps.resize(4 * samples, 0.0);
