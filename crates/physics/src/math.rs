@@ -495,14 +495,36 @@ pub(crate) mod simd128 {
     /// [`cos_reduced`] with its constants from `k`.
     #[inline(always)]
     pub(crate) fn cos_reduced_with(x: v128, k: &CosVectors) -> (v128, v128) {
-        let (add, sub, mul) = (f64x2_add, f64x2_sub, f64x2_mul);
-        let [c1, c2, c3, c4, c5, c6] = k.c;
-        let [s1, s2, s3, s4, s5, s6] = k.s;
         let high = v128_and(u64x2_shr(x, 32), k.sign_off);
-        let positive = i64x2_ge(x, k.zero);
         let small = i64x2_le(high, k.small);
         let tiny = i64x2_lt(high, k.tiny);
-        // k_cos(x, 0.0).
+        let value = select(tiny, k.one, select(small, cos_near(x, k), cos_far(x, k)));
+        (value, v128_or(small, cos_far_holds(x, high, k)))
+    }
+
+    /// [`cos_reduced_with`], bit for bit, computing only the kernel a pair needs when both of
+    /// its lanes need the same one (|x| <= pi/4: fdlibm's __cos; above: -__sin of x - pi/2),
+    /// as on the fine grid, where x grows with the index.
+    #[inline(always)]
+    pub(crate) fn cos_pair(x: v128, k: &CosVectors) -> (v128, v128) {
+        let high = v128_and(u64x2_shr(x, 32), k.sign_off);
+        let small = i64x2_le(high, k.small);
+        if i64x2_all_true(small) {
+            let tiny = i64x2_lt(high, k.tiny);
+            (select(tiny, k.one, cos_near(x, k)), small)
+        } else if !v128_any_true(small) {
+            // No lane is small, so none is tiny either.
+            (cos_far(x, k), cos_far_holds(x, high, k))
+        } else {
+            cos_reduced_with(x, k)
+        }
+    }
+
+    /// fdlibm's __cos(x, 0) (|x| <= pi/4).
+    #[inline(always)]
+    fn cos_near(x: v128, k: &CosVectors) -> v128 {
+        let (add, sub, mul) = (f64x2_add, f64x2_sub, f64x2_mul);
+        let [c1, c2, c3, c4, c5, c6] = k.c;
         let z = mul(x, x);
         let w = mul(z, z);
         let r = add(
@@ -511,11 +533,17 @@ pub(crate) mod simd128 {
         );
         let hz = mul(k.half, z);
         let w = sub(k.one, hz);
-        let near = add(
+        add(
             w,
             add(sub(sub(k.one, w), hz), sub(mul(z, r), mul(x, k.zero_f))),
-        );
-        // -__sin(y0, y1, 1) of y = x - pi/2.
+        )
+    }
+
+    /// -__sin(y0, y1, 1) of y = x - pi/2 in two parts (pi/4 < x <= 3 pi/4).
+    #[inline(always)]
+    fn cos_far(x: v128, k: &CosVectors) -> v128 {
+        let (add, sub, mul) = (f64x2_add, f64x2_sub, f64x2_mul);
+        let [s1, s2, s3, s4, s5, s6] = k.s;
         let z = sub(x, k.pio2_1);
         let y0 = sub(z, k.pio2_1t);
         let y1 = sub(sub(z, y0), k.pio2_1t);
@@ -526,22 +554,26 @@ pub(crate) mod simd128 {
             mul(mul(zz, w), add(s5, mul(zz, s6))),
         );
         let v = mul(zz, y0);
-        let far = f64x2_neg(sub(
+        f64x2_neg(sub(
             y0,
             sub(
                 sub(mul(zz, sub(mul(k.half, y1), mul(v, r))), y1),
                 mul(v, s1),
             ),
-        ));
-        let value = select(tiny, k.one, select(small, near, far));
-        let reduced = v128_and(
+        ))
+    }
+
+    /// Where [`cos_far`] is libm's value: 0 < x <= 3 pi/4, except the high word of pi/2.
+    #[inline(always)]
+    fn cos_far_holds(x: v128, high: v128, k: &CosVectors) -> v128 {
+        let positive = i64x2_ge(x, k.zero);
+        v128_and(
             v128_and(positive, i64x2_le(high, k.reduced_high)),
             v128_not(i64x2_eq(
                 v128_and(high, k.mantissa_high),
                 k.pio2_mantissa_high,
             )),
-        );
-        (value, v128_or(small, reduced))
+        )
     }
 }
 
