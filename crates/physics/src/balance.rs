@@ -971,6 +971,29 @@ impl BalanceConstants {
                     }
                 }
             }
+            // WebAssembly with simd128: a place that crosses one monolayer before the age and
+            // relaxes for k t > 40 after it ends on its root too (the case of nearly every place
+            // `settled_root` cannot prove, whose bound on the crossing time is too loose when
+            // the second rate is much the larger): proven with the crossing time that
+            // `Branches::evolve` computes (libm's log1p in two lanes, bit for bit), so its lane
+            // already holds `Branches::evolve`'s numbers.
+            #[cfg(all(target_arch = "wasm32", target_feature = "simd128"))]
+            if settled[..len].iter().any(|&s| !s) {
+                let lanes = core::hint::black_box(self.lane_vectors(i, per_h, inverse_per_h));
+                let log1p = core::hint::black_box(crate::math::simd128::Log1pVectors::new());
+                let mut q = 0;
+                while q < len {
+                    let second = q + 1 < len;
+                    if !settled[q] || (second && !settled[q + 1]) {
+                        let proven = self.crossing_settled(block, q, &lanes, &desorption, &log1p);
+                        settled[q] |= proven & 1 != 0;
+                        if second {
+                            settled[q + 1] |= proven & 2 != 0;
+                        }
+                    }
+                    q += 2;
+                }
+            }
             for q in 0..len {
                 if !settled[q] {
                     let state = AgedIceState {
@@ -1078,7 +1101,9 @@ pub struct SampleState {
 #[cfg(all(target_arch = "wasm32", target_feature = "simd128"))]
 mod simd128 {
     use super::{BalanceConstants, SampleBlock, BLOCK, EQUILIBRIUM_FRACTION_TOLERANCE};
-    use crate::math::simd128::{exp_poly_pair, select, splat, ExpVectors};
+    use crate::math::simd128::{
+        exp_poly_pair, log1p_positive, select, splat, ExpVectors, Log1pVectors,
+    };
     use crate::params::{DesorptionModel, InitialIceState};
     use core::arch::wasm32::*;
 
@@ -1321,6 +1346,61 @@ mod simd128 {
                 flag: i64x2_bitmask(out),
                 settled: i64x2_bitmask(done),
             }
+        }
+
+        /// Whether places `q` and `q + 1` (bit 0 and bit 1) provably end on their branch's root
+        /// after crossing n = M: [`Branches::evolve`](super::Branches)'s crossing time
+        /// ln(1 + num/den) / rate, computed with the same operations (libm's log1p by
+        /// [`log1p_positive`]), lies before the age and the relaxation after it has k t > 40,
+        /// where libm's expm1 returns exactly -1 (below -38.8), so relax gives the root to the
+        /// bit. The branches are recomputed as [`BalanceConstants::lane_pair`] forms them.
+        #[inline(always)]
+        pub(super) fn crossing_settled(
+            &self,
+            block: &SampleBlock,
+            q: usize,
+            l: &LaneVectors,
+            desorption: &[f64; BLOCK],
+            log1p: &Log1pVectors,
+        ) -> u8 {
+            let (add, sub, mul) = (f64x2_add, f64x2_sub, f64x2_mul);
+            let desorption = load(desorption, q);
+            let grain_area = load(&block.grain_area, q);
+            let m = load(&block.monolayer, q);
+            let molecules = mul(l.per_h, load(&block.hydrogen_density, q));
+            let a = mul(
+                mul(mul(l.sticking, grain_area), l.thermal_speed_coefficient),
+                load(&block.sqrt_temperature, q),
+            );
+            let inverse_adsorption = mul(
+                l.inverse_sticking_speed,
+                load(&block.inverse_area_sqrt_temperature, q),
+            );
+            let per_monolayer = mul(load(&block.fuv_per_site, q), l.yields);
+            let thin_rate = add(add(a, desorption), per_monolayer);
+            let thin_root = mul(mul(a, f64x2_div(l.one, thin_rate)), molecules);
+            let thick_root = sub(
+                molecules,
+                mul(mul(m, add(desorption, per_monolayer)), inverse_adsorption),
+            );
+            let initial = v128_and(molecules, l.inherited);
+            let above = f64x2_gt(initial, m);
+            let to_thin = v128_andnot(v128_and(l.zeroth, above), f64x2_ge(thick_root, m));
+            let to_thick = v128_andnot(v128_andnot(l.zeroth, above), f64x2_le(thin_root, m));
+            let num = select(to_thin, sub(initial, m), sub(m, initial));
+            let den = select(to_thin, sub(m, thick_root), sub(thin_root, m));
+            let first = select(to_thin, a, thin_rate);
+            let second = select(to_thin, thin_rate, a);
+            let ratio = f64x2_div(num, den);
+            let switch = f64x2_div(log1p_positive(ratio, log1p), first);
+            let proven = v128_and(
+                v128_and(v128_or(to_thin, to_thick), f64x2_gt(ratio, l.zero)),
+                v128_and(
+                    f64x2_gt(l.age, switch),
+                    f64x2_gt(mul(second, sub(l.age, switch)), l.settled_rate_time),
+                ),
+            );
+            i64x2_bitmask(proven)
         }
     }
 }

@@ -575,6 +575,115 @@ pub(crate) mod simd128 {
             )),
         )
     }
+
+    /// The constants of [`log1p_positive`]: those of fdlibm's s_log1p.c as libm has them, and
+    /// the bit masks of its branches.
+    #[derive(Clone, Copy)]
+    pub(crate) struct Log1pVectors {
+        zero: v128,
+        one: v128,
+        half: v128,
+        two: v128,
+        ln2_hi: v128,
+        ln2_lo: v128,
+        lg: [v128; 7],
+        exponent_bits: v128,
+        two_52_plus_bias: v128,
+        tiny: v128,
+        reduce: v128,
+        infinite: v128,
+        high_offset: v128,
+        high_mantissa: v128,
+        high_base: v128,
+        low_word: v128,
+        k_two: v128,
+        k_54: v128,
+    }
+
+    impl Log1pVectors {
+        /// The constants.
+        #[inline(always)]
+        pub(crate) fn new() -> Log1pVectors {
+            let int = i64x2_splat;
+            Log1pVectors {
+                zero: splat(0.0),
+                one: splat(1.0),
+                half: splat(0.5),
+                two: splat(2.0),
+                ln2_hi: splat(f64::from_bits(0x3fe6_2e42_fee0_0000)),
+                ln2_lo: splat(f64::from_bits(0x3dea_39ef_3579_3c76)),
+                lg: [
+                    6.666_666_666_666_735_130e-1,
+                    3.999_999_999_940_941_908e-1,
+                    2.857_142_874_366_239_149e-1,
+                    2.222_219_843_214_978_396e-1,
+                    1.818_357_216_161_805_012e-1,
+                    1.531_383_769_920_937_332e-1,
+                    1.479_819_860_511_658_591e-1,
+                ]
+                .map(splat),
+                exponent_bits: int(0x4330_0000_0000_0000),
+                two_52_plus_bias: splat(4_503_599_627_370_496.0 + 1023.0),
+                tiny: int(0x3ca0_0000),
+                reduce: int(0x3fda_827a),
+                infinite: int(0x7ff0_0000),
+                high_offset: int(0x3ff0_0000 - 0x3fe6_a09e),
+                high_mantissa: int(0x000f_ffff),
+                high_base: int(0x3fe6_a09e),
+                low_word: int(0xffff_ffff),
+                k_two: int(1023 + 2),
+                k_54: int(1023 + 54),
+            }
+        }
+    }
+
+    /// libm's `log1p` (fdlibm's s_log1p.c) in two lanes, bit for bit, for x > 0 (the caller
+    /// checks; other lanes' values are meaningless): x < 2^-53 gives x, infinity gives x, below
+    /// sqrt(2) - 1 no reduction (k = 0), else u = 1 + x reduced into [sqrt(2)/2, sqrt(2)) by its
+    /// high word with the correction c; every branch computed, then selected.
+    #[inline(always)]
+    pub(crate) fn log1p_positive(x: v128, c: &Log1pVectors) -> v128 {
+        let (add, sub, mul) = (f64x2_add, f64x2_sub, f64x2_mul);
+        let hx = u64x2_shr(x, 32);
+        let tiny = i64x2_lt(hx, c.tiny);
+        let reduce = i64x2_ge(hx, c.reduce);
+        let infinite = i64x2_ge(hx, c.infinite);
+        // The reduction of u = 1 + x.
+        let u = add(c.one, x);
+        let hu = i64x2_add(u64x2_shr(u, 32), c.high_offset);
+        let k_biased = u64x2_shr(hu, 20);
+        let dk_reduced = sub(v128_or(k_biased, c.exponent_bits), c.two_52_plus_bias);
+        let correction = f64x2_div(
+            select(
+                i64x2_ge(k_biased, c.k_two),
+                sub(c.one, sub(u, x)),
+                sub(x, sub(u, c.one)),
+            ),
+            u,
+        );
+        let correction = select(i64x2_lt(k_biased, c.k_54), correction, c.zero);
+        let high = i64x2_add(v128_and(hu, c.high_mantissa), c.high_base);
+        let reduced = v128_or(i64x2_shl(high, 32), v128_and(u, c.low_word));
+        let f = select(reduce, sub(reduced, c.one), x);
+        let cc = select(reduce, correction, c.zero);
+        let dk = select(reduce, dk_reduced, c.zero);
+        let hfsq = mul(mul(c.half, f), f);
+        let s = f64x2_div(f, add(c.two, f));
+        let z = mul(s, s);
+        let w = mul(z, z);
+        let [lg1, lg2, lg3, lg4, lg5, lg6, lg7] = c.lg;
+        let t1 = mul(w, add(lg2, mul(w, add(lg4, mul(w, lg6)))));
+        let t2 = mul(z, add(lg1, mul(w, add(lg3, mul(w, add(lg5, mul(w, lg7)))))));
+        let r = add(t2, t1);
+        let value = add(
+            add(
+                sub(add(mul(s, add(hfsq, r)), add(mul(dk, c.ln2_lo), cc)), hfsq),
+                f,
+            ),
+            mul(dk, c.ln2_hi),
+        );
+        select(v128_or(tiny, infinite), x, value)
+    }
 }
 
 #[cfg(test)]
@@ -713,6 +822,55 @@ mod tests {
                 let (e0, e1) = (f64x2_extract_lane::<0>(e), f64x2_extract_lane::<1>(e));
                 assert_eq!(e0.to_bits(), exp_poly(x0).to_bits(), "{x0:e}");
                 assert_eq!(e1.to_bits(), exp_poly(x1).to_bits(), "{x1:e}");
+            }
+        }
+    }
+
+    /// The simd128 form of libm's log1p (for x > 0) gives libm's bits in each lane: over
+    /// 1e-30 .. 1e308, at every branch boundary of fdlibm's code (by the high word, and where
+    /// the reduction's k reaches 2 and 54) and at special values (WebAssembly with simd128 only;
+    /// derived, D).
+    #[cfg(all(target_arch = "wasm32", target_feature = "simd128"))]
+    #[test]
+    fn simd128_log1p_equals_libm() {
+        use core::arch::wasm32::{f64x2, f64x2_extract_lane};
+        let c = simd128::Log1pVectors::new();
+        let around = |v: f64| {
+            let mut out = vec![v];
+            let (mut lo, mut hi) = (v, v);
+            for _ in 0..40 {
+                lo = f64::from_bits(lo.to_bits() - 1);
+                hi = f64::from_bits(hi.to_bits() + 1);
+                out.extend([lo, hi]);
+            }
+            out
+        };
+        let mut xs: Vec<f64> = uniform(300_000)
+            .map(|u| (10f64).powf(-30.0 + 338.0 * u))
+            .collect();
+        xs.extend(uniform(100_000).map(|u| u * 4.0));
+        for h in [0x3ca0_0000_u64, 0x3fda_827a, 0x7fe0_0000] {
+            xs.extend(around(f64::from_bits(h << 32)));
+        }
+        for v in [
+            core::f64::consts::SQRT_2 - 1.0,
+            1.0,
+            3.0,
+            (2f64).powi(53),
+            (2f64).powi(54),
+            (2f64).powi(55),
+        ] {
+            xs.extend(around(v));
+        }
+        xs.extend([5e-324, f64::MAX, f64::INFINITY, 1e-300]);
+        if xs.len() % 2 == 1 {
+            xs.push(1.0);
+        }
+        for pair in xs.chunks_exact(2) {
+            let v = simd128::log1p_positive(f64x2(pair[0], pair[1]), &c);
+            let got = [f64x2_extract_lane::<0>(v), f64x2_extract_lane::<1>(v)];
+            for (g, &x) in got.iter().zip(pair) {
+                assert_eq!(g.to_bits(), libm::log1p(x).to_bits(), "log1p({x:e})");
             }
         }
     }
