@@ -855,18 +855,30 @@ impl BalanceConstants {
             // WebAssembly with simd128: two places per vector, explicitly (module `simd128`).
             #[cfg(all(target_arch = "wasm32", target_feature = "simd128"))]
             {
+                use crate::math::simd128::store2;
                 use core::arch::wasm32::f64x2_extract_lane;
-                // The exponential's constants once, read in the loop (see ExpVectors).
+                // The constants once, read in the loops (see ExpVectors).
                 let constants = core::hint::black_box(crate::math::simd128::ExpVectors::new());
+                let lanes = core::hint::black_box(self.lane_vectors(i, per_h, inverse_per_h));
+                // Two passes, so that each loop holds fewer vectors at once: the desorption
+                // rates B of every place of the block (the exponential), then the rest of the
+                // lane from them (the same operations on the same numbers).
                 let mut q = 0;
                 while q < len {
-                    let pair = self.lane_pair(i, per_h, inverse_per_h, block, q, &constants);
+                    store2(
+                        &mut desorption,
+                        q,
+                        self.desorption_pair(block, q, &lanes, &constants),
+                    );
+                    q += 2;
+                }
+                let mut q = 0;
+                while q < len {
+                    let pair = self.lane_pair(block, q, &lanes, &desorption);
                     if q + 1 < len {
-                        use crate::math::simd128::store2;
                         store2(ice, q, pair.ice);
                         store2(equilibrium, q, pair.equilibrium);
                         store2(time, q, pair.time);
-                        store2(&mut desorption, q, pair.desorption);
                         flag[q] = pair.flag & 1 != 0;
                         flag[q + 1] = pair.flag & 2 != 0;
                         settled[q] = pair.settled & 1 != 0;
@@ -876,7 +888,6 @@ impl BalanceConstants {
                         ice[q] = f64x2_extract_lane::<0>(pair.ice);
                         equilibrium[q] = f64x2_extract_lane::<0>(pair.equilibrium);
                         time[q] = f64x2_extract_lane::<0>(pair.time);
-                        desorption[q] = f64x2_extract_lane::<0>(pair.desorption);
                         flag[q] = pair.flag & 1 != 0;
                         settled[q] = pair.settled & 1 != 0;
                     }
@@ -958,6 +969,29 @@ impl BalanceConstants {
                         settled[full + k] = lanes.settled[k];
                         desorption[full + k] = lanes.desorption[k];
                     }
+                }
+            }
+            // WebAssembly with simd128: a place that crosses one monolayer before the age and
+            // relaxes for k t > 40 after it ends on its root too (the case of nearly every place
+            // `settled_root` cannot prove, whose bound on the crossing time is too loose when
+            // the second rate is much the larger): proven with the crossing time that
+            // `Branches::evolve` computes (libm's log1p in two lanes, bit for bit), so its lane
+            // already holds `Branches::evolve`'s numbers.
+            #[cfg(all(target_arch = "wasm32", target_feature = "simd128"))]
+            if settled[..len].iter().any(|&s| !s) {
+                let lanes = core::hint::black_box(self.lane_vectors(i, per_h, inverse_per_h));
+                let log1p = core::hint::black_box(crate::math::simd128::Log1pVectors::new());
+                let mut q = 0;
+                while q < len {
+                    let second = q + 1 < len;
+                    if !settled[q] || (second && !settled[q + 1]) {
+                        let proven = self.crossing_settled(block, q, &lanes, &desorption, &log1p);
+                        settled[q] |= proven & 1 != 0;
+                        if second {
+                            settled[q + 1] |= proven & 2 != 0;
+                        }
+                    }
+                    q += 2;
                 }
             }
             for q in 0..len {
@@ -1067,7 +1101,9 @@ pub struct SampleState {
 #[cfg(all(target_arch = "wasm32", target_feature = "simd128"))]
 mod simd128 {
     use super::{BalanceConstants, SampleBlock, BLOCK, EQUILIBRIUM_FRACTION_TOLERANCE};
-    use crate::math::simd128::{exp_poly_with, ln_upper_bound, select, splat, ExpVectors};
+    use crate::math::simd128::{
+        exp_poly_pair, log1p_positive, select, splat, ExpVectors, Log1pVectors,
+    };
     use crate::params::{DesorptionModel, InitialIceState};
     use core::arch::wasm32::*;
 
@@ -1081,75 +1117,151 @@ mod simd128 {
         unsafe { v128_load(values.as_ptr().add(q).cast::<v128>()) }
     }
 
-    /// `clamp_unit`, two lanes.
-    #[inline(always)]
-    fn clamp_unit(f: v128) -> v128 {
-        let f = select(f64x2_lt(f, splat(0.0)), splat(0.0), f);
-        select(f64x2_gt(f, splat(1.0)), splat(1.0), f)
-    }
-
     /// The outputs of places `q` and `q + 1`.
     pub(super) struct Pair {
         pub(super) ice: v128,
         pub(super) equilibrium: v128,
         pub(super) time: v128,
-        pub(super) desorption: v128,
         /// Bit 0: place q, bit 1: place q + 1.
         pub(super) flag: u8,
         pub(super) settled: u8,
     }
 
+    /// The vectors a lane pair of one species reads: the species' constants and x (and 1/x),
+    /// the disk's constants and the fixed numbers of the lane, built once per species and
+    /// block (through `core::hint::black_box`, so that the loop reads them from memory instead
+    /// of materialising each constant in every iteration, see `ExpVectors`).
+    #[derive(Clone, Copy)]
+    pub(super) struct LaneVectors {
+        nu: v128,
+        minus_binding: v128,
+        cr_per_zeta: v128,
+        sticking: v128,
+        thermal_speed_coefficient: v128,
+        inverse_sticking_speed: v128,
+        yields: v128,
+        per_h: v128,
+        inverse_per_h: v128,
+        age: v128,
+        zeroth: v128,
+        /// All ones unless the initial state is the equilibrium.
+        kinetic: v128,
+        /// All ones when the initial state is inherited (n0 = N), else zero (n0 = 0).
+        inherited: v128,
+        zero: v128,
+        one: v128,
+        nan: v128,
+        settled_rate_time: v128,
+        ln_2: v128,
+        margin: v128,
+        min_positive: v128,
+        max: v128,
+        tolerance: v128,
+        exponent_bits: v128,
+        two_52: v128,
+        bias: v128,
+    }
+
     impl BalanceConstants {
-        /// [`BalanceConstants::lane`] for places `q` and `q + 1` of a block, species `i`.
+        /// The [`LaneVectors`] of species `i` with `per_h` (and its inverse) molecules per H.
+        #[inline(always)]
+        pub(super) fn lane_vectors(&self, i: usize, per_h: f64, inverse_per_h: f64) -> LaneVectors {
+            let mask = |b: bool| u64x2_splat(if b { u64::MAX } else { 0 });
+            LaneVectors {
+                nu: splat(self.nu[i]),
+                minus_binding: splat(self.minus_binding[i]),
+                cr_per_zeta: splat(self.cr_per_zeta[i]),
+                sticking: splat(self.sticking),
+                thermal_speed_coefficient: splat(self.thermal_speed_coefficient[i]),
+                inverse_sticking_speed: splat(self.inverse_sticking_speed[i]),
+                yields: splat(self.yields[i]),
+                per_h: splat(per_h),
+                inverse_per_h: splat(inverse_per_h),
+                age: splat(self.age_s),
+                zeroth: mask(self.model == DesorptionModel::ZerothOrder),
+                kinetic: mask(self.initial_state != InitialIceState::Equilibrium),
+                inherited: mask(self.initial_state == InitialIceState::Inherited),
+                zero: splat(0.0),
+                one: splat(1.0),
+                nan: splat(f64::NAN),
+                settled_rate_time: splat(40.0),
+                ln_2: splat(core::f64::consts::LN_2),
+                margin: splat(1.0 + 1e-9),
+                min_positive: splat(f64::MIN_POSITIVE),
+                max: splat(f64::MAX),
+                tolerance: splat(EQUILIBRIUM_FRACTION_TOLERANCE),
+                exponent_bits: i64x2_splat(0x4330_0000_0000_0000),
+                two_52: splat(4_503_599_627_370_496.0),
+                bias: splat(1022.0),
+            }
+        }
+
+        /// The desorption rates B = nu exp(-E_b/T) + B_cr of places `q` and `q + 1` of a block
+        /// ([`BalanceConstants::branches_at`]'s first line).
+        #[inline(always)]
+        pub(super) fn desorption_pair(
+            &self,
+            block: &SampleBlock,
+            q: usize,
+            l: &LaneVectors,
+            k: &ExpVectors,
+        ) -> v128 {
+            f64x2_add(
+                f64x2_mul(
+                    l.nu,
+                    exp_poly_pair(
+                        f64x2_mul(l.minus_binding, load(&block.inverse_temperature, q)),
+                        k,
+                    ),
+                ),
+                f64x2_mul(l.cr_per_zeta, load(&block.ionization_rate, q)),
+            )
+        }
+
+        /// [`BalanceConstants::lane`] for places `q` and `q + 1` of a block, with their
+        /// desorption rates B from [`BalanceConstants::desorption_pair`] in `desorption`.
         #[inline(always)]
         pub(super) fn lane_pair(
             &self,
-            i: usize,
-            per_h: f64,
-            inverse_per_h: f64,
             block: &SampleBlock,
             q: usize,
-            k: &ExpVectors,
+            l: &LaneVectors,
+            desorption: &[f64; BLOCK],
         ) -> Pair {
-            let age = splat(self.age_s);
-            let inverse_temperature = load(&block.inverse_temperature, q);
+            // `clamp_unit`, two lanes.
+            let clamp_unit = |f: v128| {
+                let f = select(f64x2_lt(f, l.zero), l.zero, f);
+                select(f64x2_gt(f, l.one), l.one, f)
+            };
+            // `ln_upper_bound`, two lanes.
+            let ln_upper_bound = |y: v128| {
+                let biased = f64x2_sub(v128_or(l.exponent_bits, u64x2_shr(y, 52)), l.two_52);
+                f64x2_mul(f64x2_sub(biased, l.bias), l.ln_2)
+            };
+            let age = l.age;
+            let desorption = load(desorption, q);
             let sqrt_temperature = load(&block.sqrt_temperature, q);
             let grain_area = load(&block.grain_area, q);
             let inverse_area_sqrt_temperature = load(&block.inverse_area_sqrt_temperature, q);
             let monolayer = load(&block.monolayer, q);
             let fuv_per_site = load(&block.fuv_per_site, q);
-            let ionization_rate = load(&block.ionization_rate, q);
-            let molecules = f64x2_mul(splat(per_h), load(&block.hydrogen_density, q));
-            let inverse_molecules = f64x2_mul(
-                splat(inverse_per_h),
-                load(&block.inverse_hydrogen_density, q),
-            );
-            // branches_at / branches_given.
-            let desorption = f64x2_add(
-                f64x2_mul(
-                    splat(self.nu[i]),
-                    exp_poly_with(
-                        f64x2_mul(splat(self.minus_binding[i]), inverse_temperature),
-                        k,
-                    ),
-                ),
-                f64x2_mul(splat(self.cr_per_zeta[i]), ionization_rate),
-            );
+            let molecules = f64x2_mul(l.per_h, load(&block.hydrogen_density, q));
+            let inverse_molecules =
+                f64x2_mul(l.inverse_per_h, load(&block.inverse_hydrogen_density, q));
+            // branches_given.
             let adsorption = f64x2_mul(
                 f64x2_mul(
-                    f64x2_mul(splat(self.sticking), grain_area),
-                    splat(self.thermal_speed_coefficient[i]),
+                    f64x2_mul(l.sticking, grain_area),
+                    l.thermal_speed_coefficient,
                 ),
                 sqrt_temperature,
             );
-            let inverse_adsorption = f64x2_mul(
-                splat(self.inverse_sticking_speed[i]),
-                inverse_area_sqrt_temperature,
-            );
-            let per_monolayer = f64x2_mul(fuv_per_site, splat(self.yields[i]));
+            let inverse_adsorption =
+                f64x2_mul(l.inverse_sticking_speed, inverse_area_sqrt_temperature);
+            let per_monolayer = f64x2_mul(fuv_per_site, l.yields);
             // Branches::new.
             let thin_rate = f64x2_add(f64x2_add(adsorption, desorption), per_monolayer);
-            let inverse_thin_rate = f64x2_div(splat(1.0), thin_rate);
+            let inverse_thin_rate = f64x2_div(l.one, thin_rate);
             let thin_fraction = f64x2_mul(adsorption, inverse_thin_rate);
             let thin_root = f64x2_mul(thin_fraction, molecules);
             let thick_root = f64x2_sub(
@@ -1159,16 +1271,9 @@ mod simd128 {
                     inverse_adsorption,
                 ),
             );
-            let zeroth = if self.model == DesorptionModel::ZerothOrder {
-                u64x2_splat(u64::MAX)
-            } else {
-                u64x2_splat(0)
-            };
+            let zeroth = l.zeroth;
             // lane.
-            let valid = v128_and(
-                f64x2_gt(molecules, splat(0.0)),
-                f64x2_gt(grain_area, splat(0.0)),
-            );
+            let valid = v128_and(f64x2_gt(molecules, l.zero), f64x2_gt(grain_area, l.zero));
             let thin = v128_or(v128_not(zeroth), f64x2_le(thin_root, monolayer));
             let equilibrium = select(
                 valid,
@@ -1177,23 +1282,15 @@ mod simd128 {
                     thin_fraction,
                     clamp_unit(f64x2_mul(thick_root, inverse_molecules)),
                 ),
-                splat(0.0),
+                l.zero,
             );
             let time = select(
                 valid,
                 select(thin, inverse_thin_rate, inverse_adsorption),
-                splat(f64::NAN),
+                l.nan,
             );
-            let kinetic = if self.initial_state != InitialIceState::Equilibrium {
-                valid
-            } else {
-                u64x2_splat(0)
-            };
-            let initial = if self.initial_state == InitialIceState::Inherited {
-                molecules
-            } else {
-                splat(0.0)
-            };
+            let kinetic = v128_and(valid, l.kinetic);
+            let initial = v128_and(molecules, l.inherited);
             // Branches::settled_root(initial, age).
             let (a, m) = (adsorption, monolayer);
             let above = f64x2_gt(initial, m);
@@ -1204,7 +1301,7 @@ mod simd128 {
             let to_thick = v128_and(v128_andnot(zeroth, above), v128_not(thin_holds));
             let root = select(v128_or(direct_thick, to_thick), thick_root, thin_root);
             let direct_rate = select(direct_thick, a, thin_rate);
-            let direct = f64x2_gt(f64x2_mul(direct_rate, age), splat(40.0));
+            let direct = f64x2_gt(f64x2_mul(direct_rate, age), l.settled_rate_time);
             let num = select(to_thin, f64x2_sub(initial, m), f64x2_sub(m, initial));
             let den = select(to_thin, f64x2_sub(m, thick_root), f64x2_sub(thin_root, m));
             let inverse_first = select(to_thin, inverse_adsorption, inverse_thin_rate);
@@ -1212,22 +1309,19 @@ mod simd128 {
             let sum = f64x2_add(num, den);
             let crossing = f64x2_mul(
                 f64x2_mul(
-                    f64x2_add(
-                        f64x2_sub(ln_upper_bound(sum), ln_upper_bound(den)),
-                        splat(core::f64::consts::LN_2),
-                    ),
+                    f64x2_add(f64x2_sub(ln_upper_bound(sum), ln_upper_bound(den)), l.ln_2),
                     inverse_first,
                 ),
-                splat(1.0 + 1e-9),
+                l.margin,
             );
             let switched = v128_and(
-                v128_and(
-                    f64x2_ge(den, splat(f64::MIN_POSITIVE)),
-                    f64x2_lt(sum, splat(f64::MAX)),
-                ),
+                v128_and(f64x2_ge(den, l.min_positive), f64x2_lt(sum, l.max)),
                 v128_and(
                     f64x2_gt(age, crossing),
-                    f64x2_gt(f64x2_mul(second, f64x2_sub(age, crossing)), splat(40.0)),
+                    f64x2_gt(
+                        f64x2_mul(second, f64x2_sub(age, crossing)),
+                        l.settled_rate_time,
+                    ),
                 ),
             );
             let settled = select(v128_or(to_thin, to_thick), switched, direct);
@@ -1241,10 +1335,7 @@ mod simd128 {
                 f64x2_gt(time, age),
                 v128_and(
                     kinetic,
-                    f64x2_gt(
-                        f64x2_abs(f64x2_sub(aged, equilibrium)),
-                        splat(EQUILIBRIUM_FRACTION_TOLERANCE),
-                    ),
+                    f64x2_gt(f64x2_abs(f64x2_sub(aged, equilibrium)), l.tolerance),
                 ),
             );
             let done = v128_or(settled, v128_not(kinetic));
@@ -1252,10 +1343,64 @@ mod simd128 {
                 ice: aged,
                 equilibrium,
                 time,
-                desorption,
                 flag: i64x2_bitmask(out),
                 settled: i64x2_bitmask(done),
             }
+        }
+
+        /// Whether places `q` and `q + 1` (bit 0 and bit 1) provably end on their branch's root
+        /// after crossing n = M: [`Branches::evolve`](super::Branches)'s crossing time
+        /// ln(1 + num/den) / rate, computed with the same operations (libm's log1p by
+        /// [`log1p_positive`]), lies before the age and the relaxation after it has k t > 40,
+        /// where libm's expm1 returns exactly -1 (below -38.8), so relax gives the root to the
+        /// bit. The branches are recomputed as [`BalanceConstants::lane_pair`] forms them.
+        #[inline(always)]
+        pub(super) fn crossing_settled(
+            &self,
+            block: &SampleBlock,
+            q: usize,
+            l: &LaneVectors,
+            desorption: &[f64; BLOCK],
+            log1p: &Log1pVectors,
+        ) -> u8 {
+            let (add, sub, mul) = (f64x2_add, f64x2_sub, f64x2_mul);
+            let desorption = load(desorption, q);
+            let grain_area = load(&block.grain_area, q);
+            let m = load(&block.monolayer, q);
+            let molecules = mul(l.per_h, load(&block.hydrogen_density, q));
+            let a = mul(
+                mul(mul(l.sticking, grain_area), l.thermal_speed_coefficient),
+                load(&block.sqrt_temperature, q),
+            );
+            let inverse_adsorption = mul(
+                l.inverse_sticking_speed,
+                load(&block.inverse_area_sqrt_temperature, q),
+            );
+            let per_monolayer = mul(load(&block.fuv_per_site, q), l.yields);
+            let thin_rate = add(add(a, desorption), per_monolayer);
+            let thin_root = mul(mul(a, f64x2_div(l.one, thin_rate)), molecules);
+            let thick_root = sub(
+                molecules,
+                mul(mul(m, add(desorption, per_monolayer)), inverse_adsorption),
+            );
+            let initial = v128_and(molecules, l.inherited);
+            let above = f64x2_gt(initial, m);
+            let to_thin = v128_andnot(v128_and(l.zeroth, above), f64x2_ge(thick_root, m));
+            let to_thick = v128_andnot(v128_andnot(l.zeroth, above), f64x2_le(thin_root, m));
+            let num = select(to_thin, sub(initial, m), sub(m, initial));
+            let den = select(to_thin, sub(m, thick_root), sub(thin_root, m));
+            let first = select(to_thin, a, thin_rate);
+            let second = select(to_thin, thin_rate, a);
+            let ratio = f64x2_div(num, den);
+            let switch = f64x2_div(log1p_positive(ratio, log1p), first);
+            let proven = v128_and(
+                v128_and(v128_or(to_thin, to_thick), f64x2_gt(ratio, l.zero)),
+                v128_and(
+                    f64x2_gt(l.age, switch),
+                    f64x2_gt(mul(second, sub(l.age, switch)), l.settled_rate_time),
+                ),
+            );
+            i64x2_bitmask(proven)
         }
     }
 }

@@ -176,7 +176,7 @@ impl Model {
         )?;
         self.structure.fill(parameters, plan);
         self.parameters = parameters.clone();
-        self.table = SpeciesTable::built_in();
+        // `self.table` is the built-in table already (every model holds it).
         self.species = species_properties(parameters, &self.table);
         self.balance = BalanceConstants::new(parameters, &self.species);
         self.composition = composition;

@@ -292,8 +292,13 @@ fn parse_table() -> Result<SpeciesTable, String> {
 impl SpeciesTable {
     /// The table compiled into the core from `data/*.csv`.
     pub fn built_in() -> SpeciesTable {
-        // Invariant: the compiled-in data parse (checked by the unit test `built_in_table_parses`).
-        parse_table().expect("built-in species data parse")
+        // Parsed once per process (every run and every disk check asks for it); a copy of
+        // that. Invariant: the compiled-in data parse (checked by the unit test
+        // `built_in_table_parses`).
+        static TABLE: std::sync::OnceLock<SpeciesTable> = std::sync::OnceLock::new();
+        TABLE
+            .get_or_init(|| parse_table().expect("built-in species data parse"))
+            .clone()
     }
     /// Data of one species.
     pub fn get(&self, species: Species) -> &SpeciesData {
