@@ -654,6 +654,14 @@ const App = ((util, core, controls) => {
   let shownShape = "";
   let shownCells = [];
 
+  // A cell's text: its one text node's data rewritten in place (cheaper than
+  // textContent, which replaces the node), else textContent.
+  function setText(el, text) {
+    const node = el.firstChild;
+    if (node && node.nodeType === Node.TEXT_NODE && !node.nextSibling && text !== "") node.data = text;
+    else el.textContent = text;
+  }
+
   function fillSnowlineTable() {
     // The core's JSON text of the rows: compared as text, parsed only when it changed.
     const text = Core.explorer.snowlineTableJson();
@@ -667,7 +675,7 @@ const App = ((util, core, controls) => {
     if (shape === shownShape && shownCells.length === flat.length) {
       flat.forEach((c, i) => {
         const shown = shownCells[i];
-        if (shown.spec.text !== c.text) shown.el.textContent = c.text;
+        if (shown.spec.text !== c.text) setText(shown.el, c.text);
         c.attrs.forEach(([k, v], j) => { if (shown.spec.attrs[j][1] !== v) shown.el.setAttribute(k, v); });
         shown.spec = c;
       });
