@@ -327,10 +327,11 @@ impl Explorer {
         self.view_data(&key)?;
         // Invariant: built just above.
         let data = self.data.get(&key).expect("view data present");
-        let canvas = match get(DrawOptions::canvas).filter(|c| c.is_instance_of::<HtmlCanvasElement>()) {
-            Some(c) => c.unchecked_into::<HtmlCanvasElement>(),
-            None => canvas::canvas_by_id(canvas_id).map_err(|e| JsError::new(&e))?,
-        };
+        let canvas =
+            match get(DrawOptions::canvas).filter(|c| c.is_instance_of::<HtmlCanvasElement>()) {
+                Some(c) => c.unchecked_into::<HtmlCanvasElement>(),
+                None => canvas::canvas_by_id(canvas_id).map_err(|e| JsError::new(&e))?,
+            };
         let size = (canvas.width(), canvas.height());
         let pixels_per_point = CSS_PX_PER_POINT * ratio;
         let previous = self
@@ -554,7 +555,10 @@ impl Explorer {
                 &js_sys::Reflect::get(&views, &JsValue::from_str(&key))
                     .map_err(|_| JsError::new("packet view"))?,
             )?;
-            data.insert(key, Rc::new(from_parts(&parts).map_err(|e| JsError::new(&e))?));
+            data.insert(
+                key,
+                Rc::new(from_parts(&parts).map_err(|e| JsError::new(&e))?),
+            );
         }
         self.data = data;
         self.layouts.clear();

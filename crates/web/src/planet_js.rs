@@ -250,7 +250,9 @@ impl Explorer {
     /// (built later with them when not built yet; see `view_data`).
     fn refresh_marks(&mut self) {
         // A new value (not changed in place): a canvas drawn from the old one keeps it to compare.
-        if let Some(crate::readout::ViewData::Profile(p)) = self.data.get("c_to_o").map(|d| d.as_ref()) {
+        if let Some(crate::readout::ViewData::Profile(p)) =
+            self.data.get("c_to_o").map(|d| d.as_ref())
+        {
             let marked = planet::with_marks(p.clone(), &self.planet);
             self.data.insert(
                 "c_to_o".to_string(),
