@@ -551,10 +551,10 @@ const App = ((util, core, controls) => {
 
   function drawView(v) {
     const canvas = $(v.canvas);
-    const options = { theme: themeName(), species: mapSpecies, pixelRatio: sizeCanvas(canvas) };
+    const options = { theme: themeName(), species: mapSpecies, pixelRatio: sizeCanvas(canvas), canvas };
     try {
       Core.explorer.draw(v.view, v.canvas, options);
-      if (v.view === "ice_map") canvas.dataset.species = mapSpecies;
+      if (v.view === "ice_map" && canvas.dataset.species !== mapSpecies) canvas.dataset.species = mapSpecies;
     } catch (e) {
       $(v.readout).textContent = `This view could not be drawn: ${e.message || e}`;
     }
@@ -643,8 +643,9 @@ const App = ((util, core, controls) => {
     return out;
   }
 
-  // What the table shows: its rows as last filled in (JSON), its shape (rows,
-  // cells and their attribute names and spans) and per cell its element and
+  // What the table shows: its rows as last filled in (the core's JSON text), its
+  // shape (rows, cells and their attribute names and spans, all set by the
+  // species and their numbers of snowlines) and per cell its element and
   // spec. An edit that leaves the rows as they were (the name, a field of no
   // effect) touches nothing; one that keeps the shape (most: the radii and
   // temperatures move) rewrites only the cells whose text or attributes changed;
@@ -653,18 +654,28 @@ const App = ((util, core, controls) => {
   let shownShape = "";
   let shownCells = [];
 
+  // A cell's text: its one text node's data rewritten in place (cheaper than
+  // textContent, which replaces the node), else textContent.
+  function setText(el, text) {
+    const node = el.firstChild;
+    if (node && node.nodeType === Node.TEXT_NODE && !node.nextSibling && text !== "") node.data = text;
+    else el.textContent = text;
+  }
+
   function fillSnowlineTable() {
-    const rows = Core.explorer.snowlineTable();
-    const text = JSON.stringify(rows);
+    // The core's JSON text of the rows: compared as text, parsed only when it changed.
+    const text = Core.explorer.snowlineTableJson();
     if (text === shownTable) return;
     shownTable = text;
+    const rows = JSON.parse(text) || [];
     const spec = snowlineRowsSpec(rows);
-    const shape = JSON.stringify(spec.map((r) => [r.species, r.cells.map((c) => [c.tag, c.attrs.map(([k, v]) => (k === "data-radius-au" ? k : k + "=" + v))])]));
+    // The shape (tags, attribute names, spans) follows from the species and their numbers of snowlines.
+    const shape = rows.map((r) => `${r.species}:${r.snowlines.length}`).join(" ");
     const flat = spec.flatMap((r) => r.cells);
     if (shape === shownShape && shownCells.length === flat.length) {
       flat.forEach((c, i) => {
         const shown = shownCells[i];
-        if (shown.spec.text !== c.text) shown.el.textContent = c.text;
+        if (shown.spec.text !== c.text) setText(shown.el, c.text);
         c.attrs.forEach(([k, v], j) => { if (shown.spec.attrs[j][1] !== v) shown.el.setAttribute(k, v); });
         shown.spec = c;
       });

@@ -93,6 +93,8 @@ const Replay = (() => {
     const c = canvas.getContext("2d");
     const under = layered ? layerUnder(canvas) : null;
     const onLayer = [];
+    // Whether a rotated text's transform is still set (TEXT_ROTATED).
+    let turned = false;
     const n = words.length;
     let i = 0;
     let j = 0;
@@ -136,12 +138,32 @@ const Replay = (() => {
         case STROKE: c.stroke(); break;
         case TEXT: c.fillText(strings[words[i++]], numbers[j], numbers[j + 1]); j += 2; break;
         case TEXT_ROTATED: {
-          // As plotters-canvas: rotate about the anchor; save/restore keep the styles.
-          c.save();
-          c.translate(numbers[j], numbers[j + 1]);
-          c.rotate(numbers[j + 2]);
-          c.fillText(strings[words[i++]], 0, 0);
-          c.restore();
+          // As plotters-canvas: rotated about the anchor. A quarter turn (the charts' only
+          // rotations) is set as the exact matrix the canvas makes of translate + rotate (it
+          // snaps the sine and cosine of a quarter turn to 0 and +-1), and the identity is set
+          // back after a run of rotated texts: the replay draws with no other transform, so
+          // this is save/translate/rotate/restore in two calls (same pixels).
+          const x = numbers[j], y = numbers[j + 1], angle = numbers[j + 2];
+          const co = Math.round(Math.cos(angle)), si = Math.round(Math.sin(angle));
+          if (Math.abs(Math.cos(angle) - co) < 1e-9 && Math.abs(Math.sin(angle) - si) < 1e-9) {
+            c.setTransform(co, si, -si, co, x, y);
+            c.fillText(strings[words[i++]], 0, 0);
+            turned = true;
+            if (words[i] !== TEXT_ROTATED) {
+              c.setTransform(1, 0, 0, 1, 0, 0);
+              turned = false;
+            }
+          } else {
+            if (turned) {
+              c.setTransform(1, 0, 0, 1, 0, 0);
+              turned = false;
+            }
+            c.save();
+            c.translate(x, y);
+            c.rotate(angle);
+            c.fillText(strings[words[i++]], 0, 0);
+            c.restore();
+          }
           j += 3;
           break;
         }

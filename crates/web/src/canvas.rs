@@ -171,21 +171,22 @@ pub fn replay(canvas: &HtmlCanvasElement, ops: &[Op], layered: bool) -> Result<(
 
 /// Text measured with a canvas's `measureText`, remembered by (CSS font, text)
 /// across draws and canvases: the charts measure the same labels on every redraw.
+/// The canvas's 2d context is asked for only when a text was not measured
+/// before (a redraw usually measures nothing, so it makes no call at all).
 pub struct CanvasMeasure<'a> {
-    context: CanvasRenderingContext2d,
+    canvas: &'a HtmlCanvasElement,
+    context: RefCell<Option<CanvasRenderingContext2d>>,
     sizes: &'a TextSizes,
 }
 
 impl<'a> CanvasMeasure<'a> {
     /// Measures on `canvas`'s context, remembering sizes in `sizes`.
-    pub fn new(
-        canvas: &HtmlCanvasElement,
-        sizes: &'a TextSizes,
-    ) -> Result<CanvasMeasure<'a>, String> {
-        Ok(CanvasMeasure {
-            context: context(canvas)?,
+    pub fn new(canvas: &'a HtmlCanvasElement, sizes: &'a TextSizes) -> CanvasMeasure<'a> {
+        CanvasMeasure {
+            canvas,
+            context: RefCell::new(None),
             sizes,
-        })
+        }
     }
 }
 
@@ -194,7 +195,15 @@ impl MeasureText for CanvasMeasure<'_> {
         if let Some(size) = self.sizes.borrow().get(font).and_then(|m| m.get(text)) {
             return *size;
         }
-        let measured = measure_with(&self.context, font, size, text);
+        let mut context = self.context.borrow_mut();
+        if context.is_none() {
+            *context = self::context(self.canvas).ok();
+        }
+        let measured = match context.as_ref() {
+            Some(c) => measure_with(c, font, size, text),
+            // No 2d context (never on the page's canvases): plotters' own estimate.
+            None => estimate(size, text),
+        };
         self.sizes
             .borrow_mut()
             .entry(font.to_string())
@@ -202,6 +211,14 @@ impl MeasureText for CanvasMeasure<'_> {
             .insert(text.to_string(), measured);
         measured
     }
+}
+
+/// A text's size without a canvas: 0.6 em per character, 1.2 em high.
+fn estimate(size: f64, text: &str) -> (u32, u32) {
+    (
+        (0.6 * size * text.chars().count() as f64) as u32,
+        (1.2 * size) as u32,
+    )
 }
 
 /// Width from `measureText`; height from the font's ascent and descent (the
@@ -223,10 +240,7 @@ fn measure_with(
             };
             (m.width().ceil().max(0.0) as u32, height.ceil() as u32)
         }
-        Err(_) => (
-            (0.6 * size * text.chars().count() as f64) as u32,
-            (1.2 * size) as u32,
-        ),
+        Err(_) => estimate(size, text),
     }
 }
 

@@ -5,6 +5,7 @@
 
 use std::cell::RefCell;
 use std::collections::HashMap;
+use std::rc::Rc;
 
 use nivalis_charts::{AbundanceData, ChartLayout, MapData, ProfileData, TemperatureData, Theme};
 use nivalis_disk_files::{to_value, DiskFile, Problem};
@@ -13,6 +14,7 @@ use serde::Serialize;
 use serde_json::{json, Value};
 use wasm_bindgen::prelude::*;
 use wasm_bindgen::JsCast;
+use web_sys::HtmlCanvasElement;
 
 use crate::canvas;
 use crate::display::Op;
@@ -34,11 +36,19 @@ pub(crate) struct Remote {
 /// readable at screen distance.
 pub(crate) const CSS_PX_PER_POINT: f64 = 96.0 / 72.0 * 1.2;
 
+/// A JSON value as the plain JS value it denotes: its compact text parsed by
+/// the browser's `JSON.parse` (one string across and V8's parser, much cheaper
+/// than building the object property by property through the bindings). The
+/// same value as serde-wasm-bindgen's JSON-compatible serialiser gives: a
+/// `Value` holds no NaN or infinity, and the shortest round-trip text of each
+/// number parses back to the same double.
 pub(crate) fn to_js(value: &Value) -> JsValue {
-    // Invariant: serde_json values always serialise (objects become plain JS objects).
-    value
-        .serialize(&serde_wasm_bindgen::Serializer::json_compatible())
-        .expect("JSON value converts to JS")
+    js_sys::JSON::parse(&value.to_string()).unwrap_or_else(|_| {
+        // Invariant: serde_json's text is JSON, and serde_json values always serialise.
+        value
+            .serialize(&serde_wasm_bindgen::Serializer::json_compatible())
+            .expect("JSON value converts to JS")
+    })
 }
 
 pub(crate) fn problems_js(problems: &[Problem]) -> Value {
@@ -50,8 +60,9 @@ pub(crate) fn problems_js(problems: &[Problem]) -> Value {
 #[wasm_bindgen]
 pub struct Explorer {
     pub(crate) session: Session,
-    /// View data by key ("c_to_o", "temperature", "abundances", "c_to_o_map", "ice_map:CO"), built on first use per model.
-    pub(crate) data: HashMap<String, ViewData>,
+    /// View data by key ("c_to_o", "temperature", "abundances", "c_to_o_map", "ice_map:CO"), built on first use per model;
+    /// shared with the canvases drawn from it ([`Drawn`]), so a draw copies none of it.
+    pub(crate) data: HashMap<String, Rc<ViewData>>,
     /// Per canvas id: the data key it shows and its layout.
     pub(crate) layouts: HashMap<String, (String, ChartLayout)>,
     /// The current result when it came from the worker (`loadPacket`); `None`
@@ -87,6 +98,10 @@ extern "C" {
     fn pixel_ratio(this: &DrawOptions) -> JsValue;
     #[wasm_bindgen(method, getter = oneCanvas)]
     fn one_canvas(this: &DrawOptions) -> JsValue;
+    /// The canvas itself, when the caller has it (the page does): no
+    /// `getElementById` through the bindings per draw.
+    #[wasm_bindgen(method, getter)]
+    fn canvas(this: &DrawOptions) -> JsValue;
 }
 
 /// `performance.now()` [ms], or 0 where there is none.
@@ -98,7 +113,8 @@ pub(crate) fn now_ms() -> f64 {
 /// display list and its layout.
 pub(crate) struct Drawn {
     key: String,
-    data: ViewData,
+    /// The view data (shared with `Explorer::data` while that holds the same).
+    data: Rc<ViewData>,
     theme: Theme,
     pixels_per_point: f64,
     /// A map's cells on the layer under the canvas (see `canvas::replay`).
@@ -245,6 +261,20 @@ impl Explorer {
             .map_or(JsValue::NULL, |v| to_js(&v))
     }
 
+    /// The snowline table as `snowlineTable` gives it, as compact JSON text
+    /// (`null` before any result): the page compares the text with the table it
+    /// shows and parses it only when it changed, and no object is built
+    /// property by property through the bindings (`to_js` of the table cost
+    /// more than building it).
+    #[wasm_bindgen(js_name = snowlineTableJson)]
+    pub fn snowline_table_json(&self) -> String {
+        let table = match &self.remote {
+            Some(r) => Some(r.snowline_table.to_string()),
+            None => self.session.snowline_table().map(|v| v.to_string()),
+        };
+        table.unwrap_or_else(|| "null".to_string())
+    }
+
     /// One export as text: `profile_csv`, `profile_ecsv`, `profile_json`,
     /// `structure_csv`, `snowlines_json`, `disk`, `methods_text` or `bibtex`;
     /// `undefined` before any result.
@@ -260,7 +290,8 @@ impl Explorer {
 
     /// Draws a view into the canvas with id `canvas_id` at its current backing size.
     /// `view`: `c_to_o`, `temperature`, `ice_map`, `c_to_o_map`, `abundances`.
-    /// `options`: `{theme: "light"|"dark", species: "CO" (ice_map), pixelRatio: devicePixelRatio}`.
+    /// `options`: `{theme: "light"|"dark", species: "CO" (ice_map), pixelRatio: devicePixelRatio,
+    /// canvas: the canvas element (optional; else found by `canvas_id`)}`.
     ///
     /// Only what changed is drawn: a view whose data, options and canvas size are
     /// those it was last drawn with is left as it is, and so is one whose display
@@ -296,7 +327,11 @@ impl Explorer {
         self.view_data(&key)?;
         // Invariant: built just above.
         let data = self.data.get(&key).expect("view data present");
-        let canvas = canvas::canvas_by_id(canvas_id).map_err(|e| JsError::new(&e))?;
+        let canvas =
+            match get(DrawOptions::canvas).filter(|c| c.is_instance_of::<HtmlCanvasElement>()) {
+                Some(c) => c.unchecked_into::<HtmlCanvasElement>(),
+                None => canvas::canvas_by_id(canvas_id).map_err(|e| JsError::new(&e))?,
+            };
         let size = (canvas.width(), canvas.height());
         let pixels_per_point = CSS_PX_PER_POINT * ratio;
         let previous = self
@@ -306,7 +341,7 @@ impl Explorer {
         let same_options = previous.is_some_and(|d| {
             d.theme == theme && d.pixels_per_point == pixels_per_point && d.layered == layered
         });
-        if same_options && previous.is_some_and(|d| d.data == *data) {
+        if same_options && previous.is_some_and(|d| Rc::ptr_eq(&d.data, data) || d.data == *data) {
             let layout = previous.map(|d| d.layout.clone()).expect("checked above");
             self.layouts.insert(canvas_id.to_string(), (key, layout));
             self.draw_timings
@@ -314,8 +349,7 @@ impl Explorer {
             return Ok(false);
         }
         let t1 = now_ms();
-        let measure =
-            canvas::CanvasMeasure::new(&canvas, &self.text_sizes).map_err(|e| JsError::new(&e))?;
+        let measure = canvas::CanvasMeasure::new(&canvas, &self.text_sizes);
         let mut raster_ms = 0.0;
         let (ops, layout) = canvas::record(
             size,
@@ -342,7 +376,7 @@ impl Explorer {
             canvas_id.to_string(),
             Drawn {
                 key,
-                data: data.clone(),
+                data: Rc::clone(data),
                 theme,
                 pixels_per_point,
                 layered,
@@ -376,7 +410,7 @@ impl Explorer {
     /// `undefined` outside its plotting areas or before it was drawn.
     pub fn readout(&self, canvas_id: &str, x: f64, y: f64) -> Option<String> {
         let (key, layout) = self.layouts.get(canvas_id)?;
-        readout(self.data.get(key)?, layout, x, y)
+        readout(self.data.get(key)?.as_ref(), layout, x, y)
     }
 
     /// Test hook (tests/browser/survive.test.mjs, docs/page.md): traps the
@@ -468,7 +502,7 @@ impl Explorer {
             "c_to_o_map",
             ice.as_str(),
         ] {
-            let parts = to_parts(self.view_data(key)?);
+            let parts = to_parts(self.view_data(key)?.as_ref());
             js_sys::Reflect::set(&views, &JsValue::from_str(key), &parts_to_js(&parts))
                 .map_err(fail)?;
         }
@@ -480,7 +514,7 @@ impl Explorer {
     #[wasm_bindgen(js_name = mapPacket)]
     pub fn map_packet(&mut self, species: &str) -> Result<JsValue, JsError> {
         let key = view_key("ice_map", Some(species))?;
-        let parts = to_parts(self.view_data(&key)?);
+        let parts = to_parts(self.view_data(&key)?.as_ref());
         Ok(parts_to_js(&parts))
     }
 
@@ -521,7 +555,10 @@ impl Explorer {
                 &js_sys::Reflect::get(&views, &JsValue::from_str(&key))
                     .map_err(|_| JsError::new("packet view"))?,
             )?;
-            data.insert(key, from_parts(&parts).map_err(|e| JsError::new(&e))?);
+            data.insert(
+                key,
+                Rc::new(from_parts(&parts).map_err(|e| JsError::new(&e))?),
+            );
         }
         self.data = data;
         self.layouts.clear();
@@ -539,7 +576,7 @@ impl Explorer {
     ) -> Result<(), JsError> {
         let key = view_key(view, species.as_deref())?;
         let data = from_parts(&parts_from_js(&parts)?).map_err(|e| JsError::new(&e))?;
-        self.data.insert(key, data);
+        self.data.insert(key, Rc::new(data));
         Ok(())
     }
 
@@ -551,7 +588,7 @@ impl Explorer {
         }
     }
 
-    pub(crate) fn view_data(&mut self, key: &str) -> Result<&ViewData, JsError> {
+    pub(crate) fn view_data(&mut self, key: &str) -> Result<&Rc<ViewData>, JsError> {
         if !self.data.contains_key(key) {
             if self.remote.is_some() {
                 return Err(JsError::new(&format!(
@@ -581,7 +618,7 @@ impl Explorer {
                     ViewData::IceMap(MapData::ice_fraction(model, species))
                 }
             };
-            self.data.insert(key.to_string(), data);
+            self.data.insert(key.to_string(), Rc::new(data));
         }
         // Invariant: inserted just above when missing.
         Ok(self.data.get(key).expect("view data present"))

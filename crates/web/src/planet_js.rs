@@ -183,7 +183,7 @@ impl Explorer {
         let size = (canvas.width(), canvas.height());
         // Recorded and replayed as the views are: the background and cells as one image.
         let sizes = RefCell::new(HashMap::new());
-        let measure = canvas::CanvasMeasure::new(&canvas, &sizes).map_err(|e| JsError::new(&e))?;
+        let measure = canvas::CanvasMeasure::new(&canvas, &sizes);
         let data = Chi2Data::from_map(&f.map);
         let (ops, layout) =
             canvas::record_chi2(size, &data, &theme, CSS_PX_PER_POINT * ratio, &measure)
@@ -249,9 +249,15 @@ impl Explorer {
     /// Puts the planet's radius and the allowed radii on the C/O profile's data
     /// (built later with them when not built yet; see `view_data`).
     fn refresh_marks(&mut self) {
-        if let Some(crate::readout::ViewData::Profile(p)) = self.data.get_mut("c_to_o") {
+        // A new value (not changed in place): a canvas drawn from the old one keeps it to compare.
+        if let Some(crate::readout::ViewData::Profile(p)) =
+            self.data.get("c_to_o").map(|d| d.as_ref())
+        {
             let marked = planet::with_marks(p.clone(), &self.planet);
-            *p = marked;
+            self.data.insert(
+                "c_to_o".to_string(),
+                std::rc::Rc::new(crate::readout::ViewData::Profile(marked)),
+            );
         }
     }
 }
