@@ -638,8 +638,16 @@ pub(crate) fn defined_runs(panel: &Panel, xs: &[f64], ys: &[Option<f64>]) -> Vec
 
 /// Clip a polyline to a rectangle (Liang-Barsky per segment); pieces outside are dropped.
 pub(crate) fn clip_polyline(points: &[(f64, f64)], frame: &Frame) -> Vec<Vec<(f64, f64)>> {
+    collect_pieces(|piece| for_each_clipped(points, frame, &mut Vec::new(), piece))
+}
+
+/// The pieces a streaming walker ([`for_each_clipped`], [`for_each_dash`])
+/// hands out, collected in order.
+fn collect_pieces(
+    walk: impl FnOnce(&mut dyn FnMut(&[(f64, f64)]) -> Result<(), ()>) -> Result<(), ()>,
+) -> Vec<Vec<(f64, f64)>> {
     let mut out = Vec::new();
-    let _ = for_each_clipped::<()>(points, frame, &mut Vec::new(), |piece| {
+    let _ = walk(&mut |piece| {
         out.push(piece.to_vec());
         Ok(())
     });
@@ -723,12 +731,7 @@ fn clip_segment(a: (f64, f64), b: (f64, f64), f: &Frame) -> Option<((f64, f64), 
 /// the pattern running on across vertices so dashes turn corners.
 #[cfg(test)]
 pub(crate) fn dashes(points: &[(f64, f64)], pattern: &[f64; 4]) -> Vec<Vec<(f64, f64)>> {
-    let mut out = Vec::new();
-    let _ = for_each_dash::<()>(points, pattern, &mut Vec::new(), |piece| {
-        out.push(piece.to_vec());
-        Ok(())
-    });
-    out
+    collect_pieces(|piece| for_each_dash(points, pattern, &mut Vec::new(), piece))
 }
 
 /// [`dashes`] without collecting: each dash is built in `current` (a reused
