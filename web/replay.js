@@ -6,16 +6,17 @@
 // memory, plus the strings this table does not hold yet); this loop makes the
 // canvas calls, in the order and with the arguments the core encoded. One
 // call from the core per chart instead of one per canvas call: the calls
-// through wasm-bindgen cost more than the drawing (docs/page.md "Drawing").
+// through wasm-bindgen cost more than the drawing (docs/page.md "Draw fast").
 //
 // A map's cells (an IMAGE command) go on a canvas of their own stacked under
 // the chart's (`<canvas id="ID-under">`, web/index.html, style.css `.layered`)
 // with one putImageData; the chart canvas gets a transparent hole there
 // (clearRect) and draws its frame, lines and labels on top, so the screen
 // shows the two composited. Only opaque images go there (a transparent pixel
-// would show the layer's background, not what the chart drew below it). Without such a canvas (the chi-square map, or
-// `layered` false) the image is put on a scratch canvas and drawn onto the
-// chart with drawImage, as one canvas. `Replay.pixels(canvas)` returns the
+// would show the layer's background, not what the chart drew below it).
+// Without such a canvas (the chi-square map, or `layered` false) the image is
+// put on a scratch canvas and drawn onto the chart with drawImage, as one
+// canvas. `Replay.pixels(canvas)` returns the
 // composited pixels of a chart either way (tests, pictures).
 
 const Replay = (() => {

@@ -1093,7 +1093,8 @@ pub struct SampleState {
 
 /// The lane loop of [`BalanceConstants::solve_block`] in explicit WebAssembly SIMD (simd128,
 /// two places per vector): the same IEEE operations in the same order as
-/// [`BalanceConstants::lane`] (with `math::simd128`'s [`exp_poly`] and [`ln_upper_bound`]), selects
+/// [`BalanceConstants::lane`] (with `math::simd128`'s `exp_poly_pair` and, in `lane_pair`, two-lane
+/// forms of [`ln_upper_bound`] and `clamp_unit` on the black-boxed `LaneVectors`), selects
 /// as bit masks, no fused multiply-add, so every lane gives the scalar lane's bits
 /// (`tests::grid_equals_the_scalar_lanes_bit_for_bit`, run as WebAssembly with simd128). Built
 /// only when the target has simd128 (a page built with `-C target-feature=+simd128`); the

@@ -63,8 +63,10 @@ pub mod op {
     pub const STROKE: u32 = 13;
     /// `fillText(string[id], x, y)`. Words: id. Numbers: x, y.
     pub const TEXT: u32 = 14;
-    /// `save`, `translate(x, y)`, `rotate(a)`, `fillText(string[id], 0, 0)`,
-    /// `restore`. Words: id. Numbers: x, y, a [rad].
+    /// `fillText(string[id], 0, 0)` rotated by `a` about (x, y): as `save`,
+    /// `translate(x, y)`, `rotate(a)`, `fillText`, `restore` (web/replay.js
+    /// sets a quarter turn as one exact `setTransform`, the same pixels).
+    /// Words: id. Numbers: x, y, a [rad].
     pub const TEXT_ROTATED: u32 = 15;
     /// RGBA pixels `width x height` at WebAssembly memory address `ptr`
     /// (`len` bytes), put at (x, y); `opaque` (1 or 0): every pixel's alpha
