@@ -866,14 +866,12 @@ impl VerticalProfile {
             for t in &mut out[below..] {
                 *t = t_atm;
             }
-            #[allow(clippy::needless_return)]
-            return;
         }
         #[cfg(not(all(target_arch = "wasm32", target_feature = "simd128")))]
         {
             let (cosines, points) = (&mut out[..below], &index[..below]);
-            let (start, mut covered) = (0, true);
-            for (c, &i) in cosines[start..].iter_mut().zip(&points[start..]) {
+            let mut covered = true;
+            for (c, &i) in cosines.iter_mut().zip(points) {
                 let z = i * dz;
                 let (value, ok) = cos_reduced(PI * z / (2.0 * z_q));
                 *c = value;
