@@ -270,7 +270,7 @@ impl Explorer {
     pub fn snowline_table_json(&self) -> String {
         let table = match &self.remote {
             Some(r) => Some(r.snowline_table.to_string()),
-            None => self.session.snowline_table().map(|v| v.to_string()),
+            None => self.session.snowline_table_json(),
         };
         table.unwrap_or_else(|| "null".to_string())
     }

@@ -100,6 +100,13 @@ impl Session {
         Some(nivalis_exports::page_tables::snowline_table(&c.model))
     }
 
+    /// The snowline table as compact JSON text, `snowline_table()`'s value
+    /// written straight from the typed rows (what the page reads after every edit).
+    pub fn snowline_table_json(&self) -> Option<String> {
+        let c = self.current.as_ref()?;
+        Some(nivalis_exports::page_tables::snowline_table_json(&c.model))
+    }
+
     /// A short summary the page shows beside the views
     /// (`nivalis_exports::page_tables::summary`).
     pub fn summary(&self) -> Option<Value> {
@@ -238,6 +245,8 @@ mod tests {
         let mut s = Session::new();
         s.update(&json!({})).unwrap();
         let table = s.snowline_table().unwrap();
+        // The page's text is the value's compact text.
+        assert_eq!(s.snowline_table_json().unwrap(), table.to_string());
         let water = &table[0];
         assert_eq!(water["species"], "H2O");
         let first = &water["snowlines"][0];
