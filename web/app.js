@@ -232,15 +232,24 @@ const App = ((util, core, controls) => {
 
   // The typed inputs' size, checked before the state goes to the core (text
   // fields are the only way to make a state large; nothing typed can nest).
-  function typedInputProblem(disk) {
-    const problem = checkJsonBounds(JSON.stringify(disk), "The disk as typed");
+  function typedInputProblem(text) {
+    const problem = checkJsonBounds(text, "The disk as typed");
     return problem ? [{ path: "(file)", message: problem }] : [];
+  }
+
+  // Validates and runs a disk: it crosses to the core as its JSON text (one
+  // string, parsed in Rust; Explorer.updateJson), the object itself only when
+  // that text does not parse there (a lone surrogate in a typed string).
+  function updateCore(disk, text = JSON.stringify(disk)) {
+    const outcome = Core.explorer.updateJson(text);
+    return outcome === undefined ? Core.explorer.update(disk) : outcome;
   }
 
   function computeAndDraw() {
     const samples = sampleCount(state);
     const disk = prune(clone(state));
-    const tooBig = typedInputProblem(disk);
+    const text = JSON.stringify(disk);
+    const tooBig = typedInputProblem(text);
     if (tooBig.length) {
       cancelWorkerJob();
       showProblems(tooBig);
@@ -255,7 +264,7 @@ const App = ((util, core, controls) => {
     // A main-thread result replaces whatever a worker was still computing.
     cancelWorkerJob();
     const t0 = performance.now();
-    const result = Core.explorer.update(disk);
+    const result = updateCore(disk, text);
     const t1 = performance.now();
     showProblems(result.problems || []);
     if (result.ok) {
@@ -512,12 +521,16 @@ const App = ((util, core, controls) => {
       + (unplaced.length ? unplaced.join(" · ") : `${problems.length} problem${problems.length > 1 ? "s" : ""}, shown beside the field${problems.length > 1 ? "s" : ""}.`);
   }
 
-  // The system's colour scheme, asked once (a new query per drawn view cost time on every edit).
+  // The system's colour scheme, asked once and then kept by its change event
+  // (reading `matches` evaluates the media query: a cost on every drawn view).
+  // This listener is added before any other on `darkScheme`, so it runs first.
   const darkScheme = matchMedia("(prefers-color-scheme: dark)");
+  let systemDark = darkScheme.matches;
+  darkScheme.addEventListener("change", () => { systemDark = darkScheme.matches; });
 
   function themeName() {
     if (theme !== "system") return theme;
-    return darkScheme.matches ? "dark" : "light";
+    return systemDark ? "dark" : "light";
   }
 
   // Canvas sizes in CSS pixels, kept by a ResizeObserver: asking the layout
@@ -549,9 +562,15 @@ const App = ((util, core, controls) => {
     return ratio;
   }
 
-  function drawView(v) {
-    const canvas = $(v.canvas);
-    const options = { theme: themeName(), species: mapSpecies, pixelRatio: sizeCanvas(canvas), canvas };
+  // A view's canvas element, looked up once (and again only if it left the document).
+  function canvasOf(v) {
+    if (!v.element || !v.element.isConnected) v.element = $(v.canvas);
+    return v.element;
+  }
+
+  function drawView(v, shownTheme = themeName()) {
+    const canvas = canvasOf(v);
+    const options = { theme: shownTheme, species: mapSpecies, pixelRatio: sizeCanvas(canvas), canvas };
     try {
       Core.explorer.draw(v.view, v.canvas, options);
       if (v.view === "ice_map" && canvas.dataset.species !== mapSpecies) canvas.dataset.species = mapSpecies;
@@ -564,8 +583,9 @@ const App = ((util, core, controls) => {
   // Draws the views on screen now (all of them with `everything`), the rest later.
   function drawAll(everything = false) {
     if (!valid) return;
+    const shown = themeName();
     for (const v of VIEWS) {
-      if (everything || onScreen.has(v.canvas)) drawView(v);
+      if (everything || onScreen.has(v.canvas)) drawView(v, shown);
       else dirty.add(v.view);
     }
     if (dirty.size > 0 && !idleHandle) idleHandle = requestIdleCallback(drawDirty, { timeout: 400 });
@@ -670,15 +690,22 @@ const App = ((util, core, controls) => {
     const rows = JSON.parse(text) || [];
     const spec = snowlineRowsSpec(rows);
     // The shape (tags, attribute names, spans) follows from the species and their numbers of snowlines.
-    const shape = rows.map((r) => `${r.species}:${r.snowlines.length}`).join(" ");
-    const flat = spec.flatMap((r) => r.cells);
-    if (shape === shownShape && shownCells.length === flat.length) {
-      flat.forEach((c, i) => {
-        const shown = shownCells[i];
-        if (shown.spec.text !== c.text) setText(shown.el, c.text);
-        c.attrs.forEach(([k, v], j) => { if (shown.spec.attrs[j][1] !== v) shown.el.setAttribute(k, v); });
-        shown.spec = c;
-      });
+    let shape = "";
+    for (const r of rows) shape += `${r.species}:${r.snowlines.length} `;
+    if (shape === shownShape) {
+      // Same shape, so the same cells in the same order: only changed texts and attributes are written.
+      let i = 0;
+      for (const row of spec) {
+        for (const c of row.cells) {
+          const shown = shownCells[i++];
+          if (shown.spec.text !== c.text) setText(shown.el, c.text);
+          const attrs = c.attrs;
+          for (let j = 0; j < attrs.length; j++) {
+            if (shown.spec.attrs[j][1] !== attrs[j][1]) shown.el.setAttribute(attrs[j][0], attrs[j][1]);
+          }
+          shown.spec = c;
+        }
+      }
       return;
     }
     shownShape = shape;
@@ -839,7 +866,7 @@ const App = ((util, core, controls) => {
     $("address-save").addEventListener("click", () => $("save-button").click());
 
     $("theme-button").addEventListener("click", () => setTheme({ system: "light", light: "dark", dark: "system" }[theme]));
-    matchMedia("(prefers-color-scheme: dark)").addEventListener("change", () => { if (theme === "system") drawAll(); });
+    darkScheme.addEventListener("change", () => { if (theme === "system") drawAll(); });
     $("cancel-button").addEventListener("click", () => {
       cancelWorkerJob();
       showBanner("The background computation was cancelled; the views show the last result.");
@@ -919,7 +946,7 @@ const App = ((util, core, controls) => {
     get generation() { return generation; },
     get coreRestarts() { return Core.restarts; },
     get state() { return clone(state); },
-    computeOnce: () => Core.explorer.update(prune(clone(state))),
+    computeOnce: () => updateCore(prune(clone(state))),
     drawOnce: () => { drawAll(true); fillSnowlineTable(); },
     // The page's own path after an edit (compute, views on screen, table); times land in `timings`.
     recompute: () => runNow(),

@@ -126,8 +126,11 @@ const Util = (() => {
   function checkJsonBounds(text, what) {
     // UTF-16 code units never outnumber UTF-8 bytes, so this first test is safe.
     if (text.length > INPUT_LIMITS.bytes) return tooLarge(what, text.length);
-    const bytes = new TextEncoder().encode(text).length;
-    if (bytes > INPUT_LIMITS.bytes) return tooLarge(what, bytes);
+    // A UTF-16 code unit is at most 3 UTF-8 bytes: short texts need no encoding to count them.
+    if (text.length * 3 > INPUT_LIMITS.bytes) {
+      const bytes = new TextEncoder().encode(text).length;
+      if (bytes > INPUT_LIMITS.bytes) return tooLarge(what, bytes);
+    }
     let depth = 0;
     let inString = false;
     for (let i = 0; i < text.length; i += 1) {

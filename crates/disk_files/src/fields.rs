@@ -740,9 +740,38 @@ fn build() -> Vec<Field> {
     f
 }
 
+/// FNV-1a (64-bit; Fowler, Noll and Vo, as published at
+/// <http://www.isthe.com/chongo/tech/comp/fnv/>) for the table's lookups by
+/// path: the reader looks a path up for every field a disk gives, on every
+/// edit in the page, and std's default SipHash costs more than the lookup
+/// needs (the keys are the table's own paths, not adversarial input: an
+/// unknown path only misses).
+#[derive(Clone, Copy)]
+pub(crate) struct Fnv1a(u64);
+
+impl Default for Fnv1a {
+    fn default() -> Self {
+        Fnv1a(0xcbf2_9ce4_8422_2325)
+    }
+}
+
+impl std::hash::Hasher for Fnv1a {
+    fn finish(&self) -> u64 {
+        self.0
+    }
+
+    fn write(&mut self, bytes: &[u8]) {
+        for &b in bytes {
+            self.0 = (self.0 ^ u64::from(b)).wrapping_mul(0x0000_0100_0000_01b3);
+        }
+    }
+}
+
+type FnvMap<K, V> = HashMap<K, V, std::hash::BuildHasherDefault<Fnv1a>>;
+
 struct Table {
     fields: Vec<Field>,
-    index: HashMap<String, usize>,
+    index: FnvMap<String, usize>,
 }
 
 fn table() -> &'static Table {
@@ -775,6 +804,22 @@ pub fn field_by_path(path: &str) -> Option<&'static Field> {
 /// The fields directly inside the object at `parent` (`""` for the top level), in order.
 pub fn children(parent: &str) -> impl Iterator<Item = &'static Field> + '_ {
     fields().iter().filter(move |f| f.parent() == parent)
+}
+
+/// The keys of the fields directly inside the object at `parent`, in order:
+/// `children(parent).map(Field::key)`, grouped once for all calls (the reader
+/// asks for the known keys of every object a disk gives); empty for a path
+/// that is not an object of the table.
+pub fn child_keys(parent: &str) -> &'static [&'static str] {
+    static KEYS: OnceLock<FnvMap<&'static str, Vec<&'static str>>> = OnceLock::new();
+    let keys = KEYS.get_or_init(|| {
+        let mut keys: FnvMap<&'static str, Vec<&'static str>> = FnvMap::default();
+        for f in fields() {
+            keys.entry(f.parent()).or_default().push(f.key());
+        }
+        keys
+    });
+    keys.get(parent).map_or(&[], Vec::as_slice)
 }
 
 /// Levenshtein distance, for did-you-mean suggestions.
@@ -933,6 +978,37 @@ pub fn fields_json() -> Value {
 mod tests {
     use super::*;
     use crate::{parse_disk_json, to_value};
+
+    #[test]
+    fn child_keys_are_the_children_s_keys_for_every_object() {
+        let mut parents: Vec<&str> = fields().iter().map(Field::parent).collect();
+        parents.extend(["", "no.such.object"]);
+        let mut objects_with_children = 0;
+        for parent in parents {
+            let expected: Vec<&str> = children(parent).map(Field::key).collect();
+            assert_eq!(child_keys(parent), expected.as_slice(), "{parent:?}");
+            objects_with_children += usize::from(!expected.is_empty());
+        }
+        assert!(child_keys("star").contains(&"luminosity_lsun"));
+        assert!(objects_with_children > 10, "{objects_with_children}");
+    }
+
+    #[test]
+    fn fnv1a_gives_the_published_test_vectors() {
+        use std::hash::Hasher;
+        // FNV-1a 64-bit of "" (the offset basis) and "a": the FNV page's test vectors (from memory).
+        let hash = |bytes: &[u8]| {
+            let mut h = Fnv1a::default();
+            h.write(bytes);
+            h.finish()
+        };
+        assert_eq!(hash(b""), 0xcbf2_9ce4_8422_2325);
+        assert_eq!(hash(b"a"), 0xaf63_dc4c_8601_ec8c);
+        // Every path of the table is found through the index.
+        for f in fields() {
+            assert_eq!(field_by_path(&f.path).map(|g| &g.path), Some(&f.path));
+        }
+    }
 
     /// Every leaf path of a JSON value, in order.
     fn leaves(v: &Value, prefix: &str, out: &mut Vec<String>) {

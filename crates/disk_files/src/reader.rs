@@ -1,6 +1,6 @@
 //! The validating reader: walks the JSON tree once, collecting every problem.
 
-use crate::fields::{children, closest, field_by_path, fields, Field, Range};
+use crate::fields::{child_keys, closest, field_by_path, fields, Field, Range};
 use crate::{shorten, DiskFile, Problem, Problems, SCHEMA};
 use nivalis_physics::budget::Carriers;
 use nivalis_physics::params::{
@@ -13,6 +13,7 @@ use nivalis_physics::star::{stellar_abundances_per_h, stellar_radius_au};
 use nivalis_physics::structure::{profile_fraction_between, MIN_PROFILE_FRACTION_BETWEEN_EDGES};
 use nivalis_physics::{BindingEnergySet, ModelParameters, Species};
 use serde_json::{Map, Value};
+use std::borrow::Cow;
 
 /// Parse and validate a disk file from JSON text.
 pub fn parse_disk_json(text: &str) -> Result<DiskFile, Problems> {
@@ -79,12 +80,13 @@ fn range_of(path: &str) -> Range {
 
 /// The keys of the object at `path`, from the table, in order; at the top
 /// level also the sections read by their own modules ([`SECTIONS`]).
-fn keys_of(path: &str) -> Vec<&'static str> {
-    let mut keys: Vec<&'static str> = children(path).map(Field::key).collect();
+fn keys_of(path: &str) -> Cow<'static, [&'static str]> {
+    let keys = child_keys(path);
     if path.is_empty() {
-        keys.extend(SECTIONS);
+        Cow::Owned(keys.iter().copied().chain(SECTIONS).collect())
+    } else {
+        Cow::Borrowed(keys)
     }
-    keys
 }
 
 /// Top-level sections that are not fields of the table but read by modules of
@@ -329,7 +331,7 @@ impl Reader {
             return default;
         };
         let mut out = [0.0; N];
-        for (slot, k) in out.iter_mut().zip(&keys) {
+        for (slot, k) in out.iter_mut().zip(keys.iter()) {
             *slot = self.real(Some(group), &p, k, 0.0);
         }
         let sum: f64 = out.iter().sum();

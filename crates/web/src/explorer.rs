@@ -197,6 +197,28 @@ impl Explorer {
         self.outcome(result)
     }
 
+    /// Like `update` for the page's own disk object as `JSON.stringify` wrote it:
+    /// the text crosses as one string and is parsed by serde_json, much cheaper
+    /// than reading the object property by property through the bindings. The
+    /// value is the one `update` reads from the object (same keys in the same
+    /// order, strings, booleans, nulls and the same doubles; integers beyond
+    /// 2^53 stay integers here, as the CLI reads them, where the object path
+    /// makes them floats, which only changes how a problem message prints such
+    /// a number). Returns `undefined` when the text does not parse (a lone
+    /// surrogate in a string, which `JSON.stringify` writes as an escape
+    /// serde_json refuses): the caller then passes the object to `update`.
+    #[wasm_bindgen(js_name = updateJson)]
+    pub fn update_json(&mut self, text: &str) -> JsValue {
+        let Ok(value) = serde_json::from_str::<Value>(text) else {
+            return JsValue::UNDEFINED;
+        };
+        if let Some(p) = grid_too_large(&value) {
+            return self.outcome(Err(vec![p]));
+        }
+        let result = self.session.update(&value);
+        self.outcome(result)
+    }
+
     /// Like `update` for disk-file text (an opened file), parsed by the CLI's JSON reader.
     #[wasm_bindgen(js_name = updateFromText)]
     pub fn update_from_text(&mut self, text: &str) -> JsValue {
