@@ -53,7 +53,7 @@ pub use data::{
 };
 pub use error::ChartError;
 pub use layout::{AxisTransform, ChartLayout, PanelLayout, Scale};
-pub use map::{rasterise_map, rasterise_map_over, MapData, RasterImage};
+pub use map::{rasterise_map, rasterise_map_over, MapData, MapGrid, RasterImage};
 pub use options::{FigureFormat, FigureOptions, RenderedFigure};
 #[cfg(feature = "png")]
 pub use render::render_png;

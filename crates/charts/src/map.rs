@@ -50,6 +50,59 @@ pub struct MapData {
     pub z_over_r_max: f64,
 }
 
+/// The r-z grid of a model's maps: what [`MapData`] takes from the structure
+/// alone (radii, z/r of every sample, H/r, the plot's top), the same for every
+/// map of one structure.
+#[derive(Debug, Clone, PartialEq)]
+pub struct MapGrid {
+    /// Radius of each column [au], increasing.
+    pub radius_au: Vec<f64>,
+    /// Samples per column.
+    pub rows: usize,
+    /// z/r of each sample, `[column * rows + row]`.
+    pub z_over_r: Vec<f64>,
+    /// H/r of each column.
+    pub scale_height_over_r: Vec<f64>,
+    /// Top of the plot in z/r.
+    pub z_over_r_max: f64,
+}
+
+impl MapGrid {
+    /// The grid of a model's structure.
+    pub fn from_model(model: &Model) -> MapGrid {
+        let st = &model.structure();
+        let rows = st.samples_per_column();
+        // Each sample's height straight from the structure's flat array (the
+        // `height_cm` of `st.sample(j, s)`, without building the whole sample).
+        let heights = &st.samples().height_cm;
+        let mut z_over_r = Vec::with_capacity(heights.len());
+        for (j, &r) in st.radius_cm().iter().enumerate() {
+            let column = &heights[st.index(j, 0)..st.index(j, 0) + rows];
+            z_over_r.extend(column.iter().map(|h| h / r));
+        }
+        let h_over_r: Vec<f64> = st
+            .scale_height_cm()
+            .iter()
+            .zip(st.radius_cm())
+            .map(|(h, r)| h / r)
+            .collect();
+        // Show up to four scale heights of the thickest column: the snow surfaces and the
+        // 1-3 H lines sit below that, and the grid's 10 H top would squash them.
+        let thickest = h_over_r.iter().copied().fold(0.0, f64::max);
+        let grid_top = z_over_r.iter().copied().fold(0.0, f64::max);
+        let z_max = ((4.0 * thickest / 0.05).ceil() * 0.05)
+            .min(grid_top)
+            .max(1e-3);
+        MapGrid {
+            radius_au: st.radius_cm().iter().map(|r| r / AU_CM).collect(),
+            rows,
+            z_over_r,
+            scale_height_over_r: h_over_r,
+            z_over_r_max: z_max,
+        }
+    }
+}
+
 /// An RGBA image, rows top to bottom, 4 bytes per pixel (the layout of the
 /// browser's `ImageData`).
 #[derive(Debug, Clone, PartialEq)]
@@ -81,42 +134,20 @@ impl RasterImage {
 }
 
 impl MapData {
-    fn from_model_values(
-        model: &Model,
+    /// A map on a model's grid ([`MapGrid`]) with the given values.
+    fn on_grid(
+        grid: &MapGrid,
         values: Vec<f64>,
         value_label: String,
         value_range: (f64, f64),
         colour_map: ColourMap,
     ) -> MapData {
-        let st = &model.structure();
-        let rows = st.samples_per_column();
-        // Each sample's height straight from the structure's flat array (the
-        // `height_cm` of `st.sample(j, s)`, without building the whole sample).
-        let heights = &st.samples().height_cm;
-        let mut z_over_r = Vec::with_capacity(values.len());
-        for (j, &r) in st.radius_cm().iter().enumerate() {
-            let column = &heights[st.index(j, 0)..st.index(j, 0) + rows];
-            z_over_r.extend(column.iter().map(|h| h / r));
-        }
-        let h_over_r: Vec<f64> = st
-            .scale_height_cm()
-            .iter()
-            .zip(st.radius_cm())
-            .map(|(h, r)| h / r)
-            .collect();
-        // Show up to four scale heights of the thickest column: the snow surfaces and the
-        // 1-3 H lines sit below that, and the grid's 10 H top would squash them.
-        let thickest = h_over_r.iter().copied().fold(0.0, f64::max);
-        let grid_top = z_over_r.iter().copied().fold(0.0, f64::max);
-        let z_max = ((4.0 * thickest / 0.05).ceil() * 0.05)
-            .min(grid_top)
-            .max(1e-3);
         MapData {
-            radius_au: st.radius_cm().iter().map(|r| r / AU_CM).collect(),
-            rows,
-            z_over_r,
+            radius_au: grid.radius_au.clone(),
+            rows: grid.rows,
+            z_over_r: grid.z_over_r.clone(),
             values,
-            scale_height_over_r: h_over_r,
+            scale_height_over_r: grid.scale_height_over_r.clone(),
             value_label,
             value_range,
             colour_map,
@@ -124,7 +155,7 @@ impl MapData {
             contour_label: String::new(),
             curves: Vec::new(),
             reference_value: None,
-            z_over_r_max: z_max,
+            z_over_r_max: grid.z_over_r_max,
         }
     }
 
@@ -132,6 +163,13 @@ impl MapData {
     /// (the snow surface as the field's own 0.5 level) and the 1, 2, 3 H lines.
     /// An absent species gives an all-undefined map.
     pub fn ice_fraction(model: &Model, species: Species) -> MapData {
+        MapData::ice_fraction_on(&MapGrid::from_model(model), model, species)
+    }
+
+    /// [`MapData::ice_fraction`] on the model's grid built beforehand (`grid` must
+    /// be `MapGrid::from_model(model)`): the page builds the grid once per
+    /// structure for both maps.
+    pub fn ice_fraction_on(grid: &MapGrid, model: &Model, species: Species) -> MapData {
         let n = model.sample_count();
         let present = model.composition().is_present(species);
         // `model.ice_fraction_at(species, k)` for every k, as one slice.
@@ -141,8 +179,7 @@ impl MapData {
             vec![f64::NAN; n]
         };
         let label = format!("{} ice fraction", typeset_formula(species.key()));
-        let mut map =
-            MapData::from_model_values(model, values, label, (0.0, 1.0), ColourMap::Viridis);
+        let mut map = MapData::on_grid(grid, values, label, (0.0, 1.0), ColourMap::Viridis);
         map.contour_level = Some(0.5);
         map.contour_label = "f = 0.5".to_string();
         map
@@ -150,10 +187,16 @@ impl MapData {
 
     /// Gas C/O in every sample on a 0..2 scale, the star's C/O marked on the colour bar.
     pub fn gas_c_to_o(model: &Model) -> MapData {
+        MapData::gas_c_to_o_on(&MapGrid::from_model(model), model)
+    }
+
+    /// [`MapData::gas_c_to_o`] on the model's grid built beforehand (`grid` must
+    /// be `MapGrid::from_model(model)`).
+    pub fn gas_c_to_o_on(grid: &MapGrid, model: &Model) -> MapData {
         // The core's bulk query: the same values as `ratios(&phases_at(k))` per sample.
         let values = model.gas_c_to_o_samples();
-        let mut map = MapData::from_model_values(
-            model,
+        let mut map = MapData::on_grid(
+            grid,
             values,
             "gas C/O".to_string(),
             (0.0, 2.0),

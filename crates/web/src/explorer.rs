@@ -7,7 +7,9 @@ use std::cell::RefCell;
 use std::collections::HashMap;
 use std::rc::Rc;
 
-use nivalis_charts::{AbundanceData, ChartLayout, MapData, ProfileData, TemperatureData, Theme};
+use nivalis_charts::{
+    AbundanceData, ChartLayout, MapData, MapGrid, ProfileData, TemperatureData, Theme,
+};
 use nivalis_disk_files::{to_value, DiskFile, Problem};
 use nivalis_physics::{Rerun, Species};
 use serde::Serialize;
@@ -65,6 +67,9 @@ pub struct Explorer {
     pub(crate) data: HashMap<String, Rc<ViewData>>,
     /// Per canvas id: the data key it shows and its layout.
     pub(crate) layouts: HashMap<String, (String, ChartLayout)>,
+    /// The r-z grid of the session model's maps, built on first use and kept
+    /// while the structure is (an ice or composition edit keeps it).
+    map_grid: Option<Rc<MapGrid>>,
     /// The current result when it came from the worker (`loadPacket`); `None`
     /// when it is the session's own model.
     pub(crate) remote: Option<Remote>,
@@ -139,6 +144,7 @@ impl Explorer {
             session: Session::new(),
             data: HashMap::new(),
             layouts: HashMap::new(),
+            map_grid: None,
             remote: None,
             planet: Default::default(),
             drawn: HashMap::new(),
@@ -248,6 +254,9 @@ impl Explorer {
                             && self.remote.is_none()
                             && key.starts_with("ice_map:"))
                 };
+                if stages.structure_changed() || self.remote.is_some() {
+                    self.map_grid = None;
+                }
                 self.data.retain(|key, _| keep_key(key));
                 self.layouts.retain(|_, (key, _)| keep_key(key));
                 self.remote = None;
@@ -622,6 +631,9 @@ impl Explorer {
                 .current()
                 .ok_or_else(|| JsError::new("no valid disk has been computed yet"))?;
             let model = &current.model;
+            let grid = |cached: &mut Option<Rc<MapGrid>>| {
+                Rc::clone(cached.get_or_insert_with(|| Rc::new(MapGrid::from_model(model))))
+            };
             let data = match key {
                 // With the planet panel's marks (planet radius, allowed formation radii).
                 "c_to_o" => ViewData::Profile(crate::planet::with_marks(
@@ -630,14 +642,20 @@ impl Explorer {
                 )),
                 "temperature" => ViewData::Temperature(TemperatureData::from_model(model)),
                 "abundances" => ViewData::Abundances(AbundanceData::from_model(model)),
-                "c_to_o_map" => ViewData::CToOMap(MapData::gas_c_to_o(model)),
+                "c_to_o_map" => {
+                    ViewData::CToOMap(MapData::gas_c_to_o_on(&grid(&mut self.map_grid), model))
+                }
                 _ => {
                     // Invariant: `draw` builds ice-map keys from a parsed species.
                     let species = key
                         .strip_prefix("ice_map:")
                         .and_then(Species::from_key)
                         .expect("ice-map key names a species");
-                    ViewData::IceMap(MapData::ice_fraction(model, species))
+                    ViewData::IceMap(MapData::ice_fraction_on(
+                        &grid(&mut self.map_grid),
+                        model,
+                        species,
+                    ))
                 }
             };
             self.data.insert(key.to_string(), Rc::new(data));

@@ -223,6 +223,49 @@ mod tests {
         }
     }
 
+    /// The page keeps its maps' grid (`nivalis_charts::MapGrid`) across edits that
+    /// keep the structure: after each such edit it must equal the edited model's own.
+    #[test]
+    fn the_map_grid_outlives_only_edits_that_keep_the_structure() {
+        use nivalis_charts::{MapData, MapGrid};
+        use nivalis_physics::Species;
+        let small = json!({"grid": {"radial_cells": 40, "vertical_cells": 16}});
+        let mut s = Session::new();
+        s.update(&small).unwrap();
+        let kept = MapGrid::from_model(&s.current().unwrap().model);
+        let mut edits = Vec::new();
+        for (ices, carbon) in [(0.5, 0.3), (0.5, 0.25), (1.0, 0.25)] {
+            let mut disk = small.clone();
+            disk["ices"] = json!({"sticking": ices});
+            disk["composition"] = json!({"carbon": {
+                "CO": carbon, "CO2": 0.4 - carbon, "CH4": 0.04, "CH3OH": 0.05, "HCN": 0.01, "refractory": 0.5
+            }});
+            let stages = s.update(&disk).unwrap();
+            assert!(!stages.structure_changed(), "{disk}");
+            edits.push(stages);
+            let model = &s.current().unwrap().model;
+            assert_eq!(MapGrid::from_model(model), kept);
+            // The maps built on the kept grid are those built from the model alone.
+            assert_eq!(
+                MapData::ice_fraction_on(&kept, model, Species::CO),
+                MapData::ice_fraction(model, Species::CO)
+            );
+            assert_eq!(
+                MapData::gas_c_to_o_on(&kept, model),
+                MapData::gas_c_to_o(model)
+            );
+        }
+        assert!(
+            edits.contains(&Rerun::Ices) && edits.contains(&Rerun::Composition),
+            "{edits:?}"
+        );
+        // A structure edit gives another grid (the page then builds it again).
+        let mut disk = small.clone();
+        disk["star"] = json!({"luminosity_lsun": 2});
+        assert!(s.update(&disk).unwrap().structure_changed());
+        assert_ne!(MapGrid::from_model(&s.current().unwrap().model), kept);
+    }
+
     #[test]
     fn exports_match_the_cli_functions() {
         let mut s = Session::new();
