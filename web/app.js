@@ -633,6 +633,14 @@ const App = ((util, core, controls) => {
 
   const sig = (x, n = 3) => (x == null ? "–" : Number(x.toPrecision(n)).toString());
 
+  // Species keys as typeset formulas, made once per species (the table asks after every edit).
+  const formulaOf = new Map();
+  const typesetOnce = (key) => {
+    let text = formulaOf.get(key);
+    if (text === undefined) formulaOf.set(key, (text = formula(key)));
+    return text;
+  };
+
   // The snowline table as rows of cells, each `{tag, text, attrs: [[name, value], ...]}`.
   function snowlineRowsSpec(rows) {
     const out = [];
@@ -641,7 +649,7 @@ const App = ((util, core, controls) => {
       const span = String(lines.length);
       lines.forEach((line, i) => {
         const cells = [];
-        if (i === 0) cells.push({ tag: "th", text: formula(row.species), attrs: [["scope", "row"], ["rowspan", span]] });
+        if (i === 0) cells.push({ tag: "th", text: typesetOnce(row.species), attrs: [["scope", "row"], ["rowspan", span]] });
         if (line) {
           cells.push({ tag: "td", text: sig(line.radius_au), attrs: [["data-radius-au", String(line.radius_au)]] },
             { tag: "td", text: (line.direction === "freeze_out" ? "freezes out (ice outside)" : "desorbs (gas outside)")

@@ -123,13 +123,18 @@ pub const MAX_SAMPLES: usize = 4_000_000;
 /// A problem when the disk's grid would not fit in the page's memory (checked
 /// before the run, so an oversized grid cannot exhaust the wasm heap).
 pub fn grid_too_large(disk: &Value) -> Option<Problem> {
-    let defaults = nivalis_physics::ModelParameters::defaults().grid;
+    // The default grid, taken once from the core's defaults (asked on every edit).
+    static DEFAULT_CELLS: std::sync::OnceLock<(usize, usize)> = std::sync::OnceLock::new();
+    let &(default_radial, default_vertical) = DEFAULT_CELLS.get_or_init(|| {
+        let grid = nivalis_physics::ModelParameters::defaults().grid;
+        (grid.radial_cells, grid.vertical_cells)
+    });
     let grid = disk.get("grid")?;
     let cells =
         |key: &str, default: usize| grid.get(key).map_or(Some(default as f64), Value::as_f64);
     let (radial, vertical) = (
-        cells("radial_cells", defaults.radial_cells)?,
-        cells("vertical_cells", defaults.vertical_cells)?,
+        cells("radial_cells", default_radial)?,
+        cells("vertical_cells", default_vertical)?,
     );
     let samples = radial * (vertical + 1.0);
     (samples > MAX_SAMPLES as f64).then(|| {
