@@ -852,6 +852,13 @@ impl BalanceConstants {
             // to a scalar remainder loop.
             let mut settled = [true; BLOCK];
             let mut desorption = [0.0; BLOCK];
+            // Whether any lane of the block is not (yet) settled: the passes below run only
+            // then. The scalar loops do not track it (always run).
+            #[cfg_attr(
+                not(all(target_arch = "wasm32", target_feature = "simd128")),
+                allow(unused_mut)
+            )]
+            let mut pending = true;
             // WebAssembly with simd128: two places per vector, explicitly (module `simd128`).
             #[cfg(all(target_arch = "wasm32", target_feature = "simd128"))]
             {
@@ -872,6 +879,7 @@ impl BalanceConstants {
                     );
                     q += 2;
                 }
+                let mut unsettled = 0u8;
                 let mut q = 0;
                 while q < len {
                     let pair = self.lane_pair(block, q, &lanes, &desorption);
@@ -883,6 +891,7 @@ impl BalanceConstants {
                         flag[q + 1] = pair.flag & 2 != 0;
                         settled[q] = pair.settled & 1 != 0;
                         settled[q + 1] = pair.settled & 2 != 0;
+                        unsettled |= !pair.settled & 3;
                     } else {
                         // The last place of an odd block.
                         ice[q] = f64x2_extract_lane::<0>(pair.ice);
@@ -890,9 +899,11 @@ impl BalanceConstants {
                         time[q] = f64x2_extract_lane::<0>(pair.time);
                         flag[q] = pair.flag & 1 != 0;
                         settled[q] = pair.settled & 1 != 0;
+                        unsettled |= !pair.settled & 1;
                     }
                     q += 2;
                 }
+                pending &= unsettled != 0;
             }
             #[cfg(not(all(target_arch = "wasm32", target_feature = "simd128")))]
             {
@@ -978,7 +989,8 @@ impl BalanceConstants {
             // `Branches::evolve` computes (libm's log1p in two lanes, bit for bit), so its lane
             // already holds `Branches::evolve`'s numbers.
             #[cfg(all(target_arch = "wasm32", target_feature = "simd128"))]
-            if settled[..len].iter().any(|&s| !s) {
+            if pending {
+                let mut unsettled = 0u8;
                 let lanes = core::hint::black_box(self.lane_vectors(i, per_h, inverse_per_h));
                 let log1p = core::hint::black_box(crate::math::simd128::Log1pVectors::new());
                 let mut q = 0;
@@ -987,14 +999,17 @@ impl BalanceConstants {
                     if !settled[q] || (second && !settled[q + 1]) {
                         let proven = self.crossing_settled(block, q, &lanes, &desorption, &log1p);
                         settled[q] |= proven & 1 != 0;
+                        unsettled |= u8::from(!settled[q]);
                         if second {
                             settled[q + 1] |= proven & 2 != 0;
+                            unsettled |= u8::from(!settled[q + 1]);
                         }
                     }
                     q += 2;
                 }
+                pending &= unsettled != 0;
             }
-            for q in 0..len {
+            for q in 0..if pending { len } else { 0 } {
                 if !settled[q] {
                     let state = AgedIceState {
                         ice_fraction: ice[q],
@@ -1229,11 +1244,10 @@ mod simd128 {
             l: &LaneVectors,
             desorption: &[f64; BLOCK],
         ) -> Pair {
-            // `clamp_unit`, two lanes.
-            let clamp_unit = |f: v128| {
-                let f = select(f64x2_lt(f, l.zero), l.zero, f);
-                select(f64x2_gt(f, l.one), l.one, f)
-            };
+            // `clamp_unit`, two lanes: `if f < 0 { 0 } else { f }` is f64x2.pmax(f, 0) and
+            // `if f > 1 { 1 } else { f }` is f64x2.pmin(f, 1) (WebAssembly's pseudo-min/max
+            // are defined as these selects, NaN and -0 included; one instruction each on x86).
+            let clamp_unit = |f: v128| f64x2_pmin(f64x2_pmax(f, l.zero), l.one);
             // `ln_upper_bound`, two lanes.
             let ln_upper_bound = |y: v128| {
                 let biased = f64x2_sub(v128_or(l.exponent_bits, u64x2_shr(y, 52)), l.two_52);
@@ -1276,14 +1290,14 @@ mod simd128 {
             // lane.
             let valid = v128_and(f64x2_gt(molecules, l.zero), f64x2_gt(grain_area, l.zero));
             let thin = v128_or(v128_not(zeroth), f64x2_le(thin_root, monolayer));
-            let equilibrium = select(
+            // `select(valid, .., 0)` as a mask (0 has no bit set).
+            let equilibrium = v128_and(
                 valid,
                 select(
                     thin,
                     thin_fraction,
                     clamp_unit(f64x2_mul(thick_root, inverse_molecules)),
                 ),
-                l.zero,
             );
             let time = select(
                 valid,
@@ -1303,29 +1317,36 @@ mod simd128 {
             let root = select(v128_or(direct_thick, to_thick), thick_root, thin_root);
             let direct_rate = select(direct_thick, a, thin_rate);
             let direct = f64x2_gt(f64x2_mul(direct_rate, age), l.settled_rate_time);
-            let num = select(to_thin, f64x2_sub(initial, m), f64x2_sub(m, initial));
-            let den = select(to_thin, f64x2_sub(m, thick_root), f64x2_sub(thin_root, m));
-            let inverse_first = select(to_thin, inverse_adsorption, inverse_thin_rate);
-            let second = select(to_thin, thin_rate, a);
-            let sum = f64x2_add(num, den);
-            let crossing = f64x2_mul(
-                f64x2_mul(
-                    f64x2_add(f64x2_sub(ln_upper_bound(sum), ln_upper_bound(den)), l.ln_2),
-                    inverse_first,
-                ),
-                l.margin,
-            );
-            let switched = v128_and(
-                v128_and(f64x2_ge(den, l.min_positive), f64x2_lt(sum, l.max)),
-                v128_and(
-                    f64x2_gt(age, crossing),
-                    f64x2_gt(
-                        f64x2_mul(second, f64x2_sub(age, crossing)),
-                        l.settled_rate_time,
+            let crosses = v128_or(to_thin, to_thick);
+            // The crossing time's bound only where a lane crosses n = M (about one pair in
+            // ten on the default disk); elsewhere `settled` is `direct` in both lanes.
+            let settled = if v128_any_true(crosses) {
+                let num = select(to_thin, f64x2_sub(initial, m), f64x2_sub(m, initial));
+                let den = select(to_thin, f64x2_sub(m, thick_root), f64x2_sub(thin_root, m));
+                let inverse_first = select(to_thin, inverse_adsorption, inverse_thin_rate);
+                let second = select(to_thin, thin_rate, a);
+                let sum = f64x2_add(num, den);
+                let crossing = f64x2_mul(
+                    f64x2_mul(
+                        f64x2_add(f64x2_sub(ln_upper_bound(sum), ln_upper_bound(den)), l.ln_2),
+                        inverse_first,
                     ),
-                ),
-            );
-            let settled = select(v128_or(to_thin, to_thick), switched, direct);
+                    l.margin,
+                );
+                let switched = v128_and(
+                    v128_and(f64x2_ge(den, l.min_positive), f64x2_lt(sum, l.max)),
+                    v128_and(
+                        f64x2_gt(age, crossing),
+                        f64x2_gt(
+                            f64x2_mul(second, f64x2_sub(age, crossing)),
+                            l.settled_rate_time,
+                        ),
+                    ),
+                );
+                select(crosses, switched, direct)
+            } else {
+                direct
+            };
             // Back in lane.
             let aged = select(
                 kinetic,
