@@ -882,11 +882,9 @@ impl BalanceConstants {
                 let mut unsettled = 0u8;
                 let mut q = 0;
                 while q < len {
-                    let pair = self.lane_pair(block, q, &lanes, &desorption);
+                    let pair = self.lane_pair(block, q, &lanes, &desorption, equilibrium, time);
                     if q + 1 < len {
                         store2(ice, q, pair.ice);
-                        store2(equilibrium, q, pair.equilibrium);
-                        store2(time, q, pair.time);
                         flag[q] = pair.flag & 1 != 0;
                         flag[q + 1] = pair.flag & 2 != 0;
                         settled[q] = pair.settled & 1 != 0;
@@ -895,8 +893,6 @@ impl BalanceConstants {
                     } else {
                         // The last place of an odd block.
                         ice[q] = f64x2_extract_lane::<0>(pair.ice);
-                        equilibrium[q] = f64x2_extract_lane::<0>(pair.equilibrium);
-                        time[q] = f64x2_extract_lane::<0>(pair.time);
                         flag[q] = pair.flag & 1 != 0;
                         settled[q] = pair.settled & 1 != 0;
                         unsettled |= !pair.settled & 1;
@@ -1118,7 +1114,7 @@ pub struct SampleState {
 mod simd128 {
     use super::{BalanceConstants, SampleBlock, BLOCK, EQUILIBRIUM_FRACTION_TOLERANCE};
     use crate::math::simd128::{
-        exp_poly_pair, log1p_positive, select, splat, ExpVectors, Log1pVectors,
+        exp_poly_pair, log1p_positive, select, splat, store2, ExpVectors, Log1pVectors,
     };
     use crate::params::{DesorptionModel, InitialIceState};
     use core::arch::wasm32::*;
@@ -1136,8 +1132,6 @@ mod simd128 {
     /// The outputs of places `q` and `q + 1`.
     pub(super) struct Pair {
         pub(super) ice: v128,
-        pub(super) equilibrium: v128,
-        pub(super) time: v128,
         /// Bit 0: place q, bit 1: place q + 1.
         pub(super) flag: u8,
         pub(super) settled: u8,
@@ -1243,7 +1237,18 @@ mod simd128 {
             q: usize,
             l: &LaneVectors,
             desorption: &[f64; BLOCK],
+            equilibrium_out: &mut [f64],
+            time_out: &mut [f64],
         ) -> Pair {
+            // Both places (q + 1 < the outputs' length) or place q alone.
+            let full = q + 1 < time_out.len();
+            let put = |values: &mut [f64], v: v128| {
+                if full {
+                    store2(values, q, v);
+                } else {
+                    values[q] = f64x2_extract_lane::<0>(v);
+                }
+            };
             // `clamp_unit`, two lanes: `if f < 0 { 0 } else { f }` is f64x2.pmax(f, 0) and
             // `if f > 1 { 1 } else { f }` is f64x2.pmin(f, 1) (WebAssembly's pseudo-min/max
             // are defined as these selects, NaN and -0 included; one instruction each on x86).
@@ -1304,6 +1309,10 @@ mod simd128 {
                 select(thin, inverse_thin_rate, inverse_adsorption),
                 l.nan,
             );
+            // Stored as soon as they are known (fewer vectors live at once in the rest).
+            put(equilibrium_out, equilibrium);
+            put(time_out, time);
+            let late = f64x2_gt(time, age);
             let kinetic = v128_and(valid, l.kinetic);
             let initial = v128_and(molecules, l.inherited);
             // Branches::settled_root(initial, age).
@@ -1354,7 +1363,7 @@ mod simd128 {
                 equilibrium,
             );
             let out = v128_or(
-                f64x2_gt(time, age),
+                late,
                 v128_and(
                     kinetic,
                     f64x2_gt(f64x2_abs(f64x2_sub(aged, equilibrium)), l.tolerance),
@@ -1363,8 +1372,6 @@ mod simd128 {
             let done = v128_or(settled, v128_not(kinetic));
             Pair {
                 ice: aged,
-                equilibrium,
-                time,
                 flag: i64x2_bitmask(out),
                 settled: i64x2_bitmask(done),
             }
