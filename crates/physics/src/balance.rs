@@ -2,7 +2,7 @@
 //! the equilibrium and the state after the disk's age, both in closed form, no
 //! iteration and no time stepping.
 
-use crate::math::{exp, exp_m1, exp_poly, ln_1p, ln_upper_bound, sqrt};
+use crate::math::{exp, exp_m1, exp_poly, inverse_upper_bound, ln_1p, ln_upper_bound, sqrt};
 use crate::params::{DesorptionModel, InitialIceState, ModelParameters};
 use crate::species::{FrequencyRule, Species, SpeciesTable, SPECIES_COUNT};
 use crate::units::{
@@ -316,9 +316,12 @@ impl Branches {
     /// The root [`Branches::evolve`] ends on after `time_s` from `initial_cm3`, and whether it is
     /// provably reached exactly: the last relaxation has k t > 40, and libm's expm1 returns
     /// exactly -1 for arguments below -56 ln 2 = -38.8, so `relax` returns the root itself. For a
-    /// path that crosses n = M the crossing time ln(1 + q)/k is bounded from above (without a
-    /// logarithm or a division, [`ln_upper_bound`]) with a relative margin of 1e-9. Branch-free;
-    /// `false` (not proven) sends the place through [`Branches::evolve`].
+    /// path that crosses n = M the crossing time ln(1 + q)/k is bounded from above without a
+    /// logarithm or a division, by the smaller of two bounds of ln(1 + q), q = num/den: the
+    /// binary exponents' ([`ln_upper_bound`]) and q itself (ln(1 + q) <= q, with 1/den bounded
+    /// by [`inverse_upper_bound`]; used where that product is a normal number), with a relative
+    /// margin of 1e-9, the bound being a normal number (so each rounding is relative, below
+    /// 2^-52). Branch-free; `false` (not proven) sends the place through [`Branches::evolve`].
     #[inline(always)]
     fn settled_root(&self, initial_cm3: f64, time_s: f64) -> (f64, bool) {
         const SETTLED_RATE_TIME: f64 = 40.0;
@@ -350,11 +353,19 @@ impl Branches {
             (self.inverse_thin_rate, a)
         };
         let sum = num + den;
-        let crossing = (ln_upper_bound(sum) - ln_upper_bound(den) + std::f64::consts::LN_2)
-            * inverse_first
-            * (1.0 + 1e-9);
+        let exponents = ln_upper_bound(sum) - ln_upper_bound(den) + std::f64::consts::LN_2;
+        // ln(1 + q) <= q <= num 2^-e(den): the tighter one where q is small (a path that
+        // barely crosses, whose first rate is slow).
+        let ratio = num * inverse_upper_bound(den);
+        let log_bound = if ratio >= f64::MIN_POSITIVE {
+            exponents.min(ratio)
+        } else {
+            exponents
+        };
+        let crossing = log_bound * inverse_first * (1.0 + 1e-9);
         let switched = (den >= f64::MIN_POSITIVE)
             & (sum < f64::MAX)
+            & (crossing >= f64::MIN_POSITIVE)
             & (time_s > crossing)
             & (second * (time_s - crossing) > SETTLED_RATE_TIME);
         (root, if to_thin | to_thick { switched } else { direct })
@@ -1170,6 +1181,8 @@ mod simd128 {
         exponent_bits: v128,
         two_52: v128,
         bias: v128,
+        exponent_top: v128,
+        exponent_clamp: v128,
     }
 
     impl BalanceConstants {
@@ -1203,6 +1216,8 @@ mod simd128 {
                 exponent_bits: i64x2_splat(0x4330_0000_0000_0000),
                 two_52: splat(4_503_599_627_370_496.0),
                 bias: splat(1022.0),
+                exponent_top: splat(2046.0),
+                exponent_clamp: splat(2045.0),
             }
         }
 
@@ -1257,6 +1272,15 @@ mod simd128 {
             let ln_upper_bound = |y: v128| {
                 let biased = f64x2_sub(v128_or(l.exponent_bits, u64x2_shr(y, 52)), l.two_52);
                 f64x2_mul(f64x2_sub(biased, l.bias), l.ln_2)
+            };
+            // `inverse_upper_bound`, two lanes (`min` as f64x2.pmin: no NaN here).
+            let inverse_upper_bound = |y: v128| {
+                let biased = f64x2_sub(v128_or(l.exponent_bits, u64x2_shr(y, 52)), l.two_52);
+                let field = f64x2_add(
+                    f64x2_sub(l.exponent_top, f64x2_pmin(biased, l.exponent_clamp)),
+                    l.two_52,
+                );
+                i64x2_shl(field, 52)
             };
             let age = l.age;
             let desorption = load(desorption, q);
@@ -1335,15 +1359,20 @@ mod simd128 {
                 let inverse_first = select(to_thin, inverse_adsorption, inverse_thin_rate);
                 let second = select(to_thin, thin_rate, a);
                 let sum = f64x2_add(num, den);
-                let crossing = f64x2_mul(
-                    f64x2_mul(
-                        f64x2_add(f64x2_sub(ln_upper_bound(sum), ln_upper_bound(den)), l.ln_2),
-                        inverse_first,
-                    ),
-                    l.margin,
+                let exponents =
+                    f64x2_add(f64x2_sub(ln_upper_bound(sum), ln_upper_bound(den)), l.ln_2);
+                let ratio = f64x2_mul(num, inverse_upper_bound(den));
+                let log_bound = select(
+                    f64x2_ge(ratio, l.min_positive),
+                    f64x2_pmin(exponents, ratio),
+                    exponents,
                 );
+                let crossing = f64x2_mul(f64x2_mul(log_bound, inverse_first), l.margin);
                 let switched = v128_and(
-                    v128_and(f64x2_ge(den, l.min_positive), f64x2_lt(sum, l.max)),
+                    v128_and(
+                        v128_and(f64x2_ge(den, l.min_positive), f64x2_lt(sum, l.max)),
+                        f64x2_ge(crossing, l.min_positive),
+                    ),
                     v128_and(
                         f64x2_gt(age, crossing),
                         f64x2_gt(
