@@ -1351,8 +1351,8 @@ mod simd128 {
             let direct_rate = select(direct_thick, a, thin_rate);
             let direct = f64x2_gt(f64x2_mul(direct_rate, age), l.settled_rate_time);
             let crosses = v128_or(to_thin, to_thick);
-            // The crossing time's bound only where a lane crosses n = M (about one pair in
-            // ten on the default disk); elsewhere `settled` is `direct` in both lanes.
+            // The crossing time's bound only where a lane crosses n = M (two lanes in three
+            // on the default disk); elsewhere `settled` is `direct` in both lanes.
             let settled = if v128_any_true(crosses) {
                 let num = select(to_thin, f64x2_sub(initial, m), f64x2_sub(m, initial));
                 let den = select(to_thin, f64x2_sub(m, thick_root), f64x2_sub(thin_root, m));
