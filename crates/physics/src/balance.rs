@@ -400,7 +400,8 @@ pub(crate) struct SampleBlock {
     ionization_rate: [f64; BLOCK],
     hydrogen_density: [f64; BLOCK],
     inverse_hydrogen_density: [f64; BLOCK],
-    states: [SampleState; BLOCK],
+    temperature: [f64; BLOCK],
+    fuv_photons: [f64; BLOCK],
 }
 
 /// The output of one species over one block: slices of the grid's species-major arrays.
@@ -814,23 +815,74 @@ impl BalanceConstants {
     ) {
         let len = temperature_k.len().min(BLOCK);
         block.len = len;
-        for q in 0..len {
+        let (temperature_k, density_g_cm3, fuv_photons_cm2_s, ionization_rate_s) = (
+            &temperature_k[..len],
+            &density_g_cm3[..len],
+            &fuv_photons_cm2_s[..len],
+            &ionization_rate_s[..len],
+        );
+        let hydrogen_density_cm3 = &hydrogen_density_cm3[..len];
+        // WebAssembly simd128: two places per vector, [`BalanceConstants::sample`]'s
+        // operations in its order (the same bits), the odd last place below.
+        #[cfg(all(target_arch = "wasm32", target_feature = "simd128"))]
+        let start = {
+            use crate::math::simd128::{load2, splat, store2};
+            use core::arch::wasm32::*;
+            let pairs = len / 2 * 2;
+            let [grains_per_gram, cross_section, one, sites, photodesorption] =
+                core::hint::black_box([
+                    splat(self.grains_per_gram),
+                    splat(self.cross_section_cm2),
+                    splat(1.0),
+                    splat(4.0 * BINDING_SITES_PER_CM2),
+                    u64x2_splat(if self.photodesorption { u64::MAX } else { 0 }),
+                ]);
+            let (mul, div) = (f64x2_mul, f64x2_div);
+            for q in (0..pairs).step_by(2) {
+                let temperature = load2(temperature_k, q);
+                let grain_area = mul(mul(grains_per_gram, load2(density_g_cm3, q)), cross_section);
+                let sqrt_temperature = f64x2_sqrt(temperature);
+                // `if photodesorption { F } else { 0 }` as a mask.
+                let fuv = v128_and(load2(fuv_photons_cm2_s, q), photodesorption);
+                let hydrogen = load2(hydrogen_density_cm3, q);
+                store2(&mut block.temperature, q, temperature);
+                store2(&mut block.inverse_temperature, q, div(one, temperature));
+                store2(&mut block.sqrt_temperature, q, sqrt_temperature);
+                store2(&mut block.grain_area, q, grain_area);
+                store2(
+                    &mut block.inverse_area_sqrt_temperature,
+                    q,
+                    div(one, mul(grain_area, sqrt_temperature)),
+                );
+                store2(&mut block.monolayer, q, mul(sites, grain_area));
+                store2(&mut block.fuv_photons, q, fuv);
+                store2(&mut block.fuv_per_site, q, div(fuv, sites));
+                store2(&mut block.ionization_rate, q, load2(ionization_rate_s, q));
+                store2(&mut block.hydrogen_density, q, hydrogen);
+                store2(&mut block.inverse_hydrogen_density, q, div(one, hydrogen));
+            }
+            pairs
+        };
+        #[cfg(not(all(target_arch = "wasm32", target_feature = "simd128")))]
+        let start = 0;
+        for q in start..len {
             let s = self.sample(
                 temperature_k[q],
                 density_g_cm3[q],
                 fuv_photons_cm2_s[q],
                 ionization_rate_s[q],
             );
+            block.temperature[q] = s.temperature_k;
             block.inverse_temperature[q] = s.inverse_temperature;
             block.sqrt_temperature[q] = s.sqrt_temperature;
             block.grain_area[q] = s.grain_area_cm2_per_cm3;
             block.inverse_area_sqrt_temperature[q] = s.inverse_area_sqrt_temperature;
             block.monolayer[q] = s.monolayer_cm3;
+            block.fuv_photons[q] = s.fuv_photons_cm2_s;
             block.fuv_per_site[q] = s.fuv_per_site;
             block.ionization_rate[q] = s.ionization_rate_s;
             block.hydrogen_density[q] = hydrogen_density_cm3[q];
             block.inverse_hydrogen_density[q] = 1.0 / hydrogen_density_cm3[q];
-            block.states[q] = s;
         }
     }
 
@@ -1025,7 +1077,7 @@ impl BalanceConstants {
                         out_of_equilibrium: flag[q],
                     };
                     let s = self.unsettled(
-                        &block.states[q],
+                        &block.state(q),
                         i,
                         per_h * block.hydrogen_density[q],
                         inverse_per_h * block.inverse_hydrogen_density[q],
@@ -1040,7 +1092,7 @@ impl BalanceConstants {
         }
         // The step model: no kinetics.
         for q in 0..len {
-            let s = self.step(&block.states[q], i);
+            let s = self.step(&block.state(q), i);
             ice[q] = s.ice_fraction;
             equilibrium[q] = s.equilibrium_ice_fraction;
             time[q] = s.equilibration_time_s;
@@ -1080,6 +1132,22 @@ impl LaneGroup {
 }
 
 impl SampleBlock {
+    /// The [`SampleState`] of place `q` ([`BalanceConstants::sample`]'s numbers, as
+    /// [`BalanceConstants::fill_block`] stored them).
+    fn state(&self, q: usize) -> SampleState {
+        SampleState {
+            temperature_k: self.temperature[q],
+            inverse_temperature: self.inverse_temperature[q],
+            sqrt_temperature: self.sqrt_temperature[q],
+            grain_area_cm2_per_cm3: self.grain_area[q],
+            inverse_area_sqrt_temperature: self.inverse_area_sqrt_temperature[q],
+            monolayer_cm3: self.monolayer[q],
+            fuv_photons_cm2_s: self.fuv_photons[q],
+            fuv_per_site: self.fuv_per_site[q],
+            ionization_rate_s: self.ionization_rate[q],
+        }
+    }
+
     /// An empty block.
     pub(crate) fn new() -> SampleBlock {
         let zero = [0.0; BLOCK];
@@ -1094,7 +1162,8 @@ impl SampleBlock {
             ionization_rate: zero,
             hydrogen_density: zero,
             inverse_hydrogen_density: zero,
-            states: [SampleState::default(); BLOCK],
+            temperature: zero,
+            fuv_photons: zero,
         }
     }
 }
