@@ -2,7 +2,7 @@
 //! the equilibrium and the state after the disk's age, both in closed form, no
 //! iteration and no time stepping.
 
-use crate::math::{exp, exp_m1, exp_poly, ln_1p, ln_upper_bound, sqrt};
+use crate::math::{exp, exp_m1, exp_poly, inverse_upper_bound, ln_1p, ln_upper_bound, sqrt};
 use crate::params::{DesorptionModel, InitialIceState, ModelParameters};
 use crate::species::{FrequencyRule, Species, SpeciesTable, SPECIES_COUNT};
 use crate::units::{
@@ -316,9 +316,12 @@ impl Branches {
     /// The root [`Branches::evolve`] ends on after `time_s` from `initial_cm3`, and whether it is
     /// provably reached exactly: the last relaxation has k t > 40, and libm's expm1 returns
     /// exactly -1 for arguments below -56 ln 2 = -38.8, so `relax` returns the root itself. For a
-    /// path that crosses n = M the crossing time ln(1 + q)/k is bounded from above (without a
-    /// logarithm or a division, [`ln_upper_bound`]) with a relative margin of 1e-9. Branch-free;
-    /// `false` (not proven) sends the place through [`Branches::evolve`].
+    /// path that crosses n = M the crossing time ln(1 + q)/k is bounded from above without a
+    /// logarithm or a division, by the smaller of two bounds of ln(1 + q), q = num/den: the
+    /// binary exponents' ([`ln_upper_bound`]) and q itself (ln(1 + q) <= q, with 1/den bounded
+    /// by [`inverse_upper_bound`]; used where that product is a normal number), with a relative
+    /// margin of 1e-9, the bound being a normal number (so each rounding is relative, below
+    /// 2^-52). Branch-free; `false` (not proven) sends the place through [`Branches::evolve`].
     #[inline(always)]
     fn settled_root(&self, initial_cm3: f64, time_s: f64) -> (f64, bool) {
         const SETTLED_RATE_TIME: f64 = 40.0;
@@ -350,11 +353,19 @@ impl Branches {
             (self.inverse_thin_rate, a)
         };
         let sum = num + den;
-        let crossing = (ln_upper_bound(sum) - ln_upper_bound(den) + std::f64::consts::LN_2)
-            * inverse_first
-            * (1.0 + 1e-9);
+        let exponents = ln_upper_bound(sum) - ln_upper_bound(den) + std::f64::consts::LN_2;
+        // ln(1 + q) <= q <= num 2^-e(den): the tighter one where q is small (a path that
+        // barely crosses, whose first rate is slow).
+        let ratio = num * inverse_upper_bound(den);
+        let log_bound = if ratio >= f64::MIN_POSITIVE {
+            exponents.min(ratio)
+        } else {
+            exponents
+        };
+        let crossing = log_bound * inverse_first * (1.0 + 1e-9);
         let switched = (den >= f64::MIN_POSITIVE)
             & (sum < f64::MAX)
+            & (crossing >= f64::MIN_POSITIVE)
             & (time_s > crossing)
             & (second * (time_s - crossing) > SETTLED_RATE_TIME);
         (root, if to_thin | to_thick { switched } else { direct })
@@ -389,7 +400,8 @@ pub(crate) struct SampleBlock {
     ionization_rate: [f64; BLOCK],
     hydrogen_density: [f64; BLOCK],
     inverse_hydrogen_density: [f64; BLOCK],
-    states: [SampleState; BLOCK],
+    temperature: [f64; BLOCK],
+    fuv_photons: [f64; BLOCK],
 }
 
 /// The output of one species over one block: slices of the grid's species-major arrays.
@@ -803,23 +815,74 @@ impl BalanceConstants {
     ) {
         let len = temperature_k.len().min(BLOCK);
         block.len = len;
-        for q in 0..len {
+        let (temperature_k, density_g_cm3, fuv_photons_cm2_s, ionization_rate_s) = (
+            &temperature_k[..len],
+            &density_g_cm3[..len],
+            &fuv_photons_cm2_s[..len],
+            &ionization_rate_s[..len],
+        );
+        let hydrogen_density_cm3 = &hydrogen_density_cm3[..len];
+        // WebAssembly simd128: two places per vector, [`BalanceConstants::sample`]'s
+        // operations in its order (the same bits), the odd last place below.
+        #[cfg(all(target_arch = "wasm32", target_feature = "simd128"))]
+        let start = {
+            use crate::math::simd128::{load2, splat, store2};
+            use core::arch::wasm32::*;
+            let pairs = len / 2 * 2;
+            let [grains_per_gram, cross_section, one, sites, photodesorption] =
+                core::hint::black_box([
+                    splat(self.grains_per_gram),
+                    splat(self.cross_section_cm2),
+                    splat(1.0),
+                    splat(4.0 * BINDING_SITES_PER_CM2),
+                    u64x2_splat(if self.photodesorption { u64::MAX } else { 0 }),
+                ]);
+            let (mul, div) = (f64x2_mul, f64x2_div);
+            for q in (0..pairs).step_by(2) {
+                let temperature = load2(temperature_k, q);
+                let grain_area = mul(mul(grains_per_gram, load2(density_g_cm3, q)), cross_section);
+                let sqrt_temperature = f64x2_sqrt(temperature);
+                // `if photodesorption { F } else { 0 }` as a mask.
+                let fuv = v128_and(load2(fuv_photons_cm2_s, q), photodesorption);
+                let hydrogen = load2(hydrogen_density_cm3, q);
+                store2(&mut block.temperature, q, temperature);
+                store2(&mut block.inverse_temperature, q, div(one, temperature));
+                store2(&mut block.sqrt_temperature, q, sqrt_temperature);
+                store2(&mut block.grain_area, q, grain_area);
+                store2(
+                    &mut block.inverse_area_sqrt_temperature,
+                    q,
+                    div(one, mul(grain_area, sqrt_temperature)),
+                );
+                store2(&mut block.monolayer, q, mul(sites, grain_area));
+                store2(&mut block.fuv_photons, q, fuv);
+                store2(&mut block.fuv_per_site, q, div(fuv, sites));
+                store2(&mut block.ionization_rate, q, load2(ionization_rate_s, q));
+                store2(&mut block.hydrogen_density, q, hydrogen);
+                store2(&mut block.inverse_hydrogen_density, q, div(one, hydrogen));
+            }
+            pairs
+        };
+        #[cfg(not(all(target_arch = "wasm32", target_feature = "simd128")))]
+        let start = 0;
+        for q in start..len {
             let s = self.sample(
                 temperature_k[q],
                 density_g_cm3[q],
                 fuv_photons_cm2_s[q],
                 ionization_rate_s[q],
             );
+            block.temperature[q] = s.temperature_k;
             block.inverse_temperature[q] = s.inverse_temperature;
             block.sqrt_temperature[q] = s.sqrt_temperature;
             block.grain_area[q] = s.grain_area_cm2_per_cm3;
             block.inverse_area_sqrt_temperature[q] = s.inverse_area_sqrt_temperature;
             block.monolayer[q] = s.monolayer_cm3;
+            block.fuv_photons[q] = s.fuv_photons_cm2_s;
             block.fuv_per_site[q] = s.fuv_per_site;
             block.ionization_rate[q] = s.ionization_rate_s;
             block.hydrogen_density[q] = hydrogen_density_cm3[q];
             block.inverse_hydrogen_density[q] = 1.0 / hydrogen_density_cm3[q];
-            block.states[q] = s;
         }
     }
 
@@ -852,6 +915,13 @@ impl BalanceConstants {
             // to a scalar remainder loop.
             let mut settled = [true; BLOCK];
             let mut desorption = [0.0; BLOCK];
+            // Whether any lane of the block is not (yet) settled: the passes below run only
+            // then. The scalar loops do not track it (always run).
+            #[cfg_attr(
+                not(all(target_arch = "wasm32", target_feature = "simd128")),
+                allow(unused_mut)
+            )]
+            let mut pending = true;
             // WebAssembly with simd128: two places per vector, explicitly (module `simd128`).
             #[cfg(all(target_arch = "wasm32", target_feature = "simd128"))]
             {
@@ -872,27 +942,27 @@ impl BalanceConstants {
                     );
                     q += 2;
                 }
+                let mut unsettled = 0u8;
                 let mut q = 0;
                 while q < len {
-                    let pair = self.lane_pair(block, q, &lanes, &desorption);
+                    let pair = self.lane_pair(block, q, &lanes, &desorption, equilibrium, time);
                     if q + 1 < len {
                         store2(ice, q, pair.ice);
-                        store2(equilibrium, q, pair.equilibrium);
-                        store2(time, q, pair.time);
                         flag[q] = pair.flag & 1 != 0;
                         flag[q + 1] = pair.flag & 2 != 0;
                         settled[q] = pair.settled & 1 != 0;
                         settled[q + 1] = pair.settled & 2 != 0;
+                        unsettled |= !pair.settled & 3;
                     } else {
                         // The last place of an odd block.
                         ice[q] = f64x2_extract_lane::<0>(pair.ice);
-                        equilibrium[q] = f64x2_extract_lane::<0>(pair.equilibrium);
-                        time[q] = f64x2_extract_lane::<0>(pair.time);
                         flag[q] = pair.flag & 1 != 0;
                         settled[q] = pair.settled & 1 != 0;
+                        unsettled |= !pair.settled & 1;
                     }
                     q += 2;
                 }
+                pending &= unsettled != 0;
             }
             #[cfg(not(all(target_arch = "wasm32", target_feature = "simd128")))]
             {
@@ -978,7 +1048,8 @@ impl BalanceConstants {
             // `Branches::evolve` computes (libm's log1p in two lanes, bit for bit), so its lane
             // already holds `Branches::evolve`'s numbers.
             #[cfg(all(target_arch = "wasm32", target_feature = "simd128"))]
-            if settled[..len].iter().any(|&s| !s) {
+            if pending {
+                let mut unsettled = 0u8;
                 let lanes = core::hint::black_box(self.lane_vectors(i, per_h, inverse_per_h));
                 let log1p = core::hint::black_box(crate::math::simd128::Log1pVectors::new());
                 let mut q = 0;
@@ -987,14 +1058,17 @@ impl BalanceConstants {
                     if !settled[q] || (second && !settled[q + 1]) {
                         let proven = self.crossing_settled(block, q, &lanes, &desorption, &log1p);
                         settled[q] |= proven & 1 != 0;
+                        unsettled |= u8::from(!settled[q]);
                         if second {
                             settled[q + 1] |= proven & 2 != 0;
+                            unsettled |= u8::from(!settled[q + 1]);
                         }
                     }
                     q += 2;
                 }
+                pending &= unsettled != 0;
             }
-            for q in 0..len {
+            for q in 0..if pending { len } else { 0 } {
                 if !settled[q] {
                     let state = AgedIceState {
                         ice_fraction: ice[q],
@@ -1003,7 +1077,7 @@ impl BalanceConstants {
                         out_of_equilibrium: flag[q],
                     };
                     let s = self.unsettled(
-                        &block.states[q],
+                        &block.state(q),
                         i,
                         per_h * block.hydrogen_density[q],
                         inverse_per_h * block.inverse_hydrogen_density[q],
@@ -1018,7 +1092,7 @@ impl BalanceConstants {
         }
         // The step model: no kinetics.
         for q in 0..len {
-            let s = self.step(&block.states[q], i);
+            let s = self.step(&block.state(q), i);
             ice[q] = s.ice_fraction;
             equilibrium[q] = s.equilibrium_ice_fraction;
             time[q] = s.equilibration_time_s;
@@ -1058,6 +1132,22 @@ impl LaneGroup {
 }
 
 impl SampleBlock {
+    /// The [`SampleState`] of place `q` ([`BalanceConstants::sample`]'s numbers, as
+    /// [`BalanceConstants::fill_block`] stored them).
+    fn state(&self, q: usize) -> SampleState {
+        SampleState {
+            temperature_k: self.temperature[q],
+            inverse_temperature: self.inverse_temperature[q],
+            sqrt_temperature: self.sqrt_temperature[q],
+            grain_area_cm2_per_cm3: self.grain_area[q],
+            inverse_area_sqrt_temperature: self.inverse_area_sqrt_temperature[q],
+            monolayer_cm3: self.monolayer[q],
+            fuv_photons_cm2_s: self.fuv_photons[q],
+            fuv_per_site: self.fuv_per_site[q],
+            ionization_rate_s: self.ionization_rate[q],
+        }
+    }
+
     /// An empty block.
     pub(crate) fn new() -> SampleBlock {
         let zero = [0.0; BLOCK];
@@ -1072,7 +1162,8 @@ impl SampleBlock {
             ionization_rate: zero,
             hydrogen_density: zero,
             inverse_hydrogen_density: zero,
-            states: [SampleState::default(); BLOCK],
+            temperature: zero,
+            fuv_photons: zero,
         }
     }
 }
@@ -1103,7 +1194,7 @@ pub struct SampleState {
 mod simd128 {
     use super::{BalanceConstants, SampleBlock, BLOCK, EQUILIBRIUM_FRACTION_TOLERANCE};
     use crate::math::simd128::{
-        exp_poly_pair, log1p_positive, select, splat, ExpVectors, Log1pVectors,
+        exp_poly_pair, log1p_positive, select, splat, store2, ExpVectors, Log1pVectors,
     };
     use crate::params::{DesorptionModel, InitialIceState};
     use core::arch::wasm32::*;
@@ -1121,8 +1212,6 @@ mod simd128 {
     /// The outputs of places `q` and `q + 1`.
     pub(super) struct Pair {
         pub(super) ice: v128,
-        pub(super) equilibrium: v128,
-        pub(super) time: v128,
         /// Bit 0: place q, bit 1: place q + 1.
         pub(super) flag: u8,
         pub(super) settled: u8,
@@ -1161,6 +1250,8 @@ mod simd128 {
         exponent_bits: v128,
         two_52: v128,
         bias: v128,
+        exponent_top: v128,
+        exponent_clamp: v128,
     }
 
     impl BalanceConstants {
@@ -1194,6 +1285,8 @@ mod simd128 {
                 exponent_bits: i64x2_splat(0x4330_0000_0000_0000),
                 two_52: splat(4_503_599_627_370_496.0),
                 bias: splat(1022.0),
+                exponent_top: splat(2046.0),
+                exponent_clamp: splat(2045.0),
             }
         }
 
@@ -1228,16 +1321,35 @@ mod simd128 {
             q: usize,
             l: &LaneVectors,
             desorption: &[f64; BLOCK],
+            equilibrium_out: &mut [f64],
+            time_out: &mut [f64],
         ) -> Pair {
-            // `clamp_unit`, two lanes.
-            let clamp_unit = |f: v128| {
-                let f = select(f64x2_lt(f, l.zero), l.zero, f);
-                select(f64x2_gt(f, l.one), l.one, f)
+            // Both places (q + 1 < the outputs' length) or place q alone.
+            let full = q + 1 < time_out.len();
+            let put = |values: &mut [f64], v: v128| {
+                if full {
+                    store2(values, q, v);
+                } else {
+                    values[q] = f64x2_extract_lane::<0>(v);
+                }
             };
+            // `clamp_unit`, two lanes: `if f < 0 { 0 } else { f }` is f64x2.pmax(f, 0) and
+            // `if f > 1 { 1 } else { f }` is f64x2.pmin(f, 1) (WebAssembly's pseudo-min/max
+            // are defined as these selects, NaN and -0 included; one instruction each on x86).
+            let clamp_unit = |f: v128| f64x2_pmin(f64x2_pmax(f, l.zero), l.one);
             // `ln_upper_bound`, two lanes.
             let ln_upper_bound = |y: v128| {
                 let biased = f64x2_sub(v128_or(l.exponent_bits, u64x2_shr(y, 52)), l.two_52);
                 f64x2_mul(f64x2_sub(biased, l.bias), l.ln_2)
+            };
+            // `inverse_upper_bound`, two lanes (`min` as f64x2.pmin: no NaN here).
+            let inverse_upper_bound = |y: v128| {
+                let biased = f64x2_sub(v128_or(l.exponent_bits, u64x2_shr(y, 52)), l.two_52);
+                let field = f64x2_add(
+                    f64x2_sub(l.exponent_top, f64x2_pmin(biased, l.exponent_clamp)),
+                    l.two_52,
+                );
+                i64x2_shl(field, 52)
             };
             let age = l.age;
             let desorption = load(desorption, q);
@@ -1276,20 +1388,24 @@ mod simd128 {
             // lane.
             let valid = v128_and(f64x2_gt(molecules, l.zero), f64x2_gt(grain_area, l.zero));
             let thin = v128_or(v128_not(zeroth), f64x2_le(thin_root, monolayer));
-            let equilibrium = select(
+            // `select(valid, .., 0)` as a mask (0 has no bit set).
+            let equilibrium = v128_and(
                 valid,
                 select(
                     thin,
                     thin_fraction,
                     clamp_unit(f64x2_mul(thick_root, inverse_molecules)),
                 ),
-                l.zero,
             );
             let time = select(
                 valid,
                 select(thin, inverse_thin_rate, inverse_adsorption),
                 l.nan,
             );
+            // Stored as soon as they are known (fewer vectors live at once in the rest).
+            put(equilibrium_out, equilibrium);
+            put(time_out, time);
+            let late = f64x2_gt(time, age);
             let kinetic = v128_and(valid, l.kinetic);
             let initial = v128_and(molecules, l.inherited);
             // Branches::settled_root(initial, age).
@@ -1303,29 +1419,41 @@ mod simd128 {
             let root = select(v128_or(direct_thick, to_thick), thick_root, thin_root);
             let direct_rate = select(direct_thick, a, thin_rate);
             let direct = f64x2_gt(f64x2_mul(direct_rate, age), l.settled_rate_time);
-            let num = select(to_thin, f64x2_sub(initial, m), f64x2_sub(m, initial));
-            let den = select(to_thin, f64x2_sub(m, thick_root), f64x2_sub(thin_root, m));
-            let inverse_first = select(to_thin, inverse_adsorption, inverse_thin_rate);
-            let second = select(to_thin, thin_rate, a);
-            let sum = f64x2_add(num, den);
-            let crossing = f64x2_mul(
-                f64x2_mul(
-                    f64x2_add(f64x2_sub(ln_upper_bound(sum), ln_upper_bound(den)), l.ln_2),
-                    inverse_first,
-                ),
-                l.margin,
-            );
-            let switched = v128_and(
-                v128_and(f64x2_ge(den, l.min_positive), f64x2_lt(sum, l.max)),
-                v128_and(
-                    f64x2_gt(age, crossing),
-                    f64x2_gt(
-                        f64x2_mul(second, f64x2_sub(age, crossing)),
-                        l.settled_rate_time,
+            let crosses = v128_or(to_thin, to_thick);
+            // The crossing time's bound only where a lane crosses n = M (two lanes in three
+            // on the default disk); elsewhere `settled` is `direct` in both lanes.
+            let settled = if v128_any_true(crosses) {
+                let num = select(to_thin, f64x2_sub(initial, m), f64x2_sub(m, initial));
+                let den = select(to_thin, f64x2_sub(m, thick_root), f64x2_sub(thin_root, m));
+                let inverse_first = select(to_thin, inverse_adsorption, inverse_thin_rate);
+                let second = select(to_thin, thin_rate, a);
+                let sum = f64x2_add(num, den);
+                let exponents =
+                    f64x2_add(f64x2_sub(ln_upper_bound(sum), ln_upper_bound(den)), l.ln_2);
+                let ratio = f64x2_mul(num, inverse_upper_bound(den));
+                let log_bound = select(
+                    f64x2_ge(ratio, l.min_positive),
+                    f64x2_pmin(exponents, ratio),
+                    exponents,
+                );
+                let crossing = f64x2_mul(f64x2_mul(log_bound, inverse_first), l.margin);
+                let switched = v128_and(
+                    v128_and(
+                        v128_and(f64x2_ge(den, l.min_positive), f64x2_lt(sum, l.max)),
+                        f64x2_ge(crossing, l.min_positive),
                     ),
-                ),
-            );
-            let settled = select(v128_or(to_thin, to_thick), switched, direct);
+                    v128_and(
+                        f64x2_gt(age, crossing),
+                        f64x2_gt(
+                            f64x2_mul(second, f64x2_sub(age, crossing)),
+                            l.settled_rate_time,
+                        ),
+                    ),
+                );
+                select(crosses, switched, direct)
+            } else {
+                direct
+            };
             // Back in lane.
             let aged = select(
                 kinetic,
@@ -1333,7 +1461,7 @@ mod simd128 {
                 equilibrium,
             );
             let out = v128_or(
-                f64x2_gt(time, age),
+                late,
                 v128_and(
                     kinetic,
                     f64x2_gt(f64x2_abs(f64x2_sub(aged, equilibrium)), l.tolerance),
@@ -1342,8 +1470,6 @@ mod simd128 {
             let done = v128_or(settled, v128_not(kinetic));
             Pair {
                 ice: aged,
-                equilibrium,
-                time,
                 flag: i64x2_bitmask(out),
                 settled: i64x2_bitmask(done),
             }

@@ -259,6 +259,20 @@ pub fn ln_upper_bound(y: f64) -> f64 {
     (biased - 1022.0) * core::f64::consts::LN_2
 }
 
+/// An upper bound of 1/y for y >= 2^-1022 from the binary exponent alone: 2^-e with
+/// 2^e <= y < 2^(e+1) (e clamped to at most 1022, where 2^-1022 still bounds 1/y), so it is
+/// never below 1/y and at most twice it. Branch-free, no division (vectorised like
+/// [`exp_poly`]); y must be finite and at least `f64::MIN_POSITIVE`.
+#[inline(always)]
+pub fn inverse_upper_bound(y: f64) -> f64 {
+    const TWO_52: f64 = 4_503_599_627_370_496.0;
+    // The biased exponent E as a double (as in `ln_upper_bound`); 2^-e = 2^(1023 - E) has the
+    // biased exponent 2046 - E, formed in the low bits of 2^52 + (2046 - E) and shifted up.
+    let biased = f64::from_bits(0x4330_0000_0000_0000 | (y.to_bits() >> 52)) - TWO_52;
+    let field = (2046.0 - biased.min(2045.0)) + TWO_52;
+    f64::from_bits(field.to_bits() << 52)
+}
+
 /// [`exp_poly`] of every value of a slice, in place, bit for bit. With WebAssembly simd128 two
 /// values per vector ([`simd128::exp_poly`]); elsewhere the scalar loop (which the compiler
 /// vectorises where it vectorises loops).
@@ -908,6 +922,38 @@ mod tests {
             );
         }
         assert_eq!(ln_upper_bound(1.0), core::f64::consts::LN_2);
+    }
+
+    #[test]
+    fn inverse_upper_bound_bounds_the_inverse_within_a_factor_2() {
+        // 1/y <= bound < 2/y (exact powers of 2 give 1/y itself), over the normal range
+        // (derived, D: 2^e <= y < 2^(e+1) gives 2^-(e+1) < 1/y <= 2^-e).
+        let mut ys: Vec<f64> = uniform(200_000)
+            .map(|u| (2f64).powf(-1022.0 + 2045.9 * u))
+            .collect();
+        ys.extend([
+            f64::MIN_POSITIVE,
+            1.0,
+            1.5,
+            2.0,
+            3.0,
+            f64::MAX,
+            1e-300,
+            1e300,
+        ]);
+        for y in ys {
+            let bound = inverse_upper_bound(y);
+            // Exact: bound * y in [1, 2) where both are normal (bound is a power of 2).
+            let product = bound * y;
+            if y < (2f64).powi(1022) {
+                assert!((1.0..2.0).contains(&product), "{y:e}: {bound:e}");
+            } else {
+                assert_eq!(bound, (2f64).powi(-1022), "{y:e}");
+            }
+        }
+        assert_eq!(inverse_upper_bound(1.0), 1.0);
+        assert_eq!(inverse_upper_bound(3.0), 0.5);
+        assert_eq!(inverse_upper_bound(f64::MIN_POSITIVE), (2f64).powi(1022));
     }
 
     #[test]
