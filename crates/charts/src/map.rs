@@ -206,14 +206,24 @@ impl MapData {
                 self.radius_au.len(),
             )?;
         }
-        for &z in &self.z_over_r {
-            if !z.is_finite() || z < 0.0 {
-                return Err(ChartError::InvalidValue {
-                    field: "z_over_r",
-                    value: z,
-                    allowed: "finite and >= 0",
-                });
-            }
+        // Every z/r finite and >= 0 (`0 <= z < inf`, false for NaN), checked
+        // without a branch per sample (the page checks a map per edit); the
+        // first offending value is looked up only when there is one.
+        // Both comparisons, no short circuit (`contains` would branch).
+        #[allow(clippy::manual_range_contains)]
+        let valid = |z: f64| (z >= 0.0) & (z < f64::INFINITY);
+        if !self.z_over_r.iter().fold(true, |all, &z| all & valid(z)) {
+            let z = self
+                .z_over_r
+                .iter()
+                .copied()
+                .find(|&z| !valid(z))
+                .unwrap_or(f64::NAN);
+            return Err(ChartError::InvalidValue {
+                field: "z_over_r",
+                value: z,
+                allowed: "finite and >= 0",
+            });
         }
         let (a, b) = self.value_range;
         if !(a.is_finite() && b.is_finite() && a < b) {
@@ -351,10 +361,12 @@ impl MapData {
     /// The `contour_level` contour as (r [au], z/r) polylines.
     pub fn contour(&self, level: f64) -> Vec<Vec<(f64, f64)>> {
         let rows = self.rows;
+        // log10 r of each column once (each crossing looks up two nodes).
+        let log_r: Vec<f64> = self.radius_au.iter().map(|r| r.log10()).collect();
         let lines = marching_squares(
             self.radius_au.len(),
             rows,
-            |j, k| (self.radius_au[j].log10(), self.z_over_r[j * rows + k]),
+            |j, k| (log_r[j], self.z_over_r[j * rows + k]),
             |j, k| self.values[j * rows + k],
             level,
         );
@@ -714,6 +726,44 @@ mod tests {
             curves: vec![],
             reference_value: None,
             z_over_r_max: 0.3,
+        }
+    }
+
+    /// The branch-free z/r check gives what the per-sample loop gave: the
+    /// first sample that is not finite and >= 0 (NaN, infinities, negatives;
+    /// -0 passes), or no error.
+    #[test]
+    fn invalid_heights_are_refused_with_the_first_offending_value() {
+        let reference = |z: &[f64]| {
+            z.iter()
+                .copied()
+                .find(|&z| !z.is_finite() || z < 0.0)
+                .map(|z| z.to_bits())
+        };
+        let bad = [f64::NAN, f64::INFINITY, f64::NEG_INFINITY, -1e-300, -2.0];
+        let mut cases = vec![vec![0.0, 0.1, 0.2, 0.0, 0.1, 0.2], vec![-0.0; 6]];
+        for (i, &b) in bad.iter().enumerate() {
+            for at in [0, 3, 5] {
+                let mut z = vec![0.0, 0.1, 0.2, 0.0, 0.1, 0.2];
+                z[at] = b;
+                // A second offender after the first: the first is reported.
+                z[(at + 1).min(5)] = bad[(i + 1) % bad.len()];
+                cases.push(z);
+            }
+        }
+        for z in cases {
+            let mut map = small_map();
+            map.z_over_r = z.clone();
+            let got = match map.validate() {
+                Ok(()) => None,
+                Err(ChartError::InvalidValue {
+                    field: "z_over_r",
+                    value,
+                    allowed: "finite and >= 0",
+                }) => Some(value.to_bits()),
+                Err(e) => panic!("{e:?} for {z:?}"),
+            };
+            assert_eq!(got, reference(&z), "{z:?}");
         }
     }
 

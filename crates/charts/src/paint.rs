@@ -636,13 +636,17 @@ pub(crate) fn defined_runs(panel: &Panel, xs: &[f64], ys: &[Option<f64>]) -> Vec
     runs
 }
 
-/// Clip a polyline to a rectangle (Liang-Barsky per segment); pieces outside are dropped.
+/// Clip a polyline to a rectangle (Liang-Barsky per segment); pieces outside
+/// are dropped (the collecting reference of [`for_each_clipped`], which the
+/// charts use).
+#[cfg(test)]
 pub(crate) fn clip_polyline(points: &[(f64, f64)], frame: &Frame) -> Vec<Vec<(f64, f64)>> {
     collect_pieces(|piece| for_each_clipped(points, frame, &mut Vec::new(), piece))
 }
 
 /// The pieces a streaming walker ([`for_each_clipped`], [`for_each_dash`])
 /// hands out, collected in order.
+#[cfg(test)]
 fn collect_pieces(
     walk: impl FnOnce(&mut dyn FnMut(&[(f64, f64)]) -> Result<(), ()>) -> Result<(), ()>,
 ) -> Vec<Vec<(f64, f64)>> {
