@@ -529,11 +529,19 @@ fn raster_cells(
                 q = 0;
                 empty
             } else if zr >= bottom {
+                // The cells above of the same colour join this segment: each
+                // row up to the last one's top shows one of them (the first
+                // cell whose top is at or above its z/r), so the walk would
+                // record no change there, and one scan covers them all.
+                let c = colour_of(j * data.rows + k);
+                while k + 1 < data.rows && colour_of(j * data.rows + k + 1) == c {
+                    k += 1;
+                }
                 let top = tops[k];
                 while q > 0 && z_of_row[q - 1] <= top {
                     q -= 1;
                 }
-                colour_of(j * data.rows + k)
+                c
             } else {
                 while q > 0 && z_of_row[q - 1] < bottom {
                     q -= 1;
@@ -682,14 +690,27 @@ mod tests {
         p.grid.radial_cells = 60;
         p.grid.vertical_cells = 20;
         let model = Model::run(&p).unwrap();
+        // The page's default grid too (200 x 80 cells), whose ice maps have
+        // long runs of cells of one colour.
+        let default = Model::run(&nivalis_physics::ModelParameters::defaults()).unwrap();
         let theme = Theme::light();
         for data in [
             small_map(),
             MapData::ice_fraction(&model, Species::CO),
             MapData::gas_c_to_o(&model),
+            MapData::ice_fraction(&default, Species::H2O),
+            MapData::ice_fraction(&default, Species::CO),
+            MapData::gas_c_to_o(&default),
         ] {
             let colours = data.cell_colours(theme.undefined);
-            for (w, h) in [(1, 1), (7, 300), (45, 33), (560, 330), (1000, 90)] {
+            for (w, h) in [
+                (1, 1),
+                (7, 300),
+                (45, 33),
+                (520, 290),
+                (560, 330),
+                (1000, 90),
+            ] {
                 let fast = raster_from_colours(&data, &colours, [1, 2, 3, 4], w, h);
                 assert_eq!(
                     fast.rgba,
