@@ -1576,7 +1576,10 @@ mod tests {
                 );
             }
         }
-        assert!(shortcuts > 100_000, "{shortcuts} segments took the shortcut");
+        assert!(
+            shortcuts > 100_000,
+            "{shortcuts} segments took the shortcut"
+        );
     }
 
     /// The rounding helpers give what `round` gives, on edge cases and on a
