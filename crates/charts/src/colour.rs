@@ -7,6 +7,8 @@
 //! The line palette is the colour-blind-safe set of Okabe & Ito (2008, "Color
 //! Universal Design"); lines never rely on colour alone (see `theme::LineDash`).
 
+use crate::paint::round_to_byte_index;
+
 /// An 8-bit sRGB colour with alpha.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub struct Rgba {
@@ -96,7 +98,9 @@ impl ColourMap {
         let i = (x.floor() as usize).min(254);
         let f = x - i as f64;
         let (a, b) = (table[i], table[i + 1]);
-        let mix = |p: u8, q: u8| (p as f64 + (q as f64 - p as f64) * f).round() as u8;
+        // Between p and q, so in 0..=255: `round_to_byte_index` rounds it as
+        // `round` does, without `round`'s library call in WebAssembly.
+        let mix = |p: u8, q: u8| round_to_byte_index(p as f64 + (q as f64 - p as f64) * f) as u8;
         Rgba::rgb(mix(a[0], b[0]), mix(a[1], b[1]), mix(a[2], b[2]))
     }
 
@@ -660,6 +664,34 @@ pub(crate) const CIVIDIS: [[u8; 3]; 256] = [
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    /// `at` with its mixing rounded by `round_to_byte_index` gives what it gave
+    /// with `round`, for t across and beyond 0..1 in fine steps and NaN.
+    #[test]
+    fn colour_map_lookups_round_as_before() {
+        let reference = |map: ColourMap, t: f64| {
+            let table = map.table();
+            let t = if t.is_nan() { 0.0 } else { t.clamp(0.0, 1.0) };
+            let x = t * 255.0;
+            let i = (x.floor() as usize).min(254);
+            let f = x - i as f64;
+            let (a, b) = (table[i], table[i + 1]);
+            let mix = |p: u8, q: u8| (p as f64 + (q as f64 - p as f64) * f).round() as u8;
+            Rgba::rgb(mix(a[0], b[0]), mix(a[1], b[1]), mix(a[2], b[2]))
+        };
+        for map in [ColourMap::Viridis, ColourMap::Cividis] {
+            let mut ts: Vec<f64> = (-1000..=201_000).map(|n| n as f64 / 200_000.0).collect();
+            ts.extend([
+                f64::NAN,
+                f64::INFINITY,
+                f64::NEG_INFINITY,
+                1.0f64.next_down(),
+            ]);
+            for t in ts {
+                assert_eq!(map.at(t), reference(map, t), "{} at {t}", map.name());
+            }
+        }
+    }
 
     fn check_close(actual: Rgba, expected: Rgba, tolerance: u8) {
         let d = |a: u8, b: u8| a.abs_diff(b);

@@ -52,11 +52,14 @@ pub fn marching_squares(
     if ni < 2 || nk < 2 || !level.is_finite() {
         return Vec::new();
     }
-    // Each node once: at or above the level, below it, or undefined. Most
-    // cells lie wholly on one side and are passed over on these alone.
-    const BELOW: u8 = 0;
-    const ABOVE: u8 = 1;
-    const UNDEFINED: u8 = 2;
+    // Each node once, as one bit: below the level, at or above it, or
+    // undefined. A cell is contoured only when its corners' bits together are
+    // exactly BELOW | ABOVE (both sides, none undefined); most cells lie
+    // wholly on one side and are passed over on one OR and one comparison.
+    const BELOW: u8 = 1;
+    const ABOVE: u8 = 2;
+    const UNDEFINED: u8 = 4;
+    const CROSSED: u8 = BELOW | ABOVE;
     let mut state = Vec::with_capacity(ni * nk);
     for i in 0..ni {
         for k in 0..nk {
@@ -71,17 +74,12 @@ pub fn marching_squares(
         }
     }
     for i in 0..ni - 1 {
+        let (this, next) = (
+            &state[i * nk..(i + 1) * nk],
+            &state[(i + 1) * nk..(i + 2) * nk],
+        );
         for k in 0..nk - 1 {
-            let corners = [
-                state[i * nk + k],
-                state[(i + 1) * nk + k],
-                state[(i + 1) * nk + k + 1],
-                state[i * nk + k + 1],
-            ];
-            if corners.contains(&UNDEFINED)
-                || corners.iter().all(|&c| c == BELOW)
-                || corners.iter().all(|&c| c == ABOVE)
-            {
+            if this[k] | this[k + 1] | next[k] | next[k + 1] != CROSSED {
                 continue;
             }
             let c = [(i, k), (i + 1, k), (i + 1, k + 1), (i, k + 1)];

@@ -249,14 +249,24 @@ impl MapData {
                 self.radius_au.len(),
             )?;
         }
-        for &z in &self.z_over_r {
-            if !z.is_finite() || z < 0.0 {
-                return Err(ChartError::InvalidValue {
-                    field: "z_over_r",
-                    value: z,
-                    allowed: "finite and >= 0",
-                });
-            }
+        // Every z/r finite and >= 0 (`0 <= z < inf`, false for NaN), checked
+        // without a branch per sample (the page checks a map per edit); the
+        // first offending value is looked up only when there is one.
+        // Both comparisons, no short circuit (`contains` would branch).
+        #[allow(clippy::manual_range_contains)]
+        let valid = |z: f64| (z >= 0.0) & (z < f64::INFINITY);
+        if !self.z_over_r.iter().fold(true, |all, &z| all & valid(z)) {
+            let z = self
+                .z_over_r
+                .iter()
+                .copied()
+                .find(|&z| !valid(z))
+                .unwrap_or(f64::NAN);
+            return Err(ChartError::InvalidValue {
+                field: "z_over_r",
+                value: z,
+                allowed: "finite and >= 0",
+            });
         }
         let (a, b) = self.value_range;
         if !(a.is_finite() && b.is_finite() && a < b) {
@@ -394,10 +404,12 @@ impl MapData {
     /// The `contour_level` contour as (r [au], z/r) polylines.
     pub fn contour(&self, level: f64) -> Vec<Vec<(f64, f64)>> {
         let rows = self.rows;
+        // log10 r of each column once (each crossing looks up two nodes).
+        let log_r: Vec<f64> = self.radius_au.iter().map(|r| r.log10()).collect();
         let lines = marching_squares(
             self.radius_au.len(),
             rows,
-            |j, k| (self.radius_au[j].log10(), self.z_over_r[j * rows + k]),
+            |j, k| (log_r[j], self.z_over_r[j * rows + k]),
             |j, k| self.values[j * rows + k],
             level,
         );
@@ -560,11 +572,19 @@ fn raster_cells(
                 q = 0;
                 empty
             } else if zr >= bottom {
+                // The cells above of the same colour join this segment: each
+                // row up to the last one's top shows one of them (the first
+                // cell whose top is at or above its z/r), so the walk would
+                // record no change there, and one scan covers them all.
+                let c = colour_of(j * data.rows + k);
+                while k + 1 < data.rows && colour_of(j * data.rows + k + 1) == c {
+                    k += 1;
+                }
                 let top = tops[k];
                 while q > 0 && z_of_row[q - 1] <= top {
                     q -= 1;
                 }
-                colour_of(j * data.rows + k)
+                c
             } else {
                 while q > 0 && z_of_row[q - 1] < bottom {
                     q -= 1;
@@ -713,14 +733,27 @@ mod tests {
         p.grid.radial_cells = 60;
         p.grid.vertical_cells = 20;
         let model = Model::run(&p).unwrap();
+        // The page's default grid too (200 x 80 cells), whose ice maps have
+        // long runs of cells of one colour.
+        let default = Model::run(&nivalis_physics::ModelParameters::defaults()).unwrap();
         let theme = Theme::light();
         for data in [
             small_map(),
             MapData::ice_fraction(&model, Species::CO),
             MapData::gas_c_to_o(&model),
+            MapData::ice_fraction(&default, Species::H2O),
+            MapData::ice_fraction(&default, Species::CO),
+            MapData::gas_c_to_o(&default),
         ] {
             let colours = data.cell_colours(theme.undefined);
-            for (w, h) in [(1, 1), (7, 300), (45, 33), (560, 330), (1000, 90)] {
+            for (w, h) in [
+                (1, 1),
+                (7, 300),
+                (45, 33),
+                (520, 290),
+                (560, 330),
+                (1000, 90),
+            ] {
                 let fast = raster_from_colours(&data, &colours, [1, 2, 3, 4], w, h);
                 assert_eq!(
                     fast.rgba,
@@ -757,6 +790,44 @@ mod tests {
             curves: vec![],
             reference_value: None,
             z_over_r_max: 0.3,
+        }
+    }
+
+    /// The branch-free z/r check gives what the per-sample loop gave: the
+    /// first sample that is not finite and >= 0 (NaN, infinities, negatives;
+    /// -0 passes), or no error.
+    #[test]
+    fn invalid_heights_are_refused_with_the_first_offending_value() {
+        let reference = |z: &[f64]| {
+            z.iter()
+                .copied()
+                .find(|&z| !z.is_finite() || z < 0.0)
+                .map(|z| z.to_bits())
+        };
+        let bad = [f64::NAN, f64::INFINITY, f64::NEG_INFINITY, -1e-300, -2.0];
+        let mut cases = vec![vec![0.0, 0.1, 0.2, 0.0, 0.1, 0.2], vec![-0.0; 6]];
+        for (i, &b) in bad.iter().enumerate() {
+            for at in [0, 3, 5] {
+                let mut z = vec![0.0, 0.1, 0.2, 0.0, 0.1, 0.2];
+                z[at] = b;
+                // A second offender after the first: the first is reported.
+                z[(at + 1).min(5)] = bad[(i + 1) % bad.len()];
+                cases.push(z);
+            }
+        }
+        for z in cases {
+            let mut map = small_map();
+            map.z_over_r = z.clone();
+            let got = match map.validate() {
+                Ok(()) => None,
+                Err(ChartError::InvalidValue {
+                    field: "z_over_r",
+                    value,
+                    allowed: "finite and >= 0",
+                }) => Some(value.to_bits()),
+                Err(e) => panic!("{e:?} for {z:?}"),
+            };
+            assert_eq!(got, reference(&z), "{z:?}");
         }
     }
 

@@ -199,6 +199,7 @@ fn drawing_error<E: std::error::Error + Send + Sync>(
     }
 }
 
+#[inline]
 fn pt(p: (f64, f64)) -> (i32, i32) {
     (round_to_i32(p.0), round_to_i32(p.1))
 }
@@ -208,6 +209,7 @@ fn pt(p: (f64, f64)) -> (i32, i32) {
 /// x86-64 or in WebAssembly): below 2^52 in magnitude, truncation and the
 /// difference to it are exact, so comparing that difference with 1/2 decides
 /// as `round` does; larger values (and infinities, NaN) are integers already.
+#[inline]
 pub(crate) fn round_to_i32(x: f64) -> i32 {
     const EXACT: f64 = 4_503_599_627_370_496.0; // 2^52
     if !(x.abs() < EXACT) {
@@ -636,13 +638,17 @@ pub(crate) fn defined_runs(panel: &Panel, xs: &[f64], ys: &[Option<f64>]) -> Vec
     runs
 }
 
-/// Clip a polyline to a rectangle (Liang-Barsky per segment); pieces outside are dropped.
+/// Clip a polyline to a rectangle (Liang-Barsky per segment); pieces outside
+/// are dropped (the collecting reference of [`for_each_clipped`], which the
+/// charts use).
+#[cfg(test)]
 pub(crate) fn clip_polyline(points: &[(f64, f64)], frame: &Frame) -> Vec<Vec<(f64, f64)>> {
     collect_pieces(|piece| for_each_clipped(points, frame, &mut Vec::new(), piece))
 }
 
 /// The pieces a streaming walker ([`for_each_clipped`], [`for_each_dash`])
 /// hands out, collected in order.
+#[cfg(test)]
 fn collect_pieces(
     walk: impl FnOnce(&mut dyn FnMut(&[(f64, f64)]) -> Result<(), ()>) -> Result<(), ()>,
 ) -> Vec<Vec<(f64, f64)>> {
@@ -697,6 +703,46 @@ pub(crate) fn for_each_clipped<E>(
 
 fn clip_segment(a: (f64, f64), b: (f64, f64), f: &Frame) -> Option<((f64, f64), (f64, f64))> {
     let (dx, dy) = (b.0 - a.0, b.1 - a.1);
+    if wholly_inside(a, b, (dx, dy), f) {
+        // What the loop below gives such a segment: t0 = 0, t1 = 1 (see
+        // `wholly_inside`), without its four divisions.
+        return Some((
+            (a.0 + 0.0 * dx, a.1 + 0.0 * dy),
+            (a.0 + 1.0 * dx, a.1 + 1.0 * dy),
+        ));
+    }
+    clip_segment_general(a, (dx, dy), f)
+}
+
+/// Whether the clipping loop of [`clip_segment_general`] surely leaves the
+/// segment whole (t0 exactly +0, t1 exactly 1): `a` inside the frame by at
+/// least 1e-200 on every side, `b` inside or on the frame, the steps at most
+/// 1e100. Then every edge the segment runs toward has `p < 0` and `q >= 1e-200`,
+/// so `r = q / p` is negative and not zero (|r| >= 1e-300, no underflow) and
+/// `max(0, r)` is 0; every edge it runs away from has `q >= p > 0` (rounding
+/// is monotone, and `b` is not beyond the edge), so `r >= 1` and `min(1, r)`
+/// is 1; `p = 0` edges have `q > 0` and change nothing. NaN fails every test.
+fn wholly_inside(a: (f64, f64), b: (f64, f64), (dx, dy): (f64, f64), f: &Frame) -> bool {
+    const MARGIN: f64 = 1e-200;
+    const STEP: f64 = 1e100;
+    a.0 - f.left >= MARGIN
+        && f.right - a.0 >= MARGIN
+        && a.1 - f.top >= MARGIN
+        && f.bottom - a.1 >= MARGIN
+        && b.0 >= f.left
+        && b.0 <= f.right
+        && b.1 >= f.top
+        && b.1 <= f.bottom
+        && dx.abs() <= STEP
+        && dy.abs() <= STEP
+}
+
+/// Liang-Barsky clipping of the segment from `a` by `(dx, dy)` to the frame.
+fn clip_segment_general(
+    a: (f64, f64),
+    (dx, dy): (f64, f64),
+    f: &Frame,
+) -> Option<((f64, f64), (f64, f64))> {
     let mut t0: f64 = 0.0;
     let mut t1: f64 = 1.0;
     for (p, q) in [
@@ -1463,6 +1509,77 @@ mod tests {
             let flat: Vec<(f64, f64)> = defined_runs(&panel, xs, &values).concat();
             assert_eq!(points, flat, "case {n}");
         }
+    }
+
+    /// The shortcut for segments wholly inside the frame gives, bit for bit,
+    /// what the general Liang-Barsky loop gives, on random segments in, out and
+    /// across frames of several sizes and on points on or a hair inside edges.
+    #[test]
+    fn the_inside_shortcut_equals_the_general_clipping() {
+        let bits = |c: Option<((f64, f64), (f64, f64))>| {
+            c.map(|(a, b)| [a.0, a.1, b.0, b.1].map(f64::to_bits))
+        };
+        let mut state: u64 = 0x9e37_79b9_7f4a_7c15;
+        let mut next = || {
+            state ^= state >> 12;
+            state ^= state << 25;
+            state ^= state >> 27;
+            (state.wrapping_mul(0x2545_f491_4f6c_dd1d) >> 11) as f64 / (1u64 << 53) as f64
+        };
+        let frames = [
+            frame(),
+            Frame {
+                left: 0.0,
+                top: 0.0,
+                right: 1.0,
+                bottom: 1.0,
+            },
+            Frame {
+                left: -3e5,
+                top: -7.5,
+                right: 2e6,
+                bottom: 1e-3,
+            },
+        ];
+        let mut shortcuts = 0;
+        for f in &frames {
+            let (w, h) = (f.width(), f.height());
+            // Points near and on the edges, a hair inside, and NaN.
+            let mut special = vec![
+                (f.left, f.top),
+                (f.right, f.bottom),
+                (f.left + 1e-12 * w, f.top + 0.5 * h),
+                (f.right - f64::EPSILON * f.right.abs(), f.bottom - 1e-9 * h),
+                (f.left + 0.5 * w, f64::NAN),
+            ];
+            special.push((f.left.next_up(), f.top.next_up()));
+            for _ in 0..200_000 {
+                let mut p = || {
+                    (
+                        f.left - 0.2 * w + 1.4 * w * next(),
+                        f.top - 0.2 * h + 1.4 * h * next(),
+                    )
+                };
+                let (mut a, mut b) = (p(), p());
+                let pick = next();
+                if pick < 0.1 {
+                    a = special[(next() * special.len() as f64) as usize % special.len()];
+                } else if pick < 0.2 {
+                    b = special[(next() * special.len() as f64) as usize % special.len()];
+                }
+                let d = (b.0 - a.0, b.1 - a.1);
+                shortcuts += usize::from(wholly_inside(a, b, d, f));
+                assert_eq!(
+                    bits(clip_segment(a, b, f)),
+                    bits(clip_segment_general(a, d, f)),
+                    "{a:?} {b:?} {f:?}"
+                );
+            }
+        }
+        assert!(
+            shortcuts > 100_000,
+            "{shortcuts} segments took the shortcut"
+        );
     }
 
     /// The rounding helpers give what `round` gives, on edge cases and on a

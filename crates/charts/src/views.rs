@@ -16,7 +16,7 @@ use crate::data::{AbundanceData, Chi2Data, ProfileData, TemperatureData};
 use crate::error::ChartError;
 use crate::layout::{AxisTransform, ChartLayout, Scale};
 use crate::map::{raster_checked, MapData, RasterImage};
-use crate::paint::{clip_polyline, ticks, AxisOptions, Frame, Orientation, Painter, Panel};
+use crate::paint::{for_each_clipped, ticks, AxisOptions, Frame, Orientation, Painter, Panel};
 use crate::theme::{LineDash, Marker, SeriesStyle, Theme};
 
 #[path = "evolution_views.rs"]
@@ -836,16 +836,17 @@ fn halo_line<DB: DrawingBackend>(
     width_pt: f64,
     dash: LineDash,
 ) -> Result<(), ChartError> {
-    for piece in clip_polyline(points, &panel.frame) {
+    // The pieces `clip_polyline` gives, streamed through one buffer.
+    let mut buffer = Vec::new();
+    for_each_clipped(points, &panel.frame, &mut buffer, |piece| {
         p.polyline(
-            &piece,
+            piece,
             Rgba::hex(0x000000).with_alpha(150),
             width_pt * 2.4,
             LineDash::Solid,
         )?;
-        p.polyline(&piece, Rgba::hex(0xffffff), width_pt, dash)?;
-    }
-    Ok(())
+        p.polyline(piece, Rgba::hex(0xffffff), width_pt, dash)
+    })
 }
 
 fn fill_around<DB: DrawingBackend>(
@@ -1113,17 +1114,23 @@ fn draw_prepared_map<DB: DrawingBackend>(
     let mut entries: Vec<(String, SeriesStyle)> = Vec::new();
     let white = Rgba::hex(0xffffff);
     if !data.scale_height_over_r.is_empty() {
+        // The x pixel of each column, shared by the three lines: what
+        // `main.px(r, n * h)` computes first (one log10 per column, not three).
+        let column_x: Vec<Option<f64>> = data.radius_au.iter().map(|&r| main.px_x(r)).collect();
+        let mut points: Vec<(f64, f64)> = Vec::with_capacity(column_x.len());
         for (n, dash) in [
             (1.0, LineDash::Dotted),
             (2.0, LineDash::Dotted),
             (3.0, LineDash::Dotted),
         ] {
-            let points: Vec<(f64, f64)> = data
-                .radius_au
-                .iter()
-                .zip(&data.scale_height_over_r)
-                .filter_map(|(&r, &h)| main.px(r, n * h))
-                .collect();
+            // As `main.px(r, n * h)` for each column (defined where both are).
+            points.clear();
+            points.extend(
+                column_x
+                    .iter()
+                    .zip(&data.scale_height_over_r)
+                    .filter_map(|(x, &h)| x.zip(main.px_y(n * h))),
+            );
             halo_line(p, main, &points, theme.line_width_pt * 0.7, dash)?;
             // Label each line where it leaves the frame or at its outer end.
             if let Some(&(xe, ye)) = points
