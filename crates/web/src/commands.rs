@@ -77,7 +77,7 @@ pub mod op {
 
 /// Whether every pixel of an RGBA buffer has alpha 255 (a map's cells are
 /// composited over the background, so they are; checked, not assumed).
-fn opaque(rgba: &[u8]) -> bool {
+pub(crate) fn opaque(rgba: &[u8]) -> bool {
     // 16 bytes (4 pixels) at a time, so the check vectorises.
     let mut chunks = rgba.chunks_exact(16);
     let whole = chunks
@@ -136,6 +136,9 @@ pub struct Commands {
     pub first_new: u32,
     /// Whether the JavaScript table is to be emptied before the new strings are added.
     pub reset: bool,
+    /// Where each part of [`Commands::encode_parts`] ends: its end in `words`
+    /// and in `numbers` (one part, the whole list, after [`Commands::encode`]).
+    pub ends: Vec<(u32, u32)>,
     strings: Strings,
 }
 
@@ -155,6 +158,21 @@ impl Commands {
     /// `image_address` gives the WebAssembly address of an image's bytes (the
     /// page passes the slice's pointer; native tests anything).
     pub fn encode(&mut self, ops: &[Op], image_address: &dyn Fn(&[u8]) -> u32) {
+        self.encode_parts(ops, std::iter::once(0..ops.len()), image_address);
+    }
+
+    /// Encodes consecutive parts of `ops` (ranges in order, each starting
+    /// where the one before ends), each as if it were a list of its own (its
+    /// styles set afresh: it may be drawn on another canvas), recording where
+    /// each ends in [`Commands::ends`]. One part of the whole list is
+    /// [`Commands::encode`].
+    pub fn encode_parts(
+        &mut self,
+        ops: &[Op],
+        parts: impl IntoIterator<Item = std::ops::Range<usize>>,
+        image_address: &dyn Fn(&[u8]) -> u32,
+    ) {
+        self.ends.clear();
         self.words.clear();
         self.numbers.clear();
         self.new_strings.clear();
@@ -169,13 +187,18 @@ impl Commands {
         self.reset = s.reset;
         s.reset = false;
         self.first_new = s.next;
-        let mut styles = Styles::default();
-        let mut i = 0;
-        while i < ops.len() {
-            let n = run_length(ops, i).max(1);
-            let run = &ops[i..i + n];
-            self.encode_run(run, &mut styles, image_address);
-            i += n;
+        for part in parts {
+            let ops = &ops[part];
+            let mut styles = Styles::default();
+            let mut i = 0;
+            while i < ops.len() {
+                let n = run_length(ops, i).max(1);
+                let run = &ops[i..i + n];
+                self.encode_run(run, &mut styles, image_address);
+                i += n;
+            }
+            self.ends
+                .push((self.words.len() as u32, self.numbers.len() as u32));
         }
     }
 
