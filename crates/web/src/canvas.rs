@@ -30,7 +30,7 @@ use web_sys::{CanvasRenderingContext2d, HtmlCanvasElement};
 
 use crate::commands::Commands;
 use crate::display::{css_font, leading_rects_as_image, MeasureText, Op, Recorder, TextSizes};
-use crate::layers::{Layer, Part};
+use crate::layers::{Layer, Part, Plan};
 use crate::readout::ViewData;
 
 /// The canvas element with this id.
@@ -150,21 +150,24 @@ pub fn replay(canvas: &HtmlCanvasElement, ops: &[Op]) -> Result<(), String> {
         clear: false,
         ops: 0..ops.len(),
     };
-    send(canvas, ops, &[part], false).map(|_| ())
+    send(canvas, ops, &[part], false, &crate::commands::opaque).map(|_| ())
 }
 
 /// Draws the parts of a display list on a view's three stacked canvases
 /// (`crate::layers`: `ID-under`, the chart canvas `ID`, `ID-over`), in one
-/// call to the page's replay as [`replay`]. An opaque image on the layer
-/// under the chart is put there with one `putImageData`. Returns whether the
+/// call to the page's replay as [`replay`]. The opaque image the plan puts on
+/// the layer under the chart (`Plan::put`) goes there with one `putImageData`,
+/// any other image by a scratch canvas and `drawImage`. Returns whether the
 /// canvas has its two layers; without them every part was drawn on the chart
 /// canvas, in order and without clearing (as [`replay`]).
-pub fn replay_parts(
-    canvas: &HtmlCanvasElement,
-    ops: &[Op],
-    parts: &[Part],
-) -> Result<bool, String> {
-    send(canvas, ops, parts, true)
+pub fn replay_parts(canvas: &HtmlCanvasElement, ops: &[Op], plan: &Plan) -> Result<bool, String> {
+    let put = match plan.put.and_then(|k| ops.get(k)) {
+        Some(Op::Image { rgba, .. }) => Some(rgba.as_ptr()),
+        _ => None,
+    };
+    send(canvas, ops, &plan.parts, true, &|rgba| {
+        Some(rgba.as_ptr()) == put
+    })
 }
 
 fn send(
@@ -172,6 +175,7 @@ fn send(
     ops: &[Op],
     parts: &[Part],
     layered: bool,
+    opaque: &dyn Fn(&[u8]) -> bool,
 ) -> Result<bool, String> {
     REPLAYER.with(|r| {
         let replayer = r.borrow();
@@ -180,9 +184,12 @@ fn send(
             .ok_or("the page's canvas replay (web/replay.js) was not handed to the core")?;
         COMMANDS.with(|c| {
             let mut c = c.borrow_mut();
-            c.encode_parts(ops, parts.iter().map(|p| p.ops.clone()), &|rgba| {
-                rgba.as_ptr() as usize as u32
-            });
+            c.encode_parts(
+                ops,
+                parts.iter().map(|p| p.ops.clone()),
+                &|rgba| rgba.as_ptr() as usize as u32,
+                opaque,
+            );
             // Per part: its canvas, whether it is cleared first, where it ends in `words`.
             let plan: Vec<u32> = parts
                 .iter()

@@ -70,7 +70,9 @@ pub mod op {
     pub const TEXT_ROTATED: u32 = 15;
     /// RGBA pixels `width x height` at WebAssembly memory address `ptr`
     /// (`len` bytes), put at (x, y); `opaque` (1 or 0): every pixel's alpha
-    /// is 255, so the image may go on the layer under the chart canvas.
+    /// is 255, so the image may be put with `putImageData` on the layer under
+    /// the chart canvas (in a list encoded in parts, only the image the plan
+    /// puts there, `crate::layers::Plan::put`, is marked).
     /// Words: ptr, len, width, height, opaque. Numbers: x, y.
     pub const IMAGE: u32 = 16;
 }
@@ -158,19 +160,23 @@ impl Commands {
     /// `image_address` gives the WebAssembly address of an image's bytes (the
     /// page passes the slice's pointer; native tests anything).
     pub fn encode(&mut self, ops: &[Op], image_address: &dyn Fn(&[u8]) -> u32) {
-        self.encode_parts(ops, std::iter::once(0..ops.len()), image_address);
+        self.encode_parts(ops, std::iter::once(0..ops.len()), image_address, &opaque);
     }
 
     /// Encodes consecutive parts of `ops` (ranges in order, each starting
     /// where the one before ends), each as if it were a list of its own (its
     /// styles set afresh: it may be drawn on another canvas), recording where
     /// each ends in [`Commands::ends`]. One part of the whole list is
-    /// [`Commands::encode`].
+    /// [`Commands::encode`]. `opaque` gives an image's `opaque` word ([`op::IMAGE`]):
+    /// [`Commands::encode`] checks every pixel; a caller that knows which image
+    /// it means to put on the layer under the chart (`crate::layers::Plan::put`,
+    /// checked there) marks that one alone, so no image is scanned twice.
     pub fn encode_parts(
         &mut self,
         ops: &[Op],
         parts: impl IntoIterator<Item = std::ops::Range<usize>>,
         image_address: &dyn Fn(&[u8]) -> u32,
+        opaque: &dyn Fn(&[u8]) -> bool,
     ) {
         self.ends.clear();
         self.words.clear();
@@ -194,7 +200,7 @@ impl Commands {
             while i < ops.len() {
                 let n = run_length(ops, i).max(1);
                 let run = &ops[i..i + n];
-                self.encode_run(run, &mut styles, image_address);
+                self.encode_run(run, &mut styles, image_address, opaque);
                 i += n;
             }
             self.ends
@@ -266,6 +272,7 @@ impl Commands {
         run: &[Op],
         styles: &mut Styles,
         image_address: &dyn Fn(&[u8]) -> u32,
+        opaque: &dyn Fn(&[u8]) -> bool,
     ) {
         match &run[0] {
             Op::Stroke { colour, width, .. } => {

@@ -70,6 +70,10 @@ pub struct Plan {
     pub unchanged: bool,
     /// Whether the back and front layers are drawn again (not the fast path).
     pub full: bool,
+    /// The operation, an opaque image (checked here), put on the layer under
+    /// the chart with `putImageData`: the last of its part. Any other image
+    /// is drawn with `drawImage`.
+    pub put: Option<usize>,
 }
 
 /// Whether `at` is not inside a run of operations drawn as one canvas call
@@ -126,6 +130,7 @@ pub fn plan(previous: Option<(&[Op], Layers)>, ops: &[Op]) -> Plan {
                     layers: held,
                     unchanged: true,
                     full: false,
+                    put: None,
                 };
             }
             return fast(ops, held);
@@ -184,6 +189,7 @@ fn fast(ops: &[Op], held: Layers) -> Plan {
         layers: Layers { image, ..held },
         unchanged: false,
         full: false,
+        put: image.map(|_| middle.start),
     }
 }
 
@@ -221,6 +227,7 @@ fn full(ops: &[Op], shared_back: usize, shared_front: usize) -> Plan {
         layers: Layers { back, front, image },
         unchanged: false,
         full: true,
+        put: image.map(|_| back),
     }
 }
 
@@ -384,6 +391,7 @@ mod tests {
         assert!(second.full);
         assert_eq!(second.layers.image, Some((0, 0, 2, 1)));
         assert_eq!(second.parts[0].ops, 0..1);
+        assert_eq!(second.put, Some(0));
         apply(&mut canvases, &b, &second);
         assert_eq!(shown(&canvases), b);
         // New cells of the same rectangle: put over the old ones, nothing cleared under.
@@ -411,6 +419,7 @@ mod tests {
         let e = vec![image(1, 30, 128), rect(1, 3), stroke(2, 3.0), rect(4, 5)];
         let fifth = plan(Some((&d, fourth.layers)), &e);
         assert_eq!(fifth.layers.image, None);
+        assert_eq!(fifth.put, None);
         assert_eq!(
             fifth.parts[0],
             Part {
