@@ -14,7 +14,8 @@
 // the middle on the chart canvas, the front on the layer over) and after an
 // edit sends only the parts it changed, usually the middle alone; the `plan`
 // says per part its canvas, whether that is cleared first and where the part
-// ends. An opaque image (a map's cells) on the layer under is put there with
+// ends. The image the core marks (a map's cells opening the middle, checked
+// opaque: crates/web/src/layers.rs `Plan::put`) goes on the layer under with
 // one putImageData; any other image is put on a scratch canvas and drawn with
 // drawImage. Without its two layers (or with `layered` false: the chi-square
 // map, the `oneCanvas` test hook) every part is drawn on the chart canvas, in
@@ -43,9 +44,9 @@ const Replay = (() => {
     return under instanceof HTMLCanvasElement && over instanceof HTMLCanvasElement ? { under, over } : null;
   }
 
-  // Puts an image: with putImageData when it is opaque and `put` (the layer under a chart:
-  // an opaque image drawn there replaces the pixels, as putImageData does), else on a
-  // scratch canvas drawn onto `c` with drawImage.
+  // Puts an image: with putImageData when it is marked opaque and `put` (the layer under a
+  // chart: an opaque image drawn there replaces the pixels, as putImageData does), else on
+  // a scratch canvas drawn onto `c` with drawImage.
   function putImage(c, target, put, memory, ptr, len, w, h, opaque, x, y) {
     const pixels = new ImageData(new Uint8ClampedArray(memory.buffer, ptr, len), w, h);
     if (put && opaque) {

@@ -752,6 +752,42 @@ mod tests {
         assert_eq!(got, reference);
     }
 
+    /// Each part of a list encoded in parts is the list of its own: its
+    /// styles set afresh (it may be drawn on a canvas of another state), and
+    /// the parts' ends recorded; the whole list in one part is `encode`.
+    #[test]
+    fn parts_set_their_styles_afresh_and_end_where_recorded() {
+        let ops = vec![text("a", 0), text("b", 0), text("c", 0)];
+        let mut c = Commands::default();
+        c.encode(&ops, &|_| 0);
+        let whole = c.words.clone();
+        assert_eq!(c.ends, vec![(whole.len() as u32, c.numbers.len() as u32)]);
+        let mut d = Commands::default();
+        d.encode_parts(&ops, [0..1, 1..1, 1..3], &|_| 0, &opaque);
+        assert_eq!(d.ends.len(), 3);
+        assert_eq!(
+            d.ends[0], d.ends[1],
+            "an empty part ends where the one before does"
+        );
+        // The first part is the one-part encoding of its operation.
+        let (end, _) = d.ends[0];
+        let mut e = Commands::default();
+        e.encode(&ops[..1], &|_| 0);
+        assert_eq!(&d.words[..end as usize], &e.words[..]);
+        // The third part sets the fill, font, alignment and baseline again (the same
+        // words as the first part's), which the one-part encoding sets once.
+        let styles = &e.words[..e.words.len() - 2];
+        assert_eq!(
+            styles.iter().step_by(2).copied().collect::<Vec<_>>(),
+            vec![op::FILL_STYLE, op::FONT, op::TEXT_ALIGN, op::TEXT_BASELINE]
+        );
+        let third = &d.words[end as usize..];
+        assert_eq!(&third[..styles.len()], styles);
+        assert_eq!(third.len(), styles.len() + 4);
+        assert_eq!(whole.len(), styles.len() + 6);
+        assert_eq!(d.ends[2], (d.words.len() as u32, d.numbers.len() as u32));
+    }
+
     #[test]
     fn images_are_opaque_only_when_every_alpha_is_255() {
         assert!(opaque(&[]));
