@@ -964,7 +964,7 @@ const App = ((util, core, controls) => {
     edit,
     // Sets a field without scheduling a recompute (the benchmark times `recompute` itself).
     setQuietly: (path, value) => setPath(state, path, value),
-    // The pixels a view's canvas shows (ImageData): a map's chart composited over its cells' layer.
+    // The pixels a view shows (ImageData): its chart canvas composited between the layers under and over it.
     viewPixels: (id) => Replay.pixels($(id)),
   };
 

@@ -1,4 +1,4 @@
-// replay.js: draws a chart's display list on its canvas (the page's second
+// replay.js: draws a chart's display list on its canvases (the page's second
 // module, after web/util.js; web/core.js hands it to the core with
 // `setCanvasReplay`). The core records what a chart draws and encodes it as a
 // command buffer (crates/web/src/commands.rs: opcodes and counts in a
@@ -8,16 +8,20 @@
 // call from the core per chart instead of one per canvas call: the calls
 // through wasm-bindgen cost more than the drawing (docs/page.md "Draw fast").
 //
-// A map's cells (an IMAGE command) go on a canvas of their own stacked under
-// the chart's (`<canvas id="ID-under">`, web/index.html, style.css `.layered`)
-// with one putImageData; the chart canvas gets a transparent hole there
-// (clearRect) and draws its frame, lines and labels on top, so the screen
-// shows the two composited. Only opaque images go there (a transparent pixel
-// would show the layer's background, not what the chart drew below it).
-// Without such a canvas (the chi-square map, or `layered` false) the image is
-// put on a scratch canvas and drawn onto the chart with drawImage, as one
-// canvas. `Replay.pixels(canvas)` returns the
-// composited pixels of a chart either way (tests, pictures).
+// A view is three stacked canvases of one size (web/index.html, style.css
+// `.layered`): `ID-under`, the chart canvas `ID`, `ID-over`. The core splits
+// the list into parts (crates/web/src/layers.rs: the back on the layer under,
+// the middle on the chart canvas, the front on the layer over) and after an
+// edit sends only the parts it changed, usually the middle alone; the `plan`
+// says per part its canvas, whether that is cleared first and where the part
+// ends. The image the core marks (a map's cells opening the middle, checked
+// opaque: crates/web/src/layers.rs `Plan::put`) goes on the layer under with
+// one putImageData; any other image is put on a scratch canvas and drawn with
+// drawImage. Without its two layers (or with `layered` false: the chi-square
+// map, the `oneCanvas` test hook) every part is drawn on the chart canvas, in
+// order, without clearing (every chart paints its own background).
+// `Replay.pixels(canvas)` returns the composited pixels of a view (tests,
+// pictures).
 
 const Replay = (() => {
   // Opcodes: crates/web/src/commands.rs `op`, same numbers.
@@ -30,75 +34,79 @@ const Replay = (() => {
 
   // The strings the core sent, by id (CSS colours, fonts, texts).
   const strings = [];
-  // Per chart canvas: a canvas never shown, for images drawn onto one canvas.
+  // Per canvas: a canvas never shown, for images drawn onto another canvas.
   const scratch = new WeakMap();
-  // Per layer under a chart: the rectangles of the images it holds.
-  const placed = new WeakMap();
 
-  function layerUnder(canvas) {
+  // The layers under and over a chart canvas (`ID-under`, `ID-over`), or null without both.
+  function layersOf(canvas) {
     const under = document.getElementById(canvas.id + "-under");
-    return under instanceof HTMLCanvasElement ? under : null;
+    const over = document.getElementById(canvas.id + "-over");
+    return under instanceof HTMLCanvasElement && over instanceof HTMLCanvasElement ? { under, over } : null;
   }
 
-  // Puts an image: on the layer under the chart canvas (`under`, when the image is opaque),
-  // leaving a transparent hole in the chart canvas, or else on a scratch canvas drawn onto
-  // the chart. `onLayer` collects what went on the layer in this replay.
-  function putImage(c, canvas, under, onLayer, memory, ptr, len, w, h, opaque, x, y) {
+  // Puts an image: with putImageData when it is marked opaque and `put` (the layer under a
+  // chart: an opaque image drawn there replaces the pixels, as putImageData does), else on
+  // a scratch canvas drawn onto `c` with drawImage.
+  function putImage(c, target, put, memory, ptr, len, w, h, opaque, x, y) {
     const pixels = new ImageData(new Uint8ClampedArray(memory.buffer, ptr, len), w, h);
-    if (under && opaque) {
-      if (under.width !== canvas.width || under.height !== canvas.height) {
-        under.width = canvas.width;
-        under.height = canvas.height;
-        placed.delete(under);
-      }
-      under.getContext("2d").putImageData(pixels, x, y);
-      onLayer.push({ pixels, x, y, w, h });
-      c.clearRect(x, y, w, h);
+    if (put && opaque) {
+      c.putImageData(pixels, x, y);
       return;
     }
-    let s = scratch.get(canvas);
-    if (!s) { s = document.createElement("canvas"); scratch.set(canvas, s); }
+    let s = scratch.get(target);
+    if (!s) { s = document.createElement("canvas"); scratch.set(target, s); }
     if (s.width !== w || s.height !== h) { s.width = w; s.height = h; }
     s.getContext("2d").putImageData(pixels, 0, 0);
     c.drawImage(s, x, y);
   }
 
-  // After a replay: the layer holds exactly this replay's images. When they are not where the
-  // last replay put its images (a new layout, or fewer images), the layer is cleared and they
-  // are put again (the image data are still valid views of the core's memory here).
-  function settleLayer(under, onLayer) {
-    const key = onLayer.map((r) => `${r.x},${r.y},${r.w},${r.h}`).join(";");
-    const last = placed.get(under);
-    if (last === key) return;
-    if (last !== undefined && last !== "") {
-      const u = under.getContext("2d");
-      u.clearRect(0, 0, under.width, under.height);
-      for (const r of onLayer) u.putImageData(r.pixels, r.x, r.y);
-    }
-    placed.set(under, key);
-  }
-
   /**
-   * Draws one encoded display list on `canvas` (called by the core, crates/web/src/canvas.rs
-   * `replay`). `reset`: empty the string table first; `lengths`/`text`: the new strings (UTF-16
-   * lengths, concatenated), whose first id is `first`; `memory`: the core's WebAssembly memory
-   * (images are read from it at the addresses in `words`).
+   * Draws one encoded display list (called by the core, crates/web/src/canvas.rs `send`).
+   * `reset`: empty the string table first; `lengths`/`text`: the new strings (UTF-16 lengths,
+   * concatenated), whose first id is `first`; `memory`: the core's WebAssembly memory (images
+   * are read from it at the addresses in `words`); `plan`: per part of the list, its canvas
+   * (0 the layer under, 1 the chart canvas, 2 the layer over), whether it is cleared first
+   * (1) and where the part ends in `words`. Returns whether the parts went on the view's
+   * layers (false: all on `canvas`).
    */
-  function replay(canvas, layered, words, numbers, lengths, text, first, reset, memory) {
+  function replay(canvas, layered, words, numbers, lengths, text, first, reset, memory, plan) {
     if (reset) strings.length = 0;
     if (strings.length !== first) throw new Error(`the canvas string table is out of step (${strings.length} strings, the core expects ${first})`);
     for (let k = 0, at = 0; k < lengths.length; k++) {
       strings.push(text.slice(at, at + lengths[k]));
       at += lengths[k];
     }
-    const c = canvas.getContext("2d");
-    const under = layered ? layerUnder(canvas) : null;
-    const onLayer = [];
-    // Whether a rotated text's transform is still set (TEXT_ROTATED).
-    let turned = false;
-    const n = words.length;
+    const layers = layersOf(canvas);
+    if (!layered || !layers) {
+      // One canvas: layers it has would show stale parts over or under it.
+      if (layers) {
+        for (const l of [layers.under, layers.over]) l.getContext("2d").clearRect(0, 0, l.width, l.height);
+      }
+      draw(canvas.getContext("2d"), canvas, false, words, numbers, 0, words.length, 0, memory);
+      return false;
+    }
     let i = 0;
     let j = 0;
+    for (let k = 0; k < plan.length; k += 3) {
+      const where = plan[k];
+      const target = where === 0 ? layers.under : where === 2 ? layers.over : canvas;
+      if (target.width !== canvas.width || target.height !== canvas.height) {
+        target.width = canvas.width;
+        target.height = canvas.height;
+      }
+      const c = target.getContext("2d");
+      if (plan[k + 1] === 1) c.clearRect(0, 0, target.width, target.height);
+      j = draw(c, target, where === 0, words, numbers, i, plan[k + 2], j, memory);
+      i = plan[k + 2];
+    }
+    return true;
+  }
+
+  // Makes the canvas calls of words[i..end] (numbers from j) on `c`, the context of `target`;
+  // `put`: opaque images are put with putImageData. Returns where the numbers read end.
+  function draw(c, target, put, words, numbers, i, n, j, memory) {
+    // Whether a rotated text's transform is still set (TEXT_ROTATED).
+    let turned = false;
     while (i < n) {
       switch (words[i++]) {
         case STROKE_STYLE: c.strokeStyle = strings[words[i++]]; break;
@@ -150,7 +158,7 @@ const Replay = (() => {
             c.setTransform(co, si, -si, co, x, y);
             c.fillText(strings[words[i++]], 0, 0);
             turned = true;
-            if (words[i] !== TEXT_ROTATED) {
+            if (i >= n || words[i] !== TEXT_ROTATED) {
               c.setTransform(1, 0, 0, 1, 0, 0);
               turned = false;
             }
@@ -169,7 +177,7 @@ const Replay = (() => {
           break;
         }
         case IMAGE: {
-          putImage(c, canvas, under, onLayer, memory, words[i], words[i + 1], words[i + 2], words[i + 3], words[i + 4] === 1, numbers[j], numbers[j + 1]);
+          putImage(c, target, put, memory, words[i], words[i + 1], words[i + 2], words[i + 3], words[i + 4] === 1, numbers[j], numbers[j + 1]);
           i += 5;
           j += 2;
           break;
@@ -177,22 +185,25 @@ const Replay = (() => {
         default: throw new Error(`unknown canvas command ${words[i - 1]} at word ${i - 1}`);
       }
     }
-    if (under) settleLayer(under, onLayer);
+    if (turned) c.setTransform(1, 0, 0, 1, 0, 0);
+    return j;
   }
 
   /**
-   * The pixels a chart shows (ImageData): its canvas composited over the layer under it, if it
-   * has one (drawImage, source-over: what the page's compositor shows), else the canvas alone.
+   * The pixels a view shows (ImageData): its chart canvas composited between the layers under
+   * and over it, when it has them (drawImage, source-over: what the page's compositor shows),
+   * else the canvas alone.
    */
   function pixels(canvas) {
-    const under = layerUnder(canvas);
-    if (!under) return canvas.getContext("2d").getImageData(0, 0, canvas.width, canvas.height);
+    const layers = layersOf(canvas);
+    if (!layers) return canvas.getContext("2d").getImageData(0, 0, canvas.width, canvas.height);
     const out = document.createElement("canvas");
     out.width = canvas.width;
     out.height = canvas.height;
     const c = out.getContext("2d");
-    if (under.width === canvas.width && under.height === canvas.height) c.drawImage(under, 0, 0);
-    c.drawImage(canvas, 0, 0);
+    for (const l of [layers.under, canvas, layers.over]) {
+      if (l.width === canvas.width && l.height === canvas.height) c.drawImage(l, 0, 0);
+    }
     return c.getImageData(0, 0, out.width, out.height);
   }
 

@@ -138,8 +138,8 @@ export async function settle(page) {
 
 /// Statistics of a canvas: the number of distinct colours and the fraction of
 /// pixels that differ from the top-left (background) pixel. The pixels are what
-/// the view shows (`window.nivalis.viewPixels`: a map's chart canvas composited
-/// over the layer under it that holds its cells, web/replay.js).
+/// the view shows (`window.nivalis.viewPixels`: the chart canvas composited
+/// between the layers under and over it, web/replay.js).
 export async function canvasStats(page, id) {
   return page.$eval(`#${id}`, (canvas) => {
     const { data } = window.nivalis.viewPixels(canvas.id);
@@ -153,6 +153,17 @@ export async function canvasStats(page, id) {
     }
     return { width: canvas.width, height: canvas.height, colours: colours.size, nonBackground: different / (data.length / 4) };
   });
+}
+
+/// What a view shows, as a string to compare: its size and the SHA-256 of its
+/// composited pixels (`window.nivalis.viewPixels`: a view is three stacked
+/// canvases, web/replay.js, so the chart canvas alone is not the picture).
+export async function viewPicture(page, id) {
+  return page.evaluate(async (id) => {
+    const pixels = window.nivalis.viewPixels(id);
+    const digest = new Uint8Array(await crypto.subtle.digest("SHA-256", pixels.data));
+    return `${pixels.width}x${pixels.height}:` + Array.from(digest, (b) => b.toString(16).padStart(2, "0")).join("");
+  }, id);
 }
 
 export { execFileSync, existsSync, join };

@@ -14,7 +14,7 @@ import { test } from "node:test";
 import assert from "node:assert/strict";
 import { writeFileSync } from "node:fs";
 import {
-  canvasStats, downloadText, execFileSync, generation, join, nextResult, openPage, pageUrl, repoRoot, settle,
+  canvasStats, viewPicture, downloadText, execFileSync, generation, join, nextResult, openPage, pageUrl, repoRoot, settle,
   waterSnowlines, withBrowserAndCli,
 } from "./helpers.mjs";
 import { newPage } from "./helpers.mjs";
@@ -143,7 +143,7 @@ test("the exported CSV and ECSV equal the CLI's output for the same disk, byte f
 test("an invalid field shows the reader's message beside it and keeps the previous result", async () => {
   const { page } = await freshPage();
   const table = await page.innerHTML("#snowline-table tbody");
-  const picture = await page.$eval("#canvas-c-to-o", (c) => c.toDataURL());
+  const picture = await viewPicture(page, "canvas-c-to-o");
   await setField(page, "star.luminosity_lsun", -3);
   const problem = page.locator("#f-star-luminosity_lsun-problem");
   assert.equal(await problem.isVisible(), true);
@@ -152,7 +152,7 @@ test("an invalid field shows the reader's message beside it and keeps the previo
   assert.equal(await page.getAttribute("#f-star-luminosity_lsun", "aria-invalid"), "true");
   assert.match(await page.textContent("#banner"), /last valid disk/);
   assert.equal(await page.innerHTML("#snowline-table tbody"), table, "snowline table changed");
-  assert.equal(await page.$eval("#canvas-c-to-o", (c) => c.toDataURL()), picture, "chart changed");
+  assert.equal(await viewPicture(page, "canvas-c-to-o"), picture, "chart changed");
   // A problem the reader finds between fields lands on the field it names.
   await setField(page, "star.luminosity_lsun", 1);
   await setField(page, "disk.inner_radius_au", 600);

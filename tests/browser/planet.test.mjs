@@ -18,7 +18,7 @@
 import { test } from "node:test";
 import assert from "node:assert/strict";
 import { readFileSync, writeFileSync } from "node:fs";
-import { canvasStats, execFileSync, generation, join, nextResult, pageUrl, repoRoot, settle, withBrowserAndCli } from "./helpers.mjs";
+import { canvasStats, viewPicture, execFileSync, generation, join, nextResult, pageUrl, repoRoot, settle, withBrowserAndCli } from "./helpers.mjs";
 import { newPage } from "./helpers.mjs";
 
 let browser;
@@ -102,7 +102,7 @@ test("a typed planet's envelope C/O and files equal `nivalis planet`", async () 
 
 test("clicking the C/O profile places a planet there and marks it", async () => {
   const { page } = await freshPage();
-  const before1 = await page.$eval("#canvas-c-to-o", (c) => c.toDataURL());
+  const before1 = await viewPicture(page, "canvas-c-to-o");
   const box = await page.locator("#canvas-c-to-o").boundingBox();
   await page.mouse.click(box.x + box.width * 0.55, box.y + box.height * 0.5);
   await settle(page);
@@ -111,7 +111,7 @@ test("clicking the C/O profile places a planet there and marks it", async () => 
   // The default disk spans 0.1-500 au; the middle of the plot is a few to tens of au.
   assert.ok(radius > 0.5 && radius < 200, `clicked radius ${radius}`);
   assert.match(await page.textContent("#planet-c-to-o"), /^\d/);
-  assert.notEqual(await page.$eval("#canvas-c-to-o", (c) => c.toDataURL()), before1, "the planet is not marked on the profile");
+  assert.notEqual(await viewPicture(page, "canvas-c-to-o"), before1, "the planet is not marked on the profile");
   await page.close();
 });
 
@@ -143,7 +143,7 @@ test("the observed-planet map and its files equal `nivalis fit`", async () => {
   const { page, errors } = await freshPage();
   await page.selectOption("#demo-picker", "planet_host_example.json");
   await settle(page);
-  const profileBefore = await page.$eval("#canvas-c-to-o", (c) => c.toDataURL());
+  const profileBefore = await viewPicture(page, "canvas-c-to-o");
   await typePlanet(page, "fit.c_to_o", "0.8");
   await typePlanet(page, "fit.c_to_o_sigma", "0.1");
   const disk = await savedDisk(page, "fit-disk.json");
@@ -167,7 +167,7 @@ test("the observed-planet map and its files equal `nivalis fit`", async () => {
   // Drawn with contours on the page, the allowed radii shaded on the profile, the degeneracies in words.
   const chi2 = await canvasStats(page, "canvas-chi2");
   assert.ok(chi2.colours > 50 && chi2.nonBackground > 0.3, `chi-square canvas looks blank: ${JSON.stringify(chi2)}`);
-  assert.notEqual(await page.$eval("#canvas-c-to-o", (c) => c.toDataURL()), profileBefore, "allowed radii not marked on the profile");
+  assert.notEqual(await viewPicture(page, "canvas-c-to-o"), profileBefore, "allowed radii not marked on the profile");
   assert.match(await page.textContent("#fit-best"), /^Best fit: [\d.]+ au with solid-to-gas/);
   assert.match(await page.textContent("#fit-union"), /Allowed at 1σ for some solid-to-gas ratio: [\d.]+–[\d.]+ au/);
   const words = await page.$$eval("#fit-explanation li", (items) => items.map((i) => i.textContent));

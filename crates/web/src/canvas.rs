@@ -2,11 +2,11 @@
 //! recorded into a display list ([`record`], `crate::display`), which the
 //! page compares with what the canvas already shows and otherwise encodes as a
 //! command buffer (`crate::commands`) that the page's JavaScript (web/replay.js)
-//! draws in ONE call ([`replay`]). For r-z maps the cells are ONE
-//! `putImageData` of the RGBA buffer the charts crate rasterised (per-cell
-//! canvas calls would be far too slow), on a canvas of its own under the
-//! chart's, with the axes, lines and colour bar on the chart canvas on top.
-//! The chi-square map is recorded and replayed the same way
+//! draws in ONE call ([`replay_parts`]): a view is three stacked canvases and
+//! an edit redraws only the part of the list it changed (`crate::layers`). For
+//! r-z maps the cells are ONE `putImageData` of the RGBA buffer the charts
+//! crate rasterised (per-cell canvas calls would be far too slow), on the
+//! layer under the chart canvas. The chi-square map is recorded and replayed the same way
 //! ([`record_chi2`]: its background and cells as one image, on the one
 //! canvas). The evolution views draw through the `plotters-canvas` back end
 //! ([`MeasuredCanvas`]).
@@ -30,6 +30,7 @@ use web_sys::{CanvasRenderingContext2d, HtmlCanvasElement};
 
 use crate::commands::Commands;
 use crate::display::{css_font, leading_rects_as_image, MeasureText, Op, Recorder, TextSizes};
+use crate::layers::{Layer, Part, Plan};
 use crate::readout::ViewData;
 
 /// The canvas element with this id.
@@ -115,7 +116,8 @@ extern "C" {
         first: u32,
         reset: bool,
         memory: &JsValue,
-    ) -> Result<(), JsValue>;
+        plan: &[u32],
+    ) -> Result<JsValue, JsValue>;
 }
 
 thread_local! {
@@ -132,18 +134,49 @@ pub fn set_canvas_replay(replayer: Replayer) {
     REPLAYER.with(|r| *r.borrow_mut() = Some(replayer));
 }
 
-/// Draws a display list on the canvas: encodes it ([`Commands`]) and hands it
-/// to the page's JavaScript replay in ONE call, which makes the canvas calls
-/// (each run of strokes of one pen as one path stroked once, each run of
-/// markers as one path, styles set only when they change). An image (a map's
-/// cells) goes, when `layered` and the canvas has a layer under it
-/// (`<canvas id="ID-under">`), on that layer with one `putImageData`, the
-/// chart canvas getting a transparent hole there; otherwise on a scratch
-/// canvas drawn onto the chart with one `drawImage` (a `putImageData` on the
-/// shown canvas would first make the browser rasterise everything still
-/// queued on it). The canvas is not cleared first: every chart paints its own
-/// background.
-pub fn replay(canvas: &HtmlCanvasElement, ops: &[Op], layered: bool) -> Result<(), String> {
+/// Draws a display list on the canvas alone (the chi-square map; the
+/// `oneCanvas` test hook): encodes it ([`Commands`]) and hands it to the page's
+/// JavaScript replay in ONE call, which makes the canvas calls (each run of
+/// strokes of one pen as one path stroked once, each run of markers as one
+/// path, styles set only when they change). An image (a map's cells) is put
+/// on a scratch canvas and drawn onto the chart with one `drawImage` (a
+/// `putImageData` on the shown canvas would first make the browser rasterise
+/// everything still queued on it). The canvas is not cleared first: every
+/// chart paints its own background. Layers the canvas has (`ID-under`,
+/// `ID-over`) are cleared.
+pub fn replay(canvas: &HtmlCanvasElement, ops: &[Op]) -> Result<(), String> {
+    let part = Part {
+        layer: Layer::Chart,
+        clear: false,
+        ops: 0..ops.len(),
+    };
+    send(canvas, ops, &[part], false, &crate::commands::opaque).map(|_| ())
+}
+
+/// Draws the parts of a display list on a view's three stacked canvases
+/// (`crate::layers`: `ID-under`, the chart canvas `ID`, `ID-over`), in one
+/// call to the page's replay as [`replay`]. The opaque image the plan puts on
+/// the layer under the chart (`Plan::put`) goes there with one `putImageData`,
+/// any other image by a scratch canvas and `drawImage`. Returns whether the
+/// canvas has its two layers; without them every part was drawn on the chart
+/// canvas, in order and without clearing (as [`replay`]).
+pub fn replay_parts(canvas: &HtmlCanvasElement, ops: &[Op], plan: &Plan) -> Result<bool, String> {
+    let put = match plan.put.and_then(|k| ops.get(k)) {
+        Some(Op::Image { rgba, .. }) => Some(rgba.as_ptr()),
+        _ => None,
+    };
+    send(canvas, ops, &plan.parts, true, &|rgba| {
+        Some(rgba.as_ptr()) == put
+    })
+}
+
+fn send(
+    canvas: &HtmlCanvasElement,
+    ops: &[Op],
+    parts: &[Part],
+    layered: bool,
+    opaque: &dyn Fn(&[u8]) -> bool,
+) -> Result<bool, String> {
     REPLAYER.with(|r| {
         let replayer = r.borrow();
         let replayer = replayer
@@ -151,7 +184,18 @@ pub fn replay(canvas: &HtmlCanvasElement, ops: &[Op], layered: bool) -> Result<(
             .ok_or("the page's canvas replay (web/replay.js) was not handed to the core")?;
         COMMANDS.with(|c| {
             let mut c = c.borrow_mut();
-            c.encode(ops, &|rgba| rgba.as_ptr() as usize as u32);
+            c.encode_parts(
+                ops,
+                parts.iter().map(|p| p.ops.clone()),
+                &|rgba| rgba.as_ptr() as usize as u32,
+                opaque,
+            );
+            // Per part: its canvas, whether it is cleared first, where it ends in `words`.
+            let plan: Vec<u32> = parts
+                .iter()
+                .zip(&c.ends)
+                .flat_map(|(p, end)| [p.layer as u32, u32::from(p.clear), end.0])
+                .collect();
             replayer
                 .replay(
                     canvas,
@@ -163,7 +207,9 @@ pub fn replay(canvas: &HtmlCanvasElement, ops: &[Op], layered: bool) -> Result<(
                     c.first_new,
                     c.reset,
                     &wasm_bindgen::memory(),
+                    &plan,
                 )
+                .map(|layers| layers.as_bool() == Some(true))
                 .map_err(|e| format!("cannot draw the chart: {e:?}"))
         })
     })

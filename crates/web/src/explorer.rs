@@ -20,6 +20,7 @@ use web_sys::HtmlCanvasElement;
 
 use crate::canvas;
 use crate::display::Op;
+use crate::layers::Layers;
 use crate::readout::{readout, ViewData};
 use crate::session::{grid_too_large, species_info, Export, Session};
 use crate::transfer::{from_parts, to_parts, ViewParts};
@@ -81,6 +82,8 @@ pub struct Explorer {
     text_sizes: crate::display::TextSizes,
     /// Per canvas id: how many times it was actually drawn (`drawCount`).
     draw_counts: HashMap<String, u32>,
+    /// Per canvas id: how many of those draws drew its layers again (`layerRedraws`).
+    layer_redraws: HashMap<String, u32>,
     /// Per canvas id: the milliseconds of the last `draw`'s steps (`drawTimings`, for the benchmark).
     draw_timings: HashMap<String, [f64; 4]>,
 }
@@ -122,8 +125,11 @@ pub(crate) struct Drawn {
     data: Rc<ViewData>,
     theme: Theme,
     pixels_per_point: f64,
-    /// A map's cells on the layer under the canvas (see `canvas::replay`).
+    /// Drawn on the view's three canvases (false: the `oneCanvas` test hook).
     layered: bool,
+    /// What the layers under and over the canvas hold (`crate::layers`);
+    /// `None` when drawn on one canvas (no layers, or not `layered`).
+    layers: Option<Layers>,
     size: (u32, u32),
     ops: Vec<Op>,
     layout: ChartLayout,
@@ -150,6 +156,7 @@ impl Explorer {
             drawn: HashMap::new(),
             text_sizes: RefCell::new(HashMap::new()),
             draw_counts: HashMap::new(),
+            layer_redraws: HashMap::new(),
             draw_timings: HashMap::new(),
         }
     }
@@ -345,8 +352,8 @@ impl Explorer {
             .and_then(|v| v.as_f64())
             .filter(|r| r.is_finite() && *r > 0.0)
             .unwrap_or(1.0);
-        // Test hook (tests/browser/redraw.test.mjs): `oneCanvas: true` draws a map's cells on
-        // the chart canvas itself rather than on the layer under it.
+        // Test hook (tests/browser/redraw.test.mjs): `oneCanvas: true` draws the whole list
+        // on the chart canvas itself rather than on the view's three canvases.
         let layered = get(DrawOptions::one_canvas).and_then(|v| v.as_bool()) != Some(true);
         let key = view_key(
             view,
@@ -391,10 +398,38 @@ impl Explorer {
             &mut raster_ms,
         )
         .map_err(|e| JsError::new(&e))?;
-        let unchanged = same_options && previous.is_some_and(|d| d.ops == ops);
+        // What the canvases show, when they show a list of this size and style on three canvases.
+        let shown = previous
+            .filter(|_| same_options && layered)
+            .and_then(|d| d.layers.map(|l| (d.ops.as_slice(), l)));
+        let plan = layered.then(|| crate::layers::plan(shown, &ops));
+        let unchanged = match &plan {
+            Some(plan) => plan.unchanged,
+            None => same_options && previous.is_some_and(|d| d.ops == ops),
+        };
         let t2 = now_ms();
+        let mut layers = plan.as_ref().map(|p| p.layers);
         if !unchanged {
-            canvas::replay(&canvas, &ops, layered).map_err(|e| JsError::new(&e))?;
+            let drawn = match &plan {
+                Some(plan) => canvas::replay_parts(&canvas, &ops, plan),
+                None => canvas::replay(&canvas, &ops).map(|()| false),
+            };
+            let has_layers = match drawn {
+                Ok(has_layers) => has_layers,
+                Err(e) => {
+                    // What the canvases hold is not known now: the next draw draws them all.
+                    self.drawn.remove(canvas_id);
+                    return Err(JsError::new(&e));
+                }
+            };
+            if !has_layers {
+                layers = None;
+            }
+            if plan.as_ref().is_some_and(|p| p.full) {
+                *self.layer_redraws.entry(canvas_id.to_string()).or_default() += 1;
+            }
+        }
+        if !unchanged {
             *self.draw_counts.entry(canvas_id.to_string()).or_default() += 1;
         }
         self.draw_timings.insert(
@@ -411,6 +446,7 @@ impl Explorer {
                 theme,
                 pixels_per_point,
                 layered,
+                layers,
                 size,
                 ops,
                 layout,
@@ -424,6 +460,28 @@ impl Explorer {
     #[wasm_bindgen(js_name = drawCount)]
     pub fn draw_count(&self, canvas_id: &str) -> u32 {
         self.draw_counts.get(canvas_id).copied().unwrap_or(0)
+    }
+
+    /// How many of the canvas `canvas_id`'s draws drew the layers under and over it
+    /// again, not only the part of the list that changed (`crate::layers`), for the
+    /// browser tests.
+    #[wasm_bindgen(js_name = layerRedraws)]
+    pub fn layer_redraws(&self, canvas_id: &str) -> u32 {
+        self.layer_redraws.get(canvas_id).copied().unwrap_or(0)
+    }
+
+    /// What the canvas `canvas_id`'s last draw left on its three canvases, as operation
+    /// counts `[back, middle, front]` of its display list (the layer under, the chart
+    /// canvas, the layer over; an image put on the layer under counts in the middle);
+    /// empty when it was drawn on one canvas or not at all.
+    #[wasm_bindgen(js_name = layerSplit)]
+    pub fn layer_split(&self, canvas_id: &str) -> Vec<u32> {
+        self.drawn
+            .get(canvas_id)
+            .and_then(|d| d.layers.map(|l| (d.ops.len(), l)))
+            .map_or_else(Vec::new, |(n, l)| {
+                vec![l.back as u32, (n - l.back - l.front) as u32, l.front as u32]
+            })
     }
 
     /// The last `draw` of the canvas `canvas_id`, in milliseconds, for the benchmark:

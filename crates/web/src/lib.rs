@@ -25,6 +25,7 @@ pub mod commands;
 pub mod display;
 pub mod evolution_fit_js;
 pub mod figures;
+pub mod layers;
 pub mod planet;
 pub mod readout;
 pub mod session;

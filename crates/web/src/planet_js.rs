@@ -188,7 +188,7 @@ impl Explorer {
         let (ops, layout) =
             canvas::record_chi2(size, &data, &theme, CSS_PX_PER_POINT * ratio, &measure)
                 .map_err(|e| JsError::new(&e))?;
-        canvas::replay(&canvas, &ops, false).map_err(|e| JsError::new(&e))?;
+        canvas::replay(&canvas, &ops).map_err(|e| JsError::new(&e))?;
         self.layouts
             .insert(canvas_id.to_string(), ("chi2_map".to_string(), layout));
         Ok(())
