@@ -150,7 +150,10 @@ pub fn replay(canvas: &HtmlCanvasElement, ops: &[Op]) -> Result<(), String> {
         clear: false,
         ops: 0..ops.len(),
     };
-    send(canvas, ops, &[part], false, &crate::commands::opaque).map(|_| ())
+    send(canvas, ops, &[part], false, &|rgba, known| {
+        known || crate::commands::opaque(rgba)
+    })
+    .map(|_| ())
 }
 
 /// Draws the parts of a display list on a view's three stacked canvases
@@ -165,7 +168,7 @@ pub fn replay_parts(canvas: &HtmlCanvasElement, ops: &[Op], plan: &Plan) -> Resu
         Some(Op::Image { rgba, .. }) => Some(rgba.as_ptr()),
         _ => None,
     };
-    send(canvas, ops, &plan.parts, true, &|rgba| {
+    send(canvas, ops, &plan.parts, true, &|rgba, _| {
         Some(rgba.as_ptr()) == put
     })
 }
@@ -175,7 +178,7 @@ fn send(
     ops: &[Op],
     parts: &[Part],
     layered: bool,
-    opaque: &dyn Fn(&[u8]) -> bool,
+    opaque: &dyn Fn(&[u8], bool) -> bool,
 ) -> Result<bool, String> {
     REPLAYER.with(|r| {
         let replayer = r.borrow();

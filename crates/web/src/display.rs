@@ -131,6 +131,10 @@ pub enum Op {
         height: u32,
         /// Row-major RGBA, `width x height x 4` bytes.
         rgba: Vec<u8>,
+        /// Every pixel's alpha is 255 by construction (a map's cells composited
+        /// over the background, a bitmap of RGB rows); `false` when not known,
+        /// and then the pixels are checked where it matters (`commands::opaque`).
+        opaque: bool,
     },
 }
 
@@ -455,6 +459,7 @@ impl DrawingBackend for Recorder<'_> {
             width: size.0,
             height: size.1,
             rgba,
+            opaque: true,
         });
         Ok(())
     }
@@ -503,14 +508,48 @@ pub fn record_view(
                 width: image.width,
                 height: image.height,
                 rgba: image.rgba,
+                // `raster_over` composites every pixel over the background (alpha 255).
+                opaque: true,
             });
-            map.draw(CellDrawing::Omit)
+            let drawn = map.draw(CellDrawing::Omit);
+            let rect = (main.left, main.top, image.width, image.height);
+            after_disjoint_rects(&mut ops.borrow_mut(), rect);
+            drawn
         }
     }
     .map_err(|e| e.to_string())?;
     area.present().map_err(|e| e.to_string())?;
     drop(area);
     Ok((ops.into_inner(), layout))
+}
+
+/// Moves the image opening `ops` (of rectangle `rect`: x, y, width, height)
+/// past the filled rectangles that follow it and share no pixel with it (a
+/// map's background around its cells): the same pixels, as each pixel is
+/// painted by one of them alone (a `fillRect` at integer corners covers the
+/// pixels of its half-open extent, an image at an integer offset its own),
+/// and the rectangles, which an edit leaves as they are, now open the list:
+/// the part kept on the layer under the chart (`crate::layers`), so that an
+/// edit does not draw them again.
+fn after_disjoint_rects(ops: &mut [Op], (x, y, w, h): (i32, i32, u32, u32)) {
+    let (x1, y1) = (x.saturating_add_unsigned(w), y.saturating_add_unsigned(h));
+    let moved = ops
+        .iter()
+        .skip(1)
+        .take_while(|op| match op {
+            Op::FillRect {
+                corners: [a, b], ..
+            } => {
+                let (left, right) = (a.0.min(b.0), a.0.max(b.0));
+                let (top, bottom) = (a.1.min(b.1), a.1.max(b.1));
+                right <= x || left >= x1 || bottom <= y || top >= y1
+            }
+            _ => false,
+        })
+        .count();
+    if matches!(ops.first(), Some(Op::Image { .. })) {
+        ops[..=moved].rotate_left(1);
+    }
 }
 
 /// Replaces a chart's leading filled rectangles by ONE image of the whole
@@ -551,6 +590,7 @@ pub fn leading_rects_as_image(ops: Vec<Op>, size: (u32, u32)) -> Vec<Op> {
         width: size.0,
         height: size.1,
         rgba,
+        opaque: false,
     });
     out.extend(ops.into_iter().skip(n));
     out
@@ -707,7 +747,9 @@ mod tests {
     /// A map recorded by `record_view` (checked and laid out once through
     /// `prepare_map`) gives the list the three separate calls gave: the layout
     /// from `map_layout`, the cells from `rasterise_map_over` at the main
-    /// panel's size, then `draw_ice_map` / `draw_c_to_o_map` with the cells omitted.
+    /// panel's size, then `draw_ice_map` / `draw_c_to_o_map` with the cells
+    /// omitted, with the cells moved after the four rectangles of background
+    /// around them (which share no pixel with them: the same picture).
     #[test]
     fn a_map_records_as_layout_raster_and_drawing_did() {
         use nivalis_charts::{
@@ -737,12 +779,13 @@ mod tests {
                             main.height,
                         )
                         .unwrap();
-                        ops.borrow_mut().push(Op::Image {
+                        let cells = Op::Image {
                             at: (main.left, main.top),
                             width: image.width,
                             height: image.height,
                             rgba: image.rgba,
-                        });
+                            opaque: true,
+                        };
                         let drawn = if ice {
                             draw_ice_map(&area, &data, &theme, ppp, CellDrawing::Omit)
                         } else {
@@ -751,7 +794,38 @@ mod tests {
                         .unwrap();
                         assert_eq!(drawn, layout);
                         drop(area);
-                        (ops.into_inner(), layout)
+                        let mut ops = ops.into_inner();
+                        // The drawing opens with the background around the cells: four
+                        // rectangles that with the cells' rectangle tile the canvas (no
+                        // pixel painted twice), so the cells may come after them.
+                        let mut pieces = vec![(
+                            (main.left, main.top),
+                            (main.left + main.width as i32, main.top + main.height as i32),
+                        )];
+                        for op in &ops[..4] {
+                            let Op::FillRect { corners, .. } = op else {
+                                panic!("not the background around the cells: {op:?}");
+                            };
+                            pieces.push((corners[0], corners[1]));
+                        }
+                        let area: i64 = pieces
+                            .iter()
+                            .map(|(a, b)| i64::from(b.0 - a.0) * i64::from(b.1 - a.1))
+                            .sum();
+                        assert_eq!(area, i64::from(size.0) * i64::from(size.1));
+                        for (i, (a, b)) in pieces.iter().enumerate() {
+                            assert!(
+                                a.0 >= 0
+                                    && a.1 >= 0
+                                    && b.0 <= size.0 as i32
+                                    && b.1 <= size.1 as i32
+                            );
+                            for (c, d) in &pieces[i + 1..] {
+                                assert!(b.0 <= c.0 || a.0 >= d.0 || b.1 <= c.1 || a.1 >= d.1);
+                            }
+                        }
+                        ops.insert(4, cells);
+                        (ops, layout)
                     };
                     let view = if ice {
                         ViewData::IceMap(data.clone())
@@ -763,7 +837,11 @@ mod tests {
                         record_view(size, &view, &theme, ppp, &Fixed, &|| 0.0, &mut raster_ms)
                             .unwrap();
                     assert_eq!(raster_ms, 0.0);
-                    assert!(matches!(got.0[0], Op::Image { .. }));
+                    // The cells are opaque by construction, and marked so: their pixels agree.
+                    let Op::Image { rgba, opaque, .. } = &got.0[4] else {
+                        panic!("the cells do not follow the background: {:?}", got.0[4]);
+                    };
+                    assert!(*opaque && crate::commands::opaque(rgba));
                     assert_eq!(got, expected, "{} at {size:?}", data.value_label);
                 }
             }
@@ -891,6 +969,7 @@ mod tests {
             width,
             height,
             rgba,
+            ..
         } = &image[0]
         else {
             panic!("not an image: {:?}", image[0]);

@@ -82,7 +82,8 @@ fn boundary(ops: &[Op], at: usize) -> bool {
     at == 0 || at >= ops.len() || run_length(&ops[at - 1..=at], 0) == 1
 }
 
-/// The rectangle of `op` when it is an image every pixel of which is opaque.
+/// The rectangle of `op` when it is an image every pixel of which is opaque:
+/// known by construction (a map's cells), else checked pixel by pixel.
 fn opaque_image(op: Option<&Op>) -> Option<(i32, i32, u32, u32)> {
     match op {
         Some(Op::Image {
@@ -90,7 +91,8 @@ fn opaque_image(op: Option<&Op>) -> Option<(i32, i32, u32, u32)> {
             width,
             height,
             rgba,
-        }) if crate::commands::opaque(rgba) => Some((at.0, at.1, *width, *height)),
+            opaque,
+        }) if *opaque || crate::commands::opaque(rgba) => Some((at.0, at.1, *width, *height)),
         _ => None,
     }
 }
@@ -265,6 +267,8 @@ mod tests {
             width: 2,
             height: 1,
             rgba: vec![fill, fill, fill, alpha, fill, fill, fill, alpha],
+            // Not known: the plan checks the pixels.
+            opaque: false,
         }
     }
 
