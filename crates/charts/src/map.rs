@@ -463,6 +463,19 @@ pub(crate) fn raster_checked(
     width: u32,
     height: u32,
 ) -> RasterImage {
+    raster_checked_into(data, theme, over, width, height, Vec::new())
+}
+
+/// [`raster_checked`] written into `buffer` (its contents dropped, its memory
+/// reused: the page rasterises a map of the same size on every edit).
+pub(crate) fn raster_checked_into(
+    data: &MapData,
+    theme: &Theme,
+    over: Option<Rgba>,
+    width: u32,
+    height: u32,
+    buffer: Vec<u8>,
+) -> RasterImage {
     let composite = |c: [u8; 4]| match over {
         Some(background) if c[3] != 255 => {
             let o = Rgba {
@@ -495,7 +508,7 @@ pub(crate) fn raster_checked(
         }]
     };
     let empty = u32::from_ne_bytes(composite([0, 0, 0, 0]));
-    raster_cells(data, colour_of, empty, width, height)
+    raster_cells(data, colour_of, empty, width, height, buffer)
 }
 
 /// The raster of cells of the given colours (`colour_of(sample)`, packed
@@ -514,7 +527,9 @@ fn raster_cells(
     empty: u32,
     width: u32,
     height: u32,
+    mut rgba: Vec<u8>,
 ) -> RasterImage {
+    rgba.clear();
     let (w, h) = (width as usize, height as usize);
     if w == 0 || h == 0 {
         return RasterImage {
@@ -616,7 +631,7 @@ fn raster_cells(
         next[row as usize] += 1;
     }
     let stride = w * 4;
-    let mut rgba = Vec::with_capacity(stride * h);
+    rgba.reserve(stride * h);
     for (&(x0, x1, _), &c) in runs.iter().zip(&top_colour) {
         let bytes = c.to_ne_bytes();
         for _ in x0..x1 {
@@ -659,6 +674,8 @@ mod tests {
             u32::from_ne_bytes(empty),
             width,
             height,
+            // A used buffer: its contents must not show through.
+            vec![9; 37],
         )
     }
 

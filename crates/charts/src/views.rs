@@ -15,7 +15,7 @@ use crate::contour::marching_squares;
 use crate::data::{AbundanceData, Chi2Data, ProfileData, TemperatureData};
 use crate::error::ChartError;
 use crate::layout::{AxisTransform, ChartLayout, Scale};
-use crate::map::{raster_checked, MapData, RasterImage};
+use crate::map::{raster_checked, raster_checked_into, MapData, RasterImage};
 use crate::paint::{for_each_clipped, ticks, AxisOptions, Frame, Orientation, Painter, Panel};
 use crate::theme::{LineDash, Marker, SeriesStyle, Theme};
 
@@ -812,13 +812,20 @@ impl<DB: DrawingBackend> MapDrawing<'_, DB> {
     /// The cells at the main panel's size composited over `background`
     /// ([`rasterise_map_over`]; the data was checked by [`prepare_map`]).
     pub fn raster_over(&self, background: Rgba) -> RasterImage {
+        self.raster_over_into(background, Vec::new())
+    }
+
+    /// [`MapDrawing::raster_over`] written into `buffer` (its contents dropped,
+    /// its memory reused: the page keeps the previous raster's buffer).
+    pub fn raster_over_into(&self, background: Rgba, buffer: Vec<u8>) -> RasterImage {
         let main = self.main.to_layout((0, 0));
-        raster_checked(
+        raster_checked_into(
             self.data,
             self.painter.theme,
             Some(background),
             main.width,
             main.height,
+            buffer,
         )
     }
 

@@ -56,9 +56,10 @@ fn context(canvas: &HtmlCanvasElement) -> Result<CanvasRenderingContext2d, Strin
 }
 
 /// Records what the chart of `data` draws on a canvas of `size` pixels
-/// ([`crate::display::record_view`], timed with `performance.now()`).
-/// `raster_ms` receives the milliseconds spent rasterising a map's cells (0 for
-/// other views), for `Explorer.drawTimings`.
+/// ([`crate::display::record_view_into`], timed with `performance.now()`), into
+/// the memory of an earlier list (`buffers`). `raster_ms` receives the
+/// milliseconds spent rasterising a map's cells (0 for other views), for
+/// `Explorer.drawTimings`.
 pub fn record(
     size: (u32, u32),
     data: &ViewData,
@@ -66,8 +67,9 @@ pub fn record(
     pixels_per_point: f64,
     measure: &dyn MeasureText,
     raster_ms: &mut f64,
+    buffers: crate::display::Buffers,
 ) -> Result<(Vec<Op>, ChartLayout), String> {
-    crate::display::record_view(
+    crate::display::record_view_into(
         size,
         data,
         theme,
@@ -75,6 +77,7 @@ pub fn record(
         measure,
         &crate::explorer::now_ms,
         raster_ms,
+        buffers,
     )
 }
 

@@ -481,10 +481,68 @@ pub fn record_view(
     now: &dyn Fn() -> f64,
     raster_ms: &mut f64,
 ) -> Result<(Vec<Op>, ChartLayout), String> {
+    let buffers = Buffers::default();
+    record_view_into(
+        size,
+        data,
+        theme,
+        pixels_per_point,
+        measure,
+        now,
+        raster_ms,
+        buffers,
+    )
+}
+
+/// The memory of a display list kept for the next recording of a view
+/// ([`Buffers::of`]): the list's (emptied) and its map raster's.
+#[derive(Debug, Default)]
+pub struct Buffers {
+    ops: Vec<Op>,
+    raster: Vec<u8>,
+}
+
+impl Buffers {
+    /// The memory of `ops` (a list recorded before, no longer needed): its
+    /// operations are dropped now, its vector and its first image's pixel
+    /// buffer are kept.
+    pub fn of(mut ops: Vec<Op>) -> Buffers {
+        let raster = ops
+            .iter_mut()
+            .find_map(|op| match op {
+                Op::Image { rgba, .. } => Some(std::mem::take(rgba)),
+                _ => None,
+            })
+            .unwrap_or_default();
+        ops.clear();
+        Buffers { ops, raster }
+    }
+}
+
+/// [`record_view`] into the memory of an earlier list (`buffers`), so that
+/// redrawing a view allocates neither its list's vector nor a map's raster
+/// (about 600 KB) again: the same list.
+#[allow(clippy::too_many_arguments)]
+pub fn record_view_into(
+    size: (u32, u32),
+    data: &ViewData,
+    theme: &Theme,
+    pixels_per_point: f64,
+    measure: &dyn MeasureText,
+    now: &dyn Fn() -> f64,
+    raster_ms: &mut f64,
+    buffers: Buffers,
+) -> Result<(Vec<Op>, ChartLayout), String> {
     *raster_ms = 0.0;
+    let Buffers {
+        ops: mut list,
+        raster,
+    } = buffers;
+    list.clear();
     // Room for a view's operations (strokes of one pen are merged, so a
     // profile has a few hundred), so the list is rarely moved as it grows.
-    let ops = RefCell::new(Vec::with_capacity(512));
+    list.reserve(512);
+    let ops = RefCell::new(list);
     let recorder = Recorder::new(size, &ops, measure);
     let area = recorder.into_drawing_area();
     let layout = match data {
@@ -501,7 +559,7 @@ pub fn record_view(
             // Pixels above a column's top are composited over the background
             // (putImageData copies alpha rather than blending).
             let t0 = now();
-            let image = map.raster_over(theme.background);
+            let image = map.raster_over_into(theme.background, raster);
             *raster_ms = now() - t0;
             ops.borrow_mut().push(Op::Image {
                 at: (main.left, main.top),
@@ -760,6 +818,7 @@ mod tests {
         p.grid.radial_cells = 90;
         p.grid.vertical_cells = 30;
         let model = Model::run(&p).unwrap();
+        let (mut previous, mut reused) = (None, 0);
         for theme in [Theme::light(), Theme::dark()] {
             for (data, ice) in [
                 (MapData::ice_fraction(&model, Species::CO), true),
@@ -842,10 +901,29 @@ mod tests {
                         panic!("the cells do not follow the background: {:?}", got.0[4]);
                     };
                     assert!(*opaque && crate::commands::opaque(rgba));
+                    // Recorded into the memory of the list recorded before (another
+                    // map, size or theme): the same list.
+                    if let Some(before) = previous.take() {
+                        let again = record_view_into(
+                            size,
+                            &view,
+                            &theme,
+                            ppp,
+                            &Fixed,
+                            &|| 0.0,
+                            &mut raster_ms,
+                            Buffers::of(before),
+                        )
+                        .unwrap();
+                        assert_eq!(again, got);
+                        reused += 1;
+                    }
+                    previous = Some(got.0.clone());
                     assert_eq!(got, expected, "{} at {size:?}", data.value_label);
                 }
             }
         }
+        assert_eq!(reused, 7);
     }
 
     #[test]

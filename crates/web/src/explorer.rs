@@ -78,6 +78,9 @@ pub struct Explorer {
     pub(crate) planet: crate::planet::PlanetState,
     /// Per canvas id: what it shows now, so an unchanged view is not drawn again.
     drawn: HashMap<String, Drawn>,
+    /// Per canvas id: the memory of the list it showed before, for its next
+    /// recording (`display::Buffers`: a map's raster is not allocated again).
+    spare: HashMap<String, crate::display::Buffers>,
     /// Text sizes by (CSS font, text), measured once for all canvases and draws.
     text_sizes: crate::display::TextSizes,
     /// Per canvas id: how many times it was actually drawn (`drawCount`).
@@ -154,6 +157,7 @@ impl Explorer {
             remote: None,
             planet: Default::default(),
             drawn: HashMap::new(),
+            spare: HashMap::new(),
             text_sizes: RefCell::new(HashMap::new()),
             draw_counts: HashMap::new(),
             layer_redraws: HashMap::new(),
@@ -396,6 +400,7 @@ impl Explorer {
             pixels_per_point,
             &measure,
             &mut raster_ms,
+            self.spare.remove(canvas_id).unwrap_or_default(),
         )
         .map_err(|e| JsError::new(&e))?;
         // What the canvases show, when they show a list of this size and style on three canvases.
@@ -438,7 +443,7 @@ impl Explorer {
         );
         self.layouts
             .insert(canvas_id.to_string(), (key.clone(), layout.clone()));
-        self.drawn.insert(
+        let before = self.drawn.insert(
             canvas_id.to_string(),
             Drawn {
                 key,
@@ -452,6 +457,12 @@ impl Explorer {
                 layout,
             },
         );
+        if let Some(before) = before {
+            self.spare.insert(
+                canvas_id.to_string(),
+                crate::display::Buffers::of(before.ops),
+            );
+        }
         Ok(!unchanged)
     }
 
