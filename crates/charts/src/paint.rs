@@ -461,11 +461,26 @@ impl<'a, DB: DrawingBackend> Painter<'a, DB> {
     /// The pieces of line a series on `panel` draws [px], in order: each run of
     /// defined points clipped to the frame (`defined_runs`, then
     /// `clip_polyline` of each run), through the painter's buffers.
+    #[cfg(test)]
     fn series_pieces<E>(
         &self,
         panel: &Panel,
         xs: &[f64],
         ys: &[Option<f64>],
+        piece: impl FnMut(&[(f64, f64)]) -> Result<(), E>,
+    ) -> Result<(), E> {
+        self.series_pieces_noting(panel, xs, ys, None, piece)
+    }
+
+    /// [`Self::series_pieces`], appending each defined point [px] to `noted`
+    /// (when given) as it goes: what `extend_defined_points` would
+    /// append for the series, without computing the pixels a second time.
+    fn series_pieces_noting<E>(
+        &self,
+        panel: &Panel,
+        xs: &[f64],
+        ys: &[Option<f64>],
+        mut noted: Option<&mut Vec<(f64, f64)>>,
         mut piece: impl FnMut(&[(f64, f64)]) -> Result<(), E>,
     ) -> Result<(), E> {
         let run = RefCell::new(self.scratch.run.borrow_mut());
@@ -477,6 +492,9 @@ impl<'a, DB: DrawingBackend> Painter<'a, DB> {
             ys,
             |p| {
                 run.borrow_mut().push(p);
+                if let Some(noted) = noted.as_deref_mut() {
+                    noted.push(p);
+                }
                 Ok(())
             },
             || {
@@ -489,7 +507,9 @@ impl<'a, DB: DrawingBackend> Painter<'a, DB> {
     }
 
     /// Every defined point of each series on `panel` [px] (`defined_runs`
-    /// flattened), appended to `out`.
+    /// flattened), appended to `out` (the reference of what
+    /// [`Self::series_noting`] notes).
+    #[cfg(test)]
     pub fn extend_defined_points(
         &self,
         panel: &Panel,
@@ -520,8 +540,23 @@ impl<'a, DB: DrawingBackend> Painter<'a, DB> {
         ys: &[Option<f64>],
         style: &SeriesStyle,
     ) -> Result<(), ChartError> {
+        self.series_noting(panel, xs, ys, style, None)
+    }
+
+    /// [`Self::series`], appending every defined point of the series [px] to
+    /// `occupied` (when given): the points `extend_defined_points` gives for
+    /// it, taken from the drawing instead of being computed again (on a log
+    /// axis that is one `log10` per point).
+    pub fn series_noting(
+        &self,
+        panel: &Panel,
+        xs: &[f64],
+        ys: &[Option<f64>],
+        style: &SeriesStyle,
+        occupied: Option<&mut Vec<(f64, f64)>>,
+    ) -> Result<(), ChartError> {
         let width = self.theme.line_width_pt * style.width_scale;
-        self.series_pieces(panel, xs, ys, |piece| {
+        self.series_pieces_noting(panel, xs, ys, occupied, |piece| {
             self.polyline(piece, style.colour, width, style.dash)
         })?;
         if style.marker != Marker::None {
@@ -1498,6 +1533,19 @@ mod tests {
                     Ok(())
                 })
                 .unwrap();
+            // The same pieces while noting the defined points (two series
+            // noted one after the other, as the profiles note theirs).
+            let mut noted_pieces = Vec::new();
+            let mut noted = vec![(-1.0, -1.0)];
+            for _ in 0..2 {
+                painter
+                    .series_pieces_noting::<()>(&panel, xs, &values, Some(&mut noted), |p| {
+                        noted_pieces.push(p.to_vec());
+                        Ok(())
+                    })
+                    .unwrap();
+            }
+            assert_eq!(noted_pieces, [pieces.clone(), pieces.clone()].concat());
             let expected: Vec<Vec<(f64, f64)>> = defined_runs(&panel, xs, &values)
                 .iter()
                 .flat_map(|run| reference_clip(run, &panel.frame))
@@ -1508,6 +1556,14 @@ mod tests {
             painter.extend_defined_points(&panel, xs, &[&values], &mut points);
             let flat: Vec<(f64, f64)> = defined_runs(&panel, xs, &values).concat();
             assert_eq!(points, flat, "case {n}");
+            let bits = |v: &[(f64, f64)]| -> Vec<(u64, u64)> {
+                v.iter().map(|p| (p.0.to_bits(), p.1.to_bits())).collect()
+            };
+            assert_eq!(
+                bits(&noted),
+                bits(&[vec![(-1.0, -1.0)], flat.clone(), flat].concat()),
+                "case {n}"
+            );
         }
     }
 
