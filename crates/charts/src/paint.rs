@@ -793,9 +793,9 @@ fn clip_segment_general(
         } else {
             let r = q / p;
             if p < 0.0 {
-                t0 = t0.max(r);
+                t0 = fmax(t0, r);
             } else {
-                t1 = t1.min(r);
+                t1 = fmin(t1, r);
             }
         }
     }
@@ -806,6 +806,31 @@ fn clip_segment_general(
         (a.0 + t0 * dx, a.1 + t0 * dy),
         (a.0 + t1 * dx, a.1 + t1 * dy),
     ))
+}
+
+/// `x.max(y)` as the page's WebAssembly computes it, without the call: there
+/// `f64::max` is a call of the bundled libm's `fmax`, which is this expression
+/// (libm 0.2.16, `src/math/generic/fmax.rs`; `canonicalize` changes no
+/// number). It is `f64::max` wherever that is specified (it leaves the sign
+/// of max(0, -0) open; this gives `x`).
+#[inline]
+fn fmax(x: f64, y: f64) -> f64 {
+    if x.is_nan() || x < y {
+        y
+    } else {
+        x
+    }
+}
+
+/// `x.min(y)` as the page's WebAssembly computes it (libm's `fmin`, as
+/// [`fmax`]; min(0, -0) gives `y`).
+#[inline]
+fn fmin(x: f64, y: f64) -> f64 {
+    if y.is_nan() || x < y {
+        x
+    } else {
+        y
+    }
 }
 
 /// Split a polyline into the "on" pieces of a dash pattern (lengths in px),
@@ -1396,6 +1421,39 @@ mod tests {
             out.push(current);
         }
         out
+    }
+
+    /// The inlined `fmax` and `fmin` equal `f64::max` and `min` bit for bit
+    /// wherever those are specified (all but the sign of a max or min of +0
+    /// and -0, which libm's code decides as `fmax` and `fmin` do).
+    #[test]
+    fn inlined_min_and_max_equal_the_library() {
+        let values = [
+            0.0,
+            -0.0,
+            1.0,
+            -1.0,
+            0.5,
+            1e-300,
+            -1e-300,
+            f64::MAX,
+            f64::MIN,
+            f64::INFINITY,
+            f64::NEG_INFINITY,
+            f64::NAN,
+        ];
+        for &x in &values {
+            for &y in &values {
+                let (max, min) = (fmax(x, y), fmin(x, y));
+                if x == 0.0 && y == 0.0 {
+                    assert_eq!(max.to_bits(), x.to_bits());
+                    assert_eq!(min.to_bits(), y.to_bits());
+                } else {
+                    assert_eq!(max.to_bits(), x.max(y).to_bits(), "max {x} {y}");
+                    assert_eq!(min.to_bits(), x.min(y).to_bits(), "min {x} {y}");
+                }
+            }
+        }
     }
 
     fn reference_dashes(points: &[(f64, f64)], pattern: &[f64; 4]) -> Vec<Vec<(f64, f64)>> {
