@@ -60,26 +60,36 @@ pub fn marching_squares(
     const ABOVE: u8 = 2;
     const UNDEFINED: u8 = 4;
     const CROSSED: u8 = BELOW | ABOVE;
+    let classify = |x: f64| {
+        if x.is_nan() {
+            UNDEFINED
+        } else if x >= level {
+            ABOVE
+        } else {
+            BELOW
+        }
+    };
     let mut state = Vec::with_capacity(ni * nk);
     for i in 0..ni {
-        for k in 0..nk {
-            let x = value(i, k);
-            state.push(if x.is_nan() {
-                UNDEFINED
-            } else if x >= level {
-                ABOVE
-            } else {
-                BELOW
-            });
-        }
+        state.extend((0..nk).map(|k| classify(value(i, k))));
     }
+    // The states of both columns of a column pair at each row, ORed: a cell's
+    // corners give `pair[k] | pair[k + 1]`. A column pair whose nodes are not
+    // on both sides of the level has no crossed cell and is passed over whole.
+    let mut pair = vec![0u8; nk];
     for i in 0..ni - 1 {
         let (this, next) = (
             &state[i * nk..(i + 1) * nk],
             &state[(i + 1) * nk..(i + 2) * nk],
         );
+        for ((p, a), b) in pair.iter_mut().zip(this).zip(next) {
+            *p = a | b;
+        }
+        if pair.iter().fold(0, |all, p| all | p) & CROSSED != CROSSED {
+            continue;
+        }
         for k in 0..nk - 1 {
-            if this[k] | this[k + 1] | next[k] | next[k + 1] != CROSSED {
+            if pair[k] | pair[k + 1] != CROSSED {
                 continue;
             }
             let c = [(i, k), (i + 1, k), (i + 1, k + 1), (i, k + 1)];

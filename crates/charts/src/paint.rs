@@ -461,11 +461,26 @@ impl<'a, DB: DrawingBackend> Painter<'a, DB> {
     /// The pieces of line a series on `panel` draws [px], in order: each run of
     /// defined points clipped to the frame (`defined_runs`, then
     /// `clip_polyline` of each run), through the painter's buffers.
+    #[cfg(test)]
     fn series_pieces<E>(
         &self,
         panel: &Panel,
         xs: &[f64],
         ys: &[Option<f64>],
+        piece: impl FnMut(&[(f64, f64)]) -> Result<(), E>,
+    ) -> Result<(), E> {
+        self.series_pieces_noting(panel, xs, ys, None, piece)
+    }
+
+    /// [`Self::series_pieces`], appending each defined point [px] to `noted`
+    /// (when given) as it goes: what `extend_defined_points` would
+    /// append for the series, without computing the pixels a second time.
+    fn series_pieces_noting<E>(
+        &self,
+        panel: &Panel,
+        xs: &[f64],
+        ys: &[Option<f64>],
+        mut noted: Option<&mut Vec<(f64, f64)>>,
         mut piece: impl FnMut(&[(f64, f64)]) -> Result<(), E>,
     ) -> Result<(), E> {
         let run = RefCell::new(self.scratch.run.borrow_mut());
@@ -477,6 +492,9 @@ impl<'a, DB: DrawingBackend> Painter<'a, DB> {
             ys,
             |p| {
                 run.borrow_mut().push(p);
+                if let Some(noted) = noted.as_deref_mut() {
+                    noted.push(p);
+                }
                 Ok(())
             },
             || {
@@ -489,7 +507,9 @@ impl<'a, DB: DrawingBackend> Painter<'a, DB> {
     }
 
     /// Every defined point of each series on `panel` [px] (`defined_runs`
-    /// flattened), appended to `out`.
+    /// flattened), appended to `out` (the reference of what
+    /// [`Self::series_noting`] notes).
+    #[cfg(test)]
     pub fn extend_defined_points(
         &self,
         panel: &Panel,
@@ -520,8 +540,23 @@ impl<'a, DB: DrawingBackend> Painter<'a, DB> {
         ys: &[Option<f64>],
         style: &SeriesStyle,
     ) -> Result<(), ChartError> {
+        self.series_noting(panel, xs, ys, style, None)
+    }
+
+    /// [`Self::series`], appending every defined point of the series [px] to
+    /// `occupied` (when given): the points `extend_defined_points` gives for
+    /// it, taken from the drawing instead of being computed again (on a log
+    /// axis that is one `log10` per point).
+    pub fn series_noting(
+        &self,
+        panel: &Panel,
+        xs: &[f64],
+        ys: &[Option<f64>],
+        style: &SeriesStyle,
+        occupied: Option<&mut Vec<(f64, f64)>>,
+    ) -> Result<(), ChartError> {
         let width = self.theme.line_width_pt * style.width_scale;
-        self.series_pieces(panel, xs, ys, |piece| {
+        self.series_pieces_noting(panel, xs, ys, occupied, |piece| {
             self.polyline(piece, style.colour, width, style.dash)
         })?;
         if style.marker != Marker::None {
@@ -758,9 +793,9 @@ fn clip_segment_general(
         } else {
             let r = q / p;
             if p < 0.0 {
-                t0 = t0.max(r);
+                t0 = fmax(t0, r);
             } else {
-                t1 = t1.min(r);
+                t1 = fmin(t1, r);
             }
         }
     }
@@ -771,6 +806,31 @@ fn clip_segment_general(
         (a.0 + t0 * dx, a.1 + t0 * dy),
         (a.0 + t1 * dx, a.1 + t1 * dy),
     ))
+}
+
+/// `x.max(y)` as the page's WebAssembly computes it, without the call: there
+/// `f64::max` is a call of the bundled libm's `fmax`, which is this expression
+/// (libm 0.2.16, `src/math/generic/fmax.rs`; `canonicalize` changes no
+/// number). It is `f64::max` wherever that is specified (it leaves the sign
+/// of max(0, -0) open; this gives `x`).
+#[inline]
+fn fmax(x: f64, y: f64) -> f64 {
+    if x.is_nan() || x < y {
+        y
+    } else {
+        x
+    }
+}
+
+/// `x.min(y)` as the page's WebAssembly computes it (libm's `fmin`, as
+/// [`fmax`]; min(0, -0) gives `y`).
+#[inline]
+fn fmin(x: f64, y: f64) -> f64 {
+    if y.is_nan() || x < y {
+        x
+    } else {
+        y
+    }
 }
 
 /// Split a polyline into the "on" pieces of a dash pattern (lengths in px),
@@ -1363,6 +1423,39 @@ mod tests {
         out
     }
 
+    /// The inlined `fmax` and `fmin` equal `f64::max` and `min` bit for bit
+    /// wherever those are specified (all but the sign of a max or min of +0
+    /// and -0, which libm's code decides as `fmax` and `fmin` do).
+    #[test]
+    fn inlined_min_and_max_equal_the_library() {
+        let values = [
+            0.0,
+            -0.0,
+            1.0,
+            -1.0,
+            0.5,
+            1e-300,
+            -1e-300,
+            f64::MAX,
+            f64::MIN,
+            f64::INFINITY,
+            f64::NEG_INFINITY,
+            f64::NAN,
+        ];
+        for &x in &values {
+            for &y in &values {
+                let (max, min) = (fmax(x, y), fmin(x, y));
+                if x == 0.0 && y == 0.0 {
+                    assert_eq!(max.to_bits(), x.to_bits());
+                    assert_eq!(min.to_bits(), y.to_bits());
+                } else {
+                    assert_eq!(max.to_bits(), x.max(y).to_bits(), "max {x} {y}");
+                    assert_eq!(min.to_bits(), x.min(y).to_bits(), "min {x} {y}");
+                }
+            }
+        }
+    }
+
     fn reference_dashes(points: &[(f64, f64)], pattern: &[f64; 4]) -> Vec<Vec<(f64, f64)>> {
         let mut out = Vec::new();
         let mut index = 0usize;
@@ -1498,6 +1591,19 @@ mod tests {
                     Ok(())
                 })
                 .unwrap();
+            // The same pieces while noting the defined points (two series
+            // noted one after the other, as the profiles note theirs).
+            let mut noted_pieces = Vec::new();
+            let mut noted = vec![(-1.0, -1.0)];
+            for _ in 0..2 {
+                painter
+                    .series_pieces_noting::<()>(&panel, xs, &values, Some(&mut noted), |p| {
+                        noted_pieces.push(p.to_vec());
+                        Ok(())
+                    })
+                    .unwrap();
+            }
+            assert_eq!(noted_pieces, [pieces.clone(), pieces.clone()].concat());
             let expected: Vec<Vec<(f64, f64)>> = defined_runs(&panel, xs, &values)
                 .iter()
                 .flat_map(|run| reference_clip(run, &panel.frame))
@@ -1508,6 +1614,14 @@ mod tests {
             painter.extend_defined_points(&panel, xs, &[&values], &mut points);
             let flat: Vec<(f64, f64)> = defined_runs(&panel, xs, &values).concat();
             assert_eq!(points, flat, "case {n}");
+            let bits = |v: &[(f64, f64)]| -> Vec<(u64, u64)> {
+                v.iter().map(|p| (p.0.to_bits(), p.1.to_bits())).collect()
+            };
+            assert_eq!(
+                bits(&noted),
+                bits(&[vec![(-1.0, -1.0)], flat.clone(), flat].concat()),
+                "case {n}"
+            );
         }
     }
 

@@ -128,18 +128,6 @@ fn radius_axis(radius_au: &[f64]) -> AxisTransform {
     AxisTransform::new(a, b, Scale::Log10, "r [au]")
 }
 
-/// Every defined point [px] of the series, for placing the legend.
-fn occupied_points<DB: DrawingBackend>(
-    p: &Painter<DB>,
-    panel: &Panel,
-    xs: &[f64],
-    series: &[&[Option<f64>]],
-) -> Vec<(f64, f64)> {
-    let mut out = Vec::new();
-    p.extend_defined_points(panel, xs, series, &mut out);
-    out
-}
-
 /// Centres for labels of width `slot` that want to sit at `wanted` (sorted
 /// ascending), within `[low, high]`, no two closer than `slot`: overlapping
 /// neighbours are merged into clusters centred on the mean of what they want
@@ -381,15 +369,11 @@ pub fn draw_c_to_o_profile<DB: DrawingBackend>(
             &data.c_to_o_solid,
         ),
     ];
+    // Every defined point of the three series, for placing the legend
+    // (`occupied_points` of them), noted while drawing them.
     for (_, style, ys) in &styles {
-        p.series(&panel, &data.radius_au, ys, style)?;
+        p.series_noting(&panel, &data.radius_au, ys, style, Some(&mut occupied))?;
     }
-    occupied.extend(occupied_points(
-        &p,
-        &panel,
-        &data.radius_au,
-        &[&data.c_to_o_gas, &data.c_to_o_ice, &data.c_to_o_solid],
-    ));
     if let Some(r) = data.planet_radius_au {
         if let Some(xp) = panel
             .px_x(r)
@@ -526,8 +510,11 @@ pub fn draw_temperature_profile<DB: DrawingBackend>(
             &data.accretion_temperature_k,
         ),
     ];
+    // Every defined point of the three temperatures, for placing the legend
+    // (`occupied_points` of them), noted while drawing them.
+    let mut occupied = Vec::new();
     for (_, style, ys) in &styles {
-        p.series(&tp, &data.radius_au, ys, style)?;
+        p.series_noting(&tp, &data.radius_au, ys, style, Some(&mut occupied))?;
     }
     p.series(
         &sp,
@@ -550,16 +537,6 @@ pub fn draw_temperature_profile<DB: DrawingBackend>(
             ..AxisOptions::FULL
         },
     )?;
-    let occupied = occupied_points(
-        &p,
-        &tp,
-        &data.radius_au,
-        &[
-            &data.midplane_temperature_k,
-            &data.irradiation_temperature_k,
-            &data.accretion_temperature_k,
-        ],
-    );
     let entries: Vec<(String, SeriesStyle)> =
         styles.iter().map(|(l, s, _)| (l.to_string(), *s)).collect();
     p.legend(&upper, &entries, &occupied)?;
