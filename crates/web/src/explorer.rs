@@ -433,8 +433,6 @@ impl Explorer {
             if plan.as_ref().is_some_and(|p| p.full) {
                 *self.layer_redraws.entry(canvas_id.to_string()).or_default() += 1;
             }
-        }
-        if !unchanged {
             *self.draw_counts.entry(canvas_id.to_string()).or_default() += 1;
         }
         self.draw_timings.insert(
