@@ -717,7 +717,7 @@ fn map_axes(data: &MapData) -> (AxisTransform, AxisTransform, AxisTransform) {
     let (r0, r1) = data.radius_range_au();
     (
         AxisTransform::new(r0, r1, Scale::Log10, "r [au]"),
-        AxisTransform::new(0.0, data.z_over_r_max, Scale::Linear, "z/r"),
+        AxisTransform::new(0.0, data.z_over_r_max(), Scale::Linear, "z/r"),
         AxisTransform::new(
             data.value_range.0,
             data.value_range.1,
@@ -1097,10 +1097,10 @@ fn draw_prepared_map<DB: DrawingBackend>(
     }
     let mut entries: Vec<(String, SeriesStyle)> = Vec::new();
     let white = Rgba::hex(0xffffff);
-    if !data.scale_height_over_r.is_empty() {
+    if !data.scale_height_over_r().is_empty() {
         // The x pixel of each column, shared by the three lines: what
         // `main.px(r, n * h)` computes first (one log10 per column, not three).
-        let column_x: Vec<Option<f64>> = data.radius_au.iter().map(|&r| main.px_x(r)).collect();
+        let column_x: Vec<Option<f64>> = data.radius_au().iter().map(|&r| main.px_x(r)).collect();
         let mut points: Vec<(f64, f64)> = Vec::with_capacity(column_x.len());
         for (n, dash) in [
             (1.0, LineDash::Dotted),
@@ -1112,7 +1112,7 @@ fn draw_prepared_map<DB: DrawingBackend>(
             points.extend(
                 column_x
                     .iter()
-                    .zip(&data.scale_height_over_r)
+                    .zip(data.scale_height_over_r())
                     .filter_map(|(x, &h)| x.zip(main.px_y(n * h))),
             );
             halo_line(p, main, &points, theme.line_width_pt * 0.7, dash)?;
