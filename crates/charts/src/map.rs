@@ -100,6 +100,27 @@ impl MapGrid {
         scale_height_over_r: Vec<f64>,
         z_over_r_max: f64,
     ) -> MapGrid {
+        let heights_valid = all_valid_heights(&z_over_r);
+        MapGrid::assemble(
+            radius_au,
+            rows,
+            z_over_r,
+            scale_height_over_r,
+            z_over_r_max,
+            heights_valid,
+        )
+    }
+
+    /// [`MapGrid::new`] given whether every z/r is finite and >= 0
+    /// ([`all_valid_heights`], or the same test made while z/r was formed).
+    fn assemble(
+        radius_au: Vec<f64>,
+        rows: usize,
+        z_over_r: Vec<f64>,
+        scale_height_over_r: Vec<f64>,
+        z_over_r_max: f64,
+        heights_valid: bool,
+    ) -> MapGrid {
         let first = (|| {
             check_increasing_positive("radius_au", &radius_au)?;
             if rows == 0 {
@@ -112,7 +133,13 @@ impl MapGrid {
         } else {
             check_length("scale_height_over_r", &scale_height_over_r, radius_au.len())
         }
-        .and_then(|()| check_heights(&z_over_r));
+        .and_then(|()| {
+            if heights_valid {
+                Ok(())
+            } else {
+                Err(first_invalid_height(&z_over_r))
+            }
+        });
         let column_edges_log = if radius_au.is_empty() {
             Vec::new()
         } else {
@@ -147,9 +174,21 @@ impl MapGrid {
         // `height_cm` of `st.sample(j, s)`, without building the whole sample).
         let heights = &st.samples().height_cm;
         let mut z_over_r = Vec::with_capacity(heights.len());
+        // While z/r is formed: the grid's top (`fold(0.0, f64::max)`, whose library call
+        // per sample WebAssembly makes, written as the comparison it comes to: NaN and
+        // equal values keep the top) and whether every z/r is a valid height.
+        let mut grid_top = 0.0;
+        let mut heights_valid = true;
         for (j, &r) in st.radius_cm().iter().enumerate() {
             let column = &heights[st.index(j, 0)..st.index(j, 0) + rows];
-            z_over_r.extend(column.iter().map(|h| h / r));
+            for h in column {
+                let z = h / r;
+                if z > grid_top {
+                    grid_top = z;
+                }
+                heights_valid &= valid_height(z);
+                z_over_r.push(z);
+            }
         }
         let h_over_r: Vec<f64> = st
             .scale_height_cm()
@@ -160,16 +199,16 @@ impl MapGrid {
         // Show up to four scale heights of the thickest column: the snow surfaces and the
         // 1-3 H lines sit below that, and the grid's 10 H top would squash them.
         let thickest = h_over_r.iter().copied().fold(0.0, f64::max);
-        let grid_top = z_over_r.iter().copied().fold(0.0, f64::max);
         let z_max = ((4.0 * thickest / 0.05).ceil() * 0.05)
             .min(grid_top)
             .max(1e-3);
-        MapGrid::new(
+        MapGrid::assemble(
             st.radius_cm().iter().map(|r| r / AU_CM).collect(),
             rows,
             z_over_r,
             h_over_r,
             z_max,
+            heights_valid,
         )
     }
 
@@ -223,25 +262,34 @@ impl MapGrid {
     }
 }
 
-/// Every z/r finite and >= 0 (`0 <= z < inf`, false for NaN), checked without a
-/// branch per sample; the first offending value is looked up only when there is one.
-fn check_heights(z_over_r: &[f64]) -> Result<(), ChartError> {
+/// A valid height z/r: finite and >= 0 (`0 <= z < inf`, false for NaN; -0 passes),
+/// both comparisons made, without a branch.
+#[inline(always)]
+fn valid_height(z: f64) -> bool {
     // Both comparisons, no short circuit (`contains` would branch).
     #[allow(clippy::manual_range_contains)]
-    let valid = |z: f64| (z >= 0.0) & (z < f64::INFINITY);
-    if z_over_r.iter().fold(true, |all, &z| all & valid(z)) {
-        return Ok(());
-    }
+    let valid = (z >= 0.0) & (z < f64::INFINITY);
+    valid
+}
+
+/// Whether every z/r is a valid height, without a branch per sample.
+fn all_valid_heights(z_over_r: &[f64]) -> bool {
+    z_over_r.iter().fold(true, |all, &z| all & valid_height(z))
+}
+
+/// The error naming the first z/r that is not a valid height (looked up only when
+/// [`all_valid_heights`] is false).
+fn first_invalid_height(z_over_r: &[f64]) -> ChartError {
     let z = z_over_r
         .iter()
         .copied()
-        .find(|&z| !valid(z))
+        .find(|&z| !valid_height(z))
         .unwrap_or(f64::NAN);
-    Err(ChartError::InvalidValue {
+    ChartError::InvalidValue {
         field: "z_over_r",
         value: z,
         allowed: "finite and >= 0",
-    })
+    }
 }
 
 /// log10 r at the edges of columns centred on `radius_au` (not empty): the midpoints
@@ -1009,6 +1057,28 @@ mod tests {
         p.grid.radial_cells = 40;
         p.grid.vertical_cells = 12;
         let model = Model::run(&p).unwrap();
+        // The model's grid, whose checks and top were made while its z/r was formed, is the
+        // grid `new` makes of the same fields, with the top of the former two folds.
+        let from_model = MapGrid::from_model(&model);
+        let thickest = from_model
+            .scale_height_over_r()
+            .iter()
+            .copied()
+            .fold(0.0, f64::max);
+        let grid_top = from_model.z_over_r().iter().copied().fold(0.0, f64::max);
+        let z_max = ((4.0 * thickest / 0.05).ceil() * 0.05)
+            .min(grid_top)
+            .max(1e-3);
+        assert_eq!(from_model.z_over_r_max().to_bits(), z_max.to_bits());
+        let rebuilt = MapGrid::new(
+            from_model.radius_au().to_vec(),
+            from_model.rows(),
+            from_model.z_over_r().to_vec(),
+            from_model.scale_height_over_r().to_vec(),
+            z_max,
+        );
+        assert_eq!(rebuilt, from_model);
+        assert!(rebuilt.checks.iter().all(Result::is_ok));
         for grid in [
             MapGrid::from_model(&model),
             (*small_grid(vec![0.0, 0.1, 0.2, 0.0, 0.1, 0.2])).clone(),
