@@ -9,6 +9,10 @@
 //! last + half a spacing; above that top the map is outside the grid
 //! (transparent). Undefined values (NaN) are drawn in the theme's neutral grey.
 
+use std::borrow::Cow;
+use std::ops::Deref;
+use std::sync::Arc;
+
 use nivalis_physics::units::AU_CM;
 use nivalis_physics::{Model, SnowSurface, Species};
 
@@ -19,19 +23,15 @@ use crate::paint::round_to_byte_index;
 use crate::text::typeset_formula;
 use crate::theme::Theme;
 
-/// Inputs of an r-z map (views c and d).
+/// Inputs of an r-z map (views c and d): the values on an r-z grid ([`MapGrid`],
+/// shared by every map of one structure and read through the map: `map.radius_au()`,
+/// `map.rows()`, `map.z_over_r()`, `map.scale_height_over_r()`, `map.z_over_r_max()`).
 #[derive(Debug, Clone, PartialEq)]
 pub struct MapData {
-    /// Radius of each column [au], increasing.
-    pub radius_au: Vec<f64>,
-    /// Samples per column.
-    pub rows: usize,
-    /// z/r of each sample, `[column * rows + row]`, increasing within a column.
-    pub z_over_r: Vec<f64>,
-    /// Value of each sample, same index; NaN where undefined.
+    /// The r-z grid the values sit on.
+    pub grid: Arc<MapGrid>,
+    /// Value of each sample, `[column * rows + row]` as the grid's z/r; NaN where undefined.
     pub values: Vec<f64>,
-    /// H/r of each column (midplane scale height over radius); empty draws no scale-height lines.
-    pub scale_height_over_r: Vec<f64>,
     /// Colour-bar label, e.g. "CO ice fraction".
     pub value_label: String,
     /// Values mapped to the ends of the colour map (values outside are clamped).
@@ -46,28 +46,126 @@ pub struct MapData {
     pub curves: Vec<Vec<(f64, f64)>>,
     /// A value marked on the colour bar, as (label, value), e.g. ("star", 0.55).
     pub reference_value: Option<(String, f64)>,
-    /// Top of the plot in z/r.
-    pub z_over_r_max: f64,
+}
+
+/// A map reads as its grid (`map.radius_au()`, `map.rows()`, ...).
+impl Deref for MapData {
+    type Target = MapGrid;
+    fn deref(&self) -> &MapGrid {
+        &self.grid
+    }
 }
 
 /// The r-z grid of a model's maps: what [`MapData`] takes from the structure
 /// alone (radii, z/r of every sample, H/r, the plot's top), the same for every
-/// map of one structure.
+/// map of one structure. Built once ([`MapGrid::new`], [`MapGrid::from_model`])
+/// and not changed after: its checks ([`MapData`]'s validation of the grid) and
+/// the cell edges the raster, the readout and the SVG cells use are made when
+/// it is built, so the maps drawn on it after every edit do not make them again.
 #[derive(Debug, Clone, PartialEq)]
 pub struct MapGrid {
     /// Radius of each column [au], increasing.
-    pub radius_au: Vec<f64>,
+    radius_au: Vec<f64>,
     /// Samples per column.
-    pub rows: usize,
-    /// z/r of each sample, `[column * rows + row]`.
-    pub z_over_r: Vec<f64>,
-    /// H/r of each column.
-    pub scale_height_over_r: Vec<f64>,
+    rows: usize,
+    /// z/r of each sample, `[column * rows + row]`, increasing within a column.
+    z_over_r: Vec<f64>,
+    /// H/r of each column (midplane scale height over radius); empty draws no scale-height lines.
+    scale_height_over_r: Vec<f64>,
     /// Top of the plot in z/r.
-    pub z_over_r_max: f64,
+    z_over_r_max: f64,
+    /// The grid's part of [`MapData::validate`], in its order: the radii, the row count and
+    /// the length of z/r (checked before the values' length); then the length of H/r and
+    /// every z/r finite and >= 0 (after it).
+    checks: [Result<(), ChartError>; 2],
+    /// log10 r at the column edges (n + 1 of them); empty when the radii are.
+    column_edges_log: Vec<f64>,
+    /// Upper z/r edge of every sample, `[column * rows + row]`; empty unless the first checks pass.
+    row_tops: Vec<f64>,
+    /// Lower z/r edge of each column; empty unless the first checks pass.
+    row_bottoms: Vec<f64>,
 }
 
 impl MapGrid {
+    /// A grid of `radius_au.len()` columns of `rows` samples each: radius of each column
+    /// [au] (increasing), z/r of each sample `[column * rows + row]` (finite, >= 0,
+    /// increasing within a column), H/r of each column (empty: no scale-height lines) and
+    /// the plot's top in z/r. Nothing is refused here: a map on a grid that breaks these
+    /// rules is refused when drawn, with the first offending field (as before the grid was
+    /// shared).
+    pub fn new(
+        radius_au: Vec<f64>,
+        rows: usize,
+        z_over_r: Vec<f64>,
+        scale_height_over_r: Vec<f64>,
+        z_over_r_max: f64,
+    ) -> MapGrid {
+        let heights_valid = all_valid_heights(&z_over_r);
+        MapGrid::assemble(
+            radius_au,
+            rows,
+            z_over_r,
+            scale_height_over_r,
+            z_over_r_max,
+            heights_valid,
+        )
+    }
+
+    /// [`MapGrid::new`] given whether every z/r is finite and >= 0
+    /// ([`all_valid_heights`], or the same test made while z/r was formed).
+    fn assemble(
+        radius_au: Vec<f64>,
+        rows: usize,
+        z_over_r: Vec<f64>,
+        scale_height_over_r: Vec<f64>,
+        z_over_r_max: f64,
+        heights_valid: bool,
+    ) -> MapGrid {
+        let first = (|| {
+            check_increasing_positive("radius_au", &radius_au)?;
+            if rows == 0 {
+                return Err(ChartError::EmptyData { field: "rows" });
+            }
+            check_length("z_over_r", &z_over_r, radius_au.len() * rows)
+        })();
+        let second = if scale_height_over_r.is_empty() {
+            Ok(())
+        } else {
+            check_length("scale_height_over_r", &scale_height_over_r, radius_au.len())
+        }
+        .and_then(|()| {
+            if heights_valid {
+                Ok(())
+            } else {
+                Err(first_invalid_height(&z_over_r))
+            }
+        });
+        let column_edges_log = if radius_au.is_empty() {
+            Vec::new()
+        } else {
+            column_edges_log(&radius_au)
+        };
+        let (mut row_tops, mut row_bottoms) = (Vec::new(), Vec::new());
+        if first.is_ok() {
+            row_tops.reserve(z_over_r.len());
+            row_bottoms.reserve(radius_au.len());
+            for column in z_over_r.chunks_exact(rows) {
+                row_bottoms.push(push_row_edges(column, &mut row_tops));
+            }
+        }
+        MapGrid {
+            radius_au,
+            rows,
+            z_over_r,
+            scale_height_over_r,
+            z_over_r_max,
+            checks: [first, second],
+            column_edges_log,
+            row_tops,
+            row_bottoms,
+        }
+    }
+
     /// The grid of a model's structure.
     pub fn from_model(model: &Model) -> MapGrid {
         let st = &model.structure();
@@ -76,9 +174,21 @@ impl MapGrid {
         // `height_cm` of `st.sample(j, s)`, without building the whole sample).
         let heights = &st.samples().height_cm;
         let mut z_over_r = Vec::with_capacity(heights.len());
+        // While z/r is formed: the grid's top (`fold(0.0, f64::max)`, whose library call
+        // per sample WebAssembly makes, written as the comparison it comes to: NaN and
+        // equal values keep the top) and whether every z/r is a valid height.
+        let mut grid_top = 0.0;
+        let mut heights_valid = true;
         for (j, &r) in st.radius_cm().iter().enumerate() {
             let column = &heights[st.index(j, 0)..st.index(j, 0) + rows];
-            z_over_r.extend(column.iter().map(|h| h / r));
+            for h in column {
+                let z = h / r;
+                if z > grid_top {
+                    grid_top = z;
+                }
+                heights_valid &= valid_height(z);
+                z_over_r.push(z);
+            }
         }
         let h_over_r: Vec<f64> = st
             .scale_height_cm()
@@ -89,18 +199,130 @@ impl MapGrid {
         // Show up to four scale heights of the thickest column: the snow surfaces and the
         // 1-3 H lines sit below that, and the grid's 10 H top would squash them.
         let thickest = h_over_r.iter().copied().fold(0.0, f64::max);
-        let grid_top = z_over_r.iter().copied().fold(0.0, f64::max);
         let z_max = ((4.0 * thickest / 0.05).ceil() * 0.05)
             .min(grid_top)
             .max(1e-3);
-        MapGrid {
-            radius_au: st.radius_cm().iter().map(|r| r / AU_CM).collect(),
+        MapGrid::assemble(
+            st.radius_cm().iter().map(|r| r / AU_CM).collect(),
             rows,
             z_over_r,
-            scale_height_over_r: h_over_r,
-            z_over_r_max: z_max,
+            h_over_r,
+            z_max,
+            heights_valid,
+        )
+    }
+
+    /// Radius of each column [au], increasing.
+    pub fn radius_au(&self) -> &[f64] {
+        &self.radius_au
+    }
+
+    /// Samples per column.
+    pub fn rows(&self) -> usize {
+        self.rows
+    }
+
+    /// z/r of each sample, `[column * rows + row]`, increasing within a column.
+    pub fn z_over_r(&self) -> &[f64] {
+        &self.z_over_r
+    }
+
+    /// H/r of each column; empty draws no scale-height lines.
+    pub fn scale_height_over_r(&self) -> &[f64] {
+        &self.scale_height_over_r
+    }
+
+    /// Top of the plot in z/r.
+    pub fn z_over_r_max(&self) -> f64 {
+        self.z_over_r_max
+    }
+
+    /// The radius range [au] the cells cover.
+    pub fn radius_range_au(&self) -> (f64, f64) {
+        let g = self.column_edges_log();
+        (10f64.powf(g[0]), 10f64.powf(g[g.len() - 1]))
+    }
+
+    /// log10 r at the column edges (n + 1 of them).
+    fn column_edges_log(&self) -> Cow<'_, [f64]> {
+        if self.column_edges_log.is_empty() {
+            Cow::Owned(column_edges_log(&self.radius_au))
+        } else {
+            Cow::Borrowed(&self.column_edges_log)
         }
     }
+
+    /// Upper z/r edge of each sample of column j, and the column's lower edge (the
+    /// grid's first checks must pass: a map is validated before it is drawn).
+    fn row_edges(&self, j: usize) -> (&[f64], f64) {
+        (
+            &self.row_tops[j * self.rows..(j + 1) * self.rows],
+            self.row_bottoms[j],
+        )
+    }
+}
+
+/// A valid height z/r: finite and >= 0 (`0 <= z < inf`, false for NaN; -0 passes),
+/// both comparisons made, without a branch.
+#[inline(always)]
+fn valid_height(z: f64) -> bool {
+    // Both comparisons, no short circuit (`contains` would branch).
+    #[allow(clippy::manual_range_contains)]
+    let valid = (z >= 0.0) & (z < f64::INFINITY);
+    valid
+}
+
+/// Whether every z/r is a valid height, without a branch per sample.
+fn all_valid_heights(z_over_r: &[f64]) -> bool {
+    z_over_r.iter().fold(true, |all, &z| all & valid_height(z))
+}
+
+/// The error naming the first z/r that is not a valid height (looked up only when
+/// [`all_valid_heights`] is false).
+fn first_invalid_height(z_over_r: &[f64]) -> ChartError {
+    let z = z_over_r
+        .iter()
+        .copied()
+        .find(|&z| !valid_height(z))
+        .unwrap_or(f64::NAN);
+    ChartError::InvalidValue {
+        field: "z_over_r",
+        value: z,
+        allowed: "finite and >= 0",
+    }
+}
+
+/// log10 r at the edges of columns centred on `radius_au` (not empty): the midpoints
+/// between neighbours, the ends half a spacing outward.
+fn column_edges_log(radius_au: &[f64]) -> Vec<f64> {
+    let logs: Vec<f64> = radius_au.iter().map(|r| r.log10()).collect();
+    let n = logs.len();
+    let mut edges = Vec::with_capacity(n + 1);
+    if n == 1 {
+        // One column: give it a tenth of a decade either side.
+        return vec![logs[0] - 0.1, logs[0] + 0.1];
+    }
+    edges.push(logs[0] - 0.5 * (logs[1] - logs[0]));
+    for j in 1..n {
+        edges.push(0.5 * (logs[j - 1] + logs[j]));
+    }
+    edges.push(logs[n - 1] + 0.5 * (logs[n - 1] - logs[n - 2]));
+    edges
+}
+
+/// Appends the upper z/r edge of each sample of a column (its z/r, not empty) to `out`
+/// and returns the column's lower edge.
+fn push_row_edges(z: &[f64], out: &mut Vec<f64>) -> f64 {
+    let n = z.len();
+    if n == 1 {
+        out.push(z[0] * 1.5 + 1e-12);
+        return 0.0;
+    }
+    for k in 0..n - 1 {
+        out.push(0.5 * (z[k] + z[k + 1]));
+    }
+    out.push(z[n - 1] + 0.5 * (z[n - 1] - z[n - 2]));
+    (z[0] - 0.5 * (z[1] - z[0])).max(0.0)
 }
 
 /// An RGBA image, rows top to bottom, 4 bytes per pixel (the layout of the
@@ -134,20 +356,17 @@ impl RasterImage {
 }
 
 impl MapData {
-    /// A map on a model's grid ([`MapGrid`]) with the given values.
+    /// A map on a grid ([`MapGrid`], shared) with the given values.
     fn on_grid(
-        grid: &MapGrid,
+        grid: &Arc<MapGrid>,
         values: Vec<f64>,
         value_label: String,
         value_range: (f64, f64),
         colour_map: ColourMap,
     ) -> MapData {
         MapData {
-            radius_au: grid.radius_au.clone(),
-            rows: grid.rows,
-            z_over_r: grid.z_over_r.clone(),
+            grid: Arc::clone(grid),
             values,
-            scale_height_over_r: grid.scale_height_over_r.clone(),
             value_label,
             value_range,
             colour_map,
@@ -155,7 +374,6 @@ impl MapData {
             contour_label: String::new(),
             curves: Vec::new(),
             reference_value: None,
-            z_over_r_max: grid.z_over_r_max,
         }
     }
 
@@ -163,13 +381,13 @@ impl MapData {
     /// (the snow surface as the field's own 0.5 level) and the 1, 2, 3 H lines.
     /// An absent species gives an all-undefined map.
     pub fn ice_fraction(model: &Model, species: Species) -> MapData {
-        MapData::ice_fraction_on(&MapGrid::from_model(model), model, species)
+        MapData::ice_fraction_on(&Arc::new(MapGrid::from_model(model)), model, species)
     }
 
     /// [`MapData::ice_fraction`] on the model's grid built beforehand (`grid` must
     /// be `MapGrid::from_model(model)`): the page builds the grid once per
-    /// structure for both maps.
-    pub fn ice_fraction_on(grid: &MapGrid, model: &Model, species: Species) -> MapData {
+    /// structure for both maps, and they share it.
+    pub fn ice_fraction_on(grid: &Arc<MapGrid>, model: &Model, species: Species) -> MapData {
         let n = model.sample_count();
         let present = model.composition().is_present(species);
         // `model.ice_fraction_at(species, k)` for every k, as one slice.
@@ -187,12 +405,12 @@ impl MapData {
 
     /// Gas C/O in every sample on a 0..2 scale, the star's C/O marked on the colour bar.
     pub fn gas_c_to_o(model: &Model) -> MapData {
-        MapData::gas_c_to_o_on(&MapGrid::from_model(model), model)
+        MapData::gas_c_to_o_on(&Arc::new(MapGrid::from_model(model)), model)
     }
 
     /// [`MapData::gas_c_to_o`] on the model's grid built beforehand (`grid` must
     /// be `MapGrid::from_model(model)`).
-    pub fn gas_c_to_o_on(grid: &MapGrid, model: &Model) -> MapData {
+    pub fn gas_c_to_o_on(grid: &Arc<MapGrid>, model: &Model) -> MapData {
         // The core's bulk query: the same values as `ratios(&phases_at(k))` per sample.
         let values = model.gas_c_to_o_samples();
         let mut map = MapData::on_grid(
@@ -234,40 +452,13 @@ impl MapData {
         lines
     }
 
+    /// The checks a map passes before it is drawn, each failure naming the first
+    /// offending field: the grid's, made once when it was built ([`MapGrid::new`]), and
+    /// the values' length and the value range.
     pub(crate) fn validate(&self) -> Result<(), ChartError> {
-        check_increasing_positive("radius_au", &self.radius_au)?;
-        if self.rows == 0 {
-            return Err(ChartError::EmptyData { field: "rows" });
-        }
-        let n = self.radius_au.len() * self.rows;
-        check_length("z_over_r", &self.z_over_r, n)?;
-        check_length("values", &self.values, n)?;
-        if !self.scale_height_over_r.is_empty() {
-            check_length(
-                "scale_height_over_r",
-                &self.scale_height_over_r,
-                self.radius_au.len(),
-            )?;
-        }
-        // Every z/r finite and >= 0 (`0 <= z < inf`, false for NaN), checked
-        // without a branch per sample (the page checks a map per edit); the
-        // first offending value is looked up only when there is one.
-        // Both comparisons, no short circuit (`contains` would branch).
-        #[allow(clippy::manual_range_contains)]
-        let valid = |z: f64| (z >= 0.0) & (z < f64::INFINITY);
-        if !self.z_over_r.iter().fold(true, |all, &z| all & valid(z)) {
-            let z = self
-                .z_over_r
-                .iter()
-                .copied()
-                .find(|&z| !valid(z))
-                .unwrap_or(f64::NAN);
-            return Err(ChartError::InvalidValue {
-                field: "z_over_r",
-                value: z,
-                allowed: "finite and >= 0",
-            });
-        }
+        self.grid.checks[0].clone()?;
+        check_length("values", &self.values, self.radius_au.len() * self.rows)?;
+        self.grid.checks[1].clone()?;
         let (a, b) = self.value_range;
         if !(a.is_finite() && b.is_finite() && a < b) {
             return Err(ChartError::InvalidValue {
@@ -284,45 +475,6 @@ impl MapData {
             });
         }
         Ok(())
-    }
-
-    /// The radius range [au] the cells cover.
-    pub fn radius_range_au(&self) -> (f64, f64) {
-        let g = self.column_edges_log();
-        (10f64.powf(g[0]), 10f64.powf(g[g.len() - 1]))
-    }
-
-    /// log10 r at the column edges (n + 1 of them).
-    fn column_edges_log(&self) -> Vec<f64> {
-        let logs: Vec<f64> = self.radius_au.iter().map(|r| r.log10()).collect();
-        let n = logs.len();
-        let mut edges = Vec::with_capacity(n + 1);
-        if n == 1 {
-            // One column: give it a tenth of a decade either side.
-            return vec![logs[0] - 0.1, logs[0] + 0.1];
-        }
-        edges.push(logs[0] - 0.5 * (logs[1] - logs[0]));
-        for j in 1..n {
-            edges.push(0.5 * (logs[j - 1] + logs[j]));
-        }
-        edges.push(logs[n - 1] + 0.5 * (logs[n - 1] - logs[n - 2]));
-        edges
-    }
-
-    /// Upper z/r edge of each sample of column j, and the column's lower edge.
-    fn row_edges(&self, j: usize, out: &mut Vec<f64>) -> f64 {
-        let z = &self.z_over_r[j * self.rows..(j + 1) * self.rows];
-        out.clear();
-        let n = z.len();
-        if n == 1 {
-            out.push(z[0] * 1.5 + 1e-12);
-            return 0.0;
-        }
-        for k in 0..n - 1 {
-            out.push(0.5 * (z[k] + z[k + 1]));
-        }
-        out.push(z[n - 1] + 0.5 * (z[n - 1] - z[n - 2]));
-        (z[0] - 0.5 * (z[1] - z[0])).max(0.0)
     }
 
     /// The colour of every sample (undefined in `undefined`).
@@ -348,11 +500,10 @@ impl MapData {
     pub(crate) fn cell_rectangles(&self, undefined: Rgba) -> Vec<(f64, f64, f64, f64, [u8; 4])> {
         let colours = self.cell_colours(undefined);
         let edges = self.column_edges_log();
-        let mut tops = Vec::with_capacity(self.rows);
         let mut out = Vec::new();
         for j in 0..self.radius_au.len() {
             let (r0, r1) = (10f64.powf(edges[j]), 10f64.powf(edges[j + 1]));
-            let mut bottom = self.row_edges(j, &mut tops);
+            let (tops, mut bottom) = self.row_edges(j);
             let mut k = 0;
             while k < self.rows && bottom < self.z_over_r_max {
                 let c = colours[j * self.rows + k];
@@ -388,8 +539,7 @@ impl MapData {
         let j = edges[1..edges.len() - 1]
             .partition_point(|&e| e <= lx)
             .min(self.radius_au.len() - 1);
-        let mut tops = Vec::with_capacity(self.rows);
-        let bottom = self.row_edges(j, &mut tops);
+        let (tops, bottom) = self.row_edges(j);
         if z_over_r < bottom {
             return None;
         }
@@ -562,9 +712,8 @@ fn raster_cells(
     // the run's colour differs from the row above's.
     let mut top_colour = vec![empty; runs.len()];
     let mut changes: Vec<(u32, u32, u32)> = Vec::new();
-    let mut tops = Vec::with_capacity(data.rows);
     for (r, &(_, _, j)) in runs.iter().enumerate() {
-        let bottom = data.row_edges(j, &mut tops);
+        let (tops, bottom) = data.row_edges(j);
         // Walking up from the bottom row in segments of rows of one colour. A
         // pixel row with z/r `zr` shows cell k, the first cell from the one
         // below's with `zr <= tops[k]` (k only moves up, as z/r rises), if
@@ -719,14 +868,19 @@ mod tests {
     ) -> Vec<u8> {
         let (w, h) = (width as usize, height as usize);
         let mut rgba = vec![0u8; w * h * 4];
-        let edges = data.column_edges_log();
+        // The edges computed here from the map's radii and heights (not the grid's own).
+        let edges = column_edges_log(data.radius_au());
         let (lx0, lx1) = (edges[0], edges[edges.len() - 1]);
         let mut tops = Vec::new();
         for i in 0..w {
             let lx = lx0 + (i as f64 + 0.5) / w as f64 * (lx1 - lx0);
             let j = (edges[1..edges.len() - 1].partition_point(|&e| e <= lx))
                 .min(data.radius_au.len() - 1);
-            let bottom = data.row_edges(j, &mut tops);
+            tops.clear();
+            let bottom = push_row_edges(
+                &data.z_over_r()[j * data.rows()..(j + 1) * data.rows()],
+                &mut tops,
+            );
             for p in 0..h {
                 let zr = data.z_over_r_max * (1.0 - (p as f64 + 0.5) / h as f64);
                 let k = tops.iter().take_while(|&&t| zr > t).count();
@@ -790,15 +944,16 @@ mod tests {
         }
     }
 
+    /// Two columns at 1 and 10 au, three samples each at z/r `z` (0, 0.1, 0.2 by default).
+    fn small_grid(z: Vec<f64>) -> Arc<MapGrid> {
+        Arc::new(MapGrid::new(vec![1.0, 10.0], 3, z, vec![], 0.3))
+    }
+
     fn small_map() -> MapData {
-        // Two columns at 1 and 10 au, three samples each at z/r = 0, 0.1, 0.2;
-        // values 0 / 1 / NaN in the first column, 1 / 1 / 0 in the second.
+        // Values 0 / 1 / NaN in the first column, 1 / 1 / 0 in the second.
         MapData {
-            radius_au: vec![1.0, 10.0],
-            rows: 3,
-            z_over_r: vec![0.0, 0.1, 0.2, 0.0, 0.1, 0.2],
+            grid: small_grid(vec![0.0, 0.1, 0.2, 0.0, 0.1, 0.2]),
             values: vec![0.0, 1.0, f64::NAN, 1.0, 1.0, 0.0],
-            scale_height_over_r: vec![],
             value_label: "test".into(),
             value_range: (0.0, 1.0),
             colour_map: ColourMap::Viridis,
@@ -806,7 +961,138 @@ mod tests {
             contour_label: "f = 0.5".into(),
             curves: vec![],
             reference_value: None,
-            z_over_r_max: 0.3,
+        }
+    }
+
+    /// The checks of a map, the grid's made when it was built, come in the order of
+    /// the fields when several fail: radii, rows, z/r length, values length, H/r
+    /// length, z/r values, value range, top (derived, D).
+    #[test]
+    fn a_map_is_refused_with_its_first_failing_check() {
+        let first_error = |grid: MapGrid, values: usize, range: (f64, f64)| {
+            let map = MapData {
+                grid: Arc::new(grid),
+                values: vec![0.5; values],
+                value_range: range,
+                ..small_map()
+            };
+            match map.validate() {
+                Ok(()) => "none".to_string(),
+                Err(ChartError::InvalidValue { field, .. }) => field.to_string(),
+                Err(ChartError::EmptyData { field }) => field.to_string(),
+                Err(ChartError::LengthMismatch { field, .. }) => field.to_string(),
+                Err(e) => format!("{e:?}"),
+            }
+        };
+        let z = || vec![0.0, 0.1, 0.2, 0.0, 0.1, 0.2];
+        let bad_z = || vec![0.0, f64::NAN, 0.2, 0.0, 0.1, 0.2];
+        let grid = |r: Vec<f64>, rows, z, h: Vec<f64>, top| MapGrid::new(r, rows, z, h, top);
+        let bad_range = (1.0, 0.0);
+        let cases = [
+            (
+                grid(vec![10.0, 1.0], 3, bad_z(), vec![1.0], -1.0),
+                5,
+                bad_range,
+                "radius_au",
+            ),
+            (
+                grid(vec![1.0, 10.0], 0, bad_z(), vec![1.0], -1.0),
+                5,
+                bad_range,
+                "rows",
+            ),
+            (
+                grid(vec![1.0, 10.0], 3, vec![0.0; 5], vec![1.0], -1.0),
+                5,
+                bad_range,
+                "z_over_r",
+            ),
+            (
+                grid(vec![1.0, 10.0], 3, bad_z(), vec![1.0], -1.0),
+                5,
+                bad_range,
+                "values",
+            ),
+            (
+                grid(vec![1.0, 10.0], 3, bad_z(), vec![1.0], -1.0),
+                6,
+                bad_range,
+                "scale_height_over_r",
+            ),
+            (
+                grid(vec![1.0, 10.0], 3, bad_z(), vec![], -1.0),
+                6,
+                bad_range,
+                "z_over_r",
+            ),
+            (
+                grid(vec![1.0, 10.0], 3, z(), vec![0.1, 0.1], -1.0),
+                6,
+                bad_range,
+                "value_range",
+            ),
+            (
+                grid(vec![1.0, 10.0], 3, z(), vec![], f64::NAN),
+                6,
+                (0.0, 1.0),
+                "z_over_r_max",
+            ),
+            (
+                grid(vec![1.0, 10.0], 3, z(), vec![0.1, 0.1], 0.3),
+                6,
+                (0.0, 1.0),
+                "none",
+            ),
+        ];
+        for (i, (g, values, range, field)) in cases.into_iter().enumerate() {
+            assert_eq!(first_error(g, values, range), field, "case {i}");
+        }
+    }
+
+    /// The grid's edges, made once, are those computed per column from its radii and
+    /// heights (the model's grids and the small one).
+    #[test]
+    fn the_grid_s_edges_are_those_of_its_columns() {
+        let mut p = nivalis_physics::ModelParameters::defaults();
+        p.grid.radial_cells = 40;
+        p.grid.vertical_cells = 12;
+        let model = Model::run(&p).unwrap();
+        // The model's grid, whose checks and top were made while its z/r was formed, is the
+        // grid `new` makes of the same fields, with the top of the former two folds.
+        let from_model = MapGrid::from_model(&model);
+        let thickest = from_model
+            .scale_height_over_r()
+            .iter()
+            .copied()
+            .fold(0.0, f64::max);
+        let grid_top = from_model.z_over_r().iter().copied().fold(0.0, f64::max);
+        let z_max = ((4.0 * thickest / 0.05).ceil() * 0.05)
+            .min(grid_top)
+            .max(1e-3);
+        assert_eq!(from_model.z_over_r_max().to_bits(), z_max.to_bits());
+        let rebuilt = MapGrid::new(
+            from_model.radius_au().to_vec(),
+            from_model.rows(),
+            from_model.z_over_r().to_vec(),
+            from_model.scale_height_over_r().to_vec(),
+            z_max,
+        );
+        assert_eq!(rebuilt, from_model);
+        assert!(rebuilt.checks.iter().all(Result::is_ok));
+        for grid in [
+            MapGrid::from_model(&model),
+            (*small_grid(vec![0.0, 0.1, 0.2, 0.0, 0.1, 0.2])).clone(),
+        ] {
+            assert_eq!(
+                &*grid.column_edges_log(),
+                &column_edges_log(grid.radius_au())[..]
+            );
+            let mut tops = Vec::new();
+            for (j, column) in grid.z_over_r().chunks_exact(grid.rows()).enumerate() {
+                tops.clear();
+                let bottom = push_row_edges(column, &mut tops);
+                assert_eq!(grid.row_edges(j), (&tops[..], bottom), "column {j}");
+            }
         }
     }
 
@@ -834,7 +1120,7 @@ mod tests {
         }
         for z in cases {
             let mut map = small_map();
-            map.z_over_r = z.clone();
+            map.grid = small_grid(z.clone());
             let got = match map.validate() {
                 Ok(()) => None,
                 Err(ChartError::InvalidValue {

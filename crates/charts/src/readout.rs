@@ -135,27 +135,27 @@ pub fn readout(data: &ViewData, layout: &ChartLayout, px: f64, py: f64) -> Optio
             ))
         }
         ViewData::IceMap(d) | ViewData::CToOMap(d) => {
-            let j = nearest_radius(&d.radius_au, x)?;
-            let column = &d.z_over_r[j * d.rows..(j + 1) * d.rows];
+            let j = nearest_radius(d.radius_au(), x)?;
+            let column = &d.z_over_r()[j * d.rows()..(j + 1) * d.rows()];
             let column_top = column.last().copied().unwrap_or(0.0);
             if y > column_top * 1.02 {
                 return Some(format!(
                     "r = {} au, z/r = {}: above the model grid",
-                    format_sig(d.radius_au[j], 3),
+                    format_sig(d.radius_au()[j], 3),
                     format_sig(y, 3)
                 ));
             }
             // Nearest sample in z/r (increasing within a column).
-            let k = column.partition_point(|&z| z < y).min(d.rows - 1);
+            let k = column.partition_point(|&z| z < y).min(d.rows() - 1);
             let k = if k > 0 && (y - column[k - 1]).abs() <= (column[k] - y).abs() {
                 k - 1
             } else {
                 k
             };
-            let v = d.values[j * d.rows + k];
+            let v = d.values[j * d.rows() + k];
             let mut text = format!(
                 "r = {} au, z/r = {}: {} {}",
-                format_sig(d.radius_au[j], 3),
+                format_sig(d.radius_au()[j], 3),
                 format_sig(column[k], 3),
                 d.value_label,
                 if v.is_nan() {
@@ -164,7 +164,7 @@ pub fn readout(data: &ViewData, layout: &ChartLayout, px: f64, py: f64) -> Optio
                     format_sig(v, 3)
                 }
             );
-            if let Some(h) = d.scale_height_over_r.get(j).filter(|h| **h > 0.0) {
+            if let Some(h) = d.scale_height_over_r().get(j).filter(|h| **h > 0.0) {
                 text.push_str(&format!(" (z = {} H)", format_sig(column[k] / h, 2)));
             }
             Some(text)
@@ -243,12 +243,12 @@ mod tests {
                 width: 100,
                 height: 100,
                 x: crate::AxisTransform::new(
-                    map.radius_au[0],
-                    *map.radius_au.last().unwrap(),
+                    map.radius_au()[0],
+                    *map.radius_au().last().unwrap(),
                     crate::Scale::Log10,
                     "r [au]",
                 ),
-                y: crate::AxisTransform::new(0.0, map.z_over_r_max, crate::Scale::Linear, "z/r"),
+                y: crate::AxisTransform::new(0.0, map.z_over_r_max(), crate::Scale::Linear, "z/r"),
             }],
         };
         // 62 % of the way along 0.1..500 au (log) is about 20 au, on the midplane,

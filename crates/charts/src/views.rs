@@ -90,13 +90,17 @@ fn decade_range(min: f64, max: f64) -> (f64, f64) {
     (lo, hi)
 }
 
+/// The smallest and largest finite positive value of the series. The running
+/// extremes are kept by comparisons (`f64::min` and `max` are library calls in
+/// WebAssembly, one per value); for finite positive values they pick the same
+/// numbers (`extent_tests::positive_extent_equals_the_min_max_fold`).
 fn positive_extent<'a>(series: impl IntoIterator<Item = &'a Option<f64>>) -> Option<(f64, f64)> {
     let mut out: Option<(f64, f64)> = None;
-    for v in series.into_iter().flatten() {
-        if v.is_finite() && *v > 0.0 {
+    for &v in series.into_iter().flatten() {
+        if v.is_finite() && v > 0.0 {
             out = Some(match out {
-                None => (*v, *v),
-                Some((a, b)) => (a.min(*v), b.max(*v)),
+                None => (v, v),
+                Some((a, b)) => (if v < a { v } else { a }, if v > b { v } else { b }),
             });
         }
     }
@@ -717,7 +721,7 @@ fn map_axes(data: &MapData) -> (AxisTransform, AxisTransform, AxisTransform) {
     let (r0, r1) = data.radius_range_au();
     (
         AxisTransform::new(r0, r1, Scale::Log10, "r [au]"),
-        AxisTransform::new(0.0, data.z_over_r_max, Scale::Linear, "z/r"),
+        AxisTransform::new(0.0, data.z_over_r_max(), Scale::Linear, "z/r"),
         AxisTransform::new(
             data.value_range.0,
             data.value_range.1,
@@ -1097,10 +1101,10 @@ fn draw_prepared_map<DB: DrawingBackend>(
     }
     let mut entries: Vec<(String, SeriesStyle)> = Vec::new();
     let white = Rgba::hex(0xffffff);
-    if !data.scale_height_over_r.is_empty() {
+    if !data.scale_height_over_r().is_empty() {
         // The x pixel of each column, shared by the three lines: what
         // `main.px(r, n * h)` computes first (one log10 per column, not three).
-        let column_x: Vec<Option<f64>> = data.radius_au.iter().map(|&r| main.px_x(r)).collect();
+        let column_x: Vec<Option<f64>> = data.radius_au().iter().map(|&r| main.px_x(r)).collect();
         let mut points: Vec<(f64, f64)> = Vec::with_capacity(column_x.len());
         for (n, dash) in [
             (1.0, LineDash::Dotted),
@@ -1112,7 +1116,7 @@ fn draw_prepared_map<DB: DrawingBackend>(
             points.extend(
                 column_x
                     .iter()
-                    .zip(&data.scale_height_over_r)
+                    .zip(data.scale_height_over_r())
                     .filter_map(|(x, &h)| x.zip(main.px_y(n * h))),
             );
             halo_line(p, main, &points, theme.line_width_pt * 0.7, dash)?;
@@ -1483,5 +1487,47 @@ mod label_tests {
         assert_eq!(out, vec![80.0, 90.0, 100.0]);
         let out = check(&[0.0, 1.0], 10.0, 5.0, 100.0);
         assert_eq!(out, vec![5.0, 15.0]);
+    }
+}
+
+#[cfg(test)]
+mod extent_tests {
+    use super::positive_extent;
+
+    /// `positive_extent` gives what the fold with `f64::min` and `max` over the finite
+    /// positive values gave, bit for bit, skipping None, NaN, infinities, zeros and
+    /// negatives (derived, D).
+    #[test]
+    fn positive_extent_equals_the_min_max_fold() {
+        let reference = |s: &[Option<f64>]| {
+            s.iter()
+                .flatten()
+                .filter(|v| v.is_finite() && **v > 0.0)
+                .fold(None, |out: Option<(f64, f64)>, &v| {
+                    Some(out.map_or((v, v), |(a, b)| (a.min(v), b.max(v))))
+                })
+        };
+        let values = [
+            Some(3.0),
+            None,
+            Some(f64::NAN),
+            Some(1e-300),
+            Some(-2.0),
+            Some(0.0),
+            Some(-0.0),
+            Some(f64::INFINITY),
+            Some(7.5e10),
+            Some(5e-324),
+            Some(3.0),
+            Some(f64::MAX),
+        ];
+        for start in 0..values.len() {
+            for end in start..=values.len() {
+                let s = &values[start..end];
+                let got = positive_extent(s).map(|(a, b)| (a.to_bits(), b.to_bits()));
+                let want = reference(s).map(|(a, b)| (a.to_bits(), b.to_bits()));
+                assert_eq!(got, want, "{s:?}");
+            }
+        }
     }
 }

@@ -392,27 +392,20 @@ impl Model {
                     (&mut gas_o[..], carriers.atoms[i][o]),
                 ] {
                     if a != 0.0 {
-                        for (g, &f) in gas.iter_mut().zip(fractions) {
-                            let x_ice = f * x;
-                            *g += a * (x - x_ice);
-                        }
+                        gas_c_to_o::add_gas(gas, fractions, a, x);
                     }
                 }
             }
-            let carbon_released = radius_cm <= carriers.carbon_released_within_cm;
-            let temperatures = &st.samples.temperature_k[r];
-            for ((g, &go), &t) in gas_c.iter_mut().zip(&gas_o).zip(temperatures) {
-                let mut gc = *g;
-                if t >= carriers.soot_line_k || carbon_released {
-                    gc += carriers.refractory_carbon_per_h;
-                }
-                let mut go = go;
-                if t >= carriers.silicate_sublimation_k {
-                    go += carriers.silicate_oxygen_per_h;
-                }
-                *g = defined_ratio(zero_below_rounding(gc, stellar[c]), go, stellar[o])
-                    .unwrap_or(f64::NAN);
-            }
+            let ends = gas_c_to_o::Ends {
+                carbon_released: radius_cm <= carriers.carbon_released_within_cm,
+                soot_line_k: carriers.soot_line_k,
+                refractory_carbon_per_h: carriers.refractory_carbon_per_h,
+                silicate_sublimation_k: carriers.silicate_sublimation_k,
+                silicate_oxygen_per_h: carriers.silicate_oxygen_per_h,
+                stellar_carbon: stellar[c],
+                stellar_oxygen: stellar[o],
+            };
+            ends.ratios(gas_c, &gas_o, &st.samples.temperature_k[r]);
         }
         out
     }
@@ -548,6 +541,129 @@ impl ModelParameters {
             &SpeciesTable::built_in(),
         )?;
         Ok(())
+    }
+}
+
+/// The per-sample loops of [`Model::gas_c_to_o_samples`]: scalar (vectorised by the compiler
+/// natively), and in explicit two-lane vectors in WebAssembly with simd128, where the page's
+/// build (optimised for size after linking) leaves the scalar loops scalar. Both forms do the
+/// same IEEE operations in the same order on each sample (no fused multiply-add), so they give
+/// the same bits (`tests::gas_c_to_o_samples_equal_the_per_sample_ratios`, run as WebAssembly
+/// with simd128 in `cargo xtask test` stage 3).
+mod gas_c_to_o {
+    use crate::budget::{defined_ratio, zero_below_rounding};
+
+    /// `gas[k] += a (x - f[k] x)` for every sample k of a column: one carrier's atoms of one
+    /// element in the gas (x per H, a atoms per molecule, f its ice fraction).
+    #[cfg(not(all(target_arch = "wasm32", target_feature = "simd128")))]
+    pub(super) fn add_gas(gas: &mut [f64], fractions: &[f64], a: f64, x: f64) {
+        for (g, &f) in gas.iter_mut().zip(fractions) {
+            let x_ice = f * x;
+            *g += a * (x - x_ice);
+        }
+    }
+
+    /// [`add_gas`] two samples per vector.
+    #[cfg(all(target_arch = "wasm32", target_feature = "simd128"))]
+    pub(super) fn add_gas(gas: &mut [f64], fractions: &[f64], a: f64, x: f64) {
+        use crate::math::simd128::{load2, splat, store2};
+        use core::arch::wasm32::{f64x2_add, f64x2_mul, f64x2_sub};
+        let n = gas.len().min(fractions.len());
+        let (va, vx) = (splat(a), splat(x));
+        for i in (0..n / 2).map(|i| 2 * i) {
+            let x_ice = f64x2_mul(load2(fractions, i), vx);
+            let v = f64x2_add(load2(gas, i), f64x2_mul(va, f64x2_sub(vx, x_ice)));
+            store2(gas, i, v);
+        }
+        for (g, &f) in gas[n / 2 * 2..n].iter_mut().zip(&fractions[n / 2 * 2..n]) {
+            let x_ice = f * x;
+            *g += a * (x - x_ice);
+        }
+    }
+
+    /// What a column adds to its gas carbon and oxygen at the end, and the references of the
+    /// ratio (docs/model.md section 8).
+    pub(super) struct Ends {
+        /// Refractory carbon released at every height (inside the early soot line).
+        pub(super) carbon_released: bool,
+        pub(super) soot_line_k: f64,
+        pub(super) refractory_carbon_per_h: f64,
+        pub(super) silicate_sublimation_k: f64,
+        pub(super) silicate_oxygen_per_h: f64,
+        /// The star's C/H: gas carbon below 1e-9 of it is zero up to rounding.
+        pub(super) stellar_carbon: f64,
+        /// The star's O/H, the reference of the ratio's denominator.
+        pub(super) stellar_oxygen: f64,
+    }
+
+    impl Ends {
+        /// One sample's C/O from its gas carbon and oxygen of the carriers: as
+        /// `Carriers::phases` then `Ratios::of`, NaN where undefined.
+        #[inline(always)]
+        fn ratio(&self, gas_c: f64, gas_o: f64, t: f64) -> f64 {
+            let mut gc = gas_c;
+            if t >= self.soot_line_k || self.carbon_released {
+                gc += self.refractory_carbon_per_h;
+            }
+            let mut go = gas_o;
+            if t >= self.silicate_sublimation_k {
+                go += self.silicate_oxygen_per_h;
+            }
+            let gc = zero_below_rounding(gc, self.stellar_carbon);
+            defined_ratio(gc, go, self.stellar_oxygen).unwrap_or(f64::NAN)
+        }
+
+        /// Replaces each sample's gas carbon `gas_c[k]` by its C/O, given its gas oxygen of the
+        /// carriers `gas_o[k]` and temperature `t[k]`.
+        #[cfg(not(all(target_arch = "wasm32", target_feature = "simd128")))]
+        pub(super) fn ratios(&self, gas_c: &mut [f64], gas_o: &[f64], t: &[f64]) {
+            for ((g, &go), &t) in gas_c.iter_mut().zip(gas_o).zip(t) {
+                *g = self.ratio(*g, go, t);
+            }
+        }
+
+        /// [`Ends::ratios`] two samples per vector: each `if` of [`Ends::ratio`] a select
+        /// between the two values the scalar form picks from.
+        #[cfg(all(target_arch = "wasm32", target_feature = "simd128"))]
+        pub(super) fn ratios(&self, gas_c: &mut [f64], gas_o: &[f64], t: &[f64]) {
+            use crate::math::simd128::{load2, select, splat, store2};
+            use core::arch::wasm32::{
+                f64x2_abs, f64x2_add, f64x2_div, f64x2_ge, f64x2_le, f64x2_lt, i64x2_splat, v128_or,
+            };
+            let n = gas_c.len().min(gas_o.len()).min(t.len());
+            let released = i64x2_splat(if self.carbon_released { -1 } else { 0 });
+            let (soot, refractory_c) =
+                (splat(self.soot_line_k), splat(self.refractory_carbon_per_h));
+            let (silicate, silicate_o) = (
+                splat(self.silicate_sublimation_k),
+                splat(self.silicate_oxygen_per_h),
+            );
+            // The thresholds of `zero_below_rounding` and `defined_ratio`, formed as they form them.
+            let zero_below = splat(1e-9 * self.stellar_carbon.abs());
+            let (zero, undefined_below) = (splat(0.0), splat(1e-9 * self.stellar_oxygen));
+            let nan = splat(f64::NAN);
+            for i in (0..n / 2).map(|i| 2 * i) {
+                let temperature = load2(t, i);
+                let gc = load2(gas_c, i);
+                let gc = select(
+                    v128_or(f64x2_ge(temperature, soot), released),
+                    f64x2_add(gc, refractory_c),
+                    gc,
+                );
+                let go = load2(gas_o, i);
+                let go = select(
+                    f64x2_ge(temperature, silicate),
+                    f64x2_add(go, silicate_o),
+                    go,
+                );
+                let gc = select(f64x2_lt(f64x2_abs(gc), zero_below), zero, gc);
+                let undefined = v128_or(f64x2_lt(go, undefined_below), f64x2_le(go, zero));
+                store2(gas_c, i, select(undefined, nan, f64x2_div(gc, go)));
+            }
+            for k in n / 2 * 2..n {
+                gas_c[k] = self.ratio(gas_c[k], gas_o[k], t[k]);
+            }
+        }
     }
 }
 

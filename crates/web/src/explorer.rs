@@ -6,6 +6,7 @@
 use std::cell::RefCell;
 use std::collections::HashMap;
 use std::rc::Rc;
+use std::sync::Arc;
 
 use nivalis_charts::{
     AbundanceData, ChartLayout, MapData, MapGrid, ProfileData, TemperatureData, Theme,
@@ -70,7 +71,7 @@ pub struct Explorer {
     pub(crate) layouts: HashMap<String, (String, ChartLayout)>,
     /// The r-z grid of the session model's maps, built on first use and kept
     /// while the structure is (an ice or composition edit keeps it).
-    map_grid: Option<Rc<MapGrid>>,
+    map_grid: Option<Arc<MapGrid>>,
     /// The current result when it came from the worker (`loadPacket`); `None`
     /// when it is the session's own model.
     pub(crate) remote: Option<Remote>,
@@ -698,8 +699,8 @@ impl Explorer {
                 .current()
                 .ok_or_else(|| JsError::new("no valid disk has been computed yet"))?;
             let model = &current.model;
-            let grid = |cached: &mut Option<Rc<MapGrid>>| {
-                Rc::clone(cached.get_or_insert_with(|| Rc::new(MapGrid::from_model(model))))
+            let grid = |cached: &mut Option<Arc<MapGrid>>| {
+                Arc::clone(cached.get_or_insert_with(|| Arc::new(MapGrid::from_model(model))))
             };
             let data = match key {
                 // With the planet panel's marks (planet radius, allowed formation radii).

@@ -237,7 +237,7 @@ mod tests {
         let small = json!({"grid": {"radial_cells": 40, "vertical_cells": 16}});
         let mut s = Session::new();
         s.update(&small).unwrap();
-        let kept = MapGrid::from_model(&s.current().unwrap().model);
+        let kept = std::sync::Arc::new(MapGrid::from_model(&s.current().unwrap().model));
         let mut edits = Vec::new();
         for (ices, carbon) in [(0.5, 0.3), (0.5, 0.25), (1.0, 0.25)] {
             let mut disk = small.clone();
@@ -249,7 +249,7 @@ mod tests {
             assert!(!stages.structure_changed(), "{disk}");
             edits.push(stages);
             let model = &s.current().unwrap().model;
-            assert_eq!(MapGrid::from_model(model), kept);
+            assert_eq!(MapGrid::from_model(model), *kept);
             // The maps built on the kept grid are those built from the model alone.
             assert_eq!(
                 MapData::ice_fraction_on(&kept, model, Species::CO),
@@ -268,7 +268,7 @@ mod tests {
         let mut disk = small.clone();
         disk["star"] = json!({"luminosity_lsun": 2});
         assert!(s.update(&disk).unwrap().structure_changed());
-        assert_ne!(MapGrid::from_model(&s.current().unwrap().model), kept);
+        assert_ne!(MapGrid::from_model(&s.current().unwrap().model), *kept);
     }
 
     #[test]

@@ -9,7 +9,7 @@
 //! Plain Rust, tested natively: every view survives the round trip unchanged.
 
 use nivalis_charts::{
-    AbundanceData, ColourMap, MapData, ProfileData, SpeciesAbundance, TemperatureData,
+    AbundanceData, ColourMap, MapData, MapGrid, ProfileData, SpeciesAbundance, TemperatureData,
 };
 use serde_json::{json, Value};
 
@@ -111,12 +111,12 @@ pub fn to_parts(data: &ViewData) -> ViewParts {
         }
         ViewData::IceMap(d) | ViewData::CToOMap(d) => {
             let mut arrays = vec![
-                ("radius_au".to_string(), d.radius_au.clone()),
-                ("z_over_r".to_string(), d.z_over_r.clone()),
+                ("radius_au".to_string(), d.radius_au().to_vec()),
+                ("z_over_r".to_string(), d.z_over_r().to_vec()),
                 ("values".to_string(), d.values.clone()),
                 (
                     "scale_height_over_r".to_string(),
-                    d.scale_height_over_r.clone(),
+                    d.scale_height_over_r().to_vec(),
                 ),
             ];
             for (i, curve) in d.curves.iter().enumerate() {
@@ -128,7 +128,7 @@ pub fn to_parts(data: &ViewData) -> ViewParts {
             ViewParts {
                 meta: json!({
                     "kind": if matches!(data, ViewData::CToOMap(_)) { "c_to_o_map" } else { "ice_map" },
-                    "rows": d.rows,
+                    "rows": d.rows(),
                     "value_label": d.value_label,
                     "value_range": [d.value_range.0, d.value_range.1],
                     "colour_map": d.colour_map.name(),
@@ -136,7 +136,7 @@ pub fn to_parts(data: &ViewData) -> ViewParts {
                     "contour_label": d.contour_label,
                     "curves": d.curves.len(),
                     "reference_value": d.reference_value.as_ref().map(|(l, v)| json!([l, v])),
-                    "z_over_r_max": d.z_over_r_max,
+                    "z_over_r_max": d.z_over_r_max(),
                 }),
                 arrays,
             }
@@ -222,15 +222,18 @@ pub fn from_parts(parts: &ViewParts) -> Result<ViewData, String> {
                         .collect(),
                 );
             }
-            let map = MapData {
-                radius_au: array("radius_au")?,
-                rows: meta
-                    .get("rows")
+            let grid = MapGrid::new(
+                array("radius_au")?,
+                meta.get("rows")
                     .and_then(Value::as_u64)
                     .ok_or("view data lacks rows")? as usize,
-                z_over_r: array("z_over_r")?,
+                array("z_over_r")?,
+                array("scale_height_over_r")?,
+                number(meta, "z_over_r_max").ok_or("view data lacks z_over_r_max")?,
+            );
+            let map = MapData {
+                grid: std::sync::Arc::new(grid),
                 values: array("values")?,
-                scale_height_over_r: array("scale_height_over_r")?,
                 value_label: text(meta, "value_label"),
                 value_range: *range.first().ok_or("view data lacks value_range")?,
                 colour_map: if text(meta, "colour_map") == ColourMap::Cividis.name() {
@@ -244,7 +247,6 @@ pub fn from_parts(parts: &ViewParts) -> Result<ViewData, String> {
                 reference_value: meta
                     .get("reference_value")
                     .and_then(|p| Some((p.get(0)?.as_str()?.to_string(), p.get(1)?.as_f64()?))),
-                z_over_r_max: number(meta, "z_over_r_max").ok_or("view data lacks z_over_r_max")?,
             };
             if kind == "c_to_o_map" {
                 ViewData::CToOMap(map)
