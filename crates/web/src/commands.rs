@@ -77,6 +77,66 @@ pub mod op {
     pub const IMAGE: u32 = 16;
 }
 
+/// Rows per band of [`changed_bands`].
+#[cfg_attr(not(target_arch = "wasm32"), allow(dead_code))]
+pub(crate) const BAND_ROWS: usize = 16;
+
+/// Where two RGBA images of `width` x `height` pixels differ, as rectangles
+/// (x, y, width, height in pixels, four words each) covering every pixel that
+/// differs: per band of [`BAND_ROWS`] rows, the columns from the first to the
+/// last differing pixel of its rows (widened to whole pairs of pixels, which
+/// are compared eight bytes at a time); bands without a difference are left
+/// out. Putting the new image's pixels in these rectangles over the old image
+/// gives the new image (a pixel outside them is the same in both). `None`
+/// when the sizes do not match the buffers. (Used by the page's replay,
+/// `canvas::replay_parts`; tested natively.)
+#[cfg_attr(not(target_arch = "wasm32"), allow(dead_code))]
+pub(crate) fn changed_bands(old: &[u8], new: &[u8], width: u32, height: u32) -> Option<Vec<u32>> {
+    let (w, h) = (width as usize, height as usize);
+    let stride = w.checked_mul(4)?;
+    if old.len() != new.len() || stride.checked_mul(h)? != new.len() {
+        return None;
+    }
+    let mut out = Vec::new();
+    if w == 0 || h == 0 {
+        return Some(out);
+    }
+    // A row's first and last differing pixel (from pairs of pixels, then the odd last one).
+    let differing = |y: usize| -> Option<(usize, usize)> {
+        let (a, b) = (&old[y * stride..][..stride], &new[y * stride..][..stride]);
+        let (pa, ra) = a.as_chunks::<8>();
+        let (pb, rb) = b.as_chunks::<8>();
+        let first = pa.iter().zip(pb).position(|(x, y)| x != y);
+        let odd = ra != rb;
+        let lo = match (first, odd) {
+            (Some(k), _) => 2 * k,
+            (None, true) => w - 1,
+            (None, false) => return None,
+        };
+        let hi = if odd {
+            w - 1
+        } else {
+            // Some pair differs (`first`), so rposition finds one.
+            let k = pa.iter().zip(pb).rposition(|(x, y)| x != y).unwrap_or(0);
+            (2 * k + 1).min(w - 1)
+        };
+        Some((lo, hi))
+    };
+    for y0 in (0..h).step_by(BAND_ROWS) {
+        let y1 = (y0 + BAND_ROWS).min(h);
+        let mut span: Option<(usize, usize)> = None;
+        for y in y0..y1 {
+            if let Some((lo, hi)) = differing(y) {
+                span = Some(span.map_or((lo, hi), |(a, b)| (a.min(lo), b.max(hi))));
+            }
+        }
+        if let Some((lo, hi)) = span {
+            out.extend([lo as u32, y0 as u32, (hi + 1 - lo) as u32, (y1 - y0) as u32]);
+        }
+    }
+    Some(out)
+}
+
 /// Whether every pixel of an RGBA buffer has alpha 255: the check for an image
 /// not known to be opaque by construction (`Op::Image`'s `opaque`).
 pub(crate) fn opaque(rgba: &[u8]) -> bool {
@@ -443,6 +503,78 @@ impl Commands {
 
 #[cfg(test)]
 mod tests {
+    /// The bands cover every pixel that differs and nothing in a band without
+    /// one, at even and odd widths, with differences at the edges and inside.
+    #[test]
+    fn changed_bands_cover_every_differing_pixel() {
+        for (w, h) in [
+            (1usize, 1usize),
+            (2, 3),
+            (7, 40),
+            (8, 16),
+            (33, 17),
+            (64, 50),
+        ] {
+            let old: Vec<u8> = (0..w * h * 4).map(|i| (i * 7 % 251) as u8).collect();
+            let mut cases: Vec<Vec<(usize, usize)>> = vec![
+                vec![],
+                vec![(0, 0)],
+                vec![(w - 1, h - 1)],
+                vec![(w / 2, h / 2), (w - 1, 0)],
+            ];
+            cases.push((0..h).map(|y| (y % w, y)).collect());
+            for mut pixels in cases {
+                pixels.sort_unstable();
+                pixels.dedup();
+                let mut new = old.clone();
+                for &(x, y) in &pixels {
+                    new[(y * w + x) * 4 + 2] ^= 0x5a;
+                }
+                let rects = changed_bands(&old, &new, w as u32, h as u32).unwrap();
+                assert_eq!(rects.len() % 4, 0);
+                let inside = |x: usize, y: usize| {
+                    rects.chunks(4).any(|r| {
+                        let (rx, ry, rw, rh) =
+                            (r[0] as usize, r[1] as usize, r[2] as usize, r[3] as usize);
+                        (rx..rx + rw).contains(&x) && (ry..ry + rh).contains(&y)
+                    })
+                };
+                for &(x, y) in &pixels {
+                    assert!(
+                        inside(x, y),
+                        "{w}x{h}: pixel {x},{y} not covered by {rects:?}"
+                    );
+                }
+                for r in rects.chunks(4) {
+                    assert!(
+                        r[0] as usize + r[2] as usize <= w && r[1] as usize + r[3] as usize <= h,
+                        "{r:?}"
+                    );
+                    assert_eq!(r[1] as usize % BAND_ROWS, 0);
+                    // Each band holds a difference.
+                    let band = r[1] as usize / BAND_ROWS;
+                    assert!(
+                        pixels.iter().any(|&(_, y)| y / BAND_ROWS == band),
+                        "{rects:?}"
+                    );
+                }
+                // Putting the new pixels inside the rectangles over the old image gives the new image.
+                let mut put = old.clone();
+                for r in rects.chunks(4) {
+                    for y in r[1] as usize..(r[1] + r[3]) as usize {
+                        for x in r[0] as usize..(r[0] + r[2]) as usize {
+                            let o = (y * w + x) * 4;
+                            put[o..o + 4].copy_from_slice(&new[o..o + 4]);
+                        }
+                    }
+                }
+                assert_eq!(put, new, "{w}x{h} {pixels:?}");
+            }
+        }
+        assert_eq!(changed_bands(&[0; 8], &[0; 12], 1, 2), None);
+        assert_eq!(changed_bands(&[0; 8], &[0; 8], 1, 3), None);
+    }
+
     use super::*;
 
     /// See [`the_five_views_encode_to_the_reference_calls`]. The two maps'
