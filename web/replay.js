@@ -68,17 +68,10 @@ const Replay = (() => {
   // Puts an image: with putImageData when it is marked opaque and `put` (the layer under a
   // chart: an opaque image drawn there replaces the pixels, as putImageData does), else on
   // a scratch canvas drawn onto `c` with drawImage.
-  // `dirty`: for the image put with putImageData, the rectangles (x, y, width, height, in the
-  // image) where it differs from the image of the same rectangle the layer holds, the only
-  // pixels put (none when it is empty); undefined: the whole image.
-  function putImage(c, target, put, memory, ptr, len, w, h, opaque, x, y, dirty) {
+  function putImage(c, target, put, memory, ptr, len, w, h, opaque, x, y) {
     const pixels = new ImageData(new Uint8ClampedArray(memory.buffer, ptr, len), w, h);
     if (put && opaque) {
-      if (dirty) {
-        for (let k = 0; k + 3 < dirty.length; k += 4) c.putImageData(pixels, x, y, dirty[k], dirty[k + 1], dirty[k + 2], dirty[k + 3]);
-      } else {
-        c.putImageData(pixels, x, y);
-      }
+      c.putImageData(pixels, x, y);
       return;
     }
     let s = scratch.get(target);
@@ -94,11 +87,10 @@ const Replay = (() => {
    * concatenated; `text` is undefined when there are none), whose first id is `first`; `memory`: the core's WebAssembly memory (images
    * are read from it at the addresses in `words`); `plan`: per part of the list, its canvas
    * (0 the layer under, 1 the chart canvas, 2 the layer over), whether it is cleared first
-   * (1) and where the part ends in `words`; `dirty`: the bands of the image put on the layer
-   * under where it differs from the one there (`putImage`), or undefined. Returns whether the parts went on the view's
+   * (1) and where the part ends in `words`. Returns whether the parts went on the view's
    * layers (false: all on `canvas`).
    */
-  function replay(canvas, layered, words, numbers, lengths, text, first, reset, memory, plan, dirty) {
+  function replay(canvas, layered, words, numbers, lengths, text, first, reset, memory, plan) {
     if (reset) strings.length = 0;
     if (strings.length !== first) throw new Error(`the canvas string table is out of step (${strings.length} strings, the core expects ${first})`);
     for (let k = 0, at = 0; k < lengths.length; k++) {
@@ -125,7 +117,7 @@ const Replay = (() => {
       }
       const c = context(target);
       if (plan[k + 1] === 1) c.clearRect(0, 0, target.width, target.height);
-      j = draw(c, target, where === 0, words, numbers, i, plan[k + 2], j, memory, dirty);
+      j = draw(c, target, where === 0, words, numbers, i, plan[k + 2], j, memory);
       i = plan[k + 2];
     }
     return true;
@@ -133,7 +125,7 @@ const Replay = (() => {
 
   // Makes the canvas calls of words[i..end] (numbers from j) on `c`, the context of `target`;
   // `put`: opaque images are put with putImageData. Returns where the numbers read end.
-  function draw(c, target, put, words, numbers, i, n, j, memory, dirty) {
+  function draw(c, target, put, words, numbers, i, n, j, memory) {
     // Whether a rotated text's transform is still set (TEXT_ROTATED).
     let turned = false;
     while (i < n) {
@@ -206,7 +198,7 @@ const Replay = (() => {
           break;
         }
         case IMAGE: {
-          putImage(c, target, put, memory, words[i], words[i + 1], words[i + 2], words[i + 3], words[i + 4] === 1, numbers[j], numbers[j + 1], dirty);
+          putImage(c, target, put, memory, words[i], words[i + 1], words[i + 2], words[i + 3], words[i + 4] === 1, numbers[j], numbers[j + 1]);
           i += 5;
           j += 2;
           break;

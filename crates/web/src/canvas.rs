@@ -28,9 +28,9 @@ use plotters_canvas::CanvasBackend;
 use wasm_bindgen::{JsCast, JsValue};
 use web_sys::{CanvasRenderingContext2d, HtmlCanvasElement};
 
-use crate::commands::{changed_bands, Commands};
+use crate::commands::Commands;
 use crate::display::{css_font, leading_rects_as_image, MeasureText, Op, Recorder, TextSizes};
-use crate::layers::{Layer, Layers, Part, Plan};
+use crate::layers::{Layer, Part, Plan};
 use crate::readout::ViewData;
 
 /// The canvas element with this id.
@@ -120,7 +120,6 @@ extern "C" {
         reset: bool,
         memory: &JsValue,
         plan: &[u32],
-        dirty: Option<&[u32]>,
     ) -> Result<JsValue, JsValue>;
 }
 
@@ -154,14 +153,9 @@ pub fn replay(canvas: &HtmlCanvasElement, ops: &[Op]) -> Result<(), String> {
         clear: false,
         ops: 0..ops.len(),
     };
-    send(
-        canvas,
-        ops,
-        &[part],
-        false,
-        &|rgba, known| known || crate::commands::opaque(rgba),
-        None,
-    )
+    send(canvas, ops, &[part], false, &|rgba, known| {
+        known || crate::commands::opaque(rgba)
+    })
     .map(|_| ())
 }
 
@@ -171,69 +165,15 @@ pub fn replay(canvas: &HtmlCanvasElement, ops: &[Op]) -> Result<(), String> {
 /// the layer under the chart (`Plan::put`) goes there with one `putImageData`,
 /// any other image by a scratch canvas and `drawImage`. Returns whether the
 /// canvas has its two layers; without them every part was drawn on the chart
-/// canvas, in order and without clearing (as [`replay`]). `shown`: the list
-/// the canvases show and what their layers hold (as given to
-/// `crate::layers::plan`): when the layer under already holds an image of the
-/// same rectangle and is not cleared, only the bands where the new image
-/// differs from it are put ([`changed_bands`]).
-pub fn replay_parts(
-    canvas: &HtmlCanvasElement,
-    ops: &[Op],
-    plan: &Plan,
-    shown: Option<(&[Op], Layers)>,
-) -> Result<bool, String> {
+/// canvas, in order and without clearing (as [`replay`]).
+pub fn replay_parts(canvas: &HtmlCanvasElement, ops: &[Op], plan: &Plan) -> Result<bool, String> {
     let put = match plan.put.and_then(|k| ops.get(k)) {
         Some(Op::Image { rgba, .. }) => Some(rgba.as_ptr()),
         _ => None,
     };
-    let dirty = put_bands(ops, plan, shown);
-    send(
-        canvas,
-        ops,
-        &plan.parts,
-        true,
-        &|rgba, _| Some(rgba.as_ptr()) == put,
-        dirty.as_deref(),
-    )
-}
-
-/// The bands of the image the plan puts where it differs from the image the
-/// layer under holds ([`changed_bands`]), or `None` (put it whole) unless that
-/// layer is not cleared and holds an image of the same rectangle: the one that
-/// opens the middle of the list shown (`crate::layers`: `Layers::image`).
-fn put_bands(ops: &[Op], plan: &Plan, shown: Option<(&[Op], Layers)>) -> Option<Vec<u32>> {
-    let k = plan.put?;
-    let part = plan.parts.iter().find(|p| p.ops.contains(&k))?;
-    if plan.full || part.clear || part.layer != Layer::Under {
-        return None;
-    }
-    let (old_ops, held) = shown?;
-    let Some(Op::Image {
-        at,
-        width,
-        height,
-        rgba,
-        ..
-    }) = ops.get(k)
-    else {
-        return None;
-    };
-    let rect = (at.0, at.1, *width, *height);
-    if held.image != Some(rect) {
-        return None;
-    }
-    match old_ops.get(held.back) {
-        Some(Op::Image {
-            at: old_at,
-            width: old_width,
-            height: old_height,
-            rgba: old,
-            ..
-        }) if (old_at.0, old_at.1, *old_width, *old_height) == rect => {
-            changed_bands(old, rgba, *width, *height)
-        }
-        _ => None,
-    }
+    send(canvas, ops, &plan.parts, true, &|rgba, _| {
+        Some(rgba.as_ptr()) == put
+    })
 }
 
 fn send(
@@ -242,7 +182,6 @@ fn send(
     parts: &[Part],
     layered: bool,
     opaque: &dyn Fn(&[u8], bool) -> bool,
-    dirty: Option<&[u32]>,
 ) -> Result<bool, String> {
     REPLAYER.with(|r| {
         let replayer = r.borrow();
@@ -277,7 +216,6 @@ fn send(
                     c.reset,
                     &wasm_bindgen::memory(),
                     &plan,
-                    dirty,
                 )
                 .map(|layers| layers.as_bool() == Some(true))
                 .map_err(|e| format!("cannot draw the chart: {e:?}"))

@@ -416,7 +416,7 @@ impl Explorer {
         let mut layers = plan.as_ref().map(|p| p.layers);
         if !unchanged {
             let drawn = match &plan {
-                Some(plan) => canvas::replay_parts(&canvas, &ops, plan, shown),
+                Some(plan) => canvas::replay_parts(&canvas, &ops, plan),
                 None => canvas::replay(&canvas, &ops).map(|()| false),
             };
             let has_layers = match drawn {
