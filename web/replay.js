@@ -84,8 +84,9 @@ const Replay = (() => {
   /**
    * Draws one encoded display list (called by the core, crates/web/src/canvas.rs `send`).
    * `reset`: empty the string table first; `lengths`/`text`: the new strings (UTF-16 lengths,
-   * concatenated; `text` is undefined when there are none), whose first id is `first`; `memory`: the core's WebAssembly memory (images
-   * are read from it at the addresses in `words`); `plan`: per part of the list, its canvas
+   * concatenated; `text` is undefined when there are none), whose first id is `first`;
+   * `memory`: the core's WebAssembly memory (images are read from it at the addresses in
+   * `words`); `plan`: per part of the list, its canvas
    * (0 the layer under, 1 the chart canvas, 2 the layer over), whether it is cleared first
    * (1) and where the part ends in `words`. Returns whether the parts went on the view's
    * layers (false: all on `canvas`).
