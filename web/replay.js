@@ -37,11 +37,32 @@ const Replay = (() => {
   // Per canvas: a canvas never shown, for images drawn onto another canvas.
   const scratch = new WeakMap();
 
+  // Per chart canvas: its layers as last looked up (`layersOf`).
+  const layersFound = new WeakMap();
+  // Per canvas: its 2d context (getContext returns the same object every time; asked once).
+  const contexts = new WeakMap();
+
+  function context(canvas) {
+    let c = contexts.get(canvas);
+    if (!c) {
+      c = canvas.getContext("2d");
+      contexts.set(canvas, c);
+    }
+    return c;
+  }
+
   // The layers under and over a chart canvas (`ID-under`, `ID-over`), or null without both.
+  // Looked up in the document once per canvas, and again only when a layer found left the
+  // document or the canvas's id changed (or none were found: they may be added later).
   function layersOf(canvas) {
+    const known = layersFound.get(canvas);
+    if (known && known.id === canvas.id && known.under.isConnected && known.over.isConnected) return known;
     const under = document.getElementById(canvas.id + "-under");
     const over = document.getElementById(canvas.id + "-over");
-    return under instanceof HTMLCanvasElement && over instanceof HTMLCanvasElement ? { under, over } : null;
+    if (!(under instanceof HTMLCanvasElement && over instanceof HTMLCanvasElement)) return null;
+    const found = { id: canvas.id, under, over };
+    layersFound.set(canvas, found);
+    return found;
   }
 
   // Puts an image: with putImageData when it is marked opaque and `put` (the layer under a
@@ -56,15 +77,16 @@ const Replay = (() => {
     let s = scratch.get(target);
     if (!s) { s = document.createElement("canvas"); scratch.set(target, s); }
     if (s.width !== w || s.height !== h) { s.width = w; s.height = h; }
-    s.getContext("2d").putImageData(pixels, 0, 0);
+    context(s).putImageData(pixels, 0, 0);
     c.drawImage(s, x, y);
   }
 
   /**
    * Draws one encoded display list (called by the core, crates/web/src/canvas.rs `send`).
    * `reset`: empty the string table first; `lengths`/`text`: the new strings (UTF-16 lengths,
-   * concatenated), whose first id is `first`; `memory`: the core's WebAssembly memory (images
-   * are read from it at the addresses in `words`); `plan`: per part of the list, its canvas
+   * concatenated; `text` is undefined when there are none), whose first id is `first`;
+   * `memory`: the core's WebAssembly memory (images are read from it at the addresses in
+   * `words`); `plan`: per part of the list, its canvas
    * (0 the layer under, 1 the chart canvas, 2 the layer over), whether it is cleared first
    * (1) and where the part ends in `words`. Returns whether the parts went on the view's
    * layers (false: all on `canvas`).
@@ -80,9 +102,9 @@ const Replay = (() => {
     if (!layered || !layers) {
       // One canvas: layers it has would show stale parts over or under it.
       if (layers) {
-        for (const l of [layers.under, layers.over]) l.getContext("2d").clearRect(0, 0, l.width, l.height);
+        for (const l of [layers.under, layers.over]) context(l).clearRect(0, 0, l.width, l.height);
       }
-      draw(canvas.getContext("2d"), canvas, false, words, numbers, 0, words.length, 0, memory);
+      draw(context(canvas), canvas, false, words, numbers, 0, words.length, 0, memory);
       return false;
     }
     let i = 0;
@@ -94,7 +116,7 @@ const Replay = (() => {
         target.width = canvas.width;
         target.height = canvas.height;
       }
-      const c = target.getContext("2d");
+      const c = context(target);
       if (plan[k + 1] === 1) c.clearRect(0, 0, target.width, target.height);
       j = draw(c, target, where === 0, words, numbers, i, plan[k + 2], j, memory);
       i = plan[k + 2];

@@ -664,9 +664,12 @@ pub(crate) fn raster_checked_into(
 /// The raster of cells of the given colours (`colour_of(sample)`, packed
 /// RGBA, asked once per shown cell and pixel-column run), `empty` above a
 /// column's top. Each run of pixel columns that shows one model column is
-/// found once, and its pixels once, bottom to top (the row pointer only moves
-/// up, so the cost is O(width + runs x (height + rows))), noting only the rows
-/// where its colour changes. The image is then written row by row, each row a
+/// found once, and its pixels once, bottom to top in segments of one colour
+/// (the cell pointer only moves up, and where a segment ends is found by
+/// bisection over the pixel rows, so the cost is O(width + runs x (rows +
+/// segments x log height)); the cells above the top row are not looked at
+/// when z/r rises within each column), noting only the rows where its colour
+/// changes. The image is then written row by row, each row a
 /// copy of the one above with only the runs whose colour changes at that row
 /// rewritten: most rows differ from the one above in a few runs, so the
 /// per-pixel work is one bulk copy, and no pixel is written twice except
@@ -712,48 +715,65 @@ fn raster_cells(
     // the run's colour differs from the row above's.
     let mut top_colour = vec![empty; runs.len()];
     let mut changes: Vec<(u32, u32, u32)> = Vec::new();
+    let rows = data.rows;
+    // z/r of the top pixel row: a cell whose top reaches it covers every row above.
+    let z_top = z_of_row[0];
+    // Whether z/r never decreases within a column (every model's map), so
+    // that the cells' tops never decrease either: then a segment whose cell
+    // reaches the top row ends the walk without looking at the cells above.
+    let rising = data
+        .z_over_r
+        .chunks_exact(rows)
+        .all(|c| c.windows(2).fold(true, |all, w| all & (w[0] <= w[1])));
     for (r, &(_, _, j)) in runs.iter().enumerate() {
+        // Each cell's top and the column's bottom, made once with the grid
+        // (`MapGrid::row_edges`).
         let (tops, bottom) = data.row_edges(j);
+        let top = |k: usize| tops[k];
+        // The colour of the cell looked at last, by cell: the walk asks for
+        // the cell above a segment and then starts the next segment there.
+        let mut looked = (usize::MAX, 0u32);
+        let mut colour = |k: usize| {
+            if looked.0 != k {
+                looked = (k, colour_of(j * rows + k));
+            }
+            looked.1
+        };
         // Walking up from the bottom row in segments of rows of one colour. A
         // pixel row with z/r `zr` shows cell k, the first cell from the one
-        // below's with `zr <= tops[k]` (k only moves up, as z/r rises), if
+        // below's with `zr <= top(k)` (k only moves up, as z/r rises), if
         // k < rows and `zr >= bottom`; otherwise nothing (`empty`). Rows
         // [q, p) are left to walk; `below` is the segment just walked
-        // (its top row and colour).
+        // (its top row and colour). z/r falls from row to row, so where a
+        // segment ends is found by bisection.
         let mut k = 0;
         let mut p = h;
         let mut below: Option<(usize, u32)> = None;
         while p > 0 {
             let zr = z_of_row[p - 1];
-            while k < data.rows && zr > tops[k] {
+            while k < rows && zr > top(k) {
                 k += 1;
             }
             // The segment's colour, and how far up it reaches: while z/r stays
             // at or under the cell's top (in a cell), under the column's
             // bottom (below it), or to the top row (above the column's cells).
-            let mut q = p - 1;
-            let c = if k >= data.rows {
-                q = 0;
-                empty
+            let (q, c) = if k >= rows {
+                (0, empty)
             } else if zr >= bottom {
                 // The cells above of the same colour join this segment: each
                 // row up to the last one's top shows one of them (the first
                 // cell whose top is at or above its z/r), so the walk would
-                // record no change there, and one scan covers them all.
-                let c = colour_of(j * data.rows + k);
-                while k + 1 < data.rows && colour_of(j * data.rows + k + 1) == c {
+                // record no change there, and one scan covers them all. With
+                // rising tops, no cell above one that reaches the top row can
+                // end the segment lower.
+                let c = colour(k);
+                while k + 1 < rows && !(rising && top(k) >= z_top) && colour(k + 1) == c {
                     k += 1;
                 }
-                let top = tops[k];
-                while q > 0 && z_of_row[q - 1] <= top {
-                    q -= 1;
-                }
-                c
+                let t = top(k);
+                (z_of_row[..p - 1].partition_point(|&z| z > t), c)
             } else {
-                while q > 0 && z_of_row[q - 1] < bottom {
-                    q -= 1;
-                }
-                empty
+                (z_of_row[..p - 1].partition_point(|&z| z >= bottom), empty)
             };
             if let Some((row, colour)) = below {
                 if colour != c {
@@ -792,10 +812,10 @@ fn raster_cells(
         let row = &mut rgba[p * stride..];
         for &(run, colour) in &by_row[first[p]..first[p + 1]] {
             let (x0, x1, _) = runs[run as usize];
-            let bytes = colour.to_ne_bytes();
-            for q in row[x0 * 4..x1 * 4].chunks_exact_mut(4) {
-                q.copy_from_slice(&bytes);
-            }
+            row[x0 * 4..x1 * 4]
+                .as_chunks_mut::<4>()
+                .0
+                .fill(colour.to_ne_bytes());
         }
     }
     RasterImage {

@@ -115,7 +115,7 @@ extern "C" {
         words: &[u32],
         numbers: &[f64],
         lengths: &[u32],
-        text: &str,
+        text: Option<&str>,
         first: u32,
         reset: bool,
         memory: &JsValue,
@@ -209,7 +209,9 @@ fn send(
                     &c.words,
                     &c.numbers,
                     &c.new_lengths,
-                    &c.new_strings,
+                    // No text when there are no new strings (the usual redraw): an
+                    // empty string would still cost the page a TextDecoder call.
+                    (!c.new_lengths.is_empty()).then_some(c.new_strings.as_str()),
                     c.first_new,
                     c.reset,
                     &wasm_bindgen::memory(),
