@@ -802,7 +802,14 @@ impl VerticalProfile {
     /// Returns `(k, t)` such that every point from `k` on holds exactly `t` (T_atm above z_q,
     /// T_mid in an isothermal column; `k` is the length where that is not known), so a
     /// caller may compute something of t once for that tail.
-    #[inline(always)]
+    ///
+    /// In WebAssembly with simd128 this is a function of its own (not inlined into the column
+    /// fill): there the unrolled loop for 2 delta = 4 below is faster, inlined it was slower.
+    #[cfg_attr(all(target_arch = "wasm32", target_feature = "simd128"), inline(never))]
+    #[cfg_attr(
+        not(all(target_arch = "wasm32", target_feature = "simd128")),
+        inline(always)
+    )]
     fn fill(&self, index: &[f64], dz: f64, out: &mut [f64], scratch: &mut [f64]) -> (usize, f64) {
         let out = &mut out[..index.len()];
         let n = match self.integer_exponent {
@@ -840,11 +847,11 @@ impl VerticalProfile {
             let constants = core::hint::black_box(CosVectors::new());
             let (pi, two_z_q, dz_v) = (splat(PI), splat(2.0 * z_q), splat(dz));
             let (atmosphere, difference, one) = (splat(t_atm), splat(t_mid - t_atm), splat(1.0));
-            for q in (0..pairs).step_by(2) {
-                let z = f64x2_mul(load2(index, q), dz_v);
-                let x = f64x2_div(f64x2_mul(pi, z), two_z_q);
-                let (c, ok) = cos_pair(x, &constants);
-                let (mut power, mut square, mut bits) = (one, c, n.unsigned_abs());
+            // x^|n| by `powi`'s binary powering (power = 1, then power *= square for each set
+            // bit of |n| from the lowest, squaring between bits).
+            #[inline(always)]
+            fn power_of(c: v128, one: v128, magnitude: u32) -> v128 {
+                let (mut power, mut square, mut bits) = (one, c, magnitude);
                 loop {
                     if bits & 1 != 0 {
                         power = f64x2_mul(power, square);
@@ -855,18 +862,37 @@ impl VerticalProfile {
                     }
                     square = f64x2_mul(square, square);
                 }
-                let shape = if n < 0 { f64x2_div(one, power) } else { power };
-                store2(out, q, f64x2_add(atmosphere, f64x2_mul(difference, shape)));
-                if !i64x2_all_true(ok) {
-                    // A point cos_reduced does not cover (its high word is pi/2's, which
-                    // happens just below z_q): libm's cos, as `temperature_k` uses it.
-                    for p in [q, q + 1] {
-                        let z = index[p] * dz;
-                        if !cos_reduced(PI * z / (2.0 * z_q)).1 {
-                            out[p] = self.temperature_k(z);
+                power
+            }
+            macro_rules! blend_loop {
+                ($magnitude:expr) => {
+                    for q in (0..pairs).step_by(2) {
+                        let z = f64x2_mul(load2(index, q), dz_v);
+                        let x = f64x2_div(f64x2_mul(pi, z), two_z_q);
+                        let (c, ok) = cos_pair(x, &constants);
+                        let power = power_of(c, one, $magnitude);
+                        let shape = if n < 0 { f64x2_div(one, power) } else { power };
+                        store2(out, q, f64x2_add(atmosphere, f64x2_mul(difference, shape)));
+                        if !i64x2_all_true(ok) {
+                            // A point cos_reduced does not cover (its high word is pi/2's,
+                            // which happens just below z_q): libm's cos, as `temperature_k`
+                            // uses it.
+                            for p in [q, q + 1] {
+                                let z = index[p] * dz;
+                                if !cos_reduced(PI * z / (2.0 * z_q)).1 {
+                                    out[p] = self.temperature_k(z);
+                                }
+                            }
                         }
                     }
-                }
+                };
+            }
+            // The default 2 delta = 4 in a loop of its own, where the powering's bit loop is
+            // unrolled to its two squarings and one multiplication (the same operations).
+            if n == 4 {
+                blend_loop!(4);
+            } else {
+                blend_loop!(n.unsigned_abs());
             }
             for q in pairs..below {
                 out[q] = self.temperature_k(index[q] * dz);
@@ -1180,7 +1206,7 @@ fn fill_column_portable(args: ColumnArgs<'_>, fine: &mut FineGrid, out: &mut Col
 /// own. `numbers` = [dz, r^2, (mu m_H/k) G M, T_mid]; every point from `uniform.0` on has
 /// the temperature `uniform.1`, whose T_mid / T is divided once.
 #[cfg(all(target_arch = "wasm32", target_feature = "simd128"))]
-#[inline(always)]
+#[inline(never)]
 fn hydrostatic_simd128(
     fine: &mut FineGrid,
     points: usize,
