@@ -926,7 +926,6 @@ impl BalanceConstants {
             #[cfg(all(target_arch = "wasm32", target_feature = "simd128"))]
             {
                 use crate::math::simd128::store2;
-                use core::arch::wasm32::f64x2_extract_lane;
                 // The constants once, read in the loops (see ExpVectors).
                 let constants = core::hint::black_box(crate::math::simd128::ExpVectors::new());
                 let lanes = core::hint::black_box(self.lane_vectors(i, per_h, inverse_per_h));
@@ -945,9 +944,14 @@ impl BalanceConstants {
                 let mut unsettled = 0u8;
                 let mut q = 0;
                 while q < len {
-                    let pair = self.lane_pair(block, q, &lanes, &desorption, equilibrium, time);
+                    let pair = self.lane_pair(
+                        block,
+                        q,
+                        &lanes,
+                        &desorption,
+                        [&mut *ice, &mut *equilibrium, &mut *time],
+                    );
                     if q + 1 < len {
-                        store2(ice, q, pair.ice);
                         flag[q] = pair.flag & 1 != 0;
                         flag[q + 1] = pair.flag & 2 != 0;
                         settled[q] = pair.settled & 1 != 0;
@@ -955,7 +959,6 @@ impl BalanceConstants {
                         unsettled |= !pair.settled & 3;
                     } else {
                         // The last place of an odd block.
-                        ice[q] = f64x2_extract_lane::<0>(pair.ice);
                         flag[q] = pair.flag & 1 != 0;
                         settled[q] = pair.settled & 1 != 0;
                         unsettled |= !pair.settled & 1;
@@ -1209,9 +1212,8 @@ mod simd128 {
         unsafe { v128_load(values.as_ptr().add(q).cast::<v128>()) }
     }
 
-    /// The outputs of places `q` and `q + 1`.
+    /// The flags of places `q` and `q + 1` (`lane_pair` stores their numbers itself).
     pub(super) struct Pair {
-        pub(super) ice: v128,
         /// Bit 0: place q, bit 1: place q + 1.
         pub(super) flag: u8,
         pub(super) settled: u8,
@@ -1313,7 +1315,9 @@ mod simd128 {
         }
 
         /// [`BalanceConstants::lane`] for places `q` and `q + 1` of a block, with their
-        /// desorption rates B from [`BalanceConstants::desorption_pair`] in `desorption`.
+        /// desorption rates B from [`BalanceConstants::desorption_pair`] in `desorption`: the
+        /// ice fraction, the equilibrium and the equilibration time are stored into `outputs`
+        /// (in that order) as soon as each is formed; returns the flags.
         #[inline(always)]
         pub(super) fn lane_pair(
             &self,
@@ -1321,9 +1325,9 @@ mod simd128 {
             q: usize,
             l: &LaneVectors,
             desorption: &[f64; BLOCK],
-            equilibrium_out: &mut [f64],
-            time_out: &mut [f64],
+            outputs: [&mut [f64]; 3],
         ) -> Pair {
+            let [ice_out, equilibrium_out, time_out] = outputs;
             // Both places (q + 1 < the outputs' length) or place q alone.
             let full = q + 1 < time_out.len();
             let put = |values: &mut [f64], v: v128| {
@@ -1417,6 +1421,22 @@ mod simd128 {
             let to_thin = v128_and(v128_and(zeroth, above), v128_not(thick_holds));
             let to_thick = v128_and(v128_andnot(zeroth, above), v128_not(thin_holds));
             let root = select(v128_or(direct_thick, to_thick), thick_root, thin_root);
+            // Back in lane: the aged state and its flag do not depend on whether the closed form
+            // is proven settled, so they are stored before the crossing bound below (in
+            // Chromium's V8 the lane loop is faster so: fewer vectors live across the bound).
+            let aged = select(
+                kinetic,
+                clamp_unit(f64x2_mul(root, inverse_molecules)),
+                equilibrium,
+            );
+            put(ice_out, aged);
+            let flag = i64x2_bitmask(v128_or(
+                late,
+                v128_and(
+                    kinetic,
+                    f64x2_gt(f64x2_abs(f64x2_sub(aged, equilibrium)), l.tolerance),
+                ),
+            ));
             let direct_rate = select(direct_thick, a, thin_rate);
             let direct = f64x2_gt(f64x2_mul(direct_rate, age), l.settled_rate_time);
             let crosses = v128_or(to_thin, to_thick);
@@ -1454,23 +1474,9 @@ mod simd128 {
             } else {
                 direct
             };
-            // Back in lane.
-            let aged = select(
-                kinetic,
-                clamp_unit(f64x2_mul(root, inverse_molecules)),
-                equilibrium,
-            );
-            let out = v128_or(
-                late,
-                v128_and(
-                    kinetic,
-                    f64x2_gt(f64x2_abs(f64x2_sub(aged, equilibrium)), l.tolerance),
-                ),
-            );
             let done = v128_or(settled, v128_not(kinetic));
             Pair {
-                ice: aged,
-                flag: i64x2_bitmask(out),
+                flag,
                 settled: i64x2_bitmask(done),
             }
         }

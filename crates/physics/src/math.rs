@@ -423,13 +423,17 @@ pub(crate) mod simd128 {
     /// [`EXP_NORMAL_LOW`, `EXP_NORMAL_HIGH`] (what the model's exponentials nearly always are):
     /// there no lane is out of range, and the result p 2^n is a normal number, so p 2^n1 2^n2
     /// (two exact scalings) equals p 2^n (one exact scaling), formed from the reduction's own
-    /// shifted sum. Otherwise (a lane outside, or NaN) the general form.
+    /// shifted sum. Both lanes below -745.2 give 0 (+0, as the general form selects), without
+    /// the polynomial: the FUV attenuations of the disk's dense inner midplane. Otherwise (a
+    /// lane outside, or NaN) the general form.
     #[inline(always)]
     pub(crate) fn exp_poly_pair(x: v128, k: &ExpVectors) -> v128 {
         let normal = v128_and(f64x2_ge(x, k.normal_low), f64x2_le(x, k.normal_high));
         if i64x2_all_true(normal) {
             let (shifted, _, p) = exp_poly_reduced(x, k);
             f64x2_mul(p, i64x2_shl(i64x2_add(shifted, k.bias), 52))
+        } else if i64x2_all_true(f64x2_lt(x, k.low)) {
+            k.zero
         } else {
             exp_poly_with(x, k)
         }
@@ -808,12 +812,13 @@ mod tests {
             }
         }
         // exp_poly_pair equals exp_poly in each lane: over the whole range, with pairs mixing a
-        // normal-range lane and one outside, and at the edges of the normal range.
+        // normal-range lane and one outside, at the edges of the normal range and at the edge
+        // below which both lanes of a pair are 0 (-745.2).
         let k = simd128::ExpVectors::new();
         let mut args: Vec<f64> = uniform(400_000).map(|u| (u - 0.5) * 1600.0).collect();
         args.extend(uniform(100_000).map(|u| -708.0 - u * 40.0));
         args.extend(uniform(100_000).map(|u| 708.5 + u * 2.0));
-        for edge in [EXP_NORMAL_LOW, EXP_NORMAL_HIGH] {
+        for edge in [EXP_NORMAL_LOW, EXP_NORMAL_HIGH, -745.2] {
             let mut below = edge;
             let mut above = edge;
             for _ in 0..64 {

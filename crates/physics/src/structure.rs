@@ -798,8 +798,19 @@ impl VerticalProfile {
     /// [`cos_reduced`] (libm's operations; the rare argument outside its range by libm's
     /// [`cos`] itself), the power by [`powi_slice`] (`powi`'s multiplications), then the blend.
     /// `scratch` (as long as `out`) is overwritten.
-    #[inline(always)]
-    fn fill(&self, index: &[f64], dz: f64, out: &mut [f64], scratch: &mut [f64]) {
+    ///
+    /// Returns `(k, t)` such that every point from `k` on holds exactly `t` (T_atm above z_q,
+    /// T_mid in an isothermal column; `k` is the length where that is not known), so a
+    /// caller may compute something of t once for that tail.
+    ///
+    /// In WebAssembly with simd128 this is a function of its own (not inlined into the column
+    /// fill): there the unrolled loop for 2 delta = 4 below is faster, inlined it was slower.
+    #[cfg_attr(all(target_arch = "wasm32", target_feature = "simd128"), inline(never))]
+    #[cfg_attr(
+        not(all(target_arch = "wasm32", target_feature = "simd128")),
+        inline(always)
+    )]
+    fn fill(&self, index: &[f64], dz: f64, out: &mut [f64], scratch: &mut [f64]) -> (usize, f64) {
         let out = &mut out[..index.len()];
         let n = match self.integer_exponent {
             Some(n) if !self.t_atm.is_nan() => n,
@@ -807,7 +818,11 @@ impl VerticalProfile {
                 for (t, &i) in out.iter_mut().zip(index) {
                     *t = self.temperature_k(i * dz);
                 }
-                return;
+                return if self.t_atm.is_nan() {
+                    (0, self.t_mid)
+                } else {
+                    (out.len(), f64::NAN)
+                };
             }
         };
         let z_q = self.z_q;
@@ -832,11 +847,11 @@ impl VerticalProfile {
             let constants = core::hint::black_box(CosVectors::new());
             let (pi, two_z_q, dz_v) = (splat(PI), splat(2.0 * z_q), splat(dz));
             let (atmosphere, difference, one) = (splat(t_atm), splat(t_mid - t_atm), splat(1.0));
-            for q in (0..pairs).step_by(2) {
-                let z = f64x2_mul(load2(index, q), dz_v);
-                let x = f64x2_div(f64x2_mul(pi, z), two_z_q);
-                let (c, ok) = cos_pair(x, &constants);
-                let (mut power, mut square, mut bits) = (one, c, n.unsigned_abs());
+            // x^|n| by `powi`'s binary powering (power = 1, then power *= square for each set
+            // bit of |n| from the lowest, squaring between bits).
+            #[inline(always)]
+            fn power_of(c: v128, one: v128, magnitude: u32) -> v128 {
+                let (mut power, mut square, mut bits) = (one, c, magnitude);
                 loop {
                     if bits & 1 != 0 {
                         power = f64x2_mul(power, square);
@@ -847,18 +862,37 @@ impl VerticalProfile {
                     }
                     square = f64x2_mul(square, square);
                 }
-                let shape = if n < 0 { f64x2_div(one, power) } else { power };
-                store2(out, q, f64x2_add(atmosphere, f64x2_mul(difference, shape)));
-                if !i64x2_all_true(ok) {
-                    // A point cos_reduced does not cover (its high word is pi/2's, which
-                    // happens just below z_q): libm's cos, as `temperature_k` uses it.
-                    for p in [q, q + 1] {
-                        let z = index[p] * dz;
-                        if !cos_reduced(PI * z / (2.0 * z_q)).1 {
-                            out[p] = self.temperature_k(z);
+                power
+            }
+            macro_rules! blend_loop {
+                ($magnitude:expr) => {
+                    for q in (0..pairs).step_by(2) {
+                        let z = f64x2_mul(load2(index, q), dz_v);
+                        let x = f64x2_div(f64x2_mul(pi, z), two_z_q);
+                        let (c, ok) = cos_pair(x, &constants);
+                        let power = power_of(c, one, $magnitude);
+                        let shape = if n < 0 { f64x2_div(one, power) } else { power };
+                        store2(out, q, f64x2_add(atmosphere, f64x2_mul(difference, shape)));
+                        if !i64x2_all_true(ok) {
+                            // A point cos_reduced does not cover (its high word is pi/2's,
+                            // which happens just below z_q): libm's cos, as `temperature_k`
+                            // uses it.
+                            for p in [q, q + 1] {
+                                let z = index[p] * dz;
+                                if !cos_reduced(PI * z / (2.0 * z_q)).1 {
+                                    out[p] = self.temperature_k(z);
+                                }
+                            }
                         }
                     }
-                }
+                };
+            }
+            // The default 2 delta = 4 in a loop of its own, where the powering's bit loop is
+            // unrolled to its two squarings and one multiplication (the same operations).
+            if n == 4 {
+                blend_loop!(4);
+            } else {
+                blend_loop!(n.unsigned_abs());
             }
             for q in pairs..below {
                 out[q] = self.temperature_k(index[q] * dz);
@@ -897,6 +931,7 @@ impl VerticalProfile {
                 };
             }
         }
+        (below, self.t_atm)
     }
 }
 
@@ -1023,65 +1058,63 @@ fn fill_column_portable(args: ColumnArgs<'_>, fine: &mut FineGrid, out: &mut Col
     fine.rho.resize(points, 0.0);
     fine.above.resize(points, 0.0);
     let profile = VerticalProfile::new(c, radius_cm, t_mid, h_mid);
-    profile.fill(&fine.index, dz, &mut fine.temperature, &mut fine.integrand);
-    // WebAssembly simd128: two points per vector (the same operations), the rest below.
+    let (uniform_from, uniform_temperature) =
+        profile.fill(&fine.index, dz, &mut fine.temperature, &mut fine.integrand);
+    // WebAssembly simd128: the integrand two points per vector, the integral's running sum in
+    // the same loop, then the exponentials two per vector with the normalisation's running sum
+    // in their loop (see `hydrostatic_simd128`); elsewhere in separate passes that vectorise.
     #[cfg(all(target_arch = "wasm32", target_feature = "simd128"))]
-    let start = {
-        use crate::math::simd128::{load2, splat, store2};
-        use core::arch::wasm32::*;
-        let pairs = points / 2 * 2;
-        // The column's numbers as vectors through `black_box`, so that the loop reads them:
-        // V8 otherwise computed dz again in every iteration (from the column's radius and
-        // temperature: a square root and four divisions), a third of the loop's time.
-        let [dz_v, r2_v, gravity_v] = core::hint::black_box([splat(dz), splat(r2), splat(gravity)]);
-        for q in (0..pairs).step_by(2) {
-            let t = load2(&fine.temperature, q);
-            let z = f64x2_mul(load2(&fine.index, q), dz_v);
-            let s = f64x2_add(r2_v, f64x2_mul(z, z));
-            let g = f64x2_div(
-                f64x2_mul(gravity_v, z),
-                f64x2_mul(t, f64x2_mul(s, f64x2_sqrt(s))),
-            );
-            store2(&mut fine.integrand, q, g);
-        }
-        pairs
-    };
+    let half = hydrostatic_simd128(
+        fine,
+        points,
+        [dz, r2, gravity, t_mid],
+        (uniform_from, uniform_temperature),
+    );
     #[cfg(not(all(target_arch = "wasm32", target_feature = "simd128")))]
-    let start = 0;
-    for ((g, &t), &i) in fine.integrand[start..]
-        .iter_mut()
-        .zip(&fine.temperature[start..])
-        .zip(&fine.index[start..])
-    {
-        let z = i * dz;
-        let s = r2 + z * z;
-        // (mu m_H / (k T)) G M z / (r^2 + z^2)^(3/2), with one division.
-        *g = gravity * z / (t * (s * sqrt(s)));
-    }
-    // The trapezoid integral from the midplane, held (negated) in `above` for now. Each
-    // running sum below first forms its terms 0.5 (y_i + y_(i+1)) dz in a pass that vectorises,
-    // then adds them in order with the sum held in a register: the same additions in the same
-    // order as summing term by term.
-    trapezoid_terms(&mut fine.term, &fine.integrand, dz);
-    let mut integral = 0.0;
-    fine.above[0] = 0.0;
-    for (a, &t) in fine.above[1..].iter_mut().zip(&fine.term) {
-        integral += t;
-        *a = -integral;
-    }
-    // rho = (T_mid / T) exp(-integral), the exponentials in one pass over the slice.
-    fine.rho.copy_from_slice(&fine.above);
-    exp_poly_slice(&mut fine.rho);
-    for (r, &t) in fine.rho.iter_mut().zip(&fine.temperature) {
-        // (T_mid / T) e, as a product of two numbers (the same bits either order).
-        *r *= t_mid / t;
-    }
-    // Normalise: 2 * trapz(rho) = Sigma.
-    trapezoid_terms(&mut fine.term, &fine.rho, dz);
-    let mut half = 0.0;
-    for &t in &fine.term {
-        half += t;
-    }
+    let half = {
+        for ((g, &t), &i) in fine
+            .integrand
+            .iter_mut()
+            .zip(&fine.temperature)
+            .zip(&fine.index)
+        {
+            let z = i * dz;
+            let s = r2 + z * z;
+            // (mu m_H / (k T)) G M z / (r^2 + z^2)^(3/2), with one division.
+            *g = gravity * z / (t * (s * sqrt(s)));
+        }
+        // The trapezoid integral from the midplane, held (negated) in `above` for now. Each
+        // running sum below first forms its terms 0.5 (y_i + y_(i+1)) dz in a pass that
+        // vectorises, then adds them in order with the sum held in a register: the same
+        // additions in the same order as summing term by term.
+        trapezoid_terms(&mut fine.term, &fine.integrand, dz);
+        let mut integral = 0.0;
+        fine.above[0] = 0.0;
+        for (a, &t) in fine.above[1..].iter_mut().zip(&fine.term) {
+            integral += t;
+            *a = -integral;
+        }
+        // rho = (T_mid / T) exp(-integral), the exponentials in one pass over the slice.
+        fine.rho.copy_from_slice(&fine.above);
+        exp_poly_slice(&mut fine.rho);
+        // (T_mid / T) e, as a product of two numbers (the same bits either order); where every
+        // point has the same T (above z_q, or an isothermal column) T_mid / T is divided once.
+        let (varying, uniform) = fine.rho.split_at_mut(uniform_from);
+        for (r, &t) in varying.iter_mut().zip(&fine.temperature) {
+            *r *= t_mid / t;
+        }
+        let ratio = t_mid / uniform_temperature;
+        for r in uniform {
+            *r *= ratio;
+        }
+        // Normalise: 2 * trapz(rho) = Sigma.
+        trapezoid_terms(&mut fine.term, &fine.rho, dz);
+        let mut half = 0.0;
+        for &t in &fine.term {
+            half += t;
+        }
+        half
+    };
     let scale = sigma_g_cm2 / (2.0 * half);
     for r in fine.rho.iter_mut() {
         *r *= scale;
@@ -1135,7 +1168,11 @@ fn fill_column_portable(args: ColumnArgs<'_>, fine: &mut FineGrid, out: &mut Col
         .zip(sigma_above)
         .enumerate()
     {
-        let sigma_below = (sigma_g_cm2 - sigma_above).max(0.0);
+        // `max(0.0)` written as a comparison: the same number for every input (NaN gives 0, as
+        // libm's fmax does), but WebAssembly has no instruction for Rust's `max` (its f64.max
+        // propagates NaN), so `max` was a call to libm's fmax per sample.
+        let remainder = sigma_g_cm2 - sigma_above;
+        let sigma_below = if remainder >= 0.0 { remainder } else { 0.0 };
         *av = sigma_above * per_h * c.extinction_per_hydrogen_mag_cm2;
         above_cr[k] = -sigma_above / COSMIC_RAY_ATTENUATION_G_PER_CM2;
         below_cr[k] = -sigma_below / COSMIC_RAY_ATTENUATION_G_PER_CM2;
@@ -1156,6 +1193,121 @@ fn fill_column_portable(args: ColumnArgs<'_>, fine: &mut FineGrid, out: &mut Col
             * (g_star * star_fuv[k] + c.interstellar_fuv_habing * ism_fuv[k])
             + 1.0e4 * *zeta / REFERENCE_COSMIC_RAY_RATE_S;
     }
+}
+
+/// The hydrostatic part of [`fill_column`] in WebAssembly simd128, the portable passes' numbers
+/// bit for bit: the integrand g = (mu m_H/(k T)) G M z / (T (r^2 + z^2)^(3/2)) two points
+/// per vector, with the trapezoid integral from the midplane, -sum of 0.5 (g_i + g_(i+1)) dz,
+/// added in order in the same loop (into `fine.above`); then rho = exp_poly(-integral)
+/// (T_mid / T) two points per vector (into `fine.rho`), with the normalisation's trapezoid sum
+/// of rho added in order in that loop. Returns that sum (half the column's Sigma before
+/// scaling). Each running sum is a chain of dependent additions, which here overlaps the
+/// divisions, square roots and exponentials of the same loop instead of taking a pass of its
+/// own. `numbers` = [dz, r^2, (mu m_H/k) G M, T_mid]; every point from `uniform.0` on has
+/// the temperature `uniform.1`, whose T_mid / T is divided once.
+#[cfg(all(target_arch = "wasm32", target_feature = "simd128"))]
+#[inline(never)]
+fn hydrostatic_simd128(
+    fine: &mut FineGrid,
+    points: usize,
+    numbers: [f64; 4],
+    uniform: (usize, f64),
+) -> f64 {
+    use crate::math::exp_poly;
+    use crate::math::simd128::{exp_poly_pair, load2, splat, store2, ExpVectors};
+    use core::arch::wasm32::*;
+    let [dz, r2, gravity, t_mid] = numbers;
+    let (uniform_from, uniform_temperature) = uniform;
+    let (temperature, index) = (&fine.temperature[..points], &fine.index[..points]);
+    let (above, rho) = (&mut fine.above[..points], &mut fine.rho[..points]);
+    let pairs = points / 2 * 2;
+    // The column's numbers as vectors through `black_box`, so that the loop reads them: V8
+    // otherwise computed dz again in every iteration (from the column's radius and
+    // temperature: a square root and four divisions), a third of the loop's time.
+    let [dz_v, r2_v, gravity_v] = core::hint::black_box([splat(dz), splat(r2), splat(gravity)]);
+    let integrand = |q: usize| {
+        let t = load2(temperature, q);
+        let z = f64x2_mul(load2(index, q), dz_v);
+        let s = f64x2_add(r2_v, f64x2_mul(z, z));
+        f64x2_div(
+            f64x2_mul(gravity_v, z),
+            f64x2_mul(t, f64x2_mul(s, f64x2_sqrt(s))),
+        )
+    };
+    let integrand_at = |q: usize| {
+        let z = index[q] * dz;
+        let s = r2 + z * z;
+        gravity * z / (temperature[q] * (s * sqrt(s)))
+    };
+    // The integral: integral += 0.5 (g_(i-1) + g_i) dz, above[i] = -integral (above[0] = 0).
+    let mut integral = 0.0;
+    // g of the point before the pair.
+    let mut previous = 0.0;
+    let mut q = 0;
+    while q < pairs {
+        let g = integrand(q);
+        let (g0, g1) = (f64x2_extract_lane::<0>(g), f64x2_extract_lane::<1>(g));
+        if q == 0 {
+            above[0] = 0.0;
+        } else {
+            integral += 0.5 * (previous + g0) * dz;
+            above[q] = -integral;
+        }
+        integral += 0.5 * (g0 + g1) * dz;
+        above[q + 1] = -integral;
+        previous = g1;
+        q += 2;
+    }
+    for q in pairs..points {
+        let g = integrand_at(q);
+        if q == 0 {
+            above[0] = 0.0;
+        } else {
+            integral += 0.5 * (previous + g) * dz;
+            above[q] = -integral;
+        }
+        previous = g;
+    }
+    // rho = exp_poly(above) (T_mid / T), and half += 0.5 (rho_(i-1) + rho_i) dz.
+    let constants = core::hint::black_box(ExpVectors::new());
+    let ratio = t_mid / uniform_temperature;
+    let [t_mid_v, ratio_v] = core::hint::black_box([splat(t_mid), splat(ratio)]);
+    let mut half = 0.0;
+    let mut previous = 0.0;
+    let mut q = 0;
+    while q < pairs {
+        let e = exp_poly_pair(load2(above, q), &constants);
+        // Both points' T_mid / T by division where either lies below the uniform tail (its
+        // quotient there is `ratio` too).
+        let factor = if q < uniform_from {
+            f64x2_div(t_mid_v, load2(temperature, q))
+        } else {
+            ratio_v
+        };
+        let r = f64x2_mul(e, factor);
+        store2(rho, q, r);
+        let (r0, r1) = (f64x2_extract_lane::<0>(r), f64x2_extract_lane::<1>(r));
+        if q > 0 {
+            half += 0.5 * (previous + r0) * dz;
+        }
+        half += 0.5 * (r0 + r1) * dz;
+        previous = r1;
+        q += 2;
+    }
+    for q in pairs..points {
+        let factor = if q < uniform_from {
+            t_mid / temperature[q]
+        } else {
+            ratio
+        };
+        let r = exp_poly(above[q]) * factor;
+        rho[q] = r;
+        if q > 0 {
+            half += 0.5 * (previous + r) * dz;
+        }
+        previous = r;
+    }
+    half
 }
 
 /// The trapezoid terms 0.5 (y_i + y_(i+1)) dz, i = 0 .. len(y) - 2, into `term`.
@@ -1644,7 +1796,15 @@ mod tests {
                     // Stale values in the buffers, as from the previous column.
                     let mut out = vec![1234.5; points];
                     let mut scratch = vec![-7.0; points];
-                    profile.fill(&index, dz, &mut out, &mut scratch);
+                    let (uniform_from, uniform) = profile.fill(&index, dz, &mut out, &mut scratch);
+                    assert!(uniform_from <= points);
+                    for &t in &out[uniform_from..] {
+                        assert_eq!(
+                            t.to_bits(),
+                            uniform.to_bits(),
+                            "uniform tail from {uniform_from}"
+                        );
+                    }
                     for (k, &t) in out.iter().enumerate() {
                         let z = k as f64 * dz;
                         if z < z_q && !cos_reduced(PI * z / (2.0 * z_q)).1 && t_atm.is_finite() {
