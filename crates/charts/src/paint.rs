@@ -294,10 +294,10 @@ impl<'a, DB: DrawingBackend> Painter<'a, DB> {
                     let (w, h) = self.area.dim_in_pixel();
                     let (x, y) = self.area.get_base_pixel();
                     k.u64(u64::from(w)).u64(u64::from(h));
-                    k.u64(x as u64).u64(y as u64).f64(self.ppp);
-                    // Every field of the theme (its derived `Debug` prints each,
-                    // floats exactly), so no field can be left out of the key.
-                    k.text(&format!("{:?}", self.theme));
+                    k.u64(x as u64)
+                        .u64(y as u64)
+                        .f64(self.ppp)
+                        .theme(self.theme);
                     k
                 })
                 .clone()

@@ -7,9 +7,9 @@
 //! out the same. A view drawn with a [`Reuse`] store (the page's display
 //! lists, `crates/web/src/display.rs`) draws each such part ("segment") as a
 //! closure with a key: the bytes of every input the closure reads besides
-//! the painter's own context, which [`Painter::segment`](crate::paint)
-//! prefixes (size, area offset, pixels per point, the whole theme, the
-//! segment's name). The store either runs the closure (and keeps what it
+//! the painter's own context, which the painter's `segment` prefixes (size,
+//! area offset, pixels per point, every field of the theme, the segment's
+//! name). The store either runs the closure (and keeps what it
 //! drew under that key) or, when the key equals the one kept, puts what it
 //! drew the last time instead. Back ends without a store (SVG, PNG) just run
 //! the closure. Keys are compared byte for byte (no hash), so equal keys mean
@@ -19,7 +19,7 @@ use crate::colour::{ColourMap, Rgba};
 use crate::error::ChartError;
 use crate::layout::{AxisTransform, Scale};
 use crate::paint::{Frame, Panel};
-use crate::theme::SeriesStyle;
+use crate::theme::{SeriesStyle, Theme};
 
 /// A store of drawn segments by key: see the module documentation.
 pub trait Reuse {
@@ -71,6 +71,45 @@ impl SegmentKey {
 
     pub(crate) fn colour_map(&mut self, m: ColourMap) -> &mut Self {
         self.byte(m as u8)
+    }
+
+    /// Every field of `theme` (destructured without `..`, so a field added to
+    /// the theme cannot be left out of the key).
+    pub(crate) fn theme(&mut self, theme: &Theme) -> &mut Self {
+        let Theme {
+            background,
+            foreground,
+            grid,
+            muted,
+            undefined,
+            highlight,
+            series,
+            font_family,
+            tick_font_pt,
+            label_font_pt,
+            legend_font_pt,
+            line_width_pt,
+            axis_width_pt,
+            colour_map,
+        } = theme;
+        for c in [background, foreground, grid, muted, undefined, highlight] {
+            self.rgba(*c);
+        }
+        self.u64(series.len() as u64);
+        for c in series {
+            self.rgba(*c);
+        }
+        self.text(font_family);
+        for v in [
+            tick_font_pt,
+            label_font_pt,
+            legend_font_pt,
+            line_width_pt,
+            axis_width_pt,
+        ] {
+            self.f64(*v);
+        }
+        self.colour_map(*colour_map)
     }
 
     pub(crate) fn frame(&mut self, f: &Frame) -> &mut Self {
