@@ -252,6 +252,19 @@ pub(crate) fn round_to_byte_index(x: f64) -> usize {
     }
 }
 
+/// The bytes every segment key of a painter starts with: the area's size and
+/// offset, the pixels per point and the theme (not generic over the back end,
+/// so the module holds it once).
+fn context_key(size: (u32, u32), base: (i32, i32), ppp: f64, theme: &Theme) -> SegmentKey {
+    let mut k = SegmentKey::default();
+    k.u64(u64::from(size.0)).u64(u64::from(size.1));
+    k.u64(base.0 as u64)
+        .u64(base.1 as u64)
+        .f64(ppp)
+        .theme(theme);
+    k
+}
+
 impl<'a, DB: DrawingBackend> Painter<'a, DB> {
     pub fn new(area: &'a DrawingArea<DB, Shift>, theme: &'a Theme, ppp: f64) -> Self {
         crate::render::ensure_font(theme);
@@ -290,15 +303,12 @@ impl<'a, DB: DrawingBackend> Painter<'a, DB> {
             let mut context = self.context.borrow_mut();
             context
                 .get_or_insert_with(|| {
-                    let mut k = SegmentKey::default();
-                    let (w, h) = self.area.dim_in_pixel();
-                    let (x, y) = self.area.get_base_pixel();
-                    k.u64(u64::from(w)).u64(u64::from(h));
-                    k.u64(x as u64)
-                        .u64(y as u64)
-                        .f64(self.ppp)
-                        .theme(self.theme);
-                    k
+                    context_key(
+                        self.area.dim_in_pixel(),
+                        self.area.get_base_pixel(),
+                        self.ppp,
+                        self.theme,
+                    )
                 })
                 .clone()
         };
