@@ -296,6 +296,13 @@ impl<'a, DB: DrawingBackend> Painter<'a, DB> {
         inputs: impl FnOnce(&mut SegmentKey),
         draw: impl FnOnce() -> Result<(), ChartError>,
     ) -> Result<(), ChartError> {
+        // One body for both ways (the drawing is not compiled twice per call site).
+        let mut draw = Some(draw);
+        let draw: &mut dyn FnMut() -> Result<(), ChartError> = &mut || match draw.take() {
+            Some(draw) => draw(),
+            // Called at most once (`Reuse::segment`).
+            None => Ok(()),
+        };
         let Some(reuse) = self.reuse else {
             return draw();
         };
@@ -314,12 +321,7 @@ impl<'a, DB: DrawingBackend> Painter<'a, DB> {
         };
         key.text(name);
         inputs(&mut key);
-        let mut draw = Some(draw);
-        reuse.segment(key.bytes(), &mut || match draw.take() {
-            Some(draw) => draw(),
-            // A store calls `draw` at most once (`Reuse::segment`).
-            None => Ok(()),
-        })
+        reuse.segment(key.bytes(), draw)
     }
 
     pub fn size(&self) -> (f64, f64) {
