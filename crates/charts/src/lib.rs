@@ -42,6 +42,7 @@ pub mod options;
 mod paint;
 pub mod readout;
 pub mod render;
+pub mod reuse;
 pub mod text;
 pub mod theme;
 pub mod uncertainty;
@@ -62,6 +63,7 @@ pub use render::{
     draw_figure, render_svg, Figure, FigureSize, View, DEFAULT_ASPECT, DOUBLE_COLUMN_WIDTH_PT,
     SINGLE_COLUMN_WIDTH_PT,
 };
+pub use reuse::{Reuse, SegmentKey};
 pub use text::typeset_formula;
 pub use theme::{LineDash, Marker, SeriesStyle, Theme};
 #[cfg(feature = "png")]
@@ -71,8 +73,9 @@ pub use uncertainty::{
     UncertaintyView,
 };
 pub use views::{
-    draw_abundance_profiles, draw_c_to_o_map, draw_c_to_o_profile, draw_chi2_map, draw_ice_map,
-    draw_temperature_profile, map_layout, prepare_map, CellDrawing, MapDrawing,
+    draw_abundance_profiles, draw_abundance_profiles_reusing, draw_c_to_o_map, draw_c_to_o_profile,
+    draw_c_to_o_profile_reusing, draw_chi2_map, draw_ice_map, draw_temperature_profile,
+    draw_temperature_profile_reusing, map_layout, prepare_map, CellDrawing, MapDrawing,
 };
 pub use views::{
     draw_evolved_c_to_o, draw_radius_time_map, draw_snowline_tracks, evolution_figure,

@@ -17,6 +17,7 @@ use plotters_backend::{BackendCoord, DrawingErrorKind};
 use crate::colour::Rgba;
 use crate::error::ChartError;
 use crate::layout::{AxisTransform, PanelLayout, Scale};
+use crate::reuse::{Reuse, SegmentKey};
 use crate::theme::{LineDash, Marker, SeriesStyle, Theme};
 
 /// plotters' font sizes are line heights: the em size in SVG is `size / 1.24`,
@@ -103,6 +104,12 @@ pub(crate) struct Painter<'a, DB: DrawingBackend> {
     /// Text styles made so far, by (size, colour, anchor, orientation): making one
     /// looks the font up, and a chart asks for the same few styles many times.
     text_styles: RefCell<Vec<(TextKey, TextStyle<'a>)>>,
+    /// Where segments drawn before are kept ([`Painter::segment`]); `None`: every
+    /// segment is drawn.
+    reuse: Option<&'a dyn Reuse>,
+    /// The key bytes every segment's key starts with (size, area offset, pixels
+    /// per point, theme), written at the first segment.
+    context: RefCell<Option<SegmentKey>>,
 }
 
 /// The key of a cached text style: size [pt] bits, colour, anchor and orientation.
@@ -245,6 +252,19 @@ pub(crate) fn round_to_byte_index(x: f64) -> usize {
     }
 }
 
+/// The bytes every segment key of a painter starts with: the area's size and
+/// offset, the pixels per point and the theme (not generic over the back end,
+/// so the module holds it once).
+fn context_key(size: (u32, u32), base: (i32, i32), ppp: f64, theme: &Theme) -> SegmentKey {
+    let mut k = SegmentKey::default();
+    k.u64(u64::from(size.0)).u64(u64::from(size.1));
+    k.u64(base.0 as u64)
+        .u64(base.1 as u64)
+        .f64(ppp)
+        .theme(theme);
+    k
+}
+
 impl<'a, DB: DrawingBackend> Painter<'a, DB> {
     pub fn new(area: &'a DrawingArea<DB, Shift>, theme: &'a Theme, ppp: f64) -> Self {
         crate::render::ensure_font(theme);
@@ -254,7 +274,54 @@ impl<'a, DB: DrawingBackend> Painter<'a, DB> {
             ppp,
             scratch: Scratch::default(),
             text_styles: RefCell::new(Vec::new()),
+            reuse: None,
+            context: RefCell::new(None),
         }
+    }
+
+    /// This painter with segments kept in `reuse` ([`Painter::segment`]).
+    pub fn reusing(mut self, reuse: Option<&'a dyn Reuse>) -> Self {
+        self.reuse = reuse;
+        self
+    }
+
+    /// Draws a segment of the chart with `draw`, which must read nothing but
+    /// this painter and what `inputs` writes into the key (`crate::reuse`):
+    /// with a [`Reuse`] store the store decides whether `draw` runs or what it
+    /// drew for the same key is put again; without one `draw` just runs (and
+    /// no key is written).
+    pub fn segment(
+        &self,
+        name: &str,
+        inputs: impl FnOnce(&mut SegmentKey),
+        draw: impl FnOnce() -> Result<(), ChartError>,
+    ) -> Result<(), ChartError> {
+        // One body for both ways (the drawing is not compiled twice per call site).
+        let mut draw = Some(draw);
+        let draw: &mut dyn FnMut() -> Result<(), ChartError> = &mut || match draw.take() {
+            Some(draw) => draw(),
+            // Called at most once (`Reuse::segment`).
+            None => Ok(()),
+        };
+        let Some(reuse) = self.reuse else {
+            return draw();
+        };
+        let mut key = {
+            let mut context = self.context.borrow_mut();
+            context
+                .get_or_insert_with(|| {
+                    context_key(
+                        self.area.dim_in_pixel(),
+                        self.area.get_base_pixel(),
+                        self.ppp,
+                        self.theme,
+                    )
+                })
+                .clone()
+        };
+        key.text(name);
+        inputs(&mut key);
+        reuse.segment(key.bytes(), draw)
     }
 
     pub fn size(&self) -> (f64, f64) {
@@ -1256,8 +1323,21 @@ impl<'a, DB: DrawingBackend> Painter<'a, DB> {
         entries: &[(String, SeriesStyle)],
         occupied: &[(f64, f64)],
     ) -> Result<(), ChartError> {
+        match self.legend_corner(frame, entries, occupied)? {
+            Some(corner) => self.legend_in_corner(corner, entries),
+            None => Ok(()),
+        }
+    }
+
+    /// Where [`Self::legend`] puts its box (the top-left corner); `None` without entries.
+    pub fn legend_corner(
+        &self,
+        frame: &Frame,
+        entries: &[(String, SeriesStyle)],
+        occupied: &[(f64, f64)],
+    ) -> Result<Option<(f64, f64)>, ChartError> {
         if entries.is_empty() {
-            return Ok(());
+            return Ok(None);
         }
         let (box_w, box_h) = self.legend_size(entries)?;
         let inset = self.px(3.0);
@@ -1267,18 +1347,28 @@ impl<'a, DB: DrawingBackend> Painter<'a, DB> {
             (frame.right - inset - box_w, frame.bottom - inset - box_h),
             (frame.left + inset, frame.bottom - inset - box_h),
         ];
-        let (x0, y0) = corners
-            .iter()
-            .copied()
-            .min_by_key(|&(x, y)| {
-                occupied
-                    .iter()
-                    .filter(|p| p.0 >= x && p.0 <= x + box_w && p.1 >= y && p.1 <= y + box_h)
-                    .count()
-            })
-            .unwrap_or(corners[0]);
+        Ok(Some(
+            corners
+                .iter()
+                .copied()
+                .min_by_key(|&(x, y)| {
+                    occupied
+                        .iter()
+                        .filter(|p| p.0 >= x && p.0 <= x + box_w && p.1 >= y && p.1 <= y + box_h)
+                        .count()
+                })
+                .unwrap_or(corners[0]),
+        ))
+    }
+
+    /// The box of [`Self::legend`] at `corner` ([`Self::legend_corner`]).
+    pub fn legend_in_corner(
+        &self,
+        corner: (f64, f64),
+        entries: &[(String, SeriesStyle)],
+    ) -> Result<(), ChartError> {
         self.legend_at(
-            (x0, y0),
+            corner,
             entries,
             self.theme.background.with_alpha(225),
             self.theme.grid,

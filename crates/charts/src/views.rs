@@ -17,6 +17,7 @@ use crate::error::ChartError;
 use crate::layout::{AxisTransform, ChartLayout, Scale};
 use crate::map::{raster_checked, raster_checked_into, MapData, RasterImage};
 use crate::paint::{for_each_clipped, ticks, AxisOptions, Frame, Orientation, Painter, Panel};
+use crate::reuse::Reuse;
 use crate::theme::{LineDash, Marker, SeriesStyle, Theme};
 
 #[path = "evolution_views.rs"]
@@ -190,9 +191,21 @@ pub fn draw_c_to_o_profile<DB: DrawingBackend>(
     theme: &Theme,
     pixels_per_point: f64,
 ) -> Result<ChartLayout, ChartError> {
+    draw_c_to_o_profile_reusing(area, data, theme, pixels_per_point, None)
+}
+
+/// [`draw_c_to_o_profile`] with its grid and its axes and legend as segments
+/// kept in `reuse` ([`crate::reuse`]): the same drawing.
+pub fn draw_c_to_o_profile_reusing<DB: DrawingBackend>(
+    area: &DrawingArea<DB, Shift>,
+    data: &ProfileData,
+    theme: &Theme,
+    pixels_per_point: f64,
+    reuse: Option<&dyn Reuse>,
+) -> Result<ChartLayout, ChartError> {
     data.validate()?;
     area_size(area)?;
-    let p = Painter::new(area, theme, pixels_per_point);
+    let p = Painter::new(area, theme, pixels_per_point).reusing(reuse);
     let size = p.size();
     p.fill_rect(
         Frame {
@@ -270,7 +283,13 @@ pub fn draw_c_to_o_profile<DB: DrawingBackend>(
             }
         }
     }
-    p.grid(&panel)?;
+    p.segment(
+        "grid",
+        |k| {
+            k.panel(&panel);
+        },
+        || p.grid(&panel),
+    )?;
 
     let mut occupied = Vec::new();
     // Snowlines: dotted vertical lines, every one labelled. The labels, rotated
@@ -399,7 +418,6 @@ pub fn draw_c_to_o_profile<DB: DrawingBackend>(
             )?;
         }
     }
-    p.axes(&panel, AxisOptions::FULL)?;
     let mut entries: Vec<(String, SeriesStyle)> =
         styles.iter().map(|(l, s, _)| (l.to_string(), *s)).collect();
     if data.star_c_to_o.is_some() {
@@ -408,7 +426,20 @@ pub fn draw_c_to_o_profile<DB: DrawingBackend>(
             SeriesStyle::line(theme.muted, LineDash::DashDot),
         ));
     }
-    p.legend(&frame, &entries, &occupied)?;
+    let corner = p.legend_corner(&frame, &entries, &occupied)?;
+    p.segment(
+        "front",
+        |k| {
+            k.panel(&panel).entries(&entries).corner(corner);
+        },
+        || {
+            p.axes(&panel, AxisOptions::FULL)?;
+            match corner {
+                Some(corner) => p.legend_in_corner(corner, &entries),
+                None => Ok(()),
+            }
+        },
+    )?;
     Ok(ChartLayout {
         panels: vec![panel.to_layout(area.get_base_pixel())],
     })
@@ -423,9 +454,21 @@ pub fn draw_temperature_profile<DB: DrawingBackend>(
     theme: &Theme,
     pixels_per_point: f64,
 ) -> Result<ChartLayout, ChartError> {
+    draw_temperature_profile_reusing(area, data, theme, pixels_per_point, None)
+}
+
+/// [`draw_temperature_profile`] with its grids and its axes and legend as
+/// segments kept in `reuse` ([`crate::reuse`]): the same drawing.
+pub fn draw_temperature_profile_reusing<DB: DrawingBackend>(
+    area: &DrawingArea<DB, Shift>,
+    data: &TemperatureData,
+    theme: &Theme,
+    pixels_per_point: f64,
+    reuse: Option<&dyn Reuse>,
+) -> Result<ChartLayout, ChartError> {
     data.validate()?;
     area_size(area)?;
-    let p = Painter::new(area, theme, pixels_per_point);
+    let p = Painter::new(area, theme, pixels_per_point).reusing(reuse);
     let size = p.size();
     p.fill_rect(
         Frame {
@@ -491,8 +534,16 @@ pub fn draw_temperature_profile<DB: DrawingBackend>(
         y: sy,
     };
 
-    p.grid(&tp)?;
-    p.grid(&sp)?;
+    p.segment(
+        "grids",
+        |k| {
+            k.panel(&tp).panel(&sp);
+        },
+        || {
+            p.grid(&tp)?;
+            p.grid(&sp)
+        },
+    )?;
     let styles = [
         (
             "midplane",
@@ -526,24 +577,36 @@ pub fn draw_temperature_profile<DB: DrawingBackend>(
         &data.surface_density_g_cm2,
         &SeriesStyle::line(theme.series_colour(0), LineDash::Solid),
     )?;
-    p.axes(
-        &tp,
-        AxisOptions {
-            x_labels: false,
-            skip_y_end_labels: (true, false),
-            ..AxisOptions::FULL
-        },
-    )?;
-    p.axes(
-        &sp,
-        AxisOptions {
-            skip_y_end_labels: (false, true),
-            ..AxisOptions::FULL
-        },
-    )?;
     let entries: Vec<(String, SeriesStyle)> =
         styles.iter().map(|(l, s, _)| (l.to_string(), *s)).collect();
-    p.legend(&upper, &entries, &occupied)?;
+    let corner = p.legend_corner(&upper, &entries, &occupied)?;
+    p.segment(
+        "front",
+        |k| {
+            k.panel(&tp).panel(&sp).entries(&entries).corner(corner);
+        },
+        || {
+            p.axes(
+                &tp,
+                AxisOptions {
+                    x_labels: false,
+                    skip_y_end_labels: (true, false),
+                    ..AxisOptions::FULL
+                },
+            )?;
+            p.axes(
+                &sp,
+                AxisOptions {
+                    skip_y_end_labels: (false, true),
+                    ..AxisOptions::FULL
+                },
+            )?;
+            match corner {
+                Some(corner) => p.legend_in_corner(corner, &entries),
+                None => Ok(()),
+            }
+        },
+    )?;
     let base = area.get_base_pixel();
     Ok(ChartLayout {
         panels: vec![tp.to_layout(base), sp.to_layout(base)],
@@ -559,9 +622,21 @@ pub fn draw_abundance_profiles<DB: DrawingBackend>(
     theme: &Theme,
     pixels_per_point: f64,
 ) -> Result<ChartLayout, ChartError> {
+    draw_abundance_profiles_reusing(area, data, theme, pixels_per_point, None)
+}
+
+/// [`draw_abundance_profiles`] with its grids and its axes and legend as
+/// segments kept in `reuse` ([`crate::reuse`]): the same drawing.
+pub fn draw_abundance_profiles_reusing<DB: DrawingBackend>(
+    area: &DrawingArea<DB, Shift>,
+    data: &AbundanceData,
+    theme: &Theme,
+    pixels_per_point: f64,
+    reuse: Option<&dyn Reuse>,
+) -> Result<ChartLayout, ChartError> {
     data.validate()?;
     area_size(area)?;
-    let p = Painter::new(area, theme, pixels_per_point);
+    let p = Painter::new(area, theme, pixels_per_point).reusing(reuse);
     let size = p.size();
     p.fill_rect(
         Frame {
@@ -631,34 +706,49 @@ pub fn draw_abundance_profiles<DB: DrawingBackend>(
         x,
         y: iy,
     };
-    p.grid(&gp)?;
-    p.grid(&ip)?;
+    p.segment(
+        "grids",
+        |k| {
+            k.panel(&gp).panel(&ip);
+        },
+        || {
+            p.grid(&gp)?;
+            p.grid(&ip)
+        },
+    )?;
     for (s, style) in data.species.iter().zip(&styles) {
         p.series(&gp, &data.radius_au, &s.gas_per_h, style)?;
         p.series(&ip, &data.radius_au, &s.ice_per_h, style)?;
     }
-    p.axes(
-        &gp,
-        AxisOptions {
-            x_labels: false,
-            skip_y_end_labels: (true, false),
-            ..AxisOptions::FULL
-        },
-    )?;
-    p.axes(
-        &ip,
-        AxisOptions {
-            skip_y_end_labels: (false, true),
-            ..AxisOptions::FULL
-        },
-    )?;
     let ly = (0.5 * (top + bottom) - 0.5 * legend_h).max(0.0);
-    p.legend_at(
-        (right + p.px(4.0), ly),
-        &entries,
-        theme.background,
-        theme.grid,
-        theme.foreground,
+    let at = (right + p.px(4.0), ly);
+    p.segment(
+        "front",
+        |k| {
+            k.panel(&gp)
+                .panel(&ip)
+                .entries(&entries)
+                .f64(at.0)
+                .f64(at.1);
+        },
+        || {
+            p.axes(
+                &gp,
+                AxisOptions {
+                    x_labels: false,
+                    skip_y_end_labels: (true, false),
+                    ..AxisOptions::FULL
+                },
+            )?;
+            p.axes(
+                &ip,
+                AxisOptions {
+                    skip_y_end_labels: (false, true),
+                    ..AxisOptions::FULL
+                },
+            )?;
+            p.legend_at(at, &entries, theme.background, theme.grid, theme.foreground)
+        },
     )?;
     let base = area.get_base_pixel();
     Ok(ChartLayout {
@@ -781,7 +871,7 @@ pub fn prepare_map<'d, DB: DrawingBackend>(
     })
 }
 
-impl<DB: DrawingBackend> MapDrawing<'_, DB> {
+impl<'d, DB: DrawingBackend> MapDrawing<'d, DB> {
     /// Where the map goes ([`map_layout`]).
     pub fn layout(&self) -> ChartLayout {
         let base = self.painter.area.get_base_pixel();
@@ -808,6 +898,13 @@ impl<DB: DrawingBackend> MapDrawing<'_, DB> {
             main.height,
             buffer,
         )
+    }
+
+    /// This map drawn with its axes, colour bar and legend as a segment kept
+    /// in `reuse` ([`crate::reuse`]): the same drawing.
+    pub fn reusing(mut self, reuse: Option<&'d dyn Reuse>) -> Self {
+        self.painter = self.painter.reusing(reuse);
+        self
     }
 
     /// Draws the map ([`draw_ice_map`] / [`draw_c_to_o_map`] with `cells`).
@@ -1182,19 +1279,35 @@ fn draw_prepared_map<DB: DrawingBackend>(
             SeriesStyle::line(white, LineDash::Dashed),
         ));
     }
-    p.axes(main, AxisOptions::FULL)?;
-    colour_bar(p, bar, data.colour_map, data.reference_value.as_ref())?;
-    if !entries.is_empty() {
-        let (_, lh) = p.legend_size(&entries)?;
-        let inset = p.px(3.0);
-        p.legend_at(
-            (f.left + inset, f.top + inset.max(0.0)).min_y(f.bottom - lh - inset),
-            &entries,
-            Rgba::hex(0x000000).with_alpha(140),
-            Rgba::hex(0xffffff).with_alpha(120),
-            white,
-        )?;
-    }
+    // The axes, colour bar and legend: the same after every edit that leaves
+    // the panels, the colour scale and the legend's entries alone.
+    p.segment(
+        "front",
+        |k| {
+            k.panel(main).panel(bar).colour_map(data.colour_map);
+            match &data.reference_value {
+                Some((label, value)) => k.byte(1).text(label).f64(*value),
+                None => k.byte(0),
+            };
+            k.entries(&entries);
+        },
+        || {
+            p.axes(main, AxisOptions::FULL)?;
+            colour_bar(p, bar, data.colour_map, data.reference_value.as_ref())?;
+            if !entries.is_empty() {
+                let (_, lh) = p.legend_size(&entries)?;
+                let inset = p.px(3.0);
+                p.legend_at(
+                    (f.left + inset, f.top + inset.max(0.0)).min_y(f.bottom - lh - inset),
+                    &entries,
+                    Rgba::hex(0x000000).with_alpha(140),
+                    Rgba::hex(0xffffff).with_alpha(120),
+                    white,
+                )?;
+            }
+            Ok(())
+        },
+    )?;
     let base = area.get_base_pixel();
     Ok(ChartLayout {
         panels: vec![main.to_layout(base), bar.to_layout(base)],

@@ -6,7 +6,10 @@
 //! cells rasterised into one image). `cargo xtask bench` reads the per-sample
 //! records under `target/criterion/<group>/<view>/new/sample.json` and prints
 //! medians, p10 and p90; `cargo bench -p nivalis-web --bench record` runs it
-//! alone.
+//! alone. `record_edit/<view>` records as the page does after each of a run
+//! of structure edits: the data of two models in turn, into the memory of the
+//! list before, with the static parts put again from the kept segments
+//! (`display::record_view_reusing`).
 //!
 //! Canvas sizes are those of the page's charts at 1280 CSS px wide on a
 //! device pixel ratio of 1 (640 x 360, the tall ones 640 x 460), at the
@@ -27,7 +30,7 @@ use criterion::{Criterion, SamplingMode};
 use nivalis_charts::readout::ViewData;
 use nivalis_charts::{AbundanceData, MapData, ProfileData, TemperatureData, Theme};
 use nivalis_physics::{Model, ModelParameters, Species};
-use nivalis_web::display::{record_view, MeasureText};
+use nivalis_web::display::{record_view, record_view_reusing, Buffers, MeasureText, Segments};
 
 /// The page's pixels per point at a device pixel ratio of 1 (96 / 72 x 1.2).
 const PIXELS_PER_POINT: f64 = 96.0 / 72.0 * 1.2;
@@ -117,6 +120,41 @@ fn main() {
                     )
                     .expect("the view records"),
                 )
+            })
+        });
+    }
+    g.finish();
+    // As the page records after each of a run of structure edits (luminosity
+    // 1 <-> 1.5, as `tests/browser/bench.mjs`): the two models' data in turn,
+    // each recording into the memory of the list before and putting the static
+    // parts again from the view's kept segments.
+    let mut brighter = ModelParameters::defaults();
+    brighter.star.luminosity_lsun = 1.5;
+    let edited = Model::run(&brighter).expect("the brighter disk runs");
+    let mut g = settings(&mut c, "record_edit");
+    for (name, size, build) in VIEWS {
+        let data = [build(&model), build(&edited)];
+        let mut segments = Segments::default();
+        let mut previous = Some(Vec::new());
+        let mut turn = 0;
+        g.bench_function(name, |b| {
+            b.iter(|| {
+                turn ^= 1;
+                let mut raster_ms = 0.0;
+                let (ops, layout) = record_view_reusing(
+                    size,
+                    black_box(&data[turn]),
+                    &theme,
+                    PIXELS_PER_POINT,
+                    &measure,
+                    &now,
+                    &mut raster_ms,
+                    Buffers::of(previous.take().unwrap_or_default()),
+                    &mut segments,
+                )
+                .expect("the view records");
+                black_box(&layout);
+                previous = Some(ops);
             })
         });
     }

@@ -56,10 +56,12 @@ fn context(canvas: &HtmlCanvasElement) -> Result<CanvasRenderingContext2d, Strin
 }
 
 /// Records what the chart of `data` draws on a canvas of `size` pixels
-/// ([`crate::display::record_view_into`], timed with `performance.now()`), into
-/// the memory of an earlier list (`buffers`). `raster_ms` receives the
+/// ([`crate::display::record_view_reusing`], timed with `performance.now()`), into
+/// the memory of an earlier list (`buffers`), its static parts put again from
+/// `segments` where unchanged. `raster_ms` receives the
 /// milliseconds spent rasterising a map's cells (0 for other views), for
 /// `Explorer.drawTimings`.
+#[allow(clippy::too_many_arguments)]
 pub fn record(
     size: (u32, u32),
     data: &ViewData,
@@ -68,8 +70,9 @@ pub fn record(
     measure: &dyn MeasureText,
     raster_ms: &mut f64,
     buffers: crate::display::Buffers,
+    segments: &mut crate::display::Segments,
 ) -> Result<(Vec<Op>, ChartLayout), String> {
-    crate::display::record_view_into(
+    crate::display::record_view_reusing(
         size,
         data,
         theme,
@@ -78,6 +81,7 @@ pub fn record(
         &crate::explorer::now_ms,
         raster_ms,
         buffers,
+        segments,
     )
 }
 

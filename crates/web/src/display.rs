@@ -17,8 +17,8 @@ use std::collections::HashMap;
 
 use nivalis_charts::readout::ViewData;
 use nivalis_charts::{
-    draw_abundance_profiles, draw_c_to_o_profile, draw_temperature_profile, prepare_map,
-    CellDrawing, ChartLayout, Theme,
+    draw_abundance_profiles_reusing, draw_c_to_o_profile_reusing, draw_temperature_profile_reusing,
+    prepare_map, CellDrawing, ChartError, ChartLayout, Reuse, Theme,
 };
 use plotters::prelude::IntoDrawingArea;
 use plotters_backend::text_anchor::{HPos, VPos};
@@ -533,7 +533,125 @@ pub fn record_view_into(
     raster_ms: &mut f64,
     buffers: Buffers,
 ) -> Result<(Vec<Op>, ChartLayout), String> {
+    record_view_reusing(
+        size,
+        data,
+        theme,
+        pixels_per_point,
+        measure,
+        now,
+        raster_ms,
+        buffers,
+        &mut Segments::default(),
+    )
+}
+
+/// The segments of a view's last recording (its grids, and its axes, colour
+/// bar and legend: `nivalis_charts::reuse`), each with the key of what it was
+/// drawn from, kept for the view's next recording.
+#[derive(Debug, Default)]
+pub struct Segments {
+    /// Per segment, in the order the chart draws them: its key and its operations
+    /// as recorded on their own (from an empty list).
+    kept: Vec<(Vec<u8>, Vec<Op>)>,
+    /// How many segments the last recording put again / drew (tests, benchmark).
+    pub reused: usize,
+    /// See `reused`.
+    pub drawn: usize,
+}
+
+/// The [`Reuse`] store of one recording: segments go to and come from
+/// `segments`, their operations into the recorder's list `ops`.
+struct Store<'r> {
+    ops: &'r RefCell<Vec<Op>>,
+    segments: RefCell<&'r mut Segments>,
+    /// The index of the next segment.
+    next: std::cell::Cell<usize>,
+}
+
+impl Reuse for Store<'_> {
+    fn segment(
+        &self,
+        key: &[u8],
+        draw: &mut dyn FnMut() -> Result<(), ChartError>,
+    ) -> Result<(), ChartError> {
+        let at = self.next.get();
+        self.next.set(at + 1);
+        let mut segments = self.segments.borrow_mut();
+        if let Some((kept, ops)) = segments.kept.get(at) {
+            if kept.as_slice() == key {
+                append(&mut self.ops.borrow_mut(), ops.iter().cloned());
+                segments.reused += 1;
+                return Ok(());
+            }
+        }
+        // Recorded on its own (so it can be put after any list), then appended.
+        let before = std::mem::take(&mut *self.ops.borrow_mut());
+        let drawn = draw();
+        let ops = std::mem::replace(&mut *self.ops.borrow_mut(), before);
+        drawn?;
+        let entry = (key.to_vec(), ops.clone());
+        if at < segments.kept.len() {
+            segments.kept[at] = entry;
+        } else {
+            segments.kept.push(entry);
+        }
+        segments.drawn += 1;
+        append(&mut self.ops.borrow_mut(), ops);
+        Ok(())
+    }
+}
+
+/// Appends operations recorded on their own to `list` as the recorder would
+/// have recorded them there: a first stroke of the pen of the list's last
+/// stroke joins it ([`Recorder`] merges consecutive strokes of one pen).
+fn append(list: &mut Vec<Op>, ops: impl IntoIterator<Item = Op>) {
+    let mut ops = ops.into_iter();
+    let Some(first) = ops.next() else {
+        return;
+    };
+    match (list.last_mut(), first) {
+        (
+            Some(Op::Stroke {
+                colour,
+                width,
+                points,
+                lengths,
+            }),
+            Op::Stroke {
+                colour: c,
+                width: w,
+                points: p,
+                lengths: l,
+            },
+        ) if *colour == c && *width == w => {
+            points.extend_from_slice(&p);
+            lengths.extend_from_slice(&l);
+        }
+        (_, first) => list.push(first),
+    }
+    list.extend(ops);
+}
+
+/// [`record_view_into`] with the chart's static parts put again from
+/// `segments` where what they are drawn from is unchanged (and the segments
+/// drawn kept there for the next recording): the same list as a recording
+/// without them.
+#[allow(clippy::too_many_arguments)]
+pub fn record_view_reusing(
+    size: (u32, u32),
+    data: &ViewData,
+    theme: &Theme,
+    pixels_per_point: f64,
+    measure: &dyn MeasureText,
+    now: &dyn Fn() -> f64,
+    raster_ms: &mut f64,
+    buffers: Buffers,
+    segments: &mut Segments,
+) -> Result<(Vec<Op>, ChartLayout), String> {
     *raster_ms = 0.0;
+    segments.reused = 0;
+    segments.drawn = 0;
     let Buffers {
         ops: mut list,
         raster,
@@ -543,17 +661,31 @@ pub fn record_view_into(
     // profile has a few hundred), so the list is rarely moved as it grows.
     list.reserve(512);
     let ops = RefCell::new(list);
+    let store = Store {
+        ops: &ops,
+        segments: RefCell::new(segments),
+        next: std::cell::Cell::new(0),
+    };
+    let reuse = Some(&store as &dyn Reuse);
     let recorder = Recorder::new(size, &ops, measure);
     let area = recorder.into_drawing_area();
     let layout = match data {
-        ViewData::Profile(d) => draw_c_to_o_profile(&area, d, theme, pixels_per_point),
-        ViewData::Temperature(d) => draw_temperature_profile(&area, d, theme, pixels_per_point),
-        ViewData::Abundances(d) => draw_abundance_profiles(&area, d, theme, pixels_per_point),
+        ViewData::Profile(d) => {
+            draw_c_to_o_profile_reusing(&area, d, theme, pixels_per_point, reuse)
+        }
+        ViewData::Temperature(d) => {
+            draw_temperature_profile_reusing(&area, d, theme, pixels_per_point, reuse)
+        }
+        ViewData::Abundances(d) => {
+            draw_abundance_profiles_reusing(&area, d, theme, pixels_per_point, reuse)
+        }
         ViewData::IceMap(d) | ViewData::CToOMap(d) => {
             // As `map_layout`, `rasterise_map_over` at the main panel's size and
             // `draw_ice_map` / `draw_c_to_o_map` with the cells omitted, with the
             // data checked and the map laid out once.
-            let map = prepare_map(&area, d, theme, pixels_per_point).map_err(|e| e.to_string())?;
+            let map = prepare_map(&area, d, theme, pixels_per_point)
+                .map_err(|e| e.to_string())?
+                .reusing(reuse);
             let layout = map.layout();
             let main = layout.main();
             // Pixels above a column's top are composited over the background
@@ -924,6 +1056,170 @@ mod tests {
             }
         }
         assert_eq!(reused, 7);
+    }
+
+    /// A recording that puts the static parts (grids, axes, colour bar,
+    /// legend) again from the view's kept segments is the list a fresh
+    /// recording gives, after edits that keep what those parts are drawn from
+    /// (structure and ice edits: the parts are put again) and after ones that
+    /// change it (another size, pixel ratio or theme, another species' map,
+    /// a planet mark that adds a legend entry: the parts are drawn again).
+    #[test]
+    fn a_recording_reusing_kept_segments_equals_a_fresh_one() {
+        use nivalis_charts::MapData;
+        use nivalis_physics::Species;
+        let mut p = ModelParameters::defaults();
+        p.grid.radial_cells = 90;
+        p.grid.vertical_cells = 30;
+        let model = Model::run(&p).unwrap();
+        let mut brighter = p.clone();
+        brighter.star.luminosity_lsun = 1.5;
+        let structure = Model::run(&brighter).unwrap();
+        let mut ices = p.ices.clone();
+        ices.sticking = 0.3;
+        let ice = model.with_ices(&ices);
+        type Build = fn(&Model) -> ViewData;
+        let views: [(&str, Build); 6] = [
+            ("c_to_o", |m| ViewData::Profile(ProfileData::from_model(m))),
+            ("temperature", |m| {
+                ViewData::Temperature(TemperatureData::from_model(m))
+            }),
+            ("abundances", |m| {
+                ViewData::Abundances(AbundanceData::from_model(m))
+            }),
+            ("ice_map", |m| {
+                ViewData::IceMap(MapData::ice_fraction(m, Species::H2O))
+            }),
+            ("ice_map CO", |m| {
+                ViewData::IceMap(MapData::ice_fraction(m, Species::CO))
+            }),
+            ("c_to_o_map", |m| ViewData::CToOMap(MapData::gas_c_to_o(m))),
+        ];
+        let (light, dark) = (Theme::light(), Theme::dark());
+        // (model, theme, size, pixels per point, whether the static parts stay).
+        type Step<'m> = (&'m Model, &'m Theme, (u32, u32), f64, bool);
+        let steps: [Step; 9] = [
+            (&model, &light, (900, 500), 1.6, false),
+            (&structure, &light, (900, 500), 1.6, true),
+            (&ice, &light, (900, 500), 1.6, true),
+            (&model, &light, (900, 500), 1.6, true),
+            (&model, &light, (700, 420), 1.6, false),
+            (&structure, &light, (700, 420), 1.6, true),
+            (&structure, &light, (700, 420), 3.2, false),
+            (&structure, &dark, (700, 420), 3.2, false),
+            (&ice, &dark, (700, 420), 3.2, true),
+        ];
+        for (name, build) in views {
+            let mut kept = Segments::default();
+            for (i, &(m, theme, size, ppp, stays)) in steps.iter().enumerate() {
+                let data = build(m);
+                let mut raster_ms = 0.0;
+                let fresh =
+                    record_view(size, &data, theme, ppp, &Fixed, &|| 0.0, &mut raster_ms).unwrap();
+                let reused = record_view_reusing(
+                    size,
+                    &data,
+                    theme,
+                    ppp,
+                    &Fixed,
+                    &|| 0.0,
+                    &mut raster_ms,
+                    Buffers::default(),
+                    &mut kept,
+                )
+                .unwrap();
+                assert!(reused == fresh, "{name}, step {i}: the lists differ");
+                // Every view has a front (axes, legend ...); the profiles a grid segment too.
+                let segments = if name.contains("map") { 1 } else { 2 };
+                assert_eq!(kept.reused + kept.drawn, segments, "{name}, step {i}");
+                if stays {
+                    // The front is put again (a profile's grid too unless its axes moved).
+                    assert!(kept.reused >= 1, "{name}, step {i}: nothing reused");
+                } else {
+                    assert_eq!(kept.reused, 0, "{name}, step {i}: reused a changed part");
+                }
+            }
+            // Another view recorded with this view's segments: nothing is put again
+            // (each key names its segment), and the list is a fresh recording's.
+            let other = if name == "c_to_o" {
+                views[3].1
+            } else {
+                views[0].1
+            };
+            let data = other(&model);
+            let mut raster_ms = 0.0;
+            let fresh = record_view(
+                (700, 420),
+                &data,
+                &dark,
+                3.2,
+                &Fixed,
+                &|| 0.0,
+                &mut raster_ms,
+            )
+            .unwrap();
+            let got = record_view_reusing(
+                (700, 420),
+                &data,
+                &dark,
+                3.2,
+                &Fixed,
+                &|| 0.0,
+                &mut raster_ms,
+                Buffers::default(),
+                &mut kept,
+            )
+            .unwrap();
+            assert!(got == fresh && kept.reused == 0, "{name}: another view");
+        }
+        // The C/O profile with the planet panel's marks: the legend gains no entry
+        // for the planet, but the planet line lies under the legend's corner search;
+        // and a star C/O of None drops the "star" entry: the front is drawn again.
+        let base = ProfileData::from_model(&model);
+        let mut kept = Segments::default();
+        let mut no_star = base.clone();
+        no_star.star_c_to_o = None;
+        let mut planet = base.clone();
+        planet.planet_radius_au = Some(3.0);
+        planet.allowed_formation_radii_au = vec![(1.0, 5.0)];
+        for (i, (data, stays)) in [
+            (&base, false),
+            (&planet, true),
+            (&no_star, false),
+            (&base, false),
+        ]
+        .into_iter()
+        .enumerate()
+        {
+            let data = ViewData::Profile(data.clone());
+            let mut raster_ms = 0.0;
+            let fresh = record_view(
+                (900, 500),
+                &data,
+                &light,
+                1.6,
+                &Fixed,
+                &|| 0.0,
+                &mut raster_ms,
+            )
+            .unwrap();
+            let got = record_view_reusing(
+                (900, 500),
+                &data,
+                &light,
+                1.6,
+                &Fixed,
+                &|| 0.0,
+                &mut raster_ms,
+                Buffers::default(),
+                &mut kept,
+            )
+            .unwrap();
+            assert!(got == fresh, "planet marks, step {i}");
+            // The grid is always the same here.
+            assert!(kept.reused >= usize::from(i > 0), "planet marks, step {i}");
+            assert_eq!(kept.reused == 2, stays, "planet marks, step {i}");
+        }
     }
 
     #[test]

@@ -82,6 +82,9 @@ pub struct Explorer {
     /// Per canvas id: the memory of the list it showed before, for its next
     /// recording (`display::Buffers`: a map's raster is not allocated again).
     spare: HashMap<String, crate::display::Buffers>,
+    /// Per canvas id: the static parts of its last recording by what they were
+    /// drawn from (`display::Segments`), put again by the next recording where unchanged.
+    segments: HashMap<String, crate::display::Segments>,
     /// Text sizes by (CSS font, text), measured once for all canvases and draws.
     text_sizes: crate::display::TextSizes,
     /// Per canvas id: how many times it was actually drawn (`drawCount`).
@@ -159,6 +162,7 @@ impl Explorer {
             planet: Default::default(),
             drawn: HashMap::new(),
             spare: HashMap::new(),
+            segments: HashMap::new(),
             text_sizes: RefCell::new(HashMap::new()),
             draw_counts: HashMap::new(),
             layer_redraws: HashMap::new(),
@@ -394,6 +398,7 @@ impl Explorer {
         let t1 = now_ms();
         let measure = canvas::CanvasMeasure::new(&canvas, &self.text_sizes);
         let mut raster_ms = 0.0;
+        let segments = self.segments.entry(canvas_id.to_string()).or_default();
         let (ops, layout) = canvas::record(
             size,
             data,
@@ -402,6 +407,7 @@ impl Explorer {
             &measure,
             &mut raster_ms,
             self.spare.remove(canvas_id).unwrap_or_default(),
+            segments,
         )
         .map_err(|e| JsError::new(&e))?;
         // What the canvases show, when they show a list of this size and style on three canvases.

@@ -338,8 +338,8 @@ pub(crate) fn target_dir() -> PathBuf {
         .unwrap_or_else(|| repo_root().join("target"))
 }
 
-/// The page's five views as in `crates/web/benches/record.rs` (criterion ids `data/<view>`
-/// and `record/<view>`).
+/// The page's five views as in `crates/web/benches/record.rs` (criterion ids `data/<view>`,
+/// `record/<view>` and `record_edit/<view>`).
 const RECORD_VIEWS: [&str; 5] = [
     "c_to_o",
     "temperature",
@@ -369,7 +369,7 @@ fn record_section() -> Result<(), String> {
         "  {:<22} {:>10} {:>10} {:>10}",
         "benchmark", "median", "p10", "p90"
     );
-    for group in ["data", "record"] {
+    for group in ["data", "record", "record_edit"] {
         let mut sum = 0.0;
         for view in RECORD_VIEWS {
             let s = per_iteration_spread(&criterion.join(group).join(view), started)?;
