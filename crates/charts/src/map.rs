@@ -84,6 +84,10 @@ pub struct MapGrid {
     row_tops: Vec<f64>,
     /// Lower z/r edge of each column; empty unless the first checks pass.
     row_bottoms: Vec<f64>,
+    /// Whether z/r never decreases within any column (every model's map), so that
+    /// the cells' tops never decrease either (the raster's walk then stops at the
+    /// first cell reaching the top pixel row); false unless the first checks pass.
+    rising: bool,
 }
 
 impl MapGrid {
@@ -146,11 +150,14 @@ impl MapGrid {
             column_edges_log(&radius_au)
         };
         let (mut row_tops, mut row_bottoms) = (Vec::new(), Vec::new());
+        let mut rising = false;
         if first.is_ok() {
             row_tops.reserve(z_over_r.len());
             row_bottoms.reserve(radius_au.len());
+            rising = true;
             for column in z_over_r.chunks_exact(rows) {
                 row_bottoms.push(push_row_edges(column, &mut row_tops));
+                rising &= column.windows(2).fold(true, |all, w| all & (w[0] <= w[1]));
             }
         }
         MapGrid {
@@ -163,6 +170,7 @@ impl MapGrid {
             column_edges_log,
             row_tops,
             row_bottoms,
+            rising,
         }
     }
 
@@ -718,13 +726,10 @@ fn raster_cells(
     let rows = data.rows;
     // z/r of the top pixel row: a cell whose top reaches it covers every row above.
     let z_top = z_of_row[0];
-    // Whether z/r never decreases within a column (every model's map), so
-    // that the cells' tops never decrease either: then a segment whose cell
-    // reaches the top row ends the walk without looking at the cells above.
-    let rising = data
-        .z_over_r
-        .chunks_exact(rows)
-        .all(|c| c.windows(2).fold(true, |all, w| all & (w[0] <= w[1])));
+    // Whether the cells' tops never decrease within a column (made once with
+    // the grid): then a segment whose cell reaches the top row ends the walk
+    // without looking at the cells above.
+    let rising = data.rising;
     for (r, &(_, _, j)) in runs.iter().enumerate() {
         // Each cell's top and the column's bottom, made once with the grid
         // (`MapGrid::row_edges`).

@@ -481,8 +481,7 @@ pub fn record_view(
     now: &dyn Fn() -> f64,
     raster_ms: &mut f64,
 ) -> Result<(Vec<Op>, ChartLayout), String> {
-    let buffers = Buffers::default();
-    record_view_into(
+    record_view_reusing(
         size,
         data,
         theme,
@@ -490,7 +489,8 @@ pub fn record_view(
         measure,
         now,
         raster_ms,
-        buffers,
+        Buffers::default(),
+        &mut Segments::default(),
     )
 }
 
@@ -517,33 +517,6 @@ impl Buffers {
         ops.clear();
         Buffers { ops, raster }
     }
-}
-
-/// [`record_view`] into the memory of an earlier list (`buffers`), so that
-/// redrawing a view allocates neither its list's vector nor a map's raster
-/// (about 600 KB) again: the same list.
-#[allow(clippy::too_many_arguments)]
-pub fn record_view_into(
-    size: (u32, u32),
-    data: &ViewData,
-    theme: &Theme,
-    pixels_per_point: f64,
-    measure: &dyn MeasureText,
-    now: &dyn Fn() -> f64,
-    raster_ms: &mut f64,
-    buffers: Buffers,
-) -> Result<(Vec<Op>, ChartLayout), String> {
-    record_view_reusing(
-        size,
-        data,
-        theme,
-        pixels_per_point,
-        measure,
-        now,
-        raster_ms,
-        buffers,
-        &mut Segments::default(),
-    )
 }
 
 /// The segments of a view's last recording (its grids, and its axes, colour
@@ -633,10 +606,12 @@ fn append(list: &mut Vec<Op>, ops: impl IntoIterator<Item = Op>) {
     list.extend(ops);
 }
 
-/// [`record_view_into`] with the chart's static parts put again from
+/// [`record_view`] into the memory of an earlier list (`buffers`, so that
+/// redrawing a view allocates neither its list's vector nor a map's raster of
+/// about 600 KB again), with the chart's static parts put again from
 /// `segments` where what they are drawn from is unchanged (and the segments
-/// drawn kept there for the next recording): the same list as a recording
-/// without them.
+/// drawn kept there for the next recording): the same list as a fresh
+/// recording.
 #[allow(clippy::too_many_arguments)]
 pub fn record_view_reusing(
     size: (u32, u32),
@@ -1036,7 +1011,7 @@ mod tests {
                     // Recorded into the memory of the list recorded before (another
                     // map, size or theme): the same list.
                     if let Some(before) = previous.take() {
-                        let again = record_view_into(
+                        let again = record_view_reusing(
                             size,
                             &view,
                             &theme,
@@ -1045,6 +1020,7 @@ mod tests {
                             &|| 0.0,
                             &mut raster_ms,
                             Buffers::of(before),
+                            &mut Segments::default(),
                         )
                         .unwrap();
                         assert_eq!(again, got);
