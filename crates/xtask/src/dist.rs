@@ -26,7 +26,9 @@
 //!    `DecompressionStream("deflate-raw")` before compiling it),
 //!    and the Web Worker's script as inert text (`<script type="text/plain">`:
 //!    the no-modules glue and `web/worker.js`), which the page starts from a
-//!    blob: URL for large grids, handing it the compiled module.
+//!    blob: URL for large grids, handing it the compiled module. In the
+//!    release build all of this JavaScript is first minified by npm's
+//!    `esbuild` (whitespace and syntax only; names kept), when installed.
 //!
 //! Nothing is loaded from a second file: Chromium refuses `fetch()` and module
 //! imports from `file://`, and the page's Content-Security-Policy (in the
@@ -131,7 +133,16 @@ pub fn dist(release: bool) -> Result<PathBuf, String> {
     let app = join(&SCRIPTS)?;
     // worker.js, then the uncertainty panel's handler, which wraps worker.js's.
     let worker = join(&["web/worker.js", "web/uncertainty-worker.js"])?;
-    let worker_source = format!("{worker_glue}\n{worker}");
+    let mut worker_source = format!("{worker_glue}\n{worker}");
+    // The release page's JavaScript without its comments and layout (names
+    // kept): the room it frees lets the drawing code be built for speed
+    // within the size limit (docs/page.md "Size").
+    let (glue, app) = if release {
+        worker_source = minify_js(&root, &worker_source)?;
+        (minify_js(&root, &glue)?, minify_js(&root, &app)?)
+    } else {
+        (glue, app)
+    };
     let demos = demo_disks_json(&root.join("demo_disks"))?;
 
     // Raw DEFLATE by Zopfli: the page inflates it with
@@ -285,6 +296,48 @@ fn optimise(root: &Path, wasm: Vec<u8>) -> Result<Vec<u8>, String> {
     };
     let _ = std::fs::remove_dir_all(&dir);
     result
+}
+
+/// Removes the comments, layout and redundant syntax of a script with npm
+/// esbuild's transform (`--minify-whitespace --minify-syntax`): names are
+/// kept, so error messages and browser profiles still name the page's
+/// functions. Without esbuild in `tests/browser/node_modules` the script is
+/// returned unchanged (the page is then larger; `cargo xtask test` installs it).
+fn minify_js(root: &Path, script: &str) -> Result<String, String> {
+    use std::io::Write;
+    let tool = root.join("tests/browser/node_modules/.bin/esbuild");
+    if !tool.is_file() {
+        println!("esbuild (npm) not installed in tests/browser; JavaScript left as written");
+        return Ok(script.to_string());
+    }
+    let mut child = Command::new(&tool)
+        .args([
+            "--loader=js",
+            "--minify-whitespace",
+            "--minify-syntax",
+            "--charset=utf8",
+            "--log-level=warning",
+        ])
+        .stdin(std::process::Stdio::piped())
+        .stdout(std::process::Stdio::piped())
+        .spawn()
+        .map_err(|e| format!("could not start {}: {e}", relative(&tool)))?;
+    let mut stdin = child.stdin.take().expect("stdin is piped");
+    // Written from a thread so a full stdout pipe cannot stall the write.
+    let text = script.to_string();
+    let writer = std::thread::spawn(move || stdin.write_all(text.as_bytes()));
+    let output = child
+        .wait_with_output()
+        .map_err(|e| format!("esbuild: {e}"))?;
+    writer
+        .join()
+        .map_err(|_| "esbuild: the writing thread panicked".to_string())?
+        .map_err(|e| format!("esbuild: cannot write the script: {e}"))?;
+    if !output.status.success() {
+        return Err(format!("esbuild failed ({})", output.status));
+    }
+    String::from_utf8(output.stdout)
+        .map_err(|e| format!("esbuild wrote text that is not UTF-8: {e}"))
 }
 
 /// Zopfli's iterations per block for the page's module. One iteration is

@@ -264,12 +264,24 @@ fn browser_tests() -> Result<Option<String>, String> {
     Ok(None)
 }
 
-/// Installs the browser tests' npm packages when `node_modules` is missing:
-/// `npm ci` when a lock file pins them, `npm install` otherwise.
+/// Installs the browser tests' npm packages when `node_modules` lacks one of
+/// package.json's dev dependencies (a checkout made before one was added
+/// included): `npm ci` when a lock file pins them, `npm install` otherwise.
 pub fn ensure_browser_packages() -> Result<(), String> {
     crate::setup::ensure_node()?;
     let dir = repo_root().join("tests/browser");
-    if dir.join("node_modules").is_dir() {
+    let manifest = std::fs::read_to_string(dir.join("package.json"))
+        .map_err(|e| format!("cannot read tests/browser/package.json: {e}"))?;
+    let wanted = dev_dependencies(&manifest);
+    if wanted.is_empty() {
+        return Err("tests/browser/package.json names no devDependencies".to_string());
+    }
+    if wanted.iter().all(|name| {
+        dir.join("node_modules")
+            .join(name)
+            .join("package.json")
+            .is_file()
+    }) {
         return Ok(());
     }
     let verb = if dir.join("package-lock.json").is_file() {
@@ -280,6 +292,28 @@ pub fn ensure_browser_packages() -> Result<(), String> {
     run(Command::new("npm")
         .current_dir(&dir)
         .args([verb, "--no-audit", "--no-fund"]))
+}
+
+/// The names in the `"devDependencies"` object of a package.json text (flat
+/// `"name": "version"` pairs, as npm writes them).
+fn dev_dependencies(manifest: &str) -> Vec<String> {
+    let Some(start) = manifest.find("\"devDependencies\"") else {
+        return Vec::new();
+    };
+    let rest = &manifest[start..];
+    let (Some(open), Some(close)) = (rest.find('{'), rest.find('}')) else {
+        return Vec::new();
+    };
+    if close < open {
+        return Vec::new();
+    }
+    rest[open + 1..close]
+        .split(',')
+        .filter_map(|pair| {
+            let name = pair.split(':').next()?.trim().trim_matches('"');
+            (!name.is_empty()).then(|| name.to_string())
+        })
+        .collect()
 }
 
 /// Files under `dir` (outside `node_modules`) that `node --test DIR` runs:
@@ -326,6 +360,21 @@ fn is_node_test_file(name: &str, inside_test_dir: bool) -> bool {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn dev_dependencies_are_read_from_the_repositorys_package_json() {
+        let manifest = std::fs::read_to_string(repo_root().join("tests/browser/package.json"))
+            .expect("tests/browser/package.json");
+        let names = dev_dependencies(&manifest);
+        for name in ["binaryen", "esbuild", "playwright-core"] {
+            assert!(names.iter().any(|n| n == name), "{name} not in {names:?}");
+        }
+        assert_eq!(
+            dev_dependencies("{\"scripts\": {\"a\": \"b\"}, \"devDependencies\": {\"x\": \"1\", \"@s/y\": \"2\"}}"),
+            ["x", "@s/y"]
+        );
+        assert!(dev_dependencies("{\"name\": \"p\"}").is_empty());
+    }
 
     #[test]
     fn node_test_file_names_follow_node_20_defaults() {
