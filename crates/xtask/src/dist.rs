@@ -5,7 +5,8 @@
 //! 1. make sure the wasm target is installed (`rustup target add` when missing);
 //! 2. `cargo build -p nivalis-web --target wasm32-unknown-unknown` with the
 //!    size-optimised `wasm-release` profile (or the dev profile for `--dev`;
-//!    `nivalis-physics` at opt-level 3, see the workspace's Cargo.toml) and
+//!    `nivalis-physics`, `nivalis-charts` and `nivalis-web` at opt-level 3, see
+//!    the workspace's Cargo.toml) and
 //!    WebAssembly SIMD (`+simd128`) for this build only;
 //! 3. generate the JavaScript glue with the `wasm-bindgen-cli-support` library
 //!    (target `web`, no TypeScript, name and producers sections removed), so no
